@@ -1,0 +1,36 @@
+// Entry point of the `sorbtrace` binary: builds the command line and maps every failure
+// to a documented exit code (pipeline/common/diagnostics.h, README "Exit codes").
+#include <CLI/CLI.hpp>
+
+#include <cstdio>
+#include <exception>
+
+#include "pipeline/common/diagnostics.h"
+#include "pipeline/run/commands.h"
+#include "pipeline/run/version.h"
+
+int main(int argc, char** argv) {
+  CLI::App app{"sorbtrace: gravimetric moisture-sorption data to a traceable PDF datasheet",
+               "sorbtrace"};
+  app.set_version_flag("--version", std::string("sorbtrace ") + sorbtrace::run::kVersion);
+  app.require_subcommand(1);
+  int exit_code = static_cast<int>(sorbtrace::ExitCode::kOk);
+  sorbtrace::run::AddCalcCommand(app, exit_code);
+  sorbtrace::run::AddCheckCommand(app, exit_code);
+  sorbtrace::run::AddMakeCommand(app, exit_code);
+  sorbtrace::run::AddVerifyCommand(app, exit_code);
+  sorbtrace::run::AddBatchCommand(app, exit_code);
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& error) {
+    const int code = app.exit(error);
+    return code == 0 ? 0 : static_cast<int>(sorbtrace::ExitCode::kUsage);
+  } catch (const sorbtrace::InputError& error) {
+    std::fprintf(stderr, "%s\n", error.what());
+    return static_cast<int>(sorbtrace::ExitCode::kBadInput);
+  } catch (const std::exception& error) {
+    std::fprintf(stderr, "sorbtrace: internal error: %s\n", error.what());
+    return static_cast<int>(sorbtrace::ExitCode::kInternal);
+  }
+  return exit_code;
+}
