@@ -23,10 +23,10 @@ class RangeError : public std::domain_error {
 };
 
 // ---- Constants -------------------------------------------------------------------------
-inline constexpr double kZeroCelsius_K = 273.15;            // ITS-90 definition offset
-inline constexpr double kTriplePoint_K = 273.16;            // IAPWS
-inline constexpr double kCriticalTemperature_K = 647.096;   // IAPWS-95
-inline constexpr double kCriticalPressure_Pa = 22.064e6;    // IAPWS-95
+inline constexpr double kZeroCelsius_K = 273.15;                      // ITS-90 definition offset
+inline constexpr double kTriplePoint_K = 273.16;                      // IAPWS
+inline constexpr double kCriticalTemperature_K = 647.096;             // IAPWS-95
+inline constexpr double kCriticalPressure_Pa = 22.064e6;              // IAPWS-95
 inline constexpr double kMolarGasConstant_J_per_mol_K = 8.314462618;  // CODATA 2018, exact
 inline constexpr double kMolarMassWater_kg_per_mol = 18.015268e-3;    // IAPWS-95
 inline constexpr double kAvogadro_per_mol = 6.02214076e23;            // SI 2019, exact
@@ -52,7 +52,8 @@ double LiquidWaterDensity_kg_per_m3(double temperature_K);
 double LiquidWaterMolarVolume_m3_per_mol(double temperature_K);
 
 // Surface tension of water against its vapour, IAPWS R1-76(2014). Valid 273.16 K .. 647.096 K
-// (and, per the release, reasonable down to 248.15 K for supercooled water; accepted down to 248.15 K).
+// (and, per the release, reasonable down to 248.15 K for supercooled water; accepted down to 248.15
+// K).
 double SurfaceTension_N_per_m(double temperature_K);
 
 // ---- Moist air -------------------------------------------------------------------------
@@ -80,8 +81,8 @@ double FrostPoint_K(double rh_fraction, double temperature_K);
 //  kCylindrical:   curvature 1/r (one principal radius infinite): the film-lined wall of an
 //                  open-ended pore filling on adsorption (Cohan 1938).
 enum class Meniscus { kHemispherical, kCylindrical };
-std::string_view MeniscusName(Meniscus meniscus);             // "hemispherical" / "cylindrical"
-Meniscus ParseMeniscus(std::string_view name);                // throws std::invalid_argument
+std::string_view MeniscusName(Meniscus meniscus);  // "hemispherical" / "cylindrical"
+Meniscus ParseMeniscus(std::string_view name);     // throws std::invalid_argument
 
 // Kelvin radius r_K at which a meniscus of the given shape is in equilibrium with vapour at
 // rh_fraction: r_K = k * gamma * V_m * cos(theta) / (R T ln(1/rh)), k = 2 (hemispherical) or
@@ -118,7 +119,7 @@ double CapillaryPressureFromPF(double pf, double temperature_K);
 struct SaltHumidity {
   double rh_fraction = 0.0;
   double standard_uncertainty_fraction = 0.0;  // standard uncertainty (k = 1)
-  double drh_dT_per_K = 0.0;                    // temperature coefficient d(rh)/dT [1/K]
+  double drh_dT_per_K = 0.0;                   // temperature coefficient d(rh)/dT [1/K]
 };
 
 // `salt` is a formula as written in the table ("LiCl", "CH3COOK", "MgCl2", "K2CO3",
@@ -129,5 +130,11 @@ SaltHumidity SaltSolutionHumidity(std::string_view salt, double temperature_K);
 std::vector<std::string> KnownSalts();
 // Tabulated validity range of a salt [K]; throws std::invalid_argument if unknown.
 std::pair<double, double> SaltTemperatureRange_K(std::string_view salt);
+// Canonical spelling of a salt as listed by KnownSalts() (lookup ignores case); throws
+// std::invalid_argument if unknown.
+std::string CanonicalSaltName(std::string_view salt);
+// How SaltSolutionHumidity obtains the value for `salt` (the publication and whether the fit
+// or the interpolated table is used), for reports; throws std::invalid_argument if unknown.
+std::string SaltHumidityMethod(std::string_view salt);
 
 }  // namespace sorbtrace::physics

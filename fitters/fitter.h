@@ -1,0 +1,164 @@
+// The fitting engine: weighted (optionally robust, optionally errors-in-variables) nonlinear
+// least squares on Ceres Solver with bounds and deterministic multi-starts; covariance,
+// confidence intervals, fit statistics, delta-method bands, and resampling (bootstrap and
+// JCGM 101 Monte Carlo). Options in, result + summary out.
+#pragma once
+
+#include <Eigen/Core>
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "fitters/model.h"
+
+namespace sorbtrace::fitters {
+
+// How the observation sigmas are interpreted when the covariance is formed.
+enum class WeightConvention {
+  // sigma_y are relative weights: covariance = s^2 (J'J)^-1 with s^2 = SSR / (n - p).
+  kRelative,
+  // sigma_y are absolute standard uncertainties: covariance = (J'J)^-1, and the chi-square
+  // statistic SSR against n - p degrees of freedom is reported as a consistency check.
+  kAbsolute,
+};
+
+enum class LossKind { kSquared, kHuber, kSoftLOne, kCauchy };
+
+struct FitOptions {
+  int max_iterations = 500;
+  double function_tolerance = 1e-15;
+  double gradient_tolerance = 1e-15;
+  double parameter_tolerance = 1e-15;
+  LossKind loss = LossKind::kSquared;
+  double loss_scale = 1.0;  // in units of the weighted residual
+  bool errors_in_variables = false;  // fit the true x[0] of each point (needs sigma_x0 > 0)
+  WeightConvention weights = WeightConvention::kRelative;
+  // Deterministic extra starts derived from each model starting point (0 = only the given).
+  int num_multistarts = 4;
+  // Replaces the model's StartingPoints() when not empty (e.g. NIST certified starts).
+  std::vector<std::vector<double>> starting_points;
+  bool use_bounds = true;
+  double confidence_level = 0.95;  // for Student-t parameter intervals and bands
+
+  // Returns false and explains in *error when a setting is out of range.
+  bool IsValid(std::string* error) const;
+};
+
+enum class FitTermination { kConverged, kNoConvergence, kFailure, kTooFewPoints };
+
+// One start of the multi-start search.
+struct StartReport {
+  std::vector<double> start;
+  std::vector<double> solution;
+  double cost = 0.0;  // 0.5 * weighted SSR, as Ceres reports it
+  int iterations = 0;
+  bool converged = false;
+  std::string termination;  // Ceres' termination message
+};
+
+struct FitSummary {
+  FitTermination termination = FitTermination::kFailure;
+  std::string message;            // one line: why it ended
+  int iterations = 0;             // of the best start
+  int starts_tried = 0;
+  std::vector<StartReport> starts;
+  std::string covariance_convention;  // which scaling was applied, in words
+  bool covariance_available = false;
+  std::vector<std::string> flags;  // guard rails: n <= p, singular Jacobian, at bound, physics
+  std::string BriefReport() const;
+};
+
+// One parameter estimate with its Student-t interval at FitOptions::confidence_level.
+struct ParameterEstimate {
+  std::string name;
+  std::string unit;
+  double value = 0.0;
+  double standard_error = 0.0;
+  double interval_low = 0.0;
+  double interval_high = 0.0;
+  bool at_bound = false;
+};
+
+struct FitStatistics {
+  int num_observations = 0;
+  int num_parameters = 0;
+  int degrees_of_freedom = 0;
+  double weighted_ssr = 0.0;       // sum ((y - f) / sigma)^2
+  double ssr = 0.0;                // sum (y - f)^2, in units of y^2
+  double rmse = 0.0;               // sqrt(ssr / n)
+  double residual_std = 0.0;       // sqrt(weighted_ssr / dof)
+  double r_squared = 0.0;
+  double adjusted_r_squared = 0.0;
+  double mean_relative_deviation_percent = 0.0;  // (100/n) sum |y - f| / |y|
+  double aicc = 0.0;
+  double bic = 0.0;
+  double chi_square_p_value = 0.0;  // P(chi2_dof >= weighted_ssr); meaningful for kAbsolute
+  int runs = 0;                     // sign runs of the residuals (Wald-Wolfowitz)
+  double runs_test_p_value = 1.0;   // two-sided
+};
+
+struct FitResult {
+  std::string model_name;
+  std::vector<double> parameters;
+  std::vector<ParameterEstimate> estimates;
+  Eigen::MatrixXd covariance;    // p x p, after the convention in summary
+  Eigen::MatrixXd correlation;   // p x p
+  FitStatistics statistics;
+  std::vector<double> fitted;    // f(x_i) at the solution
+  std::vector<double> residuals; // y_i - f(x_i)
+  std::vector<double> fitted_x0; // errors-in-variables: the fitted true x[0]; else = observed
+  FitSummary summary;
+  bool ok() const { return summary.termination == FitTermination::kConverged; }
+};
+
+FitResult FitModel(const Model& model, const std::vector<Observation>& observations,
+                   const ModelContext& context, const FitOptions& options);
+
+// Fitted curve with confidence (of the mean curve) and prediction (of a new observation)
+// bands on an x grid, delta method with the Student-t quantile.
+struct BandPoint {
+  double x = 0.0;
+  double y = 0.0;
+  double confidence_low = 0.0;
+  double confidence_high = 0.0;
+  double prediction_low = 0.0;
+  double prediction_high = 0.0;
+};
+
+std::vector<BandPoint> DeltaMethodBand(const Model& model, const FitResult& fit,
+                                       const ModelContext& context,
+                                       const std::vector<double>& x_grid,
+                                       double confidence_level);
+
+enum class ResampleKind {
+  kResidualBootstrap,  // y* = f(x; p_hat) + resampled weighted residual * sigma
+  kCaseBootstrap,      // resample points with replacement
+  kMonteCarloInputs,   // JCGM 101: draw y (and x) from their stated uncertainties
+};
+
+struct ResampleOptions {
+  ResampleKind kind = ResampleKind::kResidualBootstrap;
+  int num_resamples = 1000;
+  std::uint64_t seed = 20261201;  // results are a pure function of inputs and seed
+  double confidence_level = 0.95;
+};
+
+// Percentile intervals of parameters and of the curve on x_grid from resampled refits
+// (warm-started from the full-data solution).
+struct ResampleResult {
+  std::vector<std::vector<double>> parameter_draws;  // successful refits, each of size p
+  std::vector<double> parameter_low;                 // percentile interval per parameter
+  std::vector<double> parameter_high;
+  std::vector<double> parameter_std;                 // standard deviation of the draws
+  std::vector<double> x_grid;
+  std::vector<double> curve_low;                     // percentile band of f on x_grid
+  std::vector<double> curve_high;
+  int num_failed = 0;                                // refits that did not converge
+};
+
+ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
+                        const ModelContext& context, const FitResult& full_fit,
+                        const FitOptions& fit_options, const ResampleOptions& options,
+                        const std::vector<double>& x_grid);
+
+}  // namespace sorbtrace::fitters

@@ -1,0 +1,87 @@
+// Fit stage: fits the isotherm models of the registry (fitters/) to the reduced equilibrium
+// points, per branch and temperature, with covariance-based intervals, delta-method bands,
+// bootstrap and JCGM 101 Monte Carlo intervals, statistics and a model ranking.
+#pragma once
+
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "fitters/fitter.h"
+#include "fitters/model.h"
+#include "pipeline/common/diagnostics.h"
+#include "pipeline/ingest/ingest.h"
+#include "pipeline/reduce/reduce.h"
+
+namespace sorbtrace::fit {
+
+struct FitStageOptions {
+  // Registry keys of the models to fit (fitters/registry.h).
+  std::vector<std::string> models = {"gab", "bet", "vangenuchten", "durner2",
+                                     "oswin", "halsey", "henderson", "peleg"};
+  double bet_rh_min_fraction = 0.05;   // BET validity range (common practice for water)
+  double bet_rh_max_fraction = 0.35;
+  fitters::LossKind loss = fitters::LossKind::kSquared;
+  double loss_scale = 1.0;
+  bool errors_in_variables = false;    // RH of each point fitted within its uncertainty
+  fitters::WeightConvention weights = fitters::WeightConvention::kRelative;
+  int bootstrap_resamples = 1000;
+  fitters::ResampleKind bootstrap_kind = fitters::ResampleKind::kResidualBootstrap;
+  int monte_carlo_draws = 1000;        // JCGM 101 propagation of input uncertainties (0 = off)
+  std::uint64_t seed = 20261201;
+  int band_grid_points = 200;
+  double band_rh_min_fraction = 0.0;
+  double band_rh_max_fraction = 0.98;
+  double confidence_level = 0.95;
+  bool include_retention_points = true;  // joint fits of retention models (van Genuchten, Durner)
+
+  bool IsValid(std::string* error) const;
+};
+
+// One group of points fitted together: one branch at one temperature.
+struct FitGroup {
+  ingest::Branch branch = ingest::Branch::kAdsorption;
+  double temperature_K = 0.0;
+  std::vector<fitters::Observation> observations;  // what was fitted (x[0] = rh_fraction)
+  std::vector<int> point_indices;                  // into ReducedIsotherms::points (-1: retention)
+};
+
+// A consistency criterion (e.g. Rouquerol's for BET) and whether it holds.
+struct ConsistencyCheck {
+  std::string criterion;
+  bool passed = false;
+  std::string detail;
+};
+
+// One model fitted to one group.
+struct ModelFit {
+  std::string model_name;
+  fitters::ModelInfo info;
+  int group_index = 0;
+  fitters::FitResult result;
+  std::vector<double> expanded_uncertainty;   // k = coverage factor of the reduce stage, per parameter
+  std::vector<fitters::BandPoint> band;        // delta method, on the band grid
+  fitters::ResampleResult bootstrap;
+  fitters::ResampleResult monte_carlo;
+  std::vector<ConsistencyCheck> consistency;  // BET: Rouquerol criteria
+  std::vector<std::string> flags;             // every guard rail tripped
+  int rank = 0;                               // 1 = best AICc in its group among converged fits
+};
+
+struct FitStageSummary {
+  std::vector<Diagnostic> warnings;
+  int fits_attempted = 0;
+  int fits_converged = 0;
+};
+
+struct IsothermFits {
+  std::vector<FitGroup> groups;
+  std::vector<ModelFit> fits;
+  std::vector<int> best_fit_per_group;  // index into fits, -1 if none converged
+  double coverage_factor = 2.0;
+  FitStageSummary summary;
+};
+
+IsothermFits FitIsotherms(const reduce::ReducedIsotherms& reduced, const FitStageOptions& options);
+
+}  // namespace sorbtrace::fit

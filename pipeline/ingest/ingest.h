@@ -1,0 +1,197 @@
+// Ingest stage: reads what a lab records — the job file (TOML), desiccator weighings (CSV),
+// continuous vapour-sorption mass logs (CSV, streamed: millions of rows) and optional
+// over-hygroscopic retention points (CSV) — into plain value types. Units are those declared
+// in the job file or the CSV header; nothing is guessed silently. Every problem is an
+// InputError naming file, line, column and what was expected.
+//
+// Internally everything is SI: masses in g (the lab's unit), times in s, RH as a fraction,
+// temperatures in K.
+#pragma once
+
+#include <cstdint>
+#include <filesystem>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "pipeline/common/diagnostics.h"
+
+namespace sorbtrace::ingest {
+
+// Direction of a humidity step, from the sequence of set points (never guessed from masses).
+enum class Branch { kAdsorption, kDesorption, kDrying };
+std::string_view BranchName(Branch branch);  // "adsorption", "desorption", "drying"
+
+enum class Method { kDesiccator, kVaporLog };
+
+// How the dry reference mass of each specimen is found.
+enum class DryMassMethod {
+  kOvenDrying,       // weighed after oven drying at drying_temperature_K (ISO 12570)
+  kDesiccantStep,    // equilibrium mass over a desiccant / at 0 % RH (a "drying" step)
+  kFinalDryingStep,  // the final 0 % RH step of a sequence (e.g. end of a vapour-sorption run)
+};
+
+// How a CSV file is written (declared in the job file; defaults in brackets).
+struct CsvFormat {
+  char delimiter = ',';            // [,] or ';' (with decimal_comma for European spreadsheets)
+  bool decimal_comma = false;      // "0,123" numbers
+  std::string datetime_format = "iso8601";  // or a strftime-like day-first form "%d.%m.%Y %H:%M"
+  std::string mass_unit = "g";     // "g" or "mg"
+  std::string rh_unit = "percent"; // "percent" or "fraction"
+  std::string time_unit = "s";     // elapsed time in logs: "s", "min", "h"
+  std::string temperature_unit = "C";  // "C" or "K"
+};
+
+// One specimen of the material.
+struct SpecimenSpec {
+  std::string id;
+  std::optional<double> dry_mass_g;              // stated oven-dry mass, when weighed externally
+  std::optional<double> bulk_density_kg_per_m3;  // for volumetric moisture content
+};
+
+// One measured data set: a file, its method and nominal temperature.
+struct DataSetSpec {
+  std::string id;                      // unique within the job, e.g. "desiccator-23C"
+  Method method = Method::kDesiccator;
+  std::filesystem::path file;          // resolved relative to the job file
+  std::string file_as_written;         // as written in the job file
+  double temperature_K = 296.15;       // nominal test temperature
+  std::string specimen_id;             // vapour logs: the specimen in the balance
+  CsvFormat format;
+};
+
+// Everything the job file states about one material test.
+struct JobSpec {
+  std::filesystem::path job_file;
+  std::string job_id;                  // e.g. "LAB-2026-0142"
+  std::string material_name;
+  std::string material_description;
+  std::string client;
+  std::string test_dates;              // free text, e.g. "2026-09-01 to 2026-10-12"
+  std::string issue_date;              // ISO 8601 date printed on the sheet (deterministic)
+  std::string template_name = "full";  // report template (templates/<name>.toml) or a path
+  DryMassMethod dry_mass_method = DryMassMethod::kOvenDrying;
+  double drying_temperature_K = 378.15;        // 105 degC, ISO 12570 default
+  double balance_resolution_g = 1e-4;
+  double balance_standard_uncertainty_g = 1e-4;
+  double rh_sensor_standard_uncertainty_fraction = 0.01;  // vapour-sorption RH sensor
+  double temperature_standard_uncertainty_K = 0.2;
+  bool negative_moisture_expected = false;
+  std::vector<SpecimenSpec> specimens;
+  std::vector<DataSetSpec> datasets;
+  std::optional<DataSetSpec> retention;  // over-hygroscopic retention points (CSV)
+};
+
+// One weighing of a specimen in a desiccator.
+struct Weighing {
+  double time_s = 0.0;      // seconds since the first weighing of the file
+  std::string timestamp;    // as written
+  double mass_g = 0.0;
+  int line = 0;             // 1-based line in the file
+};
+
+// One humidity step of one specimen in a desiccator series.
+struct DesiccatorStep {
+  std::string specimen_id;
+  int step_index = 0;              // order of the step in the series (0-based)
+  std::string atmosphere;          // as written: a salt ("NaCl"), "desiccant", or a set RH
+  std::optional<std::string> salt; // when the atmosphere is a saturated salt solution
+  std::optional<double> set_rh_fraction;  // when the RH is stated directly
+  Branch branch = Branch::kAdsorption;
+  double temperature_K = 296.15;   // recorded (or nominal) temperature of the step
+  std::vector<Weighing> weighings; // in time order
+  int first_line = 0;
+};
+
+struct DesiccatorSeries {
+  std::string dataset_id;
+  std::string file;
+  std::vector<DesiccatorStep> steps;      // grouped by specimen, then step order
+};
+
+// Block mean of consecutive log rows (IngestOptions::log_block_s wide): the log is streamed
+// and only these are kept, never every row.
+struct LogBlock {
+  double time_s = 0.0;               // mean elapsed time of the block
+  double mass_g = 0.0;               // mean mass
+  double rh_measured_fraction = 0.0; // mean measured RH
+  double temperature_K = 0.0;        // mean temperature
+  std::int32_t num_rows = 0;
+};
+
+// A run of constant set-point RH in a continuous vapour-sorption log.
+struct VaporLogStep {
+  int step_index = 0;
+  double set_rh_fraction = 0.0;
+  Branch branch = Branch::kAdsorption;  // from the set-point sequence
+  int cycle = 0;                         // 0-based adsorption/desorption cycle
+  double start_time_s = 0.0;
+  double end_time_s = 0.0;
+  std::int64_t first_line = 0;
+  std::int64_t last_line = 0;
+  std::int64_t num_rows = 0;
+  double rh_measured_mean_fraction = 0.0;
+  double rh_measured_std_fraction = 0.0;
+  double temperature_mean_K = 0.0;
+  double temperature_std_K = 0.0;
+  std::vector<LogBlock> blocks;
+};
+
+struct VaporLog {
+  std::string dataset_id;
+  std::string file;
+  std::string specimen_id;
+  std::int64_t num_rows = 0;
+  std::vector<VaporLogStep> steps;
+};
+
+// A moisture content measured above the hygroscopic range at a known capillary pressure
+// (pressure plate / suction), for retention models fitted across both ranges.
+struct RetentionPoint {
+  std::string specimen_id;
+  double capillary_pressure_Pa = 0.0;
+  double moisture_kg_per_kg = 0.0;
+  double u_moisture_kg_per_kg = 0.0;  // standard uncertainty
+  Branch branch = Branch::kDesorption;
+  int line = 0;
+};
+
+// An input file as read: for traceability (SHA-256 printed on the datasheet and checked by
+// `sorbtrace verify`).
+struct InputFileRecord {
+  std::string role;          // "job", "desiccator", "vapor_log", "retention", "template"
+  std::string path;          // as written (relative to the job file where applicable)
+  std::string sha256;
+  std::uint64_t size_bytes = 0;
+};
+
+struct IngestOptions {
+  double log_block_s = 10.0;        // width of log block means [s]
+  double log_gap_warning_s = 600.0; // a gap between rows longer than this is a warning
+};
+
+struct IngestSummary {
+  std::vector<Diagnostic> warnings;  // e.g. long gaps in a log; never fatal
+  std::int64_t rows_read = 0;
+  int num_steps = 0;
+  int num_specimens = 0;
+};
+
+struct IngestResult {
+  JobSpec job;
+  std::vector<DesiccatorSeries> desiccator_series;
+  std::vector<VaporLog> vapor_logs;
+  std::vector<RetentionPoint> retention_points;
+  std::vector<InputFileRecord> inputs;  // job file first, then data files in job order
+  IngestSummary summary;
+};
+
+// Parses and validates the job file (the sections that describe the test and its data:
+// [job], [material], [specimens], [measurement], [[dataset]], [retention]); sections for
+// later stages ([equilibrium], [fit], [pores], [report]) are left to their owners.
+JobSpec LoadJobSpec(const std::filesystem::path& job_file);
+
+// Reads every data file named by the job.
+IngestResult Ingest(const JobSpec& job, const IngestOptions& options);
+
+}  // namespace sorbtrace::ingest

@@ -1,0 +1,78 @@
+// Report stage: composes what the lab issues — the PDF datasheet (libharu, template-driven,
+// vector plots with uncertainty bands, embedded DejaVu font), the results JSON (every number
+// on the sheet, with units and uncertainties; what `sorbtrace verify` re-derives) and CSV
+// tables. Pure: returns bytes; the run stage writes them atomically.
+#pragma once
+
+#include <filesystem>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "pipeline/common/diagnostics.h"
+#include "pipeline/equilibrate/equilibrate.h"
+#include "pipeline/fit/fit_stage.h"
+#include "pipeline/ingest/ingest.h"
+#include "pipeline/pores/pores.h"
+#include "pipeline/reduce/reduce.h"
+
+namespace sorbtrace::report {
+
+enum class PageSize { kA4, kLetter };
+
+// A report template (templates/*.toml): layout, the lab's identity, units, precision rules,
+// sections and reference conditions. LoadTemplate rejects unknown keys naming the key.
+struct Template {
+  std::string name;                  // e.g. "full", "summary"
+  PageSize page_size = PageSize::kA4;
+  double margin_mm = 18.0;
+  // Lab header fields.
+  std::string lab_name;
+  std::string lab_address;
+  std::string accreditation;
+  std::vector<std::string> signatories;  // "Name, role"
+  // Units and precision.
+  bool moisture_in_percent = true;   // else kg/kg
+  int uncertainty_significant_digits = 2;
+  // Sections in order: "summary", "isotherm", "models", "pores", "kinetics", "equilibria",
+  // "method", "cautions".
+  std::vector<std::string> sections;
+  std::vector<pores::ReferenceCondition> reference_conditions;
+  std::filesystem::path source_file;
+};
+
+Template LoadTemplate(const std::filesystem::path& template_file);
+
+// Everything the sheet shows. The run stage fills it.
+struct ReportInputs {
+  const ingest::IngestResult* ingested = nullptr;
+  const equilibrate::EquilibriumSet* equilibria = nullptr;
+  const reduce::ReducedIsotherms* reduced = nullptr;
+  const fit::IsothermFits* fits = nullptr;
+  const pores::PoreAnalysis* pores = nullptr;
+  nlohmann::ordered_json effective_settings;  // all settings after overrides, recorded
+  std::string software_version;
+};
+
+struct ReportOptions {
+  std::filesystem::path font_directory = "/usr/share/fonts/truetype/dejavu";
+  std::string document_date;  // ISO 8601; fixed (job issue date or SOURCE_DATE_EPOCH)
+};
+
+struct ReportArtifacts {
+  std::string pdf;           // bytes of datasheet.pdf
+  std::string results_json;  // results.json
+  std::vector<std::pair<std::string, std::string>> csv_files;  // (file name, content)
+  int num_pages = 0;
+};
+
+ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout,
+                              const ReportOptions& options);
+
+// Formats value +- uncertainty with the template's rule (uncertainty to N significant digits,
+// value rounded to match), e.g. (0.0123456, 0.00123) -> "0.0123 ± 0.0012".
+std::string FormatWithUncertainty(double value, double uncertainty, int significant_digits);
+
+}  // namespace sorbtrace::report
