@@ -39,6 +39,13 @@ struct FitOptions {
   std::vector<std::vector<double>> starting_points;
   bool use_bounds = true;
   double confidence_level = 0.95;  // for Student-t parameter intervals and bands
+  // Ceres' non-monotonic trust-region steps (helps on long narrow valleys, e.g. NIST MGH10).
+  bool use_nonmonotonic_steps = false;
+  // Rank test of the covariance: the Jacobian, columns scaled to unit norm, is treated as
+  // rank deficient when sigma_min / sigma_max < sqrt(this) (Ceres' convention, its default).
+  double covariance_min_reciprocal_condition_number = 1e-14;
+  // A parameter is flagged at_bound when |value - bound| <= bound_tolerance * max(1, |bound|).
+  double bound_tolerance = 1e-8;
 
   // Returns false and explains in *error when a setting is out of range.
   bool IsValid(std::string* error) const;
@@ -79,6 +86,10 @@ struct ParameterEstimate {
   bool at_bound = false;
 };
 
+// Goodness of fit. n = observations, k = p = fitted parameters (the residual variance is not
+// counted in k), w_i = 1 / sigma_y_i^2. Errors in variables: the x terms
+// ((x0_obs - x0_true) / sigma_x0)^2 are part of weighted_ssr (it is the minimised objective,
+// chi-square with n - p degrees of freedom); ssr, r_squared and the deviations use y only.
 struct FitStatistics {
   int num_observations = 0;
   int num_parameters = 0;
@@ -87,14 +98,15 @@ struct FitStatistics {
   double ssr = 0.0;                // sum (y - f)^2, in units of y^2
   double rmse = 0.0;               // sqrt(ssr / n)
   double residual_std = 0.0;       // sqrt(weighted_ssr / dof)
-  double r_squared = 0.0;
-  double adjusted_r_squared = 0.0;
-  double mean_relative_deviation_percent = 0.0;  // (100/n) sum |y - f| / |y|
-  double aicc = 0.0;
-  double bic = 0.0;
+  double r_squared = 0.0;           // 1 - sum w (y - f)^2 / sum w (y - ybar_w)^2, weighted mean ybar_w
+  double adjusted_r_squared = 0.0;  // 1 - (1 - R^2) (n - 1) / (n - p)
+  double mean_relative_deviation_percent = 0.0;  // (100/n) sum |y - f| / |y| over y != 0
+  double aic = 0.0;   // n ln(weighted_ssr / n) + 2k (least-squares form, constants dropped)
+  double aicc = 0.0;  // aic + 2k(k + 1) / (n - k - 1); NaN when n - k - 1 <= 0
+  double bic = 0.0;   // n ln(weighted_ssr / n) + k ln n
   double chi_square_p_value = 0.0;  // P(chi2_dof >= weighted_ssr); meaningful for kAbsolute
-  int runs = 0;                     // sign runs of the residuals (Wald-Wolfowitz)
-  double runs_test_p_value = 1.0;   // two-sided
+  int runs = 0;                     // sign runs of the residuals ordered by x (Wald-Wolfowitz)
+  double runs_test_p_value = 1.0;   // two-sided, normal approximation; 1 if all one sign
 };
 
 struct FitResult {
@@ -108,6 +120,11 @@ struct FitResult {
   std::vector<double> residuals; // y_i - f(x_i)
   std::vector<double> fitted_x0; // errors-in-variables: the fitted true x[0]; else = observed
   FitSummary summary;
+  WeightConvention weight_convention = WeightConvention::kRelative;
+  // Quantile used for the parameter intervals and bands: Student-t with n - p degrees of
+  // freedom under kRelative (variance estimated), standard normal under kAbsolute (known).
+  double coverage_factor = 0.0;
+  double mean_sigma_y_squared = 1.0;  // mean of sigma_y^2 over the data (prediction bands)
   bool ok() const { return summary.termination == FitTermination::kConverged; }
 };
 
@@ -115,7 +132,13 @@ FitResult FitModel(const Model& model, const std::vector<Observation>& observati
                    const ModelContext& context, const FitOptions& options);
 
 // Fitted curve with confidence (of the mean curve) and prediction (of a new observation)
-// bands on an x grid, delta method with the Student-t quantile.
+// bands on an x grid (x[1] = 0 for two-input models), delta method:
+//   var f(x) = g' C g, g = df/dp at the solution, C = FitResult::covariance;
+//   confidence = f -+ k sqrt(var f), prediction = f -+ k sqrt(var f + var_new), where
+//   var_new = s^2 * mean(sigma_y^2) under kRelative (s^2 = weighted_ssr / (n - p)) and
+//   mean(sigma_y^2) under kAbsolute, and k is the quantile at confidence_level (Student-t
+//   with n - p degrees of freedom under kRelative, normal under kAbsolute).
+// Without a covariance (fit.summary.covariance_available false) the band limits are NaN.
 struct BandPoint {
   double x = 0.0;
   double y = 0.0;
@@ -144,7 +167,15 @@ struct ResampleOptions {
 };
 
 // Percentile intervals of parameters and of the curve on x_grid from resampled refits
-// (warm-started from the full-data solution).
+// (warm-started from the full-data solution, no multi-starts). Draws come from one
+// std::mt19937_64 stream started at options.seed, with our own uniform/Box-Muller transforms.
+//  - residual bootstrap: weighted residuals e_i = (y_i - f_i) / sigma_i, centred and scaled by
+//    sqrt(n / (n - p)) (Davison & Hinkley 1997, Bootstrap Methods and their Application,
+//    sec. 6.2.3), y*_i = f_i + sigma_i e*_j with j drawn uniformly;
+//  - case bootstrap: n points drawn with replacement;
+//  - Monte Carlo (JCGM 101:2008): y*_i ~ N(y_i, u_y_i), x0*_i ~ N(x0_i, u_x0_i) with u = sigma
+//    under kAbsolute and u = s * sigma under kRelative (the sigmas are then only weights).
+// Percentiles: linear interpolation between order statistics (Hyndman & Fan 1996, type 7).
 struct ResampleResult {
   std::vector<std::vector<double>> parameter_draws;  // successful refits, each of size p
   std::vector<double> parameter_low;                 // percentile interval per parameter

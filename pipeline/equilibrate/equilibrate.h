@@ -7,6 +7,7 @@
 // A step that never met its criterion is reported as not equilibrated, never silently used.
 #pragma once
 
+#include <filesystem>
 #include <optional>
 #include <string>
 #include <vector>
@@ -16,20 +17,41 @@
 
 namespace sorbtrace::equilibrate {
 
+// Read from the job file table [equilibrium] by LoadEquilibrateOptions (keys in brackets).
 struct EquilibrateOptions {
-  // Desiccator, ISO 12571 constant mass (wording implemented documented in equilibrate.cc).
-  double mass_change_limit_fraction = 0.001;  // 0.1 % of the specimen mass
-  double min_weighing_interval_s = 86400.0;   // 24 h between the weighings compared
-  int min_weighings = 3;                      // consecutive weighings that must agree
-  // Vapour-sorption log (common practice: 0.002 %/min of dry mass over 10 min).
-  double rate_limit_fraction_per_min = 2e-5;  // dm/dt relative to the dry mass
-  double rate_window_s = 600.0;
-  bool extrapolate_unfinished_steps = true;
-  int exponential_terms = 1;                  // 1 or 2 in the tail model
-  double tail_fraction = 0.6;                 // last fraction of a step used for the fit
+  // Desiccator, ISO 12571 constant mass, from memory (edition not confirmed): "the change in
+  // mass between three consecutive weighings, each at least 24 h apart, is less than 0.1 % of
+  // the total mass". Implemented as: the weighings c0 (last), c1, c2, ... each taken as the
+  // latest weighing at least min_weighing_interval_s before the previous one; the range
+  // (max - min) of their masses divided by the mass of c0 is below mass_change_limit_fraction.
+  // The range is the strict reading (it bounds every pairwise change as well).
+  double mass_change_limit_fraction = 0.001;  // [mass_change_limit_percent] 0.1 %
+  double min_weighing_interval_s = 86400.0;   // [min_weighing_interval_h] 24 h
+  int min_weighings = 3;                      // [min_weighings] weighings that must agree
+  // Vapour-sorption log: |dm/dt| from a least-squares line over the last rate_window_s of
+  // block means, relative to the reference dry mass (stated dry mass, else the lowest block
+  // mass of the log), below rate_limit_fraction_per_min. Common practice: 0.002 %/min over a
+  // 10 min window; Glass et al. (2018) Wood Sci. Technol. 52 show it can under-read the
+  // equilibrium moisture content of wood by up to 1.2 % MC.
+  double rate_limit_fraction_per_min = 2e-5;  // [rate_limit_percent_per_min] 0.002 %/min
+  double rate_window_s = 600.0;               // [rate_window_min] 10 min
+  bool extrapolate_unfinished_steps = true;   // [extrapolate]
+  int exponential_terms = 1;                  // [exponential_terms] 1 or 2 in the tail model
+  double tail_fraction = 0.6;                 // [tail_fraction] last part of a step fitted
+  // An extrapolation is accepted only if the fitted (slowest) time constant is at most this
+  // many times the duration of the fitted tail; beyond it the asymptote is a guess (the
+  // step stays "not equilibrated"). Choice of this project, not from a standard.
+  double max_tau_to_tail_ratio = 3.0;         // [max_tau_to_tail_ratio]
+  int min_tail_points = 10;                   // fewer block means: no extrapolation
 
   bool IsValid(std::string* error) const;
 };
+
+// Reads the optional [equilibrium] table of a job file (other tables are ignored). Missing
+// keys keep their defaults; a key of the wrong type, an unknown key or an invalid value is an
+// InputError naming the key's line and column. Percent keys are converted to fractions,
+// hours/minutes to seconds.
+EquilibrateOptions LoadEquilibrateOptions(const std::filesystem::path& job_file);
 
 // One equilibrium (or the last state of a step that did not reach one).
 struct EquilibriumPoint {
@@ -37,6 +59,7 @@ struct EquilibriumPoint {
   std::string specimen_id;
   int step_index = 0;
   std::string step_label;          // "NaCl", "set 50 %", ...
+  ingest::Method method = ingest::Method::kDesiccator;
   ingest::Branch branch = ingest::Branch::kAdsorption;
   int cycle = 0;
   double temperature_K = 0.0;
@@ -46,6 +69,13 @@ struct EquilibriumPoint {
   double drh_dT_per_K = 0.0;                // temperature coefficient of the RH source
   double mass_g = 0.0;                      // equilibrium (or extrapolated) mass
   double u_mass_extrapolation_g = 0.0;      // extra standard uncertainty of extrapolation
+  // Residual approach to equilibrium: the mass change over the last criterion interval
+  // (desiccator: last two chain weighings; log: slope x rate window) taken as the half-width
+  // of a rectangular distribution, u = |change| / sqrt(3) (JCGM 100:2008, 4.3.7).
+  double u_mass_drift_g = 0.0;
+  double last_change_fraction = 0.0;        // desiccator: criterion value at the last weighing
+  double final_rate_fraction_per_min = 0.0; // log: |dm/dt| / reference mass at the step end
+  int num_readings = 0;                     // weighings (desiccator) or block means (log)
   double time_to_equilibrium_s = 0.0;       // from the start of the step
   bool equilibrated = false;                // criterion met (or asymptote extrapolated)
   bool extrapolated = false;
@@ -60,9 +90,15 @@ struct DryMass {
   double u_mass_g = 0.0;       // standard uncertainty beyond the balance (e.g. drift)
   std::string method;          // e.g. "oven drying at 105 degC (ISO 12570)"
   bool equilibrated = true;
+  bool stated = false;         // given in the job file (no weighing in the data files)
+  std::string dataset_id;      // where the drying step was found (empty when stated)
+  int step_index = -1;         // that drying step (-1 when stated)
 };
 
-// A time series for the datasheet plots (decimated; at most a few thousand points).
+// A time series for the datasheet plots: one per vapour log, one per specimen of a
+// desiccator series; decimated to at most kMaxTracePoints (means of consecutive block means).
+// Times on the file's time base (s since its first row / first weighing).
+inline constexpr int kMaxTracePoints = 2000;
 struct TracePoint {
   double time_s = 0.0;
   double mass_g = 0.0;

@@ -60,6 +60,9 @@ struct ModelFit {
   int group_index = 0;
   fitters::FitResult result;
   std::vector<double> expanded_uncertainty;   // k = coverage factor of the reduce stage, per parameter
+  // Indices into groups[group_index].observations of the points this model was fitted to
+  // (BET: only its RH range; retention points only for retention models).
+  std::vector<int> used_observations;
   std::vector<fitters::BandPoint> band;        // delta method, on the band grid
   fitters::ResampleResult bootstrap;
   fitters::ResampleResult monte_carlo;

@@ -12,6 +12,7 @@
 #include <filesystem>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "pipeline/common/diagnostics.h"
@@ -31,15 +32,18 @@ enum class DryMassMethod {
   kFinalDryingStep,  // the final 0 % RH step of a sequence (e.g. end of a vapour-sorption run)
 };
 
-// How a CSV file is written (declared in the job file; defaults in brackets).
+// How a CSV file is written (declared in the job file; defaults in brackets). The unit
+// fields are empty unless the job file declares them: normally the CSV header carries the
+// unit in the column name ("mass_mg"); a declared unit serves a bare column name ("mass")
+// and must agree with a suffixed one. See docs/input-formats.md.
 struct CsvFormat {
-  char delimiter = ',';            // [,] or ';' (with decimal_comma for European spreadsheets)
+  char delimiter = ',';            // [,] ';' or '\t' (';' with decimal_comma for spreadsheets)
   bool decimal_comma = false;      // "0,123" numbers
-  std::string datetime_format = "iso8601";  // or a strftime-like day-first form "%d.%m.%Y %H:%M"
-  std::string mass_unit = "g";     // "g" or "mg"
-  std::string rh_unit = "percent"; // "percent" or "fraction"
-  std::string time_unit = "s";     // elapsed time in logs: "s", "min", "h"
-  std::string temperature_unit = "C";  // "C" or "K"
+  std::string datetime_format = "iso8601";  // or a pattern, e.g. day-first "%d.%m.%Y %H:%M"
+  std::string mass_unit;           // "" (from header), "g", "mg" or "ug"
+  std::string rh_unit;             // "" (from header), "percent" or "fraction"
+  std::string time_unit;           // "" (from header), elapsed time in logs: "s", "min", "h"
+  std::string temperature_unit;    // "" (from header), "C" or "K"
 };
 
 // One specimen of the material.
@@ -47,6 +51,7 @@ struct SpecimenSpec {
   std::string id;
   std::optional<double> dry_mass_g;              // stated oven-dry mass, when weighed externally
   std::optional<double> bulk_density_kg_per_m3;  // for volumetric moisture content
+  SourceLocation where;                          // its [[specimen]] entry in the job file
 };
 
 // One measured data set: a file, its method and nominal temperature.
@@ -58,6 +63,7 @@ struct DataSetSpec {
   double temperature_K = 296.15;       // nominal test temperature
   std::string specimen_id;             // vapour logs: the specimen in the balance
   CsvFormat format;
+  SourceLocation where;                // its [[dataset]] (or [retention]) entry in the job file
 };
 
 // Everything the job file states about one material test.
@@ -87,13 +93,15 @@ struct Weighing {
   double time_s = 0.0;      // seconds since the first weighing of the file
   std::string timestamp;    // as written
   double mass_g = 0.0;
+  double temperature_K = 0.0;  // recorded at the weighing, else the nominal temperature
   int line = 0;             // 1-based line in the file
 };
 
 // One humidity step of one specimen in a desiccator series.
 struct DesiccatorStep {
   std::string specimen_id;
-  int step_index = 0;              // order of the step in the series (0-based)
+  int step_index = 0;              // order of the step for this specimen (0-based)
+  int step_number = 0;             // as written in the file's "step" column
   std::string atmosphere;          // as written: a salt ("NaCl"), "desiccant", or a set RH
   std::optional<std::string> salt; // when the atmosphere is a saturated salt solution
   std::optional<double> set_rh_fraction;  // when the RH is stated directly
@@ -101,6 +109,7 @@ struct DesiccatorStep {
   double temperature_K = 296.15;   // recorded (or nominal) temperature of the step
   std::vector<Weighing> weighings; // in time order
   int first_line = 0;
+  int last_line = 0;
 };
 
 struct DesiccatorSeries {
@@ -191,7 +200,15 @@ struct IngestResult {
 // later stages ([equilibrium], [fit], [pores], [report]) are left to their owners.
 JobSpec LoadJobSpec(const std::filesystem::path& job_file);
 
-// Reads every data file named by the job.
-IngestResult Ingest(const JobSpec& job, const IngestOptions& options);
+// Reads every data file named by the job, checks that each specimen with data has a dry
+// mass source for job.dry_mass_method, and records SHA-256 and size of every input.
+IngestResult Ingest(const JobSpec& job, const IngestOptions& options = {});
+
+// The readers Ingest() uses, one file each (also used by tests and benchmarks). Errors
+// name dataset.file as the file. Warnings are appended to summary->warnings (may be null).
+DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dataset);
+VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
+                      IngestSummary* summary);
+std::vector<RetentionPoint> ReadRetentionPoints(const JobSpec& job, const DataSetSpec& dataset);
 
 }  // namespace sorbtrace::ingest

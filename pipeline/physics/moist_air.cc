@@ -36,6 +36,14 @@ void RequireRh(double rh_fraction) {
   RequireInRange("relative humidity", rh_fraction, 0.0, 1.0, "", kMoistAirName);
 }
 
+// 0 < rh <= 1: dry air has no dew or frost point.
+void RequirePositiveRh(double rh_fraction, const char* quantity) {
+  if (rh_fraction > 0.0 && rh_fraction <= 1.0) return;
+  throw RangeError(fmt::format(
+      "relative humidity = {:g} is outside the valid range 0 < relative humidity <= 1 of the {}",
+      rh_fraction, quantity));
+}
+
 // Root of the increasing function f on [lower, upper] with f(lower) <= 0 <= f(upper), by
 // the Illinois variant of regula falsi (always bracketed, superlinear convergence).
 template <typename F>
@@ -122,7 +130,7 @@ double RhFromHumidityRatio(double humidity_ratio_kg_per_kg, double temperature_K
 
 double DewPoint_K(double rh_fraction, double temperature_K) {
   RequireAirTemperature(temperature_K);
-  RequireInRange("relative humidity", rh_fraction, 1e-300, 1.0, "", "the dew point");
+  RequirePositiveRh(rh_fraction, "dew point");
   const double vapour_pressure_Pa = VapourPressure_Pa(rh_fraction, temperature_K);
   const double lowest_Pa = SaturationPressureOverWater_Pa(kLiquidRangeLow_K);
   if (vapour_pressure_Pa < lowest_Pa) {
@@ -143,7 +151,7 @@ double DewPoint_K(double rh_fraction, double temperature_K) {
 
 double FrostPoint_K(double rh_fraction, double temperature_K) {
   RequireAirTemperature(temperature_K);
-  RequireInRange("relative humidity", rh_fraction, 1e-300, 1.0, "", "the frost point");
+  RequirePositiveRh(rh_fraction, "frost point");
   const double vapour_pressure_Pa = VapourPressure_Pa(rh_fraction, temperature_K);
   const double triple_Pa = SaturationPressureOverIce_Pa(kTriplePoint_K);
   if (vapour_pressure_Pa > triple_Pa) {

@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 #include <string>
 
@@ -15,11 +16,24 @@ std::string UnitSuffix(std::string_view unit) {
   return unit.empty() ? std::string() : fmt::format(" {}", unit);
 }
 
+// Slack on closed ranges: a bound is met if missed by no more than 1e-12 relative to the
+// larger finite bound, so that values produced by rounding (e.g. -25 degC converted to
+// 248.14999999999998 K, or rh * p_s / p_s) are not rejected.
+constexpr double kRelativeSlack = 1e-12;
+
+double Slack(double lower, double upper) {
+  double scale = 0.0;
+  if (std::isfinite(lower)) scale = std::max(scale, std::abs(lower));
+  if (std::isfinite(upper)) scale = std::max(scale, std::abs(upper));
+  return kRelativeSlack * scale;
+}
+
 }  // namespace
 
 void RequireInRange(std::string_view quantity, double value, double lower, double upper,
                     std::string_view unit, std::string_view correlation) {
-  if (value >= lower && value <= upper) return;
+  const double slack = Slack(lower, upper);
+  if (value >= lower - slack && value <= upper + slack) return;
   const std::string u = UnitSuffix(unit);
   throw RangeError(fmt::format("{} = {:g}{} is outside the valid range {:g} .. {:g}{} of {}",
                                quantity, value, u, lower, upper, u, correlation));

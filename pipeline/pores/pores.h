@@ -60,6 +60,21 @@ struct PoreOptions {
   double molecular_area_m2 = 0.106e-18;  // water cross-section (Emmett & Brunauer 1937)
   std::vector<ReferenceCondition> reference_conditions = {{296.15, 0.5}, {296.15, 0.8}};
 
+  // Added by the pores stage (defaults documented; names as in the job file, lengths in nm).
+  // Two-sided level of the percentile bands; set it to FitStageOptions::confidence_level
+  // (IsothermFits does not carry the level).
+  double band_confidence_level = 0.95;
+  // Method "model": subtract the thinning film in already-emptied pores on the radius grid
+  // (the same BJH-type correction as the stepwise method). false: V(r) = [u(RH(r)) -
+  // u(RH(r_min))] / rho_w, the film counted as pore volume at the radius where it forms.
+  bool film_volume_correction = true;
+  // A local maximum of dV/dlog r is reported as a mode when its height is at least this
+  // fraction of the largest value (a display threshold, not physics).
+  double mode_min_relative_height = 0.05;
+  int hysteresis_grid_points = 41;     // RH grid inside both branches' measured ranges
+  int heat_grid_points = 21;           // moisture-content grid of the isosteric heat
+  double temperature_tolerance_K = 0.5;  // groups closer than this count as one temperature
+
   bool IsValid(std::string* error) const;
 };
 
@@ -106,6 +121,11 @@ struct PoreDistribution {
   double resolved_radius_max_m = 0.0;
   std::vector<DecadeFraction> decades;
   std::vector<std::string> assumptions;        // printed beside the plot
+  // Added by the pores stage: where the band comes from ("parameter covariance", "bootstrap
+  // draws", "measurement uncertainty", "none") and how many draws were used.
+  std::string band_source;
+  int band_draws_used = 0;
+  int negative_steps_clamped = 0;  // steps whose pore volume came out < 0 and was set to 0
 };
 
 struct SurfaceArea {

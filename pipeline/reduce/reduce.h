@@ -2,8 +2,37 @@
 // [kg/kg], with a GUM (JCGM 100:2008) uncertainty budget per point: balance, dry mass, RH of
 // the step (salt table or sensor), temperature effect on RH, extrapolation. Several specimens
 // are combined per step: mean, between-specimen standard deviation, combined uncertainty.
+//
+// Budget of one specimen point (JCGM 100:2008, Eq. 10, inputs taken as uncorrelated):
+//   u = (m - m_d) / m_d,  c_m = du/dm = 1/m_d,  c_md = du/dm_d = -m/m_d^2
+//   u_bal = sqrt(u_balance^2 + (resolution/sqrt(12))^2)  per weighing: the stated standard
+//           uncertainty of the balance combined with the rectangular rounding of its display
+//           (JCGM 100:2008, F.2.2.1); counted on both m and m_d (conservative if the stated
+//           value already contains the resolution).
+//   lines: balance (wet mass) u_bal, c_m;  balance (dry mass) u_bal, c_md;
+//          dry-mass method  DryMass::u_mass_g, c_md (when > 0);
+//          residual drift   EquilibriumPoint::u_mass_drift_g, c_m (when > 0);
+//          extrapolation    EquilibriumPoint::u_mass_extrapolation_g, c_m (when extrapolated).
+//   u_c(u) = sqrt(sum (c_i u_i)^2). Treating the wet and dry weighings as uncorrelated
+//   overstates u_c slightly when a common balance offset cancels in m - m_d.
+// RH budget: RH source (salt table / sensor) with c = 1, temperature effect with
+//   u(T) = job temperature standard uncertainty and c = d rh/dT of the source.
+// Specimens combined per step (n specimens, u_i their moisture contents, u(u_i) their
+// standard uncertainties, measurement errors taken as independent between specimens):
+//   mean = sum u_i / n,  s = sqrt(sum (u_i - mean)^2 / (n - 1))  (s = 0 for n = 1)
+//   u_c(mean) = sqrt( sum u(u_i)^2 / n^2 + s^2 / n )
+//   i.e. the propagated measurement uncertainty of the mean plus the Type A standard
+//   uncertainty of the mean from the spread (JCGM 100:2008, 4.2.3), which also holds the
+//   material's specimen-to-specimen variability. RH of the step: mean over specimens, with
+//   u = sqrt(mean u(rh_i)^2) (same atmosphere: fully correlated, not averaged down).
+// Volumetric content psi = u rho_dry / rho_w(T) (rho_w: Kell 1975), u(psi) = u_c rho_dry/rho_w,
+//   rho_dry the mean stated bulk density (density uncertainty not stated: not included).
+// A negative moisture content is an InputError (at the step) when it is below zero by more
+//   than k u_c and the job does not set negative_moisture_expected; within k u_c it is
+//   flagged (balance noise at very low humidity).
 #pragma once
 
+#include <filesystem>
 #include <string>
 #include <vector>
 
@@ -12,12 +41,19 @@
 
 namespace sorbtrace::reduce {
 
+// Read from the job file table [equilibrium] (keys coverage_factor, include_not_equilibrated)
+// by LoadReduceOptions.
 struct ReduceOptions {
   double coverage_factor = 2.0;          // k for expanded uncertainties (about 95 %)
   bool include_not_equilibrated = false; // if true, such points are kept but flagged
 
   bool IsValid(std::string* error) const;
 };
+
+// Reads coverage_factor and include_not_equilibrated from the [equilibrium] table (other
+// keys of the table are checked by equilibrate::LoadEquilibrateOptions). Wrong type or an
+// invalid value: InputError at the key.
+ReduceOptions LoadReduceOptions(const std::filesystem::path& job_file);
 
 // One line of an uncertainty budget: u(x_i), sensitivity c_i, contribution |c_i| u(x_i).
 struct BudgetLine {
@@ -39,14 +75,20 @@ struct SpecimenPoint {
   double temperature_K = 0.0;
   double rh_fraction = 0.0;
   double u_rh_fraction = 0.0;           // standard, incl. temperature effect
+  std::string rh_source;
+  double mass_g = 0.0;                  // equilibrium (or extrapolated) mass
+  double dry_mass_g = 0.0;
   double moisture_kg_per_kg = 0.0;
   double u_moisture_kg_per_kg = 0.0;    // standard, combined
+  double expanded_u_moisture_kg_per_kg = 0.0;
   std::vector<BudgetLine> moisture_budget;
   std::vector<BudgetLine> rh_budget;
   double time_to_equilibrium_s = 0.0;
   bool equilibrated = false;
   bool extrapolated = false;
+  bool excluded = false;                // not combined into an IsothermPoint (not equilibrated)
   std::vector<std::string> flags;
+  SourceLocation where;                 // first line of the step in its file
 };
 
 // The material's isotherm point at one step: specimens combined.
@@ -65,6 +107,7 @@ struct IsothermPoint {
   double expanded_u_moisture_kg_per_kg = 0.0;
   double between_specimen_sd_kg_per_kg = 0.0;
   int num_specimens = 0;
+  std::vector<std::string> specimen_ids;
   bool has_volumetric = false;
   double volumetric_m3_per_m3 = 0.0;     // u * rho_dry / rho_water, when a density is given
   double u_volumetric_m3_per_m3 = 0.0;
@@ -104,7 +147,14 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
                         const ReduceOptions& options);
 
 // The equilibrium table as CSV (one row per specimen point, then the combined points),
-// columns documented in README "Outputs".
+// columns documented in README "Outputs":
+//   record ("specimen" | "combined"), dataset, specimen (combined: ids joined by '+'),
+//   step (1-based), atmosphere, branch, cycle, temperature_C, rh_percent, u_rh_percent,
+//   moisture_kg_per_kg, u_moisture_kg_per_kg, expanded_u_moisture_kg_per_kg, coverage_factor,
+//   between_specimen_sd_kg_per_kg, num_specimens, volumetric_m3_per_m3,
+//   u_volumetric_m3_per_m3, time_to_equilibrium_h, equilibrated, extrapolated, excluded, flags
+// (u_ = standard uncertainty; empty volumetric cells when no bulk density is stated; flags
+// joined by "; "). Fixed decimals, so the text is byte-identical for the same inputs.
 std::string EquilibriumTableCsv(const ReducedIsotherms& reduced);
 
 }  // namespace sorbtrace::reduce

@@ -26,6 +26,7 @@ enum class PageSize { kA4, kLetter };
 // sections and reference conditions. LoadTemplate rejects unknown keys naming the key.
 struct Template {
   std::string name;                  // e.g. "full", "summary"
+  std::string title = "Moisture sorption datasheet";  // printed at the top of every page
   PageSize page_size = PageSize::kA4;
   double margin_mm = 18.0;
   // Lab header fields.
@@ -39,6 +40,9 @@ struct Template {
   // Sections in order: "summary", "isotherm", "models", "pores", "kinetics", "equilibria",
   // "method", "cautions".
   std::vector<std::string> sections;
+  // One-page layout: the summary, a small isotherm figure and the cautions share page 1;
+  // further sections are left out (the summary template).
+  bool compact = false;
   std::vector<pores::ReferenceCondition> reference_conditions;
   std::filesystem::path source_file;
 };

@@ -1,0 +1,249 @@
+#include "fitters/internal/fit_workspace.h"
+
+#include <algorithm>
+#include <cmath>
+#include <utility>
+
+namespace sorbtrace::fitters::internal {
+namespace {
+
+// x = x0 + diag(scale) * delta: a linear re-scaling of the parameter block so that
+// ceres::Covariance sees a Jacobian with unit-norm columns (the rank test then measures the
+// conditioning of the problem, not the units of the parameters). C is returned in the
+// ambient (original) coordinates.
+class DiagonalScaleManifold final : public ceres::Manifold {
+ public:
+  explicit DiagonalScaleManifold(std::vector<double> scale) : scale_(std::move(scale)) {}
+  int AmbientSize() const override { return static_cast<int>(scale_.size()); }
+  int TangentSize() const override { return static_cast<int>(scale_.size()); }
+  bool Plus(const double* x, const double* delta, double* x_plus_delta) const override {
+    for (std::size_t i = 0; i < scale_.size(); ++i) x_plus_delta[i] = x[i] + scale_[i] * delta[i];
+    return true;
+  }
+  bool PlusJacobian(const double* /*x*/, double* jacobian) const override {
+    const std::size_t n = scale_.size();
+    std::fill(jacobian, jacobian + n * n, 0.0);
+    for (std::size_t i = 0; i < n; ++i) jacobian[i * n + i] = scale_[i];
+    return true;
+  }
+  bool Minus(const double* y, const double* x, double* y_minus_x) const override {
+    for (std::size_t i = 0; i < scale_.size(); ++i) y_minus_x[i] = (y[i] - x[i]) / scale_[i];
+    return true;
+  }
+  bool MinusJacobian(const double* /*x*/, double* jacobian) const override {
+    const std::size_t n = scale_.size();
+    std::fill(jacobian, jacobian + n * n, 0.0);
+    for (std::size_t i = 0; i < n; ++i) jacobian[i * n + i] = 1.0 / scale_[i];
+    return true;
+  }
+
+ private:
+  std::vector<double> scale_;
+};
+
+std::unique_ptr<ceres::LossFunction> MakeLoss(LossKind kind, double scale) {
+  switch (kind) {
+    case LossKind::kSquared:
+      return nullptr;
+    case LossKind::kHuber:
+      return std::make_unique<ceres::HuberLoss>(scale);
+    case LossKind::kSoftLOne:
+      return std::make_unique<ceres::SoftLOneLoss>(scale);
+    case LossKind::kCauchy:
+      return std::make_unique<ceres::CauchyLoss>(scale);
+  }
+  return nullptr;
+}
+
+}  // namespace
+
+FitWorkspace::FitWorkspace(const Model& model, std::vector<Observation> observations,
+                           const ModelContext& context, const FitOptions& options)
+    : model_(model),
+      context_(context),
+      options_(options),
+      data_(std::move(observations)),
+      parameters_(static_cast<std::size_t>(model.num_parameters()), 0.0),
+      x0_true_(data_.size(), 0.0),
+      eiv_(data_.size(), 0),
+      loss_(MakeLoss(options.loss, options.loss_scale)) {
+  for (std::size_t i = 0; i < data_.size(); ++i) {
+    eiv_[i] = options_.errors_in_variables && data_[i].sigma_x0 > 0.0 ? 1 : 0;
+    x0_true_[i] = data_[i].x[0];
+  }
+  solver_options_.minimizer_type = ceres::TRUST_REGION;
+  solver_options_.trust_region_strategy_type = ceres::LEVENBERG_MARQUARDT;
+  solver_options_.linear_solver_type = ceres::DENSE_QR;
+  solver_options_.max_num_iterations = options_.max_iterations;
+  solver_options_.function_tolerance = options_.function_tolerance;
+  solver_options_.gradient_tolerance = options_.gradient_tolerance;
+  solver_options_.parameter_tolerance = options_.parameter_tolerance;
+  solver_options_.use_nonmonotonic_steps = options_.use_nonmonotonic_steps;
+  solver_options_.num_threads = 1;  // deterministic and cheap for small problems
+  solver_options_.logging_type = ceres::SILENT;
+  solver_options_.minimizer_progress_to_stdout = false;
+  Build();
+}
+
+int FitWorkspace::num_errors_in_variables() const {
+  return static_cast<int>(std::count(eiv_.begin(), eiv_.end(), 1));
+}
+
+void FitWorkspace::Build() {
+  ceres::Problem::Options problem_options;
+  problem_options.cost_function_ownership = ceres::TAKE_OWNERSHIP;
+  problem_options.loss_function_ownership = ceres::DO_NOT_TAKE_OWNERSHIP;
+  problem_options.manifold_ownership = ceres::DO_NOT_TAKE_OWNERSHIP;
+  problem_ = std::make_unique<ceres::Problem>(problem_options);
+  double* params = parameters_.data();
+  const int p = num_parameters();
+  problem_->AddParameterBlock(params, p);
+  if (options_.use_bounds) {
+    const ModelInfo& info = model_.info();
+    for (int j = 0; j < p; ++j) {
+      const ParameterSpec& spec = info.parameters[static_cast<std::size_t>(j)];
+      if (std::isfinite(spec.lower_bound)) problem_->SetParameterLowerBound(params, j, spec.lower_bound);
+      if (std::isfinite(spec.upper_bound)) problem_->SetParameterUpperBound(params, j, spec.upper_bound);
+    }
+  }
+  referencing_ = true;
+  for (std::size_t i = 0; i < data_.size(); ++i) {
+    if (eiv_[i]) {
+      ceres::CostFunction* cost =
+          model_.NewErrorsInVariablesResidualReferencing(&data_[i], &context_);
+      if (cost == nullptr) {
+        referencing_ = false;
+        cost = model_.NewErrorsInVariablesResidual(data_[i], context_);
+      }
+      problem_->AddResidualBlock(cost, loss_.get(), params, &x0_true_[i]);
+    } else {
+      ceres::CostFunction* cost = model_.NewResidualReferencing(&data_[i], &context_);
+      if (cost == nullptr) {
+        referencing_ = false;
+        cost = model_.NewResidual(data_[i], context_);
+      }
+      problem_->AddResidualBlock(cost, loss_.get(), params);
+    }
+  }
+}
+
+void FitWorkspace::DataChanged() {
+  std::vector<char> eiv(data_.size(), 0);
+  for (std::size_t i = 0; i < data_.size(); ++i) {
+    eiv[i] = options_.errors_in_variables && data_[i].sigma_x0 > 0.0 ? 1 : 0;
+  }
+  if (!referencing_ || eiv != eiv_) {
+    eiv_ = std::move(eiv);
+    Build();
+  }
+}
+
+std::vector<double> FitWorkspace::ClampToBounds(std::vector<double> point) const {
+  if (!options_.use_bounds) return point;
+  const ModelInfo& info = model_.info();
+  for (std::size_t j = 0; j < point.size() && j < info.parameters.size(); ++j) {
+    const ParameterSpec& spec = info.parameters[j];
+    if (spec.lower_bound <= spec.upper_bound && std::isfinite(point[j])) {
+      point[j] = std::clamp(point[j], spec.lower_bound, spec.upper_bound);
+    }
+  }
+  return point;
+}
+
+void FitWorkspace::SetStartingX0(const std::vector<double>* x0_start) {
+  for (std::size_t i = 0; i < data_.size(); ++i) {
+    x0_true_[i] = (x0_start != nullptr && i < x0_start->size()) ? (*x0_start)[i] : data_[i].x[0];
+  }
+}
+
+void FitWorkspace::SetState(const std::vector<double>& parameters,
+                            const std::vector<double>* x0_true) {
+  std::copy(parameters.begin(), parameters.end(), parameters_.begin());
+  SetStartingX0(x0_true);
+}
+
+SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
+                                 const std::vector<double>* x0_start) {
+  SetState(ClampToBounds(start), x0_start);
+  ceres::Solver::Summary summary;
+  ceres::Solve(solver_options_, problem_.get(), &summary);
+  SolveOutcome outcome;
+  outcome.converged = summary.termination_type == ceres::CONVERGENCE ||
+                      summary.termination_type == ceres::USER_SUCCESS;
+  outcome.failed = summary.termination_type == ceres::FAILURE ||
+                   summary.termination_type == ceres::USER_FAILURE;
+  outcome.cost = outcome.failed ? std::numeric_limits<double>::infinity() : summary.final_cost;
+  if (!std::isfinite(outcome.cost)) {
+    outcome.failed = true;
+    outcome.converged = false;
+  }
+  outcome.iterations = summary.num_successful_steps + summary.num_unsuccessful_steps;
+  outcome.message = summary.message;
+  return outcome;
+}
+
+bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* error) {
+  const int p = num_parameters();
+  double* params = parameters_.data();
+  // Column norms of the parameter Jacobian at the current state.
+  ceres::Problem::EvaluateOptions evaluate_options;
+  evaluate_options.parameter_blocks = {params};
+  evaluate_options.num_threads = 1;
+  ceres::CRSMatrix jacobian;
+  if (!problem_->Evaluate(evaluate_options, nullptr, nullptr, nullptr, &jacobian)) {
+    *error = "the Jacobian could not be evaluated at the solution";
+    return false;
+  }
+  std::vector<double> column_norm(static_cast<std::size_t>(p), 0.0);
+  for (int row = 0; row < jacobian.num_rows; ++row) {
+    for (int k = jacobian.rows[static_cast<std::size_t>(row)];
+         k < jacobian.rows[static_cast<std::size_t>(row) + 1]; ++k) {
+      const double v = jacobian.values[static_cast<std::size_t>(k)];
+      column_norm[static_cast<std::size_t>(jacobian.cols[static_cast<std::size_t>(k)])] += v * v;
+    }
+  }
+  std::vector<double> scale(static_cast<std::size_t>(p), 1.0);
+  for (int j = 0; j < p; ++j) {
+    const double norm = std::sqrt(column_norm[static_cast<std::size_t>(j)]);
+    if (!std::isfinite(norm)) {
+      *error = "the Jacobian is not finite at the solution";
+      return false;
+    }
+    if (norm == 0.0) {
+      *error = "the Jacobian column of parameter " +
+               model_.info().parameters[static_cast<std::size_t>(j)].name +
+               " is zero (parameter has no effect on the fit)";
+      return false;
+    }
+    scale[static_cast<std::size_t>(j)] = 1.0 / norm;
+  }
+
+  DiagonalScaleManifold manifold(scale);
+  problem_->SetManifold(params, &manifold);
+  ceres::Covariance::Options covariance_options;
+  covariance_options.algorithm_type = ceres::DENSE_SVD;
+  covariance_options.min_reciprocal_condition_number =
+      options_.covariance_min_reciprocal_condition_number;
+  covariance_options.null_space_rank = 0;
+  covariance_options.num_threads = 1;
+  covariance_options.apply_loss_function = true;
+  ceres::Covariance covariance_engine(covariance_options);
+  std::vector<std::pair<const double*, const double*>> blocks = {{params, params}};
+  bool ok = covariance_engine.Compute(blocks, problem_.get());
+  if (ok) {
+    covariance->resize(p, p);
+    Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> block(p, p);
+    ok = covariance_engine.GetCovarianceBlock(params, params, block.data());
+    *covariance = block;
+  }
+  problem_->SetManifold(params, nullptr);
+  if (!ok) {
+    *error =
+        "the Jacobian is rank deficient or too ill-conditioned at the solution (scaled "
+        "sigma_min/sigma_max below sqrt(" +
+        std::to_string(options_.covariance_min_reciprocal_condition_number) + "))";
+  }
+  return ok;
+}
+
+}  // namespace sorbtrace::fitters::internal

@@ -1,0 +1,75 @@
+// One ceres::Problem over a data set, re-solved from many starts and for many resampled data
+// sets without rebuilding it: the residuals read the observations by pointer (when the model
+// supports it), so the data can be edited in place. Internal to fitters/.
+#pragma once
+
+#include <ceres/ceres.h>
+
+#include <Eigen/Core>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "fitters/fitter.h"
+#include "fitters/model.h"
+
+namespace sorbtrace::fitters::internal {
+
+// Outcome of one solve.
+struct SolveOutcome {
+  bool converged = false;  // Ceres reported CONVERGENCE
+  bool failed = false;     // Ceres reported FAILURE (e.g. non-finite residuals)
+  double cost = 0.0;       // 0.5 * sum of squared (robustified) residuals
+  int iterations = 0;
+  std::string message;
+};
+
+class FitWorkspace {
+ public:
+  FitWorkspace(const Model& model, std::vector<Observation> observations,
+               const ModelContext& context, const FitOptions& options);
+  FitWorkspace(const FitWorkspace&) = delete;
+  FitWorkspace& operator=(const FitWorkspace&) = delete;
+
+  int num_observations() const { return static_cast<int>(data_.size()); }
+  int num_parameters() const { return static_cast<int>(parameters_.size()); }
+  int num_errors_in_variables() const;
+
+  // The data the residuals read. After editing call DataChanged().
+  std::vector<Observation>& data() { return data_; }
+  void DataChanged();
+
+  // Solves from `start` (moved inside the bounds); x0_start gives the starting true x[0]
+  // of every point for errors in variables (nullptr: the observed x[0]).
+  SolveOutcome Solve(const std::vector<double>& start, const std::vector<double>* x0_start);
+
+  // Current state (after Solve, the solution).
+  const std::vector<double>& parameters() const { return parameters_; }
+  const std::vector<double>& x0_true() const { return x0_true_; }
+  void SetState(const std::vector<double>& parameters, const std::vector<double>* x0_true);
+
+  // Moves a point inside the model bounds (if FitOptions::use_bounds).
+  std::vector<double> ClampToBounds(std::vector<double> point) const;
+
+  // (J'J)^-1 of the parameter block at the current state, unscaled, by ceres::Covariance
+  // (dense SVD of the column-equilibrated Jacobian). False + *error if rank deficient.
+  bool ComputeCovariance(Eigen::MatrixXd* covariance, std::string* error);
+
+ private:
+  void Build();
+  void SetStartingX0(const std::vector<double>* x0_start);
+
+  const Model& model_;
+  ModelContext context_;
+  FitOptions options_;
+  std::vector<Observation> data_;
+  std::vector<double> parameters_;
+  std::vector<double> x0_true_;  // one per point; a parameter block only where eiv_[i]
+  std::vector<char> eiv_;        // point i fitted with errors in variables
+  bool referencing_ = true;      // residuals read data_ by pointer
+  std::unique_ptr<ceres::LossFunction> loss_;
+  std::unique_ptr<ceres::Problem> problem_;
+  ceres::Solver::Options solver_options_;
+};
+
+}  // namespace sorbtrace::fitters::internal

@@ -1,0 +1,83 @@
+// Durner multimodal retention curves (superposed van Genuchten pore systems) as isotherms.
+//
+//   u = u_sat sum_i w_i [1 + (alpha_i p_c)^n_i]^(-m_i),  m_i = 1 - 1/n_i,  sum_i w_i = 1,
+// p_c from a_w (x[0] = rh_fraction) by the Kelvin equation, exactly as in van_genuchten.h
+// (same precision limits near saturation).
+// Source: W. Durner, Water Resour. Res. 30 (1994) 211.
+//
+// Parametrisation (chosen so that the solver's box bounds enforce every constraint):
+//  * Weights: "durner2" has w1 in [0, 1] and w2 = 1 - w1. "durner3" uses stick breaking:
+//    w1 in [0, 1], v2 in [0, 1], w2 = (1 - w1) v2, w3 = (1 - w1)(1 - v2); any (w1, v2) in the box
+//    gives weights >= 0 summing to 1, and every such weight triple has one (w1, v2).
+//  * Ordering (against label switching, i.e. the same curve with pore systems renumbered):
+//    system 1 is the one with the largest alpha (coarsest pores, drains first, i.e. at the
+//    highest a_w); the others are given as non-negative decade offsets
+//      log10_alpha2 = log10_alpha1 - dlog10_alpha2,  log10_alpha3 = log10_alpha2 - dlog10_alpha3,
+//    dlog10_alpha_i in [0, 12]. So alpha1 >= alpha2 >= alpha3 always, and a fit cannot swap
+//    labels. (Equal alphas, offset 0, leave the weights undetermined: the fit is then flagged.)
+// Parameters "durner2" (6):
+//   0 u_sat kg/kg [0, 10]; 1 w1 1 [0, 1]; 2 log10_alpha1 log10(1/Pa) [-12, 0]; 3 n1 1 [1, 20];
+//   4 dlog10_alpha2 decades [0, 12]; 5 n2 1 [1, 20]
+// Parameters "durner3" (9):
+//   0 u_sat; 1 w1; 2 v2 1 [0, 1]; 3 log10_alpha1; 4 n1; 5 dlog10_alpha2; 6 n2;
+//   7 dlog10_alpha3 decades [0, 12]; 8 n3
+// Starting values: the best van Genuchten starts (van_genuchten.h) split into pore systems
+// spread by 1..3 decades around its alpha, ranked by weighted sum of squares.
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "fitters/model.h"
+#include "fitters/models/van_genuchten.h"
+
+namespace sorbtrace::fitters::models {
+
+struct Durner2Equation {
+  static constexpr int kNumParameters = 6;
+  static constexpr int kNumInputs = 1;
+  static ModelInfo Info();
+  template <typename T>
+  static T Evaluate(const T* p, const T* x, const ModelContext& context) {
+    const double factor = KelvinPressureFactor_Pa(context.temperature_K);
+    const T& w1 = p[1];
+    const T log10_alpha2 = p[2] - p[4];
+    const T s1 = VanGenuchtenSaturationAtRh(x[0], p[2], p[3], T(1.0 - 1.0 / p[3]), factor);
+    const T s2 = VanGenuchtenSaturationAtRh(x[0], log10_alpha2, p[5], T(1.0 - 1.0 / p[5]), factor);
+    return p[0] * (w1 * s1 + (1.0 - w1) * s2);
+  }
+  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
+                                                         const ModelContext& context);
+  static std::vector<std::string> PhysicalFlags(const double* params);
+};
+
+struct Durner3Equation {
+  static constexpr int kNumParameters = 9;
+  static constexpr int kNumInputs = 1;
+  static ModelInfo Info();
+  template <typename T>
+  static T Evaluate(const T* p, const T* x, const ModelContext& context) {
+    const double factor = KelvinPressureFactor_Pa(context.temperature_K);
+    const T& w1 = p[1];
+    const T w2 = (1.0 - w1) * p[2];
+    const T w3 = (1.0 - w1) * (1.0 - p[2]);
+    const T log10_alpha2 = p[3] - p[5];
+    const T log10_alpha3 = log10_alpha2 - p[7];
+    const T s1 = VanGenuchtenSaturationAtRh(x[0], p[3], p[4], T(1.0 - 1.0 / p[4]), factor);
+    const T s2 = VanGenuchtenSaturationAtRh(x[0], log10_alpha2, p[6], T(1.0 - 1.0 / p[6]), factor);
+    const T s3 = VanGenuchtenSaturationAtRh(x[0], log10_alpha3, p[8], T(1.0 - 1.0 / p[8]), factor);
+    return p[0] * (w1 * s1 + w2 * s2 + w3 * s3);
+  }
+  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
+                                                         const ModelContext& context);
+  static std::vector<std::string> PhysicalFlags(const double* params);
+};
+
+// Weights (w1, w2, w3) of durner3 from its parameters (for reports).
+std::vector<double> Durner3Weights(const double* params);
+
+// The registered models "durner2" and "durner3".
+const Model& Durner2Model();
+const Model& Durner3Model();
+
+}  // namespace sorbtrace::fitters::models

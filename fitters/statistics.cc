@@ -1,0 +1,134 @@
+#include "fitters/internal/statistics.h"
+
+#include <algorithm>
+#include <boost/math/distributions/chi_squared.hpp>
+#include <boost/math/distributions/normal.hpp>
+#include <boost/math/distributions/students_t.hpp>
+#include <cmath>
+#include <limits>
+#include <numeric>
+
+namespace sorbtrace::fitters::internal {
+namespace {
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+}
+
+RunsTestResult WaldWolfowitzRunsTest(const std::vector<double>& sequence) {
+  RunsTestResult result;
+  int previous_sign = 0;
+  for (double value : sequence) {
+    const int sign = value > 0.0 ? 1 : (value < 0.0 ? -1 : 0);
+    if (sign == 0) continue;
+    if (sign > 0) ++result.num_positive;
+    if (sign < 0) ++result.num_negative;
+    if (sign != previous_sign) ++result.runs;
+    previous_sign = sign;
+  }
+  const double n1 = result.num_positive;
+  const double n2 = result.num_negative;
+  const double n = n1 + n2;
+  if (n1 < 1.0 || n2 < 1.0 || n < 3.0) return result;
+  const double mean = 2.0 * n1 * n2 / n + 1.0;
+  const double variance = 2.0 * n1 * n2 * (2.0 * n1 * n2 - n) / (n * n * (n - 1.0));
+  if (!(variance > 0.0)) return result;
+  result.defined = true;
+  result.z = (result.runs - mean) / std::sqrt(variance);
+  result.p_value = std::min(1.0, std::erfc(std::abs(result.z) / std::sqrt(2.0)));
+  return result;
+}
+
+double CoverageFactor(WeightConvention convention, int degrees_of_freedom,
+                      double confidence_level) {
+  if (!(confidence_level > 0.0 && confidence_level < 1.0)) return kNaN;
+  const double upper = 0.5 * (1.0 + confidence_level);
+  if (convention == WeightConvention::kAbsolute) {
+    return boost::math::quantile(boost::math::normal_distribution<double>(0.0, 1.0), upper);
+  }
+  if (degrees_of_freedom < 1) return kNaN;
+  return boost::math::quantile(
+      boost::math::students_t_distribution<double>(static_cast<double>(degrees_of_freedom)),
+      upper);
+}
+
+double ChiSquareUpperTail(double value, int degrees_of_freedom) {
+  if (degrees_of_freedom < 1 || !std::isfinite(value) || value < 0.0) return kNaN;
+  return boost::math::cdf(boost::math::complement(
+      boost::math::chi_squared_distribution<double>(static_cast<double>(degrees_of_freedom)),
+      value));
+}
+
+double Percentile(std::vector<double>* values, double q) {
+  if (values->empty()) return kNaN;
+  std::sort(values->begin(), values->end());
+  const double position = std::clamp(q, 0.0, 1.0) * static_cast<double>(values->size() - 1);
+  const std::size_t below = static_cast<std::size_t>(std::floor(position));
+  const std::size_t above = std::min(below + 1, values->size() - 1);
+  const double fraction = position - static_cast<double>(below);
+  return (*values)[below] + fraction * ((*values)[above] - (*values)[below]);
+}
+
+FitStatistics ComputeStatistics(const std::vector<Observation>& observations,
+                                const std::vector<double>& residuals_y, double x_terms,
+                                int num_parameters) {
+  FitStatistics s;
+  const std::size_t count = observations.size();
+  s.num_observations = static_cast<int>(count);
+  s.num_parameters = num_parameters;
+  s.degrees_of_freedom = s.num_observations - num_parameters;
+  const double n = static_cast<double>(count);
+  const double k = static_cast<double>(num_parameters);
+
+  double sum_w = 0.0, sum_wy = 0.0, weighted_ssr_y = 0.0, relative_sum = 0.0;
+  int relative_count = 0;
+  for (std::size_t i = 0; i < count; ++i) {
+    const Observation& o = observations[i];
+    const double w = 1.0 / (o.sigma_y * o.sigma_y);
+    const double r = residuals_y[i];
+    sum_w += w;
+    sum_wy += w * o.y;
+    weighted_ssr_y += w * r * r;
+    s.ssr += r * r;
+    if (o.y != 0.0) {
+      relative_sum += std::abs(r) / std::abs(o.y);
+      ++relative_count;
+    }
+  }
+  const double y_mean_w = sum_w > 0.0 ? sum_wy / sum_w : 0.0;
+  double sst_w = 0.0;
+  for (const Observation& o : observations) {
+    const double d = o.y - y_mean_w;
+    sst_w += d * d / (o.sigma_y * o.sigma_y);
+  }
+  s.weighted_ssr = weighted_ssr_y + x_terms;
+  s.rmse = count > 0 ? std::sqrt(s.ssr / n) : kNaN;
+  s.residual_std = s.degrees_of_freedom > 0
+                       ? std::sqrt(s.weighted_ssr / static_cast<double>(s.degrees_of_freedom))
+                       : kNaN;
+  s.r_squared = sst_w > 0.0 ? 1.0 - weighted_ssr_y / sst_w : kNaN;
+  s.adjusted_r_squared =
+      s.degrees_of_freedom > 0 ? 1.0 - (1.0 - s.r_squared) * (n - 1.0) / (n - k) : kNaN;
+  s.mean_relative_deviation_percent =
+      relative_count > 0 ? 100.0 * relative_sum / static_cast<double>(relative_count) : kNaN;
+  if (count > 0) {
+    const double log_term = n * std::log(s.weighted_ssr / n);
+    s.aic = log_term + 2.0 * k;
+    s.aicc = (n - k - 1.0) > 0.0 ? s.aic + 2.0 * k * (k + 1.0) / (n - k - 1.0) : kNaN;
+    s.bic = log_term + k * std::log(n);
+  }
+  s.chi_square_p_value = ChiSquareUpperTail(s.weighted_ssr, s.degrees_of_freedom);
+
+  // Runs of residual signs, points ordered by x (x[0], then x[1]); stable for ties.
+  std::vector<std::size_t> order(count);
+  std::iota(order.begin(), order.end(), std::size_t{0});
+  std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
+    return observations[a].x < observations[b].x;
+  });
+  std::vector<double> ordered(count);
+  for (std::size_t i = 0; i < count; ++i) ordered[i] = residuals_y[order[i]];
+  const RunsTestResult runs = WaldWolfowitzRunsTest(ordered);
+  s.runs = runs.runs;
+  s.runs_test_p_value = runs.p_value;
+  return s;
+}
+
+}  // namespace sorbtrace::fitters::internal

@@ -1,0 +1,502 @@
+// Equilibrate stage: equilibrium per humidity step, dry reference masses, plot traces.
+#include "pipeline/equilibrate/equilibrate.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cctype>
+#include <cmath>
+#include <limits>
+#include <map>
+#include <stdexcept>
+
+#include "pipeline/equilibrate/criteria.h"
+#include "pipeline/equilibrate/exponential_tail.h"
+#include "pipeline/physics/physics.h"
+
+namespace sorbtrace::equilibrate {
+namespace {
+
+constexpr double kPercent = 100.0;
+constexpr double kSecondsPerHour = 3600.0;
+constexpr double kSecondsPerMinute = 60.0;
+// Half-width a of a rectangular distribution -> standard uncertainty a / sqrt(3)
+// (JCGM 100:2008, 4.3.7).
+const double kSqrt3 = std::sqrt(3.0);
+// Step of the central difference for d ln p_s / dT [K].
+constexpr double kTemperatureStep_K = 0.01;
+
+std::string Lower(std::string_view text) {
+  std::string out(text);
+  for (char& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return out;
+}
+
+std::string FormatPercent(double fraction) { return fmt::format("{:.4g} %", fraction * kPercent); }
+
+// d(rh)/dT at constant vapour pressure: what a specimen at a temperature different from the
+// air (or sensor) temperature sees: rh(T) = p_v / p_s(T), so d rh / dT = -rh d ln p_s / dT.
+double RhTemperatureCoefficientAtConstantVapourPressure(double rh_fraction, double temperature_K) {
+  const double up = physics::SaturationPressureOverWater_Pa(temperature_K + kTemperatureStep_K);
+  const double down = physics::SaturationPressureOverWater_Pa(temperature_K - kTemperatureStep_K);
+  return -rh_fraction * (std::log(up) - std::log(down)) / (2.0 * kTemperatureStep_K);
+}
+
+// RH of a desiccator step from its atmosphere.
+void SetDesiccatorRh(const ingest::DesiccatorStep& step, const ingest::JobSpec& job,
+                     const SourceLocation& where, EquilibriumPoint& point) {
+  if (step.salt) {
+    try {
+      const physics::SaltHumidity salt = physics::SaltSolutionHumidity(*step.salt, step.temperature_K);
+      point.rh_fraction = salt.rh_fraction;
+      point.u_rh_fraction = salt.standard_uncertainty_fraction;
+      point.drh_dT_per_K = salt.drh_dT_per_K;
+      point.rh_source = fmt::format("{}, {}", physics::CanonicalSaltName(*step.salt),
+                                    physics::SaltHumidityMethod(*step.salt));
+    } catch (const std::exception& error) {
+      throw InputError(where,
+                       fmt::format("no humidity for salt '{}' at {:.2f} degC: {}", *step.salt,
+                                   physics::KelvinToCelsius(step.temperature_K), error.what()),
+                       "a salt of Greenspan (1977) inside its tabulated temperature range");
+    }
+    return;
+  }
+  if (step.branch == ingest::Branch::kDrying) {
+    point.rh_fraction = 0.0;
+    point.u_rh_fraction = 0.0;
+    point.rh_source = Lower(step.atmosphere) == "oven" ? "oven drying" : "desiccant (dry reference)";
+    return;
+  }
+  if (step.set_rh_fraction) {
+    point.rh_fraction = *step.set_rh_fraction;
+    point.u_rh_fraction = job.rh_sensor_standard_uncertainty_fraction;
+    point.drh_dT_per_K = 0.0;
+    point.rh_source = "stated humidity, sensor uncertainty";
+    return;
+  }
+  throw InputError(where, fmt::format("atmosphere '{}' gives no humidity", step.atmosphere),
+                   "a salt, desiccant, oven or rh:<number>%");
+}
+
+// Decimates a trace to at most kMaxTracePoints by averaging groups of consecutive points.
+std::vector<TracePoint> Decimate(const std::vector<TracePoint>& points) {
+  const std::size_t n = points.size();
+  const std::size_t max_points = static_cast<std::size_t>(kMaxTracePoints);
+  if (n <= max_points) return points;
+  const std::size_t group = (n + max_points - 1) / max_points;
+  std::vector<TracePoint> out;
+  out.reserve(n / group + 1);
+  for (std::size_t first = 0; first < n; first += group) {
+    const std::size_t last = std::min(n, first + group);
+    TracePoint mean;
+    for (std::size_t i = first; i < last; ++i) {
+      mean.time_s += points[i].time_s;
+      mean.mass_g += points[i].mass_g;
+      mean.rh_fraction += points[i].rh_fraction;
+    }
+    const double count = static_cast<double>(last - first);
+    mean.time_s /= count;
+    mean.mass_g /= count;
+    mean.rh_fraction /= count;
+    out.push_back(mean);
+  }
+  return out;
+}
+
+const ingest::SpecimenSpec* FindSpecimen(const ingest::JobSpec& job, const std::string& id) {
+  for (const auto& specimen : job.specimens) {
+    if (specimen.id == id) return &specimen;
+  }
+  return nullptr;
+}
+
+void CountAndWarn(const EquilibriumPoint& point, EquilibrateSummary& summary) {
+  ++summary.num_steps;
+  if (point.extrapolated) {
+    ++summary.num_extrapolated;
+  } else if (point.equilibrated) {
+    ++summary.num_equilibrated;
+  } else {
+    ++summary.num_not_equilibrated;
+  }
+  if (!point.equilibrated || point.extrapolated) {
+    std::string message = fmt::format("{} / {} / step {} ({}):", point.dataset_id, point.specimen_id,
+                                      point.step_index + 1, point.step_label);
+    for (const auto& flag : point.flags) message += " " + flag;
+    summary.warnings.push_back(Diagnostic{Severity::kWarning, point.where, message, {}});
+  }
+}
+
+// ---- Desiccator ------------------------------------------------------------------------
+
+void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest::JobSpec& job,
+                           const EquilibrateOptions& options, EquilibriumSet& set) {
+  std::map<std::string, Trace> traces;  // by specimen, emitted in first-appearance order
+  std::vector<std::string> order;
+  for (const ingest::DesiccatorStep& step : series.steps) {
+    EquilibriumPoint point;
+    point.dataset_id = series.dataset_id;
+    point.specimen_id = step.specimen_id;
+    point.step_index = step.step_index;
+    point.step_label = step.salt ? physics::CanonicalSaltName(*step.salt) : step.atmosphere;
+    point.method = ingest::Method::kDesiccator;
+    point.branch = step.branch;
+    point.cycle = 0;
+    point.temperature_K = step.temperature_K;
+    point.where = SourceLocation{series.file, step.first_line, 0};
+    point.num_readings = static_cast<int>(step.weighings.size());
+    if (step.weighings.empty()) {
+      throw InputError(point.where, "step has no weighings", "at least 2 weighings per step");
+    }
+    SetDesiccatorRh(step, job, point.where, point);
+
+    const internal::ConstantMassResult criterion =
+        internal::EvaluateConstantMass(step.weighings, options);
+    const ingest::Weighing& first = step.weighings.front();
+    const ingest::Weighing& last = step.weighings.back();
+    point.mass_g = last.mass_g;
+    point.last_change_fraction = criterion.change_fraction;
+    point.u_mass_drift_g = std::abs(criterion.last_change_g) / kSqrt3;
+    point.equilibrated = criterion.met;
+    if (criterion.met) {
+      point.time_to_equilibrium_s =
+          step.weighings[static_cast<std::size_t>(criterion.first_met_index)].time_s - first.time_s;
+    } else {
+      point.time_to_equilibrium_s = last.time_s - first.time_s;
+      if (criterion.chain_length < options.min_weighings) {
+        point.flags.push_back(fmt::format(
+            "not equilibrated: only {} weighing(s) at least {:.4g} h apart ({} needed)",
+            criterion.chain_length, options.min_weighing_interval_s / kSecondsPerHour,
+            options.min_weighings));
+      } else {
+        point.flags.push_back(fmt::format(
+            "not equilibrated: last change {:.3f} % of mass over {:.4g} h (limit {:.3g} %)",
+            criterion.change_fraction * kPercent, criterion.chain_span_s / kSecondsPerHour,
+            options.mass_change_limit_fraction * kPercent));
+      }
+    }
+
+    auto [it, inserted] = traces.try_emplace(step.specimen_id);
+    if (inserted) {
+      order.push_back(step.specimen_id);
+      it->second.dataset_id = series.dataset_id;
+      it->second.specimen_id = step.specimen_id;
+    }
+    for (const ingest::Weighing& weighing : step.weighings) {
+      it->second.points.push_back(TracePoint{weighing.time_s, weighing.mass_g, point.rh_fraction});
+    }
+    if (criterion.met) {
+      it->second.equilibrium_times_s.push_back(
+          step.weighings[static_cast<std::size_t>(criterion.first_met_index)].time_s);
+    }
+    CountAndWarn(point, set.summary);
+    set.points.push_back(std::move(point));
+  }
+  for (const std::string& id : order) {
+    Trace trace = std::move(traces[id]);
+    trace.points = Decimate(trace.points);
+    set.traces.push_back(std::move(trace));
+  }
+}
+
+// ---- Vapour-sorption log ---------------------------------------------------------------
+
+// Time at which the fitted tail's rate falls below the limit (searched forward from `from`).
+double ProjectedEquilibriumTime(const internal::TailFit& fit, double from_s, double limit_g_per_s) {
+  auto below = [&](double t) { return std::abs(fit.Slope_g_per_s(t)) < limit_g_per_s; };
+  if (below(from_s)) return from_s;
+  double step = std::max(1.0, fit.slowest_tau_s * 0.1);
+  double hi = from_s + step;
+  constexpr int kMaxDoublings = 60;
+  for (int i = 0; i < kMaxDoublings && !below(hi); ++i) {
+    step *= 2.0;
+    hi = from_s + step;
+  }
+  double lo = from_s;
+  constexpr int kBisections = 60;
+  for (int i = 0; i < kBisections; ++i) {
+    const double mid = 0.5 * (lo + hi);
+    (below(mid) ? hi : lo) = mid;
+  }
+  return hi;
+}
+
+void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
+                    const ingest::DataSetSpec* dataset, const EquilibrateOptions& options,
+                    EquilibriumSet& set) {
+  // Reference mass for relative rates: stated dry mass, else the lowest block mass.
+  double reference_mass_g = 0.0;
+  const ingest::SpecimenSpec* specimen = FindSpecimen(job, log.specimen_id);
+  if (specimen != nullptr && specimen->dry_mass_g) {
+    reference_mass_g = *specimen->dry_mass_g;
+  } else {
+    reference_mass_g = std::numeric_limits<double>::max();
+    for (const auto& step : log.steps) {
+      for (const auto& block : step.blocks) reference_mass_g = std::min(reference_mass_g, block.mass_g);
+    }
+  }
+  Trace trace;
+  trace.dataset_id = log.dataset_id;
+  trace.specimen_id = log.specimen_id;
+  for (const ingest::VaporLogStep& step : log.steps) {
+    EquilibriumPoint point;
+    point.dataset_id = log.dataset_id;
+    point.specimen_id = log.specimen_id;
+    point.step_index = step.step_index;
+    point.step_label = "set " + FormatPercent(step.set_rh_fraction);
+    point.method = ingest::Method::kVaporLog;
+    point.branch = step.branch;
+    point.cycle = step.cycle;
+    point.where = SourceLocation{log.file, static_cast<int>(step.first_line), 0};
+    point.num_readings = static_cast<int>(step.blocks.size());
+    for (const auto& block : step.blocks) {
+      trace.points.push_back(TracePoint{block.time_s, block.mass_g, block.rh_measured_fraction});
+    }
+    if (step.blocks.size() < 3) {
+      throw InputError(point.where,
+                       fmt::format("step at set point {} has only {} block mean(s)",
+                                   FormatPercent(step.set_rh_fraction), step.blocks.size()),
+                       "a step long enough to judge equilibrium (at least 3 block means)");
+    }
+    const std::span<const ingest::LogBlock> blocks(step.blocks);
+    const internal::RateCriterionResult rate =
+        internal::EvaluateRateCriterion(blocks, step.start_time_s, reference_mass_g, options);
+    point.final_rate_fraction_per_min = rate.final_rate_fraction_per_min;
+
+    // Means over the final window: mass, measured RH, temperature.
+    double mass = 0.0, rh = 0.0, rh2 = 0.0, temperature = 0.0;
+    const std::size_t first = rate.window_first;
+    const double count = static_cast<double>(blocks.size() - first);
+    for (std::size_t i = first; i < blocks.size(); ++i) {
+      mass += blocks[i].mass_g;
+      rh += blocks[i].rh_measured_fraction;
+      rh2 += blocks[i].rh_measured_fraction * blocks[i].rh_measured_fraction;
+      temperature += blocks[i].temperature_K;
+    }
+    mass /= count;
+    rh /= count;
+    temperature /= count;
+    const double rh_variance = count > 1.0 ? std::max(0.0, (rh2 - count * rh * rh) / (count - 1.0)) : 0.0;
+    point.temperature_K = temperature > 0.0                ? temperature
+                          : step.temperature_mean_K > 0.0 ? step.temperature_mean_K
+                          : dataset != nullptr             ? dataset->temperature_K
+                                                           : 0.0;
+    point.rh_fraction = rh;
+    // Sensor (Type B) combined with the standard error of the window mean (Type A).
+    point.u_rh_fraction = std::sqrt(job.rh_sensor_standard_uncertainty_fraction *
+                                        job.rh_sensor_standard_uncertainty_fraction +
+                                    rh_variance / count);
+    point.rh_source = fmt::format("sensor, mean of the last {:.4g} min",
+                                  (blocks.back().time_s - blocks[first].time_s) / kSecondsPerMinute);
+    point.drh_dT_per_K = RhTemperatureCoefficientAtConstantVapourPressure(rh, point.temperature_K);
+
+    const double end_s = blocks.back().time_s;
+    if (rate.met) {
+      point.equilibrated = true;
+      point.mass_g = mass;
+      point.time_to_equilibrium_s = rate.first_met_time_s - step.start_time_s;
+      point.u_mass_drift_g = std::abs(rate.final_slope_g_per_s) * options.rate_window_s / kSqrt3;
+      trace.equilibrium_times_s.push_back(rate.first_met_time_s);
+    } else {
+      point.mass_g = mass;
+      point.time_to_equilibrium_s = end_s - step.start_time_s;
+      point.u_mass_drift_g = std::abs(rate.final_slope_g_per_s) * options.rate_window_s / kSqrt3;
+      std::string reason = rate.window_complete
+                               ? fmt::format("final rate {:.4f} %/min (limit {:.4g} %/min)",
+                                             rate.final_rate_fraction_per_min * kPercent,
+                                             options.rate_limit_fraction_per_min * kPercent)
+                               : fmt::format("step shorter than the {:.4g} min rate window",
+                                             options.rate_window_s / kSecondsPerMinute);
+      std::string rejected;
+      if (options.extrapolate_unfinished_steps) {
+        const double tail_start = end_s - options.tail_fraction * (end_s - step.start_time_s);
+        std::vector<double> t, m;
+        for (const auto& block : blocks) {
+          if (block.time_s >= tail_start) {
+            t.push_back(block.time_s);
+            m.push_back(block.mass_g);
+          }
+        }
+        if (static_cast<int>(t.size()) < options.min_tail_points) {
+          rejected = fmt::format("tail has {} block means ({} needed)", t.size(), options.min_tail_points);
+        } else {
+          const internal::TailFit fit = internal::FitExponentialTail(t, m, options.exponential_terms);
+          const double tail_span = t.back() - t.front();
+          if (!fit.ok) {
+            rejected = fit.message;
+          } else if (fit.slowest_tau_s > options.max_tau_to_tail_ratio * tail_span) {
+            rejected = fmt::format("time constant {:.3g} h exceeds {:.3g} x the fitted tail ({:.3g} h)",
+                                   fit.slowest_tau_s / kSecondsPerHour, options.max_tau_to_tail_ratio,
+                                   tail_span / kSecondsPerHour);
+          } else {
+            point.equilibrated = true;
+            point.extrapolated = true;
+            point.mass_g = fit.m_inf_g;
+            point.u_mass_extrapolation_g = fit.u_m_inf_g;
+            point.u_mass_drift_g = 0.0;
+            const double limit_g_per_s =
+                options.rate_limit_fraction_per_min * reference_mass_g / kSecondsPerMinute;
+            point.time_to_equilibrium_s =
+                ProjectedEquilibriumTime(fit, end_s, limit_g_per_s) - step.start_time_s;
+            point.flags.push_back(fmt::format(
+                "extrapolated: {}; {}-term exponential fit of the last {:.3g} h, tau = {:.3g} h, "
+                "asymptote {:+.5f} g from the last mean (u = {:.2g} g)",
+                reason, fit.terms, tail_span / kSecondsPerHour, fit.slowest_tau_s / kSecondsPerHour,
+                fit.m_inf_g - mass, fit.u_m_inf_g));
+            if (!fit.message.empty()) point.flags.push_back(fit.message);
+          }
+        }
+      } else {
+        rejected = "extrapolation disabled";
+      }
+      if (!point.extrapolated) {
+        point.flags.push_back(fmt::format("not equilibrated: {}; not extrapolated: {}", reason, rejected));
+      }
+    }
+    CountAndWarn(point, set.summary);
+    set.points.push_back(std::move(point));
+  }
+  trace.points = Decimate(trace.points);
+  set.traces.push_back(std::move(trace));
+}
+
+// ---- Dry masses ------------------------------------------------------------------------
+
+std::string DryMassMethodText(ingest::DryMassMethod method, const ingest::JobSpec& job) {
+  switch (method) {
+    case ingest::DryMassMethod::kOvenDrying:
+      return fmt::format("oven drying at {:.4g} degC (ISO 12570)",
+                         physics::KelvinToCelsius(job.drying_temperature_K));
+    case ingest::DryMassMethod::kDesiccantStep:
+      return "equilibrium over desiccant / at 0 % RH";
+    case ingest::DryMassMethod::kFinalDryingStep:
+      return "final drying step";
+  }
+  return "unknown";
+}
+
+void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
+  std::vector<std::string> ids;
+  for (const auto& specimen : job.specimens) ids.push_back(specimen.id);
+  for (const auto& point : set.points) {
+    if (std::find(ids.begin(), ids.end(), point.specimen_id) == ids.end()) ids.push_back(point.specimen_id);
+  }
+  for (const std::string& id : ids) {
+    std::vector<const EquilibriumPoint*> drying;
+    bool has_data = false;
+    for (const auto& point : set.points) {
+      if (point.specimen_id != id) continue;
+      has_data = true;
+      if (point.branch == ingest::Branch::kDrying) drying.push_back(&point);
+    }
+    const ingest::SpecimenSpec* spec = FindSpecimen(job, id);
+    DryMass dry;
+    dry.specimen_id = id;
+    dry.method = DryMassMethodText(job.dry_mass_method, job);
+    const EquilibriumPoint* reference = nullptr;
+    if (job.dry_mass_method == ingest::DryMassMethod::kOvenDrying && spec != nullptr &&
+        spec->dry_mass_g) {
+      dry.mass_g = *spec->dry_mass_g;
+      dry.stated = true;
+      dry.method += ", stated in the job file";
+    } else if (!drying.empty()) {
+      if (job.dry_mass_method == ingest::DryMassMethod::kOvenDrying) {
+        for (const EquilibriumPoint* point : drying) {
+          if (reference == nullptr && Lower(point->step_label) == "oven") reference = point;
+        }
+        if (reference == nullptr) reference = drying.front();
+      } else if (job.dry_mass_method == ingest::DryMassMethod::kDesiccantStep) {
+        reference = drying.front();
+      } else {
+        reference = drying.back();
+      }
+    } else if (spec != nullptr && spec->dry_mass_g) {
+      dry.mass_g = *spec->dry_mass_g;
+      dry.stated = true;
+      dry.method = "stated in the job file";
+    }
+    if (!dry.stated && reference == nullptr) {
+      if (!has_data) {
+        set.summary.warnings.push_back(Diagnostic{
+            Severity::kWarning, SourceLocation{job.job_file.string(), 0, 0},
+            fmt::format("specimen '{}' has no data in any data set", id), {}});
+        continue;
+      }
+      throw InputError(SourceLocation{job.job_file.string(), 0, 0},
+                       fmt::format("dry mass missing for specimen '{}'", id),
+                       "dry_mass_g in its [[specimen]] entry or a drying step matching "
+                       "dry_mass_method");
+    }
+    if (reference != nullptr) {
+      dry.mass_g = reference->mass_g;
+      dry.dataset_id = reference->dataset_id;
+      dry.step_index = reference->step_index;
+      dry.equilibrated = reference->equilibrated;
+      dry.u_mass_g = std::sqrt(reference->u_mass_extrapolation_g * reference->u_mass_extrapolation_g +
+                               reference->u_mass_drift_g * reference->u_mass_drift_g);
+      dry.method += fmt::format(" ({} step {})", reference->dataset_id, reference->step_index + 1);
+      if (!dry.equilibrated) {
+        set.summary.warnings.push_back(Diagnostic{
+            Severity::kWarning, reference->where,
+            fmt::format("dry mass of specimen '{}' is from a step that did not reach constant mass", id),
+            {}});
+      }
+    }
+    // Other drying steps of the same specimen: a change of dry mass means the material changed
+    // (or was not dried to constant mass); worth a warning, not an error.
+    for (const EquilibriumPoint* point : drying) {
+      if (point == reference) continue;
+      const double change = (point->mass_g - dry.mass_g) / dry.mass_g;
+      // Compared with 0.1 %, the constant-mass limit of ISO 12571 / ISO 12570 (from memory).
+      constexpr double kDryMassChangeWarning = 0.001;
+      if (std::abs(change) > kDryMassChangeWarning) {
+        set.summary.warnings.push_back(Diagnostic{
+            Severity::kWarning, point->where,
+            fmt::format("specimen '{}': drying step {} differs from the dry reference mass by {:+.3f} %",
+                        id, point->step_index + 1, change * kPercent),
+            {}});
+      }
+    }
+    set.dry_masses.push_back(std::move(dry));
+  }
+}
+
+}  // namespace
+
+EquilibriumSet Equilibrate(const ingest::IngestResult& ingested, const EquilibrateOptions& options) {
+  std::string error;
+  if (!options.IsValid(&error)) {
+    throw InputError(SourceLocation{ingested.job.job_file.string(), 0, 0},
+                     "invalid [equilibrium] options: " + error, "valid equilibrium options");
+  }
+  EquilibriumSet set;
+  const ingest::JobSpec& job = ingested.job;
+  // In job order: each data set's series or log.
+  std::vector<bool> desiccator_done(ingested.desiccator_series.size(), false);
+  std::vector<bool> log_done(ingested.vapor_logs.size(), false);
+  auto run_dataset = [&](const std::string& id, const ingest::DataSetSpec* dataset) {
+    for (std::size_t i = 0; i < ingested.desiccator_series.size(); ++i) {
+      if (!desiccator_done[i] && ingested.desiccator_series[i].dataset_id == id) {
+        desiccator_done[i] = true;
+        EquilibrateDesiccator(ingested.desiccator_series[i], job, options, set);
+      }
+    }
+    for (std::size_t i = 0; i < ingested.vapor_logs.size(); ++i) {
+      if (!log_done[i] && ingested.vapor_logs[i].dataset_id == id) {
+        log_done[i] = true;
+        EquilibrateLog(ingested.vapor_logs[i], job, dataset, options, set);
+      }
+    }
+  };
+  for (const auto& dataset : job.datasets) run_dataset(dataset.id, &dataset);
+  for (std::size_t i = 0; i < ingested.desiccator_series.size(); ++i) {
+    if (!desiccator_done[i]) run_dataset(ingested.desiccator_series[i].dataset_id, nullptr);
+  }
+  for (std::size_t i = 0; i < ingested.vapor_logs.size(); ++i) {
+    if (!log_done[i]) run_dataset(ingested.vapor_logs[i].dataset_id, nullptr);
+  }
+  FindDryMasses(job, set);
+  return set;
+}
+
+}  // namespace sorbtrace::equilibrate

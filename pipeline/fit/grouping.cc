@@ -1,0 +1,270 @@
+#include "pipeline/fit/grouping.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <map>
+#include <string_view>
+#include <utility>
+
+namespace sorbtrace::fit::internal {
+namespace {
+
+// Something that has one temperature for clustering: an isotherm data set or the retention
+// points of one specimen.
+struct TemperatureItem {
+  std::string key;  // "d:<dataset_id>" or "r:<specimen_id>": sorts data sets before retention
+  double temperature_sum_K = 0.0;
+  int count = 0;
+  double MeanTemperature_K() const { return temperature_sum_K / count; }
+};
+
+// A point that may be fitted, before it is placed in a group.
+struct Candidate {
+  int cluster = 0;
+  ingest::Branch branch = ingest::Branch::kAdsorption;
+  fitters::Observation observation;
+  int point_index = -1;  // into ReducedIsotherms::points, -1 for retention points
+};
+
+Diagnostic Warning(std::string message, std::string expected = {}) {
+  Diagnostic diagnostic;
+  diagnostic.severity = Severity::kWarning;
+  diagnostic.message = std::move(message);
+  diagnostic.expected = std::move(expected);
+  return diagnostic;
+}
+
+bool Finite(double value) { return std::isfinite(value); }
+
+std::uint64_t SplitMix64(std::uint64_t z) {
+  z += 0x9E3779B97F4A7C15ULL;
+  z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
+  z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
+  return z ^ (z >> 31);
+}
+
+// FNV-1a, 64 bit (G. Fowler, L. C. Noll, K.-P. Vo; offset basis and prime of the published
+// FNV specification, from memory): a stable hash of a model name.
+std::uint64_t HashName(const std::string& name) {
+  std::uint64_t hash = 0xCBF29CE484222325ULL;
+  for (const char c : name) {
+    hash ^= static_cast<unsigned char>(c);
+    hash *= 0x100000001B3ULL;
+  }
+  return hash;
+}
+
+// Replaces non-positive or non-finite sigma_y in one group by the smallest valid sigma_y of the
+// group (a conservative weight: no point gets more weight than the best-measured one); if none
+// is valid, every point gets sigma_y = 1 (an unweighted fit).
+void RepairSigmas(FitGroup* group, std::vector<Diagnostic>* warnings) {
+  double smallest = fitters::kInfinity;
+  int invalid = 0;
+  for (const fitters::Observation& observation : group->observations) {
+    if (Finite(observation.sigma_y) && observation.sigma_y > 0.0) {
+      smallest = std::min(smallest, observation.sigma_y);
+    } else {
+      ++invalid;
+    }
+  }
+  if (invalid == 0) return;
+  const bool none_valid = !Finite(smallest);
+  for (fitters::Observation& observation : group->observations) {
+    if (none_valid) {
+      observation.sigma_y = 1.0;
+    } else if (!(Finite(observation.sigma_y) && observation.sigma_y > 0.0)) {
+      observation.sigma_y = smallest;
+    }
+  }
+  const std::string where =
+      fmt::format("{} at {:.2f} K", BranchLabel(group->branch), group->temperature_K);
+  if (none_valid) {
+    warnings->push_back(
+        Warning(fmt::format("fit group {}: no point has a positive moisture uncertainty; the "
+                            "fit is unweighted (sigma = 1 for every point)",
+                            where),
+                "a combined standard uncertainty > 0 for each point"));
+  } else {
+    warnings->push_back(Warning(
+        fmt::format("fit group {}: {} point(s) without a positive moisture uncertainty were "
+                    "given the smallest uncertainty of the group, {:.3g} kg/kg",
+                    where, invalid, smallest),
+        "a combined standard uncertainty > 0 for each point"));
+  }
+}
+
+}  // namespace
+
+const char* BranchLabel(ingest::Branch branch) {
+  switch (branch) {
+    case ingest::Branch::kAdsorption:
+      return "adsorption";
+    case ingest::Branch::kDesorption:
+      return "desorption";
+    case ingest::Branch::kDrying:
+      return "drying";
+  }
+  return "unknown";
+}
+
+bool IsRetentionModel(const std::string& model_name) {
+  return model_name.starts_with("vangenuchten") || model_name.starts_with("durner");
+}
+
+std::vector<int> SelectObservations(const FitGroup& group, bool retention_model, double x_min,
+                                    double x_max) {
+  std::vector<int> selected;
+  for (std::size_t i = 0; i < group.observations.size(); ++i) {
+    if (group.point_indices[i] < 0 && !retention_model) continue;
+    const double x0 = group.observations[i].x[0];
+    if (x0 < x_min || x0 > x_max) continue;
+    selected.push_back(static_cast<int>(i));
+  }
+  return selected;
+}
+
+std::uint64_t StreamState(std::uint64_t base, int group_index, const std::string& model_name,
+                          int purpose) {
+  std::uint64_t state = SplitMix64(base);
+  state = SplitMix64(state ^ static_cast<std::uint64_t>(group_index));
+  state = SplitMix64(state ^ HashName(model_name));
+  state = SplitMix64(state ^ static_cast<std::uint64_t>(purpose));
+  return state;
+}
+
+std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
+                                  const FitStageOptions& options,
+                                  std::vector<Diagnostic>* warnings) {
+  // 1. Usable points and the temperature of each data set / retention specimen.
+  std::map<std::string, TemperatureItem> items;
+  std::vector<std::pair<std::string, Candidate>> candidates;  // item key, candidate
+
+  for (std::size_t i = 0; i < reduced.points.size(); ++i) {
+    const reduce::IsothermPoint& point = reduced.points[i];
+    if (point.branch == ingest::Branch::kDrying) continue;  // dry reference, not an isotherm
+    const bool usable = Finite(point.rh_fraction) && point.rh_fraction >= 0.0 &&
+                        point.rh_fraction <= 1.0 && Finite(point.moisture_kg_per_kg) &&
+                        Finite(point.temperature_K) && point.temperature_K > 0.0;
+    if (!usable) {
+      warnings->push_back(
+          Warning(fmt::format("data set '{}', step {} ('{}'): point left out of the fits (RH {}, "
+                              "moisture {}, temperature {} K)",
+                              point.dataset_id, point.step_index, point.step_label,
+                              point.rh_fraction, point.moisture_kg_per_kg, point.temperature_K),
+                  "finite values, 0 <= RH <= 1, temperature > 0 K"));
+      continue;
+    }
+    Candidate candidate;
+    candidate.branch = point.branch;
+    candidate.point_index = static_cast<int>(i);
+    candidate.observation.x[0] = point.rh_fraction;
+    candidate.observation.y = point.moisture_kg_per_kg;
+    candidate.observation.sigma_y = point.u_moisture_kg_per_kg;
+    candidate.observation.sigma_x0 =
+        Finite(point.u_rh_fraction) && point.u_rh_fraction > 0.0 ? point.u_rh_fraction : 0.0;
+    const std::string key = "d:" + point.dataset_id;
+    TemperatureItem& item = items[key];
+    item.key = key;
+    item.temperature_sum_K += point.temperature_K;
+    ++item.count;
+    candidates.emplace_back(key, candidate);
+  }
+
+  if (options.include_retention_points) {
+    for (const reduce::RetentionIsothermPoint& point : reduced.retention) {
+      if (point.branch == ingest::Branch::kDrying) continue;
+      const bool usable = Finite(point.equivalent_rh_fraction) &&
+                          point.equivalent_rh_fraction >= 0.0 &&
+                          point.equivalent_rh_fraction <= 1.0 && Finite(point.moisture_kg_per_kg) &&
+                          Finite(point.temperature_K) && point.temperature_K > 0.0;
+      if (!usable) {
+        warnings->push_back(
+            Warning(fmt::format("retention point of specimen '{}' at {} Pa left out of the fits",
+                                point.specimen_id, point.capillary_pressure_Pa),
+                    "finite values, 0 <= equivalent RH <= 1, temperature > 0 K"));
+        continue;
+      }
+      Candidate candidate;
+      candidate.branch = point.branch;
+      candidate.point_index = -1;
+      candidate.observation.x[0] = point.equivalent_rh_fraction;
+      candidate.observation.y = point.moisture_kg_per_kg;
+      candidate.observation.sigma_y = point.u_moisture_kg_per_kg;
+      candidate.observation.sigma_x0 = 0.0;  // the pressure is the set quantity
+      const std::string key = "r:" + point.specimen_id;
+      TemperatureItem& item = items[key];
+      item.key = key;
+      item.temperature_sum_K += point.temperature_K;
+      ++item.count;
+      candidates.emplace_back(key, candidate);
+    }
+  }
+
+  // 2. Temperature clusters: items sorted by mean temperature (then key); an item starts a
+  //    new cluster when it is more than kTemperatureMergeSpan_K warmer than the coldest item
+  //    of the current cluster.
+  std::vector<const TemperatureItem*> sorted;
+  for (const auto& [key, item] : items) sorted.push_back(&item);
+  std::stable_sort(sorted.begin(), sorted.end(),
+                   [](const TemperatureItem* a, const TemperatureItem* b) {
+                     return a->MeanTemperature_K() < b->MeanTemperature_K();
+                   });
+  std::map<std::string, int> cluster_of;
+  int num_clusters = 0;
+  double cluster_start_K = 0.0;
+  for (const TemperatureItem* item : sorted) {
+    if (num_clusters == 0 ||
+        item->MeanTemperature_K() - cluster_start_K > kTemperatureMergeSpan_K) {
+      ++num_clusters;
+      cluster_start_K = item->MeanTemperature_K();
+    }
+    cluster_of[item->key] = num_clusters - 1;
+  }
+
+  // Cluster temperature: mean over its isotherm points (over its retention points if it has
+  // no isotherm point), shared by both branches so that groups pair up by temperature.
+  std::vector<double> isotherm_sum_K(num_clusters, 0.0), retention_sum_K(num_clusters, 0.0);
+  std::vector<int> isotherm_count(num_clusters, 0), retention_count(num_clusters, 0);
+  for (auto& [key, candidate] : candidates) {
+    candidate.cluster = cluster_of.at(key);
+    if (candidate.point_index >= 0) {
+      isotherm_sum_K[candidate.cluster] += reduced.points[candidate.point_index].temperature_K;
+      ++isotherm_count[candidate.cluster];
+    }
+  }
+  if (options.include_retention_points) {
+    for (const reduce::RetentionIsothermPoint& point : reduced.retention) {
+      const auto found = cluster_of.find("r:" + point.specimen_id);
+      if (found == cluster_of.end()) continue;
+      retention_sum_K[found->second] += point.temperature_K;
+      ++retention_count[found->second];
+    }
+  }
+
+  // 3. Groups: clusters in order of temperature, adsorption before desorption; points keep
+  //    the order of ReducedIsotherms::points, retention points follow.
+  std::vector<FitGroup> groups;
+  for (int cluster = 0; cluster < num_clusters; ++cluster) {
+    const double temperature_K = isotherm_count[cluster] > 0
+                                     ? isotherm_sum_K[cluster] / isotherm_count[cluster]
+                                     : retention_sum_K[cluster] / retention_count[cluster];
+    for (const ingest::Branch branch : {ingest::Branch::kAdsorption, ingest::Branch::kDesorption}) {
+      FitGroup group;
+      group.branch = branch;
+      group.temperature_K = temperature_K;
+      for (const auto& [key, candidate] : candidates) {
+        if (candidate.cluster != cluster || candidate.branch != branch) continue;
+        group.observations.push_back(candidate.observation);
+        group.point_indices.push_back(candidate.point_index);
+      }
+      if (group.observations.empty()) continue;
+      RepairSigmas(&group, warnings);
+      groups.push_back(std::move(group));
+    }
+  }
+  return groups;
+}
+
+}  // namespace sorbtrace::fit::internal

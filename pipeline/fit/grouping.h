@@ -1,0 +1,49 @@
+// Internal to the fit stage: sorting the reduced points into fit groups (one branch at one
+// temperature) and the observations each model is fitted to.
+#pragma once
+
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "pipeline/common/diagnostics.h"
+#include "pipeline/fit/fit_stage.h"
+#include "pipeline/reduce/reduce.h"
+
+namespace sorbtrace::fit::internal {
+
+// Data sets (and retention specimens) whose mean temperatures lie within this span of the
+// coldest member of a cluster are fitted together. Common practice: the climate tolerance of
+// sorption tests is +-0.5 K (ISO 12571:2021, from memory), so such data sets were meant to be
+// taken at one nominal temperature.
+inline constexpr double kTemperatureMergeSpan_K = 0.5;
+
+// Sorts the non-drying isotherm points (and, if options.include_retention_points, the
+// retention points) of `reduced` into groups, ordered by temperature, then adsorption before
+// desorption. Points that cannot be fitted (non-finite values, RH outside [0, 1]) are left out
+// with a warning; non-positive moisture uncertainties are replaced (see grouping.cc) with a
+// warning.
+std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
+                                  const FitStageOptions& options,
+                                  std::vector<Diagnostic>* warnings);
+
+// "adsorption" / "desorption" / "drying", for messages (as ingest::BranchName, without
+// needing the ingest library at link time).
+const char* BranchLabel(ingest::Branch branch);
+
+// True for the retention-curve models (van Genuchten, Durner), which may also use the
+// retention points of a group.
+bool IsRetentionModel(const std::string& model_name);
+
+// Indices into group.observations of the points a model is fitted to: retention points only
+// for retention models, and only points with x_min <= x[0] <= x_max.
+std::vector<int> SelectObservations(const FitGroup& group, bool retention_model, double x_min,
+                                    double x_max);
+
+// A 64-bit state for a random stream, a pure function of its inputs (SplitMix64 mixing:
+// G. L. Steele, D. Lea, C. H. Flood, "Fast splittable pseudorandom number generators",
+// OOPSLA 2014; constants from S. Vigna's reference splitmix64.c, from memory).
+std::uint64_t StreamState(std::uint64_t base, int group_index, const std::string& model_name,
+                          int purpose);
+
+}  // namespace sorbtrace::fit::internal

@@ -1,0 +1,141 @@
+// Internal to the ingest stage: a streaming CSV reader that keeps only one chunk of the file
+// in memory, tracks line and column of every field, and parses numbers without allocation.
+// Accepts what lab software and spreadsheets write: UTF-8 byte-order mark, CRLF or LF line
+// ends, a missing final line end, '#' comment lines, blank lines, quoted fields ("" inside a
+// quoted field is one quote), ',' ';' or tab delimiters and decimal commas.
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <cstdio>
+#include <filesystem>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "pipeline/common/diagnostics.h"
+#include "pipeline/ingest/ingest.h"
+
+namespace sorbtrace::ingest::internal {
+
+// A test temperature outside this range is a unit mix-up rather than a sorption test or an
+// oven drying (sanity bound, common practice): -50 degC .. 150 degC.
+inline constexpr double kMinPlausibleTemperature_K = 223.15;
+inline constexpr double kMaxPlausibleTemperature_K = 423.15;
+
+// Result of parsing one decimal number.
+enum class NumberStatus { kOk, kEmpty, kNotANumber, kNotFinite, kOutOfRange };
+
+// Parses a whole field (surrounding spaces allowed) as a finite double. `decimal_point` is '.'
+// or ','. Exact: simple decimals take the correctly rounded Clinger fast path (mantissa below
+// 2^53, at most 22 fraction digits), everything else std::from_chars.
+NumberStatus ParseNumber(std::string_view text, char decimal_point, double* value);
+
+// One field of the current record: its text (unquoted) and 1-based byte column.
+struct CsvField {
+  std::string_view text;
+  int column = 0;
+};
+
+class CsvReader {
+ public:
+  // Opens `path` for reading; `display_name` is what error messages call the file. Throws
+  // InputError if the file cannot be opened.
+  CsvReader(const std::filesystem::path& path, std::string display_name, char delimiter,
+            bool decimal_comma);
+  ~CsvReader();
+  CsvReader(const CsvReader&) = delete;
+  CsvReader& operator=(const CsvReader&) = delete;
+
+  // Reads the header: the first line that is neither blank nor a comment. Throws InputError for
+  // an empty file. Detects a header written with another delimiter than the declared one.
+  const std::vector<CsvField>& ReadHeader();
+
+  // Advances to the next data record; false at the end of the file. Throws InputError when the
+  // record has another number of fields than the header.
+  bool Next();
+
+  const std::vector<CsvField>& fields() const { return fields_; }
+  std::string_view Text(std::size_t i) const;  // trimmed of surrounding spaces
+  int Column(std::size_t i) const { return fields_[i].column; }
+  std::int64_t line() const { return line_number_; }
+  std::int64_t header_line() const { return header_line_; }
+  const std::string& display_name() const { return display_name_; }
+  char decimal_point() const { return decimal_point_; }
+
+  // The number in field i; throws InputError naming the column when it is empty, text, not
+  // finite or out of range.
+  double Number(std::size_t i, std::string_view column_name) const;
+
+  [[noreturn]] void Fail(int column, std::string message, std::string expected = {}) const;
+  [[noreturn]] void FailAt(std::int64_t line, int column, std::string message,
+                           std::string expected = {}) const;
+  SourceLocation Where(int column) const;
+
+ private:
+  bool NextLine(std::string_view* line);  // false at end of file
+  void Split(std::string_view line);
+  void SplitQuoted(std::string_view line);
+  void Refill();
+
+  std::string display_name_;
+  std::FILE* file_ = nullptr;
+  char delimiter_ = ',';
+  char decimal_point_ = '.';
+  std::vector<char> buffer_;
+  std::size_t begin_ = 0;  // start of unread data in buffer_
+  std::size_t end_ = 0;    // end of valid data in buffer_
+  bool eof_ = false;
+  bool first_line_ = true;
+  std::int64_t line_number_ = 0;
+  std::int64_t header_line_ = 0;
+  std::size_t num_columns_ = 0;
+  std::vector<CsvField> fields_;
+  std::string scratch_;  // unquoted text of quoted fields
+};
+
+// ---- Header mapping --------------------------------------------------------------------
+// A column name a role accepts and the unit it implies (empty unit: bare name, unit from the
+// job file).
+struct ColumnChoice {
+  std::string_view name;
+  std::string_view unit;
+};
+
+// One quantity a file holds (e.g. "mass"), with the header names that give it.
+struct ColumnRole {
+  std::string_view role;
+  bool required = true;
+  std::vector<ColumnChoice> choices;
+  std::string_view declared_unit;  // unit declared in the job file for the bare name ("" none)
+  std::string_view unit_key;       // the job-file key that declares it, e.g. "mass_unit"
+};
+
+struct MappedColumn {
+  int index = -1;          // field index, -1 when an optional column is absent
+  std::string name;        // header name
+  std::string unit;        // resolved unit
+};
+
+// Maps the header onto the roles. Throws InputError for an unknown column, a column named
+// twice, two columns giving one quantity, a missing required column, a bare name without a
+// declared unit, or a unit suffix contradicting the job file.
+std::vector<MappedColumn> MapHeader(const CsvReader& reader, const std::vector<ColumnRole>& roles);
+
+// Linear unit conversion: si = value * multiply / divide + offset (division kept separate so
+// that 1012.551 mg -> g is the correctly rounded quotient).
+struct UnitScale {
+  double multiply = 1.0;
+  double divide = 1.0;
+  double offset = 0.0;
+  double ToSi(double value) const { return value * multiply / divide + offset; }
+};
+UnitScale MassUnitToGram(std::string_view unit);
+UnitScale RhUnitToFraction(std::string_view unit);
+UnitScale TimeUnitToSecond(std::string_view unit);
+UnitScale TemperatureUnitToKelvin(std::string_view unit);
+
+// Branch names as written in files ("adsorption", "desorption", "drying").
+bool ParseBranch(std::string_view text, Branch* branch);
+
+}  // namespace sorbtrace::ingest::internal

@@ -1,0 +1,278 @@
+// Streaming reader of continuous vapour-sorption logs: one pass, one chunk in memory,
+// segmentation into set-point steps with running statistics and block means.
+#include <cmath>
+#include <cstdint>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "fmt/format.h"
+#include "pipeline/ingest/csv_reader.h"
+#include "pipeline/ingest/ingest.h"
+#include "pipeline/physics/physics.h"
+
+namespace sorbtrace::ingest {
+namespace {
+
+using internal::ColumnRole;
+using internal::CsvReader;
+using internal::kMaxPlausibleTemperature_K;
+using internal::kMinPlausibleTemperature_K;
+
+// Two set points closer than this (as RH fractions) are the same step: far below any
+// controller resolution (0.1 % RH), far above the rounding of a written percentage.
+constexpr double kSetPointTolerance_fraction = 1e-9;
+// At most this many gap warnings per file are listed one by one; the rest are counted.
+constexpr int kMaxGapWarnings = 20;
+
+// Running mean and variance (Welford 1962, Technometrics 4, 419).
+struct RunningStats {
+  std::int64_t n = 0;
+  double mean = 0.0;
+  double m2 = 0.0;
+  void Add(double x) {
+    ++n;
+    const double delta = x - mean;
+    mean += delta / static_cast<double>(n);
+    m2 += delta * (x - mean);
+  }
+  double StandardDeviation() const {
+    return n > 1 ? std::sqrt(m2 / static_cast<double>(n - 1)) : 0.0;
+  }
+};
+
+class StepBuilder {
+ public:
+  explicit StepBuilder(double block_s) : block_s_(block_s) {}
+
+  void Begin(int index, double set_rh, Branch branch, int cycle, double t, std::int64_t line) {
+    step_ = VaporLogStep{};
+    step_.step_index = index;
+    step_.set_rh_fraction = set_rh;
+    step_.branch = branch;
+    step_.cycle = cycle;
+    step_.start_time_s = t;
+    step_.first_line = line;
+    rh_ = RunningStats{};
+    temperature_ = RunningStats{};
+    block_index_ = 0;
+    ResetBlock();
+  }
+
+  void Add(double t, double rh, double temperature_K, double mass_g, std::int64_t line) {
+    const auto index = static_cast<std::int64_t>(std::floor((t - step_.start_time_s) / block_s_));
+    if (index != block_index_) {
+      FlushBlock();
+      block_index_ = index;
+    }
+    sum_t_ += t;
+    sum_mass_ += mass_g;
+    sum_rh_ += rh;
+    sum_temperature_ += temperature_K;
+    ++block_rows_;
+    rh_.Add(rh);
+    temperature_.Add(temperature_K);
+    step_.end_time_s = t;
+    step_.last_line = line;
+    ++step_.num_rows;
+  }
+
+  VaporLogStep Finish() {
+    FlushBlock();
+    step_.rh_measured_mean_fraction = rh_.mean;
+    step_.rh_measured_std_fraction = rh_.StandardDeviation();
+    step_.temperature_mean_K = temperature_.mean;
+    step_.temperature_std_K = temperature_.StandardDeviation();
+    return std::move(step_);
+  }
+
+  const VaporLogStep& step() const { return step_; }
+
+ private:
+  void ResetBlock() {
+    sum_t_ = sum_mass_ = sum_rh_ = sum_temperature_ = 0.0;
+    block_rows_ = 0;
+  }
+  void FlushBlock() {
+    if (block_rows_ == 0) return;
+    const auto n = static_cast<double>(block_rows_);
+    step_.blocks.push_back(
+        LogBlock{sum_t_ / n, sum_mass_ / n, sum_rh_ / n, sum_temperature_ / n, block_rows_});
+    ResetBlock();
+  }
+
+  double block_s_;
+  VaporLogStep step_;
+  RunningStats rh_;
+  RunningStats temperature_;
+  std::int64_t block_index_ = 0;
+  double sum_t_ = 0.0, sum_mass_ = 0.0, sum_rh_ = 0.0, sum_temperature_ = 0.0;
+  std::int32_t block_rows_ = 0;
+};
+
+std::string FormatValue(double value) { return fmt::format("{:g}", value); }
+
+}  // namespace
+
+VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
+                      IngestSummary* summary) {
+  const CsvFormat& format = dataset.format;
+  const std::string display = dataset.file.string();
+  CsvReader reader(dataset.file, display, format.delimiter, format.decimal_comma);
+  reader.ReadHeader();
+  const std::vector<ColumnRole> roles = {
+      {"elapsed time",
+       true,
+       {{"elapsed_s", "s"}, {"elapsed_min", "min"}, {"elapsed_h", "h"}, {"elapsed", ""}},
+       format.time_unit,
+       "time_unit"},
+      {"set-point RH",
+       true,
+       {{"set_rh_percent", "percent"}, {"set_rh_fraction", "fraction"}, {"set_rh", ""}},
+       format.rh_unit,
+       "rh_unit"},
+      {"measured RH",
+       true,
+       {{"measured_rh_percent", "percent"},
+        {"measured_rh_fraction", "fraction"},
+        {"measured_rh", ""}},
+       format.rh_unit,
+       "rh_unit"},
+      {"temperature",
+       true,
+       {{"temperature_C", "C"}, {"temperature_K", "K"}, {"temperature", ""}},
+       format.temperature_unit,
+       "temperature_unit"},
+      {"mass",
+       true,
+       {{"mass_g", "g"}, {"mass_mg", "mg"}, {"mass_ug", "ug"}, {"mass", ""}},
+       format.mass_unit,
+       "mass_unit"},
+  };
+  const auto columns = internal::MapHeader(reader, roles);
+  const auto time_index = static_cast<std::size_t>(columns[0].index);
+  const auto set_index = static_cast<std::size_t>(columns[1].index);
+  const auto rh_index = static_cast<std::size_t>(columns[2].index);
+  const auto temperature_index = static_cast<std::size_t>(columns[3].index);
+  const auto mass_index = static_cast<std::size_t>(columns[4].index);
+  const internal::UnitScale time_scale = internal::TimeUnitToSecond(columns[0].unit);
+  const internal::UnitScale set_scale = internal::RhUnitToFraction(columns[1].unit);
+  const internal::UnitScale rh_scale = internal::RhUnitToFraction(columns[2].unit);
+  const internal::UnitScale temperature_scale =
+      internal::TemperatureUnitToKelvin(columns[3].unit);
+  const internal::UnitScale mass_scale = internal::MassUnitToGram(columns[4].unit);
+  const std::string rh_range = columns[2].unit == "percent" ? "0..100 %" : "0..1";
+  const std::string set_range = columns[1].unit == "percent" ? "0..100 %" : "0..1";
+
+  VaporLog log;
+  log.dataset_id = dataset.id;
+  log.file = dataset.file_as_written.empty() ? display : dataset.file_as_written;
+  log.specimen_id = dataset.specimen_id;
+
+  StepBuilder builder(options.log_block_s);
+  bool in_step = false;
+  double previous_t = 0.0;
+  std::int64_t previous_line = 0;
+  double current_set = 0.0;
+  Branch last_wet_branch = Branch::kDrying;  // last non-drying branch
+  int cycle = 0;
+  int num_gaps = 0;
+
+  while (reader.Next()) {
+    const double t = time_scale.ToSi(reader.Number(time_index, columns[0].name));
+    const double set_raw = reader.Number(set_index, columns[1].name);
+    const double rh_raw = reader.Number(rh_index, columns[2].name);
+    const double temperature_raw = reader.Number(temperature_index, columns[3].name);
+    const double mass_raw = reader.Number(mass_index, columns[4].name);
+    const double set_rh = set_scale.ToSi(set_raw);
+    const double rh = rh_scale.ToSi(rh_raw);
+    const double temperature_K = temperature_scale.ToSi(temperature_raw);
+    const double mass_g = mass_scale.ToSi(mass_raw);
+
+    if (in_step || log.num_rows > 0) {
+      if (t <= previous_t) {
+        const std::string was = fmt::format("line {}", previous_line);
+        if (t == previous_t) {
+          reader.Fail(reader.Column(time_index),
+                      "duplicate time stamp: " + std::string(reader.Text(time_index)) +
+                          " in column '" + columns[0].name + "' repeats that of " + was,
+                      "strictly increasing elapsed times");
+        }
+        reader.Fail(reader.Column(time_index),
+                    "time goes backwards: " + std::string(reader.Text(time_index)) +
+                        " in column '" + columns[0].name + "' is earlier than on " + was,
+                    "strictly increasing elapsed times");
+      }
+      if (t - previous_t > options.log_gap_warning_s) {
+        ++num_gaps;
+        if (summary != nullptr && num_gaps <= kMaxGapWarnings) {
+          summary->warnings.push_back(Diagnostic{
+              Severity::kWarning, reader.Where(reader.Column(time_index)),
+              fmt::format("gap of {} s in the log after line {}", FormatValue(t - previous_t),
+                          previous_line),
+              fmt::format("readings at most {} s apart", FormatValue(options.log_gap_warning_s))});
+        }
+      }
+    }
+    if (!(set_rh >= 0.0 && set_rh <= 1.0)) {
+      reader.Fail(reader.Column(set_index),
+                  "set-point RH " + std::string(reader.Text(set_index)) + " in column '" +
+                      columns[1].name + "' is outside " + set_range,
+                  "a relative humidity within " + set_range);
+    }
+    if (!(rh >= 0.0 && rh <= 1.0)) {
+      reader.Fail(reader.Column(rh_index),
+                  "measured RH " + std::string(reader.Text(rh_index)) + " in column '" +
+                      columns[2].name + "' is outside " + rh_range,
+                  "a relative humidity within " + rh_range);
+    }
+    if (!(temperature_K >= kMinPlausibleTemperature_K &&
+          temperature_K <= kMaxPlausibleTemperature_K)) {
+      reader.Fail(reader.Column(temperature_index),
+                  "temperature " + std::string(reader.Text(temperature_index)) + " in column '" +
+                      columns[3].name + "' is implausible for a sorption test",
+                  "a temperature within -50..150 degC (223.15..423.15 K)");
+    }
+    if (!(mass_g > 0.0)) {
+      reader.Fail(reader.Column(mass_index),
+                  "mass " + std::string(reader.Text(mass_index)) + " in column '" +
+                      columns[4].name + "' is not positive",
+                  "a balance reading above zero");
+    }
+
+    if (!in_step || std::abs(set_rh - current_set) > kSetPointTolerance_fraction) {
+      Branch branch = Branch::kAdsorption;
+      if (set_rh <= kSetPointTolerance_fraction) {
+        branch = Branch::kDrying;
+      } else if (in_step && set_rh < current_set) {
+        branch = Branch::kDesorption;
+      }
+      if (in_step) log.steps.push_back(builder.Finish());
+      if (branch == Branch::kAdsorption && last_wet_branch == Branch::kDesorption) ++cycle;
+      if (branch != Branch::kDrying) last_wet_branch = branch;
+      builder.Begin(static_cast<int>(log.steps.size()), set_rh, branch, cycle, t, reader.line());
+      current_set = set_rh;
+      in_step = true;
+    }
+    builder.Add(t, rh, temperature_K, mass_g, reader.line());
+    previous_t = t;
+    previous_line = reader.line();
+    ++log.num_rows;
+  }
+  if (!in_step) {
+    reader.FailAt(reader.line() + 1, 1, "no data lines after the header (line " +
+                                            std::to_string(reader.header_line()) + ")",
+                  "at least one reading per line");
+  }
+  log.steps.push_back(builder.Finish());
+  if (summary != nullptr && num_gaps > kMaxGapWarnings) {
+    summary->warnings.push_back(
+        Diagnostic{Severity::kWarning, SourceLocation{display, 0, 0},
+                   fmt::format("{} more gaps longer than {} s in the log",
+                               num_gaps - kMaxGapWarnings, FormatValue(options.log_gap_warning_s)),
+                   ""});
+  }
+  return log;
+}
+
+}  // namespace sorbtrace::ingest

@@ -1,0 +1,796 @@
+#include "pipeline/report/plot/plot.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <limits>
+#include <utility>
+
+#include "pipeline/report/plot/text.h"
+
+namespace sorbtrace::report::plot {
+namespace {
+
+HPDF_REAL F(double value) { return static_cast<HPDF_REAL>(value); }
+
+bool Usable(double value, Scale scale) {
+  return std::isfinite(value) && (scale == Scale::kLinear || value > 0.0);
+}
+
+// Maps data values of one axis to page coordinates.
+struct Mapping {
+  Scale scale = Scale::kLinear;
+  double min = 0.0;
+  double max = 1.0;
+  double page_low = 0.0;
+  double page_high = 1.0;
+  double operator()(double value) const {
+    double t = 0.0;
+    if (scale == Scale::kLog10) {
+      t = (std::log10(value) - std::log10(min)) / (std::log10(max) - std::log10(min));
+    } else {
+      t = (value - min) / (max - min);
+    }
+    return page_low + t * (page_high - page_low);
+  }
+};
+
+// Collects the extent of values (with error bars) for automatic ranges.
+struct Extent {
+  double low = std::numeric_limits<double>::infinity();
+  double high = -std::numeric_limits<double>::infinity();
+  void Add(double value, Scale scale) {
+    if (!Usable(value, scale)) return;
+    low = std::min(low, value);
+    high = std::max(high, value);
+  }
+  bool empty() const { return !(low <= high); }
+};
+
+Ticks AxisTicks(const Axis& axis, Extent extent) {
+  if (axis.scale == Scale::kLog10) {
+    double low = axis.min.value_or(extent.empty() ? 1.0 : extent.low);
+    double high = axis.max.value_or(extent.empty() ? 10.0 : extent.high);
+    if (!(low > 0.0)) low = 1.0;
+    if (!(high > low)) high = low * 10.0;
+    return LogTicks(low, high, axis.min.has_value() && axis.max.has_value());
+  }
+  double low = extent.empty() ? 0.0 : extent.low;
+  double high = extent.empty() ? 1.0 : extent.high;
+  if (axis.include_zero) {
+    low = std::min(low, 0.0);
+    high = std::max(high, 0.0);
+  }
+  if (axis.min) low = *axis.min;
+  if (axis.max) high = *axis.max;
+  if (!(high > low)) {
+    const double pad = low == 0.0 ? 1.0 : std::abs(low) * 0.1;
+    low -= pad;
+    high += pad;
+  }
+  if (axis.min && axis.max) return NiceLinearTicksWithin(low, high, axis.num_ticks);
+  Ticks ticks = NiceLinearTicks(low, high, axis.num_ticks);
+  // A fixed end stays where the caller put it.
+  if (axis.min || axis.max) {
+    const double fixed_low = axis.min.value_or(ticks.axis_min);
+    const double fixed_high = axis.max.value_or(ticks.axis_max);
+    Ticks within = NiceLinearTicksWithin(fixed_low, fixed_high, axis.num_ticks);
+    return within;
+  }
+  return ticks;
+}
+
+std::string TickLabel(const Axis& axis, const Ticks& ticks, double value) {
+  return axis.scale == Scale::kLog10 ? FormatLogTick(value)
+                                     : FormatTick(value, ticks.fraction_digits);
+}
+
+// Minor ticks of a log axis: 2..9 times each decade inside the range.
+std::vector<double> LogMinorTicks(double min, double max) {
+  std::vector<double> out;
+  const int first = static_cast<int>(std::floor(std::log10(min)));
+  const int last = static_cast<int>(std::ceil(std::log10(max)));
+  for (int decade = first; decade <= last; ++decade) {
+    for (int m = 2; m <= 9; ++m) {
+      const double value = m * std::pow(10.0, decade);
+      if (value > min && value < max) out.push_back(value);
+    }
+  }
+  return out;
+}
+
+void SetStroke(HPDF_Page page, Color color, double width_pt) {
+  HPDF_Page_SetRGBStroke(page, F(color.r), F(color.g), F(color.b));
+  HPDF_Page_SetLineWidth(page, F(width_pt));
+}
+void SetFill(HPDF_Page page, Color color) {
+  HPDF_Page_SetRGBFill(page, F(color.r), F(color.g), F(color.b));
+}
+void SetDash(HPDF_Page page, const std::vector<double>& dash_pt) {
+  if (dash_pt.empty()) {
+    HPDF_Page_SetDash(page, nullptr, 0, 0);
+    return;
+  }
+  std::array<HPDF_UINT16, 8> pattern{};
+  const size_t n = std::min<size_t>(dash_pt.size(), pattern.size());
+  for (size_t i = 0; i < n; ++i) {
+    pattern[i] = static_cast<HPDF_UINT16>(std::clamp(std::lround(dash_pt[i]), 1L, 100L));
+  }
+  HPDF_Page_SetDash(page, pattern.data(), static_cast<HPDF_UINT>(n), 0);
+}
+
+void MarkerPath(HPDF_Page page, MarkerShape shape, double x, double y, double size) {
+  const double h = size / 2.0;
+  switch (shape) {
+    case MarkerShape::kCircle:
+      HPDF_Page_Circle(page, F(x), F(y), F(h));
+      break;
+    case MarkerShape::kSquare:
+      // Same visual weight as the circle: a square of side 0.9 * size.
+      HPDF_Page_Rectangle(page, F(x - 0.45 * size), F(y - 0.45 * size), F(0.9 * size),
+                          F(0.9 * size));
+      break;
+    case MarkerShape::kTriangleUp:
+      HPDF_Page_MoveTo(page, F(x), F(y + 1.15 * h));
+      HPDF_Page_LineTo(page, F(x + 1.05 * h), F(y - 0.75 * h));
+      HPDF_Page_LineTo(page, F(x - 1.05 * h), F(y - 0.75 * h));
+      HPDF_Page_ClosePath(page);
+      break;
+    case MarkerShape::kTriangleDown:
+      HPDF_Page_MoveTo(page, F(x), F(y - 1.15 * h));
+      HPDF_Page_LineTo(page, F(x + 1.05 * h), F(y + 0.75 * h));
+      HPDF_Page_LineTo(page, F(x - 1.05 * h), F(y + 0.75 * h));
+      HPDF_Page_ClosePath(page);
+      break;
+    case MarkerShape::kDiamond:
+      HPDF_Page_MoveTo(page, F(x), F(y + 1.2 * h));
+      HPDF_Page_LineTo(page, F(x + 1.0 * h), F(y));
+      HPDF_Page_LineTo(page, F(x), F(y - 1.2 * h));
+      HPDF_Page_LineTo(page, F(x - 1.0 * h), F(y));
+      HPDF_Page_ClosePath(page);
+      break;
+    case MarkerShape::kNone:
+      break;
+  }
+}
+
+void DrawMarker(HPDF_Page page, const MarkerStyle& style, double x, double y) {
+  if (style.shape == MarkerShape::kNone) return;
+  SetDash(page, {});
+  SetStroke(page, style.color, 0.7);
+  SetFill(page, style.filled ? style.color : Color{1.0, 1.0, 1.0});
+  MarkerPath(page, style.shape, x, y, style.size_pt);
+  HPDF_Page_FillStroke(page);
+}
+
+void DrawPolyline(HPDF_Page page, const std::vector<std::pair<double, double>>& points,
+                  const LineStyle& style) {
+  if (points.size() < 2) return;
+  SetStroke(page, style.color, style.width_pt);
+  SetDash(page, style.dash_pt);
+  HPDF_Page_SetLineJoin(page, HPDF_ROUND_JOIN);
+  HPDF_Page_MoveTo(page, F(points[0].first), F(points[0].second));
+  for (size_t i = 1; i < points.size(); ++i) {
+    HPDF_Page_LineTo(page, F(points[i].first), F(points[i].second));
+  }
+  HPDF_Page_Stroke(page);
+  SetDash(page, {});
+}
+
+struct LegendEntry {
+  std::string text;
+  const Series* series = nullptr;
+  const Band* band = nullptr;
+};
+
+}  // namespace
+
+// ---- Colours ---------------------------------------------------------------------------------
+Color Color::Tint(double amount) const {
+  return {r + (1.0 - r) * amount, g + (1.0 - g) * amount, b + (1.0 - b) * amount};
+}
+
+Color palette::Series(int index) {
+  static constexpr std::array<Color, 5> kCycle = {kTeal, kOchre, kPlum, kMoss, kSlate};
+  const int n = static_cast<int>(kCycle.size());
+  return kCycle[static_cast<size_t>(((index % n) + n) % n)];
+}
+
+// ---- Canvas ----------------------------------------------------------------------------------
+Canvas::Canvas(HPDF_Page page, HPDF_Font regular, HPDF_Font bold)
+    : page_(page), regular_(regular), bold_(bold) {}
+
+void Canvas::Text(double x, double y, std::string_view text, double size_pt, Align align,
+                  bool bold, Color color) {
+  const std::string clean = SanitizeUtf8(text);
+  if (clean.empty()) return;
+  double left = x;
+  if (align != Align::kLeft) {
+    const double width = TextWidth(clean, size_pt, bold);
+    left = align == Align::kCenter ? x - width / 2.0 : x - width;
+  }
+  SetFill(page_, color);
+  HPDF_Page_BeginText(page_);
+  HPDF_Page_SetFontAndSize(page_, bold ? bold_ : regular_, F(size_pt));
+  HPDF_Page_TextOut(page_, F(left), F(y), clean.c_str());
+  HPDF_Page_EndText(page_);
+}
+
+void Canvas::VerticalText(double x, double y, std::string_view text, double size_pt,
+                          Color color) {
+  const std::string clean = SanitizeUtf8(text);
+  if (clean.empty()) return;
+  const double width = TextWidth(clean, size_pt);
+  SetFill(page_, color);
+  HPDF_Page_BeginText(page_);
+  HPDF_Page_SetFontAndSize(page_, regular_, F(size_pt));
+  // Rotation by +90 degrees: [cos sin -sin cos] = [0 1 -1 0].
+  HPDF_Page_SetTextMatrix(page_, 0, 1, -1, 0, F(x), F(y - width / 2.0));
+  HPDF_Page_ShowText(page_, clean.c_str());
+  HPDF_Page_EndText(page_);
+}
+
+double Canvas::TextWidth(std::string_view text, double size_pt, bool bold) const {
+  const std::string clean = SanitizeUtf8(text);
+  if (clean.empty()) return 0.0;
+  HPDF_Font font = bold ? bold_ : regular_;
+  const HPDF_TextWidth width =
+      HPDF_Font_TextWidth(font, reinterpret_cast<const HPDF_BYTE*>(clean.data()),
+                          static_cast<HPDF_UINT>(clean.size()));
+  // Widths are in 1/1000 of the font size.
+  return static_cast<double>(width.width) * size_pt / 1000.0;
+}
+
+std::vector<std::string> Canvas::Wrap(std::string_view text, double size_pt, double width_pt,
+                                      bool bold) const {
+  std::vector<std::string> lines;
+  size_t start = 0;
+  while (start <= text.size()) {
+    const size_t end = std::min(text.find('\n', start), text.size());
+    const std::string_view paragraph = text.substr(start, end - start);
+    std::string line;
+    size_t pos = 0;
+    bool any = false;
+    while (pos < paragraph.size()) {
+      size_t space = paragraph.find(' ', pos);
+      if (space == std::string_view::npos) space = paragraph.size();
+      const std::string word(paragraph.substr(pos, space - pos));
+      pos = space + 1;
+      if (word.empty()) continue;
+      const std::string candidate = line.empty() ? word : line + " " + word;
+      if (!line.empty() && TextWidth(candidate, size_pt, bold) > width_pt) {
+        lines.push_back(line);
+        line = word;
+      } else {
+        line = candidate;
+      }
+      any = true;
+    }
+    if (any || !paragraph.empty() || end < text.size()) lines.push_back(line);
+    if (end >= text.size()) break;
+    start = end + 1;
+  }
+  return lines;
+}
+
+void Canvas::Line(double x0, double y0, double x1, double y1, double width_pt, Color color) {
+  SetStroke(page_, color, width_pt);
+  HPDF_Page_MoveTo(page_, F(x0), F(y0));
+  HPDF_Page_LineTo(page_, F(x1), F(y1));
+  HPDF_Page_Stroke(page_);
+}
+
+void Canvas::StrokeRect(const Rect& rect, double width_pt, Color color) {
+  SetStroke(page_, color, width_pt);
+  HPDF_Page_Rectangle(page_, F(rect.x), F(rect.y), F(rect.width), F(rect.height));
+  HPDF_Page_Stroke(page_);
+}
+
+void Canvas::FillRect(const Rect& rect, Color color) {
+  SetFill(page_, color);
+  HPDF_Page_Rectangle(page_, F(rect.x), F(rect.y), F(rect.width), F(rect.height));
+  HPDF_Page_Fill(page_);
+}
+
+// ---- Ticks -----------------------------------------------------------------------------------
+double NiceNumber(double x, bool round) {
+  if (!(x > 0.0) || !std::isfinite(x)) return 1.0;
+  const double exponent = std::floor(std::log10(x));
+  const double power = std::pow(10.0, exponent);
+  const double fraction = x / power;  // in [1, 10)
+  double nice = 10.0;
+  // Heckbert (1990): rounding thresholds 1.5, 3, 7; ceiling thresholds 1, 2, 5.
+  if (round) {
+    if (fraction < 1.5) {
+      nice = 1.0;
+    } else if (fraction < 3.0) {
+      nice = 2.0;
+    } else if (fraction < 7.0) {
+      nice = 5.0;
+    }
+  } else {
+    if (fraction <= 1.0) {
+      nice = 1.0;
+    } else if (fraction <= 2.0) {
+      nice = 2.0;
+    } else if (fraction <= 5.0) {
+      nice = 5.0;
+    }
+  }
+  return nice * power;
+}
+
+namespace {
+// Relative slack when dividing a range end by the step, so that 0.6 / 0.2 = 2.9999999999999996
+// still counts as 3 whole steps.
+constexpr double kStepSlack = 1e-9;
+
+int FractionDigits(double step) {
+  return std::max(0, -static_cast<int>(std::floor(std::log10(step) + kStepSlack)));
+}
+
+// Ticks k * step for integer k in [k_low, k_high], each rounded to the step's decimals.
+std::vector<double> TickValues(double k_low, double k_high, double step, int digits) {
+  std::vector<double> values;
+  const double scale = std::pow(10.0, digits);
+  for (double k = k_low; k <= k_high + 0.5 && values.size() < 200; k += 1.0) {
+    double value = k * step;
+    if (digits > 0 && digits < 15) value = std::round(value * scale) / scale;
+    values.push_back(value == 0.0 ? 0.0 : value);  // no -0
+  }
+  return values;
+}
+}  // namespace
+
+Ticks NiceLinearTicks(double data_min, double data_max, int num_ticks) {
+  Ticks ticks;
+  if (!(data_max > data_min)) data_max = data_min + 1.0;
+  const int n = std::max(num_ticks, 2);
+  const double range = NiceNumber(data_max - data_min, false);
+  const double step = NiceNumber(range / (n - 1), true);
+  const double k_low = std::floor(data_min / step + kStepSlack);
+  const double k_high = std::ceil(data_max / step - kStepSlack);
+  ticks.fraction_digits = FractionDigits(step);
+  ticks.values = TickValues(k_low, k_high, step, ticks.fraction_digits);
+  ticks.axis_min = ticks.values.front();
+  ticks.axis_max = ticks.values.back();
+  return ticks;
+}
+
+Ticks NiceLinearTicksWithin(double axis_min, double axis_max, int num_ticks) {
+  Ticks ticks;
+  if (!(axis_max > axis_min)) axis_max = axis_min + 1.0;
+  const int n = std::max(num_ticks, 2);
+  const double range = NiceNumber(axis_max - axis_min, false);
+  const double step = NiceNumber(range / (n - 1), true);
+  const double k_low = std::ceil(axis_min / step - kStepSlack);
+  const double k_high = std::floor(axis_max / step + kStepSlack);
+  ticks.axis_min = axis_min;
+  ticks.axis_max = axis_max;
+  ticks.fraction_digits = FractionDigits(step);
+  ticks.values = TickValues(k_low, k_high, step, ticks.fraction_digits);
+  return ticks;
+}
+
+Ticks LogTicks(double data_min, double data_max, bool tight) {
+  Ticks ticks;
+  if (!(data_min > 0.0)) data_min = 1.0;
+  if (!(data_max > data_min)) data_max = data_min * 10.0;
+  const int first = static_cast<int>(std::floor(std::log10(data_min) + kStepSlack));
+  const int last = static_cast<int>(std::ceil(std::log10(data_max) - kStepSlack));
+  ticks.axis_min = tight ? data_min : std::pow(10.0, first);
+  ticks.axis_max = tight ? data_max : std::pow(10.0, std::max(last, first + 1));
+  const double decades = std::log10(ticks.axis_max / ticks.axis_min);
+  std::vector<int> mantissas = {1};
+  if (decades < 1.0) {
+    mantissas = {1, 2, 3, 4, 5, 6, 7, 8, 9};
+  } else if (decades < 3.0) {
+    mantissas = {1, 2, 5};
+  }
+  for (int decade = first; decade <= last; ++decade) {
+    for (int m : mantissas) {
+      const double value = m * std::pow(10.0, decade);
+      if (value >= ticks.axis_min * (1.0 - kStepSlack) &&
+          value <= ticks.axis_max * (1.0 + kStepSlack)) {
+        ticks.values.push_back(value);
+      }
+    }
+  }
+  ticks.fraction_digits = std::max(0, -first);
+  return ticks;
+}
+
+std::string FormatTick(double value, int fraction_digits) {
+  std::string text = fmt::format("{:.{}f}", value, std::clamp(fraction_digits, 0, 12));
+  if (text.find_first_not_of("-0.") == std::string::npos && text.front() == '-') {
+    text.erase(0, 1);  // "-0.0" -> "0.0"
+  }
+  return text;
+}
+
+std::string FormatLogTick(double value) {
+  if (!(value > 0.0)) return "";
+  const int exponent = static_cast<int>(std::floor(std::log10(value) + kStepSlack));
+  const double mantissa = value / std::pow(10.0, exponent);
+  const int m = static_cast<int>(std::lround(mantissa));
+  if (exponent >= -3 && exponent <= 4) {
+    return FormatTick(m * std::pow(10.0, exponent), std::max(0, -exponent));
+  }
+  const std::string power = "10" + Superscript(exponent);
+  return m == 1 ? power : fmt::format("{}·{}", m, power);
+}
+
+// ---- Figures ---------------------------------------------------------------------------------
+double CaptionHeight(const Canvas& canvas, const Figure& figure, double width_pt) {
+  if (figure.caption.empty()) return 0.0;
+  const auto lines = canvas.Wrap(figure.caption, figure.font_size_pt, width_pt);
+  return static_cast<double>(lines.size()) * figure.font_size_pt * 1.3 + 4.0;
+}
+
+FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer) {
+  HPDF_Page page = canvas.page();
+  const double fs = figure.font_size_pt;
+  FigureLayout layout;
+
+  // 1. Ranges and ticks.
+  Extent x_extent, y_extent, r_extent;
+  const Scale y_right_scale = figure.y_right ? figure.y_right->scale : Scale::kLinear;
+  for (const Series& s : figure.series) {
+    Extent& ye = s.right_axis ? r_extent : y_extent;
+    const Scale ys = s.right_axis ? y_right_scale : figure.y.scale;
+    for (size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
+      const double xe = i < s.x_error.size() ? s.x_error[i] : 0.0;
+      const double yerr = i < s.y_error.size() ? s.y_error[i] : 0.0;
+      if (!std::isfinite(s.x[i]) || !std::isfinite(s.y[i])) continue;
+      x_extent.Add(s.x[i] - xe, figure.x.scale);
+      x_extent.Add(s.x[i] + xe, figure.x.scale);
+      x_extent.Add(s.x[i], figure.x.scale);
+      ye.Add(s.y[i] - yerr, ys);
+      ye.Add(s.y[i] + yerr, ys);
+      ye.Add(s.y[i], ys);
+    }
+  }
+  for (const Band& b : figure.bands) {
+    for (size_t i = 0; i < b.x.size(); ++i) {
+      x_extent.Add(b.x[i], figure.x.scale);
+      if (i < b.low.size()) y_extent.Add(b.low[i], figure.y.scale);
+      if (i < b.high.size()) y_extent.Add(b.high[i], figure.y.scale);
+    }
+  }
+  const Ticks x_ticks = AxisTicks(figure.x, x_extent);
+  const Ticks y_ticks = AxisTicks(figure.y, y_extent);
+  Ticks r_ticks;
+  if (figure.y_right) r_ticks = AxisTicks(*figure.y_right, r_extent);
+
+  // 2. Frame inside the outer box, leaving room for labels.
+  double y_label_width = 0.0;
+  if (figure.y.tick_labels) {
+    for (double v : y_ticks.values) {
+      y_label_width = std::max(y_label_width, canvas.TextWidth(TickLabel(figure.y, y_ticks, v), fs));
+    }
+  }
+  double r_label_width = 0.0;
+  if (figure.y_right) {
+    for (double v : r_ticks.values) {
+      r_label_width =
+          std::max(r_label_width, canvas.TextWidth(TickLabel(*figure.y_right, r_ticks, v), fs));
+    }
+  }
+  const double left_pad = y_label_width + 4.0 + (figure.y.label.empty() ? 0.0 : fs * 1.5);
+  const double right_pad =
+      figure.y_right ? r_label_width + 4.0 + (figure.y_right->label.empty() ? 0.0 : fs * 1.5)
+                     : fs * 1.2;
+  const double caption_height = CaptionHeight(canvas, figure, outer.width);
+  const double bottom_pad = (figure.x.tick_labels ? fs * 1.45 : 2.0) +
+                            (figure.x.label.empty() ? 0.0 : fs * 1.5) + caption_height;
+  double top_pad = fs * 0.8;
+  if (!figure.title.empty()) top_pad += fs * 1.7;
+  if (figure.x_top) top_pad += fs * 1.45 + (figure.x_top->label.empty() ? 0.0 : fs * 1.4);
+  layout.frame = {outer.x + left_pad, outer.y + bottom_pad,
+                  std::max(10.0, outer.width - left_pad - right_pad),
+                  std::max(10.0, outer.height - bottom_pad - top_pad)};
+  const Rect& frame = layout.frame;
+  layout.x_axis_min = x_ticks.axis_min;
+  layout.x_axis_max = x_ticks.axis_max;
+  layout.y_axis_min = y_ticks.axis_min;
+  layout.y_axis_max = y_ticks.axis_max;
+
+  const Mapping mx{figure.x.scale, x_ticks.axis_min, x_ticks.axis_max, frame.x, frame.right()};
+  const Mapping my{figure.y.scale, y_ticks.axis_min, y_ticks.axis_max, frame.y, frame.top()};
+  const Mapping mr{y_right_scale, r_ticks.axis_min, r_ticks.axis_max, frame.y, frame.top()};
+
+  // 3. Grid (beneath the data).
+  canvas.FillRect(frame, Color{1.0, 1.0, 1.0});
+  if (figure.x.grid) {
+    for (double v : x_ticks.values) {
+      const double px = mx(v);
+      canvas.Line(px, frame.y, px, frame.top(), 0.4, palette::kGrid);
+    }
+  }
+  if (figure.y.grid) {
+    for (double v : y_ticks.values) {
+      const double py = my(v);
+      canvas.Line(frame.x, py, frame.right(), py, 0.4, palette::kGrid);
+    }
+  }
+
+  // 4. Data, clipped to the frame.
+  HPDF_Page_GSave(page);
+  HPDF_Page_Rectangle(page, F(frame.x), F(frame.y), F(frame.width), F(frame.height));
+  HPDF_Page_Clip(page);
+  HPDF_Page_EndPath(page);
+
+  for (const Band& band : figure.bands) {
+    std::vector<std::pair<double, double>> upper, lower;
+    for (size_t i = 0; i < band.x.size() && i < band.low.size() && i < band.high.size(); ++i) {
+      if (!Usable(band.x[i], figure.x.scale) || !Usable(band.low[i], figure.y.scale) ||
+          !Usable(band.high[i], figure.y.scale)) {
+        continue;
+      }
+      upper.emplace_back(mx(band.x[i]), my(band.high[i]));
+      lower.emplace_back(mx(band.x[i]), my(band.low[i]));
+    }
+    if (upper.size() < 2) continue;
+    SetFill(page, band.fill);
+    HPDF_Page_MoveTo(page, F(upper[0].first), F(upper[0].second));
+    for (size_t i = 1; i < upper.size(); ++i) {
+      HPDF_Page_LineTo(page, F(upper[i].first), F(upper[i].second));
+    }
+    for (size_t i = lower.size(); i-- > 0;) {
+      HPDF_Page_LineTo(page, F(lower[i].first), F(lower[i].second));
+    }
+    HPDF_Page_ClosePath(page);
+    HPDF_Page_Fill(page);
+  }
+  for (const EventLine& event : figure.events) {
+    if (!Usable(event.x, figure.x.scale)) continue;
+    SetDash(page, {2.0, 2.0});
+    canvas.Line(mx(event.x), frame.y, mx(event.x), frame.top(), event.width_pt, event.color);
+    SetDash(page, {});
+  }
+  for (double rule : figure.horizontal_rules) {
+    if (!Usable(rule, figure.y.scale)) continue;
+    canvas.Line(frame.x, my(rule), frame.right(), my(rule), 0.6, palette::kSlate);
+  }
+  std::vector<std::pair<double, double>> occupied;  // page positions of data, for the legend
+  for (const Series& s : figure.series) {
+    const Mapping& ym = s.right_axis ? mr : my;
+    const Scale ys = s.right_axis ? y_right_scale : figure.y.scale;
+    std::vector<std::pair<double, double>> points;
+    for (size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
+      if (!Usable(s.x[i], figure.x.scale) || !Usable(s.y[i], ys)) continue;
+      points.emplace_back(mx(s.x[i]), ym(s.y[i]));
+    }
+    if (s.line) DrawPolyline(page, points, *s.line);
+    occupied.insert(occupied.end(), points.begin(), points.end());
+    // Error bars, then markers on top.
+    if (!s.x_error.empty() || !s.y_error.empty()) {
+      SetDash(page, {});
+      const double cap = s.marker.size_pt * 0.45;
+      for (size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
+        if (!Usable(s.x[i], figure.x.scale) || !Usable(s.y[i], ys)) continue;
+        const double px = mx(s.x[i]);
+        const double py = ym(s.y[i]);
+        const Color c = s.marker.color;
+        if (i < s.y_error.size() && s.y_error[i] > 0.0) {
+          const double lo = s.y[i] - s.y_error[i];
+          const double y0 = Usable(lo, ys) ? ym(lo) : frame.y;
+          const double y1 = ym(s.y[i] + s.y_error[i]);
+          canvas.Line(px, y0, px, y1, 0.6, c);
+          canvas.Line(px - cap, y0, px + cap, y0, 0.6, c);
+          canvas.Line(px - cap, y1, px + cap, y1, 0.6, c);
+        }
+        if (i < s.x_error.size() && s.x_error[i] > 0.0) {
+          const double lo = s.x[i] - s.x_error[i];
+          const double x0 = Usable(lo, figure.x.scale) ? mx(lo) : frame.x;
+          const double x1 = mx(s.x[i] + s.x_error[i]);
+          canvas.Line(x0, py, x1, py, 0.6, c);
+          canvas.Line(x0, py - cap, x0, py + cap, 0.6, c);
+          canvas.Line(x1, py - cap, x1, py + cap, 0.6, c);
+        }
+      }
+    }
+    for (const auto& [px, py] : points) {
+      if (s.marker.shape != MarkerShape::kNone) DrawMarker(page, s.marker, px, py);
+    }
+  }
+  for (const Band& band : figure.bands) {
+    for (size_t i = 0; i < band.x.size() && i < band.high.size(); ++i) {
+      if (Usable(band.x[i], figure.x.scale) && Usable(band.high[i], figure.y.scale)) {
+        occupied.emplace_back(mx(band.x[i]), my(band.high[i]));
+      }
+    }
+  }
+  HPDF_Page_GRestore(page);
+
+  // 5. Frame, ticks and tick labels.
+  canvas.StrokeRect(frame, 0.7, palette::kInk);
+  const double tick = 3.0;
+  for (double v : x_ticks.values) {
+    const double px = mx(v);
+    canvas.Line(px, frame.y, px, frame.y + tick, 0.6, palette::kInk);
+    if (!figure.x_top) canvas.Line(px, frame.top(), px, frame.top() - tick, 0.6, palette::kInk);
+    if (figure.x.tick_labels) {
+      canvas.Text(px, frame.y - fs - 2.0, TickLabel(figure.x, x_ticks, v), fs,
+                  Canvas::Align::kCenter);
+    }
+  }
+  for (double v : y_ticks.values) {
+    const double py = my(v);
+    canvas.Line(frame.x, py, frame.x + tick, py, 0.6, palette::kInk);
+    if (!figure.y_right) canvas.Line(frame.right(), py, frame.right() - tick, py, 0.6, palette::kInk);
+    if (figure.y.tick_labels) {
+      canvas.Text(frame.x - 3.0, py - fs * 0.35, TickLabel(figure.y, y_ticks, v), fs,
+                  Canvas::Align::kRight);
+    }
+  }
+  if (figure.x.scale == Scale::kLog10) {
+    for (double v : LogMinorTicks(x_ticks.axis_min, x_ticks.axis_max)) {
+      canvas.Line(mx(v), frame.y, mx(v), frame.y + tick * 0.55, 0.4, palette::kInk);
+    }
+  }
+  if (figure.y.scale == Scale::kLog10) {
+    for (double v : LogMinorTicks(y_ticks.axis_min, y_ticks.axis_max)) {
+      canvas.Line(frame.x, my(v), frame.x + tick * 0.55, my(v), 0.4, palette::kInk);
+    }
+  }
+  if (figure.y_right) {
+    for (double v : r_ticks.values) {
+      const double py = mr(v);
+      canvas.Line(frame.right(), py, frame.right() - tick, py, 0.6, palette::kInk);
+      canvas.Text(frame.right() + 3.0, py - fs * 0.35, TickLabel(*figure.y_right, r_ticks, v), fs);
+    }
+    if (!figure.y_right->label.empty()) {
+      canvas.VerticalText(frame.right() + r_label_width + 4.0 + fs * 1.1,
+                          frame.y + frame.height / 2.0, figure.y_right->label, fs);
+    }
+  }
+
+  // Secondary (top) axis through its mapping.
+  if (figure.x_top && figure.x_top->to_secondary && figure.x_top->from_secondary) {
+    const SecondaryAxis& top = *figure.x_top;
+    Extent s_extent;
+    constexpr int kSamples = 256;
+    for (int i = 0; i <= kSamples; ++i) {
+      const double x = x_ticks.axis_min + (x_ticks.axis_max - x_ticks.axis_min) * i / kSamples;
+      s_extent.Add(top.to_secondary(x), top.scale);
+    }
+    if (!s_extent.empty()) {
+      struct Candidate {
+        double value;
+        int priority;
+      };
+      std::vector<Candidate> candidates;
+      int digits = 0;
+      if (top.scale == Scale::kLog10) {
+        const int first = static_cast<int>(std::floor(std::log10(s_extent.low)));
+        const int last = static_cast<int>(std::ceil(std::log10(s_extent.high)));
+        for (int decade = first; decade <= last; ++decade) {
+          const double p = std::pow(10.0, decade);
+          candidates.push_back({p, 0});
+          candidates.push_back({5.0 * p, 1});
+          candidates.push_back({2.0 * p, 2});
+        }
+      } else {
+        const Ticks t = NiceLinearTicksWithin(s_extent.low, s_extent.high, 8);
+        digits = t.fraction_digits;
+        for (size_t i = 0; i < t.values.size(); ++i) {
+          candidates.push_back({t.values[i], static_cast<int>(i % 2)});
+        }
+      }
+      std::stable_sort(candidates.begin(), candidates.end(),
+                       [](const Candidate& a, const Candidate& b) { return a.priority < b.priority; });
+      std::vector<std::pair<double, double>> accepted;  // (page x, half label width)
+      for (const Candidate& c : candidates) {
+        const double x = top.from_secondary(c.value);
+        if (!std::isfinite(x) || x < x_ticks.axis_min || x > x_ticks.axis_max) continue;
+        const double px = mx(x);
+        const std::string label =
+            top.scale == Scale::kLog10 ? FormatLogTick(c.value) : FormatTick(c.value, digits);
+        const double half = canvas.TextWidth(label, fs) / 2.0;
+        bool fits = true;
+        for (const auto& [ax, ah] : accepted) {
+          if (std::abs(ax - px) < std::max(top.min_spacing_pt, ah + half + 4.0)) fits = false;
+        }
+        if (!fits) continue;
+        accepted.emplace_back(px, half);
+        canvas.Line(px, frame.top(), px, frame.top() - tick, 0.6, palette::kInk);
+        canvas.Text(px, frame.top() + 3.0, label, fs, Canvas::Align::kCenter);
+      }
+    }
+    if (!top.label.empty()) {
+      canvas.Text(frame.x + frame.width / 2.0, frame.top() + fs * 1.45 + 2.0, top.label, fs,
+                  Canvas::Align::kCenter);
+    }
+  }
+
+  // Axis labels, title, caption.
+  if (!figure.x.label.empty()) {
+    const double base = frame.y - (figure.x.tick_labels ? fs * 1.45 : 2.0) - fs * 1.25;
+    canvas.Text(frame.x + frame.width / 2.0, base, figure.x.label, fs, Canvas::Align::kCenter);
+  }
+  if (!figure.y.label.empty()) {
+    canvas.VerticalText(frame.x - y_label_width - 4.0 - fs * 0.45, frame.y + frame.height / 2.0,
+                        figure.y.label, fs);
+  }
+  if (!figure.title.empty()) {
+    canvas.Text(outer.x, outer.top() - fs * 1.2, figure.title, fs * 1.1, Canvas::Align::kLeft,
+                true);
+  }
+  if (!figure.caption.empty()) {
+    const auto lines = canvas.Wrap(figure.caption, fs, outer.width);
+    double y = outer.y + caption_height - 4.0 - fs;
+    for (const std::string& line : lines) {
+      canvas.Text(outer.x, y, line, fs, Canvas::Align::kLeft, false, palette::kSlate);
+      y -= fs * 1.3;
+    }
+  }
+
+  // 6. Legend in the emptiest corner.
+  std::vector<LegendEntry> entries;
+  if (figure.legend) {
+    for (const Series& s : figure.series) {
+      if (!s.legend.empty()) entries.push_back({s.legend, &s, nullptr});
+    }
+    for (const Band& b : figure.bands) {
+      if (!b.legend.empty()) entries.push_back({b.legend, nullptr, &b});
+    }
+  }
+  if (!entries.empty()) {
+    const double lfs = fs * 0.95;
+    const double row = lfs * 1.45;
+    const double sample = 16.0;
+    double text_width = 0.0;
+    for (const LegendEntry& e : entries) text_width = std::max(text_width, canvas.TextWidth(e.text, lfs));
+    const double width = std::min(frame.width - 8.0, 6.0 + sample + 4.0 + text_width + 6.0);
+    const double height = std::min(frame.height - 8.0, 4.0 + row * entries.size());
+    const double inset = 5.0;
+    const std::array<Rect, 4> corners = {
+        Rect{frame.x + inset, frame.top() - inset - height, width, height},
+        Rect{frame.right() - inset - width, frame.top() - inset - height, width, height},
+        Rect{frame.right() - inset - width, frame.y + inset, width, height},
+        Rect{frame.x + inset, frame.y + inset, width, height}};
+    int best = 0;
+    int best_count = std::numeric_limits<int>::max();
+    for (int c = 0; c < 4; ++c) {
+      const Rect& r = corners[static_cast<size_t>(c)];
+      int count = 0;
+      for (const auto& [px, py] : occupied) {
+        if (px >= r.x - 3.0 && px <= r.right() + 3.0 && py >= r.y - 3.0 && py <= r.top() + 3.0) {
+          ++count;
+        }
+      }
+      if (count < best_count) {
+        best = c;
+        best_count = count;
+      }
+    }
+    const Rect box = corners[static_cast<size_t>(best)];
+    layout.legend = box;
+    layout.legend_corner = best;
+    layout.legend_points_covered = best_count;
+    canvas.FillRect(box, Color{1.0, 1.0, 1.0});
+    canvas.StrokeRect(box, 0.4, palette::kSlate);
+    double y = box.top() - 2.0 - row / 2.0;
+    for (const LegendEntry& e : entries) {
+      const double sx = box.x + 6.0;
+      if (e.band != nullptr) {
+        canvas.FillRect({sx, y - lfs * 0.4, sample, lfs * 0.8}, e.band->fill);
+      } else if (e.series != nullptr) {
+        if (e.series->line) {
+          DrawPolyline(page, {{sx, y}, {sx + sample, y}}, *e.series->line);
+        }
+        if (e.series->marker.shape != MarkerShape::kNone) {
+          DrawMarker(page, e.series->marker, sx + sample / 2.0, y);
+        }
+      }
+      canvas.Text(sx + sample + 4.0, y - lfs * 0.35, e.text, lfs);
+      y -= row;
+    }
+  }
+  return layout;
+}
+
+}  // namespace sorbtrace::report::plot

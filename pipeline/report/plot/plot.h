@@ -1,0 +1,214 @@
+// Plot engine of the report stage: vector figures drawn straight into a libharu page.
+// Everything a datasheet figure needs and nothing more: axes with "nice" tick values
+// (Heckbert, "Nice numbers for graph labels", Graphics Gems, 1990), linear and log10 scales,
+// grid, a secondary axis whose ticks are computed through a mapping function (e.g. capillary
+// pressure along a relative-humidity axis), an independent right-hand axis (e.g. RH beside a
+// mass axis), markers of distinct shapes that survive greyscale printing, error bars in x
+// and y, polylines, shaded bands, vertical event lines, a legend placed in the corner where
+// it covers the fewest data points, and a caption. Drawing is clipped to the plot frame.
+//
+// Coordinates on the page are PDF points (1/72 in), origin bottom-left. Data coordinates are
+// whatever the caller plots (already converted to display units, e.g. RH in %).
+#pragma once
+
+#include <hpdf.h>
+
+#include <functional>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace sorbtrace::report::plot {
+
+// An RGB colour, components in [0, 1].
+struct Color {
+  double r = 0.0;
+  double g = 0.0;
+  double b = 0.0;
+  // The colour mixed with white: amount 0 keeps it, 1 gives white (light tints for bands).
+  Color Tint(double amount) const;
+};
+
+// The report's restrained palette (an identity of its own: ink blue-grey, teal, ochre,
+// plum, moss). Distinct in hue and in lightness, so series stay apart in greyscale.
+namespace palette {
+inline constexpr Color kInk{0.13, 0.16, 0.20};
+inline constexpr Color kTeal{0.05, 0.40, 0.45};
+inline constexpr Color kOchre{0.72, 0.45, 0.10};
+inline constexpr Color kPlum{0.45, 0.22, 0.42};
+inline constexpr Color kMoss{0.35, 0.45, 0.18};
+inline constexpr Color kSlate{0.40, 0.44, 0.50};
+inline constexpr Color kGrid{0.86, 0.88, 0.90};
+// The i-th series colour (cycles).
+Color Series(int index);
+}  // namespace palette
+
+// A rectangle on the page [pt].
+struct Rect {
+  double x = 0.0;  // left
+  double y = 0.0;  // bottom
+  double width = 0.0;
+  double height = 0.0;
+  double right() const { return x + width; }
+  double top() const { return y + height; }
+};
+
+// Fonts and page that every drawing call writes to. Text is UTF-8 (the document uses
+// libharu's UTF-8 encoder with an embedded TrueType font, so °, ±, ², µ and Greek print).
+class Canvas {
+ public:
+  Canvas(HPDF_Page page, HPDF_Font regular, HPDF_Font bold);
+
+  enum class Align { kLeft, kCenter, kRight };
+  // Draws one line of text with its baseline at y.
+  void Text(double x, double y, std::string_view text, double size_pt, Align align = Align::kLeft,
+            bool bold = false, Color color = palette::kInk);
+  // Text rotated by 90 degrees counter-clockwise, centred on (x, y) along its length.
+  void VerticalText(double x, double y, std::string_view text, double size_pt,
+                    Color color = palette::kInk);
+  double TextWidth(std::string_view text, double size_pt, bool bold = false) const;
+  // Splits text into lines no wider than width_pt (breaks at spaces; long words stay whole).
+  std::vector<std::string> Wrap(std::string_view text, double size_pt, double width_pt,
+                                bool bold = false) const;
+
+  void Line(double x0, double y0, double x1, double y1, double width_pt, Color color);
+  void StrokeRect(const Rect& rect, double width_pt, Color color);
+  void FillRect(const Rect& rect, Color color);
+
+  HPDF_Page page() const { return page_; }
+
+ private:
+  HPDF_Page page_;
+  HPDF_Font regular_;
+  HPDF_Font bold_;
+};
+
+enum class Scale { kLinear, kLog10 };
+
+// ---- Tick values --------------------------------------------------------------------------
+// Heckbert's nice number: the "nice" value (1, 2, 5 or 10 times a power of ten) closest to x
+// (round = true) or not smaller than x (round = false). x > 0.
+double NiceNumber(double x, bool round);
+
+struct Ticks {
+  double axis_min = 0.0;       // the axis range (loose: extended to whole ticks)
+  double axis_max = 1.0;
+  std::vector<double> values;  // tick positions within [axis_min, axis_max]
+  int fraction_digits = 0;     // decimals that print every tick exactly
+};
+
+// Heckbert's loose labelling of [data_min, data_max] with about num_ticks ticks.
+Ticks NiceLinearTicks(double data_min, double data_max, int num_ticks);
+// Same, but the range is kept as given (tight); ticks fall inside it.
+Ticks NiceLinearTicksWithin(double axis_min, double axis_max, int num_ticks);
+// Decades (and 2, 5 between them when the range spans fewer than three decades) for a log10
+// axis; the range is widened to whole decades unless `tight`. Requires 0 < min < max.
+Ticks LogTicks(double data_min, double data_max, bool tight);
+
+// A tick value printed with `fraction_digits` decimals, without "-0" and without binary
+// noise (e.g. 0.30000000000000004 prints "0.3").
+std::string FormatTick(double value, int fraction_digits);
+// Log-axis tick label: 0.001 .. 10000 printed plainly ("0.1", "20"), else "10⁻⁵" style.
+std::string FormatLogTick(double value);
+
+// ---- Figure description ---------------------------------------------------------------------
+enum class MarkerShape { kCircle, kSquare, kTriangleUp, kDiamond, kTriangleDown, kNone };
+
+struct MarkerStyle {
+  MarkerShape shape = MarkerShape::kCircle;
+  bool filled = true;
+  double size_pt = 4.6;  // width of the marker
+  Color color = palette::kTeal;
+};
+
+struct LineStyle {
+  Color color = palette::kTeal;
+  double width_pt = 1.0;
+  std::vector<double> dash_pt;  // empty: solid
+};
+
+struct Axis {
+  std::string label;  // with its unit, e.g. "relative humidity (%)"
+  Scale scale = Scale::kLinear;
+  std::optional<double> min;  // fixed range; automatic (nice, loose) when unset
+  std::optional<double> max;
+  int num_ticks = 6;          // target for linear axes
+  bool grid = true;
+  bool tick_labels = true;
+  bool include_zero = false;  // automatic linear ranges start at 0 when true
+};
+
+// A second scale for the bottom/top axis, drawn along the top: secondary = to_secondary(x).
+// Ticks are chosen in secondary units (1-2-5 on log scales, nice numbers on linear) and
+// placed through from_secondary; ticks closer than min_spacing_pt to a neighbour are dropped.
+struct SecondaryAxis {
+  std::string label;
+  Scale scale = Scale::kLog10;
+  std::function<double(double)> to_secondary;
+  std::function<double(double)> from_secondary;
+  double min_spacing_pt = 22.0;
+};
+
+// Points (with optional error bars) and/or a polyline through them.
+struct Series {
+  std::string legend;  // empty: not in the legend
+  std::vector<double> x;
+  std::vector<double> y;
+  std::vector<double> x_error;  // half-widths (same size as x) or empty
+  std::vector<double> y_error;
+  MarkerStyle marker;           // shape kNone: no markers
+  std::optional<LineStyle> line;
+  bool right_axis = false;      // plotted against Figure::y_right
+};
+
+// A shaded band between two curves on a common x grid (drawn beneath everything else).
+struct Band {
+  std::string legend;
+  std::vector<double> x;
+  std::vector<double> low;
+  std::vector<double> high;
+  Color fill = palette::kTeal.Tint(0.8);
+};
+
+// A vertical line across the frame (e.g. where an equilibrium was detected).
+struct EventLine {
+  double x = 0.0;
+  Color color = palette::kSlate;
+  double width_pt = 0.5;
+};
+
+struct Figure {
+  Axis x;
+  Axis y;
+  std::optional<Axis> y_right;       // independent right-hand axis for right_axis series
+  std::optional<SecondaryAxis> x_top;
+  std::vector<Band> bands;
+  std::vector<Series> series;
+  std::vector<EventLine> events;
+  std::vector<double> horizontal_rules;  // y values of thin rules (e.g. 0 in residual plots)
+  std::string title;                     // small bold line above the frame (optional)
+  std::string caption;                   // wrapped below the axis label (optional)
+  bool legend = true;
+  double font_size_pt = 7.5;
+};
+
+// Where things ended up, for tests and for stacking panels.
+struct FigureLayout {
+  Rect frame;               // the plot frame
+  double x_axis_min = 0.0;  // the final axis ranges
+  double x_axis_max = 1.0;
+  double y_axis_min = 0.0;
+  double y_axis_max = 1.0;
+  Rect legend;              // zero size when no legend
+  int legend_corner = -1;   // 0 top-left, 1 top-right, 2 bottom-right, 3 bottom-left
+  int legend_points_covered = 0;
+};
+
+// Draws the figure inside `outer` (labels, legend and caption included).
+FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer);
+
+// Height a caption of `text` takes below a figure `width_pt` wide (for page layout).
+double CaptionHeight(const Canvas& canvas, const Figure& figure, double width_pt);
+
+}  // namespace sorbtrace::report::plot

@@ -1,0 +1,247 @@
+// LoadTemplate: reads templates/*.toml. Every key is known or rejected (naming the key, its
+// line and column), every value is type-checked, so a misspelt setting never goes unnoticed.
+#include <toml++/toml.h>
+
+#include <algorithm>
+#include <set>
+#include <string>
+#include <vector>
+
+#include "pipeline/common/diagnostics.h"
+#include "pipeline/report/report.h"
+
+namespace sorbtrace::report {
+namespace {
+
+const std::vector<std::string>& KnownSections() {
+  static const std::vector<std::string> kSections = {
+      "summary", "isotherm", "models", "pores", "kinetics", "equilibria", "method", "cautions"};
+  return kSections;
+}
+
+std::string JoinQuoted(const std::vector<std::string>& items) {
+  std::string out;
+  for (size_t i = 0; i < items.size(); ++i) {
+    if (i > 0) out += i + 1 == items.size() ? " or " : ", ";
+    out += "\"" + items[i] + "\"";
+  }
+  return out;
+}
+
+class TemplateReader {
+ public:
+  explicit TemplateReader(std::string file) : file_(std::move(file)) {}
+
+  SourceLocation Where(const toml::source_region& region) const {
+    return {file_, static_cast<int>(region.begin.line), static_cast<int>(region.begin.column)};
+  }
+
+  // Throws for any key of `table` not in `allowed`.
+  void CheckKeys(const toml::table& table, const std::string& table_name,
+                 const std::vector<std::string>& allowed) const {
+    for (auto&& [key, node] : table) {
+      if (std::find(allowed.begin(), allowed.end(), std::string(key.str())) == allowed.end()) {
+        const std::string where = table_name.empty() ? "at top level" : "in [" + table_name + "]";
+        throw InputError(Where(key.source()),
+                         "unknown key '" + std::string(key.str()) + "' " + where,
+                         "one of " + JoinQuoted(allowed));
+      }
+    }
+  }
+
+  const toml::table* Table(const toml::table& parent, const std::string& name) const {
+    const toml::node* node = parent.get(name);
+    if (node == nullptr) return nullptr;
+    if (!node->is_table()) {
+      throw InputError(Where(node->source()), "'" + name + "' must be a table", "[" + name + "]");
+    }
+    return node->as_table();
+  }
+
+  std::string String(const toml::node& node, const std::string& key) const {
+    if (!node.is_string()) {
+      throw InputError(Where(node.source()), "'" + key + "' must be a string",
+                       "a quoted string");
+    }
+    return node.as_string()->get();
+  }
+
+  double Number(const toml::node& node, const std::string& key) const {
+    if (node.is_integer()) return static_cast<double>(node.as_integer()->get());
+    if (node.is_floating_point()) return node.as_floating_point()->get();
+    throw InputError(Where(node.source()), "'" + key + "' must be a number", "a number");
+  }
+
+  long long Integer(const toml::node& node, const std::string& key) const {
+    if (!node.is_integer()) {
+      throw InputError(Where(node.source()), "'" + key + "' must be an integer", "an integer");
+    }
+    return node.as_integer()->get();
+  }
+
+  bool Boolean(const toml::node& node, const std::string& key) const {
+    if (!node.is_boolean()) {
+      throw InputError(Where(node.source()), "'" + key + "' must be true or false",
+                       "true or false");
+    }
+    return node.as_boolean()->get();
+  }
+
+  std::vector<std::string> StringArray(const toml::node& node, const std::string& key) const {
+    if (!node.is_array()) {
+      throw InputError(Where(node.source()), "'" + key + "' must be an array of strings",
+                       "[\"...\", ...]");
+    }
+    std::vector<std::string> out;
+    for (const toml::node& item : *node.as_array()) out.push_back(String(item, key));
+    return out;
+  }
+
+ private:
+  std::string file_;
+};
+
+}  // namespace
+
+Template LoadTemplate(const std::filesystem::path& template_file) {
+  const std::string file = template_file.string();
+  toml::table root;
+  try {
+    root = toml::parse_file(file);
+  } catch (const toml::parse_error& error) {
+    const auto& begin = error.source().begin;
+    throw InputError(SourceLocation{file, static_cast<int>(begin.line),
+                                    static_cast<int>(begin.column)},
+                     "invalid TOML: " + std::string(error.description()),
+                     "a report template in TOML");
+  }
+  TemplateReader reader(file);
+  Template layout;
+  layout.source_file = template_file;
+  layout.sections.clear();
+
+  reader.CheckKeys(root, "", {"template", "lab", "units", "layout", "reference"});
+
+  if (const toml::table* t = reader.Table(root, "template")) {
+    reader.CheckKeys(*t, "template", {"name", "title", "page_size", "margin_mm"});
+    if (const toml::node* n = t->get("name")) layout.name = reader.String(*n, "name");
+    if (const toml::node* n = t->get("title")) layout.title = reader.String(*n, "title");
+    if (const toml::node* n = t->get("page_size")) {
+      const std::string size = reader.String(*n, "page_size");
+      if (size == "A4") {
+        layout.page_size = PageSize::kA4;
+      } else if (size == "letter") {
+        layout.page_size = PageSize::kLetter;
+      } else {
+        throw InputError(reader.Where(n->source()),
+                         "page_size \"" + size + "\" is not supported", "\"A4\" or \"letter\"");
+      }
+    }
+    if (const toml::node* n = t->get("margin_mm")) {
+      layout.margin_mm = reader.Number(*n, "margin_mm");
+      // Below 10 mm printers clip; above 40 mm little is left for the figures (common practice).
+      if (!(layout.margin_mm >= 10.0 && layout.margin_mm <= 40.0)) {
+        throw InputError(reader.Where(n->source()),
+                         "margin_mm " + std::to_string(layout.margin_mm) + " is out of range",
+                         "a margin from 10 to 40 mm");
+      }
+    }
+  }
+  if (layout.name.empty()) layout.name = template_file.stem().string();
+
+  if (const toml::table* t = reader.Table(root, "lab")) {
+    reader.CheckKeys(*t, "lab", {"name", "address", "accreditation", "signatories"});
+    if (const toml::node* n = t->get("name")) layout.lab_name = reader.String(*n, "name");
+    if (const toml::node* n = t->get("address")) layout.lab_address = reader.String(*n, "address");
+    if (const toml::node* n = t->get("accreditation")) {
+      layout.accreditation = reader.String(*n, "accreditation");
+    }
+    if (const toml::node* n = t->get("signatories")) {
+      layout.signatories = reader.StringArray(*n, "signatories");
+    }
+  }
+
+  if (const toml::table* t = reader.Table(root, "units")) {
+    reader.CheckKeys(*t, "units", {"moisture", "uncertainty_significant_digits"});
+    if (const toml::node* n = t->get("moisture")) {
+      const std::string unit = reader.String(*n, "moisture");
+      if (unit == "percent") {
+        layout.moisture_in_percent = true;
+      } else if (unit == "kg/kg") {
+        layout.moisture_in_percent = false;
+      } else {
+        throw InputError(reader.Where(n->source()), "moisture unit \"" + unit + "\" is not supported",
+                         "\"percent\" or \"kg/kg\"");
+      }
+    }
+    if (const toml::node* n = t->get("uncertainty_significant_digits")) {
+      const long long digits = reader.Integer(*n, "uncertainty_significant_digits");
+      // JCGM 100:2008, 7.2.6: "at most two significant digits"; one is allowed too.
+      if (digits < 1 || digits > 2) {
+        throw InputError(reader.Where(n->source()),
+                         "uncertainty_significant_digits " + std::to_string(digits) +
+                             " is out of range",
+                         "1 or 2 (JCGM 100:2008, 7.2.6)");
+      }
+      layout.uncertainty_significant_digits = static_cast<int>(digits);
+    }
+  }
+
+  if (const toml::table* t = reader.Table(root, "layout")) {
+    reader.CheckKeys(*t, "layout", {"sections", "compact"});
+    if (const toml::node* n = t->get("sections")) {
+      layout.sections = reader.StringArray(*n, "sections");
+      const auto& known = KnownSections();
+      std::set<std::string> seen;
+      const toml::array& array = *n->as_array();
+      for (size_t i = 0; i < layout.sections.size(); ++i) {
+        const std::string& section = layout.sections[i];
+        if (std::find(known.begin(), known.end(), section) == known.end()) {
+          throw InputError(reader.Where(array[i].source()),
+                           "unknown section \"" + section + "\"", "one of " + JoinQuoted(known));
+        }
+        if (!seen.insert(section).second) {
+          throw InputError(reader.Where(array[i].source()),
+                           "section \"" + section + "\" is listed twice", "each section once");
+        }
+      }
+    }
+    if (const toml::node* n = t->get("compact")) layout.compact = reader.Boolean(*n, "compact");
+  }
+  if (layout.sections.empty()) layout.sections = KnownSections();
+
+  if (const toml::node* n = root.get("reference")) {
+    if (!n->is_array_of_tables()) {
+      throw InputError(reader.Where(n->source()), "'reference' must be an array of tables",
+                       "[[reference]] entries");
+    }
+    for (const toml::node& item : *n->as_array()) {
+      const toml::table& t = *item.as_table();
+      reader.CheckKeys(t, "reference", {"temperature_C", "rh_percent"});
+      pores::ReferenceCondition condition;
+      const toml::node* temperature = t.get("temperature_C");
+      const toml::node* rh = t.get("rh_percent");
+      if (temperature == nullptr || rh == nullptr) {
+        throw InputError(reader.Where(t.source()), "[[reference]] needs temperature_C and rh_percent",
+                         "temperature_C = 23.0 and rh_percent = 50.0");
+      }
+      const double temperature_C = reader.Number(*temperature, "temperature_C");
+      const double rh_percent = reader.Number(*rh, "rh_percent");
+      if (!(rh_percent > 0.0 && rh_percent < 100.0)) {
+        throw InputError(reader.Where(rh->source()), "rh_percent is out of range",
+                         "a relative humidity between 0 and 100 %");
+      }
+      // The physics correlations cover 0..100 degC (pipeline/physics/physics.h).
+      if (!(temperature_C >= 0.0 && temperature_C <= 100.0)) {
+        throw InputError(reader.Where(temperature->source()), "temperature_C is out of range",
+                         "a temperature from 0 to 100 °C");
+      }
+      condition.temperature_K = temperature_C + 273.15;  // ITS-90 offset
+      condition.rh_fraction = rh_percent / 100.0;
+      layout.reference_conditions.push_back(condition);
+    }
+  }
+  return layout;
+}
+
+}  // namespace sorbtrace::report

@@ -1,0 +1,76 @@
+#include "pipeline/run/audit.h"
+
+#include <cmath>
+#include <set>
+
+namespace sorbtrace::run {
+namespace {
+
+std::string Escape(const std::string& key) {
+  std::string out;
+  for (char c : key) {
+    if (c == '~') {
+      out += "~0";
+    } else if (c == '/') {
+      out += "~1";
+    } else {
+      out += c;
+    }
+  }
+  return out;
+}
+
+std::string Text(const nlohmann::json& value) { return value.is_null() ? "(missing)" : value.dump(); }
+
+void Compare(const std::string& pointer, const nlohmann::json& a, const nlohmann::json& b,
+             std::vector<AuditLine>& lines) {
+  if (a.is_object() && b.is_object()) {
+    std::set<std::string> keys;
+    for (const auto& [key, value] : a.items()) keys.insert(key);
+    for (const auto& [key, value] : b.items()) keys.insert(key);
+    for (const auto& key : keys) {
+      const nlohmann::json& left = a.contains(key) ? a.at(key) : nlohmann::json();
+      const nlohmann::json& right = b.contains(key) ? b.at(key) : nlohmann::json();
+      if (!a.contains(key) || !b.contains(key)) {
+        lines.push_back({pointer + "/" + Escape(key), Text(left), Text(right), 0.0, false});
+        continue;
+      }
+      Compare(pointer + "/" + Escape(key), left, right, lines);
+    }
+    return;
+  }
+  if (a.is_array() && b.is_array()) {
+    const size_t n = std::max(a.size(), b.size());
+    for (size_t i = 0; i < n; ++i) {
+      const std::string child = pointer + "/" + std::to_string(i);
+      if (i >= a.size() || i >= b.size()) {
+        lines.push_back({child, i < a.size() ? Text(a[i]) : "(missing)",
+                         i < b.size() ? Text(b[i]) : "(missing)", 0.0, false});
+        continue;
+      }
+      Compare(child, a[i], b[i], lines);
+    }
+    return;
+  }
+  if (a.is_number() && b.is_number()) {
+    const double x = a.get<double>();
+    const double y = b.get<double>();
+    const bool same = x == y || (std::isnan(x) && std::isnan(y)) ||
+                      std::fabs(x - y) <= kAuditRelativeTolerance * std::max(std::fabs(x), std::fabs(y)) +
+                                              kAuditAbsoluteTolerance;
+    lines.push_back({pointer, a.dump(), b.dump(), kAuditRelativeTolerance, same});
+    return;
+  }
+  lines.push_back({pointer, Text(a), Text(b), 0.0, a == b});
+}
+
+}  // namespace
+
+std::vector<AuditLine> CompareResults(const nlohmann::json& reported,
+                                      const nlohmann::json& recomputed) {
+  std::vector<AuditLine> lines;
+  Compare("", reported, recomputed, lines);
+  return lines;
+}
+
+}  // namespace sorbtrace::run

@@ -1,0 +1,103 @@
+// One job run: ingest -> equilibrate -> reduce -> fit -> pores -> report, in memory.
+#include <cstdlib>
+#include <ctime>
+#include <filesystem>
+#include <string>
+
+#include "pipeline/common/files.h"
+#include "pipeline/run/run.h"
+#include "pipeline/run/version.h"
+
+namespace sorbtrace::run {
+namespace {
+
+constexpr int kNumStages = 6;
+
+// The document date printed on the sheet: the job's issue date, else SOURCE_DATE_EPOCH
+// (reproducible-builds.org convention), else "undated". Never the wall clock, so the same
+// inputs always give the same bytes.
+std::string DocumentDate(const ingest::JobSpec& job) {
+  if (!job.issue_date.empty()) return job.issue_date;
+  if (const char* epoch = std::getenv("SOURCE_DATE_EPOCH"); epoch != nullptr && *epoch != '\0') {
+    char* end = nullptr;
+    const long long seconds = std::strtoll(epoch, &end, 10);
+    if (end != nullptr && *end == '\0' && seconds >= 0) {
+      const std::time_t time = static_cast<std::time_t>(seconds);
+      std::tm utc{};
+      gmtime_r(&time, &utc);
+      char buffer[16];
+      std::strftime(buffer, sizeof buffer, "%Y-%m-%d", &utc);
+      return buffer;
+    }
+  }
+  return "undated";
+}
+
+void Append(std::vector<Diagnostic>& to, const std::vector<Diagnostic>& from) {
+  to.insert(to.end(), from.begin(), from.end());
+}
+
+}  // namespace
+
+RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& options) {
+  auto progress = [&options](const char* stage, int index) {
+    if (options.progress) options.progress(stage, index, kNumStages);
+  };
+  RunResult result;
+  progress("ingest", 0);
+  result.job = ingest::LoadJobSpec(job_file);
+  const JobSettings settings = LoadJobSettings(job_file, result.job, options.output_dir);
+  ingest::IngestResult ingested = ingest::Ingest(result.job, settings.ingest);
+  {
+    const std::string content = ReadWholeFile(settings.template_file);
+    ingest::InputFileRecord record;
+    record.role = "template";
+    record.path = settings.template_file.filename().string();
+    record.sha256 = Sha256Hex(content);
+    record.size_bytes = content.size();
+    ingested.inputs.push_back(record);
+  }
+  Append(result.warnings, ingested.summary.warnings);
+
+  progress("equilibrate", 1);
+  const equilibrate::EquilibriumSet equilibria = equilibrate::Equilibrate(ingested, settings.equilibrate);
+  Append(result.warnings, equilibria.summary.warnings);
+
+  progress("reduce", 2);
+  const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
+  Append(result.warnings, reduced.summary.warnings);
+
+  progress("fit", 3);
+  const fit::IsothermFits fits = fit::FitIsotherms(reduced, settings.fit);
+  Append(result.warnings, fits.summary.warnings);
+
+  progress("pores", 4);
+  const pores::PoreAnalysis pore_analysis = pores::AnalysePores(reduced, fits, settings.pores);
+  Append(result.warnings, pore_analysis.summary.warnings);
+
+  progress("report", 5);
+  const report::Template layout = report::LoadTemplate(settings.template_file);
+  report::ReportInputs inputs;
+  inputs.ingested = &ingested;
+  inputs.equilibria = &equilibria;
+  inputs.reduced = &reduced;
+  inputs.fits = &fits;
+  inputs.pores = &pore_analysis;
+  inputs.effective_settings = settings.effective;
+  // Where `sorbtrace verify` finds the job again: relative to the output folder.
+  const std::filesystem::path out_abs = std::filesystem::absolute(options.output_dir);
+  const std::filesystem::path job_abs = std::filesystem::absolute(job_file);
+  inputs.effective_settings["job_file"] =
+      job_abs.lexically_normal().lexically_relative(out_abs.lexically_normal()).generic_string();
+  inputs.software_version = std::string("sorbtrace ") + kVersion;
+  report::ReportOptions report_options;
+  report_options.document_date = DocumentDate(result.job);
+  result.artifacts = report::ComposeReport(inputs, layout, report_options);
+
+  result.log = "sorbtrace " + std::string(kVersion) + "\njob: " + job_file.string() + "\n";
+  for (const auto& warning : result.warnings) result.log += FormatDiagnostic(warning) + "\n";
+  result.log += "datasheet: " + std::to_string(result.artifacts.num_pages) + " pages\n";
+  return result;
+}
+
+}  // namespace sorbtrace::run

@@ -1,0 +1,31 @@
+#!/usr/bin/env bash
+# Installs the dependencies, builds sorbtrace (warnings as errors) and runs the whole test
+# suite; then builds again with AddressSanitizer + UndefinedBehaviorSanitizer and runs the
+# suite again; then gives every libFuzzer target a short run. This is what CI runs.
+# Usage: scripts/test.sh            (from anywhere; builds in build/ and build-asan/)
+#        SORBTRACE_SKIP_ASAN=1 ...  (local quick run without the sanitizer pass)
+set -euo pipefail
+cd "$(dirname "$0")/.."
+jobs=$(nproc)
+
+bash scripts/install-deps.sh
+
+echo "== release build + tests"
+cmake -S . -B build -DCMAKE_BUILD_TYPE=Release -DSORBTRACE_WERROR=ON >/dev/null
+cmake --build build -j"$jobs"
+ctest --test-dir build --output-on-failure -j"$jobs" --timeout 600
+
+if [ "${SORBTRACE_SKIP_ASAN:-0}" != "1" ]; then
+  echo "== AddressSanitizer + UBSan build + tests"
+  cmake -S . -B build-asan -DCMAKE_BUILD_TYPE=RelWithDebInfo -DSORBTRACE_SANITIZE=ON \
+        -DSORBTRACE_BUILD_BENCH=OFF >/dev/null
+  cmake --build build-asan -j"$jobs"
+  ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 \
+    ctest --test-dir build-asan --output-on-failure -j"$jobs" --timeout 900 -LE slow
+fi
+
+if [ -x scripts/fuzz-smoke.sh ] && [ "${SORBTRACE_SKIP_FUZZ:-0}" != "1" ]; then
+  echo "== short fuzz runs"
+  bash scripts/fuzz-smoke.sh
+fi
+echo "== all tests passed"
