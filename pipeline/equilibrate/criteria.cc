@@ -111,8 +111,8 @@ RateCriterionResult EvaluateRateCriterion(std::span<const ingest::LogBlock> bloc
   for (std::size_t end = 0; end < blocks.size(); ++end) {
     while (blocks[end].time_s - blocks[first].time_s > options.rate_window_s) ++first;
     // The window is full once the step has lasted a whole window.
-    const bool complete = blocks[end].time_s - step_start_s >= options.rate_window_s &&
-                          end >= first + 2;
+    const bool complete =
+        blocks[end].time_s - step_start_s >= options.rate_window_s && end >= first + 2;
     double slope = 0.0;
     if (complete) {
       slope = BlockSlope_g_per_s(blocks, first, end);
@@ -127,8 +127,8 @@ RateCriterionResult EvaluateRateCriterion(std::span<const ingest::LogBlock> bloc
       if (!complete) slope = BlockSlope_g_per_s(blocks, first, end);
       result.final_slope_g_per_s = slope;
       result.final_rate_fraction_per_min = rate_fraction(slope);
-      result.met = complete && result.final_rate_fraction_per_min <
-                                   options.rate_limit_fraction_per_min;
+      result.met =
+          complete && result.final_rate_fraction_per_min < options.rate_limit_fraction_per_min;
     }
   }
   return result;

@@ -47,10 +47,12 @@ void SetDesiccatorRh(const ingest::DesiccatorStep& step, const ingest::JobSpec& 
                      const SourceLocation& where, EquilibriumPoint& point) {
   if (step.salt) {
     try {
-      const physics::SaltHumidity salt = physics::SaltSolutionHumidity(*step.salt, step.temperature_K);
+      const physics::SaltHumidity salt =
+          physics::SaltSolutionHumidity(*step.salt, step.temperature_K);
       point.rh_fraction = salt.rh_fraction;
       point.u_rh_fraction = salt.standard_uncertainty_fraction;
       point.drh_dT_per_K = salt.drh_dT_per_K;
+      point.rh_source_kind = RhSource::kSaltTable;
       point.rh_source = fmt::format("{}, {}", physics::CanonicalSaltName(*step.salt),
                                     physics::SaltHumidityMethod(*step.salt));
     } catch (const std::exception& error) {
@@ -64,13 +66,16 @@ void SetDesiccatorRh(const ingest::DesiccatorStep& step, const ingest::JobSpec& 
   if (step.branch == ingest::Branch::kDrying) {
     point.rh_fraction = 0.0;
     point.u_rh_fraction = 0.0;
-    point.rh_source = Lower(step.atmosphere) == "oven" ? "oven drying" : "desiccant (dry reference)";
+    point.rh_source_kind = RhSource::kDry;
+    point.rh_source =
+        Lower(step.atmosphere) == "oven" ? "oven drying" : "desiccant (dry reference)";
     return;
   }
   if (step.set_rh_fraction) {
     point.rh_fraction = *step.set_rh_fraction;
     point.u_rh_fraction = job.rh_sensor_standard_uncertainty_fraction;
     point.drh_dT_per_K = 0.0;
+    point.rh_source_kind = RhSource::kStated;
     point.rh_source = "stated humidity, sensor uncertainty";
     return;
   }
@@ -120,8 +125,8 @@ void CountAndWarn(const EquilibriumPoint& point, EquilibrateSummary& summary) {
     ++summary.num_not_equilibrated;
   }
   if (!point.equilibrated || point.extrapolated) {
-    std::string message = fmt::format("{} / {} / step {} ({}):", point.dataset_id, point.specimen_id,
-                                      point.step_index + 1, point.step_label);
+    std::string message = fmt::format("{} / {} / step {} ({}):", point.dataset_id,
+                                      point.specimen_id, point.step_index + 1, point.step_label);
     for (const auto& flag : point.flags) message += " " + flag;
     summary.warnings.push_back(Diagnostic{Severity::kWarning, point.where, message, {}});
   }
@@ -164,10 +169,10 @@ void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest:
     } else {
       point.time_to_equilibrium_s = last.time_s - first.time_s;
       if (criterion.chain_length < options.min_weighings) {
-        point.flags.push_back(fmt::format(
-            "not equilibrated: only {} weighing(s) at least {:.4g} h apart ({} needed)",
-            criterion.chain_length, options.min_weighing_interval_s / kSecondsPerHour,
-            options.min_weighings));
+        point.flags.push_back(
+            fmt::format("not equilibrated: only {} weighing(s) at least {:.4g} h apart ({} needed)",
+                        criterion.chain_length, options.min_weighing_interval_s / kSecondsPerHour,
+                        options.min_weighings));
       } else {
         point.flags.push_back(fmt::format(
             "not equilibrated: last change {:.3f} % of mass over {:.4g} h (limit {:.3g} %)",
@@ -232,7 +237,8 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
   } else {
     reference_mass_g = std::numeric_limits<double>::max();
     for (const auto& step : log.steps) {
-      for (const auto& block : step.blocks) reference_mass_g = std::min(reference_mass_g, block.mass_g);
+      for (const auto& block : step.blocks)
+        reference_mass_g = std::min(reference_mass_g, block.mass_g);
     }
   }
   Trace trace;
@@ -276,18 +282,21 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
     mass /= count;
     rh /= count;
     temperature /= count;
-    const double rh_variance = count > 1.0 ? std::max(0.0, (rh2 - count * rh * rh) / (count - 1.0)) : 0.0;
-    point.temperature_K = temperature > 0.0                ? temperature
+    const double rh_variance =
+        count > 1.0 ? std::max(0.0, (rh2 - count * rh * rh) / (count - 1.0)) : 0.0;
+    point.temperature_K = temperature > 0.0               ? temperature
                           : step.temperature_mean_K > 0.0 ? step.temperature_mean_K
-                          : dataset != nullptr             ? dataset->temperature_K
-                                                           : 0.0;
+                          : dataset != nullptr            ? dataset->temperature_K
+                                                          : 0.0;
     point.rh_fraction = rh;
     // Sensor (Type B) combined with the standard error of the window mean (Type A).
     point.u_rh_fraction = std::sqrt(job.rh_sensor_standard_uncertainty_fraction *
                                         job.rh_sensor_standard_uncertainty_fraction +
                                     rh_variance / count);
-    point.rh_source = fmt::format("sensor, mean of the last {:.4g} min",
-                                  (blocks.back().time_s - blocks[first].time_s) / kSecondsPerMinute);
+    point.rh_source_kind = RhSource::kSensor;
+    point.rh_source =
+        fmt::format("sensor, mean of the last {:.4g} min",
+                    (blocks.back().time_s - blocks[first].time_s) / kSecondsPerMinute);
     point.drh_dT_per_K = RhTemperatureCoefficientAtConstantVapourPressure(rh, point.temperature_K);
 
     const double end_s = blocks.back().time_s;
@@ -318,16 +327,19 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
           }
         }
         if (static_cast<int>(t.size()) < options.min_tail_points) {
-          rejected = fmt::format("tail has {} block means ({} needed)", t.size(), options.min_tail_points);
+          rejected =
+              fmt::format("tail has {} block means ({} needed)", t.size(), options.min_tail_points);
         } else {
-          const internal::TailFit fit = internal::FitExponentialTail(t, m, options.exponential_terms);
+          const internal::TailFit fit =
+              internal::FitExponentialTail(t, m, options.exponential_terms);
           const double tail_span = t.back() - t.front();
           if (!fit.ok) {
             rejected = fit.message;
           } else if (fit.slowest_tau_s > options.max_tau_to_tail_ratio * tail_span) {
-            rejected = fmt::format("time constant {:.3g} h exceeds {:.3g} x the fitted tail ({:.3g} h)",
-                                   fit.slowest_tau_s / kSecondsPerHour, options.max_tau_to_tail_ratio,
-                                   tail_span / kSecondsPerHour);
+            rejected =
+                fmt::format("time constant {:.3g} h exceeds {:.3g} x the fitted tail ({:.3g} h)",
+                            fit.slowest_tau_s / kSecondsPerHour, options.max_tau_to_tail_ratio,
+                            tail_span / kSecondsPerHour);
           } else {
             point.equilibrated = true;
             point.extrapolated = true;
@@ -350,7 +362,8 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
         rejected = "extrapolation disabled";
       }
       if (!point.extrapolated) {
-        point.flags.push_back(fmt::format("not equilibrated: {}; not extrapolated: {}", reason, rejected));
+        point.flags.push_back(
+            fmt::format("not equilibrated: {}; not extrapolated: {}", reason, rejected));
       }
     }
     CountAndWarn(point, set.summary);
@@ -379,7 +392,8 @@ void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
   std::vector<std::string> ids;
   for (const auto& specimen : job.specimens) ids.push_back(specimen.id);
   for (const auto& point : set.points) {
-    if (std::find(ids.begin(), ids.end(), point.specimen_id) == ids.end()) ids.push_back(point.specimen_id);
+    if (std::find(ids.begin(), ids.end(), point.specimen_id) == ids.end())
+      ids.push_back(point.specimen_id);
   }
   for (const std::string& id : ids) {
     std::vector<const EquilibriumPoint*> drying;
@@ -417,9 +431,11 @@ void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
     }
     if (!dry.stated && reference == nullptr) {
       if (!has_data) {
-        set.summary.warnings.push_back(Diagnostic{
-            Severity::kWarning, SourceLocation{job.job_file.string(), 0, 0},
-            fmt::format("specimen '{}' has no data in any data set", id), {}});
+        set.summary.warnings.push_back(
+            Diagnostic{Severity::kWarning,
+                       SourceLocation{job.job_file.string(), 0, 0},
+                       fmt::format("specimen '{}' has no data in any data set", id),
+                       {}});
         continue;
       }
       throw InputError(SourceLocation{job.job_file.string(), 0, 0},
@@ -432,13 +448,16 @@ void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
       dry.dataset_id = reference->dataset_id;
       dry.step_index = reference->step_index;
       dry.equilibrated = reference->equilibrated;
-      dry.u_mass_g = std::sqrt(reference->u_mass_extrapolation_g * reference->u_mass_extrapolation_g +
-                               reference->u_mass_drift_g * reference->u_mass_drift_g);
+      dry.u_mass_g =
+          std::sqrt(reference->u_mass_extrapolation_g * reference->u_mass_extrapolation_g +
+                    reference->u_mass_drift_g * reference->u_mass_drift_g);
       dry.method += fmt::format(" ({} step {})", reference->dataset_id, reference->step_index + 1);
       if (!dry.equilibrated) {
         set.summary.warnings.push_back(Diagnostic{
-            Severity::kWarning, reference->where,
-            fmt::format("dry mass of specimen '{}' is from a step that did not reach constant mass", id),
+            Severity::kWarning,
+            reference->where,
+            fmt::format("dry mass of specimen '{}' is from a step that did not reach constant mass",
+                        id),
             {}});
       }
     }
@@ -451,9 +470,11 @@ void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
       constexpr double kDryMassChangeWarning = 0.001;
       if (std::abs(change) > kDryMassChangeWarning) {
         set.summary.warnings.push_back(Diagnostic{
-            Severity::kWarning, point->where,
-            fmt::format("specimen '{}': drying step {} differs from the dry reference mass by {:+.3f} %",
-                        id, point->step_index + 1, change * kPercent),
+            Severity::kWarning,
+            point->where,
+            fmt::format(
+                "specimen '{}': drying step {} differs from the dry reference mass by {:+.3f} %",
+                id, point->step_index + 1, change * kPercent),
             {}});
       }
     }
@@ -463,7 +484,8 @@ void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
 
 }  // namespace
 
-EquilibriumSet Equilibrate(const ingest::IngestResult& ingested, const EquilibrateOptions& options) {
+EquilibriumSet Equilibrate(const ingest::IngestResult& ingested,
+                           const EquilibrateOptions& options) {
   std::string error;
   if (!options.IsValid(&error)) {
     throw InputError(SourceLocation{ingested.job.job_file.string(), 0, 0},

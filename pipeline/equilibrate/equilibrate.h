@@ -41,8 +41,8 @@ struct EquilibrateOptions {
   // An extrapolation is accepted only if the fitted (slowest) time constant is at most this
   // many times the duration of the fitted tail; beyond it the asymptote is a guess (the
   // step stays "not equilibrated"). Choice of this project, not from a standard.
-  double max_tau_to_tail_ratio = 3.0;         // [max_tau_to_tail_ratio]
-  int min_tail_points = 10;                   // fewer block means: no extrapolation
+  double max_tau_to_tail_ratio = 3.0;  // [max_tau_to_tail_ratio]
+  int min_tail_points = 10;            // fewer block means: no extrapolation
 
   bool IsValid(std::string* error) const;
 };
@@ -53,46 +53,55 @@ struct EquilibrateOptions {
 // hours/minutes to seconds.
 EquilibrateOptions LoadEquilibrateOptions(const std::filesystem::path& job_file);
 
+// Where the RH of a step comes from.
+enum class RhSource {
+  kSaltTable,  // saturated salt solution, Greenspan (1977) via physics::SaltSolutionHumidity
+  kSensor,     // measured by the humidity sensor (vapour logs)
+  kStated,     // stated in the data file ("rh:50%"), sensor uncertainty of the job
+  kDry,        // oven / desiccant: the dry reference, RH 0
+};
+
 // One equilibrium (or the last state of a step that did not reach one).
 struct EquilibriumPoint {
   std::string dataset_id;
   std::string specimen_id;
   int step_index = 0;
-  std::string step_label;          // "NaCl", "set 50 %", ...
+  std::string step_label;  // "NaCl", "set 50 %", ...
   ingest::Method method = ingest::Method::kDesiccator;
   ingest::Branch branch = ingest::Branch::kAdsorption;
   int cycle = 0;
   double temperature_K = 0.0;
-  double rh_fraction = 0.0;                 // salt table value, set point or mean measured RH
-  double u_rh_fraction = 0.0;               // standard uncertainty of the RH source
-  std::string rh_source;                    // e.g. "NaCl, Greenspan (1977)", "sensor"
-  double drh_dT_per_K = 0.0;                // temperature coefficient of the RH source
-  double mass_g = 0.0;                      // equilibrium (or extrapolated) mass
-  double u_mass_extrapolation_g = 0.0;      // extra standard uncertainty of extrapolation
+  double rh_fraction = 0.0;    // salt table value, set point or mean measured RH
+  double u_rh_fraction = 0.0;  // standard uncertainty of the RH source
+  std::string rh_source;       // e.g. "NaCl, Greenspan (1977)", "sensor"
+  RhSource rh_source_kind = RhSource::kSaltTable;
+  double drh_dT_per_K = 0.0;            // temperature coefficient of the RH source
+  double mass_g = 0.0;                  // equilibrium (or extrapolated) mass
+  double u_mass_extrapolation_g = 0.0;  // extra standard uncertainty of extrapolation
   // Residual approach to equilibrium: the mass change over the last criterion interval
   // (desiccator: last two chain weighings; log: slope x rate window) taken as the half-width
   // of a rectangular distribution, u = |change| / sqrt(3) (JCGM 100:2008, 4.3.7).
   double u_mass_drift_g = 0.0;
-  double last_change_fraction = 0.0;        // desiccator: criterion value at the last weighing
-  double final_rate_fraction_per_min = 0.0; // log: |dm/dt| / reference mass at the step end
-  int num_readings = 0;                     // weighings (desiccator) or block means (log)
-  double time_to_equilibrium_s = 0.0;       // from the start of the step
-  bool equilibrated = false;                // criterion met (or asymptote extrapolated)
+  double last_change_fraction = 0.0;         // desiccator: criterion value at the last weighing
+  double final_rate_fraction_per_min = 0.0;  // log: |dm/dt| / reference mass at the step end
+  int num_readings = 0;                      // weighings (desiccator) or block means (log)
+  double time_to_equilibrium_s = 0.0;        // from the start of the step
+  bool equilibrated = false;                 // criterion met (or asymptote extrapolated)
   bool extrapolated = false;
-  std::vector<std::string> flags;           // e.g. "not equilibrated: last change 0.3 %"
-  SourceLocation where;                     // first line of the step in its file
+  std::vector<std::string> flags;  // e.g. "not equilibrated: last change 0.3 %"
+  SourceLocation where;            // first line of the step in its file
 };
 
 // The dry reference mass of one specimen.
 struct DryMass {
   std::string specimen_id;
   double mass_g = 0.0;
-  double u_mass_g = 0.0;       // standard uncertainty beyond the balance (e.g. drift)
-  std::string method;          // e.g. "oven drying at 105 degC (ISO 12570)"
+  double u_mass_g = 0.0;  // standard uncertainty beyond the balance (e.g. drift)
+  std::string method;     // e.g. "oven drying at 105 degC (ISO 12570)"
   bool equilibrated = true;
-  bool stated = false;         // given in the job file (no weighing in the data files)
-  std::string dataset_id;      // where the drying step was found (empty when stated)
-  int step_index = -1;         // that drying step (-1 when stated)
+  bool stated = false;     // given in the job file (no weighing in the data files)
+  std::string dataset_id;  // where the drying step was found (empty when stated)
+  int step_index = -1;     // that drying step (-1 when stated)
 };
 
 // A time series for the datasheet plots: one per vapour log, one per specimen of a

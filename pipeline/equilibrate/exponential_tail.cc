@@ -220,8 +220,7 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   ceres::Covariance covariance2(covariance_options);
   std::vector<std::pair<const double*, const double*>> blocks = {{x, x}};
   double full[kTwoTermParameters * kTwoTermParameters];
-  if (!covariance2.Compute(blocks, &problem) ||
-      !covariance2.GetCovarianceBlock(x, x, full)) {
+  if (!covariance2.Compute(blocks, &problem) || !covariance2.GetCovarianceBlock(x, x, full)) {
     fit.message = "two-term fit not identifiable; one term used";
     return fit;
   }

@@ -20,15 +20,15 @@ namespace sorbtrace::equilibrate::internal {
 
 struct TailFit {
   bool ok = false;
-  std::string message;       // why the fit was rejected (when !ok)
+  std::string message;  // why the fit was rejected (when !ok)
   int terms = 1;
   double t0_s = 0.0;
   double m_inf_g = 0.0;
-  double u_m_inf_g = 0.0;    // standard uncertainty of the asymptote
-  double amplitude_g = 0.0;  // A (one term) or A1
-  double tau_s = 0.0;        // tau (one term) or tau1
-  double amplitude2_g = 0.0; // A2 (two terms)
-  double tau2_s = 0.0;       // tau2 (two terms)
+  double u_m_inf_g = 0.0;     // standard uncertainty of the asymptote
+  double amplitude_g = 0.0;   // A (one term) or A1
+  double tau_s = 0.0;         // tau (one term) or tau1
+  double amplitude2_g = 0.0;  // A2 (two terms)
+  double tau2_s = 0.0;        // tau2 (two terms)
   double slowest_tau_s = 0.0;
   double rms_residual_g = 0.0;
   int num_points = 0;

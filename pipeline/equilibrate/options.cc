@@ -1,10 +1,10 @@
 // EquilibrateOptions: validation and the [equilibrium] table of a job file.
 #include <fmt/format.h>
+#include <toml++/toml.h>
 
 #include <array>
 #include <cmath>
 #include <string_view>
-#include <toml++/toml.h>
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/equilibrate/equilibrate.h"
@@ -17,12 +17,18 @@ constexpr double kSecondsPerHour = 3600.0;
 constexpr double kSecondsPerMinute = 60.0;
 
 // Keys of [equilibrium] read here, and those read by the reduce stage from the same table.
-constexpr std::array<std::string_view, 10> kEquilibrateKeys = {
-    "mass_change_limit_percent", "min_weighing_interval_h", "min_weighings",
-    "rate_limit_percent_per_min", "rate_window_min", "extrapolate", "exponential_terms",
-    "tail_fraction", "max_tau_to_tail_ratio", "min_tail_points"};
+constexpr std::array<std::string_view, 10> kEquilibrateKeys = {"mass_change_limit_percent",
+                                                               "min_weighing_interval_h",
+                                                               "min_weighings",
+                                                               "rate_limit_percent_per_min",
+                                                               "rate_window_min",
+                                                               "extrapolate",
+                                                               "exponential_terms",
+                                                               "tail_fraction",
+                                                               "max_tau_to_tail_ratio",
+                                                               "min_tail_points"};
 constexpr std::array<std::string_view, 2> kReduceKeys = {"include_not_equilibrated",
-                                                          "coverage_factor"};
+                                                         "coverage_factor"};
 
 SourceLocation Where(const std::filesystem::path& file, const toml::source_region& region) {
   return SourceLocation{file.string(), static_cast<int>(region.begin.line),
@@ -33,15 +39,16 @@ double Number(const toml::table& table, std::string_view key, double fallback,
               const std::filesystem::path& file) {
   const toml::node* node = table.get(key);
   if (node == nullptr) return fallback;
-  if (auto value = node->value<double>(); value && (node->is_floating_point() || node->is_integer())) {
+  if (auto value = node->value<double>();
+      value && (node->is_floating_point() || node->is_integer())) {
     if (!std::isfinite(*value)) {
-      throw InputError(Where(file, node->source()), fmt::format("[equilibrium] {} is not finite", key),
-                       "a finite number");
+      throw InputError(Where(file, node->source()),
+                       fmt::format("[equilibrium] {} is not finite", key), "a finite number");
     }
     return *value;
   }
-  throw InputError(Where(file, node->source()), fmt::format("[equilibrium] {} is not a number", key),
-                   "a number");
+  throw InputError(Where(file, node->source()),
+                   fmt::format("[equilibrium] {} is not a number", key), "a number");
 }
 
 int Integer(const toml::table& table, std::string_view key, int fallback,
@@ -62,8 +69,8 @@ bool Boolean(const toml::table& table, std::string_view key, bool fallback,
   const toml::node* node = table.get(key);
   if (node == nullptr) return fallback;
   if (node->is_boolean()) return node->value<bool>().value_or(fallback);
-  throw InputError(Where(file, node->source()), fmt::format("[equilibrium] {} is not a boolean", key),
-                   "true or false");
+  throw InputError(Where(file, node->source()),
+                   fmt::format("[equilibrium] {} is not a boolean", key), "true or false");
 }
 
 }  // namespace
@@ -85,7 +92,8 @@ bool EquilibrateOptions::IsValid(std::string* error) const {
     return fail(fmt::format("min_weighings {} must be at least 2", min_weighings));
   }
   if (!(rate_limit_fraction_per_min > 0.0)) {
-    return fail(fmt::format("rate limit {} %/min must be > 0", rate_limit_fraction_per_min * kPercent));
+    return fail(
+        fmt::format("rate limit {} %/min must be > 0", rate_limit_fraction_per_min * kPercent));
   }
   if (!(rate_window_s > 0.0)) {
     return fail(fmt::format("rate window {} min must be > 0", rate_window_s / kSecondsPerMinute));
@@ -126,22 +134,27 @@ EquilibrateOptions LoadEquilibrateOptions(const std::filesystem::path& job_file)
     for (std::string_view k : kReduceKeys) known = known || key.str() == k;
     if (!known) {
       std::string list;
-      for (std::string_view k : kEquilibrateKeys) list += fmt::format("{}{}", list.empty() ? "" : ", ", k);
+      for (std::string_view k : kEquilibrateKeys)
+        list += fmt::format("{}{}", list.empty() ? "" : ", ", k);
       for (std::string_view k : kReduceKeys) list += fmt::format(", {}", k);
       throw InputError(Where(job_file, value.source()),
-                       fmt::format("unknown key '{}' in [equilibrium]", key.str()), "one of " + list);
+                       fmt::format("unknown key '{}' in [equilibrium]", key.str()),
+                       "one of " + list);
     }
   }
   const toml::table& t = *table;
   options.mass_change_limit_fraction =
-      Number(t, "mass_change_limit_percent", options.mass_change_limit_fraction * kPercent, job_file) /
+      Number(t, "mass_change_limit_percent", options.mass_change_limit_fraction * kPercent,
+             job_file) /
       kPercent;
   options.min_weighing_interval_s =
-      Number(t, "min_weighing_interval_h", options.min_weighing_interval_s / kSecondsPerHour, job_file) *
+      Number(t, "min_weighing_interval_h", options.min_weighing_interval_s / kSecondsPerHour,
+             job_file) *
       kSecondsPerHour;
   options.min_weighings = Integer(t, "min_weighings", options.min_weighings, job_file);
   options.rate_limit_fraction_per_min =
-      Number(t, "rate_limit_percent_per_min", options.rate_limit_fraction_per_min * kPercent, job_file) /
+      Number(t, "rate_limit_percent_per_min", options.rate_limit_fraction_per_min * kPercent,
+             job_file) /
       kPercent;
   options.rate_window_s =
       Number(t, "rate_window_min", options.rate_window_s / kSecondsPerMinute, job_file) *

@@ -44,8 +44,8 @@ namespace sorbtrace::reduce {
 // Read from the job file table [equilibrium] (keys coverage_factor, include_not_equilibrated)
 // by LoadReduceOptions.
 struct ReduceOptions {
-  double coverage_factor = 2.0;          // k for expanded uncertainties (about 95 %)
-  bool include_not_equilibrated = false; // if true, such points are kept but flagged
+  double coverage_factor = 2.0;           // k for expanded uncertainties (about 95 %)
+  bool include_not_equilibrated = false;  // if true, such points are kept but flagged
 
   bool IsValid(std::string* error) const;
 };
@@ -57,11 +57,11 @@ ReduceOptions LoadReduceOptions(const std::filesystem::path& job_file);
 
 // One line of an uncertainty budget: u(x_i), sensitivity c_i, contribution |c_i| u(x_i).
 struct BudgetLine {
-  std::string quantity;          // e.g. "balance (wet mass)", "dry mass", "RH (salt table)"
+  std::string quantity;               // e.g. "balance (wet mass)", "dry mass", "RH (salt table)"
   double standard_uncertainty = 0.0;  // in the unit of the input quantity
   std::string unit;
-  double sensitivity = 0.0;      // d(output)/d(input)
-  double contribution = 0.0;     // |c_i| u(x_i), in the unit of the output
+  double sensitivity = 0.0;   // d(output)/d(input)
+  double contribution = 0.0;  // |c_i| u(x_i), in the unit of the output
 };
 
 // Moisture content of one specimen at one equilibrium.
@@ -74,21 +74,21 @@ struct SpecimenPoint {
   int cycle = 0;
   double temperature_K = 0.0;
   double rh_fraction = 0.0;
-  double u_rh_fraction = 0.0;           // standard, incl. temperature effect
+  double u_rh_fraction = 0.0;  // standard, incl. temperature effect
   std::string rh_source;
-  double mass_g = 0.0;                  // equilibrium (or extrapolated) mass
+  double mass_g = 0.0;  // equilibrium (or extrapolated) mass
   double dry_mass_g = 0.0;
   double moisture_kg_per_kg = 0.0;
-  double u_moisture_kg_per_kg = 0.0;    // standard, combined
+  double u_moisture_kg_per_kg = 0.0;  // standard, combined
   double expanded_u_moisture_kg_per_kg = 0.0;
   std::vector<BudgetLine> moisture_budget;
   std::vector<BudgetLine> rh_budget;
   double time_to_equilibrium_s = 0.0;
   bool equilibrated = false;
   bool extrapolated = false;
-  bool excluded = false;                // not combined into an IsothermPoint (not equilibrated)
+  bool excluded = false;  // not combined into an IsothermPoint (not equilibrated)
   std::vector<std::string> flags;
-  SourceLocation where;                 // first line of the step in its file
+  SourceLocation where;  // first line of the step in its file
 };
 
 // The material's isotherm point at one step: specimens combined.
@@ -100,20 +100,20 @@ struct IsothermPoint {
   int cycle = 0;
   double temperature_K = 0.0;
   double rh_fraction = 0.0;
-  double u_rh_fraction = 0.0;            // standard
-  double expanded_u_rh_fraction = 0.0;   // k * u
-  double moisture_kg_per_kg = 0.0;       // mean over specimens
-  double u_moisture_kg_per_kg = 0.0;     // combined standard (measurement + spread of mean)
+  double u_rh_fraction = 0.0;           // standard
+  double expanded_u_rh_fraction = 0.0;  // k * u
+  double moisture_kg_per_kg = 0.0;      // mean over specimens
+  double u_moisture_kg_per_kg = 0.0;    // combined standard (measurement + spread of mean)
   double expanded_u_moisture_kg_per_kg = 0.0;
   double between_specimen_sd_kg_per_kg = 0.0;
   int num_specimens = 0;
   std::vector<std::string> specimen_ids;
   bool has_volumetric = false;
-  double volumetric_m3_per_m3 = 0.0;     // u * rho_dry / rho_water, when a density is given
+  double volumetric_m3_per_m3 = 0.0;  // u * rho_dry / rho_water, when a density is given
   double u_volumetric_m3_per_m3 = 0.0;
-  double time_to_equilibrium_s = 0.0;    // longest among specimens
-  bool equilibrated = false;             // all specimens equilibrated
-  bool extrapolated = false;             // any specimen extrapolated
+  double time_to_equilibrium_s = 0.0;  // longest among specimens
+  bool equilibrated = false;           // all specimens equilibrated
+  bool extrapolated = false;           // any specimen extrapolated
   std::vector<std::string> flags;
 };
 

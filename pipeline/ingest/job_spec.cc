@@ -1,0 +1,408 @@
+// LoadJobSpec: the job file's own sections ([job], [material], [measurement], [[specimen]],
+// [[dataset]], [retention]); tables of later stages are left to their owners.
+#include <toml++/toml.h>
+
+#include <algorithm>
+#include <cmath>
+#include <filesystem>
+#include <initializer_list>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <system_error>
+
+#include "pipeline/ingest/csv_reader.h"
+#include "pipeline/ingest/date_time.h"
+#include "pipeline/ingest/ingest.h"
+#include "pipeline/physics/physics.h"
+
+namespace sorbtrace::ingest {
+namespace {
+
+// Tables of the job file read by later stages; ingest does not look inside them.
+constexpr std::string_view kOtherStagesTables[] = {"equilibrium", "fit", "pores", "report"};
+
+class JobFileReader {
+ public:
+  explicit JobFileReader(std::string display) : display_(std::move(display)) {}
+
+  SourceLocation At(const toml::source_region& region) const {
+    return SourceLocation{display_, static_cast<int>(region.begin.line),
+                          static_cast<int>(region.begin.column)};
+  }
+  SourceLocation At(const toml::node& node) const { return At(node.source()); }
+
+  [[noreturn]] void Fail(const toml::source_region& region, std::string message,
+                         std::string expected) const {
+    throw InputError(At(region), std::move(message), std::move(expected));
+  }
+  [[noreturn]] void Fail(const toml::node& node, std::string message,
+                         std::string expected) const {
+    Fail(node.source(), std::move(message), std::move(expected));
+  }
+
+  // Every key of `table` must be in `allowed`.
+  void CheckKeys(const toml::table& table, std::string_view section,
+                 std::initializer_list<std::string_view> allowed) const {
+    for (auto&& [key, value] : table) {
+      if (std::find(allowed.begin(), allowed.end(), key.str()) != allowed.end()) continue;
+      std::string list;
+      for (std::string_view name : allowed) {
+        if (!list.empty()) list += ", ";
+        list += name;
+      }
+      Fail(key.source(), "unknown key '" + std::string(key.str()) + "' in " + std::string(section),
+           "one of: " + list);
+    }
+  }
+
+  const toml::table& Table(const toml::table& root, std::string_view name) const {
+    const toml::node* node = root.get(name);
+    if (node == nullptr) {
+      throw InputError(SourceLocation{display_, 1, 1},
+                       "missing table [" + std::string(name) + "]",
+                       "a [" + std::string(name) + "] table in the job file");
+    }
+    if (!node->is_table()) {
+      Fail(*node, "'" + std::string(name) + "' is not a table",
+           "a [" + std::string(name) + "] table");
+    }
+    return *node->as_table();
+  }
+
+  std::optional<std::string> String(const toml::table& table, std::string_view section,
+                                    std::string_view key, bool required) const {
+    const toml::node* node = table.get(key);
+    if (node == nullptr) {
+      if (required) Missing(table, section, key, "a string");
+      return std::nullopt;
+    }
+    if (!node->is_string()) {
+      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) +
+                      " is not a string",
+           "a quoted string");
+    }
+    return node->value<std::string>();
+  }
+
+  std::optional<double> Number(const toml::table& table, std::string_view section,
+                               std::string_view key, bool required) const {
+    const toml::node* node = table.get(key);
+    if (node == nullptr) {
+      if (required) Missing(table, section, key, "a number");
+      return std::nullopt;
+    }
+    if (!node->is_number()) {
+      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) +
+                      " is not a number",
+           "a number");
+    }
+    const double value = *node->value<double>();
+    if (!std::isfinite(value)) {
+      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) +
+                      " is not finite",
+           "a finite number");
+    }
+    return value;
+  }
+
+  // A number that must be > 0.
+  std::optional<double> Positive(const toml::table& table, std::string_view section,
+                                 std::string_view key, bool required) const {
+    const auto value = Number(table, section, key, required);
+    if (value && !(*value > 0.0)) {
+      Fail(*table.get(key), "key '" + std::string(key) + "' in " + std::string(section) +
+                                " must be positive",
+           "a number above zero");
+    }
+    return value;
+  }
+
+  // A temperature in degC within the plausibility bound, returned in K.
+  std::optional<double> Temperature_K(const toml::table& table, std::string_view section,
+                                      std::string_view key, bool required) const {
+    const auto value = Number(table, section, key, required);
+    if (!value) return std::nullopt;
+    const double temperature_K = physics::CelsiusToKelvin(*value);
+    if (!(temperature_K >= internal::kMinPlausibleTemperature_K &&
+          temperature_K <= internal::kMaxPlausibleTemperature_K)) {
+      Fail(*table.get(key), "key '" + std::string(key) + "' in " + std::string(section) +
+                                " is an implausible temperature",
+           "a temperature in degC within -50..150");
+    }
+    return temperature_K;
+  }
+
+  std::optional<bool> Bool(const toml::table& table, std::string_view section,
+                           std::string_view key) const {
+    const toml::node* node = table.get(key);
+    if (node == nullptr) return std::nullopt;
+    if (!node->is_boolean()) {
+      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) +
+                      " is not a boolean",
+           "true or false");
+    }
+    return node->value<bool>();
+  }
+
+  // A string that must be one of `allowed`.
+  std::optional<std::string> Choice(const toml::table& table, std::string_view section,
+                                    std::string_view key, bool required,
+                                    std::initializer_list<std::string_view> allowed) const {
+    auto value = String(table, section, key, required);
+    if (!value) return value;
+    if (std::find(allowed.begin(), allowed.end(), *value) == allowed.end()) {
+      std::string list;
+      for (std::string_view name : allowed) {
+        if (!list.empty()) list += ", ";
+        list += "\"" + std::string(name) + "\"";
+      }
+      Fail(*table.get(key), "'" + *value + "' is not a valid " + std::string(key), "one of " + list);
+    }
+    return value;
+  }
+
+  [[noreturn]] void Missing(const toml::table& table, std::string_view section,
+                            std::string_view key, std::string_view what) const {
+    Fail(table, "missing key '" + std::string(key) + "' in " + std::string(section),
+         std::string(key) + " = " + std::string(what));
+  }
+
+  const std::string& display() const { return display_; }
+
+ private:
+  std::string display_;
+};
+
+CsvFormat ReadFormat(const JobFileReader& in, const toml::table& table, std::string_view section) {
+  CsvFormat format;
+  if (const auto delimiter = in.Choice(table, section, "delimiter", false, {",", ";", "\t"})) {
+    format.delimiter = (*delimiter)[0];
+  }
+  format.decimal_comma = in.Bool(table, section, "decimal_comma").value_or(false);
+  if (format.decimal_comma && format.delimiter == ',') {
+    in.Fail(*table.get("decimal_comma"), "decimal_comma = true with the ',' delimiter",
+            "delimiter = \";\" (or \"\\t\") for files with decimal commas");
+  }
+  if (const auto pattern = in.String(table, section, "datetime_format", false)) {
+    const std::string problem = internal::CheckDateTimeFormat(*pattern);
+    if (!problem.empty()) {
+      in.Fail(*table.get("datetime_format"), "datetime_format '" + *pattern + "': " + problem,
+              "\"iso8601\" or a pattern of %Y %m %d %H %M [%S] such as \"%d.%m.%Y %H:%M\"");
+    }
+    format.datetime_format = *pattern;
+  }
+  format.mass_unit = in.Choice(table, section, "mass_unit", false, {"g", "mg", "ug"}).value_or("");
+  format.rh_unit =
+      in.Choice(table, section, "rh_unit", false, {"percent", "fraction"}).value_or("");
+  format.time_unit = in.Choice(table, section, "time_unit", false, {"s", "min", "h"}).value_or("");
+  format.temperature_unit =
+      in.Choice(table, section, "temperature_unit", false, {"C", "K"}).value_or("");
+  return format;
+}
+
+// Resolves `file` relative to the job file and checks that it is a readable regular file.
+void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir,
+                 const toml::table& table, std::string_view section, DataSetSpec* dataset) {
+  dataset->file_as_written = *in.String(table, section, "file", true);
+  const std::filesystem::path written(dataset->file_as_written);
+  dataset->file = (job_dir / written).lexically_normal();
+  std::error_code ec;
+  if (dataset->file_as_written.empty() || !std::filesystem::is_regular_file(dataset->file, ec)) {
+    in.Fail(*table.get("file"),
+            "data file '" + dataset->file_as_written + "' not found (looked for " +
+                dataset->file.string() + ")",
+            "an existing file, relative to the job file");
+  }
+}
+
+}  // namespace
+
+std::string_view BranchName(Branch branch) {
+  switch (branch) {
+    case Branch::kAdsorption:
+      return "adsorption";
+    case Branch::kDesorption:
+      return "desorption";
+    case Branch::kDrying:
+      return "drying";
+  }
+  return "adsorption";
+}
+
+JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
+  const JobFileReader in(job_file.string());
+  std::error_code ec;
+  if (!std::filesystem::is_regular_file(job_file, ec)) {
+    throw InputError(SourceLocation{in.display(), 0, 0}, "job file not found",
+                     "an existing TOML job file");
+  }
+  toml::table root;
+  try {
+    root = toml::parse_file(job_file.string());
+  } catch (const toml::parse_error& error) {
+    throw InputError(in.At(error.source()), "TOML syntax: " + std::string(error.description()),
+                     "a valid TOML job file");
+  }
+
+  JobSpec job;
+  job.job_file = job_file;
+  const std::filesystem::path job_dir = job_file.parent_path();
+
+  for (auto&& [key, value] : root) {
+    const std::string_view name = key.str();
+    const bool ours = name == "job" || name == "material" || name == "measurement" ||
+                      name == "specimen" || name == "dataset" || name == "retention";
+    const bool theirs = std::find(std::begin(kOtherStagesTables), std::end(kOtherStagesTables),
+                                  name) != std::end(kOtherStagesTables);
+    if (!ours && !theirs) {
+      in.Fail(key.source(), "unknown top-level " + std::string(value.is_table() ? "table [" : "key '") +
+                                std::string(name) + (value.is_table() ? "]" : "'"),
+              "tables [job], [material], [measurement], [[specimen]], [[dataset]], "
+              "[retention], [equilibrium], [fit], [pores], [report]");
+    }
+  }
+
+  // [job]
+  const toml::table& job_table = in.Table(root, "job");
+  in.CheckKeys(job_table, "[job]", {"id", "issue_date", "template", "test_dates"});
+  job.job_id = *in.String(job_table, "[job]", "id", true);
+  job.issue_date = *in.String(job_table, "[job]", "issue_date", true);
+  if (!internal::IsIsoDate(job.issue_date)) {
+    in.Fail(*job_table.get("issue_date"), "issue_date '" + job.issue_date + "' is not a date",
+            "an ISO 8601 date YYYY-MM-DD");
+  }
+  job.template_name = in.String(job_table, "[job]", "template", false).value_or("full");
+  job.test_dates = in.String(job_table, "[job]", "test_dates", false).value_or("");
+
+  // [material]
+  const toml::table& material = in.Table(root, "material");
+  in.CheckKeys(material, "[material]", {"name", "description", "client"});
+  job.material_name = *in.String(material, "[material]", "name", true);
+  job.material_description = in.String(material, "[material]", "description", false).value_or("");
+  job.client = in.String(material, "[material]", "client", false).value_or("");
+
+  // [measurement]
+  const toml::table& measurement = in.Table(root, "measurement");
+  constexpr std::string_view kM = "[measurement]";
+  in.CheckKeys(measurement, kM,
+               {"dry_mass_method", "drying_temperature_C", "balance_resolution_g",
+                "balance_standard_uncertainty_g", "rh_sensor_standard_uncertainty_percent",
+                "temperature_standard_uncertainty_K", "negative_moisture_expected"});
+  const std::string method =
+      in.Choice(measurement, kM, "dry_mass_method", false,
+                {"oven", "desiccant_step", "final_drying_step"})
+          .value_or("oven");
+  job.dry_mass_method = method == "oven"             ? DryMassMethod::kOvenDrying
+                        : method == "desiccant_step" ? DryMassMethod::kDesiccantStep
+                                                     : DryMassMethod::kFinalDryingStep;
+  job.drying_temperature_K = in.Temperature_K(measurement, kM, "drying_temperature_C", false)
+                                 .value_or(job.drying_temperature_K);
+  job.balance_resolution_g =
+      in.Positive(measurement, kM, "balance_resolution_g", false).value_or(job.balance_resolution_g);
+  job.balance_standard_uncertainty_g =
+      in.Positive(measurement, kM, "balance_standard_uncertainty_g", false)
+          .value_or(job.balance_standard_uncertainty_g);
+  if (const auto u = in.Positive(measurement, kM, "rh_sensor_standard_uncertainty_percent", false)) {
+    job.rh_sensor_standard_uncertainty_fraction = *u / 100.0;
+  }
+  job.temperature_standard_uncertainty_K =
+      in.Positive(measurement, kM, "temperature_standard_uncertainty_K", false)
+          .value_or(job.temperature_standard_uncertainty_K);
+  job.negative_moisture_expected =
+      in.Bool(measurement, kM, "negative_moisture_expected").value_or(false);
+
+  // [[specimen]]
+  const toml::node* specimens = root.get("specimen");
+  if (specimens == nullptr || !specimens->is_array_of_tables() ||
+      specimens->as_array()->empty()) {
+    throw InputError(specimens != nullptr ? in.At(*specimens) : SourceLocation{in.display(), 1, 1},
+                     "no [[specimen]] entries", "one [[specimen]] table per specimen, with an id");
+  }
+  for (const toml::node& node : *specimens->as_array()) {
+    const toml::table& table = *node.as_table();
+    constexpr std::string_view kS = "[[specimen]]";
+    in.CheckKeys(table, kS, {"id", "dry_mass_g", "bulk_density_kg_per_m3"});
+    SpecimenSpec specimen;
+    specimen.id = *in.String(table, kS, "id", true);
+    specimen.where = in.At(table);
+    if (specimen.id.empty()) in.Fail(*table.get("id"), "empty specimen id", "a non-empty id");
+    for (const SpecimenSpec& other : job.specimens) {
+      if (other.id == specimen.id) {
+        in.Fail(*table.get("id"),
+                "specimen id '" + specimen.id + "' is declared twice (also on line " +
+                    std::to_string(other.where.line) + ")",
+                "a unique id per specimen");
+      }
+    }
+    specimen.dry_mass_g = in.Positive(table, kS, "dry_mass_g", false);
+    specimen.bulk_density_kg_per_m3 = in.Positive(table, kS, "bulk_density_kg_per_m3", false);
+    job.specimens.push_back(std::move(specimen));
+  }
+
+  // [[dataset]]
+  const toml::node* datasets = root.get("dataset");
+  if (datasets == nullptr || !datasets->is_array_of_tables() || datasets->as_array()->empty()) {
+    throw InputError(datasets != nullptr ? in.At(*datasets) : SourceLocation{in.display(), 1, 1},
+                     "no [[dataset]] entries", "one [[dataset]] table per data file");
+  }
+  for (const toml::node& node : *datasets->as_array()) {
+    const toml::table& table = *node.as_table();
+    constexpr std::string_view kD = "[[dataset]]";
+    in.CheckKeys(table, kD,
+                 {"id", "method", "file", "temperature_C", "specimen", "delimiter",
+                  "decimal_comma", "datetime_format", "mass_unit", "rh_unit", "time_unit",
+                  "temperature_unit"});
+    DataSetSpec dataset;
+    dataset.where = in.At(table);
+    dataset.id = *in.String(table, kD, "id", true);
+    for (const DataSetSpec& other : job.datasets) {
+      if (other.id == dataset.id) {
+        in.Fail(*table.get("id"),
+                "dataset id '" + dataset.id + "' is used twice (also on line " +
+                    std::to_string(other.where.line) + ")",
+                "a unique id per dataset");
+      }
+    }
+    const std::string method_name =
+        *in.Choice(table, kD, "method", true, {"desiccator", "vapor_log"});
+    dataset.method = method_name == "desiccator" ? Method::kDesiccator : Method::kVaporLog;
+    dataset.temperature_K = *in.Temperature_K(table, kD, "temperature_C", true);
+    const auto specimen = in.String(table, kD, "specimen", dataset.method == Method::kVaporLog);
+    if (specimen) {
+      if (dataset.method == Method::kDesiccator) {
+        in.Fail(*table.get("specimen"), "key 'specimen' in a desiccator dataset",
+                "the specimen column of the desiccator file (specimen is for vapor_log only)");
+      }
+      const bool known = std::any_of(job.specimens.begin(), job.specimens.end(),
+                                     [&](const SpecimenSpec& s) { return s.id == *specimen; });
+      if (!known) {
+        in.Fail(*table.get("specimen"), "specimen '" + *specimen + "' is not declared",
+                "the id of a [[specimen]] table");
+      }
+      dataset.specimen_id = *specimen;
+    }
+    dataset.format = ReadFormat(in, table, kD);
+    ResolveFile(in, job_dir, table, kD, &dataset);
+    job.datasets.push_back(std::move(dataset));
+  }
+
+  // [retention]
+  if (root.get("retention") != nullptr) {
+    const toml::table& table = in.Table(root, "retention");
+    constexpr std::string_view kR = "[retention]";
+    in.CheckKeys(table, kR, {"file", "temperature_C", "delimiter", "decimal_comma"});
+    DataSetSpec retention;
+    retention.id = "retention";
+    retention.where = in.At(table);
+    // Default: 23 degC, the standard test temperature of ISO 12571.
+    retention.temperature_K = in.Temperature_K(table, kR, "temperature_C", false)
+                                  .value_or(physics::CelsiusToKelvin(23.0));
+    retention.format = ReadFormat(in, table, kR);
+    ResolveFile(in, job_dir, table, kR, &retention);
+    job.retention = std::move(retention);
+  }
+  return job;
+}
+
+}  // namespace sorbtrace::ingest

@@ -1,0 +1,361 @@
+// Reduce stage: moisture contents with GUM budgets, specimens combined per step.
+#include "pipeline/reduce/reduce.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <map>
+#include <stdexcept>
+#include <tuple>
+
+#include "pipeline/physics/physics.h"
+
+namespace sorbtrace::reduce {
+namespace {
+
+constexpr double kPercent = 100.0;
+constexpr double kSecondsPerHour = 3600.0;
+// Rectangular distribution of full width w: u = w / sqrt(12) (JCGM 100:2008, F.2.2.1).
+const double kSqrt12 = std::sqrt(12.0);
+
+std::string_view Name(ingest::Branch branch) {
+  switch (branch) {
+    case ingest::Branch::kAdsorption:
+      return "adsorption";
+    case ingest::Branch::kDesorption:
+      return "desorption";
+    case ingest::Branch::kDrying:
+      return "drying";
+  }
+  return "unknown";
+}
+
+int BranchOrder(ingest::Branch branch) { return static_cast<int>(branch); }
+
+const equilibrate::DryMass* FindDryMass(const equilibrate::EquilibriumSet& set,
+                                        const std::string& specimen_id) {
+  for (const auto& dry : set.dry_masses) {
+    if (dry.specimen_id == specimen_id) return &dry;
+  }
+  return nullptr;
+}
+
+const ingest::SpecimenSpec* FindSpecimen(const ingest::JobSpec& job, const std::string& id) {
+  for (const auto& specimen : job.specimens) {
+    if (specimen.id == id) return &specimen;
+  }
+  return nullptr;
+}
+
+double RootSumSquare(const std::vector<BudgetLine>& lines) {
+  double sum = 0.0;
+  for (const auto& line : lines) sum += line.contribution * line.contribution;
+  return std::sqrt(sum);
+}
+
+BudgetLine Line(std::string quantity, double u, std::string unit, double sensitivity) {
+  return BudgetLine{std::move(quantity), u, std::move(unit), sensitivity,
+                    std::abs(sensitivity) * u};
+}
+
+SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilibrate::DryMass& dry,
+                          const ingest::JobSpec& job, const ReduceOptions& options) {
+  SpecimenPoint point;
+  point.dataset_id = eq.dataset_id;
+  point.specimen_id = eq.specimen_id;
+  point.step_index = eq.step_index;
+  point.step_label = eq.step_label;
+  point.branch = eq.branch;
+  point.cycle = eq.cycle;
+  point.temperature_K = eq.temperature_K;
+  point.rh_fraction = eq.rh_fraction;
+  point.rh_source = eq.rh_source;
+  point.mass_g = eq.mass_g;
+  point.dry_mass_g = dry.mass_g;
+  point.time_to_equilibrium_s = eq.time_to_equilibrium_s;
+  point.equilibrated = eq.equilibrated && dry.equilibrated;
+  point.extrapolated = eq.extrapolated;
+  point.flags = eq.flags;
+  point.where = eq.where;
+  if (!dry.equilibrated) point.flags.push_back("dry reference mass not at constant mass");
+
+  const double m = eq.mass_g;
+  const double md = dry.mass_g;
+  point.moisture_kg_per_kg = (m - md) / md;
+  const double u_balance =
+      std::sqrt(job.balance_standard_uncertainty_g * job.balance_standard_uncertainty_g +
+                std::pow(job.balance_resolution_g / kSqrt12, 2));
+  const double c_wet = 1.0 / md;
+  const double c_dry = -m / (md * md);
+  point.moisture_budget.push_back(Line("balance (wet mass)", u_balance, "g", c_wet));
+  point.moisture_budget.push_back(Line("balance (dry mass)", u_balance, "g", c_dry));
+  if (dry.u_mass_g > 0.0) {
+    point.moisture_budget.push_back(Line("dry-mass method", dry.u_mass_g, "g", c_dry));
+  }
+  if (eq.u_mass_drift_g > 0.0) {
+    point.moisture_budget.push_back(Line("residual drift", eq.u_mass_drift_g, "g", c_wet));
+  }
+  if (eq.extrapolated) {
+    point.moisture_budget.push_back(Line("extrapolation", eq.u_mass_extrapolation_g, "g", c_wet));
+  }
+  point.u_moisture_kg_per_kg = RootSumSquare(point.moisture_budget);
+  point.expanded_u_moisture_kg_per_kg = options.coverage_factor * point.u_moisture_kg_per_kg;
+
+  std::string source;
+  switch (eq.rh_source_kind) {
+    case equilibrate::RhSource::kSaltTable:
+      source = "RH (salt table)";
+      break;
+    case equilibrate::RhSource::kSensor:
+      source = "RH (sensor)";
+      break;
+    case equilibrate::RhSource::kStated:
+      source = "RH (stated, sensor uncertainty)";
+      break;
+    case equilibrate::RhSource::kDry:
+      source = "RH (dry reference)";
+      break;
+  }
+  point.rh_budget.push_back(Line(source, eq.u_rh_fraction, "1", 1.0));
+  point.rh_budget.push_back(Line("temperature effect on RH", job.temperature_standard_uncertainty_K,
+                                 "K", eq.drh_dT_per_K));
+  point.u_rh_fraction = RootSumSquare(point.rh_budget);
+
+  if (point.moisture_kg_per_kg < 0.0) {
+    const double margin = options.coverage_factor * point.u_moisture_kg_per_kg;
+    if (job.negative_moisture_expected) {
+      point.flags.push_back("negative moisture content (expected for this material)");
+    } else if (point.moisture_kg_per_kg < -margin) {
+      throw InputError(
+          eq.where,
+          fmt::format("specimen '{}' step {} ({}): mass {:.6f} g is below the dry mass "
+                      "{:.6f} g, moisture content {:.6f} kg/kg (k u = {:.2g})",
+                      eq.specimen_id, eq.step_index + 1, eq.step_label, m, md,
+                      point.moisture_kg_per_kg, margin),
+          "a mass not below the dry mass, or negative_moisture_expected = true in "
+          "[measurement]");
+    } else {
+      point.flags.push_back("negative moisture content within its uncertainty");
+    }
+  }
+  if (!point.equilibrated) {
+    if (options.include_not_equilibrated) {
+      point.flags.push_back("included although not equilibrated");
+    } else {
+      point.excluded = true;
+      point.flags.push_back("excluded: not equilibrated");
+    }
+  }
+  return point;
+}
+
+// Fixed-decimal CSV cells.
+std::string Cell(double value, int decimals) { return fmt::format("{:.{}f}", value, decimals); }
+
+std::string Quote(const std::string& text) {
+  if (text.find_first_of(",\"\n") == std::string::npos) return text;
+  std::string out = "\"";
+  for (char c : text) {
+    if (c == '"') out += '"';
+    out += c;
+  }
+  return out + "\"";
+}
+
+std::string Join(const std::vector<std::string>& items, std::string_view separator) {
+  std::string out;
+  for (const auto& item : items) {
+    if (!out.empty()) out += separator;
+    out += item;
+  }
+  return out;
+}
+
+}  // namespace
+
+bool ReduceOptions::IsValid(std::string* error) const {
+  // Above k = 10 the value is certainly a mistake (k = 3 already gives about 99 %).
+  constexpr double kLargestCoverageFactor = 10.0;
+  if (!(coverage_factor > 0.0 && coverage_factor <= kLargestCoverageFactor)) {
+    if (error != nullptr) {
+      *error = fmt::format("coverage_factor {} must lie in (0, {}]", coverage_factor,
+                           kLargestCoverageFactor);
+    }
+    return false;
+  }
+  return true;
+}
+
+ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
+                        const equilibrate::EquilibriumSet& equilibria,
+                        const ReduceOptions& options) {
+  const ingest::JobSpec& job = ingested.job;
+  std::string error;
+  if (!options.IsValid(&error)) {
+    throw InputError(SourceLocation{job.job_file.string(), 0, 0}, "[equilibrium]: " + error,
+                     "a coverage factor such as 2");
+  }
+  ReducedIsotherms reduced;
+  reduced.coverage_factor = options.coverage_factor;
+
+  std::map<std::string, int> dataset_order;
+  for (const auto& dataset : job.datasets) {
+    dataset_order.emplace(dataset.id, static_cast<int>(dataset_order.size()));
+  }
+  auto order_of = [&](const std::string& id) {
+    auto it = dataset_order.find(id);
+    return it == dataset_order.end() ? static_cast<int>(dataset_order.size()) : it->second;
+  };
+
+  for (const auto& eq : equilibria.points) {
+    // Drying steps give the dry reference (or check it); they are not isotherm points.
+    if (eq.branch == ingest::Branch::kDrying) continue;
+    const equilibrate::DryMass* dry = FindDryMass(equilibria, eq.specimen_id);
+    if (dry == nullptr || !(dry->mass_g > 0.0)) {
+      throw InputError(eq.where, fmt::format("no dry mass for specimen '{}'", eq.specimen_id),
+                       "a dry mass source per [measurement] dry_mass_method");
+    }
+    SpecimenPoint point = ReducePoint(eq, *dry, job, options);
+    if (point.excluded) {
+      ++reduced.summary.num_excluded;
+      reduced.summary.warnings.push_back(Diagnostic{
+          Severity::kWarning, point.where,
+          fmt::format("{} / {} / step {} ({}) excluded: not equilibrated", point.dataset_id,
+                      point.specimen_id, point.step_index + 1, point.step_label),
+          "include_not_equilibrated = true in [equilibrium] to keep it (flagged)"});
+    }
+    reduced.specimen_points.push_back(std::move(point));
+  }
+
+  // Group the included specimen points per step.
+  using Key = std::tuple<int, int, int, int, std::string, std::string>;
+  std::map<Key, std::vector<const SpecimenPoint*>> groups;
+  for (const auto& point : reduced.specimen_points) {
+    if (point.excluded) continue;
+    groups[Key{order_of(point.dataset_id), point.cycle, BranchOrder(point.branch), point.step_index,
+               point.step_label, point.dataset_id}]
+        .push_back(&point);
+  }
+  for (const auto& [key, members] : groups) {
+    IsothermPoint iso;
+    const SpecimenPoint& first = *members.front();
+    iso.dataset_id = first.dataset_id;
+    iso.step_index = first.step_index;
+    iso.step_label = first.step_label;
+    iso.branch = first.branch;
+    iso.cycle = first.cycle;
+    const double n = static_cast<double>(members.size());
+    iso.num_specimens = static_cast<int>(members.size());
+    double sum_u = 0.0, sum_u2 = 0.0, sum_rh = 0.0, sum_urh2 = 0.0, sum_t = 0.0;
+    double sum_density = 0.0;
+    bool all_density = true;
+    iso.equilibrated = true;
+    for (const SpecimenPoint* p : members) {
+      iso.specimen_ids.push_back(p->specimen_id);
+      sum_u += p->moisture_kg_per_kg;
+      sum_u2 += p->u_moisture_kg_per_kg * p->u_moisture_kg_per_kg;
+      sum_rh += p->rh_fraction;
+      sum_urh2 += p->u_rh_fraction * p->u_rh_fraction;
+      sum_t += p->temperature_K;
+      iso.time_to_equilibrium_s = std::max(iso.time_to_equilibrium_s, p->time_to_equilibrium_s);
+      iso.equilibrated = iso.equilibrated && p->equilibrated;
+      iso.extrapolated = iso.extrapolated || p->extrapolated;
+      for (const auto& flag : p->flags) iso.flags.push_back(p->specimen_id + ": " + flag);
+      const ingest::SpecimenSpec* spec = FindSpecimen(job, p->specimen_id);
+      if (spec != nullptr && spec->bulk_density_kg_per_m3) {
+        sum_density += *spec->bulk_density_kg_per_m3;
+      } else {
+        all_density = false;
+      }
+    }
+    const double mean = sum_u / n;
+    double ss = 0.0;
+    for (const SpecimenPoint* p : members) ss += std::pow(p->moisture_kg_per_kg - mean, 2);
+    const double s = members.size() > 1 ? std::sqrt(ss / (n - 1.0)) : 0.0;
+    iso.moisture_kg_per_kg = mean;
+    iso.between_specimen_sd_kg_per_kg = s;
+    iso.u_moisture_kg_per_kg = std::sqrt(sum_u2 / (n * n) + s * s / n);
+    iso.expanded_u_moisture_kg_per_kg = options.coverage_factor * iso.u_moisture_kg_per_kg;
+    iso.rh_fraction = sum_rh / n;
+    iso.u_rh_fraction = std::sqrt(sum_urh2 / n);
+    iso.expanded_u_rh_fraction = options.coverage_factor * iso.u_rh_fraction;
+    iso.temperature_K = sum_t / n;
+    if (all_density) {
+      double rho_w = 0.0;
+      try {
+        rho_w = physics::LiquidWaterDensity_kg_per_m3(iso.temperature_K);
+      } catch (const physics::RangeError& range) {
+        throw InputError(first.where, range.what(), "a test temperature within 0..150 degC");
+      }
+      const double rho_dry = sum_density / n;
+      iso.has_volumetric = true;
+      iso.volumetric_m3_per_m3 = mean * rho_dry / rho_w;
+      iso.u_volumetric_m3_per_m3 = iso.u_moisture_kg_per_kg * rho_dry / rho_w;
+    }
+    reduced.points.push_back(std::move(iso));
+  }
+  reduced.summary.num_points = static_cast<int>(reduced.points.size());
+
+  // Retention points: equivalent RH by the Kelvin relation at the retention temperature.
+  const double retention_T =
+      job.retention ? job.retention->temperature_K : physics::CelsiusToKelvin(23.0);
+  for (const auto& rp : ingested.retention_points) {
+    RetentionIsothermPoint out;
+    out.specimen_id = rp.specimen_id;
+    out.capillary_pressure_Pa = rp.capillary_pressure_Pa;
+    out.temperature_K = retention_T;
+    out.moisture_kg_per_kg = rp.moisture_kg_per_kg;
+    out.u_moisture_kg_per_kg = rp.u_moisture_kg_per_kg;
+    out.branch = rp.branch;
+    try {
+      out.equivalent_rh_fraction =
+          physics::RhFromCapillaryPressure(rp.capillary_pressure_Pa, retention_T);
+    } catch (const physics::RangeError& range) {
+      throw InputError(
+          SourceLocation{job.retention ? job.retention->file_as_written : std::string(), rp.line,
+                         0},
+          range.what(), "a capillary pressure >= 0 at 0..100 degC");
+    }
+    reduced.retention.push_back(out);
+  }
+  return reduced;
+}
+
+std::string EquilibriumTableCsv(const ReducedIsotherms& reduced) {
+  std::string out =
+      "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_C,rh_percent,u_rh_percent,"
+      "moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,coverage_factor,"
+      "between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,u_volumetric_m3_per_m3,"
+      "time_to_equilibrium_h,equilibrated,extrapolated,excluded,flags\n";
+  const std::string k = Cell(reduced.coverage_factor, 2);
+  auto yes_no = [](bool value) { return value ? "yes" : "no"; };
+  for (const auto& p : reduced.specimen_points) {
+    out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},{},,1,,,{},{},{},{},{}\n",
+                       Quote(p.dataset_id), Quote(p.specimen_id), p.step_index + 1,
+                       Quote(p.step_label), Name(p.branch), p.cycle,
+                       Cell(physics::KelvinToCelsius(p.temperature_K), 2),
+                       Cell(p.rh_fraction * kPercent, 2), Cell(p.u_rh_fraction * kPercent, 3),
+                       Cell(p.moisture_kg_per_kg, 6), Cell(p.u_moisture_kg_per_kg, 7),
+                       Cell(p.expanded_u_moisture_kg_per_kg, 7), k,
+                       Cell(p.time_to_equilibrium_s / kSecondsPerHour, 2), yes_no(p.equilibrated),
+                       yes_no(p.extrapolated), yes_no(p.excluded), Quote(Join(p.flags, "; ")));
+  }
+  for (const auto& p : reduced.points) {
+    out += fmt::format(
+        "combined,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},no,{}\n",
+        Quote(p.dataset_id), Quote(Join(p.specimen_ids, "+")), p.step_index + 1,
+        Quote(p.step_label), Name(p.branch), p.cycle,
+        Cell(physics::KelvinToCelsius(p.temperature_K), 2), Cell(p.rh_fraction * kPercent, 2),
+        Cell(p.u_rh_fraction * kPercent, 3), Cell(p.moisture_kg_per_kg, 6),
+        Cell(p.u_moisture_kg_per_kg, 7), Cell(p.expanded_u_moisture_kg_per_kg, 7), k,
+        Cell(p.between_specimen_sd_kg_per_kg, 7), p.num_specimens,
+        p.has_volumetric ? Cell(p.volumetric_m3_per_m3, 6) : std::string(),
+        p.has_volumetric ? Cell(p.u_volumetric_m3_per_m3, 7) : std::string(),
+        Cell(p.time_to_equilibrium_s / kSecondsPerHour, 2), yes_no(p.equilibrated),
+        yes_no(p.extrapolated), Quote(Join(p.flags, "; ")));
+  }
+  return out;
+}
+
+}  // namespace sorbtrace::reduce

@@ -1,0 +1,328 @@
+#include "pipeline/report/sheet.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <set>
+#include <utility>
+
+#include "pipeline/report/format.h"
+
+namespace sorbtrace::report {
+namespace {
+
+constexpr double kZeroCelsius_K = 273.15;  // ITS-90 offset
+// A parameter correlation this close to +-1 makes the pair poorly determined (common practice
+// in nonlinear regression reports).
+constexpr double kNotableCorrelation = 0.95;
+
+std::string PrettyUnit(const std::string& unit) {
+  if (unit == "1" || unit.empty()) return "";
+  std::string out = unit;
+  const std::vector<std::pair<std::string, std::string>> replacements = {
+      {"m2", "m²"}, {"m3", "m³"}, {"degC", "°C"}, {"^-1", "⁻¹"}, {"um", "µm"}};
+  for (const auto& [from, to] : replacements) {
+    size_t pos = 0;
+    while ((pos = out.find(from, pos)) != std::string::npos) {
+      out.replace(pos, from.size(), to);
+      pos += to.size();
+    }
+  }
+  return out;
+}
+
+std::string WithUnit(const std::string& number, const std::string& display_unit) {
+  if (display_unit.empty()) return number;
+  // A value in brackets with a power of ten keeps the unit after it.
+  return number + " " + display_unit;
+}
+
+std::string KeyPart(std::string text) {
+  std::string out;
+  for (char c : text) {
+    if ((c >= 'a' && c <= 'z') || (c >= '0' && c <= '9')) {
+      out.push_back(c);
+    } else if (c >= 'A' && c <= 'Z') {
+      out.push_back(static_cast<char>(c - 'A' + 'a'));
+    } else if (!out.empty() && out.back() != '_') {
+      out.push_back('_');
+    }
+  }
+  while (!out.empty() && out.back() == '_') out.pop_back();
+  return out;
+}
+
+void AddUnique(std::vector<std::string>& list, std::set<std::string>& seen, std::string item) {
+  if (item.empty()) return;
+  if (seen.insert(item).second) list.push_back(std::move(item));
+}
+
+}  // namespace
+
+nlohmann::ordered_json QuantityJson(const Quantity& q) {
+  nlohmann::ordered_json j;
+  j["key"] = q.key;
+  j["label"] = q.label;
+  j["value"] = q.value;
+  j["unit"] = q.unit;
+  j["standard_uncertainty"] = q.standard_uncertainty;
+  j["coverage_factor"] = q.coverage_factor;
+  j["expanded_uncertainty"] = q.expanded_uncertainty;
+  j["display_unit"] = q.display_unit;
+  j["text"] = q.text;
+  return j;
+}
+
+Quantity MakeQuantity(std::string key, std::string label, double value, double standard_uncertainty,
+                      std::string unit, double display_scale, std::string display_unit,
+                      const DisplayRules& rules) {
+  Quantity q;
+  q.key = std::move(key);
+  q.label = std::move(label);
+  q.value = value;
+  q.unit = std::move(unit);
+  q.standard_uncertainty = std::isfinite(standard_uncertainty) ? standard_uncertainty : 0.0;
+  q.coverage_factor = rules.coverage_factor;
+  q.expanded_uncertainty = q.coverage_factor * q.standard_uncertainty;
+  q.display_value = value * display_scale;
+  q.display_expanded_uncertainty = q.expanded_uncertainty * display_scale;
+  q.display_unit = std::move(display_unit);
+  q.text = WithUnit(FormatWithUncertainty(q.display_value, q.display_expanded_uncertainty,
+                                          rules.significant_digits),
+                    q.display_unit);
+  return q;
+}
+
+Quantity MoistureQuantity(std::string key, std::string label, double value_kg_per_kg,
+                          double u_kg_per_kg, const DisplayRules& rules) {
+  // 1 kg/kg = 100 % (mass percent, dry basis).
+  return MakeQuantity(std::move(key), std::move(label), value_kg_per_kg, u_kg_per_kg, "kg/kg",
+                      rules.moisture_in_percent ? 100.0 : 1.0,
+                      rules.moisture_in_percent ? "%" : "kg/kg", rules);
+}
+
+std::string BranchLabel(ingest::Branch branch) {
+  switch (branch) {
+    case ingest::Branch::kAdsorption:
+      return "adsorption";
+    case ingest::Branch::kDesorption:
+      return "desorption";
+    case ingest::Branch::kDrying:
+      return "drying";
+  }
+  return "?";
+}
+
+std::string TemperatureLabel(double temperature_K) {
+  return FormatFixed(temperature_K - kZeroCelsius_K, 1) + " °C";
+}
+
+std::string GroupLabel(const fit::FitGroup& group) {
+  return BranchLabel(group.branch) + ", " + TemperatureLabel(group.temperature_K);
+}
+
+Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
+  Sheet sheet;
+  sheet.rules.moisture_in_percent = layout.moisture_in_percent;
+  sheet.rules.significant_digits = layout.uncertainty_significant_digits;
+  if (inputs.reduced != nullptr) sheet.rules.coverage_factor = inputs.reduced->coverage_factor;
+  if (inputs.fits != nullptr && inputs.reduced == nullptr) {
+    sheet.rules.coverage_factor = inputs.fits->coverage_factor;
+  }
+  const DisplayRules& rules = sheet.rules;
+  sheet.moisture_unit = rules.moisture_in_percent ? "%" : "kg/kg";
+  sheet.moisture_axis_label = rules.moisture_in_percent ? "moisture content (mass %, dry basis)"
+                                                        : "moisture content (kg/kg, dry basis)";
+  std::set<std::string> seen_cautions;
+
+  // Headline: moisture at the reference conditions.
+  if (inputs.pores != nullptr) {
+    const pores::PoreAnalysis& pa = *inputs.pores;
+    for (const pores::ReferenceMoisture& rm : pa.reference_moisture) {
+      bool wanted = layout.reference_conditions.empty();
+      for (const pores::ReferenceCondition& c : layout.reference_conditions) {
+        if (std::abs(c.temperature_K - rm.condition.temperature_K) < 0.05 &&
+            std::abs(c.rh_fraction - rm.condition.rh_fraction) < 5e-4) {
+          wanted = true;
+        }
+      }
+      if (!wanted) continue;
+      const std::string t = FormatFixed(rm.condition.temperature_K - kZeroCelsius_K, 0);
+      const std::string rh = FormatFixed(rm.condition.rh_fraction * 100.0, 0);
+      sheet.headline.push_back(MoistureQuantity(
+          "moisture_" + t + "C_" + rh + "RH_" + BranchLabel(rm.branch),
+          "Moisture content at " + t + " °C / " + rh + " % RH (" + BranchLabel(rm.branch) + ")",
+          rm.moisture_kg_per_kg, rm.u_moisture_kg_per_kg, rules));
+      if (!rm.temperature_matches) {
+        AddUnique(sheet.cautions, seen_cautions,
+                  "Moisture at " + t + " °C / " + rh +
+                      " % RH is taken from an isotherm fitted at another temperature.");
+      }
+      for (const std::string& f : rm.flags) AddUnique(sheet.cautions, seen_cautions, f);
+    }
+    for (const pores::SurfaceArea& sa : pa.surface_areas) {
+      std::string model = sa.model_name;
+      std::transform(model.begin(), model.end(), model.begin(),
+                     [](char c) { return static_cast<char>(std::toupper(c)); });
+      sheet.headline.push_back(MakeQuantity("surface_area_" + KeyPart(sa.model_name),
+                                            "Specific surface area (" + model + " monolayer, " +
+                                                BranchLabel(sa.branch) + ")",
+                                            sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0,
+                                            "m²/g", rules));
+    }
+    if (pa.hygroscopicity.applicable) {
+      sheet.headline.push_back(MakeQuantity(
+          "hygroscopicity_mass_increase", "Mass increase at 25 °C / 80 % RH (Ph. Eur. 5.11)",
+          pa.hygroscopicity.mass_increase_percent, pa.hygroscopicity.u_mass_increase_percent,
+          "%", 1.0, "%", rules));
+      sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
+    } else {
+      sheet.hygroscopicity_class = "not classified";
+      if (!pa.hygroscopicity.reason.empty()) {
+        sheet.hygroscopicity_class += " (" + pa.hygroscopicity.reason + ")";
+      }
+    }
+    for (size_t d = 0; d < pa.distributions.size(); ++d) {
+      const pores::PoreDistribution& pd = pa.distributions[d];
+      const std::string tag = pd.method + "_" + BranchLabel(pd.branch);
+      const std::string what = BranchLabel(pd.branch) + ", " + pd.method;
+      // 1 m3/kg = 1e6 mm3/g; 1 m = 1e9 nm.
+      sheet.headline.push_back(MakeQuantity(
+          "pore_volume_" + tag, "Kelvin-resolved pore volume (" + what + ")",
+          pd.total_resolved_volume_m3_per_kg, pd.u_total_resolved_volume_m3_per_kg, "m3/kg",
+          1e6, "mm³/g", rules));
+      for (size_t m = 0; m < pd.modes.size(); ++m) {
+        sheet.headline.push_back(MakeQuantity(
+            "modal_radius_" + tag + "_" + std::to_string(m + 1),
+            "Modal pore radius " + std::to_string(m + 1) + " (" + what + ")",
+            pd.modes[m].radius_m, pd.modes[m].u_radius_m, "m", 1e9, "nm", rules));
+      }
+    }
+    for (const Diagnostic& w : pa.summary.warnings) AddUnique(sheet.cautions, seen_cautions, w.message);
+  }
+
+  // Models.
+  if (inputs.fits != nullptr) {
+    const fit::IsothermFits& fits = *inputs.fits;
+    for (size_t i = 0; i < fits.fits.size(); ++i) {
+      const fit::ModelFit& mf = fits.fits[i];
+      ModelRow row;
+      row.fit_index = static_cast<int>(i);
+      row.model_title = mf.info.title.empty() ? mf.model_name : mf.info.title;
+      if (mf.group_index >= 0 && static_cast<size_t>(mf.group_index) < fits.groups.size()) {
+        row.group_label = GroupLabel(fits.groups[static_cast<size_t>(mf.group_index)]);
+      }
+      row.converged = mf.result.ok();
+      row.rank = mf.rank;
+      const size_t p = mf.result.estimates.size();
+      for (size_t k = 0; k < p; ++k) {
+        const fitters::ParameterEstimate& e = mf.result.estimates[k];
+        double u = e.standard_error;
+        DisplayRules param_rules = rules;
+        if (k < mf.expanded_uncertainty.size() && u > 0.0) {
+          param_rules.coverage_factor = mf.expanded_uncertainty[k] / u;
+        } else {
+          param_rules.coverage_factor = fits.coverage_factor;
+        }
+        Quantity q = MakeQuantity(
+            "fit_" + std::to_string(i) + "_" + KeyPart(mf.model_name) + "_" + KeyPart(e.name),
+            e.name, e.value, u, e.unit.empty() ? "1" : e.unit, 1.0, PrettyUnit(e.unit),
+            param_rules);
+        row.parameters.push_back(std::move(q));
+      }
+      const Eigen::MatrixXd& r = mf.result.correlation;
+      for (Eigen::Index a = 0; a < r.rows(); ++a) {
+        for (Eigen::Index b = a + 1; b < r.cols(); ++b) {
+          if (std::abs(r(a, b)) > kNotableCorrelation && static_cast<size_t>(b) < p) {
+            row.correlations.push_back(
+                mf.result.estimates[static_cast<size_t>(a)].name + "–" +
+                mf.result.estimates[static_cast<size_t>(b)].name + ": r = " +
+                FormatFixed(r(a, b), 3));
+          }
+        }
+      }
+      const fitters::FitStatistics& s = mf.result.statistics;
+      const double scale = rules.moisture_in_percent ? 100.0 : 1.0;
+      row.rmse_text = WithUnit(FormatSignificant(s.rmse * scale, 2), sheet.moisture_unit);
+      row.mrd_text = FormatFixed(s.mean_relative_deviation_percent, 1) + " %";
+      row.aicc_text = FormatFixed(s.aicc, 1);
+      row.bic_text = FormatFixed(s.bic, 1);
+      std::set<std::string> seen_flags;
+      for (const std::string& f : mf.flags) AddUnique(row.flags, seen_flags, f);
+      for (const std::string& f : mf.result.summary.flags) AddUnique(row.flags, seen_flags, f);
+      for (const fit::ConsistencyCheck& c : mf.consistency) {
+        if (!c.passed) AddUnique(row.flags, seen_flags, "fails " + c.criterion);
+      }
+      if (!row.converged) AddUnique(row.flags, seen_flags, "not converged");
+      sheet.models.push_back(std::move(row));
+    }
+    std::vector<std::string> best_names;
+    for (size_t g = 0; g < fits.best_fit_per_group.size(); ++g) {
+      const int best = fits.best_fit_per_group[g];
+      if (best < 0 || static_cast<size_t>(best) >= fits.fits.size()) continue;
+      const fit::ModelFit& mf = fits.fits[static_cast<size_t>(best)];
+      const ModelRow& row = sheet.models[static_cast<size_t>(best)];
+      best_names.push_back(row.model_title + " (" + row.group_label + ")");
+      for (const Quantity& q : row.parameters) {
+        Quantity h = q;
+        h.key = "best_" + KeyPart(BranchLabel(fits.groups[g].branch)) + "_" +
+                FormatFixed(fits.groups[g].temperature_K - kZeroCelsius_K, 0) + "C_" +
+                KeyPart(mf.model_name) + "_" + KeyPart(q.label);
+        h.label = row.model_title + " " + q.label + " (" + row.group_label + ")";
+        sheet.headline.push_back(std::move(h));
+      }
+      for (const std::string& f : row.flags) {
+        AddUnique(sheet.cautions, seen_cautions, row.model_title + ": " + f);
+      }
+    }
+    for (size_t i = 0; i < best_names.size(); ++i) {
+      sheet.best_model_text += (i > 0 ? "; " : "") + best_names[i];
+    }
+    for (const Diagnostic& w : fits.summary.warnings) {
+      AddUnique(sheet.cautions, seen_cautions, w.message);
+    }
+  }
+
+  // Measurement cautions.
+  if (inputs.equilibria != nullptr) {
+    const equilibrate::EquilibrateSummary& s = inputs.equilibria->summary;
+    if (s.num_not_equilibrated > 0) {
+      AddUnique(sheet.cautions, seen_cautions,
+                fmt::format("{} of {} steps did not meet the equilibrium criterion.",
+                            s.num_not_equilibrated, s.num_steps));
+    }
+    if (s.num_extrapolated > 0) {
+      AddUnique(sheet.cautions, seen_cautions,
+                fmt::format("{} of {} steps were extrapolated to their asymptote (flagged in the "
+                            "equilibrium table; the extra uncertainty is included).",
+                            s.num_extrapolated, s.num_steps));
+    }
+    for (const Diagnostic& w : s.warnings) AddUnique(sheet.cautions, seen_cautions, w.message);
+  }
+  if (inputs.reduced != nullptr) {
+    for (const Diagnostic& w : inputs.reduced->summary.warnings) {
+      AddUnique(sheet.cautions, seen_cautions, w.message);
+    }
+  }
+  if (inputs.ingested != nullptr) {
+    for (const Diagnostic& w : inputs.ingested->summary.warnings) {
+      AddUnique(sheet.cautions, seen_cautions, w.message);
+    }
+  }
+  sheet.standing_cautions = {
+      "The results describe the specimens tested, under the conditions stated on this sheet; "
+      "they apply to those specimens only and are not a property of every batch of the "
+      "material.",
+      "This datasheet is not a substitute for design to local codes, the applicable standard "
+      "and licensed professional practice, whether in building moisture design, mould-risk "
+      "assessment or drug-product stability.",
+      "Fitted curves and pore-size distributions describe the measured points; outside the "
+      "measured humidity range they are extrapolations.",
+      "Saturated salt solutions and drying ovens are hazards: handle salts, solutions and hot "
+      "specimens according to their safety data sheets.",
+  };
+  return sheet;
+}
+
+}  // namespace sorbtrace::report
