@@ -177,6 +177,8 @@ struct InputFileRecord {
 struct IngestOptions {
   double log_block_s = 10.0;        // width of log block means [s]
   double log_gap_warning_s = 600.0; // a gap between rows longer than this is a warning
+
+  bool IsValid(std::string* error) const;  // Ingest() throws std::invalid_argument if not
 };
 
 struct IngestSummary {

@@ -61,8 +61,9 @@ std::vector<SurfaceArea> SurfaceAreas(const std::vector<FittedCurve>& gab_bet_fi
 ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
                                        const std::vector<FittedCurve>& best_adsorption,
                                        const PoreOptions& options);
+// coverage_factor: k of the expanded uncertainty, to say when a class boundary lies within it.
 Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorption,
-                                  const PoreOptions& options);
+                                  double coverage_factor, const PoreOptions& options);
 Hysteresis HysteresisFrom(const FittedCurve& adsorption, const FittedCurve& desorption,
                           double coverage_factor, const PoreOptions& options);
 IsostericHeat IsostericHeatFrom(const std::vector<FittedCurve>& best_of_branch,

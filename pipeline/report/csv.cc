@@ -1,0 +1,121 @@
+// CSV companions of the datasheet: comma-separated, one header line, numbers in SI in their
+// shortest round-trip form (so they re-read to the same doubles), text fields quoted when
+// they contain a comma, quote or line break (RFC 4180).
+#include <fmt/format.h>
+
+#include <cmath>
+#include <string>
+
+#include "pipeline/report/results_json.h"
+
+namespace sorbtrace::report {
+namespace {
+
+std::string Num(double value) { return std::isfinite(value) ? fmt::format("{}", value) : ""; }
+
+std::string Text(const std::string& text) {
+  if (text.find_first_of(",\"\n\r") == std::string::npos) return text;
+  std::string out = "\"";
+  for (char c : text) {
+    if (c == '"') out += '"';
+    out += c;
+  }
+  return out + "\"";
+}
+
+std::string Join(const std::vector<std::string>& items, const char* separator) {
+  std::string out;
+  for (size_t i = 0; i < items.size(); ++i) out += (i > 0 ? separator : "") + items[i];
+  return out;
+}
+
+std::string EquilibriumTable(const ReportInputs& inputs) {
+  std::string out =
+      "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_K,rh_fraction,"
+      "u_rh_fraction,moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,"
+      "between_specimen_sd_kg_per_kg,num_specimens,time_to_equilibrium_s,equilibrated,"
+      "extrapolated,flags\n";
+  if (inputs.reduced == nullptr) return out;
+  const reduce::ReducedIsotherms& r = *inputs.reduced;
+  for (const reduce::SpecimenPoint& p : r.specimen_points) {
+    out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},,1,{},{},{},{}\n",
+                       Text(p.dataset_id), Text(p.specimen_id), p.step_index, Text(p.step_label),
+                       BranchLabel(p.branch), p.cycle, Num(p.temperature_K), Num(p.rh_fraction),
+                       Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg),
+                       Num(p.u_moisture_kg_per_kg),
+                       Num(r.coverage_factor * p.u_moisture_kg_per_kg),
+                       Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no",
+                       p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")));
+  }
+  for (const reduce::IsothermPoint& p : r.points) {
+    out += fmt::format("combined,{},,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n",
+                       Text(p.dataset_id), p.step_index, Text(p.step_label), BranchLabel(p.branch),
+                       p.cycle, Num(p.temperature_K), Num(p.rh_fraction), Num(p.u_rh_fraction),
+                       Num(p.moisture_kg_per_kg), Num(p.u_moisture_kg_per_kg),
+                       Num(p.expanded_u_moisture_kg_per_kg),
+                       Num(p.between_specimen_sd_kg_per_kg), p.num_specimens,
+                       Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no",
+                       p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")));
+  }
+  return out;
+}
+
+std::string FitParameters(const ReportInputs& inputs, const Sheet& sheet) {
+  std::string out =
+      "fit,group,model,rank,converged,parameter,unit,value,standard_uncertainty,"
+      "coverage_factor,expanded_uncertainty,interval_low,interval_high,as_printed,rmse_kg_per_kg,"
+      "aicc,bic,flags\n";
+  if (inputs.fits == nullptr) return out;
+  const fit::IsothermFits& f = *inputs.fits;
+  for (size_t i = 0; i < f.fits.size(); ++i) {
+    const fit::ModelFit& mf = f.fits[i];
+    const ModelRow& row = sheet.models[i];
+    for (size_t k = 0; k < mf.result.estimates.size() && k < row.parameters.size(); ++k) {
+      const fitters::ParameterEstimate& e = mf.result.estimates[k];
+      const Quantity& q = row.parameters[k];
+      out += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", i,
+                         Text(row.group_label), Text(mf.model_name), mf.rank,
+                         row.converged ? "yes" : "no", Text(e.name), Text(q.unit), Num(e.value),
+                         Num(q.standard_uncertainty), Num(q.coverage_factor),
+                         Num(q.expanded_uncertainty), Num(e.interval_low), Num(e.interval_high),
+                         Text(q.text), Num(mf.result.statistics.rmse),
+                         Num(mf.result.statistics.aicc), Num(mf.result.statistics.bic),
+                         Text(Join(row.flags, "; ")));
+    }
+  }
+  return out;
+}
+
+std::string PoreDistribution(const ReportInputs& inputs) {
+  std::string out =
+      "distribution,method,model,branch,temperature_K,radius_m,kelvin_radius_m,film_thickness_m,"
+      "rh_fraction,cumulative_volume_m3_per_kg,cumulative_low_m3_per_kg,"
+      "cumulative_high_m3_per_kg,dv_dlogr_m3_per_kg,dv_dlogr_low_m3_per_kg,"
+      "dv_dlogr_high_m3_per_kg\n";
+  if (inputs.pores == nullptr) return out;
+  const auto& distributions = inputs.pores->distributions;
+  for (size_t d = 0; d < distributions.size(); ++d) {
+    const pores::PoreDistribution& pd = distributions[d];
+    for (const pores::PoreDistributionPoint& p : pd.points) {
+      out += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", d, Text(pd.method),
+                         Text(pd.model_name), BranchLabel(pd.branch), Num(pd.temperature_K),
+                         Num(p.radius_m), Num(p.kelvin_radius_m), Num(p.film_thickness_m),
+                         Num(p.rh_fraction), Num(p.cumulative_volume_m3_per_kg),
+                         Num(p.cumulative_low_m3_per_kg), Num(p.cumulative_high_m3_per_kg),
+                         Num(p.dv_dlogr_m3_per_kg), Num(p.dv_dlogr_low_m3_per_kg),
+                         Num(p.dv_dlogr_high_m3_per_kg));
+    }
+  }
+  return out;
+}
+
+}  // namespace
+
+std::vector<std::pair<std::string, std::string>> BuildCsvFiles(const ReportInputs& inputs,
+                                                               const Sheet& sheet) {
+  return {{"equilibrium_table.csv", EquilibriumTable(inputs)},
+          {"fit_parameters.csv", FitParameters(inputs, sheet)},
+          {"pore_distribution.csv", PoreDistribution(inputs)}};
+}
+
+}  // namespace sorbtrace::report

@@ -1,0 +1,520 @@
+// results.json: every number on the datasheet with unit and uncertainty, the formatted text
+// exactly as printed (from the same Sheet as the PDF), and everything `sorbtrace verify`
+// needs to re-derive it. Key order is fixed (nlohmann::ordered_json), numbers are written in
+// shortest round-trip form, non-finite numbers as null: the dump is deterministic.
+#include "pipeline/report/results_json.h"
+
+#include <algorithm>
+#include <cmath>
+#include <string>
+#include <utility>
+
+#include "pipeline/physics/physics.h"
+
+namespace sorbtrace::report {
+namespace {
+
+using Json = nlohmann::ordered_json;
+
+Json Number(double value) { return std::isfinite(value) ? Json(value) : Json(nullptr); }
+
+Json NumberArray(const std::vector<double>& values) {
+  Json out = Json::array();
+  for (double v : values) out.push_back(Number(v));
+  return out;
+}
+
+Json StringArray(const std::vector<std::string>& values) {
+  Json out = Json::array();
+  for (const std::string& v : values) out.push_back(v);
+  return out;
+}
+
+Json Matrix(const Eigen::MatrixXd& m) {
+  Json out = Json::array();
+  for (Eigen::Index r = 0; r < m.rows(); ++r) {
+    Json row = Json::array();
+    for (Eigen::Index c = 0; c < m.cols(); ++c) row.push_back(Number(m(r, c)));
+    out.push_back(row);
+  }
+  return out;
+}
+
+Json Diagnostics(const std::vector<Diagnostic>& diagnostics) {
+  Json out = Json::array();
+  for (const Diagnostic& d : diagnostics) out.push_back(FormatDiagnostic(d));
+  return out;
+}
+
+std::string DryMassMethodName(ingest::DryMassMethod method) {
+  switch (method) {
+    case ingest::DryMassMethod::kOvenDrying:
+      return "oven_drying";
+    case ingest::DryMassMethod::kDesiccantStep:
+      return "desiccant_step";
+    case ingest::DryMassMethod::kFinalDryingStep:
+      return "final_drying_step";
+  }
+  return "?";
+}
+
+Json Budget(const std::vector<reduce::BudgetLine>& lines) {
+  Json out = Json::array();
+  for (const reduce::BudgetLine& b : lines) {
+    out.push_back({{"quantity", b.quantity},
+                   {"standard_uncertainty", Number(b.standard_uncertainty)},
+                   {"unit", b.unit},
+                   {"sensitivity", Number(b.sensitivity)},
+                   {"contribution", Number(b.contribution)}});
+  }
+  return out;
+}
+
+Json JobJson(const ReportInputs& inputs) {
+  Json job = Json::object();
+  if (inputs.ingested == nullptr) return job;
+  const ingest::JobSpec& j = inputs.ingested->job;
+  job["job_id"] = j.job_id;
+  job["material"] = j.material_name;
+  job["material_description"] = j.material_description;
+  job["client"] = j.client;
+  job["test_dates"] = j.test_dates;
+  job["issue_date"] = j.issue_date;
+  job["template"] = j.template_name;
+  job["dry_mass_method"] = DryMassMethodName(j.dry_mass_method);
+  job["drying_temperature"] = {{"value", Number(j.drying_temperature_K)}, {"unit", "K"}};
+  job["balance_resolution"] = {{"value", Number(j.balance_resolution_g)}, {"unit", "g"}};
+  job["balance_standard_uncertainty"] = {{"value", Number(j.balance_standard_uncertainty_g)},
+                                         {"unit", "g"}};
+  Json specimens = Json::array();
+  for (const ingest::SpecimenSpec& s : j.specimens) {
+    Json spec = {{"id", s.id}};
+    spec["dry_mass_g"] = s.dry_mass_g ? Number(*s.dry_mass_g) : Json(nullptr);
+    spec["bulk_density_kg_per_m3"] =
+        s.bulk_density_kg_per_m3 ? Number(*s.bulk_density_kg_per_m3) : Json(nullptr);
+    specimens.push_back(spec);
+  }
+  job["specimens"] = specimens;
+  Json datasets = Json::array();
+  for (const ingest::DataSetSpec& d : j.datasets) {
+    datasets.push_back({{"id", d.id},
+                        {"method", d.method == ingest::Method::kDesiccator ? "desiccator"
+                                                                            : "vapor_log"},
+                        {"file", d.file_as_written},
+                        {"temperature_K", Number(d.temperature_K)},
+                        {"specimen_id", d.specimen_id}});
+  }
+  job["datasets"] = datasets;
+  return job;
+}
+
+Json EquilibriaJson(const ReportInputs& inputs) {
+  Json out = Json::object();
+  if (inputs.equilibria == nullptr) return out;
+  const equilibrate::EquilibriumSet& e = *inputs.equilibria;
+  Json points = Json::array();
+  for (const equilibrate::EquilibriumPoint& p : e.points) {
+    points.push_back({{"dataset_id", p.dataset_id},
+                      {"specimen_id", p.specimen_id},
+                      {"step_index", p.step_index},
+                      {"step_label", p.step_label},
+                      {"branch", BranchLabel(p.branch)},
+                      {"cycle", p.cycle},
+                      {"temperature_K", Number(p.temperature_K)},
+                      {"rh_fraction", Number(p.rh_fraction)},
+                      {"u_rh_fraction", Number(p.u_rh_fraction)},
+                      {"rh_source", p.rh_source},
+                      {"mass_g", Number(p.mass_g)},
+                      {"u_mass_extrapolation_g", Number(p.u_mass_extrapolation_g)},
+                      {"time_to_equilibrium_s", Number(p.time_to_equilibrium_s)},
+                      {"equilibrated", p.equilibrated},
+                      {"extrapolated", p.extrapolated},
+                      {"flags", StringArray(p.flags)},
+                      {"source", {{"file", p.where.file}, {"line", p.where.line}}}});
+  }
+  out["points"] = points;
+  Json dry = Json::array();
+  for (const equilibrate::DryMass& d : e.dry_masses) {
+    dry.push_back({{"specimen_id", d.specimen_id},
+                   {"mass_g", Number(d.mass_g)},
+                   {"u_mass_g", Number(d.u_mass_g)},
+                   {"method", d.method},
+                   {"equilibrated", d.equilibrated}});
+  }
+  out["dry_masses"] = dry;
+  out["summary"] = {{"num_steps", e.summary.num_steps},
+                    {"num_equilibrated", e.summary.num_equilibrated},
+                    {"num_extrapolated", e.summary.num_extrapolated},
+                    {"num_not_equilibrated", e.summary.num_not_equilibrated},
+                    {"warnings", Diagnostics(e.summary.warnings)}};
+  return out;
+}
+
+Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
+  Json out = Json::object();
+  if (inputs.reduced == nullptr) return out;
+  const reduce::ReducedIsotherms& r = *inputs.reduced;
+  out["coverage_factor"] = Number(r.coverage_factor);
+  Json points = Json::array();
+  for (size_t i = 0; i < r.points.size(); ++i) {
+    const reduce::IsothermPoint& p = r.points[i];
+    const Quantity rh = MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%",
+                                     sheet.rules);
+    const Quantity u = MoistureQuantity("moisture", "moisture content", p.moisture_kg_per_kg,
+                                        p.u_moisture_kg_per_kg, sheet.rules);
+    Json point = {{"index", i},
+                  {"dataset_id", p.dataset_id},
+                  {"step_index", p.step_index},
+                  {"step_label", p.step_label},
+                  {"branch", BranchLabel(p.branch)},
+                  {"cycle", p.cycle},
+                  {"temperature_K", Number(p.temperature_K)},
+                  {"rh", QuantityJson(rh)},
+                  {"moisture", QuantityJson(u)},
+                  {"between_specimen_sd_kg_per_kg", Number(p.between_specimen_sd_kg_per_kg)},
+                  {"num_specimens", p.num_specimens}};
+    if (p.has_volumetric) {
+      point["volumetric"] = {{"value", Number(p.volumetric_m3_per_m3)},
+                             {"unit", "m3/m3"},
+                             {"standard_uncertainty", Number(p.u_volumetric_m3_per_m3)}};
+    }
+    point["time_to_equilibrium_s"] = Number(p.time_to_equilibrium_s);
+    point["equilibrated"] = p.equilibrated;
+    point["extrapolated"] = p.extrapolated;
+    point["flags"] = StringArray(p.flags);
+    points.push_back(point);
+  }
+  out["points"] = points;
+  Json specimen_points = Json::array();
+  for (const reduce::SpecimenPoint& p : r.specimen_points) {
+    specimen_points.push_back({{"dataset_id", p.dataset_id},
+                               {"specimen_id", p.specimen_id},
+                               {"step_index", p.step_index},
+                               {"step_label", p.step_label},
+                               {"branch", BranchLabel(p.branch)},
+                               {"cycle", p.cycle},
+                               {"temperature_K", Number(p.temperature_K)},
+                               {"rh_fraction", Number(p.rh_fraction)},
+                               {"u_rh_fraction", Number(p.u_rh_fraction)},
+                               {"moisture_kg_per_kg", Number(p.moisture_kg_per_kg)},
+                               {"u_moisture_kg_per_kg", Number(p.u_moisture_kg_per_kg)},
+                               {"moisture_budget", Budget(p.moisture_budget)},
+                               {"rh_budget", Budget(p.rh_budget)},
+                               {"equilibrated", p.equilibrated},
+                               {"extrapolated", p.extrapolated},
+                               {"flags", StringArray(p.flags)}});
+  }
+  out["specimen_points"] = specimen_points;
+  Json retention = Json::array();
+  for (const reduce::RetentionIsothermPoint& p : r.retention) {
+    retention.push_back({{"specimen_id", p.specimen_id},
+                         {"capillary_pressure_Pa", Number(p.capillary_pressure_Pa)},
+                         {"equivalent_rh_fraction", Number(p.equivalent_rh_fraction)},
+                         {"temperature_K", Number(p.temperature_K)},
+                         {"moisture_kg_per_kg", Number(p.moisture_kg_per_kg)},
+                         {"u_moisture_kg_per_kg", Number(p.u_moisture_kg_per_kg)},
+                         {"branch", BranchLabel(p.branch)}});
+  }
+  out["retention"] = retention;
+  out["summary"] = {{"num_points", r.summary.num_points},
+                    {"num_excluded", r.summary.num_excluded},
+                    {"warnings", Diagnostics(r.summary.warnings)}};
+  return out;
+}
+
+Json ResampleJson(const fitters::ResampleResult& r) {
+  return {{"num_draws", r.parameter_draws.size()},
+          {"num_failed", r.num_failed},
+          {"parameter_low", NumberArray(r.parameter_low)},
+          {"parameter_high", NumberArray(r.parameter_high)},
+          {"parameter_std", NumberArray(r.parameter_std)}};
+}
+
+Json FitsJson(const ReportInputs& inputs, const Sheet& sheet) {
+  Json out = Json::object();
+  if (inputs.fits == nullptr) return out;
+  const fit::IsothermFits& f = *inputs.fits;
+  out["coverage_factor"] = Number(f.coverage_factor);
+  Json groups = Json::array();
+  for (size_t g = 0; g < f.groups.size(); ++g) {
+    const fit::FitGroup& group = f.groups[g];
+    Json indices = Json::array();
+    for (int i : group.point_indices) indices.push_back(i);
+    groups.push_back({{"index", g},
+                      {"label", GroupLabel(group)},
+                      {"branch", BranchLabel(group.branch)},
+                      {"temperature_K", Number(group.temperature_K)},
+                      {"num_observations", group.observations.size()},
+                      {"point_indices", indices}});
+  }
+  out["groups"] = groups;
+  Json models = Json::array();
+  for (size_t i = 0; i < f.fits.size(); ++i) {
+    const fit::ModelFit& mf = f.fits[i];
+    const ModelRow& row = sheet.models[i];
+    Json parameters = Json::array();
+    for (size_t k = 0; k < mf.result.estimates.size(); ++k) {
+      const fitters::ParameterEstimate& e = mf.result.estimates[k];
+      Json p = QuantityJson(row.parameters[k]);
+      p["interval_low"] = Number(e.interval_low);
+      p["interval_high"] = Number(e.interval_high);
+      p["at_bound"] = e.at_bound;
+      if (k < mf.info.parameters.size()) p["description"] = mf.info.parameters[k].description;
+      parameters.push_back(p);
+    }
+    const fitters::FitStatistics& s = mf.result.statistics;
+    Json consistency = Json::array();
+    for (const fit::ConsistencyCheck& c : mf.consistency) {
+      consistency.push_back({{"criterion", c.criterion}, {"passed", c.passed}, {"detail", c.detail}});
+    }
+    Json band = Json::array();
+    for (const fitters::BandPoint& b : mf.band) {
+      band.push_back({Number(b.x), Number(b.y), Number(b.confidence_low),
+                      Number(b.confidence_high), Number(b.prediction_low),
+                      Number(b.prediction_high)});
+    }
+    models.push_back(
+        {{"index", i},
+         {"model", mf.model_name},
+         {"title", mf.info.title},
+         {"equation", mf.info.equation},
+         {"source", mf.info.source},
+         {"group_index", mf.group_index},
+         {"converged", mf.result.ok()},
+         {"termination", mf.result.summary.message},
+         {"covariance_convention", mf.result.summary.covariance_convention},
+         {"parameters", parameters},
+         {"covariance", Matrix(mf.result.covariance)},
+         {"correlation", Matrix(mf.result.correlation)},
+         {"notable_correlations", StringArray(row.correlations)},
+         {"statistics",
+          {{"num_observations", s.num_observations},
+           {"num_parameters", s.num_parameters},
+           {"degrees_of_freedom", s.degrees_of_freedom},
+           {"weighted_ssr", Number(s.weighted_ssr)},
+           {"ssr", Number(s.ssr)},
+           {"rmse_kg_per_kg", Number(s.rmse)},
+           {"rmse_text", row.rmse_text},
+           {"residual_std", Number(s.residual_std)},
+           {"r_squared", Number(s.r_squared)},
+           {"adjusted_r_squared", Number(s.adjusted_r_squared)},
+           {"mean_relative_deviation_percent", Number(s.mean_relative_deviation_percent)},
+           {"mrd_text", row.mrd_text},
+           {"aicc", Number(s.aicc)},
+           {"aicc_text", row.aicc_text},
+           {"bic", Number(s.bic)},
+           {"bic_text", row.bic_text},
+           {"chi_square_p_value", Number(s.chi_square_p_value)},
+           {"runs", s.runs},
+           {"runs_test_p_value", Number(s.runs_test_p_value)}}},
+         {"bootstrap", ResampleJson(mf.bootstrap)},
+         {"monte_carlo", ResampleJson(mf.monte_carlo)},
+         {"consistency", consistency},
+         {"flags", StringArray(row.flags)},
+         {"rank", mf.rank},
+         {"band_columns", {"rh_fraction", "moisture_kg_per_kg", "confidence_low",
+                           "confidence_high", "prediction_low", "prediction_high"}},
+         {"band", band}});
+  }
+  out["models"] = models;
+  Json ranking = Json::array();
+  for (size_t g = 0; g < f.best_fit_per_group.size(); ++g) {
+    Json order = Json::array();
+    std::vector<std::pair<int, size_t>> ranked;
+    for (size_t i = 0; i < f.fits.size(); ++i) {
+      if (f.fits[i].group_index == static_cast<int>(g) && f.fits[i].rank > 0) {
+        ranked.emplace_back(f.fits[i].rank, i);
+      }
+    }
+    std::sort(ranked.begin(), ranked.end());
+    for (const auto& [rank, i] : ranked) {
+      order.push_back({{"rank", rank}, {"fit_index", i}, {"model", f.fits[i].model_name}});
+    }
+    ranking.push_back({{"group_index", g},
+                       {"best_fit_index", f.best_fit_per_group[g]},
+                       {"by", "AICc"},
+                       {"order", order}});
+  }
+  out["ranking"] = ranking;
+  out["summary"] = {{"fits_attempted", f.summary.fits_attempted},
+                    {"fits_converged", f.summary.fits_converged},
+                    {"warnings", Diagnostics(f.summary.warnings)}};
+  return out;
+}
+
+Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
+  Json out = Json::object();
+  if (inputs.pores == nullptr) return out;
+  const pores::PoreAnalysis& pa = *inputs.pores;
+  const DisplayRules& rules = sheet.rules;
+  Json distributions = Json::array();
+  for (const pores::PoreDistribution& d : pa.distributions) {
+    Json points = Json::array();
+    for (const pores::PoreDistributionPoint& p : d.points) {
+      points.push_back({Number(p.radius_m), Number(p.kelvin_radius_m), Number(p.film_thickness_m),
+                        Number(p.rh_fraction), Number(p.cumulative_volume_m3_per_kg),
+                        Number(p.cumulative_low_m3_per_kg), Number(p.cumulative_high_m3_per_kg),
+                        Number(p.dv_dlogr_m3_per_kg), Number(p.dv_dlogr_low_m3_per_kg),
+                        Number(p.dv_dlogr_high_m3_per_kg)});
+    }
+    Json modes = Json::array();
+    for (size_t m = 0; m < d.modes.size(); ++m) {
+      const Quantity q = MakeQuantity("mode", "modal radius", d.modes[m].radius_m,
+                                      d.modes[m].u_radius_m, "m", 1e9, "nm", rules);
+      Json mode = QuantityJson(q);
+      mode["dv_dlogr_m3_per_kg"] = Number(d.modes[m].dv_dlogr_m3_per_kg);
+      modes.push_back(mode);
+    }
+    Json decades = Json::array();
+    for (const pores::DecadeFraction& f : d.decades) {
+      decades.push_back({{"radius_low_m", Number(f.radius_low_m)},
+                         {"radius_high_m", Number(f.radius_high_m)},
+                         {"volume_fraction", Number(f.volume_fraction)}});
+    }
+    distributions.push_back(
+        {{"method", d.method},
+         {"model", d.model_name},
+         {"branch", BranchLabel(d.branch)},
+         {"temperature_K", Number(d.temperature_K)},
+         {"meniscus", std::string(d.meniscus == physics::Meniscus::kHemispherical
+                                      ? "hemispherical"
+                                      : "cylindrical")},
+         {"film", d.film_description},
+         {"total_resolved_volume",
+          QuantityJson(MakeQuantity("total_resolved_volume", "Kelvin-resolved pore volume",
+                                    d.total_resolved_volume_m3_per_kg,
+                                    d.u_total_resolved_volume_m3_per_kg, "m3/kg", 1e6, "mm³/g",
+                                    rules))},
+         {"adsorbed_volume_m3_per_kg", Number(d.adsorbed_volume_m3_per_kg)},
+         {"not_resolved_volume_m3_per_kg", Number(d.not_resolved_volume_m3_per_kg)},
+         {"resolved_radius_min_m", Number(d.resolved_radius_min_m)},
+         {"resolved_radius_max_m", Number(d.resolved_radius_max_m)},
+         {"modes", modes},
+         {"decades", decades},
+         {"assumptions", StringArray(d.assumptions)},
+         {"point_columns",
+          {"radius_m", "kelvin_radius_m", "film_thickness_m", "rh_fraction",
+           "cumulative_volume_m3_per_kg", "cumulative_low_m3_per_kg", "cumulative_high_m3_per_kg",
+           "dv_dlogr_m3_per_kg", "dv_dlogr_low_m3_per_kg", "dv_dlogr_high_m3_per_kg"}},
+         {"points", points}});
+  }
+  out["distributions"] = distributions;
+  Json areas = Json::array();
+  for (const pores::SurfaceArea& s : pa.surface_areas) {
+    Json a = QuantityJson(MakeQuantity("surface_area", "specific surface area", s.area_m2_per_g,
+                                       s.u_area_m2_per_g, "m2/g", 1.0, "m²/g", rules));
+    a["model"] = s.model_name;
+    a["branch"] = BranchLabel(s.branch);
+    a["temperature_K"] = Number(s.temperature_K);
+    a["monolayer"] = QuantityJson(MoistureQuantity("monolayer", "monolayer moisture content",
+                                                   s.monolayer_kg_per_kg, s.u_monolayer_kg_per_kg,
+                                                   rules));
+    a["molecular_area_m2"] = Number(s.molecular_area_m2);
+    areas.push_back(a);
+  }
+  out["surface_area"] = areas;
+  Json reference = Json::array();
+  for (const pores::ReferenceMoisture& r : pa.reference_moisture) {
+    Json j = QuantityJson(MoistureQuantity("reference_moisture", "moisture content",
+                                           r.moisture_kg_per_kg, r.u_moisture_kg_per_kg, rules));
+    j["temperature_K"] = Number(r.condition.temperature_K);
+    j["rh_fraction"] = Number(r.condition.rh_fraction);
+    j["model"] = r.model_name;
+    j["branch"] = BranchLabel(r.branch);
+    j["temperature_matches"] = r.temperature_matches;
+    j["flags"] = StringArray(r.flags);
+    reference.push_back(j);
+  }
+  out["reference_moisture"] = reference;
+  const pores::Hygroscopicity& h = pa.hygroscopicity;
+  Json hyg = {{"applicable", h.applicable}, {"reason", h.reason}, {"class", h.class_name}};
+  if (h.applicable) {
+    hyg["mass_increase"] = QuantityJson(MakeQuantity("mass_increase", "mass increase",
+                                                     h.mass_increase_percent,
+                                                     h.u_mass_increase_percent, "%", 1.0, "%",
+                                                     rules));
+  }
+  out["hygroscopicity"] = hyg;
+  Json hysteresis = Json::array();
+  for (const pores::Hysteresis& y : pa.hysteresis) {
+    Json points = Json::array();
+    for (const pores::HysteresisPoint& p : y.points) {
+      points.push_back({{"rh_fraction", Number(p.rh_fraction)},
+                        {"adsorption_kg_per_kg", Number(p.adsorption_kg_per_kg)},
+                        {"desorption_kg_per_kg", Number(p.desorption_kg_per_kg)},
+                        {"difference_kg_per_kg", Number(p.difference_kg_per_kg)},
+                        {"u_difference_kg_per_kg", Number(p.u_difference_kg_per_kg)},
+                        {"significant", p.significant}});
+    }
+    hysteresis.push_back({{"available", y.available},
+                          {"reason", y.reason},
+                          {"temperature_K", Number(y.temperature_K)},
+                          {"max_difference_kg_per_kg", Number(y.max_difference_kg_per_kg)},
+                          {"rh_at_max_fraction", Number(y.rh_at_max_fraction)},
+                          {"significant_rh_low_fraction", Number(y.significant_rh_low_fraction)},
+                          {"significant_rh_high_fraction", Number(y.significant_rh_high_fraction)},
+                          {"points", points}});
+  }
+  out["hysteresis"] = hysteresis;
+  Json heat = Json::array();
+  for (const pores::IsostericHeat& q : pa.isosteric_heat) {
+    Json points = Json::array();
+    for (const pores::IsostericHeatPoint& p : q.points) {
+      points.push_back({{"moisture_kg_per_kg", Number(p.moisture_kg_per_kg)},
+                        {"net_heat_J_per_mol", Number(p.net_heat_J_per_mol)},
+                        {"u_net_heat_J_per_mol", Number(p.u_net_heat_J_per_mol)},
+                        {"total_heat_J_per_mol", Number(p.total_heat_J_per_mol)}});
+    }
+    heat.push_back({{"available", q.available},
+                    {"reason", q.reason},
+                    {"branch", BranchLabel(q.branch)},
+                    {"temperatures_K", NumberArray(q.temperatures_K)},
+                    {"points", points}});
+  }
+  out["isosteric_heat"] = heat;
+  out["warnings"] = Diagnostics(pa.summary.warnings);
+  return out;
+}
+
+}  // namespace
+
+nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Template& layout,
+                                        const ReportOptions& options, const Sheet& sheet,
+                                        int num_pages) {
+  Json root;
+  root["schema"] = "sorbtrace-results/1";
+  root["software"] = {{"name", "sorbtrace"}, {"version", inputs.software_version}};
+  root["report"] = {{"template", layout.name},
+                    {"title", layout.title},
+                    {"document_date", options.document_date},
+                    {"num_pages", num_pages},
+                    {"moisture_unit", sheet.moisture_unit},
+                    {"uncertainty_significant_digits", sheet.rules.significant_digits},
+                    {"coverage_factor", Number(sheet.rules.coverage_factor)}};
+  root["job"] = JobJson(inputs);
+  Json files = Json::array();
+  if (inputs.ingested != nullptr) {
+    for (const ingest::InputFileRecord& f : inputs.ingested->inputs) {
+      files.push_back({{"role", f.role},
+                       {"path", f.path},
+                       {"sha256", f.sha256},
+                       {"size_bytes", f.size_bytes}});
+    }
+  }
+  root["inputs"] = files;
+  root["settings"] = inputs.effective_settings.is_null() ? Json::object() : inputs.effective_settings;
+  Json headline = Json::array();
+  for (const Quantity& q : sheet.headline) headline.push_back(QuantityJson(q));
+  root["headline"] = headline;
+  root["hygroscopicity_class"] = sheet.hygroscopicity_class;
+  root["best_model"] = sheet.best_model_text;
+  root["cautions"] = StringArray(sheet.cautions);
+  root["standing_statements"] = StringArray(sheet.standing_cautions);
+  root["equilibria"] = EquilibriaJson(inputs);
+  root["isotherm"] = IsothermJson(inputs, sheet);
+  root["fits"] = FitsJson(inputs, sheet);
+  root["pores"] = PoresJson(inputs, sheet);
+  return root;
+}
+
+}  // namespace sorbtrace::report

@@ -1,0 +1,392 @@
+// Tests of the fit stage (pipeline/fit/fit_stage.h): grouping, point selection, parameter
+// recovery, ranking, guard rails and determinism, on synthetic isotherms from a known GAB curve.
+#include "pipeline/fit/fit_stage.h"
+
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <cmath>
+#include <string>
+#include <vector>
+
+#include "tests/fit/fit_test_data.h"
+
+namespace sorbtrace::fit {
+namespace {
+
+using testing::AppendBranch;
+using testing::BranchSpec;
+using testing::GabMoisture;
+using testing::GabTruth;
+using testing::NormalStream;
+
+// Fast settings: small resampling counts keep the suite quick.
+FitStageOptions QuickOptions(std::vector<std::string> models) {
+  FitStageOptions options;
+  options.models = std::move(models);
+  options.bootstrap_resamples = 0;
+  options.monte_carlo_draws = 0;
+  options.band_grid_points = 50;
+  return options;
+}
+
+const ModelFit& FindFit(const IsothermFits& fits, int group, const std::string& model) {
+  for (const ModelFit& fit : fits.fits) {
+    if (fit.group_index == group && fit.model_name == model) return fit;
+  }
+  ADD_FAILURE() << "no fit of " << model << " in group " << group;
+  static const ModelFit kNone;
+  return kNone;
+}
+
+bool HasFlag(const ModelFit& fit, const std::string& text) {
+  return std::any_of(fit.flags.begin(), fit.flags.end(),
+                     [&](const std::string& flag) { return flag.find(text) != std::string::npos; });
+}
+
+TEST(FitStageTest, RecoversGabParametersFromNoisySyntheticIsotherm) {
+  // X_m = 0.05 kg/kg, C = 10, K = 0.8: a sigmoid Type II isotherm (0.24 < K <= 1 and
+  // C >= 5.67 per T. P. Lewicki, Int. J. Food Sci. Technol. 32 (1997) 553, from memory).
+  const GabTruth truth;
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(12571);
+  AppendBranch(BranchSpec{}, &noise, &reduced);
+
+  FitStageOptions options = QuickOptions({"gab"});
+  options.bootstrap_resamples = 200;
+  const IsothermFits fits = FitIsotherms(reduced, options);
+
+  ASSERT_EQ(fits.groups.size(), 1u);
+  const ModelFit& gab = FindFit(fits, 0, "gab");
+  ASSERT_TRUE(gab.result.ok()) << gab.result.summary.message;
+  ASSERT_EQ(gab.expanded_uncertainty.size(), 3u);
+  const double expected[3] = {truth.monolayer_kg_per_kg, truth.c, truth.k};
+  for (int i = 0; i < 3; ++i) {
+    // Recovery within 3 expanded (k = 2) uncertainties: common practice for synthetic checks.
+    EXPECT_NEAR(gab.result.parameters[i], expected[i], 3.0 * gab.expanded_uncertainty[i])
+        << gab.result.estimates[i].name;
+    EXPECT_GT(gab.expanded_uncertainty[i], 0.0);
+    // U = k u with the reduce stage's coverage factor.
+    EXPECT_DOUBLE_EQ(gab.expanded_uncertainty[i],
+                     reduced.coverage_factor * gab.result.estimates[i].standard_error);
+  }
+  EXPECT_EQ(gab.band.size(), 50u);
+  EXPECT_EQ(gab.bootstrap.parameter_draws.size() + gab.bootstrap.num_failed, 200u);
+  EXPECT_EQ(gab.rank, 1);
+  EXPECT_EQ(fits.best_fit_per_group[0], 0);
+  EXPECT_EQ(fits.summary.fits_attempted, 1);
+  EXPECT_EQ(fits.summary.fits_converged, 1);
+}
+
+TEST(FitStageTest, NoiseFreeGabFitReproducesEquationValues) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(1);
+  BranchSpec spec;
+  spec.noisy = false;
+  AppendBranch(spec, &noise, &reduced);
+  const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab"}));
+  const ModelFit& gab = FindFit(fits, 0, "gab");
+  ASSERT_TRUE(gab.result.ok());
+  ASSERT_EQ(gab.band.size(), 50u);  // 0, 0.02, ..., 0.98
+  // GAB with X_m = 0.05, C = 10, K = 0.8, evaluated by hand from the GAB equation
+  // (R. B. Anderson, J. Am. Chem. Soc. 68 (1946) 686, from memory): u(0.1) = 0.025278,
+  // u(0.5) = 0.072464, u(0.9) is off the grid.
+  for (const auto& [rh, u] : {std::pair{0.1, 0.025278}, std::pair{0.5, 0.072464}}) {
+    const auto at =
+        std::find_if(gab.band.begin(), gab.band.end(),
+                     [rh](const fitters::BandPoint& b) { return std::abs(b.x - rh) < 1e-9; });
+    ASSERT_NE(at, gab.band.end()) << rh;
+    EXPECT_NEAR(at->y, u, 5e-7) << rh;
+  }
+}
+
+TEST(FitStageTest, RanksGabAboveBetOnFullRangeGabData) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(4);
+  AppendBranch(BranchSpec{}, &noise, &reduced);
+
+  // BET over the whole range, so both models see the same points and AICc is comparable.
+  FitStageOptions options = QuickOptions({"bet", "gab"});
+  options.bet_rh_min_fraction = 0.0;
+  options.bet_rh_max_fraction = 1.0;
+  const IsothermFits fits = FitIsotherms(reduced, options);
+  const ModelFit& bet = FindFit(fits, 0, "bet");
+  const ModelFit& gab = FindFit(fits, 0, "gab");
+  ASSERT_TRUE(gab.result.ok());
+  ASSERT_TRUE(bet.result.ok());
+  // BET (K = 1) cannot follow the multilayer part of a K = 0.8 isotherm (Timmermann, Chirife
+  // & Iglesias, J. Food Eng. 48 (2001) 19: GAB is the more general form).
+  EXPECT_LT(gab.result.statistics.aicc, bet.result.statistics.aicc);
+  EXPECT_EQ(gab.rank, 1);
+  EXPECT_EQ(bet.rank, 2);
+  ASSERT_EQ(fits.best_fit_per_group.size(), 1u);
+  EXPECT_EQ(fits.fits[fits.best_fit_per_group[0]].model_name, "gab");
+}
+
+TEST(FitStageTest, BetRestrictedToItsRangeAndNotRankedAgainstFullRangeFits) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(5);
+  BranchSpec spec;
+  spec.truth.k = 1.0;  // GAB with K = 1 is BET: consistent data for the Rouquerol checks
+  spec.rh_max_fraction = 0.80;
+  AppendBranch(spec, &noise, &reduced);
+
+  FitStageOptions options = QuickOptions({"gab", "bet"});
+  options.band_grid_points = 200;
+  const IsothermFits fits = FitIsotherms(reduced, options);
+  const ModelFit& bet = FindFit(fits, 0, "bet");
+  ASSERT_TRUE(bet.result.ok()) << bet.result.summary.message;
+
+  // Default BET range 0.05..0.35 (Sing et al., Pure Appl. Chem. 57 (1985) 603, widened to 0.35
+  // for water: common practice).
+  int expected_in_range = 0;
+  for (const reduce::IsothermPoint& point : reduced.points) {
+    if (point.rh_fraction >= 0.05 && point.rh_fraction <= 0.35) ++expected_in_range;
+  }
+  ASSERT_EQ(static_cast<int>(bet.used_observations.size()), expected_in_range);
+  for (const int i : bet.used_observations) {
+    const double rh = fits.groups[0].observations[i].x[0];
+    EXPECT_GE(rh, 0.05);
+    EXPECT_LE(rh, 0.35);
+  }
+  EXPECT_EQ(bet.result.statistics.num_observations, expected_in_range);
+  ASSERT_EQ(bet.band.size(), 200u);
+  EXPECT_DOUBLE_EQ(bet.band.front().x, 0.05);
+  EXPECT_DOUBLE_EQ(bet.band.back().x, 0.35);
+
+  // Four Rouquerol criteria (Rouquerol, Llewellyn & Rouquerol, Stud. Surf. Sci. Catal. 160
+  // (2007) 49); on BET-shaped data with C = 10, 1/(sqrt(C) + 1) = 0.240 lies in the range.
+  ASSERT_EQ(bet.consistency.size(), 4u);
+  EXPECT_TRUE(bet.consistency[0].passed) << bet.consistency[0].detail;
+  EXPECT_TRUE(bet.consistency[2].passed) << bet.consistency[2].detail;
+  EXPECT_TRUE(bet.consistency[3].passed) << bet.consistency[3].detail;
+  EXPECT_NEAR(bet.result.parameters[0], spec.truth.monolayer_kg_per_kg,
+              3.0 * bet.expanded_uncertainty[0]);
+
+  // Its AICc is over other points than GAB's, so it is not ranked against GAB.
+  EXPECT_EQ(bet.rank, 0);
+  EXPECT_TRUE(HasFlag(bet, "not ranked"));
+  EXPECT_EQ(FindFit(fits, 0, "gab").rank, 1);
+  EXPECT_TRUE(FindFit(fits, 0, "gab").consistency.empty());
+}
+
+TEST(FitStageTest, TooFewPointsIsFlaggedNotThrown) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(6);
+  BranchSpec spec;
+  spec.num_points = 3;
+  spec.rh_min_fraction = 0.10;
+  spec.rh_max_fraction = 0.30;
+  AppendBranch(spec, &noise, &reduced);
+
+  const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab", "bet"}));
+  const ModelFit& gab = FindFit(fits, 0, "gab");
+  EXPECT_EQ(gab.result.summary.termination, fitters::FitTermination::kTooFewPoints);
+  EXPECT_EQ(gab.flags, std::vector<std::string>{"too few points: n = 3 for p = 3"});
+  EXPECT_EQ(gab.rank, 0);
+  EXPECT_TRUE(gab.band.empty());
+  // BET (p = 2) still fits the three points.
+  EXPECT_TRUE(FindFit(fits, 0, "bet").result.ok());
+  EXPECT_EQ(fits.summary.fits_attempted, 1);
+  EXPECT_EQ(fits.summary.fits_converged, 1);
+}
+
+TEST(FitStageTest, NoConvergedModelInAnyGroupThrowsComputationError) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(7);
+  BranchSpec spec;
+  spec.num_points = 2;
+  AppendBranch(spec, &noise, &reduced);
+  EXPECT_THROW(FitIsotherms(reduced, QuickOptions({"gab"})), ComputationError);
+  // No point at all.
+  EXPECT_THROW(FitIsotherms(reduce::ReducedIsotherms{}, QuickOptions({"gab"})), ComputationError);
+}
+
+TEST(FitStageTest, SplitsAdsorptionAndDesorptionAndLeavesOutDrying) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(8);
+  BranchSpec adsorption;
+  adsorption.num_points = 12;
+  AppendBranch(adsorption, &noise, &reduced);
+  BranchSpec drying;
+  drying.branch = ingest::Branch::kDrying;
+  drying.num_points = 1;
+  drying.rh_min_fraction = 0.0;
+  AppendBranch(drying, &noise, &reduced);
+  BranchSpec desorption;
+  desorption.branch = ingest::Branch::kDesorption;
+  desorption.num_points = 10;
+  desorption.truth.monolayer_kg_per_kg = 0.06;  // hysteresis: more water on desorption
+  AppendBranch(desorption, &noise, &reduced);
+
+  const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab"}));
+  ASSERT_EQ(fits.groups.size(), 2u);
+  EXPECT_EQ(fits.groups[0].branch, ingest::Branch::kAdsorption);
+  EXPECT_EQ(fits.groups[1].branch, ingest::Branch::kDesorption);
+  ASSERT_EQ(fits.groups[0].observations.size(), 12u);
+  ASSERT_EQ(fits.groups[1].observations.size(), 10u);
+  for (const FitGroup& group : fits.groups) {
+    ASSERT_EQ(group.point_indices.size(), group.observations.size());
+    for (std::size_t i = 0; i < group.observations.size(); ++i) {
+      const reduce::IsothermPoint& point = reduced.points[group.point_indices[i]];
+      EXPECT_EQ(point.branch, group.branch);
+      EXPECT_EQ(group.observations[i].x[0], point.rh_fraction);
+      EXPECT_EQ(group.observations[i].y, point.moisture_kg_per_kg);
+      EXPECT_EQ(group.observations[i].sigma_y, point.u_moisture_kg_per_kg);
+      EXPECT_EQ(group.observations[i].sigma_x0, point.u_rh_fraction);
+    }
+  }
+  ASSERT_EQ(fits.fits.size(), 2u);
+  EXPECT_EQ(fits.best_fit_per_group, (std::vector<int>{0, 1}));
+  EXPECT_GT(fits.fits[1].result.parameters[0], fits.fits[0].result.parameters[0]);
+}
+
+TEST(FitStageTest, TwoTemperaturesGiveTwoGroupsAndCloseOnesMerge) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(9);
+  BranchSpec cold;
+  cold.dataset_id = "desiccator-23C";
+  cold.num_points = 8;
+  AppendBranch(cold, &noise, &reduced);
+  BranchSpec cold_repeat = cold;  // 0.3 K warmer: same nominal temperature, merged
+  cold_repeat.dataset_id = "repeat-23C";
+  cold_repeat.temperature_K = 296.45;
+  AppendBranch(cold_repeat, &noise, &reduced);
+  BranchSpec warm = cold;
+  warm.dataset_id = "vapour-35C";
+  warm.temperature_K = 308.15;
+  warm.truth.monolayer_kg_per_kg = 0.045;
+  AppendBranch(warm, &noise, &reduced);
+
+  const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab"}));
+  ASSERT_EQ(fits.groups.size(), 2u);
+  EXPECT_EQ(fits.groups[0].observations.size(), 16u);
+  EXPECT_EQ(fits.groups[1].observations.size(), 8u);
+  EXPECT_NEAR(fits.groups[0].temperature_K, 296.30, 1e-9);  // mean of the merged points
+  EXPECT_NEAR(fits.groups[1].temperature_K, 308.15, 1e-9);
+  EXPECT_EQ(fits.best_fit_per_group.size(), 2u);
+}
+
+TEST(FitStageTest, RepeatedRunsAreIdentical) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(10);
+  AppendBranch(BranchSpec{}, &noise, &reduced);
+  BranchSpec desorption;
+  desorption.branch = ingest::Branch::kDesorption;
+  desorption.truth.monolayer_kg_per_kg = 0.06;
+  AppendBranch(desorption, &noise, &reduced);
+
+  FitStageOptions options = QuickOptions({"gab", "bet"});
+  options.bootstrap_resamples = 60;
+  options.monte_carlo_draws = 40;
+  const IsothermFits first = FitIsotherms(reduced, options);
+  const IsothermFits second = FitIsotherms(reduced, options);
+  ASSERT_EQ(first.fits.size(), second.fits.size());
+  for (std::size_t f = 0; f < first.fits.size(); ++f) {
+    const ModelFit& a = first.fits[f];
+    const ModelFit& b = second.fits[f];
+    EXPECT_EQ(a.result.parameters, b.result.parameters);
+    EXPECT_EQ(a.expanded_uncertainty, b.expanded_uncertainty);
+    EXPECT_EQ(a.bootstrap.parameter_draws, b.bootstrap.parameter_draws);
+    EXPECT_EQ(a.monte_carlo.parameter_draws, b.monte_carlo.parameter_draws);
+    ASSERT_EQ(a.band.size(), b.band.size());
+    for (std::size_t i = 0; i < a.band.size(); ++i) {
+      EXPECT_EQ(a.band[i].confidence_high, b.band[i].confidence_high);
+    }
+    EXPECT_EQ(a.flags, b.flags);
+    EXPECT_EQ(a.rank, b.rank);
+  }
+  // Each (group, model) has its own random stream: the two GAB bootstraps differ.
+  ASSERT_FALSE(first.fits[0].bootstrap.parameter_draws.empty());
+  ASSERT_FALSE(first.fits[2].bootstrap.parameter_draws.empty());
+  EXPECT_NE(first.fits[0].bootstrap.parameter_draws.front(),
+            first.fits[2].bootstrap.parameter_draws.front());
+  // Another base value changes the draws but not the fit.
+  options.seed += 1;
+  const IsothermFits third = FitIsotherms(reduced, options);
+  EXPECT_EQ(third.fits[0].result.parameters, first.fits[0].result.parameters);
+  EXPECT_NE(third.fits[0].bootstrap.parameter_draws, first.fits[0].bootstrap.parameter_draws);
+}
+
+TEST(FitStageTest, RetentionPointsJoinDesorptionForRetentionModelsOnly) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(11);
+  BranchSpec desorption;
+  desorption.branch = ingest::Branch::kDesorption;
+  AppendBranch(desorption, &noise, &reduced);
+  for (const double rh : {0.99, 0.995, 0.999}) {
+    reduce::RetentionIsothermPoint point;
+    point.specimen_id = "plate-1";
+    point.equivalent_rh_fraction = rh;
+    point.temperature_K = 296.15;
+    point.moisture_kg_per_kg = 0.25;
+    point.u_moisture_kg_per_kg = 0.005;
+    point.branch = ingest::Branch::kDesorption;
+    reduced.retention.push_back(point);
+  }
+
+  FitStageOptions options = QuickOptions({"gab", "vangenuchten"});
+  const IsothermFits joint = FitIsotherms(reduced, options);
+  ASSERT_EQ(joint.groups.size(), 1u);
+  const FitGroup& group = joint.groups[0];
+  ASSERT_EQ(group.observations.size(), 23u);
+  EXPECT_EQ(std::count(group.point_indices.begin(), group.point_indices.end(), -1), 3);
+  EXPECT_EQ(FindFit(joint, 0, "gab").used_observations.size(), 20u);
+  EXPECT_EQ(FindFit(joint, 0, "vangenuchten").used_observations.size(), 23u);
+
+  options.include_retention_points = false;
+  const IsothermFits alone = FitIsotherms(reduced, options);
+  EXPECT_EQ(alone.groups[0].observations.size(), 20u);
+  EXPECT_EQ(FindFit(alone, 0, "vangenuchten").used_observations.size(), 20u);
+}
+
+TEST(FitStageTest, NonPositiveUncertaintyIsReplacedWithWarning) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(12);
+  BranchSpec spec;
+  spec.num_points = 10;
+  AppendBranch(spec, &noise, &reduced);
+  reduced.points[4].u_moisture_kg_per_kg = 0.0;
+  double smallest = 1.0;
+  for (const reduce::IsothermPoint& point : reduced.points) {
+    if (point.u_moisture_kg_per_kg > 0.0) smallest = std::min(smallest, point.u_moisture_kg_per_kg);
+  }
+  const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab"}));
+  EXPECT_EQ(fits.groups[0].observations[4].sigma_y, smallest);
+  EXPECT_FALSE(fits.summary.warnings.empty());
+}
+
+TEST(FitStageOptionsTest, RejectsBadSettingsWithTheFieldName) {
+  std::string error;
+  EXPECT_TRUE(FitStageOptions{}.IsValid(&error)) << error;
+
+  FitStageOptions options;
+  options.models = {"gab", "no_such_model"};
+  EXPECT_FALSE(options.IsValid(&error));
+  EXPECT_EQ(error.rfind("models: unknown model 'no_such_model' (known: ", 0), 0u) << error;
+
+  options = FitStageOptions{};
+  options.models = {"gab", "gab"};
+  EXPECT_FALSE(options.IsValid(&error));
+  EXPECT_EQ(error, "models: 'gab' is listed twice");
+
+  options = FitStageOptions{};
+  options.bet_rh_min_fraction = 0.4;
+  EXPECT_FALSE(options.IsValid(&error));
+  EXPECT_EQ(error,
+            "bet_rh_min_fraction = 0.4 and bet_rh_max_fraction = 0.35 must satisfy "
+            "0 <= min < max <= 1");
+
+  options = FitStageOptions{};
+  options.bootstrap_resamples = -1;
+  EXPECT_FALSE(options.IsValid(&error));
+  EXPECT_EQ(error, "bootstrap_resamples = -1 must be >= 0");
+
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(13);
+  AppendBranch(BranchSpec{}, &noise, &reduced);
+  EXPECT_THROW(FitIsotherms(reduced, options), InputError);
+}
+
+}  // namespace
+}  // namespace sorbtrace::fit

@@ -1,0 +1,227 @@
+// End-to-end tests of `make`, `verify` and `batch` on the real binary and a fresh copy of
+// example_inputs/: outputs exist and are byte-identical across runs, the audit passes on a
+// fresh output and fails (naming the file or quantity) after one byte of an input or one
+// reported number changes, a batch with a broken job reports it without stopping the others,
+// and a run killed half-way leaves the earlier output folder intact.
+#include <gtest/gtest.h>
+#include <signal.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <chrono>
+#include <cstdio>
+#include <filesystem>
+#include <fstream>
+#include <string>
+#include <thread>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "pipeline/common/files.h"
+
+namespace sorbtrace {
+namespace {
+
+namespace fs = std::filesystem;
+
+struct Run {
+  int exit_code = -1;
+  std::string output;  // stdout and stderr
+};
+
+Run Sorbtrace(const std::string& arguments) {
+  const std::string command = std::string(SORBTRACE_BINARY) + " " + arguments + " 2>&1";
+  Run run;
+  FILE* pipe = popen(command.c_str(), "r");
+  if (pipe == nullptr) return run;
+  char buffer[4096];
+  size_t got = 0;
+  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
+  const int status = pclose(pipe);
+  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  return run;
+}
+
+// A fresh copy of example_inputs/ in a temporary folder, so tests never touch the originals.
+class RunE2eTest : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
+    root_ = fs::temp_directory_path() / (std::string("sorbtrace_e2e_") + info->name());
+    fs::remove_all(root_);
+    fs::create_directories(root_);
+    fs::copy(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs", root_ / "inputs",
+             fs::copy_options::recursive);
+  }
+  void TearDown() override { fs::remove_all(root_); }
+
+  std::vector<fs::path> Jobs() const {
+    std::vector<fs::path> jobs;
+    for (const auto& entry : fs::directory_iterator(root_ / "inputs")) {
+      if (fs::exists(entry.path() / "job.toml")) jobs.push_back(entry.path() / "job.toml");
+    }
+    std::sort(jobs.begin(), jobs.end());
+    return jobs;
+  }
+
+  fs::path root_;
+};
+
+TEST_F(RunE2eTest, EveryDemoJobIssuesAFolderThatVerifies) {
+  const auto jobs = Jobs();
+  ASSERT_GE(jobs.size(), 3u) << "example_inputs/ should hold the demo scenarios";
+  for (const auto& job : jobs) {
+    const fs::path out = root_ / "out" / job.parent_path().filename();
+    const Run made = Sorbtrace("make " + job.string() + " --out " + out.string() + " -q");
+    ASSERT_EQ(made.exit_code, 0) << job << "\n" << made.output;
+    for (const char* name : {"datasheet.pdf", "results.json", "run.log"}) {
+      EXPECT_TRUE(fs::exists(out / name)) << out / name;
+    }
+    EXPECT_LT(fs::file_size(out / "datasheet.pdf"), 500u * 1024u);  // issue target: < 500 KB
+    const Run verified = Sorbtrace("verify " + (out / "results.json").string());
+    EXPECT_EQ(verified.exit_code, 0) << verified.output;
+    EXPECT_NE(verified.output.find("0 mismatch"), std::string::npos) << verified.output;
+  }
+}
+
+TEST_F(RunE2eTest, SameInputsGiveByteIdenticalOutputs) {
+  const fs::path job = Jobs().front();
+  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + (root_ / "a").string() + " -q").exit_code, 0);
+  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + (root_ / "b").string() + " -q").exit_code, 0);
+  for (const auto& entry : fs::directory_iterator(root_ / "a")) {
+    const auto name = entry.path().filename();
+    if (name == "results.json") continue;  // records the job path relative to the folder
+    EXPECT_EQ(Sha256HexOfFile(entry.path()), Sha256HexOfFile(root_ / "b" / name)) << name;
+  }
+  // results.json differs only by the recorded relative job path when the folders differ in
+  // name; both sit at the same depth here, so they are identical too.
+  EXPECT_EQ(Sha256HexOfFile(root_ / "a" / "results.json"), Sha256HexOfFile(root_ / "b" / "results.json"));
+}
+
+TEST_F(RunE2eTest, AuditFailsAfterOneInputByteChanges) {
+  const fs::path job = Jobs().front();
+  const fs::path out = root_ / "out";
+  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + out.string() + " -q").exit_code, 0);
+  const auto results = nlohmann::json::parse(ReadWholeFile(out / "results.json"));
+  // Change one byte of the first data file (a digit in its last line).
+  std::string data_path;
+  for (const auto& input : results["inputs"]) {
+    if (input["role"] != "job" && input["role"] != "template") {
+      data_path = input["path"];
+      break;
+    }
+  }
+  ASSERT_FALSE(data_path.empty());
+  const fs::path data = job.parent_path() / data_path;
+  std::string content = ReadWholeFile(data);
+  const size_t digit = content.find_last_of("123456789");
+  ASSERT_NE(digit, std::string::npos);
+  content[digit] = content[digit] == '9' ? '8' : static_cast<char>(content[digit] + 1);
+  std::ofstream(data, std::ios::binary) << content;
+  const Run verified = Sorbtrace("verify " + (out / "results.json").string());
+  EXPECT_EQ(verified.exit_code, 5) << verified.output;
+  EXPECT_NE(verified.output.find("CHANGED"), std::string::npos) << verified.output;
+  EXPECT_NE(verified.output.find(fs::path(data_path).filename().string()), std::string::npos)
+      << verified.output;
+}
+
+TEST_F(RunE2eTest, AuditFailsAfterOneReportedNumberChanges) {
+  const fs::path job = Jobs().front();
+  const fs::path out = root_ / "out";
+  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + out.string() + " -q").exit_code, 0);
+  auto results = nlohmann::json::parse(ReadWholeFile(out / "results.json"));
+  // Find the first fitted parameter value anywhere and nudge it by 1 %.
+  std::string changed_pointer;
+  const auto flat = results.flatten();
+  for (const auto& [pointer, value] : flat.items()) {
+    if (value.is_number_float() && pointer.find("/fits/") == 0 && value.get<double>() != 0.0) {
+      changed_pointer = pointer;
+      break;
+    }
+  }
+  ASSERT_FALSE(changed_pointer.empty()) << "results.json has no /fits numbers";
+  auto edited = flat;
+  edited[changed_pointer] = flat[changed_pointer].get<double>() * 1.01;
+  std::ofstream(out / "results.json") << edited.unflatten().dump(1);
+  const Run verified = Sorbtrace("verify " + (out / "results.json").string());
+  EXPECT_EQ(verified.exit_code, 5) << verified.output;
+  EXPECT_NE(verified.output.find("FAIL  " + changed_pointer), std::string::npos)
+      << changed_pointer << "\n" << verified.output;
+}
+
+TEST_F(RunE2eTest, BatchReportsABrokenJobAndFinishesTheOthers) {
+  const fs::path batch = root_ / "batch";
+  for (const auto& job : Jobs()) {
+    fs::copy(job.parent_path(), batch / job.parent_path().filename(), fs::copy_options::recursive);
+  }
+  fs::create_directories(batch / "zz_broken");
+  std::ofstream(batch / "zz_broken" / "job.toml")
+      << "[job]\nid = \"BROKEN-1\"\nissue_date = \"2026-11-30\"\n[material]\nname = \"x\"\n"
+         "[measurement]\n[[specimen]]\nid = \"S1\"\ndry_mass_g = 1.0\n"
+         "[[dataset]]\nid = \"d\"\nmethod = \"desiccator\"\nfile = \"missing.csv\"\n"
+         "temperature_C = 23\n";
+  const Run run = Sorbtrace("batch " + batch.string() + " --out " + (root_ / "bout").string() + " -q -j 2");
+  EXPECT_EQ(run.exit_code, 6) << run.output;
+  const std::string summary = ReadWholeFile(root_ / "bout" / "summary.csv");
+  size_t ok_rows = 0;
+  for (size_t at = summary.find(",ok,"); at != std::string::npos; at = summary.find(",ok,", at + 1)) ++ok_rows;
+  EXPECT_EQ(ok_rows, Jobs().size()) << summary;
+  EXPECT_NE(summary.find("missing.csv"), std::string::npos) << summary;
+  EXPECT_NE(summary.find(",failed,3,"), std::string::npos) << summary;
+  for (const auto& job : Jobs()) {
+    EXPECT_TRUE(fs::exists(root_ / "bout" / job.parent_path().filename() / "datasheet.pdf"));
+  }
+}
+
+TEST_F(RunE2eTest, KilledRunLeavesTheEarlierOutputIntact) {
+  const fs::path job = Jobs().front();
+  const fs::path out = root_ / "out";
+  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + out.string() + " -q").exit_code, 0);
+  const std::string before = Sha256HexOfFile(out / "results.json");
+  const std::string pdf_before = Sha256HexOfFile(out / "datasheet.pdf");
+  // A slow variant of the same job: many bootstrap resamples, killed after a moment.
+  std::string text = ReadWholeFile(job);
+  const fs::path slow = job.parent_path() / "slow.toml";
+  if (text.find("[fit]") != std::string::npos) {
+    text.replace(text.find("[fit]"), 5, "[fit]\nbootstrap_resamples = 100000");
+  } else {
+    text += "\n[fit]\nbootstrap_resamples = 100000\n";
+  }
+  std::ofstream(slow) << text;
+  const pid_t child = fork();
+  if (child == 0) {
+    execl(SORBTRACE_BINARY, SORBTRACE_BINARY, "make", slow.c_str(), "--out", out.c_str(), "-q",
+          static_cast<char*>(nullptr));
+    _exit(127);
+  }
+  std::this_thread::sleep_for(std::chrono::milliseconds(400));
+  kill(child, SIGKILL);
+  int status = 0;
+  waitpid(child, &status, 0);
+  ASSERT_TRUE(WIFSIGNALED(status)) << "the slow run finished before it could be killed";
+  EXPECT_EQ(Sha256HexOfFile(out / "results.json"), before);
+  EXPECT_EQ(Sha256HexOfFile(out / "datasheet.pdf"), pdf_before);
+}
+
+TEST_F(RunE2eTest, BadJobGivesExitThreeAndWritesNothing) {
+  const fs::path job = root_ / "bad.toml";
+  std::ofstream(job) << "[job]\nid = \"B\"\nissue_date = \"2026-11-30\"\n[fit]\nnot_a_key = 1\n";
+  const Run run = Sorbtrace("make " + job.string() + " --out " + (root_ / "nothing").string());
+  EXPECT_EQ(run.exit_code, 3) << run.output;
+  EXPECT_NE(run.output.find("bad.toml:"), std::string::npos) << run.output;
+  EXPECT_FALSE(fs::exists(root_ / "nothing"));
+}
+
+TEST_F(RunE2eTest, VersionAndHelpOfEveryVerb) {
+  EXPECT_EQ(Sorbtrace("--version").exit_code, 0);
+  for (const char* verb : {"make", "check", "verify", "batch", "calc"}) {
+    const Run help = Sorbtrace(std::string(verb) + " --help");
+    EXPECT_EQ(help.exit_code, 0) << verb;
+    EXPECT_NE(help.output.find("Usage"), std::string::npos) << verb << help.output;
+  }
+  EXPECT_EQ(Sorbtrace("frobnicate").exit_code, 2);
+}
+
+}  // namespace
+}  // namespace sorbtrace
