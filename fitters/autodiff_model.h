@@ -60,6 +60,14 @@ class ObservationRef {
   const ModelContext* context_ = nullptr;
 };
 
+// A non-finite residual (or derivative) is reported to Ceres as a failed evaluation, so the
+// solver shrinks its step quietly instead of logging the evaluation error.
+inline bool ResidualIsFinite(double v) { return std::isfinite(v); }
+template <typename T, int N>
+bool ResidualIsFinite(const ceres::Jet<T, N>& v) {
+  return ceres::isfinite(v);
+}
+
 // Residual (y - f(x; p)) / sigma_y.
 template <typename Equation>
 class ResidualFunctor {
@@ -74,7 +82,7 @@ class ResidualFunctor {
     for (int i = 0; i < kMaxInputs; ++i) x[i] = T(obs.x[static_cast<std::size_t>(i)]);
     const T f = Equation::template Evaluate<T>(params, x, ref_.context());
     residual[0] = (T(obs.y) - f) / obs.sigma_y;
-    return true;
+    return ResidualIsFinite(residual[0]);
   }
 
  private:
@@ -97,7 +105,7 @@ class ErrorsInVariablesFunctor {
     const T f = Equation::template Evaluate<T>(params, x, ref_.context());
     residuals[0] = (T(obs.y) - f) / obs.sigma_y;
     residuals[1] = (T(obs.x[0]) - x0_true[0]) / obs.sigma_x0;
-    return true;
+    return ResidualIsFinite(residuals[0]) && ResidualIsFinite(residuals[1]);
   }
 
  private:

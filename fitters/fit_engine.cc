@@ -317,6 +317,9 @@ bool FitOptions::IsValid(std::string* error) const {
     return fail("covariance_min_reciprocal_condition_number must be in (0, 1)");
   }
   if (!(bound_tolerance >= 0.0)) return fail("bound_tolerance must be >= 0");
+  if (!(initial_trust_region_radius > 0.0) || !std::isfinite(initial_trust_region_radius)) {
+    return fail("initial_trust_region_radius must be finite and > 0");
+  }
   return true;
 }
 

@@ -79,6 +79,9 @@ FitWorkspace::FitWorkspace(const Model& model, std::vector<Observation> observat
   solver_options_.gradient_tolerance = options_.gradient_tolerance;
   solver_options_.parameter_tolerance = options_.parameter_tolerance;
   solver_options_.use_nonmonotonic_steps = options_.use_nonmonotonic_steps;
+  solver_options_.initial_trust_region_radius = options_.initial_trust_region_radius;
+  solver_options_.max_trust_region_radius =
+      std::max(solver_options_.max_trust_region_radius, options_.initial_trust_region_radius);
   solver_options_.num_threads = 1;  // deterministic and cheap for small problems
   solver_options_.logging_type = ceres::SILENT;
   solver_options_.minimizer_progress_to_stdout = false;

@@ -41,6 +41,9 @@ struct FitOptions {
   double confidence_level = 0.95;  // for Student-t parameter intervals and bands
   // Ceres' non-monotonic trust-region steps (helps on long narrow valleys, e.g. NIST MGH10).
   bool use_nonmonotonic_steps = false;
+  // Ceres' initial Levenberg-Marquardt trust-region radius (its default, 1e4). Smaller values
+  // keep the first steps near the start (NIST BoxBOD from start 1 needs that).
+  double initial_trust_region_radius = 1e4;
   // Rank test of the covariance: the Jacobian, columns scaled to unit norm, is treated as
   // rank deficient when sigma_min / sigma_max < sqrt(this) (Ceres' convention, its default).
   double covariance_min_reciprocal_condition_number = 1e-14;

@@ -5,7 +5,7 @@
 set -euo pipefail
 
 PACKAGES=(
-  build-essential cmake pkg-config git
+  build-essential cmake pkg-config git python3
   clang clang-format clang-tidy libclang-rt-14-dev   # sanitizers, fuzzers, lint
   libceres-dev libeigen3-dev                         # fitting engine
   libhpdf-dev fonts-dejavu-core                      # PDF datasheet + embedded Unicode font

@@ -11,11 +11,15 @@ namespace sorbtrace::fitters::models {
 
 namespace {
 
-// Decade spreads of the pore systems tried as starts, and first-system weights
-// (common practice: bimodal building materials show systems 1..3 decades apart).
-constexpr double kSpreadStarts_decades[] = {1.0, 2.0, 3.0};
-constexpr double kWeightStarts[] = {0.3, 0.5, 0.7};
-constexpr double kMinShapeStart = 1.5;  // keeps m = 1 - 1/n away from 0 in the start
+// Starting-value grid: the model is linear in c_i = u_sat w_i once the alphas and n's are fixed,
+// so for each grid point (alpha1 above the van Genuchten alpha by kFirstOffsets_decades, equal
+// decade spacing kSpacings_decades, one common n from kShapeGrid) the c_i follow from weighted
+// linear least squares; candidates are ranked by weighted sum of squares (common practice:
+// bimodal building materials show pore systems 0.5..3 decades apart).
+constexpr double kFirstOffsets_decades[] = {0.0, 0.5, 1.0, 1.5, 2.0};
+constexpr double kSpacings_decades[] = {0.5, 1.0, 1.5, 2.0, 3.0};
+constexpr double kShapeGrid[] = {1.5, 2.0, 3.0};
+constexpr double kMinWeight = 0.02;  // negative or zero c_i are replaced by this share
 constexpr std::size_t kMaxStarts = 4;
 
 ParameterSpec Log10Alpha1Spec() {
@@ -48,6 +52,55 @@ std::vector<std::vector<double>> RankAndClean(std::vector<std::vector<double>> c
   for (std::size_t i = 0; i < ranked.size() && i < kMaxStarts; ++i)
     sorted.push_back(std::move(ranked[i].second));
   return CleanStartingPoints(sorted, Equation::Info());
+}
+
+// Grid starts for num_systems (2 or 3) pore systems, in the parameter layout of durner2/3.
+std::vector<std::vector<double>> GridStarts(int num_systems,
+                                            const std::vector<Observation>& observations,
+                                            const ModelContext& context) {
+  const double factor = KelvinPressureFactor_Pa(context.temperature_K);
+  const std::vector<std::vector<double>> vg = VanGenuchtenCandidates(observations, context, 1);
+  const double centre = vg.empty() ? -7.0 : vg.front()[1];
+  const double u_fallback = std::max(MaxResponse(observations), 1e-3);
+  std::vector<std::vector<double>> candidates;
+  for (double offset : kFirstOffsets_decades) {
+    for (double spacing : kSpacings_decades) {
+      for (double n : kShapeGrid) {
+        const double m = 1.0 - 1.0 / n;
+        std::vector<std::vector<double>> design;
+        std::vector<double> y;
+        std::vector<double> w;
+        for (const Observation& o : observations) {
+          std::vector<double> row;
+          for (int i = 0; i < num_systems; ++i)
+            row.push_back(VanGenuchtenSaturationAtRh(o.x[0], centre + offset - i * spacing, n, m,
+                                                     factor));
+          design.push_back(std::move(row));
+          y.push_back(o.y);
+          const double sigma = o.sigma_y > 0.0 ? o.sigma_y : 1.0;
+          w.push_back(1.0 / (sigma * sigma));
+        }
+        std::vector<double> c(static_cast<std::size_t>(num_systems), u_fallback / num_systems);
+        const LinearFit fit = WeightedLinearLeastSquares(design, y, w);
+        if (fit.ok) c = fit.coefficients;
+        double total = 0.0;
+        for (double ci : c) total += std::max(ci, 0.0);
+        if (!(total > 0.0)) total = u_fallback;
+        for (double& ci : c) ci = std::max(ci, kMinWeight * total);
+        total = 0.0;
+        for (double ci : c) total += ci;
+        const double log10_alpha1 = centre + offset;
+        if (num_systems == 2) {
+          candidates.push_back({total, c[0] / total, log10_alpha1, n, spacing, n});
+        } else {
+          const double w1 = c[0] / total;
+          const double v2 = c[1] / (c[1] + c[2]);
+          candidates.push_back({total, w1, v2, log10_alpha1, n, spacing, n, spacing, n});
+        }
+      }
+    }
+  }
+  return candidates;
 }
 
 ModelInfo CommonInfo() {
@@ -112,25 +165,14 @@ ModelInfo Durner3Equation::Info() {
 
 std::vector<std::vector<double>> Durner2Equation::StartingPoints(
     const std::vector<Observation>& observations, const ModelContext& context) {
-  std::vector<std::vector<double>> candidates;
-  for (const std::vector<double>& vg : VanGenuchtenCandidates(observations, context, 2)) {
-    const double n = std::max(vg[2], kMinShapeStart);
-    for (double spread : kSpreadStarts_decades)
-      for (double w1 : kWeightStarts)
-        candidates.push_back({vg[0], w1, vg[1] + 0.5 * spread, n, spread, n});
-  }
-  return RankAndClean<Durner2Equation>(std::move(candidates), observations, context);
+  return RankAndClean<Durner2Equation>(GridStarts(2, observations, context), observations,
+                                       context);
 }
 
 std::vector<std::vector<double>> Durner3Equation::StartingPoints(
     const std::vector<Observation>& observations, const ModelContext& context) {
-  std::vector<std::vector<double>> candidates;
-  for (const std::vector<double>& vg : VanGenuchtenCandidates(observations, context, 2)) {
-    const double n = std::max(vg[2], kMinShapeStart);
-    for (double spread : kSpreadStarts_decades)
-      candidates.push_back({vg[0], 1.0 / 3.0, 0.5, vg[1] + spread, n, spread, n, spread, n});
-  }
-  return RankAndClean<Durner3Equation>(std::move(candidates), observations, context);
+  return RankAndClean<Durner3Equation>(GridStarts(3, observations, context), observations,
+                                       context);
 }
 
 std::vector<std::string> Durner2Equation::PhysicalFlags(const double* params) {

@@ -72,6 +72,12 @@ bool GabLinearisedEstimate(const std::vector<Observation>& observations, double*
   if (!(multilayer > 0.0)) return false;
   const double guggenheim = 1.0 / (monolayer * multilayer * gamma);
   if (!(guggenheim > 0.0) || !std::isfinite(guggenheim)) return false;
+  // Reject values outside the parameter bounds: they come from a nearly degenerate quadratic
+  // (e.g. u proportional to a_w), not from a GAB-shaped curve.
+  const ModelInfo info = GabEquation::Info();
+  const double values[] = {monolayer, guggenheim, multilayer};
+  for (std::size_t i = 0; i < 3; ++i)
+    if (values[i] > info.parameters[i].upper_bound) return false;
   *x_m = monolayer;
   *c = guggenheim;
   *k = multilayer;

@@ -53,6 +53,7 @@ void SetDesiccatorRh(const ingest::DesiccatorStep& step, const ingest::JobSpec& 
       point.u_rh_fraction = salt.standard_uncertainty_fraction;
       point.drh_dT_per_K = salt.drh_dT_per_K;
       point.rh_source_kind = RhSource::kSaltTable;
+      point.step_label = physics::CanonicalSaltName(*step.salt);
       point.rh_source = fmt::format("{}, {}", physics::CanonicalSaltName(*step.salt),
                                     physics::SaltHumidityMethod(*step.salt));
     } catch (const std::exception& error) {
@@ -143,7 +144,7 @@ void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest:
     point.dataset_id = series.dataset_id;
     point.specimen_id = step.specimen_id;
     point.step_index = step.step_index;
-    point.step_label = step.salt ? physics::CanonicalSaltName(*step.salt) : step.atmosphere;
+    point.step_label = step.atmosphere;  // canonical salt name set with the RH
     point.method = ingest::Method::kDesiccator;
     point.branch = step.branch;
     point.cycle = 0;

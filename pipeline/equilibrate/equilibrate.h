@@ -7,7 +7,6 @@
 // A step that never met its criterion is reported as not equilibrated, never silently used.
 #pragma once
 
-#include <filesystem>
 #include <optional>
 #include <string>
 #include <vector>
@@ -17,7 +16,8 @@
 
 namespace sorbtrace::equilibrate {
 
-// Read from the job file table [equilibrium] by LoadEquilibrateOptions (keys in brackets).
+// Set from the job file table [equilibrium] by the run stage (pipeline/run/settings.cc;
+// job-file keys in brackets).
 struct EquilibrateOptions {
   // Desiccator, ISO 12571 constant mass, from memory (edition not confirmed): "the change in
   // mass between three consecutive weighings, each at least 24 h apart, is less than 0.1 % of
@@ -35,23 +35,17 @@ struct EquilibrateOptions {
   // equilibrium moisture content of wood by up to 1.2 % MC.
   double rate_limit_fraction_per_min = 2e-5;  // [rate_limit_percent_per_min] 0.002 %/min
   double rate_window_s = 600.0;               // [rate_window_min] 10 min
-  bool extrapolate_unfinished_steps = true;   // [extrapolate]
+  bool extrapolate_unfinished_steps = true;   // [extrapolate_unfinished_steps]
   int exponential_terms = 1;                  // [exponential_terms] 1 or 2 in the tail model
   double tail_fraction = 0.6;                 // [tail_fraction] last part of a step fitted
   // An extrapolation is accepted only if the fitted (slowest) time constant is at most this
   // many times the duration of the fitted tail; beyond it the asymptote is a guess (the
   // step stays "not equilibrated"). Choice of this project, not from a standard.
   double max_tau_to_tail_ratio = 3.0;  // [max_tau_to_tail_ratio]
-  int min_tail_points = 10;            // fewer block means: no extrapolation
+  int min_tail_points = 10;            // [min_tail_points] fewer block means: none
 
   bool IsValid(std::string* error) const;
 };
-
-// Reads the optional [equilibrium] table of a job file (other tables are ignored). Missing
-// keys keep their defaults; a key of the wrong type, an unknown key or an invalid value is an
-// InputError naming the key's line and column. Percent keys are converted to fractions,
-// hours/minutes to seconds.
-EquilibrateOptions LoadEquilibrateOptions(const std::filesystem::path& job_file);
 
 // Where the RH of a step comes from.
 enum class RhSource {

@@ -62,6 +62,7 @@ fitters::FitOptions EngineOptions(const FitStageOptions& options) {
   fit_options.errors_in_variables = options.errors_in_variables;
   fit_options.weights = options.weights;
   fit_options.confidence_level = options.confidence_level;
+  fit_options.num_multistarts = options.num_multistarts;
   return fit_options;
 }
 
@@ -181,6 +182,9 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     AddFlag(&fit.flags, fmt::format("band failed: {}", error.what()));
   }
 
+  fitters::FitOptions refit_options = fit_options;
+  refit_options.function_tolerance = options.resample_tolerance;
+  refit_options.parameter_tolerance = options.resample_tolerance;
   fitters::ResampleOptions resample;
   resample.confidence_level = options.confidence_level;
   if (options.bootstrap_resamples > 0) {
@@ -189,8 +193,8 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     resample.seed =
         internal::StreamState(options.seed, group_index, model.name(), kBootstrapStream);
     try {
-      fit.bootstrap =
-          fitters::Resample(model, observations, context, fit.result, fit_options, resample, grid);
+      fit.bootstrap = fitters::Resample(model, observations, context, fit.result, refit_options,
+                                        resample, grid);
     } catch (const std::exception& error) {
       AddFlag(&fit.flags, fmt::format("bootstrap failed: {}", error.what()));
     }
@@ -201,8 +205,8 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     resample.seed =
         internal::StreamState(options.seed, group_index, model.name(), kMonteCarloStream);
     try {
-      fit.monte_carlo =
-          fitters::Resample(model, observations, context, fit.result, fit_options, resample, grid);
+      fit.monte_carlo = fitters::Resample(model, observations, context, fit.result, refit_options,
+                                          resample, grid);
     } catch (const std::exception& error) {
       AddFlag(&fit.flags, fmt::format("Monte Carlo failed: {}", error.what()));
     }
@@ -279,6 +283,12 @@ bool FitStageOptions::IsValid(std::string* error) const {
   }
   if (!(loss_scale > 0.0 && std::isfinite(loss_scale))) {
     return fail(fmt::format("loss_scale = {} must be > 0", loss_scale));
+  }
+  if (num_multistarts < 0) {
+    return fail(fmt::format("num_multistarts = {} must be >= 0", num_multistarts));
+  }
+  if (!(resample_tolerance > 0.0 && resample_tolerance < 1.0)) {
+    return fail(fmt::format("resample_tolerance = {} must be in (0, 1)", resample_tolerance));
   }
   if (bootstrap_resamples < 0) {
     return fail(fmt::format("bootstrap_resamples = {} must be >= 0", bootstrap_resamples));

@@ -25,6 +25,14 @@ struct FitStageOptions {
   double loss_scale = 1.0;
   bool errors_in_variables = false;    // RH of each point fitted within its uncertainty
   fitters::WeightConvention weights = fitters::WeightConvention::kRelative;
+  // Deterministic perturbed starts per model starting point (fitters::FitOptions).
+  int num_multistarts = 4;
+  // Relative function and parameter tolerance of the bootstrap and Monte Carlo refits (the
+  // full fit keeps the engine's 1e-15). A refit stops when the weighted SSR changes by less
+  // than this fraction: the parameters are then within about sqrt(2 * 1e-10 * SSR / 2) ~ 1e-4
+  // of a standard error of the optimum (for SSR ~ n = 20), far below the Monte Carlo
+  // scatter of a 1,000-draw percentile (about 0.05 standard errors; common practice).
+  double resample_tolerance = 1e-10;
   int bootstrap_resamples = 1000;
   fitters::ResampleKind bootstrap_kind = fitters::ResampleKind::kResidualBootstrap;
   int monte_carlo_draws = 1000;        // JCGM 101 propagation of input uncertainties (0 = off)

@@ -17,13 +17,6 @@ namespace {
 // Chunk read at a time; lines longer than this grow the buffer.
 constexpr std::size_t kChunkBytes = std::size_t{1} << 20;
 
-// Powers of ten exactly representable in a double (10^22 < 2^53 * 2^22), the limit of the
-// Clinger (1990) fast path "How to read floating point numbers accurately", PLDI '90.
-constexpr std::array<double, 23> kExactPowersOfTen = {
-    1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,  1e8,  1e9,  1e10, 1e11,
-    1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
-constexpr std::uint64_t kMaxExactMantissa = std::uint64_t{1} << 53;
-
 bool IsBlankRecord(std::string_view line, char delimiter) {
   for (char c : line) {
     if (c != ' ' && c != delimiter && c != '\t') return false;
@@ -56,36 +49,14 @@ NumberStatus ParseNumber(std::string_view text, char decimal_point, double* valu
   while (end > p && end[-1] == ' ') --end;
   if (p == end) return NumberStatus::kEmpty;
 
+  if (ParseSimpleDecimal(std::string_view(p, static_cast<std::size_t>(end - p)), decimal_point,
+                         value)) {
+    return NumberStatus::kOk;
+  }
   bool negative = false;
   if (*p == '+' || *p == '-') {
     negative = *p == '-';
     ++p;
-  }
-  // Fast path: [digits][decimal_point digits], exact when the mantissa fits 53 bits.
-  std::uint64_t mantissa = 0;
-  int num_digits = 0;
-  int fraction_digits = 0;
-  const char* q = p;
-  while (q < end && static_cast<unsigned char>(*q - '0') < 10) {
-    mantissa = mantissa * 10 + static_cast<std::uint64_t>(*q - '0');
-    ++num_digits;
-    ++q;
-  }
-  if (q < end && *q == decimal_point) {
-    ++q;
-    while (q < end && static_cast<unsigned char>(*q - '0') < 10) {
-      mantissa = mantissa * 10 + static_cast<std::uint64_t>(*q - '0');
-      ++num_digits;
-      ++fraction_digits;
-      ++q;
-    }
-  }
-  if (q == end && num_digits > 0 && num_digits <= 19 && mantissa <= kMaxExactMantissa &&
-      fraction_digits < static_cast<int>(kExactPowersOfTen.size())) {
-    double v = static_cast<double>(mantissa);
-    if (fraction_digits > 0) v /= kExactPowersOfTen[static_cast<std::size_t>(fraction_digits)];
-    *value = negative ? -v : v;
-    return NumberStatus::kOk;
   }
 
   // General path: exponents, long mantissas, nan/inf (rejected).
@@ -110,8 +81,8 @@ NumberStatus ParseNumber(std::string_view text, char decimal_point, double* valu
   return NumberStatus::kOk;
 }
 
-CsvReader::CsvReader(const std::filesystem::path& path, std::string display_name,
-                     char delimiter, bool decimal_comma)
+CsvReader::CsvReader(const std::filesystem::path& path, std::string display_name, char delimiter,
+                     bool decimal_comma)
     : display_name_(std::move(display_name)),
       delimiter_(delimiter),
       decimal_point_(decimal_comma ? ',' : '.') {
@@ -308,8 +279,8 @@ bool CsvReader::Next() {
       const std::string counts = "the line has " + std::to_string(fields_.size()) +
                                  " fields, the header (line " + std::to_string(header_line_) +
                                  ") has " + std::to_string(num_columns_);
-      const std::string expected = std::to_string(num_columns_) + " fields separated by " +
-                                   DelimiterName(delimiter_);
+      const std::string expected =
+          std::to_string(num_columns_) + " fields separated by " + DelimiterName(delimiter_);
       if (fields_.size() < num_columns_) {
         Fail(static_cast<int>(line.size()) + 1, "truncated line: " + counts, expected);
       }
@@ -322,7 +293,7 @@ bool CsvReader::Next() {
 
 std::string_view CsvReader::Text(std::size_t i) const { return Trim(fields_[i].text); }
 
-double CsvReader::Number(std::size_t i, std::string_view column_name) const {
+double CsvReader::NumberSlow(std::size_t i, std::string_view column_name) const {
   double value = 0.0;
   const NumberStatus status = ParseNumber(fields_[i].text, decimal_point_, &value);
   if (status == NumberStatus::kOk) return value;
@@ -401,8 +372,8 @@ std::vector<MappedColumn> MapHeader(const CsvReader& reader, const std::vector<C
           } else if (!role.declared_unit.empty() && role.declared_unit != choice.unit) {
             reader.Fail(column,
                         "column '" + std::string(name) + "' contradicts " +
-                            std::string(role.unit_key) + " = \"" +
-                            std::string(role.declared_unit) + "\" declared in the job file",
+                            std::string(role.unit_key) + " = \"" + std::string(role.declared_unit) +
+                            "\" declared in the job file",
                         "the same unit in the header and in the job file");
           }
         }

@@ -31,6 +31,49 @@ enum class NumberStatus { kOk, kEmpty, kNotANumber, kNotFinite, kOutOfRange };
 // 2^53, at most 22 fraction digits), everything else std::from_chars.
 NumberStatus ParseNumber(std::string_view text, char decimal_point, double* value);
 
+// Powers of ten exactly representable in a double (5^22 < 2^53), the limit of the fast path of
+// W. D. Clinger, "How to read floating point numbers accurately", PLDI 1990: an exact
+// mantissa divided by an exact power of ten is one correctly rounded IEEE operation.
+inline constexpr double kExactPowersOfTen[23] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
+                                                 1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+                                                 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
+
+// The inline fast path of ParseNumber: [-+]digits[<decimal_point>digits] with at most 19
+// digits, mantissa <= 2^53 and <= 22 fraction digits, nothing else (no spaces). Returns false
+// (value untouched) for anything else, which ParseNumber then handles.
+inline bool ParseSimpleDecimal(std::string_view text, char decimal_point, double* value) {
+  const char* p = text.data();
+  const char* const end = p + text.size();
+  if (p == end) return false;
+  const bool negative = *p == '-';
+  if (*p == '-' || *p == '+') ++p;
+  std::uint64_t mantissa = 0;
+  const char* const digits_start = p;
+  while (p < end && static_cast<unsigned char>(*p - '0') < 10) {
+    mantissa = mantissa * 10 + static_cast<std::uint64_t>(*p - '0');
+    ++p;
+  }
+  long num_digits = p - digits_start;
+  long fraction_digits = 0;
+  if (p < end && *p == decimal_point) {
+    const char* const fraction_start = ++p;
+    while (p < end && static_cast<unsigned char>(*p - '0') < 10) {
+      mantissa = mantissa * 10 + static_cast<std::uint64_t>(*p - '0');
+      ++p;
+    }
+    fraction_digits = p - fraction_start;
+    num_digits += fraction_digits;
+  }
+  if (p != end || num_digits == 0 || num_digits > 19 || mantissa > (std::uint64_t{1} << 53) ||
+      fraction_digits > 22) {
+    return false;
+  }
+  double v = static_cast<double>(mantissa);
+  if (fraction_digits > 0) v /= kExactPowersOfTen[fraction_digits];
+  *value = negative ? -v : v;
+  return true;
+}
+
 // One field of the current record: its text (unquoted) and 1-based byte column.
 struct CsvField {
   std::string_view text;
@@ -65,7 +108,11 @@ class CsvReader {
 
   // The number in field i; throws InputError naming the column when it is empty, text, not
   // finite or out of range.
-  double Number(std::size_t i, std::string_view column_name) const;
+  double Number(std::size_t i, std::string_view column_name) const {
+    double value;
+    if (ParseSimpleDecimal(fields_[i].text, decimal_point_, &value)) return value;
+    return NumberSlow(i, column_name);
+  }
 
   [[noreturn]] void Fail(int column, std::string message, std::string expected = {}) const;
   [[noreturn]] void FailAt(std::int64_t line, int column, std::string message,
@@ -73,6 +120,7 @@ class CsvReader {
   SourceLocation Where(int column) const;
 
  private:
+  double NumberSlow(std::size_t i, std::string_view column_name) const;
   bool NextLine(std::string_view* line);  // false at end of file
   void Split(std::string_view line);
   void SplitQuoted(std::string_view line);
@@ -112,9 +160,9 @@ struct ColumnRole {
 };
 
 struct MappedColumn {
-  int index = -1;          // field index, -1 when an optional column is absent
-  std::string name;        // header name
-  std::string unit;        // resolved unit
+  int index = -1;    // field index, -1 when an optional column is absent
+  std::string name;  // header name
+  std::string unit;  // resolved unit
 };
 
 // Maps the header onto the roles. Throws InputError for an unknown column, a column named

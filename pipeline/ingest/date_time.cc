@@ -17,7 +17,7 @@ int DaysInMonth(int year, int month) {
 std::int64_t DaysFromCivil(int year, int month, int day) {
   const int y = year - (month <= 2 ? 1 : 0);
   const int era = (y >= 0 ? y : y - 399) / 400;
-  const int year_of_era = y - era * 400;                                         // [0, 399]
+  const int year_of_era = y - era * 400;                                             // [0, 399]
   const int day_of_year = (153 * (month + (month > 2 ? -3 : 9)) + 2) / 5 + day - 1;  // [0, 365]
   const int day_of_era = year_of_era * 365 + year_of_era / 4 - year_of_era / 100 + day_of_year;
   return static_cast<std::int64_t>(era) * 146097 + day_of_era - 719468;
@@ -135,21 +135,33 @@ bool ParseIso(std::string_view text, Fields* f, std::string* error) {
   return Validate(*f, error);
 }
 
-bool ParsePattern(std::string_view text, std::string_view format, Fields* f,
-                  std::string* error) {
+bool ParsePattern(std::string_view text, std::string_view format, Fields* f, std::string* error) {
   std::size_t pos = 0;
   for (std::size_t i = 0; i < format.size(); ++i) {
     if (format[i] == '%' && i + 1 < format.size()) {
       const char field = format[++i];
       bool ok = false;
       switch (field) {
-        case 'Y': ok = ReadDigits(text, &pos, 4, 4, &f->year); break;
-        case 'm': ok = ReadDigits(text, &pos, 1, 2, &f->month); break;
-        case 'd': ok = ReadDigits(text, &pos, 1, 2, &f->day); break;
-        case 'H': ok = ReadDigits(text, &pos, 1, 2, &f->hour); break;
-        case 'M': ok = ReadDigits(text, &pos, 1, 2, &f->minute); break;
-        case 'S': ok = ReadDigits(text, &pos, 1, 2, &f->second); break;
-        default: break;
+        case 'Y':
+          ok = ReadDigits(text, &pos, 4, 4, &f->year);
+          break;
+        case 'm':
+          ok = ReadDigits(text, &pos, 1, 2, &f->month);
+          break;
+        case 'd':
+          ok = ReadDigits(text, &pos, 1, 2, &f->day);
+          break;
+        case 'H':
+          ok = ReadDigits(text, &pos, 1, 2, &f->hour);
+          break;
+        case 'M':
+          ok = ReadDigits(text, &pos, 1, 2, &f->minute);
+          break;
+        case 'S':
+          ok = ReadDigits(text, &pos, 1, 2, &f->second);
+          break;
+        default:
+          break;
       }
       if (!ok) {
         *error = std::string("no %") + field + " field at character " + std::to_string(pos + 1);
@@ -157,8 +169,8 @@ bool ParsePattern(std::string_view text, std::string_view format, Fields* f,
       }
     } else {
       if (pos >= text.size() || text[pos] != format[i]) {
-        *error = std::string("character ") + std::to_string(pos + 1) + " is not '" + format[i] +
-                 "'";
+        *error =
+            std::string("character ") + std::to_string(pos + 1) + " is not '" + format[i] + "'";
         return false;
       }
       ++pos;
@@ -198,8 +210,8 @@ std::string CheckDateTimeFormat(std::string_view format) {
 bool ParseDateTime(std::string_view text, std::string_view format, double* seconds_since_epoch,
                    std::string* error) {
   Fields fields;
-  const bool ok =
-      format == "iso8601" ? ParseIso(text, &fields, error) : ParsePattern(text, format, &fields, error);
+  const bool ok = format == "iso8601" ? ParseIso(text, &fields, error)
+                                      : ParsePattern(text, format, &fields, error);
   if (!ok) return false;
   *seconds_since_epoch = ToSeconds(fields);
   return true;

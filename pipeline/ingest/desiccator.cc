@@ -29,7 +29,7 @@ enum class AtmosphereKind { kSalt, kDesiccant, kOven, kStatedRh };
 
 struct Atmosphere {
   AtmosphereKind kind = AtmosphereKind::kSalt;
-  std::string salt;       // canonical, for kSalt
+  std::string salt;          // canonical, for kSalt
   double rh_fraction = 0.0;  // kStatedRh and kDesiccant (0)
   bool operator==(const Atmosphere&) const = default;
 };
@@ -179,16 +179,15 @@ DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dat
                   "unknown branch '" + std::string(reader.Text(branch_index)) + "'",
                   "adsorption, desorption or drying");
     }
-    const bool dry_atmosphere = atmosphere.kind == AtmosphereKind::kOven ||
-                                atmosphere.kind == AtmosphereKind::kDesiccant ||
-                                (atmosphere.kind == AtmosphereKind::kStatedRh &&
-                                 atmosphere.rh_fraction == 0.0);
+    const bool dry_atmosphere =
+        atmosphere.kind == AtmosphereKind::kOven || atmosphere.kind == AtmosphereKind::kDesiccant ||
+        (atmosphere.kind == AtmosphereKind::kStatedRh && atmosphere.rh_fraction == 0.0);
     if (dry_atmosphere != (branch == Branch::kDrying)) {
       if (branch == Branch::kDrying) {
-        reader.Fail(reader.Column(branch_index),
-                    "branch 'drying' over atmosphere '" +
-                        std::string(reader.Text(atmosphere_index)) + "'",
-                    "drying only with oven, desiccant or rh:0%");
+        reader.Fail(
+            reader.Column(branch_index),
+            "branch 'drying' over atmosphere '" + std::string(reader.Text(atmosphere_index)) + "'",
+            "drying only with oven, desiccant or rh:0%");
       }
       reader.Fail(reader.Column(branch_index),
                   "branch '" + std::string(reader.Text(branch_index)) + "' with atmosphere '" +
@@ -214,13 +213,12 @@ DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dat
     }
     double temperature_K = dataset.temperature_K;
     if (has_temperature) {
-      temperature_K =
-          temperature_scale.ToSi(reader.Number(temperature_index, columns[6].name));
+      temperature_K = temperature_scale.ToSi(reader.Number(temperature_index, columns[6].name));
       if (!(temperature_K >= kMinPlausibleTemperature_K &&
             temperature_K <= kMaxPlausibleTemperature_K)) {
         reader.Fail(reader.Column(temperature_index),
-                    "temperature " + std::string(reader.Text(temperature_index)) +
-                        " in column '" + columns[6].name + "' is implausible",
+                    "temperature " + std::string(reader.Text(temperature_index)) + " in column '" +
+                        columns[6].name + "' is implausible",
                     "a temperature within -50..150 degC (223.15..423.15 K)");
       }
     }
@@ -301,20 +299,19 @@ DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dat
     earliest_s = std::min(earliest_s, time_s);
   }
   if (steps.empty()) {
-    reader.FailAt(reader.line() + 1, 1,
-                  "no weighings after the header (line " +
-                      std::to_string(reader.header_line()) + ")",
-                  "one line per weighing");
+    reader.FailAt(
+        reader.line() + 1, 1,
+        "no weighings after the header (line " + std::to_string(reader.header_line()) + ")",
+        "one line per weighing");
   }
 
   for (std::size_t i = 0; i < steps.size(); ++i) {
     DesiccatorStep& step = steps[i];
     if (step.weighings.size() < kMinWeighingsPerStep) {
-      throw InputError(
-          SourceLocation{display, step.first_line, step_columns[i]},
-          fmt::format("step {} of specimen {} has {} weighing", step.step_number,
-                      step.specimen_id, step.weighings.size()),
-          "at least 2 weighings per step to judge equilibrium");
+      throw InputError(SourceLocation{display, step.first_line, step_columns[i]},
+                       fmt::format("step {} of specimen {} has {} weighing", step.step_number,
+                                   step.specimen_id, step.weighings.size()),
+                       "at least 2 weighings per step to judge equilibrium");
     }
     double sum_K = 0.0;
     for (Weighing& weighing : step.weighings) {

@@ -59,16 +59,19 @@ bool HasDryMassSource(const IngestResult& result, const SpecimenSpec& specimen,
   }
   switch (result.job.dry_mass_method) {
     case DryMassMethod::kOvenDrying:
-      *missing = "dry_mass_method = \"oven\" needs dry_mass_g in the [[specimen]] entry or "
-                 "weighings with atmosphere oven and branch drying";
+      *missing =
+          "dry_mass_g in its [[specimen]] entry or weighings with atmosphere oven and "
+          "branch drying (dry_mass_method = \"oven\")";
       return specimen.dry_mass_g.has_value() || oven;
     case DryMassMethod::kDesiccantStep:
-      *missing = "dry_mass_method = \"desiccant_step\" needs a desiccant (or rh:0%) step in a "
-                 "desiccator file or a 0 % step in the specimen's vapour log";
+      *missing =
+          "a desiccant (or rh:0%) step in a desiccator file or a 0 % step in the "
+          "specimen's vapour log (dry_mass_method = \"desiccant_step\")";
       return zero_rh;
     case DryMassMethod::kFinalDryingStep:
-      *missing = "dry_mass_method = \"final_drying_step\" needs the last step of the specimen "
-                 "(desiccator file or vapour log) to be a drying step";
+      *missing =
+          "a drying step as the last step of the specimen in a desiccator file or its "
+          "vapour log (dry_mass_method = \"final_drying_step\")";
       return final_drying;
   }
   return false;
@@ -112,7 +115,8 @@ IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
   if (job.retention) {
     result.retention_points = ReadRetentionPoints(job, *job.retention);
     result.summary.rows_read += static_cast<std::int64_t>(result.retention_points.size());
-    result.inputs.push_back(Record("retention", job.retention->file, job.retention->file_as_written));
+    result.inputs.push_back(
+        Record("retention", job.retention->file, job.retention->file_as_written));
   }
 
   for (const SpecimenSpec& specimen : job.specimens) {
@@ -127,10 +131,10 @@ IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
         std::any_of(result.vapor_logs.begin(), result.vapor_logs.end(),
                     [&](const VaporLog& log) { return log.specimen_id == specimen.id; });
     if (!has_data) {
-      result.summary.warnings.push_back(Diagnostic{
-          Severity::kWarning, specimen.where,
-          "specimen '" + specimen.id + "' has no sorption data in any dataset",
-          "weighings or a vapour log of every declared specimen"});
+      result.summary.warnings.push_back(
+          Diagnostic{Severity::kWarning, specimen.where,
+                     "specimen '" + specimen.id + "' has no sorption data in any dataset",
+                     "weighings or a vapour log of every declared specimen"});
       continue;
     }
     std::string missing;

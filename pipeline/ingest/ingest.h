@@ -37,13 +37,13 @@ enum class DryMassMethod {
 // unit in the column name ("mass_mg"); a declared unit serves a bare column name ("mass")
 // and must agree with a suffixed one. See docs/input-formats.md.
 struct CsvFormat {
-  char delimiter = ',';            // [,] ';' or '\t' (';' with decimal_comma for spreadsheets)
-  bool decimal_comma = false;      // "0,123" numbers
+  char delimiter = ',';        // [,] ';' or '\t' (';' with decimal_comma for spreadsheets)
+  bool decimal_comma = false;  // "0,123" numbers
   std::string datetime_format = "iso8601";  // or a pattern, e.g. day-first "%d.%m.%Y %H:%M"
-  std::string mass_unit;           // "" (from header), "g", "mg" or "ug"
-  std::string rh_unit;             // "" (from header), "percent" or "fraction"
-  std::string time_unit;           // "" (from header), elapsed time in logs: "s", "min", "h"
-  std::string temperature_unit;    // "" (from header), "C" or "K"
+  std::string mass_unit;                    // "" (from header), "g", "mg" or "ug"
+  std::string rh_unit;                      // "" (from header), "percent" or "fraction"
+  std::string time_unit;         // "" (from header), elapsed time in logs: "s", "min", "h"
+  std::string temperature_unit;  // "" (from header), "C" or "K"
 };
 
 // One specimen of the material.
@@ -56,20 +56,20 @@ struct SpecimenSpec {
 
 // One measured data set: a file, its method and nominal temperature.
 struct DataSetSpec {
-  std::string id;                      // unique within the job, e.g. "desiccator-23C"
+  std::string id;  // unique within the job, e.g. "desiccator-23C"
   Method method = Method::kDesiccator;
-  std::filesystem::path file;          // resolved relative to the job file
-  std::string file_as_written;         // as written in the job file
-  double temperature_K = 296.15;       // nominal test temperature
-  std::string specimen_id;             // vapour logs: the specimen in the balance
+  std::filesystem::path file;     // resolved relative to the job file
+  std::string file_as_written;    // as written in the job file
+  double temperature_K = 296.15;  // nominal test temperature
+  std::string specimen_id;        // vapour logs: the specimen in the balance
   CsvFormat format;
-  SourceLocation where;                // its [[dataset]] (or [retention]) entry in the job file
+  SourceLocation where;  // its [[dataset]] (or [retention]) entry in the job file
 };
 
 // Everything the job file states about one material test.
 struct JobSpec {
   std::filesystem::path job_file;
-  std::string job_id;                  // e.g. "LAB-2026-0142"
+  std::string job_id;  // e.g. "LAB-2026-0142"
   std::string material_name;
   std::string material_description;
   std::string client;
@@ -77,7 +77,7 @@ struct JobSpec {
   std::string issue_date;              // ISO 8601 date printed on the sheet (deterministic)
   std::string template_name = "full";  // report template (templates/<name>.toml) or a path
   DryMassMethod dry_mass_method = DryMassMethod::kOvenDrying;
-  double drying_temperature_K = 378.15;        // 105 degC, ISO 12570 default
+  double drying_temperature_K = 378.15;  // 105 degC, ISO 12570 default
   double balance_resolution_g = 1e-4;
   double balance_standard_uncertainty_g = 1e-4;
   double rh_sensor_standard_uncertainty_fraction = 0.01;  // vapour-sorption RH sensor
@@ -90,24 +90,24 @@ struct JobSpec {
 
 // One weighing of a specimen in a desiccator.
 struct Weighing {
-  double time_s = 0.0;      // seconds since the first weighing of the file
-  std::string timestamp;    // as written
+  double time_s = 0.0;    // seconds since the first weighing of the file
+  std::string timestamp;  // as written
   double mass_g = 0.0;
   double temperature_K = 0.0;  // recorded at the weighing, else the nominal temperature
-  int line = 0;             // 1-based line in the file
+  int line = 0;                // 1-based line in the file
 };
 
 // One humidity step of one specimen in a desiccator series.
 struct DesiccatorStep {
   std::string specimen_id;
-  int step_index = 0;              // order of the step for this specimen (0-based)
-  int step_number = 0;             // as written in the file's "step" column
-  std::string atmosphere;          // as written: a salt ("NaCl"), "desiccant", or a set RH
-  std::optional<std::string> salt; // when the atmosphere is a saturated salt solution
+  int step_index = 0;                     // order of the step for this specimen (0-based)
+  int step_number = 0;                    // as written in the file's "step" column
+  std::string atmosphere;                 // as written: a salt ("NaCl"), "desiccant", or a set RH
+  std::optional<std::string> salt;        // when the atmosphere is a saturated salt solution
   std::optional<double> set_rh_fraction;  // when the RH is stated directly
   Branch branch = Branch::kAdsorption;
-  double temperature_K = 296.15;   // recorded (or nominal) temperature of the step
-  std::vector<Weighing> weighings; // in time order
+  double temperature_K = 296.15;    // recorded (or nominal) temperature of the step
+  std::vector<Weighing> weighings;  // in time order
   int first_line = 0;
   int last_line = 0;
 };
@@ -115,16 +115,16 @@ struct DesiccatorStep {
 struct DesiccatorSeries {
   std::string dataset_id;
   std::string file;
-  std::vector<DesiccatorStep> steps;      // grouped by specimen, then step order
+  std::vector<DesiccatorStep> steps;  // grouped by specimen, then step order
 };
 
 // Block mean of consecutive log rows (IngestOptions::log_block_s wide): the log is streamed
 // and only these are kept, never every row.
 struct LogBlock {
-  double time_s = 0.0;               // mean elapsed time of the block
-  double mass_g = 0.0;               // mean mass
-  double rh_measured_fraction = 0.0; // mean measured RH
-  double temperature_K = 0.0;        // mean temperature
+  double time_s = 0.0;                // mean elapsed time of the block
+  double mass_g = 0.0;                // mean mass
+  double rh_measured_fraction = 0.0;  // mean measured RH
+  double temperature_K = 0.0;         // mean temperature
   std::int32_t num_rows = 0;
 };
 
@@ -133,7 +133,7 @@ struct VaporLogStep {
   int step_index = 0;
   double set_rh_fraction = 0.0;
   Branch branch = Branch::kAdsorption;  // from the set-point sequence
-  int cycle = 0;                         // 0-based adsorption/desorption cycle
+  int cycle = 0;                        // 0-based adsorption/desorption cycle
   double start_time_s = 0.0;
   double end_time_s = 0.0;
   std::int64_t first_line = 0;
@@ -168,15 +168,15 @@ struct RetentionPoint {
 // An input file as read: for traceability (SHA-256 printed on the datasheet and checked by
 // `sorbtrace verify`).
 struct InputFileRecord {
-  std::string role;          // "job", "desiccator", "vapor_log", "retention", "template"
-  std::string path;          // as written (relative to the job file where applicable)
+  std::string role;  // "job", "desiccator", "vapor_log", "retention", "template"
+  std::string path;  // as written (relative to the job file where applicable)
   std::string sha256;
   std::uint64_t size_bytes = 0;
 };
 
 struct IngestOptions {
-  double log_block_s = 10.0;        // width of log block means [s]
-  double log_gap_warning_s = 600.0; // a gap between rows longer than this is a warning
+  double log_block_s = 10.0;         // width of log block means [s]
+  double log_gap_warning_s = 600.0;  // a gap between rows longer than this is a warning
 
   bool IsValid(std::string* error) const;  // Ingest() throws std::invalid_argument if not
 };

@@ -36,8 +36,7 @@ class JobFileReader {
                          std::string expected) const {
     throw InputError(At(region), std::move(message), std::move(expected));
   }
-  [[noreturn]] void Fail(const toml::node& node, std::string message,
-                         std::string expected) const {
+  [[noreturn]] void Fail(const toml::node& node, std::string message, std::string expected) const {
     Fail(node.source(), std::move(message), std::move(expected));
   }
 
@@ -59,8 +58,7 @@ class JobFileReader {
   const toml::table& Table(const toml::table& root, std::string_view name) const {
     const toml::node* node = root.get(name);
     if (node == nullptr) {
-      throw InputError(SourceLocation{display_, 1, 1},
-                       "missing table [" + std::string(name) + "]",
+      throw InputError(SourceLocation{display_, 1, 1}, "missing table [" + std::string(name) + "]",
                        "a [" + std::string(name) + "] table in the job file");
     }
     if (!node->is_table()) {
@@ -78,8 +76,7 @@ class JobFileReader {
       return std::nullopt;
     }
     if (!node->is_string()) {
-      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) +
-                      " is not a string",
+      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) + " is not a string",
            "a quoted string");
     }
     return node->value<std::string>();
@@ -93,14 +90,12 @@ class JobFileReader {
       return std::nullopt;
     }
     if (!node->is_number()) {
-      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) +
-                      " is not a number",
+      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) + " is not a number",
            "a number");
     }
     const double value = *node->value<double>();
     if (!std::isfinite(value)) {
-      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) +
-                      " is not finite",
+      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) + " is not finite",
            "a finite number");
     }
     return value;
@@ -111,8 +106,8 @@ class JobFileReader {
                                  std::string_view key, bool required) const {
     const auto value = Number(table, section, key, required);
     if (value && !(*value > 0.0)) {
-      Fail(*table.get(key), "key '" + std::string(key) + "' in " + std::string(section) +
-                                " must be positive",
+      Fail(*table.get(key),
+           "key '" + std::string(key) + "' in " + std::string(section) + " must be positive",
            "a number above zero");
     }
     return value;
@@ -126,8 +121,9 @@ class JobFileReader {
     const double temperature_K = physics::CelsiusToKelvin(*value);
     if (!(temperature_K >= internal::kMinPlausibleTemperature_K &&
           temperature_K <= internal::kMaxPlausibleTemperature_K)) {
-      Fail(*table.get(key), "key '" + std::string(key) + "' in " + std::string(section) +
-                                " is an implausible temperature",
+      Fail(*table.get(key),
+           "key '" + std::string(key) + "' in " + std::string(section) +
+               " is an implausible temperature",
            "a temperature in degC within -50..150");
     }
     return temperature_K;
@@ -138,8 +134,7 @@ class JobFileReader {
     const toml::node* node = table.get(key);
     if (node == nullptr) return std::nullopt;
     if (!node->is_boolean()) {
-      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) +
-                      " is not a boolean",
+      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) + " is not a boolean",
            "true or false");
     }
     return node->value<bool>();
@@ -157,7 +152,8 @@ class JobFileReader {
         if (!list.empty()) list += ", ";
         list += "\"" + std::string(name) + "\"";
       }
-      Fail(*table.get(key), "'" + *value + "' is not a valid " + std::string(key), "one of " + list);
+      Fail(*table.get(key), "'" + *value + "' is not a valid " + std::string(key),
+           "one of " + list);
     }
     return value;
   }
@@ -165,7 +161,7 @@ class JobFileReader {
   [[noreturn]] void Missing(const toml::table& table, std::string_view section,
                             std::string_view key, std::string_view what) const {
     Fail(table, "missing key '" + std::string(key) + "' in " + std::string(section),
-         std::string(key) + " = " + std::string(what));
+         std::string(key) + " (" + std::string(what) + ")");
   }
 
   const std::string& display() const { return display_; }
@@ -256,8 +252,9 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     const bool theirs = std::find(std::begin(kOtherStagesTables), std::end(kOtherStagesTables),
                                   name) != std::end(kOtherStagesTables);
     if (!ours && !theirs) {
-      in.Fail(key.source(), "unknown top-level " + std::string(value.is_table() ? "table [" : "key '") +
-                                std::string(name) + (value.is_table() ? "]" : "'"),
+      in.Fail(key.source(),
+              "unknown top-level " + std::string(value.is_table() ? "table [" : "key '") +
+                  std::string(name) + (value.is_table() ? "]" : "'"),
               "tables [job], [material], [measurement], [[specimen]], [[dataset]], "
               "[retention], [equilibrium], [fit], [pores], [report]");
     }
@@ -289,21 +286,21 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
                {"dry_mass_method", "drying_temperature_C", "balance_resolution_g",
                 "balance_standard_uncertainty_g", "rh_sensor_standard_uncertainty_percent",
                 "temperature_standard_uncertainty_K", "negative_moisture_expected"});
-  const std::string method =
-      in.Choice(measurement, kM, "dry_mass_method", false,
-                {"oven", "desiccant_step", "final_drying_step"})
-          .value_or("oven");
+  const std::string method = in.Choice(measurement, kM, "dry_mass_method", false,
+                                       {"oven", "desiccant_step", "final_drying_step"})
+                                 .value_or("oven");
   job.dry_mass_method = method == "oven"             ? DryMassMethod::kOvenDrying
                         : method == "desiccant_step" ? DryMassMethod::kDesiccantStep
                                                      : DryMassMethod::kFinalDryingStep;
   job.drying_temperature_K = in.Temperature_K(measurement, kM, "drying_temperature_C", false)
                                  .value_or(job.drying_temperature_K);
-  job.balance_resolution_g =
-      in.Positive(measurement, kM, "balance_resolution_g", false).value_or(job.balance_resolution_g);
+  job.balance_resolution_g = in.Positive(measurement, kM, "balance_resolution_g", false)
+                                 .value_or(job.balance_resolution_g);
   job.balance_standard_uncertainty_g =
       in.Positive(measurement, kM, "balance_standard_uncertainty_g", false)
           .value_or(job.balance_standard_uncertainty_g);
-  if (const auto u = in.Positive(measurement, kM, "rh_sensor_standard_uncertainty_percent", false)) {
+  if (const auto u =
+          in.Positive(measurement, kM, "rh_sensor_standard_uncertainty_percent", false)) {
     job.rh_sensor_standard_uncertainty_fraction = *u / 100.0;
   }
   job.temperature_standard_uncertainty_K =
@@ -314,8 +311,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
 
   // [[specimen]]
   const toml::node* specimens = root.get("specimen");
-  if (specimens == nullptr || !specimens->is_array_of_tables() ||
-      specimens->as_array()->empty()) {
+  if (specimens == nullptr || !specimens->is_array_of_tables() || specimens->as_array()->empty()) {
     throw InputError(specimens != nullptr ? in.At(*specimens) : SourceLocation{in.display(), 1, 1},
                      "no [[specimen]] entries", "one [[specimen]] table per specimen, with an id");
   }
@@ -350,9 +346,8 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     const toml::table& table = *node.as_table();
     constexpr std::string_view kD = "[[dataset]]";
     in.CheckKeys(table, kD,
-                 {"id", "method", "file", "temperature_C", "specimen", "delimiter",
-                  "decimal_comma", "datetime_format", "mass_unit", "rh_unit", "time_unit",
-                  "temperature_unit"});
+                 {"id", "method", "file", "temperature_C", "specimen", "delimiter", "decimal_comma",
+                  "datetime_format", "mass_unit", "rh_unit", "time_unit", "temperature_unit"});
     DataSetSpec dataset;
     dataset.where = in.At(table);
     dataset.id = *in.String(table, kD, "id", true);

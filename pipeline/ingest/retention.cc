@@ -110,8 +110,7 @@ std::vector<RetentionPoint> ReadRetentionPoints(const JobSpec& job, const DataSe
     const double moisture = reader.Number(moisture_index, columns[2].name);
     if (!(moisture >= 0.0)) {
       reader.Fail(reader.Column(moisture_index),
-                  "moisture content " + std::string(reader.Text(moisture_index)) +
-                      " is negative",
+                  "moisture content " + std::string(reader.Text(moisture_index)) + " is negative",
                   "a moisture content of zero or more");
     }
     const double u = reader.Number(u_index, columns[3].name);
@@ -134,10 +133,10 @@ std::vector<RetentionPoint> ReadRetentionPoints(const JobSpec& job, const DataSe
     points.push_back(point);
   }
   if (points.empty()) {
-    reader.FailAt(reader.line() + 1, 1,
-                  "no retention points after the header (line " +
-                      std::to_string(reader.header_line()) + ")",
-                  "one line per retention point");
+    reader.FailAt(
+        reader.line() + 1, 1,
+        "no retention points after the header (line " + std::to_string(reader.header_line()) + ")",
+        "one line per retention point");
   }
   return points;
 }

@@ -25,19 +25,27 @@ constexpr double kSetPointTolerance_fraction = 1e-9;
 // At most this many gap warnings per file are listed one by one; the rest are counted.
 constexpr int kMaxGapWarnings = 20;
 
-// Running mean and variance (Welford 1962, Technometrics 4, 419).
+// Running mean and variance from sums shifted by the first value (Chan, Golub & LeVeque 1983,
+// Am. Stat. 37, 242, "shifted data" algorithm): as accurate as Welford's update while the
+// values stay near the first one (a sensor within one step), and free of divisions per row.
 struct RunningStats {
   std::int64_t n = 0;
-  double mean = 0.0;
-  double m2 = 0.0;
+  double shift = 0.0;
+  double sum = 0.0;     // of (x - shift)
+  double sum_sq = 0.0;  // of (x - shift)^2
   void Add(double x) {
+    if (n == 0) shift = x;
+    const double d = x - shift;
     ++n;
-    const double delta = x - mean;
-    mean += delta / static_cast<double>(n);
-    m2 += delta * (x - mean);
+    sum += d;
+    sum_sq += d * d;
   }
+  double Mean() const { return n > 0 ? shift + sum / static_cast<double>(n) : 0.0; }
   double StandardDeviation() const {
-    return n > 1 ? std::sqrt(m2 / static_cast<double>(n - 1)) : 0.0;
+    if (n < 2) return 0.0;
+    const double nd = static_cast<double>(n);
+    const double m2 = sum_sq - sum * sum / nd;
+    return m2 > 0.0 ? std::sqrt(m2 / (nd - 1.0)) : 0.0;
   }
 };
 
@@ -55,15 +63,15 @@ class StepBuilder {
     step_.first_line = line;
     rh_ = RunningStats{};
     temperature_ = RunningStats{};
-    block_index_ = 0;
+    next_block_start_s_ = t + block_s_;
     ResetBlock();
   }
 
   void Add(double t, double rh, double temperature_K, double mass_g, std::int64_t line) {
-    const auto index = static_cast<std::int64_t>(std::floor((t - step_.start_time_s) / block_s_));
-    if (index != block_index_) {
+    if (t >= next_block_start_s_) {  // rows are in time order: only ever a later block
       FlushBlock();
-      block_index_ = index;
+      const double index = std::floor((t - step_.start_time_s) / block_s_);
+      next_block_start_s_ = step_.start_time_s + (index + 1.0) * block_s_;
     }
     sum_t_ += t;
     sum_mass_ += mass_g;
@@ -79,9 +87,9 @@ class StepBuilder {
 
   VaporLogStep Finish() {
     FlushBlock();
-    step_.rh_measured_mean_fraction = rh_.mean;
+    step_.rh_measured_mean_fraction = rh_.Mean();
     step_.rh_measured_std_fraction = rh_.StandardDeviation();
-    step_.temperature_mean_K = temperature_.mean;
+    step_.temperature_mean_K = temperature_.Mean();
     step_.temperature_std_K = temperature_.StandardDeviation();
     return std::move(step_);
   }
@@ -105,7 +113,7 @@ class StepBuilder {
   VaporLogStep step_;
   RunningStats rh_;
   RunningStats temperature_;
-  std::int64_t block_index_ = 0;
+  double next_block_start_s_ = 0.0;  // start time of the block after the current one
   double sum_t_ = 0.0, sum_mass_ = 0.0, sum_rh_ = 0.0, sum_temperature_ = 0.0;
   std::int32_t block_rows_ = 0;
 };
@@ -158,8 +166,7 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
   const internal::UnitScale time_scale = internal::TimeUnitToSecond(columns[0].unit);
   const internal::UnitScale set_scale = internal::RhUnitToFraction(columns[1].unit);
   const internal::UnitScale rh_scale = internal::RhUnitToFraction(columns[2].unit);
-  const internal::UnitScale temperature_scale =
-      internal::TemperatureUnitToKelvin(columns[3].unit);
+  const internal::UnitScale temperature_scale = internal::TemperatureUnitToKelvin(columns[3].unit);
   const internal::UnitScale mass_scale = internal::MassUnitToGram(columns[4].unit);
   const std::string rh_range = columns[2].unit == "percent" ? "0..100 %" : "0..1";
   const std::string set_range = columns[1].unit == "percent" ? "0..100 %" : "0..1";
@@ -260,9 +267,10 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
     ++log.num_rows;
   }
   if (!in_step) {
-    reader.FailAt(reader.line() + 1, 1, "no data lines after the header (line " +
-                                            std::to_string(reader.header_line()) + ")",
-                  "at least one reading per line");
+    reader.FailAt(
+        reader.line() + 1, 1,
+        "no data lines after the header (line " + std::to_string(reader.header_line()) + ")",
+        "at least one reading per line");
   }
   log.steps.push_back(builder.Finish());
   if (summary != nullptr && num_gaps > kMaxGapWarnings) {

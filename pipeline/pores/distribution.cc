@@ -105,13 +105,13 @@ std::vector<ModalRadius> ModesWithUncertainty(const std::vector<Peak>& nominal,
 
 std::string BranchWords(ingest::Branch branch) { return std::string(ingest::BranchName(branch)); }
 
-void CommonAssumptions(const PoreRadiusMap& map, ingest::Branch branch,
-                       const PoreOptions& options, PoreDistribution* d) {
-  d->assumptions.push_back(fmt::format(
-      "{} pores; the {} branch is read with a {} meniscus (Cohan 1938)",
-      options.geometry == PoreGeometry::kOpenCylinder ? "open-ended cylindrical"
-                                                       : "closed-ended cylindrical",
-      BranchWords(branch), physics::MeniscusName(map.meniscus())));
+void CommonAssumptions(const PoreRadiusMap& map, ingest::Branch branch, const PoreOptions& options,
+                       PoreDistribution* d) {
+  d->assumptions.push_back(
+      fmt::format("{} pores; the {} branch is read with a {} meniscus (Cohan 1938)",
+                  options.geometry == PoreGeometry::kOpenCylinder ? "open-ended cylindrical"
+                                                                  : "closed-ended cylindrical",
+                  BranchWords(branch), physics::MeniscusName(map.meniscus())));
   d->assumptions.push_back(fmt::format(
       "r_p = r_K + t, Kelvin radius from the IAPWS surface tension and Kell density of water at "
       "{:.2f} degC, contact angle {:g} rad",
@@ -121,7 +121,8 @@ void CommonAssumptions(const PoreRadiusMap& map, ingest::Branch branch,
       "pores below {:g} nm are not Kelvin-resolved (micropores): their water is reported as "
       "adsorbed",
       options.min_radius_m / kNm));
-  d->assumptions.push_back("pore water at the density of bulk liquid water at the test temperature");
+  d->assumptions.push_back(
+      "pore water at the density of bulk liquid water at the test temperature");
 }
 
 }  // namespace
@@ -136,7 +137,8 @@ GridVolumes PoreVolumesFromIsotherm(const std::vector<double>& radius_m,
   out.interval_volume_m3_per_kg.assign(n - 1, 0.0);
   if (!film_correction) {
     for (std::size_t k = 0; k + 1 < n; ++k) {
-      out.interval_volume_m3_per_kg[k] = (u_kg_per_kg[k + 1] - u_kg_per_kg[k]) / water_density_kg_per_m3;
+      out.interval_volume_m3_per_kg[k] =
+          (u_kg_per_kg[k + 1] - u_kg_per_kg[k]) / water_density_kg_per_m3;
       out.total_m3_per_kg += out.interval_volume_m3_per_kg[k];
     }
     out.adsorbed_m3_per_kg = u_kg_per_kg[0] / water_density_kg_per_m3;
@@ -355,8 +357,8 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
     p.cumulative_low_m3_per_kg = Quantile(column, tail);
     p.cumulative_high_m3_per_kg = Quantile(column, 1.0 - tail);
   }
-  d.modes = ModesWithUncertainty(FindPeaks(log_r, density, options.mode_min_relative_height),
-                                 draw_peaks);
+  d.modes =
+      ModesWithUncertainty(FindPeaks(log_r, density, options.mode_min_relative_height), draw_peaks);
   d.decades = DecadeFractions(log_r, nominal.interval_volume_m3_per_kg, nominal.total_m3_per_kg);
   if (d.band_source != "none") {
     d.assumptions.push_back(fmt::format("band: {:g} % percentile interval over {} {}",
@@ -439,8 +441,9 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
     nodes.push_back(Node{rh_j, merged[j].moisture_kg_per_kg, merged[j].u_moisture_kg_per_kg});
   }
   if (nodes.size() < 2) {
-    d.assumptions.push_back("fewer than two measured points above the smallest radius: nothing "
-                            "resolved");
+    d.assumptions.push_back(
+        "fewer than two measured points above the smallest radius: nothing "
+        "resolved");
     return d;
   }
   const std::size_t n = nodes.size();

@@ -53,8 +53,8 @@ struct ModelCurve {
   const fitters::Model* model = nullptr;
   std::string name;
   std::vector<double> parameters;
-  Eigen::MatrixXd covariance;                          // may be empty: no band
-  std::vector<std::vector<double>> resampled_draws;    // bootstrap; preferred when present
+  Eigen::MatrixXd covariance;                        // may be empty: no band
+  std::vector<std::vector<double>> resampled_draws;  // bootstrap; preferred when present
   fitters::ModelContext context;
 };
 

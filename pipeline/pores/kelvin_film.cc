@@ -107,7 +107,7 @@ FilmCurve MakeFilmCurve(const PoreOptions& options, const FittedLayersSource* la
 physics::Meniscus MeniscusFor(PoreGeometry geometry, ingest::Branch branch) {
   if (geometry == PoreGeometry::kClosedCylinder) return physics::Meniscus::kHemispherical;
   return branch == ingest::Branch::kAdsorption ? physics::Meniscus::kCylindrical
-                                                : physics::Meniscus::kHemispherical;
+                                               : physics::Meniscus::kHemispherical;
 }
 
 PoreRadiusMap::PoreRadiusMap(double temperature_K, physics::Meniscus meniscus,
@@ -139,7 +139,9 @@ double PoreRadiusMap::RhForPoreRadius(double radius_m) const {
     return std::exp(-kelvin_length_m_ / (radius_m - film_.constant_m));
   }
   // f(s) = L/s + t(exp(-s)) - r decreases with s = ln(1/RH).
-  auto excess = [&](double s) { return kelvin_length_m_ / s + film_.thickness_m(std::exp(-s)) - radius_m; };
+  auto excess = [&](double s) {
+    return kelvin_length_m_ / s + film_.thickness_m(std::exp(-s)) - radius_m;
+  };
   double low = std::log(kMinLogInverseRh);   // f > 0 there
   double high = std::log(kMaxLogInverseRh);  // f must be < 0 there
   if (excess(kMaxLogInverseRh) >= 0.0) throw too_thick();

@@ -26,7 +26,7 @@ double TableFilmThickness_m(const std::vector<std::pair<double, double>>& table,
 // t(RH) [m], with the words printed beside the distribution.
 struct FilmCurve {
   std::function<double(double)> thickness_m;  // of rh_fraction
-  std::string description;                   // e.g. "Badmann et al. (1981) t-curve"
+  std::string description;                    // e.g. "Badmann et al. (1981) t-curve"
   std::string setting;  // the setting as written in the job file, for error messages
   bool is_constant = false;
   double constant_m = 0.0;

@@ -29,10 +29,10 @@ enum class PoreGeometry { kOpenCylinder, kClosedCylinder };
 
 enum class FilmModel {
   kNone,
-  kConstant,        // PoreOptions::constant_film_thickness_m
-  kFittedLayers,    // t = (u / X_m) * monolayer thickness, from the fitted GAB (or BET)
-  kBadmann,         // water t-curve of Badmann, Stockhausen & Setzer (1981)
-  kUserTable,       // PoreOptions::film_table (rh_fraction, thickness_m), interpolated
+  kConstant,      // PoreOptions::constant_film_thickness_m
+  kFittedLayers,  // t = (u / X_m) * monolayer thickness, from the fitted GAB (or BET)
+  kBadmann,       // water t-curve of Badmann, Stockhausen & Setzer (1981)
+  kUserTable,     // PoreOptions::film_table (rh_fraction, thickness_m), interpolated
 };
 
 // A reference condition at which the moisture content is tabulated.
@@ -45,12 +45,13 @@ struct PoreOptions {
   PoreGeometry geometry = PoreGeometry::kOpenCylinder;
   FilmModel film = FilmModel::kBadmann;
   double constant_film_thickness_m = 0.5e-9;
-  // One molecular layer of water, (V_m / N_A)^(1/3) at 25 degC = 0.311 nm (derived from IAPWS density).
+  // One molecular layer of water, (V_m / N_A)^(1/3) at 25 degC = 0.311 nm (derived from IAPWS
+  // density).
   double monolayer_thickness_m = 0.311e-9;
   std::vector<std::pair<double, double>> film_table;  // (rh_fraction, thickness_m)
   double contact_angle_rad = 0.0;
-  double min_radius_m = 1e-9;     // below: "adsorbed", Kelvin not applied (micropores)
-  double max_radius_m = 0.0;      // 0 = largest radius resolved by the highest measured RH
+  double min_radius_m = 1e-9;  // below: "adsorbed", Kelvin not applied (micropores)
+  double max_radius_m = 0.0;   // 0 = largest radius resolved by the highest measured RH
   int grid_points = 400;
   int band_draws = 1000;
   std::uint64_t seed = 20261201;
@@ -71,8 +72,8 @@ struct PoreOptions {
   // A local maximum of dV/dlog r is reported as a mode when its height is at least this
   // fraction of the largest value (a display threshold, not physics).
   double mode_min_relative_height = 0.05;
-  int hysteresis_grid_points = 41;     // RH grid inside both branches' measured ranges
-  int heat_grid_points = 21;           // moisture-content grid of the isosteric heat
+  int hysteresis_grid_points = 41;       // RH grid inside both branches' measured ranges
+  int heat_grid_points = 21;             // moisture-content grid of the isosteric heat
   double temperature_tolerance_K = 0.5;  // groups closer than this count as one temperature
 
   bool IsValid(std::string* error) const;
@@ -87,8 +88,8 @@ struct PoreDistributionPoint {
   double cumulative_volume_m3_per_kg = 0.0;
   double cumulative_low_m3_per_kg = 0.0;
   double cumulative_high_m3_per_kg = 0.0;
-  double dv_dlogr_m3_per_kg = 0.0;     // d V / d log10 r
-  double dv_dlogr_low_m3_per_kg = 0.0; // band (confidence level of the fit stage)
+  double dv_dlogr_m3_per_kg = 0.0;      // d V / d log10 r
+  double dv_dlogr_low_m3_per_kg = 0.0;  // band (confidence level of the fit stage)
   double dv_dlogr_high_m3_per_kg = 0.0;
 };
 
@@ -105,8 +106,8 @@ struct DecadeFraction {
 };
 
 struct PoreDistribution {
-  std::string method;                  // "model" or "stepwise"
-  std::string model_name;              // model used (method "model")
+  std::string method;      // "model" or "stepwise"
+  std::string model_name;  // model used (method "model")
   ingest::Branch branch = ingest::Branch::kDesorption;
   double temperature_K = 0.0;
   physics::Meniscus meniscus = physics::Meniscus::kHemispherical;
@@ -120,7 +121,7 @@ struct PoreDistribution {
   double resolved_radius_min_m = 0.0;
   double resolved_radius_max_m = 0.0;
   std::vector<DecadeFraction> decades;
-  std::vector<std::string> assumptions;        // printed beside the plot
+  std::vector<std::string> assumptions;  // printed beside the plot
   // Added by the pores stage: where the band comes from ("parameter covariance", "bootstrap
   // draws", "measurement uncertainty", "none") and how many draws were used.
   std::string band_source;
@@ -129,7 +130,7 @@ struct PoreDistribution {
 };
 
 struct SurfaceArea {
-  std::string model_name;       // "gab" or "bet"
+  std::string model_name;  // "gab" or "bet"
   ingest::Branch branch = ingest::Branch::kAdsorption;
   double temperature_K = 0.0;
   double monolayer_kg_per_kg = 0.0;
@@ -152,10 +153,10 @@ struct ReferenceMoisture {
 // European Pharmacopoeia 5.11 hygroscopicity (mass increase at 25 degC / 80 % RH).
 struct Hygroscopicity {
   bool applicable = false;
-  std::string reason;            // why not applicable, or how derived
+  std::string reason;  // why not applicable, or how derived
   double mass_increase_percent = 0.0;
   double u_mass_increase_percent = 0.0;
-  std::string class_name;        // "non-hygroscopic", "slightly hygroscopic", ...
+  std::string class_name;  // "non-hygroscopic", "slightly hygroscopic", ...
 };
 
 struct HysteresisPoint {
@@ -179,7 +180,7 @@ struct Hysteresis {
 
 struct IsostericHeatPoint {
   double moisture_kg_per_kg = 0.0;
-  double net_heat_J_per_mol = 0.0;    // q_st,net = -R d ln(a_w) / d(1/T) at constant u
+  double net_heat_J_per_mol = 0.0;  // q_st,net = -R d ln(a_w) / d(1/T) at constant u
   double u_net_heat_J_per_mol = 0.0;
   double total_heat_J_per_mol = 0.0;  // + enthalpy of vaporisation at the mean temperature
 };
@@ -200,7 +201,7 @@ struct PoreAnalysis {
   std::vector<SurfaceArea> surface_areas;
   std::vector<ReferenceMoisture> reference_moisture;
   Hygroscopicity hygroscopicity;
-  std::vector<Hysteresis> hysteresis;   // one per temperature with both branches
+  std::vector<Hysteresis> hysteresis;  // one per temperature with both branches
   std::vector<IsostericHeat> isosteric_heat;
   PoreSummary summary;
 };

@@ -67,9 +67,9 @@ double FittedCurve::Slope(double rh_fraction) const {
   return model->SlopeInX0(parameters.data(), x, context);
 }
 
-bool NetIsostericHeat(const std::vector<double>& temperatures_K,
-                      const std::vector<double>& ln_aw, const std::vector<double>& u_ln_aw,
-                      double* heat_J_per_mol, double* u_heat_J_per_mol) {
+bool NetIsostericHeat(const std::vector<double>& temperatures_K, const std::vector<double>& ln_aw,
+                      const std::vector<double>& u_ln_aw, double* heat_J_per_mol,
+                      double* u_heat_J_per_mol) {
   const std::size_t n = temperatures_K.size();
   if (n < 2 || ln_aw.size() != n || u_ln_aw.size() != n) return false;
   bool weighted = true;
@@ -195,10 +195,10 @@ ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
   }
   if (condition.rh_fraction < best->rh_min_fraction ||
       condition.rh_fraction > best->rh_max_fraction) {
-    r.flags.push_back(fmt::format(
-        "extrapolated: {:g} % RH is outside the measured range {:.1f}..{:.1f} % RH",
-        100.0 * condition.rh_fraction, 100.0 * best->rh_min_fraction,
-        100.0 * best->rh_max_fraction));
+    r.flags.push_back(
+        fmt::format("extrapolated: {:g} % RH is outside the measured range {:.1f}..{:.1f} % RH",
+                    100.0 * condition.rh_fraction, 100.0 * best->rh_min_fraction,
+                    100.0 * best->rh_max_fraction));
   }
   const fitters::ModelInfo& info = best->model->info();
   if (condition.rh_fraction < info.x_min || condition.rh_fraction > info.x_max) {
@@ -235,8 +235,7 @@ Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorptio
     h.reason = fmt::format(
         "not applicable: 80 % RH is outside the measured range {:.1f}..{:.1f} % RH of the "
         "adsorption isotherm at {:.2f} degC (no extrapolation)",
-        100.0 * best->rh_min_fraction, 100.0 * best->rh_max_fraction,
-        Celsius(best->temperature_K));
+        100.0 * best->rh_min_fraction, 100.0 * best->rh_max_fraction, Celsius(best->temperature_K));
     return h;
   }
   h.applicable = true;
@@ -253,8 +252,8 @@ Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorptio
   for (double boundary :
        {kSlightlyHygroscopicPercent, kHygroscopicPercent, kVeryHygroscopicPercent}) {
     if (std::abs(h.mass_increase_percent - boundary) <= expanded) {
-      h.reason += fmt::format("; the class boundary {:g} % lies within the expanded uncertainty",
-                              boundary);
+      h.reason +=
+          fmt::format("; the class boundary {:g} % lies within the expanded uncertainty", boundary);
     }
   }
   return h;
@@ -339,9 +338,10 @@ IsostericHeat IsostericHeatFrom(const std::vector<FittedCurve>& best_of_branch,
     const double a = c->Value(c->rh_min_fraction);
     const double b = c->Value(c->rh_max_fraction);
     if (!(b > a)) {
-      q.reason = fmt::format("not available: the fitted {} at {:.2f} degC does not increase over "
-                             "its measured range",
-                             c->name, Celsius(c->temperature_K));
+      q.reason = fmt::format(
+          "not available: the fitted {} at {:.2f} degC does not increase over "
+          "its measured range",
+          c->name, Celsius(c->temperature_K));
       return q;
     }
     u_low = std::max(u_low, a);

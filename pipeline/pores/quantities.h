@@ -41,9 +41,9 @@ struct FittedCurve {
 // q_st,net = -R d ln a_w / d(1/T) by weighted regression of ln a_w on 1/T (weights 1/u^2 of
 // ln a_w; for more than two temperatures the variance of the slope is scaled by the Birge ratio
 // chi2/dof when that exceeds 1). Returns false with fewer than two finite points.
-bool NetIsostericHeat(const std::vector<double>& temperatures_K,
-                      const std::vector<double>& ln_aw, const std::vector<double>& u_ln_aw,
-                      double* heat_J_per_mol, double* u_heat_J_per_mol);
+bool NetIsostericHeat(const std::vector<double>& temperatures_K, const std::vector<double>& ln_aw,
+                      const std::vector<double>& u_ln_aw, double* heat_J_per_mol,
+                      double* u_heat_J_per_mol);
 
 // Molar enthalpy of vaporisation of water from the Clausius-Clapeyron slope of the IAPWS
 // saturation pressure: dH = -R d ln p_s / d(1/T) (ideal vapour, liquid volume neglected;

@@ -14,9 +14,7 @@ constexpr double kTwoPi = 6.283185307179586476925;
 constexpr double kTwoToMinus53 = 1.0 / 9007199254740992.0;  // 2^-53
 }  // namespace
 
-double NormalSource::Uniform() {
-  return static_cast<double>(engine_() >> 11) * kTwoToMinus53;
-}
+double NormalSource::Uniform() { return static_cast<double>(engine_() >> 11) * kTwoToMinus53; }
 
 double NormalSource::Normal() {
   if (has_spare_) {

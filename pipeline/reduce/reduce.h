@@ -32,7 +32,6 @@
 //   flagged (balance noise at very low humidity).
 #pragma once
 
-#include <filesystem>
 #include <string>
 #include <vector>
 
@@ -41,19 +40,14 @@
 
 namespace sorbtrace::reduce {
 
-// Read from the job file table [equilibrium] (keys coverage_factor, include_not_equilibrated)
-// by LoadReduceOptions.
+// Set by the run stage from the job file ([equilibrium] include_not_equilibrated) and the
+// report template (coverage factor).
 struct ReduceOptions {
   double coverage_factor = 2.0;           // k for expanded uncertainties (about 95 %)
   bool include_not_equilibrated = false;  // if true, such points are kept but flagged
 
   bool IsValid(std::string* error) const;
 };
-
-// Reads coverage_factor and include_not_equilibrated from the [equilibrium] table (other
-// keys of the table are checked by equilibrate::LoadEquilibrateOptions). Wrong type or an
-// invalid value: InputError at the key.
-ReduceOptions LoadReduceOptions(const std::filesystem::path& job_file);
 
 // One line of an uncertainty budget: u(x_i), sensitivity c_i, contribution |c_i| u(x_i).
 struct BudgetLine {

@@ -127,8 +127,9 @@ double ParseRhPercent(const std::string& option, const std::string& text) {
   if (SplitNumberAndUnit(text, &value, &unit) && unit == "%") return value / kPercent;
   if (SplitNumberAndUnit(text, &value, &unit) && unit.empty()) {
     throw CLI::ValidationError(
-        option, fmt::format("'{}' has no unit; write '{}%' for percent or use --rh-fraction {}",
-                            text, text, text));
+        option, fmt::format("'{}' has no unit; write a percentage such as '{}%', or give a "
+                            "fraction with --rh-fraction",
+                            text, text));
   }
   throw CLI::ValidationError(
       option, fmt::format("'{}' is not a relative humidity (expected e.g. '75%')", text));
@@ -533,7 +534,15 @@ void RunSuction(const SuctionArgs& args) {
   if (args.json) {
     Json json;
     json["calculation"] = "suction";
-    json["inputs"] = {{"temperature_K", t_K}};
+    Json inputs = {{"temperature_K", t_K}};
+    if (args.pf) {
+      inputs["pF"] = *args.pf;
+    } else if (!args.capillary_pressure.empty()) {
+      inputs["capillary_pressure_Pa"] = pc_Pa;
+    } else {
+      inputs["suction_head_m"] = head_m;
+    }
+    json["inputs"] = inputs;
     json["results"] = {{"capillary_pressure_Pa", pc_Pa},
                        {"suction_head_m", head_m},
                        {"pF", pf ? Json(*pf) : Json(nullptr)},

@@ -1,0 +1,317 @@
+#include "pipeline/report/document.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cstdio>
+#include <filesystem>
+#include <string>
+
+#include "pipeline/common/diagnostics.h"
+
+namespace sorbtrace::report {
+namespace {
+
+using plot::Canvas;
+using plot::Color;
+namespace palette = plot::palette;
+
+HPDF_REAL F(double value) { return static_cast<HPDF_REAL>(value); }
+
+constexpr double kPointsPerMm = 72.0 / 25.4;  // PDF points are 1/72 inch
+// ISO 216 A4 and ANSI letter, in points.
+constexpr double kA4Width = 595.276, kA4Height = 841.890;
+constexpr double kLetterWidth = 612.0, kLetterHeight = 792.0;
+constexpr double kHeaderHeight = 34.0;  // running header band below the top margin
+constexpr double kFooterHeight = 22.0;
+
+// The sheet's accent: a deep teal rule, the same hue as the first data series.
+constexpr Color kAccent = palette::kTeal;
+constexpr Color kShade{0.945, 0.955, 0.96};  // zebra rows and table header
+
+// "2026-10-12" or "2026-10-12T09:30:00Z" -> HPDF_Date; false if not of that form.
+bool ParseDate(const std::string& text, HPDF_Date* date) {
+  int year = 0, month = 0, day = 0, hour = 0, minute = 0, second = 0;
+  if (text.size() < 10) return false;
+  if (std::sscanf(text.c_str(), "%4d-%2d-%2d", &year, &month, &day) != 3) return false;
+  if (text.size() >= 19 && (text[10] == 'T' || text[10] == ' ')) {
+    if (std::sscanf(text.c_str() + 11, "%2d:%2d:%2d", &hour, &minute, &second) != 3) return false;
+  }
+  if (month < 1 || month > 12 || day < 1 || day > 31 || hour > 23 || minute > 59 || second > 59) {
+    return false;
+  }
+  *date = HPDF_Date{};
+  date->year = year;
+  date->month = month;
+  date->day = day;
+  date->hour = hour;
+  date->minutes = minute;
+  date->seconds = second;
+  date->ind = 'Z';
+  return true;
+}
+
+}  // namespace
+
+void Document::OnError(HPDF_STATUS error, HPDF_STATUS detail, void* user_data) {
+  auto* self = static_cast<Document*>(user_data);
+  if (self->first_error_ == HPDF_OK) {
+    self->first_error_ = error;
+    self->first_detail_ = detail;
+  }
+}
+
+Document::Document(const Template& layout, const ReportOptions& options,
+                   std::string report_number, std::string software_version)
+    : layout_(layout),
+      report_number_(std::move(report_number)),
+      software_version_(std::move(software_version)),
+      document_date_(options.document_date) {
+  const std::filesystem::path regular = options.font_directory / "DejaVuSans.ttf";
+  const std::filesystem::path bold = options.font_directory / "DejaVuSans-Bold.ttf";
+  for (const auto& font : {regular, bold}) {
+    if (!std::filesystem::exists(font)) {
+      throw InputError(SourceLocation{font.string(), 0, 0}, "font file not found",
+                       "the DejaVu TrueType fonts (Debian package fonts-dejavu-core)");
+    }
+  }
+  pdf_ = HPDF_New(&Document::OnError, this);
+  if (pdf_ == nullptr) throw ComputationError("PDF writer could not be created");
+  HPDF_SetCompressionMode(pdf_, HPDF_COMP_ALL);
+  HPDF_UseUTFEncodings(pdf_);
+  HPDF_SetCurrentEncoder(pdf_, "UTF-8");
+  // Embedded (subset of used glyphs) so the sheet prints the same everywhere.
+  const char* regular_name = HPDF_LoadTTFontFromFile(pdf_, regular.c_str(), HPDF_TRUE);
+  const char* bold_name = HPDF_LoadTTFontFromFile(pdf_, bold.c_str(), HPDF_TRUE);
+  if (regular_name == nullptr || bold_name == nullptr) {
+    HPDF_Free(pdf_);
+    pdf_ = nullptr;
+    throw InputError(SourceLocation{regular.string(), 0, 0}, "font file could not be loaded",
+                     "a TrueType font");
+  }
+  regular_ = HPDF_GetFont(pdf_, regular_name, "UTF-8");
+  bold_ = HPDF_GetFont(pdf_, bold_name, "UTF-8");
+
+  // Document information: fixed, from the inputs only (no wall clock).
+  HPDF_Date date;
+  if (ParseDate(document_date_, &date)) {
+    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_CREATION_DATE, date);
+    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_MOD_DATE, date);
+  }
+  HPDF_SetInfoAttr(pdf_, HPDF_INFO_TITLE, (layout_.title + " " + report_number_).c_str());
+  if (!layout_.lab_name.empty()) HPDF_SetInfoAttr(pdf_, HPDF_INFO_AUTHOR, layout_.lab_name.c_str());
+  HPDF_SetInfoAttr(pdf_, HPDF_INFO_CREATOR, ("sorbtrace " + software_version_).c_str());
+
+  if (layout_.page_size == PageSize::kLetter) {
+    page_width_ = kLetterWidth;
+    page_height_ = kLetterHeight;
+  } else {
+    page_width_ = kA4Width;
+    page_height_ = kA4Height;
+  }
+}
+
+Document::~Document() {
+  if (pdf_ != nullptr) HPDF_Free(pdf_);
+}
+
+void Document::NewPage() {
+  HPDF_Page page = HPDF_AddPage(pdf_);
+  HPDF_Page_SetWidth(page, F(page_width_));
+  HPDF_Page_SetHeight(page, F(page_height_));
+  pages_.push_back(page);
+  canvas_ = std::make_unique<Canvas>(page, regular_, bold_);
+  const double margin = layout_.margin_mm * kPointsPerMm;
+  left_ = margin;
+  right_ = page_width_ - margin;
+  top_ = page_height_ - margin - kHeaderHeight;
+  bottom_ = margin + kFooterHeight;
+  cursor_ = top_;
+  DrawHeader();
+}
+
+void Document::DrawHeader() {
+  Canvas& c = *canvas_;
+  const double margin = layout_.margin_mm * kPointsPerMm;
+  const double y_top = page_height_ - margin;
+  // A short, thick accent bar at the left and a thin rule across: the sheet's mark.
+  c.FillRect({left_, y_top - 3.0, 46.0, 3.0}, kAccent);
+  c.Line(left_ + 46.0, y_top - 2.5, right_, y_top - 2.5, 0.4, palette::kSlate);
+  const std::string lab = layout_.lab_name.empty() ? "Laboratory" : layout_.lab_name;
+  c.Text(left_, y_top - 14.0, lab, 9.0, Canvas::Align::kLeft, true);
+  if (!layout_.lab_address.empty()) {
+    c.Text(left_, y_top - 23.5, layout_.lab_address, 7.0, Canvas::Align::kLeft, false,
+           palette::kSlate);
+  }
+  c.Text(right_, y_top - 14.0, layout_.title, 9.0, Canvas::Align::kRight, true, kAccent);
+  std::string line = "Report " + report_number_;
+  if (!document_date_.empty()) line += "  ·  issued " + document_date_.substr(0, 10);
+  c.Text(right_, y_top - 23.5, line, 7.0, Canvas::Align::kRight, false, palette::kSlate);
+}
+
+void Document::EnsureSpace(double height_pt) {
+  if (pages_.empty()) {
+    NewPage();
+    return;
+  }
+  if (cursor_ - height_pt < bottom_ && allow_new_pages_) NewPage();
+}
+
+void Document::Heading(const std::string& text) {
+  EnsureSpace(60.0);
+  if (cursor_ < top_ - 1.0) Skip(8.0);
+  Skip(12.0);
+  canvas_->FillRect({left_, cursor_ - 2.0, 3.0, 12.0}, kAccent);
+  canvas_->Text(left_ + 8.0, cursor_, text, 11.5, Canvas::Align::kLeft, true);
+  Skip(10.0);
+}
+
+void Document::Subheading(const std::string& text) {
+  EnsureSpace(30.0);
+  Skip(12.0);
+  canvas_->Text(left_, cursor_, text, 9.0, Canvas::Align::kLeft, true, kAccent);
+  Skip(4.0);
+}
+
+double Document::Paragraph(const std::string& text, double size_pt, double indent_pt,
+                           Color color, bool bold) {
+  const double leading = size_pt * 1.32;
+  const auto lines = canvas_->Wrap(text, size_pt, width() - indent_pt, bold);
+  double used = 0.0;
+  for (const std::string& line : lines) {
+    EnsureSpace(leading);
+    Skip(leading);
+    canvas_->Text(left_ + indent_pt, cursor_, line, size_pt, Canvas::Align::kLeft, bold, color);
+    used += leading;
+  }
+  return used;
+}
+
+void Document::Bullets(const std::vector<std::string>& items, double size_pt) {
+  const double leading = size_pt * 1.32;
+  for (const std::string& item : items) {
+    const auto lines = canvas_->Wrap(item, size_pt, width() - 12.0);
+    EnsureSpace(leading * std::min<double>(2.0, static_cast<double>(lines.size())));
+    for (size_t i = 0; i < lines.size(); ++i) {
+      EnsureSpace(leading);
+      Skip(leading);
+      if (i == 0) canvas_->Text(left_ + 2.0, cursor_, "•", size_pt, Canvas::Align::kLeft, false, kAccent);
+      canvas_->Text(left_ + 12.0, cursor_, lines[i], size_pt);
+    }
+    Skip(1.5);
+  }
+}
+
+void Document::KeyValues(const std::vector<std::pair<std::string, std::string>>& rows,
+                         double label_width_pt, double size_pt) {
+  const double leading = size_pt * 1.35;
+  for (const auto& [label, value] : rows) {
+    const auto label_lines = canvas_->Wrap(label, size_pt, label_width_pt - 6.0);
+    const auto value_lines = canvas_->Wrap(value, size_pt, width() - label_width_pt);
+    const size_t n = std::max(label_lines.size(), value_lines.size());
+    EnsureSpace(leading * static_cast<double>(n));
+    for (size_t i = 0; i < n; ++i) {
+      Skip(leading);
+      if (i < label_lines.size()) {
+        canvas_->Text(left_, cursor_, label_lines[i], size_pt, Canvas::Align::kLeft, false,
+                      palette::kSlate);
+      }
+      if (i < value_lines.size()) canvas_->Text(left_ + label_width_pt, cursor_, value_lines[i], size_pt);
+    }
+    Skip(1.0);
+  }
+}
+
+double Document::TableRowHeight(const std::vector<TableColumn>& columns,
+                                const std::vector<std::string>& cells, double size_pt,
+                                bool bold) const {
+  size_t lines = 1;
+  for (size_t i = 0; i < columns.size() && i < cells.size(); ++i) {
+    lines = std::max(lines, canvas_->Wrap(cells[i], size_pt, columns[i].width_pt - 6.0, bold).size());
+  }
+  return static_cast<double>(lines) * size_pt * 1.3 + 4.0;
+}
+
+void Document::TableRow(const std::vector<TableColumn>& columns,
+                        const std::vector<std::string>& cells, double size_pt, bool bold,
+                        bool shaded) {
+  const double height = TableRowHeight(columns, cells, size_pt, bold);
+  double total_width = 0.0;
+  for (const TableColumn& c : columns) total_width += c.width_pt;
+  if (shaded) canvas_->FillRect({left_, cursor_ - height, total_width, height}, kShade);
+  double x = left_;
+  for (size_t i = 0; i < columns.size(); ++i) {
+    const std::string cell = i < cells.size() ? cells[i] : "";
+    const auto lines = canvas_->Wrap(cell, size_pt, columns[i].width_pt - 6.0, bold);
+    double y = cursor_ - 2.0 - size_pt;
+    for (const std::string& line : lines) {
+      if (columns[i].align_right) {
+        canvas_->Text(x + columns[i].width_pt - 3.0, y, line, size_pt, Canvas::Align::kRight, bold);
+      } else {
+        canvas_->Text(x + 3.0, y, line, size_pt, Canvas::Align::kLeft, bold);
+      }
+      y -= size_pt * 1.3;
+    }
+    x += columns[i].width_pt;
+  }
+  cursor_ -= height;
+  if (!shaded || bold) {
+    canvas_->Line(left_, cursor_, left_ + total_width, cursor_, bold ? 0.7 : 0.25,
+                  bold ? palette::kInk : palette::kGrid);
+  }
+}
+
+void Document::Table(const std::vector<TableColumn>& columns,
+                     const std::vector<std::vector<std::string>>& rows, double size_pt) {
+  std::vector<std::string> header;
+  for (const TableColumn& c : columns) header.push_back(c.header);
+  const double header_height = TableRowHeight(columns, header, size_pt, true);
+  const double first_row = rows.empty() ? 0.0 : TableRowHeight(columns, rows[0], size_pt, false);
+  EnsureSpace(header_height + first_row + 4.0);
+  Skip(4.0);
+  TableRow(columns, header, size_pt, true, true);
+  for (size_t r = 0; r < rows.size(); ++r) {
+    const double height = TableRowHeight(columns, rows[r], size_pt, false);
+    if (cursor_ - height < bottom_ && allow_new_pages_) {
+      NewPage();
+      canvas_->Text(left_, cursor_ - 8.0, "(continued)", 7.0, Canvas::Align::kLeft, false,
+                    palette::kSlate);
+      Skip(12.0);
+      TableRow(columns, header, size_pt, true, true);
+    }
+    TableRow(columns, rows[r], size_pt, false, r % 2 == 1);
+  }
+}
+
+std::string Document::Finish() {
+  const int n = num_pages();
+  const double margin = layout_.margin_mm * kPointsPerMm;
+  for (int i = 0; i < n; ++i) {
+    Canvas c(pages_[static_cast<size_t>(i)], regular_, bold_);
+    const double y = margin + 8.0;
+    c.Line(left_, y + 9.0, right_, y + 9.0, 0.4, palette::kSlate);
+    c.Text(left_, y, "Results apply to the specimens tested.", 7.0, Canvas::Align::kLeft, false,
+           palette::kSlate);
+    c.Text(right_, y, fmt::format("Report {}  ·  page {} of {}", report_number_, i + 1, n), 7.0,
+           Canvas::Align::kRight, false, palette::kSlate);
+  }
+  if (HPDF_SaveToStream(pdf_) != HPDF_OK || first_error_ != HPDF_OK) {
+    throw ComputationError(fmt::format("PDF writer failed (libharu error 0x{:04X}, detail {})",
+                                       first_error_, first_detail_));
+  }
+  std::string bytes(HPDF_GetStreamSize(pdf_), '\0');
+  HPDF_ResetStream(pdf_);
+  size_t read = 0;
+  while (read < bytes.size()) {
+    HPDF_UINT32 chunk = static_cast<HPDF_UINT32>(bytes.size() - read);
+    const HPDF_STATUS status =
+        HPDF_ReadFromStream(pdf_, reinterpret_cast<HPDF_BYTE*>(bytes.data() + read), &chunk);
+    read += chunk;
+    if (status == HPDF_STREAM_EOF || chunk == 0) break;
+    if (status != HPDF_OK) throw ComputationError("PDF writer failed reading its stream");
+  }
+  bytes.resize(read);
+  return bytes;
+}
+
+}  // namespace sorbtrace::report

@@ -1,0 +1,330 @@
+// Equilibrate(): desiccator series and vapour logs built in memory (no files).
+#include "pipeline/equilibrate/equilibrate.h"
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <cstdint>
+#include <numbers>
+#include <random>
+#include <string>
+
+#include "pipeline/physics/physics.h"
+
+namespace sorbtrace::equilibrate {
+namespace {
+
+constexpr double kHour_s = 3600.0;
+const double k23C_K = physics::CelsiusToKelvin(23.0);
+
+bool HasFlagContaining(const EquilibriumPoint& point, const std::string& text) {
+  for (const auto& flag : point.flags) {
+    if (flag.find(text) != std::string::npos) return true;
+  }
+  return false;
+}
+
+ingest::DesiccatorStep Step(std::string specimen, int index, std::string atmosphere,
+                            ingest::Branch branch,
+                            const std::vector<std::pair<double, double>>& hours_grams) {
+  ingest::DesiccatorStep step;
+  step.specimen_id = std::move(specimen);
+  step.step_index = index;
+  step.step_number = index + 1;
+  step.atmosphere = atmosphere;
+  step.branch = branch;
+  step.temperature_K = k23C_K;
+  if (atmosphere == "desiccant") {
+    step.set_rh_fraction = 0.0;
+  } else if (atmosphere != "oven") {
+    step.salt = atmosphere;
+  }
+  step.first_line = 2 + 10 * index;
+  for (const auto& [h, g] : hours_grams) {
+    ingest::Weighing w;
+    w.time_s = h * kHour_s;
+    w.mass_g = g;
+    w.temperature_K = k23C_K;
+    step.weighings.push_back(w);
+  }
+  return step;
+}
+
+ingest::IngestResult DesiccatorJob(ingest::DryMassMethod method) {
+  ingest::IngestResult in;
+  in.job.job_file = "job.toml";
+  in.job.dry_mass_method = method;
+  in.job.specimens = {{"A", std::nullopt, std::nullopt, {}}, {"B", std::nullopt, std::nullopt, {}}};
+  ingest::DataSetSpec dataset;
+  dataset.id = "desiccator-23C";
+  dataset.temperature_K = k23C_K;
+  in.job.datasets.push_back(dataset);
+  ingest::DesiccatorSeries series;
+  series.dataset_id = "desiccator-23C";
+  series.file = "weighings.csv";
+  using ingest::Branch;
+  series.steps.push_back(Step("A", 0, "desiccant", Branch::kDrying,
+                              {{0, 10.0100}, {24, 10.0010}, {48, 10.0001}, {72, 10.0000}}));
+  series.steps.push_back(Step("A", 1, "NaCl", Branch::kAdsorption,
+                              {{72, 10.0000}, {96, 10.0500}, {120, 10.0540}, {144, 10.0550}}));
+  series.steps.push_back(Step("B", 0, "desiccant", Branch::kDrying,
+                              {{0, 12.0100}, {24, 12.0004}, {48, 12.0001}, {72, 12.0000}}));
+  series.steps.push_back(Step("B", 1, "NaCl", Branch::kAdsorption,
+                              {{72, 12.000}, {96, 12.036}, {120, 12.060}, {144, 12.078}}));
+  in.desiccator_series.push_back(series);
+  return in;
+}
+
+TEST(EquilibrateDesiccatorTest, ConstantMassAndSaltHumidity) {
+  const EquilibriumSet set =
+      Equilibrate(DesiccatorJob(ingest::DryMassMethod::kDesiccantStep), EquilibrateOptions{});
+  ASSERT_EQ(set.points.size(), 4u);
+  const EquilibriumPoint& a = set.points[1];
+  EXPECT_EQ(a.specimen_id, "A");
+  EXPECT_EQ(a.step_label, "NaCl");
+  EXPECT_TRUE(a.equilibrated);
+  EXPECT_FALSE(a.extrapolated);
+  EXPECT_DOUBLE_EQ(a.mass_g, 10.0550);  // the last weighing of the step
+  // First met at the 4th weighing (144 h), step started at 72 h: 72 h to equilibrium.
+  EXPECT_DOUBLE_EQ(a.time_to_equilibrium_s, 72 * kHour_s);
+  // Residual drift: last change 0.0010 g as the half-width of a rectangle: 0.0010/sqrt(3).
+  EXPECT_NEAR(a.u_mass_drift_g, 0.0010 / std::sqrt(3.0), 1e-12);
+  // NaCl at 23 degC: Greenspan (1977) polynomial, 75.37 %RH (truncated to 0.01).
+  EXPECT_NEAR(a.rh_fraction, 0.7537, 0.0001);
+  EXPECT_EQ(a.rh_source_kind, RhSource::kSaltTable);
+  EXPECT_GT(a.u_rh_fraction, 0.0);
+  EXPECT_EQ(a.where.file, "weighings.csv");
+  EXPECT_EQ(a.where.line, 12);
+
+  const EquilibriumPoint& b = set.points[3];
+  EXPECT_FALSE(b.equilibrated);
+  // Range of the last chain: (12.078 - 12.036) / 12.078 = 0.348 % over 48 h.
+  EXPECT_TRUE(HasFlagContaining(b, "not equilibrated: last change 0.348 % of mass over 48 h"))
+      << b.flags.front();
+  EXPECT_EQ(set.summary.num_steps, 4);
+  EXPECT_EQ(set.summary.num_equilibrated, 3);
+  EXPECT_EQ(set.summary.num_not_equilibrated, 1);
+  EXPECT_EQ(set.summary.num_extrapolated, 0);
+  EXPECT_EQ(set.summary.warnings.size(), 1u);
+}
+
+TEST(EquilibrateDesiccatorTest, DryMassFromDesiccantStep) {
+  const EquilibriumSet set =
+      Equilibrate(DesiccatorJob(ingest::DryMassMethod::kDesiccantStep), EquilibrateOptions{});
+  ASSERT_EQ(set.dry_masses.size(), 2u);
+  EXPECT_EQ(set.dry_masses[0].specimen_id, "A");
+  EXPECT_DOUBLE_EQ(set.dry_masses[0].mass_g, 10.0000);
+  EXPECT_TRUE(set.dry_masses[0].equilibrated);
+  EXPECT_FALSE(set.dry_masses[0].stated);
+  EXPECT_EQ(set.dry_masses[0].step_index, 0);
+  // u from the residual drift of the drying step: 0.0001 g / sqrt(3).
+  EXPECT_NEAR(set.dry_masses[0].u_mass_g, 0.0001 / std::sqrt(3.0), 1e-12);
+  // The drying point itself: RH 0, dry source.
+  EXPECT_EQ(set.points[0].rh_source_kind, RhSource::kDry);
+  EXPECT_DOUBLE_EQ(set.points[0].rh_fraction, 0.0);
+}
+
+TEST(EquilibrateDesiccatorTest, StatedOvenDryMass) {
+  ingest::IngestResult in = DesiccatorJob(ingest::DryMassMethod::kOvenDrying);
+  in.job.specimens[0].dry_mass_g = 9.9876;
+  in.job.specimens[1].dry_mass_g = 11.9876;
+  const EquilibriumSet set = Equilibrate(in, EquilibrateOptions{});
+  ASSERT_EQ(set.dry_masses.size(), 2u);
+  EXPECT_TRUE(set.dry_masses[0].stated);
+  EXPECT_DOUBLE_EQ(set.dry_masses[0].mass_g, 9.9876);
+  EXPECT_DOUBLE_EQ(set.dry_masses[0].u_mass_g, 0.0);
+  EXPECT_NE(set.dry_masses[0].method.find("ISO 12570"), std::string::npos);
+}
+
+TEST(EquilibrateDesiccatorTest, FinalDryingStepAndDryMassChangeWarning) {
+  ingest::IngestResult in = DesiccatorJob(ingest::DryMassMethod::kFinalDryingStep);
+  // A final desiccant step for A, 0.5 % heavier than the first one: used, and warned about.
+  in.desiccator_series[0].steps.insert(
+      in.desiccator_series[0].steps.begin() + 2,
+      Step("A", 2, "desiccant", ingest::Branch::kDrying,
+           {{144, 10.06}, {168, 10.0501}, {192, 10.0500}, {216, 10.0500}}));
+  const EquilibriumSet set = Equilibrate(in, EquilibrateOptions{});
+  EXPECT_DOUBLE_EQ(set.dry_masses[0].mass_g, 10.0500);
+  EXPECT_EQ(set.dry_masses[0].step_index, 2);
+  bool warned = false;
+  for (const auto& w : set.summary.warnings) {
+    warned = warned ||
+             w.message.find("differs from the dry reference mass by -0.498 %") != std::string::npos;
+  }
+  EXPECT_TRUE(warned);
+}
+
+TEST(EquilibrateDesiccatorTest, MissingDryMassIsAnInputError) {
+  ingest::IngestResult in = DesiccatorJob(ingest::DryMassMethod::kOvenDrying);
+  // No stated dry mass, no oven step for A or B: the drying steps are desiccant steps, which
+  // are still accepted for "oven" (first drying step); remove them to provoke the error.
+  auto& steps = in.desiccator_series[0].steps;
+  steps.erase(steps.begin());
+  try {
+    Equilibrate(in, EquilibrateOptions{});
+    FAIL() << "expected InputError";
+  } catch (const InputError& error) {
+    EXPECT_EQ(error.diagnostic().message, "dry mass missing for specimen 'A'");
+    EXPECT_EQ(error.diagnostic().where.file, "job.toml");
+  }
+}
+
+TEST(EquilibrateDesiccatorTest, UnknownSaltIsAnInputError) {
+  ingest::IngestResult in = DesiccatorJob(ingest::DryMassMethod::kDesiccantStep);
+  in.desiccator_series[0].steps[1].salt = "NaI";
+  try {
+    Equilibrate(in, EquilibrateOptions{});
+    FAIL() << "expected InputError";
+  } catch (const InputError& error) {
+    EXPECT_EQ(error.diagnostic().where.line, 12);
+    EXPECT_NE(error.diagnostic().message.find("no humidity for salt 'NaI'"), std::string::npos);
+  }
+}
+
+// ---- Vapour logs ------------------------------------------------------------------------
+
+class Normal {
+ public:
+  explicit Normal(std::uint64_t seed) : engine_(seed) {}
+  double operator()() {
+    constexpr double kTwoPow53 = 9007199254740992.0;
+    const double u1 = (static_cast<double>(engine_() >> 11) + 1.0) / (kTwoPow53 + 1.0);
+    const double u2 = static_cast<double>(engine_() >> 11) / kTwoPow53;
+    return std::sqrt(-2.0 * std::log(u1)) * std::cos(2.0 * std::numbers::pi * u2);
+  }
+
+ private:
+  std::mt19937_64 engine_;
+};
+
+// Step with first-order kinetics from m_start towards m_eq with time constant tau.
+ingest::VaporLogStep KineticStep(int index, double set_rh, ingest::Branch branch, double start_s,
+                                 double duration_s, double m_start, double m_eq, double tau_s,
+                                 Normal& noise) {
+  ingest::VaporLogStep step;
+  step.step_index = index;
+  step.set_rh_fraction = set_rh;
+  step.branch = branch;
+  step.start_time_s = start_s;
+  step.end_time_s = start_s + duration_s;
+  step.first_line = 2 + index * 1000;
+  step.temperature_mean_K = k23C_K;
+  step.rh_measured_mean_fraction = set_rh;
+  for (double t = start_s + 5.0; t < start_s + duration_s; t += 10.0) {
+    ingest::LogBlock block;
+    block.time_s = t;
+    block.mass_g = m_eq + (m_start - m_eq) * std::exp(-(t - start_s) / tau_s) + 1e-6 * noise();
+    block.rh_measured_fraction = set_rh + 0.002 * noise();
+    block.temperature_K = k23C_K;
+    block.num_rows = 10;
+    step.blocks.push_back(block);
+  }
+  return step;
+}
+
+ingest::IngestResult LogJob() {
+  ingest::IngestResult in;
+  in.job.job_file = "job.toml";
+  in.job.dry_mass_method = ingest::DryMassMethod::kDesiccantStep;
+  in.job.rh_sensor_standard_uncertainty_fraction = 0.008;
+  in.job.specimens = {{"W", std::nullopt, std::nullopt, {}}};
+  ingest::DataSetSpec dataset;
+  dataset.id = "dvs";
+  dataset.method = ingest::Method::kVaporLog;
+  dataset.specimen_id = "W";
+  dataset.temperature_K = k23C_K;
+  in.job.datasets.push_back(dataset);
+  ingest::VaporLog log;
+  log.dataset_id = "dvs";
+  log.file = "log.csv";
+  log.specimen_id = "W";
+  Normal noise(2026);
+  using ingest::Branch;
+  // 0 %: flat at 1.0000 g. 50 %: tau 20 min over 4 h -> equilibrium 1.0400 g reached.
+  // 80 %: tau 2 h, stopped after 3 h -> still 0.04 exp(-1.5) = 8.9 mg below 1.0800 g.
+  log.steps.push_back(
+      KineticStep(0, 0.0, Branch::kDrying, 0, 2 * kHour_s, 1.0001, 1.0000, 600, noise));
+  log.steps.push_back(KineticStep(1, 0.5, Branch::kAdsorption, 2 * kHour_s, 4 * kHour_s, 1.0000,
+                                  1.0400, 1200, noise));
+  log.steps.push_back(KineticStep(2, 0.8, Branch::kAdsorption, 6 * kHour_s, 3 * kHour_s, 1.0400,
+                                  1.0800, 7200, noise));
+  in.vapor_logs.push_back(log);
+  return in;
+}
+
+TEST(EquilibrateLogTest, RateCriterionAndExtrapolation) {
+  const EquilibriumSet set = Equilibrate(LogJob(), EquilibrateOptions{});
+  ASSERT_EQ(set.points.size(), 3u);
+  const EquilibriumPoint& drying = set.points[0];
+  EXPECT_TRUE(drying.equilibrated);
+  const EquilibriumPoint& p50 = set.points[1];
+  EXPECT_TRUE(p50.equilibrated);
+  EXPECT_FALSE(p50.extrapolated);
+  EXPECT_EQ(p50.step_label, "set 50 %");
+  // Mean over the last 10 min of 1.04 - 0.04 exp(-t/1200): the remainder is < 1e-7 g.
+  EXPECT_NEAR(p50.mass_g, 1.0400, 2e-6);
+  // Criterion first met where 0.04/1200 exp(-t/1200) < 2e-5 * 1.0000 / 60 (g/s), i.e.
+  // t > 1200 ln(100) = 5526 s (plus the ~300 s lag of the centred 600 s window).
+  EXPECT_NEAR(p50.time_to_equilibrium_s, 1200.0 * std::log(100.0) + 300.0, 400.0);
+  EXPECT_NEAR(p50.rh_fraction, 0.5, 0.001);
+  EXPECT_EQ(p50.rh_source_kind, RhSource::kSensor);
+  EXPECT_GE(p50.u_rh_fraction, 0.008);
+  // d rh / dT at constant vapour pressure: -rh dln(p_s)/dT, about -0.5 x 0.0615 /K at 23 degC
+  // (IAPWS saturation pressure, derived).
+  EXPECT_NEAR(p50.drh_dT_per_K, -0.5 * 0.0615, 0.0005);
+
+  const EquilibriumPoint& p80 = set.points[2];
+  EXPECT_TRUE(p80.equilibrated);
+  EXPECT_TRUE(p80.extrapolated);
+  EXPECT_TRUE(HasFlagContaining(p80, "extrapolated:"));
+  EXPECT_GT(p80.u_mass_extrapolation_g, 0.0);
+  EXPECT_NEAR(p80.mass_g, 1.0800, 3.0 * p80.u_mass_extrapolation_g);
+  // Projected equilibrium: 0.04/7200 exp(-t/7200) = 2e-5 * 1.0 / 60 -> t = 7200 ln(16.67)
+  // = 20257 s from the step start.
+  EXPECT_NEAR(p80.time_to_equilibrium_s, 7200.0 * std::log(0.04 / 7200.0 * 60.0 / 2e-5), 600.0);
+  EXPECT_EQ(set.summary.num_extrapolated, 1);
+  EXPECT_EQ(set.summary.num_equilibrated, 2);
+
+  ASSERT_EQ(set.dry_masses.size(), 1u);
+  EXPECT_NEAR(set.dry_masses[0].mass_g, 1.0000, 2e-6);
+  ASSERT_EQ(set.traces.size(), 1u);
+  // 9 h of 10 s blocks = 3240 points, decimated to at most 2000.
+  EXPECT_LE(set.traces[0].points.size(), static_cast<std::size_t>(kMaxTracePoints));
+  EXPECT_GT(set.traces[0].points.size(), 1000u);
+  EXPECT_EQ(set.traces[0].equilibrium_times_s.size(), 2u);
+}
+
+TEST(EquilibrateLogTest, WithoutExtrapolationTheStepIsNotEquilibrated) {
+  EquilibrateOptions options;
+  options.extrapolate_unfinished_steps = false;
+  const EquilibriumSet set = Equilibrate(LogJob(), options);
+  const EquilibriumPoint& p80 = set.points[2];
+  EXPECT_FALSE(p80.equilibrated);
+  EXPECT_FALSE(p80.extrapolated);
+  // Final rate 0.04/7200 exp(-1.5) g/s = 7.44e-5 g/min = 0.0074 %/min of 1 g.
+  EXPECT_TRUE(HasFlagContaining(p80, "not equilibrated: final rate 0.007"));
+  EXPECT_TRUE(HasFlagContaining(p80, "not extrapolated: extrapolation disabled"));
+  EXPECT_EQ(set.summary.num_not_equilibrated, 1);
+}
+
+TEST(EquilibrateLogTest, TooSlowATailIsNotExtrapolated) {
+  // With max_tau_to_tail_ratio = 0.5 the tau of 2 h over a 1.8 h tail is rejected.
+  EquilibrateOptions options;
+  options.max_tau_to_tail_ratio = 0.5;
+  const EquilibriumSet set = Equilibrate(LogJob(), options);
+  EXPECT_FALSE(set.points[2].equilibrated);
+  EXPECT_TRUE(HasFlagContaining(set.points[2], "exceeds 0.5 x the fitted tail"));
+}
+
+TEST(EquilibrateOptionsTest, InvalidOptionsAreRejected) {
+  EquilibrateOptions options;
+  std::string error;
+  EXPECT_TRUE(options.IsValid(&error));
+  options.exponential_terms = 3;
+  EXPECT_FALSE(options.IsValid(&error));
+  EXPECT_EQ(error, "exponential_terms 3 must be 1 or 2");
+  EXPECT_THROW(Equilibrate(LogJob(), options), InputError);
+}
+
+}  // namespace
+}  // namespace sorbtrace::equilibrate

@@ -1,0 +1,267 @@
+// Reduce(): moisture content, GUM budgets (JCGM 100:2008) and the combination of specimens,
+// on hand-made equilibria with hand-computed expected values.
+#include "pipeline/reduce/reduce.h"
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <string>
+
+#include "pipeline/physics/physics.h"
+
+namespace sorbtrace::reduce {
+namespace {
+
+const double k23C_K = 296.15;
+
+equilibrate::EquilibriumPoint Point(std::string specimen, int step, double mass_g) {
+  equilibrate::EquilibriumPoint p;
+  p.dataset_id = "desiccator-23C";
+  p.specimen_id = std::move(specimen);
+  p.step_index = step;
+  p.step_label = "NaCl";
+  p.method = ingest::Method::kDesiccator;
+  p.branch = ingest::Branch::kAdsorption;
+  p.temperature_K = k23C_K;
+  p.rh_fraction = 0.7537;
+  p.u_rh_fraction = 0.0009;
+  p.drh_dT_per_K = -0.0002;
+  p.rh_source_kind = equilibrate::RhSource::kSaltTable;
+  p.mass_g = mass_g;
+  p.time_to_equilibrium_s = 72 * 3600.0;
+  p.equilibrated = true;
+  p.where = SourceLocation{"weighings.csv", 12, 0};
+  return p;
+}
+
+equilibrate::DryMass Dry(std::string specimen, double mass_g) {
+  equilibrate::DryMass d;
+  d.specimen_id = std::move(specimen);
+  d.mass_g = mass_g;
+  d.method = "stated";
+  d.stated = true;
+  return d;
+}
+
+ingest::IngestResult Job() {
+  ingest::IngestResult in;
+  in.job.job_file = "job.toml";
+  in.job.balance_resolution_g = 1e-4;
+  in.job.balance_standard_uncertainty_g = 1e-4;
+  in.job.temperature_standard_uncertainty_K = 0.2;
+  in.job.specimens = {{"A", 10.0, 500.0, {}}, {"B", 10.0, 500.0, {}}, {"C", 10.0, 500.0, {}}};
+  ingest::DataSetSpec dataset;
+  dataset.id = "desiccator-23C";
+  in.job.datasets.push_back(dataset);
+  return in;
+}
+
+TEST(ReduceTest, WorkedBudgetOfOneSpecimen) {
+  // Worked budget (JCGM 100:2008, Eq. 10):
+  //   m = 10.2345 g, m_d = 10.0000 g -> u = 0.2345 / 10 = 0.02345 kg/kg
+  //   u_bal = sqrt((1e-4)^2 + (1e-4/sqrt(12))^2) = sqrt(1e-8 + 8.333e-10) = 1.040833e-4 g
+  //   c_m = 1/m_d = 0.1 /g          -> |c_m| u_bal = 1.040833e-5
+  //   c_md = -m/m_d^2 = -0.102345 /g -> |c_md| u_bal = 1.065241e-5
+  //   u_c = sqrt(1.040833e-5^2 + 1.065241e-5^2) = 1.489319e-5 kg/kg; U (k = 2) = 2.978638e-5
+  //   RH: u_src = 0.0009, c_T u(T) = 0.0002 /K x 0.2 K = 4e-5 -> u(rh) = 9.008885e-4
+  equilibrate::EquilibriumSet set;
+  set.points.push_back(Point("A", 1, 10.2345));
+  set.dry_masses.push_back(Dry("A", 10.0000));
+  const ReducedIsotherms r = Reduce(Job(), set, ReduceOptions{});
+  ASSERT_EQ(r.specimen_points.size(), 1u);
+  const SpecimenPoint& p = r.specimen_points[0];
+  EXPECT_NEAR(p.moisture_kg_per_kg, 0.02345, 1e-12);
+  ASSERT_EQ(p.moisture_budget.size(), 2u);
+  EXPECT_EQ(p.moisture_budget[0].quantity, "balance (wet mass)");
+  EXPECT_NEAR(p.moisture_budget[0].standard_uncertainty, 1.040833e-4, 1e-10);
+  EXPECT_NEAR(p.moisture_budget[0].sensitivity, 0.1, 1e-12);
+  EXPECT_NEAR(p.moisture_budget[0].contribution, 1.040833e-5, 1e-11);
+  EXPECT_EQ(p.moisture_budget[1].quantity, "balance (dry mass)");
+  EXPECT_NEAR(p.moisture_budget[1].sensitivity, -0.102345, 1e-12);
+  EXPECT_NEAR(p.moisture_budget[1].contribution, 1.065241e-5, 1e-11);
+  EXPECT_NEAR(p.u_moisture_kg_per_kg, 1.489319e-5, 1e-11);
+  EXPECT_NEAR(p.expanded_u_moisture_kg_per_kg, 2.978638e-5, 2e-11);
+  ASSERT_EQ(p.rh_budget.size(), 2u);
+  EXPECT_EQ(p.rh_budget[0].quantity, "RH (salt table)");
+  EXPECT_NEAR(p.rh_budget[1].contribution, 4e-5, 1e-15);
+  EXPECT_NEAR(p.u_rh_fraction, 9.008885e-4, 1e-10);
+  EXPECT_FALSE(p.excluded);
+}
+
+TEST(ReduceTest, DriftExtrapolationAndDryMassLines) {
+  // Extra lines: dry-mass method 2e-4 g x c_md, drift 3e-4 g x c_m, extrapolation 4e-4 g x c_m
+  // with m = 11 g, m_d = 10 g: c_m = 0.1, c_md = -0.11.
+  //   u_c^2 = (0.1*1.040833e-4)^2 + (0.11*1.040833e-4)^2 + (0.11*2e-4)^2 + (0.1*3e-4)^2
+  //         + (0.1*4e-4)^2 = 1.0833e-10 + 1.3108e-10 + 4.84e-10 + 9e-10 + 1.6e-9
+  //         = 3.2234e-9 -> u_c = 5.67750e-5
+  equilibrate::EquilibriumSet set;
+  auto eq = Point("A", 1, 11.0);
+  eq.u_mass_drift_g = 3e-4;
+  eq.extrapolated = true;
+  eq.u_mass_extrapolation_g = 4e-4;
+  set.points.push_back(eq);
+  auto dry = Dry("A", 10.0);
+  dry.u_mass_g = 2e-4;
+  set.dry_masses.push_back(dry);
+  const ReducedIsotherms r = Reduce(Job(), set, ReduceOptions{});
+  const SpecimenPoint& p = r.specimen_points[0];
+  ASSERT_EQ(p.moisture_budget.size(), 5u);
+  EXPECT_EQ(p.moisture_budget[2].quantity, "dry-mass method");
+  EXPECT_EQ(p.moisture_budget[3].quantity, "residual drift");
+  EXPECT_EQ(p.moisture_budget[4].quantity, "extrapolation");
+  EXPECT_NEAR(p.u_moisture_kg_per_kg, 5.67750e-5, 1e-9);
+  EXPECT_TRUE(p.extrapolated);
+  EXPECT_TRUE(r.points[0].extrapolated);
+}
+
+TEST(ReduceTest, ThreeSpecimensCombined) {
+  // u_i = 0.0200, 0.0210, 0.0220 (m = 10.200, 10.210, 10.220 g on 10 g dry).
+  // mean 0.0210; s = sqrt((1e-6 + 0 + 1e-6) / 2) = 0.0010.
+  // Each u(u_i) ~ 1.48e-5 (balance, as above); u_c = sqrt(sum u_i^2 / 9 + s^2 / 3)
+  //   = sqrt(3 x 2.2e-10 / 9 + 3.3333e-7) = 5.7741e-4 (the spread dominates).
+  // Volumetric with rho_dry = 500 kg/m3 and rho_w(23 degC) = 997.539 kg/m3 (Kell 1975):
+  //   psi = 0.0210 x 500 / 997.539 = 0.0105259 m3/m3.
+  equilibrate::EquilibriumSet set;
+  set.points.push_back(Point("A", 1, 10.200));
+  set.points.push_back(Point("B", 1, 10.210));
+  set.points.push_back(Point("C", 1, 10.220));
+  for (const char* id : {"A", "B", "C"}) set.dry_masses.push_back(Dry(id, 10.0));
+  const ReducedIsotherms r = Reduce(Job(), set, ReduceOptions{});
+  ASSERT_EQ(r.points.size(), 1u);
+  const IsothermPoint& p = r.points[0];
+  EXPECT_EQ(p.num_specimens, 3);
+  EXPECT_NEAR(p.moisture_kg_per_kg, 0.0210, 1e-12);
+  EXPECT_NEAR(p.between_specimen_sd_kg_per_kg, 0.0010, 1e-12);
+  double sum_u2 = 0.0;
+  for (const auto& sp : r.specimen_points) sum_u2 += std::pow(sp.u_moisture_kg_per_kg, 2);
+  EXPECT_NEAR(p.u_moisture_kg_per_kg, std::sqrt(sum_u2 / 9.0 + 1e-6 / 3.0), 1e-15);
+  EXPECT_NEAR(p.u_moisture_kg_per_kg, 5.7741e-4, 2e-8);
+  EXPECT_NEAR(p.expanded_u_moisture_kg_per_kg, 2.0 * p.u_moisture_kg_per_kg, 1e-15);
+  ASSERT_TRUE(p.has_volumetric);
+  EXPECT_NEAR(p.volumetric_m3_per_m3, 0.0105259, 1e-7);
+  // RH: same atmosphere, u(rh) not averaged down.
+  EXPECT_NEAR(p.u_rh_fraction, 9.008885e-4, 1e-10);
+  EXPECT_EQ(r.summary.num_points, 1);
+}
+
+TEST(ReduceTest, NotEquilibratedExcludedOrFlagged) {
+  equilibrate::EquilibriumSet set;
+  set.points.push_back(Point("A", 1, 10.20));
+  auto late = Point("B", 1, 10.25);
+  late.equilibrated = false;
+  late.flags.push_back("not equilibrated: last change 0.348 % of mass over 48 h (limit 0.1 %)");
+  set.points.push_back(late);
+  set.dry_masses = {Dry("A", 10.0), Dry("B", 10.0)};
+  const ReducedIsotherms excluded = Reduce(Job(), set, ReduceOptions{});
+  EXPECT_TRUE(excluded.specimen_points[1].excluded);
+  EXPECT_EQ(excluded.summary.num_excluded, 1);
+  ASSERT_EQ(excluded.points.size(), 1u);
+  EXPECT_EQ(excluded.points[0].num_specimens, 1);
+  EXPECT_NEAR(excluded.points[0].moisture_kg_per_kg, 0.020, 1e-12);
+  EXPECT_TRUE(excluded.points[0].equilibrated);
+
+  ReduceOptions include;
+  include.include_not_equilibrated = true;
+  const ReducedIsotherms kept = Reduce(Job(), set, include);
+  EXPECT_FALSE(kept.specimen_points[1].excluded);
+  EXPECT_EQ(kept.points[0].num_specimens, 2);
+  EXPECT_FALSE(kept.points[0].equilibrated);
+  EXPECT_NEAR(kept.points[0].moisture_kg_per_kg, 0.0225, 1e-12);
+  bool flagged = false;
+  for (const auto& f : kept.points[0].flags)
+    flagged = flagged || f == "B: included although not equilibrated";
+  EXPECT_TRUE(flagged);
+}
+
+TEST(ReduceTest, NotEquilibratedDryMassExcludesThePoint) {
+  equilibrate::EquilibriumSet set;
+  set.points.push_back(Point("A", 1, 10.2));
+  auto dry = Dry("A", 10.0);
+  dry.equilibrated = false;
+  set.dry_masses.push_back(dry);
+  const ReducedIsotherms r = Reduce(Job(), set, ReduceOptions{});
+  EXPECT_TRUE(r.specimen_points[0].excluded);
+  EXPECT_TRUE(r.points.empty());
+}
+
+TEST(ReduceTest, NegativeMoistureContent) {
+  // 0.1 mg below the dry mass: u = -1e-5, within k u_c = 2 x 1.47e-5: flagged.
+  equilibrate::EquilibriumSet set;
+  set.points.push_back(Point("A", 1, 9.9999));
+  set.dry_masses.push_back(Dry("A", 10.0));
+  const ReducedIsotherms r = Reduce(Job(), set, ReduceOptions{});
+  EXPECT_EQ(r.specimen_points[0].flags.back(), "negative moisture content within its uncertainty");
+  // 5 mg below: -5e-4 kg/kg, far outside: an input error at the step.
+  set.points[0].mass_g = 9.995;
+  try {
+    Reduce(Job(), set, ReduceOptions{});
+    FAIL() << "expected InputError";
+  } catch (const InputError& error) {
+    EXPECT_EQ(error.diagnostic().where.file, "weighings.csv");
+    EXPECT_EQ(error.diagnostic().where.line, 12);
+    EXPECT_NE(error.diagnostic().message.find("below the dry mass"), std::string::npos);
+  }
+  // Unless the job expects it.
+  ingest::IngestResult job = Job();
+  job.job.negative_moisture_expected = true;
+  const ReducedIsotherms expected = Reduce(job, set, ReduceOptions{});
+  EXPECT_NEAR(expected.specimen_points[0].moisture_kg_per_kg, -5e-4, 1e-12);
+}
+
+TEST(ReduceTest, DryingStepsAreNotIsothermPoints) {
+  equilibrate::EquilibriumSet set;
+  auto drying = Point("A", 0, 10.0);
+  drying.branch = ingest::Branch::kDrying;
+  set.points.push_back(drying);
+  set.points.push_back(Point("A", 1, 10.2));
+  set.dry_masses.push_back(Dry("A", 10.0));
+  const ReducedIsotherms r = Reduce(Job(), set, ReduceOptions{});
+  EXPECT_EQ(r.specimen_points.size(), 1u);
+  EXPECT_EQ(r.points.size(), 1u);
+}
+
+TEST(ReduceTest, RetentionPointsGetTheirKelvinRh) {
+  // p_c = -(rho_w R T / M_w) ln(rh): rh = 0.9 at 23 degC gives 14.37 MPa (derived from the
+  // equation with Kell 1975 density); the inverse must return 0.9.
+  ingest::IngestResult in = Job();
+  ingest::DataSetSpec retention;
+  retention.temperature_K = k23C_K;
+  retention.file_as_written = "retention.csv";
+  in.job.retention = retention;
+  ingest::RetentionPoint rp;
+  rp.specimen_id = "A";
+  rp.capillary_pressure_Pa = physics::CapillaryPressure_Pa(0.9, k23C_K);
+  rp.moisture_kg_per_kg = 0.15;
+  rp.u_moisture_kg_per_kg = 0.004;
+  in.retention_points.push_back(rp);
+  EXPECT_NEAR(rp.capillary_pressure_Pa, 14.37e6, 0.01e6);
+  const ReducedIsotherms r = Reduce(in, equilibrate::EquilibriumSet{}, ReduceOptions{});
+  ASSERT_EQ(r.retention.size(), 1u);
+  EXPECT_NEAR(r.retention[0].equivalent_rh_fraction, 0.9, 1e-12);
+  EXPECT_DOUBLE_EQ(r.retention[0].u_moisture_kg_per_kg, 0.004);
+}
+
+TEST(ReduceTest, EquilibriumTableCsv) {
+  equilibrate::EquilibriumSet set;
+  set.points.push_back(Point("A", 1, 10.2345));
+  set.dry_masses.push_back(Dry("A", 10.0000));
+  const std::string csv = EquilibriumTableCsv(Reduce(Job(), set, ReduceOptions{}));
+  const std::string header =
+      "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_C,rh_percent,u_rh_percent,"
+      "moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,coverage_factor,"
+      "between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,u_volumetric_m3_per_m3,"
+      "time_to_equilibrium_h,equilibrated,extrapolated,excluded,flags\n";
+  ASSERT_EQ(csv.substr(0, header.size()), header);
+  // Values from the worked budget above; volumetric 0.02345 x 500 / 997.539 = 0.011754.
+  EXPECT_NE(csv.find("specimen,desiccator-23C,A,2,NaCl,adsorption,0,23.00,75.37,0.090,0.023450,"
+                     "0.0000149,0.0000298,2.00,,1,,,72.00,yes,no,no,\n"),
+            std::string::npos)
+      << csv;
+  EXPECT_NE(csv.find("combined,desiccator-23C,A,2,NaCl,adsorption,0,23.00,75.37,0.090,0.023450,"
+                     "0.0000149,0.0000298,2.00,0.0000000,1,0.011754,0.0000075,72.00,yes,no,no,\n"),
+            std::string::npos)
+      << csv;
+}
+
+}  // namespace
+}  // namespace sorbtrace::reduce
