@@ -126,8 +126,7 @@ class AutoDiffModel final : public Model {
     if (static_cast<int>(info_.parameters.size()) != kNumParameters) {
       throw std::logic_error("AutoDiffModel: Info() of model '" + info_.name + "' lists " +
                              std::to_string(info_.parameters.size()) +
-                             " parameters, kNumParameters is " +
-                             std::to_string(kNumParameters));
+                             " parameters, kNumParameters is " + std::to_string(kNumParameters));
     }
   }
 
@@ -166,8 +165,7 @@ class AutoDiffModel final : public Model {
 
   ceres::CostFunction* NewResidual(const Observation& observation,
                                    const ModelContext& context) const override {
-    return new ceres::AutoDiffCostFunction<internal::ResidualFunctor<Equation>, 1,
-                                           kNumParameters>(
+    return new ceres::AutoDiffCostFunction<internal::ResidualFunctor<Equation>, 1, kNumParameters>(
         new internal::ResidualFunctor<Equation>(observation, context));
   }
 
@@ -180,8 +178,7 @@ class AutoDiffModel final : public Model {
 
   ceres::CostFunction* NewResidualReferencing(const Observation* observation,
                                               const ModelContext* context) const override {
-    return new ceres::AutoDiffCostFunction<internal::ResidualFunctor<Equation>, 1,
-                                           kNumParameters>(
+    return new ceres::AutoDiffCostFunction<internal::ResidualFunctor<Equation>, 1, kNumParameters>(
         new internal::ResidualFunctor<Equation>(observation, context));
   }
 

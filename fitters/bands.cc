@@ -9,14 +9,13 @@ namespace sorbtrace::fitters {
 
 std::vector<BandPoint> DeltaMethodBand(const Model& model, const FitResult& fit,
                                        const ModelContext& context,
-                                       const std::vector<double>& x_grid,
-                                       double confidence_level) {
+                                       const std::vector<double>& x_grid, double confidence_level) {
   constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
   std::vector<BandPoint> band;
   const int p = model.num_parameters();
   if (static_cast<int>(fit.parameters.size()) != p) return band;  // no solution to draw
-  const bool have_covariance = fit.summary.covariance_available && fit.covariance.rows() == p &&
-                               fit.covariance.cols() == p;
+  const bool have_covariance =
+      fit.summary.covariance_available && fit.covariance.rows() == p && fit.covariance.cols() == p;
   const int dof = fit.statistics.degrees_of_freedom;
   const double k = internal::CoverageFactor(fit.weight_convention, dof, confidence_level);
   const double s2 = dof > 0 ? fit.statistics.weighted_ssr / dof : kNaN;

@@ -117,9 +117,9 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
     return result;
   }
 
-  std::vector<std::vector<double>> base =
-      options.starting_points.empty() ? model.StartingPoints(observations, context)
-                                      : options.starting_points;
+  std::vector<std::vector<double>> base = options.starting_points.empty()
+                                              ? model.StartingPoints(observations, context)
+                                              : options.starting_points;
   std::erase_if(base, [&](const std::vector<double>& s) {
     return static_cast<int>(s.size()) != p || !AllFinite(s);
   });
@@ -129,8 +129,7 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
     summary.flags.push_back(summary.message);
     return result;
   }
-  const std::vector<std::vector<double>> starts =
-      ExpandStarts(base, info, options.num_multistarts);
+  const std::vector<std::vector<double>> starts = ExpandStarts(base, info, options.num_multistarts);
 
   internal::FitWorkspace workspace(model, observations, context, options);
   if (options.errors_in_variables && workspace.num_errors_in_variables() == 0) {
@@ -173,14 +172,15 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
   }
   const StartReport& chosen = summary.starts[static_cast<std::size_t>(best)];
   summary.iterations = chosen.iterations;
-  summary.termination = best_converged ? FitTermination::kConverged : FitTermination::kNoConvergence;
-  summary.message = fmt::format("start {} of {}: {}", best + 1, summary.starts_tried,
-                                chosen.termination);
+  summary.termination =
+      best_converged ? FitTermination::kConverged : FitTermination::kNoConvergence;
+  summary.message =
+      fmt::format("start {} of {}: {}", best + 1, summary.starts_tried, chosen.termination);
   if (!best_converged) {
-    summary.flags.push_back(fmt::format(
-        "no convergence: no start met the tolerances within {} iterations; best start "
-        "reported",
-        options.max_iterations));
+    summary.flags.push_back(
+        fmt::format("no convergence: no start met the tolerances within {} iterations; best start "
+                    "reported",
+                    options.max_iterations));
   }
 
   // The solution and what follows from it.
@@ -251,8 +251,8 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
   } else {
     summary.flags.push_back("covariance unavailable: " + covariance_error);
   }
-  result.coverage_factor = internal::CoverageFactor(options.weights, stats.degrees_of_freedom,
-                                                    options.confidence_level);
+  result.coverage_factor =
+      internal::CoverageFactor(options.weights, stats.degrees_of_freedom, options.confidence_level);
 
   // Estimates, bounds.
   for (int j = 0; j < p; ++j) {
@@ -264,16 +264,22 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
     e.standard_error = summary.covariance_available ? std::sqrt(result.covariance(j, j)) : kNaN;
     e.interval_low = e.value - result.coverage_factor * e.standard_error;
     e.interval_high = e.value + result.coverage_factor * e.standard_error;
+    if (summary.covariance_available && !(e.standard_error <= std::abs(e.value))) {
+      // Relative standard error above 100 %: common practice for "not determined".
+      summary.flags.push_back(fmt::format(
+          "parameter {} = {:.6g} poorly determined: standard error {:.3g} exceeds its value",
+          e.name, e.value, e.standard_error));
+    }
     if (options.use_bounds) {
       const auto near = [&](double bound) {
-        return std::isfinite(bound) &&
-               std::abs(e.value - bound) <= options.bound_tolerance * std::max(1.0, std::abs(bound));
+        return std::isfinite(bound) && std::abs(e.value - bound) <=
+                                           options.bound_tolerance * std::max(1.0, std::abs(bound));
       };
       if (near(spec.lower_bound) || near(spec.upper_bound)) {
         e.at_bound = true;
-        summary.flags.push_back(fmt::format(
-            "parameter {} = {:.6g} at its bound [{}, {}]: its interval is not reliable", e.name,
-            e.value, spec.lower_bound, spec.upper_bound));
+        summary.flags.push_back(
+            fmt::format("parameter {} = {:.6g} at its bound [{}, {}]: its interval is not reliable",
+                        e.name, e.value, spec.lower_bound, spec.upper_bound));
       }
     }
     result.estimates.push_back(std::move(e));
@@ -339,9 +345,9 @@ std::string FitSummary::BriefReport() const {
       status = "too few points";
       break;
   }
-  std::string text = fmt::format("{}: {} ({} starts, {} iterations, covariance {})", status,
-                                 message, starts_tried, iterations,
-                                 covariance_available ? "available" : "unavailable");
+  std::string text =
+      fmt::format("{}: {} ({} starts, {} iterations, covariance {})", status, message, starts_tried,
+                  iterations, covariance_available ? "available" : "unavailable");
   for (const std::string& flag : flags) text += "\n  flag: " + flag;
   return text;
 }

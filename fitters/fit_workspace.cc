@@ -1,11 +1,18 @@
 #include "fitters/internal/fit_workspace.h"
 
+#include <fmt/format.h>
+
+#include <Eigen/SVD>
 #include <algorithm>
 #include <cmath>
 #include <utility>
 
 namespace sorbtrace::fitters::internal {
 namespace {
+
+// Relative sensitivity |p_j| * ||J_j|| below which a parameter counts as having no effect,
+// as a fraction of the largest: 1e-12, a few orders above double rounding (common practice).
+constexpr double kMinRelativeSensitivity = 1e-12;
 
 // x = x0 + diag(scale) * delta: a linear re-scaling of the parameter block so that
 // ceres::Covariance sees a Jacobian with unit-norm columns (the rank test then measures the
@@ -105,8 +112,10 @@ void FitWorkspace::Build() {
     const ModelInfo& info = model_.info();
     for (int j = 0; j < p; ++j) {
       const ParameterSpec& spec = info.parameters[static_cast<std::size_t>(j)];
-      if (std::isfinite(spec.lower_bound)) problem_->SetParameterLowerBound(params, j, spec.lower_bound);
-      if (std::isfinite(spec.upper_bound)) problem_->SetParameterUpperBound(params, j, spec.upper_bound);
+      if (std::isfinite(spec.lower_bound))
+        problem_->SetParameterLowerBound(params, j, spec.lower_bound);
+      if (std::isfinite(spec.upper_bound))
+        problem_->SetParameterUpperBound(params, j, spec.upper_bound);
     }
   }
   referencing_ = true;
@@ -173,8 +182,8 @@ SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
   SolveOutcome outcome;
   outcome.converged = summary.termination_type == ceres::CONVERGENCE ||
                       summary.termination_type == ceres::USER_SUCCESS;
-  outcome.failed = summary.termination_type == ceres::FAILURE ||
-                   summary.termination_type == ceres::USER_FAILURE;
+  outcome.failed =
+      summary.termination_type == ceres::FAILURE || summary.termination_type == ceres::USER_FAILURE;
   outcome.cost = outcome.failed ? std::numeric_limits<double>::infinity() : summary.final_cost;
   if (!std::isfinite(outcome.cost)) {
     outcome.failed = true;
@@ -221,6 +230,47 @@ bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* e
     scale[static_cast<std::size_t>(j)] = 1.0 / norm;
   }
 
+  // A parameter whose relative change moves the residuals by a vanishing fraction of what
+  // the others do has no effect on the fit (e.g. a rate constant driven to the plateau
+  // exp(-b x) ~ 0); the equilibration above would hide that, so test it explicitly.
+  double max_sensitivity = 0.0;
+  std::vector<double> sensitivity(static_cast<std::size_t>(p), 0.0);
+  for (std::size_t j = 0; j < sensitivity.size(); ++j) {
+    sensitivity[j] = std::sqrt(column_norm[j]) * std::abs(parameters_[j]);
+    max_sensitivity = std::max(max_sensitivity, sensitivity[j]);
+  }
+  for (std::size_t j = 0; j < sensitivity.size(); ++j) {
+    if (parameters_[j] != 0.0 && sensitivity[j] < kMinRelativeSensitivity * max_sensitivity) {
+      *error = fmt::format(
+          "parameter {} has almost no effect on the fit (relative sensitivity {:.3g} of the "
+          "largest)",
+          model_.info().parameters[j].name, sensitivity[j] / max_sensitivity);
+      return false;
+    }
+  }
+
+  // The rank test of ceres::Covariance on the parameter columns, done here first so that a
+  // singular problem is reported through the flags instead of Ceres' error log.
+  Eigen::MatrixXd scaled = Eigen::MatrixXd::Zero(jacobian.num_rows, p);
+  for (int row = 0; row < jacobian.num_rows; ++row) {
+    for (int k = jacobian.rows[static_cast<std::size_t>(row)];
+         k < jacobian.rows[static_cast<std::size_t>(row) + 1]; ++k) {
+      const int col = jacobian.cols[static_cast<std::size_t>(k)];
+      scaled(row, col) =
+          jacobian.values[static_cast<std::size_t>(k)] * scale[static_cast<std::size_t>(col)];
+    }
+  }
+  const Eigen::VectorXd singular_values =
+      Eigen::JacobiSVD<Eigen::MatrixXd>(scaled).singularValues();
+  const double ratio = singular_values(p - 1) / singular_values(0);
+  if (!(ratio >= std::sqrt(options_.covariance_min_reciprocal_condition_number))) {
+    *error = fmt::format(
+        "the Jacobian is rank deficient or too ill-conditioned at the solution (column-scaled "
+        "sigma_min / sigma_max = {:.3g} < sqrt({:g}))",
+        ratio, options_.covariance_min_reciprocal_condition_number);
+    return false;
+  }
+
   DiagonalScaleManifold manifold(scale);
   problem_->SetManifold(params, &manifold);
   ceres::Covariance::Options covariance_options;
@@ -241,10 +291,10 @@ bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* e
   }
   problem_->SetManifold(params, nullptr);
   if (!ok) {
-    *error =
-        "the Jacobian is rank deficient or too ill-conditioned at the solution (scaled "
-        "sigma_min/sigma_max below sqrt(" +
-        std::to_string(options_.covariance_min_reciprocal_condition_number) + "))";
+    *error = fmt::format(
+        "the Jacobian is rank deficient or too ill-conditioned at the solution "
+        "(column-scaled sigma_min / sigma_max below sqrt({:g}))",
+        options_.covariance_min_reciprocal_condition_number);
   }
   return ok;
 }

@@ -30,7 +30,7 @@ struct FitOptions {
   double gradient_tolerance = 1e-15;
   double parameter_tolerance = 1e-15;
   LossKind loss = LossKind::kSquared;
-  double loss_scale = 1.0;  // in units of the weighted residual
+  double loss_scale = 1.0;           // in units of the weighted residual
   bool errors_in_variables = false;  // fit the true x[0] of each point (needs sigma_x0 > 0)
   WeightConvention weights = WeightConvention::kRelative;
   // Deterministic extra starts derived from each model starting point (0 = only the given).
@@ -68,8 +68,8 @@ struct StartReport {
 
 struct FitSummary {
   FitTermination termination = FitTermination::kFailure;
-  std::string message;            // one line: why it ended
-  int iterations = 0;             // of the best start
+  std::string message;  // one line: why it ended
+  int iterations = 0;   // of the best start
   int starts_tried = 0;
   std::vector<StartReport> starts;
   std::string covariance_convention;  // which scaling was applied, in words
@@ -97,12 +97,12 @@ struct FitStatistics {
   int num_observations = 0;
   int num_parameters = 0;
   int degrees_of_freedom = 0;
-  double weighted_ssr = 0.0;       // sum ((y - f) / sigma)^2
-  double ssr = 0.0;                // sum (y - f)^2, in units of y^2
-  double rmse = 0.0;               // sqrt(ssr / n)
-  double residual_std = 0.0;       // sqrt(weighted_ssr / dof)
-  double r_squared = 0.0;           // 1 - sum w (y - f)^2 / sum w (y - ybar_w)^2, weighted mean ybar_w
-  double adjusted_r_squared = 0.0;  // 1 - (1 - R^2) (n - 1) / (n - p)
+  double weighted_ssr = 0.0;  // sum ((y - f) / sigma)^2
+  double ssr = 0.0;           // sum (y - f)^2, in units of y^2
+  double rmse = 0.0;          // sqrt(ssr / n)
+  double residual_std = 0.0;  // sqrt(weighted_ssr / dof)
+  double r_squared = 0.0;     // 1 - sum w (y - f)^2 / sum w (y - ybar_w)^2, weighted mean ybar_w
+  double adjusted_r_squared = 0.0;               // 1 - (1 - R^2) (n - 1) / (n - p)
   double mean_relative_deviation_percent = 0.0;  // (100/n) sum |y - f| / |y| over y != 0
   double aic = 0.0;   // n ln(weighted_ssr / n) + 2k (least-squares form, constants dropped)
   double aicc = 0.0;  // aic + 2k(k + 1) / (n - k - 1); NaN when n - k - 1 <= 0
@@ -116,12 +116,12 @@ struct FitResult {
   std::string model_name;
   std::vector<double> parameters;
   std::vector<ParameterEstimate> estimates;
-  Eigen::MatrixXd covariance;    // p x p, after the convention in summary
-  Eigen::MatrixXd correlation;   // p x p
+  Eigen::MatrixXd covariance;   // p x p, after the convention in summary
+  Eigen::MatrixXd correlation;  // p x p
   FitStatistics statistics;
-  std::vector<double> fitted;    // f(x_i) at the solution
-  std::vector<double> residuals; // y_i - f(x_i)
-  std::vector<double> fitted_x0; // errors-in-variables: the fitted true x[0]; else = observed
+  std::vector<double> fitted;     // f(x_i) at the solution
+  std::vector<double> residuals;  // y_i - f(x_i)
+  std::vector<double> fitted_x0;  // errors-in-variables: the fitted true x[0]; else = observed
   FitSummary summary;
   WeightConvention weight_convention = WeightConvention::kRelative;
   // Quantile used for the parameter intervals and bands: Student-t with n - p degrees of
@@ -153,8 +153,7 @@ struct BandPoint {
 
 std::vector<BandPoint> DeltaMethodBand(const Model& model, const FitResult& fit,
                                        const ModelContext& context,
-                                       const std::vector<double>& x_grid,
-                                       double confidence_level);
+                                       const std::vector<double>& x_grid, double confidence_level);
 
 enum class ResampleKind {
   kResidualBootstrap,  // y* = f(x; p_hat) + resampled weighted residual * sigma
@@ -183,11 +182,11 @@ struct ResampleResult {
   std::vector<std::vector<double>> parameter_draws;  // successful refits, each of size p
   std::vector<double> parameter_low;                 // percentile interval per parameter
   std::vector<double> parameter_high;
-  std::vector<double> parameter_std;                 // standard deviation of the draws
+  std::vector<double> parameter_std;  // standard deviation of the draws
   std::vector<double> x_grid;
-  std::vector<double> curve_low;                     // percentile band of f on x_grid
+  std::vector<double> curve_low;  // percentile band of f on x_grid
   std::vector<double> curve_high;
-  int num_failed = 0;                                // refits that did not converge
+  int num_failed = 0;  // refits that did not converge
 };
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,

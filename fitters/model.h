@@ -30,11 +30,11 @@ inline constexpr double kInfinity = std::numeric_limits<double>::infinity();
 
 // One adjustable parameter: its symbol, unit, physical bounds and meaning.
 struct ParameterSpec {
-  std::string name;                  // symbol as printed, e.g. "X_m"
-  std::string unit;                  // e.g. "kg/kg", "1", "1/Pa"
-  double lower_bound = -kInfinity;   // enforced by the solver
+  std::string name;                 // symbol as printed, e.g. "X_m"
+  std::string unit;                 // e.g. "kg/kg", "1", "1/Pa"
+  double lower_bound = -kInfinity;  // enforced by the solver
   double upper_bound = kInfinity;
-  std::string description;           // e.g. "monolayer moisture content"
+  std::string description;  // e.g. "monolayer moisture content"
 };
 
 // What a model is, for reports and the registry.

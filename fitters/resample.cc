@@ -58,8 +58,8 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
       case ResampleKind::kResidualBootstrap:
         for (std::size_t i = 0; i < n; ++i) {
           data[i] = observations[i];
-          data[i].y = full_fit.fitted[i] +
-                      observations[i].sigma_y * weighted_residuals[random.Index(n)];
+          data[i].y =
+              full_fit.fitted[i] + observations[i].sigma_y * weighted_residuals[random.Index(n)];
           x0_start[i] = full_fit.fitted_x0[i];
         }
         break;

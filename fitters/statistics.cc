@@ -46,8 +46,7 @@ double CoverageFactor(WeightConvention convention, int degrees_of_freedom,
   }
   if (degrees_of_freedom < 1) return kNaN;
   return boost::math::quantile(
-      boost::math::students_t_distribution<double>(static_cast<double>(degrees_of_freedom)),
-      upper);
+      boost::math::students_t_distribution<double>(static_cast<double>(degrees_of_freedom)), upper);
 }
 
 double ChiSquareUpperTail(double value, int degrees_of_freedom) {

@@ -23,8 +23,7 @@ RunsTestResult WaldWolfowitzRunsTest(const std::vector<double>& sequence);
 
 // Two-sided coverage factor at `confidence_level`: Student-t quantile with `dof` degrees of
 // freedom under kRelative, standard normal under kAbsolute. NaN if dof < 1 (kRelative).
-double CoverageFactor(WeightConvention convention, int degrees_of_freedom,
-                      double confidence_level);
+double CoverageFactor(WeightConvention convention, int degrees_of_freedom, double confidence_level);
 
 // Upper tail P(chi2_dof >= value). NaN if dof < 1.
 double ChiSquareUpperTail(double value, int degrees_of_freedom);

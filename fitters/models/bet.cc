@@ -188,8 +188,7 @@ RouquerolCriteria CheckRouquerolCriteria(double monolayer_kg_per_kg, double c,
     result.relative_difference =
         std::abs(result.bet_rh_at_monolayer - result.measured_rh_at_monolayer) /
         result.measured_rh_at_monolayer;
-    result.monolayer_position_consistent =
-        result.relative_difference <= options.relative_tolerance;
+    result.monolayer_position_consistent = result.relative_difference <= options.relative_tolerance;
   }
   if (!result.monolayer_position_consistent)
     result.messages.push_back(

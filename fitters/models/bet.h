@@ -25,8 +25,8 @@
 // the 1e-16 / (1 - a_w)^2 of the direct form: 1e-11 at a_w = 0.99999.
 #pragma once
 
-#include <limits>
 #include <cmath>
+#include <limits>
 #include <string>
 #include <vector>
 
@@ -45,8 +45,8 @@ struct BetEquation {
     const T& a = x[0];
     return x_m * c * a / ((1.0 - a) * (1.0 - a + c * a));
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 
@@ -76,8 +76,8 @@ struct BetNLayerEquation {
     const T denominator = one_minus_a * (-(c - 1.0) * one_minus_a - c * e2);
     return numerator / denominator;
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 
@@ -102,9 +102,9 @@ struct RouquerolOptions {
 //  4. 1/(sqrt(C) + 1), the a_w at which the BET curve reaches X_m, agrees with that a_w within
 //     RouquerolOptions::relative_tolerance.
 struct RouquerolCriteria {
-  bool c_positive = false;                 // criterion 1
-  bool monotonic = false;                  // criterion 2
-  bool monolayer_in_range = false;         // criterion 3
+  bool c_positive = false;                     // criterion 1
+  bool monotonic = false;                      // criterion 2
+  bool monolayer_in_range = false;             // criterion 3
   bool monolayer_position_consistent = false;  // criterion 4
   // a_w at u = X_m interpolated from the points; NaN when X_m is outside their u range.
   double measured_rh_at_monolayer = std::numeric_limits<double>::quiet_NaN();
@@ -112,7 +112,7 @@ struct RouquerolCriteria {
   double bet_rh_at_monolayer = std::numeric_limits<double>::quiet_NaN();
   // |bet - measured| / measured; NaN when either is undefined.
   double relative_difference = std::numeric_limits<double>::quiet_NaN();
-  std::vector<std::string> messages;       // one line per failed criterion
+  std::vector<std::string> messages;  // one line per failed criterion
   bool AllMet() const {
     return c_positive && monotonic && monolayer_in_range && monolayer_position_consistent;
   }

@@ -73,8 +73,8 @@ std::vector<std::vector<double>> GridStarts(int num_systems,
         for (const Observation& o : observations) {
           std::vector<double> row;
           for (int i = 0; i < num_systems; ++i)
-            row.push_back(VanGenuchtenSaturationAtRh(o.x[0], centre + offset - i * spacing, n, m,
-                                                     factor));
+            row.push_back(
+                VanGenuchtenSaturationAtRh(o.x[0], centre + offset - i * spacing, n, m, factor));
           design.push_back(std::move(row));
           y.push_back(o.y);
           const double sigma = o.sigma_y > 0.0 ? o.sigma_y : 1.0;
@@ -165,14 +165,12 @@ ModelInfo Durner3Equation::Info() {
 
 std::vector<std::vector<double>> Durner2Equation::StartingPoints(
     const std::vector<Observation>& observations, const ModelContext& context) {
-  return RankAndClean<Durner2Equation>(GridStarts(2, observations, context), observations,
-                                       context);
+  return RankAndClean<Durner2Equation>(GridStarts(2, observations, context), observations, context);
 }
 
 std::vector<std::vector<double>> Durner3Equation::StartingPoints(
     const std::vector<Observation>& observations, const ModelContext& context) {
-  return RankAndClean<Durner3Equation>(GridStarts(3, observations, context), observations,
-                                       context);
+  return RankAndClean<Durner3Equation>(GridStarts(3, observations, context), observations, context);
 }
 
 std::vector<std::string> Durner2Equation::PhysicalFlags(const double* params) {

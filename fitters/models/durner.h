@@ -46,8 +46,8 @@ struct Durner2Equation {
     const T s2 = VanGenuchtenSaturationAtRh(x[0], log10_alpha2, p[5], T(1.0 - 1.0 / p[5]), factor);
     return p[0] * (w1 * s1 + (1.0 - w1) * s2);
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 
@@ -68,8 +68,8 @@ struct Durner3Equation {
     const T s3 = VanGenuchtenSaturationAtRh(x[0], log10_alpha3, p[8], T(1.0 - 1.0 / p[8]), factor);
     return p[0] * (w1 * s1 + w2 * s2 + w3 * s3);
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 

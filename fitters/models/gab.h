@@ -39,8 +39,8 @@ struct GabEquation {
     const T ka = k * x[0];
     return x_m * c * ka / ((1.0 - ka) * (1.0 - ka + c * ka));
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 

@@ -30,8 +30,8 @@ struct HalseyEquation {
     if (a >= T(1.0)) return T(kInfinity);  // pole at saturation
     return exp((log(params[0]) - log(-log(a))) / params[1]);
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 

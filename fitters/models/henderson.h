@@ -34,8 +34,8 @@ struct HendersonEquation {
     // -ln(1 - a) as -log1p(-a): accurate for small a.
     return exp((log(-log1p(-a)) - log(params[0])) / params[1]);
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 

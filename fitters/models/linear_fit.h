@@ -12,9 +12,9 @@ namespace sorbtrace::fitters::models {
 
 // Result of a weighted linear least-squares fit y = sum_j coefficients[j] * basis_j(x).
 struct LinearFit {
-  bool ok = false;                  // false: fewer points than coefficients or singular design
+  bool ok = false;  // false: fewer points than coefficients or singular design
   std::vector<double> coefficients;
-  double weighted_ssr = 0.0;        // sum w_i (y_i - fit_i)^2
+  double weighted_ssr = 0.0;  // sum w_i (y_i - fit_i)^2
 };
 
 // Solves min sum_i w_i (y_i - sum_j c_j design[i][j])^2 by a column-pivoted QR decomposition.

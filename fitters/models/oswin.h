@@ -31,8 +31,8 @@ struct OswinEquation {
     if (a >= T(1.0)) return T(kInfinity);  // pole at saturation
     return params[0] * exp(params[1] * log(a / (1.0 - a)));
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 

@@ -34,8 +34,8 @@ struct PelegEquation {
     const T ln_a = log(a);
     return params[0] * exp(params[1] * ln_a) + params[2] * exp(params[3] * ln_a);
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 

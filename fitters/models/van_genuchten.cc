@@ -53,8 +53,8 @@ ModelInfo VanGenuchtenEquation::Info() {
   info.y_quantity = "moisture content, kg/kg dry basis";
   info.x_min = 0.0;
   info.x_max = 1.0;
-  info.parameters = {SaturationSpec(), Log10AlphaSpec(),
-                     {"n", "1", 1.0, 20.0, "pore-size distribution index"}};
+  info.parameters = {
+      SaturationSpec(), Log10AlphaSpec(), {"n", "1", 1.0, 20.0, "pore-size distribution index"}};
   return info;
 }
 
@@ -70,15 +70,16 @@ ModelInfo VanGenuchtenFreeMEquation::Info() {
   info.y_quantity = "moisture content, kg/kg dry basis";
   info.x_min = 0.0;
   info.x_max = 1.0;
-  info.parameters = {SaturationSpec(), Log10AlphaSpec(),
+  info.parameters = {SaturationSpec(),
+                     Log10AlphaSpec(),
                      {"n", "1", 0.05, 20.0, "pore-size distribution index"},
                      {"m", "1", 0.001, 20.0, "shape exponent"}};
   return info;
 }
 
-std::vector<std::vector<double>> VanGenuchtenCandidates(const std::vector<Observation>& observations,
-                                                        const ModelContext& context,
-                                                        std::size_t max_candidates) {
+std::vector<std::vector<double>> VanGenuchtenCandidates(
+    const std::vector<Observation>& observations, const ModelContext& context,
+    std::size_t max_candidates) {
   const double factor = KelvinPressureFactor_Pa(context.temperature_K);
   const std::vector<Observation> points = PositivePointsInside(observations, 0.0, 1.0);
   const double u_max = MaxResponse(observations);

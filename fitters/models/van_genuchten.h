@@ -95,8 +95,8 @@ struct VanGenuchtenEquation {
     const T m = 1.0 - 1.0 / params[2];
     return params[0] * VanGenuchtenSaturationAtRh(x[0], params[1], params[2], m, factor);
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 
@@ -109,16 +109,16 @@ struct VanGenuchtenFreeMEquation {
     const double factor = KelvinPressureFactor_Pa(context.temperature_K);
     return params[0] * VanGenuchtenSaturationAtRh(x[0], params[1], params[2], params[3], factor);
   }
-  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& observations,
-                                                         const ModelContext& context);
+  static std::vector<std::vector<double>> StartingPoints(
+      const std::vector<Observation>& observations, const ModelContext& context);
   static std::vector<std::string> PhysicalFlags(const double* params);
 };
 
 // The best few (u_sat, log10_alpha, n) starting triples of the Mualem-constrained curve, best
 // first (shared with the Durner models).
-std::vector<std::vector<double>> VanGenuchtenCandidates(const std::vector<Observation>& observations,
-                                                        const ModelContext& context,
-                                                        std::size_t max_candidates);
+std::vector<std::vector<double>> VanGenuchtenCandidates(
+    const std::vector<Observation>& observations, const ModelContext& context,
+    std::size_t max_candidates);
 
 // The registered models "vangenuchten" and "vangenuchten_free_m".
 const Model& VanGenuchtenModel();

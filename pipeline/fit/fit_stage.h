@@ -17,13 +17,13 @@ namespace sorbtrace::fit {
 
 struct FitStageOptions {
   // Registry keys of the models to fit (fitters/registry.h).
-  std::vector<std::string> models = {"gab", "bet", "vangenuchten", "durner2",
-                                     "oswin", "halsey", "henderson", "peleg"};
-  double bet_rh_min_fraction = 0.05;   // BET validity range (common practice for water)
+  std::vector<std::string> models = {"gab",   "bet",    "vangenuchten", "durner2",
+                                     "oswin", "halsey", "henderson",    "peleg"};
+  double bet_rh_min_fraction = 0.05;  // BET validity range (common practice for water)
   double bet_rh_max_fraction = 0.35;
   fitters::LossKind loss = fitters::LossKind::kSquared;
   double loss_scale = 1.0;
-  bool errors_in_variables = false;    // RH of each point fitted within its uncertainty
+  bool errors_in_variables = false;  // RH of each point fitted within its uncertainty
   fitters::WeightConvention weights = fitters::WeightConvention::kRelative;
   // Deterministic perturbed starts per model starting point (fitters::FitOptions).
   int num_multistarts = 4;
@@ -35,7 +35,7 @@ struct FitStageOptions {
   double resample_tolerance = 1e-10;
   int bootstrap_resamples = 1000;
   fitters::ResampleKind bootstrap_kind = fitters::ResampleKind::kResidualBootstrap;
-  int monte_carlo_draws = 1000;        // JCGM 101 propagation of input uncertainties (0 = off)
+  int monte_carlo_draws = 1000;  // JCGM 101 propagation of input uncertainties (0 = off)
   std::uint64_t seed = 20261201;
   int band_grid_points = 200;
   double band_rh_min_fraction = 0.0;
@@ -67,11 +67,12 @@ struct ModelFit {
   fitters::ModelInfo info;
   int group_index = 0;
   fitters::FitResult result;
-  std::vector<double> expanded_uncertainty;   // k = coverage factor of the reduce stage, per parameter
+  // Per parameter: k * standard error, k = IsothermFits::coverage_factor (the reduce stage's).
+  std::vector<double> expanded_uncertainty;
   // Indices into groups[group_index].observations of the points this model was fitted to
   // (BET: only its RH range; retention points only for retention models).
   std::vector<int> used_observations;
-  std::vector<fitters::BandPoint> band;        // delta method, on the band grid
+  std::vector<fitters::BandPoint> band;  // delta method, on the band grid
   fitters::ResampleResult bootstrap;
   fitters::ResampleResult monte_carlo;
   std::vector<ConsistencyCheck> consistency;  // BET: Rouquerol criteria
@@ -93,6 +94,32 @@ struct IsothermFits {
   FitStageSummary summary;
 };
 
+// Fits every model of options.models to every group.
+//
+// Groups: the adsorption and desorption points of ReducedIsotherms::points (drying steps are
+// not isotherm points; every other point is fitted, the reduce stage having left out or
+// flagged those not at equilibrium), all cycles of a branch together. Data sets whose mean
+// temperatures lie within 0.5 K of the coldest data set of a cluster form one temperature
+// (fitted at the mean temperature of the cluster's points, the same for both branches).
+// Groups are ordered by temperature, adsorption before desorption. Observations: x[0] =
+// rh_fraction, y = moisture_kg_per_kg, sigma_y = u_moisture_kg_per_kg, sigma_x0 =
+// u_rh_fraction. With include_retention_points the retention points (equivalent RH, sigma_x0 =
+// 0) join the group of their branch and temperature, for the retention models only
+// (vangenuchten*, durner*).
+//
+// Per model: "bet" uses only the points with bet_rh_min_fraction <= RH <= bet_rh_max_fraction
+// (other models the ModelInfo x range) and gets the four Rouquerol checks; n <= p is skipped
+// with the flag "too few points: n = N for p = P"; bands on band_grid_points RH values over
+// [band_rh_min, band_rh_max] clipped to that range; bootstrap and Monte Carlo draws come from
+// random streams that are a pure function of options.seed, the group index and the model name
+// (so adding a model to the list does not change the draws of the others).
+//
+// Ranking: AICc among the converged fits of a group that used all of its isotherm points (AICc
+// is only comparable on identical data); BET on its restricted range and retention models
+// fitted with retention points keep rank 0 with a "not ranked" flag.
+//
+// Never throws for a failed fit (see ModelFit::flags). Throws InputError for invalid options,
+// ComputationError when there is no point to fit or no model converged in any group.
 IsothermFits FitIsotherms(const reduce::ReducedIsotherms& reduced, const FitStageOptions& options);
 
 }  // namespace sorbtrace::fit

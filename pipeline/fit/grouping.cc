@@ -260,6 +260,16 @@ std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
         group.point_indices.push_back(candidate.point_index);
       }
       if (group.observations.empty()) continue;
+      int not_equilibrated = 0;
+      for (const int index : group.point_indices) {
+        if (index >= 0 && !reduced.points[index].equilibrated) ++not_equilibrated;
+      }
+      if (not_equilibrated > 0) {
+        warnings->push_back(Warning(
+            fmt::format("fit group {} at {:.2f} K: {} point(s) not at equilibrium are fitted "
+                        "(kept and flagged by the reduce stage)",
+                        BranchLabel(branch), temperature_K, not_equilibrated)));
+      }
       RepairSigmas(&group, warnings);
       groups.push_back(std::move(group));
     }

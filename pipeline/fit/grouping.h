@@ -20,9 +20,11 @@ inline constexpr double kTemperatureMergeSpan_K = 0.5;
 
 // Sorts the non-drying isotherm points (and, if options.include_retention_points, the
 // retention points) of `reduced` into groups, ordered by temperature, then adsorption before
-// desorption. Points that cannot be fitted (non-finite values, RH outside [0, 1]) are left out
-// with a warning; non-positive moisture uncertainties are replaced (see grouping.cc) with a
-// warning.
+// desorption. Every point of ReducedIsotherms::points is fitted: the reduce stage has already
+// left out the points not at equilibrium unless told to keep them (then they are flagged, and a
+// warning here counts them per group). Several cycles of one branch are fitted together.
+// Points that cannot be fitted (non-finite values, RH outside [0, 1]) are left out with a
+// warning; non-positive moisture uncertainties are replaced (see grouping.cc) with a warning.
 std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
                                   const FitStageOptions& options,
                                   std::vector<Diagnostic>* warnings);

@@ -269,26 +269,57 @@ const std::vector<CsvField>& CsvReader::ReadHeader() {
          "a header line naming the columns, then data lines");
 }
 
+CsvReader::Record CsvReader::NextNumbers(double* values) {
+  std::string_view line;
+  while (NextLine(&line)) {
+    if (line.empty() || line[0] == '#') continue;
+    if ((line[0] == delimiter_ || line[0] == ' ') && IsBlankRecord(line, delimiter_)) continue;
+    current_line_ = line;
+    // Scan: one plain decimal per field, delimiters between, nothing else.
+    const char* p = line.data();
+    const char* const end = p + line.size();
+    std::size_t k = 0;
+    for (; k < num_columns_; ++k) {
+      const char* const number_end = ScanSimpleDecimal(p, end, decimal_point_, &values[k]);
+      if (number_end == nullptr) break;
+      if (k + 1 < num_columns_) {
+        if (number_end == end || *number_end != delimiter_) break;
+        p = number_end + 1;
+      } else if (number_end != end) {
+        break;  // text after the last number, or too many fields
+      }
+    }
+    if (k == num_columns_) return Record::kNumbers;
+    SplitChecked(line);
+    return Record::kFields;
+  }
+  return Record::kEnd;
+}
+
 bool CsvReader::Next() {
   std::string_view line;
   while (NextLine(&line)) {
     if (line.empty() || line[0] == '#') continue;
     if ((line[0] == delimiter_ || line[0] == ' ') && IsBlankRecord(line, delimiter_)) continue;
-    Split(line);
-    if (fields_.size() != num_columns_) {
-      const std::string counts = "the line has " + std::to_string(fields_.size()) +
-                                 " fields, the header (line " + std::to_string(header_line_) +
-                                 ") has " + std::to_string(num_columns_);
-      const std::string expected =
-          std::to_string(num_columns_) + " fields separated by " + DelimiterName(delimiter_);
-      if (fields_.size() < num_columns_) {
-        Fail(static_cast<int>(line.size()) + 1, "truncated line: " + counts, expected);
-      }
-      Fail(fields_[num_columns_].column, "too many fields: " + counts, expected);
-    }
+    current_line_ = line;
+    SplitChecked(line);
     return true;
   }
   return false;
+}
+
+void CsvReader::SplitChecked(std::string_view line) {
+  Split(line);
+  if (fields_.size() == num_columns_) return;
+  const std::string counts = "the line has " + std::to_string(fields_.size()) +
+                             " fields, the header (line " + std::to_string(header_line_) +
+                             ") has " + std::to_string(num_columns_);
+  const std::string expected =
+      std::to_string(num_columns_) + " fields separated by " + DelimiterName(delimiter_);
+  if (fields_.size() < num_columns_) {
+    Fail(static_cast<int>(line.size()) + 1, "truncated line: " + counts, expected);
+  }
+  Fail(fields_[num_columns_].column, "too many fields: " + counts, expected);
 }
 
 std::string_view CsvReader::Text(std::size_t i) const { return Trim(fields_[i].text); }

@@ -38,13 +38,13 @@ inline constexpr double kExactPowersOfTen[23] = {1e0,  1e1,  1e2,  1e3,  1e4,  1
                                                  1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
                                                  1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
 
-// The inline fast path of ParseNumber: [-+]digits[<decimal_point>digits] with at most 19
-// digits, mantissa <= 2^53 and <= 22 fraction digits, nothing else (no spaces). Returns false
-// (value untouched) for anything else, which ParseNumber then handles.
-inline bool ParseSimpleDecimal(std::string_view text, char decimal_point, double* value) {
-  const char* p = text.data();
-  const char* const end = p + text.size();
-  if (p == end) return false;
+// The inline fast path of ParseNumber: reads [-+]digits[<decimal_point>digits] from p with at
+// most 19 digits, mantissa <= 2^53 and <= 22 fraction digits. Returns where the number ends
+// (the caller checks what follows), or nullptr (value untouched) when there is no such number
+// at p, in which case ParseNumber's general path decides.
+inline const char* ScanSimpleDecimal(const char* p, const char* const end, char decimal_point,
+                                     double* value) {
+  if (p == end) return nullptr;
   const bool negative = *p == '-';
   if (*p == '-' || *p == '+') ++p;
   std::uint64_t mantissa = 0;
@@ -64,13 +64,23 @@ inline bool ParseSimpleDecimal(std::string_view text, char decimal_point, double
     fraction_digits = p - fraction_start;
     num_digits += fraction_digits;
   }
-  if (p != end || num_digits == 0 || num_digits > 19 || mantissa > (std::uint64_t{1} << 53) ||
+  if (num_digits == 0 || num_digits > 19 || mantissa > (std::uint64_t{1} << 53) ||
       fraction_digits > 22) {
-    return false;
+    return nullptr;
   }
   double v = static_cast<double>(mantissa);
   if (fraction_digits > 0) v /= kExactPowersOfTen[fraction_digits];
   *value = negative ? -v : v;
+  return p;
+}
+
+// The whole text is one number for ScanSimpleDecimal (no spaces, nothing after it).
+inline bool ParseSimpleDecimal(std::string_view text, char decimal_point, double* value) {
+  const char* const end = text.data() + text.size();
+  double v = 0.0;
+  const char* const number_end = ScanSimpleDecimal(text.data(), end, decimal_point, &v);
+  if (number_end == nullptr || number_end != end) return false;
+  *value = v;
   return true;
 }
 
@@ -98,6 +108,16 @@ class CsvReader {
   // record has another number of fields than the header.
   bool Next();
 
+  // Fast path for files of numbers only (vapour logs): reads the next record and, when every
+  // field is a plain decimal (see ParseSimpleDecimal), stores the header-order values in
+  // values[0 .. number of columns) and returns kNumbers without splitting the line into
+  // fields(). Any other record (quotes, spaces, exponents, errors) is split as Next() does and
+  // kFields is returned: read it with Number(). kEnd at the end of the file.
+  enum class Record { kEnd, kNumbers, kFields };
+  Record NextNumbers(double* values);
+  // After kNumbers: splits the current line into fields() (to report an error at a column).
+  void SplitCurrentLine() { Split(current_line_); }
+
   const std::vector<CsvField>& fields() const { return fields_; }
   std::string_view Text(std::size_t i) const;  // trimmed of surrounding spaces
   int Column(std::size_t i) const { return fields_[i].column; }
@@ -123,6 +143,7 @@ class CsvReader {
   double NumberSlow(std::size_t i, std::string_view column_name) const;
   bool NextLine(std::string_view* line);  // false at end of file
   void Split(std::string_view line);
+  void SplitChecked(std::string_view line);  // Split + field count check
   void SplitQuoted(std::string_view line);
   void Refill();
 
@@ -139,7 +160,8 @@ class CsvReader {
   std::int64_t header_line_ = 0;
   std::size_t num_columns_ = 0;
   std::vector<CsvField> fields_;
-  std::string scratch_;  // unquoted text of quoted fields
+  std::string_view current_line_;  // the line of the current record
+  std::string scratch_;            // unquoted text of quoted fields
 };
 
 // ---- Header mapping --------------------------------------------------------------------

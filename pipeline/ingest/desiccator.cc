@@ -291,7 +291,7 @@ DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dat
     }
     DesiccatorStep& step = steps[state.step];
     step.weighings.push_back(Weighing{time_s, std::string(reader.Text(time_index)), mass_g,
-                                      temperature_K, static_cast<int>(reader.line())});
+                                      static_cast<int>(reader.line()), temperature_K});
     step.last_line = static_cast<int>(reader.line());
     state.has_row = true;
     state.last_time_s = time_s;

@@ -93,23 +93,23 @@ struct Weighing {
   double time_s = 0.0;    // seconds since the first weighing of the file
   std::string timestamp;  // as written
   double mass_g = 0.0;
-  double temperature_K = 0.0;  // recorded at the weighing, else the nominal temperature
   int line = 0;                // 1-based line in the file
+  double temperature_K = 0.0;  // recorded at the weighing, else the nominal temperature
 };
 
 // One humidity step of one specimen in a desiccator series.
 struct DesiccatorStep {
   std::string specimen_id;
-  int step_index = 0;                     // order of the step for this specimen (0-based)
-  int step_number = 0;                    // as written in the file's "step" column
-  std::string atmosphere;                 // as written: a salt ("NaCl"), "desiccant", or a set RH
-  std::optional<std::string> salt;        // when the atmosphere is a saturated salt solution
-  std::optional<double> set_rh_fraction;  // when the RH is stated directly
+  int step_index = 0;               // order of the step for this specimen (0-based)
+  std::string atmosphere;           // as written: a salt ("NaCl"), "desiccant", "oven", "rh:50%"
+  std::optional<std::string> salt;  // canonical formula, when over a saturated salt solution
+  std::optional<double> set_rh_fraction;  // stated RH ("rh:50%"), 0 for "desiccant"
   Branch branch = Branch::kAdsorption;
   double temperature_K = 296.15;    // recorded (or nominal) temperature of the step
   std::vector<Weighing> weighings;  // in time order
   int first_line = 0;
   int last_line = 0;
+  int step_number = 0;  // as written in the file's "step" column
 };
 
 struct DesiccatorSeries {
@@ -198,8 +198,10 @@ struct IngestResult {
 };
 
 // Parses and validates the job file (the sections that describe the test and its data:
-// [job], [material], [specimens], [measurement], [[dataset]], [retention]); sections for
-// later stages ([equilibrium], [fit], [pores], [report]) are left to their owners.
+// [job], [material], [measurement], [[specimen]], [[dataset]], [retention]; see
+// docs/input-formats.md). Tables of later stages ([equilibrium], [fit], [pores], [report]) are
+// left to their owners; any other top-level table or key is an error. Data files must exist
+// (paths relative to the job file); their contents are read by Ingest().
 JobSpec LoadJobSpec(const std::filesystem::path& job_file);
 
 // Reads every data file named by the job, checks that each specimen with data has a dry

@@ -163,6 +163,8 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
   const auto rh_index = static_cast<std::size_t>(columns[2].index);
   const auto temperature_index = static_cast<std::size_t>(columns[3].index);
   const auto mass_index = static_cast<std::size_t>(columns[4].index);
+  std::string names[5];  // header names in field order
+  for (const auto& column : columns) names[column.index] = column.name;
   const internal::UnitScale time_scale = internal::TimeUnitToSecond(columns[0].unit);
   const internal::UnitScale set_scale = internal::RhUnitToFraction(columns[1].unit);
   const internal::UnitScale rh_scale = internal::RhUnitToFraction(columns[2].unit);
@@ -185,12 +187,30 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
   int cycle = 0;
   int num_gaps = 0;
 
-  while (reader.Next()) {
-    const double t = time_scale.ToSi(reader.Number(time_index, columns[0].name));
-    const double set_raw = reader.Number(set_index, columns[1].name);
-    const double rh_raw = reader.Number(rh_index, columns[2].name);
-    const double temperature_raw = reader.Number(temperature_index, columns[3].name);
-    const double mass_raw = reader.Number(mass_index, columns[4].name);
+  double values[5];    // in header order
+  bool split = false;  // whether reader.fields() holds the current record
+  // The current record split into fields, for messages that name a column.
+  auto fields = [&]() -> const CsvReader& {
+    if (!split) {
+      reader.SplitCurrentLine();
+      split = true;
+    }
+    return reader;
+  };
+  for (;;) {
+    const CsvReader::Record record = reader.NextNumbers(values);
+    if (record == CsvReader::Record::kEnd) break;
+    split = record == CsvReader::Record::kFields;
+    if (split) {
+      for (std::size_t i = 0; i < 5; ++i) {
+        values[i] = reader.Number(i, names[i]);
+      }
+    }
+    const double t = time_scale.ToSi(values[time_index]);
+    const double set_raw = values[set_index];
+    const double rh_raw = values[rh_index];
+    const double temperature_raw = values[temperature_index];
+    const double mass_raw = values[mass_index];
     const double set_rh = set_scale.ToSi(set_raw);
     const double rh = rh_scale.ToSi(rh_raw);
     const double temperature_K = temperature_scale.ToSi(temperature_raw);
@@ -200,13 +220,13 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
       if (t <= previous_t) {
         const std::string was = fmt::format("line {}", previous_line);
         if (t == previous_t) {
-          reader.Fail(reader.Column(time_index),
-                      "duplicate time stamp: " + std::string(reader.Text(time_index)) +
+          reader.Fail(fields().Column(time_index),
+                      "duplicate time stamp: " + std::string(fields().Text(time_index)) +
                           " in column '" + columns[0].name + "' repeats that of " + was,
                       "strictly increasing elapsed times");
         }
-        reader.Fail(reader.Column(time_index),
-                    "time goes backwards: " + std::string(reader.Text(time_index)) +
+        reader.Fail(fields().Column(time_index),
+                    "time goes backwards: " + std::string(fields().Text(time_index)) +
                         " in column '" + columns[0].name + "' is earlier than on " + was,
                     "strictly increasing elapsed times");
       }
@@ -214,7 +234,7 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
         ++num_gaps;
         if (summary != nullptr && num_gaps <= kMaxGapWarnings) {
           summary->warnings.push_back(Diagnostic{
-              Severity::kWarning, reader.Where(reader.Column(time_index)),
+              Severity::kWarning, fields().Where(fields().Column(time_index)),
               fmt::format("gap of {} s in the log after line {}", FormatValue(t - previous_t),
                           previous_line),
               fmt::format("readings at most {} s apart", FormatValue(options.log_gap_warning_s))});
@@ -222,27 +242,27 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
       }
     }
     if (!(set_rh >= 0.0 && set_rh <= 1.0)) {
-      reader.Fail(reader.Column(set_index),
-                  "set-point RH " + std::string(reader.Text(set_index)) + " in column '" +
+      reader.Fail(fields().Column(set_index),
+                  "set-point RH " + std::string(fields().Text(set_index)) + " in column '" +
                       columns[1].name + "' is outside " + set_range,
                   "a relative humidity within " + set_range);
     }
     if (!(rh >= 0.0 && rh <= 1.0)) {
-      reader.Fail(reader.Column(rh_index),
-                  "measured RH " + std::string(reader.Text(rh_index)) + " in column '" +
+      reader.Fail(fields().Column(rh_index),
+                  "measured RH " + std::string(fields().Text(rh_index)) + " in column '" +
                       columns[2].name + "' is outside " + rh_range,
                   "a relative humidity within " + rh_range);
     }
     if (!(temperature_K >= kMinPlausibleTemperature_K &&
           temperature_K <= kMaxPlausibleTemperature_K)) {
-      reader.Fail(reader.Column(temperature_index),
-                  "temperature " + std::string(reader.Text(temperature_index)) + " in column '" +
+      reader.Fail(fields().Column(temperature_index),
+                  "temperature " + std::string(fields().Text(temperature_index)) + " in column '" +
                       columns[3].name + "' is implausible for a sorption test",
                   "a temperature within -50..150 degC (223.15..423.15 K)");
     }
     if (!(mass_g > 0.0)) {
-      reader.Fail(reader.Column(mass_index),
-                  "mass " + std::string(reader.Text(mass_index)) + " in column '" +
+      reader.Fail(fields().Column(mass_index),
+                  "mass " + std::string(fields().Text(mass_index)) + " in column '" +
                       columns[4].name + "' is not positive",
                   "a balance reading above zero");
     }

@@ -1,9 +1,9 @@
 // Rounding rule (JCGM 100:2008, 7.2.6): the expanded uncertainty is given to at most two
 // significant digits and the value is rounded to the same decimal place. Rounding is to the
-// nearest (ties away from zero on the decimal digits as printed by fmt, which rounds the exact
-// binary value), so 0.00123 -> "0.0012" and 0.00125 -> "0.0013" only when the binary value is
-// above the tie. Digits are produced by fmt's exact fixed-point formatting, never by repeated
-// floating-point scaling, so no "0.30000000000000004" can appear.
+// nearest; an exact tie (possible only for values exactly representable in binary, such as
+// 1234.5) goes to the even digit, rule B of ISO 80000-1:2009 Annex B (from memory) and the
+// behaviour of C printf. Digits come from fmt's exact fixed-point formatting of the binary
+// value, never from repeated floating-point scaling, so no "0.30000000000000004" can appear.
 #include "pipeline/report/format.h"
 
 #include <fmt/format.h>
@@ -37,7 +37,7 @@ int DecimalExponent(double x) { return static_cast<int>(std::floor(std::log10(st
 // Formats x rounded to the decimal place 10^place (place may be negative).
 std::string AtPlace(double x, int place) {
   if (place < 0) return StripNegativeZero(fmt::format("{:.{}f}", x, -place));
-  const double scaled = std::round(x / std::pow(10.0, place));
+  const double scaled = place == 0 ? x : x / std::pow(10.0, place);
   std::string digits = StripNegativeZero(fmt::format("{:.0f}", scaled));
   if (digits != "0") digits.append(static_cast<size_t>(place), '0');
   return digits;

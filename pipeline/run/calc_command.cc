@@ -572,7 +572,9 @@ void AddCalcCommand(CLI::App& app, int& exit_code) {
   auto water = std::make_shared<WaterArgs>();
   CLI::App* water_cmd =
       calc->add_subcommand("water", "saturation pressure, density and surface tension of water");
-  water_cmd->add_option("--temp", water->temperature, "temperature, e.g. 25C or 298.15K")
+  water_cmd
+      ->add_option("--temp", water->temperature,
+                   "temperature, e.g. 25C or 298.15K (below zero: --temp=-5C)")
       ->required();
   AddJsonFlag(water_cmd, &water->json);
   water_cmd->callback(
@@ -581,7 +583,8 @@ void AddCalcCommand(CLI::App& app, int& exit_code) {
   auto air = std::make_shared<AirArgs>();
   CLI::App* air_cmd = calc->add_subcommand(
       "air", "vapour pressure, absolute humidity, humidity ratio, dew point, suction and pF");
-  air_cmd->add_option("--temp", air->temperature, "air temperature, e.g. 23C")->required();
+  air_cmd->add_option("--temp", air->temperature, "air temperature, e.g. 23C or 296.15K")
+      ->required();
   AddRhOptions(air_cmd, &air->rh);
   air_cmd->add_option("--pressure", air->pressure, "total pressure, e.g. 101.325kPa")
       ->capture_default_str();

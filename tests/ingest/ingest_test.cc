@@ -275,6 +275,31 @@ TEST(VaporLogTest, DeclaredUnits) {
   EXPECT_EQ(in_mg.steps[3].blocks[0].mass_g, 0.2510 / 1000.0);
 }
 
+// Plain rows take the reader's fast path, the others (quotes, spaces, exponents, '+') the
+// general one; both give the same correctly rounded values. BOM, CRLF, blank and empty rows.
+TEST(VaporLogTest, FastAndGeneralPathsAgree) {
+  DataSetSpec dataset;
+  dataset.id = "mixed";
+  dataset.method = Method::kVaporLog;
+  dataset.file = kFixtures + "vapour_log_mixed.csv";
+  IngestOptions options;
+  options.log_block_s = 5.0;  // one row per block
+  const VaporLog log = ReadVaporLog(dataset, options, nullptr);
+  EXPECT_EQ(log.num_rows, 4);
+  ASSERT_EQ(log.steps.size(), 1u);
+  const auto& blocks = log.steps[0].blocks;
+  ASSERT_EQ(blocks.size(), 4u);
+  EXPECT_EQ(blocks[0].mass_g, 1000.5 / 1000.0);
+  EXPECT_EQ(blocks[1].time_s, 10.0);
+  EXPECT_EQ(blocks[1].rh_measured_fraction, 50.1 / 100.0);
+  EXPECT_EQ(blocks[1].mass_g, 1000.75 / 1000.0);
+  EXPECT_EQ(blocks[2].temperature_K, 25.0 + kZeroCelsius_K);
+  EXPECT_EQ(blocks[2].mass_g, 1001.0 / 1000.0);
+  EXPECT_EQ(blocks[3].mass_g, 1001.25 / 1000.0);
+  EXPECT_EQ(log.steps[0].last_line, 7);
+  EXPECT_EQ(log.steps[0].set_rh_fraction, 50.0 / 100.0);
+}
+
 TEST(RetentionTest, PfAndPercent) {
   const JobSpec job = LoadJobSpec(kFixtures + "job_basic.toml");
   const auto points = ReadRetentionPoints(job, *job.retention);

@@ -1,5 +1,7 @@
 // The model registry, model metadata, and the automatic derivatives of every registered model
 // against central finite differences.
+#include "fitters/registry.h"
+
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -9,7 +11,6 @@
 #include <string>
 #include <vector>
 
-#include "fitters/registry.h"
 #include "tests/models/typical_parameters.h"
 
 namespace sorbtrace::fitters {
@@ -19,8 +20,8 @@ using testing::TypicalParameters;
 
 TEST(RegistryTest, ListsTheIsothermModels) {
   const std::vector<std::string> expected = {
-      "gab",     "bet",     "bet_n",  "vangenuchten", "vangenuchten_free_m", "durner2",
-      "durner3", "oswin",   "halsey", "henderson",    "peleg"};
+      "gab",   "bet",    "bet_n",     "vangenuchten", "vangenuchten_free_m", "durner2", "durner3",
+      "oswin", "halsey", "henderson", "peleg"};
   EXPECT_EQ(ModelNames(), expected);
   EXPECT_EQ(AllModels().size(), expected.size());
 }
@@ -67,8 +68,7 @@ TEST(RegistryTest, MetadataIsComplete) {
       EXPECT_GT(p[i], info.parameters[i].lower_bound) << info.parameters[i].name;
       EXPECT_LT(p[i], info.parameters[i].upper_bound) << info.parameters[i].name;
     }
-    EXPECT_TRUE(model->PhysicalFlags(p.data()).empty())
-        << model->PhysicalFlags(p.data()).front();
+    EXPECT_TRUE(model->PhysicalFlags(p.data()).empty()) << model->PhysicalFlags(p.data()).front();
   }
 }
 

@@ -97,7 +97,8 @@ TEST(StartingValuesTest, EveryModelOffersAdmissibleStarts) {
     SCOPED_TRACE(model->name());
     const std::vector<Observation> good =
         NoiseFree(*model, TypicalParameters().at(model->name()), Grid(0.05, 0.95, 12));
-    for (const std::vector<Observation>* data : {&good, static_cast<const std::vector<Observation>*>(&zeros)}) {
+    for (const std::vector<Observation>* data :
+         {&good, static_cast<const std::vector<Observation>*>(&zeros)}) {
       const std::vector<std::vector<double>> starts = model->StartingPoints(*data, ModelContext{});
       ASSERT_FALSE(starts.empty());
       for (const std::vector<double>& s : starts) {

@@ -2,8 +2,8 @@
 // round-trip tests (values of the order found in hygroscopic building materials and foods;
 // invented, not taken from any material). The multimodal retention curves have pore systems
 // two decades of capillary pressure apart (alpha = 1e-4, 1e-6, 1e-8 1/Pa): drained by pressure
-// plate (1 kPa..1 MPa) and hygroscopic (RH) steps together. A model added to the registry without an entry
-// here makes the registry test fail.
+// plate (1 kPa..1 MPa) and hygroscopic (RH) steps together. A model added to the registry without
+// an entry here makes the registry test fail.
 #pragma once
 
 #include <map>

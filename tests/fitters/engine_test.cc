@@ -1,0 +1,487 @@
+// Unit tests of the fitting engine (fitters/fitter.h) against closed forms: weighted linear
+// least squares, classical regression bands, Deming regression, the runs-test formulas, and
+// the guard rails (too few points, singular Jacobian, bounds, bad input).
+#include <gtest/gtest.h>
+
+#include <Eigen/Dense>
+#include <cmath>
+#include <numeric>
+
+#include "fitters/autodiff_model.h"
+#include "fitters/fitter.h"
+#include "fitters/internal/random.h"
+#include "fitters/internal/statistics.h"
+
+namespace sorbtrace::fitters {
+namespace {
+
+ModelInfo SimpleInfo(const std::string& name, std::vector<std::string> names) {
+  ModelInfo info;
+  info.name = name;
+  for (const std::string& n : names) {
+    ParameterSpec spec;
+    spec.name = n;
+    spec.unit = "1";
+    info.parameters.push_back(spec);
+  }
+  return info;
+}
+
+// y = a + b x.
+struct Line {
+  static constexpr int kNumParameters = 2;
+  static constexpr int kNumInputs = 1;
+  static ModelInfo Info() { return SimpleInfo("line", {"a", "b"}); }
+  template <typename T>
+  static T Evaluate(const T* p, const T* x, const ModelContext&) {
+    return p[0] + p[1] * x[0];
+  }
+  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>&,
+                                                         const ModelContext&) {
+    return {{0.0, 0.0}};
+  }
+  static std::vector<std::string> PhysicalFlags(const double* p) {
+    if (p[1] < 0.0) return {"slope b < 0"};
+    return {};
+  }
+};
+
+// y = a b x: only the product is identifiable (rank-deficient Jacobian).
+struct Product {
+  static constexpr int kNumParameters = 2;
+  static constexpr int kNumInputs = 1;
+  static ModelInfo Info() { return SimpleInfo("product", {"a", "b"}); }
+  template <typename T>
+  static T Evaluate(const T* p, const T* x, const ModelContext&) {
+    return p[0] * p[1] * x[0];
+  }
+  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>&,
+                                                         const ModelContext&) {
+    return {{1.0, 1.0}};
+  }
+  static std::vector<std::string> PhysicalFlags(const double*) { return {}; }
+};
+
+// y = a exp(-k x) with k bounded above by 0.1.
+struct BoundedDecay {
+  static constexpr int kNumParameters = 2;
+  static constexpr int kNumInputs = 1;
+  static ModelInfo Info() {
+    ModelInfo info = SimpleInfo("decay", {"a", "k"});
+    info.parameters[1].lower_bound = 0.0;
+    info.parameters[1].upper_bound = 0.1;
+    return info;
+  }
+  template <typename T>
+  static T Evaluate(const T* p, const T* x, const ModelContext&) {
+    using std::exp;
+    return p[0] * exp(-p[1] * x[0]);
+  }
+  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>&,
+                                                         const ModelContext&) {
+    return {{1.0, 0.05}};
+  }
+  static std::vector<std::string> PhysicalFlags(const double*) { return {}; }
+};
+
+// Invented data, roughly y = 1 + 2x with scatter; sigma_y differ to exercise the weights.
+std::vector<Observation> LineData() {
+  const double x[] = {0.0, 1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0};
+  const double y[] = {1.10, 2.85, 5.20, 6.90, 9.15, 10.80, 13.30, 14.95};
+  const double sigma[] = {0.1, 0.2, 0.1, 0.3, 0.2, 0.1, 0.4, 0.2};
+  std::vector<Observation> data;
+  for (int i = 0; i < 8; ++i) {
+    Observation o;
+    o.x = {x[i], 0.0};
+    o.y = y[i];
+    o.sigma_y = sigma[i];
+    data.push_back(o);
+  }
+  return data;
+}
+
+// Weighted least squares by the normal equations: beta = (X'WX)^-1 X'Wy (e.g. N. R. Draper,
+// H. Smith, Applied Regression Analysis, 3rd ed., Wiley 1998, sec. 9.2).
+struct ClosedFormLine {
+  Eigen::Vector2d beta;
+  Eigen::Matrix2d inverse_normal;  // (X'WX)^-1
+  double weighted_ssr = 0.0;
+};
+ClosedFormLine SolveLine(const std::vector<Observation>& data) {
+  Eigen::MatrixXd X(data.size(), 2);
+  Eigen::VectorXd y(data.size()), w(data.size());
+  for (std::size_t i = 0; i < data.size(); ++i) {
+    X(static_cast<Eigen::Index>(i), 0) = 1.0;
+    X(static_cast<Eigen::Index>(i), 1) = data[i].x[0];
+    y(static_cast<Eigen::Index>(i)) = data[i].y;
+    w(static_cast<Eigen::Index>(i)) = 1.0 / (data[i].sigma_y * data[i].sigma_y);
+  }
+  ClosedFormLine c;
+  const Eigen::Matrix2d normal = X.transpose() * w.asDiagonal() * X;
+  c.inverse_normal = normal.inverse();
+  c.beta = c.inverse_normal * (X.transpose() * w.asDiagonal() * y);
+  const Eigen::VectorXd r = y - X * c.beta;
+  c.weighted_ssr = r.dot(w.asDiagonal() * r);
+  return c;
+}
+
+TEST(FitModelTest, WeightedLineMatchesNormalEquations) {
+  const auto model = MakeAutoDiffModel<Line>();
+  const std::vector<Observation> data = LineData();
+  const ClosedFormLine exact = SolveLine(data);
+  const FitResult fit = FitModel(*model, data, ModelContext{}, FitOptions{});
+  ASSERT_TRUE(fit.ok()) << fit.summary.BriefReport();
+  ASSERT_TRUE(fit.summary.covariance_available);
+  EXPECT_NEAR(fit.parameters[0], exact.beta(0), 1e-10);
+  EXPECT_NEAR(fit.parameters[1], exact.beta(1), 1e-10);
+  const double s2 = exact.weighted_ssr / 6.0;  // n - p = 8 - 2
+  for (int a = 0; a < 2; ++a) {
+    for (int b = 0; b < 2; ++b) {
+      EXPECT_NEAR(fit.covariance(a, b), s2 * exact.inverse_normal(a, b),
+                  1e-10 * std::abs(s2 * exact.inverse_normal(a, a)));
+    }
+  }
+  EXPECT_NEAR(fit.statistics.weighted_ssr, exact.weighted_ssr, 1e-10 * exact.weighted_ssr);
+  EXPECT_EQ(fit.statistics.degrees_of_freedom, 6);
+  EXPECT_NEAR(fit.correlation(0, 1),
+              exact.inverse_normal(0, 1) /
+                  std::sqrt(exact.inverse_normal(0, 0) * exact.inverse_normal(1, 1)),
+              1e-10);
+  EXPECT_DOUBLE_EQ(fit.correlation(0, 0), 1.0);
+  // Student-t, 6 degrees of freedom, 97.5 % quantile = 2.446912 (e.g. NIST/SEMATECH
+  // e-Handbook of Statistical Methods, table 1.4.7.2 "Critical values of Student's t").
+  EXPECT_NEAR(fit.coverage_factor, 2.446912, 1e-6);
+  EXPECT_NEAR(fit.estimates[1].interval_high - fit.estimates[1].value,
+              2.446912 * std::sqrt(s2 * exact.inverse_normal(1, 1)), 1e-6);
+  EXPECT_NE(fit.summary.covariance_convention.find("relative"), std::string::npos);
+  // Information criteria in the documented least-squares form.
+  const double n = 8.0, k = 2.0;
+  const double aic = n * std::log(exact.weighted_ssr / n) + 2.0 * k;
+  EXPECT_NEAR(fit.statistics.aic, aic, 1e-9);
+  EXPECT_NEAR(fit.statistics.aicc, aic + 2.0 * k * (k + 1.0) / (n - k - 1.0), 1e-9);
+  EXPECT_NEAR(fit.statistics.bic, n * std::log(exact.weighted_ssr / n) + k * std::log(n), 1e-9);
+  EXPECT_TRUE(fit.summary.flags.empty()) << fit.summary.BriefReport();
+}
+
+TEST(FitModelTest, AbsoluteConventionKeepsUnscaledCovarianceAndChiSquare) {
+  const auto model = MakeAutoDiffModel<Line>();
+  std::vector<Observation> data = LineData();
+  data.resize(4);  // 2 degrees of freedom: P(chi2_2 >= q) = exp(-q / 2) exactly
+  const ClosedFormLine exact = SolveLine(data);
+  FitOptions options;
+  options.weights = WeightConvention::kAbsolute;
+  const FitResult fit = FitModel(*model, data, ModelContext{}, options);
+  ASSERT_TRUE(fit.ok());
+  EXPECT_NEAR(fit.covariance(1, 1), exact.inverse_normal(1, 1), 1e-10 * exact.inverse_normal(1, 1));
+  EXPECT_NEAR(fit.statistics.chi_square_p_value, std::exp(-exact.weighted_ssr / 2.0), 1e-10);
+  // Normal 97.5 % quantile 1.959964 (standard normal table).
+  EXPECT_NEAR(fit.coverage_factor, 1.959964, 1e-6);
+  EXPECT_NE(fit.summary.covariance_convention.find("absolute"), std::string::npos);
+}
+
+// Classical straight-line bands (Draper & Smith 1998, sec. 3.1): with s^2 = SSR/(n-2),
+//   confidence half-width t s sqrt(1/n + (x - xbar)^2 / Sxx),
+//   prediction half-width t s sqrt(1 + 1/n + (x - xbar)^2 / Sxx).
+TEST(DeltaMethodBandTest, MatchesClosedFormLinearRegressionBands) {
+  const auto model = MakeAutoDiffModel<Line>();
+  std::vector<Observation> data = LineData();
+  for (Observation& o : data) o.sigma_y = 1.0;
+  const FitResult fit = FitModel(*model, data, ModelContext{}, FitOptions{});
+  ASSERT_TRUE(fit.ok());
+  const double n = static_cast<double>(data.size());
+  double xbar = 0.0;
+  for (const Observation& o : data) xbar += o.x[0] / n;
+  double sxx = 0.0;
+  for (const Observation& o : data) sxx += (o.x[0] - xbar) * (o.x[0] - xbar);
+  const double s = fit.statistics.residual_std;
+  const double t = 2.446912;  // Student-t 97.5 %, 6 dof (NIST/SEMATECH e-Handbook table)
+  const std::vector<double> grid = {-1.0, 0.0, 3.5, 7.0, 10.0};
+  const std::vector<BandPoint> band = DeltaMethodBand(*model, fit, ModelContext{}, grid, 0.95);
+  ASSERT_EQ(band.size(), grid.size());
+  for (const BandPoint& b : band) {
+    const double lever = 1.0 / n + (b.x - xbar) * (b.x - xbar) / sxx;
+    EXPECT_NEAR(b.y, fit.parameters[0] + fit.parameters[1] * b.x, 1e-12);
+    EXPECT_NEAR(b.confidence_high - b.y, t * s * std::sqrt(lever), 1e-6);
+    EXPECT_NEAR(b.y - b.confidence_low, t * s * std::sqrt(lever), 1e-6);
+    EXPECT_NEAR(b.prediction_high - b.y, t * s * std::sqrt(1.0 + lever), 1e-6);
+  }
+}
+
+// Known sign sequences, values by hand from the Wald-Wolfowitz formulas (NIST/SEMATECH
+// e-Handbook of Statistical Methods, sec. 1.3.5.13): n1 = n2 = 10 gives mu = 11,
+// var = 2*10*10*(200-20)/(20^2*19) = 4.7368421, so R = 20 -> z = 4.135215, p = 3.5462e-5.
+TEST(RunsTest, KnownSequences) {
+  std::vector<double> alternating;
+  for (int i = 0; i < 20; ++i) alternating.push_back(i % 2 == 0 ? 1.0 : -1.0);
+  const internal::RunsTestResult a = internal::WaldWolfowitzRunsTest(alternating);
+  EXPECT_EQ(a.runs, 20);
+  EXPECT_EQ(a.num_positive, 10);
+  EXPECT_NEAR(a.z, 4.135215, 1e-6);
+  EXPECT_NEAR(a.p_value, 3.5462e-5, 1e-8);
+
+  std::vector<double> clustered(10, 1.0);
+  clustered.insert(clustered.end(), 10, -2.0);
+  const internal::RunsTestResult c = internal::WaldWolfowitzRunsTest(clustered);
+  EXPECT_EQ(c.runs, 2);
+  EXPECT_NEAR(c.z, -4.135215, 1e-6);
+
+  // + + - - - + - + + - : R = 6, n1 = n2 = 5, mu = 6 -> z = 0, p = 1. A zero is skipped.
+  const std::vector<double> random_like = {1, 2, -1, -3, 0, -1, 4, -2, 1, 1, -5};
+  const internal::RunsTestResult r = internal::WaldWolfowitzRunsTest(random_like);
+  EXPECT_EQ(r.runs, 6);
+  EXPECT_TRUE(r.defined);
+  EXPECT_NEAR(r.z, 0.0, 1e-12);
+  EXPECT_NEAR(r.p_value, 1.0, 1e-12);
+
+  const internal::RunsTestResult one_sign = internal::WaldWolfowitzRunsTest({1.0, 2.0, 3.0});
+  EXPECT_FALSE(one_sign.defined);
+  EXPECT_EQ(one_sign.p_value, 1.0);
+}
+
+TEST(FitModelTest, BoundsAreRespectedAndFlagged) {
+  const auto model = MakeAutoDiffModel<BoundedDecay>();
+  std::vector<Observation> data;
+  for (int i = 0; i < 10; ++i) {  // invented: y = 2 exp(-0.5 x), true k outside [0, 0.1]
+    Observation o;
+    o.x = {0.5 * i, 0.0};
+    o.y = 2.0 * std::exp(-0.5 * o.x[0]);
+    data.push_back(o);
+  }
+  const FitResult fit = FitModel(*model, data, ModelContext{}, FitOptions{});
+  ASSERT_EQ(fit.parameters.size(), 2u) << fit.summary.BriefReport();
+  EXPECT_LE(fit.parameters[1], 0.1);
+  EXPECT_NEAR(fit.parameters[1], 0.1, 1e-12);
+  EXPECT_TRUE(fit.estimates[1].at_bound);
+  EXPECT_FALSE(fit.estimates[0].at_bound);
+  bool flagged = false;
+  for (const std::string& f : fit.summary.flags)
+    flagged |= f.find("at its bound") != std::string::npos;
+  EXPECT_TRUE(flagged) << fit.summary.BriefReport();
+  for (const StartReport& s : fit.summary.starts) {
+    EXPECT_GE(s.solution[1], 0.0);
+    EXPECT_LE(s.solution[1], 0.1);
+  }
+}
+
+TEST(FitModelTest, TooFewPointsIsReportedNotCrashed) {
+  const auto model = MakeAutoDiffModel<Line>();
+  std::vector<Observation> data = LineData();
+  data.resize(2);
+  const FitResult two = FitModel(*model, data, ModelContext{}, FitOptions{});
+  EXPECT_EQ(two.summary.termination, FitTermination::kTooFewPoints);
+  EXPECT_FALSE(two.ok());
+  EXPECT_FALSE(two.summary.flags.empty());
+  const FitResult none = FitModel(*model, {}, ModelContext{}, FitOptions{});
+  EXPECT_EQ(none.summary.termination, FitTermination::kTooFewPoints);
+}
+
+TEST(FitModelTest, SingularJacobianIsFlagged) {
+  const auto model = MakeAutoDiffModel<Product>();
+  std::vector<Observation> data = LineData();
+  for (Observation& o : data) o.y = 3.0 * o.x[0] + 0.01 * (o.x[0] - 3.0);
+  const FitResult fit = FitModel(*model, data, ModelContext{}, FitOptions{});
+  EXPECT_FALSE(fit.summary.covariance_available);
+  bool flagged = false;
+  for (const std::string& f : fit.summary.flags) {
+    flagged |= f.find("covariance unavailable") != std::string::npos;
+  }
+  EXPECT_TRUE(flagged) << fit.summary.BriefReport();
+  ASSERT_EQ(fit.estimates.size(), 2u);
+  EXPECT_TRUE(std::isnan(fit.estimates[0].standard_error));
+  // The identifiable product is still fitted.
+  EXPECT_NEAR(fit.parameters[0] * fit.parameters[1], SolveLine(data).beta(1), 0.1);
+}
+
+TEST(FitModelTest, BadInputAndOptionsAreReportedNotCrashed) {
+  const auto model = MakeAutoDiffModel<Line>();
+  std::vector<Observation> data = LineData();
+  data[3].sigma_y = 0.0;
+  EXPECT_EQ(FitModel(*model, data, ModelContext{}, FitOptions{}).summary.termination,
+            FitTermination::kFailure);
+  data = LineData();
+  data[2].y = std::nan("");
+  EXPECT_EQ(FitModel(*model, data, ModelContext{}, FitOptions{}).summary.termination,
+            FitTermination::kFailure);
+  FitOptions bad;
+  bad.confidence_level = 1.5;
+  std::string error;
+  EXPECT_FALSE(bad.IsValid(&error));
+  EXPECT_FALSE(error.empty());
+  EXPECT_EQ(FitModel(*model, LineData(), ModelContext{}, bad).summary.termination,
+            FitTermination::kFailure);
+  FitOptions wrong_start;
+  wrong_start.starting_points = {{1.0, 2.0, 3.0}};  // p = 2
+  EXPECT_EQ(FitModel(*model, LineData(), ModelContext{}, wrong_start).summary.termination,
+            FitTermination::kFailure);
+}
+
+TEST(FitModelTest, MultiStartsAreDeterministicAndAllReported) {
+  const auto model = MakeAutoDiffModel<Line>();
+  FitOptions options;
+  options.num_multistarts = 3;
+  const FitResult a = FitModel(*model, LineData(), ModelContext{}, options);
+  const FitResult b = FitModel(*model, LineData(), ModelContext{}, options);
+  ASSERT_EQ(a.summary.starts.size(), 4u);  // 1 model start + 3 perturbations
+  EXPECT_EQ(a.summary.starts_tried, 4);
+  for (std::size_t i = 0; i < a.summary.starts.size(); ++i) {
+    EXPECT_EQ(a.summary.starts[i].start, b.summary.starts[i].start);
+    EXPECT_EQ(a.summary.starts[i].solution, b.summary.starts[i].solution);
+  }
+  EXPECT_EQ(a.parameters, b.parameters);
+}
+
+TEST(FitModelTest, PhysicalFlagsOfTheModelAreReported) {
+  const auto model = MakeAutoDiffModel<Line>();
+  std::vector<Observation> data = LineData();
+  for (Observation& o : data) o.y = 10.0 - o.y;  // negative slope
+  const FitResult fit = FitModel(*model, data, ModelContext{}, FitOptions{});
+  ASSERT_TRUE(fit.ok());
+  bool flagged = false;
+  for (const std::string& f : fit.summary.flags) flagged |= f == "physics: slope b < 0";
+  EXPECT_TRUE(flagged) << fit.summary.BriefReport();
+}
+
+// Errors in variables for a line with constant sigma_x, sigma_y is Deming regression, closed
+// form with lambda = sigma_y^2 / sigma_x^2 (W. E. Deming, Statistical Adjustment of Data,
+// Wiley 1943; P. J. Cornbleet, N. Gochman, Clin. Chem. 25 (1979) 432-438):
+//   b = (Syy - lambda Sxx + sqrt((Syy - lambda Sxx)^2 + 4 lambda Sxy^2)) / (2 Sxy),
+//   a = ybar - b xbar.
+TEST(FitModelTest, ErrorsInVariablesLineIsDemingRegression) {
+  const auto model = MakeAutoDiffModel<Line>();
+  std::vector<Observation> data = LineData();
+  for (Observation& o : data) {
+    o.sigma_y = 0.3;
+    o.sigma_x0 = 0.2;
+  }
+  data[2].x[0] += 0.25;  // invented x errors
+  data[5].x[0] -= 0.3;
+  FitOptions options;
+  options.errors_in_variables = true;
+  const FitResult fit = FitModel(*model, data, ModelContext{}, options);
+  ASSERT_TRUE(fit.ok()) << fit.summary.BriefReport();
+  const double n = static_cast<double>(data.size());
+  double xbar = 0.0, ybar = 0.0;
+  for (const Observation& o : data) {
+    xbar += o.x[0] / n;
+    ybar += o.y / n;
+  }
+  double sxx = 0.0, syy = 0.0, sxy = 0.0;
+  for (const Observation& o : data) {
+    sxx += (o.x[0] - xbar) * (o.x[0] - xbar);
+    syy += (o.y - ybar) * (o.y - ybar);
+    sxy += (o.x[0] - xbar) * (o.y - ybar);
+  }
+  const double lambda = (0.3 * 0.3) / (0.2 * 0.2);
+  const double d = syy - lambda * sxx;
+  const double slope = (d + std::sqrt(d * d + 4.0 * lambda * sxy * sxy)) / (2.0 * sxy);
+  EXPECT_NEAR(fit.parameters[1], slope, 1e-9);
+  EXPECT_NEAR(fit.parameters[0], ybar - slope * xbar, 1e-9);
+  EXPECT_NE(fit.fitted_x0[2], data[2].x[0]);  // true x moved off the observed x
+}
+
+TEST(FitModelTest, RobustLossResistsAnOutlier) {
+  const auto model = MakeAutoDiffModel<Line>();
+  std::vector<Observation> data;
+  for (int i = 0; i < 12; ++i) {  // invented: exact y = 1 + 2x, one gross outlier
+    Observation o;
+    o.x = {static_cast<double>(i), 0.0};
+    o.y = 1.0 + 2.0 * i + (i % 3 == 0 ? 0.05 : -0.03);
+    o.sigma_y = 0.05;
+    data.push_back(o);
+  }
+  data[9].y += 5.0;
+  FitOptions squared;
+  FitOptions robust;
+  robust.loss = LossKind::kCauchy;
+  robust.loss_scale = 2.0;
+  const FitResult a = FitModel(*model, data, ModelContext{}, squared);
+  const FitResult b = FitModel(*model, data, ModelContext{}, robust);
+  ASSERT_TRUE(a.ok());
+  ASSERT_TRUE(b.ok());
+  EXPECT_LT(std::abs(b.parameters[1] - 2.0), 0.2 * std::abs(a.parameters[1] - 2.0));
+  EXPECT_NE(b.summary.covariance_convention.find("Cauchy"), std::string::npos);
+}
+
+TEST(RandomTest, SameStateSameDrawsAndSaneMoments) {
+  internal::Random a(42), b(42), c(43);
+  std::vector<double> da, db, dc;
+  for (int i = 0; i < 1000; ++i) {
+    da.push_back(a.Normal());
+    db.push_back(b.Normal());
+    dc.push_back(c.Normal());
+  }
+  EXPECT_EQ(da, db);
+  EXPECT_NE(da, dc);
+  internal::Random r(7);
+  const int count = 200000;
+  double sum = 0.0, sum2 = 0.0;
+  for (int i = 0; i < count; ++i) {
+    const double z = r.Normal();
+    sum += z;
+    sum2 += z * z;
+  }
+  // Standard errors of mean and variance: 1/sqrt(N) = 0.0022 and sqrt(2/N) = 0.0032;
+  // bounds at about 5 of them.
+  EXPECT_NEAR(sum / count, 0.0, 0.011);
+  EXPECT_NEAR(sum2 / count, 1.0, 0.016);
+  for (int i = 0; i < 1000; ++i) {
+    const std::size_t k = r.Index(7);
+    EXPECT_LT(k, 7u);
+    const double u = r.Uniform();
+    EXPECT_GE(u, 0.0);
+    EXPECT_LT(u, 1.0);
+  }
+}
+
+TEST(ResampleTest, SameSeedGivesIdenticalDraws) {
+  const auto model = MakeAutoDiffModel<Line>();
+  const std::vector<Observation> data = LineData();
+  const FitOptions fit_options;
+  const FitResult fit = FitModel(*model, data, ModelContext{}, fit_options);
+  ASSERT_TRUE(fit.ok());
+  for (ResampleKind kind : {ResampleKind::kResidualBootstrap, ResampleKind::kCaseBootstrap,
+                            ResampleKind::kMonteCarloInputs}) {
+    ResampleOptions options;
+    options.kind = kind;
+    options.num_resamples = 60;
+    const ResampleResult a =
+        Resample(*model, data, ModelContext{}, fit, fit_options, options, {0.0, 5.0});
+    const ResampleResult b =
+        Resample(*model, data, ModelContext{}, fit, fit_options, options, {0.0, 5.0});
+    options.seed += 1;
+    const ResampleResult c =
+        Resample(*model, data, ModelContext{}, fit, fit_options, options, {0.0, 5.0});
+    EXPECT_EQ(a.parameter_draws, b.parameter_draws);
+    EXPECT_EQ(a.curve_low, b.curve_low);
+    EXPECT_NE(a.parameter_draws, c.parameter_draws);
+    EXPECT_EQ(static_cast<int>(a.parameter_draws.size()) + a.num_failed, 60);
+    EXPECT_LT(a.parameter_low[1], fit.parameters[1]);
+    EXPECT_GT(a.parameter_high[1], fit.parameters[1]);
+    EXPECT_LT(a.curve_low[1], a.curve_high[1]);
+  }
+}
+
+// For a straight line the fit is linear in y, so Monte Carlo propagation of the stated
+// uncertainties (absolute convention) must reproduce (X'WX)^-1 up to sampling error
+// (JCGM 101:2008, sec. 7: agreement with the law of propagation for linear models).
+TEST(ResampleTest, MonteCarloOnLineReproducesLinearPropagation) {
+  const auto model = MakeAutoDiffModel<Line>();
+  const std::vector<Observation> data = LineData();
+  FitOptions fit_options;
+  fit_options.weights = WeightConvention::kAbsolute;
+  const FitResult fit = FitModel(*model, data, ModelContext{}, fit_options);
+  ASSERT_TRUE(fit.ok());
+  ResampleOptions options;
+  options.kind = ResampleKind::kMonteCarloInputs;
+  options.num_resamples = 2000;
+  const ResampleResult mc = Resample(*model, data, ModelContext{}, fit, fit_options, options, {});
+  ASSERT_EQ(mc.num_failed, 0);
+  const ClosedFormLine exact = SolveLine(data);
+  // Relative standard error of a standard deviation from N draws: 1/sqrt(2N) = 1.6 %;
+  // 8 % is 5 of them.
+  EXPECT_NEAR(mc.parameter_std[0] / std::sqrt(exact.inverse_normal(0, 0)), 1.0, 0.08);
+  EXPECT_NEAR(mc.parameter_std[1] / std::sqrt(exact.inverse_normal(1, 1)), 1.0, 0.08);
+}
+
+}  // namespace
+}  // namespace sorbtrace::fitters

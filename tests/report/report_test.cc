@@ -1,0 +1,180 @@
+// ComposeReport on the invented fixture: every page rendered and inked, every headline value
+// printed exactly as recorded in results.json, byte-identical output, both templates, the
+// JSON schema and the CSV companions.
+#include <gtest/gtest.h>
+
+#include <nlohmann/json.hpp>
+
+#include <string>
+
+#include "pipeline/report/report.h"
+#include "tests/report/pdf_tools.h"
+#include "tests/report/report_fixture.h"
+
+namespace sorbtrace::report {
+namespace {
+
+using testing::CollapseSpaces;
+using testing::MakeReportFixture;
+using testing::PdfText;
+using testing::RenderPages;
+using testing::WriteTempFile;
+
+ReportOptions Options() {
+  ReportOptions options;
+  options.font_directory = SORBTRACE_DEFAULT_FONT_DIR;
+  options.document_date = "2026-10-15";
+  return options;
+}
+
+const Template& FullTemplate() {
+  static const Template t = LoadTemplate(SORBTRACE_SOURCE_DIR "/templates/full.toml");
+  return t;
+}
+
+// One full composition shared by the tests below (composition is pure).
+const ReportArtifacts& FullReport() {
+  static const testing::ReportFixture fixture = MakeReportFixture();
+  static const ReportArtifacts artifacts = ComposeReport(fixture.Inputs(), FullTemplate(), Options());
+  return artifacts;
+}
+
+TEST(ComposeReportTest, FullSheetPagesAreRenderedAndInked) {
+  const ReportArtifacts& a = FullReport();
+  ASSERT_GE(a.num_pages, 7);
+  EXPECT_LT(a.pdf.size(), 500u * 1024u) << "size target of the datasheet";
+  EXPECT_EQ(a.pdf.rfind("%PDF-", 0), 0u);
+  const auto pdf = WriteTempFile("full.pdf", a.pdf);
+  const auto pages = RenderPages(pdf, 40);
+  ASSERT_EQ(static_cast<int>(pages.size()), a.num_pages);
+  for (size_t i = 0; i < pages.size(); ++i) {
+    const auto& p = pages[i];
+    // A4 at 40 dpi is 331 x 468 pixels.
+    EXPECT_EQ(p.width, 331);
+    EXPECT_EQ(p.height, 468);
+    // The content area (below the header, above the footer) carries ink on every page.
+    EXPECT_GT(p.InkFraction(20, 60, p.width - 20, p.height - 50, 230), 0.005) << "page " << i + 1;
+  }
+  // Page 2 is the isotherm: its upper figure area is well inked (frame, points, band).
+  EXPECT_GT(pages[1].InkFraction(40, 70, 300, 260, 250), 0.05);
+}
+
+TEST(ComposeReportTest, HeadlineValuesArePrintedExactlyAsInTheJson) {
+  const ReportArtifacts& a = FullReport();
+  const auto json = nlohmann::ordered_json::parse(a.results_json);
+  const std::string text = CollapseSpaces(PdfText(WriteTempFile("full_text.pdf", a.pdf)));
+  ASSERT_GE(json["headline"].size(), 8u);
+  for (const auto& q : json["headline"]) {
+    const std::string printed = q["text"].get<std::string>();
+    EXPECT_NE(text.find(CollapseSpaces(printed)), std::string::npos)
+        << q["key"] << ": " << printed;
+  }
+  // The moisture content at 23 °C / 50 % RH of the fixture: GAB (X_m 0.00951, C 13.6,
+  // K 0.8213) gives 0.014596 kg/kg = 1.4596 % by the GAB equation (worked by hand), and
+  // U = 2 x (3.5 % of it) = 0.102 %.
+  const auto& first = json["headline"][0];
+  EXPECT_EQ(first["key"], "moisture_23C_50RH_adsorption");
+  EXPECT_EQ(first["text"], "1.46 ± 0.10 %");
+  EXPECT_EQ(first["unit"], "kg/kg");
+  EXPECT_NEAR(first["value"].get<double>(), 0.014596, 1e-6);
+  EXPECT_NE(text.find("page 1 of " + std::to_string(a.num_pages)), std::string::npos);
+  EXPECT_NE(text.find("Results apply to the specimens tested."), std::string::npos);
+  for (const auto& input : json["inputs"]) {
+    EXPECT_NE(text.find(input["sha256"].get<std::string>()), std::string::npos);
+  }
+}
+
+TEST(ComposeReportTest, ResultsJsonSchema) {
+  const auto json = nlohmann::ordered_json::parse(FullReport().results_json);
+  std::vector<std::string> keys;
+  for (auto it = json.begin(); it != json.end(); ++it) keys.push_back(it.key());
+  EXPECT_EQ(keys, (std::vector<std::string>{"schema", "software", "report", "job", "inputs",
+                                            "settings", "headline", "hygroscopicity_class",
+                                            "best_model", "cautions", "standing_statements",
+                                            "equilibria", "isotherm", "fits", "pores"}));
+  EXPECT_EQ(json["inputs"].size(), 4u);
+  EXPECT_EQ(json["inputs"][0]["role"], "job");
+  EXPECT_EQ(json["isotherm"]["points"].size(), 11u);
+  EXPECT_EQ(json["fits"]["models"].size(), 5u);
+  EXPECT_EQ(json["fits"]["models"][0]["covariance"].size(), 3u);
+  EXPECT_EQ(json["fits"]["models"][0]["notable_correlations"][0], "X_m–C: r = -0.962");
+  EXPECT_EQ(json["fits"]["ranking"][0]["order"][0]["model"], "gab");
+  EXPECT_EQ(json["pores"]["distributions"].size(), 2u);
+  EXPECT_EQ(json["hygroscopicity_class"], "hygroscopic");
+  EXPECT_EQ(json["settings"]["equilibrium"]["min_weighings"], 3);
+  EXPECT_EQ(json["software"]["version"], "0.1.0-test");
+  // Every isotherm point records value, unit, uncertainties and the printed text.
+  const auto& m = json["isotherm"]["points"][0]["moisture"];
+  for (const char* key : {"value", "unit", "standard_uncertainty", "coverage_factor",
+                          "expanded_uncertainty", "text"}) {
+    EXPECT_TRUE(m.contains(key)) << key;
+  }
+}
+
+TEST(ComposeReportTest, CsvCompanions) {
+  const ReportArtifacts& a = FullReport();
+  ASSERT_EQ(a.csv_files.size(), 3u);
+  EXPECT_EQ(a.csv_files[0].first, "equilibrium_table.csv");
+  EXPECT_EQ(a.csv_files[1].first, "fit_parameters.csv");
+  EXPECT_EQ(a.csv_files[2].first, "pore_distribution.csv");
+  auto lines = [](const std::string& s) { return std::count(s.begin(), s.end(), '\n'); };
+  EXPECT_EQ(lines(a.csv_files[0].second), 1 + 33 + 11);  // header, specimen points, combined
+  EXPECT_EQ(lines(a.csv_files[1].second), 1 + 3 + 2 + 2 + 3 + 2);
+  EXPECT_EQ(lines(a.csv_files[2].second), 1 + 120 + 10);
+  // Values are in shortest round-trip form: the dry basis moisture re-reads exactly.
+  EXPECT_NE(a.csv_files[1].second.find(",X_m,kg/kg,0.00951,"), std::string::npos);
+}
+
+TEST(ComposeReportTest, ByteIdenticalAcrossCompositions) {
+  const testing::ReportFixture fixture = MakeReportFixture();
+  const ReportArtifacts again = ComposeReport(fixture.Inputs(), FullTemplate(), Options());
+  EXPECT_TRUE(again.pdf == FullReport().pdf);
+  EXPECT_EQ(again.results_json, FullReport().results_json);
+  EXPECT_EQ(again.csv_files, FullReport().csv_files);
+  // The date is the one given, never the clock's.
+  EXPECT_NE(again.pdf.find("/CreationDate (D:20261015000000Z"), std::string::npos);
+  ReportOptions other = Options();
+  other.document_date = "2026-10-16";
+  const ReportArtifacts later = ComposeReport(fixture.Inputs(), FullTemplate(), other);
+  EXPECT_FALSE(later.pdf == again.pdf);
+  EXPECT_EQ(later.pdf.size(), again.pdf.size());
+}
+
+TEST(ComposeReportTest, SummaryTemplateIsOnePage) {
+  const testing::ReportFixture fixture = MakeReportFixture();
+  const Template t = LoadTemplate(SORBTRACE_SOURCE_DIR "/templates/summary.toml");
+  const ReportArtifacts a = ComposeReport(fixture.Inputs(), t, Options());
+  EXPECT_EQ(a.num_pages, 1);
+  const auto pdf = WriteTempFile("summary.pdf", a.pdf);
+  const auto pages = RenderPages(pdf, 40);
+  ASSERT_EQ(pages.size(), 1u);
+  EXPECT_GT(pages[0].InkFraction(20, 60, pages[0].width - 20, pages[0].height - 50, 230), 0.01);
+  const std::string text = CollapseSpaces(PdfText(pdf));
+  EXPECT_NE(text.find("Moisture sorption summary"), std::string::npos);
+  EXPECT_NE(text.find("1.46 ± 0.10 %"), std::string::npos);
+  EXPECT_NE(text.find("page 1 of 1"), std::string::npos);
+}
+
+TEST(ComposeReportTest, LetterPagesAndKilogramUnits) {
+  const testing::ReportFixture fixture = MakeReportFixture();
+  Template t = FullTemplate();
+  t.page_size = PageSize::kLetter;
+  t.moisture_in_percent = false;
+  const ReportArtifacts a = ComposeReport(fixture.Inputs(), t, Options());
+  const auto pages = RenderPages(WriteTempFile("letter.pdf", a.pdf), 40);
+  ASSERT_FALSE(pages.empty());
+  EXPECT_EQ(pages[0].width, 340);   // 8.5 in x 40 dpi
+  EXPECT_EQ(pages[0].height, 440);  // 11 in x 40 dpi
+  const auto json = nlohmann::ordered_json::parse(a.results_json);
+  EXPECT_EQ(json["headline"][0]["text"], "0.0146 ± 0.0010 kg/kg");
+}
+
+TEST(ComposeReportTest, MissingFontIsAnInputError) {
+  const testing::ReportFixture fixture = MakeReportFixture();
+  ReportOptions options = Options();
+  options.font_directory = "/nonexistent/fonts";
+  EXPECT_THROW(ComposeReport(fixture.Inputs(), FullTemplate(), options), InputError);
+}
+
+}  // namespace
+}  // namespace sorbtrace::report
