@@ -476,8 +476,8 @@ int main(int argc, char** argv) {
   }
 
   // ---- 2. Wood-fibre board, 23 degC, two adsorption/desorption cycles ----
-  const GabOfTemperature wood_ads{{0.058, 7.5, 0.78}, CelsiusToKelvin(23.0), 6000.0, 800.0};
-  const GabOfTemperature wood_des{{0.066, 9.0, 0.755}, CelsiusToKelvin(23.0), 6000.0, 800.0};
+  const GabOfTemperature wood_ads{{0.058, 7.5, 0.78}, CelsiusToKelvin(23.0), 12000.0, 2500.0};
+  const GabOfTemperature wood_des{{0.066, 9.0, 0.755}, CelsiusToKelvin(23.0), 12000.0, 2500.0};
   {
     Random rng(0x574f4f4446494252ULL);
     LogSettings s;
