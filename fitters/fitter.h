@@ -83,8 +83,8 @@ struct ParameterEstimate {
   std::string name;
   std::string unit;
   double value = 0.0;
-  double standard_error = 0.0;
-  double interval_low = 0.0;
+  double standard_error = 0.0;  // NaN without a covariance
+  double interval_low = 0.0;    // value -+ coverage_factor * standard_error
   double interval_high = 0.0;
   bool at_bound = false;
 };
@@ -116,7 +116,9 @@ struct FitResult {
   std::string model_name;
   std::vector<double> parameters;
   std::vector<ParameterEstimate> estimates;
-  Eigen::MatrixXd covariance;   // p x p, after the convention in summary
+  // p x p, after the convention in summary; 0 x 0 when summary.covariance_available is
+  // false (standard errors and intervals are then NaN).
+  Eigen::MatrixXd covariance;
   Eigen::MatrixXd correlation;  // p x p
   FitStatistics statistics;
   std::vector<double> fitted;     // f(x_i) at the solution
@@ -164,13 +166,13 @@ enum class ResampleKind {
 struct ResampleOptions {
   ResampleKind kind = ResampleKind::kResidualBootstrap;
   int num_resamples = 1000;
-  std::uint64_t seed = 20261201;  // results are a pure function of inputs and seed
+  std::uint64_t seed = 20261201;  // results are a pure function of the inputs and this value
   double confidence_level = 0.95;
 };
 
 // Percentile intervals of parameters and of the curve on x_grid from resampled refits
 // (warm-started from the full-data solution, no multi-starts). Draws come from one
-// std::mt19937_64 stream started at options.seed, with our own uniform/Box-Muller transforms.
+// std::mt19937_64 stream whose initial state is ResampleOptions::seed, with our own uniform/Box-Muller transforms.
 //  - residual bootstrap: weighted residuals e_i = (y_i - f_i) / sigma_i, centred and scaled by
 //    sqrt(n / (n - p)) (Davison & Hinkley 1997, Bootstrap Methods and their Application,
 //    sec. 6.2.3), y*_i = f_i + sigma_i e*_j with j drawn uniformly;

@@ -7,8 +7,8 @@
 //   static constexpr int kNumParameters;   // p
 //   static constexpr int kNumInputs;       // 1 or 2 predictors
 //   static ModelInfo Info();               // name, title, equation text, source, parameters
-//   template <typename T>
-//   static T Evaluate(const T* params, const T* x, const ModelContext& context);
+//   template <typename T>   // T = double or ceres::Jet: write it generically (using std::exp;
+//   static T Evaluate(const T* params, const T* x, const ModelContext& context);  // exp(...))
 //   static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>&,
 //                                                          const ModelContext&);
 //   static std::vector<std::string> PhysicalFlags(const double* params);  // may return {}

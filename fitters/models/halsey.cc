@@ -8,6 +8,12 @@
 
 namespace sorbtrace::fitters::models {
 
+namespace {
+// Lower bound of A: the equation takes ln(A), so the bound is a tiny positive number instead
+// of 0 (where the value and its derivative are not finite). Far below any physical value.
+constexpr double kMinPositive = 1e-12;
+}  // namespace
+
 ModelInfo HalseyEquation::Info() {
   ModelInfo info;
   info.name = "halsey";
@@ -19,7 +25,7 @@ ModelInfo HalseyEquation::Info() {
   info.x_min = 0.0;
   info.x_max = 1.0;
   info.parameters = {
-      {"A", "(kg/kg)^B", 0.0, 1000.0, "energy constant"},
+      {"A", "(kg/kg)^B", kMinPositive, 1000.0, "energy constant"},
       {"B", "1", 0.05, 20.0, "exponent"},
   };
   return info;

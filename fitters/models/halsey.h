@@ -3,7 +3,7 @@
 //   a_w = exp(-A / u^B)   <=>   u(a_w) = (A / (-ln a_w))^(1/B)
 // x[0] = a_w (rh_fraction, 0 < a_w < 1), u = moisture content kg/kg dry basis.
 // Parameters:
-//   0  A  (kg/kg)^B  [0, 1000]  energy constant (u^B at which -ln a_w = 1)
+//   0  A  (kg/kg)^B  [1e-12, 1000]  energy constant (u^B at which -ln a_w = 1)
 //   1  B  1          [0.05, 20] exponent (3 for van der Waals multilayers in Halsey's theory)
 // Source: G. Halsey, J. Chem. Phys. 16 (1948) 931 (from memory).
 // Starting values: weighted straight line ln u = (1/B) ln A - (1/B) ln(-ln a_w).

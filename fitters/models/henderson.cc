@@ -8,6 +8,12 @@
 
 namespace sorbtrace::fitters::models {
 
+namespace {
+// Lower bound of k: the equation takes ln(k), so the bound is a tiny positive number instead
+// of 0 (where the value and its derivative are not finite). Far below any physical value.
+constexpr double kMinPositive = 1e-12;
+}  // namespace
+
 ModelInfo HendersonEquation::Info() {
   ModelInfo info;
   info.name = "henderson";
@@ -19,7 +25,7 @@ ModelInfo HendersonEquation::Info() {
   info.x_min = 0.0;
   info.x_max = 1.0;
   info.parameters = {
-      {"k", "(kg/kg)^-n", 0.0, 1.0e6, "constant (includes the temperature factor)"},
+      {"k", "(kg/kg)^-n", kMinPositive, 1.0e6, "constant (includes the temperature factor)"},
       {"n", "1", 0.05, 20.0, "exponent"},
   };
   return info;

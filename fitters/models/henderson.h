@@ -5,7 +5,7 @@
 // is absorbed in k = k' T. x[0] = a_w (rh_fraction, 0 <= a_w < 1), u = moisture content kg/kg
 // dry basis (k therefore has the unit (kg/kg)^-n and differs from tables written with u in %).
 // Parameters:
-//   0  k  (kg/kg)^-n  [0, 1e6]    constant
+//   0  k  (kg/kg)^-n  [1e-12, 1e6]  constant
 //   1  n  1           [0.05, 20]  exponent
 // Source: S. M. Henderson, Agric. Eng. 33 (1952) 29 (from memory).
 // Starting values: weighted straight line ln u = (1/n) ln(-ln(1 - a_w)) - (1/n) ln k.

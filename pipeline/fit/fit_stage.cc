@@ -151,23 +151,17 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   }
   for (const std::string& flag : fit.result.summary.flags) AddFlag(&fit.flags, flag);
   if (!fit.result.ok()) {
-    AddFlag(&fit.flags, fmt::format("not converged: {}", fit.result.summary.message));
+    if (fit.flags.empty()) {
+      AddFlag(&fit.flags, fmt::format("not converged: {}", fit.result.summary.message));
+    }
     return fit;
   }
   ++summary->fits_converged;
 
+  // The engine's flags already cover parameters at a bound, physically doubtful values
+  // ("physics: ..."), a missing covariance and poorly determined parameters.
   for (const fitters::ParameterEstimate& estimate : fit.result.estimates) {
     fit.expanded_uncertainty.push_back(coverage_factor * estimate.standard_error);
-    if (estimate.at_bound) {
-      AddFlag(&fit.flags,
-              fmt::format("parameter {} at a bound ({:.6g})", estimate.name, estimate.value));
-    }
-  }
-  for (const std::string& flag : model.PhysicalFlags(fit.result.parameters.data())) {
-    AddFlag(&fit.flags, flag);
-  }
-  if (!fit.result.summary.covariance_available) {
-    AddFlag(&fit.flags, "no covariance: parameter intervals and bands unavailable");
   }
 
   const std::vector<double> grid =
@@ -252,7 +246,7 @@ void Rank(IsothermFits* fits) {
       ModelFit& fit = fits->fits[candidates[r]];
       fit.rank = static_cast<int>(r) + 1;
       if (std::isnan(fit.result.statistics.aicc)) {
-        AddFlag(&fit.flags, "AICc undefined (n - p - 1 <= 0): ranked last");
+        AddFlag(&fit.flags, "ranked last: AICc undefined");
       }
     }
     if (!candidates.empty()) fits->best_fit_per_group[g] = candidates.front();

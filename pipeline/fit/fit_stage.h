@@ -82,7 +82,7 @@ struct ModelFit {
 
 struct FitStageSummary {
   std::vector<Diagnostic> warnings;
-  int fits_attempted = 0;
+  int fits_attempted = 0;  // fitters::FitModel calls (group x model pairs with n > p)
   int fits_converged = 0;
 };
 

@@ -28,6 +28,11 @@ constexpr double kSecondsPerDay = 86400.0;
 constexpr double kPascalPerMegapascal = 1e6;
 constexpr size_t kMaxSummaryCautions = 12;  // longer lists are completed in results.json
 
+// The coverage factor as printed: "2" for k = 2, "2.3" otherwise.
+std::string CoverageText(double k) {
+  return std::abs(k - std::round(k)) < 1e-9 ? FormatFixed(k, 0) : FormatSignificant(k, 2);
+}
+
 struct Context {
   const ReportInputs& inputs;
   const Template& layout;
@@ -110,7 +115,7 @@ plot::Figure IsothermFigure(const Context& ctx, bool with_secondary) {
   fig.x.max = 100.0;
   fig.x.num_ticks = 6;
   fig.y.label = ctx.sheet.moisture_axis_label;
-  fig.y.include_zero = true;
+  fig.y.min = 0.0;  // moisture contents are not negative; a band dipping below 0 is clipped
   const double ms = ctx.moisture_scale();
   const std::vector<double> temperatures = DistinctTemperatures(ctx.inputs);
   const double k = ctx.sheet.rules.coverage_factor;
@@ -264,7 +269,7 @@ void SummarySection(Context& ctx, bool compact) {
   doc.KeyValues(facts, 90.0);
 
   doc.Subheading(fmt::format("Results (expanded uncertainty U, k = {})",
-                             FormatSignificant(ctx.sheet.rules.coverage_factor, 3)));
+                             CoverageText(ctx.sheet.rules.coverage_factor)));
   std::vector<std::vector<std::string>> rows;
   for (const Quantity& q : ctx.sheet.headline) rows.push_back({q.label, q.text});
   rows.push_back({"Hygroscopicity class (Ph. Eur. 5.11)", ctx.sheet.hygroscopicity_class});
@@ -273,9 +278,25 @@ void SummarySection(Context& ctx, bool compact) {
   const double w = doc.width();
   doc.Table({{"Quantity", w * 0.60, false}, {"Value ± U", w * 0.40, false}}, rows, 8.0);
 
+  std::vector<std::string> cautions = ctx.sheet.cautions;
+  const size_t limit = compact ? 4 : kMaxSummaryCautions;
+  if (cautions.size() > limit) {
+    const size_t more = cautions.size() - (limit - 1);
+    cautions.resize(limit - 1);
+    cautions.push_back(fmt::format("… and {} further notes (results.json, \"cautions\").", more));
+  }
+  if (cautions.empty()) cautions.push_back("No measurement or fitting cautions were raised.");
+  cautions.push_back(compact ? ctx.sheet.standing_cautions[0] + " " + ctx.sheet.standing_cautions[1]
+                             : "See section 8 for the conditions of use of these results.");
   if (compact) {
-    // The small isotherm figure of the one-page summary.
-    const double height = 200.0;
+    // The isotherm figure of the one-page summary takes what the cautions and the
+    // signatories leave.
+    double reserved = 30.0;  // cautions heading
+    for (const std::string& c : cautions) {
+      reserved += 8.0 * 1.32 * static_cast<double>(doc.canvas().Wrap(c, 8.0, doc.width() - 12.0).size()) + 1.5;
+    }
+    if (!ctx.layout.signatories.empty()) reserved += 90.0;
+    const double height = std::clamp(doc.cursor() - doc.bottom() - reserved - 8.0, 110.0, 260.0);
     doc.EnsureSpace(height + 8.0);
     doc.Skip(8.0);
     plot::Figure fig = IsothermFigure(ctx, false);
@@ -285,16 +306,6 @@ void SummarySection(Context& ctx, bool compact) {
   }
 
   doc.Subheading("Cautions");
-  std::vector<std::string> cautions = ctx.sheet.cautions;
-  const size_t limit = compact ? 5 : kMaxSummaryCautions;
-  if (cautions.size() > limit) {
-    const size_t more = cautions.size() - (limit - 1);
-    cautions.resize(limit - 1);
-    cautions.push_back(fmt::format("… and {} further notes (results.json, \"cautions\").", more));
-  }
-  if (cautions.empty()) cautions.push_back("No measurement or fitting cautions were raised.");
-  cautions.push_back(compact ? ctx.sheet.standing_cautions[0] + " " + ctx.sheet.standing_cautions[1]
-                             : "See section 8 for the conditions of use of these results.");
   doc.Bullets(cautions, 8.0);
 
   // Signatories.
@@ -325,8 +336,8 @@ void IsothermSection(Context& ctx) {
   Document& doc = ctx.doc;
   doc.NewPage();
   doc.Heading(ctx.NextHeading("Sorption isotherm"));
-  const double main_height = 360.0;
-  const double residual_height = 140.0;
+  const double main_height = 400.0;
+  const double residual_height = 150.0;
   doc.EnsureSpace(main_height + residual_height);
   plot::Figure fig = IsothermFigure(ctx, true);
   fig.font_size_pt = 7.5;
@@ -339,7 +350,7 @@ void IsothermSection(Context& ctx) {
       "moisture content. Curves: best model of each branch (lowest AICc) with its confidence "
       "band of the mean curve (delta method). Top axis: capillary pressure of the pore water "
       "in equilibrium with the RH (Kelvin equation).",
-      FormatSignificant(ctx.sheet.rules.coverage_factor, 3));
+      CoverageText(ctx.sheet.rules.coverage_factor));
   const double caption = plot::CaptionHeight(doc.canvas(), res, doc.width());
   plot::DrawFigure(doc.canvas(), res,
                    {doc.left(), doc.cursor() - residual_height - caption, doc.width(),
@@ -354,7 +365,7 @@ void ModelsSection(Context& ctx) {
   doc.Paragraph(fmt::format("Parameters with expanded uncertainty U (k = {}); correlations with "
                             "|r| > 0.95 are listed below the parameters. RMSE in {}; MRD: mean "
                             "relative deviation; rank by AICc within each branch.",
-                            FormatSignificant(ctx.sheet.rules.coverage_factor, 3),
+                            CoverageText(ctx.sheet.rules.coverage_factor),
                             ctx.sheet.moisture_unit),
                 8.0, 0.0, palette::kSlate);
   const double w = doc.width();
@@ -532,6 +543,7 @@ void KineticsSection(Context& ctx) {
     plot::Figure fig;
     fig.title = "Mass and RH against time: " + log.dataset_id + ", specimen " + log.specimen_id;
     fig.x.label = "time (h)";
+    fig.x.min = 0.0;
     fig.y.label = "mass (g)";
     fig.y_right = plot::Axis{};
     fig.y_right->label = "RH (%)";
@@ -558,7 +570,9 @@ void KineticsSection(Context& ctx) {
         rh.x.push_back(p.time_s / kSecondsPerHour);
         rh.y.push_back(p.rh_fraction * 100.0);
       }
-      for (double t : trace->equilibrium_times_s) fig.events.push_back({t / kSecondsPerHour});
+      for (double t : trace->equilibrium_times_s) {
+        fig.events.push_back({t / kSecondsPerHour, palette::kSlate.Tint(0.35), 0.5});
+      }
     } else {
       for (const ingest::VaporLogStep& step : log.steps) {
         for (const ingest::LogBlock& b : step.blocks) {
@@ -580,6 +594,7 @@ void KineticsSection(Context& ctx) {
     plot::Figure fig;
     fig.title = "Mass against time per step and specimen: " + series.dataset_id;
     fig.x.label = "time since the first weighing (d)";
+    fig.x.min = 0.0;
     fig.y.label = "mass (g)";
     std::map<std::string, int> specimen_index;
     std::set<double> step_starts;
@@ -624,7 +639,7 @@ void EquilibriaSection(Context& ctx) {
   doc.Paragraph(fmt::format("Combined specimens per step. U: expanded uncertainty (k = {}); "
                             "spread: between-specimen standard deviation; t_eq: time to "
                             "equilibrium (longest specimen).",
-                            FormatSignificant(ctx.sheet.rules.coverage_factor, 3)),
+                            CoverageText(ctx.sheet.rules.coverage_factor)),
                 8.0, 0.0, palette::kSlate);
   const double w = doc.width();
   const std::string mu = ctx.sheet.moisture_unit;

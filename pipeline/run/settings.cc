@@ -2,6 +2,7 @@
 // defaults (each stage's Options) and the report template. Every key is checked: an unknown
 // key, a wrong type or an out-of-range value is an InputError naming file, line, column, key.
 #include <cmath>
+#include <filesystem>
 #include <set>
 #include <string>
 #include <toml++/toml.h>
@@ -354,6 +355,20 @@ JobSettings LoadJobSettings(const std::filesystem::path& job_file, const ingest:
   }
   JobSettings settings;
   settings.template_file = ResolveTemplate(job.template_name, job_file.parent_path());
+  if (!std::filesystem::is_regular_file(settings.template_file)) {
+    // Located at the job's `template` key: that is the line to correct.
+    const toml::node* node = root["job"]["template"].node();
+    SourceLocation where{file, 0, 0};
+    if (node != nullptr) {
+      where.line = static_cast<int>(node->source().begin.line);
+      where.column = static_cast<int>(node->source().begin.column);
+    }
+    throw InputError(where,
+                     "report template '" + job.template_name + "' not found (looked for " +
+                         settings.template_file.string() + ")",
+                     "a template name of templates/ (e.g. \"full\") or a template file, relative "
+                     "to the job file");
+  }
   // The template supplies the reference conditions unless the job overrides them.
   const report::Template layout = report::LoadTemplate(settings.template_file);
   if (!layout.reference_conditions.empty()) {

@@ -123,6 +123,23 @@ TEST(FitStageTest, RanksGabAboveBetOnFullRangeGabData) {
   EXPECT_EQ(fits.fits[fits.best_fit_per_group[0]].model_name, "gab");
 }
 
+TEST(FitStageTest, EngineFlagsAreCopiedIntoTheFit) {
+  reduce::ReducedIsotherms reduced;
+  NormalStream noise(14);
+  AppendBranch(BranchSpec{}, &noise, &reduced);
+  // BET widened beyond its default validity range 0.05..0.35: the engine flags the points
+  // outside the model's range; the stage must pass every engine flag on.
+  FitStageOptions options = QuickOptions({"bet"});
+  options.bet_rh_max_fraction = 1.0;
+  const IsothermFits fits = FitIsotherms(reduced, options);
+  const ModelFit& bet = FindFit(fits, 0, "bet");
+  ASSERT_FALSE(bet.result.summary.flags.empty());
+  for (const std::string& flag : bet.result.summary.flags) {
+    EXPECT_TRUE(HasFlag(bet, flag)) << flag;
+  }
+  EXPECT_TRUE(HasFlag(bet, "outside the model's range"));
+}
+
 TEST(FitStageTest, BetRestrictedToItsRangeAndNotRankedAgainstFullRangeFits) {
   reduce::ReducedIsotherms reduced;
   NormalStream noise(5);

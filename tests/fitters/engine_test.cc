@@ -315,6 +315,35 @@ TEST(FitModelTest, BadInputAndOptionsAreReportedNotCrashed) {
             FitTermination::kFailure);
 }
 
+// A model whose bounds are contradictory (lower > upper) is a programming error in the
+// model; the engine must report it, not abort.
+struct InvertedBounds {
+  static constexpr int kNumParameters = 1;
+  static constexpr int kNumInputs = 1;
+  static ModelInfo Info() {
+    ModelInfo info = SimpleInfo("inverted", {"a"});
+    info.parameters[0].lower_bound = 1.0;
+    info.parameters[0].upper_bound = 0.0;
+    return info;
+  }
+  template <typename T>
+  static T Evaluate(const T* p, const T* x, const ModelContext&) {
+    return p[0] * x[0];
+  }
+  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>&,
+                                                         const ModelContext&) {
+    return {{0.5}};
+  }
+  static std::vector<std::string> PhysicalFlags(const double*) { return {}; }
+};
+
+TEST(FitModelTest, ContradictoryBoundsAreReportedNotCrashed) {
+  const auto model = MakeAutoDiffModel<InvertedBounds>();
+  const FitResult fit = FitModel(*model, LineData(), ModelContext{}, FitOptions{});
+  EXPECT_FALSE(fit.ok());
+  EXPECT_FALSE(fit.summary.flags.empty()) << fit.summary.BriefReport();
+}
+
 TEST(FitModelTest, MultiStartsAreDeterministicAndAllReported) {
   const auto model = MakeAutoDiffModel<Line>();
   FitOptions options;
@@ -433,7 +462,7 @@ TEST(RandomTest, SameStateSameDrawsAndSaneMoments) {
   }
 }
 
-TEST(ResampleTest, SameSeedGivesIdenticalDraws) {
+TEST(ResampleTest, SameRandomStateGivesIdenticalDraws) {
   const auto model = MakeAutoDiffModel<Line>();
   const std::vector<Observation> data = LineData();
   const FitOptions fit_options;
@@ -481,6 +510,92 @@ TEST(ResampleTest, MonteCarloOnLineReproducesLinearPropagation) {
   // 8 % is 5 of them.
   EXPECT_NEAR(mc.parameter_std[0] / std::sqrt(exact.inverse_normal(0, 0)), 1.0, 0.08);
   EXPECT_NEAR(mc.parameter_std[1] / std::sqrt(exact.inverse_normal(1, 1)), 1.0, 0.08);
+}
+
+// A Model that only offers copying residuals: the engine must then rebuild its problem for
+// every resampled data set, and get exactly the same answers as with in-place reuse.
+class CopyOnlyModel final : public Model {
+ public:
+  explicit CopyOnlyModel(const Model& inner) : inner_(inner) {}
+  const ModelInfo& info() const override { return inner_.info(); }
+  int num_inputs() const override { return inner_.num_inputs(); }
+  double Evaluate(const double* p, const double* x, const ModelContext& c) const override {
+    return inner_.Evaluate(p, x, c);
+  }
+  void Gradient(const double* p, const double* x, const ModelContext& c, double* g) const override {
+    inner_.Gradient(p, x, c, g);
+  }
+  double SlopeInX0(const double* p, const double* x, const ModelContext& c) const override {
+    return inner_.SlopeInX0(p, x, c);
+  }
+  ceres::CostFunction* NewResidual(const Observation& o, const ModelContext& c) const override {
+    return inner_.NewResidual(o, c);
+  }
+  ceres::CostFunction* NewErrorsInVariablesResidual(const Observation& o,
+                                                    const ModelContext& c) const override {
+    return inner_.NewErrorsInVariablesResidual(o, c);
+  }
+  std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>& o,
+                                                  const ModelContext& c) const override {
+    return inner_.StartingPoints(o, c);
+  }
+  std::vector<std::string> PhysicalFlags(const double* p) const override {
+    return inner_.PhysicalFlags(p);
+  }
+
+ private:
+  const Model& inner_;
+};
+
+TEST(ResampleTest, InPlaceReuseEqualsRebuildingTheProblem) {
+  const auto model = MakeAutoDiffModel<BoundedDecay>();
+  const CopyOnlyModel copy_only(*model);
+  std::vector<Observation> data;
+  for (int i = 0; i < 12; ++i) {  // invented: y = 2 exp(-0.05 x) with scatter, x errors
+    Observation o;
+    o.x = {1.0 * i, 0.0};
+    o.y = 2.0 * std::exp(-0.05 * o.x[0]) + 0.01 * std::sin(3.0 * i);
+    o.sigma_y = 0.01;
+    o.sigma_x0 = i % 2 == 0 ? 0.1 : 0.0;  // mixed: the case bootstrap changes the structure
+    data.push_back(o);
+  }
+  FitOptions fit_options;
+  fit_options.errors_in_variables = true;
+  const FitResult fit = FitModel(*model, data, ModelContext{}, fit_options);
+  ASSERT_TRUE(fit.ok()) << fit.summary.BriefReport();
+  for (ResampleKind kind : {ResampleKind::kResidualBootstrap, ResampleKind::kCaseBootstrap,
+                            ResampleKind::kMonteCarloInputs}) {
+    ResampleOptions options;
+    options.kind = kind;
+    options.num_resamples = 40;
+    const ResampleResult reuse =
+        Resample(*model, data, ModelContext{}, fit, fit_options, options, {5.0});
+    const ResampleResult rebuild =
+        Resample(copy_only, data, ModelContext{}, fit, fit_options, options, {5.0});
+    ASSERT_EQ(reuse.parameter_draws.size(), rebuild.parameter_draws.size());
+    EXPECT_GT(reuse.parameter_draws.size(), 30u);
+    for (std::size_t d = 0; d < reuse.parameter_draws.size(); ++d) {
+      for (std::size_t j = 0; j < 2; ++j) {
+        EXPECT_NEAR(reuse.parameter_draws[d][j], rebuild.parameter_draws[d][j],
+                    1e-9 * std::abs(rebuild.parameter_draws[d][j]) + 1e-12);
+      }
+    }
+  }
+}
+
+TEST(AutoDiffModelTest, GradientAndSlopeMatchAnalyticDerivatives) {
+  const auto model = MakeAutoDiffModel<BoundedDecay>();
+  const double p[2] = {2.0, 0.3};
+  const double x[2] = {1.5, 0.0};
+  double g[2];
+  model->Gradient(p, x, ModelContext{}, g);
+  const double e = std::exp(-0.3 * 1.5);
+  EXPECT_NEAR(model->Evaluate(p, x, ModelContext{}), 2.0 * e, 1e-15);
+  EXPECT_NEAR(g[0], e, 1e-15);               // d/da a exp(-k x) = exp(-k x)
+  EXPECT_NEAR(g[1], -2.0 * 1.5 * e, 1e-15);  // d/dk = -a x exp(-k x)
+  EXPECT_NEAR(model->SlopeInX0(p, x, ModelContext{}), -2.0 * 0.3 * e, 1e-15);
+  EXPECT_EQ(model->num_parameters(), 2);
+  EXPECT_EQ(model->name(), "decay");
 }
 
 }  // namespace

@@ -18,7 +18,7 @@ namespace {
 
 using testing::TypicalParameters;
 
-TEST(RegistryTest, ListsTheIsothermModels) {
+TEST(ModelRegistryTest, ListsTheIsothermModels) {
   const std::vector<std::string> expected = {
       "gab",   "bet",    "bet_n",     "vangenuchten", "vangenuchten_free_m", "durner2", "durner3",
       "oswin", "halsey", "henderson", "peleg"};
@@ -26,7 +26,7 @@ TEST(RegistryTest, ListsTheIsothermModels) {
   EXPECT_EQ(AllModels().size(), expected.size());
 }
 
-TEST(RegistryTest, FindsByExactKey) {
+TEST(ModelRegistryTest, FindsByExactKey) {
   for (const std::string& name : ModelNames()) {
     const Model* model = FindModel(name);
     ASSERT_NE(model, nullptr) << name;
@@ -38,7 +38,7 @@ TEST(RegistryTest, FindsByExactKey) {
   EXPECT_EQ(FindModel("langmuir"), nullptr);
 }
 
-TEST(RegistryTest, MetadataIsComplete) {
+TEST(ModelRegistryTest, MetadataIsComplete) {
   std::set<std::string> names;
   for (const Model* model : AllModels()) {
     const ModelInfo& info = model->info();
@@ -82,7 +82,7 @@ double CentralDifference(const std::function<double(double)>& f, double v,
   return (f(v + h) - f(v - h)) / (2.0 * h);
 }
 
-TEST(DerivativeTest, ParameterGradientMatchesFiniteDifferences) {
+TEST(ModelDerivativeTest, ParameterGradientMatchesFiniteDifferences) {
   const ModelContext context;
   for (const Model* model : AllModels()) {
     SCOPED_TRACE(model->name());
@@ -121,7 +121,7 @@ TEST(DerivativeTest, ParameterGradientMatchesFiniteDifferences) {
   }
 }
 
-TEST(DerivativeTest, SlopeInActivityMatchesFiniteDifferences) {
+TEST(ModelDerivativeTest, SlopeInActivityMatchesFiniteDifferences) {
   const ModelContext context;
   for (const Model* model : AllModels()) {
     SCOPED_TRACE(model->name());

@@ -34,7 +34,7 @@ void ExpectFirstStartIs(const Model& model, const std::vector<double>& truth,
         << model.name() << " " << model.info().parameters[i].name;
 }
 
-TEST(StartingValuesTest, GabQuadraticRecoversExactParameters) {
+TEST(ModelStartingValuesTest, GabQuadraticRecoversExactParameters) {
   double x_m = 0.0;
   double c = 0.0;
   double k = 0.0;
@@ -49,7 +49,7 @@ TEST(StartingValuesTest, GabQuadraticRecoversExactParameters) {
   ExpectFirstStartIs(models::GabModel(), {0.02, 3.0, 0.95}, rh);
 }
 
-TEST(StartingValuesTest, BetLinearPlotRecoversExactParameters) {
+TEST(ModelStartingValuesTest, BetLinearPlotRecoversExactParameters) {
   const std::vector<double> rh = Grid(0.05, 0.35, 7);
   double x_m = 0.0;
   double c = 0.0;
@@ -60,13 +60,13 @@ TEST(StartingValuesTest, BetLinearPlotRecoversExactParameters) {
   ExpectFirstStartIs(models::BetModel(), {0.03, 80.0}, rh);
 }
 
-TEST(StartingValuesTest, LinearisedEmpiricalFormsAreExact) {
+TEST(ModelStartingValuesTest, LinearisedEmpiricalFormsAreExact) {
   const std::vector<double> rh = Grid(0.1, 0.9, 9);
   for (const char* name : {"oswin", "halsey", "henderson"})
     ExpectFirstStartIs(*FindModel(name), TypicalParameters().at(name), rh);
 }
 
-TEST(StartingValuesTest, GabLinearisationFailsCleanlyOnLinearData) {
+TEST(ModelStartingValuesTest, GabLinearisationFailsCleanlyOnLinearData) {
   // u proportional to a_w: a/u constant, the quadratic has alpha = beta = 0 and no GAB solution.
   std::vector<Observation> points;
   for (double a : Grid(0.1, 0.9, 9)) {
@@ -90,7 +90,7 @@ bool InsideBounds(const Model& model, const std::vector<double>& p) {
   return true;
 }
 
-TEST(StartingValuesTest, EveryModelOffersAdmissibleStarts) {
+TEST(ModelStartingValuesTest, EveryModelOffersAdmissibleStarts) {
   std::vector<Observation> zeros(5);
   for (std::size_t i = 0; i < zeros.size(); ++i) zeros[i].x[0] = 0.1 + 0.2 * static_cast<double>(i);
   for (const Model* model : AllModels()) {

@@ -10,16 +10,15 @@
 // equation + film, checked against independent values in kelvin_film_test.cc), so the round
 // trip checks the inversion (film-volume bookkeeping, differentiation, mode finding, volume
 // accounting), not the Kelvin physics. Method "model" is run on (a) a model that reproduces the
-// forward isotherm exactly and (b) a durner2 model fitted to 40 points of it (fitters::FitModel),
-// which adds the error of representing the isotherm by a fitted curve. Method "stepwise" runs on
-// 60 measured points.
+// forward isotherm exactly and (b) durner3 and durner2 models fitted to 40 points of it
+// (fitters::FitModel), which adds the error of representing the isotherm by a fitted curve.
+// Method "stepwise" runs on 60 points of the isotherm.
 
 #include <gtest/gtest.h>
 
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
-#include <cstdlib>
 #include <numbers>
 #include <string>
 #include <vector>
@@ -280,13 +279,14 @@ TEST(RoundTrip, StepwiseMethodOnMeasuredPointsRecoversModesAndFractions) {
   EXPECT_NEAR(d.resolved_radius_min_m / kNm, 1.0, 1e-6);
 }
 
-TEST(RoundTrip, ModelMethodOnFittedDurner2RecoversModesAndFractions) {
+// Fits `model_name` to 40 points of the synthetic desorption isotherm (equally spaced in log r
+// between 0.9 nm and 200 nm, sigma 1e-4 kg/kg) and inverts the fitted curve.
+Recovery FitAndInvert(const std::string& model_name) {
   const PoreRadiusMap map = DesorptionMap();
   const ForwardPores forward(map);
-  const char* model_name = std::getenv("PORES_FIT_MODEL") ? std::getenv("PORES_FIT_MODEL") : "durner2";
-  const fitters::Model* durner2 = fitters::FindModel(model_name);
-  ASSERT_NE(durner2, nullptr);
-  // 40 points, equally spaced in log r between 0.9 nm and 200 nm, sigma 1e-4 kg/kg.
+  const fitters::Model* model = fitters::FindModel(model_name);
+  EXPECT_NE(model, nullptr);
+  if (model == nullptr) return Recovery{};
   std::vector<fitters::Observation> observations;
   const int n = 40;
   for (int i = 0; i < n; ++i) {
@@ -300,22 +300,37 @@ TEST(RoundTrip, ModelMethodOnFittedDurner2RecoversModesAndFractions) {
   fitters::ModelContext context;
   context.temperature_K = kTemperature_K;
   const fitters::FitResult fit =
-      fitters::FitModel(*durner2, observations, context, fitters::FitOptions{});
-  ASSERT_TRUE(fit.ok()) << fit.summary.message;
-  std::printf("durner2 fit: rmse %.3g kg/kg, parameters", fit.statistics.rmse);
-  for (double p : fit.parameters) std::printf(" %.5g", p);
-  std::printf("\n");
+      fitters::FitModel(*model, observations, context, fitters::FitOptions{});
+  EXPECT_TRUE(fit.ok()) << fit.summary.message;
+  std::printf("%s fit: rmse %.3g kg/kg\n", model_name.c_str(), fit.statistics.rmse);
   ModelCurve curve;
-  curve.model = durner2;
+  curve.model = model;
   curve.name = model_name;
   curve.parameters = fit.parameters;
   curve.covariance = fit.covariance;
   curve.context = context;
-  PoreOptions options;
   const PoreDistribution d = ModelPoreDistribution(curve, ingest::Branch::kDesorption,
-                                                   observations.back().x[0], map, options);
-  const Recovery r = Check(d, "model, fitted durner2");
-  ExpectRecovered(r);
+                                                   observations.back().x[0], map, PoreOptions{});
+  EXPECT_EQ(d.band_source, "parameter covariance");
+  return Check(d, "model, fitted " + model_name);
+}
+
+TEST(RoundTrip, ModelMethodOnFittedDurner3RecoversModesAndFractions) {
+  // Three van Genuchten systems follow the isotherm closely (rmse about 2e-4 kg/kg, 0.2 % of
+  // the pore volume): the full 10 % criterion holds.
+  ExpectRecovered(FitAndInvert("durner3"));
+}
+
+TEST(RoundTrip, ModelMethodOnFittedDurner2IsLimitedByItsShape) {
+  // Two van Genuchten systems cannot follow two log-normal families plus the film (rmse about
+  // 1.7e-3 kg/kg): measured, the small mode comes out about 16 % low and its volume fraction
+  // about 12 % high; the large mode within 4 %. This is the error of representing the isotherm
+  // by durner2, not of the inversion (the exact isotherm recovers everything within 0.2 %).
+  const Recovery r = FitAndInvert("durner2");
+  EXPECT_LT(r.large_mode_error, 0.10);
+  EXPECT_LT(r.large_fraction_error, 0.10);
+  EXPECT_LT(r.small_mode_error, 0.20);
+  EXPECT_LT(r.small_fraction_error, 0.15);
 }
 
 }  // namespace
