@@ -69,6 +69,25 @@ void BM_ModelDistributionGab(benchmark::State& state) {
 }
 BENCHMARK(BM_ModelDistributionGab)->Unit(benchmark::kMillisecond);
 
+// Reference: the model evaluations alone that the durner2 distribution needs (1,001 parameter
+// sets x 400 RH values), i.e. the floor set by the model's cost.
+void BM_Durner2EvaluationsOnly(benchmark::State& state) {
+  const internal::ModelCurve curve = Curve("durner2", {0.0997, 0.55, -6.66, 5.34, 1.09, 2.59});
+  std::vector<double> rh(400);
+  for (std::size_t i = 0; i < rh.size(); ++i) rh[i] = 0.3 + 0.69 * static_cast<double>(i) / 399.0;
+  for (auto _ : state) {
+    double sum = 0.0;
+    for (int d = 0; d < 1001; ++d) {
+      for (double a : rh) {
+        const double x[sorbtrace::fitters::kMaxInputs] = {a, 0.0};
+        sum += curve.model->Evaluate(curve.parameters.data(), x, curve.context);
+      }
+    }
+    benchmark::DoNotOptimize(sum);
+  }
+}
+BENCHMARK(BM_Durner2EvaluationsOnly)->Unit(benchmark::kMillisecond);
+
 void BM_StepwiseDistribution(benchmark::State& state) {
   PoreOptions options;
   const internal::PoreRadiusMap map = DesorptionMap(options);

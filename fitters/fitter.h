@@ -172,7 +172,8 @@ struct ResampleOptions {
 
 // Percentile intervals of parameters and of the curve on x_grid from resampled refits
 // (warm-started from the full-data solution, no multi-starts). Draws come from one
-// std::mt19937_64 stream whose initial state is ResampleOptions::seed, with our own uniform/Box-Muller transforms.
+// std::mt19937_64 stream whose initial state is ResampleOptions::seed, with our own
+// uniform/Box-Muller transforms.
 //  - residual bootstrap: weighted residuals e_i = (y_i - f_i) / sigma_i, centred and scaled by
 //    sqrt(n / (n - p)) (Davison & Hinkley 1997, Bootstrap Methods and their Application,
 //    sec. 6.2.3), y*_i = f_i + sigma_i e*_j with j drawn uniformly;

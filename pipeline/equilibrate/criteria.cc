@@ -61,8 +61,10 @@ ConstantMassResult EvaluateConstantMass(std::span<const ingest::Weighing> weighi
            stats.change_fraction < options.mass_change_limit_fraction;
   };
   for (int end = 0; end < n; ++end) {
-    const std::vector<int> chain =
-        Chain(weighings, end, options.min_weighing_interval_s, options.min_weighings);
+    const std::vector<int> chain = Chain(
+        weighings, end,
+        std::max(0.0, options.min_weighing_interval_s - options.weighing_interval_tolerance_s),
+        options.min_weighings);
     const ChainStats stats = Stats(weighings, chain);
     if (result.first_met_index < 0 && holds(chain, stats)) result.first_met_index = end;
     if (end == n - 1) {

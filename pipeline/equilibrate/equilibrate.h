@@ -27,7 +27,12 @@ struct EquilibrateOptions {
   // The range is the strict reading (it bounds every pairwise change as well).
   double mass_change_limit_fraction = 0.001;  // [mass_change_limit_percent] 0.1 %
   double min_weighing_interval_s = 86400.0;   // [min_weighing_interval_h] 24 h
-  int min_weighings = 3;                      // [min_weighings] weighings that must agree
+  // A weighing counts as min_weighing_interval_s after another when it is at least
+  // (interval - tolerance) later, so that daily weighings at about the same clock time (a few
+  // minutes earlier on the next day) count as 24 h apart. Project choice, not from the
+  // standard; 0 gives the literal reading.
+  double weighing_interval_tolerance_s = 3600.0;
+  int min_weighings = 3;  // [min_weighings] weighings that must agree
   // Vapour-sorption log: |dm/dt| from a least-squares line over the last rate_window_s of
   // block means, relative to the reference dry mass (stated dry mass, else the lowest block
   // mass of the log), below rate_limit_fraction_per_min. Common practice: 0.002 %/min over a

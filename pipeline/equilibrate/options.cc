@@ -25,6 +25,10 @@ bool EquilibrateOptions::IsValid(std::string* error) const {
     return fail(fmt::format("minimum weighing interval {} h must be >= 0",
                             min_weighing_interval_s / kSecondsPerHour));
   }
+  if (!(weighing_interval_tolerance_s >= 0.0)) {
+    return fail(fmt::format("weighing interval tolerance {} h must be >= 0",
+                            weighing_interval_tolerance_s / kSecondsPerHour));
+  }
   if (min_weighings < 2) {
     return fail(fmt::format("min_weighings {} must be at least 2", min_weighings));
   }

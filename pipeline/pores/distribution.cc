@@ -127,6 +127,63 @@ void CommonAssumptions(const PoreRadiusMap& map, ingest::Branch branch, const Po
 
 }  // namespace
 
+StepGeometry MakeStepGeometry(const std::vector<double>& radius_m, const std::vector<double>& t_m,
+                              double water_density_kg_per_m3) {
+  StepGeometry g;
+  const std::size_t n = radius_m.size();
+  g.inverse_density_m3_per_kg = 1.0 / water_density_kg_per_m3;
+  g.t0_m = n > 0 ? t_m[0] : 0.0;
+  if (n < 2) return g;
+  g.core_factor.resize(n - 1);
+  g.dt_m.resize(n - 1);
+  g.t_mean_m.resize(n - 1);
+  g.two_over_r.resize(n - 1);
+  g.two_over_r2.resize(n - 1);
+  for (std::size_t k = 0; k + 1 < n; ++k) {
+    // Interval k between node k (low) and k + 1 (high).
+    const double r_p = 0.5 * (radius_m[k] + radius_m[k + 1]);
+    const double r_core = r_p - t_m[k];
+    g.core_factor[k] = r_core > 0.0 ? (r_p / r_core) * (r_p / r_core) : 0.0;
+    g.dt_m[k] = t_m[k + 1] - t_m[k];
+    g.t_mean_m[k] = 0.5 * (t_m[k + 1] + t_m[k]);
+    g.two_over_r[k] = 2.0 / r_p;
+    g.two_over_r2[k] = 2.0 / (r_p * r_p);
+  }
+  return g;
+}
+
+void FilmCorrectedVolumes(const StepGeometry& g, const std::vector<double>& u_kg_per_kg,
+                          GridVolumes* out) {
+  const std::size_t n = u_kg_per_kg.size();
+  out->interval_volume_m3_per_kg.assign(n > 0 ? n - 1 : 0, 0.0);
+  out->total_m3_per_kg = 0.0;
+  out->negative_steps = 0;
+  out->adsorbed_m3_per_kg = 0.0;
+  if (n < 2) return;
+  // Running sums over the pores emptied so far: S1 = sum 2 V_j / r_j (wall area), S2 = sum 2
+  // V_j / r_j^2, so that sum A_j (r_j - t) / r_j = S1 - t S2.
+  double s1 = 0.0;
+  double s2 = 0.0;
+  for (std::size_t k = n - 1; k >= 1; --k) {
+    const std::size_t i = k - 1;  // interval between nodes k - 1 and k
+    const double dv = (u_kg_per_kg[k] - u_kg_per_kg[k - 1]) * g.inverse_density_m3_per_kg;
+    const double film_thinning = g.dt_m[i] * (s1 - g.t_mean_m[i] * s2);
+    double dv_p = g.core_factor[i] * (dv - film_thinning);
+    if (dv_p < 0.0) {
+      dv_p = 0.0;
+      ++out->negative_steps;
+    }
+    out->interval_volume_m3_per_kg[i] = dv_p;
+    out->total_m3_per_kg += dv_p;
+    s1 += dv_p * g.two_over_r[i];
+    s2 += dv_p * g.two_over_r2[i];
+  }
+  // Film of thickness t_0 still held in the resolved pores at the lowest node:
+  // sum V_j (1 - ((r_j - t_0) / r_j)^2) = t_0 S1 - t_0^2 S2 / 2.
+  const double film_left = g.t0_m * s1 - 0.5 * g.t0_m * g.t0_m * s2;
+  out->adsorbed_m3_per_kg = std::max(0.0, u_kg_per_kg[0] * g.inverse_density_m3_per_kg - film_left);
+}
+
 GridVolumes PoreVolumesFromIsotherm(const std::vector<double>& radius_m,
                                     const std::vector<double>& t_m,
                                     const std::vector<double>& u_kg_per_kg,
@@ -134,43 +191,18 @@ GridVolumes PoreVolumesFromIsotherm(const std::vector<double>& radius_m,
   GridVolumes out;
   const std::size_t n = radius_m.size();
   if (n < 2) return out;
-  out.interval_volume_m3_per_kg.assign(n - 1, 0.0);
-  if (!film_correction) {
-    for (std::size_t k = 0; k + 1 < n; ++k) {
-      out.interval_volume_m3_per_kg[k] =
-          (u_kg_per_kg[k + 1] - u_kg_per_kg[k]) / water_density_kg_per_m3;
-      out.total_m3_per_kg += out.interval_volume_m3_per_kg[k];
-    }
-    out.adsorbed_m3_per_kg = u_kg_per_kg[0] / water_density_kg_per_m3;
+  if (film_correction) {
+    FilmCorrectedVolumes(MakeStepGeometry(radius_m, t_m, water_density_kg_per_m3), u_kg_per_kg,
+                         &out);
     return out;
   }
-  // Running sums over the pores emptied so far: S1 = sum 2 V_j / r_j (wall area), S2 = sum 2
-  // V_j / r_j^2, so that sum A_j (r_j - t) / r_j = S1 - t S2.
-  double s1 = 0.0;
-  double s2 = 0.0;
-  for (std::size_t k = n - 1; k >= 1; --k) {
-    const double dv = (u_kg_per_kg[k] - u_kg_per_kg[k - 1]) / water_density_kg_per_m3;
-    const double dt = t_m[k] - t_m[k - 1];
-    const double t_mean = 0.5 * (t_m[k] + t_m[k - 1]);
-    const double r_p = 0.5 * (radius_m[k] + radius_m[k - 1]);
-    const double r_core = r_p - t_m[k - 1];
-    const double film_thinning = dt * (s1 - t_mean * s2);
-    double dv_p = 0.0;
-    if (r_core > 0.0) dv_p = (r_p / r_core) * (r_p / r_core) * (dv - film_thinning);
-    if (dv_p < 0.0) {
-      dv_p = 0.0;
-      ++out.negative_steps;
-    }
-    out.interval_volume_m3_per_kg[k - 1] = dv_p;
-    out.total_m3_per_kg += dv_p;
-    s1 += 2.0 * dv_p / r_p;
-    s2 += 2.0 * dv_p / (r_p * r_p);
+  out.interval_volume_m3_per_kg.assign(n - 1, 0.0);
+  for (std::size_t k = 0; k + 1 < n; ++k) {
+    out.interval_volume_m3_per_kg[k] =
+        (u_kg_per_kg[k + 1] - u_kg_per_kg[k]) / water_density_kg_per_m3;
+    out.total_m3_per_kg += out.interval_volume_m3_per_kg[k];
   }
-  // Film of thickness t_0 still held in the resolved pores at the lowest node:
-  // sum V_j (1 - ((r_j - t_0) / r_j)^2) = t_0 S1 - t_0^2 S2 / 2.
-  const double t0 = t_m[0];
-  const double film_left = t0 * s1 - 0.5 * t0 * t0 * s2;
-  out.adsorbed_m3_per_kg = std::max(0.0, u_kg_per_kg[0] / water_density_kg_per_m3 - film_left);
+  out.adsorbed_m3_per_kg = u_kg_per_kg[0] / water_density_kg_per_m3;
   return out;
 }
 
@@ -310,32 +342,49 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
     if (!draws.empty()) d.band_source = "parameter covariance";
   }
 
-  std::vector<std::vector<double>> draw_density;
-  std::vector<std::vector<double>> draw_cumulative;
+  // Per-draw curves stored node-major (node i, draw k at [i * num_draws + k]) so that the
+  // percentiles read contiguous memory.
+  const std::size_t num_draws = draws.size();
+  std::vector<double> density_by_node(nn * num_draws);
+  std::vector<double> cumulative_by_node(nn * num_draws);
   std::vector<double> draw_total;
   std::vector<std::vector<Peak>> draw_peaks;
-  draw_density.reserve(draws.size());
-  draw_cumulative.reserve(draws.size());
+  draw_total.reserve(num_draws);
+  draw_peaks.reserve(num_draws);
   std::vector<double> u_draw(nn);
+  std::size_t used = 0;
+  const StepGeometry geometry = MakeStepGeometry(radius, t, rho);
+  GridVolumes g;
   for (const std::vector<double>& params : draws) {
     if (params.size() != curve.parameters.size()) continue;
     if (!evaluate(params.data(), &u_draw)) continue;
-    const GridVolumes g =
-        PoreVolumesFromIsotherm(radius, t, u_draw, rho, options.film_volume_correction);
-    std::vector<double> dens = NodalDensity(log_r, g.interval_volume_m3_per_kg);
-    std::vector<double> cum(nn, 0.0);
-    for (std::size_t i = 1; i < nn; ++i) cum[i] = cum[i - 1] + g.interval_volume_m3_per_kg[i - 1];
+    if (options.film_volume_correction) {
+      FilmCorrectedVolumes(geometry, u_draw, &g);
+    } else {
+      g = PoreVolumesFromIsotherm(radius, t, u_draw, rho, false);
+    }
+    const std::vector<double> dens = NodalDensity(log_r, g.interval_volume_m3_per_kg);
+    double cum = 0.0;
+    for (std::size_t i = 0; i < nn; ++i) {
+      if (i > 0) cum += g.interval_volume_m3_per_kg[i - 1];
+      density_by_node[i * num_draws + used] = dens[i];
+      cumulative_by_node[i * num_draws + used] = cum;
+    }
     draw_peaks.push_back(FindPeaks(log_r, dens, options.mode_min_relative_height));
     draw_total.push_back(g.total_m3_per_kg);
-    draw_density.push_back(std::move(dens));
-    draw_cumulative.push_back(std::move(cum));
+    ++used;
   }
-  d.band_draws_used = static_cast<int>(draw_density.size());
-  if (draw_density.empty()) d.band_source = "none";
+  d.band_draws_used = static_cast<int>(used);
+  if (used == 0) d.band_source = "none";
   d.u_total_resolved_volume_m3_per_kg = StandardDeviation(draw_total);
 
   const double tail = 0.5 * (1.0 - options.band_confidence_level);
-  std::vector<double> column(draw_density.size());
+  std::vector<double> column(used);
+  auto band = [&](const std::vector<double>& by_node, std::size_t i, double* low, double* high) {
+    const auto begin = by_node.begin() + static_cast<std::ptrdiff_t>(i * num_draws);
+    std::copy(begin, begin + static_cast<std::ptrdiff_t>(used), column.begin());
+    QuantilePair(column, tail, 1.0 - tail, low, high);
+  };
   d.points.resize(nn);
   for (std::size_t i = 0; i < nn; ++i) {
     PoreDistributionPoint& p = d.points[i];
@@ -345,17 +394,13 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
     p.rh_fraction = rh[i];
     p.cumulative_volume_m3_per_kg = cumulative[i];
     p.dv_dlogr_m3_per_kg = density[i];
-    if (draw_density.empty()) {
+    if (used == 0) {
       p.cumulative_low_m3_per_kg = p.cumulative_high_m3_per_kg = cumulative[i];
       p.dv_dlogr_low_m3_per_kg = p.dv_dlogr_high_m3_per_kg = density[i];
       continue;
     }
-    for (std::size_t k = 0; k < draw_density.size(); ++k) column[k] = draw_density[k][i];
-    p.dv_dlogr_low_m3_per_kg = Quantile(column, tail);
-    p.dv_dlogr_high_m3_per_kg = Quantile(column, 1.0 - tail);
-    for (std::size_t k = 0; k < draw_cumulative.size(); ++k) column[k] = draw_cumulative[k][i];
-    p.cumulative_low_m3_per_kg = Quantile(column, tail);
-    p.cumulative_high_m3_per_kg = Quantile(column, 1.0 - tail);
+    band(density_by_node, i, &p.dv_dlogr_low_m3_per_kg, &p.dv_dlogr_high_m3_per_kg);
+    band(cumulative_by_node, i, &p.cumulative_low_m3_per_kg, &p.cumulative_high_m3_per_kg);
   }
   d.modes =
       ModesWithUncertainty(FindPeaks(log_r, density, options.mode_min_relative_height), draw_peaks);

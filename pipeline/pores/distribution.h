@@ -39,6 +39,24 @@ GridVolumes PoreVolumesFromIsotherm(const std::vector<double>& radius_m,
                                     const std::vector<double>& u_kg_per_kg,
                                     double water_density_kg_per_m3, bool film_correction);
 
+// The parts of the film-corrected step that depend only on the grid (radii, film), computed
+// once for all parameter draws.
+struct StepGeometry {
+  std::vector<double> core_factor;  // (r_p / r_c)^2, 0 where r_c <= 0
+  std::vector<double> dt_m;         // t_hi - t_lo
+  std::vector<double> t_mean_m;     // (t_hi + t_lo) / 2
+  std::vector<double> two_over_r;   // 2 / r_p
+  std::vector<double> two_over_r2;  // 2 / r_p^2
+  double t0_m = 0.0;                // film at the lowest node
+  double inverse_density_m3_per_kg = 0.0;
+};
+StepGeometry MakeStepGeometry(const std::vector<double>& radius_m, const std::vector<double>& t_m,
+                              double water_density_kg_per_m3);
+// As PoreVolumesFromIsotherm with film_correction = true, on a precomputed geometry; writes
+// into *out (resized) to avoid allocations in loops.
+void FilmCorrectedVolumes(const StepGeometry& geometry, const std::vector<double>& u_kg_per_kg,
+                          GridVolumes* out);
+
 // Local maxima of y over x (x ascending), refined by the parabola through the maximum and its
 // neighbours; only interior maxima at least min_relative_height * max(y).
 struct Peak {

@@ -6,6 +6,7 @@
 #include <Eigen/Eigenvalues>
 #include <algorithm>
 #include <cmath>
+#include <functional>
 #include <limits>
 
 namespace sorbtrace::pores::internal {
@@ -79,6 +80,71 @@ double Quantile(std::vector<double>& values, double p) {
   const double high =
       *std::min_element(values.begin() + static_cast<std::ptrdiff_t>(k + 1), values.end());
   return low + fraction * (high - low);
+}
+
+void QuantilePair(std::vector<double>& values, double p_low, double p_high, double* low,
+                  double* high) {
+  const std::size_t n = values.size();
+  auto position = [n](double p) { return std::clamp(p, 0.0, 1.0) * static_cast<double>(n - 1); };
+  const double pos_low = n > 0 ? position(p_low) : 0.0;
+  const double pos_high = n > 0 ? position(p_high) : 0.0;
+  const std::size_t k_low = static_cast<std::size_t>(std::floor(pos_low));
+  const std::size_t k_high = static_cast<std::size_t>(std::floor(pos_high));
+  if (n == 0 || k_low >= k_high) {
+    *low = Quantile(values, p_low);
+    *high = Quantile(values, p_high);
+    return;
+  }
+  const std::size_t lower_count = k_low + 2;   // order statistics 0 .. k_low + 1
+  const std::size_t upper_count = n - k_high;  // order statistics k_high .. n - 1
+  if (4 * (lower_count + upper_count) <= n) {
+    // Tails of a large sample (the 2.5 % / 97.5 % band): one pass keeping the lower_count
+    // smallest values in a max-heap and the upper_count largest in a min-heap, O(n) with few
+    // heap operations, instead of two full partitions.
+    std::vector<double> lower(values.begin(),
+                              values.begin() + static_cast<std::ptrdiff_t>(lower_count));
+    std::vector<double> upper(values.begin(),
+                              values.begin() + static_cast<std::ptrdiff_t>(upper_count));
+    std::make_heap(lower.begin(), lower.end());
+    std::make_heap(upper.begin(), upper.end(), std::greater<>());
+    for (std::size_t i = lower_count; i < n; ++i) {
+      if (values[i] < lower.front()) {
+        std::pop_heap(lower.begin(), lower.end());
+        lower.back() = values[i];
+        std::push_heap(lower.begin(), lower.end());
+      }
+    }
+    for (std::size_t i = upper_count; i < n; ++i) {
+      if (values[i] > upper.front()) {
+        std::pop_heap(upper.begin(), upper.end(), std::greater<>());
+        upper.back() = values[i];
+        std::push_heap(upper.begin(), upper.end(), std::greater<>());
+      }
+    }
+    std::sort(lower.begin(), lower.end());
+    std::sort(upper.begin(), upper.end());
+    const double v_low = lower[k_low];
+    const double v_low_next = lower[k_low + 1];
+    const double v_high = upper[0];
+    const double v_high_next = upper_count > 1 ? upper[1] : v_high;
+    *low = v_low + (pos_low - static_cast<double>(k_low)) * (v_low_next - v_low);
+    *high = v_high + (pos_high - static_cast<double>(k_high)) * (v_high_next - v_high);
+    return;
+  }
+  const auto at = [&values](std::size_t k) {
+    return values.begin() + static_cast<std::ptrdiff_t>(k);
+  };
+  // Partition at k_high, then at k_low inside [0, k_high): the second partition leaves
+  // positions k_high.. untouched.
+  std::nth_element(values.begin(), at(k_high), values.end());
+  const double v_high = values[k_high];
+  const double v_high_next =
+      k_high + 1 < n ? *std::min_element(at(k_high + 1), values.end()) : v_high;
+  std::nth_element(values.begin(), at(k_low), at(k_high));
+  const double v_low = values[k_low];
+  const double v_low_next = *std::min_element(at(k_low + 1), at(k_high + 1));
+  *low = v_low + (pos_low - static_cast<double>(k_low)) * (v_low_next - v_low);
+  *high = v_high + (pos_high - static_cast<double>(k_high)) * (v_high_next - v_high);
 }
 
 double StandardDeviation(const std::vector<double>& values) {

@@ -36,6 +36,10 @@ std::vector<std::vector<double>> MultivariateNormalDraws(
 // type 7). Reorders `values`. NaN for an empty vector.
 double Quantile(std::vector<double>& values, double p);
 
+// Quantiles p_low <= p_high of the same values in one pass (as Quantile). Reorders `values`.
+void QuantilePair(std::vector<double>& values, double p_low, double p_high, double* low,
+                  double* high);
+
 // Sample standard deviation (n - 1); 0 for fewer than two values.
 double StandardDeviation(const std::vector<double>& values);
 

@@ -219,10 +219,14 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     SpecimenPoint point = ReducePoint(eq, *dry, job, options);
     if (point.excluded) {
       ++reduced.summary.num_excluded;
+    }
+    // A step that is not equilibrated was already reported by the equilibrate stage; an
+    // equilibrated step excluded because of its dry mass was not.
+    if (point.excluded && eq.equilibrated) {
       reduced.summary.warnings.push_back(Diagnostic{
           Severity::kWarning, point.where,
-          fmt::format("{} / {} / step {} ({}) excluded: not equilibrated", point.dataset_id,
-                      point.specimen_id, point.step_index + 1, point.step_label),
+          fmt::format("{} / {} / step {} ({}) excluded: dry reference mass not at constant mass",
+                      point.dataset_id, point.specimen_id, point.step_index + 1, point.step_label),
           "include_not_equilibrated = true in [equilibrium] to keep it (flagged)"});
     }
     reduced.specimen_points.push_back(std::move(point));

@@ -116,6 +116,7 @@ plot::Figure IsothermFigure(const Context& ctx, bool with_secondary) {
   fig.x.num_ticks = 6;
   fig.y.label = ctx.sheet.moisture_axis_label;
   fig.y.min = 0.0;  // moisture contents are not negative; a band dipping below 0 is clipped
+  fig.y.num_ticks = 8;
   const double ms = ctx.moisture_scale();
   const std::vector<double> temperatures = DistinctTemperatures(ctx.inputs);
   const double k = ctx.sheet.rules.coverage_factor;
@@ -271,12 +272,31 @@ void SummarySection(Context& ctx, bool compact) {
   doc.Subheading(fmt::format("Results (expanded uncertainty U, k = {})",
                              CoverageText(ctx.sheet.rules.coverage_factor)));
   std::vector<std::vector<std::string>> rows;
-  for (const Quantity& q : ctx.sheet.headline) rows.push_back({q.label, q.text});
+  for (const Quantity& q : ctx.sheet.headline) {
+    // The one-page summary prints each best model's parameters on one row (below).
+    if (compact && q.key.rfind("best_", 0) == 0) continue;
+    rows.push_back({q.label, q.text});
+  }
   rows.push_back({"Hygroscopicity class (Ph. Eur. 5.11)", ctx.sheet.hygroscopicity_class});
-  rows.push_back({"Best model (lowest AICc)",
-                  ctx.sheet.best_model_text.empty() ? "none converged" : ctx.sheet.best_model_text});
+  if (compact && ctx.inputs.fits != nullptr) {
+    for (int best : ctx.inputs.fits->best_fit_per_group) {
+      if (best < 0 || static_cast<size_t>(best) >= ctx.sheet.models.size()) continue;
+      const ModelRow& row = ctx.sheet.models[static_cast<size_t>(best)];
+      std::string text;
+      for (const Quantity& q : row.parameters) {
+        text += (text.empty() ? "" : ";  ") + q.label + " = " + q.text;
+      }
+      rows.push_back({"Best model, " + row.group_label + ": " + row.model_title, text});
+    }
+  } else {
+    rows.push_back({"Best model (lowest AICc)", ctx.sheet.best_model_text.empty()
+                                                    ? "none converged"
+                                                    : ctx.sheet.best_model_text});
+  }
   const double w = doc.width();
-  doc.Table({{"Quantity", w * 0.60, false}, {"Value ± U", w * 0.40, false}}, rows, 8.0);
+  doc.Table({{"Quantity", w * (compact ? 0.45 : 0.60), false},
+             {"Value ± U", w * (compact ? 0.55 : 0.40), false}},
+            rows, compact ? 7.5 : 8.0);
 
   std::vector<std::string> cautions = ctx.sheet.cautions;
   const size_t limit = compact ? 4 : kMaxSummaryCautions;
@@ -295,7 +315,7 @@ void SummarySection(Context& ctx, bool compact) {
     for (const std::string& c : cautions) {
       reserved += 8.0 * 1.32 * static_cast<double>(doc.canvas().Wrap(c, 8.0, doc.width() - 12.0).size()) + 1.5;
     }
-    if (!ctx.layout.signatories.empty()) reserved += 90.0;
+    if (!ctx.layout.signatories.empty()) reserved += 72.0;
     const double height = std::clamp(doc.cursor() - doc.bottom() - reserved - 8.0, 110.0, 260.0);
     doc.EnsureSpace(height + 8.0);
     doc.Skip(8.0);
@@ -341,9 +361,13 @@ void IsothermSection(Context& ctx) {
   doc.EnsureSpace(main_height + residual_height);
   plot::Figure fig = IsothermFigure(ctx, true);
   fig.font_size_pt = 7.5;
+  plot::Figure res = ResidualFigure(ctx);
+  // One left edge for both panels.
+  const double pad = std::max(plot::AutomaticLeftPadding(doc.canvas(), fig),
+                              plot::AutomaticLeftPadding(doc.canvas(), res));
+  fig.left_padding_pt = res.left_padding_pt = pad;
   plot::DrawFigure(doc.canvas(), fig, {doc.left(), doc.cursor() - main_height, doc.width(), main_height});
   doc.Skip(main_height + 6.0);
-  plot::Figure res = ResidualFigure(ctx);
   res.title = "Residuals of the best fits (measured − fitted)";
   res.caption = fmt::format(
       "Points: combined specimens per step, bars: expanded uncertainty U (k = {}) in RH and "

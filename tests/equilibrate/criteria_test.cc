@@ -62,6 +62,18 @@ TEST(ConstantMassTest, WeighingsCloserThanTheIntervalDoNotCount) {
   EXPECT_EQ(r12.first_met_index, 2);
 }
 
+TEST(ConstantMassTest, DailyWeighingsAFewMinutesEarlyCountAs24h) {
+  // Weighed at 09:05, 09:02 and 09:00 on three days: 23.95 h apart. With the default 1 h
+  // tolerance (EquilibrateOptions) they form a chain; with the literal reading they do not.
+  const auto w = Weighings({{0, 10.0000}, {23.95, 10.0004}, {47.9, 10.0005}});
+  EXPECT_TRUE(EvaluateConstantMass(w, EquilibrateOptions{}).met);
+  EquilibrateOptions literal;
+  literal.weighing_interval_tolerance_s = 0.0;
+  const ConstantMassResult r = EvaluateConstantMass(w, literal);
+  EXPECT_FALSE(r.met);
+  EXPECT_EQ(r.chain_length, 2);  // 47.9 h -> 0 h only
+}
+
 TEST(ConstantMassTest, LimitIsStrict) {
   // Range exactly 0.1 % of the last mass is not "less than 0.1 %". 10.010 * 0.001 = 0.01001,
   // so a range of 0.0101 g fails and 0.0100 g passes.

@@ -90,8 +90,9 @@ TEST(FitStageTest, NoiseFreeGabFitReproducesEquationValues) {
   ASSERT_EQ(gab.band.size(), 50u);  // 0, 0.02, ..., 0.98
   // GAB with X_m = 0.05, C = 10, K = 0.8, evaluated by hand from the GAB equation
   // (R. B. Anderson, J. Am. Chem. Soc. 68 (1946) 686, from memory): u(0.1) = 0.025278,
-  // u(0.5) = 0.072464, u(0.9) is off the grid.
-  for (const auto& [rh, u] : {std::pair{0.1, 0.025278}, std::pair{0.5, 0.072464}}) {
+  // u(0.5) = 0.072464, u(0.9) = 0.171887.
+  for (const auto& [rh, u] :
+       {std::pair{0.1, 0.025278}, std::pair{0.5, 0.072464}, std::pair{0.9, 0.171887}}) {
     const auto at =
         std::find_if(gab.band.begin(), gab.band.end(),
                      [rh](const fitters::BandPoint& b) { return std::abs(b.x - rh) < 1e-9; });

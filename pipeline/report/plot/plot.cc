@@ -429,6 +429,52 @@ double CaptionHeight(const Canvas& canvas, const Figure& figure, double width_pt
   return static_cast<double>(lines.size()) * figure.font_size_pt * 1.3 + 4.0;
 }
 
+namespace {
+// Extent of the data of the primary axes (series with error bars, bands).
+void FigureExtents(const Figure& figure, Extent* x_extent, Extent* y_extent, Extent* r_extent) {
+  const Scale y_right_scale = figure.y_right ? figure.y_right->scale : Scale::kLinear;
+  for (const Series& s : figure.series) {
+    Extent& ye = s.right_axis ? *r_extent : *y_extent;
+    const Scale ys = s.right_axis ? y_right_scale : figure.y.scale;
+    for (size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
+      const double xe = i < s.x_error.size() ? s.x_error[i] : 0.0;
+      const double yerr = i < s.y_error.size() ? s.y_error[i] : 0.0;
+      if (!std::isfinite(s.x[i]) || !std::isfinite(s.y[i])) continue;
+      x_extent->Add(s.x[i] - xe, figure.x.scale);
+      x_extent->Add(s.x[i] + xe, figure.x.scale);
+      x_extent->Add(s.x[i], figure.x.scale);
+      ye.Add(s.y[i] - yerr, ys);
+      ye.Add(s.y[i] + yerr, ys);
+      ye.Add(s.y[i], ys);
+    }
+  }
+  for (const Band& b : figure.bands) {
+    for (size_t i = 0; i < b.x.size(); ++i) {
+      x_extent->Add(b.x[i], figure.x.scale);
+      if (i < b.low.size()) y_extent->Add(b.low[i], figure.y.scale);
+      if (i < b.high.size()) y_extent->Add(b.high[i], figure.y.scale);
+    }
+  }
+}
+
+double YTickLabelWidth(const Canvas& canvas, const Figure& figure, const Ticks& y_ticks) {
+  double width = 0.0;
+  if (!figure.y.tick_labels) return width;
+  for (double v : y_ticks.values) {
+    width = std::max(width, canvas.TextWidth(TickLabel(figure.y, y_ticks, v), figure.font_size_pt));
+  }
+  return width;
+}
+}  // namespace
+
+double AutomaticLeftPadding(const Canvas& canvas, const Figure& figure) {
+  Extent x_extent, y_extent, r_extent;
+  FigureExtents(figure, &x_extent, &y_extent, &r_extent);
+  const Ticks y_ticks = AxisTicks(figure.y, y_extent);
+  return YTickLabelWidth(canvas, figure, y_ticks) + 4.0 +
+         (figure.y.label.empty() ? 0.0 : figure.font_size_pt * 1.5);
+}
+
 FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer) {
   HPDF_Page page = canvas.page();
   const double fs = figure.font_size_pt;
@@ -437,40 +483,14 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
   // 1. Ranges and ticks.
   Extent x_extent, y_extent, r_extent;
   const Scale y_right_scale = figure.y_right ? figure.y_right->scale : Scale::kLinear;
-  for (const Series& s : figure.series) {
-    Extent& ye = s.right_axis ? r_extent : y_extent;
-    const Scale ys = s.right_axis ? y_right_scale : figure.y.scale;
-    for (size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
-      const double xe = i < s.x_error.size() ? s.x_error[i] : 0.0;
-      const double yerr = i < s.y_error.size() ? s.y_error[i] : 0.0;
-      if (!std::isfinite(s.x[i]) || !std::isfinite(s.y[i])) continue;
-      x_extent.Add(s.x[i] - xe, figure.x.scale);
-      x_extent.Add(s.x[i] + xe, figure.x.scale);
-      x_extent.Add(s.x[i], figure.x.scale);
-      ye.Add(s.y[i] - yerr, ys);
-      ye.Add(s.y[i] + yerr, ys);
-      ye.Add(s.y[i], ys);
-    }
-  }
-  for (const Band& b : figure.bands) {
-    for (size_t i = 0; i < b.x.size(); ++i) {
-      x_extent.Add(b.x[i], figure.x.scale);
-      if (i < b.low.size()) y_extent.Add(b.low[i], figure.y.scale);
-      if (i < b.high.size()) y_extent.Add(b.high[i], figure.y.scale);
-    }
-  }
+  FigureExtents(figure, &x_extent, &y_extent, &r_extent);
   const Ticks x_ticks = AxisTicks(figure.x, x_extent);
   const Ticks y_ticks = AxisTicks(figure.y, y_extent);
   Ticks r_ticks;
   if (figure.y_right) r_ticks = AxisTicks(*figure.y_right, r_extent);
 
   // 2. Frame inside the outer box, leaving room for labels.
-  double y_label_width = 0.0;
-  if (figure.y.tick_labels) {
-    for (double v : y_ticks.values) {
-      y_label_width = std::max(y_label_width, canvas.TextWidth(TickLabel(figure.y, y_ticks, v), fs));
-    }
-  }
+  const double y_label_width = YTickLabelWidth(canvas, figure, y_ticks);
   double r_label_width = 0.0;
   if (figure.y_right) {
     for (double v : r_ticks.values) {
@@ -478,7 +498,9 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
           std::max(r_label_width, canvas.TextWidth(TickLabel(*figure.y_right, r_ticks, v), fs));
     }
   }
-  const double left_pad = y_label_width + 4.0 + (figure.y.label.empty() ? 0.0 : fs * 1.5);
+  const double left_pad = figure.left_padding_pt > 0.0
+                              ? figure.left_padding_pt
+                              : y_label_width + 4.0 + (figure.y.label.empty() ? 0.0 : fs * 1.5);
   const double right_pad =
       figure.y_right ? r_label_width + 4.0 + (figure.y_right->label.empty() ? 0.0 : fs * 1.5)
                      : fs * 1.2;
@@ -690,14 +712,15 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
         const std::string label =
             top.scale == Scale::kLog10 ? FormatLogTick(c.value) : FormatTick(c.value, digits);
         const double half = canvas.TextWidth(label, fs) / 2.0;
-        bool fits = true;
+        // Labels stay within the frame's width (none crowding the corners).
+        bool fits = px - half >= frame.x + 2.0 && px + half <= frame.right() - 2.0;
         for (const auto& [ax, ah] : accepted) {
           if (std::abs(ax - px) < std::max(top.min_spacing_pt, ah + half + 4.0)) fits = false;
         }
         if (!fits) continue;
         accepted.emplace_back(px, half);
         canvas.Line(px, frame.top(), px, frame.top() - tick, 0.6, palette::kInk);
-        canvas.Text(px, frame.top() + 3.0, label, fs, Canvas::Align::kCenter);
+        canvas.Text(px, frame.top() + 4.0, label, fs, Canvas::Align::kCenter);
       }
     }
     if (!top.label.empty()) {
@@ -712,7 +735,7 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
     canvas.Text(frame.x + frame.width / 2.0, base, figure.x.label, fs, Canvas::Align::kCenter);
   }
   if (!figure.y.label.empty()) {
-    canvas.VerticalText(frame.x - y_label_width - 4.0 - fs * 0.45, frame.y + frame.height / 2.0,
+    canvas.VerticalText(frame.x - left_pad + fs * 1.05, frame.y + frame.height / 2.0,
                         figure.y.label, fs);
   }
   if (!figure.title.empty()) {

@@ -191,7 +191,13 @@ struct Figure {
   std::string caption;                   // wrapped below the axis label (optional)
   bool legend = true;
   double font_size_pt = 7.5;
+  // Room left of the frame for tick labels and the y label [pt]; 0 = automatic. Stacked
+  // panels sharing an x axis use the same value so their frames line up.
+  double left_padding_pt = 0.0;
 };
+
+// The automatic left padding DrawFigure would use (for aligning stacked panels).
+double AutomaticLeftPadding(const Canvas& canvas, const Figure& figure);
 
 // Where things ended up, for tests and for stacking panels.
 struct FigureLayout {

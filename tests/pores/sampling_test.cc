@@ -1,0 +1,92 @@
+// Deterministic draws and percentiles of the pores stage.
+
+#include "pipeline/pores/sampling.h"
+
+#include <gtest/gtest.h>
+
+#include <Eigen/Core>
+#include <cmath>
+#include <vector>
+
+namespace sorbtrace::pores::internal {
+namespace {
+
+TEST(Quantile, LinearInterpolationBetweenOrderStatistics) {
+  // Hyndman & Fan (1996) type 7: position p (n - 1); for 1..101 at p = 0.025 the position is
+  // 2.5, between the values 3 and 4.
+  std::vector<double> values;
+  for (int i = 101; i >= 1; --i) values.push_back(i);
+  EXPECT_DOUBLE_EQ(Quantile(values, 0.025), 3.5);
+  EXPECT_DOUBLE_EQ(Quantile(values, 0.5), 51.0);
+  EXPECT_DOUBLE_EQ(Quantile(values, 1.0), 101.0);
+}
+
+TEST(Quantile, PairAgreesWithSingleQuantiles) {
+  NormalSource normal(7);
+  for (int n : {1, 2, 5, 40, 1000}) {
+    std::vector<double> values(static_cast<std::size_t>(n));
+    for (double& v : values) v = normal.Normal();
+    std::vector<double> a = values, b = values, c = values;
+    double low = 0.0, high = 0.0;
+    QuantilePair(a, 0.025, 0.975, &low, &high);
+    EXPECT_DOUBLE_EQ(low, Quantile(b, 0.025)) << n;
+    EXPECT_DOUBLE_EQ(high, Quantile(c, 0.975)) << n;
+  }
+}
+
+TEST(NormalSource, MomentsAndDeterminism) {
+  NormalSource a(42), b(42);
+  const int n = 200000;
+  double sum = 0.0, sum2 = 0.0;
+  for (int i = 0; i < n; ++i) {
+    const double x = a.Normal();
+    EXPECT_EQ(x, b.Normal());
+    sum += x;
+    sum2 += x * x;
+  }
+  // Standard normal: mean 0, variance 1; standard errors 1/sqrt(n) = 0.0022 and
+  // sqrt(2/n) = 0.0032, checked at about 4 standard errors.
+  EXPECT_NEAR(sum / n, 0.0, 0.01);
+  EXPECT_NEAR(sum2 / n, 1.0, 0.013);
+}
+
+TEST(MultivariateNormalDraws, ReproduceTheCovarianceAndRespectBounds) {
+  Eigen::Matrix2d cov;
+  cov << 4.0, 1.2, 1.2, 1.0;  // correlation 0.6
+  const int n = 40000;
+  const std::vector<std::vector<double>> draws =
+      MultivariateNormalDraws({10.0, -3.0}, cov, n, 1, {});
+  ASSERT_EQ(draws.size(), static_cast<std::size_t>(n));
+  Eigen::Vector2d mean = Eigen::Vector2d::Zero();
+  for (const auto& d : draws) mean += Eigen::Vector2d(d[0], d[1]);
+  mean /= n;
+  Eigen::Matrix2d sample = Eigen::Matrix2d::Zero();
+  for (const auto& d : draws) {
+    const Eigen::Vector2d x = Eigen::Vector2d(d[0], d[1]) - mean;
+    sample += x * x.transpose();
+  }
+  sample /= n - 1;
+  EXPECT_NEAR(mean(0), 10.0, 0.05);
+  EXPECT_NEAR(mean(1), -3.0, 0.025);
+  // Sampling error of a covariance element ~ sqrt((s_ii s_jj + s_ij^2) / n): below 0.03 here.
+  EXPECT_NEAR(sample(0, 0), 4.0, 0.12);
+  EXPECT_NEAR(sample(0, 1), 1.2, 0.05);
+  EXPECT_NEAR(sample(1, 1), 1.0, 0.03);
+
+  fitters::ParameterSpec positive;
+  positive.lower_bound = 9.0;
+  const std::vector<std::vector<double>> clamped =
+      MultivariateNormalDraws({10.0, -3.0}, cov, 1000, 1, {positive});
+  for (const auto& d : clamped) EXPECT_GE(d[0], 9.0);
+}
+
+TEST(MultivariateNormalDraws, SemidefiniteCovarianceStillDraws) {
+  Eigen::Matrix2d cov;
+  cov << 1.0, 1.0, 1.0, 1.0;  // rank 1: the two parameters move together
+  const auto draws = MultivariateNormalDraws({0.0, 0.0}, cov, 100, 3, {});
+  ASSERT_EQ(draws.size(), 100u);
+  for (const auto& d : draws) EXPECT_NEAR(d[0], d[1], 1e-9);
+}
+
+}  // namespace
+}  // namespace sorbtrace::pores::internal
