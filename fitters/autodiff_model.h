@@ -163,6 +163,38 @@ class AutoDiffModel final : public Model {
     return f.v[0];
   }
 
+  // One Jet evaluation per point gives the value and the gradient (the residual and its row of
+  // the Jacobian); without a Jacobian the plain double evaluation.
+  bool WeightedResiduals(const double* params, const Observation* observations, std::size_t count,
+                         const ModelContext& context, double* residuals,
+                         double* jacobian) const override {
+    if (jacobian == nullptr) {
+      for (std::size_t i = 0; i < count; ++i) {
+        const Observation& o = observations[i];
+        residuals[i] = (o.y - Evaluate(params, o.x.data(), context)) / o.sigma_y;
+        if (!std::isfinite(residuals[i])) return false;
+      }
+      return true;
+    }
+    using Jet = ceres::Jet<double, kNumParameters>;
+    Jet p[kNumParameters];
+    for (int j = 0; j < kNumParameters; ++j) p[j] = Jet(params[j], j);
+    for (std::size_t i = 0; i < count; ++i) {
+      const Observation& o = observations[i];
+      Jet xs[kMaxInputs];
+      for (int k = 0; k < Equation::kNumInputs; ++k) xs[k] = Jet(o.x[static_cast<std::size_t>(k)]);
+      const Jet f = Equation::template Evaluate<Jet>(p, xs, context);
+      residuals[i] = (o.y - f.a) / o.sigma_y;
+      if (!std::isfinite(residuals[i])) return false;
+      double* row = jacobian + i * static_cast<std::size_t>(kNumParameters);
+      for (int j = 0; j < kNumParameters; ++j) {
+        row[j] = -f.v[j] / o.sigma_y;
+        if (!std::isfinite(row[j])) return false;
+      }
+    }
+    return true;
+  }
+
   ceres::CostFunction* NewResidual(const Observation& observation,
                                    const ModelContext& context) const override {
     return new ceres::AutoDiffCostFunction<internal::ResidualFunctor<Equation>, 1, kNumParameters>(

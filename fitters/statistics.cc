@@ -58,12 +58,17 @@ double ChiSquareUpperTail(double value, int degrees_of_freedom) {
 
 double Percentile(std::vector<double>* values, double q) {
   if (values->empty()) return kNaN;
-  std::sort(values->begin(), values->end());
   const double position = std::clamp(q, 0.0, 1.0) * static_cast<double>(values->size() - 1);
   const std::size_t below = static_cast<std::size_t>(std::floor(position));
-  const std::size_t above = std::min(below + 1, values->size() - 1);
   const double fraction = position - static_cast<double>(below);
-  return (*values)[below] + fraction * ((*values)[above] - (*values)[below]);
+  // The two order statistics needed, without a full sort: nth_element puts the below-th
+  // smallest in place with everything after it not smaller, so the next one is the minimum of
+  // the rest (NaN-free input; the same values a sort would give).
+  const auto nth = values->begin() + static_cast<std::ptrdiff_t>(below);
+  std::nth_element(values->begin(), nth, values->end());
+  const double low = *nth;
+  const double high = below + 1 < values->size() ? *std::min_element(nth + 1, values->end()) : low;
+  return low + fraction * (high - low);
 }
 
 FitStatistics ComputeStatistics(const std::vector<Observation>& observations,

@@ -4,8 +4,8 @@
 //
 //   generate_examples [OUTPUT_DIR]     (default: <source dir>/example_inputs)
 //
-// Deterministic: one std::mt19937_64 per scenario with a fixed seed, normal deviates by the
-// Box-Muller transform written here (not std::normal_distribution), numbers formatted by fmt
+// Deterministic: one std::mt19937_64 per scenario with a fixed initial state, normal deviates by
+// the Box-Muller transform written here (not std::normal_distribution), numbers formatted by fmt
 // with fixed decimals. Running it twice gives byte-identical files.
 //
 // Truth model: GAB, X(a) = X_m C K a / ((1 - K a)(1 - K a + C K a)) [kg/kg], one parameter set
@@ -40,7 +40,7 @@ constexpr double kDay_s = 86400.0;
 // ---- Random numbers ---------------------------------------------------------------------
 class Random {
  public:
-  explicit Random(std::uint64_t seed) : engine_(seed) {}
+  explicit Random(std::uint64_t initial_state) : engine_(initial_state) {}
   // Uniform on (0, 1): 53 random bits.
   double Uniform() {
     constexpr double kTwoPow53 = 9007199254740992.0;
@@ -155,7 +155,7 @@ struct DesiccatorTruth {
 };
 
 DesiccatorTruth LimePlasterDesiccator(const fs::path& dir) {
-  Random rng(0x4c494d45504c53ULL);  // fixed seed
+  Random rng(0x4c494d45504c53ULL);  // fixed initial state
   const Gab adsorption{0.0045, 15.0, 0.92};
   const Gab desorption{0.0052, 18.0, 0.905};
   const double t_nominal_C = 23.0;
@@ -218,9 +218,9 @@ DesiccatorTruth LimePlasterDesiccator(const fs::path& dir) {
     for (int i = 0; i < 3; ++i)
       x_eq[static_cast<std::size_t>(i)] =
           oven ? 0.0 : factor[static_cast<std::size_t>(i)] * gab.X(rh);
-    // At the KCl adsorption step P3 responds four times more slowly (a denser disc); the lab
+    // At the K2SO4 adsorption step P3 responds four times more slowly (a denser disc); the lab
     // moves on when P1 and P2 are at constant mass, so P3 is not: the pipeline must flag it.
-    const bool slow_p3 = step.atmosphere == "KCl" && step.branch == "adsorption";
+    const bool slow_p3 = step.atmosphere == "K2SO4" && step.branch == "adsorption";
     const double step_start = day;
     std::vector<std::vector<double>> masses(3);
     std::vector<double> times;
@@ -321,6 +321,7 @@ struct LogSettings {
   double row_s = 60.0;
   double min_step_s = 60.0 * kMinute_s;
   double max_step_s = 8.0 * kHour_s;
+  double min_drying_s = 6.0 * kHour_s;
   double lab_rate_limit_per_min = 3e-6;  // the simulated instrument's stop rule (0.0003 %/min)
   double balance_noise_g = 2e-6;
   double rh_noise_fraction = 0.002;
@@ -388,8 +389,11 @@ LogOutput SimulateLog(const std::string& title, const std::vector<double>& set_p
           std::abs(x_start - x_eq) / tau * std::exp(-step_t / tau) * kMinute_s;
       t += s.row_s;
       step_t += s.row_s;
-      if (step_t >= s.min_step_s && rate_per_min < s.lab_rate_limit_per_min) break;
-      if (step_t >= s.max_step_s) {
+      // Drying steps are held longer (the dry reference must be dry).
+      const double min_step = set == 0.0 ? s.min_drying_s : s.min_step_s;
+      const double max_step = set == 0.0 ? std::max(s.max_step_s, s.min_drying_s) : s.max_step_s;
+      if (step_t >= min_step && rate_per_min < s.lab_rate_limit_per_min) break;
+      if (step_t >= max_step) {
         cut = true;
         break;
       }

@@ -29,7 +29,8 @@ double CoverageFactor(WeightConvention convention, int degrees_of_freedom, doubl
 double ChiSquareUpperTail(double value, int degrees_of_freedom);
 
 // Quantile q in [0, 1] of the values, linear interpolation between order statistics
-// (Hyndman & Fan 1996, type 7). `values` is sorted in place. NaN if empty.
+// (Hyndman & Fan 1996, type 7). `values` is reordered in place (partially sorted). NaN if
+// empty.
 double Percentile(std::vector<double>* values, double q);
 
 // Statistics of a fit: residuals_y = y - f, x_terms = sum of ((x0_obs - x0_true)/sigma_x0)^2.

@@ -42,8 +42,19 @@ struct Durner2Equation {
     const double factor = KelvinPressureFactor_Pa(context.temperature_K);
     const T& w1 = p[1];
     const T log10_alpha2 = p[2] - p[4];
-    const T s1 = VanGenuchtenSaturationAtRh(x[0], p[2], p[3], T(1.0 - 1.0 / p[3]), factor);
-    const T s2 = VanGenuchtenSaturationAtRh(x[0], log10_alpha2, p[5], T(1.0 - 1.0 / p[5]), factor);
+    // As VanGenuchtenSaturationAtRh per system, with ln(p_c) computed once for both.
+    T s1(1.0);
+    T s2(1.0);
+    if (x[0] >= T(1.0)) {
+      // saturated: s1 = s2 = 1
+    } else if (x[0] <= T(0.0)) {
+      s1 = T(0.0);
+      s2 = T(0.0);
+    } else {
+      const T ln_pc = LogCapillaryPressure(x[0], factor);
+      s1 = VanGenuchtenSaturationAtLogPc(ln_pc, p[2], p[3], T(1.0 - 1.0 / p[3]));
+      s2 = VanGenuchtenSaturationAtLogPc(ln_pc, log10_alpha2, p[5], T(1.0 - 1.0 / p[5]));
+    }
     return p[0] * (w1 * s1 + (1.0 - w1) * s2);
   }
   static std::vector<std::vector<double>> StartingPoints(
@@ -63,9 +74,21 @@ struct Durner3Equation {
     const T w3 = (1.0 - w1) * (1.0 - p[2]);
     const T log10_alpha2 = p[3] - p[5];
     const T log10_alpha3 = log10_alpha2 - p[7];
-    const T s1 = VanGenuchtenSaturationAtRh(x[0], p[3], p[4], T(1.0 - 1.0 / p[4]), factor);
-    const T s2 = VanGenuchtenSaturationAtRh(x[0], log10_alpha2, p[6], T(1.0 - 1.0 / p[6]), factor);
-    const T s3 = VanGenuchtenSaturationAtRh(x[0], log10_alpha3, p[8], T(1.0 - 1.0 / p[8]), factor);
+    T s1(1.0);
+    T s2(1.0);
+    T s3(1.0);
+    if (x[0] >= T(1.0)) {
+      // saturated: s1 = s2 = s3 = 1
+    } else if (x[0] <= T(0.0)) {
+      s1 = T(0.0);
+      s2 = T(0.0);
+      s3 = T(0.0);
+    } else {
+      const T ln_pc = LogCapillaryPressure(x[0], factor);
+      s1 = VanGenuchtenSaturationAtLogPc(ln_pc, p[3], p[4], T(1.0 - 1.0 / p[4]));
+      s2 = VanGenuchtenSaturationAtLogPc(ln_pc, log10_alpha2, p[6], T(1.0 - 1.0 / p[6]));
+      s3 = VanGenuchtenSaturationAtLogPc(ln_pc, log10_alpha3, p[8], T(1.0 - 1.0 / p[8]));
+    }
     return p[0] * (w1 * s1 + w2 * s2 + w3 * s3);
   }
   static std::vector<std::vector<double>> StartingPoints(

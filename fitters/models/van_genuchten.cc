@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <memory>
 #include <utility>
 
@@ -36,9 +37,25 @@ double Median(std::vector<double> values) {
 }  // namespace
 
 double KelvinPressureFactor_Pa(double temperature_K) {
-  return physics::LiquidWaterDensity_kg_per_m3(temperature_K) *
-         physics::kMolarGasConstant_J_per_mol_K * temperature_K /
-         physics::kMolarMassWater_kg_per_mol;
+  // Memo of the last temperature (NaN never compares equal, so it is never served from here).
+  thread_local double last_temperature_K = std::numeric_limits<double>::quiet_NaN();
+  thread_local double last_factor_Pa = 0.0;
+  if (temperature_K == last_temperature_K) return last_factor_Pa;
+  const double factor_Pa = physics::LiquidWaterDensity_kg_per_m3(temperature_K) *
+                           physics::kMolarGasConstant_J_per_mol_K * temperature_K /
+                           physics::kMolarMassWater_kg_per_mol;
+  last_temperature_K = temperature_K;
+  last_factor_Pa = factor_Pa;
+  return factor_Pa;
+}
+
+double LogKelvinPressureFactor(double kelvin_factor_Pa) {
+  thread_local double last_factor_Pa = std::numeric_limits<double>::quiet_NaN();
+  thread_local double last_log = 0.0;
+  if (kelvin_factor_Pa == last_factor_Pa) return last_log;
+  last_log = std::log(kelvin_factor_Pa);
+  last_factor_Pa = kelvin_factor_Pa;
+  return last_log;
 }
 
 ModelInfo VanGenuchtenEquation::Info() {

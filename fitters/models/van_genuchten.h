@@ -37,6 +37,8 @@
 // points; candidates ranked by their weighted sum of squares, best first.
 #pragma once
 
+#include <ceres/jet.h>
+
 #include <cmath>
 #include <string>
 #include <vector>
@@ -48,14 +50,30 @@ namespace sorbtrace::fitters::models {
 inline constexpr double kLn10 = 2.302585092994045684;  // ln(10)
 
 // rho_w R T / M_w [Pa], so that p_c = -factor * ln(a_w). Throws physics::RangeError outside the
-// density correlation's range (0..150 degC).
+// density correlation's range (0..150 degC). The value of the last temperature asked for is
+// remembered (per thread): a fit evaluates the model at one temperature many thousands of times.
 double KelvinPressureFactor_Pa(double temperature_K);
+
+// std::log(kelvin_factor_Pa), the last value remembered (per thread) like the factor itself.
+double LogKelvinPressureFactor(double kelvin_factor_Pa);
 
 // ln(p_c / 1 Pa) for 0 < a_w < 1.
 template <typename T>
 T LogCapillaryPressure(const T& rh_fraction, double kelvin_factor_Pa) {
   using std::log;
-  return std::log(kelvin_factor_Pa) + log(-log(rh_fraction));
+  return LogKelvinPressureFactor(kelvin_factor_Pa) + log(-log(rh_fraction));
+}
+
+// The same for ceres::Jet: value as above, derivative d ln(p_c) / d a_w = 1 / (a_w ln a_w)
+// applied once to the derivative part (cheaper than two Jet logarithms).
+template <int N>
+ceres::Jet<double, N> LogCapillaryPressure(const ceres::Jet<double, N>& rh_fraction,
+                                           double kelvin_factor_Pa) {
+  const double ln_rh = std::log(rh_fraction.a);
+  ceres::Jet<double, N> out;
+  out.a = LogKelvinPressureFactor(kelvin_factor_Pa) + std::log(-ln_rh);
+  out.v = (1.0 / (rh_fraction.a * ln_rh)) * rh_fraction.v;
+  return out;
 }
 
 // ln(1 + exp(z)) without overflow.
@@ -75,14 +93,53 @@ T VanGenuchtenSaturationFromLog(const T& ln_alpha_h, const T& n, const T& m) {
   return exp(-m * Softplus(T(n * ln_alpha_h)));
 }
 
+// S_e of one pore system given ln(p_c / 1 Pa) (from LogCapillaryPressure).
+template <typename T>
+T VanGenuchtenSaturationAtLogPc(const T& ln_pc, const T& log10_alpha, const T& n, const T& m) {
+  const T ln_alpha_pc = kLn10 * log10_alpha + ln_pc;
+  return VanGenuchtenSaturationFromLog(ln_alpha_pc, n, m);
+}
+
+// The same for ceres::Jet (what the solver differentiates): the value is computed in double by
+// exactly the operations above (identical to the double evaluation), the derivatives by hand,
+// applied once to the derivative parts instead of through every intermediate Jet:
+//   y = ln(alpha p_c), z = n y, sp = softplus(z), S = exp(-m sp), sigma = logistic(z),
+//   dS = -S [m sigma (n dy + y dn) + sp dm],  dy = ln(10) dlog10_alpha + d ln(p_c).
+template <int N>
+ceres::Jet<double, N> VanGenuchtenSaturationAtLogPc(const ceres::Jet<double, N>& ln_pc,
+                                                    const ceres::Jet<double, N>& log10_alpha,
+                                                    const ceres::Jet<double, N>& n,
+                                                    const ceres::Jet<double, N>& m) {
+  const double y = kLn10 * log10_alpha.a + ln_pc.a;
+  const double z = n.a * y;
+  double softplus = 0.0;
+  double logistic = 0.0;
+  if (z > 0.0) {
+    const double e = std::exp(-z);
+    softplus = z + std::log1p(e);
+    logistic = 1.0 / (1.0 + e);
+  } else {
+    const double e = std::exp(z);
+    softplus = std::log1p(e);
+    logistic = e / (1.0 + e);
+  }
+  const double s = std::exp(-m.a * softplus);
+  const double ds_dz = -m.a * logistic * s;
+  ceres::Jet<double, N> out;
+  out.a = s;
+  out.v =
+      (ds_dz * n.a) * (kLn10 * log10_alpha.v + ln_pc.v) + (ds_dz * y) * n.v - (softplus * s) * m.v;
+  return out;
+}
+
 // S_e of one pore system at a_w (handles a_w >= 1 and a_w <= 0).
 template <typename T>
 T VanGenuchtenSaturationAtRh(const T& rh_fraction, const T& log10_alpha, const T& n, const T& m,
                              double kelvin_factor_Pa) {
   if (rh_fraction >= T(1.0)) return T(1.0);
   if (rh_fraction <= T(0.0)) return T(0.0);
-  const T ln_alpha_pc = kLn10 * log10_alpha + LogCapillaryPressure(rh_fraction, kelvin_factor_Pa);
-  return VanGenuchtenSaturationFromLog(ln_alpha_pc, n, m);
+  return VanGenuchtenSaturationAtLogPc(LogCapillaryPressure(rh_fraction, kelvin_factor_Pa),
+                                       log10_alpha, n, m);
 }
 
 struct VanGenuchtenEquation {

@@ -64,7 +64,7 @@ enum class RhSource {
 struct EquilibriumPoint {
   std::string dataset_id;
   std::string specimen_id;
-  int step_index = 0;
+  int step_index = 0;      // 0-based: order of the step for the specimen / in the log
   std::string step_label;  // "NaCl", "set 50 %", ...
   ingest::Method method = ingest::Method::kDesiccator;
   ingest::Branch branch = ingest::Branch::kAdsorption;
@@ -95,8 +95,10 @@ struct EquilibriumPoint {
 struct DryMass {
   std::string specimen_id;
   double mass_g = 0.0;
-  double u_mass_g = 0.0;  // standard uncertainty beyond the balance (e.g. drift)
-  std::string method;     // e.g. "oven drying at 105 degC (ISO 12570)"
+  // Standard uncertainty beyond the balance: from the drying step, sqrt(u_extrapolation^2 +
+  // u_drift^2); 0 for a stated dry mass.
+  double u_mass_g = 0.0;
+  std::string method;  // e.g. "oven drying at 105 degC (ISO 12570)"
   bool equilibrated = true;
   bool stated = false;     // given in the job file (no weighing in the data files)
   std::string dataset_id;  // where the drying step was found (empty when stated)
@@ -119,8 +121,10 @@ struct Trace {
   std::vector<double> equilibrium_times_s;  // where equilibria were detected
 };
 
+// Counts are disjoint: num_equilibrated (criterion met) + num_extrapolated +
+// num_not_equilibrated = num_steps (drying steps included).
 struct EquilibrateSummary {
-  std::vector<Diagnostic> warnings;
+  std::vector<Diagnostic> warnings;  // one per extrapolated / not equilibrated step, dry masses
   int num_steps = 0;
   int num_equilibrated = 0;
   int num_extrapolated = 0;
@@ -134,6 +138,11 @@ struct EquilibriumSet {
   EquilibrateSummary summary;
 };
 
+// Equilibria of every step of every data set (in job order), the dry mass of every specimen
+// per job.dry_mass_method (oven: stated dry_mass_g, else the oven/first drying step;
+// desiccant step: the first drying step; final drying step: the last), and plot traces.
+// Throws InputError for invalid options, an unknown salt or one outside its temperature
+// range, a step too short to judge, or a specimen without a dry mass source.
 EquilibriumSet Equilibrate(const ingest::IngestResult& ingested, const EquilibrateOptions& options);
 
 }  // namespace sorbtrace::equilibrate

@@ -59,7 +59,7 @@ FilmCurve MakeFilmCurve(const PoreOptions& options, const FittedLayersSource* la
       const double t = options.constant_film_thickness_m;
       film.thickness_m = [t](double) { return t; };
       film.description = fmt::format("constant adsorbed film t = {:g} nm", t / kNm);
-      film.setting = fmt::format("pores.constant_film_thickness_nm = {:g}", t / kNm);
+      film.setting = fmt::format("pores.film_thickness_nm = {:g}", t / kNm);
       film.is_constant = true;
       film.constant_m = t;
       break;

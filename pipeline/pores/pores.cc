@@ -43,7 +43,7 @@ void Warn(PoreAnalysis* out, std::string message) {
 }
 
 std::string GroupWords(const fit::FitGroup& group) {
-  return fmt::format("{} at {:.2f} degC", ingest::BranchName(group.branch),
+  return fmt::format("{} group at {:.2f} degC", ingest::BranchName(group.branch),
                      physics::KelvinToCelsius(group.temperature_K));
 }
 
@@ -112,11 +112,11 @@ bool PoreOptions::IsValid(std::string* error) const {
   }
   if (film == FilmModel::kConstant) {
     if (!(constant_film_thickness_m >= 0.0) || !std::isfinite(constant_film_thickness_m)) {
-      return Fail(error, fmt::format("pores.constant_film_thickness_nm = {:g} must be >= 0",
+      return Fail(error, fmt::format("pores.film_thickness_nm = {:g} must be >= 0",
                                      constant_film_thickness_m / kNm));
     }
     if (constant_film_thickness_m >= min_radius_m) {
-      return Fail(error, fmt::format("pores.constant_film_thickness_nm = {:g} is thicker than the "
+      return Fail(error, fmt::format("pores.film_thickness_nm = {:g} is thicker than the "
                                      "smallest pore radius {:g} nm",
                                      constant_film_thickness_m / kNm, min_radius_m / kNm));
     }
@@ -153,8 +153,8 @@ bool PoreOptions::IsValid(std::string* error) const {
     }
   }
   if (!(contact_angle_rad >= 0.0 && contact_angle_rad < kHalfPi)) {
-    return Fail(error, fmt::format("pores.contact_angle_rad = {:g} must be in [0, pi/2)",
-                                   contact_angle_rad));
+    return Fail(error, fmt::format("pores.contact_angle_deg = {:g} must be in [0, 90)",
+                                   contact_angle_rad * 90.0 / kHalfPi));
   }
   if (grid_points < kMinGridPoints || grid_points > kMaxGridPoints) {
     return Fail(error, fmt::format("pores.grid_points = {} must be in {}..{}", grid_points,
@@ -165,7 +165,7 @@ bool PoreOptions::IsValid(std::string* error) const {
                 fmt::format("pores.band_draws = {} must be in 0..{}", band_draws, kMaxDraws));
   }
   if (source_model.empty()) {
-    return Fail(error, "pores.source_model is empty; expected \"best\" or a model key");
+    return Fail(error, "pores.model is empty; expected \"best\" or a model key");
   }
   if (!(molecular_area_m2 > 0.0) || !std::isfinite(molecular_area_m2)) {
     return Fail(error, fmt::format("pores.molecular_area_nm2 = {:g} must be > 0",
@@ -251,7 +251,7 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
                                         internal::MeniscusFor(options.geometry, group.branch),
                                         options.contact_angle_rad, std::move(film));
       if (source.model == nullptr) {
-        Warn(&out, fmt::format("pores: no converged {} fit for the {} group: no model-based "
+        Warn(&out, fmt::format("pores: no converged {} fit for the {}: no model-based "
                                "distribution",
                                options.source_model, GroupWords(group)));
       } else {
@@ -298,8 +298,7 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
     } catch (const InputError&) {
       throw;
     } catch (const std::exception& e) {
-      Warn(&out,
-           fmt::format("pores: no distribution for the {} group: {}", GroupWords(group), e.what()));
+      Warn(&out, fmt::format("pores: no distribution for the {}: {}", GroupWords(group), e.what()));
     }
   }
 

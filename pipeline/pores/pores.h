@@ -61,7 +61,8 @@ struct PoreOptions {
   double molecular_area_m2 = 0.106e-18;  // water cross-section (Emmett & Brunauer 1937)
   std::vector<ReferenceCondition> reference_conditions = {{296.15, 0.5}, {296.15, 0.8}};
 
-  // Added by the pores stage (defaults documented; names as in the job file, lengths in nm).
+  // Added by the pores stage (not job-file keys yet). Error messages of IsValid name the
+  // job-file keys of pipeline/run/settings.cc (pores.film_thickness_nm, pores.min_radius_nm, ...).
   // Two-sided level of the percentile bands; set it to FitStageOptions::confidence_level
   // (IsothermFits does not carry the level).
   double band_confidence_level = 0.95;

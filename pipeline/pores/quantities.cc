@@ -21,6 +21,13 @@ constexpr double kGramsPerKilogram = 1000.0;
 constexpr double kPharmacopoeiaTemperature_K = 298.15;
 constexpr double kPharmacopoeiaTemperatureTolerance_K = 1.0;
 constexpr double kPharmacopoeiaRhFraction = 0.80;
+// Ph. Eur. 5.11 humidity tolerance 80 +- 2 % RH (from memory): a highest step this close to 80 %
+// RH still supports the class (the model is read at exactly 80 %).
+constexpr double kPharmacopoeiaRhToleranceFraction = 0.02;
+// A reference RH within half a percent RH of the measured range is not called an extrapolation:
+// that is below the standard uncertainty of salt-solution and sensor humidities (common
+// practice), and a reference RH of 80 % is often also the highest step (measured as 79.97 %).
+constexpr double kRhRangeToleranceFraction = 0.005;
 // Class thresholds of Ph. Eur. 5.11, mass increase in % (from memory).
 constexpr double kVeryHygroscopicPercent = 15.0;
 constexpr double kHygroscopicPercent = 2.0;
@@ -193,8 +200,8 @@ ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
         "fitted at {:.2f} degC, reference {:.2f} degC: not converted to the reference temperature",
         Celsius(best->temperature_K), Celsius(condition.temperature_K)));
   }
-  if (condition.rh_fraction < best->rh_min_fraction ||
-      condition.rh_fraction > best->rh_max_fraction) {
+  if (condition.rh_fraction < best->rh_min_fraction - kRhRangeToleranceFraction ||
+      condition.rh_fraction > best->rh_max_fraction + kRhRangeToleranceFraction) {
     r.flags.push_back(
         fmt::format("extrapolated: {:g} % RH is outside the measured range {:.1f}..{:.1f} % RH",
                     100.0 * condition.rh_fraction, 100.0 * best->rh_min_fraction,
@@ -230,11 +237,12 @@ Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorptio
         Celsius(best->temperature_K));
     return h;
   }
-  if (kPharmacopoeiaRhFraction < best->rh_min_fraction ||
-      kPharmacopoeiaRhFraction > best->rh_max_fraction) {
+  if (kPharmacopoeiaRhFraction < best->rh_min_fraction - kPharmacopoeiaRhToleranceFraction ||
+      kPharmacopoeiaRhFraction > best->rh_max_fraction + kPharmacopoeiaRhToleranceFraction) {
     h.reason = fmt::format(
         "not applicable: 80 % RH is outside the measured range {:.1f}..{:.1f} % RH of the "
-        "adsorption isotherm at {:.2f} degC (no extrapolation)",
+        "adsorption isotherm at {:.2f} degC, beyond the 80 +- 2 % RH tolerance (no "
+        "extrapolation)",
         100.0 * best->rh_min_fraction, 100.0 * best->rh_max_fraction, Celsius(best->temperature_K));
     return h;
   }
@@ -248,6 +256,12 @@ Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorptio
       "received, so a sample that already holds water, or equilibrates slowly, gains less in the "
       "pharmacopoeial test; 'deliquescent' cannot be told from an isotherm",
       best->name, Celsius(best->temperature_K));
+  if (kPharmacopoeiaRhFraction > best->rh_max_fraction) {
+    h.reason += fmt::format(
+        "; the highest measured step is {:.2f} % RH, within the 80 +- 2 % RH tolerance of the "
+        "test",
+        100.0 * best->rh_max_fraction);
+  }
   const double expanded = coverage_factor * h.u_mass_increase_percent;
   for (double boundary :
        {kSlightlyHygroscopicPercent, kHygroscopicPercent, kVeryHygroscopicPercent}) {

@@ -41,8 +41,7 @@ std::string EquilibriumTable(const ReportInputs& inputs) {
     out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},,1,{},{},{},{}\n",
                        Text(p.dataset_id), Text(p.specimen_id), p.step_index, Text(p.step_label),
                        BranchLabel(p.branch), p.cycle, Num(p.temperature_K), Num(p.rh_fraction),
-                       Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg),
-                       Num(p.u_moisture_kg_per_kg),
+                       Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg), Num(p.u_moisture_kg_per_kg),
                        Num(r.coverage_factor * p.u_moisture_kg_per_kg),
                        Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no",
                        p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")));
@@ -52,9 +51,8 @@ std::string EquilibriumTable(const ReportInputs& inputs) {
                        Text(p.dataset_id), p.step_index, Text(p.step_label), BranchLabel(p.branch),
                        p.cycle, Num(p.temperature_K), Num(p.rh_fraction), Num(p.u_rh_fraction),
                        Num(p.moisture_kg_per_kg), Num(p.u_moisture_kg_per_kg),
-                       Num(p.expanded_u_moisture_kg_per_kg),
-                       Num(p.between_specimen_sd_kg_per_kg), p.num_specimens,
-                       Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no",
+                       Num(p.expanded_u_moisture_kg_per_kg), Num(p.between_specimen_sd_kg_per_kg),
+                       p.num_specimens, Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no",
                        p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")));
   }
   return out;
@@ -73,14 +71,13 @@ std::string FitParameters(const ReportInputs& inputs, const Sheet& sheet) {
     for (size_t k = 0; k < mf.result.estimates.size() && k < row.parameters.size(); ++k) {
       const fitters::ParameterEstimate& e = mf.result.estimates[k];
       const Quantity& q = row.parameters[k];
-      out += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", i,
-                         Text(row.group_label), Text(mf.model_name), mf.rank,
-                         row.converged ? "yes" : "no", Text(e.name), Text(q.unit), Num(e.value),
-                         Num(q.standard_uncertainty), Num(q.coverage_factor),
-                         Num(q.expanded_uncertainty), Num(e.interval_low), Num(e.interval_high),
-                         Text(q.text), Num(mf.result.statistics.rmse),
-                         Num(mf.result.statistics.aicc), Num(mf.result.statistics.bic),
-                         Text(Join(row.flags, "; ")));
+      out += fmt::format(
+          "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", i, Text(row.group_label),
+          Text(mf.model_name), mf.rank, row.converged ? "yes" : "no", Text(e.name), Text(q.unit),
+          Num(e.value), Num(q.standard_uncertainty), Num(q.coverage_factor),
+          Num(q.expanded_uncertainty), Num(e.interval_low), Num(e.interval_high), Text(q.text),
+          Num(mf.result.statistics.rmse), Num(mf.result.statistics.aicc),
+          Num(mf.result.statistics.bic), Text(Join(row.flags, "; ")));
     }
   }
   return out;
@@ -97,13 +94,12 @@ std::string PoreDistribution(const ReportInputs& inputs) {
   for (size_t d = 0; d < distributions.size(); ++d) {
     const pores::PoreDistribution& pd = distributions[d];
     for (const pores::PoreDistributionPoint& p : pd.points) {
-      out += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", d, Text(pd.method),
-                         Text(pd.model_name), BranchLabel(pd.branch), Num(pd.temperature_K),
-                         Num(p.radius_m), Num(p.kelvin_radius_m), Num(p.film_thickness_m),
-                         Num(p.rh_fraction), Num(p.cumulative_volume_m3_per_kg),
-                         Num(p.cumulative_low_m3_per_kg), Num(p.cumulative_high_m3_per_kg),
-                         Num(p.dv_dlogr_m3_per_kg), Num(p.dv_dlogr_low_m3_per_kg),
-                         Num(p.dv_dlogr_high_m3_per_kg));
+      out += fmt::format(
+          "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", d, Text(pd.method), Text(pd.model_name),
+          BranchLabel(pd.branch), Num(pd.temperature_K), Num(p.radius_m), Num(p.kelvin_radius_m),
+          Num(p.film_thickness_m), Num(p.rh_fraction), Num(p.cumulative_volume_m3_per_kg),
+          Num(p.cumulative_low_m3_per_kg), Num(p.cumulative_high_m3_per_kg),
+          Num(p.dv_dlogr_m3_per_kg), Num(p.dv_dlogr_low_m3_per_kg), Num(p.dv_dlogr_high_m3_per_kg));
     }
   }
   return out;

@@ -49,9 +49,8 @@ struct Context {
 // Marker per (branch, temperature index): shape and fill tell branches apart in greyscale.
 plot::MarkerStyle BranchMarker(ingest::Branch branch, int temperature_index) {
   plot::MarkerStyle m;
-  static constexpr plot::MarkerShape kShapes[] = {plot::MarkerShape::kCircle,
-                                                  plot::MarkerShape::kTriangleUp,
-                                                  plot::MarkerShape::kDiamond};
+  static constexpr plot::MarkerShape kShapes[] = {
+      plot::MarkerShape::kCircle, plot::MarkerShape::kTriangleUp, plot::MarkerShape::kDiamond};
   m.shape = branch == ingest::Branch::kDesorption ? plot::MarkerShape::kSquare
                                                   : kShapes[temperature_index % 3];
   if (branch == ingest::Branch::kDesorption && temperature_index > 0) {
@@ -129,8 +128,8 @@ plot::Figure IsothermFigure(const Context& ctx, bool with_secondary) {
       if (best < 0 || static_cast<size_t>(best) >= fits.fits.size()) continue;
       const fit::ModelFit& mf = fits.fits[static_cast<size_t>(best)];
       if (mf.band.empty()) continue;
-      const plot::MarkerStyle m =
-          BranchMarker(fits.groups[g].branch, TemperatureIndex(temperatures, fits.groups[g].temperature_K));
+      const plot::MarkerStyle m = BranchMarker(
+          fits.groups[g].branch, TemperatureIndex(temperatures, fits.groups[g].temperature_K));
       plot::Band band;
       plot::Series curve;
       for (const fitters::BandPoint& b : mf.band) {
@@ -194,8 +193,7 @@ plot::Figure IsothermFigure(const Context& ctx, bool with_secondary) {
              kPascalPerMegapascal;
     };
     top.from_secondary = [temperature_K](double pressure_MPa) {
-      return physics::RhFromCapillaryPressure(pressure_MPa * kPascalPerMegapascal,
-                                              temperature_K) *
+      return physics::RhFromCapillaryPressure(pressure_MPa * kPascalPerMegapascal, temperature_K) *
              100.0;
     };
     fig.x_top = top;
@@ -251,7 +249,8 @@ void SummarySection(Context& ctx, bool compact) {
   if (ctx.inputs.ingested != nullptr) {
     const ingest::JobSpec& job = ctx.inputs.ingested->job;
     facts.push_back({"Material", job.material_name});
-    if (!job.material_description.empty()) facts.push_back({"Description", job.material_description});
+    if (!job.material_description.empty())
+      facts.push_back({"Description", job.material_description});
     if (!job.client.empty()) facts.push_back({"Client", job.client});
     std::string specimens;
     for (const ingest::SpecimenSpec& s : job.specimens) {
@@ -265,7 +264,8 @@ void SummarySection(Context& ctx, bool compact) {
     }
     if (!temperatures.empty()) facts.push_back({"Temperature", temperatures});
     if (!job.test_dates.empty()) facts.push_back({"Test dates", job.test_dates});
-    facts.push_back({"Issued", job.issue_date.empty() ? ctx.options.document_date : job.issue_date});
+    facts.push_back(
+        {"Issued", job.issue_date.empty() ? ctx.options.document_date : job.issue_date});
   }
   doc.KeyValues(facts, 90.0);
 
@@ -313,7 +313,9 @@ void SummarySection(Context& ctx, bool compact) {
     // signatories leave.
     double reserved = 30.0;  // cautions heading
     for (const std::string& c : cautions) {
-      reserved += 8.0 * 1.32 * static_cast<double>(doc.canvas().Wrap(c, 8.0, doc.width() - 12.0).size()) + 1.5;
+      reserved +=
+          8.0 * 1.32 * static_cast<double>(doc.canvas().Wrap(c, 8.0, doc.width() - 12.0).size()) +
+          1.5;
     }
     if (!ctx.layout.signatories.empty()) reserved += 72.0;
     const double height = std::clamp(doc.cursor() - doc.bottom() - reserved - 8.0, 110.0, 260.0);
@@ -354,7 +356,7 @@ void SummarySection(Context& ctx, bool compact) {
 
 void IsothermSection(Context& ctx) {
   Document& doc = ctx.doc;
-  doc.NewPage();
+  doc.NewPageIfUsed();
   doc.Heading(ctx.NextHeading("Sorption isotherm"));
   const double main_height = 400.0;
   const double residual_height = 150.0;
@@ -366,7 +368,8 @@ void IsothermSection(Context& ctx) {
   const double pad = std::max(plot::AutomaticLeftPadding(doc.canvas(), fig),
                               plot::AutomaticLeftPadding(doc.canvas(), res));
   fig.left_padding_pt = res.left_padding_pt = pad;
-  plot::DrawFigure(doc.canvas(), fig, {doc.left(), doc.cursor() - main_height, doc.width(), main_height});
+  plot::DrawFigure(doc.canvas(), fig,
+                   {doc.left(), doc.cursor() - main_height, doc.width(), main_height});
   doc.Skip(main_height + 6.0);
   res.title = "Residuals of the best fits (measured − fitted)";
   res.caption = fmt::format(
@@ -384,19 +387,18 @@ void IsothermSection(Context& ctx) {
 
 void ModelsSection(Context& ctx) {
   Document& doc = ctx.doc;
-  doc.NewPage();
+  doc.NewPageIfUsed();
   doc.Heading(ctx.NextHeading("Model comparison"));
   doc.Paragraph(fmt::format("Parameters with expanded uncertainty U (k = {}); correlations with "
                             "|r| > 0.95 are listed below the parameters. RMSE in {}; MRD: mean "
                             "relative deviation; rank by AICc within each branch.",
-                            CoverageText(ctx.sheet.rules.coverage_factor),
-                            ctx.sheet.moisture_unit),
+                            CoverageText(ctx.sheet.rules.coverage_factor), ctx.sheet.moisture_unit),
                 8.0, 0.0, palette::kSlate);
   const double w = doc.width();
-  std::vector<TableColumn> columns = {{"Model", w * 0.20, false},      {"Parameters ± U", w * 0.33, false},
-                                      {"RMSE", w * 0.085, true},       {"MRD", w * 0.07, true},
-                                      {"AICc", w * 0.075, true},       {"BIC", w * 0.075, true},
-                                      {"Rank", w * 0.045, true},       {"Flags", w * 0.12, false}};
+  std::vector<TableColumn> columns = {
+      {"Model", w * 0.20, false}, {"Parameters ± U", w * 0.33, false}, {"RMSE", w * 0.085, true},
+      {"MRD", w * 0.07, true},    {"AICc", w * 0.075, true},           {"BIC", w * 0.075, true},
+      {"Rank", w * 0.045, true},  {"Flags", w * 0.12, false}};
   std::vector<std::vector<std::string>> rows;
   for (const ModelRow& row : ctx.sheet.models) {
     std::string parameters;
@@ -416,8 +418,8 @@ void ModelsSection(Context& ctx) {
     std::set<std::string> shown;
     for (const fit::ModelFit& mf : ctx.inputs.fits->fits) {
       if (!shown.insert(mf.model_name).second) continue;
-      std::string text = (mf.info.title.empty() ? mf.model_name : mf.info.title) + ":  " +
-                         mf.info.equation;
+      std::string text =
+          (mf.info.title.empty() ? mf.model_name : mf.info.title) + ":  " + mf.info.equation;
       if (!mf.info.source.empty()) text += "  (" + mf.info.source + ")";
       doc.Paragraph(text, 7.5);
     }
@@ -426,7 +428,7 @@ void ModelsSection(Context& ctx) {
 
 void PoresSection(Context& ctx) {
   Document& doc = ctx.doc;
-  doc.NewPage();
+  doc.NewPageIfUsed();
   doc.Heading(ctx.NextHeading("Pore-size distribution"));
   if (ctx.inputs.pores == nullptr || ctx.inputs.pores->distributions.empty()) {
     doc.Paragraph("No pore-size distribution was computed for this job.");
@@ -466,12 +468,13 @@ void PoresSection(Context& ctx) {
     }
     band.fill = cband.fill = color.Tint(0.8);
     const bool stepwise = pd.method == "stepwise";
-    s.marker.shape = cs.marker.shape = stepwise ? plot::MarkerShape::kSquare : plot::MarkerShape::kNone;
+    s.marker.shape = cs.marker.shape =
+        stepwise ? plot::MarkerShape::kSquare : plot::MarkerShape::kNone;
     s.marker.filled = cs.marker.filled = false;
     s.marker.color = cs.marker.color = color;
     s.marker.size_pt = cs.marker.size_pt = 3.6;
-    s.line = cs.line = plot::LineStyle{color, 1.1, stepwise ? std::vector<double>{3.0, 2.0}
-                                                            : std::vector<double>{}};
+    s.line = cs.line = plot::LineStyle{
+        color, 1.1, stepwise ? std::vector<double>{3.0, 2.0} : std::vector<double>{}};
     s.legend = cs.legend = pd.method + (pd.model_name.empty() ? "" : " (" + pd.model_name + ")") +
                            ", " + BranchLabel(pd.branch);
     if (d == 0) band.legend = "band (fit uncertainty)";
@@ -495,14 +498,16 @@ void PoresSection(Context& ctx) {
   y -= 12.0;
   for (const pores::PoreDistribution& pd : pa.distributions) {
     std::vector<std::string> items = {
-        fmt::format("{} ({}, {})", pd.method, BranchLabel(pd.branch), TemperatureLabel(pd.temperature_K)),
-        std::string("meniscus: ") + (pd.meniscus == physics::Meniscus::kHemispherical
-                                         ? "hemispherical"
-                                         : "cylindrical"),
+        fmt::format("{} ({}, {})", pd.method, BranchLabel(pd.branch),
+                    TemperatureLabel(pd.temperature_K)),
+        std::string("meniscus: ") +
+            (pd.meniscus == physics::Meniscus::kHemispherical ? "hemispherical" : "cylindrical"),
         "film: " + pd.film_description,
-        fmt::format("Kelvin-resolved radii {} to {} nm", FormatSignificant(pd.resolved_radius_min_m * kRadius, 3),
+        fmt::format("Kelvin-resolved radii {} to {} nm",
+                    FormatSignificant(pd.resolved_radius_min_m * kRadius, 3),
                     FormatSignificant(pd.resolved_radius_max_m * kRadius, 3)),
-        fmt::format("adsorbed below: {} mm³/g", FormatSignificant(pd.adsorbed_volume_m3_per_kg * kVolume, 3))};
+        fmt::format("adsorbed below: {} mm³/g",
+                    FormatSignificant(pd.adsorbed_volume_m3_per_kg * kVolume, 3))};
     for (const std::string& a : pd.assumptions) items.push_back(a);
     for (size_t i = 0; i < items.size(); ++i) {
       for (const std::string& line : c.Wrap(items[i], 7.0, side - 8.0)) {
@@ -527,12 +532,13 @@ void PoresSection(Context& ctx) {
       rows.push_back({"Hysteresis", "not available: " + h.reason});
       continue;
     }
-    rows.push_back({"Largest hysteresis (" + TemperatureLabel(h.temperature_K) + ")",
-                    fmt::format("{} {} at {} % RH; significant from {} to {} % RH",
-                                FormatSignificant(h.max_difference_kg_per_kg * ctx.moisture_scale(), 2),
-                                ctx.sheet.moisture_unit, FormatFixed(h.rh_at_max_fraction * 100.0, 0),
-                                FormatFixed(h.significant_rh_low_fraction * 100.0, 0),
-                                FormatFixed(h.significant_rh_high_fraction * 100.0, 0))});
+    rows.push_back(
+        {"Largest hysteresis (" + TemperatureLabel(h.temperature_K) + ")",
+         fmt::format("{} {} at {} % RH; significant from {} to {} % RH",
+                     FormatSignificant(h.max_difference_kg_per_kg * ctx.moisture_scale(), 2),
+                     ctx.sheet.moisture_unit, FormatFixed(h.rh_at_max_fraction * 100.0, 0),
+                     FormatFixed(h.significant_rh_low_fraction * 100.0, 0),
+                     FormatFixed(h.significant_rh_high_fraction * 100.0, 0))});
   }
   for (const pores::IsostericHeat& q : pa.isosteric_heat) {
     if (!q.available) {
@@ -542,11 +548,13 @@ void PoresSection(Context& ctx) {
     std::string text;
     for (const pores::IsostericHeatPoint& p : q.points) {
       text += (text.empty() ? "" : "\n") +
-              fmt::format("at {} {}: q_st,net = {} kJ/mol", FormatSignificant(p.moisture_kg_per_kg * ctx.moisture_scale(), 2),
+              fmt::format("at {} {}: q_st,net = {} kJ/mol",
+                          FormatSignificant(p.moisture_kg_per_kg * ctx.moisture_scale(), 2),
                           ctx.sheet.moisture_unit,
-                          FormatWithUncertainty(p.net_heat_J_per_mol / 1000.0,
-                                                ctx.sheet.rules.coverage_factor * p.u_net_heat_J_per_mol / 1000.0,
-                                                ctx.sheet.rules.significant_digits));
+                          FormatWithUncertainty(
+                              p.net_heat_J_per_mol / 1000.0,
+                              ctx.sheet.rules.coverage_factor * p.u_net_heat_J_per_mol / 1000.0,
+                              ctx.sheet.rules.significant_digits));
     }
     rows.push_back({"Isosteric heat (" + BranchLabel(q.branch) + ")", text});
   }
@@ -559,7 +567,7 @@ void PoresSection(Context& ctx) {
 void KineticsSection(Context& ctx) {
   Document& doc = ctx.doc;
   if (ctx.inputs.ingested == nullptr) return;
-  doc.NewPage();
+  doc.NewPageIfUsed();
   doc.Heading(ctx.NextHeading("Kinetics"));
   const double height = 250.0;
   // Vapour-sorption logs: mass and RH against time, equilibria marked.
@@ -640,15 +648,18 @@ void KineticsSection(Context& ctx) {
         s.x.push_back(wgh.time_s / kSecondsPerDay);
         s.y.push_back(wgh.mass_g);
       }
-      if (!step.weighings.empty()) step_starts.insert(step.weighings.front().time_s / kSecondsPerDay);
+      if (!step.weighings.empty())
+        step_starts.insert(step.weighings.front().time_s / kSecondsPerDay);
       bool first = true;
-      for (const plot::Series& other : fig.series) first = first && other.marker.color.r != s.marker.color.r;
+      for (const plot::Series& other : fig.series)
+        first = first && other.marker.color.r != s.marker.color.r;
       if (first) s.legend = "specimen " + step.specimen_id;
       fig.series.push_back(std::move(s));
     }
     for (double t : step_starts) fig.events.push_back({t, palette::kSlate.Tint(0.45), 0.5});
-    fig.caption = "Each line joins the weighings of one specimen within one humidity step; "
-                  "dashed lines mark the start of a step.";
+    fig.caption =
+        "Each line joins the weighings of one specimen within one humidity step; "
+        "dashed lines mark the start of a step.";
     doc.EnsureSpace(height);
     plot::DrawFigure(doc.canvas(), fig, {doc.left(), doc.cursor() - height, doc.width(), height});
     doc.Skip(height + 10.0);
@@ -657,7 +668,7 @@ void KineticsSection(Context& ctx) {
 
 void EquilibriaSection(Context& ctx) {
   Document& doc = ctx.doc;
-  doc.NewPage();
+  doc.NewPageIfUsed();
   doc.Heading(ctx.NextHeading("Equilibrium table"));
   if (ctx.inputs.reduced == nullptr) return;
   doc.Paragraph(fmt::format("Combined specimens per step. U: expanded uncertainty (k = {}); "
@@ -667,12 +678,15 @@ void EquilibriaSection(Context& ctx) {
                 8.0, 0.0, palette::kSlate);
   const double w = doc.width();
   const std::string mu = ctx.sheet.moisture_unit;
-  std::vector<TableColumn> columns = {
-      {"Data set / step", w * 0.19, false}, {"Branch", w * 0.10, false},
-      {"T (°C)", w * 0.065, true},          {"n", w * 0.035, true},
-      {"RH ± U (%)", w * 0.13, true},       {"Moisture ± U (" + mu + ")", w * 0.17, true},
-      {"Spread (" + mu + ")", w * 0.09, true}, {"t_eq (h)", w * 0.07, true},
-      {"Flags", w * 0.15, false}};
+  std::vector<TableColumn> columns = {{"Data set / step", w * 0.19, false},
+                                      {"Branch", w * 0.10, false},
+                                      {"T (°C)", w * 0.065, true},
+                                      {"n", w * 0.035, true},
+                                      {"RH ± U (%)", w * 0.13, true},
+                                      {"Moisture ± U (" + mu + ")", w * 0.17, true},
+                                      {"Spread (" + mu + ")", w * 0.09, true},
+                                      {"t_eq (h)", w * 0.07, true},
+                                      {"Flags", w * 0.15, false}};
   const double ms = ctx.moisture_scale();
   const double k = ctx.sheet.rules.coverage_factor;
   const int digits = ctx.sheet.rules.significant_digits;
@@ -682,7 +696,8 @@ void EquilibriaSection(Context& ctx) {
     for (const std::string& f : p.flags) flags += (flags.empty() ? "" : "; ") + f;
     if (!p.equilibrated) flags = "not equilibrated" + (flags.empty() ? "" : "; " + flags);
     if (p.extrapolated) flags = "extrapolated" + (flags.empty() ? "" : "; " + flags);
-    const double u_rh = p.expanded_u_rh_fraction > 0.0 ? p.expanded_u_rh_fraction : k * p.u_rh_fraction;
+    const double u_rh =
+        p.expanded_u_rh_fraction > 0.0 ? p.expanded_u_rh_fraction : k * p.u_rh_fraction;
     const double u_m = p.expanded_u_moisture_kg_per_kg > 0.0 ? p.expanded_u_moisture_kg_per_kg
                                                              : k * p.u_moisture_kg_per_kg;
     rows.push_back({p.dataset_id + " / " + p.step_label, BranchLabel(p.branch),
@@ -698,7 +713,7 @@ void EquilibriaSection(Context& ctx) {
 
 void MethodSection(Context& ctx) {
   Document& doc = ctx.doc;
-  doc.NewPage();
+  doc.NewPageIfUsed();
   doc.Heading(ctx.NextHeading("Method and traceability"));
   const ingest::IngestResult* in = ctx.inputs.ingested;
   doc.Subheading("Procedure");
@@ -709,18 +724,23 @@ void MethodSection(Context& ctx) {
                                     ? "specimens weighed at intervals in closed desiccators above "
                                       "saturated salt solutions"
                                     : "continuous mass and RH log of one specimen in a humidity-"
-                                      "controlled balance (" + d.specimen_id + ")",
+                                      "controlled balance (" +
+                                          d.specimen_id + ")",
                                 TemperatureLabel(d.temperature_K), d.file_as_written),
                     8.0);
     }
   }
   const auto& settings = ctx.inputs.effective_settings;
   if (settings.is_object() && settings.contains("equilibrium")) {
-    doc.Paragraph("Equilibrium criteria: " + settings["equilibrium"].dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace), 8.0);
-  } else {
-    doc.Paragraph("Equilibrium criteria: as recorded under \"settings\" below (constant mass per "
-                  "ISO 12571 for desiccator series; rate of mass change for mass logs).",
+    doc.Paragraph("Equilibrium criteria: " +
+                      settings["equilibrium"].dump(
+                          -1, ' ', false, nlohmann::ordered_json::error_handler_t::replace),
                   8.0);
+  } else {
+    doc.Paragraph(
+        "Equilibrium criteria: as recorded under \"settings\" below (constant mass per "
+        "ISO 12571 for desiccator series; rate of mass change for mass logs).",
+        8.0);
   }
   doc.Subheading("Dry mass");
   if (ctx.inputs.equilibria != nullptr) {
@@ -731,8 +751,10 @@ void MethodSection(Context& ctx) {
                       d.method + (d.equilibrated ? "" : " (not at constant mass)")});
     }
     const double w = doc.width();
-    doc.Table({{"Specimen", w * 0.15, false}, {"Dry mass", w * 0.15, true},
-               {"u (extra)", w * 0.15, true}, {"Method", w * 0.55, false}},
+    doc.Table({{"Specimen", w * 0.15, false},
+               {"Dry mass", w * 0.15, true},
+               {"u (extra)", w * 0.15, true},
+               {"Method", w * 0.55, false}},
               rows, 7.5);
   }
   doc.Subheading("Uncertainty budget (point with the largest combined uncertainty)");
@@ -753,8 +775,10 @@ void MethodSection(Context& ctx) {
                       FormatSignificant(b.sensitivity, 3), FormatSignificant(b.contribution, 2)});
     }
     const double w = doc.width();
-    doc.Table({{"Input quantity", w * 0.40, false}, {"u(x_i)", w * 0.20, true},
-               {"c_i", w * 0.20, true}, {"|c_i| u(x_i) (kg/kg)", w * 0.20, true}},
+    doc.Table({{"Input quantity", w * 0.40, false},
+               {"u(x_i)", w * 0.20, true},
+               {"c_i", w * 0.20, true},
+               {"|c_i| u(x_i) (kg/kg)", w * 0.20, true}},
               rows, 7.5);
   }
   doc.Subheading("Inputs (SHA-256)");
@@ -766,8 +790,8 @@ void MethodSection(Context& ctx) {
               rows, 6.5);
   }
   doc.Subheading("Software and settings");
-  doc.Paragraph("sorbtrace " + ctx.inputs.software_version + "; template \"" + ctx.layout.name +
-                    "\". All settings after overrides:",
+  doc.Paragraph("sorbtrace " + PlainVersion(ctx.inputs.software_version) + "; template \"" +
+                    ctx.layout.name + "\". All settings after overrides:",
                 8.0);
   // Settings flattened to "section.key = value" lines.
   std::vector<std::string> lines;
@@ -778,7 +802,8 @@ void MethodSection(Context& ctx) {
             flatten(it.value(), prefix.empty() ? it.key() : prefix + "." + it.key());
           }
         } else {
-          lines.push_back(prefix + " = " + j.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace));
+          lines.push_back(prefix + " = " +
+                          j.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace));
         }
       };
   if (!settings.is_null()) flatten(settings, "");
@@ -807,7 +832,7 @@ ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout
   if (inputs.ingested != nullptr && !inputs.ingested->job.job_id.empty()) {
     report_number = inputs.ingested->job.job_id;
   }
-  Document doc(layout, options, report_number, inputs.software_version);
+  Document doc(layout, options, report_number, PlainVersion(inputs.software_version));
   Context ctx{inputs, layout, options, sheet, doc};
   doc.NewPage();
   if (layout.compact) {
@@ -837,9 +862,10 @@ ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout
   ReportArtifacts artifacts;
   artifacts.num_pages = doc.num_pages();
   artifacts.pdf = doc.Finish();
-  artifacts.results_json = BuildResultsJson(inputs, layout, options, sheet, artifacts.num_pages)
-                               .dump(2, ' ', false, nlohmann::ordered_json::error_handler_t::replace) +
-                           "\n";
+  artifacts.results_json =
+      BuildResultsJson(inputs, layout, options, sheet, artifacts.num_pages)
+          .dump(2, ' ', false, nlohmann::ordered_json::error_handler_t::replace) +
+      "\n";
   artifacts.csv_files = BuildCsvFiles(inputs, sheet);
   return artifacts;
 }

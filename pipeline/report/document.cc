@@ -61,8 +61,8 @@ void Document::OnError(HPDF_STATUS error, HPDF_STATUS detail, void* user_data) {
   }
 }
 
-Document::Document(const Template& layout, const ReportOptions& options,
-                   std::string report_number, std::string software_version)
+Document::Document(const Template& layout, const ReportOptions& options, std::string report_number,
+                   std::string software_version)
     : layout_(layout),
       report_number_(std::move(report_number)),
       software_version_(std::move(software_version)),
@@ -130,6 +130,10 @@ void Document::NewPage() {
   DrawHeader();
 }
 
+void Document::NewPageIfUsed() {
+  if (pages_.empty() || cursor_ < top_ - 0.5) NewPage();
+}
+
 void Document::DrawHeader() {
   Canvas& c = *canvas_;
   const double margin = layout_.margin_mm * kPointsPerMm;
@@ -173,8 +177,8 @@ void Document::Subheading(const std::string& text) {
   Skip(4.0);
 }
 
-double Document::Paragraph(const std::string& text, double size_pt, double indent_pt,
-                           Color color, bool bold) {
+double Document::Paragraph(const std::string& text, double size_pt, double indent_pt, Color color,
+                           bool bold) {
   const double leading = size_pt * 1.32;
   const auto lines = canvas_->Wrap(text, size_pt, width() - indent_pt, bold);
   double used = 0.0;
@@ -195,7 +199,8 @@ void Document::Bullets(const std::vector<std::string>& items, double size_pt) {
     for (size_t i = 0; i < lines.size(); ++i) {
       EnsureSpace(leading);
       Skip(leading);
-      if (i == 0) canvas_->Text(left_ + 2.0, cursor_, "•", size_pt, Canvas::Align::kLeft, false, kAccent);
+      if (i == 0)
+        canvas_->Text(left_ + 2.0, cursor_, "•", size_pt, Canvas::Align::kLeft, false, kAccent);
       canvas_->Text(left_ + 12.0, cursor_, lines[i], size_pt);
     }
     Skip(1.5);
@@ -216,7 +221,8 @@ void Document::KeyValues(const std::vector<std::pair<std::string, std::string>>&
         canvas_->Text(left_, cursor_, label_lines[i], size_pt, Canvas::Align::kLeft, false,
                       palette::kSlate);
       }
-      if (i < value_lines.size()) canvas_->Text(left_ + label_width_pt, cursor_, value_lines[i], size_pt);
+      if (i < value_lines.size())
+        canvas_->Text(left_ + label_width_pt, cursor_, value_lines[i], size_pt);
     }
     Skip(1.0);
   }
@@ -227,7 +233,8 @@ double Document::TableRowHeight(const std::vector<TableColumn>& columns,
                                 bool bold) const {
   size_t lines = 1;
   for (size_t i = 0; i < columns.size() && i < cells.size(); ++i) {
-    lines = std::max(lines, canvas_->Wrap(cells[i], size_pt, columns[i].width_pt - 6.0, bold).size());
+    lines =
+        std::max(lines, canvas_->Wrap(cells[i], size_pt, columns[i].width_pt - 6.0, bold).size());
   }
   return static_cast<double>(lines) * size_pt * 1.3 + 4.0;
 }

@@ -30,6 +30,8 @@ class Document {
   Document& operator=(const Document&) = delete;
 
   void NewPage();
+  // A new page unless the current one is still empty (below its running header).
+  void NewPageIfUsed();
   int num_pages() const { return static_cast<int>(pages_.size()); }
   plot::Canvas& canvas() { return *canvas_; }
 
@@ -88,7 +90,6 @@ class Document {
   bool allow_new_pages_ = true;
   HPDF_STATUS first_error_ = HPDF_OK;
   HPDF_STATUS first_detail_ = 0;
-
 };
 
 }  // namespace sorbtrace::report

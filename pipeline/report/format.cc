@@ -25,8 +25,7 @@ constexpr int kMinPlainExponent = -4;
 constexpr int kMaxPlainExponent = 5;
 
 std::string StripNegativeZero(std::string text) {
-  if (!text.empty() && text.front() == '-' &&
-      text.find_first_not_of("-0.") == std::string::npos) {
+  if (!text.empty() && text.front() == '-' && text.find_first_not_of("-0.") == std::string::npos) {
     text.erase(0, 1);
   }
   return text;

@@ -5,11 +5,10 @@
 #pragma once
 
 #include <filesystem>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <utility>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/equilibrate/equilibrate.h"
@@ -25,7 +24,7 @@ enum class PageSize { kA4, kLetter };
 // A report template (templates/*.toml): layout, the lab's identity, units, precision rules,
 // sections and reference conditions. LoadTemplate rejects unknown keys naming the key.
 struct Template {
-  std::string name;                  // e.g. "full", "summary"
+  std::string name;                                   // e.g. "full", "summary"
   std::string title = "Moisture sorption datasheet";  // printed at the top of every page
   PageSize page_size = PageSize::kA4;
   double margin_mm = 18.0;
@@ -35,7 +34,7 @@ struct Template {
   std::string accreditation;
   std::vector<std::string> signatories;  // "Name, role"
   // Units and precision.
-  bool moisture_in_percent = true;   // else kg/kg
+  bool moisture_in_percent = true;  // else kg/kg
   int uncertainty_significant_digits = 2;
   // Sections in order: "summary", "isotherm", "models", "pores", "kinetics", "equilibria",
   // "method", "cautions".
@@ -66,8 +65,8 @@ struct ReportOptions {
 };
 
 struct ReportArtifacts {
-  std::string pdf;           // bytes of datasheet.pdf
-  std::string results_json;  // results.json
+  std::string pdf;                                             // bytes of datasheet.pdf
+  std::string results_json;                                    // results.json
   std::vector<std::pair<std::string, std::string>> csv_files;  // (file name, content)
   int num_pages = 0;
 };

@@ -97,12 +97,12 @@ Json JobJson(const ReportInputs& inputs) {
   job["specimens"] = specimens;
   Json datasets = Json::array();
   for (const ingest::DataSetSpec& d : j.datasets) {
-    datasets.push_back({{"id", d.id},
-                        {"method", d.method == ingest::Method::kDesiccator ? "desiccator"
-                                                                            : "vapor_log"},
-                        {"file", d.file_as_written},
-                        {"temperature_K", Number(d.temperature_K)},
-                        {"specimen_id", d.specimen_id}});
+    datasets.push_back(
+        {{"id", d.id},
+         {"method", d.method == ingest::Method::kDesiccator ? "desiccator" : "vapor_log"},
+         {"file", d.file_as_written},
+         {"temperature_K", Number(d.temperature_K)},
+         {"specimen_id", d.specimen_id}});
   }
   job["datasets"] = datasets;
   return job;
@@ -158,8 +158,8 @@ Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
   Json points = Json::array();
   for (size_t i = 0; i < r.points.size(); ++i) {
     const reduce::IsothermPoint& p = r.points[i];
-    const Quantity rh = MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%",
-                                     sheet.rules);
+    const Quantity rh =
+        MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%", sheet.rules);
     const Quantity u = MoistureQuantity("moisture", "moisture content", p.moisture_kg_per_kg,
                                         p.u_moisture_kg_per_kg, sheet.rules);
     Json point = {{"index", i},
@@ -265,13 +265,13 @@ Json FitsJson(const ReportInputs& inputs, const Sheet& sheet) {
     const fitters::FitStatistics& s = mf.result.statistics;
     Json consistency = Json::array();
     for (const fit::ConsistencyCheck& c : mf.consistency) {
-      consistency.push_back({{"criterion", c.criterion}, {"passed", c.passed}, {"detail", c.detail}});
+      consistency.push_back(
+          {{"criterion", c.criterion}, {"passed", c.passed}, {"detail", c.detail}});
     }
     Json band = Json::array();
     for (const fitters::BandPoint& b : mf.band) {
-      band.push_back({Number(b.x), Number(b.y), Number(b.confidence_low),
-                      Number(b.confidence_high), Number(b.prediction_low),
-                      Number(b.prediction_high)});
+      band.push_back({Number(b.x), Number(b.y), Number(b.confidence_low), Number(b.confidence_high),
+                      Number(b.prediction_low), Number(b.prediction_high)});
     }
     models.push_back(
         {{"index", i},
@@ -312,8 +312,9 @@ Json FitsJson(const ReportInputs& inputs, const Sheet& sheet) {
          {"consistency", consistency},
          {"flags", StringArray(row.flags)},
          {"rank", mf.rank},
-         {"band_columns", {"rh_fraction", "moisture_kg_per_kg", "confidence_low",
-                           "confidence_high", "prediction_low", "prediction_high"}},
+         {"band_columns",
+          {"rh_fraction", "moisture_kg_per_kg", "confidence_low", "confidence_high",
+           "prediction_low", "prediction_high"}},
          {"band", band}});
   }
   out["models"] = models;
@@ -376,9 +377,8 @@ Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
          {"model", d.model_name},
          {"branch", BranchLabel(d.branch)},
          {"temperature_K", Number(d.temperature_K)},
-         {"meniscus", std::string(d.meniscus == physics::Meniscus::kHemispherical
-                                      ? "hemispherical"
-                                      : "cylindrical")},
+         {"meniscus", std::string(d.meniscus == physics::Meniscus::kHemispherical ? "hemispherical"
+                                                                                  : "cylindrical")},
          {"film", d.film_description},
          {"total_resolved_volume",
           QuantityJson(MakeQuantity("total_resolved_volume", "Kelvin-resolved pore volume",
@@ -406,9 +406,9 @@ Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
     a["model"] = s.model_name;
     a["branch"] = BranchLabel(s.branch);
     a["temperature_K"] = Number(s.temperature_K);
-    a["monolayer"] = QuantityJson(MoistureQuantity("monolayer", "monolayer moisture content",
-                                                   s.monolayer_kg_per_kg, s.u_monolayer_kg_per_kg,
-                                                   rules));
+    a["monolayer"] =
+        QuantityJson(MoistureQuantity("monolayer", "monolayer moisture content",
+                                      s.monolayer_kg_per_kg, s.u_monolayer_kg_per_kg, rules));
     a["molecular_area_m2"] = Number(s.molecular_area_m2);
     areas.push_back(a);
   }
@@ -429,10 +429,9 @@ Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
   const pores::Hygroscopicity& h = pa.hygroscopicity;
   Json hyg = {{"applicable", h.applicable}, {"reason", h.reason}, {"class", h.class_name}};
   if (h.applicable) {
-    hyg["mass_increase"] = QuantityJson(MakeQuantity("mass_increase", "mass increase",
-                                                     h.mass_increase_percent,
-                                                     h.u_mass_increase_percent, "%", 1.0, "%",
-                                                     rules));
+    hyg["mass_increase"] =
+        QuantityJson(MakeQuantity("mass_increase", "mass increase", h.mass_increase_percent,
+                                  h.u_mass_increase_percent, "%", 1.0, "%", rules));
   }
   out["hygroscopicity"] = hyg;
   Json hysteresis = Json::array();
@@ -483,7 +482,7 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
                                         int num_pages) {
   Json root;
   root["schema"] = "sorbtrace-results/1";
-  root["software"] = {{"name", "sorbtrace"}, {"version", inputs.software_version}};
+  root["software"] = {{"name", "sorbtrace"}, {"version", PlainVersion(inputs.software_version)}};
   root["report"] = {{"template", layout.name},
                     {"title", layout.title},
                     {"document_date", options.document_date},
@@ -495,14 +494,13 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
   Json files = Json::array();
   if (inputs.ingested != nullptr) {
     for (const ingest::InputFileRecord& f : inputs.ingested->inputs) {
-      files.push_back({{"role", f.role},
-                       {"path", f.path},
-                       {"sha256", f.sha256},
-                       {"size_bytes", f.size_bytes}});
+      files.push_back(
+          {{"role", f.role}, {"path", f.path}, {"sha256", f.sha256}, {"size_bytes", f.size_bytes}});
     }
   }
   root["inputs"] = files;
-  root["settings"] = inputs.effective_settings.is_null() ? Json::object() : inputs.effective_settings;
+  root["settings"] =
+      inputs.effective_settings.is_null() ? Json::object() : inputs.effective_settings;
   Json headline = Json::array();
   for (const Quantity& q : sheet.headline) headline.push_back(QuantityJson(q));
   root["headline"] = headline;

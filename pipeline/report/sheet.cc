@@ -102,6 +102,12 @@ Quantity MoistureQuantity(std::string key, std::string label, double value_kg_pe
                       rules.moisture_in_percent ? "%" : "kg/kg", rules);
 }
 
+std::string PlainVersion(const std::string& software_version) {
+  const std::string prefix = "sorbtrace ";
+  if (software_version.rfind(prefix, 0) == 0) return software_version.substr(prefix.size());
+  return software_version;
+}
+
 std::string BranchLabel(ingest::Branch branch) {
   switch (branch) {
     case ingest::Branch::kAdsorption:
@@ -165,17 +171,16 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
       std::string model = sa.model_name;
       std::transform(model.begin(), model.end(), model.begin(),
                      [](char c) { return static_cast<char>(std::toupper(c)); });
-      sheet.headline.push_back(MakeQuantity("surface_area_" + KeyPart(sa.model_name),
-                                            "Specific surface area (" + model + " monolayer, " +
-                                                BranchLabel(sa.branch) + ")",
-                                            sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0,
-                                            "m²/g", rules));
+      sheet.headline.push_back(MakeQuantity(
+          "surface_area_" + KeyPart(sa.model_name),
+          "Specific surface area (" + model + " monolayer, " + BranchLabel(sa.branch) + ")",
+          sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0, "m²/g", rules));
     }
     if (pa.hygroscopicity.applicable) {
       sheet.headline.push_back(MakeQuantity(
           "hygroscopicity_mass_increase", "Mass increase at 25 °C / 80 % RH (Ph. Eur. 5.11)",
-          pa.hygroscopicity.mass_increase_percent, pa.hygroscopicity.u_mass_increase_percent,
-          "%", 1.0, "%", rules));
+          pa.hygroscopicity.mass_increase_percent, pa.hygroscopicity.u_mass_increase_percent, "%",
+          1.0, "%", rules));
       sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
     } else {
       sheet.hygroscopicity_class = "not classified";
@@ -188,18 +193,19 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
       const std::string tag = pd.method + "_" + BranchLabel(pd.branch);
       const std::string what = BranchLabel(pd.branch) + ", " + pd.method;
       // 1 m3/kg = 1e6 mm3/g; 1 m = 1e9 nm.
-      sheet.headline.push_back(MakeQuantity(
-          "pore_volume_" + tag, "Kelvin-resolved pore volume (" + what + ")",
-          pd.total_resolved_volume_m3_per_kg, pd.u_total_resolved_volume_m3_per_kg, "m3/kg",
-          1e6, "mm³/g", rules));
+      sheet.headline.push_back(
+          MakeQuantity("pore_volume_" + tag, "Kelvin-resolved pore volume (" + what + ")",
+                       pd.total_resolved_volume_m3_per_kg, pd.u_total_resolved_volume_m3_per_kg,
+                       "m3/kg", 1e6, "mm³/g", rules));
       for (size_t m = 0; m < pd.modes.size(); ++m) {
-        sheet.headline.push_back(MakeQuantity(
-            "modal_radius_" + tag + "_" + std::to_string(m + 1),
-            "Modal pore radius " + std::to_string(m + 1) + " (" + what + ")",
-            pd.modes[m].radius_m, pd.modes[m].u_radius_m, "m", 1e9, "nm", rules));
+        sheet.headline.push_back(
+            MakeQuantity("modal_radius_" + tag + "_" + std::to_string(m + 1),
+                         "Modal pore radius " + std::to_string(m + 1) + " (" + what + ")",
+                         pd.modes[m].radius_m, pd.modes[m].u_radius_m, "m", 1e9, "nm", rules));
       }
     }
-    for (const Diagnostic& w : pa.summary.warnings) AddUnique(sheet.cautions, seen_cautions, w.message);
+    for (const Diagnostic& w : pa.summary.warnings)
+      AddUnique(sheet.cautions, seen_cautions, w.message);
   }
 
   // Models.
@@ -235,10 +241,9 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
       for (Eigen::Index a = 0; a < r.rows(); ++a) {
         for (Eigen::Index b = a + 1; b < r.cols(); ++b) {
           if (std::abs(r(a, b)) > kNotableCorrelation && static_cast<size_t>(b) < p) {
-            row.correlations.push_back(
-                mf.result.estimates[static_cast<size_t>(a)].name + "–" +
-                mf.result.estimates[static_cast<size_t>(b)].name + ": r = " +
-                FormatFixed(r(a, b), 3));
+            row.correlations.push_back(mf.result.estimates[static_cast<size_t>(a)].name + "–" +
+                                       mf.result.estimates[static_cast<size_t>(b)].name +
+                                       ": r = " + FormatFixed(r(a, b), 3));
           }
         }
       }

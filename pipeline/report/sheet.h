@@ -5,7 +5,6 @@
 #pragma once
 
 #include <nlohmann/json.hpp>
-
 #include <string>
 #include <vector>
 
@@ -15,17 +14,17 @@ namespace sorbtrace::report {
 
 // One printed number.
 struct Quantity {
-  std::string key;     // stable identifier, e.g. "moisture_23C_50RH"
-  std::string label;   // as printed, e.g. "Moisture content at 23 °C / 50 % RH"
-  double value = 0.0;  // in `unit`
-  std::string unit;    // SI or dimensionless unit of value, e.g. "kg/kg", "m2/g"
+  std::string key;                    // stable identifier, e.g. "moisture_23C_50RH"
+  std::string label;                  // as printed, e.g. "Moisture content at 23 °C / 50 % RH"
+  double value = 0.0;                 // in `unit`
+  std::string unit;                   // SI or dimensionless unit of value, e.g. "kg/kg", "m2/g"
   double standard_uncertainty = 0.0;  // in `unit`; 0 = none stated
   double coverage_factor = 2.0;
   double expanded_uncertainty = 0.0;  // k * u
   double display_value = 0.0;         // in display_unit
   double display_expanded_uncertainty = 0.0;
-  std::string display_unit;           // e.g. "%", "m²/g"
-  std::string text;                   // "1.23 ± 0.05 %", exactly as on the sheet
+  std::string display_unit;  // e.g. "%", "m²/g"
+  std::string text;          // "1.23 ± 0.05 %", exactly as on the sheet
 };
 
 nlohmann::ordered_json QuantityJson(const Quantity& quantity);
@@ -49,11 +48,11 @@ Quantity MoistureQuantity(std::string key, std::string label, double value_kg_pe
 struct ModelRow {
   int fit_index = 0;
   std::string model_title;
-  std::string group_label;             // e.g. "adsorption, 23 °C"
-  std::vector<Quantity> parameters;    // value ± U (k)
+  std::string group_label;                // e.g. "adsorption, 23 °C"
+  std::vector<Quantity> parameters;       // value ± U (k)
   std::vector<std::string> correlations;  // "X_m–C: r = −0.97"
-  std::string rmse_text;               // in the display moisture unit
-  std::string mrd_text;                // %
+  std::string rmse_text;                  // in the display moisture unit
+  std::string mrd_text;                   // %
   std::string aicc_text;
   std::string bic_text;
   int rank = 0;
@@ -63,15 +62,18 @@ struct ModelRow {
 
 struct Sheet {
   DisplayRules rules;
-  std::string moisture_unit;       // "%" or "kg/kg"
-  std::string moisture_axis_label; // "moisture content (% dry basis)"
-  std::vector<Quantity> headline;  // summary values in print order
+  std::string moisture_unit;        // "%" or "kg/kg"
+  std::string moisture_axis_label;  // "moisture content (% dry basis)"
+  std::vector<Quantity> headline;   // summary values in print order
   std::string hygroscopicity_class;
-  std::string best_model_text;     // e.g. "GAB (adsorption, 23 °C)"
+  std::string best_model_text;  // e.g. "GAB (adsorption, 23 °C)"
   std::vector<ModelRow> models;
-  std::vector<std::string> cautions;          // data-specific cautions (flags, warnings)
-  std::vector<std::string> standing_cautions; // the fixed statements of section 8
+  std::vector<std::string> cautions;           // data-specific cautions (flags, warnings)
+  std::vector<std::string> standing_cautions;  // the fixed statements of section 8
 };
+
+// The software version without a leading "sorbtrace " (the run stage may pass either form).
+std::string PlainVersion(const std::string& software_version);
 
 std::string BranchLabel(ingest::Branch branch);
 std::string TemperatureLabel(double temperature_K);  // "23 °C"

@@ -60,8 +60,7 @@ class TemplateReader {
 
   std::string String(const toml::node& node, const std::string& key) const {
     if (!node.is_string()) {
-      throw InputError(Where(node.source()), "'" + key + "' must be a string",
-                       "a quoted string");
+      throw InputError(Where(node.source()), "'" + key + "' must be a string", "a quoted string");
     }
     return node.as_string()->get();
   }
@@ -110,10 +109,9 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
     root = toml::parse_file(file);
   } catch (const toml::parse_error& error) {
     const auto& begin = error.source().begin;
-    throw InputError(SourceLocation{file, static_cast<int>(begin.line),
-                                    static_cast<int>(begin.column)},
-                     "invalid TOML: " + std::string(error.description()),
-                     "a report template in TOML");
+    throw InputError(
+        SourceLocation{file, static_cast<int>(begin.line), static_cast<int>(begin.column)},
+        "invalid TOML: " + std::string(error.description()), "a report template in TOML");
   }
   TemplateReader reader(file);
   Template layout;
@@ -133,8 +131,8 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
       } else if (size == "letter") {
         layout.page_size = PageSize::kLetter;
       } else {
-        throw InputError(reader.Where(n->source()),
-                         "page_size \"" + size + "\" is not supported", "\"A4\" or \"letter\"");
+        throw InputError(reader.Where(n->source()), "page_size \"" + size + "\" is not supported",
+                         "\"A4\" or \"letter\"");
       }
     }
     if (const toml::node* n = t->get("margin_mm")) {
@@ -170,7 +168,8 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
       } else if (unit == "kg/kg") {
         layout.moisture_in_percent = false;
       } else {
-        throw InputError(reader.Where(n->source()), "moisture unit \"" + unit + "\" is not supported",
+        throw InputError(reader.Where(n->source()),
+                         "moisture unit \"" + unit + "\" is not supported",
                          "\"percent\" or \"kg/kg\"");
       }
     }
@@ -178,10 +177,10 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
       const long long digits = reader.Integer(*n, "uncertainty_significant_digits");
       // JCGM 100:2008, 7.2.6: "at most two significant digits"; one is allowed too.
       if (digits < 1 || digits > 2) {
-        throw InputError(reader.Where(n->source()),
-                         "uncertainty_significant_digits " + std::to_string(digits) +
-                             " is out of range",
-                         "1 or 2 (JCGM 100:2008, 7.2.6)");
+        throw InputError(
+            reader.Where(n->source()),
+            "uncertainty_significant_digits " + std::to_string(digits) + " is out of range",
+            "1 or 2 (JCGM 100:2008, 7.2.6)");
       }
       layout.uncertainty_significant_digits = static_cast<int>(digits);
     }
@@ -197,8 +196,8 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
       for (size_t i = 0; i < layout.sections.size(); ++i) {
         const std::string& section = layout.sections[i];
         if (std::find(known.begin(), known.end(), section) == known.end()) {
-          throw InputError(reader.Where(array[i].source()),
-                           "unknown section \"" + section + "\"", "one of " + JoinQuoted(known));
+          throw InputError(reader.Where(array[i].source()), "unknown section \"" + section + "\"",
+                           "one of " + JoinQuoted(known));
         }
         if (!seen.insert(section).second) {
           throw InputError(reader.Where(array[i].source()),
@@ -222,7 +221,8 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
       const toml::node* temperature = t.get("temperature_C");
       const toml::node* rh = t.get("rh_percent");
       if (temperature == nullptr || rh == nullptr) {
-        throw InputError(reader.Where(t.source()), "[[reference]] needs temperature_C and rh_percent",
+        throw InputError(reader.Where(t.source()),
+                         "[[reference]] needs temperature_C and rh_percent",
                          "temperature_C = 23.0 and rh_percent = 50.0");
       }
       const double temperature_C = reader.Number(*temperature, "temperature_C");

@@ -1,6 +1,7 @@
 // Entry point of the `sorbtrace` binary: builds the command line and maps every failure
 // to a documented exit code (pipeline/common/diagnostics.h, README "Exit codes").
 #include <CLI/CLI.hpp>
+#include <glog/logging.h>
 
 #include <cstdio>
 #include <exception>
@@ -10,6 +11,12 @@
 #include "pipeline/run/version.h"
 
 int main(int argc, char** argv) {
+  // Ceres Solver logs through glog. A trial step that leaves a model's domain is a normal
+  // event of the solver (it retries with a smaller step); it is reported through the fit's
+  // summary and flags, not as a log line on stderr.
+  FLAGS_minloglevel = google::GLOG_FATAL;
+  FLAGS_logtostderr = true;
+  google::InitGoogleLogging(argv[0]);
   CLI::App app{"sorbtrace: gravimetric moisture-sorption data to a traceable PDF datasheet",
                "sorbtrace"};
   app.set_version_flag("--version", std::string("sorbtrace ") + sorbtrace::run::kVersion);

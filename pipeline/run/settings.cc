@@ -145,11 +145,14 @@ void ReadEquilibrium(TableReader& in, JobSettings& s) {
   in.Number("mass_change_limit_percent", e.mass_change_limit_fraction, 1e-6, 10.0, 0.01);
   in.Number("min_weighing_interval_h", e.min_weighing_interval_s, 0.0, 1000.0, 3600.0);
   in.Integer("min_weighings", e.min_weighings, 2, 100);
+  in.Number("weighing_interval_tolerance_h", e.weighing_interval_tolerance_s, 0.0, 100.0, 3600.0);
   in.Number("rate_limit_percent_per_min", e.rate_limit_fraction_per_min, 1e-8, 1.0, 0.01);
   in.Number("rate_window_min", e.rate_window_s, 0.5, 10000.0, 60.0);
   in.Bool("extrapolate_unfinished_steps", e.extrapolate_unfinished_steps);
   in.Integer("exponential_terms", e.exponential_terms, 1, 2);
   in.Number("tail_fraction", e.tail_fraction, 0.05, 1.0);
+  in.Number("max_tau_to_tail_ratio", e.max_tau_to_tail_ratio, 0.1, 1000.0);
+  in.Integer("min_tail_points", e.min_tail_points, 3, 100000);
   in.Bool("include_not_equilibrated", s.reduce.include_not_equilibrated);
   in.Number("log_block_s", s.ingest.log_block_s, 0.001, 3600.0);
   in.Number("log_gap_warning_min", s.ingest.log_gap_warning_s, 0.01, 1e6, 60.0);
@@ -268,11 +271,14 @@ nlohmann::ordered_json Effective(const JobSettings& s) {
   j["equilibrium"] = {{"mass_change_limit_percent", e.mass_change_limit_fraction * 100.0},
                       {"min_weighing_interval_h", e.min_weighing_interval_s / 3600.0},
                       {"min_weighings", e.min_weighings},
+                      {"weighing_interval_tolerance_h", e.weighing_interval_tolerance_s / 3600.0},
                       {"rate_limit_percent_per_min", e.rate_limit_fraction_per_min * 100.0},
                       {"rate_window_min", e.rate_window_s / 60.0},
                       {"extrapolate_unfinished_steps", e.extrapolate_unfinished_steps},
                       {"exponential_terms", e.exponential_terms},
                       {"tail_fraction", e.tail_fraction},
+                      {"max_tau_to_tail_ratio", e.max_tau_to_tail_ratio},
+                      {"min_tail_points", e.min_tail_points},
                       {"include_not_equilibrated", s.reduce.include_not_equilibrated},
                       {"log_block_s", s.ingest.log_block_s},
                       {"log_gap_warning_min", s.ingest.log_gap_warning_s / 60.0}};

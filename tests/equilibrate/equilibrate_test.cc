@@ -185,7 +185,7 @@ TEST(EquilibrateDesiccatorTest, UnknownSaltIsAnInputError) {
 
 class Normal {
  public:
-  explicit Normal(std::uint64_t seed) : engine_(seed) {}
+  explicit Normal(std::uint64_t initial_state) : engine_(initial_state) {}
   double operator()() {
     constexpr double kTwoPow53 = 9007199254740992.0;
     const double u1 = (static_cast<double>(engine_() >> 11) + 1.0) / (kTwoPow53 + 1.0);

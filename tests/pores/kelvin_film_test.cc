@@ -124,8 +124,7 @@ TEST(PoreOptions, BadSettingsNameTheSetting) {
   thick.film = FilmModel::kConstant;
   thick.constant_film_thickness_m = 5 * kNm;
   EXPECT_FALSE(thick.IsValid(&error));
-  EXPECT_EQ(error,
-            "pores.constant_film_thickness_nm = 5 is thicker than the smallest pore radius 1 nm");
+  EXPECT_EQ(error, "pores.film_thickness_nm = 5 is thicker than the smallest pore radius 1 nm");
 
   PoreOptions inverted;
   inverted.min_radius_m = 2 * kNm;
@@ -158,7 +157,7 @@ TEST(PoreOptions, AnalysePoresThrowsInputErrorForBadSettings) {
     FAIL() << "expected InputError";
   } catch (const InputError& e) {
     EXPECT_EQ(e.diagnostic().message,
-              "pores.constant_film_thickness_nm = 5 is thicker than the smallest pore radius 1 nm");
+              "pores.film_thickness_nm = 5 is thicker than the smallest pore radius 1 nm");
     EXPECT_EQ(e.diagnostic().where.file, "");
   }
 }

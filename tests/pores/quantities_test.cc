@@ -112,12 +112,21 @@ TEST(Hygroscopicity, NotApplicableAwayFrom25COrWithout80Percent) {
   EXPECT_NE(at23.hygroscopicity.reason.find("25 +- 1 degC"), std::string::npos)
       << at23.hygroscopicity.reason;
   const PoreAnalysis short_range =
-      AnalysePores(reduce::ReducedIsotherms{}, GabFits({K(25)}, 0.1, 0.7, {0.05, 10.0, 0.7}, cov),
+      AnalysePores(reduce::ReducedIsotherms{}, GabFits({K(25)}, 0.1, 0.75, {0.05, 10.0, 0.7}, cov),
                    QuantitiesOnly());
   EXPECT_FALSE(short_range.hygroscopicity.applicable);
   EXPECT_NE(short_range.hygroscopicity.reason.find("80 % RH is outside the measured range"),
             std::string::npos)
       << short_range.hygroscopicity.reason;
+  // A highest step at 79 % RH is inside the 80 +- 2 % RH tolerance of Ph. Eur. 5.11 (from
+  // memory): applicable, and said so.
+  const PoreAnalysis near =
+      AnalysePores(reduce::ReducedIsotherms{}, GabFits({K(25)}, 0.1, 0.79, {0.05, 10.0, 0.7}, cov),
+                   QuantitiesOnly());
+  EXPECT_TRUE(near.hygroscopicity.applicable) << near.hygroscopicity.reason;
+  EXPECT_NE(near.hygroscopicity.reason.find("79.00 % RH, within the 80 +- 2 % RH tolerance"),
+            std::string::npos)
+      << near.hygroscopicity.reason;
 }
 
 TEST(ReferenceMoisture, ValueAndDeltaMethodUncertaintyWithFlags) {
@@ -146,6 +155,11 @@ TEST(ReferenceMoisture, ValueAndDeltaMethodUncertaintyWithFlags) {
   ASSERT_EQ(a.reference_moisture[1].flags.size(), 1u);
   EXPECT_EQ(a.reference_moisture[1].flags[0],
             "extrapolated: 80 % RH is outside the measured range 10.0..70.0 % RH");
+
+  // A highest step at 79.8 % RH: 80 % is within half a percent RH, not an extrapolation.
+  const PoreAnalysis top_step = AnalysePores(
+      reduce::ReducedIsotherms{}, GabFits({K(23)}, 0.1, 0.798, p, cov), QuantitiesOnly());
+  EXPECT_TRUE(top_step.reference_moisture[1].flags.empty());
 
   const PoreAnalysis other_t = AnalysePores(reduce::ReducedIsotherms{},
                                             GabFits({K(30)}, 0.1, 0.9, p, cov), QuantitiesOnly());

@@ -1,12 +1,13 @@
 // FormatWithUncertainty: JCGM 100:2008, 7.2.6 — the uncertainty to (at most) two significant
 // digits, the value rounded to the same decimal place. Exact ties round to even (ISO
 // 80000-1:2009 Annex B, rule B, from memory; the same as C printf).
+#include "pipeline/report/format.h"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <limits>
 
-#include "pipeline/report/format.h"
 #include "pipeline/report/report.h"
 
 namespace sorbtrace::report {
@@ -26,14 +27,14 @@ TEST(FormatWithUncertaintyTest, TwoSignificantDigitsOfUncertainty) {
       {1235.5, 56.0, 2, "1236 ± 56"},              // exact binary tie: to even
       {1234.7, 56.0, 2, "1235 ± 56"},
       {12.3456, 0.96, 2, "12.35 ± 0.96"},
-      {12.3456, 0.996, 2, "12.3 ± 1.0"},           // U carries to 1.0: one decimal fewer
+      {12.3456, 0.996, 2, "12.3 ± 1.0"},  // U carries to 1.0: one decimal fewer
       {1.0, 0.0996, 2, "1.00 ± 0.10"},
       {0.30000000000000004, 0.012, 2, "0.300 ± 0.012"},  // no binary noise
       {0.1 + 0.2, 0.1, 2, "0.30 ± 0.10"},
       {123456.0, 2345.0, 2, "123500 ± 2300"},
-      {-0.00004, 0.0012, 2, "0.0000 ± 0.0012"},     // no "-0.0000"
+      {-0.00004, 0.0012, 2, "0.0000 ± 0.0012"},  // no "-0.0000"
       {-4.5678, 0.123, 2, "-4.57 ± 0.12"},
-      {0.0123456, 0.00123, 1, "0.012 ± 0.001"},     // one significant digit
+      {0.0123456, 0.00123, 1, "0.012 ± 0.001"},  // one significant digit
       {33.66, 1.49, 2, "33.7 ± 1.5"},
   };
   for (const Case& c : cases) {

@@ -69,7 +69,8 @@ GreyImage ReadPgm(const std::filesystem::path& file) {
   ++pos;  // the single whitespace after maxval
   const size_t n = static_cast<size_t>(image.width) * static_cast<size_t>(image.height);
   if (data.size() < pos + n) throw std::runtime_error("PGM truncated: " + file.string());
-  image.pixels.assign(data.begin() + static_cast<long>(pos), data.begin() + static_cast<long>(pos + n));
+  image.pixels.assign(data.begin() + static_cast<long>(pos),
+                      data.begin() + static_cast<long>(pos + n));
   return image;
 }
 

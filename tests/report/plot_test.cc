@@ -101,8 +101,8 @@ TEST(LogTicksTest, DecadesAndIntermediateTicks) {
 TEST(TextTest, SanitizeKeepsUnicodeAndReplacesInvalidBytes) {
   EXPECT_EQ(SanitizeUtf8("23 °C ± 0.2 K, m² µm αβ"), "23 °C ± 0.2 K, m² µm αβ");
   EXPECT_EQ(SanitizeUtf8(std::string("a\xff") + "b"), "a?b");
-  EXPECT_EQ(SanitizeUtf8(std::string("\xc3")), "?");         // truncated sequence
-  EXPECT_EQ(SanitizeUtf8(std::string("\xc0\xaf")), "??");     // overlong '/'
+  EXPECT_EQ(SanitizeUtf8(std::string("\xc3")), "?");       // truncated sequence
+  EXPECT_EQ(SanitizeUtf8(std::string("\xc0\xaf")), "??");  // overlong '/'
   EXPECT_EQ(SanitizeUtf8("tab\there"), "tab here");
   EXPECT_EQ(Superscript(-12), "⁻¹²");
 }
@@ -115,10 +115,10 @@ class PlotDocument {
     HPDF_SetCompressionMode(pdf_, HPDF_COMP_ALL);
     HPDF_UseUTFEncodings(pdf_);
     HPDF_SetCurrentEncoder(pdf_, "UTF-8");
-    const char* regular = HPDF_LoadTTFontFromFile(
-        pdf_, SORBTRACE_DEFAULT_FONT_DIR "/DejaVuSans.ttf", HPDF_TRUE);
-    const char* bold = HPDF_LoadTTFontFromFile(
-        pdf_, SORBTRACE_DEFAULT_FONT_DIR "/DejaVuSans-Bold.ttf", HPDF_TRUE);
+    const char* regular =
+        HPDF_LoadTTFontFromFile(pdf_, SORBTRACE_DEFAULT_FONT_DIR "/DejaVuSans.ttf", HPDF_TRUE);
+    const char* bold =
+        HPDF_LoadTTFontFromFile(pdf_, SORBTRACE_DEFAULT_FONT_DIR "/DejaVuSans-Bold.ttf", HPDF_TRUE);
     page_ = HPDF_AddPage(pdf_);
     HPDF_Page_SetWidth(page_, 595.276f);
     HPDF_Page_SetHeight(page_, 841.89f);
@@ -152,8 +152,9 @@ Figure DemoFigure() {
   fig.x.max = 100.0;
   fig.y.label = "moisture content (mass %)";
   fig.y.include_zero = true;
-  fig.caption = "Bands, error bars in x and y, five marker shapes open and filled, a polyline, "
-                "a secondary axis through a mapping, an event line and a legend.";
+  fig.caption =
+      "Bands, error bars in x and y, five marker shapes open and filled, a polyline, "
+      "a secondary axis through a mapping, an event line and a legend.";
   Band band;
   band.legend = "band";
   Series curve;
@@ -171,8 +172,9 @@ Figure DemoFigure() {
   }
   fig.bands.push_back(band);
   fig.series.push_back(curve);
-  const MarkerShape shapes[] = {MarkerShape::kCircle, MarkerShape::kSquare, MarkerShape::kTriangleUp,
-                                MarkerShape::kDiamond, MarkerShape::kTriangleDown};
+  const MarkerShape shapes[] = {MarkerShape::kCircle, MarkerShape::kSquare,
+                                MarkerShape::kTriangleUp, MarkerShape::kDiamond,
+                                MarkerShape::kTriangleDown};
   for (int s = 0; s < 5; ++s) {
     Series pts;
     pts.legend = "shape " + std::to_string(s) + (s % 2 == 0 ? " filled" : " open");
@@ -191,7 +193,9 @@ Figure DemoFigure() {
   top.label = "capillary pressure (MPa)";
   // p_c = -(rho_w R T / M_w) ln(RH): at 23 degC, rho_w R T / M_w = 136.2 MPa (IAPWS density,
   // CODATA R), inlined to keep the engine test free of the physics library.
-  top.to_secondary = [](double rh) { return rh > 0 && rh < 100 ? -136.2 * std::log(rh / 100.0) : std::nan(""); };
+  top.to_secondary = [](double rh) {
+    return rh > 0 && rh < 100 ? -136.2 * std::log(rh / 100.0) : std::nan("");
+  };
   top.from_secondary = [](double p) { return 100.0 * std::exp(-p / 136.2); };
   fig.x_top = top;
   return fig;
@@ -226,9 +230,9 @@ TEST(DrawFigureTest, DemoFigureRendersWithInkInsideTheFrameAndReadableLabels) {
   EXPECT_LT(page.InkFraction(0, 0, page.width, py(800.0), 250), 0.001);
 
   const std::string text = CollapseSpaces(PdfText(pdf));
-  for (const char* expected : {"relative humidity (%)", "moisture content (mass %)",
-                               "capillary pressure (MPa)", "Demo: all elements", "shape 3 open",
-                               "100", "0", "20"}) {
+  for (const char* expected :
+       {"relative humidity (%)", "moisture content (mass %)", "capillary pressure (MPa)",
+        "Demo: all elements", "shape 3 open", "100", "0", "20"}) {
     EXPECT_NE(text.find(expected), std::string::npos) << expected << " in: " << text;
   }
 }

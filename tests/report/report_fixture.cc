@@ -4,9 +4,9 @@
 
 #include <cmath>
 #include <cstdint>
-#include <tuple>
 #include <numbers>
 #include <string>
+#include <tuple>
 #include <vector>
 
 #include "pipeline/common/files.h"
@@ -23,13 +23,14 @@ struct Step {
   double u_rh;  // standard uncertainty
 };
 // Adsorption over seven salts, then desorption back down over four of them.
-const std::vector<Step> kAdsorptionSteps = {
-    {"LiCl", 0.113, 0.003},  {"MgCl2", 0.329, 0.002}, {"K2CO3", 0.432, 0.004},
-    {"Mg(NO3)2", 0.536, 0.003}, {"NaCl", 0.753, 0.002}, {"KCl", 0.845, 0.003},
-    {"K2SO4", 0.973, 0.005}};
-const std::vector<Step> kDesorptionSteps = {
-    {"KCl", 0.845, 0.003}, {"NaCl", 0.753, 0.002}, {"Mg(NO3)2", 0.536, 0.003},
-    {"MgCl2", 0.329, 0.002}};
+const std::vector<Step> kAdsorptionSteps = {{"LiCl", 0.113, 0.003},  {"MgCl2", 0.329, 0.002},
+                                            {"K2CO3", 0.432, 0.004}, {"Mg(NO3)2", 0.536, 0.003},
+                                            {"NaCl", 0.753, 0.002},  {"KCl", 0.845, 0.003},
+                                            {"K2SO4", 0.973, 0.005}};
+const std::vector<Step> kDesorptionSteps = {{"KCl", 0.845, 0.003},
+                                            {"NaCl", 0.753, 0.002},
+                                            {"Mg(NO3)2", 0.536, 0.003},
+                                            {"MgCl2", 0.329, 0.002}};
 
 // GAB parameters of the invented plaster (adsorption, desorption).
 constexpr double kXmAds = 0.0095, kCAds = 14.0, kKAds = 0.82;
@@ -40,8 +41,8 @@ const std::vector<double> kDryMass_g = {24.8132, 25.1047, 24.9560};
 
 // Deterministic scatter in kg/kg per specimen and step (no RNG needed).
 double Scatter(int specimen, int step) {
-  static const double kPattern[] = {0.00031, -0.00022, 0.00009, -0.00035, 0.00018, 0.00027,
-                                    -0.00011};
+  static const double kPattern[] = {0.00031, -0.00022, 0.00009, -0.00035,
+                                    0.00018, 0.00027,  -0.00011};
   return kPattern[(specimen * 3 + step) % 7] * (1.0 + 0.3 * specimen);
 }
 
@@ -119,8 +120,7 @@ double Oswin(double a, double amplitude, double exponent) {
 fit::ModelFit MakeFit(const fitters::ModelInfo& info, int group, const fit::FitGroup& data,
                       const std::vector<double>& params, const std::vector<double>& se,
                       const std::vector<std::vector<double>>& correlation,
-                      double (*curve)(double, const std::vector<double>&), int rank,
-                      double aicc) {
+                      double (*curve)(double, const std::vector<double>&), int rank, double aicc) {
   fit::ModelFit mf;
   mf.model_name = info.name;
   mf.info = info;
@@ -377,7 +377,8 @@ ReportFixture MakeReportFixture() {
   const double set_points[] = {0.0, 0.3, 0.5, 0.7, 0.9, 0.5};
   double mass = 5.012;
   for (int s = 0; s < 6; ++s) {
-    const double target = 5.012 * (1.0 + (s == 0 ? 0.0 : GabMoisture(set_points[s], kXmAds, kCAds, kKAds)));
+    const double target =
+        5.012 * (1.0 + (s == 0 ? 0.0 : GabMoisture(set_points[s], kXmAds, kCAds, kKAds)));
     for (int i = 0; i < 60; ++i) {
       const double t = (s * 60 + i) * 240.0;  // 4 min spacing, 4 h steps
       mass = mass + (target - mass) * 0.12;
@@ -605,13 +606,13 @@ ReportFixture MakeReportFixture() {
   fx.pores.isosteric_heat.push_back(q);
 
   // ---- Settings --------------------------------------------------------------------------------
-  fx.settings = {
-      {"equilibrium",
-       {{"mass_change_limit_fraction", 0.001}, {"min_weighing_interval_s", 86400.0},
-        {"min_weighings", 3}}},
-      {"reduce", {{"coverage_factor", 2.0}, {"include_not_equilibrated", true}}},
-      {"fit", {{"models", {"gab", "bet", "oswin"}}, {"bootstrap_resamples", 1000}}},
-      {"pores", {{"geometry", "open_cylinder"}, {"film", "badmann"}}}};
+  fx.settings = {{"equilibrium",
+                  {{"mass_change_limit_fraction", 0.001},
+                   {"min_weighing_interval_s", 86400.0},
+                   {"min_weighings", 3}}},
+                 {"reduce", {{"coverage_factor", 2.0}, {"include_not_equilibrated", true}}},
+                 {"fit", {{"models", {"gab", "bet", "oswin"}}, {"bootstrap_resamples", 1000}}},
+                 {"pores", {{"geometry", "open_cylinder"}, {"film", "badmann"}}}};
   return fx;
 }
 

@@ -1,13 +1,13 @@
 // ComposeReport on the invented fixture: every page rendered and inked, every headline value
 // printed exactly as recorded in results.json, byte-identical output, both templates, the
 // JSON schema and the CSV companions.
+#include "pipeline/report/report.h"
+
 #include <gtest/gtest.h>
 
 #include <nlohmann/json.hpp>
-
 #include <string>
 
-#include "pipeline/report/report.h"
 #include "tests/report/pdf_tools.h"
 #include "tests/report/report_fixture.h"
 
@@ -35,7 +35,8 @@ const Template& FullTemplate() {
 // One full composition shared by the tests below (composition is pure).
 const ReportArtifacts& FullReport() {
   static const testing::ReportFixture fixture = MakeReportFixture();
-  static const ReportArtifacts artifacts = ComposeReport(fixture.Inputs(), FullTemplate(), Options());
+  static const ReportArtifacts artifacts =
+      ComposeReport(fixture.Inputs(), FullTemplate(), Options());
   return artifacts;
 }
 
@@ -68,8 +69,7 @@ TEST(ComposeReportTest, HeadlineValuesArePrintedExactlyAsInTheJson) {
   ASSERT_GE(json["headline"].size(), 8u);
   for (const auto& q : json["headline"]) {
     const std::string printed = q["text"].get<std::string>();
-    EXPECT_NE(text.find(CollapseSpaces(printed)), std::string::npos)
-        << q["key"] << ": " << printed;
+    EXPECT_NE(text.find(CollapseSpaces(printed)), std::string::npos) << q["key"] << ": " << printed;
   }
   // The moisture content at 23 °C / 50 % RH of the fixture: GAB (X_m 0.00951, C 13.6,
   // K 0.8213) gives 0.014596 kg/kg = 1.4596 % by the GAB equation (worked by hand), and
@@ -171,6 +171,33 @@ TEST(ComposeReportTest, LetterPagesAndKilogramUnits) {
   EXPECT_EQ(pages[0].height, 440);  // 11 in x 40 dpi
   const auto json = nlohmann::ordered_json::parse(a.results_json);
   EXPECT_EQ(json["headline"][0]["text"], "0.0146 ± 0.0010 kg/kg");
+}
+
+TEST(ComposeReportTest, EmptyInputsStillGiveADocument) {
+  // A run stage that stops early (or a stage that produced nothing) must not crash the sheet.
+  const ReportInputs nothing;
+  const ReportArtifacts a = ComposeReport(nothing, FullTemplate(), Options());
+  EXPECT_GE(a.num_pages, 5);
+  EXPECT_EQ(a.pdf.rfind("%PDF-", 0), 0u);
+  const auto json = nlohmann::ordered_json::parse(a.results_json);
+  EXPECT_TRUE(json["headline"].empty());
+  const std::string text = CollapseSpaces(PdfText(WriteTempFile("empty.pdf", a.pdf)));
+  EXPECT_NE(text.find("No measurement or fitting cautions were raised."), std::string::npos);
+}
+
+TEST(ComposeReportTest, SectionOrderFromTheTemplateAndHostileText) {
+  testing::ReportFixture fixture = MakeReportFixture();
+  // Invalid UTF-8 from an input file is printed as '?' and kept valid in the JSON.
+  fixture.ingested.job.material_name = std::string("Plaster \xff\xfe batch");
+  Template t = FullTemplate();
+  t.sections = {"models", "summary"};
+  const ReportArtifacts a = ComposeReport(fixture.Inputs(), t, Options());
+  EXPECT_EQ(a.num_pages, 2);  // no empty first page before "models"
+  const std::string text = CollapseSpaces(PdfText(WriteTempFile("order.pdf", a.pdf)));
+  EXPECT_LT(text.find("1 Model comparison"), text.find("2 Summary"));
+  EXPECT_NE(text.find("Plaster ?? batch"), std::string::npos);
+  const auto json = nlohmann::ordered_json::parse(a.results_json);
+  EXPECT_EQ(json["job"]["material"], "Plaster \uFFFD\uFFFD batch");
 }
 
 TEST(ComposeReportTest, MissingFontIsAnInputError) {

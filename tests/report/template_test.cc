@@ -33,8 +33,7 @@ TEST(LoadTemplateTest, FullTemplate) {
   EXPECT_TRUE(t.moisture_in_percent);
   EXPECT_EQ(t.uncertainty_significant_digits, 2);
   EXPECT_EQ(t.sections, (std::vector<std::string>{"summary", "isotherm", "models", "pores",
-                                                  "kinetics", "equilibria", "method",
-                                                  "cautions"}));
+                                                  "kinetics", "equilibria", "method", "cautions"}));
   ASSERT_EQ(t.reference_conditions.size(), 2u);
   EXPECT_DOUBLE_EQ(t.reference_conditions[0].temperature_K, 296.15);
   EXPECT_DOUBLE_EQ(t.reference_conditions[1].rh_fraction, 0.8);

@@ -202,8 +202,8 @@ Color palette::Series(int index) {
 Canvas::Canvas(HPDF_Page page, HPDF_Font regular, HPDF_Font bold)
     : page_(page), regular_(regular), bold_(bold) {}
 
-void Canvas::Text(double x, double y, std::string_view text, double size_pt, Align align,
-                  bool bold, Color color) {
+void Canvas::Text(double x, double y, std::string_view text, double size_pt, Align align, bool bold,
+                  Color color) {
   const std::string clean = SanitizeUtf8(text);
   if (clean.empty()) return;
   double left = x;
@@ -218,8 +218,7 @@ void Canvas::Text(double x, double y, std::string_view text, double size_pt, Ali
   HPDF_Page_EndText(page_);
 }
 
-void Canvas::VerticalText(double x, double y, std::string_view text, double size_pt,
-                          Color color) {
+void Canvas::VerticalText(double x, double y, std::string_view text, double size_pt, Color color) {
   const std::string clean = SanitizeUtf8(text);
   if (clean.empty()) return;
   const double width = TextWidth(clean, size_pt);
@@ -236,9 +235,8 @@ double Canvas::TextWidth(std::string_view text, double size_pt, bool bold) const
   const std::string clean = SanitizeUtf8(text);
   if (clean.empty()) return 0.0;
   HPDF_Font font = bold ? bold_ : regular_;
-  const HPDF_TextWidth width =
-      HPDF_Font_TextWidth(font, reinterpret_cast<const HPDF_BYTE*>(clean.data()),
-                          static_cast<HPDF_UINT>(clean.size()));
+  const HPDF_TextWidth width = HPDF_Font_TextWidth(
+      font, reinterpret_cast<const HPDF_BYTE*>(clean.data()), static_cast<HPDF_UINT>(clean.size()));
   // Widths are in 1/1000 of the font size.
   return static_cast<double>(width.width) * size_pt / 1000.0;
 }
@@ -642,7 +640,8 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
   for (double v : y_ticks.values) {
     const double py = my(v);
     canvas.Line(frame.x, py, frame.x + tick, py, 0.6, palette::kInk);
-    if (!figure.y_right) canvas.Line(frame.right(), py, frame.right() - tick, py, 0.6, palette::kInk);
+    if (!figure.y_right)
+      canvas.Line(frame.right(), py, frame.right() - tick, py, 0.6, palette::kInk);
     if (figure.y.tick_labels) {
       canvas.Text(frame.x - 3.0, py - fs * 0.35, TickLabel(figure.y, y_ticks, v), fs,
                   Canvas::Align::kRight);
@@ -702,8 +701,9 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
           candidates.push_back({t.values[i], static_cast<int>(i % 2)});
         }
       }
-      std::stable_sort(candidates.begin(), candidates.end(),
-                       [](const Candidate& a, const Candidate& b) { return a.priority < b.priority; });
+      std::stable_sort(
+          candidates.begin(), candidates.end(),
+          [](const Candidate& a, const Candidate& b) { return a.priority < b.priority; });
       std::vector<std::pair<double, double>> accepted;  // (page x, half label width)
       for (const Candidate& c : candidates) {
         const double x = top.from_secondary(c.value);
@@ -766,7 +766,8 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
     const double row = lfs * 1.45;
     const double sample = 16.0;
     double text_width = 0.0;
-    for (const LegendEntry& e : entries) text_width = std::max(text_width, canvas.TextWidth(e.text, lfs));
+    for (const LegendEntry& e : entries)
+      text_width = std::max(text_width, canvas.TextWidth(e.text, lfs));
     const double width = std::min(frame.width - 8.0, 6.0 + sample + 4.0 + text_width + 6.0);
     const double height = std::min(frame.height - 8.0, 4.0 + row * entries.size());
     const double inset = 5.0;

@@ -92,7 +92,7 @@ enum class Scale { kLinear, kLog10 };
 double NiceNumber(double x, bool round);
 
 struct Ticks {
-  double axis_min = 0.0;       // the axis range (loose: extended to whole ticks)
+  double axis_min = 0.0;  // the axis range (loose: extended to whole ticks)
   double axis_max = 1.0;
   std::vector<double> values;  // tick positions within [axis_min, axis_max]
   int fraction_digits = 0;     // decimals that print every tick exactly
@@ -133,7 +133,7 @@ struct Axis {
   Scale scale = Scale::kLinear;
   std::optional<double> min;  // fixed range; automatic (nice, loose) when unset
   std::optional<double> max;
-  int num_ticks = 6;          // target for linear axes
+  int num_ticks = 6;  // target for linear axes
   bool grid = true;
   bool tick_labels = true;
   bool include_zero = false;  // automatic linear ranges start at 0 when true
@@ -157,9 +157,9 @@ struct Series {
   std::vector<double> y;
   std::vector<double> x_error;  // half-widths (same size as x) or empty
   std::vector<double> y_error;
-  MarkerStyle marker;           // shape kNone: no markers
+  MarkerStyle marker;  // shape kNone: no markers
   std::optional<LineStyle> line;
-  bool right_axis = false;      // plotted against Figure::y_right
+  bool right_axis = false;  // plotted against Figure::y_right
 };
 
 // A shaded band between two curves on a common x grid (drawn beneath everything else).
@@ -181,7 +181,7 @@ struct EventLine {
 struct Figure {
   Axis x;
   Axis y;
-  std::optional<Axis> y_right;       // independent right-hand axis for right_axis series
+  std::optional<Axis> y_right;  // independent right-hand axis for right_axis series
   std::optional<SecondaryAxis> x_top;
   std::vector<Band> bands;
   std::vector<Series> series;
@@ -206,8 +206,8 @@ struct FigureLayout {
   double x_axis_max = 1.0;
   double y_axis_min = 0.0;
   double y_axis_max = 1.0;
-  Rect legend;              // zero size when no legend
-  int legend_corner = -1;   // 0 top-left, 1 top-right, 2 bottom-right, 3 bottom-left
+  Rect legend;             // zero size when no legend
+  int legend_corner = -1;  // 0 top-left, 1 top-right, 2 bottom-right, 3 bottom-left
   int legend_points_covered = 0;
 };
 
