@@ -164,11 +164,12 @@ class AutoDiffModel final : public Model {
   }
 
   // One Jet evaluation per point gives the value and the gradient (the residual and its row of
-  // the Jacobian); without a Jacobian the plain double evaluation.
+  // the Jacobian; with x0_jacobian one more Jet component for x[0]); without a Jacobian the
+  // plain double evaluation.
   bool WeightedResiduals(const double* params, const Observation* observations, std::size_t count,
-                         const ModelContext& context, double* residuals,
-                         double* jacobian) const override {
-    if (jacobian == nullptr) {
+                         const ModelContext& context, double* residuals, double* jacobian,
+                         double* x0_jacobian) const override {
+    if (jacobian == nullptr && x0_jacobian == nullptr) {
       for (std::size_t i = 0; i < count; ++i) {
         const Observation& o = observations[i];
         residuals[i] = (o.y - Evaluate(params, o.x.data(), context)) / o.sigma_y;
@@ -176,23 +177,12 @@ class AutoDiffModel final : public Model {
       }
       return true;
     }
-    using Jet = ceres::Jet<double, kNumParameters>;
-    Jet p[kNumParameters];
-    for (int j = 0; j < kNumParameters; ++j) p[j] = Jet(params[j], j);
-    for (std::size_t i = 0; i < count; ++i) {
-      const Observation& o = observations[i];
-      Jet xs[kMaxInputs];
-      for (int k = 0; k < Equation::kNumInputs; ++k) xs[k] = Jet(o.x[static_cast<std::size_t>(k)]);
-      const Jet f = Equation::template Evaluate<Jet>(p, xs, context);
-      residuals[i] = (o.y - f.a) / o.sigma_y;
-      if (!std::isfinite(residuals[i])) return false;
-      double* row = jacobian + i * static_cast<std::size_t>(kNumParameters);
-      for (int j = 0; j < kNumParameters; ++j) {
-        row[j] = -f.v[j] / o.sigma_y;
-        if (!std::isfinite(row[j])) return false;
-      }
+    if (x0_jacobian == nullptr) {
+      return JetResiduals<kNumParameters>(params, observations, count, context, residuals,
+                                          jacobian, nullptr);
     }
-    return true;
+    return JetResiduals<kNumParameters + 1>(params, observations, count, context, residuals,
+                                            jacobian, x0_jacobian);
   }
 
   ceres::CostFunction* NewResidual(const Observation& observation,
@@ -246,6 +236,38 @@ class AutoDiffModel final : public Model {
   }
 
  private:
+  // WeightedResiduals by ceres::Jet<double, N>: components 0..p-1 the parameters, component p
+  // (when N = p + 1) x[0].
+  template <int N>
+  bool JetResiduals(const double* params, const Observation* observations, std::size_t count,
+                    const ModelContext& context, double* residuals, double* jacobian,
+                    double* x0_jacobian) const {
+    using Jet = ceres::Jet<double, N>;
+    Jet p[kNumParameters];
+    for (int j = 0; j < kNumParameters; ++j) p[j] = Jet(params[j], j);
+    for (std::size_t i = 0; i < count; ++i) {
+      const Observation& o = observations[i];
+      Jet xs[kMaxInputs];
+      for (int k = 0; k < Equation::kNumInputs; ++k) xs[k] = Jet(o.x[static_cast<std::size_t>(k)]);
+      if constexpr (N > kNumParameters) xs[0] = Jet(o.x[0], N - 1);
+      const Jet f = Equation::template Evaluate<Jet>(p, xs, context);
+      residuals[i] = (o.y - f.a) / o.sigma_y;
+      if (!std::isfinite(residuals[i])) return false;
+      if (jacobian != nullptr) {
+        double* row = jacobian + i * static_cast<std::size_t>(kNumParameters);
+        for (int j = 0; j < kNumParameters; ++j) {
+          row[j] = -f.v[j] / o.sigma_y;
+          if (!std::isfinite(row[j])) return false;
+        }
+      }
+      if (x0_jacobian != nullptr) {
+        x0_jacobian[i] = -f.v[N - 1] / o.sigma_y;
+        if (!std::isfinite(x0_jacobian[i])) return false;
+      }
+    }
+    return true;
+  }
+
   ModelInfo info_;
 };
 

@@ -16,6 +16,48 @@ constexpr double kMinLmDiagonal = 1e-6;
 constexpr double kMaxLmDiagonal = 1e32;
 constexpr int kMaxConsecutiveInvalidSteps = 5;
 
+// Least-squares solution x of min ||A x - b|| for a column-major m x p matrix A (m >= p) by
+// Householder QR (G. H. Golub, C. F. Van Loan, Matrix Computations, 4th ed., Johns Hopkins
+// 2013, alg. 5.3.2 and sec. 5.3.3): A and b are overwritten (R in the upper triangle of A,
+// Q'b in b). The same factorisation Ceres' DENSE_QR uses, written for the few columns here
+// without the block-expression overhead of a general library. A zero or non-finite pivot gives
+// a non-finite x, which the caller treats as an invalid step.
+void SolveLeastSquaresByHouseholderQr(int m, int p, double* a, double* b, double* x) {
+  for (int k = 0; k < p; ++k) {
+    double* column = a + static_cast<std::ptrdiff_t>(k) * m;
+    double norm_squared = 0.0;
+    for (int i = k; i < m; ++i) norm_squared += column[i] * column[i];
+    const double norm = std::sqrt(norm_squared);
+    if (!(norm > 0.0)) {
+      column[k] = 0.0;
+      continue;
+    }
+    // v = column[k..m) - alpha e_1 with alpha = -sign(column[k]) norm (no cancellation);
+    // H = I - 2 v v' / (v'v), v'v = 2 norm (norm + |column[k]|).
+    const double alpha = column[k] > 0.0 ? -norm : norm;
+    column[k] -= alpha;
+    const double two_over_vtv = 1.0 / (norm * (norm + std::abs(column[k] + alpha)));
+    for (int j = k + 1; j < p; ++j) {
+      double* other = a + static_cast<std::ptrdiff_t>(j) * m;
+      double dot = 0.0;
+      for (int i = k; i < m; ++i) dot += column[i] * other[i];
+      const double factor = dot * two_over_vtv;
+      for (int i = k; i < m; ++i) other[i] -= factor * column[i];
+    }
+    double dot = 0.0;
+    for (int i = k; i < m; ++i) dot += column[i] * b[i];
+    const double factor = dot * two_over_vtv;
+    for (int i = k; i < m; ++i) b[i] -= factor * column[i];
+    column[k] = alpha;  // R_kk
+  }
+  // Back substitution R x = (Q'b)[0..p).
+  for (int k = p - 1; k >= 0; --k) {
+    double sum = b[k];
+    for (int j = k + 1; j < p; ++j) sum -= a[static_cast<std::ptrdiff_t>(j) * m + k] * x[j];
+    x[k] = sum / a[static_cast<std::ptrdiff_t>(k) * m + k];
+  }
+}
+
 }  // namespace
 
 DenseLevenbergMarquardt::DenseLevenbergMarquardt(const Model& model, const ModelContext& context,
@@ -32,6 +74,7 @@ DenseLevenbergMarquardt::DenseLevenbergMarquardt(const Model& model, const Model
       const ParameterSpec& spec = info.parameters[static_cast<std::size_t>(j)];
       lower_[j] = spec.lower_bound;
       upper_[j] = spec.upper_bound;
+      if (!(lower_[j] <= upper_[j])) bounds_ordered_ = false;
     }
   }
   const int p = num_parameters_;
@@ -56,7 +99,6 @@ void DenseLevenbergMarquardt::Resize(int num_residuals) {
   scaled_jacobian_.resize(n, p);
   augmented_.setZero(n + p, p);
   augmented_rhs_.setZero(n + p);
-  qr_ = Eigen::HouseholderQR<Eigen::MatrixXd>(n + p, p);
 }
 
 void DenseLevenbergMarquardt::Clamp(Eigen::VectorXd* x) const {
@@ -105,21 +147,32 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
   const int n = static_cast<int>(data.size());
   if (static_cast<int>(parameters->size()) != p || n < 1) {
     outcome.failed = true;
+    outcome.message = "no parameters or no data";
+    return outcome;
+  }
+  if (!bounds_ordered_) {
+    // Ceres rejects such a problem with its own message; leave it to Ceres.
+    outcome.failed = true;
+    outcome.message = "a lower bound exceeds its upper bound";
     return outcome;
   }
   data_ = &data;
   Resize(n);
   for (int j = 0; j < p; ++j) x_[j] = (*parameters)[static_cast<std::size_t>(j)];
   Clamp(&x_);
-  const auto finish = [&](DenseSolveOutcome result) {
+  int steps = 0;
+  const auto finish = [&](bool converged, bool failed, const char* message) {
     for (int j = 0; j < p; ++j) (*parameters)[static_cast<std::size_t>(j)] = x_[j];
-    return result;
+    outcome.converged = converged;
+    outcome.failed = failed;
+    if (failed) outcome.cost = std::numeric_limits<double>::infinity();
+    outcome.iterations = steps + 1;
+    outcome.message = message;
+    return outcome;
   };
 
   if (EvaluateCandidate(x_) != Evaluation::kResidualsAndJacobian) {
-    outcome.failed = true;
-    outcome.cost = std::numeric_limits<double>::infinity();
-    return finish(outcome);
+    return finish(false, true, "Residual and Jacobian evaluation failed at the start point.");
   }
   AcceptCandidate();
   double cost = 0.5 * residuals_.squaredNorm();
@@ -128,8 +181,7 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
   for (int j = 0; j < p; ++j) scaling_[j] = 1.0 / (1.0 + jacobian_.col(j).norm());
   scaled_jacobian_ = jacobian_ * scaling_.asDiagonal();
   if (ProjectedGradientMaxNorm(x_) <= options_.gradient_tolerance) {
-    outcome.converged = true;
-    return finish(outcome);
+    return finish(true, false, "Gradient tolerance reached (dense solver).");
   }
 
   double radius = options_.initial_trust_region_radius;
@@ -138,8 +190,10 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
   bool reuse_diagonal = false;
   int consecutive_invalid_steps = 0;
   while (true) {
-    if (outcome.iterations >= options_.max_iterations) return finish(outcome);  // no convergence
-    ++outcome.iterations;
+    if (steps >= options_.max_iterations) {
+      return finish(false, false, "Maximum number of iterations reached (dense solver).");
+    }
+    ++steps;
 
     // Levenberg-Marquardt step: min ||Js s + r||^2 + ||D s||^2 by QR of [Js; D].
     if (!reuse_diagonal) {
@@ -153,10 +207,9 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
     for (int j = 0; j < p; ++j) augmented_(n + j, j) = std::sqrt(lm_diagonal_squared_[j] / radius);
     augmented_rhs_.head(n) = residuals_;
     augmented_rhs_.tail(p).setZero();
-    qr_.compute(augmented_);
-    augmented_rhs_.applyOnTheLeft(qr_.householderQ().adjoint());
-    step_ = -augmented_rhs_.head(p);
-    qr_.matrixQR().topLeftCorner(p, p).triangularView<Eigen::Upper>().solveInPlace(step_);
+    SolveLeastSquaresByHouseholderQr(n + p, p, augmented_.data(), augmented_rhs_.data(),
+                                     step_.data());
+    step_ = -step_;
 
     double model_cost_change = -std::numeric_limits<double>::infinity();
     if (step_.allFinite()) {
@@ -166,15 +219,13 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
     if (!(model_cost_change > 0.0 && std::isfinite(model_cost_change))) {
       // Invalid step: shrink the trust region as for a rejected step.
       if (++consecutive_invalid_steps >= kMaxConsecutiveInvalidSteps) {
-        outcome.failed = true;
-        return finish(outcome);
+        return finish(false, true, "Too many consecutive invalid steps (dense solver).");
       }
       radius /= decrease_factor;
       decrease_factor *= 2.0;
       reuse_diagonal = true;
       if (radius < kMinTrustRegionRadius) {
-        outcome.converged = true;
-        return finish(outcome);
+        return finish(true, false, "Minimum trust region radius reached (dense solver).");
       }
       continue;
     }
@@ -191,22 +242,18 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
 
     if ((x_ - candidate_).norm() <=
         options_.parameter_tolerance * (x_.norm() + options_.parameter_tolerance)) {
-      outcome.converged = true;
-      return finish(outcome);
+      return finish(true, false, "Parameter tolerance reached (dense solver).");
     }
     const double cost_change = cost - candidate_cost;
     if (std::abs(cost_change) <= options_.function_tolerance * cost) {
-      outcome.converged = true;
-      return finish(outcome);
+      return finish(true, false, "Function tolerance reached (dense solver).");
     }
 
     const double relative_decrease = cost_change / model_cost_change;
     if (relative_decrease > kMinRelativeDecrease) {
       x_ = candidate_;
       if (evaluation != Evaluation::kResidualsAndJacobian) {
-        outcome.failed = true;
-        outcome.cost = std::numeric_limits<double>::infinity();
-        return finish(outcome);
+        return finish(false, true, "Jacobian evaluation failed at an accepted point.");
       }
       AcceptCandidate();
       cost = candidate_cost;
@@ -217,8 +264,7 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
       decrease_factor = 2.0;
       reuse_diagonal = false;
       if (ProjectedGradientMaxNorm(x_) <= options_.gradient_tolerance) {
-        outcome.converged = true;
-        return finish(outcome);
+        return finish(true, false, "Gradient tolerance reached (dense solver).");
       }
     } else {
       radius /= decrease_factor;
@@ -226,8 +272,7 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
       reuse_diagonal = true;
     }
     if (radius < kMinTrustRegionRadius) {
-      outcome.converged = true;
-      return finish(outcome);
+      return finish(true, false, "Minimum trust region radius reached (dense solver).");
     }
   }
 }

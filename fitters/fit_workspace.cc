@@ -92,6 +92,9 @@ FitWorkspace::FitWorkspace(const Model& model, std::vector<Observation> observat
   solver_options_.num_threads = 1;  // deterministic and cheap for small problems
   solver_options_.logging_type = ceres::SILENT;
   solver_options_.minimizer_progress_to_stdout = false;
+  if (options_.loss == LossKind::kSquared && !options_.use_nonmonotonic_steps) {
+    dense_solver_ = std::make_unique<DenseLevenbergMarquardt>(model_, context_, options_);
+  }
   Build();
 }
 
@@ -140,14 +143,17 @@ void FitWorkspace::Build() {
 }
 
 void FitWorkspace::DataChanged() {
-  std::vector<char> eiv(data_.size(), 0);
+  bool same = referencing_ && eiv_.size() == data_.size();
+  for (std::size_t i = 0; i < data_.size() && same; ++i) {
+    same = eiv_[i] == (options_.errors_in_variables && data_[i].sigma_x0 > 0.0 ? 1 : 0);
+  }
+  if (same) return;
+  eiv_.assign(data_.size(), 0);
+  x0_true_.resize(data_.size(), 0.0);
   for (std::size_t i = 0; i < data_.size(); ++i) {
-    eiv[i] = options_.errors_in_variables && data_[i].sigma_x0 > 0.0 ? 1 : 0;
+    eiv_[i] = options_.errors_in_variables && data_[i].sigma_x0 > 0.0 ? 1 : 0;
   }
-  if (!referencing_ || eiv != eiv_) {
-    eiv_ = std::move(eiv);
-    Build();
-  }
+  Build();
 }
 
 std::vector<double> FitWorkspace::ClampToBounds(std::vector<double> point) const {
@@ -177,6 +183,23 @@ void FitWorkspace::SetState(const std::vector<double>& parameters,
 SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
                                  const std::vector<double>* x0_start) {
   SetState(ClampToBounds(start), x0_start);
+  if (dense_solver_ != nullptr && num_errors_in_variables() == 0) {
+    std::vector<double>& solution = dense_scratch_;
+    solution = parameters_;
+    const DenseSolveOutcome dense = dense_solver_->Solve(data_, &solution);
+    if (!dense.failed) {
+      std::copy(solution.begin(), solution.end(), parameters_.begin());
+      SolveOutcome outcome;
+      outcome.converged = dense.converged;
+      outcome.cost = dense.cost;
+      outcome.iterations = dense.iterations;
+      outcome.message = dense.message;
+      outcome.dense = true;
+      return outcome;
+    }
+    // A numerical failure (non-finite values along the path): Ceres from the same start.
+    SetState(ClampToBounds(start), x0_start);
+  }
   ceres::Solver::Summary summary;
   ceres::Solve(solver_options_, problem_.get(), &summary);
   SolveOutcome outcome;

@@ -111,24 +111,29 @@ class Model {
   }
 
   // Weighted residuals r_i = (y_i - f(x_i; params)) / sigma_y_i of observations[0..count)
-  // (x as observed) and, unless jacobian is nullptr, their Jacobian dr_i / dparams_j row by
-  // row (jacobian[i * p + j]): what the engine's dense solver of resampled refits needs, in one
-  // call. Returns false if a value is not finite. The default uses Evaluate and Gradient;
-  // AutoDiffModel evaluates value and gradient together.
+  // and, unless nullptr, their Jacobian dr_i / dparams_j row by row (jacobian[i * p + j]) and
+  // their derivatives dr_i / dx_i[0] (x0_jacobian[i]; errors in variables): what the engine's
+  // dense solver needs, in one call. Returns false if a value is not finite. The default uses
+  // Evaluate, Gradient and SlopeInX0; AutoDiffModel evaluates them together.
   virtual bool WeightedResiduals(const double* params, const Observation* observations,
                                  std::size_t count, const ModelContext& context, double* residuals,
-                                 double* jacobian) const {
+                                 double* jacobian, double* x0_jacobian) const {
     const std::size_t p = static_cast<std::size_t>(num_parameters());
     for (std::size_t i = 0; i < count; ++i) {
       const Observation& o = observations[i];
       residuals[i] = (o.y - Evaluate(params, o.x.data(), context)) / o.sigma_y;
       if (!std::isfinite(residuals[i])) return false;
-      if (jacobian == nullptr) continue;
-      double* row = jacobian + i * p;
-      Gradient(params, o.x.data(), context, row);
-      for (std::size_t j = 0; j < p; ++j) {
-        row[j] = -row[j] / o.sigma_y;
-        if (!std::isfinite(row[j])) return false;
+      if (jacobian != nullptr) {
+        double* row = jacobian + i * p;
+        Gradient(params, o.x.data(), context, row);
+        for (std::size_t j = 0; j < p; ++j) {
+          row[j] = -row[j] / o.sigma_y;
+          if (!std::isfinite(row[j])) return false;
+        }
+      }
+      if (x0_jacobian != nullptr) {
+        x0_jacobian[i] = -SlopeInX0(params, o.x.data(), context) / o.sigma_y;
+        if (!std::isfinite(x0_jacobian[i])) return false;
       }
     }
     return true;

@@ -1,15 +1,11 @@
-// Resample: residual and case bootstrap and JCGM 101 Monte Carlo, each draw refitted
-// warm-started at the full-data solution: by the dense Levenberg-Marquardt solver
-// (internal/dense_solver.h, Ceres' method without its per-solve set-up) for squared loss
-// without errors in variables, else, and whenever that solve does not converge, on one reused
-// ceres::Problem.
+// Resample: residual and case bootstrap and JCGM 101 Monte Carlo, each draw refitted on one
+// reused FitWorkspace (its dense solver, or its ceres::Problem) warm-started at the full-data
+// solution.
 #include <cmath>
 #include <limits>
 #include <numeric>
-#include <optional>
 
 #include "fitters/fitter.h"
-#include "fitters/internal/dense_solver.h"
 #include "fitters/internal/fit_workspace.h"
 #include "fitters/internal/random.h"
 #include "fitters/internal/statistics.h"
@@ -53,19 +49,12 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   const double inflation = std::sqrt(static_cast<double>(n) / dof);
   for (double& e : weighted_residuals) e = (e - mean_residual) * inflation;
 
-  // The dense solver covers what it mirrors of the Ceres set-up: squared loss, monotonic
-  // steps, no errors in variables (which adds a parameter block per point).
-  const bool dense = fit_options.loss == LossKind::kSquared && !fit_options.errors_in_variables &&
-                     !fit_options.use_nonmonotonic_steps;
-  internal::DenseLevenbergMarquardt dense_solver(model, context, fit_options);
-  std::optional<internal::FitWorkspace> workspace;  // built on first need
-  if (!dense) workspace.emplace(model, observations, context, fit_options);
-  std::vector<Observation> data = observations;
-  std::vector<double> solution(pp);
+  internal::FitWorkspace workspace(model, observations, context, fit_options);
   internal::Random random(options.seed);
   std::vector<double> x0_start(n);
   std::vector<std::size_t> source(n);
   for (int b = 0; b < num_resamples; ++b) {
+    std::vector<Observation>& data = workspace.data();
     switch (options.kind) {
       case ResampleKind::kResidualBootstrap:
         for (std::size_t i = 0; i < n; ++i) {
@@ -93,19 +82,10 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
         }
         break;
     }
-    if (dense) {
-      solution = full_fit.parameters;
-      if (dense_solver.Solve(data, &solution).converged) {
-        result.parameter_draws.push_back(solution);
-        continue;
-      }
-      if (!workspace) workspace.emplace(model, observations, context, fit_options);
-    }
-    workspace->data() = data;
-    workspace->DataChanged();
-    const internal::SolveOutcome outcome = workspace->Solve(full_fit.parameters, &x0_start);
+    workspace.DataChanged();
+    const internal::SolveOutcome outcome = workspace.Solve(full_fit.parameters, &x0_start);
     if (outcome.converged) {
-      result.parameter_draws.push_back(workspace->parameters());
+      result.parameter_draws.push_back(workspace.parameters());
     } else {
       ++result.num_failed;
     }
@@ -125,16 +105,16 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
     double sum2 = 0.0;
     for (double v : column) sum2 += (v - mean) * (v - mean);
     result.parameter_std[j] = std::sqrt(sum2 / static_cast<double>(draws - 1));
-    result.parameter_low[j] = internal::Percentile(&column, 0.5 * alpha);
-    result.parameter_high[j] = internal::Percentile(&column, 1.0 - 0.5 * alpha);
+    internal::PercentilePair(&column, 0.5 * alpha, 1.0 - 0.5 * alpha, &result.parameter_low[j],
+                             &result.parameter_high[j]);
   }
   for (std::size_t g = 0; g < x_grid.size(); ++g) {
     const double x[kMaxInputs] = {x_grid[g], 0.0};
     for (std::size_t d = 0; d < draws; ++d) {
       column[d] = model.Evaluate(result.parameter_draws[d].data(), x, context);
     }
-    result.curve_low[g] = internal::Percentile(&column, 0.5 * alpha);
-    result.curve_high[g] = internal::Percentile(&column, 1.0 - 0.5 * alpha);
+    internal::PercentilePair(&column, 0.5 * alpha, 1.0 - 0.5 * alpha, &result.curve_low[g],
+                             &result.curve_high[g]);
   }
   return result;
 }

@@ -56,19 +56,58 @@ double ChiSquareUpperTail(double value, int degrees_of_freedom) {
       value));
 }
 
+namespace {
+
+// Position of quantile q among `count` sorted values (type 7): index below and fraction.
+void QuantilePosition(std::size_t count, double q, std::size_t* below, double* fraction) {
+  const double position = std::clamp(q, 0.0, 1.0) * static_cast<double>(count - 1);
+  *below = static_cast<std::size_t>(std::floor(position));
+  *fraction = position - static_cast<double>(*below);
+}
+
+// Interpolated quantile from [first, last) once the element at `nth` is in its sorted place
+// (everything after it not smaller): the next order statistic is the minimum of the rest.
+double Interpolate(std::vector<double>::iterator nth, std::vector<double>::iterator last,
+                   double fraction) {
+  const double low = *nth;
+  const double high = nth + 1 < last ? *std::min_element(nth + 1, last) : low;
+  return low + fraction * (high - low);
+}
+
+}  // namespace
+
 double Percentile(std::vector<double>* values, double q) {
   if (values->empty()) return kNaN;
-  const double position = std::clamp(q, 0.0, 1.0) * static_cast<double>(values->size() - 1);
-  const std::size_t below = static_cast<std::size_t>(std::floor(position));
-  const double fraction = position - static_cast<double>(below);
-  // The two order statistics needed, without a full sort: nth_element puts the below-th
-  // smallest in place with everything after it not smaller, so the next one is the minimum of
-  // the rest (NaN-free input; the same values a sort would give).
+  std::size_t below = 0;
+  double fraction = 0.0;
+  QuantilePosition(values->size(), q, &below, &fraction);
+  // The two order statistics needed, without a full sort (NaN-free input: the same values a
+  // sort would give).
   const auto nth = values->begin() + static_cast<std::ptrdiff_t>(below);
   std::nth_element(values->begin(), nth, values->end());
-  const double low = *nth;
-  const double high = below + 1 < values->size() ? *std::min_element(nth + 1, values->end()) : low;
-  return low + fraction * (high - low);
+  return Interpolate(nth, values->end(), fraction);
+}
+
+void PercentilePair(std::vector<double>* values, double q_low, double q_high, double* low,
+                    double* high) {
+  if (values->empty() || !(q_low <= q_high)) {
+    *low = Percentile(values, q_low);
+    *high = Percentile(values, q_high);
+    return;
+  }
+  std::size_t below_low = 0;
+  std::size_t below_high = 0;
+  double fraction_low = 0.0;
+  double fraction_high = 0.0;
+  QuantilePosition(values->size(), q_low, &below_low, &fraction_low);
+  QuantilePosition(values->size(), q_high, &below_high, &fraction_high);
+  const auto nth_low = values->begin() + static_cast<std::ptrdiff_t>(below_low);
+  std::nth_element(values->begin(), nth_low, values->end());
+  *low = Interpolate(nth_low, values->end(), fraction_low);
+  // Everything from nth_low on is not smaller than it: the upper order statistic lies there.
+  const auto nth_high = values->begin() + static_cast<std::ptrdiff_t>(below_high);
+  if (nth_high > nth_low) std::nth_element(nth_low + 1, nth_high, values->end());
+  *high = Interpolate(nth_high, values->end(), fraction_high);
 }
 
 FitStatistics ComputeStatistics(const std::vector<Observation>& observations,

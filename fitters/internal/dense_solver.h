@@ -1,31 +1,37 @@
 // DenseLevenbergMarquardt: the bounded Levenberg-Marquardt trust-region method of Ceres Solver,
 // as FitWorkspace configures it (TRUST_REGION, LEVENBERG_MARQUARDT, DENSE_QR, Jacobi scaling,
-// monotonic steps), written out for the small dense problems of the resampled refits: squared
-// loss, no errors in variables, a few parameters and tens of points. It skips Ceres' per-solve
-// set-up (program reduction, evaluator and linear-solver construction) and evaluates all
-// residuals and the Jacobian in one Model::WeightedResiduals call; all storage is allocated
-// once per data-set size, nothing per iteration or per residual. Internal to fitters/.
+// monotonic steps), written out for the small problems of the engine: squared loss, a few
+// parameters, tens of points, optionally errors in variables (a fitted true x[0] per point).
+// It skips Ceres' per-solve set-up (program reduction, evaluator and linear-solver
+// construction) and evaluates all residuals and the Jacobian in one Model::WeightedResiduals
+// call; all storage is allocated once per data-set size, nothing per iteration or residual.
+// Internal to fitters/.
 //
 // The iteration follows Ceres' TrustRegionMinimizer and LevenbergMarquardtStrategy
-// (S. Agarwal, K. Mierle et al., Ceres Solver, http://ceres-solver.org, version 2.1; documented
-// in its "Solving Non-linear Least Squares" chapter; the constants are its Solver::Options
-// defaults):
+// (S. Agarwal, K. Mierle et al., Ceres Solver, http://ceres-solver.org, version 2.1; its
+// "Solving Non-linear Least Squares" chapter; the constants are its Solver::Options defaults):
 //  - Jacobi scaling: columns of J multiplied by 1 / (1 + ||J_j||), ||J_j|| at the start point;
-//  - step: minimise ||J s + r||^2 + ||D s||^2, D_jj = sqrt(clamp(||J_j||^2, 1e-6, 1e32) / radius),
-//    by Householder QR of [J; D] (DENSE_QR);
-//  - candidate x+ = clamp(x + scaling * s) to the parameter bounds (Ceres projects onto the box);
+//  - step: minimise ||J s + r||^2 + ||D s||^2, D_jj = sqrt(clamp(||J_j||^2, 1e-6, 1e32) / radius)
+//    (the same linear least-squares problem Ceres' DENSE_QR solves, here by Householder QR);
+//  - candidate x+ = clamp(x + scaling * s) to the parameter bounds (Ceres projects onto the box;
+//    the true x[0] are unbounded);
 //  - step quality rho = (cost - cost+) / (model cost decrease); success if rho > 1e-3; radius
 //    divided by max(1/3, 1 - (2 rho - 1)^3) on success (at most max_trust_region_radius), divided
 //    by 2, 4, 8... on consecutive failures; five consecutive invalid steps are a failure;
 //  - convergence: |x - x+| <= parameter_tolerance (|x| + parameter_tolerance); |cost - cost+| <=
 //    function_tolerance * cost; max-norm of the projected gradient x - clamp(x - J'r) <=
 //    gradient_tolerance; trust-region radius below 1e-32.
-// Its solutions agree with the Ceres solve from the same start to within the tolerances; the
-// resampling falls back to the Ceres solve whenever this one does not converge.
+// Errors in variables: point i with a fitted true x[0] = t_i has the residuals
+// r_yi = (y_i - f(t_i; p)) / sigma_y_i and r_xi = (x0_i - t_i) / sigma_x0_i, and t_i enters no
+// other residual. Its step is eliminated exactly: for a fixed parameter step s_p, the three rows
+// of point i (y, x and its damping row) are minimised over s_ti in closed form, which leaves
+// the projection of those rows onto the complement of the t_i column -- three rows in s_p only
+// (the variable projection of G. H. Golub and V. Pereyra, SIAM J. Numer. Anal. 10 (1973) 413,
+// applied to one variable per point). The reduced problem has p columns however many points
+// there are; s_ti follows by back-substitution.
 #pragma once
 
 #include <Eigen/Core>
-#include <Eigen/QR>
 #include <vector>
 
 #include "fitters/fitter.h"
@@ -37,63 +43,72 @@ namespace sorbtrace::fitters::internal {
 struct DenseSolveOutcome {
   bool converged = false;  // a convergence test was met
   bool failed = false;     // not evaluable at the start, or five consecutive invalid steps
-  double cost = 0.0;       // 0.5 * weighted SSR at the returned parameters
-  int iterations = 0;      // trust-region iterations (successful and unsuccessful steps)
+  double cost = 0.0;       // 0.5 * weighted SSR (x terms included) at the returned point
+  // Evaluations of the Jacobian point plus trust-region steps, counted as Ceres counts its
+  // successful and unsuccessful steps (the start point is one successful step).
+  int iterations = 0;
+  const char* message = "";  // why it ended, in words
 };
 
 class DenseLevenbergMarquardt {
  public:
   // Uses options.max_iterations, the three tolerances, initial_trust_region_radius and (if
-  // use_bounds) the model's parameter bounds; loss and errors in variables are not supported
-  // (the caller uses FitWorkspace for those).
+  // use_bounds) the model's parameter bounds. Squared loss only (the caller uses Ceres for
+  // robust losses).
   DenseLevenbergMarquardt(const Model& model, const ModelContext& context,
                           const FitOptions& options);
 
-  // Minimises the weighted SSR over `data` from *parameters (moved inside the bounds); on
-  // return *parameters holds the last accepted point.
-  DenseSolveOutcome Solve(const std::vector<Observation>& data, std::vector<double>* parameters);
+  // Minimises the weighted SSR over `data` from *parameters (moved inside the bounds). Points
+  // with eiv[i] != 0 have a fitted true x[0], started from and returned in (*x0_true)[i]
+  // (x0_true may be nullptr when no point has one; its other entries are left alone). On return
+  // *parameters holds the last accepted point.
+  DenseSolveOutcome Solve(const std::vector<Observation>& data, const std::vector<char>& eiv,
+                          std::vector<double>* parameters, std::vector<double>* x0_true);
 
  private:
   using RowMajorMatrix = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>;
-
   enum class Evaluation { kResidualsAndJacobian, kResidualsOnly, kFailed };
 
-  void Resize(int num_residuals);
+  void Resize(int num_points, int num_true_x);
   void Clamp(Eigen::VectorXd* x) const;
-  // Residuals and Jacobian at x into candidate_residuals_ and candidate_jacobian_; says which
-  // of them are finite.
-  Evaluation EvaluateCandidate(const Eigen::VectorXd& x);
-  // Makes the candidate's residuals and Jacobian the current ones (buffer swap) and forms the
-  // gradient J'r.
+  // Residuals and Jacobian at (x, t) into the candidate_* buffers; says which are finite.
+  Evaluation EvaluateCandidate(const Eigen::VectorXd& x, const Eigen::VectorXd& t);
+  // Makes the candidate's residuals and Jacobian the current ones (buffer swaps) and forms
+  // the gradient J'r.
   void AcceptCandidate();
-  // Max-norm of x - clamp(x - gradient).
-  double ProjectedGradientMaxNorm(const Eigen::VectorXd& x) const;
+  double Cost(const Eigen::VectorXd& ry, const Eigen::VectorXd& rx) const;
+  // Max-norm of (x, t) - clamp((x, t) - J'r).
+  double ProjectedGradientMaxNorm() const;
+  // The Levenberg-Marquardt step (step_x_, step_t_) for the given trust-region radius.
+  void ComputeStep(double radius);
 
   const Model& model_;
   ModelContext context_;
   FitOptions options_;
   int num_parameters_ = 0;
+  bool bounds_ordered_ = true;  // every lower bound <= its upper bound (else Ceres decides)
   Eigen::VectorXd lower_;
   Eigen::VectorXd upper_;
-  const std::vector<Observation>* data_ = nullptr;
 
-  // Work storage (sized by Resize).
-  int num_residuals_ = -1;
-  Eigen::VectorXd residuals_;
-  Eigen::VectorXd candidate_residuals_;
-  RowMajorMatrix jacobian_;  // n x p, unscaled
-  RowMajorMatrix candidate_jacobian_;
-  Eigen::MatrixXd scaled_jacobian_;  // n x p, columns times scaling_
-  Eigen::MatrixXd augmented_;        // (n + p) x p: [scaled J; D]
-  Eigen::VectorXd augmented_rhs_;    // (n + p): [r; 0]
-  Eigen::HouseholderQR<Eigen::MatrixXd> qr_;
-  Eigen::VectorXd model_residuals_;
-  Eigen::VectorXd x_;
-  Eigen::VectorXd candidate_;
-  Eigen::VectorXd step_;
-  Eigen::VectorXd gradient_;
-  Eigen::VectorXd scaling_;
-  Eigen::VectorXd lm_diagonal_squared_;  // clamped squared column norms of the scaled J
+  // Problem layout (set by Solve).
+  int num_points_ = -1;
+  int num_true_x_ = -1;
+  std::vector<int> point_of_true_x_;     // t index -> point index
+  std::vector<Observation> evaluated_;   // the data with x[0] = t_i where fitted
+  Eigen::VectorXd x_residual_jacobian_;  // dr_xi / dt_i = -1 / sigma_x0_i
+
+  // State and work storage (sized by Resize).
+  Eigen::VectorXd x_, t_, candidate_x_, candidate_t_;
+  Eigen::VectorXd ry_, rx_, candidate_ry_, candidate_rx_;  // y and x residuals
+  RowMajorMatrix jacobian_, candidate_jacobian_;           // dr_y / dp, unscaled
+  Eigen::VectorXd slope_, candidate_slope_;                // dr_yi / d x[0]_i, unscaled
+  Eigen::VectorXd gradient_x_, gradient_t_;                // J'r, unscaled
+  Eigen::VectorXd scaling_x_, scaling_t_;                  // Jacobi scaling
+  Eigen::VectorXd diagonal_x_, diagonal_t_;  // clamped squared column norms of the scaled J
+  Eigen::MatrixXd reduced_;                  // rows of the reduced problem in s_p (col-major)
+  Eigen::VectorXd reduced_rhs_;
+  Eigen::VectorXd step_x_, step_t_;  // scaled step
+  Eigen::VectorXd model_ry_, model_rx_;
 };
 
 }  // namespace sorbtrace::fitters::internal

@@ -1,6 +1,9 @@
 // One ceres::Problem over a data set, re-solved from many starts and for many resampled data
 // sets without rebuilding it: the residuals read the observations by pointer (when the model
-// supports it), so the data can be edited in place. Internal to fitters/.
+// supports it), so the data can be edited in place. Squared-loss problems without errors in
+// variables and with monotonic steps are solved by DenseLevenbergMarquardt (Ceres' method
+// written out for small dense problems, internal/dense_solver.h) and by Ceres only if that
+// solve fails numerically. Internal to fitters/.
 #pragma once
 
 #include <ceres/ceres.h>
@@ -11,6 +14,7 @@
 #include <vector>
 
 #include "fitters/fitter.h"
+#include "fitters/internal/dense_solver.h"
 #include "fitters/model.h"
 
 namespace sorbtrace::fitters::internal {
@@ -22,6 +26,7 @@ struct SolveOutcome {
   double cost = 0.0;       // 0.5 * sum of squared (robustified) residuals
   int iterations = 0;
   std::string message;
+  bool dense = false;  // solved by DenseLevenbergMarquardt (else by ceres::Solve)
 };
 
 class FitWorkspace {
@@ -70,6 +75,9 @@ class FitWorkspace {
   std::unique_ptr<ceres::LossFunction> loss_;
   std::unique_ptr<ceres::Problem> problem_;
   ceres::Solver::Options solver_options_;
+  // Set when the options allow the dense solver (used while no point has errors in variables).
+  std::unique_ptr<DenseLevenbergMarquardt> dense_solver_;
+  std::vector<double> dense_scratch_;  // the dense solver's iterate
 };
 
 }  // namespace sorbtrace::fitters::internal

@@ -33,6 +33,10 @@ double ChiSquareUpperTail(double value, int degrees_of_freedom);
 // empty.
 double Percentile(std::vector<double>* values, double q);
 
+// Percentile(values, q_low) and Percentile(values, q_high) in one partial ordering.
+void PercentilePair(std::vector<double>* values, double q_low, double q_high, double* low,
+                    double* high);
+
 // Statistics of a fit: residuals_y = y - f, x_terms = sum of ((x0_obs - x0_true)/sigma_x0)^2.
 FitStatistics ComputeStatistics(const std::vector<Observation>& observations,
                                 const std::vector<double>& residuals_y, double x_terms,

@@ -1,7 +1,10 @@
 #include "fitters/models/van_genuchten.h"
 
 #include <algorithm>
+#include <array>
+#include <bit>
 #include <cmath>
+#include <cstdint>
 #include <limits>
 #include <memory>
 #include <utility>
@@ -56,6 +59,27 @@ double LogKelvinPressureFactor(double kelvin_factor_Pa) {
   last_log = std::log(kelvin_factor_Pa);
   last_factor_Pa = kelvin_factor_Pa;
   return last_log;
+}
+
+double LogCapillaryPressureValue(double rh_fraction, double kelvin_factor_Pa) {
+  struct Entry {
+    double rh_fraction = std::numeric_limits<double>::quiet_NaN();  // never matches
+    double kelvin_factor_Pa = std::numeric_limits<double>::quiet_NaN();
+    double value = 0.0;
+  };
+  constexpr int kTableBits = 10;  // 1024 entries, 24 KiB per thread
+  thread_local std::array<Entry, std::size_t{1} << kTableBits> table;
+  // Fibonacci hashing of the bit pattern (Knuth's multiplicative constant 2^64 / golden ratio).
+  const std::uint64_t bits = std::bit_cast<std::uint64_t>(rh_fraction);
+  const std::size_t slot =
+      static_cast<std::size_t>((bits * 0x9E3779B97F4A7C15ULL) >> (64 - kTableBits));
+  Entry& entry = table[slot];
+  if (entry.rh_fraction == rh_fraction && entry.kelvin_factor_Pa == kelvin_factor_Pa) {
+    return entry.value;
+  }
+  const double value = LogKelvinPressureFactor(kelvin_factor_Pa) + std::log(-std::log(rh_fraction));
+  entry = {rh_fraction, kelvin_factor_Pa, value};
+  return value;
 }
 
 ModelInfo VanGenuchtenEquation::Info() {

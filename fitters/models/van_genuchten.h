@@ -57,6 +57,11 @@ double KelvinPressureFactor_Pa(double temperature_K);
 // std::log(kelvin_factor_Pa), the last value remembered (per thread) like the factor itself.
 double LogKelvinPressureFactor(double kelvin_factor_Pa);
 
+// ln(p_c / 1 Pa) = ln(factor) + ln(-ln a_w) for 0 < a_w < 1, remembered per thread in a small
+// table keyed by (a_w, factor): refits of resampled data and percentile bands evaluate the
+// model at the same few a_w thousands of times. The value is exactly the computed one.
+double LogCapillaryPressureValue(double rh_fraction, double kelvin_factor_Pa);
+
 // ln(p_c / 1 Pa) for 0 < a_w < 1.
 template <typename T>
 T LogCapillaryPressure(const T& rh_fraction, double kelvin_factor_Pa) {
@@ -64,15 +69,22 @@ T LogCapillaryPressure(const T& rh_fraction, double kelvin_factor_Pa) {
   return LogKelvinPressureFactor(kelvin_factor_Pa) + log(-log(rh_fraction));
 }
 
+inline double LogCapillaryPressure(const double& rh_fraction, double kelvin_factor_Pa) {
+  return LogCapillaryPressureValue(rh_fraction, kelvin_factor_Pa);
+}
+
 // The same for ceres::Jet: value as above, derivative d ln(p_c) / d a_w = 1 / (a_w ln a_w)
-// applied once to the derivative part (cheaper than two Jet logarithms).
+// applied once to the derivative part (zero unless a_w itself is fitted).
 template <int N>
 ceres::Jet<double, N> LogCapillaryPressure(const ceres::Jet<double, N>& rh_fraction,
                                            double kelvin_factor_Pa) {
-  const double ln_rh = std::log(rh_fraction.a);
   ceres::Jet<double, N> out;
-  out.a = LogKelvinPressureFactor(kelvin_factor_Pa) + std::log(-ln_rh);
-  out.v = (1.0 / (rh_fraction.a * ln_rh)) * rh_fraction.v;
+  out.a = LogCapillaryPressureValue(rh_fraction.a, kelvin_factor_Pa);
+  if ((rh_fraction.v.array() == 0.0).all()) {
+    out.v.setZero();
+  } else {
+    out.v = (1.0 / (rh_fraction.a * std::log(rh_fraction.a))) * rh_fraction.v;
+  }
   return out;
 }
 

@@ -23,8 +23,14 @@ struct FitStageOptions {
   double bet_rh_max_fraction = 0.35;
   fitters::LossKind loss = fitters::LossKind::kSquared;
   double loss_scale = 1.0;
-  bool errors_in_variables = false;  // RH of each point fitted within its uncertainty
-  fitters::WeightConvention weights = fitters::WeightConvention::kRelative;
+  // The reduce stage gives GUM standard uncertainties of both moisture content and RH, so
+  // by default both enter the fit: the true RH of each point is fitted within its
+  // uncertainty (errors in variables), and the sigmas are absolute (covariance unscaled,
+  // chi-square consistency check reported). With y-only weights the RH uncertainty of salt
+  // tables and sensors would be left out of the parameter uncertainties, which makes them
+  // too small on the steep part of an isotherm.
+  bool errors_in_variables = true;
+  fitters::WeightConvention weights = fitters::WeightConvention::kAbsolute;
   // Deterministic perturbed starts per model starting point (fitters::FitOptions).
   int num_multistarts = 4;
   // Relative function and parameter tolerance of the bootstrap and Monte Carlo refits (the

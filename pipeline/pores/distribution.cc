@@ -379,11 +379,9 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
   d.u_total_resolved_volume_m3_per_kg = StandardDeviation(draw_total);
 
   const double tail = 0.5 * (1.0 - options.band_confidence_level);
-  std::vector<double> column(used);
+  QuantileScratch scratch;
   auto band = [&](const std::vector<double>& by_node, std::size_t i, double* low, double* high) {
-    const auto begin = by_node.begin() + static_cast<std::ptrdiff_t>(i * num_draws);
-    std::copy(begin, begin + static_cast<std::ptrdiff_t>(used), column.begin());
-    QuantilePair(column, tail, 1.0 - tail, low, high);
+    QuantilePairOf(by_node.data() + i * num_draws, used, tail, 1.0 - tail, &scratch, low, high);
   };
   d.points.resize(nn);
   for (std::size_t i = 0; i < nn; ++i) {

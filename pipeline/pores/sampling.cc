@@ -82,43 +82,42 @@ double Quantile(std::vector<double>& values, double p) {
   return low + fraction * (high - low);
 }
 
-void QuantilePair(std::vector<double>& values, double p_low, double p_high, double* low,
-                  double* high) {
-  const std::size_t n = values.size();
-  auto position = [n](double p) { return std::clamp(p, 0.0, 1.0) * static_cast<double>(n - 1); };
+void QuantilePairOf(const double* values, std::size_t n, double p_low, double p_high,
+                    QuantileScratch* scratch, double* low, double* high) {
+  const auto position = [n](double p) {
+    return std::clamp(p, 0.0, 1.0) * static_cast<double>(n - 1);
+  };
   const double pos_low = n > 0 ? position(p_low) : 0.0;
   const double pos_high = n > 0 ? position(p_high) : 0.0;
   const std::size_t k_low = static_cast<std::size_t>(std::floor(pos_low));
   const std::size_t k_high = static_cast<std::size_t>(std::floor(pos_high));
-  if (n == 0 || k_low >= k_high) {
-    *low = Quantile(values, p_low);
-    *high = Quantile(values, p_high);
-    return;
-  }
   const std::size_t lower_count = k_low + 2;   // order statistics 0 .. k_low + 1
   const std::size_t upper_count = n - k_high;  // order statistics k_high .. n - 1
-  if (4 * (lower_count + upper_count) <= n) {
+  if (n > 0 && k_low < k_high && 4 * (lower_count + upper_count) <= n) {
     // Tails of a large sample (the 2.5 % / 97.5 % band): one pass keeping the lower_count
-    // smallest values in a max-heap and the upper_count largest in a min-heap, O(n) with few
+    // smallest values in a max-heap and the upper_count largest in a min-heap: O(n) with few
     // heap operations, instead of two full partitions.
-    std::vector<double> lower(values.begin(),
-                              values.begin() + static_cast<std::ptrdiff_t>(lower_count));
-    std::vector<double> upper(values.begin(),
-                              values.begin() + static_cast<std::ptrdiff_t>(upper_count));
+    std::vector<double>& lower = scratch->lower;
+    std::vector<double>& upper = scratch->upper;
+    lower.assign(values, values + lower_count);
+    upper.assign(values, values + upper_count);
     std::make_heap(lower.begin(), lower.end());
     std::make_heap(upper.begin(), upper.end(), std::greater<>());
-    for (std::size_t i = lower_count; i < n; ++i) {
-      if (values[i] < lower.front()) {
+    double lower_top = lower.front();
+    double upper_top = upper.front();
+    for (std::size_t i = std::min(lower_count, upper_count); i < n; ++i) {
+      const double v = values[i];
+      if (i >= lower_count && v < lower_top) {
         std::pop_heap(lower.begin(), lower.end());
-        lower.back() = values[i];
+        lower.back() = v;
         std::push_heap(lower.begin(), lower.end());
+        lower_top = lower.front();
       }
-    }
-    for (std::size_t i = upper_count; i < n; ++i) {
-      if (values[i] > upper.front()) {
+      if (i >= upper_count && v > upper_top) {
         std::pop_heap(upper.begin(), upper.end(), std::greater<>());
-        upper.back() = values[i];
+        upper.back() = v;
         std::push_heap(upper.begin(), upper.end(), std::greater<>());
+        upper_top = upper.front();
       }
     }
     std::sort(lower.begin(), lower.end());
@@ -131,20 +130,16 @@ void QuantilePair(std::vector<double>& values, double p_low, double p_high, doub
     *high = v_high + (pos_high - static_cast<double>(k_high)) * (v_high_next - v_high);
     return;
   }
-  const auto at = [&values](std::size_t k) {
-    return values.begin() + static_cast<std::ptrdiff_t>(k);
-  };
-  // Partition at k_high, then at k_low inside [0, k_high): the second partition leaves
-  // positions k_high.. untouched.
-  std::nth_element(values.begin(), at(k_high), values.end());
-  const double v_high = values[k_high];
-  const double v_high_next =
-      k_high + 1 < n ? *std::min_element(at(k_high + 1), values.end()) : v_high;
-  std::nth_element(values.begin(), at(k_low), at(k_high));
-  const double v_low = values[k_low];
-  const double v_low_next = *std::min_element(at(k_low + 1), at(k_high + 1));
-  *low = v_low + (pos_low - static_cast<double>(k_low)) * (v_low_next - v_low);
-  *high = v_high + (pos_high - static_cast<double>(k_high)) * (v_high_next - v_high);
+  scratch->copy.assign(values, values + n);
+  *low = Quantile(scratch->copy, p_low);
+  scratch->copy.assign(values, values + n);
+  *high = Quantile(scratch->copy, p_high);
+}
+
+void QuantilePair(std::vector<double>& values, double p_low, double p_high, double* low,
+                  double* high) {
+  QuantileScratch scratch;
+  QuantilePairOf(values.data(), values.size(), p_low, p_high, &scratch, low, high);
 }
 
 double StandardDeviation(const std::vector<double>& values) {

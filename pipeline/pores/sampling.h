@@ -40,6 +40,14 @@ double Quantile(std::vector<double>& values, double p);
 void QuantilePair(std::vector<double>& values, double p_low, double p_high, double* low,
                   double* high);
 
+// As QuantilePair on values[0..n), without modifying them; `scratch` holds reusable buffers
+// (for loops over many columns).
+struct QuantileScratch {
+  std::vector<double> lower, upper, copy;
+};
+void QuantilePairOf(const double* values, std::size_t n, double p_low, double p_high,
+                    QuantileScratch* scratch, double* low, double* high);
+
 // Sample standard deviation (n - 1); 0 for fewer than two values.
 double StandardDeviation(const std::vector<double>& values);
 

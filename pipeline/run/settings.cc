@@ -398,6 +398,8 @@ JobSettings LoadJobSettings(const std::filesystem::path& job_file, const ingest:
   report.Number("coverage_factor", settings.reduce.coverage_factor, 1.0, 5.0);
   report.RejectUnknownKeys();
 
+  // The pore-distribution band is drawn at the fit stage's confidence level.
+  settings.pores.band_confidence_level = settings.fit.confidence_level;
   std::string error;
   if (!settings.fit.IsValid(&error) || !settings.pores.IsValid(&error) ||
       !settings.equilibrate.IsValid(&error) || !settings.reduce.IsValid(&error)) {
