@@ -178,8 +178,8 @@ class AutoDiffModel final : public Model {
       return true;
     }
     if (x0_jacobian == nullptr) {
-      return JetResiduals<kNumParameters>(params, observations, count, context, residuals,
-                                          jacobian, nullptr);
+      return JetResiduals<kNumParameters>(params, observations, count, context, residuals, jacobian,
+                                          nullptr);
     }
     return JetResiduals<kNumParameters + 1>(params, observations, count, context, residuals,
                                             jacobian, x0_jacobian);

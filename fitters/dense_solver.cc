@@ -78,76 +78,154 @@ DenseLevenbergMarquardt::DenseLevenbergMarquardt(const Model& model, const Model
     }
   }
   const int p = num_parameters_;
-  x_.resize(p);
-  candidate_.resize(p);
-  step_.resize(p);
-  gradient_.resize(p);
-  scaling_.resize(p);
-  lm_diagonal_squared_.resize(p);
+  for (Eigen::VectorXd* v : {&x_, &candidate_x_, &gradient_x_, &scaling_x_, &diagonal_x_, &step_x_})
+    v->resize(p);
 }
 
-void DenseLevenbergMarquardt::Resize(int num_residuals) {
-  if (num_residuals == num_residuals_) return;
-  num_residuals_ = num_residuals;
-  const int n = num_residuals;
+void DenseLevenbergMarquardt::Resize(int num_points, int num_true_x) {
+  if (num_points == num_points_ && num_true_x == num_true_x_) return;
+  num_points_ = num_points;
+  num_true_x_ = num_true_x;
+  const int n = num_points;
+  const int q = num_true_x;
   const int p = num_parameters_;
-  residuals_.resize(n);
-  candidate_residuals_.resize(n);
-  model_residuals_.resize(n);
+  for (Eigen::VectorXd* v : {&ry_, &candidate_ry_, &slope_, &candidate_slope_, &model_ry_})
+    v->resize(n);
+  for (Eigen::VectorXd* v : {&t_, &candidate_t_, &rx_, &candidate_rx_, &gradient_t_, &scaling_t_,
+                             &diagonal_t_, &step_t_, &model_rx_, &x_residual_jacobian_})
+    v->resize(q);
   jacobian_.resize(n, p);
   candidate_jacobian_.resize(n, p);
-  scaled_jacobian_.resize(n, p);
-  augmented_.setZero(n + p, p);
-  augmented_rhs_.setZero(n + p);
+  // One row per point (a fitted x[0] eliminated), p damping rows.
+  reduced_.resize(n + p, p);
+  reduced_rhs_.resize(n + p);
+  point_of_true_x_.resize(static_cast<std::size_t>(q));
 }
 
 void DenseLevenbergMarquardt::Clamp(Eigen::VectorXd* x) const {
-  // As Ceres' bounded Plus: only bounds that are ordered are applied (FitWorkspace sets the
-  // finite ones; an infinite bound clamps nothing).
   for (int j = 0; j < num_parameters_; ++j) {
     if (lower_[j] <= upper_[j]) (*x)[j] = std::clamp((*x)[j], lower_[j], upper_[j]);
   }
 }
 
 DenseLevenbergMarquardt::Evaluation DenseLevenbergMarquardt::EvaluateCandidate(
-    const Eigen::VectorXd& x) {
-  const std::vector<Observation>& data = *data_;
-  if (model_.WeightedResiduals(x.data(), data.data(), data.size(), context_,
-                               candidate_residuals_.data(), candidate_jacobian_.data())) {
+    const Eigen::VectorXd& x, const Eigen::VectorXd& t) {
+  const int q = num_true_x_;
+  for (int k = 0; k < q; ++k) {
+    const std::size_t i = static_cast<std::size_t>(point_of_true_x_[static_cast<std::size_t>(k)]);
+    evaluated_[i].x[0] = t[k];
+    candidate_rx_[k] = (observed_x0_[static_cast<std::size_t>(k)] - t[k]) / evaluated_[i].sigma_x0;
+  }
+  const std::size_t n = evaluated_.size();
+  double* slopes = q > 0 ? candidate_slope_.data() : nullptr;
+  if (model_.WeightedResiduals(x.data(), evaluated_.data(), n, context_, candidate_ry_.data(),
+                               candidate_jacobian_.data(), slopes)) {
+    if (q == 0) candidate_slope_.setZero();
     return Evaluation::kResidualsAndJacobian;
   }
   // Tell a non-finite Jacobian from non-finite residuals (rare; Ceres evaluates the cost of a
   // candidate without its Jacobian and fails only when an accepted point has none).
-  return model_.WeightedResiduals(x.data(), data.data(), data.size(), context_,
-                                  candidate_residuals_.data(), nullptr)
+  return model_.WeightedResiduals(x.data(), evaluated_.data(), n, context_, candidate_ry_.data(),
+                                  nullptr, nullptr)
              ? Evaluation::kResidualsOnly
              : Evaluation::kFailed;
 }
 
 void DenseLevenbergMarquardt::AcceptCandidate() {
-  residuals_.swap(candidate_residuals_);
+  x_.swap(candidate_x_);
+  t_.swap(candidate_t_);
+  ry_.swap(candidate_ry_);
+  rx_.swap(candidate_rx_);
   jacobian_.swap(candidate_jacobian_);
-  gradient_.noalias() = jacobian_.transpose() * residuals_;
+  slope_.swap(candidate_slope_);
+  gradient_x_.noalias() = jacobian_.transpose() * ry_;
+  for (int k = 0; k < num_true_x_; ++k) {
+    const int i = point_of_true_x_[static_cast<std::size_t>(k)];
+    gradient_t_[k] = slope_[i] * ry_[i] + x_residual_jacobian_[k] * rx_[k];
+  }
 }
 
-double DenseLevenbergMarquardt::ProjectedGradientMaxNorm(const Eigen::VectorXd& x) const {
+double DenseLevenbergMarquardt::Cost(const Eigen::VectorXd& ry, const Eigen::VectorXd& rx) const {
+  return 0.5 * (ry.squaredNorm() + rx.squaredNorm());
+}
+
+double DenseLevenbergMarquardt::ProjectedGradientMaxNorm() const {
   double norm = 0.0;
   for (int j = 0; j < num_parameters_; ++j) {
-    double moved = x[j] - gradient_[j];
+    double moved = x_[j] - gradient_x_[j];
     if (lower_[j] <= upper_[j]) moved = std::clamp(moved, lower_[j], upper_[j]);
-    norm = std::max(norm, std::abs(x[j] - moved));
+    norm = std::max(norm, std::abs(x_[j] - moved));
   }
+  for (int k = 0; k < num_true_x_; ++k) norm = std::max(norm, std::abs(gradient_t_[k]));
   return norm;
 }
 
+void DenseLevenbergMarquardt::ComputeStep(double radius) {
+  const int n = num_points_;
+  const int p = num_parameters_;
+  // Rows of the scaled Jacobian: a_i = dr_yi/dp * scaling_x, b_i = dr_yi/dt_i * scaling_t,
+  // c_i = dr_xi/dt_i * scaling_t, damping d_i = sqrt(diagonal_t / radius).
+  int row = 0;
+  int k = 0;
+  const int m = static_cast<int>(reduced_.rows());
+  for (int i = 0; i < n; ++i) {
+    const bool fitted_x = k < num_true_x_ && point_of_true_x_[static_cast<std::size_t>(k)] == i;
+    if (!fitted_x) {
+      for (int j = 0; j < p; ++j) reduced_(row, j) = jacobian_(i, j) * scaling_x_[j];
+      reduced_rhs_[row] = -ry_[i];
+      ++row;
+      continue;
+    }
+    const double b = slope_[i] * scaling_t_[k];
+    const double c = x_residual_jacobian_[k] * scaling_t_[k];
+    const double d = std::sqrt(diagonal_t_[k] / radius);
+    const double h = b * b + c * c + d * d;
+    // Minimised over s_t, the three rows (y, x, damping) of the point leave ||P v||^2, P = I -
+    // w w' / h the projection onto the complement of w = (b, c, d) and v = (a s_p + r_y, r_x,
+    // 0) = e_1 (a s_p) + v0. As a function of u = a s_p that is gamma u^2 + 2 beta u + const
+    // with gamma = e_1' P e_1 = (c^2 + d^2) / h > 0 and beta = e_1' P v0: one row
+    // sqrt(gamma) a, right-hand side -beta / sqrt(gamma).
+    const double gamma = (c * c + d * d) / h;
+    const double beta = ry_[i] - b * (b * ry_[i] + c * rx_[k]) / h;
+    const double root_gamma = std::sqrt(gamma);
+    for (int j = 0; j < p; ++j) reduced_(row, j) = root_gamma * jacobian_(i, j) * scaling_x_[j];
+    reduced_rhs_[row] = -beta / root_gamma;
+    ++row;
+    ++k;
+  }
+  for (int j = 0; j < p; ++j) {
+    for (int jj = 0; jj < p; ++jj) reduced_(row + j, jj) = 0.0;
+    reduced_(row + j, j) = std::sqrt(diagonal_x_[j] / radius);
+    reduced_rhs_[row + j] = 0.0;
+  }
+  SolveLeastSquaresByHouseholderQr(m, p, reduced_.data(), reduced_rhs_.data(), step_x_.data());
+  // Back-substitution of the eliminated steps: s_t = -(b (a s_p + r_y) + c r_x) / h.
+  for (k = 0; k < num_true_x_; ++k) {
+    const int i = point_of_true_x_[static_cast<std::size_t>(k)];
+    const double b = slope_[i] * scaling_t_[k];
+    const double c = x_residual_jacobian_[k] * scaling_t_[k];
+    const double d = std::sqrt(diagonal_t_[k] / radius);
+    const double h = b * b + c * c + d * d;
+    double a_dot_s = 0.0;
+    for (int j = 0; j < p; ++j) a_dot_s += jacobian_(i, j) * scaling_x_[j] * step_x_[j];
+    step_t_[k] = -(b * (a_dot_s + ry_[i]) + c * rx_[k]) / h;
+  }
+}
+
 DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>& data,
-                                                 std::vector<double>* parameters) {
+                                                 const std::vector<char>& eiv,
+                                                 std::vector<double>* parameters,
+                                                 std::vector<double>* x0_true) {
   DenseSolveOutcome outcome;
   const int p = num_parameters_;
   const int n = static_cast<int>(data.size());
-  if (static_cast<int>(parameters->size()) != p || n < 1) {
+  int q = 0;
+  for (int i = 0; i < n && i < static_cast<int>(eiv.size()); ++i)
+    q += eiv[static_cast<std::size_t>(i)] ? 1 : 0;
+  if (static_cast<int>(parameters->size()) != p || n < 1 ||
+      (q > 0 && (x0_true == nullptr || static_cast<int>(x0_true->size()) != n))) {
     outcome.failed = true;
-    outcome.message = "no parameters or no data";
+    outcome.message = "no parameters, no data or no true x[0]";
     return outcome;
   }
   if (!bounds_ordered_) {
@@ -156,13 +234,28 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
     outcome.message = "a lower bound exceeds its upper bound";
     return outcome;
   }
-  data_ = &data;
-  Resize(n);
-  for (int j = 0; j < p; ++j) x_[j] = (*parameters)[static_cast<std::size_t>(j)];
-  Clamp(&x_);
+  Resize(n, q);
+  evaluated_ = data;
+  observed_x0_.resize(static_cast<std::size_t>(q));
+  for (int i = 0, k = 0; i < n; ++i) {
+    if (i >= static_cast<int>(eiv.size()) || !eiv[static_cast<std::size_t>(i)]) continue;
+    const Observation& o = data[static_cast<std::size_t>(i)];
+    point_of_true_x_[static_cast<std::size_t>(k)] = i;
+    observed_x0_[static_cast<std::size_t>(k)] = o.x[0];
+    x_residual_jacobian_[k] = -1.0 / o.sigma_x0;
+    candidate_t_[k] = (*x0_true)[static_cast<std::size_t>(i)];
+    ++k;
+  }
+  for (int j = 0; j < p; ++j) candidate_x_[j] = (*parameters)[static_cast<std::size_t>(j)];
+  Clamp(&candidate_x_);
+  x_ = candidate_x_;
+  t_ = candidate_t_;
   int steps = 0;
   const auto finish = [&](bool converged, bool failed, const char* message) {
     for (int j = 0; j < p; ++j) (*parameters)[static_cast<std::size_t>(j)] = x_[j];
+    for (int k = 0; k < num_true_x_; ++k) {
+      (*x0_true)[static_cast<std::size_t>(point_of_true_x_[static_cast<std::size_t>(k)])] = t_[k];
+    }
     outcome.converged = converged;
     outcome.failed = failed;
     if (failed) outcome.cost = std::numeric_limits<double>::infinity();
@@ -171,16 +264,20 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
     return outcome;
   };
 
-  if (EvaluateCandidate(x_) != Evaluation::kResidualsAndJacobian) {
+  if (EvaluateCandidate(candidate_x_, candidate_t_) != Evaluation::kResidualsAndJacobian) {
     return finish(false, true, "Residual and Jacobian evaluation failed at the start point.");
   }
   AcceptCandidate();
-  double cost = 0.5 * residuals_.squaredNorm();
+  double cost = Cost(ry_, rx_);
   outcome.cost = cost;
   // Jacobi scaling, fixed at the start point.
-  for (int j = 0; j < p; ++j) scaling_[j] = 1.0 / (1.0 + jacobian_.col(j).norm());
-  scaled_jacobian_ = jacobian_ * scaling_.asDiagonal();
-  if (ProjectedGradientMaxNorm(x_) <= options_.gradient_tolerance) {
+  for (int j = 0; j < p; ++j) scaling_x_[j] = 1.0 / (1.0 + jacobian_.col(j).norm());
+  for (int k = 0; k < q; ++k) {
+    const double b = slope_[point_of_true_x_[static_cast<std::size_t>(k)]];
+    scaling_t_[k] =
+        1.0 / (1.0 + std::sqrt(b * b + x_residual_jacobian_[k] * x_residual_jacobian_[k]));
+  }
+  if (ProjectedGradientMaxNorm() <= options_.gradient_tolerance) {
     return finish(true, false, "Gradient tolerance reached (dense solver).");
   }
 
@@ -195,26 +292,30 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
     }
     ++steps;
 
-    // Levenberg-Marquardt step: min ||Js s + r||^2 + ||D s||^2 by QR of [Js; D].
     if (!reuse_diagonal) {
       for (int j = 0; j < p; ++j) {
-        lm_diagonal_squared_[j] =
-            std::clamp(scaled_jacobian_.col(j).squaredNorm(), kMinLmDiagonal, kMaxLmDiagonal);
+        diagonal_x_[j] = std::clamp(jacobian_.col(j).squaredNorm() * scaling_x_[j] * scaling_x_[j],
+                                    kMinLmDiagonal, kMaxLmDiagonal);
+      }
+      for (int k = 0; k < q; ++k) {
+        const double b = slope_[point_of_true_x_[static_cast<std::size_t>(k)]] * scaling_t_[k];
+        const double c = x_residual_jacobian_[k] * scaling_t_[k];
+        diagonal_t_[k] = std::clamp(b * b + c * c, kMinLmDiagonal, kMaxLmDiagonal);
       }
     }
-    augmented_.topRows(n) = scaled_jacobian_;
-    augmented_.bottomRows(p).setZero();
-    for (int j = 0; j < p; ++j) augmented_(n + j, j) = std::sqrt(lm_diagonal_squared_[j] / radius);
-    augmented_rhs_.head(n) = residuals_;
-    augmented_rhs_.tail(p).setZero();
-    SolveLeastSquaresByHouseholderQr(n + p, p, augmented_.data(), augmented_rhs_.data(),
-                                     step_.data());
-    step_ = -step_;
+    ComputeStep(radius);
 
+    // Model decrease -m'(r + m/2), m = J_scaled * step.
     double model_cost_change = -std::numeric_limits<double>::infinity();
-    if (step_.allFinite()) {
-      model_residuals_.noalias() = scaled_jacobian_ * step_;
-      model_cost_change = -model_residuals_.dot(residuals_ + 0.5 * model_residuals_);
+    if (step_x_.allFinite() && step_t_.allFinite()) {
+      model_ry_.noalias() = jacobian_ * scaling_x_.cwiseProduct(step_x_);
+      for (int k = 0; k < q; ++k) {
+        const int i = point_of_true_x_[static_cast<std::size_t>(k)];
+        model_ry_[i] += slope_[i] * scaling_t_[k] * step_t_[k];
+        model_rx_[k] = x_residual_jacobian_[k] * scaling_t_[k] * step_t_[k];
+      }
+      model_cost_change =
+          -model_ry_.dot(ry_ + 0.5 * model_ry_) - model_rx_.dot(rx_ + 0.5 * model_rx_);
     }
     if (!(model_cost_change > 0.0 && std::isfinite(model_cost_change))) {
       // Invalid step: shrink the trust region as for a rejected step.
@@ -231,17 +332,20 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
     }
     consecutive_invalid_steps = 0;
 
-    candidate_ = x_ + scaling_.cwiseProduct(step_);
-    Clamp(&candidate_);
+    candidate_x_ = x_ + scaling_x_.cwiseProduct(step_x_);
+    Clamp(&candidate_x_);
+    candidate_t_ = t_ + scaling_t_.cwiseProduct(step_t_);
     // The Jacobian is evaluated with the residuals: most steps are accepted, and the value
     // comes with it at little extra cost.
-    const Evaluation evaluation = EvaluateCandidate(candidate_);
+    const Evaluation evaluation = EvaluateCandidate(candidate_x_, candidate_t_);
     const double candidate_cost = evaluation == Evaluation::kFailed
                                       ? std::numeric_limits<double>::max()
-                                      : 0.5 * candidate_residuals_.squaredNorm();
+                                      : Cost(candidate_ry_, candidate_rx_);
 
-    if ((x_ - candidate_).norm() <=
-        options_.parameter_tolerance * (x_.norm() + options_.parameter_tolerance)) {
+    const double step_norm =
+        std::sqrt((x_ - candidate_x_).squaredNorm() + (t_ - candidate_t_).squaredNorm());
+    const double x_norm = std::sqrt(x_.squaredNorm() + t_.squaredNorm());
+    if (step_norm <= options_.parameter_tolerance * (x_norm + options_.parameter_tolerance)) {
       return finish(true, false, "Parameter tolerance reached (dense solver).");
     }
     const double cost_change = cost - candidate_cost;
@@ -251,19 +355,19 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
 
     const double relative_decrease = cost_change / model_cost_change;
     if (relative_decrease > kMinRelativeDecrease) {
-      x_ = candidate_;
       if (evaluation != Evaluation::kResidualsAndJacobian) {
+        x_ = candidate_x_;
+        t_ = candidate_t_;
         return finish(false, true, "Jacobian evaluation failed at an accepted point.");
       }
       AcceptCandidate();
       cost = candidate_cost;
       outcome.cost = cost;
-      scaled_jacobian_ = jacobian_ * scaling_.asDiagonal();
       const double shape = 2.0 * relative_decrease - 1.0;
       radius = std::min(max_radius, radius / std::max(1.0 / 3.0, 1.0 - shape * shape * shape));
       decrease_factor = 2.0;
       reuse_diagonal = false;
-      if (ProjectedGradientMaxNorm(x_) <= options_.gradient_tolerance) {
+      if (ProjectedGradientMaxNorm() <= options_.gradient_tolerance) {
         return finish(true, false, "Gradient tolerance reached (dense solver).");
       }
     } else {

@@ -183,12 +183,15 @@ void FitWorkspace::SetState(const std::vector<double>& parameters,
 SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
                                  const std::vector<double>* x0_start) {
   SetState(ClampToBounds(start), x0_start);
-  if (dense_solver_ != nullptr && num_errors_in_variables() == 0) {
+  if (dense_solver_ != nullptr) {
     std::vector<double>& solution = dense_scratch_;
+    std::vector<double>& x0_solution = dense_x0_scratch_;
     solution = parameters_;
-    const DenseSolveOutcome dense = dense_solver_->Solve(data_, &solution);
+    x0_solution = x0_true_;
+    const DenseSolveOutcome dense = dense_solver_->Solve(data_, eiv_, &solution, &x0_solution);
     if (!dense.failed) {
       std::copy(solution.begin(), solution.end(), parameters_.begin());
+      std::copy(x0_solution.begin(), x0_solution.end(), x0_true_.begin());
       SolveOutcome outcome;
       outcome.converged = dense.converged;
       outcome.cost = dense.cost;
@@ -296,6 +299,34 @@ bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* e
 
   DiagonalScaleManifold manifold(scale);
   problem_->SetManifold(params, &manifold);
+  // Errors in variables: the fitted true x of each point is a parameter block of its own.
+  // Ceres' rank test runs over every block, so scale those columns to unit norm as well
+  // (their raw norms, |f'(x)|/sigma_y and 1/sigma_x, can exceed the parameter columns by
+  // many decades and would fail the test although the problem is well posed).
+  std::vector<double*> x_blocks;
+  for (std::size_t i = 0; i < x0_true_.size(); ++i) {
+    if (eiv_[i] != 0 && problem_->HasParameterBlock(&x0_true_[i])) x_blocks.push_back(&x0_true_[i]);
+  }
+  std::vector<std::unique_ptr<DiagonalScaleManifold>> x_manifolds;
+  if (!x_blocks.empty()) {
+    ceres::Problem::EvaluateOptions x_options;
+    x_options.parameter_blocks = x_blocks;
+    x_options.num_threads = 1;
+    ceres::CRSMatrix x_jacobian;
+    if (problem_->Evaluate(x_options, nullptr, nullptr, nullptr, &x_jacobian)) {
+      std::vector<double> x_norm(x_blocks.size(), 0.0);
+      for (std::size_t k = 0; k < x_jacobian.values.size(); ++k) {
+        const double v = x_jacobian.values[k];
+        x_norm[static_cast<std::size_t>(x_jacobian.cols[k])] += v * v;
+      }
+      for (std::size_t b = 0; b < x_blocks.size(); ++b) {
+        const double norm = std::sqrt(x_norm[b]);
+        if (!(norm > 0.0) || !std::isfinite(norm)) continue;
+        x_manifolds.push_back(std::make_unique<DiagonalScaleManifold>(std::vector<double>{1.0 / norm}));
+        problem_->SetManifold(x_blocks[b], x_manifolds.back().get());
+      }
+    }
+  }
   ceres::Covariance::Options covariance_options;
   covariance_options.algorithm_type = ceres::DENSE_SVD;
   covariance_options.min_reciprocal_condition_number =
@@ -313,6 +344,7 @@ bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* e
     *covariance = block;
   }
   problem_->SetManifold(params, nullptr);
+  for (double* block : x_blocks) problem_->SetManifold(block, nullptr);
   if (!ok) {
     *error = fmt::format(
         "the Jacobian is rank deficient or too ill-conditioned at the solution "

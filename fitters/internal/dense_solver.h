@@ -24,11 +24,11 @@
 // Errors in variables: point i with a fitted true x[0] = t_i has the residuals
 // r_yi = (y_i - f(t_i; p)) / sigma_y_i and r_xi = (x0_i - t_i) / sigma_x0_i, and t_i enters no
 // other residual. Its step is eliminated exactly: for a fixed parameter step s_p, the three rows
-// of point i (y, x and its damping row) are minimised over s_ti in closed form, which leaves
-// the projection of those rows onto the complement of the t_i column -- three rows in s_p only
-// (the variable projection of G. H. Golub and V. Pereyra, SIAM J. Numer. Anal. 10 (1973) 413,
-// applied to one variable per point). The reduced problem has p columns however many points
-// there are; s_ti follows by back-substitution.
+// of point i (y, x and its damping row) are minimised over s_ti in closed form (the variable
+// projection of G. H. Golub and V. Pereyra, SIAM J. Numer. Anal. 10 (1973) 413, applied to one
+// variable per point), which leaves a quadratic in a_i s_p alone: one row per point. The
+// reduced problem has n + p rows and p columns however many x[0] are fitted; s_ti follows by
+// back-substitution.
 #pragma once
 
 #include <Eigen/Core>
@@ -95,6 +95,7 @@ class DenseLevenbergMarquardt {
   int num_true_x_ = -1;
   std::vector<int> point_of_true_x_;     // t index -> point index
   std::vector<Observation> evaluated_;   // the data with x[0] = t_i where fitted
+  std::vector<double> observed_x0_;      // x[0] as observed, per fitted true x[0]
   Eigen::VectorXd x_residual_jacobian_;  // dr_xi / dt_i = -1 / sigma_x0_i
 
   // State and work storage (sized by Resize).

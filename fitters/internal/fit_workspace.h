@@ -1,9 +1,9 @@
 // One ceres::Problem over a data set, re-solved from many starts and for many resampled data
 // sets without rebuilding it: the residuals read the observations by pointer (when the model
-// supports it), so the data can be edited in place. Squared-loss problems without errors in
-// variables and with monotonic steps are solved by DenseLevenbergMarquardt (Ceres' method
-// written out for small dense problems, internal/dense_solver.h) and by Ceres only if that
-// solve fails numerically. Internal to fitters/.
+// supports it), so the data can be edited in place. Squared-loss problems with monotonic steps
+// (with or without errors in variables) are solved by DenseLevenbergMarquardt (Ceres' method
+// written out for small problems, internal/dense_solver.h) and by Ceres only if that solve
+// fails numerically; the covariance always comes from the ceres::Problem. Internal to fitters/.
 #pragma once
 
 #include <ceres/ceres.h>
@@ -77,7 +77,8 @@ class FitWorkspace {
   ceres::Solver::Options solver_options_;
   // Set when the options allow the dense solver (used while no point has errors in variables).
   std::unique_ptr<DenseLevenbergMarquardt> dense_solver_;
-  std::vector<double> dense_scratch_;  // the dense solver's iterate
+  std::vector<double> dense_scratch_;     // the dense solver's iterate
+  std::vector<double> dense_x0_scratch_;  // and its true x[0]
 };
 
 }  // namespace sorbtrace::fitters::internal

@@ -396,9 +396,10 @@ void ModelsSection(Context& ctx) {
                 8.0, 0.0, palette::kSlate);
   const double w = doc.width();
   std::vector<TableColumn> columns = {
-      {"Model", w * 0.20, false}, {"Parameters ± U", w * 0.33, false}, {"RMSE", w * 0.085, true},
-      {"MRD", w * 0.07, true},    {"AICc", w * 0.075, true},           {"BIC", w * 0.075, true},
-      {"Rank", w * 0.045, true},  {"Flags", w * 0.12, false}};
+      {"Model", w * 0.20, false}, {"Parameters ± U", w * 0.32, false},
+      {"RMSE", w * 0.095, true},  {"MRD", w * 0.065, true},
+      {"AICc", w * 0.07, true},   {"BIC", w * 0.07, true},
+      {"Rank", w * 0.05, true},   {"Flags", w * 0.13, false}};
   std::vector<std::vector<std::string>> rows;
   for (const ModelRow& row : ctx.sheet.models) {
     std::string parameters;
@@ -408,8 +409,10 @@ void ModelsSection(Context& ctx) {
     for (const std::string& c : row.correlations) parameters += "\n" + c;
     std::string flags;
     for (const std::string& f : row.flags) flags += (flags.empty() ? "" : "; ") + f;
-    rows.push_back({row.model_title + "\n" + row.group_label, parameters, row.rmse_text,
-                    row.mrd_text, row.aicc_text, row.bic_text,
+    const bool stats = row.converged;  // a failed fit has no statistics to compare
+    rows.push_back({row.model_title + "\n" + row.group_label, parameters,
+                    stats ? row.rmse_text : "–", stats ? row.mrd_text : "–",
+                    stats ? row.aicc_text : "–", stats ? row.bic_text : "–",
                     row.rank > 0 ? std::to_string(row.rank) : "–", flags.empty() ? "–" : flags});
   }
   doc.Table(columns, rows, 7.0);
@@ -496,6 +499,10 @@ void PoresSection(Context& ctx) {
   const double x = doc.left() + fig_width + 10.0;
   c.Text(x, y, "Assumptions", 8.5, Canvas::Align::kLeft, true, palette::kTeal);
   y -= 12.0;
+  const double column_bottom = top - 2 * height;
+  bool column_full = false;
+  std::vector<std::string> all_assumptions;  // every stated assumption, once, below the table
+  std::set<std::string> seen_assumptions;
   for (const pores::PoreDistribution& pd : pa.distributions) {
     std::vector<std::string> items = {
         fmt::format("{} ({}, {})", pd.method, BranchLabel(pd.branch),
@@ -508,14 +515,24 @@ void PoresSection(Context& ctx) {
                     FormatSignificant(pd.resolved_radius_max_m * kRadius, 3)),
         fmt::format("adsorbed below: {} mm³/g",
                     FormatSignificant(pd.adsorbed_volume_m3_per_kg * kVolume, 3))};
-    for (const std::string& a : pd.assumptions) items.push_back(a);
-    for (size_t i = 0; i < items.size(); ++i) {
+    for (size_t i = 0; i < items.size() && !column_full; ++i) {
       for (const std::string& line : c.Wrap(items[i], 7.0, side - 8.0)) {
+        if (y < column_bottom) {
+          column_full = true;
+          break;
+        }
         c.Text(x + (i == 0 ? 0.0 : 6.0), y, line, 7.0, Canvas::Align::kLeft, i == 0);
         y -= 8.8;
       }
     }
     y -= 6.0;
+    for (const std::string& a : pd.assumptions) {
+      if (seen_assumptions.insert(a).second) all_assumptions.push_back(a);
+    }
+  }
+  if (column_full) {
+    c.Text(x, column_bottom - 8.8, "(continued below the table)", 7.0, Canvas::Align::kLeft, false,
+           palette::kSlate);
   }
   doc.set_cursor(top - 2 * height - 8.0);
 
@@ -561,6 +578,10 @@ void PoresSection(Context& ctx) {
   if (!rows.empty()) {
     const double w = doc.width();
     doc.Table({{"Quantity", w * 0.45, false}, {"Value ± U", w * 0.55, false}}, rows, 7.5);
+  }
+  if (!all_assumptions.empty()) {
+    doc.Subheading("Assumptions of the Kelvin inversion, as stated by the analysis");
+    doc.Bullets(all_assumptions, 7.5);
   }
 }
 

@@ -9,6 +9,7 @@
 #include <unistd.h>
 
 #include <chrono>
+#include <cmath>
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
@@ -83,6 +84,66 @@ TEST_F(RunE2eTest, EveryDemoJobIssuesAFolderThatVerifies) {
     EXPECT_EQ(verified.exit_code, 0) << verified.output;
     EXPECT_NE(verified.output.find("0 mismatch"), std::string::npos) << verified.output;
   }
+}
+
+double Gab(double a, double xm, double c, double k) {
+  return xm * c * k * a / ((1 - k * a) * (1 - k * a + c * k * a));
+}
+
+// The demo data were generated from known GAB isotherms (example_inputs/truth.json, written
+// by scripts/generate_examples.cc with its noise and kinetics). The issued results must
+// recover that truth within their own reported expanded uncertainties (k = 2): the GAB
+// parameters of every branch and temperature, and the moisture content at the reference
+// conditions of the same temperature.
+TEST_F(RunE2eTest, ResultsRecoverTheTruthBehindTheDemoDataWithinTheirUncertainties) {
+  const auto truth = nlohmann::json::parse(ReadWholeFile(root_ / "inputs" / "truth.json"));
+  int parameters_checked = 0;
+  int references_checked = 0;
+  for (const auto& scenario : truth["scenarios"]) {
+    const std::string name = scenario["scenario"];
+    const fs::path out = root_ / "out" / name;
+    const Run made = Sorbtrace("make " + (root_ / "inputs" / name / "job.toml").string() +
+                               " --out " + out.string() + " -q");
+    ASSERT_EQ(made.exit_code, 0) << name << made.output;
+    const auto results = nlohmann::json::parse(ReadWholeFile(out / "results.json"));
+    const auto& groups = results["fits"]["groups"];
+    auto truth_for = [&](const std::string& branch, double temperature_K) -> const nlohmann::json* {
+      for (const auto& isotherm : scenario["isotherms"]) {
+        if (isotherm["branch"] == branch &&
+            std::abs(isotherm["temperature_C"].get<double>() + 273.15 - temperature_K) < 1.0) {
+          return &isotherm["gab"];
+        }
+      }
+      return nullptr;
+    };
+    for (const auto& fit : results["fits"]["models"]) {
+      if (fit["model"] != "gab") continue;
+      const auto& group = groups[fit["group_index"].get<size_t>()];
+      const nlohmann::json* gab = truth_for(group["branch"], group["temperature_K"]);
+      ASSERT_NE(gab, nullptr) << name << " " << group.dump();
+      const double expected[3] = {(*gab)["xm_kg_per_kg"], (*gab)["c"], (*gab)["k"]};
+      for (int i = 0; i < 3; ++i) {
+        const auto& parameter = fit["parameters"][static_cast<size_t>(i)];
+        EXPECT_LE(std::abs(parameter["value"].get<double>() - expected[i]),
+                  parameter["expanded_uncertainty"].get<double>())
+            << name << " " << group["label"] << " " << parameter["label"] << " = "
+            << parameter["text"] << ", truth " << expected[i];
+        ++parameters_checked;
+      }
+    }
+    for (const auto& reference : results["pores"]["reference_moisture"]) {
+      const nlohmann::json* gab = truth_for(reference["branch"], reference["temperature_K"]);
+      if (gab == nullptr) continue;  // reference temperature not measured (e.g. 23 C vs 25 C)
+      const double expected = Gab(reference["rh_fraction"], (*gab)["xm_kg_per_kg"], (*gab)["c"],
+                                  (*gab)["k"]);
+      EXPECT_LE(std::abs(reference["value"].get<double>() - expected),
+                reference["expanded_uncertainty"].get<double>())
+          << name << " " << reference["text"] << ", truth " << expected;
+      ++references_checked;
+    }
+  }
+  EXPECT_GE(parameters_checked, 3 * 8);  // 8 GAB fits across the four scenarios
+  EXPECT_GE(references_checked, 4);
 }
 
 TEST_F(RunE2eTest, SameInputsGiveByteIdenticalOutputs) {
