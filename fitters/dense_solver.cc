@@ -350,6 +350,13 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
     }
     const double cost_change = cost - candidate_cost;
     if (std::abs(cost_change) <= options_.function_tolerance * cost) {
+      // Ceres stops here at x. When the cost no longer tells the two points apart (its
+      // rounding, about 1e-16 relative, can exceed the change a parameter error of 1e-9 makes),
+      // the candidate, one more Levenberg-Marquardt step on, is the better estimate: take it.
+      if (evaluation == Evaluation::kResidualsAndJacobian) {
+        AcceptCandidate();
+        outcome.cost = candidate_cost;
+      }
       return finish(true, false, "Function tolerance reached (dense solver).");
     }
 

@@ -72,6 +72,7 @@ FitWorkspace::FitWorkspace(const Model& model, std::vector<Observation> observat
       data_(std::move(observations)),
       parameters_(static_cast<std::size_t>(model.num_parameters()), 0.0),
       x0_true_(data_.size(), 0.0),
+      state_(parameters_.size() + data_.size(), 0.0),
       eiv_(data_.size(), 0),
       loss_(MakeLoss(options.loss, options.loss_scale)) {
   for (std::size_t i = 0; i < data_.size(); ++i) {
@@ -108,7 +109,11 @@ void FitWorkspace::Build() {
   problem_options.loss_function_ownership = ceres::DO_NOT_TAKE_OWNERSHIP;
   problem_options.manifold_ownership = ceres::DO_NOT_TAKE_OWNERSHIP;
   problem_ = std::make_unique<ceres::Problem>(problem_options);
-  double* params = parameters_.data();
+  // The blocks live in one array, parameters first: Ceres' covariance orders blocks by
+  // address, so a fixed layout keeps its rounding (and the result) the same from run to run.
+  state_.resize(parameters_.size() + data_.size());
+  SyncToState();
+  double* params = state_.data();
   const int p = num_parameters();
   problem_->AddParameterBlock(params, p);
   if (options_.use_bounds) {
@@ -130,7 +135,7 @@ void FitWorkspace::Build() {
         referencing_ = false;
         cost = model_.NewErrorsInVariablesResidual(data_[i], context_);
       }
-      problem_->AddResidualBlock(cost, loss_.get(), params, &x0_true_[i]);
+      problem_->AddResidualBlock(cost, loss_.get(), params, TrueX0Block(i));
     } else {
       ceres::CostFunction* cost = model_.NewResidualReferencing(&data_[i], &context_);
       if (cost == nullptr) {
@@ -178,6 +183,21 @@ void FitWorkspace::SetState(const std::vector<double>& parameters,
                             const std::vector<double>* x0_true) {
   std::copy(parameters.begin(), parameters.end(), parameters_.begin());
   SetStartingX0(x0_true);
+  SyncToState();
+}
+
+double* FitWorkspace::TrueX0Block(std::size_t i) { return state_.data() + parameters_.size() + i; }
+
+void FitWorkspace::SyncToState() {
+  std::copy(parameters_.begin(), parameters_.end(), state_.begin());
+  std::copy(x0_true_.begin(), x0_true_.end(),
+            state_.begin() + static_cast<std::ptrdiff_t>(parameters_.size()));
+}
+
+void FitWorkspace::SyncFromState() {
+  const auto x0_begin = state_.begin() + static_cast<std::ptrdiff_t>(parameters_.size());
+  std::copy(state_.begin(), x0_begin, parameters_.begin());
+  std::copy(x0_begin, state_.end(), x0_true_.begin());
 }
 
 SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
@@ -192,6 +212,7 @@ SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
     if (!dense.failed) {
       std::copy(solution.begin(), solution.end(), parameters_.begin());
       std::copy(x0_solution.begin(), x0_solution.end(), x0_true_.begin());
+      SyncToState();
       SolveOutcome outcome;
       outcome.converged = dense.converged;
       outcome.cost = dense.cost;
@@ -205,6 +226,7 @@ SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
   }
   ceres::Solver::Summary summary;
   ceres::Solve(solver_options_, problem_.get(), &summary);
+  SyncFromState();
   SolveOutcome outcome;
   outcome.converged = summary.termination_type == ceres::CONVERGENCE ||
                       summary.termination_type == ceres::USER_SUCCESS;
@@ -222,7 +244,8 @@ SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
 
 bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* error) {
   const int p = num_parameters();
-  double* params = parameters_.data();
+  SyncToState();
+  double* params = state_.data();
   // Column norms of the parameter Jacobian at the current state.
   ceres::Problem::EvaluateOptions evaluate_options;
   evaluate_options.parameter_blocks = {params};
@@ -305,7 +328,9 @@ bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* e
   // many decades and would fail the test although the problem is well posed).
   std::vector<double*> x_blocks;
   for (std::size_t i = 0; i < x0_true_.size(); ++i) {
-    if (eiv_[i] != 0 && problem_->HasParameterBlock(&x0_true_[i])) x_blocks.push_back(&x0_true_[i]);
+    if (eiv_[i] != 0 && problem_->HasParameterBlock(TrueX0Block(i))) {
+      x_blocks.push_back(TrueX0Block(i));
+    }
   }
   std::vector<std::unique_ptr<DiagonalScaleManifold>> x_manifolds;
   if (!x_blocks.empty()) {
@@ -322,7 +347,8 @@ bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* e
       for (std::size_t b = 0; b < x_blocks.size(); ++b) {
         const double norm = std::sqrt(x_norm[b]);
         if (!(norm > 0.0) || !std::isfinite(norm)) continue;
-        x_manifolds.push_back(std::make_unique<DiagonalScaleManifold>(std::vector<double>{1.0 / norm}));
+        x_manifolds.push_back(
+            std::make_unique<DiagonalScaleManifold>(std::vector<double>{1.0 / norm}));
         problem_->SetManifold(x_blocks[b], x_manifolds.back().get());
       }
     }

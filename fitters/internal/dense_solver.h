@@ -21,6 +21,14 @@
 //  - convergence: |x - x+| <= parameter_tolerance (|x| + parameter_tolerance); |cost - cost+| <=
 //    function_tolerance * cost; max-norm of the projected gradient x - clamp(x - J'r) <=
 //    gradient_tolerance; trust-region radius below 1e-32.
+// One deliberate difference: when the function tolerance ends the iteration, the candidate x+
+// (one more step on, its cost within the tolerance of the cost at x) is returned instead of x.
+// Near the optimum the cost stops resolving parameter changes (a 1e-9 parameter error changes
+// it by about 1e-18 relative, its rounding is 1e-16), so where Ceres returns a point whose
+// accuracy depends on rounding luck, this returns the refined one.
+// Ceres also runs a projected line search on each step of a bounded problem; here a step that
+// leaves the box is projected without it (the step quality test then judges the projected
+// step), so the paths of bounded problems can differ from Ceres' by more than rounding.
 // Errors in variables: point i with a fitted true x[0] = t_i has the residuals
 // r_yi = (y_i - f(t_i; p)) / sigma_y_i and r_xi = (x0_i - t_i) / sigma_x0_i, and t_i enters no
 // other residual. Its step is eliminated exactly: for a fixed parameter step s_p, the three rows

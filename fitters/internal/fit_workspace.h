@@ -68,10 +68,17 @@ class FitWorkspace {
   ModelContext context_;
   FitOptions options_;
   std::vector<Observation> data_;
+  // The Ceres parameter blocks: state_ = [parameters, x0_true of every point]; parameters_ and
+  // x0_true_ are copies kept in step with it.
+  double* TrueX0Block(std::size_t i);
+  void SyncToState();
+  void SyncFromState();
+
   std::vector<double> parameters_;
   std::vector<double> x0_true_;  // one per point; a parameter block only where eiv_[i]
-  std::vector<char> eiv_;        // point i fitted with errors in variables
-  bool referencing_ = true;      // residuals read data_ by pointer
+  std::vector<double> state_;
+  std::vector<char> eiv_;    // point i fitted with errors in variables
+  bool referencing_ = true;  // residuals read data_ by pointer
   std::unique_ptr<ceres::LossFunction> loss_;
   std::unique_ptr<ceres::Problem> problem_;
   ceres::Solver::Options solver_options_;

@@ -33,6 +33,11 @@ std::string CoverageText(double k) {
   return std::abs(k - std::round(k)) < 1e-9 ? FormatFixed(k, 0) : FormatSignificant(k, 2);
 }
 
+// "not available: <reason>", unless the reason says so already.
+std::string NotAvailable(const std::string& reason) {
+  return reason.rfind("not available", 0) == 0 ? reason : "not available: " + reason;
+}
+
 struct Context {
   const ReportInputs& inputs;
   const Template& layout;
@@ -546,7 +551,7 @@ void PoresSection(Context& ctx) {
   }
   for (const pores::Hysteresis& h : pa.hysteresis) {
     if (!h.available) {
-      rows.push_back({"Hysteresis", "not available: " + h.reason});
+      rows.push_back({"Hysteresis", NotAvailable(h.reason)});
       continue;
     }
     rows.push_back(
@@ -559,7 +564,7 @@ void PoresSection(Context& ctx) {
   }
   for (const pores::IsostericHeat& q : pa.isosteric_heat) {
     if (!q.available) {
-      rows.push_back({"Isosteric heat of sorption", "not available: " + q.reason});
+      rows.push_back({"Isosteric heat of sorption", NotAvailable(q.reason)});
       continue;
     }
     std::string text;
@@ -752,11 +757,14 @@ void MethodSection(Context& ctx) {
     }
   }
   const auto& settings = ctx.inputs.effective_settings;
-  if (settings.is_object() && settings.contains("equilibrium")) {
-    doc.Paragraph("Equilibrium criteria: " +
-                      settings["equilibrium"].dump(
-                          -1, ' ', false, nlohmann::ordered_json::error_handler_t::replace),
-                  8.0);
+  if (settings.is_object() && settings.contains("equilibrium") &&
+      settings["equilibrium"].is_object()) {
+    std::string criteria;
+    for (auto it = settings["equilibrium"].begin(); it != settings["equilibrium"].end(); ++it) {
+      criteria += (criteria.empty() ? "" : ", ") + it.key() + " = " +
+                  it.value().dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace);
+    }
+    doc.Paragraph("Equilibrium criteria: " + criteria + ".", 8.0);
   } else {
     doc.Paragraph(
         "Equilibrium criteria: as recorded under \"settings\" below (constant mass per "

@@ -18,11 +18,15 @@ struct AuditLine {
   bool passed = false;
 };
 
-// Relative tolerance for recomputed numbers. The pipeline is deterministic (seeded
-// resampling, fixed iteration order), so recomputation on the same build reproduces every
-// number to the last bit; the tolerance only absorbs differences of compiler or library
-// version between the issuing and the auditing machine.
-inline constexpr double kAuditRelativeTolerance = 1e-9;
+// Tolerance for recomputed numbers. The pipeline is deterministic (seeded resampling, fixed
+// iteration order, no threads inside a job), so a re-run reproduces the issued numbers to
+// about the last bit. "About": Eigen's vectorised reductions sum in an order that depends
+// on the alignment of heap buffers, which differs from one process history to another, and
+// in ill-conditioned differences (a band edge near zero) that rounding grows to ~1e-9
+// relative. 1e-6 relative is still four orders of magnitude finer than the two significant
+// digits of uncertainty printed on the sheet, so a real change to any reported number fails;
+// the printed texts themselves are compared exactly.
+inline constexpr double kAuditRelativeTolerance = 1e-6;
 inline constexpr double kAuditAbsoluteTolerance = 1e-300;
 
 std::vector<AuditLine> CompareResults(const nlohmann::json& reported,

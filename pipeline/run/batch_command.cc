@@ -62,29 +62,45 @@ std::string CsvField(const std::string& text) {
   return out + "\"";
 }
 
+// results.json "headline" is a list of {key, value, unit, expanded_uncertainty, text}; the
+// summary gets two columns per key: the value in its SI unit and its expanded uncertainty.
 std::string Summary(const std::vector<JobOutcome>& outcomes) {
-  // Headline columns: the union of headline keys, in first-seen order.
   std::vector<std::string> keys;
+  std::vector<std::string> units;
   for (const auto& outcome : outcomes) {
-    if (!outcome.headline.is_object()) continue;
-    for (const auto& [key, value] : outcome.headline.items()) {
-      if (std::find(keys.begin(), keys.end(), key) == keys.end()) keys.push_back(key);
+    if (!outcome.headline.is_array()) continue;
+    for (const auto& item : outcome.headline) {
+      const std::string key = item.value("key", "");
+      if (key.empty() || std::find(keys.begin(), keys.end(), key) != keys.end()) continue;
+      keys.push_back(key);
+      units.push_back(item.value("unit", ""));
     }
   }
   std::string csv = "job_file,job_id,status,exit_code,output_dir";
-  for (const auto& key : keys) csv += "," + CsvField(key);
+  for (size_t i = 0; i < keys.size(); ++i) {
+    const std::string unit = units[i].empty() || units[i] == "1" ? "" : " [" + units[i] + "]";
+    csv += "," + CsvField(keys[i] + unit) + "," + CsvField(keys[i] + " U" + unit);
+  }
   csv += ",message\n";
+  auto number = [](const nlohmann::json& value) {
+    return value.is_number() ? value.dump() : std::string();
+  };
   for (const auto& outcome : outcomes) {
     csv += CsvField(outcome.job_file) + "," + CsvField(outcome.job_id) + "," +
            (outcome.exit_code == 0 ? "ok" : "failed") + "," + std::to_string(outcome.exit_code) +
            "," + CsvField(outcome.output_dir);
     for (const auto& key : keys) {
-      std::string cell;
-      if (outcome.headline.is_object() && outcome.headline.contains(key)) {
-        const auto& value = outcome.headline[key];
-        cell = value.is_string() ? value.get<std::string>() : value.dump();
+      std::string value;
+      std::string uncertainty;
+      if (outcome.headline.is_array()) {
+        for (const auto& item : outcome.headline) {
+          if (item.value("key", "") != key) continue;
+          value = item.contains("value") ? number(item["value"]) : "";
+          if (value.empty() && item.contains("text")) value = item["text"].get<std::string>();
+          uncertainty = item.contains("expanded_uncertainty") ? number(item["expanded_uncertainty"]) : "";
+        }
       }
-      csv += "," + CsvField(cell);
+      csv += "," + CsvField(value) + "," + CsvField(uncertainty);
     }
     csv += "," + CsvField(outcome.message) + "\n";
   }

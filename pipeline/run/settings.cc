@@ -108,7 +108,12 @@ class TableReader {
     if (table_ == nullptr) return;
     for (const auto& [key, node] : *table_) {
       if (used_.count(std::string(key.str())) == 0) {
-        throw InputError(Where(&node), "unknown key " + Name(std::string(key.str())),
+        const SourceLocation where =
+            key.source().begin.line > 0
+                ? SourceLocation{file_, static_cast<int>(key.source().begin.line),
+                                 static_cast<int>(key.source().begin.column)}
+                : Where(&node);
+        throw InputError(where, "unknown key " + Name(std::string(key.str())),
                          "one of the documented keys of [" + name_ + "] (README, job file)");
       }
     }

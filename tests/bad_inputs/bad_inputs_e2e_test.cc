@@ -30,16 +30,16 @@ namespace fs = std::filesystem;
 
 const fs::path kBadInputs = fs::path(SORBTRACE_SOURCE_DIR) / "tests" / "bad_inputs";
 
-struct Run {
+struct Outcome {
   int exit_code = -1;
   std::string output;
 };
 
 // Runs the binary inside `dir` (so messages name files as the job writes them).
-Run Sorbtrace(const fs::path& dir, const std::string& arguments, bool with_stderr = true) {
+Outcome Sorbtrace(const fs::path& dir, const std::string& arguments, bool with_stderr = true) {
   const std::string command = "cd '" + dir.string() + "' && '" + SORBTRACE_BINARY + "' " +
                               arguments + (with_stderr ? " 2>&1" : " 2>/dev/null");
-  Run run;
+  Outcome run;
   FILE* pipe = popen(command.c_str(), "r");
   if (pipe == nullptr) return run;
   char buffer[4096];
@@ -147,7 +147,7 @@ TEST_P(BadInputTest, FailsWithALocatedMessageAndWritesNothing) {
   const fs::path out = root / "out";
   const std::string arguments =
       c.verb == "make" ? "make job.toml --out '" + out.string() + "' -q" : c.verb + " job.toml";
-  const Run run = Sorbtrace(in, arguments);
+  const Outcome run = Sorbtrace(in, arguments);
 
   EXPECT_EQ(run.exit_code, c.exit_code) << run.output;
   const Located error = FirstError(run.output);
@@ -203,7 +203,7 @@ std::vector<std::pair<double, double>> CheckedPoints(const std::string& name) {
   const fs::path root = FreshDir("good_" + name);
   fs::copy(kBadInputs / "corpus" / "good" / name, root / "in", fs::copy_options::recursive);
   const auto before = Snapshot(root / "in");
-  const Run run = Sorbtrace(root / "in", "check job.toml --json", /*with_stderr=*/false);
+  const Outcome run = Sorbtrace(root / "in", "check job.toml --json", /*with_stderr=*/false);
   std::vector<std::pair<double, double>> points;
   EXPECT_EQ(run.exit_code, 0) << name << "\n" << run.output;
   EXPECT_EQ(Snapshot(root / "in"), before) << name << ": inputs changed";
@@ -224,7 +224,7 @@ TEST_P(GoodInputTest, PassesCheckWithoutErrorsAndLeavesInputsAlone) {
   const fs::path root = FreshDir("good_text_" + GetParam());
   fs::copy(kBadInputs / "corpus" / "good" / GetParam(), root / "in", fs::copy_options::recursive);
   const auto before = Snapshot(root / "in");
-  const Run run = Sorbtrace(root / "in", "check job.toml");
+  const Outcome run = Sorbtrace(root / "in", "check job.toml");
   EXPECT_EQ(run.exit_code, 0) << run.output;
   EXPECT_EQ(run.output.find("error:"), std::string::npos) << run.output;
   EXPECT_EQ(Snapshot(root / "in"), before);
@@ -232,10 +232,9 @@ TEST_P(GoodInputTest, PassesCheckWithoutErrorsAndLeavesInputsAlone) {
   fs::remove_all(root);
 }
 
-INSTANTIATE_TEST_SUITE_P(Good, GoodInputTest, ::testing::ValuesIn(GoodCases()),
-                         [](const ::testing::TestParamInfo<std::string>& info) {
-                           return info.param;
-                         });
+std::string GoodName(const ::testing::TestParamInfo<std::string>& param) { return param.param; }
+
+INSTANTIATE_TEST_SUITE_P(Good, GoodInputTest, ::testing::ValuesIn(GoodCases()), GoodName);
 
 TEST(GoodInputTest, EveryVariantOfThePlainFileGivesTheSameMoistureContents) {
   // good/plain: dry mass 24.0000 g (job file); last weighings 24.2400 g over MgCl2 and
@@ -344,7 +343,7 @@ TEST(FuzzRegressionTest, EveryFindingEndsWithExitCode0Or3AndALocatedMessage) {
       const fs::path dir = FreshDir("regression_" + target + "_" + input.path().stem().string());
       ASSERT_TRUE(LayOut(target, ReadBytes(input.path()), dir)) << "unknown target " << target;
       const auto before = Snapshot(dir);
-      const Run run = Sorbtrace(dir, "check job.toml");
+      const Outcome run = Sorbtrace(dir, "check job.toml");
       SCOPED_TRACE(target + "/" + input.path().filename().string());
       EXPECT_TRUE(run.exit_code == 0 || run.exit_code == 3) << run.exit_code << "\n" << run.output;
       if (run.exit_code == 3) {

@@ -1,6 +1,7 @@
 #include "tests/report/pdf_tools.h"
 
 #include <gtest/gtest.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <cstdlib>
@@ -12,8 +13,20 @@ namespace sorbtrace::report::testing {
 namespace {
 
 std::filesystem::path TempDirectory() {
-  std::filesystem::path dir = std::filesystem::path(::testing::TempDir()) / "sorbtrace_report_test";
+  // One folder per process: ctest runs test cases in parallel processes.
+  std::filesystem::path dir = std::filesystem::path(::testing::TempDir()) /
+                              ("sorbtrace_report_test_" + std::to_string(::getpid()));
   std::filesystem::create_directories(dir);
+  // Removed when the test process ends (set SORBTRACE_KEEP_TEST_FILES=1 to look at them).
+  static const struct Cleanup {
+    std::filesystem::path path;
+    ~Cleanup() {
+      if (std::getenv("SORBTRACE_KEEP_TEST_FILES") == nullptr) {
+        std::error_code ignored;
+        std::filesystem::remove_all(path, ignored);
+      }
+    }
+  } cleanup{dir};
   return dir;
 }
 

@@ -26,14 +26,14 @@ namespace {
 
 namespace fs = std::filesystem;
 
-struct Run {
+struct CommandRun {
   int exit_code = -1;
   std::string output;  // stdout and stderr
 };
 
-Run Sorbtrace(const std::string& arguments) {
+CommandRun Sorbtrace(const std::string& arguments) {
   const std::string command = std::string(SORBTRACE_BINARY) + " " + arguments + " 2>&1";
-  Run run;
+  CommandRun run;
   FILE* pipe = popen(command.c_str(), "r");
   if (pipe == nullptr) return run;
   char buffer[4096];
@@ -74,13 +74,13 @@ TEST_F(RunE2eTest, EveryDemoJobIssuesAFolderThatVerifies) {
   ASSERT_GE(jobs.size(), 3u) << "example_inputs/ should hold the demo scenarios";
   for (const auto& job : jobs) {
     const fs::path out = root_ / "out" / job.parent_path().filename();
-    const Run made = Sorbtrace("make " + job.string() + " --out " + out.string() + " -q");
+    const CommandRun made = Sorbtrace("make " + job.string() + " --out " + out.string() + " -q");
     ASSERT_EQ(made.exit_code, 0) << job << "\n" << made.output;
     for (const char* name : {"datasheet.pdf", "results.json", "run.log"}) {
       EXPECT_TRUE(fs::exists(out / name)) << out / name;
     }
     EXPECT_LT(fs::file_size(out / "datasheet.pdf"), 500u * 1024u);  // issue target: < 500 KB
-    const Run verified = Sorbtrace("verify " + (out / "results.json").string());
+    const CommandRun verified = Sorbtrace("verify " + (out / "results.json").string());
     EXPECT_EQ(verified.exit_code, 0) << verified.output;
     EXPECT_NE(verified.output.find("0 mismatch"), std::string::npos) << verified.output;
   }
@@ -102,7 +102,7 @@ TEST_F(RunE2eTest, ResultsRecoverTheTruthBehindTheDemoDataWithinTheirUncertainti
   for (const auto& scenario : truth["scenarios"]) {
     const std::string name = scenario["scenario"];
     const fs::path out = root_ / "out" / name;
-    const Run made = Sorbtrace("make " + (root_ / "inputs" / name / "job.toml").string() +
+    const CommandRun made = Sorbtrace("make " + (root_ / "inputs" / name / "job.toml").string() +
                                " --out " + out.string() + " -q");
     ASSERT_EQ(made.exit_code, 0) << name << made.output;
     const auto results = nlohmann::json::parse(ReadWholeFile(out / "results.json"));
@@ -180,7 +180,7 @@ TEST_F(RunE2eTest, AuditFailsAfterOneInputByteChanges) {
   ASSERT_NE(digit, std::string::npos);
   content[digit] = content[digit] == '9' ? '8' : static_cast<char>(content[digit] + 1);
   std::ofstream(data, std::ios::binary) << content;
-  const Run verified = Sorbtrace("verify " + (out / "results.json").string());
+  const CommandRun verified = Sorbtrace("verify " + (out / "results.json").string());
   EXPECT_EQ(verified.exit_code, 5) << verified.output;
   EXPECT_NE(verified.output.find("CHANGED"), std::string::npos) << verified.output;
   EXPECT_NE(verified.output.find(fs::path(data_path).filename().string()), std::string::npos)
@@ -205,7 +205,7 @@ TEST_F(RunE2eTest, AuditFailsAfterOneReportedNumberChanges) {
   auto edited = flat;
   edited[changed_pointer] = flat[changed_pointer].get<double>() * 1.01;
   std::ofstream(out / "results.json") << edited.unflatten().dump(1);
-  const Run verified = Sorbtrace("verify " + (out / "results.json").string());
+  const CommandRun verified = Sorbtrace("verify " + (out / "results.json").string());
   EXPECT_EQ(verified.exit_code, 5) << verified.output;
   EXPECT_NE(verified.output.find("FAIL  " + changed_pointer), std::string::npos)
       << changed_pointer << "\n" << verified.output;
@@ -213,6 +213,7 @@ TEST_F(RunE2eTest, AuditFailsAfterOneReportedNumberChanges) {
 
 TEST_F(RunE2eTest, BatchReportsABrokenJobAndFinishesTheOthers) {
   const fs::path batch = root_ / "batch";
+  fs::create_directories(batch);
   for (const auto& job : Jobs()) {
     fs::copy(job.parent_path(), batch / job.parent_path().filename(), fs::copy_options::recursive);
   }
@@ -222,7 +223,7 @@ TEST_F(RunE2eTest, BatchReportsABrokenJobAndFinishesTheOthers) {
          "[measurement]\n[[specimen]]\nid = \"S1\"\ndry_mass_g = 1.0\n"
          "[[dataset]]\nid = \"d\"\nmethod = \"desiccator\"\nfile = \"missing.csv\"\n"
          "temperature_C = 23\n";
-  const Run run = Sorbtrace("batch " + batch.string() + " --out " + (root_ / "bout").string() + " -q -j 2");
+  const CommandRun run = Sorbtrace("batch " + batch.string() + " --out " + (root_ / "bout").string() + " -q -j 2");
   EXPECT_EQ(run.exit_code, 6) << run.output;
   const std::string summary = ReadWholeFile(root_ / "bout" / "summary.csv");
   size_t ok_rows = 0;
@@ -268,7 +269,7 @@ TEST_F(RunE2eTest, KilledRunLeavesTheEarlierOutputIntact) {
 TEST_F(RunE2eTest, BadJobGivesExitThreeAndWritesNothing) {
   const fs::path job = root_ / "bad.toml";
   std::ofstream(job) << "[job]\nid = \"B\"\nissue_date = \"2026-11-30\"\n[fit]\nnot_a_key = 1\n";
-  const Run run = Sorbtrace("make " + job.string() + " --out " + (root_ / "nothing").string());
+  const CommandRun run = Sorbtrace("make " + job.string() + " --out " + (root_ / "nothing").string());
   EXPECT_EQ(run.exit_code, 3) << run.output;
   EXPECT_NE(run.output.find("bad.toml:"), std::string::npos) << run.output;
   EXPECT_FALSE(fs::exists(root_ / "nothing"));
@@ -277,7 +278,7 @@ TEST_F(RunE2eTest, BadJobGivesExitThreeAndWritesNothing) {
 TEST_F(RunE2eTest, VersionAndHelpOfEveryVerb) {
   EXPECT_EQ(Sorbtrace("--version").exit_code, 0);
   for (const char* verb : {"make", "check", "verify", "batch", "calc"}) {
-    const Run help = Sorbtrace(std::string(verb) + " --help");
+    const CommandRun help = Sorbtrace(std::string(verb) + " --help");
     EXPECT_EQ(help.exit_code, 0) << verb;
     EXPECT_NE(help.output.find("Usage"), std::string::npos) << verb << help.output;
   }

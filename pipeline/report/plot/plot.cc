@@ -254,9 +254,31 @@ std::vector<std::string> Canvas::Wrap(std::string_view text, double size_pt, dou
     while (pos < paragraph.size()) {
       size_t space = paragraph.find(' ', pos);
       if (space == std::string_view::npos) space = paragraph.size();
-      const std::string word(paragraph.substr(pos, space - pos));
+      std::string word(paragraph.substr(pos, space - pos));
       pos = space + 1;
       if (word.empty()) continue;
+      if (TextWidth(word, size_pt, bold) > width_pt) {
+        // A word wider than the column (a long path, a hash) is cut between characters.
+        if (!line.empty()) lines.push_back(line);
+        line.clear();
+        std::string piece;
+        size_t i = 0;
+        while (i < word.size()) {
+          size_t n = 1;
+          while (i + n < word.size() && (static_cast<unsigned char>(word[i + n]) & 0xC0) == 0x80) {
+            ++n;
+          }
+          const std::string next = piece + word.substr(i, n);
+          if (!piece.empty() && TextWidth(next, size_pt, bold) > width_pt) {
+            lines.push_back(piece);
+            piece = word.substr(i, n);
+          } else {
+            piece = next;
+          }
+          i += n;
+        }
+        word = piece;  // the rest continues like an ordinary word
+      }
       const std::string candidate = line.empty() ? word : line + " " + word;
       if (!line.empty() && TextWidth(candidate, size_pt, bold) > width_pt) {
         lines.push_back(line);
