@@ -5,6 +5,7 @@
 #include <boost/math/distributions/normal.hpp>
 #include <boost/math/distributions/students_t.hpp>
 #include <cmath>
+#include <functional>
 #include <limits>
 #include <numeric>
 
@@ -88,6 +89,29 @@ double Percentile(std::vector<double>* values, double q) {
   return Interpolate(nth, values->end(), fraction);
 }
 
+namespace {
+
+// The `count` smallest values (less = std::less) or largest (std::greater) of `values`, sorted
+// in that order, by one pass with a heap of `count` elements: far cheaper than a selection over
+// all values when count is a few percent of them.
+template <typename Compare>
+std::vector<double> Extremes(const std::vector<double>& values, std::size_t count,
+                             Compare compare) {
+  std::vector<double> heap(values.begin(), values.begin() + static_cast<std::ptrdiff_t>(count));
+  std::make_heap(heap.begin(), heap.end(), compare);  // front: the least extreme kept
+  for (std::size_t i = count; i < values.size(); ++i) {
+    if (compare(values[i], heap.front())) {
+      std::pop_heap(heap.begin(), heap.end(), compare);
+      heap.back() = values[i];
+      std::push_heap(heap.begin(), heap.end(), compare);
+    }
+  }
+  std::sort_heap(heap.begin(), heap.end(), compare);
+  return heap;
+}
+
+}  // namespace
+
 void PercentilePair(std::vector<double>* values, double q_low, double q_high, double* low,
                     double* high) {
   if (values->empty() || !(q_low <= q_high)) {
@@ -95,12 +119,29 @@ void PercentilePair(std::vector<double>* values, double q_low, double q_high, do
     *high = Percentile(values, q_high);
     return;
   }
+  const std::size_t count = values->size();
   std::size_t below_low = 0;
   std::size_t below_high = 0;
   double fraction_low = 0.0;
   double fraction_high = 0.0;
-  QuantilePosition(values->size(), q_low, &below_low, &fraction_low);
-  QuantilePosition(values->size(), q_high, &below_high, &fraction_high);
+  QuantilePosition(count, q_low, &below_low, &fraction_low);
+  QuantilePosition(count, q_high, &below_high, &fraction_high);
+  // Order statistics below_low, below_low + 1 and below_high, below_high + 1 are needed.
+  const std::size_t num_low = std::min(below_low + 2, count);
+  const std::size_t num_high = count - below_high;
+  if (8 * (num_low + num_high) <= count) {
+    // Tails of a few percent (e.g. a 95 % interval): two heap passes.
+    const std::vector<double> smallest = Extremes(*values, num_low, std::less<double>());
+    const std::vector<double> largest = Extremes(*values, num_high, std::greater<double>());
+    const double low_below = smallest[below_low];
+    const double low_above = below_low + 1 < num_low ? smallest[below_low + 1] : low_below;
+    *low = low_below + fraction_low * (low_above - low_below);
+    // largest is in decreasing order: order statistic below_high is its last element.
+    const double high_below = largest[num_high - 1];
+    const double high_above = num_high >= 2 ? largest[num_high - 2] : high_below;
+    *high = high_below + fraction_high * (high_above - high_below);
+    return;
+  }
   const auto nth_low = values->begin() + static_cast<std::ptrdiff_t>(below_low);
   std::nth_element(values->begin(), nth_low, values->end());
   *low = Interpolate(nth_low, values->end(), fraction_low);

@@ -7,20 +7,23 @@
 #   FUZZ_SECONDS=600   seconds per target (the long runs of docs/fuzzing.md)
 #   FUZZ_TARGETS="job_file template"   only these targets
 #   FUZZ_KEEP_CORPUS=1 keep the grown corpus in build-fuzz/corpus/<target>/ (else a temp dir)
+#   FUZZ_SKIP_BUILD=1  run the targets already in build-fuzz/fuzz/ (no configure/build)
 # Single process per target (the build machine is shared); run it under `nice` for long runs.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 seconds="${FUZZ_SECONDS:-12}"
 jobs=$(nproc)
 [ "$jobs" -gt 2 ] && jobs=2
-cmake -S . -B build-fuzz -DCMAKE_BUILD_TYPE=RelWithDebInfo -DCMAKE_CXX_COMPILER=clang++ \
-      -DSORBTRACE_BUILD_FUZZ=ON -DSORBTRACE_BUILD_TESTS=OFF -DSORBTRACE_BUILD_BENCH=OFF \
-      -DSORBTRACE_WERROR=OFF >/dev/null
 targets="${FUZZ_TARGETS:-desiccator_csv vapor_log_csv retention_csv job_file template}"
-build_targets=""
-for t in $targets; do build_targets="$build_targets fuzz_$t"; done
-# shellcheck disable=SC2086
-cmake --build build-fuzz -j"$jobs" --target $build_targets >/dev/null
+if [ "${FUZZ_SKIP_BUILD:-0}" != "1" ]; then
+  cmake -S . -B build-fuzz -DCMAKE_BUILD_TYPE=RelWithDebInfo -DCMAKE_CXX_COMPILER=clang++ \
+        -DSORBTRACE_BUILD_FUZZ=ON -DSORBTRACE_BUILD_TESTS=OFF -DSORBTRACE_BUILD_BENCH=OFF \
+        -DSORBTRACE_WERROR=OFF >/dev/null
+  build_targets=""
+  for t in $targets; do build_targets="$build_targets fuzz_$t"; done
+  # shellcheck disable=SC2086
+  cmake --build build-fuzz -j"$jobs" --target $build_targets >/dev/null
+fi
 
 corpus_files() {  # corpus_files <target>: seed files, one per line
   case $1 in

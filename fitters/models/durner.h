@@ -25,7 +25,11 @@
 // spread by 1..3 decades around its alpha, ranked by weighted sum of squares.
 #pragma once
 
+#include <ceres/jet.h>
+
+#include <cmath>
 #include <string>
+#include <type_traits>
 #include <vector>
 
 #include "fitters/model.h"
@@ -33,12 +37,95 @@
 
 namespace sorbtrace::fitters::models {
 
+// S_e = [1 + (alpha p_c)^n]^(-m), m = 1 - 1/n, of one pore system and its partial derivatives,
+// in double: the value by exactly the operations of VanGenuchtenSaturationAtLogPc (so it equals
+// the double evaluation), the derivatives by hand (y = ln(alpha p_c), z = n y, sp =
+// softplus(z), S = exp(-m sp), dS/dz = -m logistic(z) S, dm/dn = 1/n^2).
+struct MualemSaturation {
+  double value = 0.0;
+  double d_log10_alpha = 0.0;
+  double d_n = 0.0;      // through z and through m
+  double d_ln_pc = 0.0;  // d S / d ln(p_c)
+};
+inline MualemSaturation MualemSaturationAtLogPc(double ln_pc, double log10_alpha, double n) {
+  const double m = 1.0 - 1.0 / n;
+  const double y = kLn10 * log10_alpha + ln_pc;
+  const double z = n * y;
+  double softplus = 0.0;
+  double logistic = 0.0;
+  if (z > 0.0) {
+    const double e = std::exp(-z);
+    softplus = z + std::log1p(e);
+    logistic = 1.0 / (1.0 + e);
+  } else {
+    const double e = std::exp(z);
+    softplus = std::log1p(e);
+    logistic = e / (1.0 + e);
+  }
+  MualemSaturation out;
+  out.value = std::exp(-m * softplus);
+  const double ds_dz = -m * logistic * out.value;
+  out.d_log10_alpha = ds_dz * n * kLn10;
+  out.d_n = ds_dz * y - softplus * out.value / (n * n);
+  out.d_ln_pc = ds_dz * n;
+  return out;
+}
+
+template <typename T>
+struct IsCeresJet : std::false_type {};
+template <int N>
+struct IsCeresJet<ceres::Jet<double, N>> : std::true_type {};
+
 struct Durner2Equation {
   static constexpr int kNumParameters = 6;
   static constexpr int kNumInputs = 1;
   static ModelInfo Info();
   template <typename T>
   static T Evaluate(const T* p, const T* x, const ModelContext& context) {
+    if constexpr (IsCeresJet<T>::value) {
+      return EvaluateJet(p, x, context);
+    } else {
+      return EvaluateGeneric(p, x, context);
+    }
+  }
+  // The same curve for ceres::Jet with the chain rule done once in double (what the solver
+  // differentiates; its value equals the double evaluation).
+  template <int N>
+  static ceres::Jet<double, N> EvaluateJet(const ceres::Jet<double, N>* p,
+                                           const ceres::Jet<double, N>* x,
+                                           const ModelContext& context) {
+    const double factor = KelvinPressureFactor_Pa(context.temperature_K);
+    const double u_sat = p[0].a;
+    const double w1 = p[1].a;
+    MualemSaturation s1;
+    MualemSaturation s2;
+    s1.value = 1.0;
+    s2.value = 1.0;
+    double d_ln_pc_d_rh = 0.0;
+    if (x[0].a >= 1.0) {
+      // saturated: s1 = s2 = 1
+    } else if (x[0].a <= 0.0) {
+      s1.value = 0.0;
+      s2.value = 0.0;
+    } else {
+      double ln_rh = 0.0;
+      const double ln_pc = LogCapillaryPressureValue(x[0].a, factor, &ln_rh);
+      s1 = MualemSaturationAtLogPc(ln_pc, p[2].a, p[3].a);
+      s2 = MualemSaturationAtLogPc(ln_pc, p[2].a - p[4].a, p[5].a);
+      d_ln_pc_d_rh = 1.0 / (x[0].a * ln_rh);
+    }
+    const double w2 = 1.0 - w1;
+    ceres::Jet<double, N> out;
+    out.a = u_sat * (w1 * s1.value + (1.0 - w1) * s2.value);
+    out.v = (w1 * s1.value + w2 * s2.value) * p[0].v + (u_sat * (s1.value - s2.value)) * p[1].v +
+            (u_sat * (w1 * s1.d_log10_alpha + w2 * s2.d_log10_alpha)) * p[2].v +
+            (u_sat * w1 * s1.d_n) * p[3].v - (u_sat * w2 * s2.d_log10_alpha) * p[4].v +
+            (u_sat * w2 * s2.d_n) * p[5].v +
+            (u_sat * (w1 * s1.d_ln_pc + w2 * s2.d_ln_pc) * d_ln_pc_d_rh) * x[0].v;
+    return out;
+  }
+  template <typename T>
+  static T EvaluateGeneric(const T* p, const T* x, const ModelContext& context) {
     const double factor = KelvinPressureFactor_Pa(context.temperature_K);
     const T& w1 = p[1];
     const T log10_alpha2 = p[2] - p[4];

@@ -61,25 +61,27 @@ double LogKelvinPressureFactor(double kelvin_factor_Pa) {
   return last_log;
 }
 
-double LogCapillaryPressureValue(double rh_fraction, double kelvin_factor_Pa) {
+double LogCapillaryPressureValue(double rh_fraction, double kelvin_factor_Pa, double* ln_rh) {
   struct Entry {
     double rh_fraction = std::numeric_limits<double>::quiet_NaN();  // never matches
     double kelvin_factor_Pa = std::numeric_limits<double>::quiet_NaN();
+    double ln_rh = 0.0;
     double value = 0.0;
   };
-  constexpr int kTableBits = 10;  // 1024 entries, 24 KiB per thread
+  constexpr int kTableBits = 10;  // 1024 entries, 32 KiB per thread
   thread_local std::array<Entry, std::size_t{1} << kTableBits> table;
   // Fibonacci hashing of the bit pattern (Knuth's multiplicative constant 2^64 / golden ratio).
   const std::uint64_t bits = std::bit_cast<std::uint64_t>(rh_fraction);
   const std::size_t slot =
       static_cast<std::size_t>((bits * 0x9E3779B97F4A7C15ULL) >> (64 - kTableBits));
   Entry& entry = table[slot];
-  if (entry.rh_fraction == rh_fraction && entry.kelvin_factor_Pa == kelvin_factor_Pa) {
-    return entry.value;
+  if (!(entry.rh_fraction == rh_fraction && entry.kelvin_factor_Pa == kelvin_factor_Pa)) {
+    const double log_rh = std::log(rh_fraction);
+    entry = {rh_fraction, kelvin_factor_Pa, log_rh,
+             LogKelvinPressureFactor(kelvin_factor_Pa) + std::log(-log_rh)};
   }
-  const double value = LogKelvinPressureFactor(kelvin_factor_Pa) + std::log(-std::log(rh_fraction));
-  entry = {rh_fraction, kelvin_factor_Pa, value};
-  return value;
+  if (ln_rh != nullptr) *ln_rh = entry.ln_rh;
+  return entry.value;
 }
 
 ModelInfo VanGenuchtenEquation::Info() {

@@ -60,7 +60,9 @@ double LogKelvinPressureFactor(double kelvin_factor_Pa);
 // ln(p_c / 1 Pa) = ln(factor) + ln(-ln a_w) for 0 < a_w < 1, remembered per thread in a small
 // table keyed by (a_w, factor): refits of resampled data and percentile bands evaluate the
 // model at the same few a_w thousands of times. The value is exactly the computed one.
-double LogCapillaryPressureValue(double rh_fraction, double kelvin_factor_Pa);
+// The logarithm ln(a_w) used on the way is returned in *ln_rh when that is not nullptr.
+double LogCapillaryPressureValue(double rh_fraction, double kelvin_factor_Pa,
+                                 double* ln_rh = nullptr);
 
 // ln(p_c / 1 Pa) for 0 < a_w < 1.
 template <typename T>
@@ -79,11 +81,12 @@ template <int N>
 ceres::Jet<double, N> LogCapillaryPressure(const ceres::Jet<double, N>& rh_fraction,
                                            double kelvin_factor_Pa) {
   ceres::Jet<double, N> out;
-  out.a = LogCapillaryPressureValue(rh_fraction.a, kelvin_factor_Pa);
+  double ln_rh = 0.0;
+  out.a = LogCapillaryPressureValue(rh_fraction.a, kelvin_factor_Pa, &ln_rh);
   if ((rh_fraction.v.array() == 0.0).all()) {
     out.v.setZero();
   } else {
-    out.v = (1.0 / (rh_fraction.a * std::log(rh_fraction.a))) * rh_fraction.v;
+    out.v = (1.0 / (rh_fraction.a * ln_rh)) * rh_fraction.v;
   }
   return out;
 }

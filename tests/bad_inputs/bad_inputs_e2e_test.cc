@@ -349,6 +349,7 @@ TEST(FuzzRegressionTest, EveryFindingEndsWithExitCode0Or3AndALocatedMessage) {
       if (run.exit_code == 3) {
         const Located error = FirstError(run.output);
         EXPECT_TRUE(error.found) << run.output;
+        EXPECT_GT(error.line, 0) << "no line in the message:\n" << run.output;
         EXPECT_NE(error.text.find("; expected "), std::string::npos) << run.output;
       }
       EXPECT_EQ(Snapshot(dir), before);
