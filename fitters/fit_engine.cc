@@ -192,6 +192,7 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
   result.fitted_x0.resize(static_cast<std::size_t>(n));
   double x_terms = 0.0;
   double sum_sigma2 = 0.0;
+  std::vector<double> residuals_at_observed_x(static_cast<std::size_t>(n));
   int outside_range = 0;
   for (std::size_t i = 0; i < data.size(); ++i) {
     const Observation& o = data[i];
@@ -205,6 +206,9 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
     result.fitted_x0[i] = x[0];
     result.fitted[i] = model.Evaluate(result.parameters.data(), x.data(), context);
     result.residuals[i] = o.y - result.fitted[i];
+    residuals_at_observed_x[i] =
+        eiv ? o.y - model.Evaluate(result.parameters.data(), o.x.data(), context)
+            : result.residuals[i];
     sum_sigma2 += o.sigma_y * o.sigma_y;
     if (o.x[0] < info.x_min || o.x[0] > info.x_max) ++outside_range;
   }
@@ -213,7 +217,8 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
     summary.flags.push_back(fmt::format("{} of {} points outside the model's range x = {} .. {}",
                                         outside_range, n, info.x_min, info.x_max));
   }
-  result.statistics = internal::ComputeStatistics(data, result.residuals, x_terms, p);
+  result.statistics = internal::ComputeStatistics(data, result.residuals, x_terms, p,
+                                                  residuals_at_observed_x);
   const FitStatistics& stats = result.statistics;
   if (!AllFinite(result.fitted)) summary.flags.push_back("model not finite at some data points");
 

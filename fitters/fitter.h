@@ -92,7 +92,8 @@ struct ParameterEstimate {
 // Goodness of fit. n = observations, k = p = fitted parameters (the residual variance is not
 // counted in k), w_i = 1 / sigma_y_i^2. Errors in variables: the x terms
 // ((x0_obs - x0_true) / sigma_x0)^2 are part of weighted_ssr (it is the minimised objective,
-// chi-square with n - p degrees of freedom); ssr, r_squared and the deviations use y only.
+// chi-square with n - p degrees of freedom); ssr, rmse, r_squared, the relative deviation and
+// the runs test use y_i - f(x_i) at the OBSERVED x, the usual descriptive measures.
 struct FitStatistics {
   int num_observations = 0;
   int num_parameters = 0;

@@ -153,7 +153,8 @@ void PercentilePair(std::vector<double>* values, double q_low, double q_high, do
 
 FitStatistics ComputeStatistics(const std::vector<Observation>& observations,
                                 const std::vector<double>& residuals_y, double x_terms,
-                                int num_parameters) {
+                                int num_parameters,
+                                const std::vector<double>& residuals_at_observed_x) {
   FitStatistics s;
   const std::size_t count = observations.size();
   s.num_observations = static_cast<int>(count);
@@ -163,17 +164,20 @@ FitStatistics ComputeStatistics(const std::vector<Observation>& observations,
   const double k = static_cast<double>(num_parameters);
 
   double sum_w = 0.0, sum_wy = 0.0, weighted_ssr_y = 0.0, relative_sum = 0.0;
+  double descriptive_weighted_ssr = 0.0;
   int relative_count = 0;
   for (std::size_t i = 0; i < count; ++i) {
     const Observation& o = observations[i];
     const double w = 1.0 / (o.sigma_y * o.sigma_y);
     const double r = residuals_y[i];
+    const double d = residuals_at_observed_x[i];
     sum_w += w;
     sum_wy += w * o.y;
     weighted_ssr_y += w * r * r;
-    s.ssr += r * r;
+    descriptive_weighted_ssr += w * d * d;
+    s.ssr += d * d;
     if (o.y != 0.0) {
-      relative_sum += std::abs(r) / std::abs(o.y);
+      relative_sum += std::abs(d) / std::abs(o.y);
       ++relative_count;
     }
   }
@@ -188,7 +192,7 @@ FitStatistics ComputeStatistics(const std::vector<Observation>& observations,
   s.residual_std = s.degrees_of_freedom > 0
                        ? std::sqrt(s.weighted_ssr / static_cast<double>(s.degrees_of_freedom))
                        : kNaN;
-  s.r_squared = sst_w > 0.0 ? 1.0 - weighted_ssr_y / sst_w : kNaN;
+  s.r_squared = sst_w > 0.0 ? 1.0 - descriptive_weighted_ssr / sst_w : kNaN;
   s.adjusted_r_squared =
       s.degrees_of_freedom > 0 ? 1.0 - (1.0 - s.r_squared) * (n - 1.0) / (n - k) : kNaN;
   s.mean_relative_deviation_percent =
@@ -208,7 +212,7 @@ FitStatistics ComputeStatistics(const std::vector<Observation>& observations,
     return observations[a].x < observations[b].x;
   });
   std::vector<double> ordered(count);
-  for (std::size_t i = 0; i < count; ++i) ordered[i] = residuals_y[order[i]];
+  for (std::size_t i = 0; i < count; ++i) ordered[i] = residuals_at_observed_x[order[i]];
   const RunsTestResult runs = WaldWolfowitzRunsTest(ordered);
   s.runs = runs.runs;
   s.runs_test_p_value = runs.p_value;

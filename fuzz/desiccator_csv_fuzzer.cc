@@ -3,5 +3,6 @@
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   return sorbtrace::fuzz::RunDataFileTarget(
       sorbtrace::fuzz::Bytes(data, size),
-      "[[dataset]]\nid = \"d\"\nmethod = \"desiccator\"\nfile = \"data.csv\"\ntemperature_C = 23\n");
+      "[[dataset]]\nid = \"d\"\nmethod = \"desiccator\"\nfile = \"data.csv\"\ntemperature_C = "
+      "23\n");
 }

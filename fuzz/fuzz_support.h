@@ -17,8 +17,8 @@ namespace sorbtrace::fuzz {
 
 inline std::filesystem::path WorkDir() {
   static const std::filesystem::path dir = [] {
-    auto path = std::filesystem::temp_directory_path() /
-                ("sorbtrace-fuzz-" + std::to_string(::getpid()));
+    auto path =
+        std::filesystem::temp_directory_path() / ("sorbtrace-fuzz-" + std::to_string(::getpid()));
     std::filesystem::create_directories(path);
     return path;
   }();

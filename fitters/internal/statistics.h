@@ -38,8 +38,13 @@ void PercentilePair(std::vector<double>* values, double q_low, double q_high, do
                     double* high);
 
 // Statistics of a fit: residuals_y = y - f, x_terms = sum of ((x0_obs - x0_true)/sigma_x0)^2.
+// Descriptive statistics (SSR, RMSE, R², MRD, runs test) use residuals_at_observed_x,
+// y_i - f(x_i observed), the measures a reader compares across fits; the objective-based
+// ones (weighted SSR, chi-square, AIC/AICc/BIC) use residuals_y at the fitted x plus the
+// errors-in-variables x terms. Without errors in variables both residual sets coincide.
 FitStatistics ComputeStatistics(const std::vector<Observation>& observations,
                                 const std::vector<double>& residuals_y, double x_terms,
-                                int num_parameters);
+                                int num_parameters,
+                                const std::vector<double>& residuals_at_observed_x);
 
 }  // namespace sorbtrace::fitters::internal
