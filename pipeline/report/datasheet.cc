@@ -400,27 +400,39 @@ void ModelsSection(Context& ctx) {
                             CoverageText(ctx.sheet.rules.coverage_factor), ctx.sheet.moisture_unit),
                 8.0, 0.0, palette::kSlate);
   const double w = doc.width();
+  // Flags are long sentences: they go in numbered notes below the table, so the numeric
+  // columns keep a readable width.
   std::vector<TableColumn> columns = {
-      {"Model", w * 0.20, false}, {"Parameters ± U", w * 0.32, false},
+      {"Model", w * 0.25, false}, {"Parameters ± U", w * 0.37, false},
       {"RMSE", w * 0.095, true},  {"MRD", w * 0.065, true},
       {"AICc", w * 0.07, true},   {"BIC", w * 0.07, true},
-      {"Rank", w * 0.05, true},   {"Flags", w * 0.13, false}};
+      {"Rank", w * 0.08, true}};
   std::vector<std::vector<std::string>> rows;
+  std::vector<std::string> notes;
   for (const ModelRow& row : ctx.sheet.models) {
     std::string parameters;
     for (const Quantity& q : row.parameters) {
       parameters += (parameters.empty() ? "" : "\n") + q.label + " = " + q.text;
     }
     for (const std::string& c : row.correlations) parameters += "\n" + c;
-    std::string flags;
-    for (const std::string& f : row.flags) flags += (flags.empty() ? "" : "; ") + f;
+    std::string model = row.model_title + "\n" + row.group_label;
+    if (!row.flags.empty()) {
+      std::string flags;
+      for (const std::string& f : row.flags) flags += (flags.empty() ? "" : "; ") + f;
+      notes.push_back(fmt::format("[{}] {}, {}: {}", notes.size() + 1, row.model_title,
+                                  row.group_label, flags));
+      model += fmt::format("\nsee note [{}]", notes.size());
+    }
     const bool stats = row.converged;  // a failed fit has no statistics to compare
-    rows.push_back({row.model_title + "\n" + row.group_label, parameters,
-                    stats ? row.rmse_text : "–", stats ? row.mrd_text : "–",
+    rows.push_back({model, parameters, stats ? row.rmse_text : "–", stats ? row.mrd_text : "–",
                     stats ? row.aicc_text : "–", stats ? row.bic_text : "–",
-                    row.rank > 0 ? std::to_string(row.rank) : "–", flags.empty() ? "–" : flags});
+                    row.rank > 0 ? std::to_string(row.rank) : "–"});
   }
   doc.Table(columns, rows, 7.0);
+  if (!notes.empty()) {
+    doc.Subheading("Flags");
+    for (const std::string& note : notes) doc.Paragraph(note, 7.0, 0.0, palette::kSlate);
+  }
   if (ctx.inputs.fits != nullptr) {
     doc.Subheading("Equations");
     std::set<std::string> shown;
