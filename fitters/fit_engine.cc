@@ -217,8 +217,8 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
     summary.flags.push_back(fmt::format("{} of {} points outside the model's range x = {} .. {}",
                                         outside_range, n, info.x_min, info.x_max));
   }
-  result.statistics = internal::ComputeStatistics(data, result.residuals, x_terms, p,
-                                                  residuals_at_observed_x);
+  result.statistics =
+      internal::ComputeStatistics(data, result.residuals, x_terms, p, residuals_at_observed_x);
   const FitStatistics& stats = result.statistics;
   if (!AllFinite(result.fitted)) summary.flags.push_back("model not finite at some data points");
 

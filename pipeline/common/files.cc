@@ -40,8 +40,8 @@ void WriteFileAtomically(const std::filesystem::path& path, std::string_view con
   const std::filesystem::path directory =
       path.has_parent_path() ? path.parent_path() : std::filesystem::path(".");
   // Unique temporary name in the same directory (rename is atomic within a file system).
-  std::string temp_name = "." + path.filename().string() + ".tmp-" + std::to_string(::getpid()) + "-" +
-                          std::to_string(temp_counter.fetch_add(1));
+  std::string temp_name = "." + path.filename().string() + ".tmp-" + std::to_string(::getpid()) +
+                          "-" + std::to_string(temp_counter.fetch_add(1));
   const std::filesystem::path temp_path = directory / temp_name;
   std::FILE* file = std::fopen(temp_path.c_str(), "wb");
   if (file == nullptr) {
@@ -58,8 +58,8 @@ void WriteFileAtomically(const std::filesystem::path& path, std::string_view con
   std::filesystem::rename(temp_path, path, error);
   if (error) {
     std::filesystem::remove(temp_path);
-    throw std::runtime_error("cannot rename " + temp_path.string() + " to " + path.string() +
-                             ": " + error.message());
+    throw std::runtime_error("cannot rename " + temp_path.string() + " to " + path.string() + ": " +
+                             error.message());
   }
 }
 

@@ -20,7 +20,9 @@ std::string Escape(const std::string& key) {
   return out;
 }
 
-std::string Text(const nlohmann::json& value) { return value.is_null() ? "(missing)" : value.dump(); }
+std::string Text(const nlohmann::json& value) {
+  return value.is_null() ? "(missing)" : value.dump();
+}
 
 void Compare(const std::string& pointer, const nlohmann::json& a, const nlohmann::json& b,
              std::vector<AuditLine>& lines) {
@@ -55,9 +57,10 @@ void Compare(const std::string& pointer, const nlohmann::json& a, const nlohmann
   if (a.is_number() && b.is_number()) {
     const double x = a.get<double>();
     const double y = b.get<double>();
-    const bool same = x == y || (std::isnan(x) && std::isnan(y)) ||
-                      std::fabs(x - y) <= kAuditRelativeTolerance * std::max(std::fabs(x), std::fabs(y)) +
-                                              kAuditAbsoluteTolerance;
+    const bool same =
+        x == y || (std::isnan(x) && std::isnan(y)) ||
+        std::fabs(x - y) <= kAuditRelativeTolerance * std::max(std::fabs(x), std::fabs(y)) +
+                                kAuditAbsoluteTolerance;
     lines.push_back({pointer, a.dump(), b.dump(), kAuditRelativeTolerance, same});
     return;
   }

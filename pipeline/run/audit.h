@@ -2,16 +2,15 @@
 // leaf by leaf, for `sorbtrace verify`.
 #pragma once
 
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 namespace sorbtrace::run {
 
 // One compared quantity: its JSON pointer, both values as text, tolerance and outcome.
 struct AuditLine {
-  std::string pointer;   // e.g. "/fits/0/parameters/0/value"
+  std::string pointer;  // e.g. "/fits/0/parameters/0/value"
   std::string reported;
   std::string recomputed;
   double tolerance = 0.0;  // relative tolerance applied to numbers (0 for text)

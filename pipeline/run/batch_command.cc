@@ -1,19 +1,18 @@
 // `sorbtrace batch DIR`: every job file under a folder, in parallel on a pool of worker
 // threads. Each job is independent and deterministic, so results are identical to one-by-one
 // runs. One failing job never stops the others; it is reported in summary.csv with its error.
-#include <CLI/CLI.hpp>
+#include <toml++/toml.h>
 
+#include <CLI/CLI.hpp>
 #include <algorithm>
 #include <atomic>
 #include <cstdio>
 #include <filesystem>
 #include <memory>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <thread>
-#include <toml++/toml.h>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
@@ -97,7 +96,8 @@ std::string Summary(const std::vector<JobOutcome>& outcomes) {
           if (item.value("key", "") != key) continue;
           value = item.contains("value") ? number(item["value"]) : "";
           if (value.empty() && item.contains("text")) value = item["text"].get<std::string>();
-          uncertainty = item.contains("expanded_uncertainty") ? number(item["expanded_uncertainty"]) : "";
+          uncertainty =
+              item.contains("expanded_uncertainty") ? number(item["expanded_uncertainty"]) : "";
         }
       }
       csv += "," + CsvField(value) + "," + CsvField(uncertainty);
@@ -129,15 +129,16 @@ int Batch(const BatchArguments& args) {
   std::atomic<size_t> next{0};
   std::atomic<size_t> done{0};
   const unsigned cores = std::max(1u, std::thread::hardware_concurrency());
-  const size_t workers =
-      std::min(jobs.size(), static_cast<size_t>(args.workers > 0 ? args.workers : static_cast<int>(cores)));
+  const size_t workers = std::min(
+      jobs.size(), static_cast<size_t>(args.workers > 0 ? args.workers : static_cast<int>(cores)));
 
   auto work = [&] {
     for (size_t i = next.fetch_add(1); i < jobs.size(); i = next.fetch_add(1)) {
       JobOutcome& outcome = outcomes[i];
       const fs::path relative = fs::relative(jobs[i], args.input_dir);
       fs::path name = relative.parent_path() / relative.stem();
-      if (relative.stem() == "job" && !relative.parent_path().empty()) name = relative.parent_path();
+      if (relative.stem() == "job" && !relative.parent_path().empty())
+        name = relative.parent_path();
       const fs::path out = out_root / name;
       outcome.job_file = jobs[i].string();
       outcome.output_dir = out.string();
@@ -188,11 +189,11 @@ int Batch(const BatchArguments& args) {
 
 void AddBatchCommand(CLI::App& app, int& exit_code) {
   auto args = std::make_shared<BatchArguments>();
-  CLI::App* command =
-      app.add_subcommand("batch", "Run every job file under a folder in parallel");
+  CLI::App* command = app.add_subcommand("batch", "Run every job file under a folder in parallel");
   command->add_option("dir", args->input_dir, "Folder searched recursively for job files")
       ->required();
-  command->add_option("-o,--out", args->output_dir, "Output root (one folder per job + summary.csv)");
+  command->add_option("-o,--out", args->output_dir,
+                      "Output root (one folder per job + summary.csv)");
   command->add_option("-j,--jobs", args->workers, "Worker threads (default: all cores)")
       ->check(CLI::Range(0, 256));
   command->add_flag("-q,--quiet", args->quiet, "No progress on stderr");

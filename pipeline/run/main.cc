@@ -1,8 +1,8 @@
 // Entry point of the `sorbtrace` binary: builds the command line and maps every failure
 // to a documented exit code (pipeline/common/diagnostics.h, README "Exit codes").
-#include <CLI/CLI.hpp>
 #include <glog/logging.h>
 
+#include <CLI/CLI.hpp>
 #include <cstdio>
 #include <exception>
 

@@ -1,6 +1,5 @@
 // `sorbtrace make JOB [--out DIR]`: one job file to a datasheet folder.
 #include <CLI/CLI.hpp>
-
 #include <cstdio>
 #include <filesystem>
 #include <memory>
@@ -62,8 +61,9 @@ void AddMakeCommand(CLI::App& app, int& exit_code) {
   CLI::App* command = app.add_subcommand(
       "make", "Run a job file through the whole pipeline and issue its datasheet folder");
   command->add_option("job", args->job_file, "Job file (TOML)")->required();
-  command->add_option("-o,--out", args->output_dir,
-                      "Output folder (default sorbtrace_output/<job file stem>); replaced atomically");
+  command->add_option(
+      "-o,--out", args->output_dir,
+      "Output folder (default sorbtrace_output/<job file stem>); replaced atomically");
   command->add_flag("-q,--quiet", args->quiet, "No progress or warnings on stderr");
   command->add_flag("-v,--verbose", args->verbose, "Warnings and stage timings on stderr");
   command->callback([args, &exit_code] { exit_code = Make(*args); });

@@ -23,8 +23,8 @@ std::atomic<unsigned> staging_counter{0};
 
 // glibc 2.36 declares renameat2 only with _GNU_SOURCE; the syscall is always there on Linux.
 int ExchangePaths(const std::filesystem::path& a, const std::filesystem::path& b) {
-  return static_cast<int>(::syscall(SYS_renameat2, AT_FDCWD, a.c_str(), AT_FDCWD, b.c_str(),
-                                    RENAME_EXCHANGE));
+  return static_cast<int>(
+      ::syscall(SYS_renameat2, AT_FDCWD, a.c_str(), AT_FDCWD, b.c_str(), RENAME_EXCHANGE));
 }
 
 }  // namespace
@@ -33,10 +33,9 @@ void WriteOutputDirectory(const RunResult& result, const std::filesystem::path& 
   namespace fs = std::filesystem;
   const fs::path target = fs::absolute(output_dir).lexically_normal();
   fs::create_directories(target.parent_path());
-  const fs::path staging =
-      target.parent_path() / ("." + target.filename().string() + ".partial-" +
-                              std::to_string(::getpid()) + "-" +
-                              std::to_string(staging_counter.fetch_add(1)));
+  const fs::path staging = target.parent_path() / ("." + target.filename().string() + ".partial-" +
+                                                   std::to_string(::getpid()) + "-" +
+                                                   std::to_string(staging_counter.fetch_add(1)));
   fs::remove_all(staging);
   fs::create_directories(staging);
   try {

@@ -5,10 +5,9 @@
 
 #include <filesystem>
 #include <functional>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "pipeline/equilibrate/equilibrate.h"
 #include "pipeline/fit/fit_stage.h"

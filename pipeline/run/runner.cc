@@ -60,7 +60,8 @@ RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& option
   Append(result.warnings, ingested.summary.warnings);
 
   progress("equilibrate", 1);
-  const equilibrate::EquilibriumSet equilibria = equilibrate::Equilibrate(ingested, settings.equilibrate);
+  const equilibrate::EquilibriumSet equilibria =
+      equilibrate::Equilibrate(ingested, settings.equilibrate);
   Append(result.warnings, equilibria.summary.warnings);
 
   progress("reduce", 2);

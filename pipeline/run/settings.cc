@@ -1,11 +1,12 @@
 // Stage settings of a job file: [equilibrium], [fit], [pores] and [report] over the built-in
 // defaults (each stage's Options) and the report template. Every key is checked: an unknown
 // key, a wrong type or an out-of-range value is an InputError naming file, line, column, key.
+#include <toml++/toml.h>
+
 #include <cmath>
 #include <filesystem>
 #include <set>
 #include <string>
-#include <toml++/toml.h>
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/physics/physics.h"
@@ -63,9 +64,9 @@ class TableReader {
       throw InputError(Where(node), Name(key) + " is not an integer", "a whole number");
     }
     if (*value < minimum || *value > maximum) {
-      throw InputError(Where(node), Name(key) + " = " + std::to_string(*value) + " is out of range",
-                       "a whole number from " + std::to_string(minimum) + " to " +
-                           std::to_string(maximum));
+      throw InputError(
+          Where(node), Name(key) + " = " + std::to_string(*value) + " is out of range",
+          "a whole number from " + std::to_string(minimum) + " to " + std::to_string(maximum));
     }
     target = static_cast<int>(*value);
   }
@@ -190,8 +191,8 @@ void ReadFit(TableReader& in, JobSettings& s) {
   f.weights = static_cast<fitters::WeightConvention>(
       in.Choice("weights", {"relative", "absolute"}, static_cast<int>(f.weights)));
   in.Integer("bootstrap_resamples", f.bootstrap_resamples, 0, 100000);
-  f.bootstrap_kind = static_cast<fitters::ResampleKind>(in.Choice(
-      "bootstrap", {"residual", "case"}, static_cast<int>(f.bootstrap_kind)));
+  f.bootstrap_kind = static_cast<fitters::ResampleKind>(
+      in.Choice("bootstrap", {"residual", "case"}, static_cast<int>(f.bootstrap_kind)));
   in.Integer("monte_carlo_draws", f.monte_carlo_draws, 0, 1000000);
   in.Seed("seed", f.seed);
   in.Integer("band_points", f.band_grid_points, 2, 10000);
@@ -218,8 +219,10 @@ void ReadPores(TableReader& in, JobSettings& s) {
     p.film_table.clear();
     for (const auto& row : *rows) {
       const toml::array* pair = row.as_array();
-      std::optional<double> rh = pair && pair->size() == 2 ? (*pair)[0].value<double>() : std::nullopt;
-      std::optional<double> t = pair && pair->size() == 2 ? (*pair)[1].value<double>() : std::nullopt;
+      std::optional<double> rh =
+          pair && pair->size() == 2 ? (*pair)[0].value<double>() : std::nullopt;
+      std::optional<double> t =
+          pair && pair->size() == 2 ? (*pair)[1].value<double>() : std::nullopt;
       if (!rh || !t || *rh <= 0 || *rh >= 100 || *t < 0) {
         throw InputError(in.Where(&row), in.Name("film_table") + " row is invalid",
                          "[rh_percent (0..100), thickness_nm (>= 0)]");
@@ -341,8 +344,8 @@ nlohmann::ordered_json Effective(const JobSettings& s) {
 
 std::filesystem::path ResolveTemplate(const std::string& name_or_path,
                                       const std::filesystem::path& job_dir) {
-  const bool looks_like_path = name_or_path.find('/') != std::string::npos ||
-                               name_or_path.ends_with(".toml");
+  const bool looks_like_path =
+      name_or_path.find('/') != std::string::npos || name_or_path.ends_with(".toml");
   if (looks_like_path) return (job_dir / name_or_path).lexically_normal();
   std::filesystem::path dir = SORBTRACE_TEMPLATE_DIR;
   if (const char* env = std::getenv("SORBTRACE_TEMPLATE_DIR"); env != nullptr && *env != '\0') {

@@ -2,13 +2,11 @@
 // of every recorded input, re-runs the pipeline from those inputs and the recorded settings,
 // and compares every number of the recorded results with the recomputed one.
 #include <CLI/CLI.hpp>
-
 #include <cstdio>
 #include <filesystem>
 #include <memory>
-#include <string>
-
 #include <nlohmann/json.hpp>
+#include <string>
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
@@ -77,14 +75,17 @@ int Verify(const VerifyArguments& args) {
       resolved = job_file;
     } else if (role == "template") {
       resolved = ResolveTemplate(path, job_file.parent_path());
-      if (!fs::exists(resolved)) resolved = ResolveTemplate(fs::path(path).stem().string(), job_file.parent_path());
+      if (!fs::exists(resolved))
+        resolved = ResolveTemplate(fs::path(path).stem().string(), job_file.parent_path());
     } else {
       resolved = job_file.parent_path() / path;
     }
     std::string actual = "(missing file)";
     if (fs::exists(resolved)) actual = Sha256HexOfFile(resolved);
     record((actual == expected ? "pass" : "FAIL") + std::string("  input ") + role + " " +
-               resolved.string() + "  sha256 " + (actual == expected ? "unchanged" : "CHANGED: recorded " + expected + ", now " + actual),
+               resolved.string() + "  sha256 " +
+               (actual == expected ? "unchanged"
+                                   : "CHANGED: recorded " + expected + ", now " + actual),
            actual == expected, true);
   }
   if (failures > 0) {
@@ -119,8 +120,9 @@ void AddVerifyCommand(CLI::App& app, int& exit_code) {
       "verify", "Re-derive every number of an issued results.json from its recorded inputs");
   command->add_option("results", args->results_file, "results.json of an issued datasheet")
       ->required();
-  command->add_option("--job", args->job_file,
-                      "Job file location, if it moved (default: as recorded, relative to results.json)");
+  command->add_option(
+      "--job", args->job_file,
+      "Job file location, if it moved (default: as recorded, relative to results.json)");
   command->add_option("--report", args->report_file,
                       "Write the full verification report (every quantity) to this file");
   command->add_flag("--all", args->show_all, "Print every compared quantity, not only failures");

@@ -13,11 +13,10 @@
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <thread>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "pipeline/common/files.h"
 
@@ -103,7 +102,7 @@ TEST_F(RunE2eTest, ResultsRecoverTheTruthBehindTheDemoDataWithinTheirUncertainti
     const std::string name = scenario["scenario"];
     const fs::path out = root_ / "out" / name;
     const CommandRun made = Sorbtrace("make " + (root_ / "inputs" / name / "job.toml").string() +
-                               " --out " + out.string() + " -q");
+                                      " --out " + out.string() + " -q");
     ASSERT_EQ(made.exit_code, 0) << name << made.output;
     const auto results = nlohmann::json::parse(ReadWholeFile(out / "results.json"));
     const auto& groups = results["fits"]["groups"];
@@ -134,8 +133,8 @@ TEST_F(RunE2eTest, ResultsRecoverTheTruthBehindTheDemoDataWithinTheirUncertainti
     for (const auto& reference : results["pores"]["reference_moisture"]) {
       const nlohmann::json* gab = truth_for(reference["branch"], reference["temperature_K"]);
       if (gab == nullptr) continue;  // reference temperature not measured (e.g. 23 C vs 25 C)
-      const double expected = Gab(reference["rh_fraction"], (*gab)["xm_kg_per_kg"], (*gab)["c"],
-                                  (*gab)["k"]);
+      const double expected =
+          Gab(reference["rh_fraction"], (*gab)["xm_kg_per_kg"], (*gab)["c"], (*gab)["k"]);
       EXPECT_LE(std::abs(reference["value"].get<double>() - expected),
                 reference["expanded_uncertainty"].get<double>())
           << name << " " << reference["text"] << ", truth " << expected;
@@ -148,8 +147,10 @@ TEST_F(RunE2eTest, ResultsRecoverTheTruthBehindTheDemoDataWithinTheirUncertainti
 
 TEST_F(RunE2eTest, SameInputsGiveByteIdenticalOutputs) {
   const fs::path job = Jobs().front();
-  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + (root_ / "a").string() + " -q").exit_code, 0);
-  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + (root_ / "b").string() + " -q").exit_code, 0);
+  ASSERT_EQ(
+      Sorbtrace("make " + job.string() + " --out " + (root_ / "a").string() + " -q").exit_code, 0);
+  ASSERT_EQ(
+      Sorbtrace("make " + job.string() + " --out " + (root_ / "b").string() + " -q").exit_code, 0);
   for (const auto& entry : fs::directory_iterator(root_ / "a")) {
     const auto name = entry.path().filename();
     if (name == "results.json") continue;  // records the job path relative to the folder
@@ -157,7 +158,8 @@ TEST_F(RunE2eTest, SameInputsGiveByteIdenticalOutputs) {
   }
   // results.json differs only by the recorded relative job path when the folders differ in
   // name; both sit at the same depth here, so they are identical too.
-  EXPECT_EQ(Sha256HexOfFile(root_ / "a" / "results.json"), Sha256HexOfFile(root_ / "b" / "results.json"));
+  EXPECT_EQ(Sha256HexOfFile(root_ / "a" / "results.json"),
+            Sha256HexOfFile(root_ / "b" / "results.json"));
 }
 
 TEST_F(RunE2eTest, AuditFailsAfterOneInputByteChanges) {
@@ -208,7 +210,8 @@ TEST_F(RunE2eTest, AuditFailsAfterOneReportedNumberChanges) {
   const CommandRun verified = Sorbtrace("verify " + (out / "results.json").string());
   EXPECT_EQ(verified.exit_code, 5) << verified.output;
   EXPECT_NE(verified.output.find("FAIL  " + changed_pointer), std::string::npos)
-      << changed_pointer << "\n" << verified.output;
+      << changed_pointer << "\n"
+      << verified.output;
 }
 
 TEST_F(RunE2eTest, BatchReportsABrokenJobAndFinishesTheOthers) {
@@ -223,11 +226,13 @@ TEST_F(RunE2eTest, BatchReportsABrokenJobAndFinishesTheOthers) {
          "[measurement]\n[[specimen]]\nid = \"S1\"\ndry_mass_g = 1.0\n"
          "[[dataset]]\nid = \"d\"\nmethod = \"desiccator\"\nfile = \"missing.csv\"\n"
          "temperature_C = 23\n";
-  const CommandRun run = Sorbtrace("batch " + batch.string() + " --out " + (root_ / "bout").string() + " -q -j 2");
+  const CommandRun run =
+      Sorbtrace("batch " + batch.string() + " --out " + (root_ / "bout").string() + " -q -j 2");
   EXPECT_EQ(run.exit_code, 6) << run.output;
   const std::string summary = ReadWholeFile(root_ / "bout" / "summary.csv");
   size_t ok_rows = 0;
-  for (size_t at = summary.find(",ok,"); at != std::string::npos; at = summary.find(",ok,", at + 1)) ++ok_rows;
+  for (size_t at = summary.find(",ok,"); at != std::string::npos; at = summary.find(",ok,", at + 1))
+    ++ok_rows;
   EXPECT_EQ(ok_rows, Jobs().size()) << summary;
   EXPECT_NE(summary.find("missing.csv"), std::string::npos) << summary;
   EXPECT_NE(summary.find(",failed,3,"), std::string::npos) << summary;
@@ -269,7 +274,8 @@ TEST_F(RunE2eTest, KilledRunLeavesTheEarlierOutputIntact) {
 TEST_F(RunE2eTest, BadJobGivesExitThreeAndWritesNothing) {
   const fs::path job = root_ / "bad.toml";
   std::ofstream(job) << "[job]\nid = \"B\"\nissue_date = \"2026-11-30\"\n[fit]\nnot_a_key = 1\n";
-  const CommandRun run = Sorbtrace("make " + job.string() + " --out " + (root_ / "nothing").string());
+  const CommandRun run =
+      Sorbtrace("make " + job.string() + " --out " + (root_ / "nothing").string());
   EXPECT_EQ(run.exit_code, 3) << run.output;
   EXPECT_NE(run.output.find("bad.toml:"), std::string::npos) << run.output;
   EXPECT_FALSE(fs::exists(root_ / "nothing"));
