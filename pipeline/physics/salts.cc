@@ -4,7 +4,7 @@
 // J. Res. Natl. Bur. Stand. 81A (1977) 89-96. RH(t) = sum_i a_i t^i in %RH, t in degC.
 //
 // Coefficient notes:
-//  * LiCl a1 is positive, CH3COOK a2 negative and K2CO3 a1 positive. Some transcriptions of
+//  * LiCl a1 is positive, CH3COOK a2 negative and K2CO3 a1 positive. Some reprints of
 //    the paper print these signs the other way round; those signs contradict the paper's own
 //    tabulated values (11.30, 22.51 and 43.16 %RH at 25 degC), which the signs used here
 //    reproduce (tests/physics anchor every salt at 25 degC).

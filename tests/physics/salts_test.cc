@@ -27,7 +27,7 @@ struct TableValue {
 
 TEST(SaltSolutionHumidity, AnchorsAt25C) {
   // Greenspan (1977) Table 2 at 25 degC, the universally cited values. These anchor the
-  // signs of the coefficients, which some transcriptions of the paper print wrongly.
+  // signs of the coefficients, which some reprints of the paper print wrongly.
   const TableValue kAnchors[] = {
       {"LiCl", 25, 11.30},     {"CH3COOK", 25, 22.51}, {"MgCl2", 25, 32.78}, {"K2CO3", 25, 43.16},
       {"Mg(NO3)2", 25, 52.89}, {"NaBr", 25, 57.57},    {"NaCl", 25, 75.29},  {"KCl", 25, 84.34},
