@@ -17,7 +17,9 @@ ctest --test-dir build --output-on-failure -j"$jobs" --timeout 600
 
 if [ "${SORBTRACE_SKIP_ASAN:-0}" != "1" ]; then
   echo "== AddressSanitizer + UBSan build + tests"
-  cmake -S . -B build-asan -DCMAKE_BUILD_TYPE=RelWithDebInfo -DSORBTRACE_SANITIZE=ON \
+  # -Werror stays on in the Release stage above; under the sanitizers GCC 12 reports false
+  # -Wmaybe-uninitialized inside <regex>/<functional>, so warnings are not fatal here.
+  cmake -S . -B build-asan -DCMAKE_BUILD_TYPE=RelWithDebInfo -DSORBTRACE_SANITIZE=ON -DSORBTRACE_WERROR=OFF \
         -DSORBTRACE_BUILD_BENCH=OFF >/dev/null
   cmake --build build-asan -j"$jobs"
   ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 \
