@@ -9,8 +9,18 @@ if(SORBTRACE_WERROR)
   list(APPEND SORBTRACE_WARNINGS -Werror)
 endif()
 
+# Eigen picks its allocator per translation unit: under AddressSanitizer (__SANITIZE_ADDRESS__)
+# it switches to its hand-made aligned malloc, while Debian's libceres.a was built without
+# the sanitizer and uses plain malloc/free for the same inline Eigen functions. The linker
+# keeps one copy of each, so memory allocated one way is freed the other ("bad-free" in
+# BDCSVD inside ceres::Covariance). EIGEN_MALLOC_ALREADY_ALIGNED=1 makes our code agree with
+# the library; glibc's and ASan's x86-64 malloc both return 16-byte aligned blocks, which is
+# all Eigen's SSE2 default (EIGEN_DEFAULT_ALIGN_BYTES 16) needs.
+set(SORBTRACE_EIGEN_ASAN_DEFINES EIGEN_MALLOC_ALREADY_ALIGNED=1)
+
 if(SORBTRACE_SANITIZE)
   add_compile_options(-fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined)
+  add_compile_definitions(${SORBTRACE_EIGEN_ASAN_DEFINES})
   add_link_options(-fsanitize=address,undefined)
 endif()
 
