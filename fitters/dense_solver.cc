@@ -388,4 +388,24 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
   }
 }
 
+bool DenseLevenbergMarquardt::ParameterNormalMatrix(Eigen::MatrixXd* normal,
+                                                    double* weighted_ssr) const {
+  if (num_points_ < 1 || jacobian_.rows() != num_points_) return false;
+  const int p = num_parameters_;
+  normal->setZero(p, p);
+  Eigen::VectorXd weight = Eigen::VectorXd::Ones(num_points_);
+  for (int k = 0; k < num_true_x_; ++k) {
+    const int i = point_of_true_x_[static_cast<std::size_t>(k)];
+    const double b = slope_[i];
+    const double c = x_residual_jacobian_[k];
+    weight[i] = c * c / (b * b + c * c);
+  }
+  for (int i = 0; i < num_points_; ++i) {
+    const auto row = jacobian_.row(i);
+    normal->noalias() += weight[i] * row.transpose() * row;
+  }
+  *weighted_ssr = 2.0 * Cost(ry_, rx_);
+  return normal->allFinite() && std::isfinite(*weighted_ssr);
+}
+
 }  // namespace sorbtrace::fitters::internal

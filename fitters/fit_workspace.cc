@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 
+#include <Eigen/Eigenvalues>
 #include <Eigen/SVD>
 #include <algorithm>
 #include <cmath>
@@ -219,6 +220,9 @@ SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
       outcome.iterations = dense.iterations;
       outcome.message = dense.message;
       outcome.dense = true;
+      last_solve_dense_ = true;
+      last_solve_failed_ = false;
+      last_solve_cost_ = outcome.cost;
       return outcome;
     }
     // A numerical failure (non-finite values along the path): Ceres from the same start.
@@ -239,7 +243,41 @@ SolveOutcome FitWorkspace::Solve(const std::vector<double>& start,
   }
   outcome.iterations = summary.num_successful_steps + summary.num_unsuccessful_steps;
   outcome.message = summary.message;
+  last_solve_dense_ = false;
+  last_solve_failed_ = outcome.failed;
+  last_solve_cost_ = outcome.cost;
   return outcome;
+}
+
+bool FitWorkspace::LastSolveCovariance(Eigen::MatrixXd* covariance, double* weighted_ssr) {
+  if (last_solve_failed_) return false;
+  *weighted_ssr = 2.0 * last_solve_cost_;
+  if (!last_solve_dense_ || dense_solver_ == nullptr) {
+    std::string error;
+    return ComputeCovariance(covariance, &error);
+  }
+  double dense_ssr = 0.0;
+  if (!dense_solver_->ParameterNormalMatrix(&normal_scratch_, &dense_ssr)) return false;
+  *weighted_ssr = dense_ssr;
+  // Column equilibration and rank test as ComputeCovariance: the scaled normal matrix's
+  // eigenvalues are the squared singular values of the scaled Jacobian, so
+  // sigma_min / sigma_max < sqrt(r) is lambda_min / lambda_max < r.
+  const Eigen::VectorXd diagonal = normal_scratch_.diagonal();
+  if ((diagonal.array() <= 0.0).any()) return false;
+  const Eigen::VectorXd scale = diagonal.cwiseSqrt().cwiseInverse();
+  const Eigen::MatrixXd scaled = scale.asDiagonal() * normal_scratch_ * scale.asDiagonal();
+  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eigen(scaled);
+  if (eigen.info() != Eigen::Success) return false;
+  const double lambda_max = eigen.eigenvalues().maxCoeff();
+  const double lambda_min = eigen.eigenvalues().minCoeff();
+  if (!(lambda_max > 0.0) ||
+      lambda_min / lambda_max < options_.covariance_min_reciprocal_condition_number) {
+    return false;
+  }
+  *covariance = scale.asDiagonal() * eigen.eigenvectors() *
+                eigen.eigenvalues().cwiseInverse().asDiagonal() *
+                eigen.eigenvectors().transpose() * scale.asDiagonal();
+  return covariance->allFinite();
 }
 
 bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* error) {

@@ -73,6 +73,14 @@ class DenseLevenbergMarquardt {
   DenseSolveOutcome Solve(const std::vector<Observation>& data, const std::vector<char>& eiv,
                           std::vector<double>* parameters, std::vector<double>* x0_true);
 
+  // Gauss-Newton normal matrix of the parameters at the point the last Solve returned (its
+  // residuals and Jacobian are kept), every fitted true x[0] eliminated (Schur complement):
+  // point i adds a_i' a_i, times c_i^2 / (b_i^2 + c_i^2) where it has a fitted x[0]
+  // (a_i = dr_yi/dp, b_i = dr_yi/dt_i, c_i = dr_xi/dt_i). Its inverse is the parameter block
+  // of (J'J)^-1, so resampling can studentise without another evaluation. Also returns the
+  // weighted SSR (x terms included) at that point. False before any successful Solve.
+  bool ParameterNormalMatrix(Eigen::MatrixXd* normal, double* weighted_ssr) const;
+
  private:
   using RowMajorMatrix = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>;
   enum class Evaluation { kResidualsAndJacobian, kResidualsOnly, kFailed };

@@ -60,6 +60,13 @@ class FitWorkspace {
   // (dense SVD of the column-equilibrated Jacobian). False + *error if rank deficient.
   bool ComputeCovariance(Eigen::MatrixXd* covariance, std::string* error);
 
+  // Unscaled (J'J)^-1 of the parameters and the weighted SSR (x terms included) at the
+  // solution of the last Solve. When the dense solver solved, from the Jacobian it kept
+  // (DenseLevenbergMarquardt::ParameterNormalMatrix: no evaluation, no ceres::Covariance),
+  // with the same column-equilibrated rank test; otherwise by ComputeCovariance. False when
+  // rank deficient or the last Solve failed. Used to studentise resampled refits.
+  bool LastSolveCovariance(Eigen::MatrixXd* covariance, double* weighted_ssr);
+
  private:
   void Build();
   void SetStartingX0(const std::vector<double>* x0_start);
@@ -86,6 +93,11 @@ class FitWorkspace {
   std::unique_ptr<DenseLevenbergMarquardt> dense_solver_;
   std::vector<double> dense_scratch_;     // the dense solver's iterate
   std::vector<double> dense_x0_scratch_;  // and its true x[0]
+  // What the last Solve did: solved by the dense solver, failed, its cost.
+  bool last_solve_dense_ = false;
+  bool last_solve_failed_ = true;
+  double last_solve_cost_ = 0.0;
+  Eigen::MatrixXd normal_scratch_;
 };
 
 }  // namespace sorbtrace::fitters::internal

@@ -227,6 +227,9 @@ Json ResampleJson(const fitters::ResampleResult& r) {
           {"num_failed", r.num_failed},
           {"parameter_low", NumberArray(r.parameter_low)},
           {"parameter_high", NumberArray(r.parameter_high)},
+          {"num_studentized", r.num_studentized},
+          {"studentized_low", NumberArray(r.studentized_low)},
+          {"studentized_high", NumberArray(r.studentized_high)},
           {"parameter_std", NumberArray(r.parameter_std)}};
 }
 

@@ -9,6 +9,7 @@
 
 #include "fitters/autodiff_model.h"
 #include "fitters/fitter.h"
+#include "fitters/internal/fit_workspace.h"
 #include "fitters/internal/random.h"
 #include "fitters/internal/statistics.h"
 
@@ -578,6 +579,42 @@ TEST(ResampleTest, InPlaceReuseEqualsRebuildingTheProblem) {
       for (std::size_t j = 0; j < 2; ++j) {
         EXPECT_NEAR(reuse.parameter_draws[d][j], rebuild.parameter_draws[d][j],
                     1e-9 * std::abs(rebuild.parameter_draws[d][j]) + 1e-12);
+      }
+    }
+  }
+}
+
+// The covariance the bootstrap-t studentisation takes from the dense solver's kept Jacobian
+// (Schur complement of the fitted true x[0]) must equal ceres::Covariance's parameter block
+// at the same point, with and without errors in variables.
+TEST(FitWorkspaceTest, LastSolveCovarianceEqualsCeresCovariance) {
+  const auto model = MakeAutoDiffModel<BoundedDecay>();
+  std::vector<Observation> data;
+  for (int i = 0; i < 12; ++i) {  // invented: y = 2 exp(-0.05 x) with scatter, x errors
+    Observation o;
+    o.x = {1.0 * i, 0.0};
+    o.y = 2.0 * std::exp(-0.05 * o.x[0]) + 0.01 * std::sin(3.0 * i);
+    o.sigma_y = 0.01;
+    o.sigma_x0 = i % 2 == 0 ? 0.1 : 0.0;
+    data.push_back(o);
+  }
+  for (bool eiv : {false, true}) {
+    FitOptions options;
+    options.errors_in_variables = eiv;
+    internal::FitWorkspace workspace(*model, data, ModelContext{}, options);
+    const internal::SolveOutcome outcome = workspace.Solve({1.5, 0.1}, nullptr);
+    ASSERT_TRUE(outcome.converged) << outcome.message;
+    EXPECT_TRUE(outcome.dense);
+    Eigen::MatrixXd from_solver, from_ceres;
+    double weighted_ssr = 0.0;
+    ASSERT_TRUE(workspace.LastSolveCovariance(&from_solver, &weighted_ssr));
+    std::string error;
+    ASSERT_TRUE(workspace.ComputeCovariance(&from_ceres, &error)) << error;
+    EXPECT_NEAR(weighted_ssr, 2.0 * outcome.cost, 1e-12 * weighted_ssr);
+    for (int r = 0; r < 2; ++r) {
+      for (int c = 0; c < 2; ++c) {
+        EXPECT_NEAR(from_solver(r, c), from_ceres(r, c), 1e-6 * std::abs(from_ceres(r, r)))
+            << "eiv " << eiv << " element " << r << "," << c;
       }
     }
   }

@@ -1,30 +1,31 @@
 // Coverage of the GAB parameter intervals on synthetic data with known truth and known noise
 // (label "slow"): the fraction of replicates whose 95 % interval contains the true value.
 //
-// Design: X_m = 0.05 kg/kg, C = 10, K = 0.8; 15 points at a_w = 0.10, 0.157, ..., 0.90;
-// additive normal noise sigma = 0.001 kg/kg (constant, as from a balance), sigma_y = sigma.
-// Intervals checked:
+// Design: X_m = 0.05 kg/kg, C = 10, K = 0.8; 20 points (the 20-point isotherm of the fitting
+// issue) at a_w = 0.10 ... 0.90 evenly spaced; additive normal noise sigma = 0.001 kg/kg
+// (constant, as from a balance), sigma_y = sigma. Intervals checked:
 //  * Student-t (FitOptions::weights = kRelative): s^2 (J'J)^-1 with s^2 = SSR / (n - p) and
 //    t(n - p) quantile. For a linear model with normal errors of unknown common variance this
 //    interval is exact; here it is exact to first order in the curvature of the GAB equation.
 //  * known-sigma normal interval (kAbsolute convention: (J'J)^-1, quantile 1.96), derived from
 //    the same fit by dividing the standard error by s.
-//  * residual-bootstrap percentile intervals (Resample, 200 resamples per replicate).
+//  * residual bootstrap (Resample, 400 resamples per replicate): the studentised (bootstrap-t)
+//    interval, held to the same 92..98 % band, and the percentile interval.
 // With R replicates the Monte Carlo standard error of a 95 % coverage is sqrt(0.95 0.05 / R):
-// 0.69 % at R = 1000 and 0.97 % at R = 500, so the band 92..98 % is about +-3 or more of them.
+// 0.69 % at R = 1000, so the band 92..98 % is about +-4 of them.
 //
-// Bootstrap percentile intervals under-cover at small n - p, a known effect: even an ideal
-// bootstrap reproduces the spread of the estimates with the estimated s in place of sigma and
-// cuts at normal-like quantiles, so its coverage tends to P(|t_12| <= 1.96) = 0.926 for
-// n - p = 12 (computed with Boost.Math), not 0.95; the 2.5 % and 97.5 % points of only 200
-// draws lower it further. Measured while writing this test (500 replicates, 200 resamples):
-// X_m 0.898, C 0.898, K 0.890 at this generator state; 0.925, 0.930, 0.917 at another (400
-// replicates); 0.932, 0.943, 0.935 with 1000 resamples; a residual bootstrap with
-// leverage-adjusted residuals e_i / sqrt(1 - h_ii) (Davison & Hinkley 1997, Bootstrap Methods
-// and their Application, eq. 6.9, linearised leverages) gave 0.935, 0.935, 0.915 with 200
-// resamples: no systematic gain, the shortfall is the t-versus-normal effect. The bootstrap
-// check therefore uses the band 0.88..0.98 (0.926 minus 3 Monte Carlo standard errors and the
-// 200-draw quantile noise); the 92..98 % band is met by the Student-t intervals.
+// Percentile intervals under-cover at small n - p, a known effect: even an ideal bootstrap
+// reproduces the spread of the estimates with the estimated s in place of sigma and cuts at
+// normal-like quantiles, so its coverage tends to P(|t_(n-p)| <= 1.96) (0.934 at n - p = 17,
+// 0.926 at 12; Boost.Math). The studentised interval carries the t-like tails. Measured while
+// writing this test (500 replicates x 400 resamples): with 15 points, studentised X_m 0.926,
+// C 0.930, K 0.916 and percentile 0.898, 0.906, 0.902 (the empirical residuals of 15 points
+// are lighter-tailed than the errors: the expected sample kurtosis of normal data is
+// 3 (n - 1) / (n + 1) = 2.63 at n = 15); with 20 points, studentised 0.944, 0.950, 0.932 and
+// percentile 0.922, 0.934, 0.924; at this test's 1000 replicates, studentised 0.952, 0.953,
+// 0.947 and percentile 0.928, 0.929, 0.927. So the percentile check is held to 0.90 (its theoretical
+// 0.934 less 4 Monte Carlo standard errors and the 400-draw quantile noise), the studentised
+// one to the full 92..98 % band.
 #include <gtest/gtest.h>
 
 #include <array>
@@ -42,11 +43,11 @@ using testing::Grid;
 
 constexpr std::array<double, 3> kTruth = {0.05, 10.0, 0.8};
 constexpr double kNoise_kg_per_kg = 0.001;
-constexpr int kNumPoints = 15;
+constexpr int kNumPoints = 20;
 constexpr double kNormalQuantile975 = 1.959963984540054;  // standard normal, 97.5 %
 constexpr double kMinCoverage = 0.92;
 constexpr double kMaxCoverage = 0.98;
-constexpr double kMinBootstrapCoverage = 0.88;  // see the header comment
+constexpr double kMinPercentileCoverage = 0.90;  // see the header comment
 
 std::vector<Observation> Replicate(testing::NormalSource* noise) {
   const std::vector<double> truth(kTruth.begin(), kTruth.end());
@@ -91,11 +92,12 @@ TEST(GabCoverageTest, StudentTAndKnownSigmaIntervals) {
   }
 }
 
-TEST(GabCoverageTest, ResidualBootstrapPercentileIntervals) {
-  constexpr int kReplicates = 500;
-  constexpr int kResamples = 200;
+TEST(GabCoverageTest, ResidualBootstrapIntervals) {
+  constexpr int kReplicates = 1000;
+  constexpr int kResamples = 400;
   testing::NormalSource noise(20261202);
-  std::array<int, 3> hits{};
+  std::array<int, 3> percentile_hits{};
+  std::array<int, 3> studentized_hits{};
   int done = 0;
   FitOptions options;
   options.weights = WeightConvention::kRelative;
@@ -109,20 +111,30 @@ TEST(GabCoverageTest, ResidualBootstrapPercentileIntervals) {
     resample.seed = noise.Raw();
     const ResampleResult boot =
         Resample(models::GabModel(), points, ModelContext{}, fit, options, resample, {});
-    if (boot.parameter_low.size() != 3) continue;
+    if (boot.parameter_low.size() != 3 || boot.num_studentized < kResamples - 20) continue;
     ++done;
-    for (std::size_t i = 0; i < 3; ++i)
-      hits[i] += Inside(boot.parameter_low[i], kTruth[i], boot.parameter_high[i]);
+    for (std::size_t i = 0; i < 3; ++i) {
+      percentile_hits[i] += Inside(boot.parameter_low[i], kTruth[i], boot.parameter_high[i]);
+      studentized_hits[i] +=
+          Inside(boot.studentized_low[i], kTruth[i], boot.studentized_high[i]);
+    }
   }
   EXPECT_GE(done, kReplicates - 5);
   const char* names[] = {"X_m", "C", "K"};
   for (std::size_t i = 0; i < 3; ++i) {
-    const double coverage = static_cast<double>(hits[i]) / done;
-    std::printf("GAB %s: residual-bootstrap percentile coverage %.4f (%d replicates x %d)\n",
-                names[i], coverage, done, kResamples);
-    RecordProperty(std::string("bootstrap_coverage_") + names[i], std::to_string(coverage));
-    EXPECT_GE(coverage, kMinBootstrapCoverage) << names[i];
-    EXPECT_LE(coverage, kMaxCoverage) << names[i];
+    const double percentile = static_cast<double>(percentile_hits[i]) / done;
+    const double studentized = static_cast<double>(studentized_hits[i]) / done;
+    std::printf(
+        "GAB %s: residual bootstrap coverage: studentised %.4f, percentile %.4f (%d replicates "
+        "x %d)\n",
+        names[i], studentized, percentile, done, kResamples);
+    RecordProperty(std::string("bootstrap_t_coverage_") + names[i], std::to_string(studentized));
+    RecordProperty(std::string("bootstrap_percentile_coverage_") + names[i],
+                   std::to_string(percentile));
+    EXPECT_GE(studentized, kMinCoverage) << names[i];
+    EXPECT_LE(studentized, kMaxCoverage) << names[i];
+    EXPECT_GE(percentile, kMinPercentileCoverage) << names[i];
+    EXPECT_LE(percentile, kMaxCoverage) << names[i];
   }
 }
 
