@@ -20,6 +20,7 @@ fs::path PrepareJobs() {
   const fs::path jobs = root / "jobs";
   if (fs::exists(jobs / ("job_" + std::to_string(kNumJobs - 1)))) return root;
   fs::remove_all(root);
+  fs::create_directories(jobs);
   const char* scenario_env = std::getenv("SORBTRACE_BATCH_SCENARIO");
   const fs::path scenario = fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs" /
                             (scenario_env != nullptr ? scenario_env : "lime_plaster_desiccator");

@@ -10,6 +10,7 @@ cmake -S . -B build -DCMAKE_BUILD_TYPE=Release -DSORBTRACE_BUILD_BENCH=ON >/dev/
 cmake --build build -j"$(nproc)"
 
 out=bench/results
+mkdir -p "$out"
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 programs=$(find build/bench -maxdepth 1 -type f -name '*_benchmark' -perm -u+x | sort)
