@@ -7,12 +7,92 @@
 #include <numeric>
 #include <string>
 
+#include <Eigen/Cholesky>
+
 #include "fitters/fitter.h"
 #include "fitters/internal/fit_workspace.h"
 #include "fitters/internal/random.h"
 #include "fitters/internal/statistics.h"
 
 namespace sorbtrace::fitters {
+namespace {
+
+// The linearised start of the residual-bootstrap refits (see Resample).
+struct WarmStart {
+  bool usable = false;
+  Eigen::MatrixXd gain;        // (A'A)^-1 A', p x n
+  Eigen::MatrixXd jacobian;    // a_i rows, n x p
+  std::vector<double> b, c;    // dr_yi/dt_i and dr_xi/dt_i (c = 0: no fitted t_i)
+  std::vector<double> r_x;     // x residual at the full-data solution
+  std::vector<double> g2;      // b^2 + c^2
+  Eigen::VectorXd reduced, step;
+
+  void Apply(const FitResult& full_fit, const std::vector<double>& drawn,
+             std::vector<double>* start, std::vector<double>* x0_start) {
+    const Eigen::Index n = static_cast<Eigen::Index>(drawn.size());
+    for (Eigen::Index i = 0; i < n; ++i) {
+      const std::size_t k = static_cast<std::size_t>(i);
+      reduced[i] = c[k] != 0.0 ? (c[k] * drawn[k] - b[k] * r_x[k]) / std::sqrt(g2[k]) : drawn[k];
+    }
+    step.noalias() = -gain * reduced;
+    for (std::size_t j = 0; j < start->size(); ++j) {
+      (*start)[j] = full_fit.parameters[j] + step[static_cast<Eigen::Index>(j)];
+    }
+    for (Eigen::Index i = 0; i < n; ++i) {
+      const std::size_t k = static_cast<std::size_t>(i);
+      if (c[k] == 0.0) continue;
+      const double r_y = drawn[k] + jacobian.row(i).dot(step);
+      (*x0_start)[k] = full_fit.fitted_x0[k] - (b[k] * r_y + c[k] * r_x[k]) / g2[k];
+    }
+  }
+};
+
+WarmStart LinearisedWarmStart(const Model& model, const std::vector<Observation>& observations,
+                              const ModelContext& context, const FitResult& full_fit,
+                              const FitOptions& fit_options) {
+  WarmStart warm;
+  if (fit_options.loss != LossKind::kSquared) return warm;  // the step assumes squared loss
+  const std::size_t n = observations.size();
+  const Eigen::Index p = static_cast<Eigen::Index>(full_fit.parameters.size());
+  std::vector<Observation> at_solution = observations;
+  warm.b.assign(n, 0.0);
+  warm.c.assign(n, 0.0);
+  warm.r_x.assign(n, 0.0);
+  warm.g2.assign(n, 1.0);
+  for (std::size_t i = 0; i < n; ++i) {
+    if (fit_options.errors_in_variables && observations[i].sigma_x0 > 0.0) {
+      at_solution[i].x[0] = full_fit.fitted_x0[i];
+      warm.c[i] = -1.0 / observations[i].sigma_x0;
+      warm.r_x[i] = (observations[i].x[0] - full_fit.fitted_x0[i]) / observations[i].sigma_x0;
+    }
+  }
+  using RowMajor = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>;
+  RowMajor jacobian(static_cast<Eigen::Index>(n), p);
+  std::vector<double> residuals(n), slopes(n);
+  if (!model.WeightedResiduals(full_fit.parameters.data(), at_solution.data(), n, context,
+                               residuals.data(), jacobian.data(), slopes.data())) {
+    return warm;
+  }
+  warm.jacobian = jacobian;
+  Eigen::MatrixXd reduced_rows = warm.jacobian;
+  for (std::size_t i = 0; i < n; ++i) {
+    if (warm.c[i] == 0.0) continue;
+    warm.b[i] = slopes[i];
+    warm.g2[i] = slopes[i] * slopes[i] + warm.c[i] * warm.c[i];
+    reduced_rows.row(static_cast<Eigen::Index>(i)) *= warm.c[i] / std::sqrt(warm.g2[i]);
+  }
+  const Eigen::MatrixXd normal = reduced_rows.transpose() * reduced_rows;
+  const Eigen::LDLT<Eigen::MatrixXd> ldlt(normal);
+  if (ldlt.info() != Eigen::Success || !ldlt.isPositive()) return warm;
+  warm.gain = ldlt.solve(reduced_rows.transpose());
+  if (!warm.gain.allFinite()) return warm;
+  warm.reduced.resize(static_cast<Eigen::Index>(n));
+  warm.step.resize(p);
+  warm.usable = true;
+  return warm;
+}
+
+}  // namespace
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
                         const ModelContext& context, const FitResult& full_fit,
@@ -56,6 +136,21 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   internal::FitWorkspace workspace(model, observations, context, fit_options);
   internal::Random random(options.seed);
 
+  // Residual bootstrap: each refit starts one Gauss-Newton step away from the full-data
+  // solution (p_hat, t_hat), computed from the full-data Jacobian for the drawn residuals, so
+  // the refit begins within second order of its optimum. Point i has y residual
+  // r_yi = e*_i (the drawn weighted residual), x residual r_xi = (x0_i - t_hat_i) / sigma_x0_i,
+  // Jacobian rows a_i = dr_yi/dp, b_i = dr_yi/dt_i, c_i = -1 / sigma_x0_i. Eliminating the
+  // step in t_i leaves the row a_i c_i / g_i and residual (c_i r_yi - b_i r_xi) / g_i with
+  // g_i = sqrt(b_i^2 + c_i^2) (a_i and r_yi alone without a fitted t_i); then
+  // s_p = -(A'A)^-1 A' r and s_ti = -(b_i (r_yi + a_i s_p) + c_i r_xi) / g_i^2.
+  WarmStart warm;
+  if (options.kind == ResampleKind::kResidualBootstrap) {
+    warm = LinearisedWarmStart(model, observations, context, full_fit, fit_options);
+  }
+  std::vector<double> start = full_fit.parameters;
+  std::vector<double> drawn(n, 0.0);
+
   // Full-data standard errors in the studentised form (s^2 (J'J)^-1 at the reported solution).
   const bool studentize = options.kind != ResampleKind::kMonteCarloInputs;
   std::vector<double> se_hat(pp, kNaN);
@@ -83,10 +178,11 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
       case ResampleKind::kResidualBootstrap:
         for (std::size_t i = 0; i < n; ++i) {
           data[i] = observations[i];
-          data[i].y =
-              full_fit.fitted[i] + observations[i].sigma_y * weighted_residuals[random.Index(n)];
+          drawn[i] = weighted_residuals[random.Index(n)];
+          data[i].y = full_fit.fitted[i] + observations[i].sigma_y * drawn[i];
           x0_start[i] = full_fit.fitted_x0[i];
         }
+        if (warm.usable) warm.Apply(full_fit, drawn, &start, &x0_start);
         break;
       case ResampleKind::kCaseBootstrap:
         for (std::size_t i = 0; i < n; ++i) {
@@ -107,7 +203,8 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
         break;
     }
     workspace.DataChanged();
-    const internal::SolveOutcome outcome = workspace.Solve(full_fit.parameters, &x0_start);
+    const internal::SolveOutcome outcome =
+        workspace.Solve(warm.usable ? start : full_fit.parameters, &x0_start);
     if (outcome.converged) {
       result.parameter_draws.push_back(workspace.parameters());
       double weighted_ssr = 0.0;
