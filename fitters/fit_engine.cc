@@ -133,7 +133,7 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
 
   internal::FitWorkspace workspace(model, observations, context, options);
   if (options.errors_in_variables && workspace.num_errors_in_variables() == 0) {
-    summary.flags.push_back(
+    summary.flags.emplace_back(
         "errors in variables requested but no point has sigma_x0 > 0: ordinary fit");
   }
 
@@ -220,7 +220,7 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
   result.statistics =
       internal::ComputeStatistics(data, result.residuals, x_terms, p, residuals_at_observed_x);
   const FitStatistics& stats = result.statistics;
-  if (!AllFinite(result.fitted)) summary.flags.push_back("model not finite at some data points");
+  if (!AllFinite(result.fitted)) summary.flags.emplace_back("model not finite at some data points");
 
   // Covariance.
   const double s2 = stats.weighted_ssr / stats.degrees_of_freedom;
@@ -290,7 +290,7 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
     result.estimates.push_back(std::move(e));
   }
   if (!std::isfinite(stats.aicc)) {
-    summary.flags.push_back("AICc undefined: n - p - 1 <= 0");
+    summary.flags.emplace_back("AICc undefined: n - p - 1 <= 0");
   }
   if (options.weights == WeightConvention::kAbsolute && std::isfinite(stats.chi_square_p_value) &&
       stats.chi_square_p_value < 0.05) {

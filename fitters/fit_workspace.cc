@@ -275,8 +275,8 @@ bool FitWorkspace::LastSolveCovariance(Eigen::MatrixXd* covariance, double* weig
     return false;
   }
   *covariance = scale.asDiagonal() * eigen.eigenvectors() *
-                eigen.eigenvalues().cwiseInverse().asDiagonal() *
-                eigen.eigenvectors().transpose() * scale.asDiagonal();
+                eigen.eigenvalues().cwiseInverse().asDiagonal() * eigen.eigenvectors().transpose() *
+                scale.asDiagonal();
   return covariance->allFinite();
 }
 

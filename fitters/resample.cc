@@ -1,13 +1,12 @@
 // Resample: residual and case bootstrap and JCGM 101 Monte Carlo, each draw refitted on one
 // reused FitWorkspace (its dense solver, or its ceres::Problem) warm-started at the full-data
 // solution.
+#include <Eigen/Cholesky>
 #include <algorithm>
 #include <cmath>
 #include <limits>
 #include <numeric>
 #include <string>
-
-#include <Eigen/Cholesky>
 
 #include "fitters/fitter.h"
 #include "fitters/internal/fit_workspace.h"
@@ -20,11 +19,11 @@ namespace {
 // The linearised start of the residual-bootstrap refits (see Resample).
 struct WarmStart {
   bool usable = false;
-  Eigen::MatrixXd gain;        // (A'A)^-1 A', p x n
-  Eigen::MatrixXd jacobian;    // a_i rows, n x p
-  std::vector<double> b, c;    // dr_yi/dt_i and dr_xi/dt_i (c = 0: no fitted t_i)
-  std::vector<double> r_x;     // x residual at the full-data solution
-  std::vector<double> g2;      // b^2 + c^2
+  Eigen::MatrixXd gain;      // (A'A)^-1 A', p x n
+  Eigen::MatrixXd jacobian;  // a_i rows, n x p
+  std::vector<double> b, c;  // dr_yi/dt_i and dr_xi/dt_i (c = 0: no fitted t_i)
+  std::vector<double> r_x;   // x residual at the full-data solution
+  std::vector<double> g2;    // b^2 + c^2
   Eigen::VectorXd reduced, step;
 
   void Apply(const FitResult& full_fit, const std::vector<double>& drawn,
@@ -161,14 +160,14 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
     if (workspace.ComputeCovariance(&covariance, &error)) {
       const double s2_hat = full_fit.statistics.weighted_ssr / dof;
       for (std::size_t j = 0; j < pp; ++j) {
-        se_hat[j] = std::sqrt(s2_hat * covariance(static_cast<Eigen::Index>(j),
-                                                  static_cast<Eigen::Index>(j)));
+        se_hat[j] = std::sqrt(
+            s2_hat * covariance(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(j)));
       }
     }
   }
-  const bool studentize_ok =
-      studentize && std::all_of(se_hat.begin(), se_hat.end(),
-                                [](double se) { return std::isfinite(se) && se > 0.0; });
+  const bool studentize_ok = studentize && std::all_of(se_hat.begin(), se_hat.end(), [](double se) {
+                               return std::isfinite(se) && se > 0.0;
+                             });
   std::vector<std::vector<double>> pivots(studentize_ok ? pp : 0);
   std::vector<double> x0_start(n);
   std::vector<std::size_t> source(n);

@@ -123,23 +123,25 @@ std::vector<std::vector<double>> BetNLayerEquation::StartingPoints(
   std::stable_sort(ranked.begin(), ranked.end(),
                    [](const auto& lhs, const auto& rhs) { return lhs.first < rhs.first; });
   std::vector<std::vector<double>> candidates;
+  candidates.reserve(ranked.size());
   for (auto& [cost, p] : ranked) candidates.push_back(std::move(p));
   return CleanStartingPoints(candidates, Info());
 }
 
 std::vector<std::string> BetEquation::PhysicalFlags(const double* params) {
   std::vector<std::string> flags;
-  if (params[0] <= 0.0) flags.push_back("X_m <= 0: no monolayer capacity");
+  if (params[0] <= 0.0) flags.emplace_back("X_m <= 0: no monolayer capacity");
   if (params[1] <= 0.0)
-    flags.push_back("C <= 0: negative BET intercept, the BET model does not apply");
+    flags.emplace_back("C <= 0: negative BET intercept, the BET model does not apply");
   return flags;
 }
 
 std::vector<std::string> BetNLayerEquation::PhysicalFlags(const double* params) {
   std::vector<std::string> flags = BetEquation::PhysicalFlags(params);
   const double n = params[2];
-  if (n <= 1.0) flags.push_back("n <= 1: monolayer only (Langmuir limit)");
-  if (n >= 50.0) flags.push_back("n >= 50: layer number not determined (infinite-layer BET limit)");
+  if (n <= 1.0) flags.emplace_back("n <= 1: monolayer only (Langmuir limit)");
+  if (n >= 50.0)
+    flags.emplace_back("n >= 50: layer number not determined (infinite-layer BET limit)");
   return flags;
 }
 
@@ -154,7 +156,7 @@ RouquerolCriteria CheckRouquerolCriteria(double monolayer_kg_per_kg, double c,
 
   // 1. C > 0.
   result.c_positive = c > 0.0;
-  if (!result.c_positive) result.messages.push_back("criterion 1 failed: C <= 0");
+  if (!result.c_positive) result.messages.emplace_back("criterion 1 failed: C <= 0");
 
   // 2. u (1 - a_w) increasing with a_w.
   result.monotonic = sorted.size() >= 2;
@@ -164,7 +166,7 @@ RouquerolCriteria CheckRouquerolCriteria(double monolayer_kg_per_kg, double c,
     if (!(current > previous)) result.monotonic = false;
   }
   if (!result.monotonic)
-    result.messages.push_back(
+    result.messages.emplace_back(
         "criterion 2 failed: u (1 - a_w) does not increase monotonically over the fitted points");
 
   // 3. a_w at u = X_m inside the range: first crossing of the measured u through X_m.
@@ -178,7 +180,7 @@ RouquerolCriteria CheckRouquerolCriteria(double monolayer_kg_per_kg, double c,
   }
   result.monolayer_in_range = std::isfinite(result.measured_rh_at_monolayer);
   if (!result.monolayer_in_range)
-    result.messages.push_back(
+    result.messages.emplace_back(
         "criterion 3 failed: the measured moisture content does not pass through X_m inside the "
         "fitted a_w range");
 
@@ -191,7 +193,7 @@ RouquerolCriteria CheckRouquerolCriteria(double monolayer_kg_per_kg, double c,
     result.monolayer_position_consistent = result.relative_difference <= options.relative_tolerance;
   }
   if (!result.monolayer_position_consistent)
-    result.messages.push_back(
+    result.messages.emplace_back(
         "criterion 4 failed: 1/(sqrt(C) + 1) does not match the a_w at u = X_m within the "
         "tolerance");
   return result;

@@ -72,6 +72,7 @@ std::vector<std::vector<double>> GridStarts(int num_systems,
         std::vector<double> w;
         for (const Observation& o : observations) {
           std::vector<double> row;
+          row.reserve(num_systems);
           for (int i = 0; i < num_systems; ++i)
             row.push_back(
                 VanGenuchtenSaturationAtRh(o.x[0], centre + offset - i * spacing, n, m, factor));
@@ -178,7 +179,7 @@ std::vector<std::string> Durner2Equation::PhysicalFlags(const double* params) {
   const double offsets[] = {params[4]};
   FlagCommon(params, 2, offsets, &flags);
   if (params[1] <= 0.0 || params[1] >= 1.0)
-    flags.push_back("w1 at 0 or 1: one pore system carries no water (unimodal curve)");
+    flags.emplace_back("w1 at 0 or 1: one pore system carries no water (unimodal curve)");
   return flags;
 }
 
@@ -188,7 +189,7 @@ std::vector<std::string> Durner3Equation::PhysicalFlags(const double* params) {
   FlagCommon(params, 3, offsets, &flags);
   for (double w : Durner3Weights(params))
     if (w <= 0.0) {
-      flags.push_back("a pore-system weight is 0: fewer than three systems carry water");
+      flags.emplace_back("a pore-system weight is 0: fewer than three systems carry water");
       break;
     }
   return flags;

@@ -101,14 +101,14 @@ std::vector<std::string> GabEquation::PhysicalFlags(const double* params) {
   const double c = params[1];
   const double k = params[2];
   std::vector<std::string> flags;
-  if (params[0] <= 0.0) flags.push_back("X_m <= 0: no monolayer capacity");
-  if (c <= 0.0) flags.push_back("C <= 0: physically meaningless Guggenheim constant");
+  if (params[0] <= 0.0) flags.emplace_back("X_m <= 0: no monolayer capacity");
+  if (c <= 0.0) flags.emplace_back("C <= 0: physically meaningless Guggenheim constant");
   if (k >= 1.0)
-    flags.push_back(
+    flags.emplace_back(
         "K >= 1: the multilayer factor implies unbounded sorption at a_w = 1/K <= 1 "
         "(physically doubtful)");
   if (c > 0.0 && k > 0.0 && k < 1.0 && (k <= kLewickiMinK || c < kLewickiMinC))
-    flags.push_back(
+    flags.emplace_back(
         "outside 0.24 < K <= 1, C >= 5.67 (Lewicki, Int. J. Food Sci. Technol. 32 (1997) 553; "
         "from memory): the curve is not a sigmoid type II isotherm and X_m may differ from the "
         "true monolayer by more than 15.5 %");

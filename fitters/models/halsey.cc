@@ -56,8 +56,8 @@ std::vector<std::vector<double>> HalseyEquation::StartingPoints(
 
 std::vector<std::string> HalseyEquation::PhysicalFlags(const double* params) {
   std::vector<std::string> flags;
-  if (params[0] <= 0.0) flags.push_back("A <= 0: no sorption");
-  if (params[1] <= 0.0) flags.push_back("B <= 0: not a Halsey isotherm");
+  if (params[0] <= 0.0) flags.emplace_back("A <= 0: no sorption");
+  if (params[1] <= 0.0) flags.emplace_back("B <= 0: not a Halsey isotherm");
   return flags;
 }
 

@@ -56,8 +56,8 @@ std::vector<std::vector<double>> HendersonEquation::StartingPoints(
 
 std::vector<std::string> HendersonEquation::PhysicalFlags(const double* params) {
   std::vector<std::string> flags;
-  if (params[0] <= 0.0) flags.push_back("k <= 0: not a Henderson isotherm");
-  if (params[1] <= 0.0) flags.push_back("n <= 0: not a Henderson isotherm");
+  if (params[0] <= 0.0) flags.emplace_back("k <= 0: not a Henderson isotherm");
+  if (params[1] <= 0.0) flags.emplace_back("n <= 0: not a Henderson isotherm");
   return flags;
 }
 

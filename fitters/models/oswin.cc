@@ -46,8 +46,8 @@ std::vector<std::vector<double>> OswinEquation::StartingPoints(
 
 std::vector<std::string> OswinEquation::PhysicalFlags(const double* params) {
   std::vector<std::string> flags;
-  if (params[0] <= 0.0) flags.push_back("A <= 0: no sorption");
-  if (params[1] <= 0.0) flags.push_back("B <= 0: moisture content does not rise with a_w");
+  if (params[0] <= 0.0) flags.emplace_back("A <= 0: no sorption");
+  if (params[1] <= 0.0) flags.emplace_back("B <= 0: moisture content does not rise with a_w");
   return flags;
 }
 

@@ -77,9 +77,9 @@ std::vector<std::vector<double>> PelegEquation::StartingPoints(
 
 std::vector<std::string> PelegEquation::PhysicalFlags(const double* params) {
   std::vector<std::string> flags;
-  if (params[0] < 0.0 || params[2] < 0.0) flags.push_back("negative Peleg coefficient");
+  if (params[0] < 0.0 || params[2] < 0.0) flags.emplace_back("negative Peleg coefficient");
   if (params[1] >= 1.0 || params[3] <= 1.0)
-    flags.push_back("n1 < 1 < n2 not strict: the two terms are not separated");
+    flags.emplace_back("n1 < 1 < n2 not strict: the two terms are not separated");
   return flags;
 }
 

@@ -172,16 +172,16 @@ std::vector<std::vector<double>> VanGenuchtenFreeMEquation::StartingPoints(
 
 std::vector<std::string> VanGenuchtenEquation::PhysicalFlags(const double* params) {
   std::vector<std::string> flags;
-  if (params[0] <= 0.0) flags.push_back("u_sat <= 0: no pore water at saturation");
-  if (params[2] <= 1.0) flags.push_back("n <= 1: m = 1 - 1/n <= 0, the curve is flat");
+  if (params[0] <= 0.0) flags.emplace_back("u_sat <= 0: no pore water at saturation");
+  if (params[2] <= 1.0) flags.emplace_back("n <= 1: m = 1 - 1/n <= 0, the curve is flat");
   return flags;
 }
 
 std::vector<std::string> VanGenuchtenFreeMEquation::PhysicalFlags(const double* params) {
   std::vector<std::string> flags;
-  if (params[0] <= 0.0) flags.push_back("u_sat <= 0: no pore water at saturation");
-  if (params[2] <= 0.0) flags.push_back("n <= 0: not a retention curve");
-  if (params[3] <= 0.0) flags.push_back("m <= 0: not a retention curve");
+  if (params[0] <= 0.0) flags.emplace_back("u_sat <= 0: no pore water at saturation");
+  if (params[2] <= 0.0) flags.emplace_back("n <= 0: not a retention curve");
+  if (params[3] <= 0.0) flags.emplace_back("m <= 0: not a retention curve");
   return flags;
 }
 

@@ -206,6 +206,7 @@ std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
   //    new cluster when it is more than kTemperatureMergeSpan_K warmer than the coldest item
   //    of the current cluster.
   std::vector<const TemperatureItem*> sorted;
+  sorted.reserve(items.size());
   for (const auto& [key, item] : items) sorted.push_back(&item);
   std::stable_sort(sorted.begin(), sorted.end(),
                    [](const TemperatureItem* a, const TemperatureItem* b) {

@@ -121,7 +121,7 @@ void CommonAssumptions(const PoreRadiusMap& map, ingest::Branch branch, const Po
       "pores below {:g} nm are not Kelvin-resolved (micropores): their water is reported as "
       "adsorbed",
       options.min_radius_m / kNm));
-  d->assumptions.push_back(
+  d->assumptions.emplace_back(
       "pore water at the density of bulk liquid water at the test temperature");
 }
 
@@ -246,7 +246,7 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
   d.film_description = map.film().description;
   CommonAssumptions(map, branch, options, &d);
   d.assumptions.push_back(fmt::format("moisture content from the fitted {} model", curve.name));
-  d.assumptions.push_back(
+  d.assumptions.emplace_back(
       options.film_volume_correction
           ? "pore volumes corrected for the thinning film in emptied pores (BJH-type step on "
             "the radius grid)"
@@ -304,7 +304,7 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
 
   std::vector<double> u(nn);
   if (!evaluate(curve.parameters.data(), &u)) {
-    d.assumptions.push_back("the model is not finite on the radius grid: no distribution");
+    d.assumptions.emplace_back("the model is not finite on the radius grid: no distribution");
     return d;
   }
   const GridVolumes nominal =
@@ -322,7 +322,7 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
     const double u_saturated = model.Evaluate(curve.parameters.data(), x_one, curve.context);
     if (std::isfinite(u_saturated) && u_saturated >= u[nn - 1]) {
       d.not_resolved_volume_m3_per_kg = (u_saturated - u[nn - 1]) / rho;
-      d.assumptions.push_back(
+      d.assumptions.emplace_back(
           "volume not resolved: the model's moisture content at RH = 1 minus that at the largest "
           "resolved radius (an extrapolation)");
     }
@@ -428,7 +428,7 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
   d.film_description = map.film().description;
   d.band_source = "none";
   CommonAssumptions(map, branch, options, &d);
-  d.assumptions.push_back(
+  d.assumptions.emplace_back(
       "stepwise from the measured points, high RH down, each step corrected for the thinning "
       "film in pores emptied before (Barrett, Joyner & Halenda 1951)");
 
@@ -484,7 +484,7 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
     nodes.push_back(Node{rh_j, merged[j].moisture_kg_per_kg, merged[j].u_moisture_kg_per_kg});
   }
   if (nodes.size() < 2) {
-    d.assumptions.push_back(
+    d.assumptions.emplace_back(
         "fewer than two measured points above the smallest radius: nothing "
         "resolved");
     return d;

@@ -180,7 +180,7 @@ ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
   r.branch = ingest::Branch::kAdsorption;
   if (best_adsorption.empty()) {
     r.temperature_matches = false;
-    r.flags.push_back("no fitted adsorption isotherm: not available");
+    r.flags.emplace_back("no fitted adsorption isotherm: not available");
     return r;
   }
   const FittedCurve* best = &best_adsorption.front();

@@ -78,7 +78,7 @@ SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilib
   point.extrapolated = eq.extrapolated;
   point.flags = eq.flags;
   point.where = eq.where;
-  if (!dry.equilibrated) point.flags.push_back("dry reference mass not at constant mass");
+  if (!dry.equilibrated) point.flags.emplace_back("dry reference mass not at constant mass");
 
   const double m = eq.mass_g;
   const double md = dry.mass_g;
@@ -125,7 +125,7 @@ SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilib
   if (point.moisture_kg_per_kg < 0.0) {
     const double margin = options.coverage_factor * point.u_moisture_kg_per_kg;
     if (job.negative_moisture_expected) {
-      point.flags.push_back("negative moisture content (expected for this material)");
+      point.flags.emplace_back("negative moisture content (expected for this material)");
     } else if (point.moisture_kg_per_kg < -margin) {
       throw InputError(
           eq.where,
@@ -136,15 +136,15 @@ SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilib
           "a mass not below the dry mass, or negative_moisture_expected = true in "
           "[measurement]");
     } else {
-      point.flags.push_back("negative moisture content within its uncertainty");
+      point.flags.emplace_back("negative moisture content within its uncertainty");
     }
   }
   if (!point.equilibrated) {
     if (options.include_not_equilibrated) {
-      point.flags.push_back("included although not equilibrated");
+      point.flags.emplace_back("included although not equilibrated");
     } else {
       point.excluded = true;
-      point.flags.push_back("excluded: not equilibrated");
+      point.flags.emplace_back("excluded: not equilibrated");
     }
   }
   return point;

@@ -253,24 +253,24 @@ void SummarySection(Context& ctx, bool compact) {
   std::vector<std::pair<std::string, std::string>> facts;
   if (ctx.inputs.ingested != nullptr) {
     const ingest::JobSpec& job = ctx.inputs.ingested->job;
-    facts.push_back({"Material", job.material_name});
+    facts.emplace_back("Material", job.material_name);
     if (!job.material_description.empty())
-      facts.push_back({"Description", job.material_description});
-    if (!job.client.empty()) facts.push_back({"Client", job.client});
+      facts.emplace_back("Description", job.material_description);
+    if (!job.client.empty()) facts.emplace_back("Client", job.client);
     std::string specimens;
     for (const ingest::SpecimenSpec& s : job.specimens) {
       specimens += (specimens.empty() ? "" : ", ") + s.id;
     }
-    facts.push_back({"Specimens", fmt::format("{} ({})", job.specimens.size(), specimens)});
-    facts.push_back({"Method", MethodText(ctx.inputs.ingested)});
+    facts.emplace_back("Specimens", fmt::format("{} ({})", job.specimens.size(), specimens));
+    facts.emplace_back("Method", MethodText(ctx.inputs.ingested));
     std::string temperatures;
     for (double t : DistinctTemperatures(ctx.inputs)) {
       temperatures += (temperatures.empty() ? "" : ", ") + TemperatureLabel(t);
     }
-    if (!temperatures.empty()) facts.push_back({"Temperature", temperatures});
-    if (!job.test_dates.empty()) facts.push_back({"Test dates", job.test_dates});
-    facts.push_back(
-        {"Issued", job.issue_date.empty() ? ctx.options.document_date : job.issue_date});
+    if (!temperatures.empty()) facts.emplace_back("Temperature", temperatures);
+    if (!job.test_dates.empty()) facts.emplace_back("Test dates", job.test_dates);
+    facts.emplace_back("Issued",
+                       job.issue_date.empty() ? ctx.options.document_date : job.issue_date);
   }
   doc.KeyValues(facts, 90.0);
 
@@ -310,7 +310,7 @@ void SummarySection(Context& ctx, bool compact) {
     cautions.resize(limit - 1);
     cautions.push_back(fmt::format("… and {} further notes (results.json, \"cautions\").", more));
   }
-  if (cautions.empty()) cautions.push_back("No measurement or fitting cautions were raised.");
+  if (cautions.empty()) cautions.emplace_back("No measurement or fitting cautions were raised.");
   cautions.push_back(compact ? ctx.sheet.standing_cautions[0] + " " + ctx.sheet.standing_cautions[1]
                              : "See section 8 for the conditions of use of these results.");
   if (compact) {
@@ -732,8 +732,9 @@ void EquilibriaSection(Context& ctx) {
   for (const reduce::IsothermPoint& p : ctx.inputs.reduced->points) {
     std::string flags;
     for (const std::string& f : p.flags) flags += (flags.empty() ? "" : "; ") + f;
-    if (!p.equilibrated) flags = "not equilibrated" + (flags.empty() ? "" : "; " + flags);
-    if (p.extrapolated) flags = "extrapolated" + (flags.empty() ? "" : "; " + flags);
+    if (!p.equilibrated)
+      flags = fmt::format("not equilibrated{}{}", flags.empty() ? "" : "; ", flags);
+    if (p.extrapolated) flags = fmt::format("extrapolated{}{}", flags.empty() ? "" : "; ", flags);
     const double u_rh =
         p.expanded_u_rh_fraction > 0.0 ? p.expanded_u_rh_fraction : k * p.u_rh_fraction;
     const double u_m = p.expanded_u_moisture_kg_per_kg > 0.0 ? p.expanded_u_moisture_kg_per_kg

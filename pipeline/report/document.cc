@@ -271,6 +271,7 @@ void Document::TableRow(const std::vector<TableColumn>& columns,
 void Document::Table(const std::vector<TableColumn>& columns,
                      const std::vector<std::vector<std::string>>& rows, double size_pt) {
   std::vector<std::string> header;
+  header.reserve(columns.size());
   for (const TableColumn& c : columns) header.push_back(c.header);
   const double header_height = TableRowHeight(columns, header, size_pt, true);
   const double first_row = rows.empty() ? 0.0 : TableRowHeight(columns, rows[0], size_pt, false);

@@ -38,7 +38,7 @@ std::string WithUnit(const std::string& number, const std::string& display_unit)
   return number + " " + display_unit;
 }
 
-std::string KeyPart(std::string text) {
+std::string KeyPart(const std::string& text) {
   std::string out;
   for (char c : text) {
     if ((c >= 'a' && c <= 'z') || (c >= '0' && c <= '9')) {
@@ -157,13 +157,14 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
       const std::string t = FormatFixed(rm.condition.temperature_K - kZeroCelsius_K, 0);
       const std::string rh = FormatFixed(rm.condition.rh_fraction * 100.0, 0);
       sheet.headline.push_back(MoistureQuantity(
-          "moisture_" + t + "C_" + rh + "RH_" + BranchLabel(rm.branch),
-          "Moisture content at " + t + " °C / " + rh + " % RH (" + BranchLabel(rm.branch) + ")",
+          fmt::format("moisture_{}C_{}RH_{}", t, rh, BranchLabel(rm.branch)),
+          fmt::format("Moisture content at {} °C / {} % RH ({})", t, rh, BranchLabel(rm.branch)),
           rm.moisture_kg_per_kg, rm.u_moisture_kg_per_kg, rules));
       if (!rm.temperature_matches) {
         AddUnique(sheet.cautions, seen_cautions,
-                  "Moisture at " + t + " °C / " + rh +
-                      " % RH is taken from an isotherm fitted at another temperature.");
+                  fmt::format("Moisture at {} °C / {} % RH is taken from an isotherm fitted at "
+                              "another temperature.",
+                              t, rh));
       }
       for (const std::string& f : rm.flags) AddUnique(sheet.cautions, seen_cautions, f);
     }

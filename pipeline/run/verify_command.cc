@@ -1,6 +1,8 @@
 // `sorbtrace verify RESULTS.json`: what an auditor runs on an issued sheet. Checks the SHA-256
 // of every recorded input, re-runs the pipeline from those inputs and the recorded settings,
 // and compares every number of the recorded results with the recomputed one.
+#include <fmt/format.h>
+
 #include <CLI/CLI.hpp>
 #include <cstdio>
 #include <filesystem>
@@ -82,10 +84,11 @@ int Verify(const VerifyArguments& args) {
     }
     std::string actual = "(missing file)";
     if (fs::exists(resolved)) actual = Sha256HexOfFile(resolved);
-    record((actual == expected ? "pass" : "FAIL") + std::string("  input ") + role + " " +
-               resolved.string() + "  sha256 " +
-               (actual == expected ? "unchanged"
-                                   : "CHANGED: recorded " + expected + ", now " + actual),
+    record(fmt::format("{}  input {} {}  sha256 {}", actual == expected ? "pass" : "FAIL", role,
+                       resolved.string(),
+                       actual == expected
+                           ? std::string("unchanged")
+                           : fmt::format("CHANGED: recorded {}, now {}", expected, actual)),
            actual == expected, true);
   }
   if (failures > 0) {

@@ -279,7 +279,7 @@ std::vector<std::string> Canvas::Wrap(std::string_view text, double size_pt, dou
         }
         word = piece;  // the rest continues like an ordinary word
       }
-      const std::string candidate = line.empty() ? word : line + " " + word;
+      const std::string candidate = line.empty() ? word : fmt::format("{} {}", line, word);
       if (!line.empty() && TextWidth(candidate, size_pt, bold) > width_pt) {
         lines.push_back(line);
         line = word;
