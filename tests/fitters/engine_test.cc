@@ -548,18 +548,25 @@ class CopyOnlyModel final : public Model {
   const Model& inner_;
 };
 
-TEST(ResampleTest, InPlaceReuseEqualsRebuildingTheProblem) {
-  const auto model = MakeAutoDiffModel<BoundedDecay>();
-  const CopyOnlyModel copy_only(*model);
+// Invented: y = 2 exp(-0.05 x) with scatter; every other point has an x uncertainty (mixed,
+// so the case bootstrap changes which points have a fitted true x).
+std::vector<Observation> DecayDataWithSomeXErrors() {
   std::vector<Observation> data;
-  for (int i = 0; i < 12; ++i) {  // invented: y = 2 exp(-0.05 x) with scatter, x errors
+  for (int i = 0; i < 12; ++i) {
     Observation o;
     o.x = {1.0 * i, 0.0};
     o.y = 2.0 * std::exp(-0.05 * o.x[0]) + 0.01 * std::sin(3.0 * i);
     o.sigma_y = 0.01;
-    o.sigma_x0 = i % 2 == 0 ? 0.1 : 0.0;  // mixed: the case bootstrap changes the structure
+    o.sigma_x0 = i % 2 == 0 ? 0.1 : 0.0;
     data.push_back(o);
   }
+  return data;
+}
+
+TEST(ResampleTest, InPlaceReuseEqualsRebuildingTheProblem) {
+  const auto model = MakeAutoDiffModel<BoundedDecay>();
+  const CopyOnlyModel copy_only(*model);
+  const std::vector<Observation> data = DecayDataWithSomeXErrors();
   FitOptions fit_options;
   fit_options.errors_in_variables = true;
   const FitResult fit = FitModel(*model, data, ModelContext{}, fit_options);
@@ -589,15 +596,7 @@ TEST(ResampleTest, InPlaceReuseEqualsRebuildingTheProblem) {
 // at the same point, with and without errors in variables.
 TEST(FitWorkspaceTest, LastSolveCovarianceEqualsCeresCovariance) {
   const auto model = MakeAutoDiffModel<BoundedDecay>();
-  std::vector<Observation> data;
-  for (int i = 0; i < 12; ++i) {  // invented: y = 2 exp(-0.05 x) with scatter, x errors
-    Observation o;
-    o.x = {1.0 * i, 0.0};
-    o.y = 2.0 * std::exp(-0.05 * o.x[0]) + 0.01 * std::sin(3.0 * i);
-    o.sigma_y = 0.01;
-    o.sigma_x0 = i % 2 == 0 ? 0.1 : 0.0;
-    data.push_back(o);
-  }
+  const std::vector<Observation> data = DecayDataWithSomeXErrors();
   for (bool eiv : {false, true}) {
     FitOptions options;
     options.errors_in_variables = eiv;
