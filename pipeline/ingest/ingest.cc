@@ -96,7 +96,7 @@ IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
   if (!options.IsValid(&error)) throw std::invalid_argument("IngestOptions: " + error);
   IngestResult result;
   result.job = job;
-  result.inputs.push_back(Record("job", job.job_file, job.job_file.string()));
+  result.inputs.push_back(Record("job", job.job_file, job.job_file.filename().string()));
   for (const DataSetSpec& dataset : job.datasets) {
     if (dataset.method == Method::kDesiccator) {
       result.desiccator_series.push_back(ReadDesiccatorSeries(job, dataset));

@@ -67,7 +67,7 @@ TEST(IngestTest, WholeJob) {
   ASSERT_EQ(result.retention_points.size(), 3u);
   ASSERT_EQ(result.inputs.size(), 4u);
   EXPECT_EQ(result.inputs[0].role, "job");
-  EXPECT_EQ(result.inputs[0].path, kFixtures + "job_basic.toml");
+  EXPECT_EQ(result.inputs[0].path, "job_basic.toml");  // relative to its own folder, like the data
   EXPECT_EQ(result.inputs[1].role, "desiccator");
   EXPECT_EQ(result.inputs[1].path, "desiccator.csv");
   EXPECT_EQ(result.inputs[2].role, "vapor_log");

@@ -4,6 +4,8 @@
 // reported number changes, a batch with a broken job reports it without stopping the others,
 // and a run killed half-way leaves the earlier output folder intact.
 #include <gtest/gtest.h>
+
+#include <cstdlib>
 #include <signal.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -160,6 +162,18 @@ TEST_F(RunE2eTest, SameInputsGiveByteIdenticalOutputs) {
   // name; both sit at the same depth here, so they are identical too.
   EXPECT_EQ(Sha256HexOfFile(root_ / "a" / "results.json"),
             Sha256HexOfFile(root_ / "b" / "results.json"));
+}
+
+// A lab runs `make` with a job path relative to its working folder; the auditor runs `verify`
+// from elsewhere with an absolute path. Nothing recorded may depend on either working folder.
+TEST_F(RunE2eTest, AuditPassesWhateverTheWorkingFoldersOfMakeAndVerify) {
+  const fs::path job = Jobs().front();
+  const fs::path relative_job = fs::relative(job, root_);
+  const std::string make = "cd " + root_.string() + " && " + std::string(SORBTRACE_BINARY) +
+                           " make " + relative_job.string() + " --out issued -q 2>&1";
+  ASSERT_EQ(std::system(make.c_str()), 0);
+  const CommandRun audit = Sorbtrace("verify " + (root_ / "issued" / "results.json").string());
+  EXPECT_EQ(audit.exit_code, 0) << audit.output;
 }
 
 TEST_F(RunE2eTest, AuditFailsAfterOneInputByteChanges) {
