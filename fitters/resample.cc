@@ -6,7 +6,6 @@
 #include <cmath>
 #include <limits>
 #include <numeric>
-#include <string>
 
 #include "fitters/fitter.h"
 #include "fitters/internal/fit_workspace.h"
@@ -150,19 +149,15 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   std::vector<double> start = full_fit.parameters;
   std::vector<double> drawn(n, 0.0);
 
-  // Full-data standard errors in the studentised form (s^2 (J'J)^-1 at the reported solution).
+  // Full-data standard errors in the studentised form, s sqrt([(J'J)^-1]_jj), from the fit's
+  // own: under kRelative they are that already, under kAbsolute they lack the factor s.
   const bool studentize = options.kind != ResampleKind::kMonteCarloInputs;
   std::vector<double> se_hat(pp, kNaN);
   Eigen::MatrixXd covariance;
-  if (studentize) {
-    workspace.SetState(full_fit.parameters, &full_fit.fitted_x0);
-    std::string error;
-    if (workspace.ComputeCovariance(&covariance, &error)) {
-      const double s2_hat = full_fit.statistics.weighted_ssr / dof;
-      for (std::size_t j = 0; j < pp; ++j) {
-        se_hat[j] = std::sqrt(
-            s2_hat * covariance(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(j)));
-      }
+  if (studentize && full_fit.summary.covariance_available && full_fit.estimates.size() == pp) {
+    const double s_hat = std::sqrt(full_fit.statistics.weighted_ssr / dof);
+    for (std::size_t j = 0; j < pp; ++j) {
+      se_hat[j] = full_fit.estimates[j].standard_error * (relative ? 1.0 : s_hat);
     }
   }
   const bool studentize_ok = studentize && std::all_of(se_hat.begin(), se_hat.end(), [](double se) {
