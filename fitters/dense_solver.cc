@@ -58,6 +58,61 @@ void SolveLeastSquaresByHouseholderQr(int m, int p, double* a, double* b, double
   }
 }
 
+// Solves N x = v in place for a symmetric positive definite p x p column-major N (only its
+// lower triangle is read; L overwrites it) by Cholesky (Golub & Van Loan, Matrix Computations,
+// 4th ed., alg. 4.2.1); x overwrites v. False for a non-positive or non-finite pivot.
+bool SolveByCholeskyInPlace(int p, double* normal, double* v) {
+  const auto at = [&](int r, int c) -> double& {
+    return normal[static_cast<std::ptrdiff_t>(c) * p + r];
+  };
+  for (int j = 0; j < p; ++j) {
+    double d = at(j, j);
+    for (int l = 0; l < j; ++l) d -= at(j, l) * at(j, l);
+    if (!(d > 0.0) || !std::isfinite(d)) return false;
+    const double root = std::sqrt(d);
+    at(j, j) = root;
+    for (int r = j + 1; r < p; ++r) {
+      double sum = at(r, j);
+      for (int l = 0; l < j; ++l) sum -= at(r, l) * at(j, l);
+      at(r, j) = sum / root;
+    }
+  }
+  for (int j = 0; j < p; ++j) {
+    double sum = v[j];
+    for (int l = 0; l < j; ++l) sum -= at(j, l) * v[l];
+    v[j] = sum / at(j, j);
+  }
+  for (int j = p - 1; j >= 0; --j) {
+    double sum = v[j];
+    for (int r = j + 1; r < p; ++r) sum -= at(r, j) * v[r];
+    v[j] = sum / at(j, j);
+  }
+  return true;
+}
+
+// Least-squares solution of min ||A x - b|| for a column-major m x p matrix A by its normal
+// equations A'A x = A'b (Ceres' DENSE_NORMAL_CHOLESKY; squares the condition number of A,
+// which the damping rows of a Levenberg-Marquardt step bound). normal: p x p work storage.
+// A singular system gives a non-finite x, which the caller treats as an invalid step.
+void SolveLeastSquaresByNormalCholesky(int m, int p, const double* a, const double* b,
+                                       double* normal, double* x) {
+  for (int j = 0; j < p; ++j) {
+    const double* column_j = a + static_cast<std::ptrdiff_t>(j) * m;
+    double dot = 0.0;
+    for (int i = 0; i < m; ++i) dot += column_j[i] * b[i];
+    x[j] = dot;
+    for (int l = j; l < p; ++l) {
+      const double* column_l = a + static_cast<std::ptrdiff_t>(l) * m;
+      double sum = 0.0;
+      for (int i = 0; i < m; ++i) sum += column_l[i] * column_j[i];
+      normal[static_cast<std::ptrdiff_t>(j) * p + l] = sum;  // (l, j), lower triangle
+    }
+  }
+  if (!SolveByCholeskyInPlace(p, normal, x)) {
+    for (int j = 0; j < p; ++j) x[j] = std::numeric_limits<double>::quiet_NaN();
+  }
+}
+
 }  // namespace
 
 DenseLevenbergMarquardt::DenseLevenbergMarquardt(const Model& model, const ModelContext& context,
@@ -78,8 +133,12 @@ DenseLevenbergMarquardt::DenseLevenbergMarquardt(const Model& model, const Model
     }
   }
   const int p = num_parameters_;
-  for (Eigen::VectorXd* v : {&x_, &candidate_x_, &gradient_x_, &scaling_x_, &diagonal_x_, &step_x_})
+  use_scaled_step_test_ = options_.scaled_step_tolerance > 0.0 &&
+                          static_cast<int>(options_.parameter_scale.size()) == p;
+  for (Eigen::VectorXd* v :
+       {&x_, &candidate_x_, &gradient_x_, &scaling_x_, &diagonal_x_, &step_x_, &normal_rhs_})
     v->resize(p);
+  normal_.resize(p, p);
 }
 
 void DenseLevenbergMarquardt::Resize(int num_points, int num_true_x) {
@@ -160,6 +219,51 @@ double DenseLevenbergMarquardt::ProjectedGradientMaxNorm() const {
   return norm;
 }
 
+DenseLevenbergMarquardt::ReducedRow DenseLevenbergMarquardt::ReducedRowOfPoint(int i, int k) const {
+  // Point i's rows (y, and x when t_i is fitted) minimised over the step in t_i: for
+  // a_i s_p + b_i s_t + r_y and c_i s_t + r_x that leaves (c_i (a_i s_p + r_y) - b_i r_x)^2 /
+  // (b_i^2 + c_i^2), i.e. the row a_i times c_i / g_i and right-hand side
+  // -(c_i r_y - b_i r_x) / g_i with g_i = sqrt(b_i^2 + c_i^2) (unscaled; a_i, r_y alone
+  // without a fitted t_i). k < 0: no fitted t_i.
+  if (k < 0) return {1.0, -ry_[i]};
+  const double b = slope_[i];
+  const double c = x_residual_jacobian_[k];
+  const double g = std::sqrt(b * b + c * c);
+  return {c / g, -(c * ry_[i] - b * rx_[k]) / g};
+}
+
+bool DenseLevenbergMarquardt::GaussNewtonStepWithinScale() {
+  // The undamped Gauss-Newton step of the reduced problem (every fitted t_i eliminated) from
+  // its normal equations N s = v, N = sum w_i^2 a_i a_i', v = sum w_i rhs_i a_i', solved by
+  // Cholesky. N is p x p and only
+  // this test uses s, so the squared condition number of the normal equations does no harm: a
+  // singular or indefinite N fails the test and the ordinary tolerances decide. Written as
+  // loops over the lower triangle: it runs after every accepted step of every refit.
+  const int p = num_parameters_;
+  normal_.setZero();
+  normal_rhs_.setZero();
+  for (int i = 0, k = 0; i < num_points_; ++i) {
+    const bool fitted_x = k < num_true_x_ && point_of_true_x_[static_cast<std::size_t>(k)] == i;
+    const ReducedRow row = ReducedRowOfPoint(i, fitted_x ? k : -1);
+    if (fitted_x) ++k;
+    const double w2 = row.weight * row.weight;
+    const double wr = row.weight * row.rhs;
+    for (int j = 0; j < p; ++j) {
+      const double aj = jacobian_(i, j);
+      normal_rhs_[j] += wr * aj;
+      for (int l = 0; l <= j; ++l) normal_(j, l) += w2 * aj * jacobian_(i, l);
+    }
+  }
+  if (!SolveByCholeskyInPlace(p, normal_.data(), normal_rhs_.data())) return false;
+  for (int j = 0; j < p; ++j) {
+    if (!(std::abs(normal_rhs_[j]) <=
+          options_.scaled_step_tolerance * options_.parameter_scale[static_cast<std::size_t>(j)])) {
+      return false;
+    }
+  }
+  return true;
+}
+
 void DenseLevenbergMarquardt::ComputeStep(double radius) {
   const int n = num_points_;
   const int p = num_parameters_;
@@ -198,7 +302,12 @@ void DenseLevenbergMarquardt::ComputeStep(double radius) {
     reduced_(row + j, j) = std::sqrt(diagonal_x_[j] / radius);
     reduced_rhs_[row + j] = 0.0;
   }
-  SolveLeastSquaresByHouseholderQr(m, p, reduced_.data(), reduced_rhs_.data(), step_x_.data());
+  if (options_.step_solver == StepSolver::kDenseNormalCholesky) {
+    SolveLeastSquaresByNormalCholesky(m, p, reduced_.data(), reduced_rhs_.data(), normal_.data(),
+                                      step_x_.data());
+  } else {
+    SolveLeastSquaresByHouseholderQr(m, p, reduced_.data(), reduced_rhs_.data(), step_x_.data());
+  }
   // Back-substitution of the eliminated steps: s_t = -(b (a s_p + r_y) + c r_x) / h.
   for (k = 0; k < num_true_x_; ++k) {
     const int i = point_of_true_x_[static_cast<std::size_t>(k)];
@@ -377,6 +486,10 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
       if (ProjectedGradientMaxNorm() <= options_.gradient_tolerance) {
         return finish(true, false, "Gradient tolerance reached (dense solver).");
       }
+      if (use_scaled_step_test_ && GaussNewtonStepWithinScale()) {
+        return finish(true, false,
+                      "Gauss-Newton step within the tolerance in parameter scales (dense solver).");
+      }
     } else {
       radius /= decrease_factor;
       decrease_factor *= 2.0;
@@ -393,16 +506,12 @@ bool DenseLevenbergMarquardt::ParameterNormalMatrix(Eigen::MatrixXd* normal,
   if (num_points_ < 1 || jacobian_.rows() != num_points_) return false;
   const int p = num_parameters_;
   normal->setZero(p, p);
-  Eigen::VectorXd weight = Eigen::VectorXd::Ones(num_points_);
-  for (int k = 0; k < num_true_x_; ++k) {
-    const int i = point_of_true_x_[static_cast<std::size_t>(k)];
-    const double b = slope_[i];
-    const double c = x_residual_jacobian_[k];
-    weight[i] = c * c / (b * b + c * c);
-  }
-  for (int i = 0; i < num_points_; ++i) {
+  for (int i = 0, k = 0; i < num_points_; ++i) {
+    const bool fitted_x = k < num_true_x_ && point_of_true_x_[static_cast<std::size_t>(k)] == i;
+    const double w = ReducedRowOfPoint(i, fitted_x ? k : -1).weight;
+    if (fitted_x) ++k;
     const auto row = jacobian_.row(i);
-    normal->noalias() += weight[i] * row.transpose() * row;
+    normal->noalias() += (w * w) * row.transpose() * row;
   }
   *weighted_ssr = 2.0 * Cost(ry_, rx_);
   return normal->allFinite() && std::isfinite(*weighted_ssr);

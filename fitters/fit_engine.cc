@@ -319,6 +319,14 @@ bool FitOptions::IsValid(std::string* error) const {
     return fail("tolerances must be >= 0");
   }
   if (!(loss_scale > 0.0) || !std::isfinite(loss_scale)) return fail("loss_scale must be > 0");
+  if (!(scaled_step_tolerance >= 0.0) || !std::isfinite(scaled_step_tolerance)) {
+    return fail("scaled_step_tolerance must be >= 0");
+  }
+  if (scaled_step_tolerance > 0.0 &&
+      !std::all_of(parameter_scale.begin(), parameter_scale.end(),
+                   [](double v) { return v > 0.0 && std::isfinite(v); })) {
+    return fail("parameter_scale must hold positive finite values");
+  }
   if (num_multistarts < 0) return fail("num_multistarts must be >= 0");
   if (!(confidence_level > 0.0 && confidence_level < 1.0)) {
     return fail("confidence_level must be in (0, 1)");

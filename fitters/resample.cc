@@ -131,7 +131,21 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   const double inflation = std::sqrt(static_cast<double>(n) / dof);
   for (double& e : weighted_residuals) e = (e - mean_residual) * inflation;
 
-  internal::FitWorkspace workspace(model, observations, context, fit_options);
+  // Refits stop within options.refit_tolerance_se full-data standard errors of their optimum.
+  FitOptions refit_options = fit_options;
+  refit_options.step_solver = StepSolver::kDenseNormalCholesky;
+  if (options.refit_tolerance_se > 0.0 && full_fit.estimates.size() == pp &&
+      std::all_of(full_fit.estimates.begin(), full_fit.estimates.end(),
+                  [](const ParameterEstimate& e) {
+                    return std::isfinite(e.standard_error) && e.standard_error > 0.0;
+                  })) {
+    refit_options.scaled_step_tolerance = options.refit_tolerance_se;
+    refit_options.parameter_scale.clear();
+    for (const ParameterEstimate& e : full_fit.estimates) {
+      refit_options.parameter_scale.push_back(e.standard_error);
+    }
+  }
+  internal::FitWorkspace workspace(model, observations, context, refit_options);
   internal::Random random(options.seed);
 
   // Residual bootstrap: each refit starts one Gauss-Newton step away from the full-data
@@ -199,6 +213,7 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
     workspace.DataChanged();
     const internal::SolveOutcome outcome =
         workspace.Solve(warm.usable ? start : full_fit.parameters, &x0_start);
+    result.refit_iterations += outcome.iterations;
     if (outcome.converged) {
       result.parameter_draws.push_back(workspace.parameters());
       double weighted_ssr = 0.0;

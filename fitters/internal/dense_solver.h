@@ -12,7 +12,9 @@
 // "Solving Non-linear Least Squares" chapter; the constants are its Solver::Options defaults):
 //  - Jacobi scaling: columns of J multiplied by 1 / (1 + ||J_j||), ||J_j|| at the start point;
 //  - step: minimise ||J s + r||^2 + ||D s||^2, D_jj = sqrt(clamp(||J_j||^2, 1e-6, 1e32) / radius)
-//    (the same linear least-squares problem Ceres' DENSE_QR solves, here by Householder QR);
+//    (the same linear least-squares problem Ceres' DENSE_QR solves, here by Householder QR;
+//    with FitOptions::step_solver = kDenseNormalCholesky by Cholesky of its normal equations,
+//    as Ceres' DENSE_NORMAL_CHOLESKY);
 //  - candidate x+ = clamp(x + scaling * s) to the parameter bounds (Ceres projects onto the box;
 //    the true x[0] are unbounded);
 //  - step quality rho = (cost - cost+) / (model cost decrease); success if rho > 1e-3; radius
@@ -20,7 +22,10 @@
 //    by 2, 4, 8... on consecutive failures; five consecutive invalid steps are a failure;
 //  - convergence: |x - x+| <= parameter_tolerance (|x| + parameter_tolerance); |cost - cost+| <=
 //    function_tolerance * cost; max-norm of the projected gradient x - clamp(x - J'r) <=
-//    gradient_tolerance; trust-region radius below 1e-32.
+//    gradient_tolerance; trust-region radius below 1e-32; and, when FitOptions::
+//    scaled_step_tolerance > 0 (resampling refits), an undamped Gauss-Newton step from an
+//    accepted point that moves every parameter j by at most that tolerance times
+//    parameter_scale[j] (a statistical stopping rule, not one of Ceres').
 // One deliberate difference: when the function tolerance ends the iteration, the candidate x+
 // (one more step on, its cost within the tolerance of the cost at x) is returned instead of x.
 // Near the optimum the cost stops resolving parameter changes (a 1e-9 parameter error changes
@@ -95,8 +100,19 @@ class DenseLevenbergMarquardt {
   double Cost(const Eigen::VectorXd& ry, const Eigen::VectorXd& rx) const;
   // Max-norm of (x, t) - clamp((x, t) - J'r).
   double ProjectedGradientMaxNorm() const;
+  // FitOptions::scaled_step_tolerance: true when the undamped Gauss-Newton step from the
+  // current point moves every parameter by at most the tolerance times its scale.
+  bool GaussNewtonStepWithinScale();
+  // Point i's row of the reduced problem in the parameter step (its fitted true x[0], index k,
+  // eliminated; k < 0 when it has none): the Jacobian row a_i times weight, right-hand side rhs.
+  struct ReducedRow {
+    double weight;
+    double rhs;
+  };
+  ReducedRow ReducedRowOfPoint(int i, int k) const;
   // The Levenberg-Marquardt step (step_x_, step_t_) for the given trust-region radius.
   void ComputeStep(double radius);
+  bool use_scaled_step_test_ = false;
 
   const Model& model_;
   ModelContext context_;
@@ -126,6 +142,8 @@ class DenseLevenbergMarquardt {
   Eigen::VectorXd reduced_rhs_;
   Eigen::VectorXd step_x_, step_t_;  // scaled step
   Eigen::VectorXd model_ry_, model_rx_;
+  Eigen::MatrixXd normal_;  // reduced Gauss-Newton normal matrix (GaussNewtonStepWithinScale)
+  Eigen::VectorXd normal_rhs_;
 };
 
 }  // namespace sorbtrace::fitters::internal
