@@ -181,6 +181,7 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   refit_options.parameter_tolerance = options.resample_tolerance;
   fitters::ResampleOptions resample;
   resample.confidence_level = options.confidence_level;
+  resample.refit_tolerance_se = options.refit_tolerance_se;
   if (options.bootstrap_resamples > 0) {
     resample.kind = options.bootstrap_kind;
     resample.num_resamples = options.bootstrap_resamples;
@@ -280,6 +281,9 @@ bool FitStageOptions::IsValid(std::string* error) const {
   }
   if (num_multistarts < 0) {
     return fail(fmt::format("num_multistarts = {} must be >= 0", num_multistarts));
+  }
+  if (!(refit_tolerance_se >= 0.0 && refit_tolerance_se <= 1.0)) {
+    return fail(fmt::format("refit_tolerance_se = {} must be in [0, 1]", refit_tolerance_se));
   }
   if (!(resample_tolerance > 0.0 && resample_tolerance < 1.0)) {
     return fail(fmt::format("resample_tolerance = {} must be in (0, 1)", resample_tolerance));

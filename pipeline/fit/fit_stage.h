@@ -39,6 +39,10 @@ struct FitStageOptions {
   // of a standard error of the optimum (for SSR ~ n = 20), far below the Monte Carlo
   // scatter of a 1,000-draw percentile (about 0.05 standard errors; common practice).
   double resample_tolerance = 1e-10;
+  // Statistical stopping rule of the same refits (fitters::ResampleOptions::refit_tolerance_se):
+  // a refit also stops once its Gauss-Newton distance to its optimum is below this many
+  // full-data standard errors in every parameter (0 = off: only resample_tolerance).
+  double refit_tolerance_se = 0.01;
   int bootstrap_resamples = 1000;
   fitters::ResampleKind bootstrap_kind = fitters::ResampleKind::kResidualBootstrap;
   int monte_carlo_draws = 1000;  // JCGM 101 propagation of input uncertainties (0 = off)

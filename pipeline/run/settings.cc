@@ -191,6 +191,7 @@ void ReadFit(TableReader& in, JobSettings& s) {
   f.weights = static_cast<fitters::WeightConvention>(
       in.Choice("weights", {"relative", "absolute"}, static_cast<int>(f.weights)));
   in.Integer("bootstrap_resamples", f.bootstrap_resamples, 0, 100000);
+  in.Number("refit_tolerance_se", f.refit_tolerance_se, 0.0, 1.0);
   f.bootstrap_kind = static_cast<fitters::ResampleKind>(
       in.Choice("bootstrap", {"residual", "case"}, static_cast<int>(f.bootstrap_kind)));
   in.Integer("monte_carlo_draws", f.monte_carlo_draws, 0, 1000000);
@@ -303,6 +304,7 @@ nlohmann::ordered_json Effective(const JobSettings& s) {
               {"weights", kWeights[static_cast<int>(f.weights)]},
               {"bootstrap_resamples", f.bootstrap_resamples},
               {"bootstrap", kBootstrap[static_cast<int>(f.bootstrap_kind)]},
+              {"refit_tolerance_se", f.refit_tolerance_se},
               {"monte_carlo_draws", f.monte_carlo_draws},
               {"seed", f.seed},
               {"band_points", f.band_grid_points},
