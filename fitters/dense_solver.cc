@@ -235,10 +235,10 @@ DenseLevenbergMarquardt::ReducedRow DenseLevenbergMarquardt::ReducedRowOfPoint(i
 bool DenseLevenbergMarquardt::GaussNewtonStepWithinScale() {
   // The undamped Gauss-Newton step of the reduced problem (every fitted t_i eliminated) from
   // its normal equations N s = v, N = sum w_i^2 a_i a_i', v = sum w_i rhs_i a_i', solved by
-  // Cholesky. N is p x p and only
-  // this test uses s, so the squared condition number of the normal equations does no harm: a
-  // singular or indefinite N fails the test and the ordinary tolerances decide. Written as
-  // loops over the lower triangle: it runs after every accepted step of every refit.
+  // Cholesky. N is p x p and only this test uses s, so the squared condition number of the
+  // normal equations does no harm: a singular or indefinite N fails the test and the ordinary
+  // tolerances decide. Written as loops over the lower triangle: it runs after every accepted
+  // step of every refit.
   const int p = num_parameters_;
   normal_.setZero();
   normal_rhs_.setZero();

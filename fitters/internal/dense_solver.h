@@ -142,7 +142,9 @@ class DenseLevenbergMarquardt {
   Eigen::VectorXd reduced_rhs_;
   Eigen::VectorXd step_x_, step_t_;  // scaled step
   Eigen::VectorXd model_ry_, model_rx_;
-  Eigen::MatrixXd normal_;  // reduced Gauss-Newton normal matrix (GaussNewtonStepWithinScale)
+  // p x p work storage: the normal matrix of the stopping test (GaussNewtonStepWithinScale) and
+  // of the kDenseNormalCholesky step, each filled before use.
+  Eigen::MatrixXd normal_;
   Eigen::VectorXd normal_rhs_;
 };
 

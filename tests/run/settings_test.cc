@@ -93,5 +93,21 @@ TEST(JobSettingsTest, OutOfRangeAndWrongTypeAreErrors) {
   }
 }
 
+TEST(JobSettingsTest, RefitToleranceIsReadRecordedAndRangeChecked) {
+  const auto path = WriteJob("refit.toml", "[fit]\nrefit_tolerance_se = 0.002\n");
+  const JobSettings s = LoadJobSettings(path, FullTemplateJob(), "out");
+  EXPECT_DOUBLE_EQ(s.fit.refit_tolerance_se, 0.002);
+  EXPECT_DOUBLE_EQ(s.effective["fit"]["refit_tolerance_se"].get<double>(), 0.002);
+  const auto bad = WriteJob("refit_bad.toml", "[job]\nid = \"X\"\n[fit]\nrefit_tolerance_se = 2\n");
+  try {
+    LoadJobSettings(bad, FullTemplateJob(), "out");
+    FAIL() << "no error";
+  } catch (const InputError& error) {
+    EXPECT_EQ(error.diagnostic().where.line, 4);
+    EXPECT_NE(std::string(error.what()).find("refit_tolerance_se"), std::string::npos)
+        << error.what();
+  }
+}
+
 }  // namespace
 }  // namespace sorbtrace::run
