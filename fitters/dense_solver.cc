@@ -90,29 +90,6 @@ bool SolveByCholeskyInPlace(int p, double* normal, double* v) {
   return true;
 }
 
-// Least-squares solution of min ||A x - b|| for a column-major m x p matrix A by its normal
-// equations A'A x = A'b (Ceres' DENSE_NORMAL_CHOLESKY; squares the condition number of A,
-// which the damping rows of a Levenberg-Marquardt step bound). normal: p x p work storage.
-// A singular system gives a non-finite x, which the caller treats as an invalid step.
-void SolveLeastSquaresByNormalCholesky(int m, int p, const double* a, const double* b,
-                                       double* normal, double* x) {
-  for (int j = 0; j < p; ++j) {
-    const double* column_j = a + static_cast<std::ptrdiff_t>(j) * m;
-    double dot = 0.0;
-    for (int i = 0; i < m; ++i) dot += column_j[i] * b[i];
-    x[j] = dot;
-    for (int l = j; l < p; ++l) {
-      const double* column_l = a + static_cast<std::ptrdiff_t>(l) * m;
-      double sum = 0.0;
-      for (int i = 0; i < m; ++i) sum += column_l[i] * column_j[i];
-      normal[static_cast<std::ptrdiff_t>(j) * p + l] = sum;  // (l, j), lower triangle
-    }
-  }
-  if (!SolveByCholeskyInPlace(p, normal, x)) {
-    for (int j = 0; j < p; ++j) x[j] = std::numeric_limits<double>::quiet_NaN();
-  }
-}
-
 }  // namespace
 
 DenseLevenbergMarquardt::DenseLevenbergMarquardt(const Model& model, const ModelContext& context,
@@ -148,7 +125,8 @@ void DenseLevenbergMarquardt::Resize(int num_points, int num_true_x) {
   const int n = num_points;
   const int q = num_true_x;
   const int p = num_parameters_;
-  for (Eigen::VectorXd* v : {&ry_, &candidate_ry_, &slope_, &candidate_slope_, &model_ry_})
+  for (Eigen::VectorXd* v :
+       {&ry_, &candidate_ry_, &slope_, &candidate_slope_, &model_ry_, &point_gamma_, &point_beta_})
     v->resize(n);
   for (Eigen::VectorXd* v : {&t_, &candidate_t_, &rx_, &candidate_rx_, &gradient_t_, &scaling_t_,
                              &diagonal_t_, &step_t_, &model_rx_, &x_residual_jacobian_})
@@ -234,29 +212,14 @@ DenseLevenbergMarquardt::ReducedRow DenseLevenbergMarquardt::ReducedRowOfPoint(i
 
 bool DenseLevenbergMarquardt::GaussNewtonStepWithinScale() {
   // The undamped Gauss-Newton step of the reduced problem (every fitted t_i eliminated) from
-  // its normal equations N s = v, N = sum w_i^2 a_i a_i', v = sum w_i rhs_i a_i', solved by
-  // Cholesky. N is p x p and only this test uses s, so the squared condition number of the
-  // normal equations does no harm: a singular or indefinite N fails the test and the ordinary
-  // tolerances decide. Written as loops over the lower triangle: it runs after every accepted
-  // step of every refit.
+  // its normal equations, solved by Cholesky. Only this test uses it, so the squared condition
+  // number of the normal equations does no harm: a singular or indefinite N fails the test and
+  // the ordinary tolerances decide.
   const int p = num_parameters_;
-  normal_.setZero();
-  normal_rhs_.setZero();
-  for (int i = 0, k = 0; i < num_points_; ++i) {
-    const bool fitted_x = k < num_true_x_ && point_of_true_x_[static_cast<std::size_t>(k)] == i;
-    const ReducedRow row = ReducedRowOfPoint(i, fitted_x ? k : -1);
-    if (fitted_x) ++k;
-    const double w2 = row.weight * row.weight;
-    const double wr = row.weight * row.rhs;
-    for (int j = 0; j < p; ++j) {
-      const double aj = jacobian_(i, j);
-      normal_rhs_[j] += wr * aj;
-      for (int l = 0; l <= j; ++l) normal_(j, l) += w2 * aj * jacobian_(i, l);
-    }
-  }
+  FormScaledNormalEquations(0.0);
   if (!SolveByCholeskyInPlace(p, normal_.data(), normal_rhs_.data())) return false;
   for (int j = 0; j < p; ++j) {
-    if (!(std::abs(normal_rhs_[j]) <=
+    if (!(std::abs(normal_rhs_[j] * scaling_x_[j]) <=
           options_.scaled_step_tolerance * options_.parameter_scale[static_cast<std::size_t>(j)])) {
       return false;
     }
@@ -264,9 +227,95 @@ bool DenseLevenbergMarquardt::GaussNewtonStepWithinScale() {
   return true;
 }
 
+void DenseLevenbergMarquardt::FormScaledNormalEquations(double inverse_radius) {
+  // Point i's row of the reduced problem is sqrt(gamma_i) a~_i with right-hand side
+  // -beta_i / sqrt(gamma_i) (see ComputeStep), so it adds gamma_i a~_i a~_i' to N and
+  // -beta_i a~_i to v; gamma_i = 1, beta_i = r_yi without a fitted t_i.
+  for (int i = 0, k = 0; i < num_points_; ++i) {
+    const bool fitted_x = k < num_true_x_ && point_of_true_x_[static_cast<std::size_t>(k)] == i;
+    double gamma = 1.0;
+    double beta = ry_[i];
+    if (fitted_x) {
+      const double b = slope_[i] * scaling_t_[k];
+      const double c = x_residual_jacobian_[k] * scaling_t_[k];
+      const double d2 = inverse_radius > 0.0 ? diagonal_t_[k] * inverse_radius : 0.0;
+      const double h = b * b + c * c + d2;
+      gamma = (c * c + d2) / h;
+      beta = ry_[i] - b * (b * ry_[i] + c * rx_[k]) / h;
+      ++k;
+    }
+    point_gamma_[i] = gamma;
+    point_beta_[i] = beta;
+  }
+  // This runs for every step and every accepted point of every refit: for the usual parameter
+  // counts with fixed-size (unrolled, vectorised) Eigen products.
+  switch (num_parameters_) {
+    case 2:
+      AccumulateNormalEquations<2>();
+      break;
+    case 3:
+      AccumulateNormalEquations<3>();
+      break;
+    case 4:
+      AccumulateNormalEquations<4>();
+      break;
+    case 5:
+      AccumulateNormalEquations<5>();
+      break;
+    case 6:
+      AccumulateNormalEquations<6>();
+      break;
+    case 7:
+      AccumulateNormalEquations<7>();
+      break;
+    case 8:
+      AccumulateNormalEquations<8>();
+      break;
+    case 9:
+      AccumulateNormalEquations<9>();
+      break;
+    default:
+      AccumulateNormalEquations<Eigen::Dynamic>();
+      break;
+  }
+}
+
+template <int P>
+void DenseLevenbergMarquardt::AccumulateNormalEquations() {
+  const int p = num_parameters_;
+  using Vector = Eigen::Matrix<double, P, 1>;
+  using Matrix = Eigen::Matrix<double, P, P>;
+  Matrix normal = Matrix::Zero(p, p);
+  Vector rhs = Vector::Zero(p);
+  const Eigen::Map<const Vector> scaling(scaling_x_.data(), p);
+  for (int i = 0; i < num_points_; ++i) {
+    const Eigen::Map<const Vector> row(jacobian_.data() + static_cast<std::ptrdiff_t>(i) * p, p);
+    const Vector a = row.cwiseProduct(scaling);
+    normal.noalias() += (point_gamma_[i] * a) * a.transpose();
+    rhs.noalias() -= point_beta_[i] * a;
+  }
+  normal_ = normal;
+  normal_rhs_ = rhs;
+}
+
 void DenseLevenbergMarquardt::ComputeStep(double radius) {
   const int n = num_points_;
   const int p = num_parameters_;
+  if (options_.step_solver == StepSolver::kDenseNormalCholesky) {
+    // The normal equations of the reduced rows and the p damping rows (Ceres'
+    // DENSE_NORMAL_CHOLESKY; squares the condition number, which the damping bounds), formed
+    // from the Jacobian rows directly. A singular system gives a non-finite step, which the
+    // caller treats as invalid.
+    const double inverse_radius = 1.0 / radius;
+    FormScaledNormalEquations(inverse_radius);
+    for (int j = 0; j < p; ++j) normal_(j, j) += diagonal_x_[j] * inverse_radius;
+    step_x_ = normal_rhs_;
+    if (!SolveByCholeskyInPlace(p, normal_.data(), step_x_.data())) {
+      step_x_.setConstant(std::numeric_limits<double>::quiet_NaN());
+    }
+    BackSubstituteTrueX0Steps(radius);
+    return;
+  }
   // Rows of the scaled Jacobian: a_i = dr_yi/dp * scaling_x, b_i = dr_yi/dt_i * scaling_t,
   // c_i = dr_xi/dt_i * scaling_t, damping d_i = sqrt(diagonal_t / radius).
   int row = 0;
@@ -302,19 +351,18 @@ void DenseLevenbergMarquardt::ComputeStep(double radius) {
     reduced_(row + j, j) = std::sqrt(diagonal_x_[j] / radius);
     reduced_rhs_[row + j] = 0.0;
   }
-  if (options_.step_solver == StepSolver::kDenseNormalCholesky) {
-    SolveLeastSquaresByNormalCholesky(m, p, reduced_.data(), reduced_rhs_.data(), normal_.data(),
-                                      step_x_.data());
-  } else {
-    SolveLeastSquaresByHouseholderQr(m, p, reduced_.data(), reduced_rhs_.data(), step_x_.data());
-  }
+  SolveLeastSquaresByHouseholderQr(m, p, reduced_.data(), reduced_rhs_.data(), step_x_.data());
+  BackSubstituteTrueX0Steps(radius);
+}
+
+void DenseLevenbergMarquardt::BackSubstituteTrueX0Steps(double radius) {
   // Back-substitution of the eliminated steps: s_t = -(b (a s_p + r_y) + c r_x) / h.
-  for (k = 0; k < num_true_x_; ++k) {
+  const int p = num_parameters_;
+  for (int k = 0; k < num_true_x_; ++k) {
     const int i = point_of_true_x_[static_cast<std::size_t>(k)];
     const double b = slope_[i] * scaling_t_[k];
     const double c = x_residual_jacobian_[k] * scaling_t_[k];
-    const double d = std::sqrt(diagonal_t_[k] / radius);
-    const double h = b * b + c * c + d * d;
+    const double h = b * b + c * c + diagonal_t_[k] / radius;
     double a_dot_s = 0.0;
     for (int j = 0; j < p; ++j) a_dot_s += jacobian_(i, j) * scaling_x_[j] * step_x_[j];
     step_t_[k] = -(b * (a_dot_s + ry_[i]) + c * rx_[k]) / h;

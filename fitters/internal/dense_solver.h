@@ -112,6 +112,16 @@ class DenseLevenbergMarquardt {
   ReducedRow ReducedRowOfPoint(int i, int k) const;
   // The Levenberg-Marquardt step (step_x_, step_t_) for the given trust-region radius.
   void ComputeStep(double radius);
+  // The eliminated true-x[0] steps step_t_ for the parameter step step_x_.
+  void BackSubstituteTrueX0Steps(double radius);
+  // Normal equations N s = v of the reduced, Jacobi-scaled step problem at the current point
+  // (every fitted true x[0] eliminated, its damping diagonal_t * inverse_radius included;
+  // inverse_radius 0: undamped), N's lower triangle into normal_, v into normal_rhs_; the
+  // parameters' damping is the caller's.
+  void FormScaledNormalEquations(double inverse_radius);
+  // Its sums over the points with the weights point_gamma_, point_beta_, for P parameters.
+  template <int P>
+  void AccumulateNormalEquations();
   bool use_scaled_step_test_ = false;
 
   const Model& model_;
@@ -143,9 +153,10 @@ class DenseLevenbergMarquardt {
   Eigen::VectorXd step_x_, step_t_;  // scaled step
   Eigen::VectorXd model_ry_, model_rx_;
   // p x p work storage: the normal matrix of the stopping test (GaussNewtonStepWithinScale) and
-  // of the kDenseNormalCholesky step, each filled before use.
+  // of the kDenseNormalCholesky step, each filled before use (FormScaledNormalEquations).
   Eigen::MatrixXd normal_;
   Eigen::VectorXd normal_rhs_;
+  Eigen::VectorXd point_gamma_, point_beta_;  // per point (FormScaledNormalEquations)
 };
 
 }  // namespace sorbtrace::fitters::internal
