@@ -197,19 +197,6 @@ double DenseLevenbergMarquardt::ProjectedGradientMaxNorm() const {
   return norm;
 }
 
-DenseLevenbergMarquardt::ReducedRow DenseLevenbergMarquardt::ReducedRowOfPoint(int i, int k) const {
-  // Point i's rows (y, and x when t_i is fitted) minimised over the step in t_i: for
-  // a_i s_p + b_i s_t + r_y and c_i s_t + r_x that leaves (c_i (a_i s_p + r_y) - b_i r_x)^2 /
-  // (b_i^2 + c_i^2), i.e. the row a_i times c_i / g_i and right-hand side
-  // -(c_i r_y - b_i r_x) / g_i with g_i = sqrt(b_i^2 + c_i^2) (unscaled; a_i, r_y alone
-  // without a fitted t_i). k < 0: no fitted t_i.
-  if (k < 0) return {1.0, -ry_[i]};
-  const double b = slope_[i];
-  const double c = x_residual_jacobian_[k];
-  const double g = std::sqrt(b * b + c * c);
-  return {c / g, -(c * ry_[i] - b * rx_[k]) / g};
-}
-
 bool DenseLevenbergMarquardt::GaussNewtonStepWithinScale() {
   // The undamped Gauss-Newton step of the reduced problem (every fitted t_i eliminated) from
   // its normal equations, solved by Cholesky. Only this test uses it, so the squared condition
@@ -549,17 +536,19 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
   }
 }
 
-bool DenseLevenbergMarquardt::ParameterNormalMatrix(Eigen::MatrixXd* normal,
-                                                    double* weighted_ssr) const {
+bool DenseLevenbergMarquardt::ParameterNormalMatrix(Eigen::MatrixXd* normal, double* weighted_ssr) {
   if (num_points_ < 1 || jacobian_.rows() != num_points_) return false;
+  // The undamped scaled normal equations (point weights gamma_i = c_i^2 / (b_i^2 + c_i^2): the
+  // scaling of t_i cancels), unscaled: N_jl / (scaling_j scaling_l).
+  FormScaledNormalEquations(0.0);
   const int p = num_parameters_;
-  normal->setZero(p, p);
-  for (int i = 0, k = 0; i < num_points_; ++i) {
-    const bool fitted_x = k < num_true_x_ && point_of_true_x_[static_cast<std::size_t>(k)] == i;
-    const double w = ReducedRowOfPoint(i, fitted_x ? k : -1).weight;
-    if (fitted_x) ++k;
-    const auto row = jacobian_.row(i);
-    normal->noalias() += (w * w) * row.transpose() * row;
+  normal->resize(p, p);
+  for (int j = 0; j < p; ++j) {
+    for (int l = 0; l <= j; ++l) {
+      const double value = normal_(j, l) / (scaling_x_[j] * scaling_x_[l]);
+      (*normal)(j, l) = value;
+      (*normal)(l, j) = value;
+    }
   }
   *weighted_ssr = 2.0 * Cost(ry_, rx_);
   return normal->allFinite() && std::isfinite(*weighted_ssr);

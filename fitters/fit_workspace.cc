@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 
+#include <Eigen/Cholesky>
 #include <Eigen/Eigenvalues>
 #include <Eigen/SVD>
 #include <algorithm>
@@ -262,11 +263,29 @@ bool FitWorkspace::LastSolveCovariance(Eigen::MatrixXd* covariance, double* weig
   // Column equilibration and rank test as ComputeCovariance: the scaled normal matrix's
   // eigenvalues are the squared singular values of the scaled Jacobian, so
   // sigma_min / sigma_max < sqrt(r) is lambda_min / lambda_max < r.
-  const Eigen::VectorXd diagonal = normal_scratch_.diagonal();
-  if ((diagonal.array() <= 0.0).any()) return false;
-  const Eigen::VectorXd scale = diagonal.cwiseSqrt().cwiseInverse();
-  const Eigen::MatrixXd scaled = scale.asDiagonal() * normal_scratch_ * scale.asDiagonal();
-  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eigen(scaled);
+  const Eigen::Index p = normal_scratch_.rows();
+  scale_scratch_ = normal_scratch_.diagonal();
+  if ((scale_scratch_.array() <= 0.0).any()) return false;
+  scale_scratch_ = scale_scratch_.cwiseSqrt().cwiseInverse();
+  scaled_scratch_.noalias() =
+      scale_scratch_.asDiagonal() * normal_scratch_ * scale_scratch_.asDiagonal();
+  // Fast path, for every refit of a resampling run: Cholesky of the scaled matrix (unit
+  // diagonal, so lambda_max <= trace = p) and its inverse; since trace(N^-1) = sum 1/lambda_i >=
+  // 1/lambda_min, 1 / (p trace(N^-1)) is a lower bound on lambda_min / lambda_max. When that
+  // bound already passes the rank test, the test passes; otherwise the eigenvalues decide.
+  llt_scratch_.compute(scaled_scratch_);
+  if (llt_scratch_.info() == Eigen::Success) {
+    inverse_scratch_.setIdentity(p, p);
+    llt_scratch_.solveInPlace(inverse_scratch_);
+    const double trace_inverse = inverse_scratch_.trace();
+    if (std::isfinite(trace_inverse) && trace_inverse > 0.0 &&
+        1.0 / (static_cast<double>(p) * trace_inverse) >=
+            options_.covariance_min_reciprocal_condition_number) {
+      *covariance = scale_scratch_.asDiagonal() * inverse_scratch_ * scale_scratch_.asDiagonal();
+      return covariance->allFinite();
+    }
+  }
+  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eigen(scaled_scratch_);
   if (eigen.info() != Eigen::Success) return false;
   const double lambda_max = eigen.eigenvalues().maxCoeff();
   const double lambda_min = eigen.eigenvalues().minCoeff();
@@ -274,9 +293,9 @@ bool FitWorkspace::LastSolveCovariance(Eigen::MatrixXd* covariance, double* weig
       lambda_min / lambda_max < options_.covariance_min_reciprocal_condition_number) {
     return false;
   }
-  *covariance = scale.asDiagonal() * eigen.eigenvectors() *
+  *covariance = scale_scratch_.asDiagonal() * eigen.eigenvectors() *
                 eigen.eigenvalues().cwiseInverse().asDiagonal() * eigen.eigenvectors().transpose() *
-                scale.asDiagonal();
+                scale_scratch_.asDiagonal();
   return covariance->allFinite();
 }
 

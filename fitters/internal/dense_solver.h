@@ -84,7 +84,7 @@ class DenseLevenbergMarquardt {
   // (a_i = dr_yi/dp, b_i = dr_yi/dt_i, c_i = dr_xi/dt_i). Its inverse is the parameter block
   // of (J'J)^-1, so resampling can studentise without another evaluation. Also returns the
   // weighted SSR (x terms included) at that point. False before any successful Solve.
-  bool ParameterNormalMatrix(Eigen::MatrixXd* normal, double* weighted_ssr) const;
+  bool ParameterNormalMatrix(Eigen::MatrixXd* normal, double* weighted_ssr);
 
  private:
   using RowMajorMatrix = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>;
@@ -103,13 +103,6 @@ class DenseLevenbergMarquardt {
   // FitOptions::scaled_step_tolerance: true when the undamped Gauss-Newton step from the
   // current point moves every parameter by at most the tolerance times its scale.
   bool GaussNewtonStepWithinScale();
-  // Point i's row of the reduced problem in the parameter step (its fitted true x[0], index k,
-  // eliminated; k < 0 when it has none): the Jacobian row a_i times weight, right-hand side rhs.
-  struct ReducedRow {
-    double weight;
-    double rhs;
-  };
-  ReducedRow ReducedRowOfPoint(int i, int k) const;
   // The Levenberg-Marquardt step (step_x_, step_t_) for the given trust-region radius.
   void ComputeStep(double radius);
   // The eliminated true-x[0] steps step_t_ for the parameter step step_x_.

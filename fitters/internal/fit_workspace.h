@@ -8,6 +8,7 @@
 
 #include <ceres/ceres.h>
 
+#include <Eigen/Cholesky>
 #include <Eigen/Core>
 #include <memory>
 #include <string>
@@ -97,7 +98,10 @@ class FitWorkspace {
   bool last_solve_dense_ = false;
   bool last_solve_failed_ = true;
   double last_solve_cost_ = 0.0;
-  Eigen::MatrixXd normal_scratch_;
+  // Work storage of LastSolveCovariance (kept between calls: it runs for every refit).
+  Eigen::MatrixXd normal_scratch_, scaled_scratch_, inverse_scratch_;
+  Eigen::VectorXd scale_scratch_;
+  Eigen::LLT<Eigen::MatrixXd> llt_scratch_;
 };
 
 }  // namespace sorbtrace::fitters::internal
