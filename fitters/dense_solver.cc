@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <utility>
 
 namespace sorbtrace::fitters::internal {
 namespace {
@@ -236,35 +237,14 @@ void DenseLevenbergMarquardt::FormScaledNormalEquations(double inverse_radius) {
   }
   // This runs for every step and every accepted point of every refit: for the usual parameter
   // counts with fixed-size (unrolled, vectorised) Eigen products.
-  switch (num_parameters_) {
-    case 2:
-      AccumulateNormalEquations<2>();
-      break;
-    case 3:
-      AccumulateNormalEquations<3>();
-      break;
-    case 4:
-      AccumulateNormalEquations<4>();
-      break;
-    case 5:
-      AccumulateNormalEquations<5>();
-      break;
-    case 6:
-      AccumulateNormalEquations<6>();
-      break;
-    case 7:
-      AccumulateNormalEquations<7>();
-      break;
-    case 8:
-      AccumulateNormalEquations<8>();
-      break;
-    case 9:
-      AccumulateNormalEquations<9>();
-      break;
-    default:
-      AccumulateNormalEquations<Eigen::Dynamic>();
-      break;
+  if (!AccumulateForFixedSize(std::integer_sequence<int, 2, 3, 4, 5, 6, 7, 8, 9>{})) {
+    AccumulateNormalEquations<Eigen::Dynamic>();
   }
+}
+
+template <int... P>
+bool DenseLevenbergMarquardt::AccumulateForFixedSize(std::integer_sequence<int, P...> /*sizes*/) {
+  return ((num_parameters_ == P ? (AccumulateNormalEquations<P>(), true) : false) || ...);
 }
 
 template <int P>

@@ -45,6 +45,7 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <utility>
 #include <vector>
 
 #include "fitters/fitter.h"
@@ -115,6 +116,9 @@ class DenseLevenbergMarquardt {
   // Its sums over the points with the weights point_gamma_, point_beta_, for P parameters.
   template <int P>
   void AccumulateNormalEquations();
+  // AccumulateNormalEquations<P> for the P equal to the parameter count; false if none is.
+  template <int... P>
+  bool AccumulateForFixedSize(std::integer_sequence<int, P...> sizes);
   bool use_scaled_step_test_ = false;
 
   const Model& model_;
