@@ -11,6 +11,7 @@
 #include <string_view>
 #include <system_error>
 
+#include "pipeline/common/files.h"
 #include "pipeline/ingest/csv_reader.h"
 #include "pipeline/ingest/date_time.h"
 #include "pipeline/ingest/ingest.h"
@@ -203,10 +204,11 @@ void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir,
   dataset->file_as_written = *in.String(table, section, "file", true);
   const std::filesystem::path written(dataset->file_as_written);
   dataset->file = (job_dir / written).lexically_normal();
-  std::error_code ec;
-  if (dataset->file_as_written.empty() || !std::filesystem::is_regular_file(dataset->file, ec)) {
+  const std::string problem =
+      dataset->file_as_written.empty() ? "not found" : RegularFileProblem(dataset->file);
+  if (!problem.empty()) {
     in.Fail(*table.get("file"),
-            "data file '" + dataset->file_as_written + "' not found (looked for " +
+            "data file '" + dataset->file_as_written + "' " + problem + " (looked for " +
                 dataset->file.string() + ")",
             "an existing file, relative to the job file");
   }

@@ -13,6 +13,7 @@
 #include <string>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/common/files.h"
 #include "pipeline/equilibrate/equilibrate.h"
 #include "pipeline/ingest/ingest.h"
 #include "pipeline/physics/physics.h"
@@ -238,6 +239,7 @@ nlohmann::ordered_json Json(const ingest::IngestResult& in, const equilibrate::E
 
 int Check(const CheckArguments& args) {
   const std::filesystem::path job_file = args.job_file;
+  RequireRegularFile(job_file, job_file.string(), "a TOML job file");
   const ingest::JobSpec job = ingest::LoadJobSpec(job_file);
   const JobSettings settings = LoadJobSettings(job_file, job, {});
   const ingest::IngestResult ingested = ingest::Ingest(job, settings.ingest);

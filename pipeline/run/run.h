@@ -48,14 +48,38 @@ struct RunResult {
   report::ReportArtifacts artifacts;
   std::vector<Diagnostic> warnings;  // of every stage
   std::string log;                   // run log text (written as run.log)
+  // Job file, its folder, data files and template: what an output folder must never be,
+  // contain or replace.
+  std::vector<std::filesystem::path> input_files;
 };
+
+// Paths an output folder must never be or contain for this job: the job file, its
+// folder and every data file it names.
+std::vector<std::filesystem::path> ProtectedInputs(const ingest::JobSpec& job);
 
 // Runs the whole pipeline on one job file; throws InputError (bad input) or
 // ComputationError (fit failure). Writes nothing.
 RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& options);
 
-// Writes a run's artefacts into output_dir: builds a complete sibling folder, then swaps it
-// in atomically (renameat2 RENAME_EXCHANGE); an earlier folder is never half-overwritten.
+// The marker file inside every output folder: first line "sorbtrace output folder", then
+// "job_id: ID" and one "file: NAME" line per file written.
+inline constexpr char kOutputMarkerName[] = ".sorbtrace-output";
+
+// Folder name for a job id: ASCII letters, digits, '-', '_' and '.' kept, every other byte
+// replaced by '_', no leading '.', at most 100 characters, "job" when nothing is left.
+std::string OutputFolderName(const std::string& job_id);
+
+// Throws InputError (exit 3, nothing written) unless `output_dir` may receive the output of
+// job `job_id`: it must not be or contain "/", the home folder, the current folder, or any
+// of `inputs`; must not lie below a file; and if it exists, it must be a real folder that
+// is empty or holds only what sorbtrace wrote for the same job (marker, output_dir.cc).
+void CheckOutputFolder(const std::filesystem::path& output_dir, const std::string& job_id,
+                       const std::vector<std::filesystem::path>& inputs);
+
+// Writes a run's artefacts into output_dir after CheckOutputFolder: builds a complete
+// sibling folder, then swaps it in atomically (renameat2 RENAME_EXCHANGE); an earlier folder
+// is never half-overwritten. Write failures (disk full, read-only) throw OutputError and
+// leave no staging folder behind.
 void WriteOutputDirectory(const RunResult& result, const std::filesystem::path& output_dir);
 
 // Where templates are looked up by name: $SORBTRACE_TEMPLATE_DIR, else the source tree's
