@@ -4,11 +4,11 @@
 // one-by-one runs. A job that fails — or crashes — never stops the others: it is a failed
 // row of summary.csv with its error.
 //
-// Output names: OUT/<job id as folder name> (OutputFolderName). Two job files with the same
-// job id are both refused (an id names one datasheet); distinct ids that give the same folder
-// name are told apart by a suffix "-2", "-3", ... in the order of the job files' paths, and
-// the row says so. All names are single folders directly under OUT, so no output lies inside
-// another. OUT itself must be new, empty, or an earlier batch output (marker
+// Output names: OUT/<job id as folder name> (OutputFolderName). Job files whose ids give the
+// same folder name (the same id twice, or ids that differ only in replaced characters) are
+// told apart by a suffix "-2", "-3", ... in the order of the job files' paths, and the
+// message column of summary.csv says so. All names are single folders directly under OUT, so no
+// output lies inside another. OUT itself must be new, empty, or an earlier batch output (marker
 // .sorbtrace-batch), and must not be, contain or lie inside DIR, the current folder, the home
 // folder or "/".
 #include <fcntl.h>
@@ -173,21 +173,7 @@ std::vector<PlannedJob> FindJobs(const fs::path& dir) {
 
 // Output folder names: see the file comment.
 void AssignFolderNames(std::vector<PlannedJob>& jobs) {
-  std::map<std::string, std::vector<size_t>> by_id;
-  for (size_t i = 0; i < jobs.size(); ++i) {
-    if (jobs[i].refusal.empty() && !jobs[i].job_id.empty()) by_id[jobs[i].job_id].push_back(i);
-  }
-  for (const auto& [id, indices] : by_id) {
-    if (indices.size() < 2) continue;
-    std::string files;
-    for (size_t i : indices) files += (files.empty() ? "" : ", ") + jobs[i].job_file.string();
-    for (size_t i : indices) {
-      jobs[i].refusal = jobs[i].job_file.string() + ": job id '" + id + "' is used by " +
-                        std::to_string(indices.size()) + " job files (" + files +
-                        "); none of them was run, each id names one datasheet";
-    }
-  }
-  std::map<std::string, std::string> taken;  // folder name -> job id (or file) holding it
+  std::map<std::string, const PlannedJob*> taken;  // folder name -> job holding it
   for (auto& job : jobs) {
     if (!job.refusal.empty()) continue;
     const std::string base = job.job_id.empty()
@@ -198,9 +184,13 @@ void AssignFolderNames(std::vector<PlannedJob>& jobs) {
       name = base + "-" + std::to_string(suffix);
     }
     if (name != base) {
-      job.note = "output folder " + name + " (" + base + " holds job '" + taken[base] + "')";
+      const PlannedJob& holder = *taken[base];
+      job.note = "output folder renamed to " + name + ": " + base + " belongs to " +
+                 holder.job_file.string() +
+                 (holder.job_id == job.job_id ? " (same job id '" + job.job_id + "')"
+                                              : " (job id '" + holder.job_id + "')");
     }
-    taken[name] = job.job_id.empty() ? job.job_file.string() : job.job_id;
+    taken[name] = &job;
     job.folder_name = name;
   }
 }

@@ -13,6 +13,7 @@
 // or a run killed half-way — never sees a half-written or half-overwritten folder.
 #include <fcntl.h>
 #include <linux/fs.h>
+#include <signal.h>
 #include <sys/stat.h>
 #include <sys/syscall.h>
 #include <unistd.h>
@@ -144,6 +145,16 @@ void CheckExistingFolder(const fs::path& output_dir, const fs::path& target,
   }
 }
 
+// Test hook (tests/bad_inputs/output_safety_test.cc): with $SORBTRACE_TEST_SIGNAL_WHILE_WRITING
+// set to a signal number, the process sends itself that signal after the first file of the
+// staging folder is written, so the cleanup on SIGINT/SIGTERM is tested at a known moment.
+void RaiseTestSignalIfRequested() {
+  const char* signal_text = std::getenv("SORBTRACE_TEST_SIGNAL_WHILE_WRITING");
+  if (signal_text == nullptr) return;
+  const int signal_number = std::atoi(signal_text);
+  if (signal_number > 0) ::kill(::getpid(), signal_number);
+}
+
 }  // namespace
 
 std::string OutputFolderName(const std::string& job_id) {
@@ -192,7 +203,7 @@ void CheckOutputFolder(const fs::path& output_dir, const std::string& job_id,
     CheckExistingFolder(output_dir, target, job_id);
     return;
   }
-  if (errno != ENOENT) {
+  if (errno != ENOENT && errno != ENOTDIR) {
     Refuse(output_dir, "it cannot be examined (" + std::string(std::strerror(errno)) + ")");
   }
   for (fs::path ancestor = target.parent_path();; ancestor = ancestor.parent_path()) {
@@ -240,6 +251,7 @@ void WriteOutputDirectory(const RunResult& result, const fs::path& output_dir) {
       names.push_back(name);
     };
     write("datasheet.pdf", result.artifacts.pdf);
+    RaiseTestSignalIfRequested();
     write("results.json", result.artifacts.results_json);
     for (const auto& [name, content] : result.artifacts.csv_files) write(name, content);
     write("run.log", result.log);
