@@ -14,6 +14,7 @@
 #include <thread>
 #include <vector>
 
+#include "pipeline/common/bounded_input.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
 #include "pipeline/run/commands.h"
@@ -44,9 +45,9 @@ struct JobOutcome {
 bool IsJobFile(const std::filesystem::path& path) {
   if (path.extension() != ".toml") return false;
   try {
-    const toml::table root = toml::parse_file(path.string());
+    const toml::table root = ParseTomlFile(path, "a TOML job file");  // size and nesting bounded
     return root.contains("job");
-  } catch (const toml::parse_error&) {
+  } catch (const InputError&) {
     return true;  // a broken job file is still a job: it is run and reported as bad input
   }
 }

@@ -26,16 +26,7 @@ struct VerifyArguments {
   bool show_all = false;
 };
 
-nlohmann::json ParseResults(const std::string& path) {
-  const std::string text = ReadWholeFile(path);
-  try {
-    return nlohmann::json::parse(text);
-  } catch (const nlohmann::json::parse_error& error) {
-    throw InputError(SourceLocation{path, 0, static_cast<int>(error.byte)},
-                     std::string("not valid JSON: ") + error.what(),
-                     "a results.json written by `sorbtrace make`");
-  }
-}
+nlohmann::json ParseResults(const std::string& path) { return ReadResultsFile(path); }
 
 std::string Line(const AuditLine& line) {
   char tolerance[32];
