@@ -17,9 +17,12 @@ jobs=$(nproc)
 [ "$jobs" -gt 2 ] && jobs=2
 targets="${FUZZ_TARGETS:-desiccator_csv vapor_log_csv retention_csv job_file template results_json}"
 if [ "${FUZZ_SKIP_BUILD:-0}" != "1" ]; then
+  launcher=""  # ccache, when installed, keeps unchanged files from being recompiled
+  command -v ccache >/dev/null && launcher="-DCMAKE_CXX_COMPILER_LAUNCHER=ccache"
+  # shellcheck disable=SC2086
   cmake -S . -B build-fuzz -DCMAKE_BUILD_TYPE=RelWithDebInfo -DCMAKE_CXX_COMPILER=clang++ \
         -DSORBTRACE_BUILD_FUZZ=ON -DSORBTRACE_BUILD_TESTS=OFF -DSORBTRACE_BUILD_BENCH=OFF \
-        -DSORBTRACE_WERROR=OFF >/dev/null
+        -DSORBTRACE_WERROR=OFF $launcher >/dev/null
   build_targets=""
   for t in $targets; do build_targets="$build_targets fuzz_$t"; done
   # shellcheck disable=SC2086

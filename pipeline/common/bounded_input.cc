@@ -162,7 +162,8 @@ bool LiesInsideFolder(const std::filesystem::path& written, const std::filesyste
   namespace fs = std::filesystem;
   const auto inside = [](const fs::path& path, const fs::path& dir) {
     const fs::path relative = path.lexically_relative(dir);
-    return !relative.empty() && *relative.begin() != ".." && relative.is_relative();
+    return !relative.empty() && relative != "." && *relative.begin() != ".." &&
+           relative.is_relative();
   };
   if (written.empty() || written.is_absolute()) return false;
   std::error_code ec;
