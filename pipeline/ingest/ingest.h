@@ -76,6 +76,8 @@ struct JobSpec {
   std::string test_dates;              // free text, e.g. "2026-09-01 to 2026-10-12"
   std::string issue_date;              // ISO 8601 date printed on the sheet (deterministic)
   std::string template_name = "full";  // report template (templates/<name>.toml) or a path
+  // Data files (and a template given as a path) may lie outside the job file's folder tree.
+  bool allow_data_outside_job_folder = false;
   DryMassMethod dry_mass_method = DryMassMethod::kOvenDrying;
   double drying_temperature_K = 378.15;  // 105 degC, ISO 12570 default
   double balance_resolution_g = 1e-4;

@@ -246,6 +246,7 @@ int Check(const CheckArguments& args) {
   const equilibrate::EquilibriumSet equilibria =
       equilibrate::Equilibrate(ingested, settings.equilibrate);
   const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
+  CheckWorkBudget(settings, reduced);  // `check` refuses what `make` refuses
   if (args.json) {
     std::fputs((Json(ingested, equilibria, reduced).dump(2) + "\n").c_str(), stdout);
   } else {

@@ -78,6 +78,7 @@ RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& option
   progress("reduce", 2);
   const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
   Append(result.warnings, reduced.summary.warnings);
+  CheckWorkBudget(settings, reduced);
 
   progress("fit", 3);
   const fit::IsothermFits fits = fit::FitIsotherms(reduced, settings.fit);
