@@ -11,8 +11,8 @@
 #include <string_view>
 #include <system_error>
 
-#include "pipeline/common/files.h"
 #include "pipeline/common/bounded_input.h"
+#include "pipeline/common/files.h"
 #include "pipeline/ingest/csv_reader.h"
 #include "pipeline/ingest/date_time.h"
 #include "pipeline/ingest/ingest.h"
