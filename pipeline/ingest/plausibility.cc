@@ -61,9 +61,9 @@ struct DryReference {
 std::optional<DryReference> DryReferenceOf(const IngestResult& result,
                                            const SpecimenSpec& specimen) {
   if (specimen.dry_mass_g) {
-    return DryReference{
-        *specimen.dry_mass_g,
-        fmt::format("its stated dry_mass_g ({}:{})", specimen.where.file, specimen.where.line)};
+    return DryReference{*specimen.dry_mass_g,
+                        fmt::format("dry_mass_g of [[specimen]] at {}:{}", specimen.where.file,
+                                    specimen.where.line)};
   }
   // The drying steps the job's dry-mass method reads: oven weighings for "oven" (any drying
   // step when there are none), every drying step otherwise.
@@ -113,12 +113,14 @@ SourceLocation Located(const IngestResult& result, const SpecimenMasses& masses,
   return where;
 }
 
-// R6 for one reading against the dry reference.
+// R6 for the largest and the smallest reading against the dry reference.
 void CheckMoisture(const IngestResult& result, const SpecimenMasses& masses,
-                   const MassReading& reading, const DryReference& dry, double lower_bound) {
+                   const DryReference& dry, double lower_bound) {
+  const bool too_high = masses.largest.mass_g / dry.mass_g - 1.0 > kMaxPlausibleMoisture_kg_per_kg;
+  const MassReading& reading = too_high ? masses.largest : masses.smallest;
   const double ratio = reading.mass_g / dry.mass_g;
   const double moisture = ratio - 1.0;
-  if (moisture >= lower_bound && moisture <= kMaxPlausibleMoisture_kg_per_kg) return;
+  if (!too_high && moisture >= lower_bound) return;
   const std::string mix_up = MassUnitMixUp(ratio);
   std::string message = fmt::format(
       "mass {} in column '{}' of specimen '{}' is {:.4g} times its dry mass {} ({}): a moisture "
@@ -295,8 +297,7 @@ void CheckAcrossFiles(const IngestResult& result, const std::vector<SpecimenMass
     if (!dry) continue;
     for (const SpecimenMasses& m : masses) {
       if (m.specimen_id != specimen.id || m.empty()) continue;
-      CheckMoisture(result, m, m.largest, *dry, lower_bound);
-      CheckMoisture(result, m, m.smallest, *dry, lower_bound);
+      CheckMoisture(result, m, *dry, lower_bound);
     }
   }
   const SpecimenMasses* smallest = nullptr;
