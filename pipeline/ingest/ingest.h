@@ -84,6 +84,9 @@ struct JobSpec {
   double balance_standard_uncertainty_g = 1e-4;
   double rh_sensor_standard_uncertainty_fraction = 0.01;  // vapour-sorption RH sensor
   double temperature_standard_uncertainty_K = 0.2;
+  // The balance keys in [measurement] (line of [measurement], column 0, when not stated).
+  SourceLocation balance_resolution_where;
+  SourceLocation balance_uncertainty_where;
   bool negative_moisture_expected = false;
   std::vector<SpecimenSpec> specimens;
   std::vector<DataSetSpec> datasets;

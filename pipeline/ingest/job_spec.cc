@@ -1,5 +1,6 @@
 // LoadJobSpec: the job file's own sections ([job], [material], [measurement], [[specimen]],
 // [[dataset]], [retention]); tables of later stages are left to their owners.
+#include <fmt/format.h>
 #include <toml++/toml.h>
 
 #include <algorithm>
@@ -16,6 +17,7 @@
 #include "pipeline/ingest/csv_reader.h"
 #include "pipeline/ingest/date_time.h"
 #include "pipeline/ingest/ingest.h"
+#include "pipeline/ingest/plausibility.h"
 #include "pipeline/physics/physics.h"
 
 namespace sorbtrace::ingest {
@@ -228,6 +230,33 @@ void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir, 
   }
 }
 
+// Plausibility rule R7 (plausibility.h): RH-sensor and temperature uncertainties within what
+// the instruments can have; where the balance keys are, for the balance bound checked once the
+// masses are read.
+void CheckUncertaintyBounds(const JobFileReader& in, const toml::table& measurement, JobSpec* job) {
+  const auto bound = [&](std::string_view key, double value, double limit, std::string_view unit) {
+    if (value <= limit) return;
+    in.Fail(*measurement.get(key),
+            fmt::format("{} = {:g} {} is beyond what the instrument of a sorption test has", key,
+                        value, unit),
+            fmt::format("a standard uncertainty above 0 and at most {:g} {}", limit, unit));
+  };
+  bound("rh_sensor_standard_uncertainty_percent",
+        job->rh_sensor_standard_uncertainty_fraction * 100.0,
+        internal::kMaxRhSensorUncertainty_percent, "%RH");
+  bound("temperature_standard_uncertainty_K", job->temperature_standard_uncertainty_K,
+        internal::kMaxTemperatureUncertainty_K, "K");
+  const auto where = [&](std::string_view key) {
+    const toml::node* node = measurement.get(key);
+    if (node != nullptr) return in.At(*node);
+    SourceLocation table = in.At(measurement);
+    table.column = 0;
+    return table;
+  };
+  job->balance_resolution_where = where("balance_resolution_g");
+  job->balance_uncertainty_where = where("balance_standard_uncertainty_g");
+}
+
 }  // namespace
 
 std::string_view BranchName(Branch branch) {
@@ -320,6 +349,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
   job.temperature_standard_uncertainty_K =
       in.Positive(measurement, kM, "temperature_standard_uncertainty_K", false)
           .value_or(job.temperature_standard_uncertainty_K);
+  CheckUncertaintyBounds(in, measurement, &job);
   job.negative_moisture_expected =
       in.Bool(measurement, kM, "negative_moisture_expected").value_or(false);
 
