@@ -52,8 +52,13 @@ function(sorbtrace_test name)
     set(ARG_LABELS unit)
   endif()
   include(GoogleTest)
+  # Each build folder has its own scratch folder (std::filesystem::temp_directory_path reads
+  # TMPDIR), so two builds of the tree (Release and sanitizer, or two checkouts) running their
+  # suites at the same time never share a test's files.
+  set(test_tmp "${PROJECT_BINARY_DIR}/test-tmp")
+  file(MAKE_DIRECTORY "${test_tmp}")
   gtest_discover_tests(${name}
       WORKING_DIRECTORY ${PROJECT_SOURCE_DIR}
-      PROPERTIES LABELS "${ARG_LABELS}"
+      PROPERTIES LABELS "${ARG_LABELS}" ENVIRONMENT "TMPDIR=${test_tmp}"
       DISCOVERY_TIMEOUT 60)
 endfunction()

@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/common/files.h"
 
 namespace sorbtrace {
 namespace {
@@ -180,6 +181,9 @@ bool LiesInsideFolder(const std::filesystem::path& written, const std::filesyste
 
 std::string ReadBoundedFile(const std::filesystem::path& path, const std::string& display,
                             std::size_t max_bytes, const std::string& expected) {
+  // What the path is (a folder, FIFO, device, link loop) is named by the one rule in files.h.
+  const std::string problem = RegularFileProblem(path);
+  if (!problem.empty()) throw InputError(SourceLocation{display, 0, 0}, problem, expected);
   // O_NONBLOCK: opening a FIFO must not wait for a writer; it is refused below.
   const int fd = ::open(path.c_str(), O_RDONLY | O_NONBLOCK | O_CLOEXEC);
   if (fd < 0) {

@@ -213,13 +213,6 @@ void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir, 
   const fs::path written(dataset->file_as_written);
   dataset->file = (job_dir / written).lexically_normal();
   const toml::node& key = *table.get("file");
-  if (!allow_outside && !dataset->file_as_written.empty() && !LiesInsideFolder(written, job_dir)) {
-    in.Fail(
-        key,
-        "data file '" + Excerpt(dataset->file_as_written) + "' lies outside the job file's folder",
-        "a path relative to the job file, inside its folder tree (or "
-        "allow_data_outside_job_folder = true in [job] to read files elsewhere)");
-  }
   const std::string problem =
       dataset->file_as_written.empty() ? "not found" : RegularFileProblem(dataset->file);
   if (!problem.empty()) {
@@ -227,6 +220,13 @@ void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir, 
             "data file '" + Excerpt(dataset->file_as_written) + "' " + problem + " (looked for " +
                 Excerpt(dataset->file.string(), 200) + ")",
             "an existing file, relative to the job file");
+  }
+  if (!allow_outside && !dataset->file_as_written.empty() && !LiesInsideFolder(written, job_dir)) {
+    in.Fail(
+        key,
+        "data file '" + Excerpt(dataset->file_as_written) + "' lies outside the job file's folder",
+        "a path relative to the job file, inside its folder tree (or "
+        "allow_data_outside_job_folder = true in [job] to read files elsewhere)");
   }
 }
 
