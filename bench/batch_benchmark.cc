@@ -35,6 +35,9 @@ void BM_Batch200Jobs(benchmark::State& state) {
   const std::string command = std::string(SORBTRACE_BINARY) + " batch " + (root / "jobs").string() +
                               " --out " + (root / "out").string() + " -q -j " +
                               std::to_string(state.range(0)) + " > /dev/null 2>&1";
+  // Outputs of an earlier build may lack the batch marker, which `batch` then refuses to
+  // write into; the benchmark's own output folder is started afresh.
+  fs::remove_all(root / "out");
   for (auto _ : state) {
     const int status = std::system(command.c_str());
     if (status != 0) state.SkipWithError("batch failed");

@@ -22,6 +22,8 @@ enum class ExitCode : int {
   kFitFailure = 4,     // no model could be fitted / a required computation failed
   kAuditMismatch = 5,  // `verify`: a recomputed number or an input hash differs
   kBatchPartial = 6,   // `batch`: at least one job failed (others completed)
+  kOutputError = 7,    // an output cannot be written: read-only folder, disk full (ENOSPC),
+                       // file-size limit (EFBIG, `ulimit -f`); nothing partial is left behind
   kInternal = 70,      // a bug: please report (EX_SOFTWARE)
 };
 
@@ -54,6 +56,14 @@ class InputError : public std::runtime_error {
 
  private:
   Diagnostic diagnostic_;
+};
+
+// Thrown when an output cannot be written for a reason of the environment (read-only
+// folder, disk full, file-size limit); what() names the path and the system's reason. The
+// verbs map it to ExitCode::kOutputError.
+class OutputError : public std::runtime_error {
+ public:
+  using std::runtime_error::runtime_error;
 };
 
 // Thrown when a computation cannot produce a result (e.g. no model converged).

@@ -1,17 +1,20 @@
 #include "pipeline/common/files.h"
 
+#include <fcntl.h>
 #include <openssl/evp.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <array>
 #include <atomic>
-#include <cstdio>
-#include <fstream>
+#include <cerrno>
+#include <cstring>
 #include <memory>
 #include <random>
 #include <stdexcept>
 #include <system_error>
 
+#include "pipeline/common/cleanup.h"
 #include "pipeline/common/diagnostics.h"
 
 namespace sorbtrace {
@@ -34,7 +37,124 @@ struct EvpContextDeleter {
 
 std::atomic<unsigned long> temp_counter{0};
 
+std::string ProblemOfMode(mode_t mode) {
+  if (S_ISDIR(mode)) return "is a folder, not a file";
+  if (S_ISFIFO(mode)) return "is a FIFO (named pipe), not a file";
+  if (S_ISCHR(mode) || S_ISBLK(mode)) return "is a device, not a file";
+  if (S_ISSOCK(mode)) return "is a socket, not a file";
+  return "is not a regular file";
+}
+
+std::string ProblemOfErrno(int error_number) {
+  switch (error_number) {
+    case ENOENT:
+      return "not found";
+    case ENOTDIR:
+      return "not found (a part of the path is not a folder)";
+    case ELOOP:
+      return "is a symbolic-link loop (too many levels of symbolic links)";
+    default:
+      return "cannot be read (" + std::string(std::strerror(error_number)) + ")";
+  }
+}
+
+// Opens a regular file for reading. O_NONBLOCK keeps open() from waiting for a writer on a
+// FIFO; fstat on the descriptor then refuses everything that is not a regular file.
+int OpenRegularFile(const std::filesystem::path& path) {
+  const int fd = ::open(path.c_str(), O_RDONLY | O_NONBLOCK | O_CLOEXEC);
+  if (fd < 0) {
+    throw InputError(SourceLocation{path.string(), 0, 0}, ProblemOfErrno(errno),
+                     "an existing, readable regular file");
+  }
+  struct stat status {};
+  if (::fstat(fd, &status) != 0 || !S_ISREG(status.st_mode)) {
+    const std::string problem = ProblemOfMode(status.st_mode);
+    ::close(fd);
+    throw InputError(SourceLocation{path.string(), 0, 0}, problem,
+                     "an existing, readable regular file");
+  }
+  ::fcntl(fd, F_SETFL, ::fcntl(fd, F_GETFL) & ~O_NONBLOCK);
+  return fd;
+}
+
+class FileDescriptor {
+ public:
+  explicit FileDescriptor(int fd) : fd_(fd) {}
+  ~FileDescriptor() {
+    if (fd_ >= 0) ::close(fd_);
+  }
+  FileDescriptor(const FileDescriptor&) = delete;
+  FileDescriptor& operator=(const FileDescriptor&) = delete;
+  int get() const { return fd_; }
+
+ private:
+  int fd_;
+};
+
+// Reads the whole descriptor in chunks, handing each to `consume`.
+template <typename Consume>
+void ReadChunks(int fd, const std::filesystem::path& path, Consume&& consume) {
+  std::array<char, 1 << 16> buffer{};
+  for (;;) {
+    const ssize_t got = ::read(fd, buffer.data(), buffer.size());
+    if (got == 0) return;
+    if (got < 0) {
+      if (errno == EINTR) continue;
+      throw InputError(SourceLocation{path.string(), 0, 0},
+                       "read failed (" + std::string(std::strerror(errno)) + ")",
+                       "a readable regular file");
+    }
+    consume(buffer.data(), static_cast<size_t>(got));
+  }
+}
+
+bool WriteAll(int fd, std::string_view content) {
+  while (!content.empty()) {
+    const ssize_t put = ::write(fd, content.data(), content.size());
+    if (put < 0) {
+      if (errno == EINTR) continue;
+      return false;
+    }
+    content.remove_prefix(static_cast<size_t>(put));
+  }
+  return true;
+}
+
 }  // namespace
+
+std::string RegularFileProblem(const std::filesystem::path& path) {
+  struct stat status {};
+  if (::stat(path.c_str(), &status) != 0) return ProblemOfErrno(errno);
+  if (!S_ISREG(status.st_mode)) return ProblemOfMode(status.st_mode);
+  return {};
+}
+
+void RequireRegularFile(const std::filesystem::path& path, const std::string& display,
+                        const std::string& expected) {
+  const std::string problem = RegularFileProblem(path);
+  if (!problem.empty()) throw InputError(SourceLocation{display, 0, 0}, problem, expected);
+}
+
+std::string WriteFailureMessage(const std::filesystem::path& path, int error_number) {
+  std::string message = "cannot write " + path.string() + ": " + std::strerror(error_number);
+  switch (error_number) {
+    case ENOSPC:
+    case EDQUOT:
+      message += " (the disk or the quota is full; free space and run again)";
+      break;
+    case EFBIG:
+      message += " (the file-size limit, `ulimit -f`, was reached)";
+      break;
+    case EROFS:
+    case EACCES:
+    case EPERM:
+      message += " (the output folder is not writable; choose another with --out)";
+      break;
+    default:
+      break;
+  }
+  return message;
+}
 
 void WriteFileAtomically(const std::filesystem::path& path, std::string_view content) {
   const std::filesystem::path directory =
@@ -43,33 +163,23 @@ void WriteFileAtomically(const std::filesystem::path& path, std::string_view con
   std::string temp_name = "." + path.filename().string() + ".tmp-" + std::to_string(::getpid()) +
                           "-" + std::to_string(temp_counter.fetch_add(1));
   const std::filesystem::path temp_path = directory / temp_name;
-  std::FILE* file = std::fopen(temp_path.c_str(), "wb");
-  if (file == nullptr) {
-    throw std::runtime_error("cannot create " + temp_path.string());
-  }
-  const bool written = std::fwrite(content.data(), 1, content.size(), file) == content.size();
-  const bool flushed = std::fflush(file) == 0 && ::fsync(::fileno(file)) == 0;
-  const bool closed = std::fclose(file) == 0;
-  if (!written || !flushed || !closed) {
-    std::filesystem::remove(temp_path);
-    throw std::runtime_error("cannot write " + temp_path.string());
-  }
-  std::error_code error;
-  std::filesystem::rename(temp_path, path, error);
-  if (error) {
-    std::filesystem::remove(temp_path);
-    throw std::runtime_error("cannot rename " + temp_path.string() + " to " + path.string() + ": " +
-                             error.message());
+  const ScopedTemporaryPath registered(temp_path, false);
+  const int fd = ::open(temp_path.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0644);
+  if (fd < 0) throw OutputError(WriteFailureMessage(path, errno));
+  int error_number = 0;
+  if (!WriteAll(fd, content) || ::fsync(fd) != 0) error_number = errno;
+  if (::close(fd) != 0 && error_number == 0) error_number = errno;
+  if (error_number == 0 && ::rename(temp_path.c_str(), path.c_str()) != 0) error_number = errno;
+  if (error_number != 0) {
+    ::unlink(temp_path.c_str());
+    throw OutputError(WriteFailureMessage(path, error_number));
   }
 }
 
 std::string ReadWholeFile(const std::filesystem::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) {
-    throw InputError(SourceLocation{path.string(), 0, 0}, "cannot open file",
-                     "an existing, readable file");
-  }
-  std::string content((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+  const FileDescriptor fd(OpenRegularFile(path));
+  std::string content;
+  ReadChunks(fd.get(), path, [&](const char* data, size_t size) { content.append(data, size); });
   return content;
 }
 
@@ -86,23 +196,16 @@ std::string Sha256Hex(std::string_view bytes) {
 }
 
 std::string Sha256HexOfFile(const std::filesystem::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) {
-    throw InputError(SourceLocation{path.string(), 0, 0}, "cannot open file",
-                     "an existing, readable file");
-  }
+  const FileDescriptor fd(OpenRegularFile(path));
   std::unique_ptr<EVP_MD_CTX, EvpContextDeleter> context(EVP_MD_CTX_new());
   if (!context || EVP_DigestInit_ex(context.get(), EVP_sha256(), nullptr) != 1) {
     throw std::runtime_error("SHA-256 init failed");
   }
-  std::array<char, 1 << 16> buffer{};
-  while (in) {
-    in.read(buffer.data(), static_cast<std::streamsize>(buffer.size()));
-    const std::streamsize got = in.gcount();
-    if (got > 0 && EVP_DigestUpdate(context.get(), buffer.data(), static_cast<size_t>(got)) != 1) {
+  ReadChunks(fd.get(), path, [&](const char* data, size_t size) {
+    if (EVP_DigestUpdate(context.get(), data, size) != 1) {
       throw std::runtime_error("SHA-256 update failed");
     }
-  }
+  });
   std::array<unsigned char, EVP_MAX_MD_SIZE> digest{};
   unsigned int length = 0;
   if (EVP_DigestFinal_ex(context.get(), digest.data(), &length) != 1) {

@@ -273,7 +273,12 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
   sheet.moisture_axis_label = rules.moisture_in_percent ? "moisture content (mass %, dry basis)"
                                                         : "moisture content (kg/kg, dry basis)";
   std::set<std::string> seen_cautions;
+  // Input warnings first (a frozen sensor, a gap in a log): they change what every number
+  // below can be trusted for, and the summary page lists only the first cautions.
   if (inputs.ingested != nullptr) {
+    for (const Diagnostic& w : inputs.ingested->summary.warnings) {
+      AddUnique(sheet.cautions, seen_cautions, w.message);
+    }
     CheckPrintedFields(inputs.ingested->job, sheet);
     seen_cautions.insert(sheet.cautions.begin(), sheet.cautions.end());
   }
@@ -444,11 +449,6 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
   }
   if (inputs.reduced != nullptr) {
     for (const Diagnostic& w : inputs.reduced->summary.warnings) {
-      AddUnique(sheet.cautions, seen_cautions, w.message);
-    }
-  }
-  if (inputs.ingested != nullptr) {
-    for (const Diagnostic& w : inputs.ingested->summary.warnings) {
       AddUnique(sheet.cautions, seen_cautions, w.message);
     }
   }

@@ -1,27 +1,60 @@
-// `sorbtrace batch DIR`: every job file under a folder, in parallel on a pool of worker
-// threads. Each job is independent and deterministic, so results are identical to one-by-one
-// runs. One failing job never stops the others; it is reported in summary.csv with its error.
-#include <toml++/toml.h>
+// `sorbtrace batch DIR`: every job file under a folder, each run as its own child process
+// (`sorbtrace make JOB --out OUT/NAME`, started with posix_spawn from /proc/self/exe), at most
+// -j at a time. Each job is independent and deterministic, so results are identical to
+// one-by-one runs. A job that fails — or crashes — never stops the others: it is a failed
+// row of summary.csv with its error.
+//
+// Output names: OUT/<job id as folder name> (OutputFolderName). Job files whose ids give the
+// same folder name (the same id twice, or ids that differ only in replaced characters) are
+// told apart by a suffix "-2", "-3", ... in the order of the job files' paths, and the
+// message column of summary.csv says so. All names are single folders directly under OUT, so no
+// output lies inside another. OUT itself must be new, empty, or an earlier batch output (marker
+// .sorbtrace-batch), and must not be, contain or lie inside DIR, the current folder, the home
+// folder or "/".
+#include <fcntl.h>
+#include <spawn.h>
+#include <sys/stat.h>
+#include <sys/wait.h>
+#include <unistd.h>
 
 #include <CLI/CLI.hpp>
 #include <algorithm>
 #include <atomic>
+#include <cerrno>
+#include <csignal>
 #include <cstdio>
+#include <cstdlib>
+#include <cstring>
 #include <filesystem>
+#include <map>
 #include <memory>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <thread>
 #include <vector>
 
+#include "pipeline/common/cleanup.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
 #include "pipeline/run/commands.h"
 #include "pipeline/run/console.h"
 #include "pipeline/run/run.h"
 
+extern char** environ;
+
 namespace sorbtrace::run {
 namespace {
+
+namespace fs = std::filesystem;
+
+constexpr char kBatchMarkerName[] = ".sorbtrace-batch";
+constexpr char kBatchMarkerHeader[] = "sorbtrace batch output folder";
+// A job file is a few kilobytes; a bigger .toml is still run (and judged by `make`), but
+// not scanned for its id here.
+constexpr size_t kMaxScannedJobBytes = 4 * 1024 * 1024;
+// Descriptor number of the status pipe in a child, above 0-2 and any descriptor the child
+// opens before it writes its status.
+constexpr int kChildStatusFd = 3;
 
 struct BatchArguments {
   std::string input_dir;
@@ -40,15 +73,254 @@ struct JobOutcome {
   nlohmann::json headline;  // results.json "headline", when the job succeeded
 };
 
-// A job file is a .toml file with a [job] table (templates and other TOML are skipped).
-bool IsJobFile(const std::filesystem::path& path) {
-  if (path.extension() != ".toml") return false;
-  try {
-    const toml::table root = toml::parse_file(path.string());
-    return root.contains("job");
-  } catch (const toml::parse_error&) {
-    return true;  // a broken job file is still a job: it is run and reported as bad input
+// A job found in DIR, before it runs.
+struct PlannedJob {
+  fs::path job_file;
+  std::string job_id;       // as scanned from the [job] table; empty if not found
+  std::string folder_name;  // under OUT; empty when the job is refused
+  std::string refusal;      // why it is not run (exit 3), empty if it runs
+  std::string note;         // e.g. a disambiguated folder name
+};
+
+std::string Trimmed(const std::string& line) {
+  const size_t begin = line.find_first_not_of(" \t\r");
+  if (begin == std::string::npos) return {};
+  const size_t end = line.find_last_not_of(" \t\r");
+  return line.substr(begin, end - begin + 1);
+}
+
+// The value of `key = "text"` or `key = 'text'` (no escapes), if `line` is that assignment.
+bool QuotedValue(const std::string& line, const std::string& key, std::string* value) {
+  if (line.rfind(key, 0) != 0) return false;
+  const std::string rest = Trimmed(line.substr(key.size()));
+  if (rest.empty() || rest[0] != '=') return false;
+  const std::string quoted = Trimmed(rest.substr(1));
+  if (quoted.size() < 2 || (quoted[0] != '"' && quoted[0] != '\'')) return false;
+  const size_t close = quoted.find(quoted[0], 1);
+  if (close == std::string::npos) return false;
+  *value = quoted.substr(1, close - 1);
+  return value->find('\\') == std::string::npos || quoted[0] == '\'';
+}
+
+// Line scan of a .toml file (no TOML parser: a hostile file must not be able to crash the
+// batch process itself): is it a job file (a [job] table or job.* keys), and its job id.
+// Templates and other TOML files are skipped; a job file that is broken is still run and
+// reported by its child.
+bool ScanJobFile(const fs::path& path, std::string* job_id) {
+  std::error_code ec;
+  const auto size = fs::file_size(path, ec);
+  if (ec || size > kMaxScannedJobBytes) return !ec;
+  const std::string text = ReadWholeFile(path);
+  bool is_job = false;
+  bool in_job_table = false;
+  size_t begin = 0;
+  while (begin < text.size()) {
+    size_t end = text.find('\n', begin);
+    if (end == std::string::npos) end = text.size();
+    const std::string line = Trimmed(text.substr(begin, end - begin));
+    begin = end + 1;
+    if (line.empty() || line[0] == '#') continue;
+    if (line[0] == '[') {
+      std::string header;
+      for (char c : line.substr(0, line.find(']') + 1)) {
+        if (c != ' ' && c != '\t') header += c;
+      }
+      in_job_table = header == "[job]";
+      is_job = is_job || in_job_table;
+      continue;
+    }
+    std::string value;
+    if (in_job_table && job_id->empty() && QuotedValue(line, "id", &value)) *job_id = value;
+    if (line.rfind("job.", 0) == 0 || line.rfind("job ", 0) == 0 || line.rfind("job=", 0) == 0) {
+      is_job = true;
+      if (job_id->empty() && QuotedValue(line, "job.id", &value)) *job_id = value;
+    }
   }
+  return is_job;
+}
+
+// Every .toml under `dir` (symbolic links to folders are not followed, so a link loop
+// cannot make the walk endless), sorted by path. A .toml entry that is not a regular file
+// (FIFO, device, symbolic-link loop) becomes a refused job naming what it is.
+std::vector<PlannedJob> FindJobs(const fs::path& dir) {
+  std::vector<PlannedJob> jobs;
+  std::error_code ec;
+  fs::recursive_directory_iterator it(dir, fs::directory_options::skip_permission_denied, ec);
+  for (; !ec && it != fs::recursive_directory_iterator(); it.increment(ec)) {
+    const fs::path& path = it->path();
+    if (path.extension() != ".toml") continue;
+    std::error_code status_error;
+    if (fs::is_directory(path, status_error)) continue;
+    PlannedJob job;
+    job.job_file = path;
+    const std::string problem = RegularFileProblem(path);
+    if (!problem.empty()) {
+      job.refusal = path.string() + ": " + problem + "; expected a TOML job file";
+    } else if (!ScanJobFile(path, &job.job_id)) {
+      continue;
+    }
+    jobs.push_back(job);
+  }
+  if (ec) {
+    throw InputError(SourceLocation{dir.string(), 0, 0},
+                     "cannot walk the folder (" + ec.message() + ")",
+                     "a readable folder of job files");
+  }
+  std::sort(jobs.begin(), jobs.end(),
+            [](const PlannedJob& a, const PlannedJob& b) { return a.job_file < b.job_file; });
+  return jobs;
+}
+
+// Output folder names: see the file comment.
+void AssignFolderNames(std::vector<PlannedJob>& jobs) {
+  std::map<std::string, const PlannedJob*> taken;  // folder name -> job holding it
+  for (auto& job : jobs) {
+    if (!job.refusal.empty()) continue;
+    const std::string base = job.job_id.empty()
+                                 ? "unnamed-" + OutputFolderName(job.job_file.generic_string())
+                                 : OutputFolderName(job.job_id);
+    std::string name = base;
+    for (int suffix = 2; taken.count(name) != 0; ++suffix) {
+      name = base + "-" + std::to_string(suffix);
+    }
+    if (name != base) {
+      const PlannedJob& holder = *taken[base];
+      job.note = "output folder renamed to " + name + ": " + base + " belongs to " +
+                 holder.job_file.string() +
+                 (holder.job_id == job.job_id ? " (same job id '" + job.job_id + "')"
+                                              : " (job id '" + holder.job_id + "')");
+    }
+    taken[name] = &job;
+    job.folder_name = name;
+  }
+}
+
+bool IsSameOrInside(const fs::path& inner, const fs::path& outer) {
+  const fs::path relative = inner.lexically_relative(outer);
+  return !relative.empty() && *relative.begin() != "..";
+}
+
+fs::path Resolved(const fs::path& path) {
+  std::error_code ec;
+  fs::path resolved = fs::weakly_canonical(fs::absolute(path), ec);
+  return ec ? fs::absolute(path).lexically_normal() : resolved;
+}
+
+[[noreturn]] void RefuseRoot(const fs::path& out, const std::string& why) {
+  throw InputError(SourceLocation{out.string(), 0, 0},
+                   "batch output folder refused: " + why + "; nothing was written",
+                   "a new or empty folder outside the job folder, or an earlier batch output "
+                   "(holding " +
+                       std::string(kBatchMarkerName) + ")");
+}
+
+// Checks OUT (see the file comment) and creates it with its marker.
+void PrepareOutputRoot(const fs::path& out, const fs::path& input_dir) {
+  const fs::path target = Resolved(out);
+  const fs::path inputs = Resolved(input_dir);
+  if (target == target.root_path()) RefuseRoot(out, "it is the root folder");
+  if (const char* home = std::getenv("HOME"); home != nullptr && *home != '\0') {
+    if (IsSameOrInside(Resolved(home), target))
+      RefuseRoot(out, "it is or contains the home folder");
+  }
+  std::error_code ec;
+  if (IsSameOrInside(Resolved(fs::current_path(ec)), target)) {
+    RefuseRoot(out, "it is or contains the current folder; name a sub-folder instead");
+  }
+  if (IsSameOrInside(inputs, target) || IsSameOrInside(target, inputs)) {
+    RefuseRoot(out, "it is, contains or lies inside the job folder " + input_dir.string() +
+                        " (outputs could replace inputs)");
+  }
+  struct stat status {};
+  if (::lstat(target.c_str(), &status) == 0) {
+    if (!S_ISDIR(status.st_mode)) RefuseRoot(out, "it exists and is not a folder");
+    const bool empty = fs::is_empty(target, ec);
+    const fs::path marker = target / kBatchMarkerName;
+    struct stat marker_status {};
+    const bool marked = ::lstat(marker.c_str(), &marker_status) == 0 &&
+                        S_ISREG(marker_status.st_mode) &&
+                        ReadWholeFile(marker).rfind(kBatchMarkerHeader, 0) == 0;
+    if (!empty && !marked) {
+      RefuseRoot(out, "it exists, is not empty and was not written by `sorbtrace batch`");
+    }
+    if (marked) return;
+  }
+  fs::create_directories(target, ec);
+  if (ec) throw OutputError(WriteFailureMessage(target, ec.value()));
+  WriteFileAtomically(target / kBatchMarkerName, std::string(kBatchMarkerHeader) + "\n");
+}
+
+// Runs `sorbtrace make` on one job in a child process and reads its status.
+void RunChild(const PlannedJob& job, const fs::path& out, JobOutcome& outcome) {
+  int pipe_fds[2];
+  if (::pipe2(pipe_fds, O_CLOEXEC) != 0) {
+    throw OutputError(std::string("cannot create a pipe: ") + std::strerror(errno));
+  }
+  // Both ends well above the child's status descriptor, so dup2 always clears close-on-exec.
+  const int read_fd = ::fcntl(pipe_fds[0], F_DUPFD_CLOEXEC, 10);
+  const int write_fd = ::fcntl(pipe_fds[1], F_DUPFD_CLOEXEC, 10);
+  ::close(pipe_fds[0]);
+  ::close(pipe_fds[1]);
+  const std::string self = "/proc/self/exe";
+  std::vector<std::string> argv_text = {
+      "sorbtrace",  "make",    job.job_file.string(), "--out",
+      out.string(), "--quiet", "--status-fd",         std::to_string(kChildStatusFd)};
+  std::vector<char*> argv;
+  for (auto& arg : argv_text) argv.push_back(arg.data());
+  argv.push_back(nullptr);
+  posix_spawn_file_actions_t actions;
+  posix_spawn_file_actions_init(&actions);
+  posix_spawn_file_actions_addopen(&actions, 1, "/dev/null", O_WRONLY, 0);
+  posix_spawn_file_actions_addopen(&actions, 2, "/dev/null", O_WRONLY, 0);
+  posix_spawn_file_actions_adddup2(&actions, write_fd, kChildStatusFd);
+  pid_t pid = 0;
+  const int spawned = ::posix_spawn(&pid, self.c_str(), &actions, nullptr, argv.data(), environ);
+  posix_spawn_file_actions_destroy(&actions);
+  ::close(write_fd);
+  if (spawned != 0) {
+    ::close(read_fd);
+    outcome.exit_code = static_cast<int>(ExitCode::kOutputError);
+    outcome.message = std::string("cannot start a child process: ") + std::strerror(spawned);
+    return;
+  }
+  const ScopedChildProcess registered(pid);
+  std::string status_text;
+  char buffer[4096];
+  for (;;) {
+    const ssize_t got = ::read(read_fd, buffer, sizeof buffer);
+    if (got < 0 && errno == EINTR) continue;
+    if (got <= 0) break;
+    status_text.append(buffer, static_cast<size_t>(got));
+  }
+  ::close(read_fd);
+  int wait_status = 0;
+  while (::waitpid(pid, &wait_status, 0) < 0 && errno == EINTR) {
+  }
+  if (WIFSIGNALED(wait_status)) {
+    const int signal_number = WTERMSIG(wait_status);
+    outcome.exit_code = static_cast<int>(ExitCode::kInternal);
+    outcome.message = "the job crashed (signal " + std::to_string(signal_number) + ", " +
+                      strsignal(signal_number) + "); its output folder was not written";
+    return;
+  }
+  const auto status = nlohmann::json::parse(status_text, nullptr, false);
+  if (!status.is_object() || !status.contains("exit_code")) {
+    outcome.exit_code = static_cast<int>(ExitCode::kInternal);
+    outcome.message = "the job ended with exit code " + std::to_string(WEXITSTATUS(wait_status)) +
+                      " without reporting its outcome";
+    return;
+  }
+  outcome.exit_code = status.value("exit_code", static_cast<int>(ExitCode::kInternal));
+  outcome.job_id = status.value("job_id", outcome.job_id);
+  outcome.message = status.value("message", "");
+  if (status.contains("headline")) outcome.headline = status["headline"];
+}
+
+// Spreadsheets run a cell that starts with = + - @ (or tab / carriage return) as a formula;
+// such text cells get a leading apostrophe (OWASP "CSV Injection" rule).
+std::string CsvText(const std::string& text) {
+  const bool formula = !text.empty() && std::string("=+-@\t\r").find(text[0]) != std::string::npos;
+  return formula ? "'" + text : text;
 }
 
 std::string CsvField(const std::string& text) {
@@ -85,9 +357,9 @@ std::string Summary(const std::vector<JobOutcome>& outcomes) {
     return value.is_number() ? value.dump() : std::string();
   };
   for (const auto& outcome : outcomes) {
-    csv += CsvField(outcome.job_file) + "," + CsvField(outcome.job_id) + "," +
+    csv += CsvField(CsvText(outcome.job_file)) + "," + CsvField(CsvText(outcome.job_id)) + "," +
            (outcome.exit_code == 0 ? "ok" : "failed") + "," + std::to_string(outcome.exit_code) +
-           "," + CsvField(outcome.output_dir);
+           "," + CsvField(CsvText(outcome.output_dir));
     for (const auto& key : keys) {
       std::string value;
       std::string uncertainty;
@@ -95,36 +367,37 @@ std::string Summary(const std::vector<JobOutcome>& outcomes) {
         for (const auto& item : outcome.headline) {
           if (item.value("key", "") != key) continue;
           value = item.contains("value") ? number(item["value"]) : "";
-          if (value.empty() && item.contains("text")) value = item["text"].get<std::string>();
+          if (value.empty() && item.contains("text") && item["text"].is_string()) {
+            value = CsvText(item["text"].get<std::string>());
+          }
           uncertainty =
               item.contains("expanded_uncertainty") ? number(item["expanded_uncertainty"]) : "";
         }
       }
       csv += "," + CsvField(value) + "," + CsvField(uncertainty);
     }
-    csv += "," + CsvField(outcome.message) + "\n";
+    csv += "," + CsvField(CsvText(outcome.message)) + "\n";
   }
   return csv;
 }
 
 int Batch(const BatchArguments& args) {
-  namespace fs = std::filesystem;
   Console console(args.quiet ? Verbosity::kQuiet
                              : (args.verbose ? Verbosity::kVerbose : Verbosity::kNormal));
-  if (!fs::is_directory(args.input_dir)) {
-    throw InputError(SourceLocation{args.input_dir, 0, 0}, "not a folder",
+  const std::string problem = fs::is_directory(args.input_dir) ? "" : "not a folder";
+  if (!problem.empty()) {
+    throw InputError(SourceLocation{args.input_dir, 0, 0}, problem,
                      "a folder holding job files (*.toml with a [job] table)");
   }
-  std::vector<fs::path> jobs;
-  for (const auto& entry : fs::recursive_directory_iterator(args.input_dir)) {
-    if (entry.is_regular_file() && IsJobFile(entry.path())) jobs.push_back(entry.path());
-  }
-  std::sort(jobs.begin(), jobs.end());
+  std::vector<PlannedJob> jobs = FindJobs(args.input_dir);
   if (jobs.empty()) {
     throw InputError(SourceLocation{args.input_dir, 0, 0}, "no job files found",
                      "at least one *.toml file with a [job] table");
   }
+  AssignFolderNames(jobs);
   const fs::path out_root = args.output_dir;
+  PrepareOutputRoot(out_root, args.input_dir);
+
   std::vector<JobOutcome> outcomes(jobs.size());
   std::atomic<size_t> next{0};
   std::atomic<size_t> done{0};
@@ -134,32 +407,23 @@ int Batch(const BatchArguments& args) {
 
   auto work = [&] {
     for (size_t i = next.fetch_add(1); i < jobs.size(); i = next.fetch_add(1)) {
+      const PlannedJob& job = jobs[i];
       JobOutcome& outcome = outcomes[i];
-      const fs::path relative = fs::relative(jobs[i], args.input_dir);
-      fs::path name = relative.parent_path() / relative.stem();
-      if (relative.stem() == "job" && !relative.parent_path().empty())
-        name = relative.parent_path();
-      const fs::path out = out_root / name;
-      outcome.job_file = jobs[i].string();
-      outcome.output_dir = out.string();
-      try {
-        RunOptions options;
-        options.output_dir = out;
-        const RunResult result = RunJob(jobs[i], options);
-        WriteOutputDirectory(result, out);
-        outcome.job_id = result.job.job_id;
-        const auto parsed = nlohmann::json::parse(result.artifacts.results_json);
-        if (parsed.contains("headline")) outcome.headline = parsed["headline"];
-        outcome.message = std::to_string(result.warnings.size()) + " warning(s)";
-      } catch (const InputError& error) {
+      outcome.job_file = job.job_file.string();
+      outcome.job_id = job.job_id;
+      if (!job.refusal.empty()) {
         outcome.exit_code = static_cast<int>(ExitCode::kBadInput);
-        outcome.message = error.what();
-      } catch (const ComputationError& error) {
-        outcome.exit_code = static_cast<int>(ExitCode::kFitFailure);
-        outcome.message = std::string("fit failure: ") + error.what();
-      } catch (const std::exception& error) {
-        outcome.exit_code = static_cast<int>(ExitCode::kInternal);
-        outcome.message = std::string("internal error: ") + error.what();
+        outcome.message = job.refusal;
+      } else {
+        const fs::path out = out_root / job.folder_name;
+        outcome.output_dir = out.string();
+        try {
+          RunChild(job, out, outcome);
+        } catch (const std::exception& error) {
+          outcome.exit_code = static_cast<int>(ExitCode::kOutputError);
+          outcome.message = error.what();
+        }
+        if (!job.note.empty()) outcome.message = job.note + "; " + outcome.message;
       }
       const size_t finished = done.fetch_add(1) + 1;
       console.Stage("batch", (outcome.exit_code == 0 ? "ok " : "FAILED ") + outcome.job_file,
@@ -174,7 +438,6 @@ int Batch(const BatchArguments& args) {
   for (auto& thread : pool) thread.join();
   console.Finish();
 
-  fs::create_directories(out_root);
   WriteFileAtomically(out_root / "summary.csv", Summary(outcomes));
   const auto failed = std::count_if(outcomes.begin(), outcomes.end(),
                                     [](const JobOutcome& o) { return o.exit_code != 0; });
@@ -194,7 +457,9 @@ void AddBatchCommand(CLI::App& app, int& exit_code) {
       ->required();
   command->add_option("-o,--out", args->output_dir,
                       "Output root (one folder per job + summary.csv)");
-  command->add_option("-j,--jobs", args->workers, "Worker threads (default: all cores)")
+  command
+      ->add_option("-j,--jobs", args->workers,
+                   "Jobs run at once, each in its own process (default: all cores)")
       ->check(CLI::Range(0, 256));
   command->add_flag("-q,--quiet", args->quiet, "No progress on stderr");
   command->add_flag("-v,--verbose", args->verbose, "Every failure and timing on stderr");
@@ -204,6 +469,9 @@ void AddBatchCommand(CLI::App& app, int& exit_code) {
     } catch (const InputError& error) {
       std::fprintf(stderr, "%s\n", error.what());
       exit_code = static_cast<int>(ExitCode::kBadInput);
+    } catch (const OutputError& error) {
+      std::fprintf(stderr, "sorbtrace: output error: %s\n", error.what());
+      exit_code = static_cast<int>(ExitCode::kOutputError);
     }
   });
 }

@@ -13,6 +13,7 @@
 #include <string>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/common/files.h"
 #include "pipeline/equilibrate/equilibrate.h"
 #include "pipeline/ingest/ingest.h"
 #include "pipeline/physics/physics.h"
@@ -241,12 +242,14 @@ nlohmann::ordered_json Json(const ingest::IngestResult& in, const equilibrate::E
 
 int Check(const CheckArguments& args) {
   const std::filesystem::path job_file = args.job_file;
+  RequireRegularFile(job_file, job_file.string(), "a TOML job file");
   const ingest::JobSpec job = ingest::LoadJobSpec(job_file);
   const JobSettings settings = LoadJobSettings(job_file, job, {});
   const ingest::IngestResult ingested = ingest::Ingest(job, settings.ingest);
   const equilibrate::EquilibriumSet equilibria =
       equilibrate::Equilibrate(ingested, settings.equilibrate);
   const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
+  CheckWorkBudget(settings, reduced);  // `check` refuses what `make` refuses
   if (args.json) {
     std::fputs((Json(ingested, equilibria, reduced).dump(2) + "\n").c_str(), stdout);
   } else {

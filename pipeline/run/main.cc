@@ -6,6 +6,7 @@
 #include <cstdio>
 #include <exception>
 
+#include "pipeline/common/cleanup.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/run/commands.h"
 #include "pipeline/run/version.h"
@@ -17,6 +18,7 @@ int main(int argc, char** argv) {
   FLAGS_minloglevel = google::GLOG_FATAL;
   FLAGS_logtostderr = true;
   google::InitGoogleLogging(argv[0]);
+  sorbtrace::InstallSignalCleanup();
   CLI::App app{"sorbtrace: gravimetric moisture-sorption data to a traceable PDF datasheet",
                "sorbtrace"};
   app.set_version_flag("--version", std::string("sorbtrace ") + sorbtrace::run::kVersion);
@@ -35,6 +37,9 @@ int main(int argc, char** argv) {
   } catch (const sorbtrace::InputError& error) {
     std::fprintf(stderr, "%s\n", error.what());
     return static_cast<int>(sorbtrace::ExitCode::kBadInput);
+  } catch (const sorbtrace::OutputError& error) {
+    std::fprintf(stderr, "sorbtrace: output error: %s\n", error.what());
+    return static_cast<int>(sorbtrace::ExitCode::kOutputError);
   } catch (const std::exception& error) {
     std::fprintf(stderr, "sorbtrace: internal error: %s\n", error.what());
     return static_cast<int>(sorbtrace::ExitCode::kInternal);

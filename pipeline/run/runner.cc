@@ -39,14 +39,25 @@ void Append(std::vector<Diagnostic>& to, const std::vector<Diagnostic>& from) {
 
 }  // namespace
 
+std::vector<std::filesystem::path> ProtectedInputs(const ingest::JobSpec& job) {
+  std::vector<std::filesystem::path> paths = {job.job_file, job.job_file.parent_path()};
+  if (paths.back().empty()) paths.back() = ".";
+  for (const auto& dataset : job.datasets) paths.push_back(dataset.file);
+  if (job.retention) paths.push_back(job.retention->file);
+  return paths;
+}
+
 RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& options) {
   auto progress = [&options](const char* stage, int index) {
     if (options.progress) options.progress(stage, index, kNumStages);
   };
   RunResult result;
   progress("ingest", 0);
+  RequireRegularFile(job_file, job_file.string(), "a TOML job file");
   result.job = ingest::LoadJobSpec(job_file);
   const JobSettings settings = LoadJobSettings(job_file, result.job, options.output_dir);
+  result.input_files = ProtectedInputs(result.job);
+  result.input_files.push_back(settings.template_file);
   ingest::IngestResult ingested = ingest::Ingest(result.job, settings.ingest);
   {
     const std::string content = ReadWholeFile(settings.template_file);
@@ -67,6 +78,7 @@ RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& option
   progress("reduce", 2);
   const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
   Append(result.warnings, reduced.summary.warnings);
+  CheckWorkBudget(settings, reduced);
 
   progress("fit", 3);
   const fit::IsothermFits fits = fit::FitIsotherms(reduced, settings.fit);

@@ -2,13 +2,17 @@
 // of every recorded input, re-runs the pipeline from those inputs and the recorded settings,
 // and compares every number of the recorded results with the recomputed one.
 #include <fmt/format.h>
+#include <sys/stat.h>
 
 #include <CLI/CLI.hpp>
+#include <algorithm>
 #include <cstdio>
 #include <filesystem>
 #include <memory>
 #include <nlohmann/json.hpp>
 #include <string>
+#include <system_error>
+#include <vector>
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
@@ -21,19 +25,71 @@ namespace {
 
 struct VerifyArguments {
   std::string results_file;
-  std::string job_file;     // override of the recorded location
-  std::string report_file;  // full verification report (every quantity)
+  std::string job_file;                     // override of the recorded location
+  std::string report_file;                  // full verification report (every quantity)
+  std::vector<std::string> allowed_inputs;  // recorded paths outside the job folder to hash
   bool show_all = false;
 };
 
-nlohmann::json ParseResults(const std::string& path) {
-  const std::string text = ReadWholeFile(path);
-  try {
-    return nlohmann::json::parse(text);
-  } catch (const nlohmann::json::parse_error& error) {
-    throw InputError(SourceLocation{path, 0, static_cast<int>(error.byte)},
-                     std::string("not valid JSON: ") + error.what(),
-                     "a results.json written by `sorbtrace make`");
+// First line of every report `verify --report` writes; an existing file is replaced only if
+// it starts with this line.
+constexpr char kReportHeader[] = "sorbtrace verification report";
+nlohmann::json ParseResults(const std::string& path) { return ReadResultsFile(path); }
+
+std::filesystem::path Resolved(const std::filesystem::path& path) {
+  std::error_code ec;
+  std::filesystem::path resolved = std::filesystem::weakly_canonical(path, ec);
+  return ec ? std::filesystem::absolute(path).lexically_normal() : resolved;
+}
+
+// Where a recorded data file is: relative to the job folder and inside it, unless the user
+// allowed the path explicitly with --allow-input (an auditor decides what gets opened).
+std::filesystem::path ResolveRecordedInput(const std::string& recorded,
+                                           const std::filesystem::path& job_dir,
+                                           const VerifyArguments& args,
+                                           const std::string& results_file) {
+  namespace fs = std::filesystem;
+  const fs::path written(recorded);
+  const fs::path candidate = (job_dir / written).lexically_normal();
+  const fs::path relative = written.lexically_normal();
+  const bool escapes = written.is_absolute() || written.has_root_name() ||
+                       (!relative.empty() && *relative.begin() == "..");
+  if (!escapes) return candidate;
+  for (const auto& allowed : args.allowed_inputs) {
+    if (Resolved(allowed) == Resolved(written.is_absolute() ? written : candidate)) {
+      return candidate;
+    }
+  }
+  throw InputError(
+      SourceLocation{results_file, 0, 0},
+      "recorded input '" + recorded + "' lies outside the job folder; it was not opened",
+      "inputs inside the job folder, or the path named with --allow-input");
+}
+
+// Refuses a --report target that is an input or an existing file `verify` did not write.
+void CheckReportTarget(const std::string& report_file,
+                       const std::vector<std::filesystem::path>& inputs) {
+  namespace fs = std::filesystem;
+  auto refuse = [&](const std::string& why) {
+    throw InputError(SourceLocation{report_file, 0, 0},
+                     "report file refused: " + why + "; nothing was written",
+                     "a new file, or an earlier report of `sorbtrace verify --report`");
+  };
+  const fs::path target = Resolved(report_file);
+  struct stat target_status {};
+  const bool exists = ::lstat(target.c_str(), &target_status) == 0;
+  for (const auto& input : inputs) {
+    struct stat input_status {};
+    const bool same_file = exists && ::stat(input.c_str(), &input_status) == 0 &&
+                           input_status.st_dev == target_status.st_dev &&
+                           input_status.st_ino == target_status.st_ino;
+    if (same_file || Resolved(input) == target) refuse("it is the input " + input.string());
+  }
+  if (!exists) return;
+  if (!S_ISREG(target_status.st_mode)) refuse("it exists and is not a regular file");
+  const std::string text = ReadWholeFile(target);
+  if (text.rfind(kReportHeader, 0) != 0) {
+    refuse("it exists and is not a report of `sorbtrace verify`");
   }
 }
 
@@ -49,16 +105,31 @@ int Verify(const VerifyArguments& args) {
   namespace fs = std::filesystem;
   const nlohmann::json reported = ParseResults(args.results_file);
   const fs::path results_dir = fs::absolute(args.results_file).parent_path();
-  if (!reported.contains("settings") || !reported["settings"].contains("job_file") ||
-      !reported.contains("inputs") || !reported["inputs"].is_array()) {
+  if (!reported.is_object() || !reported.contains("settings") ||
+      !reported["settings"].is_object() || !reported["settings"].contains("job_file") ||
+      !reported["settings"]["job_file"].is_string() || !reported.contains("inputs") ||
+      !reported["inputs"].is_array()) {
     throw InputError(SourceLocation{args.results_file, 0, 0},
                      "results file has no settings.job_file or inputs list",
                      "a results.json written by `sorbtrace make`");
   }
-  const fs::path job_file =
-      args.job_file.empty()
-          ? (results_dir / reported["settings"]["job_file"].get<std::string>()).lexically_normal()
-          : fs::path(args.job_file);
+  // `make` records the job file relative to the output folder; an absolute recorded path is
+  // not followed unless the auditor names the job with --job or --allow-input.
+  const fs::path recorded_job = reported["settings"]["job_file"].get<std::string>();
+  fs::path job_file = args.job_file;
+  if (job_file.empty()) {
+    job_file = (results_dir / recorded_job).lexically_normal();
+    const bool allowed = std::any_of(args.allowed_inputs.begin(), args.allowed_inputs.end(),
+                                     [&](const std::string& allowed_path) {
+                                       return Resolved(allowed_path) == Resolved(job_file);
+                                     });
+    if (recorded_job.is_absolute() && !allowed) {
+      throw InputError(SourceLocation{args.results_file, 0, 0},
+                       "recorded job file '" + recorded_job.string() +
+                           "' is an absolute path; it was not opened",
+                       "a job file relative to results.json, or the job named with --job");
+    }
+  }
   std::string full_report;
   int failures = 0;
   auto record = [&](const std::string& text, bool passed, bool always_print) {
@@ -67,11 +138,18 @@ int Verify(const VerifyArguments& args) {
     if (!passed || always_print || args.show_all) std::printf("%s\n", text.c_str());
   };
 
-  // 1. Inputs unchanged?
+  // 1. Inputs unchanged? Every path is resolved before anything is opened or written.
+  struct ResolvedInput {
+    std::string role;
+    std::string expected;
+    fs::path path;
+  };
+  std::vector<ResolvedInput> resolved_inputs;
+  std::vector<fs::path> protected_paths = {fs::path(args.results_file), job_file};
   for (const auto& input : reported["inputs"]) {
+    if (!input.is_object()) continue;
     const std::string role = input.value("role", "");
     const std::string path = input.value("path", "");
-    const std::string expected = input.value("sha256", "");
     fs::path resolved;
     if (role == "job") {
       resolved = job_file;
@@ -80,20 +158,32 @@ int Verify(const VerifyArguments& args) {
       if (!fs::exists(resolved))
         resolved = ResolveTemplate(fs::path(path).stem().string(), job_file.parent_path());
     } else {
-      resolved = job_file.parent_path() / path;
+      resolved = ResolveRecordedInput(path, job_file.parent_path(), args, args.results_file);
     }
-    std::string actual = "(missing file)";
-    if (fs::exists(resolved)) actual = Sha256HexOfFile(resolved);
-    record(fmt::format("{}  input {} {}  sha256 {}", actual == expected ? "pass" : "FAIL", role,
-                       resolved.string(),
-                       actual == expected
-                           ? std::string("unchanged")
-                           : fmt::format("CHANGED: recorded {}, now {}", expected, actual)),
-           actual == expected, true);
+    resolved_inputs.push_back({role, input.value("sha256", ""), resolved});
+    protected_paths.push_back(resolved);
+  }
+  if (!args.report_file.empty()) CheckReportTarget(args.report_file, protected_paths);
+  auto write_report = [&] {
+    if (!args.report_file.empty()) {
+      WriteFileAtomically(args.report_file, std::string(kReportHeader) + "\n" + full_report);
+    }
+  };
+  for (const auto& input : resolved_inputs) {
+    // Only regular files are hashed: a FIFO or /dev/zero would block or never end.
+    const std::string problem = RegularFileProblem(input.path);
+    const std::string actual =
+        problem.empty() ? Sha256HexOfFile(input.path) : "(input " + problem + ")";
+    const bool same = actual == input.expected;
+    record(fmt::format("{}  input {} {}  sha256 {}", same ? "pass" : "FAIL", input.role,
+                       input.path.string(),
+                       same ? std::string("unchanged")
+                            : fmt::format("CHANGED: recorded {}, now {}", input.expected, actual)),
+           same, true);
   }
   if (failures > 0) {
     std::printf("verify: %d input file(s) changed or missing; numbers not re-derived\n", failures);
-    if (!args.report_file.empty()) WriteFileAtomically(args.report_file, full_report);
+    write_report();
     return static_cast<int>(ExitCode::kAuditMismatch);
   }
 
@@ -101,7 +191,14 @@ int Verify(const VerifyArguments& args) {
   RunOptions options;
   options.output_dir = results_dir;
   const RunResult rerun = RunJob(job_file, options);
-  const nlohmann::json recomputed = nlohmann::json::parse(rerun.artifacts.results_json);
+  nlohmann::json recomputed = nlohmann::json::parse(rerun.artifacts.results_json);
+  if (!args.job_file.empty() && recomputed.contains("settings")) {
+    // Where the job file lies is not a result: a job named with --job is verified where it
+    // is now, and its recorded location is kept in the comparison.
+    std::printf("note: job file verified at %s (recorded as %s)\n", job_file.string().c_str(),
+                recorded_job.string().c_str());
+    recomputed["settings"]["job_file"] = reported["settings"]["job_file"];
+  }
   const std::vector<AuditLine> lines = CompareResults(reported, recomputed);
   int numbers = 0;
   for (const auto& line : lines) {
@@ -110,7 +207,7 @@ int Verify(const VerifyArguments& args) {
   }
   std::printf("verify: %zu quantities compared (%d numbers), %d mismatch(es)\n", lines.size(),
               numbers, failures);
-  if (!args.report_file.empty()) WriteFileAtomically(args.report_file, full_report);
+  write_report();
   return failures == 0 ? static_cast<int>(ExitCode::kOk)
                        : static_cast<int>(ExitCode::kAuditMismatch);
 }
@@ -128,6 +225,9 @@ void AddVerifyCommand(CLI::App& app, int& exit_code) {
       "Job file location, if it moved (default: as recorded, relative to results.json)");
   command->add_option("--report", args->report_file,
                       "Write the full verification report (every quantity) to this file");
+  command->add_option("--allow-input", args->allowed_inputs,
+                      "Hash this recorded input although it lies outside the job folder "
+                      "(absolute or ../ path); repeatable");
   command->add_flag("--all", args->show_all, "Print every compared quantity, not only failures");
   command->callback([args, &exit_code] {
     try {
@@ -138,6 +238,9 @@ void AddVerifyCommand(CLI::App& app, int& exit_code) {
     } catch (const ComputationError& error) {
       std::fprintf(stderr, "sorbtrace: fit failure: %s\n", error.what());
       exit_code = static_cast<int>(ExitCode::kFitFailure);
+    } catch (const OutputError& error) {
+      std::fprintf(stderr, "sorbtrace: output error: %s\n", error.what());
+      exit_code = static_cast<int>(ExitCode::kOutputError);
     }
   });
 }

@@ -4,8 +4,6 @@
 // reported number changes, a batch with a broken job reports it without stopping the others,
 // and a run killed half-way leaves the earlier output folder intact.
 #include <gtest/gtest.h>
-
-#include <cstdlib>
 #include <signal.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -13,6 +11,7 @@
 #include <chrono>
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
 #include <filesystem>
 #include <fstream>
 #include <nlohmann/json.hpp>
@@ -250,8 +249,15 @@ TEST_F(RunE2eTest, BatchReportsABrokenJobAndFinishesTheOthers) {
   EXPECT_EQ(ok_rows, Jobs().size()) << summary;
   EXPECT_NE(summary.find("missing.csv"), std::string::npos) << summary;
   EXPECT_NE(summary.find(",failed,3,"), std::string::npos) << summary;
+  // Every finished job's folder is named after its job id (the [job] id of its file).
   for (const auto& job : Jobs()) {
-    EXPECT_TRUE(fs::exists(root_ / "bout" / job.parent_path().filename() / "datasheet.pdf"));
+    const std::string text = ReadWholeFile(job);
+    const size_t id_at = text.find("\nid = \"");
+    ASSERT_NE(id_at, std::string::npos) << job;
+    const size_t begin = id_at + 7;
+    const std::string id = text.substr(begin, text.find('"', begin) - begin);
+    EXPECT_TRUE(fs::exists(root_ / "bout" / id / "datasheet.pdf")) << id;
+    EXPECT_NE(summary.find("," + (root_ / "bout" / id).string() + ","), std::string::npos) << id;
   }
 }
 
@@ -261,13 +267,14 @@ TEST_F(RunE2eTest, KilledRunLeavesTheEarlierOutputIntact) {
   ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + out.string() + " -q").exit_code, 0);
   const std::string before = Sha256HexOfFile(out / "results.json");
   const std::string pdf_before = Sha256HexOfFile(out / "datasheet.pdf");
-  // A slow variant of the same job: many bootstrap resamples, killed after a moment.
+  // A slow variant of the same job: the most resamples the settings allow, killed after a moment.
   std::string text = ReadWholeFile(job);
   const fs::path slow = job.parent_path() / "slow.toml";
   if (text.find("[fit]") != std::string::npos) {
-    text.replace(text.find("[fit]"), 5, "[fit]\nbootstrap_resamples = 100000");
+    text.replace(text.find("[fit]"), 5,
+                 "[fit]\nbootstrap_resamples = 10000\nmonte_carlo_draws = 10000");
   } else {
-    text += "\n[fit]\nbootstrap_resamples = 100000\n";
+    text += "\n[fit]\nbootstrap_resamples = 10000\nmonte_carlo_draws = 10000\n";
   }
   std::ofstream(slow) << text;
   const pid_t child = fork();
