@@ -918,7 +918,7 @@ ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout
   const Sheet sheet = BuildSheet(inputs, layout);
   std::string report_number = "draft";
   if (inputs.ingested != nullptr && !inputs.ingested->job.job_id.empty()) {
-    report_number = PrintedField(inputs.ingested->job.job_id);
+    report_number = PrintedField(inputs.ingested->job.job_id, kMaxReportNumberChars);
   }
   Document doc(layout, options, report_number, PlainVersion(inputs.software_version));
   Context ctx{inputs, layout, options, sheet, doc};

@@ -91,7 +91,8 @@ void CheckPrintedFields(const ingest::JobSpec& job, Sheet& sheet) {
   for (const auto& [name, text] : fields) {
     const size_t length = CodePoints(text);
     const size_t word = LongestWord(text);
-    if (length <= kMaxPrintedFieldChars && word <= plot::kMaxPrintedWordChars) continue;
+    const size_t limit = name == "job id" ? kMaxReportNumberChars : kMaxPrintedFieldChars;
+    if (length <= limit && word <= plot::kMaxPrintedWordChars) continue;
     const std::string message = fmt::format(
         "The {} has {} characters{}; the datasheet prints it shortened, ending in \"…\" "
         "(results.json holds it in full)",
@@ -100,18 +101,18 @@ void CheckPrintedFields(const ingest::JobSpec& job, Sheet& sheet) {
     sheet.cautions.push_back(message + ".");
     sheet.warnings.push_back({Severity::kWarning, SourceLocation{job.job_file.string(), 0, 0},
                               message,
-                              fmt::format("at most {} characters, words of at most {}",
-                                          kMaxPrintedFieldChars, plot::kMaxPrintedWordChars)});
+                              fmt::format("at most {} characters, words of at most {}", limit,
+                                          plot::kMaxPrintedWordChars)});
   }
 }
 
 }  // namespace
 
-std::string PrintedField(const std::string& text) {
-  if (CodePoints(text) <= kMaxPrintedFieldChars) return text;
+std::string PrintedField(const std::string& text, size_t max_chars) {
+  if (CodePoints(text) <= max_chars) return text;
   size_t n = 0, i = 0;
   for (; i < text.size(); ++i) {
-    if ((static_cast<unsigned char>(text[i]) & 0xC0) != 0x80 && n++ == kMaxPrintedFieldChars) {
+    if ((static_cast<unsigned char>(text[i]) & 0xC0) != 0x80 && n++ == max_chars) {
       break;
     }
   }

@@ -89,7 +89,11 @@ inline constexpr size_t kMaxPrintedFieldChars = 600;
 
 // A free-text field as printed: at most kMaxPrintedFieldChars code points, ending in "…"
 // when cut (words are cut later by the canvas, plot::ClipLongWords).
-std::string PrintedField(const std::string& text);
+std::string PrintedField(const std::string& text, size_t max_chars = kMaxPrintedFieldChars);
+
+// The report number (the job id) as printed in the running header and footer: it shares a
+// line with the lab name and the page count (common practice: report numbers are short).
+inline constexpr size_t kMaxReportNumberChars = 40;
 
 struct Sheet {
   DisplayRules rules;

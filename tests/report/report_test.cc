@@ -8,6 +8,7 @@
 #include <nlohmann/json.hpp>
 #include <string>
 
+#include "pipeline/report/document.h"
 #include "pipeline/report/results_json.h"
 #include "tests/report/pdf_tools.h"
 #include "tests/report/report_fixture.h"
@@ -257,6 +258,22 @@ TEST(ComposeReportTest, SettingsArePrintedAsWritten) {
   // results.json keeps the value field at full precision.
   const auto json = nlohmann::ordered_json::parse(a.results_json);
   EXPECT_EQ(json["settings"]["pores"]["molecular_area_nm2"].get<double>(), 0.106e-18 * 1e18);
+}
+
+TEST(DocumentTest, LibharuErrorsBecomeComputationErrorsNotCrashes) {
+  // A line width below zero is refused by libharu (HPDF_PAGE_OUT_OF_RANGE, hpdf_error.h);
+  // after that error HPDF_AddPage returns no page. The next page and the final save must
+  // both report it as a ComputationError naming the libharu code.
+  Document doc(FullTemplate(), Options(), "R-1", "0.1.0-test");
+  doc.NewPage();
+  doc.canvas().Line(10.0, 10.0, 20.0, 20.0, -1.0, plot::palette::kInk);
+  try {
+    doc.NewPage();
+    FAIL() << "no error raised";
+  } catch (const ComputationError& e) {
+    EXPECT_NE(std::string(e.what()).find("libharu error 0x"), std::string::npos) << e.what();
+  }
+  EXPECT_THROW(doc.Finish(), ComputationError);
 }
 
 TEST(ComposeReportTest, MissingFontIsAnInputError) {

@@ -6,9 +6,10 @@
 //  - results.json holds the budget of every combined point, and its contributions add up
 //    (root sum of squares) to the point's combined standard uncertainty (JCGM 100:2008,
 //    Eq. 10);
-//  - a 64 KiB or 1 MiB unbroken token in any free-text job field: `make` and `check` both
-//    exit 0, no crash, the sheet prints it shortened with "…" and says so, and nothing but
-//    the finished output folder is left beside it;
+//  - a 64 KiB or 1 MiB unbroken token in any free-text job field: `make` and `check` agree,
+//    no crash; accepted (64 KiB), the sheet prints it shortened with "…" and says so, and
+//    nothing but the finished output folder is left beside it; refused (1 MiB, a job-file
+//    line beyond the input limit), the message is located and nothing is written;
 //  - text cells of the CSV companions cannot start a spreadsheet formula (OWASP CSV
 //    injection), while numbers stay numbers.
 #include <gtest/gtest.h>
@@ -24,6 +25,7 @@
 #include <string>
 #include <vector>
 
+#include "pipeline/common/bounded_input.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace::report {
@@ -227,9 +229,13 @@ TEST_F(SheetE2eTest, LongTokensInEveryFreeTextFieldNeverCrashMakeOrCheck) {
         replacement.replace(replacement.find("{}"), 2, token);
         Rewrite(job, from, replacement);
       }
+      // A job-file line longer than kMaxTomlLineBytes is refused before parsing (exit 3,
+      // located); a shorter one is accepted and the sheet must cope with it.
+      const bool refused = size + 64 > kMaxTomlLineBytes;
+      const int expected_exit = refused ? 3 : 0;
       const CommandRun checked = Sorbtrace("check " + job.string());
       EXPECT_FALSE(checked.signalled);
-      EXPECT_EQ(checked.exit_code, 0) << checked.output.substr(0, 400);
+      EXPECT_EQ(checked.exit_code, expected_exit) << checked.output.substr(0, 400);
       const fs::path parent = root_ / (name + "_out");
       fs::create_directories(parent);
       const fs::path out = parent / "sheet";
@@ -237,6 +243,13 @@ TEST_F(SheetE2eTest, LongTokensInEveryFreeTextFieldNeverCrashMakeOrCheck) {
       EXPECT_FALSE(made.signalled);
       // `make` and `check` agree.
       ASSERT_EQ(made.exit_code, checked.exit_code) << made.output.substr(0, 400);
+      if (refused) {
+        EXPECT_NE(made.output.find("job.toml:"), std::string::npos) << made.output.substr(0, 400);
+        EXPECT_TRUE(fs::is_empty(parent)) << "no partial output";
+        fs::remove_all(dir);
+        fs::remove_all(parent);
+        continue;
+      }
       // A complete folder and nothing else beside it (no partial or temporary files).
       for (const char* file : {"datasheet.pdf", "results.json", "run.log", "equilibrium_table.csv",
                                "fit_parameters.csv", "pore_distribution.csv"}) {
