@@ -192,7 +192,7 @@ struct ResampleOptions {
   double refit_tolerance_se = 0.01;
 };
 
-// Percentile intervals of parameters and of the curve on x_grid from resampled refits
+// Percentile intervals of the parameters from resampled refits
 // (warm-started from the full-data solution, no multi-starts). Draws come from one
 // std::mt19937_64 stream whose initial state is ResampleOptions::seed, with our own
 // uniform/Box-Muller transforms.
@@ -222,10 +222,7 @@ struct ResampleResult {
   std::vector<double> studentized_high;
   int num_studentized = 0;            // refits that gave a covariance (the T* sample size)
   std::vector<double> parameter_std;  // standard deviation of the draws
-  std::vector<double> x_grid;
-  std::vector<double> curve_low;  // percentile band of f on x_grid
-  std::vector<double> curve_high;
-  int num_failed = 0;  // refits that did not converge
+  int num_failed = 0;                 // refits that did not converge
   // Solver iterations summed over all refits (successful and unsuccessful steps, as
   // SolveOutcome::iterations counts them): the cost of the resampling, for diagnostics.
   long long refit_iterations = 0;
@@ -233,7 +230,6 @@ struct ResampleResult {
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
                         const ModelContext& context, const FitResult& full_fit,
-                        const FitOptions& fit_options, const ResampleOptions& options,
-                        const std::vector<double>& x_grid);
+                        const FitOptions& fit_options, const ResampleOptions& options);
 
 }  // namespace sorbtrace::fitters

@@ -151,11 +151,9 @@ WarmStart LinearisedWarmStart(const Model& model, const std::vector<Observation>
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
                         const ModelContext& context, const FitResult& full_fit,
-                        const FitOptions& fit_options, const ResampleOptions& options,
-                        const std::vector<double>& x_grid) {
+                        const FitOptions& fit_options, const ResampleOptions& options) {
   constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
   ResampleResult result;
-  result.x_grid = x_grid;
   const int p = model.num_parameters();
   const std::size_t n = observations.size();
   const std::size_t pp = static_cast<std::size_t>(p);
@@ -165,8 +163,6 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   result.parameter_std.assign(pp, kNaN);
   result.studentized_low.assign(pp, kNaN);
   result.studentized_high.assign(pp, kNaN);
-  result.curve_low.assign(x_grid.size(), kNaN);
-  result.curve_high.assign(x_grid.size(), kNaN);
   if (!full_fit.ok() || full_fit.parameters.size() != pp || full_fit.residuals.size() != n ||
       full_fit.fitted_x0.size() != n || static_cast<int>(n) <= p || !fit_options.IsValid(nullptr)) {
     result.num_failed = num_resamples;
@@ -321,14 +317,6 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
       result.studentized_low[j] = full_fit.parameters[j] - t_high * se_hat[j];
       result.studentized_high[j] = full_fit.parameters[j] - t_low * se_hat[j];
     }
-  }
-  for (std::size_t g = 0; g < x_grid.size(); ++g) {
-    const double x[kMaxInputs] = {x_grid[g], 0.0};
-    for (std::size_t d = 0; d < draws; ++d) {
-      column[d] = model.Evaluate(result.parameter_draws[d].data(), x, context);
-    }
-    internal::PercentilePair(&column, 0.5 * alpha, 1.0 - 0.5 * alpha, &result.curve_low[g],
-                             &result.curve_high[g]);
   }
   return result;
 }
