@@ -21,7 +21,6 @@ struct WarmStart {
   Eigen::MatrixXd gain;      // (A'A)^-1 A', p x n
   Eigen::MatrixXd jacobian;  // a_i rows, n x p
   std::vector<double> b, c;  // dr_yi/dt_i and dr_xi/dt_i (c = 0: no fitted t_i)
-  std::vector<double> r_x;   // x residual at the full-data solution
   std::vector<double> g2;    // b^2 + c^2
   Eigen::VectorXd reduced, step;
 
@@ -82,12 +81,16 @@ struct WarmStart {
     }
   }
 
-  void Apply(const FitResult& full_fit, const std::vector<double>& drawn,
-             std::vector<double>* start, std::vector<double>* x0_start) {
-    const Eigen::Index n = static_cast<Eigen::Index>(drawn.size());
+  // drawn_y, drawn_x: the weighted y and x residuals of the drawn data at the full-data
+  // solution (p_hat, t_hat).
+  void Apply(const FitResult& full_fit, const std::vector<double>& drawn_y,
+             const std::vector<double>& drawn_x, std::vector<double>* start,
+             std::vector<double>* x0_start) {
+    const Eigen::Index n = static_cast<Eigen::Index>(drawn_y.size());
     for (Eigen::Index i = 0; i < n; ++i) {
       const std::size_t k = static_cast<std::size_t>(i);
-      reduced[i] = c[k] != 0.0 ? (c[k] * drawn[k] - b[k] * r_x[k]) / std::sqrt(g2[k]) : drawn[k];
+      reduced[i] =
+          c[k] != 0.0 ? (c[k] * drawn_y[k] - b[k] * drawn_x[k]) / std::sqrt(g2[k]) : drawn_y[k];
     }
     step.noalias() = -gain * reduced;
     for (std::size_t j = 0; j < start->size(); ++j) {
@@ -96,8 +99,8 @@ struct WarmStart {
     for (Eigen::Index i = 0; i < n; ++i) {
       const std::size_t k = static_cast<std::size_t>(i);
       if (c[k] == 0.0) continue;
-      const double r_y = drawn[k] + jacobian.row(i).dot(step);
-      (*x0_start)[k] = full_fit.fitted_x0[k] - (b[k] * r_y + c[k] * r_x[k]) / g2[k];
+      const double r_y = drawn_y[k] + jacobian.row(i).dot(step);
+      (*x0_start)[k] = full_fit.fitted_x0[k] - (b[k] * r_y + c[k] * drawn_x[k]) / g2[k];
     }
   }
 };
@@ -112,13 +115,11 @@ WarmStart LinearisedWarmStart(const Model& model, const std::vector<Observation>
   std::vector<Observation> at_solution = observations;
   warm.b.assign(n, 0.0);
   warm.c.assign(n, 0.0);
-  warm.r_x.assign(n, 0.0);
   warm.g2.assign(n, 1.0);
   for (std::size_t i = 0; i < n; ++i) {
     if (fit_options.errors_in_variables && observations[i].sigma_x0 > 0.0) {
       at_solution[i].x[0] = full_fit.fitted_x0[i];
       warm.c[i] = -1.0 / observations[i].sigma_x0;
-      warm.r_x[i] = (observations[i].x[0] - full_fit.fitted_x0[i]) / observations[i].sigma_x0;
     }
   }
   using RowMajor = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>;
@@ -147,6 +148,49 @@ WarmStart LinearisedWarmStart(const Model& model, const std::vector<Observation>
   return warm;
 }
 
+// The residual bootstrap's pool (see fitter.h): e_i = r_xi n_xi + r_yi n_yi, the weighted
+// residual vector (r_xi, r_yi) = ((x0_i - t_hat_i) / sigma_x0_i, (y_i - f(t_hat_i)) / sigma_y_i)
+// projected on the unit normal n_i = (-a_i, 1) / sqrt(1 + a_i^2) of the fitted curve in weighted
+// coordinates, a_i = f'(t_hat_i) sigma_x0_i / sigma_y_i (a_i = 0 without a fitted t_i: e_i =
+// r_yi). Centred and scaled by sqrt(n / (n - p)).
+struct ResidualPool {
+  std::vector<double> residual;
+  std::vector<double> normal_x, normal_y;  // n_i
+};
+
+ResidualPool OrthogonalResiduals(const Model& model, const std::vector<Observation>& observations,
+                                 const ModelContext& context, const FitResult& full_fit,
+                                 const FitOptions& fit_options, double variance_inflation) {
+  const std::size_t n = observations.size();
+  ResidualPool pool;
+  pool.residual.assign(n, 0.0);
+  pool.normal_x.assign(n, 0.0);
+  pool.normal_y.assign(n, 1.0);
+  double mean = 0.0;
+  for (std::size_t i = 0; i < n; ++i) {
+    const Observation& o = observations[i];
+    const double r_y = full_fit.residuals[i] / o.sigma_y;
+    double r_x = 0.0;
+    if (fit_options.errors_in_variables && o.sigma_x0 > 0.0) {
+      const double x[kMaxInputs] = {full_fit.fitted_x0[i], o.x[1]};
+      const double a =
+          model.SlopeInX0(full_fit.parameters.data(), x, context) * o.sigma_x0 / o.sigma_y;
+      if (std::isfinite(a)) {
+        const double norm = std::sqrt(1.0 + a * a);
+        pool.normal_x[i] = -a / norm;
+        pool.normal_y[i] = 1.0 / norm;
+        r_x = (o.x[0] - full_fit.fitted_x0[i]) / o.sigma_x0;
+      }
+    }
+    pool.residual[i] = r_x * pool.normal_x[i] + r_y * pool.normal_y[i];
+    mean += pool.residual[i];
+  }
+  mean /= static_cast<double>(n);
+  const double inflation = std::sqrt(variance_inflation);
+  for (double& e : pool.residual) e = (e - mean) * inflation;
+  return pool;
+}
+
 }  // namespace
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
@@ -173,16 +217,10 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   const bool relative = fit_options.weights == WeightConvention::kRelative;
   const double s = relative ? std::sqrt(full_fit.statistics.weighted_ssr / dof) : 1.0;
 
-  // Centred, variance-corrected weighted residuals for the residual bootstrap.
-  std::vector<double> weighted_residuals(n);
-  for (std::size_t i = 0; i < n; ++i) {
-    weighted_residuals[i] = full_fit.residuals[i] / observations[i].sigma_y;
-  }
-  const double mean_residual =
-      std::accumulate(weighted_residuals.begin(), weighted_residuals.end(), 0.0) /
-      static_cast<double>(n);
-  const double inflation = std::sqrt(static_cast<double>(n) / dof);
-  for (double& e : weighted_residuals) e = (e - mean_residual) * inflation;
+  // The residual bootstrap's pool: each point's signed orthogonal residual, centred and
+  // variance-corrected (see fitter.h), and the direction it is put back along.
+  const ResidualPool pool = OrthogonalResiduals(model, observations, context, full_fit, fit_options,
+                                                static_cast<double>(n) / dof);
 
   // Refits stop within options.refit_tolerance_se full-data standard errors of their optimum.
   FitOptions refit_options = fit_options;
@@ -204,7 +242,8 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   // Residual bootstrap: each refit starts one Gauss-Newton step away from the full-data
   // solution (p_hat, t_hat), computed from the full-data Jacobian for the drawn residuals, so
   // the refit begins within second order of its optimum. Point i has y residual
-  // r_yi = e*_i (the drawn weighted residual), x residual r_xi = (x0_i - t_hat_i) / sigma_x0_i,
+  // r_yi = e*_i n_yi and x residual r_xi = (x0*_i - t_hat_i) / sigma_x0_i = e*_i n_xi (the
+  // drawn residual put back along the normal; see fitter.h),
   // Jacobian rows a_i = dr_yi/dp, b_i = dr_yi/dt_i, c_i = -1 / sigma_x0_i. Eliminating the
   // step in t_i leaves the row a_i c_i / g_i and residual (c_i r_yi - b_i r_xi) / g_i with
   // g_i = sqrt(b_i^2 + c_i^2) (a_i and r_yi alone without a fitted t_i); then
@@ -214,7 +253,7 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
     warm = LinearisedWarmStart(model, observations, context, full_fit, fit_options);
   }
   std::vector<double> start = full_fit.parameters;
-  std::vector<double> drawn(n, 0.0);
+  std::vector<double> drawn_y(n, 0.0), drawn_x(n, 0.0);
 
   // Full-data standard errors in the studentised form, s sqrt([(J'J)^-1]_jj), from the fit's
   // own: under kRelative they are that already, under kAbsolute they lack the factor s.
@@ -239,12 +278,17 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
       case ResampleKind::kResidualBootstrap:
         for (std::size_t i = 0; i < n; ++i) {
           data[i] = observations[i];
-          drawn[i] = weighted_residuals[random.Index(n)];
-          data[i].y = full_fit.fitted[i] + observations[i].sigma_y * drawn[i];
+          const double e = pool.residual[random.Index(n)];
+          drawn_y[i] = e * pool.normal_y[i];
+          drawn_x[i] = e * pool.normal_x[i];
+          data[i].y = full_fit.fitted[i] + observations[i].sigma_y * drawn_y[i];
+          if (pool.normal_x[i] != 0.0) {
+            data[i].x[0] = full_fit.fitted_x0[i] + observations[i].sigma_x0 * drawn_x[i];
+          }
           x0_start[i] = full_fit.fitted_x0[i];
         }
         if (warm.usable) {
-          warm.Apply(full_fit, drawn, &start, &x0_start);
+          warm.Apply(full_fit, drawn_y, drawn_x, &start, &x0_start);
           warm.Backtrack(model, data, context, full_fit, &start, &x0_start);
         }
         break;
