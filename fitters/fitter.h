@@ -197,9 +197,12 @@ struct ResampleOptions {
 // (warm-started from the full-data solution, no multi-starts). Draws come from one
 // std::mt19937_64 stream whose initial state is ResampleOptions::seed, with our own
 // uniform/Box-Muller transforms.
-//  - residual bootstrap: weighted residuals e_i = (y_i - f_i) / sigma_i, centred and scaled by
-//    sqrt(n / (n - p)) (Davison & Hinkley 1997, Bootstrap Methods and their Application,
-//    sec. 6.2.3), y*_i = f_i + sigma_i e*_j with j drawn uniformly. With errors in variables
+//  - residual bootstrap: weighted residuals e_i = (y_i - f_i) / sigma_i, divided by
+//    sqrt(1 - h_i) with h_i the leverage of point i in the fit linearised at the solution, and
+//    centred: the modified residuals of Davison & Hinkley 1997, Bootstrap Methods and their
+//    Application, sec. 6.2.3, eq. 6.9 (scaled by sqrt(n / (n - p)) instead where no leverage is
+//    available: robust loss, singular Jacobian); y*_i = f_i + sigma_i e*_j with j drawn
+//    uniformly. With errors in variables
 //    (a fitted true x t_i per point, FitOptions::errors_in_variables) the residual of point i
 //    is a vector in weighted coordinates, (r_xi, r_yi) = ((x0_i - t_i) / sigma_x0_i,
 //    (y_i - f(t_i)) / sigma_y_i), and at the optimum it lies along the curve's normal
@@ -209,10 +212,11 @@ struct ResampleOptions {
 //    narrow. The pool is instead the signed length e_i = r_xi n_xi + r_yi n_yi (to first
 //    order the residual of the effective-variance regression (y_i - f(x0_i)) /
 //    sqrt(sigma_y^2 + f'^2 sigma_x0^2), J. Orear 1982, Am. J. Phys. 50, 912, from memory),
-//    centred and scaled as above, and each draw puts e*_j back along the point's own normal:
-//    x0*_i = t_i + sigma_x0_i e*_j n_xi, y*_i = f(t_i) + sigma_y_i e*_j n_yi (the residual
-//    bootstrap of Davison & Hinkley sec. 6.2.3 applied to that reduced regression). Without a
-//    fitted t_i, n_i = (0, 1) and this is the plain residual bootstrap above;
+//    modified and centred as above with the leverages of that reduced regression, and each draw
+//    puts e*_j back along the point's own normal: x0*_i = t_i + sigma_x0_i e*_j n_xi, y*_i = f(t_i)
+//    + sigma_y_i e*_j n_yi (the residual bootstrap of Davison & Hinkley sec. 6.2.3 applied to that
+//    reduced regression). Without a fitted t_i, n_i = (0, 1) and this is the plain residual
+//    bootstrap above;
 //  - case bootstrap: n points drawn with replacement;
 //  - Monte Carlo (JCGM 101:2008): y*_i ~ N(y_i, u_y_i), x0*_i ~ N(x0_i, u_x0_i) with u = sigma
 //    under kAbsolute and u = s * sigma under kRelative (the sigmas are then only weights).

@@ -23,6 +23,9 @@ struct WarmStart {
   std::vector<double> b, c;  // dr_yi/dt_i and dr_xi/dt_i (c = 0: no fitted t_i)
   std::vector<double> g2;    // b^2 + c^2
   Eigen::VectorXd reduced, step;
+  // Leverage h_i = a~_i (A'A)^-1 a~_i' of point i in the reduced problem (the hat matrix's
+  // diagonal of the linearised fit).
+  std::vector<double> leverage;
 
   // Weighted SSR (x terms included) of `data` at (params, t), t used where c != 0; +inf
   // where not evaluable. Work storage is kept between calls.
@@ -142,6 +145,11 @@ WarmStart LinearisedWarmStart(const Model& model, const std::vector<Observation>
   if (ldlt.info() != Eigen::Success || !ldlt.isPositive()) return warm;
   warm.gain = ldlt.solve(reduced_rows.transpose());
   if (!warm.gain.allFinite()) return warm;
+  warm.leverage.resize(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    const Eigen::Index k = static_cast<Eigen::Index>(i);
+    warm.leverage[i] = reduced_rows.row(k).dot(warm.gain.col(k));
+  }
   warm.reduced.resize(static_cast<Eigen::Index>(n));
   warm.step.resize(p);
   warm.usable = true;
@@ -152,7 +160,11 @@ WarmStart LinearisedWarmStart(const Model& model, const std::vector<Observation>
 // residual vector (r_xi, r_yi) = ((x0_i - t_hat_i) / sigma_x0_i, (y_i - f(t_hat_i)) / sigma_y_i)
 // projected on the unit normal n_i = (-a_i, 1) / sqrt(1 + a_i^2) of the fitted curve in weighted
 // coordinates, a_i = f'(t_hat_i) sigma_x0_i / sigma_y_i (a_i = 0 without a fitted t_i: e_i =
-// r_yi). Centred and scaled by sqrt(n / (n - p)).
+// r_yi). Divided by sqrt(1 - h_i), h_i the leverage of point i in the linearised fit (the
+// modified residuals of Davison & Hinkley 1997, eq. 6.9: a point that pulls the fit towards
+// itself shows a residual smaller than its error by that factor), then centred; without
+// leverages (robust loss, singular Jacobian) or where some h_i >= 1, all scaled by the
+// average factor sqrt(n / (n - p)) instead.
 struct ResidualPool {
   std::vector<double> residual;
   std::vector<double> normal_x, normal_y;  // n_i
@@ -160,13 +172,13 @@ struct ResidualPool {
 
 ResidualPool OrthogonalResiduals(const Model& model, const std::vector<Observation>& observations,
                                  const ModelContext& context, const FitResult& full_fit,
-                                 const FitOptions& fit_options, double variance_inflation) {
+                                 const FitOptions& fit_options,
+                                 const std::vector<double>& leverage) {
   const std::size_t n = observations.size();
   ResidualPool pool;
   pool.residual.assign(n, 0.0);
   pool.normal_x.assign(n, 0.0);
   pool.normal_y.assign(n, 1.0);
-  double mean = 0.0;
   for (std::size_t i = 0; i < n; ++i) {
     const Observation& o = observations[i];
     const double r_y = full_fit.residuals[i] / o.sigma_y;
@@ -183,11 +195,23 @@ ResidualPool OrthogonalResiduals(const Model& model, const std::vector<Observati
       }
     }
     pool.residual[i] = r_x * pool.normal_x[i] + r_y * pool.normal_y[i];
+  }
+  // Leverages below this are usable (1 - h_i >= 1e-6; a point fitted exactly carries no
+  // information on its error: common practice).
+  constexpr double kMaxLeverage = 1.0 - 1e-6;
+  const bool modified =
+      leverage.size() == n && std::all_of(leverage.begin(), leverage.end(), [](double h) {
+        return std::isfinite(h) && h >= 0.0 && h < kMaxLeverage;
+      });
+  const int p = static_cast<int>(full_fit.parameters.size());
+  const double inflation = std::sqrt(static_cast<double>(n) / (static_cast<double>(n) - p));
+  double mean = 0.0;
+  for (std::size_t i = 0; i < n; ++i) {
+    if (modified) pool.residual[i] /= std::sqrt(1.0 - leverage[i]);
     mean += pool.residual[i];
   }
   mean /= static_cast<double>(n);
-  const double inflation = std::sqrt(variance_inflation);
-  for (double& e : pool.residual) e = (e - mean) * inflation;
+  for (double& e : pool.residual) e = modified ? e - mean : (e - mean) * inflation;
   return pool;
 }
 
@@ -216,11 +240,6 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   const int dof = static_cast<int>(n) - p;
   const bool relative = fit_options.weights == WeightConvention::kRelative;
   const double s = relative ? std::sqrt(full_fit.statistics.weighted_ssr / dof) : 1.0;
-
-  // The residual bootstrap's pool: each point's signed orthogonal residual, centred and
-  // variance-corrected (see fitter.h), and the direction it is put back along.
-  const ResidualPool pool = OrthogonalResiduals(model, observations, context, full_fit, fit_options,
-                                                static_cast<double>(n) / dof);
 
   // Refits stop within options.refit_tolerance_se full-data standard errors of their optimum.
   FitOptions refit_options = fit_options;
@@ -252,6 +271,10 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   if (options.kind == ResampleKind::kResidualBootstrap) {
     warm = LinearisedWarmStart(model, observations, context, full_fit, fit_options);
   }
+  // The residual bootstrap's pool: each point's signed orthogonal residual, corrected for its
+  // leverage and centred (see fitter.h), and the direction it is put back along.
+  const ResidualPool pool =
+      OrthogonalResiduals(model, observations, context, full_fit, fit_options, warm.leverage);
   std::vector<double> start = full_fit.parameters;
   std::vector<double> drawn_y(n, 0.0), drawn_x(n, 0.0);
 

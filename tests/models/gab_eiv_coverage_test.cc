@@ -24,7 +24,7 @@
 // estimates at normal-like points although that spread is estimated from n - p = 17 residuals,
 // so it tends to P(|t_17| <= 1.96) = 0.934 (see gab_coverage_test.cc, which measures 0.93
 // without errors in variables). Measured at this test's seed (1000 x 1000): covariance 0.935,
-// 0.940, 0.942; studentised 0.938, 0.941, 0.937; percentile 0.921, 0.928, 0.921; Monte Carlo
+// 0.940, 0.942; studentised 0.940, 0.943, 0.936; percentile 0.921, 0.927, 0.916; Monte Carlo
 // 0.942, 0.943, 0.941 (X_m, C, K); u / sd 0.95-1.00 for all four.
 //
 // Before the bootstrap put the drawn residual back along each point's normal (fitter.h), it
