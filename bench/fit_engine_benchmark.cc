@@ -88,9 +88,8 @@ void BM_Resample1000(benchmark::State& state) {
   ResampleOptions options;
   options.kind = static_cast<ResampleKind>(state.range(0));
   options.num_resamples = 1000;
-  const std::vector<double> grid = {0.1, 0.3, 0.5, 0.7, 0.9};
   for (auto _ : state) {
-    ResampleResult r = Resample(*model, data, ModelContext{}, fit, fit_options, options, grid);
+    ResampleResult r = Resample(*model, data, ModelContext{}, fit, fit_options, options);
     benchmark::DoNotOptimize(r.parameter_draws.data());
   }
 }

@@ -174,7 +174,8 @@ std::vector<BandPoint> DeltaMethodBand(const Model& model, const FitResult& fit,
                                        const std::vector<double>& x_grid, double confidence_level);
 
 enum class ResampleKind {
-  kResidualBootstrap,  // y* = f(x; p_hat) + resampled weighted residual * sigma
+  kResidualBootstrap,  // y* = f(x; p_hat) + resampled weighted residual * sigma (and x*
+                       // along the curve's normal under errors in variables)
   kCaseBootstrap,      // resample points with replacement
   kMonteCarloInputs,   // JCGM 101: draw y (and x) from their stated uncertainties
 };
@@ -192,13 +193,30 @@ struct ResampleOptions {
   double refit_tolerance_se = 0.01;
 };
 
-// Percentile intervals of parameters and of the curve on x_grid from resampled refits
+// Percentile intervals of the parameters from resampled refits
 // (warm-started from the full-data solution, no multi-starts). Draws come from one
 // std::mt19937_64 stream whose initial state is ResampleOptions::seed, with our own
 // uniform/Box-Muller transforms.
-//  - residual bootstrap: weighted residuals e_i = (y_i - f_i) / sigma_i, centred and scaled by
-//    sqrt(n / (n - p)) (Davison & Hinkley 1997, Bootstrap Methods and their Application,
-//    sec. 6.2.3), y*_i = f_i + sigma_i e*_j with j drawn uniformly;
+//  - residual bootstrap: weighted residuals e_i = (y_i - f_i) / sigma_i, divided by
+//    sqrt(1 - h_i) with h_i the leverage of point i in the fit linearised at the solution, and
+//    centred: the modified residuals of Davison & Hinkley 1997, Bootstrap Methods and their
+//    Application, sec. 6.2.3, eq. 6.9 (scaled by sqrt(n / (n - p)) instead where no leverage is
+//    available: robust loss, singular Jacobian); y*_i = f_i + sigma_i e*_j with j drawn
+//    uniformly. With errors in variables
+//    (a fitted true x t_i per point, FitOptions::errors_in_variables) the residual of point i
+//    is a vector in weighted coordinates, (r_xi, r_yi) = ((x0_i - t_i) / sigma_x0_i,
+//    (y_i - f(t_i)) / sigma_y_i), and at the optimum it lies along the curve's normal
+//    n_i = (-a_i, 1) / sqrt(1 + a_i^2), a_i = f'(t_i) sigma_x0_i / sigma_y_i: the fit moves t_i
+//    to absorb the part along the curve. Resampling only r_y (keeping x0_i) therefore draws
+//    the small y leg of each residual and gives parameter spreads orders of magnitude too
+//    narrow. The pool is instead the signed length e_i = r_xi n_xi + r_yi n_yi (to first
+//    order the residual of the effective-variance regression (y_i - f(x0_i)) /
+//    sqrt(sigma_y^2 + f'^2 sigma_x0^2), J. Orear 1982, Am. J. Phys. 50, 912, from memory),
+//    modified and centred as above with the leverages of that reduced regression, and each draw
+//    puts e*_j back along the point's own normal: x0*_i = t_i + sigma_x0_i e*_j n_xi, y*_i = f(t_i)
+//    + sigma_y_i e*_j n_yi (the residual bootstrap of Davison & Hinkley sec. 6.2.3 applied to that
+//    reduced regression). Without a fitted t_i, n_i = (0, 1) and this is the plain residual
+//    bootstrap above;
 //  - case bootstrap: n points drawn with replacement;
 //  - Monte Carlo (JCGM 101:2008): y*_i ~ N(y_i, u_y_i), x0*_i ~ N(x0_i, u_x0_i) with u = sigma
 //    under kAbsolute and u = s * sigma under kRelative (the sigmas are then only weights).
@@ -222,10 +240,7 @@ struct ResampleResult {
   std::vector<double> studentized_high;
   int num_studentized = 0;            // refits that gave a covariance (the T* sample size)
   std::vector<double> parameter_std;  // standard deviation of the draws
-  std::vector<double> x_grid;
-  std::vector<double> curve_low;  // percentile band of f on x_grid
-  std::vector<double> curve_high;
-  int num_failed = 0;  // refits that did not converge
+  int num_failed = 0;                 // refits that did not converge
   // Solver iterations summed over all refits (successful and unsuccessful steps, as
   // SolveOutcome::iterations counts them): the cost of the resampling, for diagnostics.
   long long refit_iterations = 0;
@@ -233,7 +248,6 @@ struct ResampleResult {
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
                         const ModelContext& context, const FitResult& full_fit,
-                        const FitOptions& fit_options, const ResampleOptions& options,
-                        const std::vector<double>& x_grid);
+                        const FitOptions& fit_options, const ResampleOptions& options);
 
 }  // namespace sorbtrace::fitters

@@ -21,9 +21,11 @@ struct WarmStart {
   Eigen::MatrixXd gain;      // (A'A)^-1 A', p x n
   Eigen::MatrixXd jacobian;  // a_i rows, n x p
   std::vector<double> b, c;  // dr_yi/dt_i and dr_xi/dt_i (c = 0: no fitted t_i)
-  std::vector<double> r_x;   // x residual at the full-data solution
   std::vector<double> g2;    // b^2 + c^2
   Eigen::VectorXd reduced, step;
+  // Leverage h_i = a~_i (A'A)^-1 a~_i' of point i in the reduced problem (the hat matrix's
+  // diagonal of the linearised fit).
+  std::vector<double> leverage;
 
   // Weighted SSR (x terms included) of `data` at (params, t), t used where c != 0; +inf
   // where not evaluable. Work storage is kept between calls.
@@ -82,12 +84,16 @@ struct WarmStart {
     }
   }
 
-  void Apply(const FitResult& full_fit, const std::vector<double>& drawn,
-             std::vector<double>* start, std::vector<double>* x0_start) {
-    const Eigen::Index n = static_cast<Eigen::Index>(drawn.size());
+  // drawn_y, drawn_x: the weighted y and x residuals of the drawn data at the full-data
+  // solution (p_hat, t_hat).
+  void Apply(const FitResult& full_fit, const std::vector<double>& drawn_y,
+             const std::vector<double>& drawn_x, std::vector<double>* start,
+             std::vector<double>* x0_start) {
+    const Eigen::Index n = static_cast<Eigen::Index>(drawn_y.size());
     for (Eigen::Index i = 0; i < n; ++i) {
       const std::size_t k = static_cast<std::size_t>(i);
-      reduced[i] = c[k] != 0.0 ? (c[k] * drawn[k] - b[k] * r_x[k]) / std::sqrt(g2[k]) : drawn[k];
+      reduced[i] =
+          c[k] != 0.0 ? (c[k] * drawn_y[k] - b[k] * drawn_x[k]) / std::sqrt(g2[k]) : drawn_y[k];
     }
     step.noalias() = -gain * reduced;
     for (std::size_t j = 0; j < start->size(); ++j) {
@@ -96,8 +102,8 @@ struct WarmStart {
     for (Eigen::Index i = 0; i < n; ++i) {
       const std::size_t k = static_cast<std::size_t>(i);
       if (c[k] == 0.0) continue;
-      const double r_y = drawn[k] + jacobian.row(i).dot(step);
-      (*x0_start)[k] = full_fit.fitted_x0[k] - (b[k] * r_y + c[k] * r_x[k]) / g2[k];
+      const double r_y = drawn_y[k] + jacobian.row(i).dot(step);
+      (*x0_start)[k] = full_fit.fitted_x0[k] - (b[k] * r_y + c[k] * drawn_x[k]) / g2[k];
     }
   }
 };
@@ -112,13 +118,11 @@ WarmStart LinearisedWarmStart(const Model& model, const std::vector<Observation>
   std::vector<Observation> at_solution = observations;
   warm.b.assign(n, 0.0);
   warm.c.assign(n, 0.0);
-  warm.r_x.assign(n, 0.0);
   warm.g2.assign(n, 1.0);
   for (std::size_t i = 0; i < n; ++i) {
     if (fit_options.errors_in_variables && observations[i].sigma_x0 > 0.0) {
       at_solution[i].x[0] = full_fit.fitted_x0[i];
       warm.c[i] = -1.0 / observations[i].sigma_x0;
-      warm.r_x[i] = (observations[i].x[0] - full_fit.fitted_x0[i]) / observations[i].sigma_x0;
     }
   }
   using RowMajor = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>;
@@ -141,21 +145,83 @@ WarmStart LinearisedWarmStart(const Model& model, const std::vector<Observation>
   if (ldlt.info() != Eigen::Success || !ldlt.isPositive()) return warm;
   warm.gain = ldlt.solve(reduced_rows.transpose());
   if (!warm.gain.allFinite()) return warm;
+  warm.leverage.resize(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    const Eigen::Index k = static_cast<Eigen::Index>(i);
+    warm.leverage[i] = reduced_rows.row(k).dot(warm.gain.col(k));
+  }
   warm.reduced.resize(static_cast<Eigen::Index>(n));
   warm.step.resize(p);
   warm.usable = true;
   return warm;
 }
 
+// The residual bootstrap's pool (see fitter.h): e_i = r_xi n_xi + r_yi n_yi, the weighted
+// residual vector (r_xi, r_yi) = ((x0_i - t_hat_i) / sigma_x0_i, (y_i - f(t_hat_i)) / sigma_y_i)
+// projected on the unit normal n_i = (-a_i, 1) / sqrt(1 + a_i^2) of the fitted curve in weighted
+// coordinates, a_i = f'(t_hat_i) sigma_x0_i / sigma_y_i (a_i = 0 without a fitted t_i: e_i =
+// r_yi). Divided by sqrt(1 - h_i), h_i the leverage of point i in the linearised fit (the
+// modified residuals of Davison & Hinkley 1997, eq. 6.9: a point that pulls the fit towards
+// itself shows a residual smaller than its error by that factor), then centred; without
+// leverages (robust loss, singular Jacobian) or where some h_i >= 1, all scaled by the
+// average factor sqrt(n / (n - p)) instead.
+struct ResidualPool {
+  std::vector<double> residual;
+  std::vector<double> normal_x, normal_y;  // n_i
+};
+
+ResidualPool OrthogonalResiduals(const Model& model, const std::vector<Observation>& observations,
+                                 const ModelContext& context, const FitResult& full_fit,
+                                 const FitOptions& fit_options,
+                                 const std::vector<double>& leverage) {
+  const std::size_t n = observations.size();
+  ResidualPool pool;
+  pool.residual.assign(n, 0.0);
+  pool.normal_x.assign(n, 0.0);
+  pool.normal_y.assign(n, 1.0);
+  for (std::size_t i = 0; i < n; ++i) {
+    const Observation& o = observations[i];
+    const double r_y = full_fit.residuals[i] / o.sigma_y;
+    double r_x = 0.0;
+    if (fit_options.errors_in_variables && o.sigma_x0 > 0.0) {
+      const double x[kMaxInputs] = {full_fit.fitted_x0[i], o.x[1]};
+      const double a =
+          model.SlopeInX0(full_fit.parameters.data(), x, context) * o.sigma_x0 / o.sigma_y;
+      if (std::isfinite(a)) {
+        const double norm = std::sqrt(1.0 + a * a);
+        pool.normal_x[i] = -a / norm;
+        pool.normal_y[i] = 1.0 / norm;
+        r_x = (o.x[0] - full_fit.fitted_x0[i]) / o.sigma_x0;
+      }
+    }
+    pool.residual[i] = r_x * pool.normal_x[i] + r_y * pool.normal_y[i];
+  }
+  // Leverages below this are usable (1 - h_i >= 1e-6; a point fitted exactly carries no
+  // information on its error: common practice).
+  constexpr double kMaxLeverage = 1.0 - 1e-6;
+  const bool modified =
+      leverage.size() == n && std::all_of(leverage.begin(), leverage.end(), [](double h) {
+        return std::isfinite(h) && h >= 0.0 && h < kMaxLeverage;
+      });
+  const int p = static_cast<int>(full_fit.parameters.size());
+  const double inflation = std::sqrt(static_cast<double>(n) / (static_cast<double>(n) - p));
+  double mean = 0.0;
+  for (std::size_t i = 0; i < n; ++i) {
+    if (modified) pool.residual[i] /= std::sqrt(1.0 - leverage[i]);
+    mean += pool.residual[i];
+  }
+  mean /= static_cast<double>(n);
+  for (double& e : pool.residual) e = modified ? e - mean : (e - mean) * inflation;
+  return pool;
+}
+
 }  // namespace
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
                         const ModelContext& context, const FitResult& full_fit,
-                        const FitOptions& fit_options, const ResampleOptions& options,
-                        const std::vector<double>& x_grid) {
+                        const FitOptions& fit_options, const ResampleOptions& options) {
   constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
   ResampleResult result;
-  result.x_grid = x_grid;
   const int p = model.num_parameters();
   const std::size_t n = observations.size();
   const std::size_t pp = static_cast<std::size_t>(p);
@@ -165,8 +231,6 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   result.parameter_std.assign(pp, kNaN);
   result.studentized_low.assign(pp, kNaN);
   result.studentized_high.assign(pp, kNaN);
-  result.curve_low.assign(x_grid.size(), kNaN);
-  result.curve_high.assign(x_grid.size(), kNaN);
   if (!full_fit.ok() || full_fit.parameters.size() != pp || full_fit.residuals.size() != n ||
       full_fit.fitted_x0.size() != n || static_cast<int>(n) <= p || !fit_options.IsValid(nullptr)) {
     result.num_failed = num_resamples;
@@ -176,17 +240,6 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   const int dof = static_cast<int>(n) - p;
   const bool relative = fit_options.weights == WeightConvention::kRelative;
   const double s = relative ? std::sqrt(full_fit.statistics.weighted_ssr / dof) : 1.0;
-
-  // Centred, variance-corrected weighted residuals for the residual bootstrap.
-  std::vector<double> weighted_residuals(n);
-  for (std::size_t i = 0; i < n; ++i) {
-    weighted_residuals[i] = full_fit.residuals[i] / observations[i].sigma_y;
-  }
-  const double mean_residual =
-      std::accumulate(weighted_residuals.begin(), weighted_residuals.end(), 0.0) /
-      static_cast<double>(n);
-  const double inflation = std::sqrt(static_cast<double>(n) / dof);
-  for (double& e : weighted_residuals) e = (e - mean_residual) * inflation;
 
   // Refits stop within options.refit_tolerance_se full-data standard errors of their optimum.
   FitOptions refit_options = fit_options;
@@ -208,7 +261,8 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   // Residual bootstrap: each refit starts one Gauss-Newton step away from the full-data
   // solution (p_hat, t_hat), computed from the full-data Jacobian for the drawn residuals, so
   // the refit begins within second order of its optimum. Point i has y residual
-  // r_yi = e*_i (the drawn weighted residual), x residual r_xi = (x0_i - t_hat_i) / sigma_x0_i,
+  // r_yi = e*_i n_yi and x residual r_xi = (x0*_i - t_hat_i) / sigma_x0_i = e*_i n_xi (the
+  // drawn residual put back along the normal; see fitter.h),
   // Jacobian rows a_i = dr_yi/dp, b_i = dr_yi/dt_i, c_i = -1 / sigma_x0_i. Eliminating the
   // step in t_i leaves the row a_i c_i / g_i and residual (c_i r_yi - b_i r_xi) / g_i with
   // g_i = sqrt(b_i^2 + c_i^2) (a_i and r_yi alone without a fitted t_i); then
@@ -217,8 +271,12 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   if (options.kind == ResampleKind::kResidualBootstrap) {
     warm = LinearisedWarmStart(model, observations, context, full_fit, fit_options);
   }
+  // The residual bootstrap's pool: each point's signed orthogonal residual, corrected for its
+  // leverage and centred (see fitter.h), and the direction it is put back along.
+  const ResidualPool pool =
+      OrthogonalResiduals(model, observations, context, full_fit, fit_options, warm.leverage);
   std::vector<double> start = full_fit.parameters;
-  std::vector<double> drawn(n, 0.0);
+  std::vector<double> drawn_y(n, 0.0), drawn_x(n, 0.0);
 
   // Full-data standard errors in the studentised form, s sqrt([(J'J)^-1]_jj), from the fit's
   // own: under kRelative they are that already, under kAbsolute they lack the factor s.
@@ -243,12 +301,17 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
       case ResampleKind::kResidualBootstrap:
         for (std::size_t i = 0; i < n; ++i) {
           data[i] = observations[i];
-          drawn[i] = weighted_residuals[random.Index(n)];
-          data[i].y = full_fit.fitted[i] + observations[i].sigma_y * drawn[i];
+          const double e = pool.residual[random.Index(n)];
+          drawn_y[i] = e * pool.normal_y[i];
+          drawn_x[i] = e * pool.normal_x[i];
+          data[i].y = full_fit.fitted[i] + observations[i].sigma_y * drawn_y[i];
+          if (pool.normal_x[i] != 0.0) {
+            data[i].x[0] = full_fit.fitted_x0[i] + observations[i].sigma_x0 * drawn_x[i];
+          }
           x0_start[i] = full_fit.fitted_x0[i];
         }
         if (warm.usable) {
-          warm.Apply(full_fit, drawn, &start, &x0_start);
+          warm.Apply(full_fit, drawn_y, drawn_x, &start, &x0_start);
           warm.Backtrack(model, data, context, full_fit, &start, &x0_start);
         }
         break;
@@ -321,14 +384,6 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
       result.studentized_low[j] = full_fit.parameters[j] - t_high * se_hat[j];
       result.studentized_high[j] = full_fit.parameters[j] - t_low * se_hat[j];
     }
-  }
-  for (std::size_t g = 0; g < x_grid.size(); ++g) {
-    const double x[kMaxInputs] = {x_grid[g], 0.0};
-    for (std::size_t d = 0; d < draws; ++d) {
-      column[d] = model.Evaluate(result.parameter_draws[d].data(), x, context);
-    }
-    internal::PercentilePair(&column, 0.5 * alpha, 1.0 - 0.5 * alpha, &result.curve_low[g],
-                             &result.curve_high[g]);
   }
   return result;
 }

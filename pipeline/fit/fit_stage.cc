@@ -188,8 +188,8 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     resample.seed =
         internal::StreamState(options.seed, group_index, model.name(), kBootstrapStream);
     try {
-      fit.bootstrap = fitters::Resample(model, observations, context, fit.result, refit_options,
-                                        resample, grid);
+      fit.bootstrap =
+          fitters::Resample(model, observations, context, fit.result, refit_options, resample);
     } catch (const std::exception& error) {
       AddFlag(&fit.flags, fmt::format("bootstrap failed: {}", error.what()));
     }
@@ -200,8 +200,8 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     resample.seed =
         internal::StreamState(options.seed, group_index, model.name(), kMonteCarloStream);
     try {
-      fit.monte_carlo = fitters::Resample(model, observations, context, fit.result, refit_options,
-                                          resample, grid);
+      fit.monte_carlo =
+          fitters::Resample(model, observations, context, fit.result, refit_options, resample);
     } catch (const std::exception& error) {
       AddFlag(&fit.flags, fmt::format("Monte Carlo failed: {}", error.what()));
     }

@@ -7,6 +7,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <functional>
 #include <limits>
 #include <utility>
 
@@ -68,39 +69,122 @@ std::vector<DecadeFraction> DecadeFractions(const std::vector<double>& edges_log
   return decades;
 }
 
-// Modal radii of the nominal curve with the standard deviation of the matching peak of each
-// draw (nearest in log r, within half the distance to the neighbouring nominal mode or half a
-// decade).
-std::vector<ModalRadius> ModesWithUncertainty(const std::vector<Peak>& nominal,
-                                              const std::vector<std::vector<Peak>>& draws) {
-  // Half a decade: far enough to follow a mode that moves with the parameters, close enough
-  // not to pick up a different pore family (a display choice, not physics).
-  constexpr double kMatchWindowDecades = 0.5;
+// Vertex of the parabola through (x, y) at i - 1, i, i + 1 (i interior): the refined
+// position of a local maximum at node i; (x[i], y[i]) where the curvature is not negative.
+Peak ParabolaVertex(const double* x, const double* y, std::size_t i) {
+  const double h0 = x[i] - x[i - 1];
+  const double h1 = x[i + 1] - x[i];
+  const double d0 = (y[i] - y[i - 1]) / h0;
+  const double d1 = (y[i + 1] - y[i]) / h1;
+  const double curvature = (d1 - d0) / (0.5 * (h0 + h1));  // second derivative
+  Peak peak{x[i], y[i]};
+  if (curvature < 0.0) {
+    const double slope_at_i = (d0 * h1 + d1 * h0) / (h0 + h1);
+    const double shift = std::clamp(-slope_at_i / curvature, -h0, h1);
+    peak.x = x[i] + shift;
+    peak.y = y[i] + slope_at_i * shift + 0.5 * curvature * shift * shift;
+  }
+  return peak;
+}
+
+// The per-draw curves of a distribution: value(k, i) of draw k at node i.
+struct DrawTable {
+  std::size_t num_draws = 0;
+  std::function<double(std::size_t, std::size_t)> value;
+};
+
+// Modal radii (see ModalRadius in pores.h): every interior local maximum i of the nominal
+// dV/dlog r at least options.mode_min_relative_height of the largest value, with its window
+// [L, R] bounded by the lowest nominal value towards the neighbouring maximum (or the grid end)
+// on each side. Reported only when resolved:
+//  - not at the grid edge: i is neither of the two outermost nodes on either side;
+//  - not a wiggle smaller than the band: the band's lower limit at i lies above its upper limit
+//    at L and at R;
+//  - present in the draws: in at least the band's confidence level of the draws the maximum of
+//    that draw over [L, R] lies inside the window (not on L or R).
+// Its position in each draw is the parabola vertex of that draw's maximum in the window, and
+// u(r) is the standard deviation of those radii (the spread over the draws; without draws 0).
+// edge_nodes: nodes at each end where no mode is reported. step_resolution: the nodes are
+// the mid-points of measured steps (stepwise method), which cannot place a mode finer than a
+// step: u(r) also holds the resolution term r ln(10) w / sqrt(12), w the width in log10 r of
+// the step at the maximum (rectangular distribution over the step, JCGM 100:2008 F.2.2.1).
+std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
+                                       const std::vector<double>& density,
+                                       const std::vector<double>& band_low,
+                                       const std::vector<double>& band_high, const DrawTable& draws,
+                                       std::size_t edge_nodes, bool step_resolution,
+                                       const PoreOptions& options) {
   std::vector<ModalRadius> modes;
-  for (std::size_t m = 0; m < nominal.size(); ++m) {
-    double window = kMatchWindowDecades;
-    if (m > 0) window = std::min(window, 0.5 * (nominal[m].x - nominal[m - 1].x));
-    if (m + 1 < nominal.size()) window = std::min(window, 0.5 * (nominal[m + 1].x - nominal[m].x));
-    std::vector<double> radii;
-    for (const std::vector<Peak>& peaks : draws) {
-      double best_distance = window;
-      double best_x = std::numeric_limits<double>::quiet_NaN();
-      for (const Peak& peak : peaks) {
-        const double distance = std::abs(peak.x - nominal[m].x);
-        if (distance <= best_distance) {
-          best_distance = distance;
-          best_x = peak.x;
-        }
-      }
-      if (std::isfinite(best_x)) radii.push_back(std::pow(10.0, best_x));
+  const std::size_t n = density.size();
+  if (n < 2 * edge_nodes + 1 || n < 3) return modes;
+  const double y_max = *std::max_element(density.begin(), density.end());
+  if (!(y_max > 0.0)) return modes;
+  std::vector<std::size_t> peaks;
+  for (std::size_t i = 1; i + 1 < n; ++i) {
+    if (density[i] > density[i - 1] && density[i] >= density[i + 1] &&
+        density[i] >= options.mode_min_relative_height * y_max) {
+      peaks.push_back(i);
     }
+  }
+  const auto lowest = [&](std::size_t from, std::size_t to) {  // argmin on [from, to]
+    std::size_t best = from;
+    for (std::size_t j = from; j <= to; ++j) {
+      if (density[j] < density[best]) best = j;
+    }
+    return best;
+  };
+  std::vector<double> column_x(n), column_y(n), radii;
+  for (std::size_t m = 0; m < peaks.size(); ++m) {
+    const std::size_t i = peaks[m];
+    if (i < edge_nodes || i + edge_nodes >= n) continue;
+    const std::size_t left = lowest(m > 0 ? peaks[m - 1] : 0, i);
+    const std::size_t right = lowest(i, m + 1 < peaks.size() ? peaks[m + 1] : n - 1);
+    if (!(band_low[i] > band_high[left] && band_low[i] > band_high[right])) continue;
+    radii.clear();
+    std::size_t missing = 0;
+    for (std::size_t k = 0; k < draws.num_draws; ++k) {
+      std::size_t best = left;
+      for (std::size_t j = left; j <= right; ++j) {
+        column_y[j] = draws.value(k, j);
+        if (column_y[j] > column_y[best]) best = j;
+      }
+      if (best == left || best == right) {
+        ++missing;
+        continue;
+      }
+      radii.push_back(std::pow(10.0, ParabolaVertex(log_r.data(), column_y.data(), best).x));
+    }
+    if (draws.num_draws > 0 &&
+        static_cast<double>(missing) >
+            (1.0 - options.band_confidence_level) * static_cast<double>(draws.num_draws)) {
+      continue;
+    }
+    const Peak nominal = ParabolaVertex(log_r.data(), density.data(), i);
     ModalRadius mode;
-    mode.radius_m = std::pow(10.0, nominal[m].x);
-    mode.dv_dlogr_m3_per_kg = nominal[m].y;
+    mode.radius_m = std::pow(10.0, nominal.x);
+    mode.dv_dlogr_m3_per_kg = nominal.y;
     mode.u_radius_m = StandardDeviation(radii);
+    if (step_resolution) {
+      const double width = 0.5 * (log_r[i + 1] - log_r[i - 1]);
+      const double u_resolution = mode.radius_m * std::log(10.0) * width / std::sqrt(12.0);
+      mode.u_radius_m = std::hypot(mode.u_radius_m, u_resolution);
+    }
     modes.push_back(mode);
   }
   return modes;
+}
+
+// The standard deviation of each decade's volume fraction over the draws' fractions.
+void DecadeUncertainties(const std::vector<std::vector<DecadeFraction>>& draw_decades,
+                         std::vector<DecadeFraction>* decades) {
+  std::vector<double> values;
+  for (std::size_t k = 0; k < decades->size(); ++k) {
+    values.clear();
+    for (const std::vector<DecadeFraction>& draw : draw_decades) {
+      if (k < draw.size()) values.push_back(draw[k].volume_fraction);
+    }
+    (*decades)[k].u_volume_fraction = StandardDeviation(values);
+  }
 }
 
 std::string BranchWords(ingest::Branch branch) { return std::string(ingest::BranchName(branch)); }
@@ -216,19 +300,7 @@ std::vector<Peak> FindPeaks(const std::vector<double>& x, const std::vector<doub
   for (std::size_t i = 1; i + 1 < n; ++i) {
     if (!(y[i] > y[i - 1] && y[i] >= y[i + 1])) continue;
     if (y[i] < min_relative_height * y_max) continue;
-    // Parabola through (x[i-1], y[i-1]), (x[i], y[i]), (x[i+1], y[i+1]): vertex.
-    const double h0 = x[i] - x[i - 1];
-    const double h1 = x[i + 1] - x[i];
-    const double d0 = (y[i] - y[i - 1]) / h0;
-    const double d1 = (y[i + 1] - y[i]) / h1;
-    const double curvature = (d1 - d0) / (0.5 * (h0 + h1));  // second derivative
-    Peak peak{x[i], y[i]};
-    if (curvature < 0.0) {
-      const double slope_at_i = (d0 * h1 + d1 * h0) / (h0 + h1);
-      const double shift = std::clamp(-slope_at_i / curvature, -h0, h1);
-      peak.x = x[i] + shift;
-      peak.y = y[i] + slope_at_i * shift + 0.5 * curvature * shift * shift;
-    }
+    const Peak peak = ParabolaVertex(x.data(), y.data(), i);
     peaks.push_back(peak);
   }
   return peaks;
@@ -335,7 +407,7 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
         std::min(curve.resampled_draws.size(), static_cast<std::size_t>(options.band_draws));
     draws.assign(curve.resampled_draws.begin(),
                  curve.resampled_draws.begin() + static_cast<std::ptrdiff_t>(count));
-    d.band_source = "bootstrap draws";
+    d.band_source = curve.resampled_source;
   } else if (options.band_draws > 0) {
     draws = MultivariateNormalDraws(curve.parameters, curve.covariance, options.band_draws,
                                     options.seed, model.info().parameters);
@@ -348,9 +420,9 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
   std::vector<double> density_by_node(nn * num_draws);
   std::vector<double> cumulative_by_node(nn * num_draws);
   std::vector<double> draw_total;
-  std::vector<std::vector<Peak>> draw_peaks;
+  std::vector<std::vector<DecadeFraction>> draw_decades;
   draw_total.reserve(num_draws);
-  draw_peaks.reserve(num_draws);
+  draw_decades.reserve(num_draws);
   std::vector<double> u_draw(nn);
   std::size_t used = 0;
   const StepGeometry geometry = MakeStepGeometry(radius, t, rho);
@@ -370,7 +442,7 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
       density_by_node[i * num_draws + used] = dens[i];
       cumulative_by_node[i * num_draws + used] = cum;
     }
-    draw_peaks.push_back(FindPeaks(log_r, dens, options.mode_min_relative_height));
+    draw_decades.push_back(DecadeFractions(log_r, g.interval_volume_m3_per_kg, g.total_m3_per_kg));
     draw_total.push_back(g.total_m3_per_kg);
     ++used;
   }
@@ -400,9 +472,21 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
     band(density_by_node, i, &p.dv_dlogr_low_m3_per_kg, &p.dv_dlogr_high_m3_per_kg);
     band(cumulative_by_node, i, &p.cumulative_low_m3_per_kg, &p.cumulative_high_m3_per_kg);
   }
+  std::vector<double> band_low(nn), band_high(nn);
+  for (std::size_t i = 0; i < nn; ++i) {
+    band_low[i] = d.points[i].dv_dlogr_low_m3_per_kg;
+    band_high[i] = d.points[i].dv_dlogr_high_m3_per_kg;
+  }
+  DrawTable table;
+  table.num_draws = used;
+  table.value = [&](std::size_t k, std::size_t i) { return density_by_node[i * num_draws + k]; };
+  // The two outermost nodes: the nodal density there is one-sided (NodalDensity), so a maximum
+  // on them is an artefact of where the grid ends.
+  constexpr std::size_t kGridEdgeNodes = 2;
   d.modes =
-      ModesWithUncertainty(FindPeaks(log_r, density, options.mode_min_relative_height), draw_peaks);
+      ResolvedModes(log_r, density, band_low, band_high, table, kGridEdgeNodes, false, options);
   d.decades = DecadeFractions(log_r, nominal.interval_volume_m3_per_kg, nominal.total_m3_per_kg);
+  DecadeUncertainties(draw_decades, &d.decades);
   if (d.band_source != "none") {
     d.assumptions.push_back(fmt::format("band: {:g} % percentile interval over {} {}",
                                         100.0 * options.band_confidence_level, d.band_draws_used,
@@ -519,7 +603,7 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
   std::vector<std::vector<double>> draw_density;
   std::vector<std::vector<double>> draw_cumulative;
   std::vector<double> draw_total;
-  std::vector<std::vector<Peak>> draw_peaks;
+  std::vector<std::vector<DecadeFraction>> draw_decades;
   bool any_uncertainty = false;
   for (const Node& node : nodes) any_uncertainty = any_uncertainty || node.u_u > 0.0;
   if (any_uncertainty && options.band_draws > 0) {
@@ -536,7 +620,8 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
         cum[s] = below + 0.5 * g.interval_volume_m3_per_kg[s];
         below += g.interval_volume_m3_per_kg[s];
       }
-      draw_peaks.push_back(FindPeaks(mid_log_r, dens, options.mode_min_relative_height));
+      draw_decades.push_back(
+          DecadeFractions(log_r, g.interval_volume_m3_per_kg, g.total_m3_per_kg));
       draw_total.push_back(g.total_m3_per_kg);
       draw_density.push_back(dens);
       draw_cumulative.push_back(std::move(cum));
@@ -572,9 +657,20 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
     p.cumulative_low_m3_per_kg = Quantile(column, tail);
     p.cumulative_high_m3_per_kg = Quantile(column, 1.0 - tail);
   }
-  d.modes = ModesWithUncertainty(FindPeaks(mid_log_r, density, options.mode_min_relative_height),
-                                 draw_peaks);
+  std::vector<double> band_low(n - 1), band_high(n - 1);
+  for (std::size_t k = 0; k + 1 < n; ++k) {
+    band_low[k] = d.points[k].dv_dlogr_low_m3_per_kg;
+    band_high[k] = d.points[k].dv_dlogr_high_m3_per_kg;
+  }
+  DrawTable table;
+  table.num_draws = draw_density.size();
+  table.value = [&](std::size_t k, std::size_t i) { return draw_density[k][i]; };
+  // Each node is a measured step: only the outermost steps are edges.
+  constexpr std::size_t kStepEdgeNodes = 1;
+  d.modes =
+      ResolvedModes(mid_log_r, density, band_low, band_high, table, kStepEdgeNodes, true, options);
   d.decades = DecadeFractions(log_r, nominal.interval_volume_m3_per_kg, nominal.total_m3_per_kg);
+  DecadeUncertainties(draw_decades, &d.decades);
   if (!draw_density.empty()) {
     d.assumptions.push_back(fmt::format(
         "band: {:g} % percentile interval over {} draws of the measured moisture contents",

@@ -71,8 +71,12 @@ struct ModelCurve {
   const fitters::Model* model = nullptr;
   std::string name;
   std::vector<double> parameters;
-  Eigen::MatrixXd covariance;                        // may be empty: no band
-  std::vector<std::vector<double>> resampled_draws;  // bootstrap; preferred when present
+  Eigen::MatrixXd covariance;  // may be empty: no band
+  // Refits of resampled data from the fit stage, preferred when present: its JCGM 101 Monte
+  // Carlo draws (the stated input uncertainties propagated through the fit), else its
+  // bootstrap draws; resampled_source names them for the band's caption.
+  std::vector<std::vector<double>> resampled_draws;
+  std::string resampled_source = "bootstrap draws";
   fitters::ModelContext context;
 };
 

@@ -70,8 +70,9 @@ struct PoreOptions {
   // (the same BJH-type correction as the stepwise method). false: V(r) = [u(RH(r)) -
   // u(RH(r_min))] / rho_w, the film counted as pore volume at the radius where it forms.
   bool film_volume_correction = true;
-  // A local maximum of dV/dlog r is reported as a mode when its height is at least this
-  // fraction of the largest value (a display threshold, not physics).
+  // A local maximum of dV/dlog r is a mode candidate when its height is at least this
+  // fraction of the largest value (a display threshold, not physics); whether it is reported
+  // see ModalRadius.
   double mode_min_relative_height = 0.05;
   int hysteresis_grid_points = 41;       // RH grid inside both branches' measured ranges
   int heat_grid_points = 21;             // moisture-content grid of the isosteric heat
@@ -94,16 +95,25 @@ struct PoreDistributionPoint {
   double dv_dlogr_high_m3_per_kg = 0.0;
 };
 
+// A resolved maximum of dV/dlog r. Reported only where the distribution resolves it: not on
+// the two outermost grid nodes, rising above its neighbouring valleys by more than the band
+// (the band's lower limit at the maximum above its upper limit at both valleys), and present as
+// a maximum inside its window in at least band_confidence_level of the draws. Its
+// uncertainty is its spread over the draws (the band's parameter draws: the fit stage's
+// bootstrap refits, or N(p, covariance) without them; for the stepwise method the draws of the
+// measured moisture contents).
 struct ModalRadius {
   double radius_m = 0.0;
-  double u_radius_m = 0.0;  // standard uncertainty (spread over the band draws)
+  double u_radius_m = 0.0;  // standard uncertainty: standard deviation over the draws
   double dv_dlogr_m3_per_kg = 0.0;
 };
 
+// Fraction of the resolved pore volume in one decade of radius (clipped to the resolved range).
 struct DecadeFraction {
   double radius_low_m = 0.0;
   double radius_high_m = 0.0;
   double volume_fraction = 0.0;
+  double u_volume_fraction = 0.0;  // standard deviation over the same draws as the band; 0: none
 };
 
 struct PoreDistribution {

@@ -375,7 +375,8 @@ Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
     for (const pores::DecadeFraction& f : d.decades) {
       decades.push_back({{"radius_low_m", Number(f.radius_low_m)},
                          {"radius_high_m", Number(f.radius_high_m)},
-                         {"volume_fraction", Number(f.volume_fraction)}});
+                         {"volume_fraction", Number(f.volume_fraction)},
+                         {"u_volume_fraction", Number(f.u_volume_fraction)}});
     }
     distributions.push_back(
         {{"method", d.method},

@@ -477,20 +477,17 @@ TEST(ResampleTest, SameRandomStateGivesIdenticalDraws) {
     ResampleOptions options;
     options.kind = kind;
     options.num_resamples = 60;
-    const ResampleResult a =
-        Resample(*model, data, ModelContext{}, fit, fit_options, options, {0.0, 5.0});
-    const ResampleResult b =
-        Resample(*model, data, ModelContext{}, fit, fit_options, options, {0.0, 5.0});
+    const ResampleResult a = Resample(*model, data, ModelContext{}, fit, fit_options, options);
+    const ResampleResult b = Resample(*model, data, ModelContext{}, fit, fit_options, options);
     options.seed += 1;
-    const ResampleResult c =
-        Resample(*model, data, ModelContext{}, fit, fit_options, options, {0.0, 5.0});
+    const ResampleResult c = Resample(*model, data, ModelContext{}, fit, fit_options, options);
     EXPECT_EQ(a.parameter_draws, b.parameter_draws);
-    EXPECT_EQ(a.curve_low, b.curve_low);
+    EXPECT_EQ(a.parameter_low, b.parameter_low);
     EXPECT_NE(a.parameter_draws, c.parameter_draws);
     EXPECT_EQ(static_cast<int>(a.parameter_draws.size()) + a.num_failed, 60);
     EXPECT_LT(a.parameter_low[1], fit.parameters[1]);
     EXPECT_GT(a.parameter_high[1], fit.parameters[1]);
-    EXPECT_LT(a.curve_low[1], a.curve_high[1]);
+    EXPECT_LT(a.parameter_low[0], a.parameter_high[0]);
   }
 }
 
@@ -507,7 +504,7 @@ TEST(ResampleTest, MonteCarloOnLineReproducesLinearPropagation) {
   ResampleOptions options;
   options.kind = ResampleKind::kMonteCarloInputs;
   options.num_resamples = 2000;
-  const ResampleResult mc = Resample(*model, data, ModelContext{}, fit, fit_options, options, {});
+  const ResampleResult mc = Resample(*model, data, ModelContext{}, fit, fit_options, options);
   ASSERT_EQ(mc.num_failed, 0);
   const ClosedFormLine exact = SolveLine(data);
   // Relative standard error of a standard deviation from N draws: 1/sqrt(2N) = 1.6 %;
@@ -579,10 +576,9 @@ TEST(ResampleTest, InPlaceReuseEqualsRebuildingTheProblem) {
     ResampleOptions options;
     options.kind = kind;
     options.num_resamples = 40;
-    const ResampleResult reuse =
-        Resample(*model, data, ModelContext{}, fit, fit_options, options, {5.0});
+    const ResampleResult reuse = Resample(*model, data, ModelContext{}, fit, fit_options, options);
     const ResampleResult rebuild =
-        Resample(copy_only, data, ModelContext{}, fit, fit_options, options, {5.0});
+        Resample(copy_only, data, ModelContext{}, fit, fit_options, options);
     ASSERT_EQ(reuse.parameter_draws.size(), rebuild.parameter_draws.size());
     EXPECT_GT(reuse.parameter_draws.size(), 30u);
     for (std::size_t d = 0; d < reuse.parameter_draws.size(); ++d) {
@@ -675,25 +671,35 @@ TEST(ResampleTest, StandardErrorStoppingRuleKeepsDrawsNearTheTightOptimum) {
   ResampleOptions options;
   options.num_resamples = 150;
   options.refit_tolerance_se = 0.0;
-  const ResampleResult tight = Resample(*model, data, ModelContext{}, fit, refit, options, {});
+  const ResampleResult tight = Resample(*model, data, ModelContext{}, fit, refit, options);
   options.refit_tolerance_se = 0.01;
-  const ResampleResult loose = Resample(*model, data, ModelContext{}, fit, refit, options, {});
+  const ResampleResult loose = Resample(*model, data, ModelContext{}, fit, refit, options);
   ASSERT_EQ(tight.parameter_draws.size(), loose.parameter_draws.size());
   ASSERT_GT(tight.parameter_draws.size(), 140u);
   double worst_se = 0.0;
+  std::vector<double> per_draw;
   for (std::size_t d = 0; d < tight.parameter_draws.size(); ++d) {
+    double draw_worst = 0.0;
     for (std::size_t j = 0; j < fit.parameters.size(); ++j) {
       const double se = fit.estimates[j].standard_error;
-      worst_se = std::max(worst_se,
-                          std::abs(loose.parameter_draws[d][j] - tight.parameter_draws[d][j]) / se);
+      draw_worst = std::max(
+          draw_worst, std::abs(loose.parameter_draws[d][j] - tight.parameter_draws[d][j]) / se);
     }
+    worst_se = std::max(worst_se, draw_worst);
+    per_draw.push_back(draw_worst);
   }
+  std::sort(per_draw.begin(), per_draw.end());
+  const double p95_se = per_draw[per_draw.size() * 95 / 100];
   std::printf(
-      "durner2 refits: worst draw difference %.4f standard errors; iterations %lld "
-      "(rule) vs %lld (tight)\n",
-      worst_se, loose.refit_iterations, tight.refit_iterations);
-  EXPECT_LE(worst_se, 0.03);  // 3 x the tolerance: the Gauss-Newton distance is an estimate
-  EXPECT_GT(worst_se, 0.0);   // the rule did stop some refits early
+      "durner2 refits: draw difference 95th percentile %.4f, worst %.4f standard errors; "
+      "iterations %lld (rule) vs %lld (tight)\n",
+      p95_se, worst_se, loose.refit_iterations, tight.refit_iterations);
+  // 3 x the tolerance: the Gauss-Newton distance is an estimate. Measured with the
+  // errors-in-variables bootstrap (draws as wide as the data, leverage-corrected residuals,
+  // fitter.h): 95th percentile 0.014, worst 0.026 standard errors.
+  EXPECT_LE(p95_se, 0.03);
+  EXPECT_LE(worst_se, 0.03);
+  EXPECT_GT(worst_se, 0.0);  // the rule did stop some refits early
   EXPECT_LT(loose.refit_iterations, 0.8 * tight.refit_iterations);
   for (std::size_t j = 0; j < fit.parameters.size(); ++j) {
     const double se = fit.estimates[j].standard_error;

@@ -23,9 +23,9 @@
 // are lighter-tailed than the errors: the expected sample kurtosis of normal data is
 // 3 (n - 1) / (n + 1) = 2.63 at n = 15); with 20 points, studentised 0.944, 0.950, 0.932 and
 // percentile 0.922, 0.934, 0.924; at this test's 1000 replicates, studentised 0.952, 0.953,
-// 0.947 and percentile 0.928, 0.929, 0.927. So the percentile check is held to 0.90 (its theoretical
-// 0.934 less 4 Monte Carlo standard errors and the 400-draw quantile noise), the studentised
-// one to the full 92..98 % band.
+// 0.947 and percentile 0.928, 0.929, 0.927. So the percentile check is held to 0.90 (its
+// theoretical 0.934 less 4 Monte Carlo standard errors and the 400-draw quantile noise), the
+// studentised one to the full 92..98 % band.
 #include <gtest/gtest.h>
 
 #include <array>
@@ -110,13 +110,12 @@ TEST(GabCoverageTest, ResidualBootstrapIntervals) {
     if (!fit.ok()) continue;
     resample.seed = noise.Raw();
     const ResampleResult boot =
-        Resample(models::GabModel(), points, ModelContext{}, fit, options, resample, {});
+        Resample(models::GabModel(), points, ModelContext{}, fit, options, resample);
     if (boot.parameter_low.size() != 3 || boot.num_studentized < kResamples - 20) continue;
     ++done;
     for (std::size_t i = 0; i < 3; ++i) {
       percentile_hits[i] += Inside(boot.parameter_low[i], kTruth[i], boot.parameter_high[i]);
-      studentized_hits[i] +=
-          Inside(boot.studentized_low[i], kTruth[i], boot.studentized_high[i]);
+      studentized_hits[i] += Inside(boot.studentized_low[i], kTruth[i], boot.studentized_high[i]);
     }
   }
   EXPECT_GE(done, kReplicates - 5);
