@@ -72,6 +72,10 @@ struct TwoTermResidual {
 
 }  // namespace
 
+double TailFit::TotalUncertainty_g() const {
+  return std::sqrt(u_m_inf_g * u_m_inf_g + u_model_g * u_model_g);
+}
+
 double TailFit::Mass_g(double time_s) const {
   const double dt = time_s - t0_s;
   double m = m_inf_g - amplitude_g * std::exp(-dt / tau_s);
@@ -86,38 +90,69 @@ double TailFit::Slope_g_per_s(double time_s) const {
   return slope;
 }
 
-TailFit FitExponentialTail(std::span<const double> time_s, std::span<const double> mass_g,
-                           int terms) {
-  TailFit fit;
-  const std::size_t n = std::min(time_s.size(), mass_g.size());
-  fit.num_points = static_cast<int>(n);
-  if (n < 5) {
-    fit.message = "too few points in the tail";
-    return fit;
-  }
-  const double t0 = time_s.front();
-  const double span = time_s[n - 1] - t0;
-  if (!(span > 0.0)) {
-    fit.message = "tail has no duration";
-    return fit;
-  }
-  fit.t0_s = t0;
-  // Work on mass relative to the tail mean for conditioning.
-  double mean_m = 0.0;
-  for (std::size_t i = 0; i < n; ++i) mean_m += mass_g[i];
-  mean_m /= static_cast<double>(n);
-  std::vector<double> m(n);
-  for (std::size_t i = 0; i < n; ++i) m[i] = mass_g[i] - mean_m;
-  std::span<const double> t = time_s.first(n);
+namespace {
 
-  // ---- One term: grid over ln tau, then golden section around the best grid point.
-  const double log_lo = std::log(kTauMinFactor * span);
-  const double log_hi = std::log(kTauMaxFactor * span);
+// The tail in scaled variables: t' = (t - t0) / time_scale in [0, 1],
+// m' = (m - mass_offset) / mass_scale in [-1, 1].
+struct ScaledTail {
+  std::vector<double> t;
+  std::vector<double> m;
+  double t0 = 0.0;
+  double time_scale = 1.0;
+  double mass_offset = 0.0;
+  double mass_scale = 1.0;
+};
+
+ScaledTail Scale(std::span<const double> time_s, std::span<const double> mass_g) {
+  ScaledTail scaled;
+  const std::size_t n = time_s.size();
+  scaled.t0 = time_s.front();
+  scaled.time_scale = time_s[n - 1] - scaled.t0;
+  double mean = 0.0;
+  for (std::size_t i = 0; i < n; ++i) mean += mass_g[i];
+  mean /= static_cast<double>(n);
+  double largest = 0.0;
+  for (std::size_t i = 0; i < n; ++i) largest = std::max(largest, std::abs(mass_g[i] - mean));
+  scaled.mass_offset = mean;
+  scaled.mass_scale = largest > 0.0 ? largest : 1.0;
+  scaled.t.resize(n);
+  scaled.m.resize(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    scaled.t[i] = (time_s[i] - scaled.t0) / scaled.time_scale;
+    scaled.m[i] = (mass_g[i] - mean) / scaled.mass_scale;
+  }
+  return scaled;
+}
+
+// Back to the units of the input (fit in scaled units in, fit in input units out).
+TailFit Unscale(TailFit fit, const ScaledTail& scaled) {
+  fit.t0_s = scaled.t0;
+  fit.m_inf_g = scaled.mass_offset + scaled.mass_scale * fit.m_inf_g;
+  fit.u_m_inf_g *= scaled.mass_scale;
+  fit.amplitude_g *= scaled.mass_scale;
+  fit.amplitude2_g *= scaled.mass_scale;
+  fit.tau_s *= scaled.time_scale;
+  fit.tau2_s *= scaled.time_scale;
+  fit.slowest_tau_s *= scaled.time_scale;
+  fit.rms_residual_g *= scaled.mass_scale;
+  return fit;
+}
+
+// One term by variable projection on the scaled tail (t0 = 0, duration 1).
+TailFit FitOneTerm(const ScaledTail& scaled) {
+  TailFit fit;
+  const std::span<const double> t(scaled.t);
+  const std::span<const double> m(scaled.m);
+  const std::size_t n = t.size();
+  fit.num_points = static_cast<int>(n);
+  // ---- Grid over ln tau, then golden section around the best grid point.
+  const double log_lo = std::log(kTauMinFactor);
+  const double log_hi = std::log(kTauMaxFactor);
   const double step = (log_hi - log_lo) / (kTauGridPoints - 1);
   int best = -1;
   double best_ssr = 0.0;
   for (int k = 0; k < kTauGridPoints; ++k) {
-    const LinearSolution s = SolveLinear(t, m, t0, std::exp(log_lo + step * k));
+    const LinearSolution s = SolveLinear(t, m, 0.0, std::exp(log_lo + step * k));
     if (s.ok && (best < 0 || s.ssr < best_ssr)) {
       best = k;
       best_ssr = s.ssr;
@@ -134,7 +169,7 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   double a = log_lo + step * std::max(0, best - 1);
   double b = log_lo + step * std::min(kTauGridPoints - 1, best + 1);
   auto ssr_at = [&](double log_tau) {
-    const LinearSolution s = SolveLinear(t, m, t0, std::exp(log_tau));
+    const LinearSolution s = SolveLinear(t, m, 0.0, std::exp(log_tau));
     return s.ok ? s.ssr : 1e300;
   };
   double c = b - kGolden * (b - a);
@@ -157,20 +192,20 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
     }
   }
   const double tau = std::exp(0.5 * (a + b));
-  const LinearSolution one = SolveLinear(t, m, t0, tau);
-  if (!one.ok || n < 4) {
+  const LinearSolution one = SolveLinear(t, m, 0.0, tau);
+  if (!one.ok) {
     fit.message = "exponential fit failed";
     return fit;
   }
-  // Covariance of (m_inf, A, tau) from the Jacobian at the optimum.
+  // Covariance of (m_inf, A, tau) from the Jacobian at the optimum (all columns of order 1 in
+  // the scaled variables).
   Eigen::MatrixXd jacobian(static_cast<Eigen::Index>(n), 3);
   for (std::size_t i = 0; i < n; ++i) {
-    const double dt = t[i] - t0;
-    const double e = std::exp(-dt / tau);
+    const double e = std::exp(-t[i] / tau);
     const auto row = static_cast<Eigen::Index>(i);
     jacobian(row, 0) = 1.0;
     jacobian(row, 1) = -e;
-    jacobian(row, 2) = -one.amplitude * e * dt / (tau * tau);
+    jacobian(row, 2) = -one.amplitude * e * t[i] / (tau * tau);
   }
   const Eigen::Matrix3d jtj = jacobian.transpose() * jacobian;
   Eigen::FullPivLU<Eigen::Matrix3d> lu(jtj);
@@ -178,32 +213,39 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
     fit.message = "exponential fit not identifiable";
     return fit;
   }
-  const double s2 = one.ssr / static_cast<double>(n - 3);
+  constexpr int kOneTermParameters = 3;
+  const double s2 = one.ssr / static_cast<double>(n - kOneTermParameters);
   const Eigen::Matrix3d covariance = s2 * lu.inverse();
   fit.ok = true;
   fit.terms = 1;
-  fit.m_inf_g = one.m_inf + mean_m;
+  fit.m_inf_g = one.m_inf;
   fit.u_m_inf_g = std::sqrt(std::max(0.0, covariance(0, 0)));
   fit.amplitude_g = one.amplitude;
   fit.tau_s = tau;
   fit.slowest_tau_s = tau;
   fit.rms_residual_g = std::sqrt(one.ssr / static_cast<double>(n));
-  if (terms != 2) return fit;
+  fit.degrees_of_freedom = static_cast<int>(n) - kOneTermParameters;
+  return fit;
+}
 
-  // ---- Two terms: Ceres, started from the one-term solution split into a fast and a slow
-  // part. Identical starting time constants would make the problem singular.
+// Two terms by Ceres on the scaled tail, started from the one-term solution split into a
+// fast and a slow part (identical starting time constants would make the problem singular).
+TailFit FitTwoTerms(const ScaledTail& scaled, const TailFit& one) {
+  TailFit fit;
+  const std::size_t n = scaled.t.size();
+  fit.num_points = static_cast<int>(n);
   constexpr int kTwoTermParameters = 5;
   if (n < 2 * kTwoTermParameters) {
-    fit.message = "two-term fit needs more points; one term used";
+    fit.message = "two-term fit needs more points";
     return fit;
   }
-  double x[kTwoTermParameters] = {one.m_inf, 0.3 * one.amplitude, std::log(0.2 * tau),
-                                  0.7 * one.amplitude, std::log(tau)};
+  double x[kTwoTermParameters] = {one.m_inf_g, 0.3 * one.amplitude_g, std::log(0.2 * one.tau_s),
+                                  0.7 * one.amplitude_g, std::log(one.tau_s)};
   ceres::Problem problem;
   for (std::size_t i = 0; i < n; ++i) {
     problem.AddResidualBlock(
         new ceres::AutoDiffCostFunction<TwoTermResidual, 1, kTwoTermParameters>(
-            new TwoTermResidual(t[i] - t0, m[i])),
+            new TwoTermResidual(scaled.t[i], scaled.m[i])),
         nullptr, x);
   }
   ceres::Solver::Options solver_options;
@@ -213,31 +255,81 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   ceres::Solver::Summary summary;
   ceres::Solve(solver_options, &problem, &summary);
   if (!summary.IsSolutionUsable() || summary.termination_type == ceres::NO_CONVERGENCE) {
-    fit.message = "two-term fit did not converge; one term used";
+    fit.message = "two-term fit did not converge";
     return fit;
   }
   ceres::Covariance::Options covariance_options;
-  ceres::Covariance covariance2(covariance_options);
+  ceres::Covariance covariance(covariance_options);
   std::vector<std::pair<const double*, const double*>> blocks = {{x, x}};
   double full[kTwoTermParameters * kTwoTermParameters];
-  if (!covariance2.Compute(blocks, &problem) || !covariance2.GetCovarianceBlock(x, x, full)) {
-    fit.message = "two-term fit not identifiable; one term used";
+  if (!covariance.Compute(blocks, &problem) || !covariance.GetCovarianceBlock(x, x, full)) {
+    fit.message = "two-term fit not identifiable";
     return fit;
   }
-  const double ssr2 = 2.0 * summary.final_cost;
-  const double s2_two = ssr2 / static_cast<double>(n - kTwoTermParameters);
+  const double ssr = 2.0 * summary.final_cost;
+  const double s2 = ssr / static_cast<double>(n - kTwoTermParameters);
   // Ceres' covariance assumes unit residual variance: scale by s^2.
+  fit.ok = true;
   fit.terms = 2;
-  fit.m_inf_g = x[0] + mean_m;
-  fit.u_m_inf_g = std::sqrt(std::max(0.0, full[0] * s2_two));
+  fit.m_inf_g = x[0];
+  fit.u_m_inf_g = std::sqrt(std::max(0.0, full[0] * s2));
   fit.amplitude_g = x[1];
   fit.tau_s = std::exp(x[2]);
   fit.amplitude2_g = x[3];
   fit.tau2_s = std::exp(x[4]);
   fit.slowest_tau_s = std::max(fit.tau_s, fit.tau2_s);
-  fit.rms_residual_g = std::sqrt(ssr2 / static_cast<double>(n));
-  fit.message.clear();
+  fit.rms_residual_g = std::sqrt(ssr / static_cast<double>(n));
+  fit.degrees_of_freedom = static_cast<int>(n) - kTwoTermParameters;
+  if (!std::isfinite(fit.m_inf_g) || !std::isfinite(fit.u_m_inf_g)) {
+    fit.ok = false;
+    fit.message = "two-term fit not identifiable";
+  }
   return fit;
+}
+
+// Half-width of a rectangular distribution -> standard uncertainty (JCGM 100:2008, 4.3.7).
+const double kSqrt3 = std::sqrt(3.0);
+
+}  // namespace
+
+TailFit FitExponentialTail(std::span<const double> time_s, std::span<const double> mass_g,
+                           int terms, double max_alternative_tau_to_span) {
+  TailFit fit;
+  const std::size_t n = std::min(time_s.size(), mass_g.size());
+  fit.num_points = static_cast<int>(n);
+  if (n < 5) {
+    fit.message = "too few points in the tail";
+    return fit;
+  }
+  if (!(time_s[n - 1] - time_s.front() > 0.0)) {
+    fit.message = "tail has no duration";
+    return fit;
+  }
+  const ScaledTail scaled = Scale(time_s.first(n), mass_g.first(n));
+  const TailFit one = FitOneTerm(scaled);
+  if (!one.ok) {
+    fit.message = one.message;
+    fit.t0_s = scaled.t0;
+    return fit;
+  }
+  const TailFit two = FitTwoTerms(scaled, one);
+  const bool use_two = terms == 2 && two.ok;
+  TailFit chosen = use_two ? two : one;
+  const TailFit& other = use_two ? one : two;
+  if (terms == 2 && !two.ok) chosen.message = two.message + "; one term used";
+  // The other model as the model term, when it is a credible description of the tail (its
+  // slowest time constant within the accepted range; the tail duration is 1 here).
+  if (other.ok && other.slowest_tau_s <= max_alternative_tau_to_span) {
+    chosen.has_alternative = true;
+    chosen.alternative_m_inf_g = other.m_inf_g;
+    chosen.u_model_g = std::abs(other.m_inf_g - chosen.m_inf_g) / kSqrt3;
+  }
+  TailFit out = Unscale(chosen, scaled);
+  if (out.has_alternative) {
+    out.alternative_m_inf_g = scaled.mass_offset + scaled.mass_scale * out.alternative_m_inf_g;
+    out.u_model_g *= scaled.mass_scale;
+  }
+  return out;
 }
 
 }  // namespace sorbtrace::equilibrate::internal

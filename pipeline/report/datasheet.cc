@@ -742,7 +742,10 @@ void EquilibriaSection(Context& ctx) {
     rows.push_back({p.dataset_id + " / " + p.step_label, BranchLabel(p.branch),
                     FormatFixed(p.temperature_K - 273.15, 1), std::to_string(p.num_specimens),
                     FormatWithUncertainty(p.rh_fraction * 100.0, u_rh * 100.0, digits),
-                    FormatWithUncertainty(p.moisture_kg_per_kg * ms, u_m * ms, digits),
+                    FormatWithUncertainty(p.moisture_kg_per_kg * ms, u_m * ms, digits) +
+                        (std::abs(p.coverage_factor - k) > 1e-9
+                             ? " (k = " + CoverageText(p.coverage_factor) + ")"
+                             : std::string()),
                     FormatSignificant(p.between_specimen_sd_kg_per_kg * ms, 2),
                     FormatSignificant(p.time_to_equilibrium_s / kSecondsPerHour, 3),
                     flags.empty() ? "–" : flags});

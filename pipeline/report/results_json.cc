@@ -65,7 +65,8 @@ Json Budget(const std::vector<reduce::BudgetLine>& lines) {
                    {"standard_uncertainty", Number(b.standard_uncertainty)},
                    {"unit", b.unit},
                    {"sensitivity", Number(b.sensitivity)},
-                   {"contribution", Number(b.contribution)}});
+                   {"contribution", Number(b.contribution)},
+                   {"degrees_of_freedom", Number(b.degrees_of_freedom)}});
   }
   return out;
 }
@@ -126,6 +127,11 @@ Json EquilibriaJson(const ReportInputs& inputs) {
                       {"rh_source", p.rh_source},
                       {"mass_g", Number(p.mass_g)},
                       {"u_mass_extrapolation_g", Number(p.u_mass_extrapolation_g)},
+                      {"u_mass_extrapolation_model_g", Number(p.u_mass_extrapolation_model_g)},
+                      {"approach_correction_g", Number(p.approach_correction_g)},
+                      {"u_mass_approach_g", Number(p.u_mass_approach_g)},
+                      {"u_mass_approach_model_g", Number(p.u_mass_approach_model_g)},
+                      {"approach_time_constant_s", Number(p.approach_time_constant_s)},
                       {"time_to_equilibrium_s", Number(p.time_to_equilibrium_s)},
                       {"equilibrated", p.equilibrated},
                       {"extrapolated", p.extrapolated},
@@ -160,8 +166,10 @@ Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
     const reduce::IsothermPoint& p = r.points[i];
     const Quantity rh =
         MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%", sheet.rules);
+    DisplayRules point_rules = sheet.rules;  // k = t_p(nu_eff) of the point (reduce.h)
+    point_rules.coverage_factor = p.coverage_factor;
     const Quantity u = MoistureQuantity("moisture", "moisture content", p.moisture_kg_per_kg,
-                                        p.u_moisture_kg_per_kg, sheet.rules);
+                                        p.u_moisture_kg_per_kg, point_rules);
     Json point = {{"index", i},
                   {"dataset_id", p.dataset_id},
                   {"step_index", p.step_index},
@@ -172,7 +180,9 @@ Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
                   {"rh", QuantityJson(rh)},
                   {"moisture", QuantityJson(u)},
                   {"between_specimen_sd_kg_per_kg", Number(p.between_specimen_sd_kg_per_kg)},
-                  {"num_specimens", p.num_specimens}};
+                  {"num_specimens", p.num_specimens},
+                  {"effective_dof", Number(p.effective_dof)},  // null: infinite
+                  {"coverage_factor", Number(p.coverage_factor)}};
     if (p.has_volumetric) {
       point["volumetric"] = {{"value", Number(p.volumetric_m3_per_m3)},
                              {"unit", "m3/m3"},
@@ -198,6 +208,8 @@ Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
                                {"u_rh_fraction", Number(p.u_rh_fraction)},
                                {"moisture_kg_per_kg", Number(p.moisture_kg_per_kg)},
                                {"u_moisture_kg_per_kg", Number(p.u_moisture_kg_per_kg)},
+                               {"effective_dof", Number(p.effective_dof)},
+                               {"coverage_factor", Number(p.coverage_factor)},
                                {"moisture_budget", Budget(p.moisture_budget)},
                                {"rh_budget", Budget(p.rh_budget)},
                                {"equilibrated", p.equilibrated},

@@ -136,7 +136,13 @@ TEST(ReduceTest, ThreeSpecimensCombined) {
   for (const auto& sp : r.specimen_points) sum_u2 += std::pow(sp.u_moisture_kg_per_kg, 2);
   EXPECT_NEAR(p.u_moisture_kg_per_kg, std::sqrt(sum_u2 / 9.0 + 1e-6 / 3.0), 1e-15);
   EXPECT_NEAR(p.u_moisture_kg_per_kg, 5.7741e-4, 2e-8);
-  EXPECT_NEAR(p.expanded_u_moisture_kg_per_kg, 2.0 * p.u_moisture_kg_per_kg, 1e-15);
+  // Welch-Satterthwaite (JCGM 100:2008, G.4.1): the spread s/sqrt(3) with 2 degrees of freedom
+  // dominates, nu_eff = 2 x (u_c^2 / (s^2/3))^2 = 2.0009 -> 2; k = t_95.45(2) = 4.53 (JCGM
+  // 100:2008, Table G.2).
+  EXPECT_NEAR(p.effective_dof, 2.0 * std::pow(p.u_moisture_kg_per_kg, 4) / std::pow(1e-6 / 3, 2),
+              1e-9);
+  EXPECT_NEAR(p.coverage_factor, 4.53, 0.005);
+  EXPECT_NEAR(p.expanded_u_moisture_kg_per_kg, p.coverage_factor * p.u_moisture_kg_per_kg, 1e-15);
   ASSERT_TRUE(p.has_volumetric);
   EXPECT_NEAR(p.volumetric_m3_per_m3, 0.0105259, 1e-7);
   // RH: same atmosphere, u(rh) not averaged down.
