@@ -5,6 +5,7 @@
 #include <Eigen/Dense>
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <vector>
 
 namespace sorbtrace::equilibrate::internal {
@@ -138,6 +139,39 @@ TailFit Unscale(TailFit fit, const ScaledTail& scaled) {
   return fit;
 }
 
+// The golden section locates the minimum of SSR(tau) only to about sqrt(machine epsilon)
+// relative (SSR is flat there); a few Gauss-Newton steps on (m_inf, A, tau) take tau to the
+// optimum to rounding, so that the result does not depend on rounding-level differences of the
+// input (the same log in g or mg).
+void PolishTau(std::span<const double> t, std::span<const double> m, double& tau,
+               LinearSolution& solution) {
+  constexpr int kPolishSteps = 4;
+  for (int step = 0; step < kPolishSteps; ++step) {
+    Eigen::Matrix3d jtj = Eigen::Matrix3d::Zero();
+    Eigen::Vector3d jtr = Eigen::Vector3d::Zero();
+    for (std::size_t i = 0; i < t.size(); ++i) {
+      const double e = std::exp(-t[i] / tau);
+      const double r = m[i] - (solution.m_inf - solution.amplitude * e);
+      const Eigen::Vector3d row(1.0, -e, -solution.amplitude * e * t[i] / (tau * tau));
+      jtj += row * row.transpose();
+      jtr += row * r;
+    }
+    Eigen::FullPivLU<Eigen::Matrix3d> lu(jtj);
+    if (!lu.isInvertible()) return;
+    const Eigen::Vector3d delta = lu.solve(jtr);
+    const double next_tau = tau + delta(2);
+    if (!(next_tau > 0.0)) return;
+    const LinearSolution next = SolveLinear(t, m, 0.0, next_tau);
+    // Near the optimum SSR changes at the rounding level only: a step is kept unless it
+    // raises SSR by more than that.
+    constexpr double kRoundingSlack = 1e-10;
+    if (!next.ok || !(next.ssr <= solution.ssr * (1.0 + kRoundingSlack))) return;
+    tau = next_tau;
+    solution = next;
+    if (std::abs(delta(2)) < std::numeric_limits<double>::epsilon() * tau) return;
+  }
+}
+
 // One term by variable projection on the scaled tail (t0 = 0, duration 1).
 TailFit FitOneTerm(const ScaledTail& scaled) {
   TailFit fit;
@@ -191,12 +225,13 @@ TailFit FitOneTerm(const ScaledTail& scaled) {
       fd = ssr_at(d);
     }
   }
-  const double tau = std::exp(0.5 * (a + b));
-  const LinearSolution one = SolveLinear(t, m, 0.0, tau);
+  double tau = std::exp(0.5 * (a + b));
+  LinearSolution one = SolveLinear(t, m, 0.0, tau);
   if (!one.ok) {
     fit.message = "exponential fit failed";
     return fit;
   }
+  PolishTau(t, m, tau, one);
   // Covariance of (m_inf, A, tau) from the Jacobian at the optimum (all columns of order 1 in
   // the scaled variables).
   Eigen::MatrixXd jacobian(static_cast<Eigen::Index>(n), 3);
@@ -230,10 +265,37 @@ TailFit FitOneTerm(const ScaledTail& scaled) {
 
 // Two terms by Ceres on the scaled tail, started from the one-term solution split into a
 // fast and a slow part (identical starting time constants would make the problem singular).
-TailFit FitTwoTerms(const ScaledTail& scaled, const TailFit& one) {
-  TailFit fit;
+// The two-term fit runs on at most kMaxTwoTermPoints means of consecutive points (a long log
+// tail has thousands of block means; means of groups keep the information on the asymptote,
+// their residual variance estimates the variance of a group mean, and the fit costs a tenth).
+// Project choice.
+constexpr std::size_t kMaxTwoTermPoints = 200;
+
+ScaledTail GroupMeans(const ScaledTail& scaled) {
   const std::size_t n = scaled.t.size();
-  fit.num_points = static_cast<int>(n);
+  if (n <= kMaxTwoTermPoints) return scaled;
+  const std::size_t group = (n + kMaxTwoTermPoints - 1) / kMaxTwoTermPoints;
+  ScaledTail out = scaled;
+  out.t.clear();
+  out.m.clear();
+  for (std::size_t first = 0; first < n; first += group) {
+    const std::size_t last = std::min(n, first + group);
+    double t = 0.0, m = 0.0;
+    for (std::size_t i = first; i < last; ++i) {
+      t += scaled.t[i];
+      m += scaled.m[i];
+    }
+    out.t.push_back(t / static_cast<double>(last - first));
+    out.m.push_back(m / static_cast<double>(last - first));
+  }
+  return out;
+}
+
+TailFit FitTwoTerms(const ScaledTail& all, const TailFit& one) {
+  TailFit fit;
+  const ScaledTail scaled = GroupMeans(all);
+  const std::size_t n = scaled.t.size();
+  fit.num_points = static_cast<int>(all.t.size());
   constexpr int kTwoTermParameters = 5;
   if (n < 2 * kTwoTermParameters) {
     fit.message = "two-term fit needs more points";

@@ -271,3 +271,46 @@ TEST(ReduceTest, EquilibriumTableCsv) {
 
 }  // namespace
 }  // namespace sorbtrace::reduce
+
+namespace sorbtrace::reduce {
+namespace {
+
+TEST(WelchSatterthwaiteTest, GumG4WorkedExample) {
+  // JCGM 100:2008 (GUM), G.4.1 example: Y = b X1 X2 X3, relative standard uncertainties 0.25 %,
+  // 0.57 %, 0.82 % from n = 10, 5, 15 observations (nu = 9, 4, 14); u_c(y)/y = 1.03 % and
+  // nu_eff = 1.03^4 / (0.25^4/9 + 0.57^4/4 + 0.82^4/14) = 19.0; t_95(19) = 2.09, U_95 = 2.2 %.
+  std::vector<BudgetLine> lines;
+  lines.push_back(BudgetLine{"x1", 0.25, "%", 1.0, 0.25, 9.0});
+  lines.push_back(BudgetLine{"x2", 0.57, "%", 1.0, 0.57, 4.0});
+  lines.push_back(BudgetLine{"x3", 0.82, "%", 1.0, 0.82, 14.0});
+  const double nu = EffectiveDegreesOfFreedom(lines);
+  EXPECT_NEAR(nu, 19.0, 0.05);
+  // GUM computes nu_eff with u_c rounded to 1.03 % (19.04); from the unrounded inputs it is
+  // 18.999, so the example's t_95(19) is taken at round(nu).
+  const double k95 = StudentTCoverageFactor(std::round(nu), 0.95);
+  EXPECT_NEAR(k95, 2.09, 0.005);
+  EXPECT_NEAR(k95 * std::sqrt(0.25 * 0.25 + 0.57 * 0.57 + 0.82 * 0.82), 2.2, 0.05);
+}
+
+TEST(WelchSatterthwaiteTest, TypeBOnlyIsInfinite) {
+  std::vector<BudgetLine> lines = {BudgetLine{"balance", 1e-4, "g", 1.0, 1e-4}};
+  EXPECT_TRUE(std::isinf(EffectiveDegreesOfFreedom(lines)));
+  EXPECT_DOUBLE_EQ(CoverageFactor(EffectiveDegreesOfFreedom(lines), 2.0), 2.0);
+}
+
+TEST(WelchSatterthwaiteTest, CoverageFactorsOfGumTableG2) {
+  // JCGM 100:2008, Table G.2, column p = 95.45 % (k = 2 for a normal distribution):
+  // nu = 1: 13.97, 2: 4.53, 3: 3.31, 10: 2.28, 20: 2.13, infinity: 2.00.
+  EXPECT_NEAR(CoverageFactor(1.0, 2.0), 13.97, 0.005);
+  EXPECT_NEAR(CoverageFactor(2.0, 2.0), 4.53, 0.005);
+  EXPECT_NEAR(CoverageFactor(3.0, 2.0), 3.31, 0.005);
+  EXPECT_NEAR(CoverageFactor(10.0, 2.0), 2.28, 0.005);
+  EXPECT_NEAR(CoverageFactor(20.0, 2.0), 2.13, 0.005);
+  // nu_eff is truncated to the next lower integer (G.4.1): 2.9 uses nu = 2.
+  EXPECT_NEAR(CoverageFactor(2.9, 2.0), 4.53, 0.005);
+  // Column p = 95 %: nu = 2: 4.30, nu = 19: 2.09 (Table G.2).
+  EXPECT_NEAR(StudentTCoverageFactor(2.0, 0.95), 4.30, 0.005);
+}
+
+}  // namespace
+}  // namespace sorbtrace::reduce
