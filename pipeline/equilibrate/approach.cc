@@ -128,6 +128,7 @@ ApproachEstimate EstimateDesiccatorApproach(std::span<const ingest::Weighing> we
         FitExponentialTail(t, m, options.exponential_terms, options.max_tau_to_tail_ratio);
     ApproachEstimate estimate =
         FromTailFit(fit, t.back() - t.front(), reported_mass_g, options, "weighings");
+    estimate.includes_weighing_scatter = estimate.estimated;
     if (estimate.estimated) return estimate;
   }
   return FromThreeWeighings(weighings, reported_mass_g, balance_u_g, options);

@@ -50,7 +50,10 @@ struct ApproachEstimate {
   double u_model_g = 0.0;        // model term (one vs two exponentials), fit only
   double time_constant_s = 0.0;  // resolved first-order time constant
   int degrees_of_freedom = 0;    // of u_correction_g (0 = infinite: Type B propagation)
-  std::string method;            // how it was estimated, for the flags
+  // Desiccator fit: the corrected mass is the asymptote of a fit through independent
+  // weighings, whose Type A uncertainty already holds the scatter of the balance.
+  bool includes_weighing_scatter = false;
+  std::string method;  // how it was estimated, for the flags
 };
 
 // reported_mass_g: the mass the step reports (last weighing). balance_u_g: standard

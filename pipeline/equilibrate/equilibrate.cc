@@ -149,6 +149,7 @@ void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint&
   point.u_mass_approach_model_g = estimate.u_model_g;
   point.approach_degrees_of_freedom = estimate.degrees_of_freedom;
   point.approach_time_constant_s = estimate.time_constant_s;
+  point.mass_includes_weighing_scatter = estimate.includes_weighing_scatter;
   point.mass_g += estimate.correction_g;
   point.u_mass_drift_g = 0.0;
   point.flags.push_back(fmt::format(
@@ -486,6 +487,7 @@ void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
           reference->u_mass_approach_g * reference->u_mass_approach_g +
           reference->u_mass_approach_model_g * reference->u_mass_approach_model_g +
           reference->u_mass_drift_g * reference->u_mass_drift_g);
+      dry.includes_weighing_scatter = reference->mass_includes_weighing_scatter;
       dry.degrees_of_freedom = reference->extrapolated ? reference->extrapolation_degrees_of_freedom
                                                        : reference->approach_degrees_of_freedom;
       dry.method += fmt::format(" ({} step {})", reference->dataset_id, reference->step_index + 1);

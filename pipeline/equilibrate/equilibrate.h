@@ -93,6 +93,10 @@ struct EquilibriumPoint {
   double u_mass_approach_model_g = 0.0;
   int approach_degrees_of_freedom = 0;
   double approach_time_constant_s = 0.0;
+  // True when mass_g is the asymptote of a fit through the step's independent weighings
+  // (desiccator): its Type A uncertainty (u_mass_approach_g) holds the balance scatter, so the
+  // reduce stage does not count the balance standard uncertainty of that mass again.
+  bool mass_includes_weighing_scatter = false;
   // When no time constant is resolved (and for steps that did not meet their criterion): the
   // mass change over the last criterion interval (desiccator: last two chain weighings; log:
   // slope x rate window) taken as the half-width of a rectangular distribution,
@@ -118,6 +122,8 @@ struct DryMass {
   // Of u_mass_g: the Type A degrees of freedom of the drying step's tail fit (a step is either
   // extrapolated or approach-corrected, so at most one fit contributes); 0 = infinite.
   int degrees_of_freedom = 0;
+  // The drying step's mass_includes_weighing_scatter (see EquilibriumPoint).
+  bool includes_weighing_scatter = false;
   std::string method;  // e.g. "oven drying at 105 degC (ISO 12570)"
   bool equilibrated = true;
   bool stated = false;     // given in the job file (no weighing in the data files)

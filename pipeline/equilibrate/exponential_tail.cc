@@ -349,6 +349,35 @@ TailFit FitTwoTerms(const ScaledTail& all, const TailFit& one) {
   return fit;
 }
 
+// Small-sample Akaike criterion AICc = n ln(SSR/n) + 2p + 2p(p + 1)/(n - p - 1) (Hurvich &
+// Tsai 1989; Burnham & Anderson 2002, Model Selection and Multimodel Inference, 2.4).
+double Aicc(double ssr, std::size_t n, int p) {
+  const double count = static_cast<double>(n);
+  const double dof = count - p - 1.0;
+  if (!(dof > 0.0) || !(ssr > 0.0)) return std::numeric_limits<double>::infinity();
+  return count * std::log(ssr / count) + 2.0 * p + 2.0 * p * (p + 1.0) / dof;
+}
+
+// True when the tail supports a second exponential: AICc of the two-term fit below that of the
+// one-term fit, both on the group means the two-term fit used. On a single exponential the
+// two-term fit only follows the noise (its asymptote differs at the noise level), and counting
+// that difference as a model term would count the noise twice.
+bool TwoTermsSupported(const ScaledTail& grouped, const TailFit& one, const TailFit& two) {
+  double ssr_one = 0.0, ssr_two = 0.0;
+  for (std::size_t i = 0; i < grouped.t.size(); ++i) {
+    const double t = grouped.t[i];
+    const double r1 = grouped.m[i] - (one.m_inf_g - one.amplitude_g * std::exp(-t / one.tau_s));
+    const double r2 = grouped.m[i] - (two.m_inf_g - two.amplitude_g * std::exp(-t / two.tau_s) -
+                                      two.amplitude2_g * std::exp(-t / two.tau2_s));
+    ssr_one += r1 * r1;
+    ssr_two += r2 * r2;
+  }
+  constexpr int kOneTermParameters = 3;
+  constexpr int kTwoTermParameters = 5;
+  return Aicc(ssr_two, grouped.t.size(), kTwoTermParameters) <
+         Aicc(ssr_one, grouped.t.size(), kOneTermParameters);
+}
+
 // Half-width of a rectangular distribution -> standard uncertainty (JCGM 100:2008, 4.3.7).
 const double kSqrt3 = std::sqrt(3.0);
 
@@ -379,9 +408,11 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   TailFit chosen = use_two ? two : one;
   const TailFit& other = use_two ? one : two;
   if (terms == 2 && !two.ok) chosen.message = two.message + "; one term used";
-  // The other model as the model term, when it is a credible description of the tail (its
-  // slowest time constant within the accepted range; the tail duration is 1 here).
-  if (other.ok && other.slowest_tau_s <= max_alternative_tau_to_span) {
+  // The other model as the model term, when the tail shows more than one exponential (AICc
+  // prefers two terms) and the alternative is a credible description of it (its slowest time
+  // constant within the accepted range; the tail duration is 1 here).
+  if (other.ok && two.ok && other.slowest_tau_s <= max_alternative_tau_to_span &&
+      TwoTermsSupported(GroupMeans(scaled), one, two)) {
     chosen.has_alternative = true;
     chosen.alternative_m_inf_g = other.m_inf_g;
     chosen.u_model_g = std::abs(other.m_inf_g - chosen.m_inf_g) / kSqrt3;

@@ -17,9 +17,11 @@
 // independent residuals; correlated noise makes it optimistic.
 //
 // Model term: the asymptote depends on the kinetic model assumed. The other model (two terms
-// when one was asked for, one term when two were) is fitted to the same tail; when it is
-// identifiable and its slowest time constant is at most max_alternative_tau_to_span times the
-// tail duration, the difference of the two asymptotes d is taken as the half-width of a
+// when one was asked for, one term when two were) is fitted to the same tail; when the tail
+// supports two exponentials (AICc of the two-term fit lower, Burnham & Anderson 2002), the
+// other fit is identifiable and its slowest time constant is at most
+// max_alternative_tau_to_span times the tail duration, the difference of the two asymptotes d
+// is taken as the half-width of a
 // rectangular distribution, u_model = |d| / sqrt(3) (JCGM 100:2008, 4.3.7). It is 0 when the
 // other model cannot be fitted (a clean single exponential usually makes the two-term fit
 // singular: then the models agree).

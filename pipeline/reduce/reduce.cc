@@ -63,8 +63,20 @@ double RootSumSquare(const std::vector<BudgetLine>& lines) {
 
 BudgetLine Line(std::string quantity, double u, std::string unit, double sensitivity,
                 double degrees_of_freedom = kInfinity) {
-  return BudgetLine{std::move(quantity), u, std::move(unit), sensitivity, std::abs(sensitivity) * u,
-                    degrees_of_freedom};
+  BudgetLine line;
+  line.quantity = std::move(quantity);
+  line.standard_uncertainty = u;
+  line.unit = std::move(unit);
+  line.sensitivity = sensitivity;
+  line.contribution = std::abs(sensitivity) * u;
+  line.degrees_of_freedom = degrees_of_freedom;
+  return line;
+}
+
+BudgetLine SystematicLine(std::string quantity, double u, std::string unit, double sensitivity) {
+  BudgetLine line = Line(std::move(quantity), u, std::move(unit), sensitivity);
+  line.systematic = true;
+  return line;
 }
 
 SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilibrate::DryMass& dry,
@@ -95,32 +107,43 @@ SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilib
   const double c_wet = 1.0 / md;
   const double c_dry = -m / (md * md);
   auto& budget = point.moisture_budget;
-  budget.push_back(Line("balance (wet mass)", u_balance, "g", c_wet));
-  budget.push_back(Line("balance (dry mass)", u_balance, "g", c_dry));
+  // A mass fitted through independent weighings carries the balance scatter in its Type A
+  // uncertainty (approach line / dry-mass method): not counted twice (JCGM 100:2008, 4.3.10).
+  if (!eq.mass_includes_weighing_scatter) {
+    budget.push_back(Line("balance (wet mass)", u_balance, "g", c_wet));
+  }
+  if (!dry.includes_weighing_scatter) {
+    budget.push_back(Line("balance (dry mass)", u_balance, "g", c_dry));
+  }
   if (dry.u_mass_g > 0.0) {
     budget.push_back(
         Line("dry-mass method", dry.u_mass_g, "g", c_dry, Dof(dry.degrees_of_freedom)));
   }
   if (eq.u_mass_drift_g > 0.0) {
-    budget.push_back(Line("residual drift", eq.u_mass_drift_g, "g", c_wet));
+    budget.push_back(SystematicLine("residual drift", eq.u_mass_drift_g, "g", c_wet));
   }
   if (eq.u_mass_approach_g > 0.0) {
     budget.push_back(Line("approach to equilibrium (correction)", eq.u_mass_approach_g, "g", c_wet,
                           Dof(eq.approach_degrees_of_freedom)));
   }
   if (eq.u_mass_approach_model_g > 0.0) {
-    budget.push_back(
-        Line("approach to equilibrium (kinetic model)", eq.u_mass_approach_model_g, "g", c_wet));
+    budget.push_back(SystematicLine("approach to equilibrium (kinetic model)",
+                                    eq.u_mass_approach_model_g, "g", c_wet));
   }
   if (eq.extrapolated) {
     budget.push_back(Line("extrapolation", eq.u_mass_extrapolation_g, "g", c_wet,
                           Dof(eq.extrapolation_degrees_of_freedom)));
     if (eq.u_mass_extrapolation_model_g > 0.0) {
-      budget.push_back(
-          Line("extrapolation (kinetic model)", eq.u_mass_extrapolation_model_g, "g", c_wet));
+      budget.push_back(SystematicLine("extrapolation (kinetic model)",
+                                      eq.u_mass_extrapolation_model_g, "g", c_wet));
     }
   }
   point.u_moisture_kg_per_kg = RootSumSquare(budget);
+  double systematic2 = 0.0;
+  for (const BudgetLine& line : budget) {
+    if (line.systematic) systematic2 += line.contribution * line.contribution;
+  }
+  point.u_systematic_kg_per_kg = std::sqrt(systematic2);
   point.effective_dof = EffectiveDegreesOfFreedom(budget);
   point.coverage_factor = CoverageFactor(point.effective_dof, options.coverage_factor);
   point.expanded_u_moisture_kg_per_kg = point.coverage_factor * point.u_moisture_kg_per_kg;
@@ -195,19 +218,24 @@ std::string Join(const std::vector<std::string>& items, std::string_view separat
   return out;
 }
 
-// Welch-Satterthwaite over the components of a combined point (see reduce.h).
-double CombinedEffectiveDof(const std::vector<const SpecimenPoint*>& members, double spread_sd) {
+// Standard uncertainty of the mean of a step's specimens and its effective degrees of freedom
+// (see reduce.h).
+struct CombinedUncertainty {
+  double u = 0.0;
+  double effective_dof = kInfinity;
+};
+CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& members,
+                                     double spread_sd) {
+  if (members.size() == 1) {
+    return {members.front()->u_moisture_kg_per_kg, members.front()->effective_dof};
+  }
   const double n = static_cast<double>(members.size());
-  std::vector<BudgetLine> lines;
-  for (const SpecimenPoint* p : members) {
-    lines.push_back(
-        Line(p->specimen_id, p->u_moisture_kg_per_kg, "kg/kg", 1.0 / n, p->effective_dof));
-  }
-  if (members.size() > 1) {
-    lines.push_back(
-        Line("between-specimen spread", spread_sd, "kg/kg", 1.0 / std::sqrt(n), n - 1.0));
-  }
-  return EffectiveDegreesOfFreedom(lines);
+  double systematic = 0.0;
+  for (const SpecimenPoint* p : members) systematic += p->u_systematic_kg_per_kg / n;
+  const std::vector<BudgetLine> lines = {
+      Line("between-specimen spread", spread_sd, "kg/kg", 1.0 / std::sqrt(n), n - 1.0),
+      Line("systematic (common to the specimens)", systematic, "kg/kg", 1.0)};
+  return {RootSumSquare(lines), EffectiveDegreesOfFreedom(lines)};
 }
 
 }  // namespace
@@ -321,14 +349,13 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     iso.cycle = first.cycle;
     const double n = static_cast<double>(members.size());
     iso.num_specimens = static_cast<int>(members.size());
-    double sum_u = 0.0, sum_u2 = 0.0, sum_rh = 0.0, sum_urh2 = 0.0, sum_t = 0.0;
+    double sum_u = 0.0, sum_rh = 0.0, sum_urh2 = 0.0, sum_t = 0.0;
     double sum_density = 0.0;
     bool all_density = true;
     iso.equilibrated = true;
     for (const SpecimenPoint* p : members) {
       iso.specimen_ids.push_back(p->specimen_id);
       sum_u += p->moisture_kg_per_kg;
-      sum_u2 += p->u_moisture_kg_per_kg * p->u_moisture_kg_per_kg;
       sum_rh += p->rh_fraction;
       sum_urh2 += p->u_rh_fraction * p->u_rh_fraction;
       sum_t += p->temperature_K;
@@ -349,8 +376,9 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     const double s = members.size() > 1 ? std::sqrt(ss / (n - 1.0)) : 0.0;
     iso.moisture_kg_per_kg = mean;
     iso.between_specimen_sd_kg_per_kg = s;
-    iso.u_moisture_kg_per_kg = std::sqrt(sum_u2 / (n * n) + s * s / n);
-    iso.effective_dof = CombinedEffectiveDof(members, s);
+    const CombinedUncertainty combined = CombineSpecimens(members, s);
+    iso.u_moisture_kg_per_kg = combined.u;
+    iso.effective_dof = combined.effective_dof;
     iso.coverage_factor = CoverageFactor(iso.effective_dof, options.coverage_factor);
     iso.expanded_u_moisture_kg_per_kg = iso.coverage_factor * iso.u_moisture_kg_per_kg;
     iso.rh_fraction = sum_rh / n;

@@ -9,7 +9,10 @@
 //           uncertainty of the balance combined with the rectangular rounding of its display
 //           (JCGM 100:2008, F.2.2.1); counted on both m and m_d (conservative if the stated
 //           value already contains the resolution).
-//   lines: balance (wet mass) u_bal, c_m;  balance (dry mass) u_bal, c_md;
+//   lines: balance (wet mass) u_bal, c_m;  balance (dry mass) u_bal, c_md (each left out when
+//          that mass is the asymptote of a fit through the step's independent weighings,
+//          EquilibriumPoint::mass_includes_weighing_scatter: the fit's Type A uncertainty holds
+//          the balance scatter already);
 //          dry-mass method  DryMass::u_mass_g, c_md (when > 0; nu = DryMass::degrees_of_freedom);
 //          residual drift   EquilibriumPoint::u_mass_drift_g, c_m (when > 0; no time constant
 //                           resolved: rectangular, no correction);
@@ -31,17 +34,22 @@
 //   GUM Table G.2 in which t_p(infinity) = 2). With infinite nu_eff, k = coverage_factor.
 // RH budget: RH source (salt table / sensor) with c = 1, temperature effect with
 //   u(T) = job temperature standard uncertainty and c = d rh/dT of the source.
-// Specimens combined per step (n specimens, u_i their moisture contents, u(u_i) their
-// standard uncertainties, measurement errors taken as independent between specimens):
+// Specimens combined per step (n specimens, u_i their moisture contents, measurement errors
+// taken as independent between specimens):
 //   mean = sum u_i / n,  s = sqrt(sum (u_i - mean)^2 / (n - 1))  (s = 0 for n = 1)
-//   u_c(mean) = sqrt( sum u(u_i)^2 / n^2 + s^2 / n )
-//   i.e. the propagated measurement uncertainty of the mean plus the Type A standard
-//   uncertainty of the mean from the spread (JCGM 100:2008, 4.2.3), which also holds the
-//   material's specimen-to-specimen variability. Welch-Satterthwaite over the components
-//   u(u_i)/n (nu_i = the specimen point's nu_eff) and s/sqrt(n) (nu = n - 1): with 2-3
-//   specimens and a spread that dominates, nu_eff is 1-2 and k = t_p(nu_eff) is 4.5-14. RH of the
-//   step: mean over specimens, with u = sqrt(mean u(rh_i)^2) (same atmosphere: fully correlated,
-//   not averaged down).
+//   n = 1:  u_c(mean) = u_c(u_1), nu_eff that of the specimen point.
+//   n >= 2: u_c(mean)^2 = s^2 / n + u_sys^2
+//   s^2 / n is the Type A standard uncertainty of the mean (JCGM 100:2008, 4.2.3); it holds
+//   every effect that varies from specimen to specimen: the balance scatter, the Type A parts
+//   of the tail fits, the dry-mass determination, and the material's specimen-to-specimen
+//   variability, so those budget lines are not added again (JCGM 100:2008, 4.3.10: no double
+//   counting). u_sys = mean over the specimens of the root sum of squares of their lines that
+//   act alike on every specimen of the step and so do not show in the spread
+//   (BudgetLine::systematic: residual drift, kinetic-model terms), taken as fully correlated.
+//   Welch-Satterthwaite over s/sqrt(n) (nu = n - 1) and u_sys (infinite): with 2-3 specimens
+//   nu_eff is 1-2 and k = t_p(nu_eff) is 4.5-14 (JCGM 100:2008, G.3, G.4).
+//   RH of the step: mean over specimens, with u = sqrt(mean u(rh_i)^2) (same atmosphere: fully
+//   correlated, not averaged down).
 // Volumetric content psi = u rho_dry / rho_w(T) (rho_w: Kell 1975), u(psi) = u_c rho_dry/rho_w,
 //   rho_dry the mean stated bulk density (density uncertainty not stated: not included).
 // A negative moisture content is an InputError (at the step) when it is below zero by more
@@ -76,6 +84,8 @@ struct BudgetLine {
   double contribution = 0.0;  // |c_i| u(x_i), in the unit of the output
   // Degrees of freedom of u(x_i); infinity for a Type B evaluation taken as exactly known.
   double degrees_of_freedom = std::numeric_limits<double>::infinity();
+  // Acts alike on every specimen of a step (not seen in their spread; see the combination).
+  bool systematic = false;
 };
 
 // Welch-Satterthwaite effective degrees of freedom of sqrt(sum contribution_i^2) (JCGM
@@ -110,6 +120,8 @@ struct SpecimenPoint {
   // Welch-Satterthwaite over the moisture budget (infinity: all Type B) and k = t_p(nu_eff).
   double effective_dof = std::numeric_limits<double>::infinity();
   double coverage_factor = 2.0;
+  // Root sum of squares of the systematic lines of moisture_budget (kg/kg).
+  double u_systematic_kg_per_kg = 0.0;
   std::vector<BudgetLine> moisture_budget;
   std::vector<BudgetLine> rh_budget;
   double time_to_equilibrium_s = 0.0;

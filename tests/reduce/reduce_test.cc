@@ -117,8 +117,8 @@ TEST(ReduceTest, DriftExtrapolationAndDryMassLines) {
 TEST(ReduceTest, ThreeSpecimensCombined) {
   // u_i = 0.0200, 0.0210, 0.0220 (m = 10.200, 10.210, 10.220 g on 10 g dry).
   // mean 0.0210; s = sqrt((1e-6 + 0 + 1e-6) / 2) = 0.0010.
-  // Each u(u_i) ~ 1.48e-5 (balance, as above); u_c = sqrt(sum u_i^2 / 9 + s^2 / 3)
-  //   = sqrt(3 x 2.2e-10 / 9 + 3.3333e-7) = 5.7741e-4 (the spread dominates).
+  // The spread holds the balance scatter of each specimen (no systematic lines here), so
+  // u_c = s / sqrt(3) = 5.7735e-4 (JCGM 100:2008, 4.2.3; 4.3.10: not counted twice).
   // Volumetric with rho_dry = 500 kg/m3 and rho_w(23 degC) = 997.539 kg/m3 (Kell 1975):
   //   psi = 0.0210 x 500 / 997.539 = 0.0105259 m3/m3.
   equilibrate::EquilibriumSet set;
@@ -132,15 +132,10 @@ TEST(ReduceTest, ThreeSpecimensCombined) {
   EXPECT_EQ(p.num_specimens, 3);
   EXPECT_NEAR(p.moisture_kg_per_kg, 0.0210, 1e-12);
   EXPECT_NEAR(p.between_specimen_sd_kg_per_kg, 0.0010, 1e-12);
-  double sum_u2 = 0.0;
-  for (const auto& sp : r.specimen_points) sum_u2 += std::pow(sp.u_moisture_kg_per_kg, 2);
-  EXPECT_NEAR(p.u_moisture_kg_per_kg, std::sqrt(sum_u2 / 9.0 + 1e-6 / 3.0), 1e-15);
-  EXPECT_NEAR(p.u_moisture_kg_per_kg, 5.7741e-4, 2e-8);
+  EXPECT_NEAR(p.u_moisture_kg_per_kg, 0.0010 / std::sqrt(3.0), 1e-15);
   // Welch-Satterthwaite (JCGM 100:2008, G.4.1): the spread s/sqrt(3) with 2 degrees of freedom
-  // dominates, nu_eff = 2 x (u_c^2 / (s^2/3))^2 = 2.0009 -> 2; k = t_95.45(2) = 4.53 (JCGM
-  // 100:2008, Table G.2).
-  EXPECT_NEAR(p.effective_dof, 2.0 * std::pow(p.u_moisture_kg_per_kg, 4) / std::pow(1e-6 / 3, 2),
-              1e-9);
+  // is the only component, nu_eff = 2; k = t_95.45(2) = 4.53 (JCGM 100:2008, Table G.2).
+  EXPECT_NEAR(p.effective_dof, 2.0, 1e-9);
   EXPECT_NEAR(p.coverage_factor, 4.53, 0.005);
   EXPECT_NEAR(p.expanded_u_moisture_kg_per_kg, p.coverage_factor * p.u_moisture_kg_per_kg, 1e-15);
   ASSERT_TRUE(p.has_volumetric);
