@@ -78,6 +78,15 @@ ConstantMassResult EvaluateConstantMass(std::span<const ingest::Weighing> weighi
   return result;
 }
 
+std::vector<int> ConstantMassChain(std::span<const ingest::Weighing> weighings, int length,
+                                   const EquilibrateOptions& options) {
+  if (weighings.empty()) return {};
+  return Chain(
+      weighings, static_cast<int>(weighings.size()) - 1,
+      std::max(0.0, options.min_weighing_interval_s - options.weighing_interval_tolerance_s),
+      length);
+}
+
 double BlockSlope_g_per_s(std::span<const ingest::LogBlock> blocks, std::size_t first,
                           std::size_t last) {
   if (last <= first || last >= blocks.size()) return 0.0;

@@ -4,6 +4,7 @@
 
 #include <span>
 #include <string>
+#include <vector>
 
 #include "pipeline/equilibrate/equilibrate.h"
 #include "pipeline/ingest/ingest.h"
@@ -21,6 +22,12 @@ struct ConstantMassResult {
 };
 ConstantMassResult EvaluateConstantMass(std::span<const ingest::Weighing> weighings,
                                         const EquilibrateOptions& options);
+
+// Indices (last weighing first) of the constant-mass chain ending at the last weighing: each
+// the latest weighing at least (min_weighing_interval - tolerance) before the previous one;
+// at most `length` members.
+std::vector<int> ConstantMassChain(std::span<const ingest::Weighing> weighings, int length,
+                                   const EquilibrateOptions& options);
 
 // Least-squares slope of mass against time over the blocks [first, last] (inclusive) [g/s].
 // Needs at least two blocks with different times (else returns 0).

@@ -10,6 +10,7 @@
 #include <map>
 #include <stdexcept>
 
+#include "pipeline/equilibrate/approach.h"
 #include "pipeline/equilibrate/criteria.h"
 #include "pipeline/equilibrate/exponential_tail.h"
 #include "pipeline/physics/physics.h"
@@ -133,6 +134,29 @@ void CountAndWarn(const EquilibriumPoint& point, EquilibrateSummary& summary) {
   }
 }
 
+// Applies the residual-approach estimate of a step that met its criterion (approach.h); the
+// drift term stays as the fallback when no time constant was resolved.
+void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint& point) {
+  if (!estimate.estimated) {
+    point.flags.push_back(fmt::format(
+        "approach to equilibrium not resolved from the trace; last change as rectangular "
+        "uncertainty (u = {:.2g} g)",
+        point.u_mass_drift_g));
+    return;
+  }
+  point.approach_correction_g = estimate.correction_g;
+  point.u_mass_approach_g = estimate.u_correction_g;
+  point.u_mass_approach_model_g = estimate.u_model_g;
+  point.approach_degrees_of_freedom = estimate.degrees_of_freedom;
+  point.approach_time_constant_s = estimate.time_constant_s;
+  point.mass_includes_weighing_scatter = estimate.includes_weighing_scatter;
+  point.mass_g += estimate.correction_g;
+  point.u_mass_drift_g = 0.0;
+  point.flags.push_back(fmt::format(
+      "approach to equilibrium corrected by {:+.6g} g (u = {:.2g} g; {})", estimate.correction_g,
+      std::hypot(estimate.u_correction_g, estimate.u_model_g), estimate.method));
+}
+
 // ---- Desiccator ------------------------------------------------------------------------
 
 void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest::JobSpec& job,
@@ -167,6 +191,9 @@ void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest:
     if (criterion.met) {
       point.time_to_equilibrium_s =
           step.weighings[static_cast<std::size_t>(criterion.first_met_index)].time_s - first.time_s;
+      ApplyApproach(internal::EstimateDesiccatorApproach(
+                        step.weighings, last.mass_g, BalanceStandardUncertainty_g(job), options),
+                    point);
     } else {
       point.time_to_equilibrium_s = last.time_s - first.time_s;
       if (criterion.chain_length < options.min_weighings) {
@@ -301,11 +328,21 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
     point.drh_dT_per_K = RhTemperatureCoefficientAtConstantVapourPressure(rh, point.temperature_K);
 
     const double end_s = blocks.back().time_s;
+    // The tail of the step: what the extrapolation and the approach estimate fit.
+    const double tail_start = end_s - options.tail_fraction * (end_s - step.start_time_s);
+    std::vector<double> t, m;
+    for (const auto& block : blocks) {
+      if (block.time_s >= tail_start) {
+        t.push_back(block.time_s);
+        m.push_back(block.mass_g);
+      }
+    }
     if (rate.met) {
       point.equilibrated = true;
       point.mass_g = mass;
       point.time_to_equilibrium_s = rate.first_met_time_s - step.start_time_s;
       point.u_mass_drift_g = std::abs(rate.final_slope_g_per_s) * options.rate_window_s / kSqrt3;
+      ApplyApproach(internal::EstimateLogApproach(t, m, mass, options), point);
       trace.equilibrium_times_s.push_back(rate.first_met_time_s);
     } else {
       point.mass_g = mass;
@@ -319,20 +356,12 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
                                              options.rate_window_s / kSecondsPerMinute);
       std::string rejected;
       if (options.extrapolate_unfinished_steps) {
-        const double tail_start = end_s - options.tail_fraction * (end_s - step.start_time_s);
-        std::vector<double> t, m;
-        for (const auto& block : blocks) {
-          if (block.time_s >= tail_start) {
-            t.push_back(block.time_s);
-            m.push_back(block.mass_g);
-          }
-        }
         if (static_cast<int>(t.size()) < options.min_tail_points) {
           rejected =
               fmt::format("tail has {} block means ({} needed)", t.size(), options.min_tail_points);
         } else {
-          const internal::TailFit fit =
-              internal::FitExponentialTail(t, m, options.exponential_terms);
+          const internal::TailFit fit = internal::FitExponentialTail(
+              t, m, options.exponential_terms, options.max_tau_to_tail_ratio);
           const double tail_span = t.back() - t.front();
           if (!fit.ok) {
             rejected = fit.message;
@@ -346,6 +375,8 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
             point.extrapolated = true;
             point.mass_g = fit.m_inf_g;
             point.u_mass_extrapolation_g = fit.u_m_inf_g;
+            point.u_mass_extrapolation_model_g = fit.u_model_g;
+            point.extrapolation_degrees_of_freedom = fit.degrees_of_freedom;
             point.u_mass_drift_g = 0.0;
             const double limit_g_per_s =
                 options.rate_limit_fraction_per_min * reference_mass_g / kSecondsPerMinute;
@@ -353,9 +384,10 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
                 ProjectedEquilibriumTime(fit, end_s, limit_g_per_s) - step.start_time_s;
             point.flags.push_back(fmt::format(
                 "extrapolated: {}; {}-term exponential fit of the last {:.3g} h, tau = {:.3g} h, "
-                "asymptote {:+.5f} g from the last mean (u = {:.2g} g)",
+                "asymptote {:+.6g} g from the last mean (u = {:.2g} g: fit {:.2g} g, model {:.2g} "
+                "g)",
                 reason, fit.terms, tail_span / kSecondsPerHour, fit.slowest_tau_s / kSecondsPerHour,
-                fit.m_inf_g - mass, fit.u_m_inf_g));
+                fit.m_inf_g - mass, fit.TotalUncertainty_g(), fit.u_m_inf_g, fit.u_model_g));
             if (!fit.message.empty()) point.flags.push_back(fit.message);
           }
         }
@@ -449,9 +481,15 @@ void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
       dry.dataset_id = reference->dataset_id;
       dry.step_index = reference->step_index;
       dry.equilibrated = reference->equilibrated;
-      dry.u_mass_g =
-          std::sqrt(reference->u_mass_extrapolation_g * reference->u_mass_extrapolation_g +
-                    reference->u_mass_drift_g * reference->u_mass_drift_g);
+      dry.u_mass_g = std::sqrt(
+          reference->u_mass_extrapolation_g * reference->u_mass_extrapolation_g +
+          reference->u_mass_extrapolation_model_g * reference->u_mass_extrapolation_model_g +
+          reference->u_mass_approach_g * reference->u_mass_approach_g +
+          reference->u_mass_approach_model_g * reference->u_mass_approach_model_g +
+          reference->u_mass_drift_g * reference->u_mass_drift_g);
+      dry.includes_weighing_scatter = reference->mass_includes_weighing_scatter;
+      dry.degrees_of_freedom = reference->extrapolated ? reference->extrapolation_degrees_of_freedom
+                                                       : reference->approach_degrees_of_freedom;
       dry.method += fmt::format(" ({} step {})", reference->dataset_id, reference->step_index + 1);
       if (!dry.equilibrated) {
         set.summary.warnings.push_back(Diagnostic{
@@ -484,6 +522,13 @@ void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
 }
 
 }  // namespace
+
+double BalanceStandardUncertainty_g(const ingest::JobSpec& job) {
+  // Rectangular distribution of full width w: u = w / sqrt(12) (JCGM 100:2008, F.2.2.1).
+  const double rounding = job.balance_resolution_g / std::sqrt(12.0);
+  return std::sqrt(job.balance_standard_uncertainty_g * job.balance_standard_uncertainty_g +
+                   rounding * rounding);
+}
 
 EquilibriumSet Equilibrate(const ingest::IngestResult& ingested,
                            const EquilibrateOptions& options) {

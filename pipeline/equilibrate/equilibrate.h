@@ -74,12 +74,33 @@ struct EquilibriumPoint {
   double u_rh_fraction = 0.0;  // standard uncertainty of the RH source
   std::string rh_source;       // e.g. "NaCl, Greenspan (1977)", "sensor"
   RhSource rh_source_kind = RhSource::kSaltTable;
-  double drh_dT_per_K = 0.0;            // temperature coefficient of the RH source
-  double mass_g = 0.0;                  // equilibrium (or extrapolated) mass
-  double u_mass_extrapolation_g = 0.0;  // extra standard uncertainty of extrapolation
-  // Residual approach to equilibrium: the mass change over the last criterion interval
-  // (desiccator: last two chain weighings; log: slope x rate window) taken as the half-width
-  // of a rectangular distribution, u = |change| / sqrt(3) (JCGM 100:2008, 4.3.7).
+  double drh_dT_per_K = 0.0;  // temperature coefficient of the RH source
+  // Equilibrium mass: the extrapolated asymptote, or the reported mass of the step (last
+  // weighing; log: final-window mean) plus approach_correction_g.
+  double mass_g = 0.0;
+  // Extrapolated steps: standard uncertainty of the asymptote from the tail-fit covariance
+  // (Type A, extrapolation_degrees_of_freedom) and the model term (one vs two exponentials,
+  // see exponential_tail.h).
+  double u_mass_extrapolation_g = 0.0;
+  double u_mass_extrapolation_model_g = 0.0;
+  int extrapolation_degrees_of_freedom = 0;  // 0 = infinite
+  // Residual approach to equilibrium of a step that met its criterion (see approach.h): the
+  // correction applied (signed, already in mass_g), its standard uncertainty (fit covariance or
+  // propagated balance uncertainty) with its degrees of freedom (0 = infinite), the model term
+  // and the resolved time constant.
+  double approach_correction_g = 0.0;
+  double u_mass_approach_g = 0.0;
+  double u_mass_approach_model_g = 0.0;
+  int approach_degrees_of_freedom = 0;
+  double approach_time_constant_s = 0.0;
+  // True when mass_g is the asymptote of a fit through the step's independent weighings
+  // (desiccator): its Type A uncertainty (u_mass_approach_g) holds the balance scatter, so the
+  // reduce stage does not count the balance standard uncertainty of that mass again.
+  bool mass_includes_weighing_scatter = false;
+  // When no time constant is resolved (and for steps that did not meet their criterion): the
+  // mass change over the last criterion interval (desiccator: last two chain weighings; log:
+  // slope x rate window) taken as the half-width of a rectangular distribution,
+  // u = |change| / sqrt(3) (JCGM 100:2008, 4.3.7); no correction.
   double u_mass_drift_g = 0.0;
   double last_change_fraction = 0.0;         // desiccator: criterion value at the last weighing
   double final_rate_fraction_per_min = 0.0;  // log: |dm/dt| / reference mass at the step end
@@ -95,9 +116,14 @@ struct EquilibriumPoint {
 struct DryMass {
   std::string specimen_id;
   double mass_g = 0.0;
-  // Standard uncertainty beyond the balance: from the drying step, sqrt(u_extrapolation^2 +
-  // u_drift^2); 0 for a stated dry mass.
+  // Standard uncertainty beyond the balance: from the drying step, the root sum of squares of
+  // its extrapolation, approach and drift terms (EquilibriumPoint); 0 for a stated dry mass.
   double u_mass_g = 0.0;
+  // Of u_mass_g: the Type A degrees of freedom of the drying step's tail fit (a step is either
+  // extrapolated or approach-corrected, so at most one fit contributes); 0 = infinite.
+  int degrees_of_freedom = 0;
+  // The drying step's mass_includes_weighing_scatter (see EquilibriumPoint).
+  bool includes_weighing_scatter = false;
   std::string method;  // e.g. "oven drying at 105 degC (ISO 12570)"
   bool equilibrated = true;
   bool stated = false;     // given in the job file (no weighing in the data files)
@@ -144,5 +170,10 @@ struct EquilibriumSet {
 // Throws InputError for invalid options, an unknown salt or one outside its temperature
 // range, a step too short to judge, or a specimen without a dry mass source.
 EquilibriumSet Equilibrate(const ingest::IngestResult& ingested, const EquilibrateOptions& options);
+
+// Standard uncertainty of one weighing: the stated standard uncertainty of the balance combined
+// with the rectangular rounding of its display, sqrt(u_balance^2 + (resolution / sqrt(12))^2)
+// (JCGM 100:2008, F.2.2.1).
+double BalanceStandardUncertainty_g(const ingest::JobSpec& job);
 
 }  // namespace sorbtrace::equilibrate

@@ -4,7 +4,10 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <boost/math/distributions/normal.hpp>
+#include <boost/math/distributions/students_t.hpp>
 #include <cmath>
+#include <limits>
 #include <map>
 #include <stdexcept>
 #include <tuple>
@@ -16,8 +19,12 @@ namespace {
 
 constexpr double kPercent = 100.0;
 constexpr double kSecondsPerHour = 3600.0;
-// Rectangular distribution of full width w: u = w / sqrt(12) (JCGM 100:2008, F.2.2.1).
-const double kSqrt12 = std::sqrt(12.0);
+constexpr double kInfinity = std::numeric_limits<double>::infinity();
+
+// Degrees of freedom as stored upstream (0 = infinite) -> as used here.
+double Dof(int degrees_of_freedom) {
+  return degrees_of_freedom > 0 ? static_cast<double>(degrees_of_freedom) : kInfinity;
+}
 
 std::string_view Name(ingest::Branch branch) {
   switch (branch) {
@@ -54,9 +61,22 @@ double RootSumSquare(const std::vector<BudgetLine>& lines) {
   return std::sqrt(sum);
 }
 
-BudgetLine Line(std::string quantity, double u, std::string unit, double sensitivity) {
-  return BudgetLine{std::move(quantity), u, std::move(unit), sensitivity,
-                    std::abs(sensitivity) * u};
+BudgetLine Line(std::string quantity, double u, std::string unit, double sensitivity,
+                double degrees_of_freedom = kInfinity) {
+  BudgetLine line;
+  line.quantity = std::move(quantity);
+  line.standard_uncertainty = u;
+  line.unit = std::move(unit);
+  line.sensitivity = sensitivity;
+  line.contribution = std::abs(sensitivity) * u;
+  line.degrees_of_freedom = degrees_of_freedom;
+  return line;
+}
+
+BudgetLine SystematicLine(std::string quantity, double u, std::string unit, double sensitivity) {
+  BudgetLine line = Line(std::move(quantity), u, std::move(unit), sensitivity);
+  line.systematic = true;
+  return line;
 }
 
 SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilibrate::DryMass& dry,
@@ -83,24 +103,50 @@ SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilib
   const double m = eq.mass_g;
   const double md = dry.mass_g;
   point.moisture_kg_per_kg = (m - md) / md;
-  const double u_balance =
-      std::sqrt(job.balance_standard_uncertainty_g * job.balance_standard_uncertainty_g +
-                std::pow(job.balance_resolution_g / kSqrt12, 2));
+  const double u_balance = equilibrate::BalanceStandardUncertainty_g(job);
   const double c_wet = 1.0 / md;
   const double c_dry = -m / (md * md);
-  point.moisture_budget.push_back(Line("balance (wet mass)", u_balance, "g", c_wet));
-  point.moisture_budget.push_back(Line("balance (dry mass)", u_balance, "g", c_dry));
+  auto& budget = point.moisture_budget;
+  // A mass fitted through independent weighings carries the balance scatter in its Type A
+  // uncertainty (approach line / dry-mass method): not counted twice (JCGM 100:2008, 4.3.10).
+  if (!eq.mass_includes_weighing_scatter) {
+    budget.push_back(Line("balance (wet mass)", u_balance, "g", c_wet));
+  }
+  if (!dry.includes_weighing_scatter) {
+    budget.push_back(Line("balance (dry mass)", u_balance, "g", c_dry));
+  }
   if (dry.u_mass_g > 0.0) {
-    point.moisture_budget.push_back(Line("dry-mass method", dry.u_mass_g, "g", c_dry));
+    budget.push_back(
+        Line("dry-mass method", dry.u_mass_g, "g", c_dry, Dof(dry.degrees_of_freedom)));
   }
   if (eq.u_mass_drift_g > 0.0) {
-    point.moisture_budget.push_back(Line("residual drift", eq.u_mass_drift_g, "g", c_wet));
+    budget.push_back(SystematicLine("residual drift", eq.u_mass_drift_g, "g", c_wet));
+  }
+  if (eq.u_mass_approach_g > 0.0) {
+    budget.push_back(Line("approach to equilibrium (correction)", eq.u_mass_approach_g, "g", c_wet,
+                          Dof(eq.approach_degrees_of_freedom)));
+  }
+  if (eq.u_mass_approach_model_g > 0.0) {
+    budget.push_back(SystematicLine("approach to equilibrium (kinetic model)",
+                                    eq.u_mass_approach_model_g, "g", c_wet));
   }
   if (eq.extrapolated) {
-    point.moisture_budget.push_back(Line("extrapolation", eq.u_mass_extrapolation_g, "g", c_wet));
+    budget.push_back(Line("extrapolation", eq.u_mass_extrapolation_g, "g", c_wet,
+                          Dof(eq.extrapolation_degrees_of_freedom)));
+    if (eq.u_mass_extrapolation_model_g > 0.0) {
+      budget.push_back(SystematicLine("extrapolation (kinetic model)",
+                                      eq.u_mass_extrapolation_model_g, "g", c_wet));
+    }
   }
-  point.u_moisture_kg_per_kg = RootSumSquare(point.moisture_budget);
-  point.expanded_u_moisture_kg_per_kg = options.coverage_factor * point.u_moisture_kg_per_kg;
+  point.u_moisture_kg_per_kg = RootSumSquare(budget);
+  double systematic2 = 0.0;
+  for (const BudgetLine& line : budget) {
+    if (line.systematic) systematic2 += line.contribution * line.contribution;
+  }
+  point.u_systematic_kg_per_kg = std::sqrt(systematic2);
+  point.effective_dof = EffectiveDegreesOfFreedom(budget);
+  point.coverage_factor = CoverageFactor(point.effective_dof, options.coverage_factor);
+  point.expanded_u_moisture_kg_per_kg = point.coverage_factor * point.u_moisture_kg_per_kg;
 
   std::string source;
   switch (eq.rh_source_kind) {
@@ -172,7 +218,59 @@ std::string Join(const std::vector<std::string>& items, std::string_view separat
   return out;
 }
 
+// Standard uncertainty of the mean of a step's specimens and its effective degrees of freedom
+// (see reduce.h).
+struct CombinedUncertainty {
+  double u = 0.0;
+  double effective_dof = kInfinity;
+};
+CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& members,
+                                     double spread_sd) {
+  if (members.size() == 1) {
+    return {members.front()->u_moisture_kg_per_kg, members.front()->effective_dof};
+  }
+  const double n = static_cast<double>(members.size());
+  double systematic = 0.0;
+  for (const SpecimenPoint* p : members) systematic += p->u_systematic_kg_per_kg / n;
+  const std::vector<BudgetLine> lines = {
+      Line("between-specimen spread", spread_sd, "kg/kg", 1.0 / std::sqrt(n), n - 1.0),
+      Line("systematic (common to the specimens)", systematic, "kg/kg", 1.0)};
+  return {RootSumSquare(lines), EffectiveDegreesOfFreedom(lines)};
+}
+
 }  // namespace
+
+double EffectiveDegreesOfFreedom(const std::vector<BudgetLine>& lines) {
+  double sum_u2 = 0.0;
+  double denominator = 0.0;
+  for (const BudgetLine& line : lines) {
+    const double c2 = line.contribution * line.contribution;
+    sum_u2 += c2;
+    if (std::isfinite(line.degrees_of_freedom) && line.degrees_of_freedom > 0.0 && c2 > 0.0) {
+      denominator += c2 * c2 / line.degrees_of_freedom;
+    }
+  }
+  if (!(denominator > 0.0) || !(sum_u2 > 0.0)) return kInfinity;
+  return sum_u2 * sum_u2 / denominator;
+}
+
+double StudentTCoverageFactor(double degrees_of_freedom, double coverage_probability) {
+  const double upper = 0.5 * (1.0 + coverage_probability);
+  if (!std::isfinite(degrees_of_freedom)) {
+    return boost::math::quantile(boost::math::normal_distribution<double>(0.0, 1.0), upper);
+  }
+  return boost::math::quantile(boost::math::students_t_distribution<double>(degrees_of_freedom),
+                               upper);
+}
+
+double CoverageFactor(double degrees_of_freedom, double nominal_k) {
+  if (!std::isfinite(degrees_of_freedom)) return nominal_k;
+  const double p =
+      2.0 * boost::math::cdf(boost::math::normal_distribution<double>(0.0, 1.0), nominal_k) - 1.0;
+  // JCGM 100:2008, G.4.1: truncate nu_eff to the next lower integer (at least 1).
+  const double nu = std::max(1.0, std::floor(degrees_of_freedom));
+  return StudentTCoverageFactor(nu, p);
+}
 
 bool ReduceOptions::IsValid(std::string* error) const {
   // Above k = 10 the value is certainly a mistake (k = 3 already gives about 99 %).
@@ -251,14 +349,13 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     iso.cycle = first.cycle;
     const double n = static_cast<double>(members.size());
     iso.num_specimens = static_cast<int>(members.size());
-    double sum_u = 0.0, sum_u2 = 0.0, sum_rh = 0.0, sum_urh2 = 0.0, sum_t = 0.0;
+    double sum_u = 0.0, sum_rh = 0.0, sum_urh2 = 0.0, sum_t = 0.0;
     double sum_density = 0.0;
     bool all_density = true;
     iso.equilibrated = true;
     for (const SpecimenPoint* p : members) {
       iso.specimen_ids.push_back(p->specimen_id);
       sum_u += p->moisture_kg_per_kg;
-      sum_u2 += p->u_moisture_kg_per_kg * p->u_moisture_kg_per_kg;
       sum_rh += p->rh_fraction;
       sum_urh2 += p->u_rh_fraction * p->u_rh_fraction;
       sum_t += p->temperature_K;
@@ -279,8 +376,11 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     const double s = members.size() > 1 ? std::sqrt(ss / (n - 1.0)) : 0.0;
     iso.moisture_kg_per_kg = mean;
     iso.between_specimen_sd_kg_per_kg = s;
-    iso.u_moisture_kg_per_kg = std::sqrt(sum_u2 / (n * n) + s * s / n);
-    iso.expanded_u_moisture_kg_per_kg = options.coverage_factor * iso.u_moisture_kg_per_kg;
+    const CombinedUncertainty combined = CombineSpecimens(members, s);
+    iso.u_moisture_kg_per_kg = combined.u;
+    iso.effective_dof = combined.effective_dof;
+    iso.coverage_factor = CoverageFactor(iso.effective_dof, options.coverage_factor);
+    iso.expanded_u_moisture_kg_per_kg = iso.coverage_factor * iso.u_moisture_kg_per_kg;
     iso.rh_fraction = sum_rh / n;
     iso.u_rh_fraction = std::sqrt(sum_urh2 / n);
     iso.expanded_u_rh_fraction = options.coverage_factor * iso.u_rh_fraction;
@@ -332,7 +432,6 @@ std::string EquilibriumTableCsv(const ReducedIsotherms& reduced) {
       "moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,coverage_factor,"
       "between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,u_volumetric_m3_per_m3,"
       "time_to_equilibrium_h,equilibrated,extrapolated,excluded,flags\n";
-  const std::string k = Cell(reduced.coverage_factor, 2);
   auto yes_no = [](bool value) { return value ? "yes" : "no"; };
   for (const auto& p : reduced.specimen_points) {
     out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},{},,1,,,{},{},{},{},{}\n",
@@ -341,7 +440,7 @@ std::string EquilibriumTableCsv(const ReducedIsotherms& reduced) {
                        Cell(physics::KelvinToCelsius(p.temperature_K), 2),
                        Cell(p.rh_fraction * kPercent, 2), Cell(p.u_rh_fraction * kPercent, 3),
                        Cell(p.moisture_kg_per_kg, 6), Cell(p.u_moisture_kg_per_kg, 7),
-                       Cell(p.expanded_u_moisture_kg_per_kg, 7), k,
+                       Cell(p.expanded_u_moisture_kg_per_kg, 7), Cell(p.coverage_factor, 2),
                        Cell(p.time_to_equilibrium_s / kSecondsPerHour, 2), yes_no(p.equilibrated),
                        yes_no(p.extrapolated), yes_no(p.excluded), Quote(Join(p.flags, "; ")));
   }
@@ -352,8 +451,8 @@ std::string EquilibriumTableCsv(const ReducedIsotherms& reduced) {
         Quote(p.step_label), Name(p.branch), p.cycle,
         Cell(physics::KelvinToCelsius(p.temperature_K), 2), Cell(p.rh_fraction * kPercent, 2),
         Cell(p.u_rh_fraction * kPercent, 3), Cell(p.moisture_kg_per_kg, 6),
-        Cell(p.u_moisture_kg_per_kg, 7), Cell(p.expanded_u_moisture_kg_per_kg, 7), k,
-        Cell(p.between_specimen_sd_kg_per_kg, 7), p.num_specimens,
+        Cell(p.u_moisture_kg_per_kg, 7), Cell(p.expanded_u_moisture_kg_per_kg, 7),
+        Cell(p.coverage_factor, 2), Cell(p.between_specimen_sd_kg_per_kg, 7), p.num_specimens,
         p.has_volumetric ? Cell(p.volumetric_m3_per_m3, 6) : std::string(),
         p.has_volumetric ? Cell(p.u_volumetric_m3_per_m3, 7) : std::string(),
         Cell(p.time_to_equilibrium_s / kSecondsPerHour, 2), yes_no(p.equilibrated),

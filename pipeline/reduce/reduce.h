@@ -9,22 +9,47 @@
 //           uncertainty of the balance combined with the rectangular rounding of its display
 //           (JCGM 100:2008, F.2.2.1); counted on both m and m_d (conservative if the stated
 //           value already contains the resolution).
-//   lines: balance (wet mass) u_bal, c_m;  balance (dry mass) u_bal, c_md;
-//          dry-mass method  DryMass::u_mass_g, c_md (when > 0);
-//          residual drift   EquilibriumPoint::u_mass_drift_g, c_m (when > 0);
-//          extrapolation    EquilibriumPoint::u_mass_extrapolation_g, c_m (when extrapolated).
+//   lines: balance (wet mass) u_bal, c_m;  balance (dry mass) u_bal, c_md (each left out when
+//          that mass is the asymptote of a fit through the step's independent weighings,
+//          EquilibriumPoint::mass_includes_weighing_scatter: the fit's Type A uncertainty holds
+//          the balance scatter already);
+//          dry-mass method  DryMass::u_mass_g, c_md (when > 0; nu = DryMass::degrees_of_freedom);
+//          residual drift   EquilibriumPoint::u_mass_drift_g, c_m (when > 0; no time constant
+//                           resolved: rectangular, no correction);
+//          approach to equilibrium  u_mass_approach_g, c_m (when a correction was applied; nu
+//                           of its fit), and its model term u_mass_approach_model_g (one vs two
+//                           exponentials) on its own line (see equilibrate/approach.h);
+//          extrapolation    EquilibriumPoint::u_mass_extrapolation_g, c_m (when extrapolated;
+//                           nu of the tail fit) and the extrapolation model term
+//                           u_mass_extrapolation_model_g on its own line.
 //   u_c(u) = sqrt(sum (c_i u_i)^2). Treating the wet and dry weighings as uncorrelated
 //   overstates u_c slightly when a common balance offset cancels in m - m_d.
+// Degrees of freedom and coverage factor (JCGM 100:2008, Annex G): every budget line carries
+//   its degrees of freedom nu_i (Type B lines: infinite; Type A lines: those of their
+//   estimate). The effective degrees of freedom of u_c follow the Welch-Satterthwaite formula
+//   (G.4.1, Eq. G.2b)  nu_eff = u_c^4 / sum_i (c_i u_i)^4 / nu_i, and the expanded uncertainty
+//   uses k = t_p(nu_eff), the Student-t quantile with nu_eff truncated to the next lower
+//   integer (G.4.1, step 3), p the coverage probability that ReduceOptions::coverage_factor
+//   gives for a normal distribution, p = 2 Phi(k) - 1 (k = 2: p = 95.45 %, the column of
+//   GUM Table G.2 in which t_p(infinity) = 2). With infinite nu_eff, k = coverage_factor.
 // RH budget: RH source (salt table / sensor) with c = 1, temperature effect with
 //   u(T) = job temperature standard uncertainty and c = d rh/dT of the source.
-// Specimens combined per step (n specimens, u_i their moisture contents, u(u_i) their
-// standard uncertainties, measurement errors taken as independent between specimens):
+// Specimens combined per step (n specimens, u_i their moisture contents, measurement errors
+// taken as independent between specimens):
 //   mean = sum u_i / n,  s = sqrt(sum (u_i - mean)^2 / (n - 1))  (s = 0 for n = 1)
-//   u_c(mean) = sqrt( sum u(u_i)^2 / n^2 + s^2 / n )
-//   i.e. the propagated measurement uncertainty of the mean plus the Type A standard
-//   uncertainty of the mean from the spread (JCGM 100:2008, 4.2.3), which also holds the
-//   material's specimen-to-specimen variability. RH of the step: mean over specimens, with
-//   u = sqrt(mean u(rh_i)^2) (same atmosphere: fully correlated, not averaged down).
+//   n = 1:  u_c(mean) = u_c(u_1), nu_eff that of the specimen point.
+//   n >= 2: u_c(mean)^2 = s^2 / n + u_sys^2
+//   s^2 / n is the Type A standard uncertainty of the mean (JCGM 100:2008, 4.2.3); it holds
+//   every effect that varies from specimen to specimen: the balance scatter, the Type A parts
+//   of the tail fits, the dry-mass determination, and the material's specimen-to-specimen
+//   variability, so those budget lines are not added again (JCGM 100:2008, 4.3.10: no double
+//   counting). u_sys = mean over the specimens of the root sum of squares of their lines that
+//   act alike on every specimen of the step and so do not show in the spread
+//   (BudgetLine::systematic: residual drift, kinetic-model terms), taken as fully correlated.
+//   Welch-Satterthwaite over s/sqrt(n) (nu = n - 1) and u_sys (infinite): with 2-3 specimens
+//   nu_eff is 1-2 and k = t_p(nu_eff) is 4.5-14 (JCGM 100:2008, G.3, G.4).
+//   RH of the step: mean over specimens, with u = sqrt(mean u(rh_i)^2) (same atmosphere: fully
+//   correlated, not averaged down).
 // Volumetric content psi = u rho_dry / rho_w(T) (rho_w: Kell 1975), u(psi) = u_c rho_dry/rho_w,
 //   rho_dry the mean stated bulk density (density uncertainty not stated: not included).
 // A negative moisture content is an InputError (at the step) when it is below zero by more
@@ -32,6 +57,7 @@
 //   flagged (balance noise at very low humidity).
 #pragma once
 
+#include <limits>
 #include <string>
 #include <vector>
 
@@ -56,7 +82,23 @@ struct BudgetLine {
   std::string unit;
   double sensitivity = 0.0;   // d(output)/d(input)
   double contribution = 0.0;  // |c_i| u(x_i), in the unit of the output
+  // Degrees of freedom of u(x_i); infinity for a Type B evaluation taken as exactly known.
+  double degrees_of_freedom = std::numeric_limits<double>::infinity();
+  // Acts alike on every specimen of a step (not seen in their spread; see the combination).
+  bool systematic = false;
 };
+
+// Welch-Satterthwaite effective degrees of freedom of sqrt(sum contribution_i^2) (JCGM
+// 100:2008, G.4.1, Eq. G.2b); infinity when every line is Type B (or u_c = 0).
+double EffectiveDegreesOfFreedom(const std::vector<BudgetLine>& lines);
+
+// Coverage factor k_p = t_p(nu) for the coverage probability p that nominal_k gives for a normal
+// distribution (p = 2 Phi(nominal_k) - 1); nu truncated to the next lower integer, at least 1
+// (JCGM 100:2008, G.3.4 and G.4.1); nominal_k itself for infinite nu. Student-t quantile from
+// Boost.Math.
+double CoverageFactor(double degrees_of_freedom, double nominal_k);
+// k_p = t_p(nu) for a given coverage probability p (no truncation of nu), e.g. p = 0.95.
+double StudentTCoverageFactor(double degrees_of_freedom, double coverage_probability);
 
 // Moisture content of one specimen at one equilibrium.
 struct SpecimenPoint {
@@ -73,8 +115,13 @@ struct SpecimenPoint {
   double mass_g = 0.0;  // equilibrium (or extrapolated) mass
   double dry_mass_g = 0.0;
   double moisture_kg_per_kg = 0.0;
-  double u_moisture_kg_per_kg = 0.0;  // standard, combined
-  double expanded_u_moisture_kg_per_kg = 0.0;
+  double u_moisture_kg_per_kg = 0.0;           // standard, combined
+  double expanded_u_moisture_kg_per_kg = 0.0;  // coverage_factor * u
+  // Welch-Satterthwaite over the moisture budget (infinity: all Type B) and k = t_p(nu_eff).
+  double effective_dof = std::numeric_limits<double>::infinity();
+  double coverage_factor = 2.0;
+  // Root sum of squares of the systematic lines of moisture_budget (kg/kg).
+  double u_systematic_kg_per_kg = 0.0;
   std::vector<BudgetLine> moisture_budget;
   std::vector<BudgetLine> rh_budget;
   double time_to_equilibrium_s = 0.0;
@@ -94,11 +141,15 @@ struct IsothermPoint {
   int cycle = 0;
   double temperature_K = 0.0;
   double rh_fraction = 0.0;
-  double u_rh_fraction = 0.0;           // standard
-  double expanded_u_rh_fraction = 0.0;  // k * u
-  double moisture_kg_per_kg = 0.0;      // mean over specimens
-  double u_moisture_kg_per_kg = 0.0;    // combined standard (measurement + spread of mean)
-  double expanded_u_moisture_kg_per_kg = 0.0;
+  double u_rh_fraction = 0.0;                  // standard
+  double expanded_u_rh_fraction = 0.0;         // k * u
+  double moisture_kg_per_kg = 0.0;             // mean over specimens
+  double u_moisture_kg_per_kg = 0.0;           // combined standard (measurement + spread of mean)
+  double expanded_u_moisture_kg_per_kg = 0.0;  // coverage_factor * u
+  // Welch-Satterthwaite over the specimens' measurement parts and the spread (see above);
+  // infinity when no Type A part. The same k applies to the volumetric content.
+  double effective_dof = std::numeric_limits<double>::infinity();
+  double coverage_factor = 2.0;
   double between_specimen_sd_kg_per_kg = 0.0;
   int num_specimens = 0;
   std::vector<std::string> specimen_ids;

@@ -742,7 +742,10 @@ void EquilibriaSection(Context& ctx) {
          FormatFixed(p.temperature_K - 273.15, 1), std::to_string(p.num_specimens),
          FormatWithUncertainty(rh.display_value, rh.display_expanded_uncertainty, digits),
          FormatWithUncertainty(moisture.display_value, moisture.display_expanded_uncertainty,
-                               digits),
+                               digits) +
+             (std::abs(p.coverage_factor - k) > 1e-9
+                  ? " (k = " + CoverageText(p.coverage_factor) + ")"
+                  : std::string()),
          FormatSignificant(p.between_specimen_sd_kg_per_kg * ms, 2),
          FormatSignificant(p.time_to_equilibrium_s / kSecondsPerHour, 3),
          flags.empty() ? "–" : flags});

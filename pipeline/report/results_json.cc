@@ -65,7 +65,8 @@ Json Budget(const std::vector<reduce::BudgetLine>& lines) {
                    {"standard_uncertainty", Number(b.standard_uncertainty)},
                    {"unit", b.unit},
                    {"sensitivity", Number(b.sensitivity)},
-                   {"contribution", Number(b.contribution)}});
+                   {"contribution", Number(b.contribution)},
+                   {"degrees_of_freedom", Number(b.degrees_of_freedom)}});
   }
   return out;
 }
@@ -126,6 +127,11 @@ Json EquilibriaJson(const ReportInputs& inputs) {
                       {"rh_source", p.rh_source},
                       {"mass_g", Number(p.mass_g)},
                       {"u_mass_extrapolation_g", Number(p.u_mass_extrapolation_g)},
+                      {"u_mass_extrapolation_model_g", Number(p.u_mass_extrapolation_model_g)},
+                      {"approach_correction_g", Number(p.approach_correction_g)},
+                      {"u_mass_approach_g", Number(p.u_mass_approach_g)},
+                      {"u_mass_approach_model_g", Number(p.u_mass_approach_model_g)},
+                      {"approach_time_constant_s", Number(p.approach_time_constant_s)},
                       {"time_to_equilibrium_s", Number(p.time_to_equilibrium_s)},
                       {"equilibrated", p.equilibrated},
                       {"extrapolated", p.extrapolated},
@@ -174,7 +180,9 @@ Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
                   {"num_specimens", p.num_specimens},
                   {"specimen_ids", StringArray(budget.specimen_ids)},
                   {"moisture_budget", Budget(budget.moisture)},
-                  {"rh_budget", Budget(budget.rh)}};
+                  {"rh_budget", Budget(budget.rh)},
+                  {"effective_dof", Number(p.effective_dof)},  // null: infinite
+                  {"coverage_factor", Number(p.coverage_factor)}};
     if (p.has_volumetric) {
       point["volumetric"] = {{"value", Number(p.volumetric_m3_per_m3)},
                              {"unit", "m3/m3"},
@@ -200,6 +208,8 @@ Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
                                {"u_rh_fraction", Number(p.u_rh_fraction)},
                                {"moisture_kg_per_kg", Number(p.moisture_kg_per_kg)},
                                {"u_moisture_kg_per_kg", Number(p.u_moisture_kg_per_kg)},
+                               {"effective_dof", Number(p.effective_dof)},
+                               {"coverage_factor", Number(p.coverage_factor)},
                                {"moisture_budget", Budget(p.moisture_budget)},
                                {"rh_budget", Budget(p.rh_budget)},
                                {"equilibrated", p.equilibrated},

@@ -261,7 +261,9 @@ TEST(GoodInputTest, EveryVariantOfThePlainFileGivesTheSameMoistureContents) {
     ASSERT_EQ(points.size(), plain.size()) << variant;
     for (size_t i = 0; i < points.size(); ++i) {
       EXPECT_DOUBLE_EQ(points[i].first, plain[i].first) << variant << " point " << i;
-      EXPECT_NEAR(points[i].second, plain[i].second, 1e-12) << variant << " point " << i;
+      // 1e-9: the residual-approach correction of the equilibrate stage depends on the
+      // weighing times, and iso8601_seconds_and_offsets weighs 15 s later (2.5e-10 kg/kg).
+      EXPECT_NEAR(points[i].second, plain[i].second, 1e-9) << variant << " point " << i;
     }
   }
 }

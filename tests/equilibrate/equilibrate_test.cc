@@ -84,11 +84,21 @@ TEST(EquilibrateDesiccatorTest, ConstantMassAndSaltHumidity) {
   EXPECT_EQ(a.step_label, "NaCl");
   EXPECT_TRUE(a.equilibrated);
   EXPECT_FALSE(a.extrapolated);
-  EXPECT_DOUBLE_EQ(a.mass_g, 10.0550);  // the last weighing of the step
   // First met at the 4th weighing (144 h), step started at 72 h: 72 h to equilibrium.
   EXPECT_DOUBLE_EQ(a.time_to_equilibrium_s, 72 * kHour_s);
-  // Residual drift: last change 0.0010 g as the half-width of a rectangle: 0.0010/sqrt(3).
-  EXPECT_NEAR(a.u_mass_drift_g, 0.0010 / std::sqrt(3.0), 1e-12);
+  // Residual approach (first-order kinetics through the chain 96, 120, 144 h, equal spacing):
+  // d2 = 0.0040 g, d1 = 0.0010 g, r = d1/d2 = exp(-24 h/tau) = 0.25, remaining
+  // d1 r / (1 - r) = 0.0010 x 0.25 / 0.75 = 3.3333e-4 g (geometric series of the later
+  // changes); tau = 24 h / ln 4 = 17.31 h. The corrected mass is 10.0550 + 3.3333e-4 g.
+  EXPECT_NEAR(a.approach_correction_g, 0.0010 * 0.25 / 0.75, 1e-9);
+  EXPECT_NEAR(a.mass_g, 10.0550 + 0.0010 * 0.25 / 0.75, 1e-9);
+  EXPECT_NEAR(a.approach_time_constant_s, 24 * kHour_s / std::log(4.0), 1.0);
+  // Its uncertainty: R = d1^2 / (d2 - d1), dR/dm0 = 7/9, dR/dm1 = -8/9, dR/dm2 = 1/9, each
+  // weighing u = sqrt((1e-4)^2 + (1e-4/sqrt(12))^2) = 1.04083e-4 g (balance defaults of the
+  // job, JCGM 100:2008 F.2.2.1): u(R) = 1.04083e-4 x sqrt(49 + 64 + 1) / 9 = 1.23473e-4 g.
+  EXPECT_NEAR(a.u_mass_approach_g, 1.04083e-4 * std::sqrt(114.0) / 9.0, 1e-8);
+  EXPECT_EQ(a.approach_degrees_of_freedom, 0);  // Type B propagation
+  EXPECT_DOUBLE_EQ(a.u_mass_drift_g, 0.0);      // replaced by the approach estimate
   // NaCl at 23 degC: Greenspan (1977) polynomial, 75.37 %RH (truncated to 0.01).
   EXPECT_NEAR(a.rh_fraction, 0.7537, 0.0001);
   EXPECT_EQ(a.rh_source_kind, RhSource::kSaltTable);
@@ -113,12 +123,16 @@ TEST(EquilibrateDesiccatorTest, DryMassFromDesiccantStep) {
       Equilibrate(DesiccatorJob(ingest::DryMassMethod::kDesiccantStep), EquilibrateOptions{});
   ASSERT_EQ(set.dry_masses.size(), 2u);
   EXPECT_EQ(set.dry_masses[0].specimen_id, "A");
-  EXPECT_DOUBLE_EQ(set.dry_masses[0].mass_g, 10.0000);
+  // Last weighing 10.0000 g corrected for the rest of the drying: chain 24, 48, 72 h with
+  // d2 = -0.0009 g, d1 = -0.0001 g, r = 1/9, remaining d1 r / (1 - r) = -1.25e-5 g.
+  EXPECT_NEAR(set.dry_masses[0].mass_g, 10.0000 - 1.25e-5, 1e-10);
   EXPECT_TRUE(set.dry_masses[0].equilibrated);
   EXPECT_FALSE(set.dry_masses[0].stated);
   EXPECT_EQ(set.dry_masses[0].step_index, 0);
-  // u from the residual drift of the drying step: 0.0001 g / sqrt(3).
-  EXPECT_NEAR(set.dry_masses[0].u_mass_g, 0.0001 / std::sqrt(3.0), 1e-12);
+  // u of that correction: R = d1^2 / (d2 - d1) with dR/dm0 = 17/64, dR/dm1 = -18/64,
+  // dR/dm2 = 1/64 and u = 1.04083e-4 g per weighing: u(R) = 1.04083e-4 sqrt(614) / 64.
+  EXPECT_NEAR(set.dry_masses[0].u_mass_g, 1.04083e-4 * std::sqrt(614.0) / 64.0, 1e-9)
+      << set.points[0].flags.front();
   // The drying point itself: RH 0, dry source.
   EXPECT_EQ(set.points[0].rh_source_kind, RhSource::kDry);
   EXPECT_DOUBLE_EQ(set.points[0].rh_fraction, 0.0);

@@ -102,6 +102,73 @@ TEST(ExponentialTailTest, TwoTermsRecoverAsymptote) {
   EXPECT_GT(std::abs(one.m_inf_g - 1.100), std::abs(two.m_inf_g - 1.100));
 }
 
+// A 12 mg specimen (logged in g) cut at 1.5 time constants: m(t) = 0.012600 - 0.000600
+// exp(-t / 2400 s), tail 0.6 x 3600 s = 1440..3600 s of 10 s block means, balance noise sd
+// 0.2 ug. Returns the tail in the unit given by `grams_to_unit` (1: g, 1e3: mg, 1e6: ug).
+void MilligramTail(double grams_to_unit, std::vector<double>& t, std::vector<double>& m) {
+  Normal noise(20261203);
+  t.clear();
+  m.clear();
+  for (double s = 1440.0; s <= 3600.0; s += 10.0) {
+    t.push_back(s);
+    m.push_back((0.012600 - 0.000600 * std::exp(-s / 2400.0) + 0.2e-6 * noise()) * grams_to_unit);
+  }
+}
+
+TEST(ExponentialTailTest, MilligramSpecimenIsIdentifiable) {
+  std::vector<double> t, m;
+  MilligramTail(1.0, t, m);
+  const TailFit fit = FitExponentialTail(t, m, 1);
+  ASSERT_TRUE(fit.ok) << fit.message;
+  // The extrapolation adds 0.0006 exp(-1.5) = 134 ug; the asymptote within 3 u of the truth,
+  // u well below the extrapolated amount.
+  EXPECT_NEAR(fit.m_inf_g, 0.012600, 3.0 * fit.TotalUncertainty_g());
+  EXPECT_LT(fit.TotalUncertainty_g(), 0.1 * 0.000600 * std::exp(-1.5));
+  EXPECT_NEAR(fit.tau_s, 2400.0, 240.0);
+}
+
+TEST(ExponentialTailTest, SameAsymptoteInGramsMilligramsMicrograms) {
+  // The result must not depend on the mass unit: fits of the same tail in g, mg and ug agree
+  // to 1e-9 relative (scaled variables, exponential_tail.h).
+  std::vector<double> t, m_g, m_mg, m_ug;
+  MilligramTail(1.0, t, m_g);
+  MilligramTail(1e3, t, m_mg);
+  MilligramTail(1e6, t, m_ug);
+  const TailFit g = FitExponentialTail(t, m_g, 1);
+  const TailFit mg = FitExponentialTail(t, m_mg, 1);
+  const TailFit ug = FitExponentialTail(t, m_ug, 1);
+  ASSERT_TRUE(g.ok && mg.ok && ug.ok);
+  EXPECT_NEAR(mg.m_inf_g / 1e3, g.m_inf_g, 1e-9 * g.m_inf_g);
+  EXPECT_NEAR(ug.m_inf_g / 1e6, g.m_inf_g, 1e-9 * g.m_inf_g);
+  EXPECT_NEAR(mg.u_m_inf_g / 1e3, g.u_m_inf_g, 1e-9 * g.u_m_inf_g);
+  EXPECT_NEAR(ug.u_m_inf_g / 1e6, g.u_m_inf_g, 1e-9 * g.u_m_inf_g);
+  EXPECT_NEAR(mg.tau_s, g.tau_s, 1e-9 * g.tau_s);
+  EXPECT_NEAR(ug.tau_s, g.tau_s, 1e-9 * g.tau_s);
+  // The extrapolated increment itself (a difference of nearly equal masses) to 1e-6.
+  EXPECT_NEAR((ug.m_inf_g - ug.Mass_g(3600.0)) / 1e6, g.m_inf_g - g.Mass_g(3600.0),
+              1e-6 * std::abs(g.m_inf_g - g.Mass_g(3600.0)));
+}
+
+TEST(ExponentialTailTest, ModelTermFromTheTwoTermAlternative) {
+  // Two-exponential truth fitted with one term (data of TwoTermsRecoverAsymptote): the two-term
+  // alternative differs, and the model term is |difference| / sqrt(3) (JCGM 100:2008, 4.3.7).
+  Normal noise(42);
+  std::vector<double> t, m;
+  for (double s = 1800.0; s <= 28800.0; s += 20.0) {
+    t.push_back(s);
+    m.push_back(1.100 - 0.060 * std::exp(-s / 1800.0) - 0.040 * std::exp(-s / 14400.0) +
+                1e-6 * noise());
+  }
+  const TailFit one = FitExponentialTail(t, m, 1);
+  ASSERT_TRUE(one.ok);
+  ASSERT_TRUE(one.has_alternative);
+  EXPECT_NEAR(one.u_model_g, std::abs(one.alternative_m_inf_g - one.m_inf_g) / std::sqrt(3.0),
+              1e-15);
+  // The one-term asymptote misses the slow part; with the model term the truth is inside 2 u.
+  EXPECT_GT(std::abs(one.m_inf_g - 1.100), 3.0 * one.u_m_inf_g);
+  EXPECT_LT(std::abs(one.m_inf_g - 1.100), 2.0 * one.TotalUncertainty_g());
+}
+
 TEST(ExponentialTailTest, TooFewPointsIsRejected) {
   const std::vector<double> t = {0, 1, 2}, m = {1, 1.1, 1.15};
   const TailFit fit = FitExponentialTail(t, m, 1);

@@ -117,8 +117,8 @@ TEST(ReduceTest, DriftExtrapolationAndDryMassLines) {
 TEST(ReduceTest, ThreeSpecimensCombined) {
   // u_i = 0.0200, 0.0210, 0.0220 (m = 10.200, 10.210, 10.220 g on 10 g dry).
   // mean 0.0210; s = sqrt((1e-6 + 0 + 1e-6) / 2) = 0.0010.
-  // Each u(u_i) ~ 1.48e-5 (balance, as above); u_c = sqrt(sum u_i^2 / 9 + s^2 / 3)
-  //   = sqrt(3 x 2.2e-10 / 9 + 3.3333e-7) = 5.7741e-4 (the spread dominates).
+  // The spread holds the balance scatter of each specimen (no systematic lines here), so
+  // u_c = s / sqrt(3) = 5.7735e-4 (JCGM 100:2008, 4.2.3; 4.3.10: not counted twice).
   // Volumetric with rho_dry = 500 kg/m3 and rho_w(23 degC) = 997.539 kg/m3 (Kell 1975):
   //   psi = 0.0210 x 500 / 997.539 = 0.0105259 m3/m3.
   equilibrate::EquilibriumSet set;
@@ -132,11 +132,12 @@ TEST(ReduceTest, ThreeSpecimensCombined) {
   EXPECT_EQ(p.num_specimens, 3);
   EXPECT_NEAR(p.moisture_kg_per_kg, 0.0210, 1e-12);
   EXPECT_NEAR(p.between_specimen_sd_kg_per_kg, 0.0010, 1e-12);
-  double sum_u2 = 0.0;
-  for (const auto& sp : r.specimen_points) sum_u2 += std::pow(sp.u_moisture_kg_per_kg, 2);
-  EXPECT_NEAR(p.u_moisture_kg_per_kg, std::sqrt(sum_u2 / 9.0 + 1e-6 / 3.0), 1e-15);
-  EXPECT_NEAR(p.u_moisture_kg_per_kg, 5.7741e-4, 2e-8);
-  EXPECT_NEAR(p.expanded_u_moisture_kg_per_kg, 2.0 * p.u_moisture_kg_per_kg, 1e-15);
+  EXPECT_NEAR(p.u_moisture_kg_per_kg, 0.0010 / std::sqrt(3.0), 1e-15);
+  // Welch-Satterthwaite (JCGM 100:2008, G.4.1): the spread s/sqrt(3) with 2 degrees of freedom
+  // is the only component, nu_eff = 2; k = t_95.45(2) = 4.53 (JCGM 100:2008, Table G.2).
+  EXPECT_NEAR(p.effective_dof, 2.0, 1e-9);
+  EXPECT_NEAR(p.coverage_factor, 4.53, 0.005);
+  EXPECT_NEAR(p.expanded_u_moisture_kg_per_kg, p.coverage_factor * p.u_moisture_kg_per_kg, 1e-15);
   ASSERT_TRUE(p.has_volumetric);
   EXPECT_NEAR(p.volumetric_m3_per_m3, 0.0105259, 1e-7);
   // RH: same atmosphere, u(rh) not averaged down.
@@ -261,6 +262,49 @@ TEST(ReduceTest, EquilibriumTableCsv) {
                      "0.0000149,0.0000298,2.00,0.0000000,1,0.011754,0.0000075,72.00,yes,no,no,\n"),
             std::string::npos)
       << csv;
+}
+
+}  // namespace
+}  // namespace sorbtrace::reduce
+
+namespace sorbtrace::reduce {
+namespace {
+
+TEST(WelchSatterthwaiteTest, GumG4WorkedExample) {
+  // JCGM 100:2008 (GUM), G.4.1 example: Y = b X1 X2 X3, relative standard uncertainties 0.25 %,
+  // 0.57 %, 0.82 % from n = 10, 5, 15 observations (nu = 9, 4, 14); u_c(y)/y = 1.03 % and
+  // nu_eff = 1.03^4 / (0.25^4/9 + 0.57^4/4 + 0.82^4/14) = 19.0; t_95(19) = 2.09, U_95 = 2.2 %.
+  std::vector<BudgetLine> lines;
+  lines.push_back(BudgetLine{"x1", 0.25, "%", 1.0, 0.25, 9.0});
+  lines.push_back(BudgetLine{"x2", 0.57, "%", 1.0, 0.57, 4.0});
+  lines.push_back(BudgetLine{"x3", 0.82, "%", 1.0, 0.82, 14.0});
+  const double nu = EffectiveDegreesOfFreedom(lines);
+  EXPECT_NEAR(nu, 19.0, 0.05);
+  // GUM computes nu_eff with u_c rounded to 1.03 % (19.04); from the unrounded inputs it is
+  // 18.999, so the example's t_95(19) is taken at round(nu).
+  const double k95 = StudentTCoverageFactor(std::round(nu), 0.95);
+  EXPECT_NEAR(k95, 2.09, 0.005);
+  EXPECT_NEAR(k95 * std::sqrt(0.25 * 0.25 + 0.57 * 0.57 + 0.82 * 0.82), 2.2, 0.05);
+}
+
+TEST(WelchSatterthwaiteTest, TypeBOnlyIsInfinite) {
+  std::vector<BudgetLine> lines = {BudgetLine{"balance", 1e-4, "g", 1.0, 1e-4}};
+  EXPECT_TRUE(std::isinf(EffectiveDegreesOfFreedom(lines)));
+  EXPECT_DOUBLE_EQ(CoverageFactor(EffectiveDegreesOfFreedom(lines), 2.0), 2.0);
+}
+
+TEST(WelchSatterthwaiteTest, CoverageFactorsOfGumTableG2) {
+  // JCGM 100:2008, Table G.2, column p = 95.45 % (k = 2 for a normal distribution):
+  // nu = 1: 13.97, 2: 4.53, 3: 3.31, 10: 2.28, 20: 2.13, infinity: 2.00.
+  EXPECT_NEAR(CoverageFactor(1.0, 2.0), 13.97, 0.005);
+  EXPECT_NEAR(CoverageFactor(2.0, 2.0), 4.53, 0.005);
+  EXPECT_NEAR(CoverageFactor(3.0, 2.0), 3.31, 0.005);
+  EXPECT_NEAR(CoverageFactor(10.0, 2.0), 2.28, 0.005);
+  EXPECT_NEAR(CoverageFactor(20.0, 2.0), 2.13, 0.005);
+  // nu_eff is truncated to the next lower integer (G.4.1): 2.9 uses nu = 2.
+  EXPECT_NEAR(CoverageFactor(2.9, 2.0), 4.53, 0.005);
+  // Column p = 95 %: nu = 2: 4.30, nu = 19: 2.09 (Table G.2).
+  EXPECT_NEAR(StudentTCoverageFactor(2.0, 0.95), 4.30, 0.005);
 }
 
 }  // namespace

@@ -1,0 +1,151 @@
+#include "pipeline/equilibrate/approach.h"
+
+#include <fmt/format.h>
+
+#include <array>
+#include <cmath>
+#include <vector>
+
+#include "pipeline/equilibrate/criteria.h"
+#include "pipeline/equilibrate/exponential_tail.h"
+
+namespace sorbtrace::equilibrate::internal {
+namespace {
+
+constexpr double kSecondsPerHour = 3600.0;
+constexpr double kSecondsPerMinute = 60.0;
+// Bisection on the decay rate lambda = 1/tau of the three-weighing estimate.
+constexpr int kBisections = 200;
+
+// Accepts a fitted tail as an estimate of the remaining approach.
+ApproachEstimate FromTailFit(const TailFit& fit, double span_s, double reported_mass_g,
+                             const EquilibrateOptions& options, std::string_view what) {
+  ApproachEstimate estimate;
+  if (!fit.ok || !(fit.slowest_tau_s <= options.max_tau_to_tail_ratio * span_s)) return estimate;
+  estimate.estimated = true;
+  estimate.correction_g = fit.m_inf_g - reported_mass_g;
+  estimate.u_correction_g = fit.u_m_inf_g;
+  estimate.u_model_g = fit.u_model_g;
+  estimate.time_constant_s = fit.slowest_tau_s;
+  estimate.degrees_of_freedom = fit.degrees_of_freedom;
+  estimate.method = fmt::format("{}-term exponential fit of {} {}, tau = {:.3g} h", fit.terms,
+                                fit.num_points, what, fit.slowest_tau_s / kSecondsPerHour);
+  return estimate;
+}
+
+// Remaining approach after m0 from three weighings (see the header); nullopt-like: returns
+// false when the changes do not resolve a first-order decay.
+bool RemainingFromThree(const std::array<double, 3>& m, double a_s, double b_s, double* remaining,
+                        double* tau_s) {
+  const double d1 = m[0] - m[1];
+  const double d2 = m[1] - m[2];
+  if (!(d1 * d2 > 0.0) || !(a_s > 0.0) || !(b_s > 0.0)) return false;
+  const double ratio = d1 / d2;
+  // f(lambda) = (1 - exp(-a lambda)) / (exp(b lambda) - 1) falls from a/b (lambda -> 0) to 0.
+  if (!(ratio < a_s / b_s)) return false;
+  auto f = [&](double lambda) { return -std::expm1(-a_s * lambda) / std::expm1(b_s * lambda); };
+  double lo = 0.0;
+  double hi = 1.0 / a_s;
+  constexpr int kMaxDoublings = 200;
+  for (int i = 0; i < kMaxDoublings && f(hi) > ratio; ++i) hi *= 2.0;
+  for (int i = 0; i < kBisections; ++i) {
+    const double mid = 0.5 * (lo + hi);
+    (f(mid) > ratio ? lo : hi) = mid;
+  }
+  const double lambda = 0.5 * (lo + hi);
+  if (!(lambda > 0.0)) return false;
+  *remaining = d1 / std::expm1(a_s * lambda);
+  *tau_s = 1.0 / lambda;
+  return std::isfinite(*remaining);
+}
+
+ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
+                                    double reported_mass_g, double balance_u_g,
+                                    const EquilibrateOptions& options) {
+  ApproachEstimate estimate;
+  // The chain of the criterion: the last weighing and the previous ones min_weighing_interval
+  // apart (criteria.h); three are needed.
+  const std::vector<int> chain = ConstantMassChain(weighings, 3, options);
+  if (chain.size() < 3) return estimate;
+  std::array<double, 3> m{};
+  std::array<double, 3> t{};
+  for (std::size_t i = 0; i < 3; ++i) {
+    m[i] = weighings[static_cast<std::size_t>(chain[i])].mass_g;
+    t[i] = weighings[static_cast<std::size_t>(chain[i])].time_s;
+  }
+  const double a = t[0] - t[1];
+  const double b = t[1] - t[2];
+  double remaining = 0.0, tau = 0.0;
+  if (!RemainingFromThree(m, a, b, &remaining, &tau)) return estimate;
+  // The estimate must be resolved: d2 - d1 (the curvature) larger than twice its standard
+  // uncertainty sqrt(6) u_balance (three weighings, coefficients 1, -2, 1); otherwise the
+  // ratio d1/d2 is noise and the time constant unbounded.
+  const double curvature = (m[1] - m[2]) - (m[0] - m[1]);
+  const double kResolved = 2.0;  // about 95 % one-sided, project choice
+  if (!(std::abs(curvature) > kResolved * std::sqrt(6.0) * balance_u_g)) return estimate;
+  if (!(tau <= options.max_tau_to_tail_ratio * (t[0] - t[2]))) return estimate;
+  // Propagation of the balance uncertainty of each weighing (JCGM 100:2008, Eq. 10) with
+  // central-difference sensitivities.
+  double variance = 0.0;
+  for (std::size_t i = 0; i < 3; ++i) {
+    // Step small against the curvature (the scale on which R is nonlinear), large against the
+    // rounding of m.
+    const double h = std::max(1e-3 * std::abs(curvature), 1e-12 * std::abs(m[i]));
+    std::array<double, 3> up = m, down = m;
+    up[i] += h;
+    down[i] -= h;
+    double r_up = 0.0, r_down = 0.0, tau_unused = 0.0;
+    if (!RemainingFromThree(up, a, b, &r_up, &tau_unused) ||
+        !RemainingFromThree(down, a, b, &r_down, &tau_unused)) {
+      return ApproachEstimate{};
+    }
+    const double c = (r_up - r_down) / (2.0 * h);
+    variance += c * c * balance_u_g * balance_u_g;
+  }
+  estimate.estimated = true;
+  estimate.correction_g = m[0] + remaining - reported_mass_g;
+  estimate.u_correction_g = std::sqrt(variance);
+  estimate.time_constant_s = tau;
+  estimate.degrees_of_freedom = 0;
+  estimate.method =
+      fmt::format("first-order decay through the last three criterion weighings, tau = {:.3g} h",
+                  tau / kSecondsPerHour);
+  return estimate;
+}
+
+}  // namespace
+
+ApproachEstimate EstimateDesiccatorApproach(std::span<const ingest::Weighing> weighings,
+                                            double reported_mass_g, double balance_u_g,
+                                            const EquilibrateOptions& options) {
+  if (static_cast<int>(weighings.size()) >= kMinWeighingsForFit) {
+    std::vector<double> t, m;
+    for (const auto& weighing : weighings) {
+      t.push_back(weighing.time_s);
+      m.push_back(weighing.mass_g);
+    }
+    const TailFit fit =
+        FitExponentialTail(t, m, options.exponential_terms, options.max_tau_to_tail_ratio);
+    ApproachEstimate estimate =
+        FromTailFit(fit, t.back() - t.front(), reported_mass_g, options, "weighings");
+    estimate.includes_weighing_scatter = estimate.estimated;
+    if (estimate.estimated) return estimate;
+  }
+  return FromThreeWeighings(weighings, reported_mass_g, balance_u_g, options);
+}
+
+ApproachEstimate EstimateLogApproach(std::span<const double> tail_time_s,
+                                     std::span<const double> tail_mass_g, double reported_mass_g,
+                                     const EquilibrateOptions& options) {
+  if (static_cast<int>(tail_time_s.size()) < options.min_tail_points) return ApproachEstimate{};
+  const TailFit fit = FitExponentialTail(tail_time_s, tail_mass_g, options.exponential_terms,
+                                         options.max_tau_to_tail_ratio);
+  const double span_s = tail_time_s.back() - tail_time_s.front();
+  ApproachEstimate estimate = FromTailFit(fit, span_s, reported_mass_g, options, "block means");
+  if (estimate.estimated) {
+    estimate.method += fmt::format(" (tail of {:.3g} min)", span_s / kSecondsPerMinute);
+  }
+  return estimate;
+}
+
+}  // namespace sorbtrace::equilibrate::internal

@@ -1,0 +1,70 @@
+// Internal to the equilibrate stage: the residual approach to equilibrium of a step that
+// stopped on its criterion.
+//
+// Why: a criterion (ISO 12571:2021 constant mass, from memory, clause not confirmed: three
+// consecutive weighings at least 24 h apart within 0.1 % of the mass; for vapour-sorption logs a
+// dm/dt limit such as 0.002 %/min over 10 min, common practice) stops a step while the mass still
+// moves towards its equilibrium. With first-order kinetics m(t) = m_eq - A exp(-t/tau) the part
+// left is m_eq - m(t) = tau dm/dt: at 0.002 %/min and tau = 90 min, 0.18 % of the dry mass, always
+// of one sign (Glass, Boardman & Zelinka 2018, Wood Sci. Technol. 52, showed dm/dt-terminated steps
+// under-read the equilibrium moisture content of wood by up to about 1 % MC). A bias of known sign
+// and estimable size is corrected, and the correction's uncertainty enters the budget (JCGM
+// 100:2008, 3.2.4: "the result of a measurement has been corrected for all recognized significant
+// systematic effects"); leaving it as an uncertainty component alone would keep every point biased
+// to one side and inflate U without centring it.
+//
+// How (from the step's own trace):
+//  - the time constant and asymptote come from an exponential fit (FitExponentialTail, one
+//    term, with the two-term alternative as model term) of the step's weighings (desiccator,
+//    at least kMinWeighingsForFit) or of the tail of its block means (log, the same tail the
+//    extrapolation of unfinished steps uses); correction = m_inf - m_reported, standard
+//    uncertainty from the fit covariance (Type A, n - 3 degrees of freedom) and the model term;
+//  - desiccator steps with fewer weighings: the three chain weighings m2, m1, m0 (times t2 <
+//    t1 < t0, differences d2 = m1 - m2, d1 = m0 - m1) fix the first-order time constant by
+//    d1 / d2 = (1 - exp(-a/tau)) / (exp(b/tau) - 1), a = t0 - t1, b = t1 - t2 (for a = b:
+//    d1/d2 = exp(-a/tau)), and the remaining approach is d1 / (exp(a/tau) - 1) (for a = b:
+//    d1 r / (1 - r), r = exp(-a/tau)); its uncertainty by propagating the balance standard
+//    uncertainty of the three weighings (sensitivities by central differences);
+//  - when neither resolves a time constant (changes of mixed sign or lost in the noise, a
+//    tail without curvature, a time constant beyond max_tau_to_tail_ratio times the trace):
+//    no correction; the last change over the criterion interval is the half-width of a
+//    rectangular distribution, u = |change| / sqrt(3) (JCGM 100:2008, 4.3.7), as before.
+#pragma once
+
+#include <span>
+#include <string>
+
+#include "pipeline/equilibrate/equilibrate.h"
+#include "pipeline/ingest/ingest.h"
+
+namespace sorbtrace::equilibrate::internal {
+
+// A first-order fit needs 3 parameters and some residual degrees of freedom; 5 is the least
+// FitExponentialTail accepts.
+inline constexpr int kMinWeighingsForFit = 5;
+
+struct ApproachEstimate {
+  bool estimated = false;        // a time constant was resolved (correction applied)
+  double correction_g = 0.0;     // m_eq - m_reported, signed
+  double u_correction_g = 0.0;   // standard uncertainty of the correction (fit or propagation)
+  double u_model_g = 0.0;        // model term (one vs two exponentials), fit only
+  double time_constant_s = 0.0;  // resolved first-order time constant
+  int degrees_of_freedom = 0;    // of u_correction_g (0 = infinite: Type B propagation)
+  // Desiccator fit: the corrected mass is the asymptote of a fit through independent
+  // weighings, whose Type A uncertainty already holds the scatter of the balance.
+  bool includes_weighing_scatter = false;
+  std::string method;  // how it was estimated, for the flags
+};
+
+// reported_mass_g: the mass the step reports (last weighing). balance_u_g: standard
+// uncertainty of one weighing.
+ApproachEstimate EstimateDesiccatorApproach(std::span<const ingest::Weighing> weighings,
+                                            double reported_mass_g, double balance_u_g,
+                                            const EquilibrateOptions& options);
+
+// tail: block means of the tail (times increasing); reported_mass_g: the final-window mean.
+ApproachEstimate EstimateLogApproach(std::span<const double> tail_time_s,
+                                     std::span<const double> tail_mass_g, double reported_mass_g,
+                                     const EquilibrateOptions& options);
+
+}  // namespace sorbtrace::equilibrate::internal

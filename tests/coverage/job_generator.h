@@ -1,0 +1,72 @@
+// Generator of synthetic sorption jobs with a known truth, written for the coverage tests from
+// the physics alone (first-order sorption kinetics, a GAB isotherm, saturated-salt humidities
+// with their stated uncertainties, balance and sensor noise) and the stopping rules as a
+// laboratory applies them; it shares no code with the equilibrate or reduce stages.
+//
+//  - Desiccator jobs: three specimens, oven-dried to constant mass, then taken through six
+//    saturated salts at 23 degC (adsorption). Weighed once a day (a few minutes' jitter); a
+//    step ends when three consecutive daily weighings lie within 0.1 % of the last mass
+//    (ISO 12571 constant mass, from memory). Time constants 1-4 d per specimen and step (oven:
+//    0.3-0.6 d). Each desiccator's true RH is the Greenspan (1977) table value plus a normal
+//    deviate with the table's standard uncertainty (one per salt, shared by the specimens);
+//    each specimen's moisture content is the GAB value times its own factor (mean 1, sd given:
+//    specimen-to-specimen variability of the material, the same for every step). Balance: 0.12 mg
+//    standard, readings rounded to 0.1 mg.
+//  - Vapour-log jobs: one milligram specimen (12 mg), drying at 0 % then 10..90 % RH
+//    (adsorption) in 10 s block means; a step ends when the least-squares slope of the last
+//    10 min of block means is below 0.002 %/min of the dry mass (common practice), except two
+//    steps (80 and 90 %) cut by the operator at 1.5 time constants. Time constants 20-90 min.
+//    True chamber RH = set point + a control offset (sd 0.3 %RH); the sensor reads it with a
+//    per-step error (sd 0.8 %RH, the job's stated sensor uncertainty) and block noise; the
+//    specimen sits a per-step offset (sd 0.1 K, the stated temperature uncertainty) off the air
+//    temperature, so its true RH is the chamber RH times p_s(T) / p_s(T + offset).
+//    Balance: noise 0.3 ug per 1 s reading (10 readings per block) and, per step, an offset
+//    with the job's stated balance standard uncertainty (0.2 ug: drift and buoyancy of the
+//    microbalance between steps, which averaging the readings does not remove).
+#pragma once
+
+#include <cstdint>
+#include <random>
+#include <vector>
+
+#include "pipeline/ingest/ingest.h"
+
+namespace sorbtrace::coverage {
+
+// GAB isotherm X(a) = X_m C K a / ((1 - K a)(1 - K a + C K a)) [kg/kg] (Guggenheim 1966,
+// Anderson 1946, de Boer 1953; from memory).
+struct Gab {
+  double xm_kg_per_kg = 0.0;
+  double c = 0.0;
+  double k = 0.0;
+  double operator()(double rh_fraction) const;
+};
+
+// Deterministic normal deviates (Box-Muller on std::mt19937_64: independent of the standard
+// library's distributions).
+class Random {
+ public:
+  explicit Random(std::uint64_t seed) : engine_(seed) {}
+  double Uniform();  // (0, 1)
+  double Normal();
+  double Uniform(double lo, double hi) { return lo + (hi - lo) * Uniform(); }
+
+ private:
+  std::mt19937_64 engine_;
+};
+
+struct GeneratedJob {
+  ingest::IngestResult ingested;
+  // Per adsorption step (in order): true RH and the true equilibrium moisture content of the
+  // material (the GAB value at the true RH).
+  std::vector<double> true_rh_fraction;
+  std::vector<double> true_moisture_kg_per_kg;
+  Gab truth;
+};
+
+// specimen_factor_sd: relative specimen-to-specimen variability of the moisture content (one
+// factor per specimen for all steps; 0 = identical specimens).
+GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd);
+GeneratedJob MakeVaporLogJob(std::uint64_t seed);
+
+}  // namespace sorbtrace::coverage
