@@ -289,7 +289,11 @@ DesiccatorSeries internal::ReadDesiccatorSeries(const JobSpec& job, const DataSe
                     "(offsets within 1 h, a daylight-saving change) or none");
       }
     }
-    state.mass.Add(mass_g);
+    if (state.num_weighings == 0) {
+      state.mass.Start(mass_g);
+    } else {
+      state.mass.Add(mass_g);
+    }
     ++state.num_weighings;
     if (state.has_row && step_number != state.step_number && state.num_steps == 1) {
       state.second_step_mass = reader.Where(reader.Column(mass_index));

@@ -34,8 +34,9 @@ std::string Grams(double mass_g) { return fmt::format("{:.7g} g", mass_g); }
 
 std::string Percent(double fraction) { return fmt::format("{:.4g} %", fraction * 100.0); }
 
-std::string Where(const SourceLocation& where) {
-  return fmt::format("{}:{}", where.file, where.line);
+// "file:line" of a reading (streamed readings keep only the line).
+std::string Where(const SourceLocation& where, const std::string& file) {
+  return fmt::format("{}:{}", where.file.empty() ? file : where.file, where.line);
 }
 
 // The column of field `field` on line `line` of the dataset's file (0 when not found): read
@@ -105,6 +106,7 @@ const DataSetSpec* DataSetOf(const JobSpec& job, const std::string& id) {
 SourceLocation Located(const IngestResult& result, const SpecimenMasses& masses,
                        const MassReading& reading) {
   SourceLocation where = reading.where;
+  if (where.file.empty()) where.file = masses.file;
   if (where.column == 0) {
     if (const DataSetSpec* dataset = DataSetOf(result.job, masses.dataset_id)) {
       where.column = ColumnOfField(*dataset, where.line, masses.mass_field);
@@ -145,7 +147,7 @@ void CheckBalanceValue(const SpecimenMasses& smallest, std::string_view key, dou
       fmt::format("{} = {} is {} of the smallest mass weighed ({} of specimen '{}', {}){}", key,
                   Grams(value_g), Percent(value_g / smallest.smallest.mass_g),
                   Grams(smallest.smallest.mass_g), smallest.specimen_id,
-                  Where(smallest.smallest.where),
+                  Where(smallest.smallest.where, smallest.file),
                   where.column == 0 ? " (the default: [measurement] does not state it)" : ""),
       fmt::format("{} below 1 % of the smallest mass (below {}): at 1 % one weighing "
                   "exceeds ten times the 0.1 % constant-mass limit of ISO 12571",
@@ -272,16 +274,6 @@ std::string MassUnitMixUp(double ratio) {
 void SpecimenMasses::Add(double mass_g, const SourceLocation& where) {
   if (!has_value_ || mass_g < smallest.mass_g) smallest = MassReading{mass_g, where};
   if (!has_value_ || mass_g > largest.mass_g) largest = MassReading{mass_g, where};
-  has_value_ = true;
-}
-
-void SpecimenMasses::Add(double mass_g, std::int64_t line) {
-  if (!has_value_ || mass_g < smallest.mass_g) {
-    smallest = MassReading{mass_g, SourceLocation{file, static_cast<int>(line), 0}};
-  }
-  if (!has_value_ || mass_g > largest.mass_g) {
-    largest = MassReading{mass_g, SourceLocation{file, static_cast<int>(line), 0}};
-  }
   has_value_ = true;
 }
 

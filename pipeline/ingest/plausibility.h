@@ -112,20 +112,22 @@ inline constexpr double kMinPlausibleMass_g = 1e-9;
 // data describes the logger, not the material.
 // Bound: steps of kMinRowsForFrozenStep rows or more; a working balance or sensor shows at least
 // its last digit changing over that many readings across a humidity change (common practice).
+// Vapour logs are judged on their block means (IngestOptions::log_block_s), off the per-row
+// path: varying readings give block means that differ.
 inline constexpr std::int64_t kMinRowsForFrozenStep = 10;
 
 // Whether a reading stayed exactly the same since the first value.
 struct ConstancyTracker {
-  bool has_value = false;
-  bool constant = true;
   double first = 0.0;
-  void Add(double value) {
-    if (!has_value) {
-      has_value = true;
-      first = value;
-    } else if (value != first) {
-      constant = false;
-    }
+  bool constant = true;
+  void Start(double value) {
+    first = value;
+    constant = true;
+  }
+  void Add(double value) { constant &= value == first; }
+  // Folds in the tracker of a later stretch (the next step of a log).
+  void Merge(const ConstancyTracker& later) {
+    constant = constant && later.constant && later.first == first;
   }
 };
 
@@ -178,9 +180,19 @@ struct SpecimenMasses {
   MassReading largest;
   // A reading with its cell's location.
   void Add(double mass_g, const SourceLocation& where);
-  // A reading of a line that was not split into fields (streamed logs): the column is found
-  // again from mass_field only when a rule reports it.
-  void Add(double mass_g, std::int64_t line);
+  // A reading of a line that was not split into fields (streamed logs): only its line is kept
+  // (no string per row); file and column are filled in when a rule reports it.
+  void Add(double mass_g, std::int64_t line) {
+    if (!has_value_ || mass_g < smallest.mass_g) {
+      smallest.mass_g = mass_g;
+      smallest.where.line = static_cast<int>(line);
+    }
+    if (!has_value_ || mass_g > largest.mass_g) {
+      largest.mass_g = mass_g;
+      largest.where.line = static_cast<int>(line);
+    }
+    has_value_ = true;
+  }
   bool empty() const { return !has_value_; }
 
  private:

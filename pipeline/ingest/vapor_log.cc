@@ -128,50 +128,58 @@ std::string DescribeStep(const VaporLogStep& step) {
                      step.set_rh_fraction * 100.0, step.first_line, step.last_line);
 }
 
-// Plausibility rule R5 (plausibility.h), per step: readings that never changed.
-struct FrozenStepCheck {
+// Plausibility rule R5 (plausibility.h): whether the mass, measured RH and temperature of a
+// finished step never changed. Read from the block means, off the per-row path: readings that
+// vary give block means that differ (equal means of varying rows would need every block's sum
+// to agree to the last bit).
+struct StepReadings {
   internal::ConstancyTracker mass;
   internal::ConstancyTracker rh;
-  SourceLocation where;  // mass cell of the step's first row
-  double last_rh = 0.0;  // last measured RH of the step
-
-  void Begin(const SourceLocation& first_row) {
-    mass = {};
-    rh = {};
-    where = first_row;
-  }
-  void Add(double mass_g, double rh_fraction) {
-    mass.Add(mass_g);
-    rh.Add(rh_fraction);
-    last_rh = rh_fraction;
-  }
-  // Warnings for the finished `step`; `previous` is the check of the step before (null for the
-  // first step).
-  void Finish(const VaporLog& log, const VaporLogStep& step, const FrozenStepCheck* previous,
-              double previous_set_rh, IngestSummary* summary) const {
-    if (summary == nullptr || step.num_rows < internal::kMinRowsForFrozenStep) return;
-    if (mass.constant) {
-      summary->warnings.push_back(Diagnostic{
-          Severity::kWarning, where,
-          fmt::format("vapour log {}, {}: the mass reads {:.7g} g on all {} rows (a frozen "
-                      "balance?); the equilibrium mass of this step is a repeated reading, not "
-                      "a measurement",
-                      log.file, DescribeStep(step), mass.first, step.num_rows),
-          "a balance reading that changes within a humidity step"});
-    }
-    if (rh.constant && previous != nullptr && rh.first == previous->last_rh &&
-        std::abs(step.set_rh_fraction - previous_set_rh) > 0.0) {
-      summary->warnings.push_back(Diagnostic{
-          Severity::kWarning, where,
-          fmt::format("vapour log {}, {}: the measured RH stays at {:g} %, the last reading of "
-                      "the step before, on all {} rows although the set point moved from "
-                      "{:g} % (a frozen sensor?); the RH of this step is not measured",
-                      log.file, DescribeStep(step), rh.first * 100.0, step.num_rows,
-                      previous_set_rh * 100.0),
-          "a measured RH that follows the set point"});
-    }
-  }
+  internal::ConstancyTracker temperature;
 };
+
+StepReadings ReadingsOf(const VaporLogStep& step) {
+  StepReadings readings;
+  const LogBlock& first = step.blocks.front();  // a step has at least one row
+  readings.mass.Start(first.mass_g);
+  readings.rh.Start(first.rh_measured_fraction);
+  readings.temperature.Start(first.temperature_K);
+  for (const LogBlock& block : step.blocks) {
+    readings.mass.Add(block.mass_g);
+    readings.rh.Add(block.rh_measured_fraction);
+    readings.temperature.Add(block.temperature_K);
+  }
+  return readings;
+}
+
+// R5 warnings for one step of at least kMinRowsForFrozenStep rows; `previous` is the step
+// before (null for the first). `where` is the mass cell of the step's first row.
+void WarnAboutFrozenStep(const VaporLog& log, const VaporLogStep& step,
+                         const StepReadings& readings, const VaporLogStep* previous,
+                         const SourceLocation& where, IngestSummary* summary) {
+  if (step.num_rows < internal::kMinRowsForFrozenStep) return;
+  if (readings.mass.constant) {
+    summary->warnings.push_back(Diagnostic{
+        Severity::kWarning, where,
+        fmt::format("vapour log {}, {}: the mass reads {:.7g} g throughout its {} rows (a frozen "
+                    "balance?); the equilibrium mass of this step is a repeated reading, not a "
+                    "measurement",
+                    log.file, DescribeStep(step), readings.mass.first, step.num_rows),
+        "a balance reading that changes within a humidity step"});
+  }
+  if (readings.rh.constant && previous != nullptr &&
+      readings.rh.first == previous->blocks.back().rh_measured_fraction &&
+      step.set_rh_fraction != previous->set_rh_fraction) {
+    summary->warnings.push_back(Diagnostic{
+        Severity::kWarning, where,
+        fmt::format("vapour log {}, {}: the measured RH stays at {:g} %, the last reading of the "
+                    "step before, throughout its {} rows although the set point moved from {:g} % "
+                    "(a frozen sensor?); the RH of this step is not measured",
+                    log.file, DescribeStep(step), readings.rh.first * 100.0, step.num_rows,
+                    previous->set_rh_fraction * 100.0),
+        "a measured RH that follows the set point"});
+  }
+}
 
 }  // namespace
 
@@ -232,15 +240,8 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
   const std::string set_range = columns[1].unit == "percent" ? "0..100 %" : "0..1";
 
   // Plausibility rules R2, R4 and R5 (plausibility.h).
-  double max_set_raw = 0.0;  // largest values as written (the range checks keep them >= 0)
-  double max_rh_raw = 0.0;
-  internal::ConstancyTracker log_mass;
-  internal::ConstancyTracker log_rh;
-  internal::ConstancyTracker log_temperature;
-  FrozenStepCheck step_check;
-  FrozenStepCheck previous_step_check;
-  SourceLocation second_step_mass;  // mass cell of the first row of step 2
-  SourceLocation second_step_rh;    // measured-RH cell of the first row of step 2
+  std::vector<SourceLocation> step_mass_cells;  // mass cell of the first row of each step
+  SourceLocation second_step_rh;                // measured-RH cell of the first row of step 2
   internal::SpecimenMasses* gathered = nullptr;
   if (masses != nullptr) {
     masses->emplace_back();
@@ -360,29 +361,17 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
         branch = Branch::kDesorption;
       }
       if (in_step) {
-        step_check.Finish(log, builder.step(), log.steps.empty() ? nullptr : &previous_step_check,
-                          log.steps.empty() ? 0.0 : log.steps.back().set_rh_fraction, summary);
-        previous_step_check = step_check;
         log.steps.push_back(builder.Finish());
       }
       if (branch == Branch::kAdsorption && last_wet_branch == Branch::kDesorption) ++cycle;
       if (branch != Branch::kDrying) last_wet_branch = branch;
       builder.Begin(static_cast<int>(log.steps.size()), set_rh, branch, cycle, t, reader.line());
-      step_check.Begin(fields().Where(fields().Column(mass_index)));
-      if (log.steps.size() == 1) {
-        second_step_mass = step_check.where;
-        second_step_rh = fields().Where(fields().Column(rh_index));
-      }
+      step_mass_cells.push_back(fields().Where(fields().Column(mass_index)));
+      if (log.steps.size() == 1) second_step_rh = fields().Where(fields().Column(rh_index));
       current_set = set_rh;
       in_step = true;
     }
     builder.Add(t, rh, temperature_K, mass_g, reader.line());
-    step_check.Add(mass_g, rh);
-    log_mass.Add(mass_g);
-    log_rh.Add(rh);
-    log_temperature.Add(temperature_K);
-    max_set_raw = std::max(max_set_raw, set_raw);
-    max_rh_raw = std::max(max_rh_raw, rh_raw);
     if (gathered != nullptr) gathered->Add(mass_g, reader.line());
     previous_t = t;
     previous_line = reader.line();
@@ -394,8 +383,6 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
         "no data lines after the header (line " + std::to_string(reader.header_line()) + ")",
         "at least one reading per line");
   }
-  step_check.Finish(log, builder.step(), log.steps.empty() ? nullptr : &previous_step_check,
-                    log.steps.empty() ? 0.0 : log.steps.back().set_rh_fraction, summary);
   log.steps.push_back(builder.Finish());
 
   // Plausibility rule R2: RH fractions under a percent column.
@@ -405,7 +392,21 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
                   "RH in percent in a percent column (11.3 for 0.113), or the fractions in a "
                   "*_fraction column (rh_unit = \"fraction\" for a bare column name)");
   };
-  const double max_set_percent = set_scale.ToSi(max_set_raw) * 100.0;
+  // The largest set point and block-mean measured RH, in the column's unit (the range checks
+  // keep them >= 0). Block means, not rows: a percent column has block means near its set
+  // points, fractions never exceed 1.
+  double max_set_fraction = 0.0;
+  double max_rh_fraction = 0.0;
+  for (const VaporLogStep& step : log.steps) {
+    max_set_fraction = std::max(max_set_fraction, step.set_rh_fraction);
+    for (const LogBlock& block : step.blocks) {
+      max_rh_fraction = std::max(max_rh_fraction, block.rh_measured_fraction);
+    }
+  }
+  constexpr double kPercentPerFraction = 100.0;
+  const double max_set_percent = max_set_fraction * kPercentPerFraction;
+  const double max_set_raw = columns[1].unit == "percent" ? max_set_percent : max_set_fraction;
+  const double max_rh_raw = max_rh_fraction * kPercentPerFraction;
   if (columns[1].unit == "percent" && internal::PercentColumnLooksLikeFractions(max_set_raw)) {
     fail_fractions(columns[1],
                    fmt::format("every set point in column '{}' is at most {:g} % (largest {:g}): "
@@ -415,36 +416,58 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
   if (columns[2].unit == "percent" && internal::PercentColumnLooksLikeFractions(max_rh_raw) &&
       max_set_percent > internal::kMaxFractionLikeRh_percent) {
     fail_fractions(columns[2],
-                   fmt::format("every measured RH in column '{}' is at most {:g} % (largest {:g}) "
-                               "while the set points reach {:g} %: fractions in a percent column?",
+                   fmt::format("the measured RH in column '{}' stays at or below {:g} % (largest "
+                               "block mean {:.4g}) while the set points reach {:g} %: fractions "
+                               "in a percent column?",
                                columns[2].name, internal::kMaxFractionLikeRh_percent, max_rh_raw,
                                max_set_percent));
   }
 
-  // Plausibility rule R5 over the whole log.
+  // Plausibility rule R5: frozen steps (warnings), then the whole log (errors).
   const std::size_t num_steps = log.steps.size();
+  StepReadings whole_log;
+  for (std::size_t i = 0; i < num_steps; ++i) {
+    const StepReadings readings = ReadingsOf(log.steps[i]);
+    if (summary != nullptr) {
+      WarnAboutFrozenStep(log, log.steps[i], readings, i > 0 ? &log.steps[i - 1] : nullptr,
+                          step_mass_cells[i], summary);
+    }
+    if (i == 0) {
+      whole_log = readings;
+    } else {
+      whole_log.mass.Merge(readings.mass);
+      whole_log.rh.Merge(readings.rh);
+      whole_log.temperature.Merge(readings.temperature);
+    }
+  }
+  const internal::ConstancyTracker& log_mass = whole_log.mass;
+  const internal::ConstancyTracker& log_rh = whole_log.rh;
+  const internal::ConstancyTracker& log_temperature = whole_log.temperature;
   if (num_steps >= 2 && log_mass.constant) {
-    throw InputError(second_step_mass,
-                     fmt::format("the mass reads {:.7g} g on all {} rows over {} set points: no "
-                                 "uptake or loss at any humidity (a frozen balance or a copied "
-                                 "column)",
-                                 log_mass.first, log.num_rows, num_steps),
-                     "a mass log that follows the humidity steps");
+    throw InputError(
+        step_mass_cells[1],
+        fmt::format("the mass reads {:.7g} g throughout all {} rows over {} set points: no "
+                    "uptake or loss at any humidity (a frozen balance or a copied "
+                    "column)",
+                    log_mass.first, log.num_rows, num_steps),
+        "a mass log that follows the humidity steps");
   }
   if (num_steps >= 2 && log_rh.constant) {
-    throw InputError(second_step_rh,
-                     fmt::format("the measured RH reads {:g} % on all {} rows over {} set points "
-                                 "(a frozen sensor)",
-                                 log_rh.first * 100.0, log.num_rows, num_steps),
-                     "a measured RH that follows the set point");
+    throw InputError(
+        second_step_rh,
+        fmt::format("the measured RH reads {:g} % throughout all {} rows over {} set points "
+                    "(a frozen sensor)",
+                    log_rh.first * 100.0, log.num_rows, num_steps),
+        "a measured RH that follows the set point");
   }
   if (summary != nullptr && num_steps >= 2 && log.num_rows >= internal::kMinRowsForFrozenStep &&
       log_temperature.constant) {
     summary->warnings.push_back(Diagnostic{
         Severity::kWarning, SourceLocation{display, static_cast<int>(log.steps[0].first_line), 0},
-        fmt::format("vapour log {}: the temperature reads {:g} degC on all {} rows (a frozen "
-                    "sensor or a logged set point); the test temperature is not measured",
-                    log.file, physics::KelvinToCelsius(log_temperature.first), log.num_rows),
+        fmt::format(
+            "vapour log {}: the temperature reads {:g} degC throughout all {} rows (a frozen "
+            "sensor or a logged set point); the test temperature is not measured",
+            log.file, physics::KelvinToCelsius(log_temperature.first), log.num_rows),
         "a temperature reading that shows its sensor's noise"});
   }
   if (summary != nullptr && num_gaps > kMaxGapWarnings) {

@@ -299,9 +299,10 @@ TEST(PlausibilityWarningTest, AnRhSensorStuckAtThePreviousStepIsACaution) {
   });
   const Issued issued = Make(dir / "in");
   ASSERT_EQ(issued.exit_code, 0);
-  EXPECT_NE(issued.cautions.find("step 5 (set 40 %RH, lines 567-633): the measured RH stays at "
-                                 "30.11 %, the last reading of the step before"),
-            std::string::npos)
+  EXPECT_NE(
+      issued.cautions.find("step 5 (set 40 %RH, lines 567-633): the measured RH stays at "
+                           "30.11 %, the last reading of the step before, throughout its 67 rows"),
+      std::string::npos)
       << issued.cautions;
   EXPECT_NE(issued.pdf_text.find("(a frozen sensor?)"), std::string::npos);
   fs::remove_all(dir);
@@ -312,7 +313,7 @@ TEST(PlausibilityWarningTest, AThermometerThatNeverChangesIsACaution) {
   DemoWithEditedLog(dir / "in", [](std::vector<std::string>* f) { (*f)[3] = "25.00"; });
   const Issued issued = Make(dir / "in");
   ASSERT_EQ(issued.exit_code, 0);
-  EXPECT_NE(issued.cautions.find("the temperature reads 25 degC on all 1065 rows"),
+  EXPECT_NE(issued.cautions.find("the temperature reads 25 degC throughout all 1065 rows"),
             std::string::npos)
       << issued.cautions;
   // Input cautions come first: the one-page summary shows them before any fit flag.

@@ -252,7 +252,7 @@ TEST_F(JobOnDisk, AFrozenBalanceStepIsAWarningFromTenRows) {
   EXPECT_EQ(ten.warnings[0].severity, Severity::kWarning);
   EXPECT_EQ(ten.warnings[0].where.line, 12);  // header line 1, step 2 starts at row 11
   EXPECT_NE(ten.warnings[0].message.find("step 2 (set 10 %RH, lines 12-21): the mass reads 1 g "
-                                         "on all 10 rows"),
+                                         "throughout its 10 rows"),
             std::string::npos)
       << ten.warnings[0].message;
 }
