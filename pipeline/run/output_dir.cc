@@ -222,7 +222,9 @@ void WriteOutputDirectory(const RunResult& result, const fs::path& output_dir) {
   const fs::path target = Resolved(output_dir);
   // Folders created for the output are removed again (if still empty) when writing fails.
   std::vector<fs::path> created;
-  for (fs::path missing = target.parent_path(); !fs::exists(missing);
+  struct stat probe {};
+  for (fs::path missing = target.parent_path();
+       ::stat(missing.c_str(), &probe) != 0 && errno == ENOENT && missing != missing.root_path();
        missing = missing.parent_path()) {
     created.push_back(missing);
   }

@@ -244,6 +244,12 @@ TEST_F(OutputSafetyTest, BatchGivesJobsMappingToOneFolderDistinctDisjointFolders
   std::ofstream(lab_ / "jobs" / "a.toml") << text;
   JobWithId(lab_ / "jobs" / "c", "X/1");
   JobWithId(lab_ / "jobs" / "d", "X_1");
+  // As an editor on another system saves it: byte-order mark and CRLF line ends.
+  std::string crlf = "\xEF\xBB\xBF";
+  for (const char c : ReadWholeFile(lab_ / "jobs" / "d" / "job.toml")) {
+    crlf += c == '\n' ? std::string("\r\n") : std::string(1, c);
+  }
+  std::ofstream(lab_ / "jobs" / "d" / "job.toml", std::ios::trunc | std::ios::binary) << crlf;
   const auto before = Snapshot();
   const Outcome run = Run("batch jobs --out bout -q -j 2");
   ASSERT_EQ(run.exit_code, 0) << run.output;
@@ -386,6 +392,44 @@ TEST_F(VerifySafetyTest, RecordedInputsOutsideTheJobFolderAreNotOpened) {
     EXPECT_NE(allowed.output.find("CHANGED"), std::string::npos) << allowed.output;
     EXPECT_EQ(allowed.output.find("SECRET"), std::string::npos) << allowed.output;
   }
+}
+
+TEST_F(VerifySafetyTest, HostileResultsFilesAreRefusedNotCrashedOn) {
+  const auto results = nlohmann::json::parse(ReadWholeFile(lab_ / "issued" / "results.json"));
+  auto write = [&](const nlohmann::json& edited) {
+    std::ofstream(lab_ / "issued" / "results.json", std::ios::trunc) << edited.dump(1);
+  };
+  // A template recorded with an absolute or escaping path is not opened either.
+  for (const std::string& path : std::vector<std::string>{"/etc/hostname", "../../outside.toml"}) {
+    auto edited = results;
+    for (auto& input : edited["inputs"]) {
+      if (input.value("role", std::string()) == "template") input["path"] = path;
+    }
+    write(edited);
+    const Outcome run = Run("verify issued/results.json");
+    EXPECT_EQ(run.exit_code, 3) << path << run.output;
+    EXPECT_NE(run.output.find("outside the job folder"), std::string::npos) << run.output;
+  }
+  // Wrong types where strings belong: a changed input (5) or bad input (3), never a crash.
+  auto edited = results;
+  edited["inputs"][0]["role"] = 7;
+  edited["inputs"][0]["sha256"] = nullptr;
+  write(edited);
+  Outcome run = Run("verify issued/results.json");
+  EXPECT_EQ(run.exit_code, 5) << run.output;
+  edited = results;
+  edited["settings"]["job_file"] = 42;
+  write(edited);
+  run = Run("verify issued/results.json");
+  EXPECT_EQ(run.exit_code, 3) << run.output;
+  // Nesting far beyond any results.json: refused with its place.
+  std::ofstream(lab_ / "issued" / "results.json", std::ios::trunc)
+      << std::string(100000, '[') << std::string(100000, ']');
+  run = Run("verify issued/results.json");
+  EXPECT_EQ(run.exit_code, 3) << run.output;
+  EXPECT_NE(run.output.find("issued/results.json:1:65: error: JSON nested deeper than 64"),
+            std::string::npos)
+      << run.output;
 }
 
 // --- only regular files are read --------------------------------------------------------
