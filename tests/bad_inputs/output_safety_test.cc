@@ -521,6 +521,31 @@ TEST_F(OutputSafetyTest, FileSizeLimitIsAnOutputErrorWithNoPartialOutput) {
   ExpectNoLeftovers();
 }
 
+// sysfs refuses new folders even to root (EPERM), so this holds whoever runs the tests.
+TEST_F(OutputSafetyTest, UnwritableOutputFolderIsAnOutputError) {
+  if (!fs::is_directory("/sys/kernel")) GTEST_SKIP() << "no sysfs at /sys";
+  const auto before = Snapshot();
+  for (const std::string args :
+       {"make job/job.toml --out /sys/sorbtrace_test_out -q",
+        "batch job --out /sys/sorbtrace_test_batch -q", "make job/job.toml --out issued -q"}) {
+    if (args.find("issued") != std::string::npos) {
+      // Then verify's report into the same place.
+      ASSERT_EQ(Run(args).exit_code, 0);
+      const Outcome run = Run("verify issued/results.json --report /sys/sorbtrace_test_report.txt");
+      EXPECT_EQ(run.exit_code, 7) << run.output;
+      EXPECT_NE(run.output.find("not writable"), std::string::npos) << run.output;
+      continue;
+    }
+    const Outcome run = Run(args);
+    EXPECT_EQ(run.exit_code, 7) << args << run.output;
+    EXPECT_NE(run.output.find("output error: cannot write /sys/sorbtrace_test_"), std::string::npos)
+        << run.output;
+    EXPECT_NE(run.output.find("not writable"), std::string::npos) << run.output;
+    EXPECT_EQ(run.output.find("internal error"), std::string::npos) << run.output;
+    ExpectIntact(before);
+  }
+}
+
 TEST_F(OutputSafetyTest, StoppingSignalsLeaveNoTemporaryFiles) {
   ASSERT_EQ(Run("make job/job.toml --out issued -q").exit_code, 0);
   const auto before = Snapshot();
