@@ -553,12 +553,14 @@ TEST_F(OutputSafetyTest, StoppingSignalsLeaveNoTemporaryFiles) {
   for (const auto& [signal_number, name] :
        std::map<int, std::string>{{SIGINT, "SIGINT"}, {SIGTERM, "SIGTERM"}, {SIGHUP, "SIGHUP"}}) {
     const std::string env = "SORBTRACE_TEST_SIGNAL_WHILE_WRITING=" + std::to_string(signal_number);
-    for (const std::string out : {"issued", "fresh"}) {
+    for (const std::string out : {"issued", "fresh", "new/deeper/folder"}) {
       const Outcome run = Run("make job/job.toml --out " + out + " -q", env);
       EXPECT_EQ(run.exit_code, 128 + signal_number) << name << " " << out << run.output;
       ExpectIntact(before);
       EXPECT_EQ(Snapshot().size(), before.size()) << name;
     }
+    EXPECT_FALSE(fs::exists(lab_ / "fresh")) << name;
+    EXPECT_FALSE(fs::exists(lab_ / "new")) << name << ": created parent folders remain";
   }
   // From outside, at moments spread over a run (about one second on the reference machine).
   for (int delay_ms : {50, 200, 400, 600, 800, 1000}) {
