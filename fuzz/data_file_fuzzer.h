@@ -46,7 +46,8 @@ inline void CheckJob(const std::filesystem::path& job_path) {
     const ingest::IngestResult ingested = ingest::Ingest(spec, settings.ingest);
     const equilibrate::EquilibriumSet equilibria =
         equilibrate::Equilibrate(ingested, settings.equilibrate);
-    (void)reduce::Reduce(ingested, equilibria, settings.reduce);
+    const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
+    run::CheckWorkBudget(settings, reduced);
   } catch (const InputError&) {
     // Rejected with a located diagnostic: the expected outcome for bad bytes.
   }

@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Builds the libFuzzer targets with clang (ASan + UBSan + coverage) and runs each one briefly
-# (FUZZ_SECONDS each, default 12 s: about 60 s in all) on seeds from example_inputs/,
-# tests/ingest/fixtures/, the bad-input corpus, the fuzz regressions and templates/. Any crash,
+# (FUZZ_SECONDS each, default 12 s: about 72 s in all) on seeds from example_inputs/,
+# tests/ingest/fixtures/, the bad-input corpus, the fuzz regressions, templates/ and (results.json
+# of `verify`) fuzz/seeds/results_json/ and tests/bad_inputs/verify/. Any crash,
 # sanitizer report, leak, hang (> 10 s per input) or exception other than InputError fails the
 # run. Prints one line per target: executions, coverage (cov = edges, ft = features), corpus.
 #   FUZZ_SECONDS=600   seconds per target (the long runs of docs/fuzzing.md)
@@ -14,11 +15,14 @@ cd "$(dirname "$0")/.."
 seconds="${FUZZ_SECONDS:-12}"
 jobs=$(nproc)
 [ "$jobs" -gt 2 ] && jobs=2
-targets="${FUZZ_TARGETS:-desiccator_csv vapor_log_csv retention_csv job_file template}"
+targets="${FUZZ_TARGETS:-desiccator_csv vapor_log_csv retention_csv job_file template results_json}"
 if [ "${FUZZ_SKIP_BUILD:-0}" != "1" ]; then
+  launcher=""  # ccache, when installed, keeps unchanged files from being recompiled
+  command -v ccache >/dev/null && launcher="-DCMAKE_CXX_COMPILER_LAUNCHER=ccache"
+  # shellcheck disable=SC2086
   cmake -S . -B build-fuzz -DCMAKE_BUILD_TYPE=RelWithDebInfo -DCMAKE_CXX_COMPILER=clang++ \
         -DSORBTRACE_BUILD_FUZZ=ON -DSORBTRACE_BUILD_TESTS=OFF -DSORBTRACE_BUILD_BENCH=OFF \
-        -DSORBTRACE_WERROR=OFF >/dev/null
+        -DSORBTRACE_WERROR=OFF $launcher >/dev/null
   build_targets=""
   for t in $targets; do build_targets="$build_targets fuzz_$t"; done
   # shellcheck disable=SC2086
@@ -41,6 +45,9 @@ corpus_files() {  # corpus_files <target>: seed files, one per line
         2>/dev/null || true ;;
     template)
       find templates tests/bad_inputs/corpus -name '*template*.toml' -o -path 'templates/*.toml' \
+        2>/dev/null || true ;;
+    results_json)
+      find fuzz/seeds/results_json tests/bad_inputs/verify -type f -name '*.json' \
         2>/dev/null || true ;;
   esac
   [ -d "tests/bad_inputs/regressions/$1" ] && find "tests/bad_inputs/regressions/$1" -type f \

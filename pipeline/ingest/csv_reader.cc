@@ -1,5 +1,6 @@
 #include "pipeline/ingest/csv_reader.h"
 
+#include <algorithm>
 #include <array>
 #include <cerrno>
 #include <charconv>
@@ -9,6 +10,7 @@
 #include <system_error>
 #include <utility>
 
+#include "pipeline/common/bounded_input.h"
 #include "pipeline/physics/physics.h"
 
 namespace sorbtrace::ingest::internal {
@@ -74,8 +76,10 @@ NumberStatus ParseNumber(std::string_view text, char decimal_point, double* valu
   double v = 0.0;
   const auto [ptr, ec] =
       std::from_chars(copy.data(), copy.data() + copy.size(), v, std::chars_format::general);
+  // Text after the digits makes it no number, even when the digits alone overflow.
+  if (ptr != copy.data() + copy.size()) return NumberStatus::kNotANumber;
   if (ec == std::errc::result_out_of_range) return NumberStatus::kOutOfRange;
-  if (ec != std::errc() || ptr != copy.data() + copy.size()) return NumberStatus::kNotANumber;
+  if (ec != std::errc()) return NumberStatus::kNotANumber;
   if (!std::isfinite(v)) return NumberStatus::kNotFinite;
   *value = v;
   return NumberStatus::kOk;
@@ -109,14 +113,66 @@ SourceLocation CsvReader::Where(int column) const {
   return SourceLocation{display_name_, static_cast<int>(line_number_), column};
 }
 
+std::string CsvReader::CapEchoes(std::string message) const {
+  const auto shorten = [&message](std::string_view text) {
+    if (text.size() <= kMaxExcerptChars) return;
+    const std::string excerpt = Excerpt(text);
+    for (std::size_t at = message.find(text); at != std::string::npos;
+         at = message.find(text, at + excerpt.size())) {
+      message.replace(at, text.size(), excerpt);
+    }
+  };
+  shorten(current_line_);
+  for (const CsvField& field : fields_) {
+    shorten(field.text);
+    shorten(Trim(field.text));
+  }
+  // Whatever else a message quotes from the file (kMaxMessageBytes: a few lines of a terminal).
+  constexpr std::size_t kMaxMessageBytes = 1000;
+  if (message.size() > kMaxMessageBytes) message = Excerpt(message, kMaxMessageBytes);
+  return message;
+}
+
 void CsvReader::Fail(int column, std::string message, std::string expected) const {
-  throw InputError(Where(column), std::move(message), std::move(expected));
+  throw InputError(Where(column), CapEchoes(std::move(message)), std::move(expected));
 }
 
 void CsvReader::FailAt(std::int64_t line, int column, std::string message,
                        std::string expected) const {
   throw InputError(SourceLocation{display_name_, static_cast<int>(line), column},
-                   std::move(message), std::move(expected));
+                   CapEchoes(std::move(message)), std::move(expected));
+}
+
+void CsvReader::RejectOtherEncodings(std::string_view first_line) const {
+  const auto starts = [first_line](std::string_view prefix) {
+    return first_line.substr(0, prefix.size()) == prefix;
+  };
+  using namespace std::string_view_literals;
+  std::string found;
+  // Byte-order marks (Unicode Standard, sec. 23.8): UTF-32 LE/BE before UTF-16 LE/BE, whose
+  // marks are their prefixes.
+  if (starts("\xFF\xFE\x00\x00"sv) || starts("\x00\x00\xFE\xFF"sv)) {
+    found = "UTF-32 encoded (byte-order mark)";
+  } else if (starts("\xFF\xFE"sv) || starts("\xFE\xFF"sv)) {
+    found = "UTF-16 encoded (byte-order mark " +
+            std::string(starts("\xFF\xFE"sv) ? "FF FE" : "FE FF") + ")";
+  } else {
+    // Without a mark: ASCII text saved as UTF-16 has a NUL in every other byte.
+    const std::string_view head = first_line.substr(0, 64);
+    std::size_t nul_even = 0;
+    std::size_t nul_odd = 0;
+    for (std::size_t i = 0; i < head.size(); ++i) {
+      if (head[i] == '\0') ++(i % 2 == 0 ? nul_even : nul_odd);
+    }
+    const std::size_t pairs = head.size() / 2;
+    if (pairs >= 2 && std::max(nul_even, nul_odd) * 10 >= pairs * 9) {
+      found = "UTF-16 encoded (a NUL byte in every other byte)";
+    }
+  }
+  if (!found.empty()) {
+    FailAt(1, 1, "the file is " + found,
+           "UTF-8 or ASCII text (save the file as UTF-8 or CSV, not as Unicode text)");
+  }
 }
 
 void CsvReader::Refill() {
@@ -158,6 +214,7 @@ bool CsvReader::NextLine(std::string_view* line) {
   if (!line->empty() && line->back() == '\r') line->remove_suffix(1);
   if (first_line_) {
     first_line_ = false;
+    RejectOtherEncodings(*line);
     constexpr std::string_view kUtf8ByteOrderMark = "\xEF\xBB\xBF";
     if (line->substr(0, 3) == kUtf8ByteOrderMark) line->remove_prefix(3);
   }

@@ -2,7 +2,8 @@
 // in memory, tracks line and column of every field, and parses numbers without allocation.
 // Accepts what lab software and spreadsheets write: UTF-8 byte-order mark, CRLF or LF line
 // ends, a missing final line end, '#' comment lines, blank lines, quoted fields ("" inside a
-// quoted field is one quote), ',' ';' or tab delimiters and decimal commas.
+// quoted field is one quote), ',' ';' or tab delimiters and decimal commas. Refuses UTF-16 and
+// UTF-32 files by name. Quotes of the file in messages are capped (CapEchoes).
 #pragma once
 
 #include <cstddef>
@@ -141,6 +142,11 @@ class CsvReader {
 
  private:
   double NumberSlow(std::size_t i, std::string_view column_name) const;
+  // A message with every long cell (or line) of the current record it quotes cut to an
+  // Excerpt (pipeline/common/bounded_input.h), and at most 1000 bytes in all.
+  std::string CapEchoes(std::string message) const;
+  // Throws for a file in UTF-16 or UTF-32 (by byte-order mark or NUL-interleaved ASCII).
+  void RejectOtherEncodings(std::string_view first_line) const;
   bool NextLine(std::string_view* line);  // false at end of file
   void Split(std::string_view line);
   void SplitChecked(std::string_view line);  // Split + field count check

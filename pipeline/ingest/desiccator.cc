@@ -12,6 +12,7 @@
 #include "pipeline/ingest/csv_reader.h"
 #include "pipeline/ingest/date_time.h"
 #include "pipeline/ingest/ingest.h"
+#include "pipeline/ingest/plausibility.h"
 #include "pipeline/physics/physics.h"
 
 namespace sorbtrace::ingest {
@@ -41,6 +42,11 @@ struct SpecimenState {
   int num_steps = 0;
   double last_time_s = 0.0;
   std::int64_t last_line = 0;
+  int num_weighings = 0;
+  internal::UtcOffsetTracker offsets;       // plausibility rule R3
+  internal::ConstancyTracker mass;          // plausibility rule R5
+  SourceLocation second_step_mass;          // mass cell of the first weighing of step 2
+  std::optional<std::size_t> masses_index;  // into the gathered masses
 };
 
 std::string KnownSaltList() {
@@ -77,6 +83,15 @@ Atmosphere ParseAtmosphere(const CsvReader& reader, std::size_t index) {
       reader.Fail(column, "stated humidity '" + std::string(text) + "' is outside 0..100 %",
                   "a relative humidity within 0..100 %");
     }
+    if (internal::StatedRhLooksLikeFraction(percent)) {  // plausibility rule R2
+      reader.Fail(column,
+                  "stated humidity '" + std::string(text) +
+                      "' is a fraction written as percent? (no sorption step is held at 0..1 % "
+                      "RH)",
+                  fmt::format("a humidity in percent, rh:{:g}% if {:g} is the fraction; a dry "
+                              "atmosphere as desiccant or rh:0%",
+                              percent * 100.0, percent));
+    }
     atmosphere.kind = AtmosphereKind::kStatedRh;
     atmosphere.rh_fraction = percent / 100.0;
     return atmosphere;
@@ -98,6 +113,11 @@ std::string FormatTemperature_C(double temperature_K) {
 }  // namespace
 
 DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dataset) {
+  return internal::ReadDesiccatorSeries(job, dataset, nullptr);
+}
+
+DesiccatorSeries internal::ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dataset,
+                                                std::vector<SpecimenMasses>* masses) {
   const CsvFormat& format = dataset.format;
   const std::string display = dataset.file.string();
   CsvReader reader(dataset.file, display, format.delimiter, format.decimal_comma);
@@ -211,6 +231,12 @@ DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dat
                       columns[5].name + "' is not positive",
                   "a specimen mass above zero");
     }
+    if (mass_g < internal::kMinPlausibleMass_g) {  // plausibility rule R4
+      reader.Fail(reader.Column(mass_index),
+                  "mass " + std::string(reader.Text(mass_index)) + " in column '" +
+                      columns[5].name + "' is below 1 ng: no balance weighs it",
+                  "a specimen mass of at least 1 ng (1e-9 g)");
+    }
     double temperature_K = dataset.temperature_K;
     if (has_temperature) {
       temperature_K = temperature_scale.ToSi(reader.Number(temperature_index, columns[6].name));
@@ -252,6 +278,34 @@ DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dat
                                 state.last_line),
                     "weighings of a specimen in strictly increasing time order");
       }
+    }
+    if (format.datetime_format == "iso8601") {  // plausibility rule R3
+      const std::string problem =
+          state.offsets.Add(internal::UtcOffsetOf(reader.Text(time_index)), reader.line());
+      if (!problem.empty()) {
+        reader.Fail(reader.Column(time_index),
+                    fmt::format("weighings of specimen {}: {}", specimen_id, problem),
+                    "one clock for the weighings of a specimen: every stamp with a UTC offset "
+                    "(offsets within 1 h, a daylight-saving change) or none");
+      }
+    }
+    state.mass.Add(mass_g);
+    ++state.num_weighings;
+    if (state.has_row && step_number != state.step_number && state.num_steps == 1) {
+      state.second_step_mass = reader.Where(reader.Column(mass_index));
+    }
+    if (masses != nullptr) {
+      if (!state.masses_index) {
+        state.masses_index = masses->size();
+        internal::SpecimenMasses gathered;
+        gathered.specimen_id = std::string(specimen_id);
+        gathered.dataset_id = dataset.id;
+        gathered.file = display;
+        gathered.mass_column = columns[5].name;
+        gathered.mass_field = columns[5].index;
+        masses->push_back(std::move(gathered));
+      }
+      (*masses)[*state.masses_index].Add(mass_g, reader.Where(reader.Column(mass_index)));
     }
     if (!state.has_row || step_number != state.step_number) {
       DesiccatorStep step;
@@ -320,6 +374,17 @@ DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dat
     }
     step.temperature_K = sum_K / static_cast<double>(step.weighings.size());
   }
+  // Plausibility rule R5: a specimen whose mass never changed over its steps is not weighed.
+  for (const auto& [id, state] : specimens) {
+    if (state.num_steps < 2 || !state.mass.constant) continue;
+    throw InputError(
+        state.second_step_mass,
+        fmt::format("all {} weighings of specimen {} over {} steps read {:.7g} g: no uptake or "
+                    "loss at any humidity (a frozen balance or a copied column)",
+                    state.num_weighings, id, state.num_steps, state.mass.first),
+        "masses that follow the humidity steps");
+  }
+
   // Grouped by specimen in job order, then step order (already increasing per specimen).
   std::map<std::string, std::size_t, std::less<>> job_order;
   for (std::size_t i = 0; i < job.specimens.size(); ++i) job_order[job.specimens[i].id] = i;

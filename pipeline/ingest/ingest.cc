@@ -9,6 +9,7 @@
 #include <system_error>
 
 #include "pipeline/common/files.h"
+#include "pipeline/ingest/plausibility.h"
 
 namespace sorbtrace::ingest {
 namespace {
@@ -97,26 +98,40 @@ IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
   IngestResult result;
   result.job = job;
   result.inputs.push_back(Record("job", job.job_file, job.job_file.filename().string()));
+  // Every data file is recorded (SHA-256) before it is read: plausibility rule R1 compares them.
+  std::vector<const DataSetSpec*> sources;
+  for (const DataSetSpec& dataset : job.datasets) {
+    sources.push_back(&dataset);
+    result.inputs.push_back(
+        Record(dataset.method == Method::kDesiccator ? "desiccator" : "vapor_log", dataset.file,
+               dataset.file_as_written));
+  }
+  if (job.retention) {
+    sources.push_back(&*job.retention);
+    result.inputs.push_back(
+        Record("retention", job.retention->file, job.retention->file_as_written));
+  }
+  internal::CheckDistinctDataSources(
+      sources, std::vector<InputFileRecord>(result.inputs.begin() + 1, result.inputs.end()));
+
+  std::vector<internal::SpecimenMasses> masses;  // for the plausibility rules across files
   for (const DataSetSpec& dataset : job.datasets) {
     if (dataset.method == Method::kDesiccator) {
-      result.desiccator_series.push_back(ReadDesiccatorSeries(job, dataset));
+      result.desiccator_series.push_back(internal::ReadDesiccatorSeries(job, dataset, &masses));
       for (const auto& step : result.desiccator_series.back().steps) {
         result.summary.rows_read += static_cast<std::int64_t>(step.weighings.size());
       }
       result.summary.num_steps += static_cast<int>(result.desiccator_series.back().steps.size());
-      result.inputs.push_back(Record("desiccator", dataset.file, dataset.file_as_written));
     } else {
-      result.vapor_logs.push_back(ReadVaporLog(dataset, options, &result.summary));
+      result.vapor_logs.push_back(
+          internal::ReadVaporLog(dataset, options, &result.summary, &masses));
       result.summary.rows_read += result.vapor_logs.back().num_rows;
       result.summary.num_steps += static_cast<int>(result.vapor_logs.back().steps.size());
-      result.inputs.push_back(Record("vapor_log", dataset.file, dataset.file_as_written));
     }
   }
   if (job.retention) {
     result.retention_points = ReadRetentionPoints(job, *job.retention);
     result.summary.rows_read += static_cast<std::int64_t>(result.retention_points.size());
-    result.inputs.push_back(
-        Record("retention", job.retention->file, job.retention->file_as_written));
   }
 
   for (const SpecimenSpec& specimen : job.specimens) {
@@ -142,6 +157,7 @@ IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
       throw InputError(specimen.where, "no dry mass for specimen '" + specimen.id + "'", missing);
     }
   }
+  internal::CheckAcrossFiles(result, masses);
   result.summary.num_specimens = static_cast<int>(job.specimens.size());
   return result;
 }

@@ -76,12 +76,17 @@ struct JobSpec {
   std::string test_dates;              // free text, e.g. "2026-09-01 to 2026-10-12"
   std::string issue_date;              // ISO 8601 date printed on the sheet (deterministic)
   std::string template_name = "full";  // report template (templates/<name>.toml) or a path
+  // Data files (and a template given as a path) may lie outside the job file's folder tree.
+  bool allow_data_outside_job_folder = false;
   DryMassMethod dry_mass_method = DryMassMethod::kOvenDrying;
   double drying_temperature_K = 378.15;  // 105 degC, ISO 12570 default
   double balance_resolution_g = 1e-4;
   double balance_standard_uncertainty_g = 1e-4;
   double rh_sensor_standard_uncertainty_fraction = 0.01;  // vapour-sorption RH sensor
   double temperature_standard_uncertainty_K = 0.2;
+  // The balance keys in [measurement] (line of [measurement], column 0, when not stated).
+  SourceLocation balance_resolution_where;
+  SourceLocation balance_uncertainty_where;
   bool negative_moisture_expected = false;
   std::vector<SpecimenSpec> specimens;
   std::vector<DataSetSpec> datasets;

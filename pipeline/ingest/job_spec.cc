@@ -1,5 +1,6 @@
 // LoadJobSpec: the job file's own sections ([job], [material], [measurement], [[specimen]],
 // [[dataset]], [retention]); tables of later stages are left to their owners.
+#include <fmt/format.h>
 #include <toml++/toml.h>
 
 #include <algorithm>
@@ -11,10 +12,12 @@
 #include <string_view>
 #include <system_error>
 
+#include "pipeline/common/bounded_input.h"
 #include "pipeline/common/files.h"
 #include "pipeline/ingest/csv_reader.h"
 #include "pipeline/ingest/date_time.h"
 #include "pipeline/ingest/ingest.h"
+#include "pipeline/ingest/plausibility.h"
 #include "pipeline/physics/physics.h"
 
 namespace sorbtrace::ingest {
@@ -153,7 +156,7 @@ class JobFileReader {
         if (!list.empty()) list += ", ";
         list += "\"" + std::string(name) + "\"";
       }
-      Fail(*table.get(key), "'" + *value + "' is not a valid " + std::string(key),
+      Fail(*table.get(key), "'" + Excerpt(*value) + "' is not a valid " + std::string(key),
            "one of " + list);
     }
     return value;
@@ -184,7 +187,8 @@ CsvFormat ReadFormat(const JobFileReader& in, const toml::table& table, std::str
   if (const auto pattern = in.String(table, section, "datetime_format", false)) {
     const std::string problem = internal::CheckDateTimeFormat(*pattern);
     if (!problem.empty()) {
-      in.Fail(*table.get("datetime_format"), "datetime_format '" + *pattern + "': " + problem,
+      in.Fail(*table.get("datetime_format"),
+              "datetime_format '" + Excerpt(*pattern) + "': " + problem,
               "\"iso8601\" or a pattern of %Y %m %d %H %M [%S] such as \"%d.%m.%Y %H:%M\"");
     }
     format.datetime_format = *pattern;
@@ -199,19 +203,58 @@ CsvFormat ReadFormat(const JobFileReader& in, const toml::table& table, std::str
 }
 
 // Resolves `file` relative to the job file and checks that it is a readable regular file.
-void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir,
+// Data-path policy (LiesInsideFolder): a data file lies inside the job file's folder tree
+// unless [job] allow_data_outside_job_folder = true; so a job cannot make sorbtrace read (and
+// quote) any file the user can read.
+void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir, bool allow_outside,
                  const toml::table& table, std::string_view section, DataSetSpec* dataset) {
+  namespace fs = std::filesystem;
   dataset->file_as_written = *in.String(table, section, "file", true);
-  const std::filesystem::path written(dataset->file_as_written);
+  const fs::path written(dataset->file_as_written);
   dataset->file = (job_dir / written).lexically_normal();
+  const toml::node& key = *table.get("file");
+  if (!allow_outside && !dataset->file_as_written.empty() && !LiesInsideFolder(written, job_dir)) {
+    in.Fail(
+        key,
+        "data file '" + Excerpt(dataset->file_as_written) + "' lies outside the job file's folder",
+        "a path relative to the job file, inside its folder tree (or "
+        "allow_data_outside_job_folder = true in [job] to read files elsewhere)");
+  }
   const std::string problem =
       dataset->file_as_written.empty() ? "not found" : RegularFileProblem(dataset->file);
   if (!problem.empty()) {
-    in.Fail(*table.get("file"),
-            "data file '" + dataset->file_as_written + "' " + problem + " (looked for " +
-                dataset->file.string() + ")",
+    in.Fail(key,
+            "data file '" + Excerpt(dataset->file_as_written) + "' " + problem + " (looked for " +
+                Excerpt(dataset->file.string(), 200) + ")",
             "an existing file, relative to the job file");
   }
+}
+
+// Plausibility rule R7 (plausibility.h): RH-sensor and temperature uncertainties within what
+// the instruments can have; where the balance keys are, for the balance bound checked once the
+// masses are read.
+void CheckUncertaintyBounds(const JobFileReader& in, const toml::table& measurement, JobSpec* job) {
+  const auto bound = [&](std::string_view key, double value, double limit, std::string_view unit) {
+    if (value <= limit) return;
+    in.Fail(*measurement.get(key),
+            fmt::format("{} = {:g} {} is beyond what the instrument of a sorption test has", key,
+                        value, unit),
+            fmt::format("a standard uncertainty above 0 and at most {:g} {}", limit, unit));
+  };
+  bound("rh_sensor_standard_uncertainty_percent",
+        job->rh_sensor_standard_uncertainty_fraction * 100.0,
+        internal::kMaxRhSensorUncertainty_percent, "%RH");
+  bound("temperature_standard_uncertainty_K", job->temperature_standard_uncertainty_K,
+        internal::kMaxTemperatureUncertainty_K, "K");
+  const auto where = [&](std::string_view key) {
+    const toml::node* node = measurement.get(key);
+    if (node != nullptr) return in.At(*node);
+    SourceLocation table = in.At(measurement);
+    table.column = 0;
+    return table;
+  };
+  job->balance_resolution_where = where("balance_resolution_g");
+  job->balance_uncertainty_where = where("balance_standard_uncertainty_g");
 }
 
 }  // namespace
@@ -235,13 +278,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     throw InputError(SourceLocation{in.display(), 0, 0}, "job file not found",
                      "an existing TOML job file");
   }
-  toml::table root;
-  try {
-    root = toml::parse_file(job_file.string());
-  } catch (const toml::parse_error& error) {
-    throw InputError(in.At(error.source()), "TOML syntax: " + std::string(error.description()),
-                     "a valid TOML job file");
-  }
+  const toml::table root = ParseTomlFile(job_file, "a valid TOML job file");
 
   JobSpec job;
   job.job_file = job_file;
@@ -264,15 +301,19 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
 
   // [job]
   const toml::table& job_table = in.Table(root, "job");
-  in.CheckKeys(job_table, "[job]", {"id", "issue_date", "template", "test_dates"});
+  in.CheckKeys(job_table, "[job]",
+               {"id", "issue_date", "template", "test_dates", "allow_data_outside_job_folder"});
   job.job_id = *in.String(job_table, "[job]", "id", true);
   job.issue_date = *in.String(job_table, "[job]", "issue_date", true);
   if (!internal::IsIsoDate(job.issue_date)) {
-    in.Fail(*job_table.get("issue_date"), "issue_date '" + job.issue_date + "' is not a date",
+    in.Fail(*job_table.get("issue_date"),
+            "issue_date '" + Excerpt(job.issue_date) + "' is not a date",
             "an ISO 8601 date YYYY-MM-DD");
   }
   job.template_name = in.String(job_table, "[job]", "template", false).value_or("full");
   job.test_dates = in.String(job_table, "[job]", "test_dates", false).value_or("");
+  job.allow_data_outside_job_folder =
+      in.Bool(job_table, "[job]", "allow_data_outside_job_folder").value_or(false);
 
   // [material]
   const toml::table& material = in.Table(root, "material");
@@ -308,6 +349,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
   job.temperature_standard_uncertainty_K =
       in.Positive(measurement, kM, "temperature_standard_uncertainty_K", false)
           .value_or(job.temperature_standard_uncertainty_K);
+  CheckUncertaintyBounds(in, measurement, &job);
   job.negative_moisture_expected =
       in.Bool(measurement, kM, "negative_moisture_expected").value_or(false);
 
@@ -328,7 +370,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     for (const SpecimenSpec& other : job.specimens) {
       if (other.id == specimen.id) {
         in.Fail(*table.get("id"),
-                "specimen id '" + specimen.id + "' is declared twice (also on line " +
+                "specimen id '" + Excerpt(specimen.id) + "' is declared twice (also on line " +
                     std::to_string(other.where.line) + ")",
                 "a unique id per specimen");
       }
@@ -356,7 +398,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     for (const DataSetSpec& other : job.datasets) {
       if (other.id == dataset.id) {
         in.Fail(*table.get("id"),
-                "dataset id '" + dataset.id + "' is used twice (also on line " +
+                "dataset id '" + Excerpt(dataset.id) + "' is used twice (also on line " +
                     std::to_string(other.where.line) + ")",
                 "a unique id per dataset");
       }
@@ -374,13 +416,13 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
       const bool known = std::any_of(job.specimens.begin(), job.specimens.end(),
                                      [&](const SpecimenSpec& s) { return s.id == *specimen; });
       if (!known) {
-        in.Fail(*table.get("specimen"), "specimen '" + *specimen + "' is not declared",
+        in.Fail(*table.get("specimen"), "specimen '" + Excerpt(*specimen) + "' is not declared",
                 "the id of a [[specimen]] table");
       }
       dataset.specimen_id = *specimen;
     }
     dataset.format = ReadFormat(in, table, kD);
-    ResolveFile(in, job_dir, table, kD, &dataset);
+    ResolveFile(in, job_dir, job.allow_data_outside_job_folder, table, kD, &dataset);
     job.datasets.push_back(std::move(dataset));
   }
 
@@ -396,7 +438,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     retention.temperature_K = in.Temperature_K(table, kR, "temperature_C", false)
                                   .value_or(physics::CelsiusToKelvin(23.0));
     retention.format = ReadFormat(in, table, kR);
-    ResolveFile(in, job_dir, table, kR, &retention);
+    ResolveFile(in, job_dir, job.allow_data_outside_job_folder, table, kR, &retention);
     job.retention = std::move(retention);
   }
   return job;

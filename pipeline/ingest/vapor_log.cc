@@ -1,5 +1,6 @@
 // Streaming reader of continuous vapour-sorption logs: one pass, one chunk in memory,
 // segmentation into set-point steps with running statistics and block means.
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
 #include <string>
@@ -9,6 +10,7 @@
 #include "fmt/format.h"
 #include "pipeline/ingest/csv_reader.h"
 #include "pipeline/ingest/ingest.h"
+#include "pipeline/ingest/plausibility.h"
 #include "pipeline/physics/physics.h"
 
 namespace sorbtrace::ingest {
@@ -120,14 +122,70 @@ class StepBuilder {
 
 std::string FormatValue(double value) { return fmt::format("{:g}", value); }
 
+// "step 3 (set 40 %RH, lines 120-250)".
+std::string DescribeStep(const VaporLogStep& step) {
+  return fmt::format("step {} (set {:g} %RH, lines {}-{})", step.step_index + 1,
+                     step.set_rh_fraction * 100.0, step.first_line, step.last_line);
+}
+
+// Plausibility rule R5 (plausibility.h), per step: readings that never changed.
+struct FrozenStepCheck {
+  internal::ConstancyTracker mass;
+  internal::ConstancyTracker rh;
+  SourceLocation where;  // mass cell of the step's first row
+  double last_rh = 0.0;  // last measured RH of the step
+
+  void Begin(const SourceLocation& first_row) {
+    mass = {};
+    rh = {};
+    where = first_row;
+  }
+  void Add(double mass_g, double rh_fraction) {
+    mass.Add(mass_g);
+    rh.Add(rh_fraction);
+    last_rh = rh_fraction;
+  }
+  // Warnings for the finished `step`; `previous` is the check of the step before (null for the
+  // first step).
+  void Finish(const VaporLog& log, const VaporLogStep& step, const FrozenStepCheck* previous,
+              double previous_set_rh, IngestSummary* summary) const {
+    if (summary == nullptr || step.num_rows < internal::kMinRowsForFrozenStep) return;
+    if (mass.constant) {
+      summary->warnings.push_back(Diagnostic{
+          Severity::kWarning, where,
+          fmt::format("vapour log {}, {}: the mass reads {:.7g} g on all {} rows (a frozen "
+                      "balance?); the equilibrium mass of this step is a repeated reading, not "
+                      "a measurement",
+                      log.file, DescribeStep(step), mass.first, step.num_rows),
+          "a balance reading that changes within a humidity step"});
+    }
+    if (rh.constant && previous != nullptr && rh.first == previous->last_rh &&
+        std::abs(step.set_rh_fraction - previous_set_rh) > 0.0) {
+      summary->warnings.push_back(Diagnostic{
+          Severity::kWarning, where,
+          fmt::format("vapour log {}, {}: the measured RH stays at {:g} %, the last reading of "
+                      "the step before, on all {} rows although the set point moved from "
+                      "{:g} % (a frozen sensor?); the RH of this step is not measured",
+                      log.file, DescribeStep(step), rh.first * 100.0, step.num_rows,
+                      previous_set_rh * 100.0),
+          "a measured RH that follows the set point"});
+    }
+  }
+};
+
 }  // namespace
 
 VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
                       IngestSummary* summary) {
+  return internal::ReadVaporLog(dataset, options, summary, nullptr);
+}
+
+VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
+                                IngestSummary* summary, std::vector<SpecimenMasses>* masses) {
   const CsvFormat& format = dataset.format;
   const std::string display = dataset.file.string();
   CsvReader reader(dataset.file, display, format.delimiter, format.decimal_comma);
-  reader.ReadHeader();
+  const std::vector<internal::CsvField> header = reader.ReadHeader();
   const std::vector<ColumnRole> roles = {
       {"elapsed time",
        true,
@@ -172,6 +230,27 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
   const internal::UnitScale mass_scale = internal::MassUnitToGram(columns[4].unit);
   const std::string rh_range = columns[2].unit == "percent" ? "0..100 %" : "0..1";
   const std::string set_range = columns[1].unit == "percent" ? "0..100 %" : "0..1";
+
+  // Plausibility rules R2, R4 and R5 (plausibility.h).
+  double max_set_raw = 0.0;  // largest values as written (the range checks keep them >= 0)
+  double max_rh_raw = 0.0;
+  internal::ConstancyTracker log_mass;
+  internal::ConstancyTracker log_rh;
+  internal::ConstancyTracker log_temperature;
+  FrozenStepCheck step_check;
+  FrozenStepCheck previous_step_check;
+  SourceLocation second_step_mass;  // mass cell of the first row of step 2
+  SourceLocation second_step_rh;    // measured-RH cell of the first row of step 2
+  internal::SpecimenMasses* gathered = nullptr;
+  if (masses != nullptr) {
+    masses->emplace_back();
+    gathered = &masses->back();
+    gathered->specimen_id = dataset.specimen_id;
+    gathered->dataset_id = dataset.id;
+    gathered->file = display;
+    gathered->mass_column = columns[4].name;
+    gathered->mass_field = columns[4].index;
+  }
 
   VaporLog log;
   log.dataset_id = dataset.id;
@@ -266,6 +345,12 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
                       columns[4].name + "' is not positive",
                   "a balance reading above zero");
     }
+    if (mass_g < internal::kMinPlausibleMass_g) {  // plausibility rule R4
+      reader.Fail(fields().Column(mass_index),
+                  "mass " + std::string(fields().Text(mass_index)) + " in column '" +
+                      columns[4].name + "' is below 1 ng: no balance weighs it",
+                  "a balance reading of at least 1 ng (1e-9 g)");
+    }
 
     if (!in_step || std::abs(set_rh - current_set) > kSetPointTolerance_fraction) {
       Branch branch = Branch::kAdsorption;
@@ -274,14 +359,31 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
       } else if (in_step && set_rh < current_set) {
         branch = Branch::kDesorption;
       }
-      if (in_step) log.steps.push_back(builder.Finish());
+      if (in_step) {
+        step_check.Finish(log, builder.step(), log.steps.empty() ? nullptr : &previous_step_check,
+                          log.steps.empty() ? 0.0 : log.steps.back().set_rh_fraction, summary);
+        previous_step_check = step_check;
+        log.steps.push_back(builder.Finish());
+      }
       if (branch == Branch::kAdsorption && last_wet_branch == Branch::kDesorption) ++cycle;
       if (branch != Branch::kDrying) last_wet_branch = branch;
       builder.Begin(static_cast<int>(log.steps.size()), set_rh, branch, cycle, t, reader.line());
+      step_check.Begin(fields().Where(fields().Column(mass_index)));
+      if (log.steps.size() == 1) {
+        second_step_mass = step_check.where;
+        second_step_rh = fields().Where(fields().Column(rh_index));
+      }
       current_set = set_rh;
       in_step = true;
     }
     builder.Add(t, rh, temperature_K, mass_g, reader.line());
+    step_check.Add(mass_g, rh);
+    log_mass.Add(mass_g);
+    log_rh.Add(rh);
+    log_temperature.Add(temperature_K);
+    max_set_raw = std::max(max_set_raw, set_raw);
+    max_rh_raw = std::max(max_rh_raw, rh_raw);
+    if (gathered != nullptr) gathered->Add(mass_g, reader.line());
     previous_t = t;
     previous_line = reader.line();
     ++log.num_rows;
@@ -292,7 +394,59 @@ VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
         "no data lines after the header (line " + std::to_string(reader.header_line()) + ")",
         "at least one reading per line");
   }
+  step_check.Finish(log, builder.step(), log.steps.empty() ? nullptr : &previous_step_check,
+                    log.steps.empty() ? 0.0 : log.steps.back().set_rh_fraction, summary);
   log.steps.push_back(builder.Finish());
+
+  // Plausibility rule R2: RH fractions under a percent column.
+  const auto fail_fractions = [&](const internal::MappedColumn& column, std::string message) {
+    reader.FailAt(reader.header_line(), header[static_cast<std::size_t>(column.index)].column,
+                  std::move(message),
+                  "RH in percent in a percent column (11.3 for 0.113), or the fractions in a "
+                  "*_fraction column (rh_unit = \"fraction\" for a bare column name)");
+  };
+  const double max_set_percent = set_scale.ToSi(max_set_raw) * 100.0;
+  if (columns[1].unit == "percent" && internal::PercentColumnLooksLikeFractions(max_set_raw)) {
+    fail_fractions(columns[1],
+                   fmt::format("every set point in column '{}' is at most {:g} % (largest {:g}): "
+                               "fractions in a percent column?",
+                               columns[1].name, internal::kMaxFractionLikeRh_percent, max_set_raw));
+  }
+  if (columns[2].unit == "percent" && internal::PercentColumnLooksLikeFractions(max_rh_raw) &&
+      max_set_percent > internal::kMaxFractionLikeRh_percent) {
+    fail_fractions(columns[2],
+                   fmt::format("every measured RH in column '{}' is at most {:g} % (largest {:g}) "
+                               "while the set points reach {:g} %: fractions in a percent column?",
+                               columns[2].name, internal::kMaxFractionLikeRh_percent, max_rh_raw,
+                               max_set_percent));
+  }
+
+  // Plausibility rule R5 over the whole log.
+  const std::size_t num_steps = log.steps.size();
+  if (num_steps >= 2 && log_mass.constant) {
+    throw InputError(second_step_mass,
+                     fmt::format("the mass reads {:.7g} g on all {} rows over {} set points: no "
+                                 "uptake or loss at any humidity (a frozen balance or a copied "
+                                 "column)",
+                                 log_mass.first, log.num_rows, num_steps),
+                     "a mass log that follows the humidity steps");
+  }
+  if (num_steps >= 2 && log_rh.constant) {
+    throw InputError(second_step_rh,
+                     fmt::format("the measured RH reads {:g} % on all {} rows over {} set points "
+                                 "(a frozen sensor)",
+                                 log_rh.first * 100.0, log.num_rows, num_steps),
+                     "a measured RH that follows the set point");
+  }
+  if (summary != nullptr && num_steps >= 2 && log.num_rows >= internal::kMinRowsForFrozenStep &&
+      log_temperature.constant) {
+    summary->warnings.push_back(Diagnostic{
+        Severity::kWarning, SourceLocation{display, static_cast<int>(log.steps[0].first_line), 0},
+        fmt::format("vapour log {}: the temperature reads {:g} degC on all {} rows (a frozen "
+                    "sensor or a logged set point); the test temperature is not measured",
+                    log.file, physics::KelvinToCelsius(log_temperature.first), log.num_rows),
+        "a temperature reading that shows its sensor's noise"});
+  }
   if (summary != nullptr && num_gaps > kMaxGapWarnings) {
     summary->warnings.push_back(
         Diagnostic{Severity::kWarning, SourceLocation{display, 0, 0},

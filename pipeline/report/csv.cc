@@ -1,8 +1,12 @@
 // CSV companions of the datasheet: comma-separated, one header line, numbers in SI in their
 // shortest round-trip form (so they re-read to the same doubles), text fields quoted when
-// they contain a comma, quote or line break (RFC 4180).
+// they contain a comma, quote or line break (RFC 4180). Text that a spreadsheet would run as
+// a formula (first character =, +, -, @, tab or CR; OWASP "CSV Injection") is neutralised:
+// prefixed with a single quote and quoted. A text cell that is a plain number (e.g. "-0.5")
+// is not a formula and stays as it is.
 #include <fmt/format.h>
 
+#include <charconv>
 #include <cmath>
 #include <string>
 
@@ -13,8 +17,25 @@ namespace {
 
 std::string Num(double value) { return std::isfinite(value) ? fmt::format("{}", value) : ""; }
 
-std::string Text(const std::string& text) {
-  if (text.find_first_of(",\"\n\r") == std::string::npos) return text;
+bool IsPlainNumber(const std::string& text) {
+  double value = 0.0;
+  const char* end = text.data() + text.size();
+  const auto [ptr, ec] = std::from_chars(text.data(), end, value);
+  return ec == std::errc() && ptr == end;
+}
+
+// OWASP CSV-injection rule: the characters that start a formula in common spreadsheets.
+bool StartsAFormula(const std::string& text) {
+  return !text.empty() && std::string_view("=+-@\t\r").find(text.front()) != std::string::npos &&
+         !IsPlainNumber(text);
+}
+
+}  // namespace
+
+std::string CsvText(const std::string& raw) {
+  const bool formula = StartsAFormula(raw);
+  const std::string text = formula ? "'" + raw : raw;
+  if (!formula && text.find_first_of(",\"\n\r") == std::string::npos) return text;
   std::string out = "\"";
   for (char c : text) {
     if (c == '"') out += '"';
@@ -23,37 +44,59 @@ std::string Text(const std::string& text) {
   return out + "\"";
 }
 
+namespace {
+
+std::string Text(const std::string& text) { return CsvText(text); }
+
 std::string Join(const std::vector<std::string>& items, const char* separator) {
   std::string out;
   for (size_t i = 0; i < items.size(); ++i) out += (i > 0 ? separator : "") + items[i];
   return out;
 }
 
-std::string EquilibriumTable(const ReportInputs& inputs) {
+// RH and moisture content of a point as a person reads them (format.h rules, display units).
+std::string AsPrinted(const Quantity& rh, const Quantity& moisture) {
+  return Text(rh.text) + "," + Text(moisture.text);
+}
+
+std::string EquilibriumTable(const ReportInputs& inputs, const Sheet& sheet) {
   std::string out =
       "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_K,rh_fraction,"
       "u_rh_fraction,moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,"
       "between_specimen_sd_kg_per_kg,num_specimens,time_to_equilibrium_s,equilibrated,"
-      "extrapolated,flags\n";
+      "extrapolated,flags,rh_as_printed,moisture_as_printed\n";
   if (inputs.reduced == nullptr) return out;
   const reduce::ReducedIsotherms& r = *inputs.reduced;
   for (const reduce::SpecimenPoint& p : r.specimen_points) {
-    out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},,1,{},{},{},{}\n",
+    const DisplayRules& rules = sheet.rules;
+    const double k_u = p.u_moisture_kg_per_kg > 0.0 && p.expanded_u_moisture_kg_per_kg > 0.0
+                           ? p.expanded_u_moisture_kg_per_kg / p.u_moisture_kg_per_kg
+                           : r.coverage_factor;
+    DisplayRules moisture_rules = rules;
+    moisture_rules.coverage_factor = k_u;
+    DisplayRules rh_rules = rules;
+    rh_rules.coverage_factor = r.coverage_factor;
+    const std::string printed = AsPrinted(
+        MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%", rh_rules),
+        MoistureQuantity("moisture", "moisture content", p.moisture_kg_per_kg,
+                         p.u_moisture_kg_per_kg, moisture_rules));
+    out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},,1,{},{},{},{},{}\n",
                        Text(p.dataset_id), Text(p.specimen_id), p.step_index, Text(p.step_label),
                        BranchLabel(p.branch), p.cycle, Num(p.temperature_K), Num(p.rh_fraction),
                        Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg), Num(p.u_moisture_kg_per_kg),
-                       Num(r.coverage_factor * p.u_moisture_kg_per_kg),
-                       Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no",
-                       p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")));
+                       Num(k_u * p.u_moisture_kg_per_kg), Num(p.time_to_equilibrium_s),
+                       p.equilibrated ? "yes" : "no", p.extrapolated ? "yes" : "no",
+                       Text(Join(p.flags, "; ")), printed);
   }
   for (const reduce::IsothermPoint& p : r.points) {
-    out += fmt::format("combined,{},,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n",
-                       Text(p.dataset_id), p.step_index, Text(p.step_label), BranchLabel(p.branch),
-                       p.cycle, Num(p.temperature_K), Num(p.rh_fraction), Num(p.u_rh_fraction),
-                       Num(p.moisture_kg_per_kg), Num(p.u_moisture_kg_per_kg),
-                       Num(p.expanded_u_moisture_kg_per_kg), Num(p.between_specimen_sd_kg_per_kg),
-                       p.num_specimens, Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no",
-                       p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")));
+    out += fmt::format(
+        "combined,{},,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", Text(p.dataset_id),
+        p.step_index, Text(p.step_label), BranchLabel(p.branch), p.cycle, Num(p.temperature_K),
+        Num(p.rh_fraction), Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg),
+        Num(p.u_moisture_kg_per_kg), Num(p.expanded_u_moisture_kg_per_kg),
+        Num(p.between_specimen_sd_kg_per_kg), p.num_specimens, Num(p.time_to_equilibrium_s),
+        p.equilibrated ? "yes" : "no", p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")),
+        AsPrinted(PointRhQuantity(p, sheet.rules), PointMoistureQuantity(p, sheet.rules)));
   }
   return out;
 }
@@ -109,7 +152,7 @@ std::string PoreDistribution(const ReportInputs& inputs) {
 
 std::vector<std::pair<std::string, std::string>> BuildCsvFiles(const ReportInputs& inputs,
                                                                const Sheet& sheet) {
-  return {{"equilibrium_table.csv", EquilibriumTable(inputs)},
+  return {{"equilibrium_table.csv", EquilibriumTable(inputs, sheet)},
           {"fit_parameters.csv", FitParameters(inputs, sheet)},
           {"pore_distribution.csv", PoreDistribution(inputs)}};
 }

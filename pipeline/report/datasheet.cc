@@ -253,22 +253,23 @@ void SummarySection(Context& ctx, bool compact) {
   std::vector<std::pair<std::string, std::string>> facts;
   if (ctx.inputs.ingested != nullptr) {
     const ingest::JobSpec& job = ctx.inputs.ingested->job;
-    facts.emplace_back("Material", job.material_name);
+    facts.emplace_back("Material", PrintedField(job.material_name));
     if (!job.material_description.empty())
-      facts.emplace_back("Description", job.material_description);
-    if (!job.client.empty()) facts.emplace_back("Client", job.client);
+      facts.emplace_back("Description", PrintedField(job.material_description));
+    if (!job.client.empty()) facts.emplace_back("Client", PrintedField(job.client));
     std::string specimens;
     for (const ingest::SpecimenSpec& s : job.specimens) {
       specimens += (specimens.empty() ? "" : ", ") + s.id;
     }
-    facts.emplace_back("Specimens", fmt::format("{} ({})", job.specimens.size(), specimens));
+    facts.emplace_back("Specimens",
+                       fmt::format("{} ({})", job.specimens.size(), PrintedField(specimens)));
     facts.emplace_back("Method", MethodText(ctx.inputs.ingested));
     std::string temperatures;
     for (double t : DistinctTemperatures(ctx.inputs)) {
       temperatures += (temperatures.empty() ? "" : ", ") + TemperatureLabel(t);
     }
     if (!temperatures.empty()) facts.emplace_back("Temperature", temperatures);
-    if (!job.test_dates.empty()) facts.emplace_back("Test dates", job.test_dates);
+    if (!job.test_dates.empty()) facts.emplace_back("Test dates", PrintedField(job.test_dates));
     facts.emplace_back("Issued",
                        job.issue_date.empty() ? ctx.options.document_date : job.issue_date);
   }
@@ -726,7 +727,6 @@ void EquilibriaSection(Context& ctx) {
                                       {"t_eq (h)", w * 0.07, true},
                                       {"Flags", w * 0.15, false}};
   const double ms = ctx.moisture_scale();
-  const double k = ctx.sheet.rules.coverage_factor;
   const int digits = ctx.sheet.rules.significant_digits;
   std::vector<std::vector<std::string>> rows;
   for (const reduce::IsothermPoint& p : ctx.inputs.reduced->points) {
@@ -735,19 +735,90 @@ void EquilibriaSection(Context& ctx) {
     if (!p.equilibrated)
       flags = fmt::format("not equilibrated{}{}", flags.empty() ? "" : "; ", flags);
     if (p.extrapolated) flags = fmt::format("extrapolated{}{}", flags.empty() ? "" : "; ", flags);
-    const double u_rh =
-        p.expanded_u_rh_fraction > 0.0 ? p.expanded_u_rh_fraction : k * p.u_rh_fraction;
-    const double u_m = p.expanded_u_moisture_kg_per_kg > 0.0 ? p.expanded_u_moisture_kg_per_kg
-                                                             : k * p.u_moisture_kg_per_kg;
-    rows.push_back({p.dataset_id + " / " + p.step_label, BranchLabel(p.branch),
-                    FormatFixed(p.temperature_K - 273.15, 1), std::to_string(p.num_specimens),
-                    FormatWithUncertainty(p.rh_fraction * 100.0, u_rh * 100.0, digits),
-                    FormatWithUncertainty(p.moisture_kg_per_kg * ms, u_m * ms, digits),
-                    FormatSignificant(p.between_specimen_sd_kg_per_kg * ms, 2),
-                    FormatSignificant(p.time_to_equilibrium_s / kSecondsPerHour, 3),
-                    flags.empty() ? "–" : flags});
+    const Quantity rh = PointRhQuantity(p, ctx.sheet.rules);
+    const Quantity moisture = PointMoistureQuantity(p, ctx.sheet.rules);
+    rows.push_back(
+        {p.dataset_id + " / " + p.step_label, BranchLabel(p.branch),
+         FormatFixed(p.temperature_K - 273.15, 1), std::to_string(p.num_specimens),
+         FormatWithUncertainty(rh.display_value, rh.display_expanded_uncertainty, digits),
+         FormatWithUncertainty(moisture.display_value, moisture.display_expanded_uncertainty,
+                               digits),
+         FormatSignificant(p.between_specimen_sd_kg_per_kg * ms, 2),
+         FormatSignificant(p.time_to_equilibrium_s / kSecondsPerHour, 3),
+         flags.empty() ? "–" : flags});
   }
   doc.Table(columns, rows, 7.0);
+}
+
+// A recorded setting as the user wrote it: numbers by FormatSetting (0.106, not
+// 0.10600000000000001), text in quotes, lists in brackets.
+std::string SettingText(const nlohmann::ordered_json& j) {
+  if (j.is_number_float()) return FormatSetting(j.get<double>());
+  if (j.is_array()) {
+    std::string out;
+    for (const auto& item : j) out += (out.empty() ? "" : ", ") + SettingText(item);
+    return "[" + out + "]";
+  }
+  if (j.is_object()) {
+    std::string out;
+    for (auto it = j.begin(); it != j.end(); ++it) {
+      out += (out.empty() ? "" : ", ") + it.key() + " = " + SettingText(it.value());
+    }
+    return "{ " + out + " }";
+  }
+  return j.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace);
+}
+
+// The budget of one reported point: the point of the equilibrium table with the largest
+// expanded uncertainty of its moisture content, named by data set, step, RH, branch,
+// temperature and specimens. Every point's budget is in results.json.
+void BudgetOfLargestPoint(Context& ctx) {
+  Document& doc = ctx.doc;
+  doc.Subheading("Uncertainty budget of one reported point");
+  if (ctx.inputs.reduced == nullptr || ctx.inputs.reduced->points.empty()) {
+    doc.Paragraph("No equilibrium point was reported.", 8.0);
+    return;
+  }
+  const auto& points = ctx.inputs.reduced->points;
+  const auto worst =
+      std::max_element(points.begin(), points.end(), [](const auto& a, const auto& b) {
+        return a.expanded_u_moisture_kg_per_kg < b.expanded_u_moisture_kg_per_kg;
+      });
+  const PointBudget budget = CombinedPointBudget(*ctx.inputs.reduced, *worst);
+  const Quantity rh = PointRhQuantity(*worst, ctx.sheet.rules);
+  const Quantity moisture = PointMoistureQuantity(*worst, ctx.sheet.rules);
+  std::string specimens;
+  for (const std::string& id : budget.specimen_ids)
+    specimens += (specimens.empty() ? "" : ", ") + id;
+  doc.Paragraph(
+      fmt::format("Point with the largest expanded uncertainty in the equilibrium table: data set "
+                  "{}, step {} ({}), {}, {}, RH {}; specimens {}. Moisture content {} (k = {}). "
+                  "Budget per JCGM 100:2008 (law of propagation); results.json holds the "
+                  "budget of every point.",
+                  worst->dataset_id, worst->step_index + 1, worst->step_label,
+                  BranchLabel(worst->branch), TemperatureLabel(worst->temperature_K), rh.text,
+                  specimens.empty() ? "–" : specimens, moisture.text,
+                  CoverageText(moisture.coverage_factor)),
+      8.0);
+  const double ms = ctx.moisture_scale();
+  const std::string mu = ctx.sheet.moisture_unit;
+  double u2 = 0.0;
+  for (const reduce::BudgetLine& b : budget.moisture) u2 += b.contribution * b.contribution;
+  std::vector<std::vector<std::string>> rows;
+  for (const reduce::BudgetLine& b : budget.moisture) {
+    rows.push_back({b.quantity, FormatSignificant(b.contribution * ms, 2),
+                    u2 > 0.0 ? FormatFixed(100.0 * b.contribution * b.contribution / u2, 1) : "–"});
+  }
+  rows.push_back({"combined standard uncertainty u_c",
+                  FormatSignificant(moisture.standard_uncertainty * ms, 2), "100.0"});
+  rows.push_back(
+      {"expanded uncertainty U = k u_c (k = " + CoverageText(moisture.coverage_factor) + ")",
+       FormatSignificant(moisture.display_expanded_uncertainty, 2), ""});
+  const double w = doc.width();
+  doc.Table({{"Component (aggregated over the specimens of the step)", w * 0.56, false},
+             {"Contribution to u_c (" + mu + ")", w * 0.24, true},
+             {"Share of u_c² (%)", w * 0.20, true}},
+            rows, 7.5);
 }
 
 void MethodSection(Context& ctx) {
@@ -774,8 +845,7 @@ void MethodSection(Context& ctx) {
       settings["equilibrium"].is_object()) {
     std::string criteria;
     for (auto it = settings["equilibrium"].begin(); it != settings["equilibrium"].end(); ++it) {
-      criteria += (criteria.empty() ? "" : ", ") + it.key() + " = " +
-                  it.value().dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace);
+      criteria += (criteria.empty() ? "" : ", ") + it.key() + " = " + SettingText(it.value());
     }
     doc.Paragraph("Equilibrium criteria: " + criteria + ".", 8.0);
   } else {
@@ -799,30 +869,7 @@ void MethodSection(Context& ctx) {
                {"Method", w * 0.55, false}},
               rows, 7.5);
   }
-  doc.Subheading("Uncertainty budget (point with the largest combined uncertainty)");
-  if (ctx.inputs.reduced != nullptr && !ctx.inputs.reduced->specimen_points.empty()) {
-    const auto& sp = ctx.inputs.reduced->specimen_points;
-    const auto worst = std::max_element(sp.begin(), sp.end(), [](const auto& a, const auto& b) {
-      return a.u_moisture_kg_per_kg < b.u_moisture_kg_per_kg;
-    });
-    doc.Paragraph(fmt::format("Specimen {}, step {} ({} % RH): u(moisture) = {} kg/kg "
-                              "(standard, JCGM 100:2008 law of propagation).",
-                              worst->specimen_id, worst->step_label,
-                              FormatFixed(worst->rh_fraction * 100.0, 1),
-                              FormatSignificant(worst->u_moisture_kg_per_kg, 2)),
-                  8.0);
-    std::vector<std::vector<std::string>> rows;
-    for (const reduce::BudgetLine& b : worst->moisture_budget) {
-      rows.push_back({b.quantity, FormatSignificant(b.standard_uncertainty, 2) + " " + b.unit,
-                      FormatSignificant(b.sensitivity, 3), FormatSignificant(b.contribution, 2)});
-    }
-    const double w = doc.width();
-    doc.Table({{"Input quantity", w * 0.40, false},
-               {"u(x_i)", w * 0.20, true},
-               {"c_i", w * 0.20, true},
-               {"|c_i| u(x_i) (kg/kg)", w * 0.20, true}},
-              rows, 7.5);
-  }
+  BudgetOfLargestPoint(ctx);
   doc.Subheading("Inputs (SHA-256)");
   if (in != nullptr) {
     std::vector<std::vector<std::string>> rows;
@@ -844,8 +891,7 @@ void MethodSection(Context& ctx) {
             flatten(it.value(), prefix.empty() ? it.key() : prefix + "." + it.key());
           }
         } else {
-          lines.push_back(prefix + " = " +
-                          j.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace));
+          lines.push_back(prefix + " = " + SettingText(j));
         }
       };
   if (!settings.is_null()) flatten(settings, "");
@@ -872,7 +918,7 @@ ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout
   const Sheet sheet = BuildSheet(inputs, layout);
   std::string report_number = "draft";
   if (inputs.ingested != nullptr && !inputs.ingested->job.job_id.empty()) {
-    report_number = inputs.ingested->job.job_id;
+    report_number = PrintedField(inputs.ingested->job.job_id);
   }
   Document doc(layout, options, report_number, PlainVersion(inputs.software_version));
   Context ctx{inputs, layout, options, sheet, doc};
@@ -902,6 +948,7 @@ ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout
     }
   }
   ReportArtifacts artifacts;
+  artifacts.warnings = sheet.warnings;
   artifacts.num_pages = doc.num_pages();
   artifacts.pdf = doc.Finish();
   artifacts.results_json =

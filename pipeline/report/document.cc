@@ -8,6 +8,7 @@
 #include <string>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/report/plot/text.h"
 
 namespace sorbtrace::report {
 namespace {
@@ -77,31 +78,13 @@ Document::Document(const Template& layout, const ReportOptions& options, std::st
   }
   pdf_ = HPDF_New(&Document::OnError, this);
   if (pdf_ == nullptr) throw ComputationError("PDF writer could not be created");
-  HPDF_SetCompressionMode(pdf_, HPDF_COMP_ALL);
-  HPDF_UseUTFEncodings(pdf_);
-  HPDF_SetCurrentEncoder(pdf_, "UTF-8");
-  // Embedded (subset of used glyphs) so the sheet prints the same everywhere.
-  const char* regular_name = HPDF_LoadTTFontFromFile(pdf_, regular.c_str(), HPDF_TRUE);
-  const char* bold_name = HPDF_LoadTTFontFromFile(pdf_, bold.c_str(), HPDF_TRUE);
-  if (regular_name == nullptr || bold_name == nullptr) {
-    HPDF_Free(pdf_);
+  try {
+    SetUpDocument(regular, bold);
+  } catch (...) {
+    HPDF_Free(pdf_);  // the destructor does not run for a throwing constructor
     pdf_ = nullptr;
-    throw InputError(SourceLocation{regular.string(), 0, 0}, "font file could not be loaded",
-                     "a TrueType font");
+    throw;
   }
-  regular_ = HPDF_GetFont(pdf_, regular_name, "UTF-8");
-  bold_ = HPDF_GetFont(pdf_, bold_name, "UTF-8");
-
-  // Document information: fixed, from the inputs only (no wall clock).
-  HPDF_Date date;
-  if (ParseDate(document_date_, &date)) {
-    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_CREATION_DATE, date);
-    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_MOD_DATE, date);
-  }
-  HPDF_SetInfoAttr(pdf_, HPDF_INFO_TITLE, (layout_.title + " " + report_number_).c_str());
-  if (!layout_.lab_name.empty()) HPDF_SetInfoAttr(pdf_, HPDF_INFO_AUTHOR, layout_.lab_name.c_str());
-  HPDF_SetInfoAttr(pdf_, HPDF_INFO_CREATOR, ("sorbtrace " + software_version_).c_str());
-
   if (layout_.page_size == PageSize::kLetter) {
     page_width_ = kLetterWidth;
     page_height_ = kLetterHeight;
@@ -111,12 +94,62 @@ Document::Document(const Template& layout, const ReportOptions& options, std::st
   }
 }
 
+void Document::SetUpDocument(const std::filesystem::path& regular,
+                             const std::filesystem::path& bold) {
+  HPDF_SetCompressionMode(pdf_, HPDF_COMP_ALL);
+  HPDF_UseUTFEncodings(pdf_);
+  HPDF_SetCurrentEncoder(pdf_, "UTF-8");
+  // Embedded (subset of used glyphs) so the sheet prints the same everywhere.
+  const char* regular_name = HPDF_LoadTTFontFromFile(pdf_, regular.c_str(), HPDF_TRUE);
+  const char* bold_name = HPDF_LoadTTFontFromFile(pdf_, bold.c_str(), HPDF_TRUE);
+  if (regular_name == nullptr || bold_name == nullptr) {
+    throw InputError(SourceLocation{regular.string(), 0, 0}, "font file could not be loaded",
+                     "a TrueType font");
+  }
+  regular_ = HPDF_GetFont(pdf_, regular_name, "UTF-8");
+  bold_ = HPDF_GetFont(pdf_, bold_name, "UTF-8");
+  if (regular_ == nullptr || bold_ == nullptr) {
+    ThrowIfFailed("selecting the fonts");
+    throw ComputationError("PDF writer failed while selecting the fonts");
+  }
+
+  // Document information: fixed, from the inputs only (no wall clock).
+  HPDF_Date date;
+  if (ParseDate(document_date_, &date)) {
+    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_CREATION_DATE, date);
+    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_MOD_DATE, date);
+  }
+  // Metadata strings pass the same cleaning and length limits as the printed text.
+  HPDF_SetInfoAttr(pdf_, HPDF_INFO_TITLE,
+                   plot::PrintableText(layout_.title + " " + report_number_).c_str());
+  if (!layout_.lab_name.empty()) {
+    HPDF_SetInfoAttr(pdf_, HPDF_INFO_AUTHOR, plot::PrintableText(layout_.lab_name).c_str());
+  }
+  HPDF_SetInfoAttr(pdf_, HPDF_INFO_CREATOR,
+                   plot::PrintableText("sorbtrace " + software_version_).c_str());
+  ThrowIfFailed("writing the document information");
+}
+
 Document::~Document() {
   if (pdf_ != nullptr) HPDF_Free(pdf_);
 }
 
+void Document::ThrowIfFailed(const char* doing) const {
+  if (first_error_ == HPDF_OK) return;
+  // Every libharu error reaches OnError; none is ignored. A drawing call that failed leaves
+  // the document in an error state in which HPDF_AddPage returns no page: stop here.
+  throw ComputationError(
+      fmt::format("PDF writer failed while {} (libharu error 0x{:04X}, detail {})", doing,
+                  first_error_, first_detail_));
+}
+
 void Document::NewPage() {
+  ThrowIfFailed("drawing the previous page");
   HPDF_Page page = HPDF_AddPage(pdf_);
+  if (page == nullptr) {
+    ThrowIfFailed("adding a page");
+    throw ComputationError("PDF writer failed while adding a page");
+  }
   HPDF_Page_SetWidth(page, F(page_width_));
   HPDF_Page_SetHeight(page, F(page_height_));
   pages_.push_back(page);
@@ -303,9 +336,10 @@ std::string Document::Finish() {
     c.Text(right_, y, fmt::format("Report {}  ·  page {} of {}", report_number_, i + 1, n), 7.0,
            Canvas::Align::kRight, false, palette::kSlate);
   }
-  if (HPDF_SaveToStream(pdf_) != HPDF_OK || first_error_ != HPDF_OK) {
-    throw ComputationError(fmt::format("PDF writer failed (libharu error 0x{:04X}, detail {})",
-                                       first_error_, first_detail_));
+  ThrowIfFailed("drawing the pages");
+  if (HPDF_SaveToStream(pdf_) != HPDF_OK) {
+    ThrowIfFailed("saving the document");
+    throw ComputationError("PDF writer failed while saving the document");
   }
   std::string bytes(HPDF_GetStreamSize(pdf_), '\0');
   HPDF_ResetStream(pdf_);

@@ -5,6 +5,7 @@
 
 #include <hpdf.h>
 
+#include <filesystem>
 #include <memory>
 #include <string>
 #include <vector>
@@ -68,7 +69,12 @@ class Document {
   std::string Finish();
 
  private:
+  // libharu's error handler: records the first error (a C callback must not throw).
   static void OnError(HPDF_STATUS error, HPDF_STATUS detail, void* user_data);
+  // Throws ComputationError naming the first libharu error, if any, and what was being done.
+  void ThrowIfFailed(const char* doing) const;
+  // Fonts, encoder and document information (the constructor frees pdf_ if this throws).
+  void SetUpDocument(const std::filesystem::path& regular, const std::filesystem::path& bold);
   void DrawHeader();
   double TableRowHeight(const std::vector<TableColumn>& columns,
                         const std::vector<std::string>& cells, double size_pt, bool bold) const;

@@ -1,9 +1,4 @@
-// Rounding rule (JCGM 100:2008, 7.2.6): the expanded uncertainty is given to at most two
-// significant digits and the value is rounded to the same decimal place. Rounding is to the
-// nearest; an exact tie (possible only for values exactly representable in binary, such as
-// 1234.5) goes to the even digit, rule B of ISO 80000-1:2009 Annex B (from memory) and the
-// behaviour of C printf. Digits come from fmt's exact fixed-point formatting of the binary
-// value, never from repeated floating-point scaling, so no "0.30000000000000004" can appear.
+// The rules are stated in format.h (JCGM 100:2008, 7.2.6; notation; digit cap).
 #include "pipeline/report/format.h"
 
 #include <fmt/format.h>
@@ -18,37 +13,91 @@
 namespace sorbtrace::report {
 namespace {
 
-// Plain decimals are used while the value and its uncertainty stay within these decades
-// (common practice in datasheets: no more than four leading zeros, no more than six digits
-// before the point).
+// Plain decimals while the larger magnitude stays within these decades and no more than
+// kMaxPlainDecimals decimals are needed (common practice in datasheets: at most four leading
+// zeros, at most six digits before the point).
 constexpr int kMinPlainExponent = -4;
 constexpr int kMaxPlainExponent = 5;
+constexpr int kMaxPlainDecimals = 6;
+// Engineering notation: exponents are multiples of three (ISO 80000-1 SI prefixes).
+constexpr int kEngineeringStep = 3;
+// Decimal digits that every double reproduces exactly (IEEE 754 binary64: DBL_DIG = 15).
+constexpr int kSettingDigits = 15;
 
-std::string StripNegativeZero(std::string text) {
-  if (!text.empty() && text.front() == '-' && text.find_first_not_of("-0.") == std::string::npos) {
-    text.erase(0, 1);
+// |x| rounded to a whole number of units 10^place: its decimal digits (no leading zeros,
+// "0" for zero) and sign.
+struct Rounded {
+  bool negative = false;
+  std::string digits = "0";
+  int place = 0;
+  bool zero() const { return digits == "0"; }
+  int num_digits() const { return zero() ? 0 : static_cast<int>(digits.size()); }
+  // Decimal exponent of the leading digit (place for zero).
+  int top() const { return place + std::max(num_digits(), 1) - 1; }
+};
+
+Rounded RoundAt(double x, int place) {
+  Rounded r;
+  r.place = place;
+  // fmt prints the exact binary value rounded to the requested decimals (ties to even).
+  std::string text = place <= 0 ? fmt::format("{:.{}f}", std::abs(x), -place)
+                                : fmt::format("{:.0f}", std::abs(x) / std::pow(10.0, place));
+  text.erase(std::remove(text.begin(), text.end(), '.'), text.end());
+  const size_t first = text.find_first_not_of('0');
+  r.digits = first == std::string::npos ? "0" : text.substr(first);
+  r.negative = x < 0.0 && !r.zero();
+  return r;
+}
+
+// The smallest whole number of units 10^place that is not below u (u > 0), at least one unit.
+Rounded RoundUpAt(double u, int place) {
+  Rounded r = RoundAt(u, place);
+  const double units = u / std::pow(10.0, place);
+  // A relative slack of 1e-12 keeps a U that is a whole number of units (0.0012 at place
+  // -4, binary 0.00120000000000000002) from being bumped by its representation error.
+  const long long up = std::max(1LL, static_cast<long long>(std::ceil(units * (1.0 - 1e-12))));
+  r.digits = std::to_string(up);
+  r.negative = false;
+  return r;
+}
+
+// r written as a decimal number in units of 10^exponent (exponent <= r.place or not).
+std::string Decimal(const Rounded& r, int exponent) {
+  const int shift = r.place - exponent;  // digits x 10^shift
+  std::string out = r.digits;
+  if (shift >= 0) {
+    if (!r.zero()) out.append(static_cast<size_t>(shift), '0');
+  } else {
+    const size_t decimals = static_cast<size_t>(-shift);
+    if (out.size() <= decimals) out.insert(0, decimals - out.size() + 1, '0');
+    out.insert(out.size() - decimals, ".");
   }
-  return text;
+  return (r.negative ? "-" : "") + out;
 }
 
 int DecimalExponent(double x) { return static_cast<int>(std::floor(std::log10(std::abs(x)))); }
 
-// Formats x rounded to the decimal place 10^place (place may be negative).
-std::string AtPlace(double x, int place) {
-  if (place < 0) return StripNegativeZero(fmt::format("{:.{}f}", x, -place));
-  const double scaled = place == 0 ? x : x / std::pow(10.0, place);
-  std::string digits = StripNegativeZero(fmt::format("{:.0f}", scaled));
-  if (digits != "0") digits.append(static_cast<size_t>(place), '0');
-  return digits;
+// The power of ten for numbers whose larger magnitude has its leading digit at 10^top and
+// whose last digit is at 10^place: 0 for plain decimals, else a multiple of three.
+int NotationExponent(int top, int place) {
+  if (top >= kMinPlainExponent && top <= kMaxPlainExponent && place >= -kMaxPlainDecimals) {
+    return 0;
+  }
+  const int e = static_cast<int>(
+                    std::floor(static_cast<double>(top) / static_cast<double>(kEngineeringStep))) *
+                kEngineeringStep;
+  return e;
+}
+
+std::string TimesTenTo(int exponent) {
+  return exponent == 0 ? "" : " × 10" + plot::Superscript(exponent);
 }
 
 // Decimal place of the last significant digit when u is rounded to n significant digits,
-// after the carry (e.g. 0.0996 to 2 digits is 0.10: place -2, not -3).
+// after the carry (0.0996 to 2 digits is 0.10: place -2, not -3).
 int UncertaintyPlace(double u, int n) {
   int place = DecimalExponent(u) - (n - 1);
-  const std::string rounded = AtPlace(u, place);
-  const double back = std::stod(rounded);
-  if (back >= std::pow(10.0, place + n) * (1.0 - 1e-12)) ++place;
+  if (RoundAt(u, place).num_digits() > n) ++place;
   return place;
 }
 
@@ -56,51 +105,58 @@ int UncertaintyPlace(double u, int n) {
 
 std::string FormatFixed(double value, int decimals) {
   if (!std::isfinite(value)) return "n/a";
-  return StripNegativeZero(fmt::format("{:.{}f}", value, std::clamp(decimals, 0, 15)));
+  return Decimal(RoundAt(value, -std::clamp(decimals, 0, 15)), 0);
 }
 
 std::string FormatSignificant(double value, int significant_digits) {
   if (!std::isfinite(value)) return "n/a";
-  const int n = std::clamp(significant_digits, 1, 15);
   if (value == 0.0) return "0";
-  int exponent = DecimalExponent(value);
-  if (exponent >= kMinPlainExponent && exponent <= kMaxPlainExponent) {
-    int place = exponent - (n - 1);
-    std::string text = AtPlace(value, place);
-    // A carry (9.99 -> 10.0) adds a digit: drop the last one.
-    if (std::abs(std::stod(text)) >= std::pow(10.0, exponent + 1) * (1.0 - 1e-12)) {
-      text = AtPlace(value, place + 1);
-    }
-    return text;
-  }
-  double mantissa = value / std::pow(10.0, exponent);
-  std::string m = FormatFixed(mantissa, n - 1);
-  if (std::abs(std::stod(m)) >= 10.0) {
-    ++exponent;
-    m = FormatFixed(value / std::pow(10.0, exponent), n - 1);
-  }
-  return m + " × 10" + plot::Superscript(exponent);
+  const int n = std::clamp(significant_digits, 1, 15);
+  int place = DecimalExponent(value) - (n - 1);
+  Rounded r = RoundAt(value, place);
+  if (r.num_digits() > n) r = RoundAt(value, ++place);  // 9.996 -> 10.0: one digit fewer
+  const int exponent = NotationExponent(r.top(), place);
+  return Decimal(r, exponent) + TimesTenTo(exponent);
 }
 
 std::string FormatWithUncertainty(double value, double uncertainty, int significant_digits) {
   if (!std::isfinite(value)) return "n/a";
-  const int n = std::clamp(significant_digits, 1, 4);
   if (!std::isfinite(uncertainty) || uncertainty <= 0.0) {
     // No usable uncertainty: the value alone, to four significant digits (common practice).
     return FormatSignificant(value, 4);
   }
-  const int place = UncertaintyPlace(uncertainty, n);
-  const double larger = std::max(std::abs(value), uncertainty);
-  const int top = DecimalExponent(larger);
-  if (place >= kMinPlainExponent - (n - 1) && top <= kMaxPlainExponent) {
-    return AtPlace(value, place) + " ± " + AtPlace(uncertainty, place);
+  const int n = std::clamp(significant_digits, 1, 4);
+  int place = UncertaintyPlace(uncertainty, n);
+  Rounded v = RoundAt(value, place);
+  Rounded u = RoundAt(uncertainty, place);
+  // Digit cap: U rounded up to the value's kMaxValueDigits-th digit (see format.h).
+  while (v.num_digits() > kMaxValueDigits) {
+    place += v.num_digits() - kMaxValueDigits;
+    v = RoundAt(value, place);
+    u = RoundUpAt(uncertainty, place);
   }
-  // Scientific: a common power of ten, chosen from the larger of |value| and U.
-  const int exponent = top;
-  const double scale = std::pow(10.0, exponent);
-  const int scaled_place = place - exponent;
-  return "(" + AtPlace(value / scale, scaled_place) + " ± " +
-         AtPlace(uncertainty / scale, scaled_place) + ") × 10" + plot::Superscript(exponent);
+  const int top = std::max(v.top(), u.top());
+  const int exponent = NotationExponent(top, place);
+  if (exponent == 0) return Decimal(v, 0) + " ± " + Decimal(u, 0);
+  return "(" + Decimal(v, exponent) + " ± " + Decimal(u, exponent) + ")" + TimesTenTo(exponent);
+}
+
+std::string FormatSetting(double value) {
+  if (!std::isfinite(value)) return "n/a";
+  std::string text = fmt::format("{:.{}g}", value, kSettingDigits);
+  // "1e-05" -> "1e-5", "1e+20" -> "1e20".
+  const size_t e = text.find('e');
+  if (e != std::string::npos) {
+    std::string mantissa = text.substr(0, e);
+    std::string exponent = text.substr(e + 1);
+    const bool negative = !exponent.empty() && exponent.front() == '-';
+    if (!exponent.empty() && (exponent.front() == '-' || exponent.front() == '+')) {
+      exponent.erase(0, 1);
+    }
+    exponent.erase(0, std::min(exponent.find_first_not_of('0'), exponent.size() - 1));
+    text = mantissa + "e" + (negative ? "-" : "") + exponent;
+  }
+  return text;
 }
 
 }  // namespace sorbtrace::report

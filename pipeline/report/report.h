@@ -69,6 +69,7 @@ struct ReportArtifacts {
   std::string results_json;                                    // results.json
   std::vector<std::pair<std::string, std::string>> csv_files;  // (file name, content)
   int num_pages = 0;
+  std::vector<Diagnostic> warnings;  // e.g. a text field printed shortened
 };
 
 ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout,

@@ -158,10 +158,9 @@ Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
   Json points = Json::array();
   for (size_t i = 0; i < r.points.size(); ++i) {
     const reduce::IsothermPoint& p = r.points[i];
-    const Quantity rh =
-        MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%", sheet.rules);
-    const Quantity u = MoistureQuantity("moisture", "moisture content", p.moisture_kg_per_kg,
-                                        p.u_moisture_kg_per_kg, sheet.rules);
+    const Quantity rh = PointRhQuantity(p, sheet.rules);
+    const Quantity u = PointMoistureQuantity(p, sheet.rules);
+    const PointBudget budget = CombinedPointBudget(r, p);
     Json point = {{"index", i},
                   {"dataset_id", p.dataset_id},
                   {"step_index", p.step_index},
@@ -172,7 +171,10 @@ Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
                   {"rh", QuantityJson(rh)},
                   {"moisture", QuantityJson(u)},
                   {"between_specimen_sd_kg_per_kg", Number(p.between_specimen_sd_kg_per_kg)},
-                  {"num_specimens", p.num_specimens}};
+                  {"num_specimens", p.num_specimens},
+                  {"specimen_ids", StringArray(budget.specimen_ids)},
+                  {"moisture_budget", Budget(budget.moisture)},
+                  {"rh_budget", Budget(budget.rh)}};
     if (p.has_volumetric) {
       point["volumetric"] = {{"value", Number(p.volumetric_m3_per_m3)},
                              {"unit", "m3/m3"},

@@ -18,6 +18,11 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
                                         const ReportOptions& options, const Sheet& sheet,
                                         int num_pages);
 
+// One text cell of the CSV companions: RFC 4180 quoting, and OWASP CSV-injection
+// neutralisation (a leading =, +, -, @, tab or CR gets a single quote in front and the cell
+// is quoted; a plain number such as "-0.5" is left as it is).
+std::string CsvText(const std::string& text);
+
 // (file name, content): equilibrium_table.csv, fit_parameters.csv, pore_distribution.csv.
 std::vector<std::pair<std::string, std::string>> BuildCsvFiles(const ReportInputs& inputs,
                                                                const Sheet& sheet);

@@ -8,6 +8,7 @@
 #include <utility>
 
 #include "pipeline/report/format.h"
+#include "pipeline/report/plot/text.h"
 
 namespace sorbtrace::report {
 namespace {
@@ -58,7 +59,64 @@ void AddUnique(std::vector<std::string>& list, std::set<std::string>& seen, std:
   if (seen.insert(item).second) list.push_back(std::move(item));
 }
 
+size_t CodePoints(const std::string& text) {
+  size_t n = 0;
+  for (char c : text) n += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
+  return n;
+}
+
+size_t LongestWord(const std::string& text) {
+  size_t longest = 0, current = 0;
+  for (char c : text) {
+    if (c == ' ' || c == '\t' || c == '\n' || c == '\r') {
+      current = 0;
+    } else if ((static_cast<unsigned char>(c) & 0xC0) != 0x80) {
+      longest = std::max(longest, ++current);
+    }
+  }
+  return longest;
+}
+
+// A caution (and a run.log warning) for every free-text field of the job that the sheet
+// prints shortened.
+void CheckPrintedFields(const ingest::JobSpec& job, Sheet& sheet) {
+  std::vector<std::pair<std::string, std::string>> fields = {
+      {"job id", job.job_id},
+      {"material name", job.material_name},
+      {"material description", job.material_description},
+      {"client", job.client},
+      {"test dates", job.test_dates}};
+  for (const ingest::SpecimenSpec& s : job.specimens) fields.emplace_back("specimen id", s.id);
+  for (const ingest::DataSetSpec& d : job.datasets) fields.emplace_back("data set id", d.id);
+  for (const auto& [name, text] : fields) {
+    const size_t length = CodePoints(text);
+    const size_t word = LongestWord(text);
+    if (length <= kMaxPrintedFieldChars && word <= plot::kMaxPrintedWordChars) continue;
+    const std::string message = fmt::format(
+        "The {} has {} characters{}; the datasheet prints it shortened, ending in \"…\" "
+        "(results.json holds it in full)",
+        name, length,
+        word > plot::kMaxPrintedWordChars ? fmt::format(", a word of {} characters", word) : "");
+    sheet.cautions.push_back(message + ".");
+    sheet.warnings.push_back({Severity::kWarning, SourceLocation{job.job_file.string(), 0, 0},
+                              message,
+                              fmt::format("at most {} characters, words of at most {}",
+                                          kMaxPrintedFieldChars, plot::kMaxPrintedWordChars)});
+  }
+}
+
 }  // namespace
+
+std::string PrintedField(const std::string& text) {
+  if (CodePoints(text) <= kMaxPrintedFieldChars) return text;
+  size_t n = 0, i = 0;
+  for (; i < text.size(); ++i) {
+    if ((static_cast<unsigned char>(text[i]) & 0xC0) != 0x80 && n++ == kMaxPrintedFieldChars) {
+      break;
+    }
+  }
+  return text.substr(0, i) + "…";
+}
 
 nlohmann::ordered_json QuantityJson(const Quantity& q) {
   nlohmann::ordered_json j;
@@ -102,6 +160,79 @@ Quantity MoistureQuantity(std::string key, std::string label, double value_kg_pe
                       rules.moisture_in_percent ? "%" : "kg/kg", rules);
 }
 
+namespace {
+
+DisplayRules WithPointCoverage(DisplayRules rules, double u, double expanded_u) {
+  if (u > 0.0 && expanded_u > 0.0) rules.coverage_factor = expanded_u / u;
+  return rules;
+}
+
+// Adds (c u)^2 of `line` to the aggregate line of the same quantity (kept in first-seen order).
+void Accumulate(std::vector<reduce::BudgetLine>& aggregate, const reduce::BudgetLine& line) {
+  for (reduce::BudgetLine& a : aggregate) {
+    if (a.quantity == line.quantity) {
+      a.standard_uncertainty += line.contribution * line.contribution;
+      return;
+    }
+  }
+  reduce::BudgetLine a;
+  a.quantity = line.quantity;
+  a.standard_uncertainty = line.contribution * line.contribution;
+  aggregate.push_back(a);
+}
+
+}  // namespace
+
+Quantity PointRhQuantity(const reduce::IsothermPoint& p, const DisplayRules& rules) {
+  return MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%",
+                      WithPointCoverage(rules, p.u_rh_fraction, p.expanded_u_rh_fraction));
+}
+
+Quantity PointMoistureQuantity(const reduce::IsothermPoint& p, const DisplayRules& rules) {
+  return MoistureQuantity(
+      "moisture", "moisture content", p.moisture_kg_per_kg, p.u_moisture_kg_per_kg,
+      WithPointCoverage(rules, p.u_moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg));
+}
+
+PointBudget CombinedPointBudget(const reduce::ReducedIsotherms& reduced,
+                                const reduce::IsothermPoint& point) {
+  PointBudget budget;
+  for (const reduce::SpecimenPoint& sp : reduced.specimen_points) {
+    if (sp.excluded || sp.dataset_id != point.dataset_id || sp.cycle != point.cycle ||
+        sp.branch != point.branch || sp.step_index != point.step_index ||
+        sp.step_label != point.step_label) {
+      continue;
+    }
+    budget.specimen_ids.push_back(sp.specimen_id);
+    for (const reduce::BudgetLine& line : sp.moisture_budget) Accumulate(budget.moisture, line);
+    for (const reduce::BudgetLine& line : sp.rh_budget) Accumulate(budget.rh, line);
+  }
+  const double n = static_cast<double>(budget.specimen_ids.size());
+  if (n == 0.0) return budget;
+  for (reduce::BudgetLine& a : budget.moisture) {
+    a.standard_uncertainty = std::sqrt(a.standard_uncertainty);  // sqrt(sum (c_i u_i)^2)
+    a.unit = "kg/kg";
+    a.sensitivity = 1.0 / n;
+    a.contribution = a.standard_uncertainty / n;
+  }
+  if (budget.specimen_ids.size() > 1) {
+    reduce::BudgetLine spread;
+    spread.quantity = "between-specimen spread (Type A)";
+    spread.standard_uncertainty = point.between_specimen_sd_kg_per_kg;
+    spread.unit = "kg/kg";
+    spread.sensitivity = 1.0 / std::sqrt(n);
+    spread.contribution = spread.standard_uncertainty / std::sqrt(n);
+    budget.moisture.push_back(spread);
+  }
+  for (reduce::BudgetLine& a : budget.rh) {
+    a.standard_uncertainty = std::sqrt(a.standard_uncertainty / n);  // root mean square
+    a.unit = "1";
+    a.sensitivity = 1.0;
+    a.contribution = a.standard_uncertainty;
+  }
+  return budget;
+}
+
 std::string PlainVersion(const std::string& software_version) {
   const std::string prefix = "sorbtrace ";
   if (software_version.rfind(prefix, 0) == 0) return software_version.substr(prefix.size());
@@ -141,6 +272,15 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
   sheet.moisture_axis_label = rules.moisture_in_percent ? "moisture content (mass %, dry basis)"
                                                         : "moisture content (kg/kg, dry basis)";
   std::set<std::string> seen_cautions;
+  // Input warnings first (a frozen sensor, a gap in a log): they change what every number
+  // below can be trusted for, and the summary page lists only the first cautions.
+  if (inputs.ingested != nullptr) {
+    for (const Diagnostic& w : inputs.ingested->summary.warnings) {
+      AddUnique(sheet.cautions, seen_cautions, w.message);
+    }
+    CheckPrintedFields(inputs.ingested->job, sheet);
+    seen_cautions.insert(sheet.cautions.begin(), sheet.cautions.end());
+  }
 
   // Headline: moisture at the reference conditions.
   if (inputs.pores != nullptr) {
@@ -308,11 +448,6 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
   }
   if (inputs.reduced != nullptr) {
     for (const Diagnostic& w : inputs.reduced->summary.warnings) {
-      AddUnique(sheet.cautions, seen_cautions, w.message);
-    }
-  }
-  if (inputs.ingested != nullptr) {
-    for (const Diagnostic& w : inputs.ingested->summary.warnings) {
       AddUnique(sheet.cautions, seen_cautions, w.message);
     }
   }

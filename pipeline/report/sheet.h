@@ -44,6 +44,28 @@ Quantity MakeQuantity(std::string key, std::string label, double value, double s
 Quantity MoistureQuantity(std::string key, std::string label, double value_kg_per_kg,
                           double u_kg_per_kg, const DisplayRules& rules);
 
+// The RH and moisture content of a combined point as printed: with the point's own expanded
+// uncertainty (its coverage factor is expanded / standard; the rules' k when none is set).
+Quantity PointRhQuantity(const reduce::IsothermPoint& point, const DisplayRules& rules);
+Quantity PointMoistureQuantity(const reduce::IsothermPoint& point, const DisplayRules& rules);
+
+// The GUM budget of one combined point (JCGM 100:2008, Eq. 10; the combination of reduce.h:
+// u_c(mean)^2 = sum_i u(u_i)^2 / n^2 + s^2 / n over the n specimens of the step).
+//  moisture: one line per input quantity of the specimen budgets, aggregated over the
+//    specimens: standard_uncertainty = sqrt(sum_i (c_i u_i)^2) [kg/kg], sensitivity 1/n,
+//    contribution = standard_uncertainty / n; then, for n > 1, the Type A line of the
+//    between-specimen spread: standard_uncertainty s [kg/kg], sensitivity 1/sqrt(n),
+//    contribution s / sqrt(n). The root sum of squares of the contributions is u_c(mean).
+//  rh: one line per input quantity, the root mean square of the specimens' contributions
+//    (one atmosphere for all specimens: fully correlated, not averaged down), sensitivity 1.
+struct PointBudget {
+  std::vector<std::string> specimen_ids;
+  std::vector<reduce::BudgetLine> moisture;
+  std::vector<reduce::BudgetLine> rh;
+};
+PointBudget CombinedPointBudget(const reduce::ReducedIsotherms& reduced,
+                                const reduce::IsothermPoint& point);
+
 // One row of the model comparison table.
 struct ModelRow {
   int fit_index = 0;
@@ -60,6 +82,15 @@ struct ModelRow {
   std::vector<std::string> flags;
 };
 
+// Longest free-text field of the job printed in full, in code points (common practice: a
+// datasheet's description or client line fits a few lines). Longer fields, and words longer
+// than plot::kMaxPrintedWordChars, are printed shortened with "…" and a caution.
+inline constexpr size_t kMaxPrintedFieldChars = 600;
+
+// A free-text field as printed: at most kMaxPrintedFieldChars code points, ending in "…"
+// when cut (words are cut later by the canvas, plot::ClipLongWords).
+std::string PrintedField(const std::string& text);
+
 struct Sheet {
   DisplayRules rules;
   std::string moisture_unit;        // "%" or "kg/kg"
@@ -70,6 +101,7 @@ struct Sheet {
   std::vector<ModelRow> models;
   std::vector<std::string> cautions;           // data-specific cautions (flags, warnings)
   std::vector<std::string> standing_cautions;  // the fixed statements of section 8
+  std::vector<Diagnostic> warnings;            // the report's own findings (run.log)
 };
 
 // The software version without a leading "sorbtrace " (the run stage may pass either form).

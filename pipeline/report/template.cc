@@ -7,6 +7,7 @@
 #include <string>
 #include <vector>
 
+#include "pipeline/common/bounded_input.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/report/report.h"
 
@@ -104,15 +105,7 @@ class TemplateReader {
 
 Template LoadTemplate(const std::filesystem::path& template_file) {
   const std::string file = template_file.string();
-  toml::table root;
-  try {
-    root = toml::parse_file(file);
-  } catch (const toml::parse_error& error) {
-    const auto& begin = error.source().begin;
-    throw InputError(
-        SourceLocation{file, static_cast<int>(begin.line), static_cast<int>(begin.column)},
-        "invalid TOML: " + std::string(error.description()), "a report template in TOML");
-  }
+  const toml::table root = ParseTomlFile(template_file, "a report template in TOML");
   TemplateReader reader(file);
   Template layout;
   layout.source_file = template_file;

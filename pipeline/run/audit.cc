@@ -3,6 +3,9 @@
 #include <cmath>
 #include <set>
 
+#include "pipeline/common/bounded_input.h"
+#include "pipeline/common/diagnostics.h"
+
 namespace sorbtrace::run {
 namespace {
 
@@ -74,6 +77,32 @@ std::vector<AuditLine> CompareResults(const nlohmann::json& reported,
   std::vector<AuditLine> lines;
   Compare("", reported, recomputed, lines);
   return lines;
+}
+
+nlohmann::json ReadResultsFile(const std::filesystem::path& path) {
+  const std::string expected = "a results.json written by `sorbtrace make`";
+  nlohmann::json results = ParseJsonFile(path, expected);
+  const auto fail = [&](const std::string& what) {
+    throw InputError(SourceLocation{path.string(), 0, 0}, what, expected);
+  };
+  if (!results.is_object()) fail("the file is not a JSON object");
+  const auto settings = results.find("settings");
+  if (settings == results.end() || !settings->is_object() || !settings->contains("job_file") ||
+      !(*settings)["job_file"].is_string()) {
+    fail("settings.job_file is missing or not a string");
+  }
+  const auto inputs = results.find("inputs");
+  if (inputs == results.end() || !inputs->is_array()) fail("inputs is missing or not a list");
+  for (std::size_t i = 0; i < inputs->size(); ++i) {
+    const nlohmann::json& input = (*inputs)[i];
+    if (!input.is_object()) fail("inputs[" + std::to_string(i) + "] is not an object");
+    for (const char* key : {"role", "path", "sha256"}) {
+      if (input.contains(key) && !input[key].is_string()) {
+        fail("inputs[" + std::to_string(i) + "]." + key + " is not a string");
+      }
+    }
+  }
+  return results;
 }
 
 }  // namespace sorbtrace::run

@@ -2,6 +2,7 @@
 // leaf by leaf, for `sorbtrace verify`.
 #pragma once
 
+#include <filesystem>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
@@ -30,5 +31,11 @@ inline constexpr double kAuditAbsoluteTolerance = 1e-300;
 
 std::vector<AuditLine> CompareResults(const nlohmann::json& reported,
                                       const nlohmann::json& recomputed);
+
+// Reads a results.json for `verify`: size and nesting bounded before parsing
+// (pipeline/common/bounded_input.h), then the fields verify looks up checked for their type
+// (an object with settings.job_file a string and inputs a list of objects whose role, path and
+// sha256 are strings). Throws InputError naming the file and the field.
+nlohmann::json ReadResultsFile(const std::filesystem::path& path);
 
 }  // namespace sorbtrace::run

@@ -18,6 +18,7 @@
 #include "pipeline/ingest/ingest.h"
 #include "pipeline/physics/physics.h"
 #include "pipeline/reduce/reduce.h"
+#include "pipeline/report/report.h"
 #include "pipeline/run/commands.h"
 #include "pipeline/run/run.h"
 
@@ -137,12 +138,14 @@ void PrintText(const ingest::IngestResult& in, const equilibrate::EquilibriumSet
   out += fmt::format("isotherm points: {} (specimen points excluded: {})\n",
                      reduced.summary.num_points, reduced.summary.num_excluded);
   for (const auto& p : reduced.points) {
+    // Value ± U rounded as on the datasheet (JCGM 100:2008 7.2.6; report::FormatWithUncertainty).
     out += fmt::format(
-        "  {:<20} {:<12} {:<10} cycle {}  RH {:6.2f} %  u {:.6f} +- {:.6f} kg/kg (k = {:.2g}, n = "
-        "{})\n",
-        p.dataset_id, p.step_label, BranchText(p.branch), p.cycle, p.rh_fraction * kPercent,
-        p.moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg, reduced.coverage_factor,
-        p.num_specimens);
+        "  {:<20} {:<12} {:<10} cycle {}  RH {} %  u {} kg/kg (k = {:.2g}, n = {})\n", p.dataset_id,
+        p.step_label, BranchText(p.branch), p.cycle,
+        report::FormatWithUncertainty(p.rh_fraction * kPercent,
+                                      p.expanded_u_rh_fraction * kPercent, 2),
+        report::FormatWithUncertainty(p.moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg, 2),
+        reduced.coverage_factor, p.num_specimens);
   }
   if (!reduced.retention.empty()) {
     out += fmt::format("retention points: {}\n", reduced.retention.size());
@@ -246,6 +249,7 @@ int Check(const CheckArguments& args) {
   const equilibrate::EquilibriumSet equilibria =
       equilibrate::Equilibrate(ingested, settings.equilibrate);
   const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
+  CheckWorkBudget(settings, reduced);  // `check` refuses what `make` refuses
   if (args.json) {
     std::fputs((Json(ingested, equilibria, reduced).dump(2) + "\n").c_str(), stdout);
   } else {

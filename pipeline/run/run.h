@@ -5,6 +5,7 @@
 
 #include <filesystem>
 #include <functional>
+#include <map>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
@@ -27,12 +28,35 @@ struct JobSettings {
   pores::PoreOptions pores;
   std::filesystem::path template_file;
   nlohmann::ordered_json effective;  // all of the above, as recorded in results.json
+  // Where each work setting ("fit.bootstrap_resamples", ...) is written; {job file, 0, 0} when
+  // the default is used. For the messages of CheckWorkBudget.
+  std::map<std::string, SourceLocation> work_keys;
 };
 
 // Reads [equilibrium], [fit], [pores] and [report] of the job file over the defaults and the
 // template (reference conditions, units). Unknown keys are InputErrors naming the key.
 JobSettings LoadJobSettings(const std::filesystem::path& job_file, const ingest::JobSpec& job,
                             const std::filesystem::path& output_dir);
+
+// The cost of a job in work units (README, "Cost of a job"): fits (every model of every fit
+// group refitted 1 + bootstrap_resamples + monte_carlo_draws times over its points, and its
+// band evaluated at band_points for each refit) and the pore distributions (grid_points x
+// (1 + band_draws) per group). One unit is one band point of one refit, about 70 ns on one core
+// of the reference machine (2-vCPU Debian 12 VM, GCC 12; measured 2026-12-03 on the
+// wood_fibre_board_23C_40C demo: band_points 200 -> 1000 added 3.4 s for 5.1e7 band points).
+struct WorkEstimate {
+  double fit_units = 0.0;
+  double pore_units = 0.0;
+  double total() const { return fit_units + pore_units; }
+};
+WorkEstimate EstimateWork(const JobSettings& settings, const reduce::ReducedIsotherms& reduced);
+// About 35 s of one core on the reference machine; the demo jobs need 1e6..4e7.
+inline constexpr double kMaxWorkUnits = 5e8;
+
+// Throws InputError when EstimateWork exceeds kMaxWorkUnits, located at the work setting that
+// contributes most (or at the job file when only defaults are used) and naming the estimate.
+// `make` and `check` both call it after the reduce stage.
+void CheckWorkBudget(const JobSettings& settings, const reduce::ReducedIsotherms& reduced);
 
 // Progress callback: stage name ("ingest", ...), 0-based stage index, number of stages.
 using ProgressCallback = std::function<void(const std::string& stage, int index, int count)>;

@@ -78,6 +78,7 @@ RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& option
   progress("reduce", 2);
   const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
   Append(result.warnings, reduced.summary.warnings);
+  CheckWorkBudget(settings, reduced);
 
   progress("fit", 3);
   const fit::IsothermFits fits = fit::FitIsotherms(reduced, settings.fit);
@@ -105,6 +106,7 @@ RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& option
   report::ReportOptions report_options;
   report_options.document_date = DocumentDate(result.job);
   result.artifacts = report::ComposeReport(inputs, layout, report_options);
+  Append(result.warnings, result.artifacts.warnings);
 
   result.log = "sorbtrace " + std::string(kVersion) + "\njob: " + job_file.string() + "\n";
   for (const auto& warning : result.warnings) result.log += FormatDiagnostic(warning) + "\n";

@@ -34,67 +34,7 @@ struct VerifyArguments {
 // First line of every report `verify --report` writes; an existing file is replaced only if
 // it starts with this line.
 constexpr char kReportHeader[] = "sorbtrace verification report";
-// An issued results.json is well below a megabyte and nests about six levels; these bounds
-// are far above that and keep a hostile file from exhausting memory or the stack (the
-// comparison recurses once per level).
-constexpr std::uintmax_t kMaxResultsBytes = 64ull * 1024 * 1024;
-constexpr int kMaxResultsNesting = 64;
-
-// Refuses JSON nested deeper than kMaxResultsNesting, naming the line and column.
-void CheckNesting(const std::string& text, const std::string& path) {
-  int depth = 0;
-  int line = 1;
-  int column = 0;
-  bool in_string = false;
-  bool escaped = false;
-  for (const char c : text) {
-    ++column;
-    if (c == '\n') {
-      ++line;
-      column = 0;
-    }
-    if (in_string) {
-      if (escaped) {
-        escaped = false;
-      } else if (c == '\\') {
-        escaped = true;
-      } else if (c == '"') {
-        in_string = false;
-      }
-      continue;
-    }
-    if (c == '"') {
-      in_string = true;
-    } else if (c == '[' || c == '{') {
-      if (++depth > kMaxResultsNesting) {
-        throw InputError(
-            SourceLocation{path, line, column},
-            "JSON nested deeper than " + std::to_string(kMaxResultsNesting) + " levels",
-            "a results.json written by `sorbtrace make`");
-      }
-    } else if (c == ']' || c == '}') {
-      --depth;
-    }
-  }
-}
-
-nlohmann::json ParseResults(const std::string& path) {
-  RequireRegularFile(path, path, "a results.json written by `sorbtrace make`");
-  std::error_code ec;
-  if (std::filesystem::file_size(path, ec) > kMaxResultsBytes && !ec) {
-    throw InputError(SourceLocation{path, 0, 0}, "file larger than 64 MiB",
-                     "a results.json written by `sorbtrace make`");
-  }
-  const std::string text = ReadWholeFile(path);
-  CheckNesting(text, path);
-  try {
-    return nlohmann::json::parse(text);
-  } catch (const nlohmann::json::parse_error& error) {
-    throw InputError(SourceLocation{path, 0, static_cast<int>(error.byte)},
-                     std::string("not valid JSON: ") + error.what(),
-                     "a results.json written by `sorbtrace make`");
-  }
-}
+nlohmann::json ParseResults(const std::string& path) { return ReadResultsFile(path); }
 
 std::filesystem::path Resolved(const std::filesystem::path& path) {
   std::error_code ec;

@@ -33,7 +33,7 @@ TEST(LoadJobSpecTest, ReadsEveryKey) {
   EXPECT_EQ(job.temperature_standard_uncertainty_K, 0.2);
   EXPECT_FALSE(job.negative_moisture_expected);
 
-  ASSERT_EQ(job.specimens.size(), 2u);
+  ASSERT_EQ(job.specimens.size(), 3u);
   EXPECT_EQ(job.specimens[0].id, "P1");
   EXPECT_EQ(job.specimens[0].dry_mass_g, 24.1830);
   EXPECT_FALSE(job.specimens[0].bulk_density_kg_per_m3.has_value());
@@ -52,7 +52,7 @@ TEST(LoadJobSpecTest, ReadsEveryKey) {
   EXPECT_EQ(job.datasets[0].format.datetime_format, "iso8601");
   EXPECT_EQ(job.datasets[0].format.mass_unit, "");  // not declared: the header says
   EXPECT_EQ(job.datasets[1].method, Method::kVaporLog);
-  EXPECT_EQ(job.datasets[1].specimen_id, "P2");
+  EXPECT_EQ(job.datasets[1].specimen_id, "P3");
   EXPECT_EQ(job.datasets[1].temperature_K, 25.0 + kZeroCelsius_K);
   ASSERT_TRUE(job.retention.has_value());
   EXPECT_EQ(job.retention->file, std::filesystem::path(kFixtures + "retention.csv"));
@@ -77,7 +77,7 @@ TEST(IngestTest, WholeJob) {
   EXPECT_EQ(result.inputs[1].size_bytes, ReadWholeFile(kFixtures + "desiccator.csv").size());
   EXPECT_EQ(result.summary.rows_read, 10 + 7 + 3);
   EXPECT_EQ(result.summary.num_steps, 4 + 5);
-  EXPECT_EQ(result.summary.num_specimens, 2);
+  EXPECT_EQ(result.summary.num_specimens, 3);
   EXPECT_TRUE(result.summary.warnings.empty());
 }
 
@@ -186,7 +186,7 @@ TEST(VaporLogTest, SegmentsBySetPoint) {
   IngestSummary summary;
   const VaporLog log = ReadVaporLog(job.datasets[1], options, &summary);
   EXPECT_EQ(log.dataset_id, "dvs-25C");
-  EXPECT_EQ(log.specimen_id, "P2");
+  EXPECT_EQ(log.specimen_id, "P3");
   EXPECT_EQ(log.num_rows, 7);
   ASSERT_EQ(log.steps.size(), 5u);
   const Branch expected_branch[] = {Branch::kDrying, Branch::kAdsorption, Branch::kAdsorption,

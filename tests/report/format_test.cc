@@ -1,12 +1,14 @@
-// FormatWithUncertainty: JCGM 100:2008, 7.2.6 — the uncertainty to (at most) two significant
-// digits, the value rounded to the same decimal place. Exact ties round to even (ISO
-// 80000-1:2009 Annex B, rule B, from memory; the same as C printf).
+// The rounding and notation rules of format.h. Check values: JCGM 100:2008 (GUM) 7.2.6 —
+// U to (at most) two significant digits, the value rounded to the same decimal place, with
+// GUM's own example; exact ties to even (ISO 80000-1:2009 Annex B, rule B, from memory; the
+// same as C printf); the digit cap rounds U up (GUM 7.2.6, "round uncertainties up").
 #include "pipeline/report/format.h"
 
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <limits>
+#include <string>
 
 #include "pipeline/report/report.h"
 
@@ -20,8 +22,17 @@ struct Case {
   const char* expected;
 };
 
-TEST(FormatWithUncertaintyTest, TwoSignificantDigitsOfUncertainty) {
+void ExpectAll(const Case* begin, const Case* end) {
+  for (const Case* c = begin; c != end; ++c) {
+    EXPECT_EQ(FormatWithUncertainty(c->value, c->uncertainty, c->digits), c->expected)
+        << c->value << " ± " << c->uncertainty << " (" << c->digits << " digits)";
+  }
+}
+
+TEST(FormatWithUncertaintyTest, GumRoundingTable) {
   const Case cases[] = {
+      // GUM 7.2.6: y = 10.057 62 Ω, u_c = 27 mΩ -> "10.058 Ω" (the value to the digit of U).
+      {10.05762, 0.027, 2, "10.058 ± 0.027"},
       {0.0123456, 0.00123, 2, "0.0123 ± 0.0012"},  // the example of report.h
       {1234.5, 56.0, 2, "1234 ± 56"},              // exact binary tie: to even
       {1235.5, 56.0, 2, "1236 ± 56"},              // exact binary tie: to even
@@ -36,17 +47,65 @@ TEST(FormatWithUncertaintyTest, TwoSignificantDigitsOfUncertainty) {
       {-4.5678, 0.123, 2, "-4.57 ± 0.12"},
       {0.0123456, 0.00123, 1, "0.012 ± 0.001"},  // one significant digit
       {33.66, 1.49, 2, "33.7 ± 1.5"},
+      {13.969, 0.021, 2, "13.969 ± 0.021"},  // a moisture content in % (wood-fibre demo)
+      {0.0, 0.0042, 2, "0.0000 ± 0.0042"},
+      {0.5, 3.0, 2, "0.5 ± 3.0"},  // U larger than the value
   };
+  ExpectAll(std::begin(cases), std::end(cases));
+}
+
+TEST(FormatWithUncertaintyTest, NeverMoreThanSixSignificantDigitsInTheValue) {
+  const Case cases[] = {
+      // The printouts of issue 13: U below the sixth digit is rounded up to it.
+      {62.9738754178, 2.8e-9, 2, "62.9739 ± 0.0001"},
+      {177.2641, 0.0011, 2, "177.264 ± 0.002"},
+      {153.799396, 9.4e-7, 2, "153.799 ± 0.001"},
+      {1.993381, 0.000020, 2, "1.99338 ± 0.00002"},
+      {18.42024, 0.00064, 2, "18.4202 ± 0.0007"},
+      {1.23456, 0.000012, 2, "1.23456 ± 0.00002"},
+      // Six digits exactly: untouched.
+      {123.456, 0.012, 2, "123.456 ± 0.012"},
+      // A carry in the value (9.9999996 -> 10.0000) does not add a seventh digit.
+      {9.9999996, 1e-9, 2, "10.0000 ± 0.0001"},
+  };
+  ExpectAll(std::begin(cases), std::end(cases));
+  // U rounded up never prints below the computed U.
   for (const Case& c : cases) {
-    EXPECT_EQ(FormatWithUncertainty(c.value, c.uncertainty, c.digits), c.expected)
-        << c.value << " ± " << c.uncertainty;
+    const std::string text = FormatWithUncertainty(c.value, c.uncertainty, 2);
+    const double printed_u = std::stod(text.substr(text.find("± ") + 3));
+    EXPECT_GE(printed_u, c.uncertainty * (1.0 - 0.05)) << text;  // nearest rounding: <= 5 %
   }
 }
 
-TEST(FormatWithUncertaintyTest, ScientificOutsideThePlainRange) {
-  EXPECT_EQ(FormatWithUncertainty(2.5e-7, 3.1e-8, 2), "(2.50 ± 0.31) × 10⁻⁷");
-  EXPECT_EQ(FormatWithUncertainty(7.9e-9, 1.2e-9, 2), "(7.9 ± 1.2) × 10⁻⁹");
-  EXPECT_EQ(FormatWithUncertainty(4.2e7, 3.0e5, 2), "(4.200 ± 0.030) × 10⁷");
+TEST(FormatWithUncertaintyTest, EngineeringPowersOfTenNeverTenToTheZero) {
+  const Case cases[] = {
+      {2.5e-7, 3.1e-8, 2, "(250 ± 31) × 10⁻⁹"},
+      {7.9e-9, 1.2e-9, 2, "(7.9 ± 1.2) × 10⁻⁹"},
+      {4.2e7, 3.0e5, 2, "(42.00 ± 0.30) × 10⁶"},
+      {1.2e6, 3.4e4, 2, "(1.200 ± 0.034) × 10⁶"},
+      {0.000123456, 1.2e-7, 2, "(123.46 ± 0.12) × 10⁻⁶"},  // plain would need 8 decimals
+      {0.000123456, 1.2e-6, 2, "(123.5 ± 1.2) × 10⁻⁶"},    // plain would need 7 decimals
+  };
+  ExpectAll(std::begin(cases), std::end(cases));
+  // Plain at the edges of the plain range.
+  EXPECT_EQ(FormatWithUncertainty(0.00123, 0.00012, 2), "0.00123 ± 0.00012");
+  EXPECT_EQ(FormatWithUncertainty(999000.0, 1200.0, 2), "999000 ± 1200");
+  // A sweep over 30 decades: no "10⁰" and never more than six digits in a value.
+  for (int e = -15; e <= 15; ++e) {
+    for (double rel : {3e-1, 2e-3, 1e-5, 1e-9}) {
+      const double v = 1.2345678901 * std::pow(10.0, e);
+      const std::string text = FormatWithUncertainty(v, v * rel, 2);
+      EXPECT_EQ(text.find("10⁰"), std::string::npos) << text;
+      const std::string value_part = text.substr(text[0] == '(' ? 1 : 0, text.find(" ±"));
+      int digits = 0;
+      bool leading = true;
+      for (char ch : value_part) {
+        if (ch >= '1' && ch <= '9') leading = false;
+        if (ch >= '0' && ch <= '9' && !leading) ++digits;
+      }
+      EXPECT_LE(digits, kMaxValueDigits) << text;
+    }
+  }
 }
 
 TEST(FormatWithUncertaintyTest, MissingUncertaintyAndNonFiniteValues) {
@@ -55,13 +114,32 @@ TEST(FormatWithUncertaintyTest, MissingUncertaintyAndNonFiniteValues) {
   EXPECT_EQ(FormatWithUncertainty(std::numeric_limits<double>::infinity(), 0.1, 2), "n/a");
 }
 
-TEST(FormatSignificantTest, PlainAndScientific) {
+TEST(FormatSignificantTest, PlainAndEngineering) {
   EXPECT_EQ(FormatSignificant(0.0123456, 4), "0.01235");
   EXPECT_EQ(FormatSignificant(9.996, 3), "10.0");
   EXPECT_EQ(FormatSignificant(123456.0, 2), "120000");
-  EXPECT_EQ(FormatSignificant(3.1e-5, 2), "3.1 × 10⁻⁵");
+  EXPECT_EQ(FormatSignificant(0.00012, 2), "0.00012");
+  EXPECT_EQ(FormatSignificant(3.1e-5, 2), "31 × 10⁻⁶");
+  EXPECT_EQ(FormatSignificant(3.7e-8, 2), "37 × 10⁻⁹");
+  EXPECT_EQ(FormatSignificant(2.0e-6, 2), "2.0 × 10⁻⁶");
+  EXPECT_EQ(FormatSignificant(-4.56e7, 3), "-45.6 × 10⁶");
   EXPECT_EQ(FormatSignificant(0.0, 3), "0");
   EXPECT_EQ(FormatFixed(-0.00001, 2), "0.00");
+  EXPECT_EQ(FormatFixed(23.0, 1), "23.0");
+  EXPECT_EQ(FormatFixed(-1.25, 1), "-1.2");  // exact binary tie: to even
+}
+
+TEST(FormatSettingTest, NumbersAsAPersonWroteThem) {
+  // 0.106 nm² converted to m² and back (the molecular-area setting) is 0.10600000000000001.
+  EXPECT_EQ(FormatSetting(0.106e-18 * 1e18), "0.106");
+  EXPECT_EQ(FormatSetting(0.1 * 100.0 / 100.0), "0.1");
+  EXPECT_EQ(FormatSetting(0.002), "0.002");
+  EXPECT_EQ(FormatSetting(24.0), "24");
+  EXPECT_EQ(FormatSetting(86400.0 / 3600.0), "24");
+  EXPECT_EQ(FormatSetting(1e-5), "1e-5");
+  EXPECT_EQ(FormatSetting(2.5e20), "2.5e20");
+  EXPECT_EQ(FormatSetting(0.123456789012345), "0.123456789012345");  // 15 digits kept
+  EXPECT_EQ(FormatSetting(-0.5), "-0.5");
 }
 
 }  // namespace

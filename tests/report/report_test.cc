@@ -8,6 +8,7 @@
 #include <nlohmann/json.hpp>
 #include <string>
 
+#include "pipeline/report/results_json.h"
 #include "tests/report/pdf_tools.h"
 #include "tests/report/report_fixture.h"
 
@@ -198,6 +199,64 @@ TEST(ComposeReportTest, SectionOrderFromTheTemplateAndHostileText) {
   EXPECT_NE(text.find("Plaster ?? batch"), std::string::npos);
   const auto json = nlohmann::ordered_json::parse(a.results_json);
   EXPECT_EQ(json["job"]["material"], "Plaster \uFFFD\uFFFD batch");
+}
+
+TEST(CsvTextTest, OwaspCsvInjectionRuleAndRfc4180Quoting) {
+  // OWASP "CSV Injection": =, +, -, @, tab and CR start a formula; prefix ' and quote.
+  const std::pair<const char*, const char*> cases[] = {
+      {"P1", "P1"},
+      {"=1+2", "\"'=1+2\""},
+      {"+SUM(A1)", "\"'+SUM(A1)\""},
+      {"-2+3", "\"'-2+3\""},
+      {"@cmd", "\"'@cmd\""},
+      {"\tx", "\"'\tx\""},
+      {"\rx", "\"'\rx\""},
+      {"=A1,\"b\"", "\"'=A1,\"\"b\"\"\""},
+      {"-0.5", "-0.5"},    // a number stays a number
+      {"-1e-3", "-1e-3"},  // so does this one
+      {"a,b", "\"a,b\""},  // RFC 4180
+      {"say \"hi\"", "\"say \"\"hi\"\"\""},
+      {"", ""},
+  };
+  for (const auto& [in, expected] : cases) EXPECT_EQ(CsvText(in), expected) << in;
+}
+
+TEST(ComposeReportTest, LongTokensArePrintedShortenedWithACaution) {
+  for (const size_t size : {size_t{64} * 1024, size_t{1024} * 1024}) {
+    testing::ReportFixture fixture = MakeReportFixture();
+    const std::string token(size, 'Q');
+    fixture.ingested.job.material_description = token;
+    fixture.ingested.job.client = "word " + token + " word";
+    fixture.ingested.job.job_id = token;
+    std::string spaced;  // a long field of ordinary words
+    while (spaced.size() < size) spaced += "lorem ipsum ";
+    fixture.ingested.job.test_dates = spaced;
+    const ReportArtifacts a = ComposeReport(fixture.Inputs(), FullTemplate(), Options());
+    EXPECT_LE(a.num_pages, FullReport().num_pages + 1) << size;
+    const std::string text = PdfText(WriteTempFile("long.pdf", a.pdf));
+    EXPECT_NE(text.find("QQQ…"), std::string::npos);
+    EXPECT_EQ(text.find(std::string(201, 'Q')), std::string::npos);
+    EXPECT_NE(CollapseSpaces(text).find("The material description has " + std::to_string(size) +
+                                        " characters, a word of " + std::to_string(size) +
+                                        " characters; the datasheet prints it shortened"),
+              std::string::npos);
+    EXPECT_EQ(a.warnings.size(), 4u);  // job id, description, client, test dates
+    const auto json = nlohmann::ordered_json::parse(a.results_json);
+    EXPECT_EQ(json["job"]["material_description"], token);  // in full
+  }
+}
+
+TEST(ComposeReportTest, SettingsArePrintedAsWritten) {
+  testing::ReportFixture fixture = MakeReportFixture();
+  fixture.settings["pores"] = {{"molecular_area_nm2", 0.106e-18 * 1e18}, {"grid_points", 400}};
+  const ReportArtifacts a = ComposeReport(fixture.Inputs(), FullTemplate(), Options());
+  const std::string text = CollapseSpaces(PdfText(WriteTempFile("settings.pdf", a.pdf)));
+  EXPECT_NE(text.find("pores.molecular_area_nm2 = 0.106 "), std::string::npos);
+  EXPECT_NE(text.find("pores.grid_points = 400"), std::string::npos);
+  EXPECT_EQ(text.find("0.10600000000000001"), std::string::npos);
+  // results.json keeps the value field at full precision.
+  const auto json = nlohmann::ordered_json::parse(a.results_json);
+  EXPECT_EQ(json["settings"]["pores"]["molecular_area_nm2"].get<double>(), 0.106e-18 * 1e18);
 }
 
 TEST(ComposeReportTest, MissingFontIsAnInputError) {

@@ -74,7 +74,7 @@ TEST(LoadTemplateTest, OtherErrors) {
             "bad_type.toml:2:13: error: 'margin_mm' must be a number; expected a number");
   const std::string syntax = LoadError("syntax.toml", "[template\nname = 1\n");
   EXPECT_EQ(syntax.rfind("syntax.toml:1:", 0), 0u) << syntax;
-  EXPECT_NE(syntax.find("error: invalid TOML: "), std::string::npos) << syntax;
+  EXPECT_NE(syntax.find("error: TOML syntax: "), std::string::npos) << syntax;
 }
 
 }  // namespace

@@ -267,13 +267,14 @@ TEST_F(RunE2eTest, KilledRunLeavesTheEarlierOutputIntact) {
   ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + out.string() + " -q").exit_code, 0);
   const std::string before = Sha256HexOfFile(out / "results.json");
   const std::string pdf_before = Sha256HexOfFile(out / "datasheet.pdf");
-  // A slow variant of the same job: many bootstrap resamples, killed after a moment.
+  // A slow variant of the same job: the most resamples the settings allow, killed after a moment.
   std::string text = ReadWholeFile(job);
   const fs::path slow = job.parent_path() / "slow.toml";
   if (text.find("[fit]") != std::string::npos) {
-    text.replace(text.find("[fit]"), 5, "[fit]\nbootstrap_resamples = 100000");
+    text.replace(text.find("[fit]"), 5,
+                 "[fit]\nbootstrap_resamples = 10000\nmonte_carlo_draws = 10000");
   } else {
-    text += "\n[fit]\nbootstrap_resamples = 100000\n";
+    text += "\n[fit]\nbootstrap_resamples = 10000\nmonte_carlo_draws = 10000\n";
   }
   std::ofstream(slow) << text;
   const pid_t child = fork();

@@ -204,7 +204,7 @@ Canvas::Canvas(HPDF_Page page, HPDF_Font regular, HPDF_Font bold)
 
 void Canvas::Text(double x, double y, std::string_view text, double size_pt, Align align, bool bold,
                   Color color) {
-  const std::string clean = SanitizeUtf8(text);
+  const std::string clean = PrintableText(text);
   if (clean.empty()) return;
   double left = x;
   if (align != Align::kLeft) {
@@ -219,7 +219,7 @@ void Canvas::Text(double x, double y, std::string_view text, double size_pt, Ali
 }
 
 void Canvas::VerticalText(double x, double y, std::string_view text, double size_pt, Color color) {
-  const std::string clean = SanitizeUtf8(text);
+  const std::string clean = PrintableText(text);
   if (clean.empty()) return;
   const double width = TextWidth(clean, size_pt);
   SetFill(page_, color);
@@ -232,7 +232,7 @@ void Canvas::VerticalText(double x, double y, std::string_view text, double size
 }
 
 double Canvas::TextWidth(std::string_view text, double size_pt, bool bold) const {
-  const std::string clean = SanitizeUtf8(text);
+  const std::string clean = PrintableText(text);
   if (clean.empty()) return 0.0;
   HPDF_Font font = bold ? bold_ : regular_;
   const HPDF_TextWidth width = HPDF_Font_TextWidth(
@@ -241,8 +241,11 @@ double Canvas::TextWidth(std::string_view text, double size_pt, bool bold) const
   return static_cast<double>(width.width) * size_pt / 1000.0;
 }
 
-std::vector<std::string> Canvas::Wrap(std::string_view text, double size_pt, double width_pt,
+std::vector<std::string> Canvas::Wrap(std::string_view raw_text, double size_pt, double width_pt,
                                       bool bold) const {
+  // Words beyond kMaxPrintedWordChars are cut first: no quadratic work on a 1 MiB token.
+  const std::string clipped = ClipLongWords(raw_text);
+  const std::string_view text = clipped;
   std::vector<std::string> lines;
   size_t start = 0;
   while (start <= text.size()) {

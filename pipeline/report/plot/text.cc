@@ -1,5 +1,6 @@
 #include "pipeline/report/plot/text.h"
 
+#include <algorithm>
 #include <array>
 #include <cstdint>
 #include <string>
@@ -55,6 +56,50 @@ std::string SanitizeUtf8(std::string_view text) {
     }
   }
   return out;
+}
+
+namespace {
+
+bool IsContinuationByte(char c) { return (static_cast<std::uint8_t>(c) & 0xC0) == 0x80; }
+bool IsSeparator(char c) { return c == ' ' || c == '\t' || c == '\n' || c == '\r'; }
+constexpr std::string_view kEllipsis = "…";
+
+}  // namespace
+
+std::string ClipLongWords(std::string_view text, size_t max_chars) {
+  std::string out;
+  out.reserve(std::min(text.size(), size_t{1} << 20));
+  size_t chars_in_word = 0;
+  bool clipped = false;  // the current word has been cut already
+  for (char c : text) {
+    if (IsSeparator(c)) {
+      chars_in_word = 0;
+      clipped = false;
+      out.push_back(c);
+      continue;
+    }
+    if (clipped) continue;
+    if (!IsContinuationByte(c)) {
+      if (chars_in_word == max_chars) {
+        out.append(kEllipsis);
+        clipped = true;
+        continue;
+      }
+      ++chars_in_word;
+    }
+    out.push_back(c);
+  }
+  return out;
+}
+
+std::string PrintableText(std::string_view text) {
+  std::string clean = ClipLongWords(SanitizeUtf8(text));
+  if (clean.size() <= kMaxTextRunBytes) return clean;
+  size_t cut = kMaxTextRunBytes - kEllipsis.size();
+  while (cut > 0 && IsContinuationByte(clean[cut])) --cut;
+  clean.resize(cut);
+  clean.append(kEllipsis);
+  return clean;
 }
 
 std::string Superscript(int value) {

@@ -1,0 +1,334 @@
+// End-to-end tests of what a reader of the issued folder sees, on the real binary:
+//  - every demo datasheet, read as text (pdftotext), states each "value ± U" with U to at
+//    most two significant digits and the value to U's last decimal (JCGM 100:2008, 7.2.6),
+//    no value with more than six significant digits, never "× 10⁰", settings as written;
+//    the same for the JSON `text` fields and the CSV "as printed" columns;
+//  - results.json holds the budget of every combined point, and its contributions add up
+//    (root sum of squares) to the point's combined standard uncertainty (JCGM 100:2008,
+//    Eq. 10);
+//  - a 64 KiB or 1 MiB unbroken token in any free-text job field: `make` and `check` both
+//    exit 0, no crash, the sheet prints it shortened with "…" and says so, and nothing but
+//    the finished output folder is left beside it;
+//  - text cells of the CSV companions cannot start a spreadsheet formula (OWASP CSV
+//    injection), while numbers stay numbers.
+#include <gtest/gtest.h>
+#include <sys/wait.h>
+
+#include <cmath>
+#include <cstdio>
+#include <filesystem>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <regex>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "tests/report/pdf_tools.h"
+
+namespace sorbtrace::report {
+namespace {
+
+namespace fs = std::filesystem;
+
+struct CommandRun {
+  int exit_code = -1;
+  bool signalled = false;
+  std::string output;  // stdout and stderr
+};
+
+CommandRun Sorbtrace(const std::string& arguments) {
+  const std::string command = std::string(SORBTRACE_BINARY) + " " + arguments + " 2>&1";
+  CommandRun run;
+  FILE* pipe = popen(command.c_str(), "r");
+  if (pipe == nullptr) return run;
+  char buffer[4096];
+  size_t got = 0;
+  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
+  const int status = pclose(pipe);
+  // popen runs the command through sh: a crash of the binary shows as 128 + signal.
+  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  run.signalled = WIFSIGNALED(status) || run.exit_code > 128;
+  return run;
+}
+
+std::string Slurp(const fs::path& file) {
+  std::ifstream in(file, std::ios::binary);
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+void Spit(const fs::path& file, const std::string& bytes) {
+  std::ofstream out(file, std::ios::binary);
+  out << bytes;
+}
+
+class SheetE2eTest : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
+    root_ = fs::temp_directory_path() / (std::string("sorbtrace_sheet_e2e_") + info->name());
+    fs::remove_all(root_);
+    fs::create_directories(root_);
+  }
+  void TearDown() override { fs::remove_all(root_); }
+
+  // A copy of one demo scenario under root_/name.
+  fs::path CopyScenario(const std::string& scenario, const std::string& name) const {
+    const fs::path dir = root_ / name;
+    fs::copy(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs" / scenario, dir,
+             fs::copy_options::recursive);
+    return dir;
+  }
+
+  fs::path root_;
+};
+
+// Significant digits of a plain decimal number as printed ("0.0012" has 2, "1.20" has 3);
+// trailing zeros of a whole number only place the digits ("190" has 2, as U at 10^1).
+int SignificantDigits(std::string number) {
+  if (number.find('.') == std::string::npos) {
+    while (number.size() > 1 && number.back() == '0') number.pop_back();
+  }
+  int digits = 0;
+  bool leading = true;
+  for (char c : number) {
+    if (c >= '1' && c <= '9') leading = false;
+    if (c >= '0' && c <= '9' && !leading) ++digits;
+  }
+  return digits;
+}
+
+int Decimals(const std::string& number) {
+  const size_t point = number.find('.');
+  return point == std::string::npos ? 0 : static_cast<int>(number.size() - point - 1);
+}
+
+// Every "v ± U" in text follows JCGM 100:2008 7.2.6 and the six-digit cap; returns how many
+// were checked.
+int ExpectGumRounding(const std::string& text, const std::string& where) {
+  static const std::regex pair(R"((-?[0-9]+(?:\.[0-9]+)?) ± ([0-9]+(?:\.[0-9]+)?))");
+  int checked = 0;
+  for (auto it = std::sregex_iterator(text.begin(), text.end(), pair); it != std::sregex_iterator();
+       ++it) {
+    const std::string value = (*it)[1];
+    const std::string u = (*it)[2];
+    EXPECT_LE(SignificantDigits(u), 2) << where << ": " << it->str();
+    EXPECT_GE(SignificantDigits(u), 1) << where << ": " << it->str();
+    EXPECT_LE(SignificantDigits(value), 6) << where << ": " << it->str();
+    EXPECT_EQ(Decimals(value), Decimals(u)) << where << ": " << it->str();
+    ++checked;
+  }
+  EXPECT_EQ(text.find("10⁰"), std::string::npos) << where;
+  return checked;
+}
+
+TEST_F(SheetE2eTest, DemoSheetsPrintGumRoundedNumbersAndBudgetsOfEveryPoint) {
+  const std::vector<std::string> scenarios = {"excipient_powder_25C", "lime_plaster_desiccator",
+                                              "wood_fibre_board_23C_40C",
+                                              "wood_fibre_board_vapour"};
+  for (const std::string& scenario : scenarios) {
+    const fs::path job = fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs" / scenario / "job.toml";
+    const fs::path out = root_ / scenario;
+    const CommandRun made = Sorbtrace("make " + job.string() + " --out " + out.string() + " -q");
+    ASSERT_EQ(made.exit_code, 0) << scenario << "\n" << made.output;
+
+    // The sheet as a reader sees it.
+    const std::string text = testing::PdfText(out / "datasheet.pdf");
+    ASSERT_FALSE(text.empty()) << scenario;
+    EXPECT_GE(ExpectGumRounding(text, scenario + " datasheet"), 20) << scenario;
+    // Settings as the user wrote them: 0.106, not its binary neighbour.
+    EXPECT_EQ(text.find("0.10600000000000001"), std::string::npos) << scenario;
+    EXPECT_NE(text.find("molecular_area_nm2 = 0.106"), std::string::npos) << scenario;
+    // The budget on the sheet names its point.
+    EXPECT_NE(text.find("Uncertainty budget of one reported point"), std::string::npos);
+    EXPECT_NE(testing::CollapseSpaces(text).find("combined standard uncertainty u_c"),
+              std::string::npos);
+
+    // The JSON text fields and the CSV "as printed" columns, by the same rule.
+    const auto json = nlohmann::json::parse(Slurp(out / "results.json"));
+    std::string texts;
+    for (const auto& q : json["headline"]) texts += q["text"].get<std::string>() + "\n";
+    for (const auto& p : json["isotherm"]["points"]) {
+      texts += p["moisture"]["text"].get<std::string>() + "\n" +
+               p["rh"]["text"].get<std::string>() + "\n";
+    }
+    EXPECT_GE(ExpectGumRounding(texts, scenario + " results.json"), 10);
+    EXPECT_GE(ExpectGumRounding(Slurp(out / "equilibrium_table.csv"), scenario + " csv"), 10);
+
+    // Every combined point carries its budget; the contributions give u_c (GUM Eq. 10).
+    ASSERT_FALSE(json["isotherm"]["points"].empty());
+    for (const auto& p : json["isotherm"]["points"]) {
+      ASSERT_TRUE(p.contains("moisture_budget")) << scenario;
+      ASSERT_FALSE(p["moisture_budget"].empty()) << scenario;
+      double sum2 = 0.0;
+      for (const auto& line : p["moisture_budget"]) {
+        sum2 += std::pow(line["contribution"].get<double>(), 2);
+      }
+      const double u = p["moisture"]["standard_uncertainty"].get<double>();
+      EXPECT_NEAR(std::sqrt(sum2), u, 1e-9 * u) << scenario << " point " << p["index"];
+      double rh2 = 0.0;
+      for (const auto& line : p["rh_budget"])
+        rh2 += std::pow(line["contribution"].get<double>(), 2);
+      const double u_rh = p["rh"]["standard_uncertainty"].get<double>();
+      EXPECT_NEAR(std::sqrt(rh2), u_rh, 1e-9 * u_rh) << scenario << " point " << p["index"];
+      EXPECT_EQ(p["specimen_ids"].size(), p["num_specimens"].get<size_t>());
+    }
+  }
+}
+
+TEST_F(SheetE2eTest, CheckPrintsValueAndUncertaintyByTheSameRule) {
+  const fs::path job =
+      fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs/lime_plaster_desiccator/job.toml";
+  const CommandRun checked = Sorbtrace("check " + job.string());
+  ASSERT_EQ(checked.exit_code, 0) << checked.output;
+  EXPECT_GE(ExpectGumRounding(checked.output, "check"), 20);
+  EXPECT_EQ(checked.output.find("+-"), std::string::npos);
+}
+
+// Replaces `from` (which must occur) by `to` in the job file.
+void Rewrite(const fs::path& job, const std::string& from, const std::string& to) {
+  std::string text = Slurp(job);
+  const size_t at = text.find(from);
+  ASSERT_NE(at, std::string::npos) << from;
+  text.replace(at, from.size(), to);
+  Spit(job, text);
+}
+
+TEST_F(SheetE2eTest, LongTokensInEveryFreeTextFieldNeverCrashMakeOrCheck) {
+  // The job fields a person types freely, as written in the excipient demo.
+  struct Field {
+    const char* name;
+    std::vector<std::pair<std::string, std::string>> edits;  // (as written, with {} = token)
+  };
+  const std::vector<Field> fields = {
+      {"description",
+       {{"description = \"Spray-dried binder powder for tableting, 25 mg in a quartz pan\"",
+         "description = \"{}\""}}},
+      {"client",
+       {{"client = \"Hollowmere Building Physics Laboratory, internal study\"",
+         "client = \"{}\""}}},
+      {"material", {{"name = \"Powdered excipient EX-12 (fictional)\"", "name = \"{}\""}}},
+      {"test_dates", {{"test_dates = \"2026-04-20 to 2026-04-21\"", "test_dates = \"{}\""}}},
+      {"job_id", {{"id = \"HBPL-2026-0318\"", "id = \"{}\""}}},
+      {"specimen", {{"id = \"E1\"", "id = \"{}\""}, {"specimen = \"E1\"", "specimen = \"{}\""}}},
+      {"dataset", {{"id = \"dvs-25C\"", "id = \"{}\""}}},
+  };
+  for (const size_t size : {size_t{64} * 1024, size_t{1024} * 1024}) {
+    const std::string token(size, 'Q');
+    for (const Field& field : fields) {
+      const std::string name = std::string(field.name) + "_" + std::to_string(size);
+      SCOPED_TRACE(name);
+      const fs::path dir = CopyScenario("excipient_powder_25C", name);
+      const fs::path job = dir / "job.toml";
+      for (const auto& [from, to] : field.edits) {
+        std::string replacement = to;
+        replacement.replace(replacement.find("{}"), 2, token);
+        Rewrite(job, from, replacement);
+      }
+      const CommandRun checked = Sorbtrace("check " + job.string());
+      EXPECT_FALSE(checked.signalled);
+      EXPECT_EQ(checked.exit_code, 0) << checked.output.substr(0, 400);
+      const fs::path parent = root_ / (name + "_out");
+      fs::create_directories(parent);
+      const fs::path out = parent / "sheet";
+      const CommandRun made = Sorbtrace("make " + job.string() + " --out " + out.string() + " -q");
+      EXPECT_FALSE(made.signalled);
+      // `make` and `check` agree.
+      ASSERT_EQ(made.exit_code, checked.exit_code) << made.output.substr(0, 400);
+      // A complete folder and nothing else beside it (no partial or temporary files).
+      for (const char* file : {"datasheet.pdf", "results.json", "run.log", "equilibrium_table.csv",
+                               "fit_parameters.csv", "pore_distribution.csv"}) {
+        EXPECT_TRUE(fs::is_regular_file(out / file)) << file;
+      }
+      int entries = 0;
+      for ([[maybe_unused]] const auto& e : fs::directory_iterator(parent)) ++entries;
+      EXPECT_EQ(entries, 1);
+      // Shortened on the sheet, visibly, with a caution; in full in results.json.
+      const std::string text = testing::PdfText(out / "datasheet.pdf");
+      EXPECT_NE(text.find("QQQQ…"), std::string::npos);
+      EXPECT_EQ(text.find(std::string(201, 'Q')), std::string::npos);
+      EXPECT_NE(testing::CollapseSpaces(text).find("prints it shortened"), std::string::npos);
+      EXPECT_NE(Slurp(out / "run.log").find("prints it shortened"), std::string::npos);
+      EXPECT_NE(Slurp(out / "results.json").find(token), std::string::npos);
+      fs::remove_all(dir);
+      fs::remove_all(parent);
+    }
+  }
+}
+
+// The fields of one CSV line, each as written (quotes kept, doubled quotes kept doubled).
+std::vector<std::string> CsvFields(const std::string& line) {
+  std::vector<std::string> fields(1);
+  bool quoted = false;
+  for (size_t i = 0; i < line.size(); ++i) {
+    const char c = line[i];
+    if (quoted) {
+      if (c == '"' && i + 1 < line.size() && line[i + 1] == '"') {
+        fields.back() += "\"\"";
+        ++i;
+      } else if (c == '"') {
+        quoted = false;
+        fields.back() += c;
+      } else {
+        fields.back() += c;
+      }
+    } else if (c == '"') {
+      quoted = true;
+      fields.back() += c;
+    } else if (c == ',') {
+      fields.emplace_back();
+    } else {
+      fields.back() += c;
+    }
+  }
+  return fields;
+}
+
+TEST_F(SheetE2eTest, CsvTextCellsCannotStartAFormula) {
+  // OWASP "CSV Injection": cells starting with =, +, -, @, tab or CR run as formulas.
+  const fs::path dir = CopyScenario("excipient_powder_25C", "inject");
+  const fs::path job = dir / "job.toml";
+  const std::string specimen = "=HYPERLINK(\"http://example.invalid\";\"x\")";
+  const std::string dataset = "@SUM(A1:A9)";
+  // TOML basic strings escape the quotes.
+  Rewrite(job, "id = \"E1\"", "id = \"=HYPERLINK(\\\"http://example.invalid\\\";\\\"x\\\")\"");
+  Rewrite(job, "specimen = \"E1\"",
+          "specimen = \"=HYPERLINK(\\\"http://example.invalid\\\";\\\"x\\\")\"");
+  Rewrite(job, "id = \"dvs-25C\"", "id = \"@SUM(A1:A9)\"");
+  const fs::path out = root_ / "inject_out";
+  const CommandRun made = Sorbtrace("make " + job.string() + " --out " + out.string() + " -q");
+  ASSERT_EQ(made.exit_code, 0) << made.output;
+  const std::string csv = Slurp(out / "equilibrium_table.csv");
+  std::istringstream lines(csv);
+  std::string line;
+  std::getline(lines, line);  // header
+  int rows = 0;
+  while (std::getline(lines, line)) {
+    const std::vector<std::string> f = CsvFields(line);
+    ASSERT_GE(f.size(), 21u) << line;
+    EXPECT_EQ(f[1], "\"'@SUM(A1:A9)\"") << line;
+    if (f[0] == "specimen") {
+      EXPECT_EQ(f[2], "\"'=HYPERLINK(\"\"http://example.invalid\"\";\"\"x\"\")\"") << line;
+    }
+    // Every cell, quoted or not, starts with neither of the formula characters once unquoted.
+    for (const std::string& cell : f) {
+      const std::string bare = !cell.empty() && cell.front() == '"' ? cell.substr(1) : cell;
+      if (bare.empty()) continue;
+      const bool number = std::regex_match(bare, std::regex(R"(-?[0-9.eE+-]+)"));
+      if (!number) {
+        EXPECT_EQ(std::string("=+-@\t\r").find(bare.front()), std::string::npos) << cell;
+      }
+    }
+    ++rows;
+  }
+  EXPECT_GT(rows, 5);
+  // The ids are unchanged where they are data: results.json keeps them as written.
+  const auto json = nlohmann::json::parse(Slurp(out / "results.json"));
+  EXPECT_EQ(json["job"]["specimens"][0]["id"], specimen);
+  EXPECT_EQ(json["job"]["datasets"][0]["id"], dataset);
+}
+
+}  // namespace
+}  // namespace sorbtrace::report
