@@ -173,10 +173,13 @@ bool LiesInsideFolder(const std::filesystem::path& written, const std::filesyste
   if (!base.has_filename()) base = base.parent_path();  // "/a/b/" -> "/a/b"
   const fs::path as_written = (base / written).lexically_normal();
   if (!inside(as_written, base)) return false;
-  std::error_code link_ec;
-  const fs::path real_file = fs::weakly_canonical(as_written, link_ec);
-  const fs::path real_folder = fs::weakly_canonical(base, link_ec);
-  return link_ec || inside(real_file, real_folder);
+  // Symbolic links resolved where they can be; a path that cannot be resolved (a link loop)
+  // is judged as written, and its reading then names the problem (RegularFileProblem).
+  std::error_code file_ec;
+  std::error_code folder_ec;
+  const fs::path real_file = fs::weakly_canonical(as_written, file_ec);
+  const fs::path real_folder = fs::weakly_canonical(base, folder_ec);
+  return file_ec || folder_ec || inside(real_file, real_folder);
 }
 
 std::string ReadBoundedFile(const std::filesystem::path& path, const std::string& display,

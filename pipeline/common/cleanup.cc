@@ -24,7 +24,7 @@ enum SlotState : int { kFree = 0, kFilling = 1, kReady = 2 };
 
 struct PathSlot {
   std::atomic<int> state{kFree};
-  bool is_folder = false;
+  TemporaryKind kind = TemporaryKind::kFile;
   char path[PATH_MAX] = {};
 };
 
@@ -62,10 +62,13 @@ void OnTerminatingSignal(int signal_number) {
   }
   for (auto& slot : path_slots) {
     if (slot.state.load() != kReady) continue;
-    if (slot.is_folder) {
-      RemoveFlatFolder(slot.path);
-    } else {
-      ::unlink(slot.path);
+    if (slot.kind == TemporaryKind::kFolder) RemoveFlatFolder(slot.path);
+    if (slot.kind == TemporaryKind::kFile) ::unlink(slot.path);
+  }
+  // Created parents last, deepest (registered last) first; rmdir keeps a non-empty one.
+  for (auto slot = path_slots.rbegin(); slot != path_slots.rend(); ++slot) {
+    if (slot->state.load() == kReady && slot->kind == TemporaryKind::kEmptyFolder) {
+      ::rmdir(slot->path);
     }
   }
   errno = saved_errno;
@@ -90,14 +93,14 @@ void InstallSignalCleanup() {
   ::sigaction(SIGXFSZ, &ignore, nullptr);
 }
 
-ScopedTemporaryPath::ScopedTemporaryPath(const std::filesystem::path& path, bool is_folder) {
+ScopedTemporaryPath::ScopedTemporaryPath(const std::filesystem::path& path, TemporaryKind kind) {
   const std::string text = std::filesystem::absolute(path).string();
   if (text.size() >= PATH_MAX) return;
   for (int i = 0; i < kMaxTemporaryPaths; ++i) {
     int expected = kFree;
     if (!path_slots[i].state.compare_exchange_strong(expected, kFilling)) continue;
     std::memcpy(path_slots[i].path, text.c_str(), text.size() + 1);
-    path_slots[i].is_folder = is_folder;
+    path_slots[i].kind = kind;
     path_slots[i].state.store(kReady);
     slot_ = i;
     return;

@@ -23,11 +23,17 @@ namespace sorbtrace {
 // Installs the handlers described above; call once at the start of main().
 void InstallSignalCleanup();
 
-// Registers `path` for removal on a signal while the object lives. A folder is removed
-// with its files (staging folders hold files only, no sub-folders).
+// What a registered path is, and how it is removed on a signal.
+enum class TemporaryKind {
+  kFile,         // unlinked
+  kFolder,       // its files unlinked, then the folder (staging folders hold files only)
+  kEmptyFolder,  // removed only if empty, after all others (parents created for an output)
+};
+
+// Registers `path` for removal on a signal while the object lives.
 class ScopedTemporaryPath {
  public:
-  ScopedTemporaryPath(const std::filesystem::path& path, bool is_folder);
+  ScopedTemporaryPath(const std::filesystem::path& path, TemporaryKind kind);
   ~ScopedTemporaryPath();
   ScopedTemporaryPath(const ScopedTemporaryPath&) = delete;
   ScopedTemporaryPath& operator=(const ScopedTemporaryPath&) = delete;

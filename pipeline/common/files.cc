@@ -163,7 +163,7 @@ void WriteFileAtomically(const std::filesystem::path& path, std::string_view con
   std::string temp_name = "." + path.filename().string() + ".tmp-" + std::to_string(::getpid()) +
                           "-" + std::to_string(temp_counter.fetch_add(1));
   const std::filesystem::path temp_path = directory / temp_name;
-  const ScopedTemporaryPath registered(temp_path, false);
+  const ScopedTemporaryPath registered(temp_path, TemporaryKind::kFile);
   const int fd = ::open(temp_path.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0644);
   if (fd < 0) throw OutputError(WriteFailureMessage(path, errno));
   int error_number = 0;

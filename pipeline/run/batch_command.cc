@@ -110,7 +110,8 @@ bool ScanJobFile(const fs::path& path, std::string* job_id) {
   std::error_code ec;
   const auto size = fs::file_size(path, ec);
   if (ec || size > kMaxScannedJobBytes) return !ec;
-  const std::string text = ReadWholeFile(path);
+  std::string text = ReadWholeFile(path);
+  if (text.rfind("\xEF\xBB\xBF", 0) == 0) text.erase(0, 3);  // UTF-8 byte-order mark
   bool is_job = false;
   bool in_job_table = false;
   size_t begin = 0;
@@ -384,7 +385,12 @@ std::string Summary(const std::vector<JobOutcome>& outcomes) {
 int Batch(const BatchArguments& args) {
   Console console(args.quiet ? Verbosity::kQuiet
                              : (args.verbose ? Verbosity::kVerbose : Verbosity::kNormal));
-  const std::string problem = fs::is_directory(args.input_dir) ? "" : "not a folder";
+  std::error_code ec;
+  const std::string problem =
+      fs::is_directory(args.input_dir, ec)
+          ? ""
+          : (RegularFileProblem(args.input_dir).empty() ? "is a file, not a folder"
+                                                        : RegularFileProblem(args.input_dir));
   if (!problem.empty()) {
     throw InputError(SourceLocation{args.input_dir, 0, 0}, problem,
                      "a folder holding job files (*.toml with a [job] table)");

@@ -23,6 +23,7 @@
 #include <cstdlib>
 #include <cstring>
 #include <filesystem>
+#include <memory>
 #include <set>
 #include <string>
 #include <system_error>
@@ -222,13 +223,20 @@ void WriteOutputDirectory(const RunResult& result, const fs::path& output_dir) {
   const fs::path target = Resolved(output_dir);
   // Folders created for the output are removed again (if still empty) when writing fails.
   std::vector<fs::path> created;
-  for (fs::path missing = target.parent_path(); !fs::exists(missing);
+  struct stat probe {};
+  for (fs::path missing = target.parent_path();
+       ::stat(missing.c_str(), &probe) != 0 && errno == ENOENT && missing != missing.root_path();
        missing = missing.parent_path()) {
     created.push_back(missing);
   }
   auto remove_created = [&created] {
     for (const auto& folder : created) ::rmdir(folder.c_str());  // deepest first
   };
+  std::vector<std::unique_ptr<ScopedTemporaryPath>> created_registered;
+  for (auto folder = created.rbegin(); folder != created.rend(); ++folder) {  // outermost first
+    created_registered.push_back(
+        std::make_unique<ScopedTemporaryPath>(*folder, TemporaryKind::kEmptyFolder));
+  }
   const fs::path staging = target.parent_path() / ("." + target.filename().string() + ".partial-" +
                                                    std::to_string(::getpid()) + "-" +
                                                    std::to_string(staging_counter.fetch_add(1)));
@@ -238,7 +246,7 @@ void WriteOutputDirectory(const RunResult& result, const fs::path& output_dir) {
     remove_created();
     throw OutputError(WriteFailureMessage(target.parent_path(), ec.value()));
   }
-  const ScopedTemporaryPath registered(staging, true);
+  const ScopedTemporaryPath registered(staging, TemporaryKind::kFolder);
   if (::mkdir(staging.c_str(), 0755) != 0) {
     const int error_number = errno;
     remove_created();

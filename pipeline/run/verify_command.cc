@@ -147,20 +147,28 @@ int Verify(const VerifyArguments& args) {
   std::vector<ResolvedInput> resolved_inputs;
   std::vector<fs::path> protected_paths = {fs::path(args.results_file), job_file};
   for (const auto& input : reported["inputs"]) {
-    if (!input.is_object()) continue;
-    const std::string role = input.value("role", "");
-    const std::string path = input.value("path", "");
+    auto text = [&input](const char* key) {
+      return input.is_object() && input.contains(key) && input[key].is_string()
+                 ? input[key].get<std::string>()
+                 : std::string();
+    };
+    const std::string role = text("role");
+    const std::string path = text("path");
+    const fs::path written(path);
+    const bool escapes =
+        written.is_absolute() || (!written.empty() && *written.lexically_normal().begin() == "..");
     fs::path resolved;
     if (role == "job") {
       resolved = job_file;
-    } else if (role == "template") {
+    } else if (role == "template" && !escapes) {
       resolved = ResolveTemplate(path, job_file.parent_path());
-      if (!fs::exists(resolved))
+      std::error_code ec;
+      if (!fs::exists(resolved, ec))
         resolved = ResolveTemplate(fs::path(path).stem().string(), job_file.parent_path());
     } else {
       resolved = ResolveRecordedInput(path, job_file.parent_path(), args, args.results_file);
     }
-    resolved_inputs.push_back({role, input.value("sha256", ""), resolved});
+    resolved_inputs.push_back({role, text("sha256"), resolved});
     protected_paths.push_back(resolved);
   }
   if (!args.report_file.empty()) CheckReportTarget(args.report_file, protected_paths);

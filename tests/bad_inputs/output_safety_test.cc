@@ -43,7 +43,9 @@ class OutputSafetyTest : public ::testing::Test {
  protected:
   void SetUp() override {
     const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    root_ = fs::temp_directory_path() / (std::string("sorbtrace_safety_") + info->name());
+    // The process id keeps concurrent runs (other build trees, ctest -j) apart.
+    root_ = fs::temp_directory_path() /
+            ("sorbtrace_safety_" + std::string(info->name()) + "_" + std::to_string(::getpid()));
     fs::remove_all(root_);
     lab_ = root_ / "lab";
     fs::create_directories(lab_);
@@ -244,6 +246,12 @@ TEST_F(OutputSafetyTest, BatchGivesJobsMappingToOneFolderDistinctDisjointFolders
   std::ofstream(lab_ / "jobs" / "a.toml") << text;
   JobWithId(lab_ / "jobs" / "c", "X/1");
   JobWithId(lab_ / "jobs" / "d", "X_1");
+  // As an editor on another system saves it: byte-order mark and CRLF line ends.
+  std::string crlf = "\xEF\xBB\xBF";
+  for (const char c : ReadWholeFile(lab_ / "jobs" / "d" / "job.toml")) {
+    crlf += c == '\n' ? std::string("\r\n") : std::string(1, c);
+  }
+  std::ofstream(lab_ / "jobs" / "d" / "job.toml", std::ios::trunc | std::ios::binary) << crlf;
   const auto before = Snapshot();
   const Outcome run = Run("batch jobs --out bout -q -j 2");
   ASSERT_EQ(run.exit_code, 0) << run.output;
@@ -315,7 +323,8 @@ class VerifySafetyTest : public OutputSafetyTest {
  protected:
   void SetUp() override {
     OutputSafetyTest::SetUp();
-    ASSERT_EQ(Run("make job/job.toml --out issued -q").exit_code, 0);
+    const Outcome issued = Run("make job/job.toml --out issued -q");
+    ASSERT_EQ(issued.exit_code, 0) << issued.output;
   }
 };
 
@@ -388,6 +397,44 @@ TEST_F(VerifySafetyTest, RecordedInputsOutsideTheJobFolderAreNotOpened) {
   }
 }
 
+TEST_F(VerifySafetyTest, HostileResultsFilesAreRefusedNotCrashedOn) {
+  const auto results = nlohmann::json::parse(ReadWholeFile(lab_ / "issued" / "results.json"));
+  auto write = [&](const nlohmann::json& edited) {
+    std::ofstream(lab_ / "issued" / "results.json", std::ios::trunc) << edited.dump(1);
+  };
+  // A template recorded with an absolute or escaping path is not opened either.
+  for (const std::string& path : std::vector<std::string>{"/etc/hostname", "../../outside.toml"}) {
+    auto edited = results;
+    for (auto& input : edited["inputs"]) {
+      if (input.value("role", std::string()) == "template") input["path"] = path;
+    }
+    write(edited);
+    const Outcome run = Run("verify issued/results.json");
+    EXPECT_EQ(run.exit_code, 3) << path << run.output;
+    EXPECT_NE(run.output.find("outside the job folder"), std::string::npos) << run.output;
+  }
+  // Wrong types where strings belong: bad input (3) naming the field, never a crash.
+  auto edited = results;
+  edited["inputs"][0]["role"] = 7;
+  write(edited);
+  Outcome run = Run("verify issued/results.json");
+  EXPECT_EQ(run.exit_code, 3) << run.output;
+  EXPECT_NE(run.output.find("inputs[0].role is not a string"), std::string::npos) << run.output;
+  edited = results;
+  edited["settings"]["job_file"] = 42;
+  write(edited);
+  run = Run("verify issued/results.json");
+  EXPECT_EQ(run.exit_code, 3) << run.output;
+  // Nesting far beyond any results.json: refused with its place.
+  std::ofstream(lab_ / "issued" / "results.json", std::ios::trunc)
+      << std::string(100000, '[') << std::string(100000, ']');
+  run = Run("verify issued/results.json");
+  EXPECT_EQ(run.exit_code, 3) << run.output;
+  EXPECT_NE(run.output.find("issued/results.json:1:65: error: nesting deeper than 64"),
+            std::string::npos)
+      << run.output;
+}
+
 // --- only regular files are read --------------------------------------------------------
 
 TEST_F(VerifySafetyTest, NonRegularInputsAreNamedAndNeverRead) {
@@ -396,11 +443,15 @@ TEST_F(VerifySafetyTest, NonRegularInputsAreNamedAndNeverRead) {
   fs::remove(data);
   struct Variant {
     std::string name;
-    std::string message;
+    std::string message;      // of verify, which hashes the recorded path
+    std::string job_message;  // of check and make
   };
+  // A link to /dev/zero points outside the job folder: refused by the data-path policy.
   for (const Variant& variant :
-       {Variant{"fifo", "is a FIFO"}, Variant{"zero", "is a device"},
-        Variant{"folder", "is a folder"}, Variant{"loop", "symbolic-link loop"}}) {
+       {Variant{"fifo", "is a FIFO", "is a FIFO"},
+        Variant{"zero", "is a device", "lies outside the job file's folder"},
+        Variant{"folder", "is a folder", "is a folder"},
+        Variant{"loop", "symbolic-link loop", "symbolic-link loop"}}) {
     if (variant.name == "fifo") {
       ASSERT_EQ(::mkfifo(data.c_str(), 0644), 0);
     }
@@ -411,7 +462,7 @@ TEST_F(VerifySafetyTest, NonRegularInputsAreNamedAndNeverRead) {
       const Outcome run = Run(verb);
       EXPECT_EQ(run.exit_code, 3) << variant.name << " " << verb << run.output;
       EXPECT_NE(run.output.find("job/job.toml:35:"), std::string::npos) << run.output;
-      EXPECT_NE(run.output.find(variant.message), std::string::npos) << run.output;
+      EXPECT_NE(run.output.find(variant.job_message), std::string::npos) << run.output;
       EXPECT_EQ(run.output.find("not found"), std::string::npos) << run.output;
     }
     EXPECT_FALSE(fs::exists(lab_ / "fresh"));
@@ -439,10 +490,10 @@ TEST_F(VerifySafetyTest, NonRegularInputsAreNamedAndNeverRead) {
   EXPECT_FALSE(fs::exists(lab_ / "fresh"));
   const Outcome zero = Run("verify zero.json");
   EXPECT_EQ(zero.exit_code, 3) << zero.output;
-  EXPECT_NE(zero.output.find("is a device"), std::string::npos) << zero.output;
+  EXPECT_NE(zero.output.find("not a regular file"), std::string::npos) << zero.output;
   const Outcome pipe = Run("verify pipe.toml");
   EXPECT_EQ(pipe.exit_code, 3) << pipe.output;
-  EXPECT_NE(pipe.output.find("is a FIFO"), std::string::npos) << pipe.output;
+  EXPECT_NE(pipe.output.find("not a regular file"), std::string::npos) << pipe.output;
 }
 
 // --- full disk and signals --------------------------------------------------------------
@@ -477,6 +528,31 @@ TEST_F(OutputSafetyTest, FileSizeLimitIsAnOutputErrorWithNoPartialOutput) {
   ExpectNoLeftovers();
 }
 
+// sysfs refuses new folders even to root (EPERM), so this holds whoever runs the tests.
+TEST_F(OutputSafetyTest, UnwritableOutputFolderIsAnOutputError) {
+  if (!fs::is_directory("/sys/kernel")) GTEST_SKIP() << "no sysfs at /sys";
+  const auto before = Snapshot();
+  for (const std::string args :
+       {"make job/job.toml --out /sys/sorbtrace_test_out -q",
+        "batch job --out /sys/sorbtrace_test_batch -q", "make job/job.toml --out issued -q"}) {
+    if (args.find("issued") != std::string::npos) {
+      // Then verify's report into the same place.
+      ASSERT_EQ(Run(args).exit_code, 0);
+      const Outcome run = Run("verify issued/results.json --report /sys/sorbtrace_test_report.txt");
+      EXPECT_EQ(run.exit_code, 7) << run.output;
+      EXPECT_NE(run.output.find("not writable"), std::string::npos) << run.output;
+      continue;
+    }
+    const Outcome run = Run(args);
+    EXPECT_EQ(run.exit_code, 7) << args << run.output;
+    EXPECT_NE(run.output.find("output error: cannot write /sys/sorbtrace_test_"), std::string::npos)
+        << run.output;
+    EXPECT_NE(run.output.find("not writable"), std::string::npos) << run.output;
+    EXPECT_EQ(run.output.find("internal error"), std::string::npos) << run.output;
+    ExpectIntact(before);
+  }
+}
+
 TEST_F(OutputSafetyTest, StoppingSignalsLeaveNoTemporaryFiles) {
   ASSERT_EQ(Run("make job/job.toml --out issued -q").exit_code, 0);
   const auto before = Snapshot();
@@ -484,12 +560,14 @@ TEST_F(OutputSafetyTest, StoppingSignalsLeaveNoTemporaryFiles) {
   for (const auto& [signal_number, name] :
        std::map<int, std::string>{{SIGINT, "SIGINT"}, {SIGTERM, "SIGTERM"}, {SIGHUP, "SIGHUP"}}) {
     const std::string env = "SORBTRACE_TEST_SIGNAL_WHILE_WRITING=" + std::to_string(signal_number);
-    for (const std::string out : {"issued", "fresh"}) {
+    for (const std::string out : {"issued", "fresh", "new/deeper/folder"}) {
       const Outcome run = Run("make job/job.toml --out " + out + " -q", env);
       EXPECT_EQ(run.exit_code, 128 + signal_number) << name << " " << out << run.output;
       ExpectIntact(before);
       EXPECT_EQ(Snapshot().size(), before.size()) << name;
     }
+    EXPECT_FALSE(fs::exists(lab_ / "fresh")) << name;
+    EXPECT_FALSE(fs::exists(lab_ / "new")) << name << ": created parent folders remain";
   }
   // From outside, at moments spread over a run (about one second on the reference machine).
   for (int delay_ms : {50, 200, 400, 600, 800, 1000}) {

@@ -49,7 +49,9 @@ class RunE2eTest : public ::testing::Test {
  protected:
   void SetUp() override {
     const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    root_ = fs::temp_directory_path() / (std::string("sorbtrace_e2e_") + info->name());
+    // The process id keeps concurrent runs (other build trees, ctest -j) apart.
+    root_ = fs::temp_directory_path() /
+            ("sorbtrace_e2e_" + std::string(info->name()) + "_" + std::to_string(::getpid()));
     fs::remove_all(root_);
     fs::create_directories(root_);
     fs::copy(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs", root_ / "inputs",
