@@ -728,6 +728,7 @@ void EquilibriaSection(Context& ctx) {
                                       {"Flags", w * 0.15, false}};
   const double ms = ctx.moisture_scale();
   const int digits = ctx.sheet.rules.significant_digits;
+  const double k = ctx.sheet.rules.coverage_factor;
   std::vector<std::vector<std::string>> rows;
   for (const reduce::IsothermPoint& p : ctx.inputs.reduced->points) {
     std::string flags;
