@@ -385,6 +385,23 @@ nlohmann::json ParseJsonText(std::string_view text, const std::string& display,
     }
     throw InputError(LocationOf(text, offset, display), "not valid JSON: " + Excerpt(what, 200),
                      expected);
+  } catch (const nlohmann::json::out_of_range& error) {
+    // A number beyond a double (1e400): the message quotes the number; locate its first use.
+    std::string what = error.what();
+    if (const auto colon = what.find("] "); colon != std::string::npos) {
+      what = what.substr(colon + 2);
+    }
+    std::size_t offset = 0;
+    if (const auto open = what.find('\''); open != std::string::npos) {
+      const auto close = what.find('\'', open + 1);
+      const auto found = text.find(what.substr(open + 1, close - open - 1));
+      if (close != std::string::npos && found != std::string_view::npos) offset = found;
+    }
+    throw InputError(LocationOf(text, offset, display), "not valid JSON: " + Excerpt(what, 200),
+                     expected);
+  } catch (const nlohmann::json::exception& error) {
+    throw InputError(SourceLocation{display, 0, 0}, "not valid JSON: " + Excerpt(error.what(), 200),
+                     expected);
   }
 }
 

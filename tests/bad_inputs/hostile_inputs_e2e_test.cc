@@ -239,6 +239,9 @@ TEST_F(HostileInputTest, MalformedResultsJsonIsRefusedWithItsPlace) {
   WriteBytes(job_dir_ / "results.json", "{\n  \"settings\": {\n    \"job_file\": tru\n");
   // nlohmann::json stops at the byte after "tru" (line 3, column 20).
   ExpectRefused("verify results.json", "results.json", 3, 20, "not valid JSON");
+  // A number beyond a double (found by fuzz_results_json: it escaped as an exception).
+  WriteBytes(job_dir_ / "results.json", "{\"inputs\": [],\n \"n\": [-0.0, 1e400]}");
+  ExpectRefused("verify results.json", "results.json", 2, 14, "number overflow");
   WriteBytes(job_dir_ / "results.json", "[1, 2, 3]");
   ExpectRefused("verify results.json", "results.json", 0, 0, "not a JSON object");
   WriteBytes(job_dir_ / "results.json", "{\"settings\": {\"job_file\": 5}, \"inputs\": []}");

@@ -85,6 +85,11 @@ TEST(BoundedInputTest, JsonNestingOfSixtyFourPassesAndSixtyFiveIsRefused) {
       RefusedAt([] { ParseJsonText("{\n\"a\": [1, 2,, 3]}", "r.json", "JSON"); });
   EXPECT_EQ(syntax.line, 2);
   EXPECT_EQ(syntax.column, 12);  // the second comma
+  // A number beyond a double is refused (not an escaping exception), at the number.
+  const SourceLocation overflow =
+      RefusedAt([] { ParseJsonText("{\"a\": [1,\n 2, 1e400]}", "r.json", "JSON"); });
+  EXPECT_EQ(overflow.line, 2);
+  EXPECT_EQ(overflow.column, 5);
 }
 
 TEST(BoundedInputTest, TomlLinesOfOneHundredTwentyEightKibibytesPass) {
