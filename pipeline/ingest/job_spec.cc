@@ -213,6 +213,19 @@ void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir, 
   const fs::path written(dataset->file_as_written);
   dataset->file = (job_dir / written).lexically_normal();
   const toml::node& key = *table.get("file");
+  const auto refuse_outside = [&] {
+    in.Fail(
+        key,
+        "data file '" + Excerpt(dataset->file_as_written) + "' lies outside the job file's folder",
+        "a path relative to the job file, inside its folder tree (or "
+        "allow_data_outside_job_folder = true in [job] to read files elsewhere)");
+  };
+  // A path that leaves the folder as written is refused before anything is looked up there.
+  const fs::path as_written = written.lexically_normal();
+  if (!allow_outside && (written.is_absolute() || written.has_root_name() ||
+                         (!as_written.empty() && *as_written.begin() == ".."))) {
+    refuse_outside();
+  }
   const std::string problem =
       dataset->file_as_written.empty() ? "not found" : RegularFileProblem(dataset->file);
   if (!problem.empty()) {
@@ -221,13 +234,8 @@ void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir, 
                 Excerpt(dataset->file.string(), 200) + ")",
             "an existing file, relative to the job file");
   }
-  if (!allow_outside && !dataset->file_as_written.empty() && !LiesInsideFolder(written, job_dir)) {
-    in.Fail(
-        key,
-        "data file '" + Excerpt(dataset->file_as_written) + "' lies outside the job file's folder",
-        "a path relative to the job file, inside its folder tree (or "
-        "allow_data_outside_job_folder = true in [job] to read files elsewhere)");
-  }
+  // Then where it really is, links resolved.
+  if (!allow_outside && !LiesInsideFolder(written, job_dir)) refuse_outside();
 }
 
 // Plausibility rule R7 (plausibility.h): RH-sensor and temperature uncertainties within what

@@ -7,6 +7,7 @@
 #include <boost/math/distributions/normal.hpp>
 #include <boost/math/distributions/students_t.hpp>
 #include <cmath>
+#include <iterator>
 #include <limits>
 #include <map>
 #include <stdexcept>
@@ -218,24 +219,41 @@ std::string Join(const std::vector<std::string>& items, std::string_view separat
   return out;
 }
 
-// Standard uncertainty of the mean of a step's specimens and its effective degrees of freedom
-// (see reduce.h).
+// Standard uncertainty of the mean of a step's specimens, its budget and its effective degrees
+// of freedom (see reduce.h). One specimen: its own budget. Several: the spread of their mean
+// (Type A, n - 1 degrees of freedom) stands for every input that acts on each specimen apart
+// (it is seen in that spread), and each systematic input (the same on every specimen) enters
+// once, as the mean of its contributions over the specimens (full correlation).
 struct CombinedUncertainty {
   double u = 0.0;
   double effective_dof = kInfinity;
+  std::vector<BudgetLine> budget;
 };
 CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& members,
                                      double spread_sd) {
   if (members.size() == 1) {
-    return {members.front()->u_moisture_kg_per_kg, members.front()->effective_dof};
+    const SpecimenPoint& only = *members.front();
+    return {only.u_moisture_kg_per_kg, only.effective_dof, only.moisture_budget};
   }
   const double n = static_cast<double>(members.size());
-  double systematic = 0.0;
-  for (const SpecimenPoint* p : members) systematic += p->u_systematic_kg_per_kg / n;
-  const std::vector<BudgetLine> lines = {
-      Line("between-specimen spread", spread_sd, "kg/kg", 1.0 / std::sqrt(n), n - 1.0),
-      Line("systematic (common to the specimens)", systematic, "kg/kg", 1.0)};
-  return {RootSumSquare(lines), EffectiveDegreesOfFreedom(lines)};
+  std::vector<BudgetLine> lines = {
+      Line("between-specimen spread (Type A)", spread_sd, "kg/kg", 1.0 / std::sqrt(n), n - 1.0)};
+  for (const SpecimenPoint* p : members) {
+    for (const BudgetLine& line : p->moisture_budget) {
+      if (!line.systematic) continue;
+      auto same = std::find_if(lines.begin(), lines.end(), [&](const BudgetLine& l) {
+        return l.systematic && l.quantity == line.quantity;
+      });
+      if (same == lines.end()) {
+        BudgetLine mean_line = SystematicLine(line.quantity, 0.0, "kg/kg", 1.0);
+        lines.push_back(mean_line);
+        same = std::prev(lines.end());
+      }
+      same->standard_uncertainty += line.contribution / n;  // mean contribution, kg/kg
+      same->contribution = same->standard_uncertainty;
+    }
+  }
+  return {RootSumSquare(lines), EffectiveDegreesOfFreedom(lines), lines};
 }
 
 }  // namespace
@@ -378,6 +396,7 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     iso.between_specimen_sd_kg_per_kg = s;
     const CombinedUncertainty combined = CombineSpecimens(members, s);
     iso.u_moisture_kg_per_kg = combined.u;
+    iso.moisture_budget = combined.budget;
     iso.effective_dof = combined.effective_dof;
     iso.coverage_factor = CoverageFactor(iso.effective_dof, options.coverage_factor);
     iso.expanded_u_moisture_kg_per_kg = iso.coverage_factor * iso.u_moisture_kg_per_kg;

@@ -151,6 +151,8 @@ struct IsothermPoint {
   double effective_dof = std::numeric_limits<double>::infinity();
   double coverage_factor = 2.0;
   double between_specimen_sd_kg_per_kg = 0.0;
+  // The budget of u_moisture_kg_per_kg (root sum of squares of the contributions is u).
+  std::vector<BudgetLine> moisture_budget;
   int num_specimens = 0;
   std::vector<std::string> specimen_ids;
   bool has_volumetric = false;

@@ -198,6 +198,8 @@ Quantity PointMoistureQuantity(const reduce::IsothermPoint& p, const DisplayRule
 PointBudget CombinedPointBudget(const reduce::ReducedIsotherms& reduced,
                                 const reduce::IsothermPoint& point) {
   PointBudget budget;
+  // The moisture budget is the reduce stage's own (its combination rule lives there).
+  budget.moisture = point.moisture_budget;
   for (const reduce::SpecimenPoint& sp : reduced.specimen_points) {
     if (sp.excluded || sp.dataset_id != point.dataset_id || sp.cycle != point.cycle ||
         sp.branch != point.branch || sp.step_index != point.step_index ||
@@ -205,26 +207,10 @@ PointBudget CombinedPointBudget(const reduce::ReducedIsotherms& reduced,
       continue;
     }
     budget.specimen_ids.push_back(sp.specimen_id);
-    for (const reduce::BudgetLine& line : sp.moisture_budget) Accumulate(budget.moisture, line);
     for (const reduce::BudgetLine& line : sp.rh_budget) Accumulate(budget.rh, line);
   }
   const double n = static_cast<double>(budget.specimen_ids.size());
   if (n == 0.0) return budget;
-  for (reduce::BudgetLine& a : budget.moisture) {
-    a.standard_uncertainty = std::sqrt(a.standard_uncertainty);  // sqrt(sum (c_i u_i)^2)
-    a.unit = "kg/kg";
-    a.sensitivity = 1.0 / n;
-    a.contribution = a.standard_uncertainty / n;
-  }
-  if (budget.specimen_ids.size() > 1) {
-    reduce::BudgetLine spread;
-    spread.quantity = "between-specimen spread (Type A)";
-    spread.standard_uncertainty = point.between_specimen_sd_kg_per_kg;
-    spread.unit = "kg/kg";
-    spread.sensitivity = 1.0 / std::sqrt(n);
-    spread.contribution = spread.standard_uncertainty / std::sqrt(n);
-    budget.moisture.push_back(spread);
-  }
   for (reduce::BudgetLine& a : budget.rh) {
     a.standard_uncertainty = std::sqrt(a.standard_uncertainty / n);  // root mean square
     a.unit = "1";
