@@ -28,9 +28,12 @@ constexpr double kSecondsPerDay = 86400.0;
 constexpr double kPascalPerMegapascal = 1e6;
 constexpr size_t kMaxSummaryCautions = 12;  // longer lists are completed in results.json
 
-// The coverage factor as printed: "2" for k = 2, "2.3" otherwise.
+// The coverage factor as printed, to two significant digits: "2" for k = 2 (and for k = 2.004
+// from a large effective number of degrees of freedom), "2.3" otherwise.
 std::string CoverageText(double k) {
-  return std::abs(k - std::round(k)) < 1e-9 ? FormatFixed(k, 0) : FormatSignificant(k, 2);
+  constexpr double kHalfOfSecondDigit = 0.005;  // below this, two digits would read "2.0"
+  return std::abs(k - std::round(k)) < kHalfOfSecondDigit ? FormatFixed(k, 0)
+                                                          : FormatSignificant(k, 2);
 }
 
 // "not available: <reason>", unless the reason says so already.
@@ -744,7 +747,7 @@ void EquilibriaSection(Context& ctx) {
          FormatWithUncertainty(rh.display_value, rh.display_expanded_uncertainty, digits),
          FormatWithUncertainty(moisture.display_value, moisture.display_expanded_uncertainty,
                                digits) +
-             (std::abs(p.coverage_factor - k) > 1e-9
+             (CoverageText(p.coverage_factor) != CoverageText(k)
                   ? " (k = " + CoverageText(p.coverage_factor) + ")"
                   : std::string()),
          FormatSignificant(p.between_specimen_sd_kg_per_kg * ms, 2),
