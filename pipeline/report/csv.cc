@@ -34,7 +34,7 @@ bool StartsAFormula(const std::string& text) {
 
 std::string CsvText(const std::string& raw) {
   const bool formula = StartsAFormula(raw);
-  const std::string text = formula ? "'" + raw : raw;
+  std::string text = formula ? "'" + raw : raw;
   if (!formula && text.find_first_of(",\"\n\r") == std::string::npos) return text;
   std::string out = "\"";
   for (char c : text) {
