@@ -1,12 +1,6 @@
 #include "pipeline/common/bounded_input.h"
 
-#include <fcntl.h>
-#include <sys/stat.h>
-#include <unistd.h>
-
 #include <algorithm>
-#include <cerrno>
-#include <cstring>
 #include <string>
 #include <vector>
 
@@ -184,52 +178,9 @@ bool LiesInsideFolder(const std::filesystem::path& written, const std::filesyste
 
 std::string ReadBoundedFile(const std::filesystem::path& path, const std::string& display,
                             std::size_t max_bytes, const std::string& expected) {
-  // What the path is (a folder, FIFO, device, link loop) is named by the one rule in files.h.
-  const std::string problem = RegularFileProblem(path);
-  if (!problem.empty()) throw InputError(SourceLocation{display, 0, 0}, problem, expected);
-  // O_NONBLOCK: opening a FIFO must not wait for a writer; it is refused below.
-  const int fd = ::open(path.c_str(), O_RDONLY | O_NONBLOCK | O_CLOEXEC);
-  if (fd < 0) {
-    const int error = errno;
-    throw InputError(SourceLocation{display, 0, 0},
-                     error == ENOENT
-                         ? std::string("file not found")
-                         : std::string("cannot open the file (") + std::strerror(error) + ")",
-                     expected);
-  }
-  struct stat info {};
-  if (::fstat(fd, &info) != 0 || !S_ISREG(info.st_mode)) {
-    ::close(fd);
-    throw InputError(SourceLocation{display, 0, 0},
-                     S_ISDIR(info.st_mode) ? "is a folder, not a file"
-                                           : "is not a regular file (a device, FIFO or socket)",
-                     expected);
-  }
-  // One byte past the limit is read to tell a file at the limit from a longer one; the buffer
-  // starts at the size fstat gave and grows if the file grew meanwhile.
-  const std::size_t limit = max_bytes + 1;
-  std::string content;
-  content.resize(std::min<std::size_t>(static_cast<std::size_t>(info.st_size), max_bytes) + 1);
-  std::size_t got = 0;
-  for (;;) {
-    if (got == content.size()) {
-      if (content.size() >= limit) break;
-      content.resize(std::min(limit, content.size() * 2));
-    }
-    const ssize_t n = ::read(fd, content.data() + got, content.size() - got);
-    if (n < 0 && errno == EINTR) continue;
-    if (n < 0) {
-      const int error = errno;
-      ::close(fd);
-      throw InputError(SourceLocation{display, 0, 0},
-                       std::string("read error (") + std::strerror(error) + ")", expected);
-    }
-    if (n == 0) break;
-    got += static_cast<std::size_t>(n);
-  }
-  ::close(fd);
-  content.resize(got);
-  if (got > max_bytes) {
+  // One byte past the limit is read to tell a file at the limit from a longer one.
+  std::string content = ReadRegularFileUpTo(path, display, max_bytes + 1, expected);
+  if (content.size() > max_bytes) {
     throw InputError(LocationOf(content, max_bytes, display),
                      "the file goes on past " + std::to_string(max_bytes) + " bytes",
                      expected + " of at most " + std::to_string(max_bytes) + " bytes");

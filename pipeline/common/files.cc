@@ -5,10 +5,13 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <array>
 #include <atomic>
 #include <cerrno>
+#include <cstddef>
 #include <cstring>
+#include <limits>
 #include <memory>
 #include <random>
 #include <stdexcept>
@@ -60,18 +63,15 @@ std::string ProblemOfErrno(int error_number) {
 
 // Opens a regular file for reading. O_NONBLOCK keeps open() from waiting for a writer on a
 // FIFO; fstat on the descriptor then refuses everything that is not a regular file.
-int OpenRegularFile(const std::filesystem::path& path) {
+int OpenRegularFile(const std::filesystem::path& path, const std::string& display,
+                    const std::string& expected) {
   const int fd = ::open(path.c_str(), O_RDONLY | O_NONBLOCK | O_CLOEXEC);
-  if (fd < 0) {
-    throw InputError(SourceLocation{path.string(), 0, 0}, ProblemOfErrno(errno),
-                     "an existing, readable regular file");
-  }
+  if (fd < 0) throw InputError(SourceLocation{display, 0, 0}, ProblemOfErrno(errno), expected);
   struct stat status {};
   if (::fstat(fd, &status) != 0 || !S_ISREG(status.st_mode)) {
     const std::string problem = ProblemOfMode(status.st_mode);
     ::close(fd);
-    throw InputError(SourceLocation{path.string(), 0, 0}, problem,
-                     "an existing, readable regular file");
+    throw InputError(SourceLocation{display, 0, 0}, problem, expected);
   }
   ::fcntl(fd, F_SETFL, ::fcntl(fd, F_GETFL) & ~O_NONBLOCK);
   return fd;
@@ -91,22 +91,25 @@ class FileDescriptor {
   int fd_;
 };
 
-// Reads the whole descriptor in chunks, handing each to `consume`.
+// Reads the descriptor in chunks, handing each to `consume`, until the end of the file or
+// until `consume` returns false.
 template <typename Consume>
-void ReadChunks(int fd, const std::filesystem::path& path, Consume&& consume) {
+void ReadChunks(int fd, const std::string& display, const std::string& expected,
+                Consume&& consume) {
   std::array<char, 1 << 16> buffer{};
   for (;;) {
     const ssize_t got = ::read(fd, buffer.data(), buffer.size());
     if (got == 0) return;
     if (got < 0) {
       if (errno == EINTR) continue;
-      throw InputError(SourceLocation{path.string(), 0, 0},
-                       "read failed (" + std::string(std::strerror(errno)) + ")",
-                       "a readable regular file");
+      throw InputError(SourceLocation{display, 0, 0},
+                       "read failed (" + std::string(std::strerror(errno)) + ")", expected);
     }
-    consume(buffer.data(), static_cast<size_t>(got));
+    if (!consume(buffer.data(), static_cast<size_t>(got))) return;
   }
 }
+
+constexpr char kAnyRegularFile[] = "an existing, readable regular file";
 
 bool WriteAll(int fd, std::string_view content) {
   while (!content.empty()) {
@@ -176,11 +179,21 @@ void WriteFileAtomically(const std::filesystem::path& path, std::string_view con
   }
 }
 
-std::string ReadWholeFile(const std::filesystem::path& path) {
-  const FileDescriptor fd(OpenRegularFile(path));
+std::string ReadRegularFileUpTo(const std::filesystem::path& path, const std::string& display,
+                                std::size_t max_bytes, const std::string& expected) {
+  const FileDescriptor fd(OpenRegularFile(path, display, expected));
   std::string content;
-  ReadChunks(fd.get(), path, [&](const char* data, size_t size) { content.append(data, size); });
+  if (max_bytes == 0) return content;
+  ReadChunks(fd.get(), display, expected, [&](const char* data, size_t size) {
+    content.append(data, std::min(size, max_bytes - content.size()));
+    return content.size() < max_bytes;
+  });
   return content;
+}
+
+std::string ReadWholeFile(const std::filesystem::path& path) {
+  return ReadRegularFileUpTo(path, path.string(), std::numeric_limits<std::size_t>::max(),
+                             kAnyRegularFile);
 }
 
 std::string Sha256Hex(std::string_view bytes) {
@@ -196,15 +209,16 @@ std::string Sha256Hex(std::string_view bytes) {
 }
 
 std::string Sha256HexOfFile(const std::filesystem::path& path) {
-  const FileDescriptor fd(OpenRegularFile(path));
+  const FileDescriptor fd(OpenRegularFile(path, path.string(), kAnyRegularFile));
   std::unique_ptr<EVP_MD_CTX, EvpContextDeleter> context(EVP_MD_CTX_new());
   if (!context || EVP_DigestInit_ex(context.get(), EVP_sha256(), nullptr) != 1) {
     throw std::runtime_error("SHA-256 init failed");
   }
-  ReadChunks(fd.get(), path, [&](const char* data, size_t size) {
+  ReadChunks(fd.get(), path.string(), kAnyRegularFile, [&](const char* data, size_t size) {
     if (EVP_DigestUpdate(context.get(), data, size) != 1) {
       throw std::runtime_error("SHA-256 update failed");
     }
+    return true;
   });
   std::array<unsigned char, EVP_MAX_MD_SIZE> digest{};
   unsigned int length = 0;

@@ -9,6 +9,7 @@
 // descriptor, so the check and the read concern the same file.
 #pragma once
 
+#include <cstddef>
 #include <filesystem>
 #include <string>
 #include <string_view>
@@ -31,6 +32,12 @@ void RequireRegularFile(const std::filesystem::path& path, const std::string& di
 // Throws OutputError naming the path and the system's reason (disk full, file too large,
 // read-only, permission).
 void WriteFileAtomically(const std::filesystem::path& path, std::string_view content);
+
+// Reads at most `max_bytes` bytes of a regular file (ask for one byte more than a limit to
+// tell a file at the limit from a longer one); throws InputError at {display, 0, 0} naming
+// what the path is (RegularFileProblem's phrases) or the read error, with `expected`.
+std::string ReadRegularFileUpTo(const std::filesystem::path& path, const std::string& display,
+                                std::size_t max_bytes, const std::string& expected);
 
 // Reads a whole regular file; throws InputError (file named, RegularFileProblem) otherwise.
 std::string ReadWholeFile(const std::filesystem::path& path);

@@ -405,13 +405,13 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
   }
   constexpr double kPercentPerFraction = 100.0;
   const double max_set_percent = max_set_fraction * kPercentPerFraction;
-  const double max_set_raw = columns[1].unit == "percent" ? max_set_percent : max_set_fraction;
   const double max_rh_raw = max_rh_fraction * kPercentPerFraction;
-  if (columns[1].unit == "percent" && internal::PercentColumnLooksLikeFractions(max_set_raw)) {
-    fail_fractions(columns[1],
-                   fmt::format("every set point in column '{}' is at most {:g} % (largest {:g}): "
-                               "fractions in a percent column?",
-                               columns[1].name, internal::kMaxFractionLikeRh_percent, max_set_raw));
+  if (columns[1].unit == "percent" && internal::PercentColumnLooksLikeFractions(max_set_percent)) {
+    fail_fractions(
+        columns[1],
+        fmt::format("every set point in column '{}' is at most {:g} % (largest {:g}): "
+                    "fractions in a percent column?",
+                    columns[1].name, internal::kMaxFractionLikeRh_percent, max_set_percent));
   }
   if (columns[2].unit == "percent" && internal::PercentColumnLooksLikeFractions(max_rh_raw) &&
       max_set_percent > internal::kMaxFractionLikeRh_percent) {

@@ -69,6 +69,12 @@ std::vector<DecadeFraction> DecadeFractions(const std::vector<double>& edges_log
   return decades;
 }
 
+// A local maximum of y over x.
+struct Peak {
+  double x = 0.0;
+  double y = 0.0;
+};
+
 // Vertex of the parabola through (x, y) at i - 1, i, i + 1 (i interior): the refined
 // position of a local maximum at node i; (x[i], y[i]) where the curvature is not negative.
 Peak ParabolaVertex(const double* x, const double* y, std::size_t i) {
@@ -288,22 +294,6 @@ GridVolumes PoreVolumesFromIsotherm(const std::vector<double>& radius_m,
   }
   out.adsorbed_m3_per_kg = u_kg_per_kg[0] / water_density_kg_per_m3;
   return out;
-}
-
-std::vector<Peak> FindPeaks(const std::vector<double>& x, const std::vector<double>& y,
-                            double min_relative_height) {
-  std::vector<Peak> peaks;
-  const std::size_t n = y.size();
-  if (n < 3) return peaks;
-  const double y_max = *std::max_element(y.begin(), y.end());
-  if (!(y_max > 0.0)) return peaks;
-  for (std::size_t i = 1; i + 1 < n; ++i) {
-    if (!(y[i] > y[i - 1] && y[i] >= y[i + 1])) continue;
-    if (y[i] < min_relative_height * y_max) continue;
-    const Peak peak = ParabolaVertex(x.data(), y.data(), i);
-    peaks.push_back(peak);
-  }
-  return peaks;
 }
 
 PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch branch,

@@ -57,15 +57,6 @@ StepGeometry MakeStepGeometry(const std::vector<double>& radius_m, const std::ve
 void FilmCorrectedVolumes(const StepGeometry& geometry, const std::vector<double>& u_kg_per_kg,
                           GridVolumes* out);
 
-// Local maxima of y over x (x ascending), refined by the parabola through the maximum and its
-// neighbours; only interior maxima at least min_relative_height * max(y).
-struct Peak {
-  double x = 0.0;
-  double y = 0.0;
-};
-std::vector<Peak> FindPeaks(const std::vector<double>& x, const std::vector<double>& y,
-                            double min_relative_height);
-
 // A fitted isotherm u(RH) with what is needed for its band.
 struct ModelCurve {
   const fitters::Model* model = nullptr;

@@ -236,8 +236,22 @@ CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& me
     return {only.u_moisture_kg_per_kg, only.effective_dof, only.moisture_budget};
   }
   const double n = static_cast<double>(members.size());
+  // The spread stands for the independent parts only when it is not smaller than their own
+  // evaluated size: two or three specimens that happen to agree must not make the balance,
+  // dry-mass and tail-fit uncertainties vanish (JCGM 100:2008, 4.3.2: a Type A estimate from
+  // very few observations is itself uncertain; the larger of the two is kept).
+  double mean_independent2 = 0.0;
+  for (const SpecimenPoint* p : members) {
+    mean_independent2 += std::max(0.0, p->u_moisture_kg_per_kg * p->u_moisture_kg_per_kg -
+                                           p->u_systematic_kg_per_kg * p->u_systematic_kg_per_kg) /
+                         n;
+  }
   std::vector<BudgetLine> lines = {
-      Line("between-specimen spread (Type A)", spread_sd, "kg/kg", 1.0 / std::sqrt(n), n - 1.0)};
+      spread_sd * spread_sd >= mean_independent2
+          ? Line("between-specimen spread (Type A)", spread_sd, "kg/kg", 1.0 / std::sqrt(n),
+                 n - 1.0)
+          : Line("independent parts of the specimens' budgets (spread smaller)",
+                 std::sqrt(mean_independent2), "kg/kg", 1.0 / std::sqrt(n))};
   for (const SpecimenPoint* p : members) {
     for (const BudgetLine& line : p->moisture_budget) {
       if (!line.systematic) continue;

@@ -38,18 +38,20 @@
 // taken as independent between specimens):
 //   mean = sum u_i / n,  s = sqrt(sum (u_i - mean)^2 / (n - 1))  (s = 0 for n = 1)
 //   n = 1:  u_c(mean) = u_c(u_1), nu_eff that of the specimen point.
-//   n >= 2: u_c(mean)^2 = s^2 / n + u_sys^2
+//   n >= 2: u_c(mean)^2 = max(s^2, u_ind^2) / n + sum_q (mean_i c_iq u_iq)^2
 //   s^2 / n is the Type A standard uncertainty of the mean (JCGM 100:2008, 4.2.3); it holds
 //   every effect that varies from specimen to specimen: the balance scatter, the Type A parts
 //   of the tail fits, the dry-mass determination, and the material's specimen-to-specimen
 //   variability, so those budget lines are not added again (JCGM 100:2008, 4.3.10: no double
-//   counting). u_sys = mean over the specimens of the root sum of squares of their lines that
-//   act alike on every specimen of the step and so do not show in the spread
-//   (BudgetLine::systematic: residual drift, kinetic-model terms), taken as fully correlated.
-//   Welch-Satterthwaite over s/sqrt(n) (nu = n - 1) and u_sys (infinite): with 2-3 specimens
-//   nu_eff is 1-2 and k = t_p(nu_eff) is 4.5-14 (JCGM 100:2008, G.3, G.4).
-//   RH of the step: mean over specimens, with u = sqrt(mean u(rh_i)^2) (same atmosphere: fully
-//   correlated, not averaged down).
+//   counting). u_ind^2 = mean over the specimens of u_c(u_i)^2 - u_sys,i^2 (their evaluated
+//   independent parts) is the floor: a spread of 2-3 specimens that happen to agree does not
+//   make them vanish. The sum runs over the lines q that act alike on every specimen of the
+//   step and so do not show in the spread (BudgetLine::systematic: residual drift,
+//   kinetic-model terms), each the mean of its contributions, taken as fully correlated.
+//   Welch-Satterthwaite over s/sqrt(n) (nu = n - 1; infinite for the floor) and the rest: with 2-3
+//   specimens nu_eff is 1-2 and k = t_p(nu_eff) is 4.5-14 (JCGM 100:2008, G.3, G.4). RH of the
+//   step: mean over specimens, with u = sqrt(mean u(rh_i)^2) (same atmosphere: fully correlated,
+//   not averaged down).
 // Volumetric content psi = u rho_dry / rho_w(T) (rho_w: Kell 1975), u(psi) = u_c rho_dry/rho_w,
 //   rho_dry the mean stated bulk density (density uncertainty not stated: not included).
 // A negative moisture content is an InputError (at the step) when it is below zero by more
@@ -144,10 +146,10 @@ struct IsothermPoint {
   double u_rh_fraction = 0.0;                  // standard
   double expanded_u_rh_fraction = 0.0;         // k * u
   double moisture_kg_per_kg = 0.0;             // mean over specimens
-  double u_moisture_kg_per_kg = 0.0;           // combined standard (measurement + spread of mean)
+  double u_moisture_kg_per_kg = 0.0;           // combined standard (rule above)
   double expanded_u_moisture_kg_per_kg = 0.0;  // coverage_factor * u
-  // Welch-Satterthwaite over the specimens' measurement parts and the spread (see above);
-  // infinity when no Type A part. The same k applies to the volumetric content.
+  // Welch-Satterthwaite over moisture_budget (see above); infinity when no Type A part. The same k
+  // applies to the volumetric content.
   double effective_dof = std::numeric_limits<double>::infinity();
   double coverage_factor = 2.0;
   double between_specimen_sd_kg_per_kg = 0.0;

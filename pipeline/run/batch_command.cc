@@ -107,10 +107,9 @@ bool QuotedValue(const std::string& line, const std::string& key, std::string* v
 // Templates and other TOML files are skipped; a job file that is broken is still run and
 // reported by its child.
 bool ScanJobFile(const fs::path& path, std::string* job_id) {
-  std::error_code ec;
-  const auto size = fs::file_size(path, ec);
-  if (ec || size > kMaxScannedJobBytes) return !ec;
-  std::string text = ReadWholeFile(path);
+  std::string text =
+      ReadRegularFileUpTo(path, path.string(), kMaxScannedJobBytes + 1, "a TOML job file");
+  if (text.size() > kMaxScannedJobBytes) return true;        // run: its child refuses it, located
   if (text.rfind("\xEF\xBB\xBF", 0) == 0) text.erase(0, 3);  // UTF-8 byte-order mark
   bool is_job = false;
   bool in_job_table = false;
@@ -154,11 +153,11 @@ std::vector<PlannedJob> FindJobs(const fs::path& dir) {
     if (fs::is_directory(path, status_error)) continue;
     PlannedJob job;
     job.job_file = path;
-    const std::string problem = RegularFileProblem(path);
-    if (!problem.empty()) {
-      job.refusal = path.string() + ": " + problem + "; expected a TOML job file";
-    } else if (!ScanJobFile(path, &job.job_id)) {
-      continue;
+    try {
+      if (!ScanJobFile(path, &job.job_id)) continue;
+    } catch (const InputError& error) {  // a FIFO, device, link loop, unreadable file
+      job.refusal =
+          path.string() + ": " + error.diagnostic().message + "; expected a TOML job file";
     }
     jobs.push_back(job);
   }

@@ -142,8 +142,8 @@ void PrintText(const ingest::IngestResult& in, const equilibrate::EquilibriumSet
     out += fmt::format(
         "  {:<20} {:<12} {:<10} cycle {}  RH {} %  u {} kg/kg (k = {:.2g}, n = {})\n", p.dataset_id,
         p.step_label, BranchText(p.branch), p.cycle,
-        report::FormatWithUncertainty(p.rh_fraction * kPercent,
-                                      p.expanded_u_rh_fraction * kPercent, 2),
+        report::FormatWithUncertainty(p.rh_fraction * kPercent, p.expanded_u_rh_fraction * kPercent,
+                                      2),
         report::FormatWithUncertainty(p.moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg, 2),
         reduced.coverage_factor, p.num_specimens);
   }

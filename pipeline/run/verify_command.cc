@@ -178,10 +178,14 @@ int Verify(const VerifyArguments& args) {
     }
   };
   for (const auto& input : resolved_inputs) {
-    // Only regular files are hashed: a FIFO or /dev/zero would block or never end.
-    const std::string problem = RegularFileProblem(input.path);
-    const std::string actual =
-        problem.empty() ? Sha256HexOfFile(input.path) : "(input " + problem + ")";
+    // Only regular files are hashed (a FIFO or /dev/zero would block or never end); one that
+    // cannot be read is a changed input, not the end of the audit.
+    std::string actual;
+    try {
+      actual = Sha256HexOfFile(input.path);
+    } catch (const InputError& error) {
+      actual = "(input " + error.diagnostic().message + ")";
+    }
     const bool same = actual == input.expected;
     record(fmt::format("{}  input {} {}  sha256 {}", same ? "pass" : "FAIL", input.role,
                        input.path.string(),
