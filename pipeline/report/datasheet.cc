@@ -28,14 +28,6 @@ constexpr double kSecondsPerDay = 86400.0;
 constexpr double kPascalPerMegapascal = 1e6;
 constexpr size_t kMaxSummaryCautions = 12;  // longer lists are completed in results.json
 
-// The coverage factor as printed, to two significant digits: "2" for k = 2 (and for k = 2.004
-// from a large effective number of degrees of freedom), "2.3" otherwise.
-std::string CoverageText(double k) {
-  constexpr double kHalfOfSecondDigit = 0.005;  // below this, two digits would read "2.0"
-  return std::abs(k - std::round(k)) < kHalfOfSecondDigit ? FormatFixed(k, 0)
-                                                          : FormatSignificant(k, 2);
-}
-
 // "not available: <reason>", unless the reason says so already.
 std::string NotAvailable(const std::string& reason) {
   return reason.rfind("not available", 0) == 0 ? reason : "not available: " + reason;
@@ -47,10 +39,10 @@ struct Context {
   const ReportOptions& options;
   const Sheet& sheet;
   Document& doc;
-  int section_number = 0;
   double moisture_scale() const { return sheet.rules.moisture_in_percent ? 100.0 : 1.0; }
-  std::string NextHeading(const std::string& title) {
-    return fmt::format("{}  {}", ++section_number, title);
+  // The heading of section `key`, numbered by its place in the template's section list.
+  std::string NumberedHeading(const std::string& key, const std::string& title) const {
+    return fmt::format("{}  {}", sheet.SectionNumber(key), title);
   }
 };
 
@@ -250,9 +242,21 @@ plot::Figure ResidualFigure(const Context& ctx) {
 }
 
 // ---- Sections -------------------------------------------------------------------------------
+// Where the summary sends the reader for the conditions of use: the Cautions section as
+// numbered by the template, or the standing cautions themselves when the template has none.
+std::string ConditionsOfUseReference(const Sheet& sheet) {
+  const int cautions = sheet.SectionNumber("cautions");
+  if (cautions > 0) {
+    return fmt::format("See section {} for the conditions of use of these results.", cautions);
+  }
+  std::string all;
+  for (const std::string& c : sheet.standing_cautions) all += (all.empty() ? "" : " ") + c;
+  return all;
+}
+
 void SummarySection(Context& ctx, bool compact) {
   Document& doc = ctx.doc;
-  doc.Heading(ctx.NextHeading("Summary"));
+  doc.Heading(ctx.NumberedHeading("summary", "Summary"));
   std::vector<std::pair<std::string, std::string>> facts;
   if (ctx.inputs.ingested != nullptr) {
     const ingest::JobSpec& job = ctx.inputs.ingested->job;
@@ -316,7 +320,7 @@ void SummarySection(Context& ctx, bool compact) {
   }
   if (cautions.empty()) cautions.emplace_back("No measurement or fitting cautions were raised.");
   cautions.push_back(compact ? ctx.sheet.standing_cautions[0] + " " + ctx.sheet.standing_cautions[1]
-                             : "See section 8 for the conditions of use of these results.");
+                             : ConditionsOfUseReference(ctx.sheet));
   if (compact) {
     // The isotherm figure of the one-page summary takes what the cautions and the
     // signatories leave.
@@ -366,7 +370,7 @@ void SummarySection(Context& ctx, bool compact) {
 void IsothermSection(Context& ctx) {
   Document& doc = ctx.doc;
   doc.NewPageIfUsed();
-  doc.Heading(ctx.NextHeading("Sorption isotherm"));
+  doc.Heading(ctx.NumberedHeading("isotherm", "Sorption isotherm"));
   const double main_height = 400.0;
   const double residual_height = 150.0;
   doc.EnsureSpace(main_height + residual_height);
@@ -397,7 +401,7 @@ void IsothermSection(Context& ctx) {
 void ModelsSection(Context& ctx) {
   Document& doc = ctx.doc;
   doc.NewPageIfUsed();
-  doc.Heading(ctx.NextHeading("Model comparison"));
+  doc.Heading(ctx.NumberedHeading("models", "Model comparison"));
   doc.Paragraph(fmt::format("Parameters with expanded uncertainty U (k = {}); correlations with "
                             "|r| > 0.95 are listed below the parameters. RMSE in {}; MRD: mean "
                             "relative deviation; rank by AICc within each branch.",
@@ -453,7 +457,7 @@ void ModelsSection(Context& ctx) {
 void PoresSection(Context& ctx) {
   Document& doc = ctx.doc;
   doc.NewPageIfUsed();
-  doc.Heading(ctx.NextHeading("Pore-size distribution"));
+  doc.Heading(ctx.NumberedHeading("pores", "Pore-size distribution"));
   if (ctx.inputs.pores == nullptr || ctx.inputs.pores->distributions.empty()) {
     doc.Paragraph("No pore-size distribution was computed for this job.");
     return;
@@ -610,7 +614,7 @@ void KineticsSection(Context& ctx) {
   Document& doc = ctx.doc;
   if (ctx.inputs.ingested == nullptr) return;
   doc.NewPageIfUsed();
-  doc.Heading(ctx.NextHeading("Kinetics"));
+  doc.Heading(ctx.NumberedHeading("kinetics", "Kinetics"));
   const double height = 250.0;
   // Vapour-sorption logs: mass and RH against time, equilibria marked.
   for (const ingest::VaporLog& log : ctx.inputs.ingested->vapor_logs) {
@@ -711,7 +715,7 @@ void KineticsSection(Context& ctx) {
 void EquilibriaSection(Context& ctx) {
   Document& doc = ctx.doc;
   doc.NewPageIfUsed();
-  doc.Heading(ctx.NextHeading("Equilibrium table"));
+  doc.Heading(ctx.NumberedHeading("equilibria", "Equilibrium table"));
   if (ctx.inputs.reduced == nullptr) return;
   doc.Paragraph(fmt::format("Combined specimens per step. U: expanded uncertainty (k = {}); "
                             "spread: between-specimen standard deviation; t_eq: time to "
@@ -831,7 +835,7 @@ void BudgetOfLargestPoint(Context& ctx) {
 void MethodSection(Context& ctx) {
   Document& doc = ctx.doc;
   doc.NewPageIfUsed();
-  doc.Heading(ctx.NextHeading("Method and traceability"));
+  doc.Heading(ctx.NumberedHeading("method", "Method and traceability"));
   const ingest::IngestResult* in = ctx.inputs.ingested;
   doc.Subheading("Procedure");
   if (in != nullptr) {
@@ -910,7 +914,7 @@ void MethodSection(Context& ctx) {
 void CautionsSection(Context& ctx) {
   Document& doc = ctx.doc;
   doc.EnsureSpace(200.0);
-  doc.Heading(ctx.NextHeading("Cautions"));
+  doc.Heading(ctx.NumberedHeading("cautions", "Cautions"));
   doc.Bullets(ctx.sheet.standing_cautions, 8.5);
   if (!ctx.sheet.cautions.empty()) {
     doc.Subheading("Notes on this data set");

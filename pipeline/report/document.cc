@@ -8,6 +8,7 @@
 #include <string>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/report/plot/pdf_canvas.h"
 #include "pipeline/report/plot/text.h"
 
 namespace sorbtrace::report {
@@ -153,7 +154,7 @@ void Document::NewPage() {
   HPDF_Page_SetWidth(page, F(page_width_));
   HPDF_Page_SetHeight(page, F(page_height_));
   pages_.push_back(page);
-  canvas_ = std::make_unique<Canvas>(page, regular_, bold_);
+  canvas_ = std::make_unique<plot::PdfCanvas>(page, regular_, bold_);
   const double margin = layout_.margin_mm * kPointsPerMm;
   left_ = margin;
   right_ = page_width_ - margin;
@@ -328,7 +329,7 @@ std::string Document::Finish() {
   const int n = num_pages();
   const double margin = layout_.margin_mm * kPointsPerMm;
   for (int i = 0; i < n; ++i) {
-    Canvas c(pages_[static_cast<size_t>(i)], regular_, bold_);
+    plot::PdfCanvas c(pages_[static_cast<size_t>(i)], regular_, bold_);
     const double y = margin + 8.0;
     c.Line(left_, y + 9.0, right_, y + 9.0, 0.4, palette::kSlate);
     c.Text(left_, y, "Results apply to the specimens tested.", 7.0, Canvas::Align::kLeft, false,

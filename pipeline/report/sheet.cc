@@ -164,7 +164,7 @@ Quantity MoistureQuantity(std::string key, std::string label, double value_kg_pe
 namespace {
 
 DisplayRules WithPointCoverage(DisplayRules rules, double u, double expanded_u) {
-  if (u > 0.0 && expanded_u > 0.0) rules.coverage_factor = expanded_u / u;
+  rules.coverage_factor = CoverageFactorOf(u, expanded_u, rules.coverage_factor);
   return rules;
 }
 
@@ -183,6 +183,19 @@ void Accumulate(std::vector<reduce::BudgetLine>& aggregate, const reduce::Budget
 }
 
 }  // namespace
+
+double CoverageFactorOf(double standard_uncertainty, double expanded_uncertainty, double fallback) {
+  return standard_uncertainty > 0.0 && expanded_uncertainty > 0.0
+             ? expanded_uncertainty / standard_uncertainty
+             : fallback;
+}
+
+int Sheet::SectionNumber(const std::string& key) const {
+  for (size_t i = 0; i < section_keys.size(); ++i) {
+    if (section_keys[i] == key) return static_cast<int>(i) + 1;
+  }
+  return 0;
+}
 
 Quantity PointRhQuantity(const reduce::IsothermPoint& p, const DisplayRules& rules) {
   return MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%",
@@ -254,6 +267,7 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
   if (inputs.fits != nullptr && inputs.reduced == nullptr) {
     sheet.rules.coverage_factor = inputs.fits->coverage_factor;
   }
+  sheet.section_keys = layout.compact ? std::vector<std::string>{"summary"} : layout.sections;
   const DisplayRules& rules = sheet.rules;
   sheet.moisture_unit = rules.moisture_in_percent ? "%" : "kg/kg";
   sheet.moisture_axis_label = rules.moisture_in_percent ? "moisture content (mass %, dry basis)"

@@ -44,6 +44,10 @@ Quantity MakeQuantity(std::string key, std::string label, double value, double s
 Quantity MoistureQuantity(std::string key, std::string label, double value_kg_per_kg,
                           double u_kg_per_kg, const DisplayRules& rules);
 
+// The coverage factor of an uncertainty: expanded / standard where both are set, else
+// `fallback` (the sheet's k).
+double CoverageFactorOf(double standard_uncertainty, double expanded_uncertainty, double fallback);
+
 // The RH and moisture content of a combined point as printed: with the point's own expanded
 // uncertainty (its coverage factor is expanded / standard; the rules' k when none is set).
 Quantity PointRhQuantity(const reduce::IsothermPoint& point, const DisplayRules& rules);
@@ -96,6 +100,11 @@ std::string PrintedField(const std::string& text, size_t max_chars = kMaxPrinted
 inline constexpr size_t kMaxReportNumberChars = 40;
 
 struct Sheet {
+  // The template's sections in print order (the one-page summary: "summary" only); a
+  // section's number is its place in this list, so cross-references follow the template.
+  std::vector<std::string> section_keys;
+  // 1-based number of section `key`; 0 when the sheet has no such section.
+  int SectionNumber(const std::string& key) const;
   DisplayRules rules;
   std::string moisture_unit;        // "%" or "kg/kg"
   std::string moisture_axis_label;  // "moisture content (% dry basis)"
