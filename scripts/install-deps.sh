@@ -14,6 +14,7 @@ PACKAGES=(
   libcli11-dev libtomlplusplus-dev nlohmann-json3-dev libfmt-dev
   libboost-math-dev libssl-dev                       # Student-t quantiles; SHA-256
   poppler-utils                                      # pdftotext / pdftoppm in tests
+  chromium                                           # headless browser: HTML report tests
 )
 
 SUDO=""

@@ -9,6 +9,7 @@
 
 #include "pipeline/report/format.h"
 #include "pipeline/report/plot/text.h"
+#include "pipeline/report/sections.h"
 
 namespace sorbtrace::report {
 namespace {
@@ -259,7 +260,65 @@ std::string GroupLabel(const fit::FitGroup& group) {
   return BranchLabel(group.branch) + ", " + TemperatureLabel(group.temperature_K);
 }
 
-Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
+std::string Section::Heading() const { return fmt::format("{}  {}", number, title); }
+
+namespace {
+
+std::string SectionTitle(const std::string& key) {
+  static const std::vector<std::pair<std::string, std::string>> kTitles = {
+      {"summary", "Summary"},
+      {"isotherm", "Sorption isotherm"},
+      {"models", "Model comparison"},
+      {"pores", "Pore-size distribution"},
+      {"kinetics", "Kinetics"},
+      {"equilibria", "Equilibrium table"},
+      {"method", "Method and traceability"},
+      {"cautions", "Cautions"}};
+  for (const auto& [k, title] : kTitles) {
+    if (k == key) return title;
+  }
+  return key;
+}
+
+void BuildSection(const internal::SectionContext& ctx, Section& section) {
+  if (section.key == "summary") {
+    internal::BuildSummarySection(ctx, ctx.layout.compact, section);
+  } else if (section.key == "isotherm") {
+    internal::BuildIsothermSection(ctx, section);
+  } else if (section.key == "models") {
+    internal::BuildModelsSection(ctx, section);
+  } else if (section.key == "pores") {
+    internal::BuildPoresSection(ctx, section);
+  } else if (section.key == "kinetics") {
+    internal::BuildKineticsSection(ctx, section);
+  } else if (section.key == "equilibria") {
+    internal::BuildEquilibriaSection(ctx, section);
+  } else if (section.key == "method") {
+    internal::BuildMethodSection(ctx, section);
+  } else if (section.key == "cautions") {
+    internal::BuildCautionsSection(ctx, section);
+  }
+}
+
+// The numbered sections of the template, each from its builder.
+std::vector<Section> BuildSections(const ReportInputs& inputs, const Template& layout,
+                                   const ReportOptions& options, const Sheet& sheet) {
+  const internal::SectionContext ctx{inputs, layout, options, sheet};
+  std::vector<Section> sections;
+  for (size_t i = 0; i < sheet.section_keys.size(); ++i) {
+    Section section;
+    section.key = sheet.section_keys[i];
+    section.number = static_cast<int>(i) + 1;
+    section.title = SectionTitle(section.key);
+    BuildSection(ctx, section);
+    sections.push_back(std::move(section));
+  }
+  return sections;
+}
+
+}  // namespace
+
+Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const ReportOptions& options) {
   Sheet sheet;
   sheet.rules.moisture_in_percent = layout.moisture_in_percent;
   sheet.rules.significant_digits = layout.uncertainty_significant_digits;
@@ -464,6 +523,11 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
       "Saturated salt solutions and drying ovens are hazards: handle salts, solutions and hot "
       "specimens according to their safety data sheets.",
   };
+  sheet.report_number = "draft";
+  if (inputs.ingested != nullptr && !inputs.ingested->job.job_id.empty()) {
+    sheet.report_number = PrintedField(inputs.ingested->job.job_id, kMaxReportNumberChars);
+  }
+  sheet.sections = BuildSections(inputs, layout, options, sheet);
   return sheet;
 }
 

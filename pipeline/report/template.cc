@@ -101,6 +101,28 @@ class TemplateReader {
   std::string file_;
 };
 
+// [layout] outputs: which renderings of the sheet are written ("pdf", "html", each once,
+// at least one).
+void ReadOutputs(TemplateReader& reader, const toml::node& node, Template& layout) {
+  const std::vector<std::string> outputs = reader.StringArray(node, "outputs");
+  const std::vector<std::string> known = {"pdf", "html"};
+  const toml::array& array = *node.as_array();
+  layout.write_pdf = layout.write_html = false;
+  for (size_t i = 0; i < outputs.size(); ++i) {
+    bool& flag = outputs[i] == "pdf" ? layout.write_pdf : layout.write_html;
+    if (std::find(known.begin(), known.end(), outputs[i]) == known.end() || flag) {
+      throw InputError(reader.Where(array[i].source()),
+                       "output \"" + outputs[i] + "\" is unknown or listed twice",
+                       "each of " + JoinQuoted(known) + " at most once");
+    }
+    flag = true;
+  }
+  if (outputs.empty()) {
+    throw InputError(reader.Where(node.source()), "no output is listed",
+                     "at least one of " + JoinQuoted(known));
+  }
+}
+
 }  // namespace
 
 Template LoadTemplate(const std::filesystem::path& template_file) {
@@ -180,7 +202,7 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
   }
 
   if (const toml::table* t = reader.Table(root, "layout")) {
-    reader.CheckKeys(*t, "layout", {"sections", "compact"});
+    reader.CheckKeys(*t, "layout", {"sections", "compact", "outputs"});
     if (const toml::node* n = t->get("sections")) {
       layout.sections = reader.StringArray(*n, "sections");
       const auto& known = KnownSections();
@@ -199,6 +221,7 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
       }
     }
     if (const toml::node* n = t->get("compact")) layout.compact = reader.Boolean(*n, "compact");
+    if (const toml::node* n = t->get("outputs")) ReadOutputs(reader, *n, layout);
   }
   if (layout.sections.empty()) layout.sections = KnownSections();
 
