@@ -55,7 +55,7 @@ figure .panels { display: flex; flex-direction: column; gap: 0.2rem; }
 figure.beside { display: flex; flex-wrap: wrap; gap: 1rem; align-items: flex-start; }
 figure.beside .panels { flex: 3 1 24rem; min-width: 0; }
 figure.beside aside { flex: 1 1 10rem; font-size: 0.8rem; }
-figure.beside aside h4 { margin: 0 0 0.3rem; color: var(--accent); font-size: 0.9rem; }
+figure.beside aside h3 { margin: 0 0 0.3rem; color: var(--accent); font-size: 0.9rem; }
 svg { display: block; width: 100%; height: auto; }
 .signatures { display: flex; flex-wrap: wrap; gap: 1rem 2rem; margin-top: 1rem; }
 .signature { flex: 1 1 12rem; border-top: 1px solid var(--slate); padding-top: 0.3rem; margin-top: 2rem; }
@@ -155,7 +155,7 @@ std::string FigureHtml(HtmlContext& ctx, const FigureBlock& block) {
   // The notes column of the PDF takes 160 pt beside the panels.
   out += PanelsHtml(ctx, block, beside ? ctx.width_pt - 160.0 : ctx.width_pt);
   if (beside) {
-    out += "<aside><h4>" + Html(block.notes_title) + "</h4>\n";
+    out += "<aside><h3>" + Html(block.notes_title) + "</h3>\n";
     for (const std::vector<std::string>& group : block.notes) {
       if (group.empty()) continue;
       out += "<p><strong>" + Html(group.front()) + "</strong></p>\n<ul>";

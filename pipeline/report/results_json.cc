@@ -8,6 +8,7 @@
 #include <cmath>
 #include <string>
 #include <utility>
+#include <variant>
 
 #include "pipeline/physics/physics.h"
 
@@ -493,6 +494,47 @@ Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
 
 }  // namespace
 
+namespace {
+
+// The sheet's sections as numbered and their tables cell by cell, exactly as printed on the
+// PDF and in the HTML report (each cell's "key" names the Quantity it prints, if any), and
+// the names of their figures.
+Json SheetJson(const Sheet& sheet) {
+  Json sections = Json::array();
+  for (const Section& section : sheet.sections) {
+    Json tables = Json::array();
+    Json figures = Json::array();
+    for (const Block& block : section.blocks) {
+      if (const auto* f = std::get_if<FigureBlock>(&block)) {
+        figures.push_back({{"name", f->name}, {"panels", f->panels.size()}});
+      }
+      const auto* t = std::get_if<TableBlock>(&block);
+      if (t == nullptr) continue;
+      Json columns = Json::array();
+      for (const ColumnSpec& c : t->columns) columns.push_back(c.header);
+      Json rows = Json::array();
+      for (const std::vector<Cell>& row : t->rows) {
+        Json cells = Json::array();
+        for (const Cell& cell : row) {
+          Json j = {{"text", cell.text}};
+          if (!cell.key.empty()) j["key"] = cell.key;
+          cells.push_back(j);
+        }
+        rows.push_back(cells);
+      }
+      tables.push_back({{"name", t->name}, {"columns", columns}, {"rows", rows}});
+    }
+    sections.push_back({{"number", section.number},
+                        {"key", section.key},
+                        {"heading", section.Heading()},
+                        {"tables", tables},
+                        {"figures", figures}});
+  }
+  return {{"sections", sections}};
+}
+
+}  // namespace
+
 nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Template& layout,
                                         const ReportOptions& options, const Sheet& sheet,
                                         int num_pages) {
@@ -528,6 +570,7 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
   root["isotherm"] = IsothermJson(inputs, sheet);
   root["fits"] = FitsJson(inputs, sheet);
   root["pores"] = PoresJson(inputs, sheet);
+  root["sheet"] = SheetJson(sheet);
   return root;
 }
 
