@@ -39,6 +39,7 @@ void DrawTable(Document& doc, const TableBlock& table) {
   std::vector<std::vector<std::string>> rows;
   for (const std::vector<Cell>& row : table.rows) {
     std::vector<std::string> texts;
+    texts.reserve(row.size());
     for (const Cell& cell : row) texts.push_back(cell.text);
     rows.push_back(std::move(texts));
   }

@@ -379,8 +379,8 @@ void AddReferenceMoistures(const pores::PoreAnalysis& pa, const Template& layout
         rm.moisture_kg_per_kg, rm.u_moisture_kg_per_kg, sheet.rules));
     if (!rm.temperature_matches) {
       cautions.Add(fmt::format(
-          "Moisture at {} °C / {} % RH is taken from an isotherm fitted at another temperature.",
-          t, rh));
+          "Moisture at {} °C / {} % RH is taken from an isotherm fitted at another temperature.", t,
+          rh));
     }
     for (const std::string& f : rm.flags) cautions.Add(f);
   }
@@ -523,9 +523,10 @@ void AddMeasurementCautions(const ReportInputs& inputs, CautionList& cautions) {
                                s.num_not_equilibrated, s.num_steps));
     }
     if (s.num_extrapolated > 0) {
-      cautions.Add(fmt::format("{} of {} steps were extrapolated to their asymptote (flagged in "
-                               "the equilibrium table; the extra uncertainty is included).",
-                               s.num_extrapolated, s.num_steps));
+      cautions.Add(
+          fmt::format("{} of {} steps were extrapolated to their asymptote (flagged in "
+                      "the equilibrium table; the extra uncertainty is included).",
+                      s.num_extrapolated, s.num_steps));
     }
     cautions.AddAll(s.warnings);
   }
