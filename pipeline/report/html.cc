@@ -99,8 +99,14 @@ std::string FactsHtml(const FactsBlock& facts) {
 }
 
 std::string TableHtml(const TableBlock& table) {
-  std::string out = fmt::format("<div class=\"table-wrap\"><table data-table=\"{}\">\n<thead><tr>",
-                                XmlEscape(table.name));
+  std::string out =
+      fmt::format("<div class=\"table-wrap\"><table data-table=\"{}\">\n", XmlEscape(table.name));
+  // The PDF's column proportions, as a starting point the browser may widen.
+  out += "<colgroup>";
+  for (const ColumnSpec& c : table.columns) {
+    out += fmt::format("<col style=\"width: {:.1f}%\">", 100.0 * c.width_fraction);
+  }
+  out += "</colgroup>\n<thead><tr>";
   for (const ColumnSpec& c : table.columns) {
     out += fmt::format("<th scope=\"col\"{}>{}</th>", c.numeric ? " class=\"num\"" : "",
                        Html(c.header));
