@@ -31,12 +31,17 @@
 //    a result inside [T_L - w, T_U + w] but outside the acceptance interval is inconclusive
 //    (the guide's "conditional pass" and "conditional fail"); fail only beyond T +- w.
 //  - conformance probability (JCGM 106:2012 §7 conformance probability, §8 acceptance
-//    intervals; section numbers from memory): pass if p_c >= p_required; fail if p_c <= 1 -
-//    p_required (non-conformity is as probable as p_required; this program's symmetric choice, JCGM
-//    106 leaves rejection to the rule's author); inconclusive in between. The acceptance limits are
-//    the measured values at which p_c = p_required (w = u F^-1(p_required) for a one-sided limit);
-//    when even the interval's midpoint gives p_c < p_required no value can pass and the acceptance
-//    interval is empty (NaN limits).
+//    intervals; section numbers from memory): pass if p_c >= p_required; fail if
+//    p_c <= 1 - p_required (non-conformity at least as probable as p_required: this
+//    program's symmetric choice); inconclusive in between. The acceptance limits are the
+//    measured values at which p_c = p_required (w = u F^-1(p_required) for a one-sided
+//    limit); when even the interval's midpoint gives p_c < p_required, no value can pass
+//    and the acceptance interval is empty (NaN limits).
+//
+// Worked figures (tests/conform): w = 0.83 U with k = 2 puts the acceptance limit 1.66 u
+// inside the tolerance limit, PFA = 1 - Phi(1.66) = 0.0485, under 5 % (a one-sided 95 %
+// bound); JCGM 106's example y = 13.6, u = 1.8, [12.5, 16.3] gives p_c = 0.6626
+// (recomputed).
 //
 // Limits are inclusive: a measured value exactly on an acceptance limit passes.
 // Units: y, u, the limits, U, w and the acceptance limits share the quantity's unit.
