@@ -229,6 +229,59 @@ TEST(AnalysePores, NotIdentifiableOrExtrapolatedModelsAreNotUsed) {
   }
 }
 
+// The dry mass is the same at every step of a specimen: its error shifts every moisture content
+// by -(1 + u) e (e its relative error) and the stepwise volume, a difference of moisture
+// contents, only by -(u_top - u_bottom) e: relative u(V) / V = u(e) = 1 %. Drawn independently
+// per point it would be about sqrt(2) (1 + u) u(e) / (u_top - u_bottom), many times larger.
+TEST(AnalysePores, StepwiseDrawsTheDryMassOncePerDrawForAllSteps) {
+  fit::IsothermFits fits = TwoBranches();
+  fits.groups.resize(1);
+  fits.fits.resize(1);
+  fits.best_fit_per_group.resize(1);
+  constexpr double kRelativeDryMassU = 0.01;
+  reduce::ReducedIsotherms reduced;
+  fit::FitGroup& group = fits.groups[0];
+  for (std::size_t i = 0; i < group.observations.size(); ++i) {
+    fitters::Observation& o = group.observations[i];
+    o.sigma_x0 = 0.0;
+    reduce::IsothermPoint point;
+    point.dataset_id = "d";
+    point.step_index = static_cast<int>(i);
+    point.branch = group.branch;
+    point.rh_fraction = o.x[0];
+    point.moisture_kg_per_kg = o.y;
+    point.u_moisture_kg_per_kg = (1.0 + o.y) * kRelativeDryMassU;
+    reduced.points.push_back(point);
+    group.point_indices[i] = static_cast<int>(i);
+    reduce::SpecimenPoint specimen;
+    specimen.dataset_id = "d";
+    specimen.specimen_id = "s1";
+    specimen.step_index = point.step_index;
+    specimen.branch = point.branch;
+    reduce::BudgetLine line;  // c = -m / m_d^2 with m_d = 1 g, u(m_d) = 0.01 g
+    line.quantity = "dry-mass method";
+    line.standard_uncertainty = kRelativeDryMassU;
+    line.sensitivity = -(1.0 + o.y);
+    line.contribution = std::abs(line.sensitivity) * line.standard_uncertainty;
+    specimen.moisture_budget.push_back(line);
+    reduced.specimen_points.push_back(specimen);
+  }
+  PoreOptions options;
+  options.band_draws = 2000;
+  options.material_class = MaterialClass::kRigid;
+  const PoreAnalysis a = AnalysePores(reduced, fits, options);
+  const PoreDistribution* stepwise = nullptr;
+  for (const PoreDistribution& d : a.distributions) {
+    if (d.method == "stepwise") stepwise = &d;
+  }
+  ASSERT_NE(stepwise, nullptr);
+  ASSERT_GT(stepwise->total_resolved_volume_m3_per_kg, 0.0);
+  const double relative =
+      stepwise->u_total_resolved_volume_m3_per_kg / stepwise->total_resolved_volume_m3_per_kg;
+  // 2000 draws: the standard deviation is known to about 1.6 % of itself.
+  EXPECT_NEAR(relative, kRelativeDryMassU, 0.1 * kRelativeDryMassU);
+}
+
 // Material class (pores.h, MaterialClass): swelling materials get no distribution, with the
 // reason; an unstated class gets the caution on every distribution; rigid ones neither.
 TEST(AnalysePores, MaterialClassDecidesThePoreSection) {
