@@ -213,8 +213,8 @@ std::vector<int> SourceCandidates(const fit::IsothermFits& fits, std::size_t gro
 
 void AddUnavailable(PoreAnalysis* out, const fit::FitGroup& group, const std::string& method,
                     std::string reason) {
-  Warn(out, fmt::format("pores: no {} pore-size distribution for the {}: {}", method,
-                        GroupWords(group), reason));
+  Warn(out, fmt::format("pores: no {} pore-size distribution for the {}: {}",
+                        method == "model" ? "model-based" : method, GroupWords(group), reason));
   out->unavailable.push_back({method, group.branch, group.temperature_K, std::move(reason)});
 }
 
@@ -226,8 +226,7 @@ void AddModelDistribution(const fit::IsothermFits& fits, std::size_t g,
   const fit::FitGroup& group = fits.groups[g];
   const std::vector<int> candidates = SourceCandidates(fits, g, options);
   if (candidates.empty()) {
-    AddUnavailable(out, group, "model-based",
-                   fmt::format("no converged {} fit", options.source_model));
+    AddUnavailable(out, group, "model", fmt::format("no converged {} fit", options.source_model));
     return;
   }
   const double rh_low_needed = map.RhForPoreRadius(options.min_radius_m);
@@ -296,7 +295,7 @@ void AddModelDistribution(const fit::IsothermFits& fits, std::size_t g,
   }
   std::string reason = "no fitted model passes its checks";
   for (const std::string& why : passed_over) reason += "; " + why;
-  AddUnavailable(out, group, "model-based", reason);
+  AddUnavailable(out, group, "model", reason);
 }
 
 // Budget lines of the reduce stage that are the same at every step of a specimen (its dry

@@ -139,7 +139,7 @@ TEST(AnalysePores, MissingSourceModelAndDryingGroupAreWarningsNotErrors) {
             "pores: no model-based pore-size distribution for the adsorption group at 23.00 degC: "
             "no converged peleg fit");
   ASSERT_EQ(a.unavailable.size(), 2u);  // the model-based ones, with the reason
-  EXPECT_EQ(a.unavailable[0].method, "model-based");
+  EXPECT_EQ(a.unavailable[0].method, "model");
   EXPECT_EQ(a.unavailable[0].reason, "no converged peleg fit");
   EXPECT_EQ(a.summary.warnings[2].message,
             "pores: the drying group at 23.00 degC is not analysed (adsorption and desorption "
