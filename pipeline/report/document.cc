@@ -8,6 +8,7 @@
 #include <string>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/report/internal/pdf_archival.h"
 #include "pipeline/report/plot/pdf_canvas.h"
 #include "pipeline/report/plot/text.h"
 
@@ -114,20 +115,21 @@ void Document::SetUpDocument(const std::filesystem::path& regular,
     throw ComputationError("PDF writer failed while selecting the fonts");
   }
 
-  // Document information: fixed, from the inputs only (no wall clock).
+  // libharu's ToUnicode maps are invalid CID maps: replaced (pdf_archival.h says why).
+  internal::RepairToUnicode(regular_);
+  internal::RepairToUnicode(bold_);
+  // Document information, XMP and file identifier: fixed, from the inputs only (no wall
+  // clock); strings pass the same cleaning and length limits as the printed text.
+  internal::DocumentIdentity identity;
+  identity.title = plot::PrintableText(layout_.title);
+  identity.author = plot::PrintableText(layout_.lab_name.empty() ? "sorbtrace" : layout_.lab_name);
+  identity.subject = plot::PrintableText(report_number_);
+  identity.creator = plot::PrintableText("sorbtrace " + software_version_);
+  identity.producer = identity.creator + " (libharu " + HPDF_GetVersion() + ")";
   HPDF_Date date;
-  if (ParseDate(document_date_, &date)) {
-    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_CREATION_DATE, date);
-    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_MOD_DATE, date);
-  }
-  // Metadata strings pass the same cleaning and length limits as the printed text.
-  HPDF_SetInfoAttr(pdf_, HPDF_INFO_TITLE,
-                   plot::PrintableText(layout_.title + " " + report_number_).c_str());
-  if (!layout_.lab_name.empty()) {
-    HPDF_SetInfoAttr(pdf_, HPDF_INFO_AUTHOR, plot::PrintableText(layout_.lab_name).c_str());
-  }
-  HPDF_SetInfoAttr(pdf_, HPDF_INFO_CREATOR,
-                   plot::PrintableText("sorbtrace " + software_version_).c_str());
+  if (ParseDate(document_date_, &date)) identity.date = date;
+  internal::WriteDocumentIdentity(pdf_, identity);
+  internal::AddOutputIntent(pdf_, SORBTRACE_ICC_PROFILE);
   ThrowIfFailed("writing the document information");
 }
 
