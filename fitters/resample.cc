@@ -236,6 +236,15 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
     result.num_failed = num_resamples;
     return result;
   }
+  if (!full_fit.summary.covariance_available) {
+    // A rank-deficient fit: see ResampleResult::not_formed.
+    result.not_formed =
+        "not formed: the full-data fit has no covariance (rank-deficient Jacobian), so some "
+        "parameter is not determined by the data and its resampled refits would only drift along "
+        "that direction";
+    result.num_failed = num_resamples;
+    return result;
+  }
 
   const int dof = static_cast<int>(n) - p;
   const bool relative = fit_options.weights == WeightConvention::kRelative;
@@ -273,8 +282,10 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   }
   // The residual bootstrap's pool: each point's signed orthogonal residual, corrected for its
   // leverage and centred (see fitter.h), and the direction it is put back along.
-  const ResidualPool pool =
-      OrthogonalResiduals(model, observations, context, full_fit, fit_options, warm.leverage);
+  ResidualPool pool;
+  if (options.kind == ResampleKind::kResidualBootstrap) {
+    pool = OrthogonalResiduals(model, observations, context, full_fit, fit_options, warm.leverage);
+  }
   std::vector<double> start = full_fit.parameters;
   std::vector<double> drawn_y(n, 0.0), drawn_x(n, 0.0);
 

@@ -291,9 +291,9 @@ ScaledTail GroupMeans(const ScaledTail& scaled) {
   return out;
 }
 
-TailFit FitTwoTerms(const ScaledTail& all, const TailFit& one) {
+// all: the scaled tail; scaled: GroupMeans(all), formed once by the caller.
+TailFit FitTwoTerms(const ScaledTail& all, const ScaledTail& scaled, const TailFit& one) {
   TailFit fit;
-  const ScaledTail scaled = GroupMeans(all);
   const std::size_t n = scaled.t.size();
   fit.num_points = static_cast<int>(all.t.size());
   constexpr int kTwoTermParameters = 5;
@@ -403,7 +403,8 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
     fit.t0_s = scaled.t0;
     return fit;
   }
-  const TailFit two = FitTwoTerms(scaled, one);
+  const ScaledTail grouped = GroupMeans(scaled);
+  const TailFit two = FitTwoTerms(scaled, grouped, one);
   const bool use_two = terms == 2 && two.ok;
   TailFit chosen = use_two ? two : one;
   const TailFit& other = use_two ? one : two;
@@ -412,7 +413,7 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   // prefers two terms) and the alternative is a credible description of it (its slowest time
   // constant within the accepted range; the tail duration is 1 here).
   if (other.ok && two.ok && other.slowest_tau_s <= max_alternative_tau_to_span &&
-      TwoTermsSupported(GroupMeans(scaled), one, two)) {
+      TwoTermsSupported(grouped, one, two)) {
     chosen.has_alternative = true;
     chosen.alternative_m_inf_g = other.m_inf_g;
     chosen.u_model_g = std::abs(other.m_inf_g - chosen.m_inf_g) / kSqrt3;

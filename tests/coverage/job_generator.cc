@@ -171,7 +171,32 @@ GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd) {
   return job;
 }
 
+double UnaccomplishedFraction(Kinetics kinetics, double elapsed_over_tau) {
+  switch (kinetics) {
+    case Kinetics::kFirstOrder:
+      return std::exp(-elapsed_over_tau);
+    case Kinetics::kTwoExponential:
+      return 0.6 * std::exp(-5.0 * elapsed_over_tau) + 0.4 * std::exp(-elapsed_over_tau);
+    case Kinetics::kFickianSlab: {
+      // 200 odd terms: the first omitted one is below 1e-9 of the sum for t / tau >= 1e-4,
+      // and F(0) = 1 within 1e-3 (sum of 8 / (j^2 pi^2) over odd j = 1).
+      constexpr double kPi = 3.14159265358979323846;
+      double sum = 0.0;
+      for (int k = 0; k < 200; ++k) {
+        const double j = 2.0 * k + 1.0;
+        sum += 8.0 / (j * j * kPi * kPi) * std::exp(-j * j * elapsed_over_tau);
+      }
+      return sum;
+    }
+  }
+  return 0.0;
+}
+
 GeneratedJob MakeVaporLogJob(std::uint64_t seed) {
+  return MakeVaporLogJob(seed, Kinetics::kFirstOrder);
+}
+
+GeneratedJob MakeVaporLogJob(std::uint64_t seed, Kinetics kinetics, double cut_after_tau) {
   Random random(seed);
   GeneratedJob job;
   job.truth = Gab{0.058, 7.5, 0.78};  // a wood-fibre-like material (invented)
@@ -225,7 +250,7 @@ GeneratedJob MakeVaporLogJob(std::uint64_t seed) {
     const double balance_offset_g = kBalanceOffsetSd_g * random.Normal();
     for (double t = time_s + 0.5 * kBlock_s;; t += kBlock_s) {
       const double elapsed = t - step.start_time_s;
-      x = x_eq + (x_start - x_eq) * std::exp(-elapsed / tau_s);
+      x = x_eq + (x_start - x_eq) * UnaccomplishedFraction(kinetics, elapsed / tau_s);
       ingest::LogBlock block;
       block.time_s = t;
       block.mass_g = dry_mass_g * (1.0 + x) + balance_offset_g + block_sd_g * random.Normal();
@@ -236,7 +261,7 @@ GeneratedJob MakeVaporLogJob(std::uint64_t seed) {
       step.blocks.push_back(block);
       line += kRowsPerBlock;
       if (cut_early) {
-        if (elapsed >= 1.5 * tau_s) break;
+        if (elapsed >= cut_after_tau * tau_s) break;
       } else if (elapsed >= kRateWindow_s) {
         std::size_t first = step.blocks.size();
         while (first > 0 && t - step.blocks[first - 1].time_s <= kRateWindow_s) --first;

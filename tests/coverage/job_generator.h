@@ -69,4 +69,28 @@ struct GeneratedJob {
 GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd);
 GeneratedJob MakeVaporLogJob(std::uint64_t seed);
 
+// Sorption kinetics of the vapour-log steps: the unaccomplished fraction F(t) = (x_eq - x(t)) /
+// (x_eq - x_start) at time t after the humidity change, tau the step's drawn time constant.
+enum class Kinetics {
+  // F = exp(-t / tau).
+  kFirstOrder,
+  // Two parallel first-order processes, F = 0.6 exp(-5 t / tau) + 0.4 exp(-t / tau): the
+  // parallel exponential kinetics model of natural fibres (C. A. S. Hill, A. Norton, G. Newman,
+  // J. Appl. Polym. Sci. 112 (2009) 1524, from memory), a fast and a slow component.
+  kTwoExponential,
+  // Fickian diffusion into a plane sheet from both faces, F = sum over odd j of
+  // 8 / (j^2 pi^2) exp(-j^2 t / tau), tau = l^2 / (pi^2 D) for a sheet of thickness 2l
+  // (J. Crank, The Mathematics of Diffusion, 2nd ed., Oxford 1975, eq. 4.18): sqrt(t) early,
+  // a single exponential late.
+  kFickianSlab,
+};
+
+// As MakeVaporLogJob(seed) (identical draws for kFirstOrder), with the given kinetics; the
+// 80 and 90 % steps are cut by the operator at cut_after_tau time constants (1.5 in
+// MakeVaporLogJob(seed)).
+GeneratedJob MakeVaporLogJob(std::uint64_t seed, Kinetics kinetics, double cut_after_tau = 1.5);
+
+// The unaccomplished fraction F of the given kinetics at elapsed / tau.
+double UnaccomplishedFraction(Kinetics kinetics, double elapsed_over_tau);
+
 }  // namespace sorbtrace::coverage

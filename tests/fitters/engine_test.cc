@@ -296,6 +296,42 @@ TEST(FitModelTest, SingularJacobianIsFlagged) {
   EXPECT_NEAR(fit.parameters[0] * fit.parameters[1], SolveLine(data).beta(1), 0.1);
 }
 
+// A fit without a covariance (only a * b is determined) is not resampled: the refits could only
+// drift along the undetermined direction a -> c a, b -> b / c, so their percentiles would
+// describe the solver. Every kind returns no draws, all counted as failed, and says why.
+TEST(ResampleTest, RankDeficientFitIsNotResampled) {
+  const auto model = MakeAutoDiffModel<Product>();
+  std::vector<Observation> data = LineData();
+  for (Observation& o : data) o.y = 3.0 * o.x[0] + 0.01 * (o.x[0] - 3.0);
+  const FitOptions fit_options;
+  const FitResult fit = FitModel(*model, data, ModelContext{}, fit_options);
+  ASSERT_TRUE(fit.ok()) << fit.summary.BriefReport();
+  ASSERT_FALSE(fit.summary.covariance_available);
+  for (ResampleKind kind : {ResampleKind::kResidualBootstrap, ResampleKind::kCaseBootstrap,
+                            ResampleKind::kMonteCarloInputs}) {
+    ResampleOptions options;
+    options.kind = kind;
+    options.num_resamples = 40;
+    const ResampleResult r = Resample(*model, data, ModelContext{}, fit, fit_options, options);
+    EXPECT_TRUE(r.parameter_draws.empty());
+    EXPECT_EQ(r.num_failed, 40);
+    EXPECT_EQ(r.refit_iterations, 0);
+    EXPECT_NE(r.not_formed.find("no covariance"), std::string::npos) << r.not_formed;
+    ASSERT_EQ(r.parameter_low.size(), 2u);
+    EXPECT_TRUE(std::isnan(r.parameter_low[0]));
+  }
+  // A fit with a covariance is resampled and says nothing.
+  const auto line = MakeAutoDiffModel<Line>();
+  const FitResult line_fit = FitModel(*line, data, ModelContext{}, fit_options);
+  ASSERT_TRUE(line_fit.summary.covariance_available);
+  ResampleOptions options;
+  options.num_resamples = 40;
+  const ResampleResult r = Resample(*line, data, ModelContext{}, line_fit, fit_options, options);
+  EXPECT_TRUE(r.not_formed.empty());
+  EXPECT_EQ(static_cast<int>(r.parameter_draws.size()) + r.num_failed, 40);
+  EXPECT_GT(r.parameter_draws.size(), 30u);
+}
+
 TEST(FitModelTest, BadInputAndOptionsAreReportedNotCrashed) {
   const auto model = MakeAutoDiffModel<Line>();
   std::vector<Observation> data = LineData();
