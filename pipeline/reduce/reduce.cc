@@ -305,12 +305,14 @@ double CoverageFactor(double degrees_of_freedom, double nominal_k) {
 }
 
 bool ReduceOptions::IsValid(std::string* error) const {
-  // Above k = 10 the value is certainly a mistake (k = 3 already gives about 99 %).
-  constexpr double kLargestCoverageFactor = 10.0;
-  if (!(coverage_factor > 0.0 && coverage_factor <= kLargestCoverageFactor)) {
+  // k below 1 would make U smaller than u; above 5 is certainly a mistake (k = 3 already gives
+  // about 99 %). The same range as the job-file key [report] coverage_factor.
+  constexpr double kSmallestCoverageFactor = 1.0;
+  constexpr double kLargestCoverageFactor = 5.0;
+  if (!(coverage_factor >= kSmallestCoverageFactor && coverage_factor <= kLargestCoverageFactor)) {
     if (error != nullptr) {
-      *error = fmt::format("coverage_factor {} must lie in (0, {}]", coverage_factor,
-                           kLargestCoverageFactor);
+      *error = fmt::format("coverage_factor {} must lie in [{}, {}]", coverage_factor,
+                           kSmallestCoverageFactor, kLargestCoverageFactor);
     }
     return false;
   }
