@@ -202,6 +202,29 @@ struct IngestResult {
   IngestSummary summary;
 };
 
+// The dry reference of one specimen: the one rule that decides which mass is a specimen's dry
+// mass (equilibrate takes the mass from here, reduce divides by it), per job.dry_mass_method:
+//  "oven" (kOvenDrying): the stated dry_mass_g of its [[specimen]] entry, else its first oven
+//    step (atmosphere "oven", branch drying) in data-set order.
+//  "desiccant_step" (kDesiccantStep): its first 0 % RH drying step (desiccant or rh:0% in a
+//    desiccator file, a drying step of a vapour log) in data-set order.
+//  "final_drying_step" (kFinalDryingStep): a drying step that is the specimen's last step in its
+//    data set; of several such data sets, the last in data-set order.
+// Data-set order is the order of [[dataset]] in the job file.
+struct DryMassSource {
+  std::string specimen_id;
+  std::optional<double> stated_mass_g;  // the stated dry_mass_g ("oven" only), else:
+  std::string dataset_id;               // the data set of the drying step
+  int step_index = -1;                  // and its step_index (DesiccatorStep, VaporLogStep)
+};
+
+// One source per declared specimen that has data, in [[specimen]] order. A declared specimen
+// without data has no entry and, when `warnings` is not null, one warning there. A specimen
+// with data but without a source is an InputError at its [[specimen]] entry saying what the
+// dry-mass method needs.
+std::vector<DryMassSource> FindDryMassSources(const IngestResult& result,
+                                              std::vector<Diagnostic>* warnings);
+
 // Parses and validates the job file (the sections that describe the test and its data:
 // [job], [material], [measurement], [[specimen]], [[dataset]], [retention]; see
 // docs/input-formats.md). Tables of later stages ([equilibrium], [fit], [pores], [report]) are

@@ -344,9 +344,8 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     // Drying steps give the dry reference (or check it); they are not isotherm points.
     if (eq.branch == ingest::Branch::kDrying) continue;
     const equilibrate::DryMass* dry = FindDryMass(equilibria, eq.specimen_id);
-    if (dry == nullptr || !(dry->mass_g > 0.0)) {
-      throw InputError(eq.where, fmt::format("no dry mass for specimen '{}'", eq.specimen_id),
-                       "a dry mass source per [measurement] dry_mass_method");
+    if (dry == nullptr || !(dry->mass_g > 0.0)) {  // ingest::FindDryMassSources refuses this
+      throw std::logic_error("reduce: no dry mass for specimen '" + eq.specimen_id + "'");
     }
     SpecimenPoint point = ReducePoint(eq, *dry, job, options);
     if (point.excluded) {
