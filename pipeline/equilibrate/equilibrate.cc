@@ -18,9 +18,9 @@
 namespace sorbtrace::equilibrate {
 namespace {
 
-constexpr double kPercent = 100.0;
-constexpr double kSecondsPerHour = 3600.0;
-constexpr double kSecondsPerMinute = 60.0;
+using physics::kPercent;
+using physics::kSecondsPerHour;
+using physics::kSecondsPerMinute;
 // Half-width a of a rectangular distribution -> standard uncertainty a / sqrt(3)
 // (JCGM 100:2008, 4.3.7).
 const double kSqrt3 = std::sqrt(3.0);

@@ -250,7 +250,7 @@ void CheckUncertaintyBounds(const JobFileReader& in, const toml::table& measurem
             fmt::format("a standard uncertainty above 0 and at most {:g} {}", limit, unit));
   };
   bound("rh_sensor_standard_uncertainty_percent",
-        job->rh_sensor_standard_uncertainty_fraction * 100.0,
+        job->rh_sensor_standard_uncertainty_fraction * physics::kPercent,
         internal::kMaxRhSensorUncertainty_percent, "%RH");
   bound("temperature_standard_uncertainty_K", job->temperature_standard_uncertainty_K,
         internal::kMaxTemperatureUncertainty_K, "K");
@@ -352,7 +352,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
           .value_or(job.balance_standard_uncertainty_g);
   if (const auto u =
           in.Positive(measurement, kM, "rh_sensor_standard_uncertainty_percent", false)) {
-    job.rh_sensor_standard_uncertainty_fraction = *u / 100.0;
+    job.rh_sensor_standard_uncertainty_fraction = *u / physics::kPercent;
   }
   job.temperature_standard_uncertainty_K =
       in.Positive(measurement, kM, "temperature_standard_uncertainty_K", false)

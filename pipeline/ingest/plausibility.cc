@@ -13,6 +13,7 @@
 
 #include "fmt/format.h"
 #include "pipeline/ingest/csv_reader.h"
+#include "pipeline/physics/physics.h"
 
 namespace sorbtrace::ingest::internal {
 namespace {
@@ -32,7 +33,9 @@ std::filesystem::path Canonical(const std::filesystem::path& path) {
 
 std::string Grams(double mass_g) { return fmt::format("{:.7g} g", mass_g); }
 
-std::string Percent(double fraction) { return fmt::format("{:.4g} %", fraction * 100.0); }
+std::string Percent(double fraction) {
+  return fmt::format("{:.4g} %", fraction * physics::kPercent);
+}
 
 // "file:line" of a reading (streamed readings keep only the line).
 std::string Where(const SourceLocation& where, const std::string& file) {

@@ -18,25 +18,13 @@
 namespace sorbtrace::reduce {
 namespace {
 
-constexpr double kPercent = 100.0;
-constexpr double kSecondsPerHour = 3600.0;
+using physics::kPercent;
+using physics::kSecondsPerHour;
 constexpr double kInfinity = std::numeric_limits<double>::infinity();
 
 // Degrees of freedom as stored upstream (0 = infinite) -> as used here.
 double Dof(int degrees_of_freedom) {
   return degrees_of_freedom > 0 ? static_cast<double>(degrees_of_freedom) : kInfinity;
-}
-
-std::string_view Name(ingest::Branch branch) {
-  switch (branch) {
-    case ingest::Branch::kAdsorption:
-      return "adsorption";
-    case ingest::Branch::kDesorption:
-      return "desorption";
-    case ingest::Branch::kDrying:
-      return "drying";
-  }
-  return "unknown";
 }
 
 int BranchOrder(ingest::Branch branch) { return static_cast<int>(branch); }
@@ -470,7 +458,7 @@ std::string EquilibriumTableCsv(const ReducedIsotherms& reduced) {
   for (const auto& p : reduced.specimen_points) {
     out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},{},,1,,,{},{},{},{},{}\n",
                        Quote(p.dataset_id), Quote(p.specimen_id), p.step_index + 1,
-                       Quote(p.step_label), Name(p.branch), p.cycle,
+                       Quote(p.step_label), ingest::BranchName(p.branch), p.cycle,
                        Cell(physics::KelvinToCelsius(p.temperature_K), 2),
                        Cell(p.rh_fraction * kPercent, 2), Cell(p.u_rh_fraction * kPercent, 3),
                        Cell(p.moisture_kg_per_kg, 6), Cell(p.u_moisture_kg_per_kg, 7),
@@ -482,7 +470,7 @@ std::string EquilibriumTableCsv(const ReducedIsotherms& reduced) {
     out += fmt::format(
         "combined,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},no,{}\n",
         Quote(p.dataset_id), Quote(Join(p.specimen_ids, "+")), p.step_index + 1,
-        Quote(p.step_label), Name(p.branch), p.cycle,
+        Quote(p.step_label), ingest::BranchName(p.branch), p.cycle,
         Cell(physics::KelvinToCelsius(p.temperature_K), 2), Cell(p.rh_fraction * kPercent, 2),
         Cell(p.u_rh_fraction * kPercent, 3), Cell(p.moisture_kg_per_kg, 6),
         Cell(p.u_moisture_kg_per_kg, 7), Cell(p.expanded_u_moisture_kg_per_kg, 7),

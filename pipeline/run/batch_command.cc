@@ -38,6 +38,7 @@
 #include "pipeline/common/files.h"
 #include "pipeline/run/commands.h"
 #include "pipeline/run/console.h"
+#include "pipeline/run/exit_status.h"
 #include "pipeline/run/run.h"
 
 extern char** environ;
@@ -471,12 +472,8 @@ void AddBatchCommand(CLI::App& app, int& exit_code) {
   command->callback([args, &exit_code] {
     try {
       exit_code = Batch(*args);
-    } catch (const InputError& error) {
-      std::fprintf(stderr, "%s\n", error.what());
-      exit_code = static_cast<int>(ExitCode::kBadInput);
-    } catch (const OutputError& error) {
-      std::fprintf(stderr, "sorbtrace: output error: %s\n", error.what());
-      exit_code = static_cast<int>(ExitCode::kOutputError);
+    } catch (const std::exception& error) {
+      exit_code = ReportFailure(error);
     }
   });
 }

@@ -177,6 +177,26 @@ TEST_F(RunE2eTest, AuditPassesWhateverTheWorkingFoldersOfMakeAndVerify) {
   EXPECT_EQ(audit.exit_code, 0) << audit.output;
 }
 
+// `check` and `make` run the same first stages in the same order (run::PrepareJob): check
+// lists the inputs results.json records (job file, data files, template), in the same order.
+TEST_F(RunE2eTest, CheckListsTheInputsResultsJsonRecords) {
+  const fs::path job = Jobs().front();
+  const fs::path out = root_ / "out";
+  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + out.string() + " -q").exit_code, 0);
+  const CommandRun checked = Sorbtrace("check " + job.string() + " --json");
+  ASSERT_EQ(checked.exit_code, 0) << checked.output;
+  const auto check = nlohmann::json::parse(checked.output.substr(checked.output.find('{')));
+  std::ifstream results_file(out / "results.json");
+  const auto results = nlohmann::json::parse(results_file);
+  std::vector<std::string> from_check;
+  std::vector<std::string> from_results;
+  for (const auto& input : check["inputs"]) from_check.push_back(input["role"]);
+  for (const auto& input : results["inputs"]) from_results.push_back(input["role"]);
+  EXPECT_EQ(from_check, from_results);
+  ASSERT_GE(from_check.size(), 3u);
+  EXPECT_EQ(from_check.back(), "template");
+}
+
 TEST_F(RunE2eTest, AuditFailsAfterOneInputByteChanges) {
   const fs::path job = Jobs().front();
   const fs::path out = root_ / "out";
