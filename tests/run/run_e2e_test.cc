@@ -20,40 +20,22 @@
 #include <vector>
 
 #include "pipeline/common/files.h"
+#include "tests/common/e2e_support.h"
 
 namespace sorbtrace {
 namespace {
 
 namespace fs = std::filesystem;
 
-struct CommandRun {
-  int exit_code = -1;
-  std::string output;  // stdout and stderr
-};
-
-CommandRun Sorbtrace(const std::string& arguments) {
-  const std::string command = std::string(SORBTRACE_BINARY) + " " + arguments + " 2>&1";
-  CommandRun run;
-  FILE* pipe = popen(command.c_str(), "r");
-  if (pipe == nullptr) return run;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
-  const int status = pclose(pipe);
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return run;
-}
+using CommandRun = e2e::Outcome;
+using e2e::Sorbtrace;
 
 // A fresh copy of example_inputs/ in a temporary folder, so tests never touch the originals.
 class RunE2eTest : public ::testing::Test {
  protected:
   void SetUp() override {
     const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    // The process id keeps concurrent runs (other build trees, ctest -j) apart.
-    root_ = fs::temp_directory_path() /
-            ("sorbtrace_e2e_" + std::string(info->name()) + "_" + std::to_string(::getpid()));
-    fs::remove_all(root_);
-    fs::create_directories(root_);
+    root_ = e2e::FreshDir("e2e", info->name());
     fs::copy(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs", root_ / "inputs",
              fs::copy_options::recursive);
   }
