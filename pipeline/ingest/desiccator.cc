@@ -20,8 +20,6 @@ namespace {
 
 using internal::ColumnRole;
 using internal::CsvReader;
-using internal::kMaxPlausibleTemperature_K;
-using internal::kMinPlausibleTemperature_K;
 
 // Fewer weighings than this cannot show whether a step reached constant mass.
 constexpr std::size_t kMinWeighingsPerStep = 2;

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <cstdlib>
 #include <filesystem>
+#include <limits>
 #include <map>
 #include <optional>
 #include <string>
@@ -72,8 +73,8 @@ std::optional<DryReference> DryReferenceOf(const IngestResult& result,
   // The drying steps the job's dry-mass method reads: oven weighings for "oven" (any drying
   // step when there are none), every drying step otherwise.
   const bool oven_only = result.job.dry_mass_method == DryMassMethod::kOvenDrying;
-  double smallest_oven = INFINITY;
-  double smallest = INFINITY;
+  double smallest_oven = std::numeric_limits<double>::infinity();
+  double smallest = std::numeric_limits<double>::infinity();
   for (const DesiccatorSeries& series : result.desiccator_series) {
     for (const DesiccatorStep& step : series.steps) {
       if (step.specimen_id != specimen.id || step.branch != Branch::kDrying) continue;

@@ -17,9 +17,6 @@ namespace sorbtrace::ingest {
 namespace {
 
 using internal::ColumnRole;
-using internal::CsvReader;
-using internal::kMaxPlausibleTemperature_K;
-using internal::kMinPlausibleTemperature_K;
 
 // Two set points closer than this (as RH fractions) are the same step: far below any
 // controller resolution (0.1 % RH), far above the rounding of a written percentage.

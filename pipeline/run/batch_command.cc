@@ -12,6 +12,7 @@
 // .sorbtrace-batch), and must not be, contain or lie inside DIR, the current folder, the home
 // folder or "/".
 #include <fcntl.h>
+#include <fmt/format.h>
 #include <spawn.h>
 #include <sys/stat.h>
 #include <sys/wait.h>
@@ -186,10 +187,9 @@ void AssignFolderNames(std::vector<PlannedJob>& jobs) {
     }
     if (name != base) {
       const PlannedJob& holder = *taken[base];
-      job.note = "output folder renamed to " + name + ": " + base + " belongs to " +
-                 holder.job_file.string() +
-                 (holder.job_id == job.job_id ? " (same job id '" + job.job_id + "')"
-                                              : " (job id '" + holder.job_id + "')");
+      job.note = fmt::format("output folder renamed to {}: {} belongs to {} ({}job id '{}')", name,
+                             base, holder.job_file.string(),
+                             holder.job_id == job.job_id ? "same " : "", holder.job_id);
     }
     taken[name] = &job;
     job.folder_name = name;
@@ -267,6 +267,7 @@ void RunChild(const PlannedJob& job, const fs::path& out, JobOutcome& outcome) {
       "sorbtrace",  "make",    job.job_file.string(), "--out",
       out.string(), "--quiet", "--status-fd",         std::to_string(kChildStatusFd)};
   std::vector<char*> argv;
+  argv.reserve(argv_text.size() + 1);
   for (auto& arg : argv_text) argv.push_back(arg.data());
   argv.push_back(nullptr);
   posix_spawn_file_actions_t actions;

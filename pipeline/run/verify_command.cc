@@ -51,7 +51,7 @@ std::filesystem::path ResolveRecordedInput(const std::string& recorded,
                                            const std::string& results_file) {
   namespace fs = std::filesystem;
   const fs::path written(recorded);
-  const fs::path candidate = (job_dir / written).lexically_normal();
+  fs::path candidate = (job_dir / written).lexically_normal();  // not const: returned by move
   const fs::path relative = written.lexically_normal();
   const bool escapes = written.is_absolute() || written.has_root_name() ||
                        (!relative.empty() && *relative.begin() == "..");
