@@ -4,6 +4,7 @@
 # suite again; then gives every libFuzzer target a short run. This is what CI runs.
 # Usage: scripts/test.sh            (from anywhere; builds in build/ and build-asan/)
 #        SORBTRACE_SKIP_ASAN=1 ...  (local quick run without the sanitizer pass)
+#        SORBTRACE_SKIP_LINT=1 ...  (without clang-format / clang-tidy)
 set -euo pipefail
 cd "$(dirname "$0")/.."
 jobs=$(nproc)
@@ -14,6 +15,13 @@ echo "== release build + tests"
 cmake -S . -B build -DCMAKE_BUILD_TYPE=Release -DSORBTRACE_WERROR=ON >/dev/null
 cmake --build build -j"$jobs"
 ctest --test-dir build --output-on-failure -j"$jobs" --timeout 600
+
+if [ "${SORBTRACE_SKIP_LINT:-0}" != "1" ]; then
+  # clang-format on every source, clang-tidy on the files changed against the base branch
+  # (scripts/lint.sh says how the base is chosen; `bash scripts/lint.sh --all` checks all).
+  echo "== lint"
+  bash scripts/lint.sh
+fi
 
 if [ "${SORBTRACE_SKIP_ASAN:-0}" != "1" ]; then
   echo "== AddressSanitizer + UBSan build + tests"

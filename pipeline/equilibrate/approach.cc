@@ -8,12 +8,13 @@
 
 #include "pipeline/equilibrate/criteria.h"
 #include "pipeline/equilibrate/exponential_tail.h"
+#include "pipeline/physics/physics.h"
 
 namespace sorbtrace::equilibrate::internal {
 namespace {
 
-constexpr double kSecondsPerHour = 3600.0;
-constexpr double kSecondsPerMinute = 60.0;
+using physics::kSecondsPerHour;
+using physics::kSecondsPerMinute;
 // Bisection on the decay rate lambda = 1/tau of the three-weighing estimate.
 constexpr int kBisections = 200;
 

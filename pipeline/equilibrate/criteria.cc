@@ -4,10 +4,12 @@
 #include <cmath>
 #include <vector>
 
+#include "pipeline/physics/physics.h"
+
 namespace sorbtrace::equilibrate::internal {
 namespace {
 
-constexpr double kSecondsPerMinute = 60.0;
+using physics::kSecondsPerMinute;
 
 // Indices of the chain ending at weighing `end`: end, then repeatedly the latest earlier
 // weighing at least `interval_s` before the previous chain member; at most `length` members.

@@ -18,9 +18,9 @@
 namespace sorbtrace::equilibrate {
 namespace {
 
-constexpr double kPercent = 100.0;
-constexpr double kSecondsPerHour = 3600.0;
-constexpr double kSecondsPerMinute = 60.0;
+using physics::kPercent;
+using physics::kSecondsPerHour;
+using physics::kSecondsPerMinute;
 // Half-width a of a rectangular distribution -> standard uncertainty a / sqrt(3)
 // (JCGM 100:2008, 4.3.7).
 const double kSqrt3 = std::sqrt(3.0);
@@ -421,60 +421,38 @@ std::string DryMassMethodText(ingest::DryMassMethod method, const ingest::JobSpe
   return "unknown";
 }
 
-void FindDryMasses(const ingest::JobSpec& job, EquilibriumSet& set) {
-  std::vector<std::string> ids;
-  for (const auto& specimen : job.specimens) ids.push_back(specimen.id);
-  for (const auto& point : set.points) {
-    if (std::find(ids.begin(), ids.end(), point.specimen_id) == ids.end())
-      ids.push_back(point.specimen_id);
-  }
-  for (const std::string& id : ids) {
+// The dry reference of each specimen is chosen by ingest::FindDryMassSources (one rule);
+// here it becomes a mass with its uncertainty.
+void FindDryMasses(const ingest::IngestResult& ingested, EquilibriumSet& set) {
+  const ingest::JobSpec& job = ingested.job;
+  for (const ingest::DryMassSource& source : ingest::FindDryMassSources(ingested, nullptr)) {
+    const std::string& id = source.specimen_id;
     std::vector<const EquilibriumPoint*> drying;
-    bool has_data = false;
     for (const auto& point : set.points) {
-      if (point.specimen_id != id) continue;
-      has_data = true;
-      if (point.branch == ingest::Branch::kDrying) drying.push_back(&point);
+      if (point.specimen_id == id && point.branch == ingest::Branch::kDrying) {
+        drying.push_back(&point);
+      }
     }
-    const ingest::SpecimenSpec* spec = FindSpecimen(job, id);
     DryMass dry;
     dry.specimen_id = id;
     dry.method = DryMassMethodText(job.dry_mass_method, job);
     const EquilibriumPoint* reference = nullptr;
-    if (job.dry_mass_method == ingest::DryMassMethod::kOvenDrying && spec != nullptr &&
-        spec->dry_mass_g) {
-      dry.mass_g = *spec->dry_mass_g;
+    if (source.stated_mass_g) {
+      dry.mass_g = *source.stated_mass_g;
       dry.stated = true;
       dry.method += ", stated in the job file";
-    } else if (!drying.empty()) {
-      if (job.dry_mass_method == ingest::DryMassMethod::kOvenDrying) {
-        for (const EquilibriumPoint* point : drying) {
-          if (reference == nullptr && Lower(point->step_label) == "oven") reference = point;
+    } else {
+      for (const EquilibriumPoint* point : drying) {
+        if (point->dataset_id == source.dataset_id && point->step_index == source.step_index) {
+          reference = point;
         }
-        if (reference == nullptr) reference = drying.front();
-      } else if (job.dry_mass_method == ingest::DryMassMethod::kDesiccantStep) {
-        reference = drying.front();
-      } else {
-        reference = drying.back();
       }
-    } else if (spec != nullptr && spec->dry_mass_g) {
-      dry.mass_g = *spec->dry_mass_g;
-      dry.stated = true;
-      dry.method = "stated in the job file";
-    }
-    if (!dry.stated && reference == nullptr) {
-      if (!has_data) {
-        set.summary.warnings.push_back(
-            Diagnostic{Severity::kWarning,
-                       SourceLocation{job.job_file.string(), 0, 0},
-                       fmt::format("specimen '{}' has no data in any data set", id),
-                       {}});
-        continue;
+      if (reference == nullptr) {
+        throw InputError(SourceLocation{job.job_file.string(), 0, 0},
+                         fmt::format("dry mass missing for specimen '{}'", id),
+                         "dry_mass_g in its [[specimen]] entry or a drying step matching "
+                         "dry_mass_method");
       }
-      throw InputError(SourceLocation{job.job_file.string(), 0, 0},
-                       fmt::format("dry mass missing for specimen '{}'", id),
-                       "dry_mass_g in its [[specimen]] entry or a drying step matching "
-                       "dry_mass_method");
     }
     if (reference != nullptr) {
       dry.mass_g = reference->mass_g;
@@ -563,7 +541,7 @@ EquilibriumSet Equilibrate(const ingest::IngestResult& ingested,
   for (std::size_t i = 0; i < ingested.vapor_logs.size(); ++i) {
     if (!log_done[i]) run_dataset(ingested.vapor_logs[i].dataset_id, nullptr);
   }
-  FindDryMasses(job, set);
+  FindDryMasses(ingested, set);
   return set;
 }
 

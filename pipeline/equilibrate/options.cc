@@ -2,13 +2,14 @@
 #include <fmt/format.h>
 
 #include "pipeline/equilibrate/equilibrate.h"
+#include "pipeline/physics/physics.h"
 
 namespace sorbtrace::equilibrate {
 namespace {
 
-constexpr double kPercent = 100.0;
-constexpr double kSecondsPerHour = 3600.0;
-constexpr double kSecondsPerMinute = 60.0;
+using physics::kPercent;
+using physics::kSecondsPerHour;
+using physics::kSecondsPerMinute;
 
 }  // namespace
 

@@ -494,13 +494,13 @@ UnitScale MassUnitToGram(std::string_view unit) {
 }
 
 UnitScale RhUnitToFraction(std::string_view unit) {
-  if (unit == "percent") return {1.0, 100.0, 0.0};
+  if (unit == "percent") return {1.0, physics::kPercent, 0.0};
   return {};  // "fraction"
 }
 
 UnitScale TimeUnitToSecond(std::string_view unit) {
-  if (unit == "min") return {60.0, 1.0, 0.0};
-  if (unit == "h") return {3600.0, 1.0, 0.0};
+  if (unit == "min") return {physics::kSecondsPerMinute, 1.0, 0.0};
+  if (unit == "h") return {physics::kSecondsPerHour, 1.0, 0.0};
   return {};  // "s"
 }
 
@@ -510,16 +510,13 @@ UnitScale TemperatureUnitToKelvin(std::string_view unit) {
 }
 
 bool ParseBranch(std::string_view text, Branch* branch) {
-  if (text == "adsorption") {
-    *branch = Branch::kAdsorption;
-  } else if (text == "desorption") {
-    *branch = Branch::kDesorption;
-  } else if (text == "drying") {
-    *branch = Branch::kDrying;
-  } else {
-    return false;
+  for (const Branch candidate : {Branch::kAdsorption, Branch::kDesorption, Branch::kDrying}) {
+    if (text == BranchName(candidate)) {
+      *branch = candidate;
+      return true;
+    }
   }
-  return true;
+  return false;
 }
 
 }  // namespace sorbtrace::ingest::internal

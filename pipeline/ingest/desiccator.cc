@@ -20,8 +20,6 @@ namespace {
 
 using internal::ColumnRole;
 using internal::CsvReader;
-using internal::kMaxPlausibleTemperature_K;
-using internal::kMinPlausibleTemperature_K;
 
 // Fewer weighings than this cannot show whether a step reached constant mass.
 constexpr std::size_t kMinWeighingsPerStep = 2;
@@ -79,7 +77,7 @@ Atmosphere ParseAtmosphere(const CsvReader& reader, std::size_t index) {
       reader.Fail(column, "atmosphere '" + std::string(text) + "' is not a stated humidity",
                   "rh:<number>% such as rh:50%");
     }
-    if (!(percent >= 0.0 && percent <= 100.0)) {
+    if (!(percent >= 0.0 && percent <= physics::kPercent)) {
       reader.Fail(column, "stated humidity '" + std::string(text) + "' is outside 0..100 %",
                   "a relative humidity within 0..100 %");
     }
@@ -90,10 +88,10 @@ Atmosphere ParseAtmosphere(const CsvReader& reader, std::size_t index) {
                       "RH)",
                   fmt::format("a humidity in percent, rh:{:g}% if {:g} is the fraction; a dry "
                               "atmosphere as desiccant or rh:0%",
-                              percent * 100.0, percent));
+                              percent * physics::kPercent, percent));
     }
     atmosphere.kind = AtmosphereKind::kStatedRh;
-    atmosphere.rh_fraction = percent / 100.0;
+    atmosphere.rh_fraction = percent / physics::kPercent;
     return atmosphere;
   }
   try {

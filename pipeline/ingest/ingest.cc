@@ -29,53 +29,104 @@ InputFileRecord Record(std::string role, const std::filesystem::path& path,
   return record;
 }
 
-bool IsOvenStep(const DesiccatorStep& step) {
-  return step.branch == Branch::kDrying && !step.salt && !step.set_rh_fraction;
+// One step of a specimen as the dry-mass rule sees it.
+struct DryingCandidate {
+  std::string dataset_id;
+  int step_index = 0;
+  bool drying = false;
+  bool oven = false;     // atmosphere "oven": neither a salt nor a stated RH
+  bool zero_rh = false;  // desiccant, rh:0%, or a drying step of a vapour log
+  bool last = false;     // the specimen's last step in its data set
+};
+
+void AddCandidates(const DesiccatorSeries& series, const std::string& specimen_id,
+                   std::vector<DryingCandidate>& out) {
+  const std::size_t first = out.size();
+  for (const DesiccatorStep& step : series.steps) {
+    if (step.specimen_id != specimen_id) continue;
+    const bool drying = step.branch == Branch::kDrying;
+    out.push_back({series.dataset_id, step.step_index, drying,
+                   drying && !step.salt && !step.set_rh_fraction,
+                   drying && step.set_rh_fraction && *step.set_rh_fraction == 0.0, false});
+  }
+  if (out.size() > first) out.back().last = true;
 }
 
-bool IsZeroRhStep(const DesiccatorStep& step) {
-  return step.branch == Branch::kDrying && step.set_rh_fraction && *step.set_rh_fraction == 0.0;
+void AddCandidates(const VaporLog& log, const std::string& specimen_id,
+                   std::vector<DryingCandidate>& out) {
+  if (log.specimen_id != specimen_id) return;
+  for (const VaporLogStep& step : log.steps) {
+    const bool drying = step.branch == Branch::kDrying;
+    out.push_back({log.dataset_id, step.step_index, drying, false, drying, false});
+  }
+  if (!log.steps.empty()) out.back().last = true;
 }
 
-// Checks that `specimen` has what job.dry_mass_method needs; false + *missing says what not.
-bool HasDryMassSource(const IngestResult& result, const SpecimenSpec& specimen,
-                      std::string* missing) {
-  const DesiccatorStep* last_step = nullptr;  // the specimen's last desiccator step
-  bool oven = false;
-  bool zero_rh = false;
-  bool final_drying = false;
-  for (const DesiccatorSeries& series : result.desiccator_series) {
-    for (const DesiccatorStep& step : series.steps) {
-      if (step.specimen_id != specimen.id) continue;
-      oven = oven || IsOvenStep(step);
-      zero_rh = zero_rh || IsZeroRhStep(step);
-      last_step = &step;
+// Every step of `specimen_id`, data sets in job order (then any not named by the job).
+std::vector<DryingCandidate> StepsOf(const IngestResult& result, const std::string& specimen_id) {
+  std::vector<DryingCandidate> steps;
+  std::vector<std::string> order;
+  for (const DataSetSpec& dataset : result.job.datasets) order.push_back(dataset.id);
+  for (const DesiccatorSeries& series : result.desiccator_series)
+    order.push_back(series.dataset_id);
+  for (const VaporLog& log : result.vapor_logs) order.push_back(log.dataset_id);
+  std::vector<std::string> done;
+  for (const std::string& id : order) {
+    if (std::find(done.begin(), done.end(), id) != done.end()) continue;
+    done.push_back(id);
+    for (const DesiccatorSeries& series : result.desiccator_series) {
+      if (series.dataset_id == id) AddCandidates(series, specimen_id, steps);
+    }
+    for (const VaporLog& log : result.vapor_logs) {
+      if (log.dataset_id == id) AddCandidates(log, specimen_id, steps);
     }
   }
-  if (last_step != nullptr && last_step->branch == Branch::kDrying) final_drying = true;
-  for (const VaporLog& log : result.vapor_logs) {
-    if (log.specimen_id != specimen.id) continue;
-    for (const VaporLogStep& step : log.steps) zero_rh = zero_rh || step.branch == Branch::kDrying;
-    if (!log.steps.empty() && log.steps.back().branch == Branch::kDrying) final_drying = true;
-  }
-  switch (result.job.dry_mass_method) {
+  return steps;
+}
+
+// The source of one specimen with data; InputError when the method finds none.
+DryMassSource SourceOf(const JobSpec& job, const SpecimenSpec& specimen,
+                       const std::vector<DryingCandidate>& steps) {
+  DryMassSource source;
+  source.specimen_id = specimen.id;
+  const DryingCandidate* chosen = nullptr;
+  std::string missing;
+  switch (job.dry_mass_method) {
     case DryMassMethod::kOvenDrying:
-      *missing =
+      if (specimen.dry_mass_g) {
+        source.stated_mass_g = specimen.dry_mass_g;
+        return source;
+      }
+      for (const DryingCandidate& step : steps) {
+        if (chosen == nullptr && step.oven) chosen = &step;
+      }
+      missing =
           "dry_mass_g in its [[specimen]] entry or weighings with atmosphere oven and "
           "branch drying (dry_mass_method = \"oven\")";
-      return specimen.dry_mass_g.has_value() || oven;
+      break;
     case DryMassMethod::kDesiccantStep:
-      *missing =
+      for (const DryingCandidate& step : steps) {
+        if (chosen == nullptr && step.zero_rh) chosen = &step;
+      }
+      missing =
           "a desiccant (or rh:0%) step in a desiccator file or a 0 % step in the "
           "specimen's vapour log (dry_mass_method = \"desiccant_step\")";
-      return zero_rh;
+      break;
     case DryMassMethod::kFinalDryingStep:
-      *missing =
+      for (const DryingCandidate& step : steps) {
+        if (step.last && step.drying) chosen = &step;
+      }
+      missing =
           "a drying step as the last step of the specimen in a desiccator file or its "
           "vapour log (dry_mass_method = \"final_drying_step\")";
-      return final_drying;
+      break;
   }
-  return false;
+  if (chosen == nullptr) {
+    throw InputError(specimen.where, "no dry mass for specimen '" + specimen.id + "'", missing);
+  }
+  source.dataset_id = chosen->dataset_id;
+  source.step_index = chosen->step_index;
+  return source;
 }
 
 }  // namespace
@@ -90,6 +141,25 @@ bool IngestOptions::IsValid(std::string* error) const {
     return false;
   }
   return true;
+}
+
+std::vector<DryMassSource> FindDryMassSources(const IngestResult& result,
+                                              std::vector<Diagnostic>* warnings) {
+  std::vector<DryMassSource> sources;
+  for (const SpecimenSpec& specimen : result.job.specimens) {
+    const std::vector<DryingCandidate> steps = StepsOf(result, specimen.id);
+    if (steps.empty()) {
+      if (warnings != nullptr) {
+        warnings->push_back(
+            Diagnostic{Severity::kWarning, specimen.where,
+                       "specimen '" + specimen.id + "' has no sorption data in any dataset",
+                       "weighings or a vapour log of every declared specimen"});
+      }
+      continue;
+    }
+    sources.push_back(SourceOf(result.job, specimen, steps));
+  }
+  return sources;
 }
 
 IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
@@ -134,29 +204,7 @@ IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
     result.summary.rows_read += static_cast<std::int64_t>(result.retention_points.size());
   }
 
-  for (const SpecimenSpec& specimen : job.specimens) {
-    const bool has_data =
-        std::any_of(result.desiccator_series.begin(), result.desiccator_series.end(),
-                    [&](const DesiccatorSeries& series) {
-                      return std::any_of(series.steps.begin(), series.steps.end(),
-                                         [&](const DesiccatorStep& step) {
-                                           return step.specimen_id == specimen.id;
-                                         });
-                    }) ||
-        std::any_of(result.vapor_logs.begin(), result.vapor_logs.end(),
-                    [&](const VaporLog& log) { return log.specimen_id == specimen.id; });
-    if (!has_data) {
-      result.summary.warnings.push_back(
-          Diagnostic{Severity::kWarning, specimen.where,
-                     "specimen '" + specimen.id + "' has no sorption data in any dataset",
-                     "weighings or a vapour log of every declared specimen"});
-      continue;
-    }
-    std::string missing;
-    if (!HasDryMassSource(result, specimen, &missing)) {
-      throw InputError(specimen.where, "no dry mass for specimen '" + specimen.id + "'", missing);
-    }
-  }
+  FindDryMassSources(result, &result.summary.warnings);
   internal::CheckAcrossFiles(result, masses);
   result.summary.num_specimens = static_cast<int>(job.specimens.size());
   return result;

@@ -32,6 +32,35 @@ enum class DryMassMethod {
   kFinalDryingStep,  // the final 0 % RH step of a sequence (e.g. end of a vapour-sorption run)
 };
 
+// The kind of material tested ([job] material_class; docs/input-formats.md). Later stages
+// decide from it whether a Kelvin pore analysis is a pore-size measurement: materials that swell
+// or take water into their structure (wood and fibres, polymers, many pharmaceutical powders and
+// foods) have no rigid pores for the Kelvin equation to size.
+enum class MaterialClass {
+  kUnstated,              // the job does not say
+  kPorousMineral,         // "porous_mineral": plaster, mortar, brick, stone, ceramics
+  kWoodOrFibre,           // "wood_or_fibre": wood, wood-based boards, cellulose, textiles
+  kPolymer,               // "polymer"
+  kPharmaceuticalPowder,  // "pharmaceutical_powder": excipients, active substances
+  kFood,                  // "food"
+  kOther,                 // "other"
+};
+// The job-file value of a class ("porous_mineral", ...; "" for kUnstated).
+std::string_view MaterialClassName(MaterialClass material_class);
+
+// The test method the job follows ([job] method), cited with its edition.
+enum class TestMethod {
+  kUnstated,                 // the job does not say
+  kIso12571Desiccator,       // "iso_12571_desiccator"
+  kIso12571ClimaticChamber,  // "iso_12571_climatic_chamber"
+  kAstmC1498,                // "astm_c1498"
+};
+// The job-file value of a method ("iso_12571_desiccator", ...; "" for kUnstated).
+std::string_view TestMethodName(TestMethod method);
+// The reference as a report cites it: "ISO 12571:2021, desiccator method",
+// "ISO 12571:2021, climatic-chamber method", "ASTM C1498-04a"; "" for kUnstated.
+std::string_view TestMethodCitation(TestMethod method);
+
 // How a CSV file is written (declared in the job file; defaults in brackets). The unit
 // fields are empty unless the job file declares them: normally the CSV header carries the
 // unit in the column name ("mass_mg"); a declared unit serves a bare column name ("mass")
@@ -78,6 +107,8 @@ struct JobSpec {
   std::string template_name = "full";  // report template (templates/<name>.toml) or a path
   // Data files (and a template given as a path) may lie outside the job file's folder tree.
   bool allow_data_outside_job_folder = false;
+  MaterialClass material_class = MaterialClass::kUnstated;  // [job] material_class
+  TestMethod test_method = TestMethod::kUnstated;           // [job] method
   DryMassMethod dry_mass_method = DryMassMethod::kOvenDrying;
   double drying_temperature_K = 378.15;  // 105 degC, ISO 12570 default
   double balance_resolution_g = 1e-4;
@@ -201,6 +232,29 @@ struct IngestResult {
   std::vector<InputFileRecord> inputs;  // job file first, then data files in job order
   IngestSummary summary;
 };
+
+// The dry reference of one specimen: the one rule that decides which mass is a specimen's dry
+// mass (equilibrate takes the mass from here, reduce divides by it), per job.dry_mass_method:
+//  "oven" (kOvenDrying): the stated dry_mass_g of its [[specimen]] entry, else its first oven
+//    step (atmosphere "oven", branch drying) in data-set order.
+//  "desiccant_step" (kDesiccantStep): its first 0 % RH drying step (desiccant or rh:0% in a
+//    desiccator file, a drying step of a vapour log) in data-set order.
+//  "final_drying_step" (kFinalDryingStep): a drying step that is the specimen's last step in its
+//    data set; of several such data sets, the last in data-set order.
+// Data-set order is the order of [[dataset]] in the job file.
+struct DryMassSource {
+  std::string specimen_id;
+  std::optional<double> stated_mass_g;  // the stated dry_mass_g ("oven" only), else:
+  std::string dataset_id;               // the data set of the drying step
+  int step_index = -1;                  // and its step_index (DesiccatorStep, VaporLogStep)
+};
+
+// One source per declared specimen that has data, in [[specimen]] order. A declared specimen
+// without data has no entry and, when `warnings` is not null, one warning there. A specimen
+// with data but without a source is an InputError at its [[specimen]] entry saying what the
+// dry-mass method needs.
+std::vector<DryMassSource> FindDryMassSources(const IngestResult& result,
+                                              std::vector<Diagnostic>* warnings);
 
 // Parses and validates the job file (the sections that describe the test and its data:
 // [job], [material], [measurement], [[specimen]], [[dataset]], [retention]; see

@@ -26,6 +26,24 @@ namespace {
 // Tables of the job file read by later stages; ingest does not look inside them.
 constexpr std::string_view kOtherStagesTables[] = {"equilibrium", "fit", "pores", "report"};
 
+// The enum value whose job-file name is `name` (one of the names Choice() accepted).
+MaterialClass MaterialClassFromName(std::string_view name) {
+  for (const MaterialClass c :
+       {MaterialClass::kPorousMineral, MaterialClass::kWoodOrFibre, MaterialClass::kPolymer,
+        MaterialClass::kPharmaceuticalPowder, MaterialClass::kFood, MaterialClass::kOther}) {
+    if (MaterialClassName(c) == name) return c;
+  }
+  return MaterialClass::kUnstated;
+}
+
+TestMethod TestMethodFromName(std::string_view name) {
+  for (const TestMethod m : {TestMethod::kIso12571Desiccator, TestMethod::kIso12571ClimaticChamber,
+                             TestMethod::kAstmC1498}) {
+    if (TestMethodName(m) == name) return m;
+  }
+  return TestMethod::kUnstated;
+}
+
 class JobFileReader {
  public:
   explicit JobFileReader(std::string display) : display_(std::move(display)) {}
@@ -250,7 +268,7 @@ void CheckUncertaintyBounds(const JobFileReader& in, const toml::table& measurem
             fmt::format("a standard uncertainty above 0 and at most {:g} {}", limit, unit));
   };
   bound("rh_sensor_standard_uncertainty_percent",
-        job->rh_sensor_standard_uncertainty_fraction * 100.0,
+        job->rh_sensor_standard_uncertainty_fraction * physics::kPercent,
         internal::kMaxRhSensorUncertainty_percent, "%RH");
   bound("temperature_standard_uncertainty_K", job->temperature_standard_uncertainty_K,
         internal::kMaxTemperatureUncertainty_K, "K");
@@ -266,6 +284,57 @@ void CheckUncertaintyBounds(const JobFileReader& in, const toml::table& measurem
 }
 
 }  // namespace
+
+std::string_view MaterialClassName(MaterialClass material_class) {
+  switch (material_class) {
+    case MaterialClass::kUnstated:
+      return "";
+    case MaterialClass::kPorousMineral:
+      return "porous_mineral";
+    case MaterialClass::kWoodOrFibre:
+      return "wood_or_fibre";
+    case MaterialClass::kPolymer:
+      return "polymer";
+    case MaterialClass::kPharmaceuticalPowder:
+      return "pharmaceutical_powder";
+    case MaterialClass::kFood:
+      return "food";
+    case MaterialClass::kOther:
+      return "other";
+  }
+  return "";
+}
+
+std::string_view TestMethodName(TestMethod method) {
+  switch (method) {
+    case TestMethod::kUnstated:
+      return "";
+    case TestMethod::kIso12571Desiccator:
+      return "iso_12571_desiccator";
+    case TestMethod::kIso12571ClimaticChamber:
+      return "iso_12571_climatic_chamber";
+    case TestMethod::kAstmC1498:
+      return "astm_c1498";
+  }
+  return "";
+}
+
+// ISO 12571:2021 "Hygrothermal performance of building materials and products - Determination
+// of hygroscopic sorption properties" (desiccator and climatic-chamber methods); ASTM C1498-04a
+// "Standard Test Method for Hygroscopic Sorption Isotherms of Building Materials".
+std::string_view TestMethodCitation(TestMethod method) {
+  switch (method) {
+    case TestMethod::kUnstated:
+      return "";
+    case TestMethod::kIso12571Desiccator:
+      return "ISO 12571:2021, desiccator method";
+    case TestMethod::kIso12571ClimaticChamber:
+      return "ISO 12571:2021, climatic-chamber method";
+    case TestMethod::kAstmC1498:
+      return "ASTM C1498-04a";
+  }
+  return "";
+}
 
 std::string_view BranchName(Branch branch) {
   switch (branch) {
@@ -310,7 +379,8 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
   // [job]
   const toml::table& job_table = in.Table(root, "job");
   in.CheckKeys(job_table, "[job]",
-               {"id", "issue_date", "template", "test_dates", "allow_data_outside_job_folder"});
+               {"id", "issue_date", "template", "test_dates", "allow_data_outside_job_folder",
+                "material_class", "method"});
   job.job_id = *in.String(job_table, "[job]", "id", true);
   job.issue_date = *in.String(job_table, "[job]", "issue_date", true);
   if (!internal::IsIsoDate(job.issue_date)) {
@@ -322,6 +392,21 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
   job.test_dates = in.String(job_table, "[job]", "test_dates", false).value_or("");
   job.allow_data_outside_job_folder =
       in.Bool(job_table, "[job]", "allow_data_outside_job_folder").value_or(false);
+  if (const auto name = in.Choice(
+          job_table, "[job]", "material_class", false,
+          {MaterialClassName(MaterialClass::kPorousMineral),
+           MaterialClassName(MaterialClass::kWoodOrFibre),
+           MaterialClassName(MaterialClass::kPolymer),
+           MaterialClassName(MaterialClass::kPharmaceuticalPowder),
+           MaterialClassName(MaterialClass::kFood), MaterialClassName(MaterialClass::kOther)})) {
+    job.material_class = MaterialClassFromName(*name);
+  }
+  if (const auto name = in.Choice(job_table, "[job]", "method", false,
+                                  {TestMethodName(TestMethod::kIso12571Desiccator),
+                                   TestMethodName(TestMethod::kIso12571ClimaticChamber),
+                                   TestMethodName(TestMethod::kAstmC1498)})) {
+    job.test_method = TestMethodFromName(*name);
+  }
 
   // [material]
   const toml::table& material = in.Table(root, "material");
@@ -352,7 +437,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
           .value_or(job.balance_standard_uncertainty_g);
   if (const auto u =
           in.Positive(measurement, kM, "rh_sensor_standard_uncertainty_percent", false)) {
-    job.rh_sensor_standard_uncertainty_fraction = *u / 100.0;
+    job.rh_sensor_standard_uncertainty_fraction = *u / physics::kPercent;
   }
   job.temperature_standard_uncertainty_K =
       in.Positive(measurement, kM, "temperature_standard_uncertainty_K", false)

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <cstdlib>
 #include <filesystem>
+#include <limits>
 #include <map>
 #include <optional>
 #include <string>
@@ -13,6 +14,7 @@
 
 #include "fmt/format.h"
 #include "pipeline/ingest/csv_reader.h"
+#include "pipeline/physics/physics.h"
 
 namespace sorbtrace::ingest::internal {
 namespace {
@@ -32,7 +34,9 @@ std::filesystem::path Canonical(const std::filesystem::path& path) {
 
 std::string Grams(double mass_g) { return fmt::format("{:.7g} g", mass_g); }
 
-std::string Percent(double fraction) { return fmt::format("{:.4g} %", fraction * 100.0); }
+std::string Percent(double fraction) {
+  return fmt::format("{:.4g} %", fraction * physics::kPercent);
+}
 
 // "file:line" of a reading (streamed readings keep only the line).
 std::string Where(const SourceLocation& where, const std::string& file) {
@@ -69,8 +73,8 @@ std::optional<DryReference> DryReferenceOf(const IngestResult& result,
   // The drying steps the job's dry-mass method reads: oven weighings for "oven" (any drying
   // step when there are none), every drying step otherwise.
   const bool oven_only = result.job.dry_mass_method == DryMassMethod::kOvenDrying;
-  double smallest_oven = INFINITY;
-  double smallest = INFINITY;
+  double smallest_oven = std::numeric_limits<double>::infinity();
+  double smallest = std::numeric_limits<double>::infinity();
   for (const DesiccatorSeries& series : result.desiccator_series) {
     for (const DesiccatorStep& step : series.steps) {
       if (step.specimen_id != specimen.id || step.branch != Branch::kDrying) continue;

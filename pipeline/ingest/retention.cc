@@ -49,8 +49,8 @@ std::vector<RetentionPoint> ReadRetentionPoints(const JobSpec& job, const DataSe
   const bool has_branch = columns[4].index >= 0;
   const std::string& pressure_unit = columns[1].unit;
   // Mass percent to kg/kg.
-  const double moisture_divisor = columns[2].unit == "percent" ? 100.0 : 1.0;
-  const double u_divisor = columns[3].unit == "percent" ? 100.0 : 1.0;
+  const double moisture_divisor = columns[2].unit == "percent" ? physics::kPercent : 1.0;
+  const double u_divisor = columns[3].unit == "percent" ? physics::kPercent : 1.0;
 
   // Water density at the measurement temperature, for suction heads (Kell 1975 via physics).
   double water_density_kg_per_m3 = 0.0;

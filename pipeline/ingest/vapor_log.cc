@@ -17,9 +17,6 @@ namespace sorbtrace::ingest {
 namespace {
 
 using internal::ColumnRole;
-using internal::CsvReader;
-using internal::kMaxPlausibleTemperature_K;
-using internal::kMinPlausibleTemperature_K;
 
 // Two set points closer than this (as RH fractions) are the same step: far below any
 // controller resolution (0.1 % RH), far above the rounding of a written percentage.
@@ -125,7 +122,7 @@ std::string FormatValue(double value) { return fmt::format("{:g}", value); }
 // "step 3 (set 40 %RH, lines 120-250)".
 std::string DescribeStep(const VaporLogStep& step) {
   return fmt::format("step {} (set {:g} %RH, lines {}-{})", step.step_index + 1,
-                     step.set_rh_fraction * 100.0, step.first_line, step.last_line);
+                     step.set_rh_fraction * physics::kPercent, step.first_line, step.last_line);
 }
 
 // Plausibility rule R5 (plausibility.h): whether the mass, measured RH and temperature of a
@@ -175,8 +172,8 @@ void WarnAboutFrozenStep(const VaporLog& log, const VaporLogStep& step,
         fmt::format("vapour log {}, {}: the measured RH stays at {:g} %, the last reading of the "
                     "step before, throughout its {} rows although the set point moved from {:g} % "
                     "(a frozen sensor?); the RH of this step is not measured",
-                    log.file, DescribeStep(step), readings.rh.first * 100.0, step.num_rows,
-                    previous->set_rh_fraction * 100.0),
+                    log.file, DescribeStep(step), readings.rh.first * physics::kPercent,
+                    step.num_rows, previous->set_rh_fraction * physics::kPercent),
         "a measured RH that follows the set point"});
   }
 }
@@ -403,7 +400,7 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
       max_rh_fraction = std::max(max_rh_fraction, block.rh_measured_fraction);
     }
   }
-  constexpr double kPercentPerFraction = 100.0;
+  constexpr double kPercentPerFraction = physics::kPercent;
   const double max_set_percent = max_set_fraction * kPercentPerFraction;
   const double max_rh_raw = max_rh_fraction * kPercentPerFraction;
   if (columns[1].unit == "percent" && internal::PercentColumnLooksLikeFractions(max_set_percent)) {
@@ -457,7 +454,7 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
         second_step_rh,
         fmt::format("the measured RH reads {:g} % throughout all {} rows over {} set points "
                     "(a frozen sensor)",
-                    log_rh.first * 100.0, log.num_rows, num_steps),
+                    log_rh.first * physics::kPercent, log.num_rows, num_steps),
         "a measured RH that follows the set point");
   }
   if (summary != nullptr && num_steps >= 2 && log.num_rows >= internal::kMinRowsForFrozenStep &&

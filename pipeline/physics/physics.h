@@ -34,6 +34,17 @@ inline constexpr double kStandardGravity_m_per_s2 = 9.80665;          // CGPM 19
 inline constexpr double kStandardAtmosphere_Pa = 101325.0;            // ISO 2533
 inline constexpr double kMolarMassRatioWaterToDryAir = 0.621945;      // ASHRAE Fundamentals ch. 1
 
+// ---- Unit factors (SI Brochure, 9th ed. 2019: definitions of the units, exact) ------------
+// value_in_SI = value_in_unit * factor; e.g. rh_fraction = rh_percent / kPercent.
+inline constexpr double kPercent = 100.0;                         // 1 = 100 %
+inline constexpr double kSecondsPerMinute = 60.0;                 // min
+inline constexpr double kSecondsPerHour = 3600.0;                 // h
+inline constexpr double kSecondsPerDay = 86400.0;                 // d
+inline constexpr double kMetresPerNanometre = 1e-9;               // nm
+inline constexpr double kSquareMetresPerSquareNanometre = 1e-18;  // nm^2
+inline constexpr double kPi = 3.14159265358979323846;             // pi to double precision
+inline constexpr double kRadiansPerDegree = kPi / 180.0;          // degree (plane angle)
+
 inline double CelsiusToKelvin(double temperature_C) { return temperature_C + kZeroCelsius_K; }
 inline double KelvinToCelsius(double temperature_K) { return temperature_K - kZeroCelsius_K; }
 

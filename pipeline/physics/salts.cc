@@ -37,7 +37,6 @@ namespace {
 constexpr double kTableStep_K = 5.0;
 // Greenspan's +/- taken as k = 2 (assumption, see file comment).
 constexpr double kCoverageFactor = 2.0;
-constexpr double kPercent = 100.0;
 
 // Greenspan Table 2 +/- values in %RH at 5 degC steps from each salt's lower limit.
 constexpr std::array<double, 21> kULiCl = {0.54, 0.47, 0.41, 0.35, 0.31, 0.27, 0.24,

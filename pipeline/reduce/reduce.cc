@@ -18,25 +18,13 @@
 namespace sorbtrace::reduce {
 namespace {
 
-constexpr double kPercent = 100.0;
-constexpr double kSecondsPerHour = 3600.0;
+using physics::kPercent;
+using physics::kSecondsPerHour;
 constexpr double kInfinity = std::numeric_limits<double>::infinity();
 
 // Degrees of freedom as stored upstream (0 = infinite) -> as used here.
 double Dof(int degrees_of_freedom) {
   return degrees_of_freedom > 0 ? static_cast<double>(degrees_of_freedom) : kInfinity;
-}
-
-std::string_view Name(ingest::Branch branch) {
-  switch (branch) {
-    case ingest::Branch::kAdsorption:
-      return "adsorption";
-    case ingest::Branch::kDesorption:
-      return "desorption";
-    case ingest::Branch::kDrying:
-      return "drying";
-  }
-  return "unknown";
 }
 
 int BranchOrder(ingest::Branch branch) { return static_cast<int>(branch); }
@@ -305,12 +293,14 @@ double CoverageFactor(double degrees_of_freedom, double nominal_k) {
 }
 
 bool ReduceOptions::IsValid(std::string* error) const {
-  // Above k = 10 the value is certainly a mistake (k = 3 already gives about 99 %).
-  constexpr double kLargestCoverageFactor = 10.0;
-  if (!(coverage_factor > 0.0 && coverage_factor <= kLargestCoverageFactor)) {
+  // k below 1 would make U smaller than u; above 5 is certainly a mistake (k = 3 already gives
+  // about 99 %). The same range as the job-file key [report] coverage_factor.
+  constexpr double kSmallestCoverageFactor = 1.0;
+  constexpr double kLargestCoverageFactor = 5.0;
+  if (!(coverage_factor >= kSmallestCoverageFactor && coverage_factor <= kLargestCoverageFactor)) {
     if (error != nullptr) {
-      *error = fmt::format("coverage_factor {} must lie in (0, {}]", coverage_factor,
-                           kLargestCoverageFactor);
+      *error = fmt::format("coverage_factor {} must lie in [{}, {}]", coverage_factor,
+                           kSmallestCoverageFactor, kLargestCoverageFactor);
     }
     return false;
   }
@@ -342,9 +332,8 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     // Drying steps give the dry reference (or check it); they are not isotherm points.
     if (eq.branch == ingest::Branch::kDrying) continue;
     const equilibrate::DryMass* dry = FindDryMass(equilibria, eq.specimen_id);
-    if (dry == nullptr || !(dry->mass_g > 0.0)) {
-      throw InputError(eq.where, fmt::format("no dry mass for specimen '{}'", eq.specimen_id),
-                       "a dry mass source per [measurement] dry_mass_method");
+    if (dry == nullptr || !(dry->mass_g > 0.0)) {  // ingest::FindDryMassSources refuses this
+      throw std::logic_error("reduce: no dry mass for specimen '" + eq.specimen_id + "'");
     }
     SpecimenPoint point = ReducePoint(eq, *dry, job, options);
     if (point.excluded) {
@@ -469,7 +458,7 @@ std::string EquilibriumTableCsv(const ReducedIsotherms& reduced) {
   for (const auto& p : reduced.specimen_points) {
     out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},{},,1,,,{},{},{},{},{}\n",
                        Quote(p.dataset_id), Quote(p.specimen_id), p.step_index + 1,
-                       Quote(p.step_label), Name(p.branch), p.cycle,
+                       Quote(p.step_label), ingest::BranchName(p.branch), p.cycle,
                        Cell(physics::KelvinToCelsius(p.temperature_K), 2),
                        Cell(p.rh_fraction * kPercent, 2), Cell(p.u_rh_fraction * kPercent, 3),
                        Cell(p.moisture_kg_per_kg, 6), Cell(p.u_moisture_kg_per_kg, 7),
@@ -481,7 +470,7 @@ std::string EquilibriumTableCsv(const ReducedIsotherms& reduced) {
     out += fmt::format(
         "combined,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},no,{}\n",
         Quote(p.dataset_id), Quote(Join(p.specimen_ids, "+")), p.step_index + 1,
-        Quote(p.step_label), Name(p.branch), p.cycle,
+        Quote(p.step_label), ingest::BranchName(p.branch), p.cycle,
         Cell(physics::KelvinToCelsius(p.temperature_K), 2), Cell(p.rh_fraction * kPercent, 2),
         Cell(p.u_rh_fraction * kPercent, 3), Cell(p.moisture_kg_per_kg, 6),
         Cell(p.u_moisture_kg_per_kg, 7), Cell(p.expanded_u_moisture_kg_per_kg, 7),

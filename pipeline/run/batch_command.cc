@@ -12,6 +12,7 @@
 // .sorbtrace-batch), and must not be, contain or lie inside DIR, the current folder, the home
 // folder or "/".
 #include <fcntl.h>
+#include <fmt/format.h>
 #include <spawn.h>
 #include <sys/stat.h>
 #include <sys/wait.h>
@@ -38,6 +39,7 @@
 #include "pipeline/common/files.h"
 #include "pipeline/run/commands.h"
 #include "pipeline/run/console.h"
+#include "pipeline/run/exit_status.h"
 #include "pipeline/run/run.h"
 
 extern char** environ;
@@ -185,10 +187,9 @@ void AssignFolderNames(std::vector<PlannedJob>& jobs) {
     }
     if (name != base) {
       const PlannedJob& holder = *taken[base];
-      job.note = "output folder renamed to " + name + ": " + base + " belongs to " +
-                 holder.job_file.string() +
-                 (holder.job_id == job.job_id ? " (same job id '" + job.job_id + "')"
-                                              : " (job id '" + holder.job_id + "')");
+      job.note = fmt::format("output folder renamed to {}: {} belongs to {} ({}job id '{}')", name,
+                             base, holder.job_file.string(),
+                             holder.job_id == job.job_id ? "same " : "", holder.job_id);
     }
     taken[name] = &job;
     job.folder_name = name;
@@ -266,6 +267,7 @@ void RunChild(const PlannedJob& job, const fs::path& out, JobOutcome& outcome) {
       "sorbtrace",  "make",    job.job_file.string(), "--out",
       out.string(), "--quiet", "--status-fd",         std::to_string(kChildStatusFd)};
   std::vector<char*> argv;
+  argv.reserve(argv_text.size() + 1);
   for (auto& arg : argv_text) argv.push_back(arg.data());
   argv.push_back(nullptr);
   posix_spawn_file_actions_t actions;
@@ -471,12 +473,8 @@ void AddBatchCommand(CLI::App& app, int& exit_code) {
   command->callback([args, &exit_code] {
     try {
       exit_code = Batch(*args);
-    } catch (const InputError& error) {
-      std::fprintf(stderr, "%s\n", error.what());
-      exit_code = static_cast<int>(ExitCode::kBadInput);
-    } catch (const OutputError& error) {
-      std::fprintf(stderr, "sorbtrace: output error: %s\n", error.what());
-      exit_code = static_cast<int>(ExitCode::kOutputError);
+    } catch (const std::exception& error) {
+      exit_code = ReportFailure(error);
     }
   });
 }

@@ -43,8 +43,8 @@ namespace {
 namespace physics = sorbtrace::physics;
 using Json = nlohmann::ordered_json;
 
-constexpr double kPi = 3.14159265358979323846;
-constexpr double kPercent = 100.0;
+using physics::kPercent;
+using physics::kPi;
 // Coverage factor used to state expanded uncertainties (about 95 % for a normal
 // distribution, JCGM 100:2008 clause 6.3.3).
 constexpr double kCoverageFactor = 2.0;

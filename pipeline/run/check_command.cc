@@ -25,25 +25,13 @@
 namespace sorbtrace::run {
 namespace {
 
-constexpr double kPercent = 100.0;
-constexpr double kSecondsPerHour = 3600.0;
+using physics::kPercent;
+using physics::kSecondsPerHour;
 
 struct CheckArguments {
   std::string job_file;
   bool json = false;
 };
-
-std::string_view BranchText(ingest::Branch branch) {
-  switch (branch) {
-    case ingest::Branch::kAdsorption:
-      return "adsorption";
-    case ingest::Branch::kDesorption:
-      return "desorption";
-    case ingest::Branch::kDrying:
-      return "drying";
-  }
-  return "unknown";
-}
 
 std::string_view MethodText(ingest::Method method) {
   return method == ingest::Method::kDesiccator ? "desiccator" : "vapor_log";
@@ -131,8 +119,8 @@ void PrintText(const ingest::IngestResult& in, const equilibrate::EquilibriumSet
   for (const auto& p : eq.points) {
     out += fmt::format(
         "  {:<20} {:<10} {:>4} {:<12} {:<10} {:>5} {:7.2f} {:7.2f} {:12.6f} {:9.2f}  {}\n",
-        p.dataset_id, p.specimen_id, p.step_index + 1, p.step_label, BranchText(p.branch), p.cycle,
-        physics::KelvinToCelsius(p.temperature_K), p.rh_fraction * kPercent, p.mass_g,
+        p.dataset_id, p.specimen_id, p.step_index + 1, p.step_label, ingest::BranchName(p.branch),
+        p.cycle, physics::KelvinToCelsius(p.temperature_K), p.rh_fraction * kPercent, p.mass_g,
         p.time_to_equilibrium_s / kSecondsPerHour, Status(p));
   }
   out += fmt::format("isotherm points: {} (specimen points excluded: {})\n",
@@ -141,7 +129,7 @@ void PrintText(const ingest::IngestResult& in, const equilibrate::EquilibriumSet
     // Value ± U rounded as on the datasheet (JCGM 100:2008 7.2.6; report::FormatWithUncertainty).
     out += fmt::format(
         "  {:<20} {:<12} {:<10} cycle {}  RH {} %  u {} kg/kg (k = {:.2g}, n = {})\n", p.dataset_id,
-        p.step_label, BranchText(p.branch), p.cycle,
+        p.step_label, ingest::BranchName(p.branch), p.cycle,
         report::FormatWithUncertainty(p.rh_fraction * kPercent, p.expanded_u_rh_fraction * kPercent,
                                       2),
         report::FormatWithUncertainty(p.moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg, 2),
@@ -198,7 +186,7 @@ nlohmann::ordered_json Json(const ingest::IngestResult& in, const equilibrate::E
                                {"specimen", p.specimen_id},
                                {"step", p.step_index + 1},
                                {"atmosphere", p.step_label},
-                               {"branch", BranchText(p.branch)},
+                               {"branch", ingest::BranchName(p.branch)},
                                {"cycle", p.cycle},
                                {"temperature_C", physics::KelvinToCelsius(p.temperature_K)},
                                {"rh_percent", p.rh_fraction * kPercent},
@@ -218,7 +206,7 @@ nlohmann::ordered_json Json(const ingest::IngestResult& in, const equilibrate::E
     j["isotherm_points"].push_back({{"dataset", p.dataset_id},
                                     {"step", p.step_index + 1},
                                     {"atmosphere", p.step_label},
-                                    {"branch", BranchText(p.branch)},
+                                    {"branch", ingest::BranchName(p.branch)},
                                     {"cycle", p.cycle},
                                     {"rh_percent", p.rh_fraction * kPercent},
                                     {"moisture_kg_per_kg", p.moisture_kg_per_kg},
@@ -241,15 +229,12 @@ nlohmann::ordered_json Json(const ingest::IngestResult& in, const equilibrate::E
 }
 
 int Check(const CheckArguments& args) {
-  const std::filesystem::path job_file = args.job_file;
-  RequireRegularFile(job_file, job_file.string(), "a TOML job file");
-  const ingest::JobSpec job = ingest::LoadJobSpec(job_file);
-  const JobSettings settings = LoadJobSettings(job_file, job, {});
-  const ingest::IngestResult ingested = ingest::Ingest(job, settings.ingest);
-  const equilibrate::EquilibriumSet equilibria =
-      equilibrate::Equilibrate(ingested, settings.equilibrate);
-  const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
-  CheckWorkBudget(settings, reduced);  // `check` refuses what `make` refuses
+  // The same stages in the same order as `make` (so `check` refuses what `make` refuses and
+  // lists the same inputs).
+  const PreparedJob prepared = PrepareJob(args.job_file, {}, {});
+  const ingest::IngestResult& ingested = prepared.ingested;
+  const equilibrate::EquilibriumSet& equilibria = prepared.equilibria;
+  const reduce::ReducedIsotherms& reduced = prepared.reduced;
   if (args.json) {
     std::fputs((Json(ingested, equilibria, reduced).dump(2) + "\n").c_str(), stdout);
   } else {

@@ -9,6 +9,7 @@
 #include "pipeline/common/cleanup.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/run/commands.h"
+#include "pipeline/run/exit_status.h"
 #include "pipeline/run/version.h"
 
 int main(int argc, char** argv) {
@@ -34,15 +35,8 @@ int main(int argc, char** argv) {
   } catch (const CLI::ParseError& error) {
     const int code = app.exit(error);
     return code == 0 ? 0 : static_cast<int>(sorbtrace::ExitCode::kUsage);
-  } catch (const sorbtrace::InputError& error) {
-    std::fprintf(stderr, "%s\n", error.what());
-    return static_cast<int>(sorbtrace::ExitCode::kBadInput);
-  } catch (const sorbtrace::OutputError& error) {
-    std::fprintf(stderr, "sorbtrace: output error: %s\n", error.what());
-    return static_cast<int>(sorbtrace::ExitCode::kOutputError);
   } catch (const std::exception& error) {
-    std::fprintf(stderr, "sorbtrace: internal error: %s\n", error.what());
-    return static_cast<int>(sorbtrace::ExitCode::kInternal);
+    return sorbtrace::run::ReportFailure(error);
   }
   return exit_code;
 }

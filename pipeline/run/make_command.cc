@@ -15,6 +15,7 @@
 #include "pipeline/common/files.h"
 #include "pipeline/run/commands.h"
 #include "pipeline/run/console.h"
+#include "pipeline/run/exit_status.h"
 #include "pipeline/run/run.h"
 
 namespace sorbtrace::run {
@@ -92,24 +93,12 @@ int Make(const MakeArguments& args) {
     message = std::to_string(result.warnings.size()) + " warning(s)";
     const char* sheet = result.artifacts.pdf.empty() ? "datasheet.html" : "datasheet.pdf";
     std::printf("%s\n", (out / sheet).string().c_str());
-  } catch (const InputError& error) {
-    code = static_cast<int>(ExitCode::kBadInput);
-    message = error.what();
-  } catch (const ComputationError& error) {
-    code = static_cast<int>(ExitCode::kFitFailure);
-    message = std::string("fit failure: ") + error.what();
-  } catch (const OutputError& error) {
-    code = static_cast<int>(ExitCode::kOutputError);
-    message = std::string("output error: ") + error.what();
   } catch (const std::exception& error) {
-    code = static_cast<int>(ExitCode::kInternal);
-    message = std::string("internal error: ") + error.what();
-  }
-  if (code != static_cast<int>(ExitCode::kOk)) {
+    const Failure failure = FailureOf(error);
+    code = failure.exit_code;
+    message = failure.message;
     console.Finish();
-    std::fprintf(
-        stderr, "%s%s\n",
-        code == static_cast<int>(ExitCode::kBadInput) ? "" : "sorbtrace: ", message.c_str());
+    std::fprintf(stderr, "%s\n", FailureLine(failure).c_str());
   }
   if (args.status_fd >= 0) WriteStatus(args.status_fd, code, job_id, message, results_json);
   return code;

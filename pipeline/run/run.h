@@ -3,6 +3,7 @@
 // an output folder atomically (a complete new folder replaces the old one in one step).
 #pragma once
 
+#include <array>
 #include <filesystem>
 #include <functional>
 #include <map>
@@ -60,6 +61,24 @@ void CheckWorkBudget(const JobSettings& settings, const reduce::ReducedIsotherms
 
 // Progress callback: stage name ("ingest", ...), 0-based stage index, number of stages.
 using ProgressCallback = std::function<void(const std::string& stage, int index, int count)>;
+
+// The stages in the order they run (the progress callback's names and indices).
+inline constexpr std::array<const char*, 6> kStageNames = {"ingest", "equilibrate", "reduce",
+                                                           "fit",    "pores",       "report"};
+
+// The stages `make` and `check` share, run in the one order: job spec, stage settings, every
+// data file (the inputs list: job file, data files, then the template, as results.json lists
+// them), equilibria, moisture contents, and the cost-of-a-job check.
+struct PreparedJob {
+  ingest::JobSpec job;
+  JobSettings settings;
+  ingest::IngestResult ingested;
+  equilibrate::EquilibriumSet equilibria;
+  reduce::ReducedIsotherms reduced;
+  std::vector<Diagnostic> warnings;  // of these stages, in stage order
+};
+PreparedJob PrepareJob(const std::filesystem::path& job_file,
+                       const std::filesystem::path& output_dir, const ProgressCallback& progress);
 
 struct RunOptions {
   std::filesystem::path output_dir;  // recorded (relative job path) in results.json

@@ -11,8 +11,6 @@
 namespace sorbtrace::run {
 namespace {
 
-constexpr int kNumStages = 6;
-
 // The document date printed on the sheet: the job's issue date, else SOURCE_DATE_EPOCH
 // (reproducible-builds.org convention), else "undated". Never the wall clock, so the same
 // inputs always give the same bytes.
@@ -47,48 +45,66 @@ std::vector<std::filesystem::path> ProtectedInputs(const ingest::JobSpec& job) {
   return paths;
 }
 
-RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& options) {
-  auto progress = [&options](const char* stage, int index) {
-    if (options.progress) options.progress(stage, index, kNumStages);
+PreparedJob PrepareJob(const std::filesystem::path& job_file,
+                       const std::filesystem::path& output_dir, const ProgressCallback& progress) {
+  auto stage = [&progress](int index) {
+    if (progress) progress(kStageNames[index], index, static_cast<int>(kStageNames.size()));
   };
-  RunResult result;
-  progress("ingest", 0);
+  PreparedJob prepared;
+  stage(0);
   RequireRegularFile(job_file, job_file.string(), "a TOML job file");
-  result.job = ingest::LoadJobSpec(job_file);
-  const JobSettings settings = LoadJobSettings(job_file, result.job, options.output_dir);
-  result.input_files = ProtectedInputs(result.job);
-  result.input_files.push_back(settings.template_file);
-  ingest::IngestResult ingested = ingest::Ingest(result.job, settings.ingest);
+  prepared.job = ingest::LoadJobSpec(job_file);
+  prepared.settings = LoadJobSettings(job_file, prepared.job, output_dir);
+  prepared.ingested = ingest::Ingest(prepared.job, prepared.settings.ingest);
   {
-    const std::string content = ReadWholeFile(settings.template_file);
+    const std::string content = ReadWholeFile(prepared.settings.template_file);
     ingest::InputFileRecord record;
     record.role = "template";
-    record.path = settings.template_file.filename().string();
+    record.path = prepared.settings.template_file.filename().string();
     record.sha256 = Sha256Hex(content);
     record.size_bytes = content.size();
-    ingested.inputs.push_back(record);
+    prepared.ingested.inputs.push_back(record);
   }
-  Append(result.warnings, ingested.summary.warnings);
+  Append(prepared.warnings, prepared.ingested.summary.warnings);
 
-  progress("equilibrate", 1);
-  const equilibrate::EquilibriumSet equilibria =
-      equilibrate::Equilibrate(ingested, settings.equilibrate);
-  Append(result.warnings, equilibria.summary.warnings);
+  stage(1);
+  prepared.equilibria = equilibrate::Equilibrate(prepared.ingested, prepared.settings.equilibrate);
+  Append(prepared.warnings, prepared.equilibria.summary.warnings);
 
-  progress("reduce", 2);
-  const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
-  Append(result.warnings, reduced.summary.warnings);
-  CheckWorkBudget(settings, reduced);
+  stage(2);
+  prepared.reduced =
+      reduce::Reduce(prepared.ingested, prepared.equilibria, prepared.settings.reduce);
+  Append(prepared.warnings, prepared.reduced.summary.warnings);
+  CheckWorkBudget(prepared.settings, prepared.reduced);
+  return prepared;
+}
 
-  progress("fit", 3);
+RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& options) {
+  auto progress = [&options](int index) {
+    if (options.progress) {
+      options.progress(kStageNames[index], index, static_cast<int>(kStageNames.size()));
+    }
+  };
+  RunResult result;
+  const PreparedJob prepared = PrepareJob(job_file, options.output_dir, options.progress);
+  result.job = prepared.job;
+  result.warnings = prepared.warnings;
+  result.input_files = ProtectedInputs(result.job);
+  result.input_files.push_back(prepared.settings.template_file);
+  const JobSettings& settings = prepared.settings;
+  const ingest::IngestResult& ingested = prepared.ingested;
+  const equilibrate::EquilibriumSet& equilibria = prepared.equilibria;
+  const reduce::ReducedIsotherms& reduced = prepared.reduced;
+
+  progress(3);
   const fit::IsothermFits fits = fit::FitIsotherms(reduced, settings.fit);
   Append(result.warnings, fits.summary.warnings);
 
-  progress("pores", 4);
+  progress(4);
   const pores::PoreAnalysis pore_analysis = pores::AnalysePores(reduced, fits, settings.pores);
   Append(result.warnings, pore_analysis.summary.warnings);
 
-  progress("report", 5);
+  progress(5);
   const report::Template layout = report::LoadTemplate(settings.template_file);
   report::ReportInputs inputs;
   inputs.ingested = &ingested;

@@ -1,15 +1,19 @@
 // Stage settings of a job file: [equilibrium], [fit], [pores] and [report] over the built-in
-// defaults (each stage's Options) and the report template. Every key is checked: an unknown
-// key, a wrong type or an out-of-range value is an InputError naming file, line, column, key.
+// defaults (each stage's Options) and the report template. Every key is one row of SettingKeys()
+// (settings_table.h): the row reads, validates, records and documents the key. An unknown key,
+// a wrong type or an out-of-range value is an InputError naming file, line, column and key.
 #include <fmt/format.h>
 #include <toml++/toml.h>
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
+#include <cstdlib>
 #include <filesystem>
 #include <map>
 #include <set>
 #include <string>
+#include <type_traits>
 #include <vector>
 
 #include "fitters/registry.h"
@@ -17,15 +21,14 @@
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/physics/physics.h"
 #include "pipeline/run/run.h"
+#include "pipeline/run/settings_table.h"
 
 #ifndef SORBTRACE_TEMPLATE_DIR
 #define SORBTRACE_TEMPLATE_DIR "templates"
 #endif
 
 namespace sorbtrace::run {
-namespace {
-
-constexpr double kPi = 3.14159265358979323846;
+namespace internal {
 
 // Reads typed values out of one table, remembering which keys were used so that leftovers
 // can be reported as unknown.
@@ -54,10 +57,10 @@ class TableReader {
     return Where(table_);
   }
 
-  void Number(const std::string& key, double& target, double minimum, double maximum,
-              double scale = 1.0, double offset = 0.0) {
+  // The written number of `key` (nullopt when absent), checked against [minimum, maximum].
+  std::optional<double> Number(const std::string& key, double minimum, double maximum) {
     const toml::node* node = Node(key);
-    if (node == nullptr) return;
+    if (node == nullptr) return std::nullopt;
     std::optional<double> value = node->value<double>();
     if (!value || !std::isfinite(*value)) {
       throw InputError(Where(node), Name(key) + " is not a number", "a finite number");
@@ -66,53 +69,45 @@ class TableReader {
       throw InputError(Where(node), Name(key) + " = " + Show(*value) + " is out of range",
                        "a value from " + Show(minimum) + " to " + Show(maximum));
     }
-    target = *value * scale + offset;
+    return value;
   }
 
-  void Integer(const std::string& key, int& target, int minimum, int maximum) {
+  std::optional<double> Integer(const std::string& key, double minimum, double maximum) {
     const toml::node* node = Node(key);
-    if (node == nullptr) return;
+    if (node == nullptr) return std::nullopt;
     std::optional<std::int64_t> value = node->value<std::int64_t>();
     if (!node->is_integer() || !value) {
       throw InputError(Where(node), Name(key) + " is not an integer", "a whole number");
     }
-    if (*value < minimum || *value > maximum) {
+    const auto low = static_cast<std::int64_t>(minimum);
+    const auto high = static_cast<std::int64_t>(maximum);
+    if (*value < low || *value > high) {
       throw InputError(
           Where(node), Name(key) + " = " + std::to_string(*value) + " is out of range",
-          "a whole number from " + std::to_string(minimum) + " to " + std::to_string(maximum));
+          "a whole number from " + std::to_string(low) + " to " + std::to_string(high));
     }
-    target = static_cast<int>(*value);
+    return static_cast<double>(*value);
   }
 
-  void Seed(const std::string& key, std::uint64_t& target) {
-    int value = 0;
-    if (!Has(key)) {
-      Node(key);
-      return;
-    }
-    Integer(key, value, 0, 2147483647);
-    target = static_cast<std::uint64_t>(value);
-  }
-
-  void Bool(const std::string& key, bool& target) {
+  std::optional<double> Bool(const std::string& key) {
     const toml::node* node = Node(key);
-    if (node == nullptr) return;
+    if (node == nullptr) return std::nullopt;
     if (!node->is_boolean()) {
       throw InputError(Where(node), Name(key) + " is not a boolean", "true or false");
     }
-    target = *node->value<bool>();
+    return *node->value<bool>() ? 1.0 : 0.0;
   }
 
-  // A string that must be one of `choices`; returns the index.
-  int Choice(const std::string& key, const std::vector<std::string>& choices, int current) {
+  // A string that must be one of `choices`; returns its index.
+  std::optional<double> Choice(const std::string& key, const std::vector<std::string>& choices) {
     const toml::node* node = Node(key);
-    if (node == nullptr) return current;
+    if (node == nullptr) return std::nullopt;
     std::optional<std::string> value = node->value<std::string>();
     std::string list;
     for (const auto& choice : choices) list += (list.empty() ? "\"" : ", \"") + choice + "\"";
     if (!value) throw InputError(Where(node), Name(key) + " is not a string", "one of " + list);
     for (size_t i = 0; i < choices.size(); ++i) {
-      if (*value == choices[i]) return static_cast<int>(i);
+      if (*value == choices[i]) return static_cast<double>(i);
     }
     throw InputError(Where(node), Name(key) + " = \"" + Excerpt(*value) + "\" is not known",
                      "one of " + list);
@@ -147,6 +142,630 @@ class TableReader {
   std::set<std::string> used_;
 };
 
+namespace {
+
+using physics::kMetresPerNanometre;
+using physics::kPercent;
+using physics::kSecondsPerHour;
+using physics::kSecondsPerMinute;
+using Eq = equilibrate::EquilibrateOptions;
+using Fit = fit::FitStageOptions;
+using Pores = pores::PoreOptions;
+
+constexpr double kFractionPerPercent = 1.0 / kPercent;
+
+// Upper bounds of the work settings (README, stage settings): what a laboratory uses with room
+// to spare (common practice: 1000-2000 bootstrap or Monte Carlo draws give percentiles of a
+// 95 % interval to about 1 % (JCGM 101:2008, 7.2); plots and distributions are smooth at a
+// few hundred grid points). Within them the whole job is bounded by kMaxWorkUnits (run.h).
+constexpr double kMaxResamples = 10000;
+constexpr double kMaxBandPoints = 1000;
+constexpr double kMaxPoreGridPoints = 2000;
+// EquilibrateOptions needs 5 block means in a tail; 1000 is a full tail of a day-long step at
+// 90 s blocks.
+constexpr double kMaxTailPoints = 1000;
+constexpr double kMaxSeed = 2147483647;  // 2^31 - 1: a seed any TOML reader holds exactly
+
+// The member `kField` of the stage options `kStage` of JobSettings, as a double.
+template <auto kStage, auto kField>
+double GetField(const JobSettings& s) {
+  const auto& value = s.*kStage.*kField;
+  if constexpr (std::is_enum_v<std::remove_cvref_t<decltype(value)>>) {
+    return static_cast<double>(static_cast<int>(value));
+  } else {
+    return static_cast<double>(value);
+  }
+}
+
+template <auto kStage, auto kField>
+void SetField(JobSettings& s, double v) {
+  auto& target = s.*kStage.*kField;
+  using T = std::remove_cvref_t<decltype(target)>;
+  if constexpr (std::is_enum_v<T>) {
+    target = static_cast<T>(static_cast<int>(v));
+  } else if constexpr (std::is_same_v<T, bool>) {
+    target = v != 0.0;
+  } else {
+    target = static_cast<T>(v);
+  }
+}
+
+template <auto kStage, auto kField>
+constexpr Accessor Field() {
+  return {&GetField<kStage, kField>, &SetField<kStage, kField>};
+}
+
+constexpr auto kEquilibrate = &JobSettings::equilibrate;
+constexpr auto kFit = &JobSettings::fit;
+constexpr auto kPores = &JobSettings::pores;
+constexpr auto kReduce = &JobSettings::reduce;
+constexpr auto kIngest = &JobSettings::ingest;
+
+std::string ModelList() {
+  std::string list;
+  for (const std::string& name : fitters::ModelNames()) {
+    list += (list.empty() ? "" : ", ") + name;
+  }
+  return list;
+}
+
+void ReadModels(TableReader& in, JobSettings& s) {
+  const toml::node* node = in.Node("models");
+  if (node == nullptr) return;
+  const toml::array* array = node->as_array();
+  if (array == nullptr || array->empty()) {
+    throw InputError(in.Where(node), in.Name("models") + " is not a list of model names",
+                     "e.g. models = [\"gab\", \"bet\"]");
+  }
+  auto& models = s.fit.models;
+  models.clear();
+  for (const auto& element : *array) {
+    std::optional<std::string> name = element.value<std::string>();
+    if (!name) {
+      throw InputError(in.Where(&element), in.Name("models") + " holds a non-string",
+                       "model names as strings");
+    }
+    if (fitters::FindModel(*name) == nullptr) {
+      throw InputError(in.Where(&element),
+                       in.Name("models") + ": unknown model \"" + Excerpt(*name) + "\"",
+                       "registry keys among " + ModelList());
+    }
+    if (std::find(models.begin(), models.end(), *name) != models.end()) {
+      throw InputError(in.Where(&element),
+                       in.Name("models") + ": \"" + *name + "\" is listed twice",
+                       "each model once");
+    }
+    models.push_back(*name);
+  }
+}
+
+nlohmann::ordered_json RecordModels(const JobSettings& s) { return s.fit.models; }
+
+void ReadFilmTable(TableReader& in, JobSettings& s) {
+  const toml::node* node = in.Node("film_table");
+  if (node == nullptr) return;
+  const toml::array* rows = node->as_array();
+  if (rows == nullptr || rows->size() < 2) {
+    throw InputError(in.Where(node), in.Name("film_table") + " is not a table of rows",
+                     "film_table = [[rh_percent, thickness_nm], ...] with at least 2 rows");
+  }
+  auto& table = s.pores.film_table;
+  table.clear();
+  for (const auto& row : *rows) {
+    const toml::array* pair = row.as_array();
+    std::optional<double> rh =
+        pair && pair->size() == 2 ? (*pair)[0].value<double>() : std::nullopt;
+    std::optional<double> t = pair && pair->size() == 2 ? (*pair)[1].value<double>() : std::nullopt;
+    if (!rh || !t || *rh <= 0 || *rh >= kPercent || *t < 0) {
+      throw InputError(in.Where(&row), in.Name("film_table") + " row is invalid",
+                       "[rh_percent (0..100), thickness_nm (>= 0)]");
+    }
+    table.emplace_back(*rh / kPercent, *t * kMetresPerNanometre);
+  }
+}
+
+// A number of the record: rounded to 15 significant digits, which gives back the value as
+// written for any value written with at most 15 digits (IEEE 754 double: 15 decimal digits
+// survive a round trip).
+double AsWritten(double value) {
+  char buffer[40];
+  std::snprintf(buffer, sizeof buffer, "%.15g", value);
+  return std::strtod(buffer, nullptr);
+}
+
+nlohmann::ordered_json RecordFilmTable(const JobSettings& s) {
+  nlohmann::ordered_json table = nlohmann::ordered_json::array();
+  for (const auto& [rh, t] : s.pores.film_table) {
+    table.push_back({AsWritten(rh * kPercent), AsWritten(t / kMetresPerNanometre)});
+  }
+  return table;
+}
+
+void ReadPoreModel(TableReader& in, JobSettings& s) {
+  const toml::node* node = in.Node("model");
+  if (node == nullptr) return;
+  std::optional<std::string> model = node->value<std::string>();
+  if (!model) {
+    throw InputError(in.Where(node), in.Name("model") + " is not a string",
+                     "\"best\" or a model name such as \"durner2\"");
+  }
+  s.pores.source_model = *model;
+  const auto& fitted = s.fit.models;
+  if (*model != "best" && std::find(fitted.begin(), fitted.end(), *model) == fitted.end()) {
+    std::string list = "\"best\"";
+    for (const auto& name : fitted) list += ", \"" + name + "\"";
+    throw InputError(
+        in.Where(node),
+        in.Name("model") + " = \"" + Excerpt(*model) + "\" is not a model of [fit] models",
+        "one of " + list);
+  }
+}
+
+nlohmann::ordered_json RecordPoreModel(const JobSettings& s) { return s.pores.source_model; }
+
+// Reference-condition limits: -50..100 degC is the range of the water correlations used
+// (physics.h, IAPWS SR1-86 / R14-08); RH strictly between 0 and 100 %.
+constexpr double kReferenceMin_C = -50.0;
+constexpr double kReferenceMax_C = 100.0;
+
+void ReadReferenceConditions(TableReader& in, JobSettings& s) {
+  const toml::node* node = in.Node("reference_conditions");
+  if (node == nullptr) return;
+  const toml::array* array = node->as_array();
+  if (array == nullptr || array->empty()) {
+    throw InputError(in.Where(node), in.Name("reference_conditions") + " is not a list",
+                     "reference_conditions = [{ temperature_C = 23, rh_percent = 50 }, ...]");
+  }
+  auto& target = s.pores.reference_conditions;
+  target.clear();
+  for (const auto& element : *array) {
+    const toml::table* row = element.as_table();
+    std::optional<double> t = row ? (*row)["temperature_C"].value<double>() : std::nullopt;
+    std::optional<double> rh = row ? (*row)["rh_percent"].value<double>() : std::nullopt;
+    if (!row || row->size() != 2 || !t || !rh || *rh <= 0.0 || *rh >= kPercent ||
+        *t < kReferenceMin_C || *t > kReferenceMax_C) {
+      throw InputError(in.Where(&element), in.Name("reference_conditions") + " entry is invalid",
+                       "{ temperature_C = -50..100, rh_percent = 0..100 (exclusive) }");
+    }
+    target.push_back({physics::CelsiusToKelvin(*t), *rh / kPercent});
+  }
+}
+
+nlohmann::ordered_json RecordReferenceConditions(const JobSettings& s) {
+  nlohmann::ordered_json references = nlohmann::ordered_json::array();
+  for (const auto& c : s.pores.reference_conditions) {
+    references.push_back({{"temperature_C", AsWritten(physics::KelvinToCelsius(c.temperature_K))},
+                          {"rh_percent", AsWritten(c.rh_fraction * kPercent)}});
+  }
+  return references;
+}
+
+std::vector<SettingKey> BuildSettingKeys() {
+  using K = SettingKind;
+  return {
+      // [equilibrium]
+      {.section = "equilibrium",
+       .name = "mass_change_limit_percent",
+       .factor = kFractionPerPercent,
+       .min = 1e-6,
+       .max = 10,
+       .access = Field<kEquilibrate, &Eq::mass_change_limit_fraction>(),
+       .doc = "desiccator constant-mass limit (ISO 12571)"},
+      {.section = "equilibrium",
+       .name = "min_weighing_interval_h",
+       .factor = kSecondsPerHour,
+       .min = 0,
+       .max = 1000,
+       .access = Field<kEquilibrate, &Eq::min_weighing_interval_s>(),
+       .doc = "minimum time between the weighings compared"},
+      {.section = "equilibrium",
+       .name = "min_weighings",
+       .kind = K::kInteger,
+       .min = 2,
+       .max = 100,
+       .access = Field<kEquilibrate, &Eq::min_weighings>(),
+       .stage_bound = kStageMin,
+       .doc = "consecutive weighings that must agree"},
+      {.section = "equilibrium",
+       .name = "weighing_interval_tolerance_h",
+       .factor = kSecondsPerHour,
+       .min = 0,
+       .max = 100,
+       .access = Field<kEquilibrate, &Eq::weighing_interval_tolerance_s>(),
+       .stage_bound = kStageMin,
+       .doc = "slack on the 24 h spacing (a weighing at 09:01 after one at 09:03 the day before "
+              "still counts); 0 = literal reading"},
+      {.section = "equilibrium",
+       .name = "rate_limit_percent_per_min",
+       .factor = kFractionPerPercent,
+       .min = 1e-8,
+       .max = 1,
+       .access = Field<kEquilibrate, &Eq::rate_limit_fraction_per_min>(),
+       .doc = "vapour logs: dm/dt limit relative to dry mass (common practice)"},
+      {.section = "equilibrium",
+       .name = "rate_window_min",
+       .factor = kSecondsPerMinute,
+       .min = 0.5,
+       .max = 10000,
+       .access = Field<kEquilibrate, &Eq::rate_window_s>(),
+       .doc = "window of the rate criterion"},
+      {.section = "equilibrium",
+       .name = "extrapolate_unfinished_steps",
+       .kind = K::kBool,
+       .access = Field<kEquilibrate, &Eq::extrapolate_unfinished_steps>(),
+       .doc = "fit an exponential to the tail of an unfinished step"},
+      {.section = "equilibrium",
+       .name = "exponential_terms",
+       .kind = K::kInteger,
+       .min = 1,
+       .max = 2,
+       .access = Field<kEquilibrate, &Eq::exponential_terms>(),
+       .stage_bound = kStageMin | kStageMax,
+       .doc = "1 or 2 exponentials in the tail model"},
+      {.section = "equilibrium",
+       .name = "tail_fraction",
+       .min = 0.05,
+       .max = 1,
+       .access = Field<kEquilibrate, &Eq::tail_fraction>(),
+       .stage_bound = kStageMax,
+       .doc = "fraction of a step used for the tail fit"},
+      {.section = "equilibrium",
+       .name = "max_tau_to_tail_ratio",
+       .min = 0.1,
+       .max = 1000,
+       .access = Field<kEquilibrate, &Eq::max_tau_to_tail_ratio>(),
+       .doc = "an extrapolation whose time constant exceeds this multiple of the tail length is "
+              "rejected"},
+      {.section = "equilibrium",
+       .name = "min_tail_points",
+       .kind = K::kInteger,
+       .min = 5,
+       .max = kMaxTailPoints,
+       .access = Field<kEquilibrate, &Eq::min_tail_points>(),
+       .stage_bound = kStageMin,
+       .doc = "fewer block means in the tail: no extrapolation"},
+      {.section = "equilibrium",
+       .name = "include_not_equilibrated",
+       .kind = K::kBool,
+       .access = Field<kReduce, &reduce::ReduceOptions::include_not_equilibrated>(),
+       .doc = "keep (flagged) points that never met the criterion"},
+      // Below 0.1 s a block holds less than the fastest balance logs one row per (common
+      // practice).
+      {.section = "equilibrium",
+       .name = "log_block_s",
+       .min = 0.1,
+       .max = 3600,
+       .access = Field<kIngest, &ingest::IngestOptions::log_block_s>(),
+       .doc = "width of the block means kept from a streamed log"},
+      {.section = "equilibrium",
+       .name = "log_gap_warning_min",
+       .factor = kSecondsPerMinute,
+       .min = 0.01,
+       .max = 1e6,
+       .access = Field<kIngest, &ingest::IngestOptions::log_gap_warning_s>(),
+       .doc = "a gap in a log longer than this is a warning"},
+      // [fit]
+      {.section = "fit",
+       .name = "models",
+       .kind = K::kCustom,
+       .work = true,
+       .read = &ReadModels,
+       .record = &RecordModels,
+       .default_text = "all eight",
+       .allowed_text = "registry keys, each once (work)",
+       .doc = "registry keys: `gab`, `bet`, `vangenuchten`, `durner2`, `oswin`, `halsey`, "
+              "`henderson`, `peleg` (also `bet_n`, `vangenuchten_free_m`, `durner3`)"},
+      {.section = "fit",
+       .name = "bet_rh_min_percent",
+       .factor = kFractionPerPercent,
+       .min = 0,
+       .max = 100,
+       .access = Field<kFit, &Fit::bet_rh_min_fraction>(),
+       .stage_bound = kStageMin,
+       .allowed_text = "0..100, below `bet_rh_max_percent`",
+       .doc = "BET fitting range, lower end"},
+      {.section = "fit",
+       .name = "bet_rh_max_percent",
+       .factor = kFractionPerPercent,
+       .min = 0,
+       .max = 100,
+       .access = Field<kFit, &Fit::bet_rh_max_fraction>(),
+       .stage_bound = kStageMax,
+       .doc = "BET fitting range, upper end"},
+      {.section = "fit",
+       .name = "loss",
+       .kind = K::kChoice,
+       .access = Field<kFit, &Fit::loss>(),
+       .choices = {"squared", "huber", "soft_l1", "cauchy"},
+       .doc = "`\"squared\"` or a robust loss"},
+      {.section = "fit",
+       .name = "loss_scale",
+       .min = 1e-6,
+       .max = 1e6,
+       .access = Field<kFit, &Fit::loss_scale>(),
+       .doc = "robust-loss scale, in weighted-residual units"},
+      {.section = "fit",
+       .name = "errors_in_variables",
+       .kind = K::kBool,
+       .access = Field<kFit, &Fit::errors_in_variables>(),
+       .doc = "fit the true RH of each point within its uncertainty (RH uncertainty enters the "
+              "parameter uncertainties)"},
+      {.section = "fit",
+       .name = "weights",
+       .kind = K::kChoice,
+       .access = Field<kFit, &Fit::weights>(),
+       .choices = {"relative", "absolute"},
+       .doc = "`\"absolute\"`: the GUM uncertainties are absolute, covariance unscaled, "
+              "chi-square check reported; `\"relative\"`: covariance scaled by SSR/(n−p)"},
+      {.section = "fit",
+       .name = "bootstrap_resamples",
+       .kind = K::kInteger,
+       .min = 0,
+       .max = kMaxResamples,
+       .access = Field<kFit, &Fit::bootstrap_resamples>(),
+       .work = true,
+       .stage_bound = kStageMin,
+       .doc = "bootstrap refits"},
+      {.section = "fit",
+       .name = "bootstrap",
+       .kind = K::kChoice,
+       .access = Field<kFit, &Fit::bootstrap_kind>(),
+       .choices = {"residual", "case"},
+       .doc = "residual or case resampling"},
+      {.section = "fit",
+       .name = "refit_tolerance_se",
+       .min = 0,
+       .max = 1,
+       .access = Field<kFit, &Fit::refit_tolerance_se>(),
+       .stage_bound = kStageMin | kStageMax,
+       .doc = "a bootstrap or Monte Carlo refit stops once its estimated distance to its optimum "
+              "(undamped Gauss-Newton step) is below this many standard errors in every "
+              "parameter; 0 = off"},
+      {.section = "fit",
+       .name = "monte_carlo_draws",
+       .kind = K::kInteger,
+       .min = 0,
+       .max = kMaxResamples,
+       .access = Field<kFit, &Fit::monte_carlo_draws>(),
+       .work = true,
+       .stage_bound = kStageMin,
+       .doc = "JCGM 101 propagation of the input uncertainties"},
+      {.section = "fit",
+       .name = "seed",
+       .kind = K::kSeed,
+       .min = 0,
+       .max = kMaxSeed,
+       .access = Field<kFit, &Fit::seed>(),
+       .doc = "seed of every random draw of the fits (results are a pure function of inputs and "
+              "seed)"},
+      {.section = "fit",
+       .name = "band_points",
+       .kind = K::kInteger,
+       .min = 2,
+       .max = kMaxBandPoints,
+       .access = Field<kFit, &Fit::band_grid_points>(),
+       .work = true,
+       .doc = "grid of the curve bands"},
+      {.section = "fit",
+       .name = "band_rh_min_percent",
+       .factor = kFractionPerPercent,
+       .min = 0,
+       .max = 100,
+       .access = Field<kFit, &Fit::band_rh_min_fraction>(),
+       .stage_bound = kStageMin,
+       .allowed_text = "0..100, below `band_rh_max_percent`",
+       .doc = "lower end of the curve bands"},
+      {.section = "fit",
+       .name = "band_rh_max_percent",
+       .factor = kFractionPerPercent,
+       .min = 0,
+       .max = 100,
+       .access = Field<kFit, &Fit::band_rh_max_fraction>(),
+       .stage_bound = kStageMax,
+       .doc = "upper end of the curve bands"},
+      {.section = "fit",
+       .name = "confidence_level",
+       .min = 0.5,
+       .max = 0.9999,
+       .access = Field<kFit, &Fit::confidence_level>(),
+       .doc = "parameter intervals and bands"},
+      {.section = "fit",
+       .name = "include_retention_points",
+       .kind = K::kBool,
+       .access = Field<kFit, &Fit::include_retention_points>(),
+       .doc = "retention points join van Genuchten/Durner fits"},
+      // [pores]
+      {.section = "pores",
+       .name = "geometry",
+       .kind = K::kChoice,
+       .access = Field<kPores, &Pores::geometry>(),
+       .choices = {"open_cylinder", "closed_cylinder"},
+       .doc = "fixes the meniscus per branch"},
+      {.section = "pores",
+       .name = "film",
+       .kind = K::kChoice,
+       .access = Field<kPores, &Pores::film>(),
+       .choices = {"none", "constant", "fitted_layers", "badmann", "table"},
+       .allowed_text = "`\"none\"`, `\"constant\"`, `\"fitted_layers\"`, `\"badmann\"`, "
+                       "`\"table\"` (needs `film_table`)",
+       .doc = "adsorbed-film model"},
+      {.section = "pores",
+       .name = "film_thickness_nm",
+       .factor = kMetresPerNanometre,
+       .min = 0,
+       .max = 1000,
+       .access = Field<kPores, &Pores::constant_film_thickness_m>(),
+       .allowed_text = "0..1000, below `min_radius_nm`",
+       .doc = "constant film"},
+      {.section = "pores",
+       .name = "monolayer_thickness_nm",
+       .factor = kMetresPerNanometre,
+       .min = 0.01,
+       .max = 10,
+       .access = Field<kPores, &Pores::monolayer_thickness_m>(),
+       .doc = "one molecular layer, for `fitted_layers`"},
+      {.section = "pores",
+       .name = "film_table",
+       .kind = K::kCustom,
+       .read = &ReadFilmTable,
+       .record = &RecordFilmTable,
+       .default_text = "—",
+       .allowed_text = "RH 0..100, thickness >= 0",
+       .doc = "`[[rh_percent, thickness_nm], ...]` for `\"table\"`"},
+      {.section = "pores",
+       .name = "contact_angle_deg",
+       .factor = physics::kRadiansPerDegree,
+       .min = 0,
+       .max = 89,
+       .access = Field<kPores, &Pores::contact_angle_rad>(),
+       .stage_bound = kStageMin,
+       .doc = "wetting angle in the Kelvin equation"},
+      {.section = "pores",
+       .name = "min_radius_nm",
+       .factor = kMetresPerNanometre,
+       .min = 0.1,
+       .max = 1e6,
+       .access = Field<kPores, &Pores::min_radius_m>(),
+       .doc = "Kelvin inversion, smallest radius"},
+      {.section = "pores",
+       .name = "max_radius_nm",
+       .factor = kMetresPerNanometre,
+       .min = 0,
+       .max = 1e7,
+       .access = Field<kPores, &Pores::max_radius_m>(),
+       .default_text = "0 (auto)",
+       .allowed_text = "0 or above `min_radius_nm`, up to 1e7",
+       .doc = "Kelvin inversion, largest radius (0: that of the highest measured RH)"},
+      {.section = "pores",
+       .name = "grid_points",
+       .kind = K::kInteger,
+       .min = 10,
+       .max = kMaxPoreGridPoints,
+       .access = Field<kPores, &Pores::grid_points>(),
+       .work = true,
+       .stage_bound = kStageMin,
+       .doc = "radius grid"},
+      {.section = "pores",
+       .name = "band_draws",
+       .kind = K::kInteger,
+       .min = 0,
+       .max = kMaxResamples,
+       .access = Field<kPores, &Pores::band_draws>(),
+       .work = true,
+       .stage_bound = kStageMin,
+       .doc = "Monte Carlo band of the distribution"},
+      {.section = "pores",
+       .name = "seed",
+       .kind = K::kSeed,
+       .min = 0,
+       .max = kMaxSeed,
+       .access = Field<kPores, &Pores::seed>(),
+       .doc = "seed of the band draws"},
+      {.section = "pores",
+       .name = "model",
+       .kind = K::kCustom,
+       .read = &ReadPoreModel,
+       .record = &RecordPoreModel,
+       .allowed_text = "`\"best\"` or one of `[fit] models`",
+       .doc = "model used for the model-based distribution"},
+      {.section = "pores",
+       .name = "stepwise",
+       .kind = K::kBool,
+       .access = Field<kPores, &Pores::stepwise>(),
+       .doc = "also the BJH-type stepwise method"},
+      {.section = "pores",
+       .name = "molecular_area_nm2",
+       .factor = physics::kSquareMetresPerSquareNanometre,
+       .min = 0.01,
+       .max = 10,
+       .access = Field<kPores, &Pores::molecular_area_m2>(),
+       .doc = "water cross-section for the surface area"},
+      {.section = "pores",
+       .name = "reference_conditions",
+       .kind = K::kCustom,
+       .read = &ReadReferenceConditions,
+       .record = &RecordReferenceConditions,
+       .default_text = "from the template",
+       .allowed_text = "-50..100 degC, 0 < RH < 100",
+       .doc = "`[{ temperature_C = 23, rh_percent = 50 }, ...]`"},
+      // [report]
+      {.section = "report",
+       .name = "coverage_factor",
+       .min = 1,
+       .max = 5,
+       .access = Field<kReduce, &reduce::ReduceOptions::coverage_factor>(),
+       .stage_bound = kStageMin | kStageMax,
+       .doc = "k of the expanded uncertainties"},
+  };
+}
+
+// Reads one key of `in` into `s` (nothing when it is not written).
+void ReadSetting(const SettingKey& key, TableReader& in, JobSettings& s) {
+  std::optional<double> written;
+  switch (key.kind) {
+    case SettingKind::kNumber:
+      written = in.Number(key.name, key.min, key.max);
+      break;
+    case SettingKind::kInteger:
+    case SettingKind::kSeed:
+      written = in.Integer(key.name, key.min, key.max);
+      break;
+    case SettingKind::kBool:
+      written = in.Bool(key.name);
+      break;
+    case SettingKind::kChoice:
+      written = in.Choice(key.name, key.choices);
+      break;
+    case SettingKind::kCustom:
+      key.read(in, s);
+      return;
+  }
+  if (written) key.access.set(s, *written * key.factor);
+}
+
+// Two keys of one table that must satisfy low < high (written units); the error points at
+// the key written in the job (the higher one when both are).
+void RequireBelow(const TableReader& in, const std::string& low_key, double low,
+                  const std::string& high_key, double high) {
+  if (low < high) return;
+  const std::string& at = in.Has(high_key) || !in.Has(low_key) ? high_key : low_key;
+  throw InputError(in.At(at),
+                   in.Name(low_key) + " = " + TableReader::Show(low) + " is not below " +
+                       in.Name(high_key) + " = " + TableReader::Show(high),
+                   low_key + " < " + high_key);
+}
+
+// Rules between keys of one section, after the section is read.
+void CheckSection(const std::string& section, const TableReader& in, const JobSettings& s) {
+  if (section == "fit") {
+    const auto& f = s.fit;
+    RequireBelow(in, "bet_rh_min_percent", f.bet_rh_min_fraction * kPercent, "bet_rh_max_percent",
+                 f.bet_rh_max_fraction * kPercent);
+    RequireBelow(in, "band_rh_min_percent", f.band_rh_min_fraction * kPercent,
+                 "band_rh_max_percent", f.band_rh_max_fraction * kPercent);
+  } else if (section == "pores") {
+    const auto& p = s.pores;
+    const double min_nm = p.min_radius_m / kMetresPerNanometre;
+    if (p.max_radius_m != 0.0) {  // 0: up to the radius of the highest measured RH
+      RequireBelow(in, "min_radius_nm", min_nm, "max_radius_nm",
+                   p.max_radius_m / kMetresPerNanometre);
+    }
+    // A film at least as thick as the smallest pore leaves no core for the Kelvin equation.
+    if (p.film == pores::FilmModel::kConstant && p.constant_film_thickness_m >= p.min_radius_m) {
+      throw InputError(in.At(in.Has("film_thickness_nm") ? "film_thickness_nm" : "min_radius_nm"),
+                       in.Name("film_thickness_nm") + " = " +
+                           TableReader::Show(p.constant_film_thickness_m / kMetresPerNanometre) +
+                           " is not below " + in.Name("min_radius_nm") + " = " +
+                           TableReader::Show(min_nm),
+                       "a film thinner than the smallest pore radius");
+    }
+    if (p.film == pores::FilmModel::kUserTable && p.film_table.empty()) {
+      throw InputError(in.At("film"), in.Name("film") + " = \"table\" without a film_table",
+                       "film_table = [[rh_percent, thickness_nm], ...] in [pores]");
+    }
+  }
+}
+
 const toml::table* SubTable(const toml::table& root, const std::string& name,
                             const std::string& file) {
   const toml::node* node = root.get(name);
@@ -159,204 +778,117 @@ const toml::table* SubTable(const toml::table& root, const std::string& name,
   return node->as_table();
 }
 
-// Upper bounds of the work settings (README, stage settings): what a laboratory uses with room
-// to spare (common practice: 1000-2000 bootstrap or Monte Carlo draws give percentiles of a
-// 95 % interval to about 1 % (JCGM 101:2008, 7.2); plots and distributions are smooth at a
-// few hundred grid points). Within them the whole job is bounded by kMaxWorkUnits below.
-constexpr int kMaxResamples = 10000;
-constexpr int kMaxBandPoints = 1000;
-constexpr int kMaxPoreGridPoints = 2000;
-constexpr int kMaxTailPoints = 1000;
-
-std::string ModelList() {
-  std::string list;
-  for (const std::string& name : fitters::ModelNames()) {
-    list += (list.empty() ? "" : ", ") + name;
-  }
-  return list;
-}
-
-// Two keys of one table that must satisfy low < high; the error points at the key written in
-// the job (the higher one when both are).
-void RequireBelow(const TableReader& in, const std::string& low_key, double low,
-                  const std::string& high_key, double high) {
-  if (low < high) return;
-  const std::string& at = in.Has(high_key) || !in.Has(low_key) ? high_key : low_key;
-  throw InputError(in.At(at),
-                   in.Name(low_key) + " = " + TableReader::Show(low) + " is not below " +
-                       in.Name(high_key) + " = " + TableReader::Show(high),
-                   low_key + " < " + high_key);
-}
-
-void ReadEquilibrium(TableReader& in, JobSettings& s) {
-  auto& e = s.equilibrate;
-  in.Number("mass_change_limit_percent", e.mass_change_limit_fraction, 1e-6, 10.0, 0.01);
-  in.Number("min_weighing_interval_h", e.min_weighing_interval_s, 0.0, 1000.0, 3600.0);
-  in.Integer("min_weighings", e.min_weighings, 2, 100);
-  in.Number("weighing_interval_tolerance_h", e.weighing_interval_tolerance_s, 0.0, 100.0, 3600.0);
-  in.Number("rate_limit_percent_per_min", e.rate_limit_fraction_per_min, 1e-8, 1.0, 0.01);
-  in.Number("rate_window_min", e.rate_window_s, 0.5, 10000.0, 60.0);
-  in.Bool("extrapolate_unfinished_steps", e.extrapolate_unfinished_steps);
-  in.Integer("exponential_terms", e.exponential_terms, 1, 2);
-  in.Number("tail_fraction", e.tail_fraction, 0.05, 1.0);
-  in.Number("max_tau_to_tail_ratio", e.max_tau_to_tail_ratio, 0.1, 1000.0);
-  // EquilibrateOptions needs 5 block means in a tail; 1000 is a full tail of a day-long step
-  // at 90 s blocks.
-  in.Integer("min_tail_points", e.min_tail_points, 5, kMaxTailPoints);
-  in.Bool("include_not_equilibrated", s.reduce.include_not_equilibrated);
-  // Below 0.1 s a block holds less than the fastest balance logs one row per (common practice).
-  in.Number("log_block_s", s.ingest.log_block_s, 0.1, 3600.0);
-  in.Number("log_gap_warning_min", s.ingest.log_gap_warning_s, 0.01, 1e6, 60.0);
-}
-
-void ReadFit(TableReader& in, JobSettings& s) {
-  auto& f = s.fit;
-  if (const toml::node* node = in.Node("models")) {
-    const toml::array* array = node->as_array();
-    if (array == nullptr || array->empty()) {
-      throw InputError(in.Where(node), in.Name("models") + " is not a list of model names",
-                       "e.g. models = [\"gab\", \"bet\"]");
-    }
-    f.models.clear();
-    for (const auto& element : *array) {
-      std::optional<std::string> name = element.value<std::string>();
-      if (!name) {
-        throw InputError(in.Where(&element), in.Name("models") + " holds a non-string",
-                         "model names as strings");
+// Reads every section of the table in order, records where the work settings are written.
+void ReadAllSettings(const toml::table& root, const std::string& file, JobSettings& s) {
+  const std::vector<SettingKey>& keys = SettingKeys();
+  for (std::size_t first = 0; first < keys.size();) {
+    const std::string section = keys[first].section;
+    TableReader in(SubTable(root, section, file), section, file);
+    std::size_t end = first;
+    for (; end < keys.size() && section == keys[end].section; ++end) {
+      ReadSetting(keys[end], in, s);
+      if (keys[end].work) {
+        s.work_keys[section + "." + keys[end].name] =
+            in.Has(keys[end].name) ? in.At(keys[end].name) : SourceLocation{file, 0, 0};
       }
-      if (fitters::FindModel(*name) == nullptr) {
-        throw InputError(in.Where(&element),
-                         in.Name("models") + ": unknown model \"" + Excerpt(*name) + "\"",
-                         "registry keys among " + ModelList());
-      }
-      if (std::find(f.models.begin(), f.models.end(), *name) != f.models.end()) {
-        throw InputError(in.Where(&element),
-                         in.Name("models") + ": \"" + *name + "\" is listed twice",
-                         "each model once");
-      }
-      f.models.push_back(*name);
     }
-  }
-  in.Number("bet_rh_min_percent", f.bet_rh_min_fraction, 0.0, 100.0, 0.01);
-  in.Number("bet_rh_max_percent", f.bet_rh_max_fraction, 0.0, 100.0, 0.01);
-  RequireBelow(in, "bet_rh_min_percent", f.bet_rh_min_fraction * 100.0, "bet_rh_max_percent",
-               f.bet_rh_max_fraction * 100.0);
-  f.loss = static_cast<fitters::LossKind>(
-      in.Choice("loss", {"squared", "huber", "soft_l1", "cauchy"}, static_cast<int>(f.loss)));
-  in.Number("loss_scale", f.loss_scale, 1e-6, 1e6);
-  in.Bool("errors_in_variables", f.errors_in_variables);
-  f.weights = static_cast<fitters::WeightConvention>(
-      in.Choice("weights", {"relative", "absolute"}, static_cast<int>(f.weights)));
-  in.Integer("bootstrap_resamples", f.bootstrap_resamples, 0, kMaxResamples);
-  in.Number("refit_tolerance_se", f.refit_tolerance_se, 0.0, 1.0);
-  f.bootstrap_kind = static_cast<fitters::ResampleKind>(
-      in.Choice("bootstrap", {"residual", "case"}, static_cast<int>(f.bootstrap_kind)));
-  in.Integer("monte_carlo_draws", f.monte_carlo_draws, 0, kMaxResamples);
-  in.Seed("seed", f.seed);
-  in.Integer("band_points", f.band_grid_points, 2, kMaxBandPoints);
-  in.Number("band_rh_min_percent", f.band_rh_min_fraction, 0.0, 100.0, 0.01);
-  in.Number("band_rh_max_percent", f.band_rh_max_fraction, 0.0, 100.0, 0.01);
-  RequireBelow(in, "band_rh_min_percent", f.band_rh_min_fraction * 100.0, "band_rh_max_percent",
-               f.band_rh_max_fraction * 100.0);
-  in.Number("confidence_level", f.confidence_level, 0.5, 0.9999);
-  in.Bool("include_retention_points", f.include_retention_points);
-}
-
-void ReadPores(TableReader& in, JobSettings& s) {
-  auto& p = s.pores;
-  p.geometry = static_cast<pores::PoreGeometry>(
-      in.Choice("geometry", {"open_cylinder", "closed_cylinder"}, static_cast<int>(p.geometry)));
-  p.film = static_cast<pores::FilmModel>(in.Choice(
-      "film", {"none", "constant", "fitted_layers", "badmann", "table"}, static_cast<int>(p.film)));
-  in.Number("film_thickness_nm", p.constant_film_thickness_m, 0.0, 1000.0, 1e-9);
-  in.Number("monolayer_thickness_nm", p.monolayer_thickness_m, 0.01, 10.0, 1e-9);
-  if (const toml::node* node = in.Node("film_table")) {
-    const toml::array* rows = node->as_array();
-    if (rows == nullptr || rows->size() < 2) {
-      throw InputError(in.Where(node), in.Name("film_table") + " is not a table of rows",
-                       "film_table = [[rh_percent, thickness_nm], ...] with at least 2 rows");
-    }
-    p.film_table.clear();
-    for (const auto& row : *rows) {
-      const toml::array* pair = row.as_array();
-      std::optional<double> rh =
-          pair && pair->size() == 2 ? (*pair)[0].value<double>() : std::nullopt;
-      std::optional<double> t =
-          pair && pair->size() == 2 ? (*pair)[1].value<double>() : std::nullopt;
-      if (!rh || !t || *rh <= 0 || *rh >= 100 || *t < 0) {
-        throw InputError(in.Where(&row), in.Name("film_table") + " row is invalid",
-                         "[rh_percent (0..100), thickness_nm (>= 0)]");
-      }
-      p.film_table.emplace_back(*rh / 100.0, *t * 1e-9);
-    }
-  }
-  double contact_angle_deg = p.contact_angle_rad * 180.0 / kPi;
-  in.Number("contact_angle_deg", contact_angle_deg, 0.0, 89.0);
-  p.contact_angle_rad = contact_angle_deg * kPi / 180.0;
-  in.Number("min_radius_nm", p.min_radius_m, 0.1, 1e6, 1e-9);
-  in.Number("max_radius_nm", p.max_radius_m, 0.0, 1e7, 1e-9);
-  if (p.max_radius_m != 0.0) {  // 0: up to the radius of the highest measured RH
-    RequireBelow(in, "min_radius_nm", p.min_radius_m * 1e9, "max_radius_nm", p.max_radius_m * 1e9);
-  }
-  in.Integer("grid_points", p.grid_points, 10, kMaxPoreGridPoints);
-  in.Integer("band_draws", p.band_draws, 0, kMaxResamples);
-  in.Seed("seed", p.seed);
-  if (const toml::node* node = in.Node("model")) {
-    std::optional<std::string> model = node->value<std::string>();
-    if (!model) {
-      throw InputError(in.Where(node), in.Name("model") + " is not a string",
-                       "\"best\" or a model name such as \"durner2\"");
-    }
-    p.source_model = *model;
-    const auto& fitted = s.fit.models;
-    if (p.source_model != "best" &&
-        std::find(fitted.begin(), fitted.end(), p.source_model) == fitted.end()) {
-      std::string list = "\"best\"";
-      for (const auto& name : fitted) list += ", \"" + name + "\"";
-      throw InputError(in.Where(node),
-                       in.Name("model") + " = \"" + Excerpt(p.source_model) +
-                           "\" is not a model of [fit] models",
-                       "one of " + list);
-    }
-  }
-  in.Bool("stepwise", p.stepwise);
-  in.Number("molecular_area_nm2", p.molecular_area_m2, 0.01, 10.0, 1e-18);
-  // A film at least as thick as the smallest pore leaves no core for the Kelvin equation.
-  if (p.film == pores::FilmModel::kConstant && p.constant_film_thickness_m >= p.min_radius_m) {
-    throw InputError(in.At(in.Has("film_thickness_nm") ? "film_thickness_nm" : "min_radius_nm"),
-                     in.Name("film_thickness_nm") + " = " +
-                         TableReader::Show(p.constant_film_thickness_m * 1e9) + " is not below " +
-                         in.Name("min_radius_nm") + " = " + TableReader::Show(p.min_radius_m * 1e9),
-                     "a film thinner than the smallest pore radius");
-  }
-  if (p.film == pores::FilmModel::kUserTable && p.film_table.empty()) {
-    throw InputError(in.At("film"), in.Name("film") + " = \"table\" without a film_table",
-                     "film_table = [[rh_percent, thickness_nm], ...] in [pores]");
+    CheckSection(section, in, s);
+    in.RejectUnknownKeys();
+    first = end;
   }
 }
 
-void ReadReferenceConditions(TableReader& in, std::vector<pores::ReferenceCondition>& target) {
-  const toml::node* node = in.Node("reference_conditions");
-  if (node == nullptr) return;
-  const toml::array* array = node->as_array();
-  if (array == nullptr || array->empty()) {
-    throw InputError(in.Where(node), in.Name("reference_conditions") + " is not a list",
-                     "reference_conditions = [{ temperature_C = 23, rh_percent = 50 }, ...]");
-  }
-  target.clear();
-  for (const auto& element : *array) {
-    const toml::table* row = element.as_table();
-    TableReader reader(row, in.Name("reference_conditions"), "");
-    std::optional<double> t = row ? (*row)["temperature_C"].value<double>() : std::nullopt;
-    std::optional<double> rh = row ? (*row)["rh_percent"].value<double>() : std::nullopt;
-    if (!row || row->size() != 2 || !t || !rh || *rh <= 0.0 || *rh >= 100.0 || *t < -50.0 ||
-        *t > 100.0) {
-      throw InputError(in.Where(&element), in.Name("reference_conditions") + " entry is invalid",
-                       "{ temperature_C = -50..100, rh_percent = 0..100 (exclusive) }");
+// A number for the README: %g without the exponent's padding (1e-6, 1e6).
+std::string ShowNumber(double value) {
+  std::string text = TableReader::Show(value);
+  for (const auto& [from, to] :
+       {std::pair{"e-0", "e-"}, std::pair{"e+0", "e"}, std::pair{"e+", "e"}}) {
+    if (const auto at = text.find(from); at != std::string::npos) {
+      text.replace(at, std::string(from).size(), to);
     }
-    target.push_back({physics::CelsiusToKelvin(*t), *rh / 100.0});
+  }
+  return text;
+}
+
+std::string DefaultText(const SettingKey& key, const JobSettings& defaults) {
+  if (key.default_text != nullptr) return key.default_text;
+  const nlohmann::ordered_json value = RecordSetting(key, defaults);
+  if (value.is_string()) return "`\"" + value.get<std::string>() + "\"`";
+  if (value.is_boolean()) return value.get<bool>() ? "true" : "false";
+  if (value.is_number_float()) return ShowNumber(value.get<double>());
+  return value.dump();
+}
+
+std::string AllowedText(const SettingKey& key) {
+  if (key.allowed_text != nullptr) return key.allowed_text;
+  std::string text;
+  switch (key.kind) {
+    case SettingKind::kBool:
+      return "bool";
+    case SettingKind::kChoice:
+      for (const std::string& choice : key.choices) {
+        text += (text.empty() ? "`\"" : ", `\"") + choice + "\"`";
+      }
+      return text;
+    case SettingKind::kInteger:
+    case SettingKind::kSeed:
+      text = fmt::format("{}..{}", static_cast<std::int64_t>(key.min),
+                         static_cast<std::int64_t>(key.max));
+      return key.work ? text + " (work)" : text;
+    default:
+      text = ShowNumber(key.min) + ".." + ShowNumber(key.max);
+      return key.work ? text + " (work)" : text;
   }
 }
+
+}  // namespace
+
+const std::vector<SettingKey>& SettingKeys() {
+  static const std::vector<SettingKey> keys = BuildSettingKeys();
+  return keys;
+}
+
+nlohmann::ordered_json RecordSetting(const SettingKey& key, const JobSettings& s) {
+  const double stored = key.kind == SettingKind::kCustom ? 0.0 : key.access.get(s);
+  switch (key.kind) {
+    case SettingKind::kNumber:
+      return AsWritten(stored / key.factor);
+    case SettingKind::kInteger:
+      return static_cast<int>(stored);
+    case SettingKind::kSeed:
+      return static_cast<std::uint64_t>(stored);
+    case SettingKind::kBool:
+      return stored != 0.0;
+    case SettingKind::kChoice: {
+      const auto index = static_cast<std::size_t>(stored);
+      return index < key.choices.size() ? key.choices[index] : std::string("?");
+    }
+    case SettingKind::kCustom:
+      return key.record(s);
+  }
+  return nullptr;
+}
+
+std::string SettingsMarkdownTable() {
+  const JobSettings defaults;
+  std::string text =
+      "| key | default | allowed | meaning |\n"
+      "|---|---|---|---|\n";
+  std::string section;
+  for (const SettingKey& key : SettingKeys()) {
+    const std::string name = section == key.section
+                                 ? fmt::format("`{}`", key.name)
+                                 : fmt::format("`[{}]` `{}`", key.section, key.name);
+    section = key.section;
+    text += fmt::format("| {} | {} | {} | {} |\n", name, DefaultText(key, defaults),
+                        AllowedText(key), key.doc);
+  }
+  return text;
+}
+
+}  // namespace internal
+
+namespace {
 
 // `template = "..."` names a file (relative to the job file) rather than templates/<name>.toml.
 bool IsTemplatePath(const std::string& name_or_path) {
@@ -365,69 +897,10 @@ bool IsTemplatePath(const std::string& name_or_path) {
 
 nlohmann::ordered_json Effective(const JobSettings& s) {
   nlohmann::ordered_json j;
-  const auto& e = s.equilibrate;
-  j["equilibrium"] = {{"mass_change_limit_percent", e.mass_change_limit_fraction * 100.0},
-                      {"min_weighing_interval_h", e.min_weighing_interval_s / 3600.0},
-                      {"min_weighings", e.min_weighings},
-                      {"weighing_interval_tolerance_h", e.weighing_interval_tolerance_s / 3600.0},
-                      {"rate_limit_percent_per_min", e.rate_limit_fraction_per_min * 100.0},
-                      {"rate_window_min", e.rate_window_s / 60.0},
-                      {"extrapolate_unfinished_steps", e.extrapolate_unfinished_steps},
-                      {"exponential_terms", e.exponential_terms},
-                      {"tail_fraction", e.tail_fraction},
-                      {"max_tau_to_tail_ratio", e.max_tau_to_tail_ratio},
-                      {"min_tail_points", e.min_tail_points},
-                      {"include_not_equilibrated", s.reduce.include_not_equilibrated},
-                      {"log_block_s", s.ingest.log_block_s},
-                      {"log_gap_warning_min", s.ingest.log_gap_warning_s / 60.0}};
-  const auto& f = s.fit;
-  static const char* kLoss[] = {"squared", "huber", "soft_l1", "cauchy"};
-  static const char* kWeights[] = {"relative", "absolute"};
-  static const char* kBootstrap[] = {"residual", "case", "monte_carlo"};
-  j["fit"] = {{"models", f.models},
-              {"bet_rh_min_percent", f.bet_rh_min_fraction * 100.0},
-              {"bet_rh_max_percent", f.bet_rh_max_fraction * 100.0},
-              {"loss", kLoss[static_cast<int>(f.loss)]},
-              {"loss_scale", f.loss_scale},
-              {"errors_in_variables", f.errors_in_variables},
-              {"weights", kWeights[static_cast<int>(f.weights)]},
-              {"bootstrap_resamples", f.bootstrap_resamples},
-              {"bootstrap", kBootstrap[static_cast<int>(f.bootstrap_kind)]},
-              {"refit_tolerance_se", f.refit_tolerance_se},
-              {"monte_carlo_draws", f.monte_carlo_draws},
-              {"seed", f.seed},
-              {"band_points", f.band_grid_points},
-              {"band_rh_min_percent", f.band_rh_min_fraction * 100.0},
-              {"band_rh_max_percent", f.band_rh_max_fraction * 100.0},
-              {"confidence_level", f.confidence_level},
-              {"include_retention_points", f.include_retention_points}};
-  const auto& p = s.pores;
-  static const char* kGeometry[] = {"open_cylinder", "closed_cylinder"};
-  static const char* kFilm[] = {"none", "constant", "fitted_layers", "badmann", "table"};
-  nlohmann::ordered_json table = nlohmann::ordered_json::array();
-  for (const auto& [rh, t] : p.film_table) table.push_back({rh * 100.0, t * 1e9});
-  nlohmann::ordered_json references = nlohmann::ordered_json::array();
-  for (const auto& c : p.reference_conditions) {
-    references.push_back({{"temperature_C", physics::KelvinToCelsius(c.temperature_K)},
-                          {"rh_percent", c.rh_fraction * 100.0}});
+  for (const internal::SettingKey& key : internal::SettingKeys()) {
+    j[key.section][key.name] = internal::RecordSetting(key, s);
   }
-  j["pores"] = {{"geometry", kGeometry[static_cast<int>(p.geometry)]},
-                {"film", kFilm[static_cast<int>(p.film)]},
-                {"film_thickness_nm", p.constant_film_thickness_m * 1e9},
-                {"monolayer_thickness_nm", p.monolayer_thickness_m * 1e9},
-                {"film_table", table},
-                {"contact_angle_deg", p.contact_angle_rad * 180.0 / kPi},
-                {"min_radius_nm", p.min_radius_m * 1e9},
-                {"max_radius_nm", p.max_radius_m * 1e9},
-                {"grid_points", p.grid_points},
-                {"band_draws", p.band_draws},
-                {"seed", p.seed},
-                {"model", p.source_model},
-                {"stepwise", p.stepwise},
-                {"molecular_area_nm2", p.molecular_area_m2 * 1e18},
-                {"reference_conditions", references}};
-  j["report"] = {{"coverage_factor", s.reduce.coverage_factor},
-                 {"template", s.template_file.filename().string()}};
+  j["report"]["template"] = s.template_file.filename().string();
   return j;
 }
 
@@ -480,31 +953,7 @@ JobSettings LoadJobSettings(const std::filesystem::path& job_file, const ingest:
     settings.pores.reference_conditions = layout.reference_conditions;
   }
 
-  TableReader equilibrium(SubTable(root, "equilibrium", file), "equilibrium", file);
-  ReadEquilibrium(equilibrium, settings);
-  equilibrium.RejectUnknownKeys();
-
-  TableReader fit(SubTable(root, "fit", file), "fit", file);
-  ReadFit(fit, settings);
-  fit.RejectUnknownKeys();
-
-  TableReader pores(SubTable(root, "pores", file), "pores", file);
-  ReadPores(pores, settings);
-  ReadReferenceConditions(pores, settings.pores.reference_conditions);
-  pores.RejectUnknownKeys();
-
-  TableReader report(SubTable(root, "report", file), "report", file);
-  report.Number("coverage_factor", settings.reduce.coverage_factor, 1.0, 5.0);
-  report.RejectUnknownKeys();
-
-  for (const char* key : {"models", "bootstrap_resamples", "monte_carlo_draws", "band_points"}) {
-    settings.work_keys[std::string("fit.") + key] =
-        fit.Has(key) ? fit.At(key) : SourceLocation{file, 0, 0};
-  }
-  for (const char* key : {"grid_points", "band_draws"}) {
-    settings.work_keys[std::string("pores.") + key] =
-        pores.Has(key) ? pores.At(key) : SourceLocation{file, 0, 0};
-  }
+  internal::ReadAllSettings(root, file, settings);
 
   // The pore-distribution band is drawn at the fit stage's confidence level.
   settings.pores.band_confidence_level = settings.fit.confidence_level;

@@ -18,6 +18,7 @@
 #include "pipeline/common/files.h"
 #include "pipeline/run/audit.h"
 #include "pipeline/run/commands.h"
+#include "pipeline/run/exit_status.h"
 #include "pipeline/run/run.h"
 
 namespace sorbtrace::run {
@@ -50,7 +51,7 @@ std::filesystem::path ResolveRecordedInput(const std::string& recorded,
                                            const std::string& results_file) {
   namespace fs = std::filesystem;
   const fs::path written(recorded);
-  const fs::path candidate = (job_dir / written).lexically_normal();
+  fs::path candidate = (job_dir / written).lexically_normal();  // not const: returned by move
   const fs::path relative = written.lexically_normal();
   const bool escapes = written.is_absolute() || written.has_root_name() ||
                        (!relative.empty() && *relative.begin() == "..");
@@ -244,15 +245,8 @@ void AddVerifyCommand(CLI::App& app, int& exit_code) {
   command->callback([args, &exit_code] {
     try {
       exit_code = Verify(*args);
-    } catch (const InputError& error) {
-      std::fprintf(stderr, "%s\n", error.what());
-      exit_code = static_cast<int>(ExitCode::kBadInput);
-    } catch (const ComputationError& error) {
-      std::fprintf(stderr, "sorbtrace: fit failure: %s\n", error.what());
-      exit_code = static_cast<int>(ExitCode::kFitFailure);
-    } catch (const OutputError& error) {
-      std::fprintf(stderr, "sorbtrace: output error: %s\n", error.what());
-      exit_code = static_cast<int>(ExitCode::kOutputError);
+    } catch (const std::exception& error) {
+      exit_code = ReportFailure(error);
     }
   });
 }

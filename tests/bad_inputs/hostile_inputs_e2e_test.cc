@@ -16,6 +16,8 @@
 #include <sstream>
 #include <string>
 
+#include "tests/common/e2e_support.h"
+
 namespace sorbtrace {
 namespace {
 
@@ -23,75 +25,13 @@ namespace fs = std::filesystem;
 
 const fs::path kSource = fs::path(SORBTRACE_SOURCE_DIR);
 
-struct Outcome {
-  int exit_code = -1;
-  std::string output;
-};
-
-Outcome Sorbtrace(const fs::path& dir, const std::string& arguments) {
-  const std::string command =
-      "cd '" + dir.string() + "' && '" + SORBTRACE_BINARY + "' " + arguments + " 2>&1";
-  Outcome run;
-  FILE* pipe = popen(command.c_str(), "r");
-  if (pipe == nullptr) return run;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
-  const int status = pclose(pipe);
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return run;
-}
-
-std::string ReadBytes(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream out;
-  out << in.rdbuf();
-  return out.str();
-}
-
-void WriteBytes(const fs::path& path, const std::string& bytes) {
-  fs::create_directories(path.parent_path());
-  std::ofstream out(path, std::ios::binary | std::ios::trunc);
-  out << bytes;
-}
-
-// Every regular file below `dir` with its bytes (links are not followed).
-std::map<std::string, std::string> Snapshot(const fs::path& dir) {
-  std::map<std::string, std::string> files;
-  for (const auto& entry : fs::recursive_directory_iterator(dir)) {
-    if (entry.is_regular_file() && !entry.is_symlink()) {
-      files[fs::relative(entry.path(), dir).generic_string()] = ReadBytes(entry.path());
-    }
-  }
-  return files;
-}
-
-struct Located {
-  bool found = false;
-  std::string file;
-  int line = 0;
-  int column = 0;
-  std::string text;
-  std::string whole_line;
-};
-
-Located FirstError(const std::string& output) {
-  static const std::regex kError(R"(^(.+?)(?::(\d+))?(?::(\d+))?: error: (.*)$)");
-  std::istringstream lines(output);
-  std::string line;
-  while (std::getline(lines, line)) {
-    std::smatch match;
-    if (std::regex_match(line, match, kError)) {
-      return {true,
-              match[1].str(),
-              match[2].matched ? std::stoi(match[2].str()) : 0,
-              match[3].matched ? std::stoi(match[3].str()) : 0,
-              match[4].str(),
-              line};
-    }
-  }
-  return {};
-}
+using e2e::FirstError;
+using e2e::Located;
+using e2e::Outcome;
+using e2e::ReadBytes;
+using e2e::Snapshot;
+using e2e::Sorbtrace;
+using e2e::WriteBytes;
 
 // A job folder with one desiccator data file (the corpus's plain case) under a fresh root;
 // root/out is where `make` is pointed.
@@ -99,8 +39,7 @@ class HostileInputTest : public ::testing::Test {
  protected:
   void SetUp() override {
     const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    root_ = fs::temp_directory_path() / (std::string("sorbtrace_hostile_") + info->name());
-    fs::remove_all(root_);
+    root_ = e2e::FreshDir("hostile", info->name());
     job_dir_ = root_ / "in";
     const fs::path base =
         kSource / "tests" / "bad_inputs" / "corpus" / "job_fit_value_out_of_range";

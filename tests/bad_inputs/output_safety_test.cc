@@ -26,6 +26,7 @@
 #include <vector>
 
 #include "pipeline/common/files.h"
+#include "tests/common/e2e_support.h"
 
 namespace sorbtrace {
 namespace {
@@ -34,10 +35,8 @@ namespace fs = std::filesystem;
 
 constexpr char kJobId[] = "HBPL-2026-0307";  // [job] id of the copied example job
 
-struct Outcome {
-  int exit_code = -1;  // as a shell reports it: 128 + n for a process ended by signal n
-  std::string output;  // stdout and stderr
-};
+using e2e::Outcome;
+using e2e::Shell;
 
 class OutputSafetyTest : public ::testing::Test {
  protected:
@@ -65,18 +64,6 @@ class OutputSafetyTest : public ::testing::Test {
     const std::string command = "cd '" + (dir.empty() ? lab_ : dir).string() + "' && " + env +
                                 " timeout 120 '" + SORBTRACE_BINARY + "' " + args + " 2>&1";
     return Shell(command);
-  }
-
-  static Outcome Shell(const std::string& command) {
-    Outcome run;
-    FILE* pipe = popen(command.c_str(), "r");
-    if (pipe == nullptr) return run;
-    char buffer[4096];
-    size_t got = 0;
-    while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
-    const int status = pclose(pipe);
-    run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-    return run;
   }
 
   // SHA-256 of every regular file under root (symbolic links and FIFOs are not followed).
@@ -452,8 +439,7 @@ TEST_F(VerifySafetyTest, NonRegularInputsAreNamedAndNeverRead) {
   // A link to /dev/zero is named as what it is (a device) before the data-path policy looks
   // where it points.
   for (const Variant& variant :
-       {Variant{"fifo", "is a FIFO", "is a FIFO"},
-        Variant{"zero", "is a device", "is a device"},
+       {Variant{"fifo", "is a FIFO", "is a FIFO"}, Variant{"zero", "is a device", "is a device"},
         Variant{"folder", "is a folder", "is a folder"},
         Variant{"loop", "symbolic-link loop", "symbolic-link loop"}}) {
     if (variant.name == "fifo") {

@@ -23,6 +23,8 @@
 #include <utility>
 #include <vector>
 
+#include "tests/common/e2e_support.h"
+
 namespace sorbtrace {
 namespace {
 
@@ -31,155 +33,23 @@ namespace fs = std::filesystem;
 const fs::path kSource = fs::path(SORBTRACE_SOURCE_DIR);
 const fs::path kCorpus = kSource / "tests" / "bad_inputs" / "plausibility";
 
-struct Outcome {
-  int exit_code = -1;
-  std::string output;
-};
+using e2e::Case;
+using e2e::CaseName;
+using e2e::Outcome;
+using e2e::ReadBytes;
+using e2e::Shell;
+using e2e::Snapshot;
+using e2e::Sorbtrace;
+using e2e::WriteBytes;
 
-// Runs a shell command and collects its output (stdout and stderr).
-Outcome Shell(const std::string& command) {
-  Outcome run;
-  FILE* pipe = popen((command + " 2>&1").c_str(), "r");
-  if (pipe == nullptr) return run;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
-  const int status = pclose(pipe);
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return run;
-}
+std::vector<Case> LoadCases() { return e2e::LoadCases(kCorpus / "cases.tsv"); }
 
-// Runs the binary inside `dir` (so messages name files as the job writes them).
-Outcome Sorbtrace(const fs::path& dir, const std::string& arguments) {
-  return Shell("cd '" + dir.string() + "' && '" + SORBTRACE_BINARY + "' " + arguments);
-}
-
-std::string ReadBytes(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream out;
-  out << in.rdbuf();
-  return out.str();
-}
-
-void WriteBytes(const fs::path& path, const std::string& bytes) {
-  std::ofstream out(path, std::ios::binary | std::ios::trunc);
-  out << bytes;
-}
-
-// Every regular file below `dir` with its bytes.
-std::map<std::string, std::string> Snapshot(const fs::path& dir) {
-  std::map<std::string, std::string> files;
-  for (const auto& entry : fs::recursive_directory_iterator(dir)) {
-    if (entry.is_regular_file()) {
-      files[fs::relative(entry.path(), dir).generic_string()] = ReadBytes(entry.path());
-    }
-  }
-  return files;
-}
-
-fs::path FreshDir(const std::string& name) {
-  const fs::path dir = fs::temp_directory_path() / ("sorbtrace_plausibility_" + name);
-  fs::remove_all(dir);
-  fs::create_directories(dir);
-  return dir;
-}
-
-struct Case {
-  std::string name;
-  std::string verb;
-  int exit_code = 0;
-  std::string file;
-  int line = 0;
-  int column = 0;
-  std::string substring;
-};
-
-std::vector<Case> LoadCases() {
-  std::vector<Case> cases;
-  std::ifstream in(kCorpus / "cases.tsv");
-  std::string line;
-  bool header = true;
-  while (std::getline(in, line)) {
-    if (line.empty() || line[0] == '#') continue;
-    if (header) {
-      header = false;
-      continue;
-    }
-    std::vector<std::string> fields;
-    std::stringstream stream(line);
-    std::string field;
-    while (std::getline(stream, field, '\t')) fields.push_back(field);
-    if (fields.size() != 7) {
-      ADD_FAILURE() << "cases.tsv: expected 7 tab-separated fields: " << line;
-      continue;
-    }
-    cases.push_back({fields[0], fields[1], std::stoi(fields[2]), fields[3], std::stoi(fields[4]),
-                     std::stoi(fields[5]), fields[6]});
-  }
-  return cases;
-}
-
-// The first "file[:line[:column]]: error: ..." line of the output.
-struct Located {
-  bool found = false;
-  std::string file;
-  int line = 0;
-  int column = 0;
-  std::string text;
-};
-
-Located FirstError(const std::string& output) {
-  static const std::regex kError(R"(^(.+?)(?::(\d+))?(?::(\d+))?: error: (.*)$)");
-  std::istringstream lines(output);
-  std::string line;
-  while (std::getline(lines, line)) {
-    std::smatch match;
-    if (std::regex_match(line, match, kError)) {
-      return {true, match[1].str(), match[2].matched ? std::stoi(match[2].str()) : 0,
-              match[3].matched ? std::stoi(match[3].str()) : 0, match[4].str()};
-    }
-  }
-  return {};
-}
+fs::path FreshDir(const std::string& name) { return e2e::FreshDir("plausibility", name); }
 
 class PlausibilityTest : public ::testing::TestWithParam<Case> {};
 
 TEST_P(PlausibilityTest, IsRefusedWithALocatedMessageAndWritesNothing) {
-  const Case& c = GetParam();
-  const fs::path root = FreshDir(c.name + "_" + c.verb);
-  const fs::path in = root / "in";
-  ASSERT_TRUE(fs::is_directory(kCorpus / c.name)) << c.name;
-  fs::copy(kCorpus / c.name, in, fs::copy_options::recursive);
-  WriteBytes(root / "notes.txt", "a file of the user beside the output folder\n");
-  const auto before = Snapshot(root);
-  ASSERT_TRUE(before.count("in/job.toml")) << c.name << " has no job.toml";
-
-  const fs::path out = root / "out";
-  const std::string arguments =
-      c.verb == "make" ? "make job.toml --out '" + out.string() + "' -q" : c.verb + " job.toml";
-  const Outcome run = Sorbtrace(in, arguments);
-
-  EXPECT_EQ(run.exit_code, c.exit_code) << run.output;
-  const Located error = FirstError(run.output);
-  ASSERT_TRUE(error.found) << "no 'file:line:column: error:' line in:\n" << run.output;
-  EXPECT_EQ(fs::path(error.file).filename().string(), c.file) << run.output;
-  EXPECT_EQ(error.line, c.line) << run.output;
-  EXPECT_EQ(error.column, c.column) << run.output;
-  EXPECT_NE(error.text.find(c.substring), std::string::npos) << "'" << c.substring << "' not in:\n"
-                                                             << run.output;
-  EXPECT_NE(error.text.find("; expected "), std::string::npos) << run.output;
-
-  EXPECT_FALSE(fs::exists(out)) << "output folder created for a bad input";
-  EXPECT_FALSE(fs::exists(in / "sorbtrace_output"));
-  EXPECT_EQ(Snapshot(root), before) << "inputs changed or files were added";
-  fs::remove_all(root);
-}
-
-std::string CaseName(const ::testing::TestParamInfo<Case>& info) {
-  std::string name = info.param.name + "_" + info.param.verb;
-  std::replace_if(
-      name.begin(), name.end(), [](char ch) { return !std::isalnum(ch); }, '_');
-  return name;
+  e2e::ExpectLocatedRefusal(GetParam(), kCorpus, "plausibility");
 }
 
 INSTANTIATE_TEST_SUITE_P(Corpus, PlausibilityTest, ::testing::ValuesIn(LoadCases()), CaseName);

@@ -157,6 +157,10 @@ TEST(EquilibrateDesiccatorTest, FinalDryingStepAndDryMassChangeWarning) {
       in.desiccator_series[0].steps.begin() + 2,
       Step("A", 2, "desiccant", ingest::Branch::kDrying,
            {{144, 10.06}, {168, 10.0501}, {192, 10.0500}, {216, 10.0500}}));
+  // B ends on a drying step as well ("final_drying_step" needs one: ingest::FindDryMassSources).
+  in.desiccator_series[0].steps.push_back(
+      Step("B", 2, "desiccant", ingest::Branch::kDrying,
+           {{144, 12.0100}, {168, 12.0001}, {192, 12.0000}, {216, 12.0000}}));
   const EquilibriumSet set = Equilibrate(in, EquilibrateOptions{});
   EXPECT_DOUBLE_EQ(set.dry_masses[0].mass_g, 10.0500);
   EXPECT_EQ(set.dry_masses[0].step_index, 2);
@@ -170,16 +174,14 @@ TEST(EquilibrateDesiccatorTest, FinalDryingStepAndDryMassChangeWarning) {
 
 TEST(EquilibrateDesiccatorTest, MissingDryMassIsAnInputError) {
   ingest::IngestResult in = DesiccatorJob(ingest::DryMassMethod::kOvenDrying);
-  // No stated dry mass, no oven step for A or B: the drying steps are desiccant steps, which
-  // are still accepted for "oven" (first drying step); remove them to provoke the error.
-  auto& steps = in.desiccator_series[0].steps;
-  steps.erase(steps.begin());
+  // No stated dry mass and no oven step for A or B (their drying steps are desiccant steps):
+  // "oven" has no source (the rule of ingest::FindDryMassSources).
   try {
     Equilibrate(in, EquilibrateOptions{});
     FAIL() << "expected InputError";
   } catch (const InputError& error) {
-    EXPECT_EQ(error.diagnostic().message, "dry mass missing for specimen 'A'");
-    EXPECT_EQ(error.diagnostic().where.file, "job.toml");
+    EXPECT_EQ(error.diagnostic().message, "no dry mass for specimen 'A'");
+    EXPECT_NE(error.diagnostic().expected.find("atmosphere oven"), std::string::npos);
   }
 }
 

@@ -3,9 +3,12 @@
 #include "pipeline/ingest/ingest.h"
 
 #include <gtest/gtest.h>
+#include <unistd.h>
 
 #include <cmath>
 #include <filesystem>
+#include <fstream>
+#include <iterator>
 #include <string>
 
 #include "pipeline/common/files.h"
@@ -22,6 +25,9 @@ TEST(LoadJobSpecTest, ReadsEveryKey) {
   EXPECT_EQ(job.issue_date, "2026-10-20");
   EXPECT_EQ(job.template_name, "full");
   EXPECT_EQ(job.test_dates, "2026-09-01 to 2026-10-12");
+  EXPECT_EQ(job.material_class, MaterialClass::kPorousMineral);
+  EXPECT_EQ(job.test_method, TestMethod::kIso12571Desiccator);
+  EXPECT_EQ(TestMethodCitation(job.test_method), "ISO 12571:2021, desiccator method");
   EXPECT_EQ(job.material_name, "Lime-hemp plaster LH-3");
   EXPECT_EQ(job.material_description, "Hand-applied plaster, 28 days cured");
   EXPECT_EQ(job.client, "Example Building Materials Ltd.");
@@ -37,7 +43,7 @@ TEST(LoadJobSpecTest, ReadsEveryKey) {
   EXPECT_EQ(job.specimens[0].id, "P1");
   EXPECT_EQ(job.specimens[0].dry_mass_g, 24.1830);
   EXPECT_FALSE(job.specimens[0].bulk_density_kg_per_m3.has_value());
-  EXPECT_EQ(job.specimens[0].where.line, 21);
+  EXPECT_EQ(job.specimens[0].where.line, 23);  // its [[specimen]] header
   EXPECT_EQ(job.specimens[1].id, "P2");
   EXPECT_FALSE(job.specimens[1].dry_mass_g.has_value());
   EXPECT_EQ(job.specimens[1].bulk_density_kg_per_m3, 780.0);
@@ -57,6 +63,40 @@ TEST(LoadJobSpecTest, ReadsEveryKey) {
   ASSERT_TRUE(job.retention.has_value());
   EXPECT_EQ(job.retention->file, std::filesystem::path(kFixtures + "retention.csv"));
   EXPECT_EQ(job.retention->temperature_K, 20.0 + kZeroCelsius_K);
+}
+
+// [job] material_class and method: optional (unstated when absent), each value read back.
+TEST(LoadJobSpecTest, MaterialClassAndMethodAreOptionalAndRead) {
+  const JobSpec european = LoadJobSpec(kFixtures + "job_european.toml");
+  EXPECT_EQ(european.material_class, MaterialClass::kUnstated);
+  EXPECT_EQ(european.test_method, TestMethod::kUnstated);
+  EXPECT_EQ(TestMethodCitation(european.test_method), "");
+  // Citations as the standards name themselves (ISO 12571:2021 title page; ASTM C1498-04a).
+  EXPECT_EQ(TestMethodCitation(TestMethod::kIso12571ClimaticChamber),
+            "ISO 12571:2021, climatic-chamber method");
+  EXPECT_EQ(TestMethodCitation(TestMethod::kAstmC1498), "ASTM C1498-04a");
+  const auto dir = std::filesystem::temp_directory_path() /
+                   ("sorbtrace_ingest_class_" + std::to_string(::getpid()));
+  std::filesystem::create_directories(dir);
+  const std::string basic = [] {
+    std::ifstream in(kFixtures + "job_basic.toml");
+    return std::string(std::istreambuf_iterator<char>(in), {});
+  }();
+  for (const MaterialClass c :
+       {MaterialClass::kPorousMineral, MaterialClass::kWoodOrFibre, MaterialClass::kPolymer,
+        MaterialClass::kPharmaceuticalPowder, MaterialClass::kFood, MaterialClass::kOther}) {
+    std::string text = basic;
+    const std::string from = "material_class = \"porous_mineral\"";
+    text.replace(text.find(from), from.size(),
+                 "material_class = \"" + std::string(MaterialClassName(c)) + "\"");
+    std::ofstream(dir / "job.toml") << text;
+    for (const char* file : {"desiccator.csv", "vapour_log.csv", "retention.csv"}) {
+      std::filesystem::copy_file(kFixtures + file, dir / file,
+                                 std::filesystem::copy_options::overwrite_existing);
+    }
+    EXPECT_EQ(LoadJobSpec(dir / "job.toml").material_class, c) << MaterialClassName(c);
+  }
+  std::filesystem::remove_all(dir);
 }
 
 TEST(IngestTest, WholeJob) {

@@ -20,40 +20,22 @@
 #include <vector>
 
 #include "pipeline/common/files.h"
+#include "tests/common/e2e_support.h"
 
 namespace sorbtrace {
 namespace {
 
 namespace fs = std::filesystem;
 
-struct CommandRun {
-  int exit_code = -1;
-  std::string output;  // stdout and stderr
-};
-
-CommandRun Sorbtrace(const std::string& arguments) {
-  const std::string command = std::string(SORBTRACE_BINARY) + " " + arguments + " 2>&1";
-  CommandRun run;
-  FILE* pipe = popen(command.c_str(), "r");
-  if (pipe == nullptr) return run;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
-  const int status = pclose(pipe);
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return run;
-}
+using CommandRun = e2e::Outcome;
+using e2e::Sorbtrace;
 
 // A fresh copy of example_inputs/ in a temporary folder, so tests never touch the originals.
 class RunE2eTest : public ::testing::Test {
  protected:
   void SetUp() override {
     const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    // The process id keeps concurrent runs (other build trees, ctest -j) apart.
-    root_ = fs::temp_directory_path() /
-            ("sorbtrace_e2e_" + std::string(info->name()) + "_" + std::to_string(::getpid()));
-    fs::remove_all(root_);
-    fs::create_directories(root_);
+    root_ = e2e::FreshDir("e2e", info->name());
     fs::copy(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs", root_ / "inputs",
              fs::copy_options::recursive);
   }
@@ -175,6 +157,26 @@ TEST_F(RunE2eTest, AuditPassesWhateverTheWorkingFoldersOfMakeAndVerify) {
   ASSERT_EQ(std::system(make.c_str()), 0);
   const CommandRun audit = Sorbtrace("verify " + (root_ / "issued" / "results.json").string());
   EXPECT_EQ(audit.exit_code, 0) << audit.output;
+}
+
+// `check` and `make` run the same first stages in the same order (run::PrepareJob): check
+// lists the inputs results.json records (job file, data files, template), in the same order.
+TEST_F(RunE2eTest, CheckListsTheInputsResultsJsonRecords) {
+  const fs::path job = Jobs().front();
+  const fs::path out = root_ / "out";
+  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + out.string() + " -q").exit_code, 0);
+  const CommandRun checked = Sorbtrace("check " + job.string() + " --json");
+  ASSERT_EQ(checked.exit_code, 0) << checked.output;
+  const auto check = nlohmann::json::parse(checked.output.substr(checked.output.find('{')));
+  std::ifstream results_file(out / "results.json");
+  const auto results = nlohmann::json::parse(results_file);
+  std::vector<std::string> from_check;
+  std::vector<std::string> from_results;
+  for (const auto& input : check["inputs"]) from_check.push_back(input["role"]);
+  for (const auto& input : results["inputs"]) from_results.push_back(input["role"]);
+  EXPECT_EQ(from_check, from_results);
+  ASSERT_GE(from_check.size(), 3u);
+  EXPECT_EQ(from_check.back(), "template");
 }
 
 TEST_F(RunE2eTest, AuditFailsAfterOneInputByteChanges) {
