@@ -316,7 +316,8 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
         for (std::size_t i = 0; i < n; ++i) {
           data[i] = observations[i];
           const double e = pool.residual[random.Index(n)];
-          drawn_y[i] = e * pool.normal_y[i] + full_fit.fitted[i] * shift[i] / observations[i].sigma_y;
+          drawn_y[i] =
+              e * pool.normal_y[i] + full_fit.fitted[i] * shift[i] / observations[i].sigma_y;
           drawn_x[i] = e * pool.normal_x[i];
           data[i].y = full_fit.fitted[i] + observations[i].sigma_y * drawn_y[i];
           if (pool.normal_x[i] != 0.0) {
