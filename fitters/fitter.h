@@ -182,8 +182,9 @@ enum class ResampleKind {
 
 // A relative factor (1 + z) that several observations share, z ~ N(0, u^2) drawn once per
 // resample and applied to every observation it acts on: y_i -> y_i (1 + w_i z) (a correlated
-// input, JCGM 100:2008 F.1.2.3; drawn once per trial as JCGM 101:2008, 6.4.1 and 7.3, draws each
-// input quantity once per trial). The residuals do not show it (it moves every point alike, and
+// input, JCGM 100:2008 F.1.2.3; JCGM 101:2008, clause 7, draws one value of every input quantity
+// per trial, so a quantity shared by several points is drawn once; clause numbers from memory).
+// The residuals do not show it (it moves every point alike, and
 // the fit absorbs it), so the bootstraps draw it too, as a parametric component. Used by the
 // fit stage for the specimen term (pipeline/reduce/reduce.h); none = no extra draws.
 struct CommonFactor {

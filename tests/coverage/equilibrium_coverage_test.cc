@@ -2,7 +2,8 @@
 // through equilibrate -> reduce -> fit (GAB, errors in variables) -> pores (reference
 // conditions): for every reported equilibrium point, the GAB parameters and the moisture
 // contents at 23 degC / 50 % and 80 % RH, the share of replicates whose truth lies inside
-// value ± U must lie in 90-98 % (U at about 95 %: k = 2 or the Student-t k of the point), and
+// value ± U must lie in 90-98 % (U at about 95 %: k = 2 or the Student-t k of the point, of the
+// parameter, or of the curve at the reference condition from its nu_eff), and
 // the mean reported standard uncertainty over the scatter of the errors between 0.7 and 1.5
 // (JCGM 100:2008, 3.3 / 6.2: u describes the dispersion of the values that could reasonably be
 // attributed to the measurand; acceptance band common practice).
