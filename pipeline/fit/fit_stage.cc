@@ -285,6 +285,11 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
           ? static_cast<double>(std::max(1, fit.result.statistics.degrees_of_freedom))
           : fitters::kInfinity;
   const std::vector<SpecimenFactor> factors = FactorsOf(group, fit.used_observations);
+  if (options.weights == fitters::WeightConvention::kAbsolute) {
+    for (const SpecimenFactor& factor : factors) {
+      fit.independent_dof = std::min(fit.independent_dof, factor.independent_degrees_of_freedom);
+    }
+  }
   if (!factors.empty() && fit.result.summary.covariance_available &&
       !ApplySpecimenTerm(model, observations, context, fit_options, factors, &fit)) {
     AddFlag(&fit.flags,

@@ -90,8 +90,10 @@ struct FitStageOptions {
 //    the few degrees of freedom are carried by nu_eff and k instead (below);
 //  - effective degrees of freedom (JCGM 100:2008, G.4, Eq. G.2b) per parameter and for any
 //    derived quantity with gradient g: u^2 = g' C_ind g + sum_k (g's_k u_k)^2,
-//    nu_eff = u^4 / (sum_k (g's_k u_k)^4 / nu_k + (g' C_ind g)^2 / nu_ind), nu_ind infinite under
-//    absolute weights (Type B sigmas) and n - p under relative weights; the expanded uncertainty
+//    nu_eff = u^4 / (sum_k (g's_k u_k)^4 / nu_k + (g' C_ind g)^2 / nu_ind), nu_ind under
+//    absolute weights the smallest nu_e of the factors' data sets whose independent lines are
+//    the pooled Type A estimate (infinite where the evaluated parts, Type B, are the weights),
+//    and n - p under relative weights; the expanded uncertainty
 //    uses k = reduce::CoverageFactor(nu_eff, coverage factor) and the Student-t interval at
 //    confidence_level t(nu_eff). With S = 3 specimens and the specimen term dominant, nu_eff ~ 2
 //    and k ~ 4.5: honest for a mean over three specimens.
@@ -101,6 +103,9 @@ struct SpecimenFactor {
   std::vector<std::string> specimen_ids;           // the merged specimens
   double relative_standard_uncertainty = 0.0;      // u_k of z_k
   double degrees_of_freedom = fitters::kInfinity;  // nu_d of the data set's term
+  // nu_e of the data set's independent lines where they are the pooled Type A estimate (phi >
+  // 1 in reduce.h), else infinity: the weights of the points it acts on are that estimate.
+  double independent_degrees_of_freedom = fitters::kInfinity;
   std::vector<double> weights;  // per observation of the group: 1 / n_i, 0 where not acting
 };
 
