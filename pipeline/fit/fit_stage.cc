@@ -285,6 +285,10 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
           ? static_cast<double>(std::max(1, fit.result.statistics.degrees_of_freedom))
           : fitters::kInfinity;
   const std::vector<SpecimenFactor> factors = FactorsOf(group, fit.used_observations);
+  // The resampling starts from the fit as weighted (standard errors of the independent parts):
+  // its studentised pivots and refit tolerances are in those units, and it draws the specimen
+  // factors itself (fitters::CommonFactor).
+  const fitters::FitResult resample_base = fit.result;
   if (options.weights == fitters::WeightConvention::kAbsolute) {
     for (const SpecimenFactor& factor : factors) {
       fit.independent_dof = std::min(fit.independent_dof, factor.independent_degrees_of_freedom);
@@ -326,7 +330,7 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
         internal::StreamState(options.seed, group_index, model.name(), kBootstrapStream);
     try {
       fit.bootstrap =
-          fitters::Resample(model, observations, context, fit.result, refit_options, resample);
+          fitters::Resample(model, observations, context, resample_base, refit_options, resample);
     } catch (const std::exception& error) {
       AddFlag(&fit.flags, fmt::format("bootstrap failed: {}", error.what()));
     }
@@ -338,7 +342,7 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
         internal::StreamState(options.seed, group_index, model.name(), kMonteCarloStream);
     try {
       fit.monte_carlo =
-          fitters::Resample(model, observations, context, fit.result, refit_options, resample);
+          fitters::Resample(model, observations, context, resample_base, refit_options, resample);
     } catch (const std::exception& error) {
       AddFlag(&fit.flags, fmt::format("Monte Carlo failed: {}", error.what()));
     }

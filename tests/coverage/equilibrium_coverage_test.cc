@@ -170,7 +170,7 @@ TEST(EquilibriumCoverageTest, DesiccatorJobsIso12571Rule) {
 // independent part of similar size, and in the replicates where the three specimens happen to
 // agree (sigma_d estimated at a fraction of its value, chi-square with 2 degrees of freedom)
 // Welch-Satterthwaite gives nu_eff >> 2 and k ~ 2 exactly when the common error is large: the
-// known liberal side of G.4 with a dominant few-degree-of-freedom term (R. Willink, B. D. Hall,
+// known liberal side of G.4 with a dominant few-degree-of-freedom term (B. D. Hall, R. Willink,
 // Metrologia 38 (2001) 9, from memory). Bootstrap and Monte Carlo intervals are not checked
 // here: they draw the specimen factor normal with the estimated u (fit_stage.h).
 TEST(EquilibriumCoverageTest, DesiccatorJobsSpecimensDiffer) {
