@@ -13,7 +13,9 @@ PACKAGES=(
   libgtest-dev libgmock-dev libbenchmark-dev         # tests and benchmarks
   libcli11-dev libtomlplusplus-dev nlohmann-json3-dev libfmt-dev
   libboost-math-dev libssl-dev                       # Student-t quantiles; SHA-256
-  poppler-utils                                      # pdftotext / pdftoppm in tests
+  poppler-utils qpdf                                 # pdftotext / pdftoppm / qpdf --check in tests
+  icc-profiles-free                                  # sRGB ICC v2 profile: the PDF output intent
+  chromium                                           # headless browser: HTML report tests
 )
 
 SUDO=""

@@ -32,7 +32,7 @@ struct GridVolumes {
   double adsorbed_m3_per_kg = 0.0;  // below radius_m[0] (with the film correction: minus the
                                     // film still held in the resolved pores)
   double total_m3_per_kg = 0.0;     // sum of the intervals
-  int negative_steps = 0;           // film-corrected steps < 0, set to 0
+  int negative_steps = 0;           // film-corrected steps < 0 (set to 0 when clamped)
 };
 GridVolumes PoreVolumesFromIsotherm(const std::vector<double>& radius_m,
                                     const std::vector<double>& t_m,
@@ -53,9 +53,12 @@ struct StepGeometry {
 StepGeometry MakeStepGeometry(const std::vector<double>& radius_m, const std::vector<double>& t_m,
                               double water_density_kg_per_m3);
 // As PoreVolumesFromIsotherm with film_correction = true, on a precomputed geometry; writes
-// into *out (resized) to avoid allocations in loops.
+// into *out (resized) to avoid allocations in loops. clamp_negative: a step whose pore volume
+// comes out < 0 is set to 0 (the model method, where it means the model falls faster than the
+// film thins); false carries it (the stepwise method: clamping the scatter of measured points
+// from below biases the volume up).
 void FilmCorrectedVolumes(const StepGeometry& geometry, const std::vector<double>& u_kg_per_kg,
-                          GridVolumes* out);
+                          GridVolumes* out, bool clamp_negative = true);
 
 // A fitted isotherm u(RH) with what is needed for its band.
 struct ModelCurve {
@@ -77,16 +80,64 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
                                        double rh_top_fraction, const PoreRadiusMap& map,
                                        const PoreOptions& options);
 
-// One measured isotherm point.
+// A part of a measured point's uncertainty that it shares with other points of the same
+// isotherm (drawn once per draw for all of them): e.g. the dry mass of the specimen, common to
+// every step it was weighed at, or the temperature error of a data set acting on every RH.
+struct CommonPart {
+  int source = 0;                   // index into StepwisePoreDistribution's common_sources
+  double moisture_kg_per_kg = 0.0;  // signed contribution c_i u(x_i) to the moisture content
+  double rh_fraction = 0.0;         // signed contribution to the RH
+};
+
+// One measured isotherm point. u_* are the combined standard uncertainties (all parts); the
+// parts in `common` are included in them, the rest is independent from point to point.
 struct MeasuredPoint {
+  MeasuredPoint() = default;
+  MeasuredPoint(double rh, double moisture, double u_moisture)
+      : rh_fraction(rh), moisture_kg_per_kg(moisture), u_moisture_kg_per_kg(u_moisture) {}
+
   double rh_fraction = 0.0;
   double moisture_kg_per_kg = 0.0;
   double u_moisture_kg_per_kg = 0.0;  // standard; 0 = exact
+  double u_rh_fraction = 0.0;         // standard; 0 = exact
+  std::vector<CommonPart> common;
 };
 
-// Method "stepwise": from the measured points, high RH down to options.min_radius_m.
+// Method "stepwise" (BJH-type): from the measured points, high RH down to
+// options.min_radius_m, in five parts.
+// 1. Steps. Points in 0 < RH < 1 sorted by RH (equal RH averaged); nodes from the RH of
+//    options.min_radius_m (moisture content interpolated linearly in RH) up to the highest
+//    point (or options.max_radius_m); the film-corrected step of distribution's header gives
+//    the pore volume of each step. Negative increments are carried, not set to 0: the sum of
+//    the increments is then the film-corrected difference of the end points, unbiased by the
+//    scatter of the points between them.
+// 2. Draws (JCGM 101:2008, 6.4.7 / 7.2): options.band_draws times, each point's RH and moisture
+//    content are drawn from normal distributions with their stated standard uncertainties (the
+//    independent parts per point; each common part once per draw for every point that shares
+//    it; an RH draw outside (0, 1) is drawn again), the steps are rebuilt at the drawn RH
+//    (Kelvin radius and film of the drawn humidity) and the draw's cumulative volume is read at
+//    the nominal nodes (linear in log r, continued with the end steps' densities beyond the
+//    draw's own nodes). Each step's increment thus has draws; every reported uncertainty is a
+//    standard deviation (or percentile band) over them.
+// 3. Regularisation. A step (or block of merged steps) is significant when the percentile
+//    interval of its increment at options.band_confidence_level excludes 0. The least
+//    significant block that is not significant is merged with the neighbouring block whose
+//    density dV/dlog r it is least distinguishable from, provided the two are not
+//    distinguishable (the percentile interval of the difference of their densities over the
+//    draws contains 0); repeated until every remaining insignificant block differs from all
+//    its neighbours. Then neighbouring bars whose densities cannot be told apart (same test)
+//    are merged, least distinguishable pair first, until every boundary is significant. A
+//    merged block spreads its volume uniformly in log r over its width (a
+//    histogram bar); scatter that would zig-zag from step to step merges, a gap or a low tail
+//    that differs from its neighbours is kept (and not smeared with their volume).
+// 4. Modes: ResolvedModes (modes.h), the rule of the model method, on the bars (parabola vertex
+//    through the bar middles, resolution term from the bar's width).
+// 5. Total volume and band from the bars, decade fractions from the measured steps (a wide bar
+//    would move volume across a decade boundary), each with its spread over the draws.
+// common_sources names the CommonPart sources (may be empty).
 PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& points,
                                           ingest::Branch branch, const PoreRadiusMap& map,
-                                          const PoreOptions& options);
+                                          const PoreOptions& options,
+                                          const std::vector<std::string>& common_sources = {});
 
 }  // namespace sorbtrace::pores::internal

@@ -8,6 +8,7 @@
 #include <algorithm>
 #include <cmath>
 #include <exception>
+#include <limits>
 #include <stdexcept>
 
 #include "fitters/registry.h"
@@ -47,14 +48,24 @@ std::string GroupWords(const fit::FitGroup& group) {
                      physics::KelvinToCelsius(group.temperature_K));
 }
 
-// Measured RH range of a group (points with 0 < RH < 1).
-void RhRange(const fit::FitGroup& group, double* low, double* high) {
+// RH range (0 < RH < 1) of the points a model was fitted to: ModelFit::used_observations, or
+// every point of the group when those are not recorded.
+void FittedRhRange(const fit::FitGroup& group, const fit::ModelFit& f, double* low, double* high) {
   *low = 1.0;
   *high = 0.0;
-  for (const fitters::Observation& o : group.observations) {
-    if (!(o.x[0] > 0.0 && o.x[0] < 1.0)) continue;
+  auto take = [&](const fitters::Observation& o) {
+    if (!(o.x[0] > 0.0 && o.x[0] < 1.0)) return;
     *low = std::min(*low, o.x[0]);
     *high = std::max(*high, o.x[0]);
+  };
+  if (f.used_observations.empty()) {
+    for (const fitters::Observation& o : group.observations) take(o);
+    return;
+  }
+  for (int i : f.used_observations) {
+    if (i >= 0 && i < static_cast<int>(group.observations.size())) {
+      take(group.observations[static_cast<std::size_t>(i)]);
+    }
   }
 }
 
@@ -79,7 +90,7 @@ internal::FittedCurve CurveOf(const fit::IsothermFits& fits, int index) {
   c.context.temperature_K = group.temperature_K;
   c.branch = group.branch;
   c.temperature_K = group.temperature_K;
-  RhRange(group, &c.rh_min_fraction, &c.rh_max_fraction);
+  FittedRhRange(group, f, &c.rh_min_fraction, &c.rh_max_fraction);
   return c;
 }
 
@@ -99,6 +110,254 @@ int NamedFitOf(const fit::IsothermFits& fits, std::size_t group, const std::stri
   return -1;
 }
 
+// The decision on the pore-size section for a material class (pores.h, MaterialClass).
+PoreApplicability ApplicabilityFor(MaterialClass material_class) {
+  PoreApplicability a;
+  a.material_class = material_class;
+  switch (material_class) {
+    case MaterialClass::kRigid:
+      a.section = PoreSection::kReported;
+      break;
+    case MaterialClass::kNotStated:
+      a.section = PoreSection::kReportedWithCaution;
+      a.reason =
+          "The pore sizes assume a rigid pore space that water fills and empties. The job does "
+          "not state whether the material swells or takes up water into its structure (wood, "
+          "natural fibres, polymers, many excipients); for such materials these figures are no "
+          "pore-size measurement.";
+      break;
+    case MaterialClass::kSwelling:
+      a.section = PoreSection::kOmitted;
+      a.reason =
+          "No pore-size distribution is given: the material swells or takes up water into its "
+          "structure, so the Kelvin equation does not measure pore sizes in it.";
+      break;
+  }
+  return a;
+}
+
+// Why fits.fits[index] may not drive a model-based distribution read down to rh_low_needed;
+// empty when it passes every check (AnalysePores in pores.h).
+std::string ModelCheckFailure(const fit::IsothermFits& fits, int index, double rh_low_needed,
+                              const PoreOptions& options) {
+  const fit::ModelFit& f = fits.fits[static_cast<std::size_t>(index)];
+  const fitters::FitResult& r = f.result;
+  if (!r.ok()) return "the fit did not converge";
+  if (!r.summary.covariance_available) return "no parameter covariance (not identifiable)";
+  const std::size_t p = r.parameters.size();
+  for (std::size_t j = 0; j < p; ++j) {
+    const std::string name = j < r.estimates.size() ? r.estimates[j].name : std::to_string(j + 1);
+    if (j < r.estimates.size() && r.estimates[j].at_bound) {
+      return fmt::format("parameter {} is at a bound (not identifiable)", name);
+    }
+    const double variance =
+        static_cast<Eigen::Index>(j) < r.covariance.rows()
+            ? r.covariance(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(j))
+            : std::numeric_limits<double>::quiet_NaN();
+    const double relative = std::sqrt(std::max(0.0, variance)) / std::abs(r.parameters[j]);
+    if (!(relative <= options.model_max_relative_parameter_u)) {
+      return fmt::format(
+          "parameter {} has a relative standard uncertainty of {:.0f} % (more than {:g} %: not "
+          "identifiable)",
+          name, 100.0 * relative, 100.0 * options.model_max_relative_parameter_u);
+    }
+  }
+  const bool absolute = r.weight_convention == fitters::WeightConvention::kAbsolute;
+  const double p_value =
+      absolute ? r.statistics.chi_square_p_value : r.statistics.runs_test_p_value;
+  if (!(p_value >= options.model_min_fit_p_value)) {
+    return fmt::format("the fit fails its goodness-of-fit check ({} p = {:.2g}, below {:g})",
+                       absolute ? "chi-square" : "runs test", p_value,
+                       options.model_min_fit_p_value);
+  }
+  const fit::FitGroup& group = fits.groups[static_cast<std::size_t>(f.group_index)];
+  double low = 1.0;
+  double high = 0.0;
+  FittedRhRange(group, f, &low, &high);
+  if (!(high > low)) return "no fitted RH range";
+  if (rh_low_needed < low - options.model_rh_margin_fraction) {
+    return fmt::format(
+        "the distribution would read it down to {:.1f} % RH (the smallest pore radius), below "
+        "its fitted range {:.1f}..{:.1f} % RH by more than {:g} % RH",
+        100.0 * rh_low_needed, 100.0 * low, 100.0 * high, 100.0 * options.model_rh_margin_fraction);
+  }
+  return std::string();
+}
+
+// Candidate fits of a group for the model-based distribution: the named one, or with "best"
+// the converged ranked fits in rank order.
+std::vector<int> SourceCandidates(const fit::IsothermFits& fits, std::size_t group,
+                                  const PoreOptions& options) {
+  if (options.source_model != "best") {
+    const int named = NamedFitOf(fits, group, options.source_model);
+    return named >= 0 ? std::vector<int>{named} : std::vector<int>{};
+  }
+  std::vector<int> ranked;
+  for (std::size_t i = 0; i < fits.fits.size(); ++i) {
+    const fit::ModelFit& f = fits.fits[i];
+    if (f.group_index == static_cast<int>(group) && f.result.ok() && f.rank >= 1) {
+      ranked.push_back(static_cast<int>(i));
+    }
+  }
+  std::stable_sort(ranked.begin(), ranked.end(), [&](int a, int b) {
+    return fits.fits[static_cast<std::size_t>(a)].rank <
+           fits.fits[static_cast<std::size_t>(b)].rank;
+  });
+  const int best = BestFitOf(fits, group);  // the fit stage's choice first
+  if (best >= 0) {
+    ranked.erase(std::remove(ranked.begin(), ranked.end(), best), ranked.end());
+    ranked.insert(ranked.begin(), best);
+  }
+  return ranked;
+}
+
+void AddUnavailable(PoreAnalysis* out, const fit::FitGroup& group, const std::string& method,
+                    std::string reason) {
+  Warn(out, fmt::format("pores: no {} pore-size distribution for the {}: {}",
+                        method == "model" ? "model-based" : method, GroupWords(group), reason));
+  out->unavailable.push_back({method, group.branch, group.temperature_K, std::move(reason)});
+}
+
+// The model-based distribution of group g from the first candidate that passes its checks, or
+// an UnavailableDistribution with the reasons.
+void AddModelDistribution(const fit::IsothermFits& fits, std::size_t g,
+                          const internal::PoreRadiusMap& map, const PoreOptions& options,
+                          PoreAnalysis* out) {
+  const fit::FitGroup& group = fits.groups[g];
+  const std::vector<int> candidates = SourceCandidates(fits, g, options);
+  if (candidates.empty()) {
+    AddUnavailable(out, group, "model", fmt::format("no converged {} fit", options.source_model));
+    return;
+  }
+  const double rh_low_needed = map.RhForPoreRadius(options.min_radius_m);
+  std::vector<std::string> passed_over;
+  for (int index : candidates) {
+    const internal::FittedCurve source = CurveOf(fits, index);
+    if (source.model == nullptr) continue;
+    const std::string failure = ModelCheckFailure(fits, index, rh_low_needed, options);
+    if (!failure.empty()) {
+      passed_over.push_back(fmt::format("{}: {}", source.name, failure));
+      continue;
+    }
+    internal::ModelCurve curve;
+    curve.model = source.model;
+    curve.name = source.name;
+    curve.parameters = source.parameters;
+    curve.covariance = source.covariance;
+    curve.context = source.context;
+    // The pore quantities propagate the stated input uncertainties (JCGM 101:2008):
+    // the Monte Carlo refits; the bootstrap's only when no Monte Carlo was run. Measured
+    // on a two-family pore system (tests/pores/two_family_coverage_test.cc): u / scatter
+    // 0.91-1.04 from the Monte Carlo draws, 0.85-0.99 from the bootstrap's.
+    const fit::ModelFit& source_fit = fits.fits[static_cast<std::size_t>(index)];
+    if (!source_fit.monte_carlo.parameter_draws.empty()) {
+      curve.resampled_draws = source_fit.monte_carlo.parameter_draws;
+      curve.resampled_source = "Monte Carlo draws (JCGM 101)";
+    } else {
+      curve.resampled_draws = source_fit.bootstrap.parameter_draws;
+      curve.resampled_source = "bootstrap draws";
+    }
+    // Never beyond the data: the top is the highest fitted RH (or the model's validity limit,
+    // or the RH of max_radius_m when that is lower).
+    double rh_top = std::min(source.rh_max_fraction, source.model->info().x_max);
+    PoreOptions model_options = options;
+    if (options.max_radius_m > 0.0) {
+      rh_top = std::min(rh_top, map.RhForPoreRadius(options.max_radius_m));
+      model_options.max_radius_m = 0.0;
+    }
+    if (!(rh_top > 0.0 && rh_top < 1.0)) continue;
+    PoreDistribution d =
+        internal::ModelPoreDistribution(curve, group.branch, rh_top, map, model_options);
+    if (rh_top < source.rh_max_fraction) {
+      d.assumptions.push_back(fmt::format(
+          "limited to RH {:g} (the {} model's validity range or the largest radius set), below "
+          "the highest fitted RH {:g}",
+          rh_top, source.name, source.rh_max_fraction));
+    }
+    if (options.max_radius_m > 0.0 &&
+        map.RhForPoreRadius(options.max_radius_m) > source.rh_max_fraction) {
+      d.assumptions.push_back(fmt::format(
+          "radii above {:.3g} nm (the largest resolved by the fitted points) are not shown: the "
+          "model is not extrapolated",
+          map.PoreRadius_m(rh_top) / kNm));
+    }
+    for (const std::string& why : passed_over) {
+      d.assumptions.push_back("better-ranked model not used: " + why);
+    }
+    d.assumptions.push_back(fmt::format(
+        "the {} fit passes its checks: converged, covariance available, no parameter at a "
+        "bound or above {:g} % relative uncertainty, goodness of fit p >= {:g}, read within "
+        "its fitted RH range",
+        source.name, 100.0 * options.model_max_relative_parameter_u,
+        options.model_min_fit_p_value));
+    out->distributions.push_back(std::move(d));
+    return;
+  }
+  std::string reason = "no fitted model passes its checks";
+  for (const std::string& why : passed_over) reason += "; " + why;
+  AddUnavailable(out, group, "model", reason);
+}
+
+// Budget lines of the reduce stage that are the same at every step of a specimen (its dry
+// mass) and of a data set (its temperature error acting on the RH): reduce.cc names them.
+bool IsDryMassLine(const reduce::BudgetLine& line) {
+  return line.quantity == "balance (dry mass)" || line.quantity == "dry-mass method";
+}
+bool IsTemperatureLine(const reduce::BudgetLine& line) {
+  return line.quantity == "temperature effect on RH";
+}
+
+int SourceIndex(std::vector<std::string>* sources, const std::string& name) {
+  const auto it = std::find(sources->begin(), sources->end(), name);
+  if (it != sources->end()) return static_cast<int>(it - sources->begin());
+  sources->push_back(name);
+  return static_cast<int>(sources->size() - 1);
+}
+
+// The measured points of a group for the stepwise method, with their shared parts (pores.h).
+void StepwisePoints(const fit::FitGroup& group, const reduce::ReducedIsotherms& reduced,
+                    std::vector<internal::MeasuredPoint>* points,
+                    std::vector<std::string>* sources) {
+  for (std::size_t i = 0; i < group.observations.size(); ++i) {
+    const fitters::Observation& o = group.observations[i];
+    internal::MeasuredPoint p;
+    p.rh_fraction = o.x[0];
+    p.moisture_kg_per_kg = o.y;
+    p.u_moisture_kg_per_kg = o.sigma_y;
+    p.u_rh_fraction = o.sigma_x0;
+    const int index = i < group.point_indices.size() ? group.point_indices[i] : -1;
+    if (index >= 0 && index < static_cast<int>(reduced.points.size())) {
+      const reduce::IsothermPoint& point = reduced.points[static_cast<std::size_t>(index)];
+      p.u_moisture_kg_per_kg = point.u_moisture_kg_per_kg;
+      std::vector<const reduce::SpecimenPoint*> members;
+      for (const reduce::SpecimenPoint& s : reduced.specimen_points) {
+        if (!s.excluded && s.dataset_id == point.dataset_id && s.step_index == point.step_index &&
+            s.cycle == point.cycle && s.branch == point.branch) {
+          members.push_back(&s);
+        }
+      }
+      const double n = static_cast<double>(members.size());
+      for (const reduce::SpecimenPoint* s : members) {
+        for (const reduce::BudgetLine& line : s->moisture_budget) {
+          if (!IsDryMassLine(line)) continue;
+          internal::CommonPart part;
+          part.source = SourceIndex(
+              sources, fmt::format("{} {}: {}", s->dataset_id, s->specimen_id, line.quantity));
+          part.moisture_kg_per_kg = line.sensitivity * line.standard_uncertainty / n;
+          p.common.push_back(part);
+        }
+        for (const reduce::BudgetLine& line : s->rh_budget) {
+          if (!IsTemperatureLine(line)) continue;
+          internal::CommonPart part;
+          part.source = SourceIndex(sources, fmt::format("{}: {}", s->dataset_id, line.quantity));
+          part.rh_fraction = line.sensitivity * line.standard_uncertainty / n;
+          p.common.push_back(part);
+        }
+      }
+    }
+    points->push_back(std::move(p));
+  }
+}
 }  // namespace
 
 bool PoreOptions::IsValid(std::string* error) const {
@@ -196,6 +455,18 @@ bool PoreOptions::IsValid(std::string* error) const {
     return Fail(error, fmt::format("pores.heat_grid_points = {} must be in 2..{}", heat_grid_points,
                                    kMaxGridPoints));
   }
+  if (!(model_min_fit_p_value >= 0.0 && model_min_fit_p_value < 1.0)) {
+    return Fail(error, fmt::format("pores.model_min_fit_p_value = {:g} must be in [0, 1)",
+                                   model_min_fit_p_value));
+  }
+  if (!(model_max_relative_parameter_u > 0.0) || !std::isfinite(model_max_relative_parameter_u)) {
+    return Fail(error, fmt::format("pores.model_max_relative_parameter_u = {:g} must be > 0",
+                                   model_max_relative_parameter_u));
+  }
+  if (!(model_rh_margin_fraction >= 0.0 && model_rh_margin_fraction < 1.0)) {
+    return Fail(error, fmt::format("pores.model_rh_margin = {:g} must be in [0, 1)",
+                                   model_rh_margin_fraction));
+  }
   if (!(temperature_tolerance_K >= 0.0) || !std::isfinite(temperature_tolerance_K)) {
     return Fail(error, fmt::format("pores.temperature_tolerance_K = {:g} must be >= 0",
                                    temperature_tolerance_K));
@@ -210,6 +481,8 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
     throw InputError(SourceLocation{}, error, "a valid [pores] setting");
   }
   PoreAnalysis out;
+  out.applicability = ApplicabilityFor(options.material_class);
+  if (out.applicability.section == PoreSection::kOmitted) Warn(&out, out.applicability.reason);
   std::vector<internal::FittedCurve> best_adsorption;
   std::vector<internal::FittedCurve> best_desorption;
   std::vector<internal::FittedCurve> monolayer_fits;
@@ -235,10 +508,14 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
                              physics::KelvinToCelsius(group.temperature_K)));
       continue;
     }
-    const int source_index = options.source_model == "best"
-                                 ? BestFitOf(fits, g)
-                                 : NamedFitOf(fits, g, options.source_model);
-    const internal::FittedCurve source = CurveOf(fits, source_index);
+    if (out.applicability.section == PoreSection::kOmitted) {
+      for (const char* method : {"model", "stepwise"}) {
+        if (std::string(method) == "stepwise" && !options.stepwise) continue;
+        out.unavailable.push_back(
+            {method, group.branch, group.temperature_K, out.applicability.reason});
+      }
+      continue;
+    }
 
     try {
       internal::FittedLayersSource layers;
@@ -250,60 +527,13 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
       const internal::PoreRadiusMap map(group.temperature_K,
                                         internal::MeniscusFor(options.geometry, group.branch),
                                         options.contact_angle_rad, std::move(film));
-      if (source.model == nullptr) {
-        Warn(&out, fmt::format("pores: no converged {} fit for the {}: no model-based "
-                               "distribution",
-                               options.source_model, GroupWords(group)));
-      } else {
-        internal::ModelCurve curve;
-        curve.model = source.model;
-        curve.name = source.name;
-        curve.parameters = source.parameters;
-        curve.covariance = source.covariance;
-        curve.context = source.context;
-        // The pore quantities propagate the stated input uncertainties (JCGM 101:2008):
-        // the Monte Carlo refits; the bootstrap's only when no Monte Carlo was run. Measured
-        // on a two-family pore system (tests/pores/two_family_coverage_test.cc): u / scatter
-        // 0.91-1.04 from the Monte Carlo draws, 0.85-0.99 from the bootstrap's.
-        const fit::ModelFit& source_fit = fits.fits[static_cast<std::size_t>(source_index)];
-        if (!source_fit.monte_carlo.parameter_draws.empty()) {
-          curve.resampled_draws = source_fit.monte_carlo.parameter_draws;
-          curve.resampled_source = "Monte Carlo draws (JCGM 101)";
-        } else {
-          curve.resampled_draws = source_fit.bootstrap.parameter_draws;
-          curve.resampled_source = "bootstrap draws";
-        }
-        double rh_top = source.rh_max_fraction;
-        const fitters::ModelInfo& info = source.model->info();
-        if (info.x_max < rh_top) rh_top = info.x_max;
-        if (rh_top > 0.0 && rh_top < 1.0) {
-          PoreDistribution d =
-              internal::ModelPoreDistribution(curve, group.branch, rh_top, map, options);
-          if (rh_top < source.rh_max_fraction) {
-            d.assumptions.push_back(
-                fmt::format("limited to RH {:g}, the upper end of the {} model's validity range",
-                            rh_top, source.name));
-          }
-          out.distributions.push_back(std::move(d));
-        }
-      }
+      AddModelDistribution(fits, g, map, options, &out);
       if (options.stepwise) {
         std::vector<internal::MeasuredPoint> points;
-        for (std::size_t i = 0; i < group.observations.size(); ++i) {
-          const fitters::Observation& o = group.observations[i];
-          internal::MeasuredPoint p;
-          p.rh_fraction = o.x[0];
-          p.moisture_kg_per_kg = o.y;
-          p.u_moisture_kg_per_kg = o.sigma_y;
-          const int index = i < group.point_indices.size() ? group.point_indices[i] : -1;
-          if (index >= 0 && index < static_cast<int>(reduced.points.size())) {
-            p.u_moisture_kg_per_kg =
-                reduced.points[static_cast<std::size_t>(index)].u_moisture_kg_per_kg;
-          }
-          points.push_back(p);
-        }
+        std::vector<std::string> sources;
+        StepwisePoints(group, reduced, &points, &sources);
         out.distributions.push_back(
-            internal::StepwisePoreDistribution(points, group.branch, map, options));
+            internal::StepwisePoreDistribution(points, group.branch, map, options, sources));
       }
     } catch (const InputError&) {
       throw;
@@ -336,6 +566,11 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
     }
   } catch (const std::exception& e) {
     Warn(&out, fmt::format("pores: datasheet quantities incomplete: {}", e.what()));
+  }
+  if (out.applicability.section == PoreSection::kReportedWithCaution) {
+    for (PoreDistribution& d : out.distributions) {
+      d.assumptions.push_back(out.applicability.reason);
+    }
   }
   return out;
 }

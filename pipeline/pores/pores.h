@@ -35,6 +35,28 @@ enum class FilmModel {
   kUserTable,     // PoreOptions::film_table (rh_fraction, thickness_m), interpolated
 };
 
+// What the material does with water, which decides whether a Kelvin analysis measures pores.
+// The Kelvin equation with an adsorbed film assumes a rigid pore space that water fills and
+// empties; a material that swells or takes water into its structure (wood and other
+// lignocellulosic fibres, many polymers, many pharmaceutical excipients: water dissolved in
+// amorphous regions, hydrates) holds most of its water in no pore at all, and its pore space
+// changes with the moisture content (Skaar 1988, Wood-Water Relations, ch. 3, from memory), so
+// the "distribution" is then no pore-size measurement.
+//  kNotStated:  the job does not say. Distributions are computed; PoreAnalysis::applicability
+//               says "reported with caution" and every distribution carries the caution.
+//  kRigid:      rigid porous (mineral building materials, ceramics, silica, activated carbon).
+//               Distributions are computed without that caution.
+//  kSwelling:   swells or absorbs into its structure. The distributions are omitted
+//               (PoreAnalysis::distributions empty, one UnavailableDistribution per group with
+//               the reason, a warning): printing a distribution beside a caution still invites
+//               reading it as pore sizes. The other quantities (surface area, reference
+//               moisture contents, hysteresis, heat) are computed as for any material.
+// Set by the run stage from the job's material class (a job-file key of the ingest stage).
+enum class MaterialClass { kNotStated, kRigid, kSwelling };
+
+// The decision on the pore-size section (see MaterialClass).
+enum class PoreSection { kReported, kReportedWithCaution, kOmitted };
+
 // A reference condition at which the moisture content is tabulated.
 struct ReferenceCondition {
   double temperature_K = 296.15;
@@ -55,8 +77,10 @@ struct PoreOptions {
   int grid_points = 400;
   int band_draws = 1000;
   std::uint64_t seed = 20261201;
-  std::string source_model = "best";  // registry key or "best" (best-ranked per group)
-  bool stepwise = true;               // also the BJH-type stepwise method
+  // Model of the model-based distribution: a registry key, or "best": the best-ranked fit of
+  // the group that passes the checks below (AnalysePores).
+  std::string source_model = "best";
+  bool stepwise = true;  // also the BJH-type stepwise method
   // Further quantities.
   double molecular_area_m2 = 0.106e-18;  // water cross-section (Emmett & Brunauer 1937)
   std::vector<ReferenceCondition> reference_conditions = {{296.15, 0.5}, {296.15, 0.8}};
@@ -78,6 +102,23 @@ struct PoreOptions {
   int heat_grid_points = 21;             // moisture-content grid of the isosteric heat
   double temperature_tolerance_K = 0.5;  // groups closer than this count as one temperature
 
+  // Which materials a Kelvin analysis applies to (see MaterialClass).
+  MaterialClass material_class = MaterialClass::kNotStated;
+
+  // Checks a fitted model must pass before it may drive the model-based distribution (see
+  // AnalysePores). The chi-square p-value of the fit with absolute weights (the runs-test
+  // p-value with relative weights, where chi-square tests nothing) must be at least this: a fit
+  // rejected at the 99.9 % level is inconsistent with its data and the stated uncertainties
+  // (common practice for a goodness-of-fit gate).
+  double model_min_fit_p_value = 1e-3;
+  // Every parameter's standard uncertainty at most this fraction of its value (issue: "relative
+  // u <= 100 %": a parameter not known to within itself is not identified by the data).
+  double model_max_relative_parameter_u = 1.0;
+  // The model may be read this far outside the RH range of the points it was fitted to (and no
+  // further): half a percent RH, below the standard uncertainty of salt-solution and sensor
+  // humidities (common practice; the same tolerance as the reference moisture contents).
+  double model_rh_margin_fraction = 0.005;
+
   bool IsValid(std::string* error) const;
 };
 
@@ -95,13 +136,28 @@ struct PoreDistributionPoint {
   double dv_dlogr_high_m3_per_kg = 0.0;
 };
 
+// One measured step of the stepwise method: the film-corrected pore volume of the pores that
+// empty (or fill) between two consecutive nodes, and the bar it is shown in after the merge of
+// insignificant steps (distribution.h, StepwisePoreDistribution).
+struct PoreStep {
+  double radius_low_m = 0.0;
+  double radius_high_m = 0.0;
+  double rh_low_fraction = 0.0;
+  double rh_high_fraction = 0.0;
+  double volume_m3_per_kg = 0.0;    // may be < 0 (carried, not clamped)
+  double u_volume_m3_per_kg = 0.0;  // standard deviation over the draws; 0: no draws
+  int bar = 0;                      // index into PoreDistribution::points
+  bool bar_significant = false;     // the bar's volume is significant at the band's level
+};
+
 // A resolved maximum of dV/dlog r. Reported only where the distribution resolves it: not on
 // the two outermost grid nodes, rising above its neighbouring valleys by more than the band
 // (the band's lower limit at the maximum above its upper limit at both valleys), and present as
-// a maximum inside its window in at least band_confidence_level of the draws. Its
-// uncertainty is its spread over the draws (the band's parameter draws: the fit stage's
-// bootstrap refits, or N(p, covariance) without them; for the stepwise method the draws of the
-// measured moisture contents).
+// a maximum inside its window in at least band_confidence_level of the draws (one rule for
+// both methods: internal::ResolvedModes, modes.h). Its uncertainty is its spread over the draws
+// (the band's parameter draws: the fit stage's Monte Carlo or bootstrap refits, or N(p,
+// covariance) without them; for the stepwise method the draws of the measured points' RH and
+// moisture content, combined with the resolution of the bar it lies in).
 struct ModalRadius {
   double radius_m = 0.0;
   double u_radius_m = 0.0;  // standard uncertainty: standard deviation over the draws
@@ -138,6 +194,20 @@ struct PoreDistribution {
   std::string band_source;
   int band_draws_used = 0;
   int negative_steps_clamped = 0;  // steps whose pore volume came out < 0 and was set to 0
+  // Method "stepwise": steps whose pore volume came out < 0 and were carried as they are (the
+  // stepwise method never clamps); and every measured step with its uncertainty. `points`
+  // then holds one point per bar (a step, or steps merged as not significant), at the bar's
+  // middle in log r.
+  int negative_steps_carried = 0;
+  std::vector<PoreStep> steps;
+};
+
+// A distribution that was not computed, with the reason (for the sheet).
+struct UnavailableDistribution {
+  std::string method;  // "model" or "stepwise"
+  ingest::Branch branch = ingest::Branch::kAdsorption;
+  double temperature_K = 0.0;
+  std::string reason;  // a sentence, e.g. "the fitted henderson model does not pass ..."
 };
 
 struct SurfaceArea {
@@ -207,8 +277,19 @@ struct PoreSummary {
   std::vector<Diagnostic> warnings;
 };
 
+// Whether the pore-size section applies to the material (see MaterialClass).
+struct PoreApplicability {
+  MaterialClass material_class = MaterialClass::kNotStated;
+  PoreSection section = PoreSection::kReportedWithCaution;
+  std::string reason;  // a sentence for the sheet (the caution, or why the section is omitted)
+};
+
 struct PoreAnalysis {
   std::vector<PoreDistribution> distributions;
+  // Distributions not computed, each with its reason: the model-based one when no fitted model
+  // passes its checks, every one when the material class omits the section.
+  std::vector<UnavailableDistribution> unavailable;
+  PoreApplicability applicability;
   std::vector<SurfaceArea> surface_areas;
   std::vector<ReferenceMoisture> reference_moisture;
   Hygroscopicity hygroscopicity;
@@ -217,6 +298,28 @@ struct PoreAnalysis {
   PoreSummary summary;
 };
 
+// Per fitted group (adsorption, desorption; drying is skipped):
+//  - model-based distribution from the model of options.source_model, only if that fit passes
+//    every check over the RH range the distribution reads it on, [RH(min_radius_m), top]:
+//    converged; covariance available; no parameter at a bound; every parameter's relative
+//    standard uncertainty <= model_max_relative_parameter_u; goodness of fit p >=
+//    model_min_fit_p_value (chi-square with absolute weights, runs test with relative ones);
+//    RH(min_radius_m) not below the lowest RH the model was fitted to by more than
+//    model_rh_margin_fraction (the top is the highest fitted RH, or RH(max_radius_m) when
+//    smaller: never beyond the data). Fitted RH range: the points the model was fitted to
+//    (ModelFit::used_observations), not every point of the group (retention points join a
+//    group for the retention models only). With "best" the converged fits are tried in rank
+//    order and the first that passes is used (the assumptions name any better-ranked one
+//    passed over and why); when none passes, an UnavailableDistribution with the reason.
+//  - stepwise distribution from the measured points (options.stepwise), with draws of each
+//    point's RH and moisture content: the independent parts per point; shared once per draw,
+//    the dry mass of each specimen (reduce budget lines "balance (dry mass)" and "dry-mass
+//    method", the same dry mass at every step of the specimen; of a combined point, each
+//    specimen's line divided by the number of specimens) and the temperature error of each data
+//    set acting on the RH (line "temperature effect on RH"); the rest of a point's budget
+//    (wet-mass weighings, RH source of the step, spread of the specimens, approach and
+//    extrapolation terms) independently per point.
+//  - options.material_class decides the section (MaterialClass): omitted for kSwelling.
 PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::IsothermFits& fits,
                           const PoreOptions& options);
 

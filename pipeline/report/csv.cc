@@ -69,9 +69,8 @@ std::string EquilibriumTable(const ReportInputs& inputs, const Sheet& sheet) {
   const reduce::ReducedIsotherms& r = *inputs.reduced;
   for (const reduce::SpecimenPoint& p : r.specimen_points) {
     const DisplayRules& rules = sheet.rules;
-    const double k_u = p.u_moisture_kg_per_kg > 0.0 && p.expanded_u_moisture_kg_per_kg > 0.0
-                           ? p.expanded_u_moisture_kg_per_kg / p.u_moisture_kg_per_kg
-                           : r.coverage_factor;
+    const double k_u = CoverageFactorOf(p.u_moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg,
+                                        r.coverage_factor);
     DisplayRules moisture_rules = rules;
     moisture_rules.coverage_factor = k_u;
     DisplayRules rh_rules = rules;

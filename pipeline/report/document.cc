@@ -8,6 +8,8 @@
 #include <string>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/report/internal/pdf_archival.h"
+#include "pipeline/report/plot/pdf_canvas.h"
 #include "pipeline/report/plot/text.h"
 
 namespace sorbtrace::report {
@@ -113,20 +115,21 @@ void Document::SetUpDocument(const std::filesystem::path& regular,
     throw ComputationError("PDF writer failed while selecting the fonts");
   }
 
-  // Document information: fixed, from the inputs only (no wall clock).
+  // libharu's ToUnicode maps are invalid CID maps: replaced (pdf_archival.h says why).
+  internal::RepairToUnicode(regular_);
+  internal::RepairToUnicode(bold_);
+  // Document information, XMP and file identifier: fixed, from the inputs only (no wall
+  // clock); strings pass the same cleaning and length limits as the printed text.
+  internal::DocumentIdentity identity;
+  identity.title = plot::PrintableText(layout_.title);
+  identity.author = plot::PrintableText(layout_.lab_name.empty() ? "sorbtrace" : layout_.lab_name);
+  identity.subject = plot::PrintableText(report_number_);
+  identity.creator = plot::PrintableText("sorbtrace " + software_version_);
+  identity.producer = identity.creator + " (libharu " + HPDF_GetVersion() + ")";
   HPDF_Date date;
-  if (ParseDate(document_date_, &date)) {
-    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_CREATION_DATE, date);
-    HPDF_SetInfoDateAttr(pdf_, HPDF_INFO_MOD_DATE, date);
-  }
-  // Metadata strings pass the same cleaning and length limits as the printed text.
-  HPDF_SetInfoAttr(pdf_, HPDF_INFO_TITLE,
-                   plot::PrintableText(layout_.title + " " + report_number_).c_str());
-  if (!layout_.lab_name.empty()) {
-    HPDF_SetInfoAttr(pdf_, HPDF_INFO_AUTHOR, plot::PrintableText(layout_.lab_name).c_str());
-  }
-  HPDF_SetInfoAttr(pdf_, HPDF_INFO_CREATOR,
-                   plot::PrintableText("sorbtrace " + software_version_).c_str());
+  if (ParseDate(document_date_, &date)) identity.date = date;
+  internal::WriteDocumentIdentity(pdf_, identity);
+  internal::AddOutputIntent(pdf_, SORBTRACE_ICC_PROFILE);
   ThrowIfFailed("writing the document information");
 }
 
@@ -153,7 +156,7 @@ void Document::NewPage() {
   HPDF_Page_SetWidth(page, F(page_width_));
   HPDF_Page_SetHeight(page, F(page_height_));
   pages_.push_back(page);
-  canvas_ = std::make_unique<Canvas>(page, regular_, bold_);
+  canvas_ = std::make_unique<plot::PdfCanvas>(page, regular_, bold_);
   const double margin = layout_.margin_mm * kPointsPerMm;
   left_ = margin;
   right_ = page_width_ - margin;
@@ -328,7 +331,7 @@ std::string Document::Finish() {
   const int n = num_pages();
   const double margin = layout_.margin_mm * kPointsPerMm;
   for (int i = 0; i < n; ++i) {
-    Canvas c(pages_[static_cast<size_t>(i)], regular_, bold_);
+    plot::PdfCanvas c(pages_[static_cast<size_t>(i)], regular_, bold_);
     const double y = margin + 8.0;
     c.Line(left_, y + 9.0, right_, y + 9.0, 0.4, palette::kSlate);
     c.Text(left_, y, "Results apply to the specimens tested.", 7.0, Canvas::Align::kLeft, false,

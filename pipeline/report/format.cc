@@ -141,6 +141,12 @@ std::string FormatWithUncertainty(double value, double uncertainty, int signific
   return "(" + Decimal(v, exponent) + " ± " + Decimal(u, exponent) + ")" + TimesTenTo(exponent);
 }
 
+std::string CoverageText(double k) {
+  constexpr double kHalfOfSecondDigit = 0.005;  // below this, two digits would read "2.0"
+  return std::abs(k - std::round(k)) < kHalfOfSecondDigit ? FormatFixed(k, 0)
+                                                          : FormatSignificant(k, 2);
+}
+
 std::string FormatSetting(double value) {
   if (!std::isfinite(value)) return "n/a";
   std::string text = fmt::format("{:.{}g}", value, kSettingDigits);

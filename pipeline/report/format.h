@@ -35,6 +35,10 @@ std::string FormatSignificant(double value, int significant_digits);
 // `value` with a fixed number of decimals ("-0" printed as "0").
 std::string FormatFixed(double value, int decimals);
 
+// A coverage factor as printed, to two significant digits: "2" for k = 2 (and for k = 2.004
+// from a large effective number of degrees of freedom), "2.3" otherwise.
+std::string CoverageText(double k);
+
 // A setting as a person wrote it: the shortest form of at most 15 significant digits
 // (every decimal of up to 15 digits survives the round trip through a double, IEEE 754
 // binary64; a value converted between units, e.g. 0.106 nm² -> m² -> nm², differs from it in

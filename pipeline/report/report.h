@@ -1,5 +1,6 @@
 // Report stage: composes what the lab issues — the PDF datasheet (libharu, template-driven,
-// vector plots with uncertainty bands, embedded DejaVu font), the results JSON (every number
+// vector plots with uncertainty bands, embedded DejaVu font), the same sheet as one
+// self-contained HTML file (inline SVG figures and CSS), the results JSON (every number
 // on the sheet, with units and uncertainties; what `sorbtrace verify` re-derives) and CSV
 // tables. Pure: returns bytes; the run stage writes them atomically.
 #pragma once
@@ -42,6 +43,10 @@ struct Template {
   // One-page layout: the summary, a small isotherm figure and the cautions share page 1;
   // further sections are left out (the summary template).
   bool compact = false;
+  // Outputs written ([layout] outputs = ["pdf", "html"]): datasheet.pdf and/or
+  // datasheet.html, both rendered from the same sheet. Default: the PDF only.
+  bool write_pdf = true;
+  bool write_html = false;
   std::vector<pores::ReferenceCondition> reference_conditions;
   std::filesystem::path source_file;
 };
@@ -65,7 +70,8 @@ struct ReportOptions {
 };
 
 struct ReportArtifacts {
-  std::string pdf;                                             // bytes of datasheet.pdf
+  std::string pdf;   // bytes of datasheet.pdf; empty when the template does not write it
+  std::string html;  // datasheet.html (self-contained); empty when the template does not write it
   std::string results_json;                                    // results.json
   std::vector<std::pair<std::string, std::string>> csv_files;  // (file name, content)
   int num_pages = 0;

@@ -8,6 +8,7 @@
 #include <cmath>
 #include <string>
 #include <utility>
+#include <variant>
 
 #include "pipeline/physics/physics.h"
 
@@ -245,6 +246,95 @@ Json ResampleJson(const fitters::ResampleResult& r) {
           {"parameter_std", NumberArray(r.parameter_std)}};
 }
 
+Json FitModelJson(const fit::IsothermFits& f, size_t i, const Sheet& sheet) {
+  const fit::ModelFit& mf = f.fits[i];
+  const ModelRow& row = sheet.models[i];
+  Json parameters = Json::array();
+  for (size_t k = 0; k < mf.result.estimates.size(); ++k) {
+    const fitters::ParameterEstimate& e = mf.result.estimates[k];
+    Json p = QuantityJson(row.parameters[k]);
+    p["interval_low"] = Number(e.interval_low);
+    p["interval_high"] = Number(e.interval_high);
+    p["at_bound"] = e.at_bound;
+    if (k < mf.info.parameters.size()) p["description"] = mf.info.parameters[k].description;
+    parameters.push_back(p);
+  }
+  const fitters::FitStatistics& s = mf.result.statistics;
+  Json consistency = Json::array();
+  for (const fit::ConsistencyCheck& c : mf.consistency) {
+    consistency.push_back({{"criterion", c.criterion}, {"passed", c.passed}, {"detail", c.detail}});
+  }
+  Json band = Json::array();
+  for (const fitters::BandPoint& b : mf.band) {
+    band.push_back({Number(b.x), Number(b.y), Number(b.confidence_low), Number(b.confidence_high),
+                    Number(b.prediction_low), Number(b.prediction_high)});
+  }
+  return {{"index", i},
+          {"model", mf.model_name},
+          {"title", mf.info.title},
+          {"equation", mf.info.equation},
+          {"source", mf.info.source},
+          {"group_index", mf.group_index},
+          {"converged", mf.result.ok()},
+          {"termination", mf.result.summary.message},
+          {"covariance_convention", mf.result.summary.covariance_convention},
+          {"parameters", parameters},
+          {"covariance", Matrix(mf.result.covariance)},
+          {"correlation", Matrix(mf.result.correlation)},
+          {"notable_correlations", StringArray(row.correlations)},
+          {"statistics",
+           {{"num_observations", s.num_observations},
+            {"num_parameters", s.num_parameters},
+            {"degrees_of_freedom", s.degrees_of_freedom},
+            {"weighted_ssr", Number(s.weighted_ssr)},
+            {"ssr", Number(s.ssr)},
+            {"rmse_kg_per_kg", Number(s.rmse)},
+            {"rmse_text", row.rmse_text},
+            {"residual_std", Number(s.residual_std)},
+            {"r_squared", Number(s.r_squared)},
+            {"adjusted_r_squared", Number(s.adjusted_r_squared)},
+            {"mean_relative_deviation_percent", Number(s.mean_relative_deviation_percent)},
+            {"mrd_text", row.mrd_text},
+            {"aicc", Number(s.aicc)},
+            {"aicc_text", row.aicc_text},
+            {"bic", Number(s.bic)},
+            {"bic_text", row.bic_text},
+            {"chi_square_p_value", Number(s.chi_square_p_value)},
+            {"runs", s.runs},
+            {"runs_test_p_value", Number(s.runs_test_p_value)}}},
+          {"bootstrap", ResampleJson(mf.bootstrap)},
+          {"monte_carlo", ResampleJson(mf.monte_carlo)},
+          {"consistency", consistency},
+          {"flags", StringArray(row.flags)},
+          {"rank", mf.rank},
+          {"band_columns",
+           {"rh_fraction", "moisture_kg_per_kg", "confidence_low", "confidence_high",
+            "prediction_low", "prediction_high"}},
+          {"band", band}};
+}
+
+Json RankingJson(const fit::IsothermFits& f) {
+  Json ranking = Json::array();
+  for (size_t g = 0; g < f.best_fit_per_group.size(); ++g) {
+    Json order = Json::array();
+    std::vector<std::pair<int, size_t>> ranked;
+    for (size_t i = 0; i < f.fits.size(); ++i) {
+      if (f.fits[i].group_index == static_cast<int>(g) && f.fits[i].rank > 0) {
+        ranked.emplace_back(f.fits[i].rank, i);
+      }
+    }
+    std::sort(ranked.begin(), ranked.end());
+    for (const auto& [rank, i] : ranked) {
+      order.push_back({{"rank", rank}, {"fit_index", i}, {"model", f.fits[i].model_name}});
+    }
+    ranking.push_back({{"group_index", g},
+                       {"best_fit_index", f.best_fit_per_group[g]},
+                       {"by", "AICc"},
+                       {"order", order}});
+  }
+  return ranking;
+}
+
 Json FitsJson(const ReportInputs& inputs, const Sheet& sheet) {
   Json out = Json::object();
   if (inputs.fits == nullptr) return out;
@@ -264,157 +354,68 @@ Json FitsJson(const ReportInputs& inputs, const Sheet& sheet) {
   }
   out["groups"] = groups;
   Json models = Json::array();
-  for (size_t i = 0; i < f.fits.size(); ++i) {
-    const fit::ModelFit& mf = f.fits[i];
-    const ModelRow& row = sheet.models[i];
-    Json parameters = Json::array();
-    for (size_t k = 0; k < mf.result.estimates.size(); ++k) {
-      const fitters::ParameterEstimate& e = mf.result.estimates[k];
-      Json p = QuantityJson(row.parameters[k]);
-      p["interval_low"] = Number(e.interval_low);
-      p["interval_high"] = Number(e.interval_high);
-      p["at_bound"] = e.at_bound;
-      if (k < mf.info.parameters.size()) p["description"] = mf.info.parameters[k].description;
-      parameters.push_back(p);
-    }
-    const fitters::FitStatistics& s = mf.result.statistics;
-    Json consistency = Json::array();
-    for (const fit::ConsistencyCheck& c : mf.consistency) {
-      consistency.push_back(
-          {{"criterion", c.criterion}, {"passed", c.passed}, {"detail", c.detail}});
-    }
-    Json band = Json::array();
-    for (const fitters::BandPoint& b : mf.band) {
-      band.push_back({Number(b.x), Number(b.y), Number(b.confidence_low), Number(b.confidence_high),
-                      Number(b.prediction_low), Number(b.prediction_high)});
-    }
-    models.push_back(
-        {{"index", i},
-         {"model", mf.model_name},
-         {"title", mf.info.title},
-         {"equation", mf.info.equation},
-         {"source", mf.info.source},
-         {"group_index", mf.group_index},
-         {"converged", mf.result.ok()},
-         {"termination", mf.result.summary.message},
-         {"covariance_convention", mf.result.summary.covariance_convention},
-         {"parameters", parameters},
-         {"covariance", Matrix(mf.result.covariance)},
-         {"correlation", Matrix(mf.result.correlation)},
-         {"notable_correlations", StringArray(row.correlations)},
-         {"statistics",
-          {{"num_observations", s.num_observations},
-           {"num_parameters", s.num_parameters},
-           {"degrees_of_freedom", s.degrees_of_freedom},
-           {"weighted_ssr", Number(s.weighted_ssr)},
-           {"ssr", Number(s.ssr)},
-           {"rmse_kg_per_kg", Number(s.rmse)},
-           {"rmse_text", row.rmse_text},
-           {"residual_std", Number(s.residual_std)},
-           {"r_squared", Number(s.r_squared)},
-           {"adjusted_r_squared", Number(s.adjusted_r_squared)},
-           {"mean_relative_deviation_percent", Number(s.mean_relative_deviation_percent)},
-           {"mrd_text", row.mrd_text},
-           {"aicc", Number(s.aicc)},
-           {"aicc_text", row.aicc_text},
-           {"bic", Number(s.bic)},
-           {"bic_text", row.bic_text},
-           {"chi_square_p_value", Number(s.chi_square_p_value)},
-           {"runs", s.runs},
-           {"runs_test_p_value", Number(s.runs_test_p_value)}}},
-         {"bootstrap", ResampleJson(mf.bootstrap)},
-         {"monte_carlo", ResampleJson(mf.monte_carlo)},
-         {"consistency", consistency},
-         {"flags", StringArray(row.flags)},
-         {"rank", mf.rank},
-         {"band_columns",
-          {"rh_fraction", "moisture_kg_per_kg", "confidence_low", "confidence_high",
-           "prediction_low", "prediction_high"}},
-         {"band", band}});
-  }
+  for (size_t i = 0; i < f.fits.size(); ++i) models.push_back(FitModelJson(f, i, sheet));
   out["models"] = models;
-  Json ranking = Json::array();
-  for (size_t g = 0; g < f.best_fit_per_group.size(); ++g) {
-    Json order = Json::array();
-    std::vector<std::pair<int, size_t>> ranked;
-    for (size_t i = 0; i < f.fits.size(); ++i) {
-      if (f.fits[i].group_index == static_cast<int>(g) && f.fits[i].rank > 0) {
-        ranked.emplace_back(f.fits[i].rank, i);
-      }
-    }
-    std::sort(ranked.begin(), ranked.end());
-    for (const auto& [rank, i] : ranked) {
-      order.push_back({{"rank", rank}, {"fit_index", i}, {"model", f.fits[i].model_name}});
-    }
-    ranking.push_back({{"group_index", g},
-                       {"best_fit_index", f.best_fit_per_group[g]},
-                       {"by", "AICc"},
-                       {"order", order}});
-  }
-  out["ranking"] = ranking;
+  out["ranking"] = RankingJson(f);
   out["summary"] = {{"fits_attempted", f.summary.fits_attempted},
                     {"fits_converged", f.summary.fits_converged},
                     {"warnings", Diagnostics(f.summary.warnings)}};
   return out;
 }
 
-Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
-  Json out = Json::object();
-  if (inputs.pores == nullptr) return out;
-  const pores::PoreAnalysis& pa = *inputs.pores;
-  const DisplayRules& rules = sheet.rules;
-  Json distributions = Json::array();
-  for (const pores::PoreDistribution& d : pa.distributions) {
-    Json points = Json::array();
-    for (const pores::PoreDistributionPoint& p : d.points) {
-      points.push_back({Number(p.radius_m), Number(p.kelvin_radius_m), Number(p.film_thickness_m),
-                        Number(p.rh_fraction), Number(p.cumulative_volume_m3_per_kg),
-                        Number(p.cumulative_low_m3_per_kg), Number(p.cumulative_high_m3_per_kg),
-                        Number(p.dv_dlogr_m3_per_kg), Number(p.dv_dlogr_low_m3_per_kg),
-                        Number(p.dv_dlogr_high_m3_per_kg)});
-    }
-    Json modes = Json::array();
-    for (size_t m = 0; m < d.modes.size(); ++m) {
-      const Quantity q = MakeQuantity("mode", "modal radius", d.modes[m].radius_m,
-                                      d.modes[m].u_radius_m, "m", 1e9, "nm", rules);
-      Json mode = QuantityJson(q);
-      mode["dv_dlogr_m3_per_kg"] = Number(d.modes[m].dv_dlogr_m3_per_kg);
-      modes.push_back(mode);
-    }
-    Json decades = Json::array();
-    for (const pores::DecadeFraction& f : d.decades) {
-      decades.push_back({{"radius_low_m", Number(f.radius_low_m)},
-                         {"radius_high_m", Number(f.radius_high_m)},
-                         {"volume_fraction", Number(f.volume_fraction)},
-                         {"u_volume_fraction", Number(f.u_volume_fraction)}});
-    }
-    distributions.push_back(
-        {{"method", d.method},
-         {"model", d.model_name},
-         {"branch", BranchLabel(d.branch)},
-         {"temperature_K", Number(d.temperature_K)},
-         {"meniscus", std::string(d.meniscus == physics::Meniscus::kHemispherical ? "hemispherical"
-                                                                                  : "cylindrical")},
-         {"film", d.film_description},
-         {"total_resolved_volume",
-          QuantityJson(MakeQuantity("total_resolved_volume", "Kelvin-resolved pore volume",
-                                    d.total_resolved_volume_m3_per_kg,
-                                    d.u_total_resolved_volume_m3_per_kg, "m3/kg", 1e6, "mm³/g",
-                                    rules))},
-         {"adsorbed_volume_m3_per_kg", Number(d.adsorbed_volume_m3_per_kg)},
-         {"not_resolved_volume_m3_per_kg", Number(d.not_resolved_volume_m3_per_kg)},
-         {"resolved_radius_min_m", Number(d.resolved_radius_min_m)},
-         {"resolved_radius_max_m", Number(d.resolved_radius_max_m)},
-         {"modes", modes},
-         {"decades", decades},
-         {"assumptions", StringArray(d.assumptions)},
-         {"point_columns",
-          {"radius_m", "kelvin_radius_m", "film_thickness_m", "rh_fraction",
-           "cumulative_volume_m3_per_kg", "cumulative_low_m3_per_kg", "cumulative_high_m3_per_kg",
-           "dv_dlogr_m3_per_kg", "dv_dlogr_low_m3_per_kg", "dv_dlogr_high_m3_per_kg"}},
-         {"points", points}});
+Json DistributionJson(const pores::PoreDistribution& d, const DisplayRules& rules) {
+  Json points = Json::array();
+  for (const pores::PoreDistributionPoint& p : d.points) {
+    points.push_back({Number(p.radius_m), Number(p.kelvin_radius_m), Number(p.film_thickness_m),
+                      Number(p.rh_fraction), Number(p.cumulative_volume_m3_per_kg),
+                      Number(p.cumulative_low_m3_per_kg), Number(p.cumulative_high_m3_per_kg),
+                      Number(p.dv_dlogr_m3_per_kg), Number(p.dv_dlogr_low_m3_per_kg),
+                      Number(p.dv_dlogr_high_m3_per_kg)});
   }
-  out["distributions"] = distributions;
+  Json modes = Json::array();
+  for (size_t m = 0; m < d.modes.size(); ++m) {
+    const Quantity q = MakeQuantity("mode", "modal radius", d.modes[m].radius_m,
+                                    d.modes[m].u_radius_m, "m", 1e9, "nm", rules);
+    Json mode = QuantityJson(q);
+    mode["dv_dlogr_m3_per_kg"] = Number(d.modes[m].dv_dlogr_m3_per_kg);
+    modes.push_back(mode);
+  }
+  Json decades = Json::array();
+  for (const pores::DecadeFraction& f : d.decades) {
+    decades.push_back({{"radius_low_m", Number(f.radius_low_m)},
+                       {"radius_high_m", Number(f.radius_high_m)},
+                       {"volume_fraction", Number(f.volume_fraction)},
+                       {"u_volume_fraction", Number(f.u_volume_fraction)}});
+  }
+  return {
+      {"method", d.method},
+      {"model", d.model_name},
+      {"branch", BranchLabel(d.branch)},
+      {"temperature_K", Number(d.temperature_K)},
+      {"meniscus", std::string(d.meniscus == physics::Meniscus::kHemispherical ? "hemispherical"
+                                                                               : "cylindrical")},
+      {"film", d.film_description},
+      {"total_resolved_volume",
+       QuantityJson(MakeQuantity("total_resolved_volume", "Kelvin-resolved pore volume",
+                                 d.total_resolved_volume_m3_per_kg,
+                                 d.u_total_resolved_volume_m3_per_kg, "m3/kg", 1e6, "mm³/g",
+                                 rules))},
+      {"adsorbed_volume_m3_per_kg", Number(d.adsorbed_volume_m3_per_kg)},
+      {"not_resolved_volume_m3_per_kg", Number(d.not_resolved_volume_m3_per_kg)},
+      {"resolved_radius_min_m", Number(d.resolved_radius_min_m)},
+      {"resolved_radius_max_m", Number(d.resolved_radius_max_m)},
+      {"modes", modes},
+      {"decades", decades},
+      {"assumptions", StringArray(d.assumptions)},
+      {"point_columns",
+       {"radius_m", "kelvin_radius_m", "film_thickness_m", "rh_fraction",
+        "cumulative_volume_m3_per_kg", "cumulative_low_m3_per_kg", "cumulative_high_m3_per_kg",
+        "dv_dlogr_m3_per_kg", "dv_dlogr_low_m3_per_kg", "dv_dlogr_high_m3_per_kg"}},
+      {"points", points}};
+}
+
+// Surface areas, moisture at the reference conditions, the hygroscopicity class.
+void AddDerivedJson(const pores::PoreAnalysis& pa, const DisplayRules& rules, Json& out) {
   Json areas = Json::array();
   for (const pores::SurfaceArea& s : pa.surface_areas) {
     Json a = QuantityJson(MakeQuantity("surface_area", "specific surface area", s.area_m2_per_g,
@@ -450,6 +451,10 @@ Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
                                   h.u_mass_increase_percent, "%", 1.0, "%", rules));
   }
   out["hygroscopicity"] = hyg;
+}
+
+// Hysteresis and isosteric heat.
+void AddThermodynamicsJson(const pores::PoreAnalysis& pa, Json& out) {
   Json hysteresis = Json::array();
   for (const pores::Hysteresis& y : pa.hysteresis) {
     Json points = Json::array();
@@ -487,8 +492,62 @@ Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
                     {"points", points}});
   }
   out["isosteric_heat"] = heat;
+}
+
+Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
+  Json out = Json::object();
+  if (inputs.pores == nullptr) return out;
+  const pores::PoreAnalysis& pa = *inputs.pores;
+  Json distributions = Json::array();
+  for (const pores::PoreDistribution& d : pa.distributions) {
+    distributions.push_back(DistributionJson(d, sheet.rules));
+  }
+  out["distributions"] = distributions;
+  AddDerivedJson(pa, sheet.rules, out);
+  AddThermodynamicsJson(pa, out);
   out["warnings"] = Diagnostics(pa.summary.warnings);
   return out;
+}
+
+}  // namespace
+
+namespace {
+
+// The sheet's sections as numbered and their tables cell by cell, exactly as printed on the
+// PDF and in the HTML report (each cell's "key" names the Quantity it prints, if any), and
+// the names of their figures.
+Json SheetJson(const Sheet& sheet) {
+  Json sections = Json::array();
+  for (const Section& section : sheet.sections) {
+    Json tables = Json::array();
+    Json figures = Json::array();
+    for (const Block& block : section.blocks) {
+      if (const auto* f = std::get_if<FigureBlock>(&block)) {
+        figures.push_back({{"name", f->name}, {"panels", f->panels.size()}});
+      }
+      const auto* t = std::get_if<TableBlock>(&block);
+      if (t == nullptr) continue;
+      Json columns = Json::array();
+      for (const ColumnSpec& c : t->columns) columns.push_back(c.header);
+      Json rows = Json::array();
+      for (const std::vector<Cell>& row : t->rows) {
+        Json cells = Json::array();
+        for (const Cell& cell : row) {
+          Json j = {{"text", cell.text}};
+          if (!cell.key.empty()) j["key"] = cell.key;
+          cells.push_back(j);
+        }
+        rows.push_back(cells);
+      }
+      tables.push_back({{"name", t->name}, {"columns", columns}, {"rows", rows}});
+    }
+    sections.push_back({{"number", section.number},
+                        {"key", section.key},
+                        {"heading", section.Heading()},
+                        {"tables", tables},
+                        {"figures", figures}});
+  }
+  return {{"sections", sections}};
 }
 
 }  // namespace
@@ -528,6 +587,7 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
   root["isotherm"] = IsothermJson(inputs, sheet);
   root["fits"] = FitsJson(inputs, sheet);
   root["pores"] = PoresJson(inputs, sheet);
+  root["sheet"] = SheetJson(sheet);
   return root;
 }
 

@@ -9,6 +9,7 @@
 
 #include "pipeline/report/format.h"
 #include "pipeline/report/plot/text.h"
+#include "pipeline/report/sections.h"
 
 namespace sorbtrace::report {
 namespace {
@@ -164,7 +165,7 @@ Quantity MoistureQuantity(std::string key, std::string label, double value_kg_pe
 namespace {
 
 DisplayRules WithPointCoverage(DisplayRules rules, double u, double expanded_u) {
-  if (u > 0.0 && expanded_u > 0.0) rules.coverage_factor = expanded_u / u;
+  rules.coverage_factor = CoverageFactorOf(u, expanded_u, rules.coverage_factor);
   return rules;
 }
 
@@ -183,6 +184,19 @@ void Accumulate(std::vector<reduce::BudgetLine>& aggregate, const reduce::Budget
 }
 
 }  // namespace
+
+double CoverageFactorOf(double standard_uncertainty, double expanded_uncertainty, double fallback) {
+  return standard_uncertainty > 0.0 && expanded_uncertainty > 0.0
+             ? expanded_uncertainty / standard_uncertainty
+             : fallback;
+}
+
+int Sheet::SectionNumber(const std::string& key) const {
+  for (size_t i = 0; i < section_keys.size(); ++i) {
+    if (section_keys[i] == key) return static_cast<int>(i) + 1;
+  }
+  return 0;
+}
 
 Quantity PointRhQuantity(const reduce::IsothermPoint& p, const DisplayRules& rules) {
   return MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%",
@@ -246,199 +260,281 @@ std::string GroupLabel(const fit::FitGroup& group) {
   return BranchLabel(group.branch) + ", " + TemperatureLabel(group.temperature_K);
 }
 
-Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
-  Sheet sheet;
+std::string Section::Heading() const { return fmt::format("{}  {}", number, title); }
+
+namespace {
+
+std::string SectionTitle(const std::string& key) {
+  static const std::vector<std::pair<std::string, std::string>> kTitles = {
+      {"summary", "Summary"},
+      {"isotherm", "Sorption isotherm"},
+      {"models", "Model comparison"},
+      {"pores", "Pore-size distribution"},
+      {"kinetics", "Kinetics"},
+      {"equilibria", "Equilibrium table"},
+      {"method", "Method and traceability"},
+      {"cautions", "Cautions"}};
+  for (const auto& [k, title] : kTitles) {
+    if (k == key) return title;
+  }
+  return key;
+}
+
+void BuildSection(const internal::SectionContext& ctx, Section& section) {
+  if (section.key == "summary") {
+    internal::BuildSummarySection(ctx, ctx.layout.compact, section);
+  } else if (section.key == "isotherm") {
+    internal::BuildIsothermSection(ctx, section);
+  } else if (section.key == "models") {
+    internal::BuildModelsSection(ctx, section);
+  } else if (section.key == "pores") {
+    internal::BuildPoresSection(ctx, section);
+  } else if (section.key == "kinetics") {
+    internal::BuildKineticsSection(ctx, section);
+  } else if (section.key == "equilibria") {
+    internal::BuildEquilibriaSection(ctx, section);
+  } else if (section.key == "method") {
+    internal::BuildMethodSection(ctx, section);
+  } else if (section.key == "cautions") {
+    internal::BuildCautionsSection(ctx, section);
+  }
+}
+
+// The numbered sections of the template, each from its builder.
+std::vector<Section> BuildSections(const ReportInputs& inputs, const Template& layout,
+                                   const ReportOptions& options, const Sheet& sheet) {
+  const internal::SectionContext ctx{inputs, layout, options, sheet};
+  std::vector<Section> sections;
+  for (size_t i = 0; i < sheet.section_keys.size(); ++i) {
+    Section section;
+    section.key = sheet.section_keys[i];
+    section.number = static_cast<int>(i) + 1;
+    section.title = SectionTitle(section.key);
+    BuildSection(ctx, section);
+    sections.push_back(std::move(section));
+  }
+  return sections;
+}
+
+}  // namespace
+
+namespace {
+
+// Cautions collected in print order, each once.
+struct CautionList {
+  Sheet& sheet;
+  std::set<std::string> seen;
+  void Add(const std::string& text) { AddUnique(sheet.cautions, seen, text); }
+  void AddAll(const std::vector<Diagnostic>& warnings) {
+    for (const Diagnostic& w : warnings) Add(w.message);
+  }
+};
+
+void SetDisplayRules(const ReportInputs& inputs, const Template& layout, Sheet& sheet) {
   sheet.rules.moisture_in_percent = layout.moisture_in_percent;
   sheet.rules.significant_digits = layout.uncertainty_significant_digits;
   if (inputs.reduced != nullptr) sheet.rules.coverage_factor = inputs.reduced->coverage_factor;
   if (inputs.fits != nullptr && inputs.reduced == nullptr) {
     sheet.rules.coverage_factor = inputs.fits->coverage_factor;
   }
-  const DisplayRules& rules = sheet.rules;
-  sheet.moisture_unit = rules.moisture_in_percent ? "%" : "kg/kg";
-  sheet.moisture_axis_label = rules.moisture_in_percent ? "moisture content (mass %, dry basis)"
-                                                        : "moisture content (kg/kg, dry basis)";
-  std::set<std::string> seen_cautions;
-  // Input warnings first (a frozen sensor, a gap in a log): they change what every number
-  // below can be trusted for, and the summary page lists only the first cautions.
-  if (inputs.ingested != nullptr) {
-    for (const Diagnostic& w : inputs.ingested->summary.warnings) {
-      AddUnique(sheet.cautions, seen_cautions, w.message);
-    }
-    CheckPrintedFields(inputs.ingested->job, sheet);
-    seen_cautions.insert(sheet.cautions.begin(), sheet.cautions.end());
-  }
+  sheet.section_keys = layout.compact ? std::vector<std::string>{"summary"} : layout.sections;
+  sheet.moisture_unit = sheet.rules.moisture_in_percent ? "%" : "kg/kg";
+  sheet.moisture_axis_label = sheet.rules.moisture_in_percent
+                                  ? "moisture content (mass %, dry basis)"
+                                  : "moisture content (kg/kg, dry basis)";
+}
 
-  // Headline: moisture at the reference conditions.
-  if (inputs.pores != nullptr) {
-    const pores::PoreAnalysis& pa = *inputs.pores;
-    for (const pores::ReferenceMoisture& rm : pa.reference_moisture) {
-      bool wanted = layout.reference_conditions.empty();
-      for (const pores::ReferenceCondition& c : layout.reference_conditions) {
-        if (std::abs(c.temperature_K - rm.condition.temperature_K) < 0.05 &&
-            std::abs(c.rh_fraction - rm.condition.rh_fraction) < 5e-4) {
-          wanted = true;
-        }
-      }
-      if (!wanted) continue;
-      const std::string t = FormatFixed(rm.condition.temperature_K - kZeroCelsius_K, 0);
-      const std::string rh = FormatFixed(rm.condition.rh_fraction * 100.0, 0);
-      sheet.headline.push_back(MoistureQuantity(
-          fmt::format("moisture_{}C_{}RH_{}", t, rh, BranchLabel(rm.branch)),
-          fmt::format("Moisture content at {} °C / {} % RH ({})", t, rh, BranchLabel(rm.branch)),
-          rm.moisture_kg_per_kg, rm.u_moisture_kg_per_kg, rules));
-      if (!rm.temperature_matches) {
-        AddUnique(sheet.cautions, seen_cautions,
-                  fmt::format("Moisture at {} °C / {} % RH is taken from an isotherm fitted at "
-                              "another temperature.",
-                              t, rh));
-      }
-      for (const std::string& f : rm.flags) AddUnique(sheet.cautions, seen_cautions, f);
+// Input warnings first (a frozen sensor, a gap in a log): they change what every number
+// below can be trusted for, and the summary page lists only the first cautions.
+void AddInputCautions(const ReportInputs& inputs, CautionList& cautions) {
+  if (inputs.ingested == nullptr) return;
+  cautions.AddAll(inputs.ingested->summary.warnings);
+  CheckPrintedFields(inputs.ingested->job, cautions.sheet);
+  cautions.seen.insert(cautions.sheet.cautions.begin(), cautions.sheet.cautions.end());
+}
+
+bool WantedReference(const Template& layout, const pores::ReferenceCondition& condition) {
+  // Closer than 0.05 K and 0.05 % RH: the same condition (both far below any reading).
+  bool wanted = layout.reference_conditions.empty();
+  for (const pores::ReferenceCondition& c : layout.reference_conditions) {
+    if (std::abs(c.temperature_K - condition.temperature_K) < 0.05 &&
+        std::abs(c.rh_fraction - condition.rh_fraction) < 5e-4) {
+      wanted = true;
     }
-    for (const pores::SurfaceArea& sa : pa.surface_areas) {
-      std::string model = sa.model_name;
-      std::transform(model.begin(), model.end(), model.begin(),
-                     [](char c) { return static_cast<char>(std::toupper(c)); });
-      sheet.headline.push_back(MakeQuantity(
-          "surface_area_" + KeyPart(sa.model_name),
-          "Specific surface area (" + model + " monolayer, " + BranchLabel(sa.branch) + ")",
-          sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0, "m²/g", rules));
+  }
+  return wanted;
+}
+
+// Headline: moisture at the reference conditions.
+void AddReferenceMoistures(const pores::PoreAnalysis& pa, const Template& layout,
+                           CautionList& cautions) {
+  Sheet& sheet = cautions.sheet;
+  for (const pores::ReferenceMoisture& rm : pa.reference_moisture) {
+    if (!WantedReference(layout, rm.condition)) continue;
+    const std::string t = FormatFixed(rm.condition.temperature_K - kZeroCelsius_K, 0);
+    const std::string rh = FormatFixed(rm.condition.rh_fraction * 100.0, 0);
+    sheet.headline.push_back(MoistureQuantity(
+        fmt::format("moisture_{}C_{}RH_{}", t, rh, BranchLabel(rm.branch)),
+        fmt::format("Moisture content at {} °C / {} % RH ({})", t, rh, BranchLabel(rm.branch)),
+        rm.moisture_kg_per_kg, rm.u_moisture_kg_per_kg, sheet.rules));
+    if (!rm.temperature_matches) {
+      cautions.Add(fmt::format(
+          "Moisture at {} °C / {} % RH is taken from an isotherm fitted at another temperature.", t,
+          rh));
     }
-    if (pa.hygroscopicity.applicable) {
-      sheet.headline.push_back(MakeQuantity(
-          "hygroscopicity_mass_increase", "Mass increase at 25 °C / 80 % RH (Ph. Eur. 5.11)",
-          pa.hygroscopicity.mass_increase_percent, pa.hygroscopicity.u_mass_increase_percent, "%",
-          1.0, "%", rules));
-      sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
-    } else {
-      sheet.hygroscopicity_class = "not classified";
-      if (!pa.hygroscopicity.reason.empty()) {
-        sheet.hygroscopicity_class += " (" + pa.hygroscopicity.reason + ")";
-      }
+    for (const std::string& f : rm.flags) cautions.Add(f);
+  }
+}
+
+void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, Sheet& sheet) {
+  for (const pores::SurfaceArea& sa : pa.surface_areas) {
+    std::string model = sa.model_name;
+    std::transform(model.begin(), model.end(), model.begin(),
+                   [](char c) { return static_cast<char>(std::toupper(c)); });
+    sheet.headline.push_back(MakeQuantity(
+        "surface_area_" + KeyPart(sa.model_name),
+        "Specific surface area (" + model + " monolayer, " + BranchLabel(sa.branch) + ")",
+        sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0, "m²/g", sheet.rules));
+  }
+  if (pa.hygroscopicity.applicable) {
+    sheet.headline.push_back(MakeQuantity(
+        "hygroscopicity_mass_increase", "Mass increase at 25 °C / 80 % RH (Ph. Eur. 5.11)",
+        pa.hygroscopicity.mass_increase_percent, pa.hygroscopicity.u_mass_increase_percent, "%",
+        1.0, "%", sheet.rules));
+    sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
+  } else {
+    sheet.hygroscopicity_class = "not classified";
+    if (!pa.hygroscopicity.reason.empty()) {
+      sheet.hygroscopicity_class += " (" + pa.hygroscopicity.reason + ")";
     }
-    for (size_t d = 0; d < pa.distributions.size(); ++d) {
-      const pores::PoreDistribution& pd = pa.distributions[d];
-      const std::string tag = pd.method + "_" + BranchLabel(pd.branch);
-      const std::string what = BranchLabel(pd.branch) + ", " + pd.method;
-      // 1 m3/kg = 1e6 mm3/g; 1 m = 1e9 nm.
+  }
+}
+
+void AddPoreVolumes(const pores::PoreAnalysis& pa, Sheet& sheet) {
+  for (const pores::PoreDistribution& pd : pa.distributions) {
+    const std::string tag = pd.method + "_" + BranchLabel(pd.branch);
+    const std::string what = BranchLabel(pd.branch) + ", " + pd.method;
+    // 1 m3/kg = 1e6 mm3/g; 1 m = 1e9 nm.
+    sheet.headline.push_back(
+        MakeQuantity("pore_volume_" + tag, "Kelvin-resolved pore volume (" + what + ")",
+                     pd.total_resolved_volume_m3_per_kg, pd.u_total_resolved_volume_m3_per_kg,
+                     "m3/kg", 1e6, "mm³/g", sheet.rules));
+    for (size_t m = 0; m < pd.modes.size(); ++m) {
       sheet.headline.push_back(
-          MakeQuantity("pore_volume_" + tag, "Kelvin-resolved pore volume (" + what + ")",
-                       pd.total_resolved_volume_m3_per_kg, pd.u_total_resolved_volume_m3_per_kg,
-                       "m3/kg", 1e6, "mm³/g", rules));
-      for (size_t m = 0; m < pd.modes.size(); ++m) {
-        sheet.headline.push_back(
-            MakeQuantity("modal_radius_" + tag + "_" + std::to_string(m + 1),
-                         "Modal pore radius " + std::to_string(m + 1) + " (" + what + ")",
-                         pd.modes[m].radius_m, pd.modes[m].u_radius_m, "m", 1e9, "nm", rules));
-      }
-    }
-    for (const Diagnostic& w : pa.summary.warnings)
-      AddUnique(sheet.cautions, seen_cautions, w.message);
-  }
-
-  // Models.
-  if (inputs.fits != nullptr) {
-    const fit::IsothermFits& fits = *inputs.fits;
-    for (size_t i = 0; i < fits.fits.size(); ++i) {
-      const fit::ModelFit& mf = fits.fits[i];
-      ModelRow row;
-      row.fit_index = static_cast<int>(i);
-      row.model_title = mf.info.title.empty() ? mf.model_name : mf.info.title;
-      if (mf.group_index >= 0 && static_cast<size_t>(mf.group_index) < fits.groups.size()) {
-        row.group_label = GroupLabel(fits.groups[static_cast<size_t>(mf.group_index)]);
-      }
-      row.converged = mf.result.ok();
-      row.rank = mf.rank;
-      const size_t p = mf.result.estimates.size();
-      for (size_t k = 0; k < p; ++k) {
-        const fitters::ParameterEstimate& e = mf.result.estimates[k];
-        double u = e.standard_error;
-        DisplayRules param_rules = rules;
-        if (k < mf.expanded_uncertainty.size() && u > 0.0) {
-          param_rules.coverage_factor = mf.expanded_uncertainty[k] / u;
-        } else {
-          param_rules.coverage_factor = fits.coverage_factor;
-        }
-        Quantity q = MakeQuantity(
-            "fit_" + std::to_string(i) + "_" + KeyPart(mf.model_name) + "_" + KeyPart(e.name),
-            e.name, e.value, u, e.unit.empty() ? "1" : e.unit, 1.0, PrettyUnit(e.unit),
-            param_rules);
-        row.parameters.push_back(std::move(q));
-      }
-      const Eigen::MatrixXd& r = mf.result.correlation;
-      for (Eigen::Index a = 0; a < r.rows(); ++a) {
-        for (Eigen::Index b = a + 1; b < r.cols(); ++b) {
-          if (std::abs(r(a, b)) > kNotableCorrelation && static_cast<size_t>(b) < p) {
-            row.correlations.push_back(mf.result.estimates[static_cast<size_t>(a)].name + "–" +
-                                       mf.result.estimates[static_cast<size_t>(b)].name +
-                                       ": r = " + FormatFixed(r(a, b), 3));
-          }
-        }
-      }
-      const fitters::FitStatistics& s = mf.result.statistics;
-      const double scale = rules.moisture_in_percent ? 100.0 : 1.0;
-      row.rmse_text = WithUnit(FormatSignificant(s.rmse * scale, 2), sheet.moisture_unit);
-      row.mrd_text = FormatFixed(s.mean_relative_deviation_percent, 1) + " %";
-      row.aicc_text = FormatFixed(s.aicc, 1);
-      row.bic_text = FormatFixed(s.bic, 1);
-      std::set<std::string> seen_flags;
-      for (const std::string& f : mf.flags) AddUnique(row.flags, seen_flags, f);
-      for (const std::string& f : mf.result.summary.flags) AddUnique(row.flags, seen_flags, f);
-      for (const fit::ConsistencyCheck& c : mf.consistency) {
-        if (!c.passed) AddUnique(row.flags, seen_flags, "fails " + c.criterion);
-      }
-      if (!row.converged) AddUnique(row.flags, seen_flags, "not converged");
-      sheet.models.push_back(std::move(row));
-    }
-    std::vector<std::string> best_names;
-    for (size_t g = 0; g < fits.best_fit_per_group.size(); ++g) {
-      const int best = fits.best_fit_per_group[g];
-      if (best < 0 || static_cast<size_t>(best) >= fits.fits.size()) continue;
-      const fit::ModelFit& mf = fits.fits[static_cast<size_t>(best)];
-      const ModelRow& row = sheet.models[static_cast<size_t>(best)];
-      best_names.push_back(row.model_title + " (" + row.group_label + ")");
-      for (const Quantity& q : row.parameters) {
-        Quantity h = q;
-        h.key = "best_" + KeyPart(BranchLabel(fits.groups[g].branch)) + "_" +
-                FormatFixed(fits.groups[g].temperature_K - kZeroCelsius_K, 0) + "C_" +
-                KeyPart(mf.model_name) + "_" + KeyPart(q.label);
-        h.label = row.model_title + " " + q.label + " (" + row.group_label + ")";
-        sheet.headline.push_back(std::move(h));
-      }
-      for (const std::string& f : row.flags) {
-        AddUnique(sheet.cautions, seen_cautions, row.model_title + ": " + f);
-      }
-    }
-    for (size_t i = 0; i < best_names.size(); ++i) {
-      sheet.best_model_text += (i > 0 ? "; " : "") + best_names[i];
-    }
-    for (const Diagnostic& w : fits.summary.warnings) {
-      AddUnique(sheet.cautions, seen_cautions, w.message);
+          MakeQuantity("modal_radius_" + tag + "_" + std::to_string(m + 1),
+                       "Modal pore radius " + std::to_string(m + 1) + " (" + what + ")",
+                       pd.modes[m].radius_m, pd.modes[m].u_radius_m, "m", 1e9, "nm", sheet.rules));
     }
   }
+}
 
-  // Measurement cautions.
+std::vector<Quantity> ParameterQuantities(const fit::IsothermFits& fits, size_t i,
+                                          const DisplayRules& rules) {
+  const fit::ModelFit& mf = fits.fits[i];
+  std::vector<Quantity> out;
+  for (size_t k = 0; k < mf.result.estimates.size(); ++k) {
+    const fitters::ParameterEstimate& e = mf.result.estimates[k];
+    const double u = e.standard_error;
+    DisplayRules param_rules = rules;
+    param_rules.coverage_factor = k < mf.expanded_uncertainty.size() && u > 0.0
+                                      ? mf.expanded_uncertainty[k] / u
+                                      : fits.coverage_factor;
+    out.push_back(MakeQuantity(
+        "fit_" + std::to_string(i) + "_" + KeyPart(mf.model_name) + "_" + KeyPart(e.name), e.name,
+        e.value, u, e.unit.empty() ? "1" : e.unit, 1.0, PrettyUnit(e.unit), param_rules));
+  }
+  return out;
+}
+
+std::vector<std::string> NotableCorrelations(const fitters::FitResult& result) {
+  std::vector<std::string> out;
+  const Eigen::MatrixXd& r = result.correlation;
+  const size_t p = result.estimates.size();
+  for (Eigen::Index a = 0; a < r.rows(); ++a) {
+    for (Eigen::Index b = a + 1; b < r.cols(); ++b) {
+      if (std::abs(r(a, b)) > kNotableCorrelation && static_cast<size_t>(b) < p) {
+        out.push_back(result.estimates[static_cast<size_t>(a)].name + "–" +
+                      result.estimates[static_cast<size_t>(b)].name +
+                      ": r = " + FormatFixed(r(a, b), 3));
+      }
+    }
+  }
+  return out;
+}
+
+ModelRow MakeModelRow(const fit::IsothermFits& fits, size_t i, const Sheet& sheet) {
+  const fit::ModelFit& mf = fits.fits[i];
+  ModelRow row;
+  row.fit_index = static_cast<int>(i);
+  row.model_title = mf.info.title.empty() ? mf.model_name : mf.info.title;
+  if (mf.group_index >= 0 && static_cast<size_t>(mf.group_index) < fits.groups.size()) {
+    row.group_label = GroupLabel(fits.groups[static_cast<size_t>(mf.group_index)]);
+  }
+  row.converged = mf.result.ok();
+  row.rank = mf.rank;
+  row.parameters = ParameterQuantities(fits, i, sheet.rules);
+  row.correlations = NotableCorrelations(mf.result);
+  const fitters::FitStatistics& s = mf.result.statistics;
+  const double scale = sheet.rules.moisture_in_percent ? 100.0 : 1.0;
+  row.rmse_text = WithUnit(FormatSignificant(s.rmse * scale, 2), sheet.moisture_unit);
+  row.mrd_text = FormatFixed(s.mean_relative_deviation_percent, 1) + " %";
+  row.aicc_text = FormatFixed(s.aicc, 1);
+  row.bic_text = FormatFixed(s.bic, 1);
+  std::set<std::string> seen_flags;
+  for (const std::string& f : mf.flags) AddUnique(row.flags, seen_flags, f);
+  for (const std::string& f : mf.result.summary.flags) AddUnique(row.flags, seen_flags, f);
+  for (const fit::ConsistencyCheck& c : mf.consistency) {
+    if (!c.passed) AddUnique(row.flags, seen_flags, "fails " + c.criterion);
+  }
+  if (!row.converged) AddUnique(row.flags, seen_flags, "not converged");
+  return row;
+}
+
+// The best model of each group: its parameters join the headline, its flags the cautions.
+void AddBestModels(const fit::IsothermFits& fits, CautionList& cautions) {
+  Sheet& sheet = cautions.sheet;
+  std::vector<std::string> best_names;
+  for (size_t g = 0; g < fits.best_fit_per_group.size(); ++g) {
+    const int best = fits.best_fit_per_group[g];
+    if (best < 0 || static_cast<size_t>(best) >= fits.fits.size()) continue;
+    const fit::ModelFit& mf = fits.fits[static_cast<size_t>(best)];
+    const ModelRow& row = sheet.models[static_cast<size_t>(best)];
+    best_names.push_back(row.model_title + " (" + row.group_label + ")");
+    for (const Quantity& q : row.parameters) {
+      Quantity h = q;
+      h.key = "best_" + KeyPart(BranchLabel(fits.groups[g].branch)) + "_" +
+              FormatFixed(fits.groups[g].temperature_K - kZeroCelsius_K, 0) + "C_" +
+              KeyPart(mf.model_name) + "_" + KeyPart(q.label);
+      h.label = row.model_title + " " + q.label + " (" + row.group_label + ")";
+      sheet.headline.push_back(std::move(h));
+    }
+    for (const std::string& f : row.flags) cautions.Add(row.model_title + ": " + f);
+  }
+  for (size_t i = 0; i < best_names.size(); ++i) {
+    sheet.best_model_text += (i > 0 ? "; " : "") + best_names[i];
+  }
+}
+
+void AddMeasurementCautions(const ReportInputs& inputs, CautionList& cautions) {
   if (inputs.equilibria != nullptr) {
     const equilibrate::EquilibrateSummary& s = inputs.equilibria->summary;
     if (s.num_not_equilibrated > 0) {
-      AddUnique(sheet.cautions, seen_cautions,
-                fmt::format("{} of {} steps did not meet the equilibrium criterion.",
-                            s.num_not_equilibrated, s.num_steps));
+      cautions.Add(fmt::format("{} of {} steps did not meet the equilibrium criterion.",
+                               s.num_not_equilibrated, s.num_steps));
     }
     if (s.num_extrapolated > 0) {
-      AddUnique(sheet.cautions, seen_cautions,
-                fmt::format("{} of {} steps were extrapolated to their asymptote (flagged in the "
-                            "equilibrium table; the extra uncertainty is included).",
-                            s.num_extrapolated, s.num_steps));
+      cautions.Add(
+          fmt::format("{} of {} steps were extrapolated to their asymptote (flagged in "
+                      "the equilibrium table; the extra uncertainty is included).",
+                      s.num_extrapolated, s.num_steps));
     }
-    for (const Diagnostic& w : s.warnings) AddUnique(sheet.cautions, seen_cautions, w.message);
+    cautions.AddAll(s.warnings);
   }
-  if (inputs.reduced != nullptr) {
-    for (const Diagnostic& w : inputs.reduced->summary.warnings) {
-      AddUnique(sheet.cautions, seen_cautions, w.message);
-    }
-  }
-  sheet.standing_cautions = {
+  if (inputs.reduced != nullptr) cautions.AddAll(inputs.reduced->summary.warnings);
+}
+
+std::vector<std::string> StandingCautions() {
+  return {
       "The results describe the specimens tested, under the conditions stated on this sheet; "
       "they apply to those specimens only and are not a property of every batch of the "
       "material.",
@@ -450,6 +546,35 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout) {
       "Saturated salt solutions and drying ovens are hazards: handle salts, solutions and hot "
       "specimens according to their safety data sheets.",
   };
+}
+
+}  // namespace
+
+Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const ReportOptions& options) {
+  Sheet sheet;
+  SetDisplayRules(inputs, layout, sheet);
+  CautionList cautions{sheet, {}};
+  AddInputCautions(inputs, cautions);
+  if (inputs.pores != nullptr) {
+    AddReferenceMoistures(*inputs.pores, layout, cautions);
+    AddSurfaceAreasAndClass(*inputs.pores, sheet);
+    AddPoreVolumes(*inputs.pores, sheet);
+    cautions.AddAll(inputs.pores->summary.warnings);
+  }
+  if (inputs.fits != nullptr) {
+    for (size_t i = 0; i < inputs.fits->fits.size(); ++i) {
+      sheet.models.push_back(MakeModelRow(*inputs.fits, i, sheet));
+    }
+    AddBestModels(*inputs.fits, cautions);
+    cautions.AddAll(inputs.fits->summary.warnings);
+  }
+  AddMeasurementCautions(inputs, cautions);
+  sheet.standing_cautions = StandingCautions();
+  sheet.report_number = "draft";
+  if (inputs.ingested != nullptr && !inputs.ingested->job.job_id.empty()) {
+    sheet.report_number = PrintedField(inputs.ingested->job.job_id, kMaxReportNumberChars);
+  }
+  sheet.sections = BuildSections(inputs, layout, options, sheet);
   return sheet;
 }
 

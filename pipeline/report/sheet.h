@@ -1,13 +1,21 @@
 // The datasheet's content before layout (internal to the report stage): every number that is
 // printed, as a Quantity holding the value in SI, its uncertainties, the display unit and the
-// text exactly as printed. The PDF and the results JSON are both written from one Sheet, so
-// they cannot disagree.
+// text exactly as printed, and the document itself as numbered sections of blocks (text,
+// tables of already formatted cells, figures as plot data). BuildSheet is the only code that
+// reads the stage results; the renderers (PDF: datasheet.cc, HTML: html.cc, the results
+// JSON and CSV companions) read the Sheet, so they cannot disagree.
+//
+// Adding a section: one builder function (sections.h) and its key in template.cc. Adding an
+// output format: one renderer of Sheet::sections.
 #pragma once
 
 #include <nlohmann/json.hpp>
 #include <string>
+#include <utility>
+#include <variant>
 #include <vector>
 
+#include "pipeline/report/plot/plot.h"
 #include "pipeline/report/report.h"
 
 namespace sorbtrace::report {
@@ -43,6 +51,10 @@ Quantity MakeQuantity(std::string key, std::string label, double value, double s
 // A moisture content [kg/kg] shown in % or kg/kg per the rules.
 Quantity MoistureQuantity(std::string key, std::string label, double value_kg_per_kg,
                           double u_kg_per_kg, const DisplayRules& rules);
+
+// The coverage factor of an uncertainty: expanded / standard where both are set, else
+// `fallback` (the sheet's k).
+double CoverageFactorOf(double standard_uncertainty, double expanded_uncertainty, double fallback);
 
 // The RH and moisture content of a combined point as printed: with the point's own expanded
 // uncertainty (its coverage factor is expanded / standard; the rules' k when none is set).
@@ -95,7 +107,87 @@ std::string PrintedField(const std::string& text, size_t max_chars = kMaxPrinted
 // line with the lab name and the page count (common practice: report numbers are short).
 inline constexpr size_t kMaxReportNumberChars = 40;
 
+// ---- The document: numbered sections of blocks ------------------------------------------------
+// Sizes are the PDF's [pt]; the HTML renderer maps them to its own type scale.
+struct SubheadingBlock {
+  std::string text;
+};
+struct ParagraphBlock {
+  std::string text;
+  double size_pt = 8.5;
+  double indent_pt = 0.0;
+  bool muted = false;  // a note or an explanation (slate)
+  bool bold = false;
+  double space_before_pt = 0.0;
+};
+struct BulletsBlock {
+  std::vector<std::string> items;
+  double size_pt = 8.5;
+};
+// Label / value pairs (e.g. the job facts of the summary).
+struct FactsBlock {
+  std::vector<std::pair<std::string, std::string>> rows;
+  double label_width_pt = 90.0;
+};
+// One table cell: the text exactly as printed and, where the cell prints a Quantity of
+// the sheet, that Quantity's key (results.json "headline"/"points" keys).
+struct Cell {
+  std::string text;
+  std::string key;
+};
+struct ColumnSpec {
+  std::string header;
+  double width_fraction = 0.1;  // of the text width
+  bool numeric = false;         // right-aligned
+};
+struct TableBlock {
+  std::string name;  // stable identifier, e.g. "summary_results"
+  std::vector<ColumnSpec> columns;
+  std::vector<std::vector<Cell>> rows;
+  double size_pt = 7.5;
+};
+enum class FigureArrangement {
+  kStacked,      // panels one below the other, full width, one left edge
+  kFillPage,     // one panel taking what the blocks after it leave on the page
+  kBesideNotes,  // panels stacked on the left, notes in a column on the right
+};
+struct FigureBlock {
+  std::string name;         // stable identifier, e.g. "isotherm"
+  std::string description;  // accessible name of the figure (HTML title/aria-label)
+  std::vector<plot::Figure> panels;
+  std::vector<double> heights_pt;  // one per panel
+  FigureArrangement arrangement = FigureArrangement::kStacked;
+  bool caption_adds_height = false;  // the last panel's caption comes on top of its height
+  double gap_pt = 6.0;               // between panels
+  double space_after_pt = 0.0;
+  // kFillPage: the panel's height range [pt].
+  double min_height_pt = 110.0;
+  double max_height_pt = 260.0;
+  // kBesideNotes: a titled column of note groups (first item of each group in bold).
+  std::string notes_title;
+  std::vector<std::vector<std::string>> notes;
+};
+struct SignaturesBlock {
+  std::vector<std::string> signatories;  // "Name, role"
+  std::string accreditation;
+};
+using Block = std::variant<SubheadingBlock, ParagraphBlock, BulletsBlock, FactsBlock, TableBlock,
+                           FigureBlock, SignaturesBlock>;
+
+struct Section {
+  std::string key;  // the template's section key, e.g. "cautions"
+  int number = 0;   // its place in the template's section list
+  std::string title;
+  std::vector<Block> blocks;
+  std::string Heading() const;  // "8  Cautions"
+};
+
 struct Sheet {
+  // The template's sections in print order (the one-page summary: "summary" only); a
+  // section's number is its place in this list, so cross-references follow the template.
+  std::vector<std::string> section_keys;
+  // 1-based number of section `key`; 0 when the sheet has no such section.
+  int SectionNumber(const std::string& key) const;
   DisplayRules rules;
   std::string moisture_unit;        // "%" or "kg/kg"
   std::string moisture_axis_label;  // "moisture content (% dry basis)"
@@ -106,6 +198,8 @@ struct Sheet {
   std::vector<std::string> cautions;           // data-specific cautions (flags, warnings)
   std::vector<std::string> standing_cautions;  // the fixed statements of section 8
   std::vector<Diagnostic> warnings;            // the report's own findings (run.log)
+  std::string report_number;                   // the job id as printed (running header)
+  std::vector<Section> sections;               // the document, in print order
 };
 
 // The software version without a leading "sorbtrace " (the run stage may pass either form).
@@ -115,6 +209,8 @@ std::string BranchLabel(ingest::Branch branch);
 std::string TemperatureLabel(double temperature_K);  // "23 °C"
 std::string GroupLabel(const fit::FitGroup& group);  // "adsorption, 23 °C"
 
-Sheet BuildSheet(const ReportInputs& inputs, const Template& layout);
+// The whole sheet: quantities, cautions and the sections the template lists.
+Sheet BuildSheet(const ReportInputs& inputs, const Template& layout,
+                 const ReportOptions& options = {});
 
 }  // namespace sorbtrace::report

@@ -101,6 +101,152 @@ class TemplateReader {
   std::string file_;
 };
 
+// [layout] outputs: which renderings of the sheet are written ("pdf", "html", each once,
+// at least one).
+void ReadOutputs(TemplateReader& reader, const toml::node& node, Template& layout) {
+  const std::vector<std::string> outputs = reader.StringArray(node, "outputs");
+  const std::vector<std::string> known = {"pdf", "html"};
+  const toml::array& array = *node.as_array();
+  layout.write_pdf = layout.write_html = false;
+  for (size_t i = 0; i < outputs.size(); ++i) {
+    bool& flag = outputs[i] == "pdf" ? layout.write_pdf : layout.write_html;
+    if (std::find(known.begin(), known.end(), outputs[i]) == known.end() || flag) {
+      throw InputError(reader.Where(array[i].source()),
+                       "output \"" + outputs[i] + "\" is unknown or listed twice",
+                       "each of " + JoinQuoted(known) + " at most once");
+    }
+    flag = true;
+  }
+  if (outputs.empty()) {
+    throw InputError(reader.Where(node.source()), "no output is listed",
+                     "at least one of " + JoinQuoted(known));
+  }
+}
+
+// [template]
+void ReadTemplateTable(TemplateReader& reader, const toml::table* t, Template& layout) {
+  reader.CheckKeys(*t, "template", {"name", "title", "page_size", "margin_mm"});
+  if (const toml::node* n = t->get("name")) layout.name = reader.String(*n, "name");
+  if (const toml::node* n = t->get("title")) layout.title = reader.String(*n, "title");
+  if (const toml::node* n = t->get("page_size")) {
+    const std::string size = reader.String(*n, "page_size");
+    if (size == "A4") {
+      layout.page_size = PageSize::kA4;
+    } else if (size == "letter") {
+      layout.page_size = PageSize::kLetter;
+    } else {
+      throw InputError(reader.Where(n->source()), "page_size \"" + size + "\" is not supported",
+                       "\"A4\" or \"letter\"");
+    }
+  }
+  if (const toml::node* n = t->get("margin_mm")) {
+    layout.margin_mm = reader.Number(*n, "margin_mm");
+    // Below 10 mm printers clip; above 40 mm little is left for the figures (common practice).
+    if (!(layout.margin_mm >= 10.0 && layout.margin_mm <= 40.0)) {
+      throw InputError(reader.Where(n->source()),
+                       "margin_mm " + std::to_string(layout.margin_mm) + " is out of range",
+                       "a margin from 10 to 40 mm");
+    }
+  }
+}
+
+// [lab]
+void ReadLabTable(TemplateReader& reader, const toml::table* t, Template& layout) {
+  reader.CheckKeys(*t, "lab", {"name", "address", "accreditation", "signatories"});
+  if (const toml::node* n = t->get("name")) layout.lab_name = reader.String(*n, "name");
+  if (const toml::node* n = t->get("address")) layout.lab_address = reader.String(*n, "address");
+  if (const toml::node* n = t->get("accreditation")) {
+    layout.accreditation = reader.String(*n, "accreditation");
+  }
+  if (const toml::node* n = t->get("signatories")) {
+    layout.signatories = reader.StringArray(*n, "signatories");
+  }
+}
+
+// [units]
+void ReadUnitsTable(TemplateReader& reader, const toml::table* t, Template& layout) {
+  reader.CheckKeys(*t, "units", {"moisture", "uncertainty_significant_digits"});
+  if (const toml::node* n = t->get("moisture")) {
+    const std::string unit = reader.String(*n, "moisture");
+    if (unit == "percent") {
+      layout.moisture_in_percent = true;
+    } else if (unit == "kg/kg") {
+      layout.moisture_in_percent = false;
+    } else {
+      throw InputError(reader.Where(n->source()), "moisture unit \"" + unit + "\" is not supported",
+                       "\"percent\" or \"kg/kg\"");
+    }
+  }
+  if (const toml::node* n = t->get("uncertainty_significant_digits")) {
+    const long long digits = reader.Integer(*n, "uncertainty_significant_digits");
+    // JCGM 100:2008, 7.2.6: "at most two significant digits"; one is allowed too.
+    if (digits < 1 || digits > 2) {
+      throw InputError(
+          reader.Where(n->source()),
+          "uncertainty_significant_digits " + std::to_string(digits) + " is out of range",
+          "1 or 2 (JCGM 100:2008, 7.2.6)");
+    }
+    layout.uncertainty_significant_digits = static_cast<int>(digits);
+  }
+}
+
+// [layout]
+void ReadLayoutTable(TemplateReader& reader, const toml::table* t, Template& layout) {
+  reader.CheckKeys(*t, "layout", {"sections", "compact", "outputs"});
+  if (const toml::node* n = t->get("sections")) {
+    layout.sections = reader.StringArray(*n, "sections");
+    const auto& known = KnownSections();
+    std::set<std::string> seen;
+    const toml::array& array = *n->as_array();
+    for (size_t i = 0; i < layout.sections.size(); ++i) {
+      const std::string& section = layout.sections[i];
+      if (std::find(known.begin(), known.end(), section) == known.end()) {
+        throw InputError(reader.Where(array[i].source()), "unknown section \"" + section + "\"",
+                         "one of " + JoinQuoted(known));
+      }
+      if (!seen.insert(section).second) {
+        throw InputError(reader.Where(array[i].source()),
+                         "section \"" + section + "\" is listed twice", "each section once");
+      }
+    }
+  }
+  if (const toml::node* n = t->get("compact")) layout.compact = reader.Boolean(*n, "compact");
+  if (const toml::node* n = t->get("outputs")) ReadOutputs(reader, *n, layout);
+}
+
+// [[reference]] entries.
+void ReadReferences(TemplateReader& reader, const toml::node* n, Template& layout) {
+  if (!n->is_array_of_tables()) {
+    throw InputError(reader.Where(n->source()), "'reference' must be an array of tables",
+                     "[[reference]] entries");
+  }
+  for (const toml::node& item : *n->as_array()) {
+    const toml::table& t = *item.as_table();
+    reader.CheckKeys(t, "reference", {"temperature_C", "rh_percent"});
+    pores::ReferenceCondition condition;
+    const toml::node* temperature = t.get("temperature_C");
+    const toml::node* rh = t.get("rh_percent");
+    if (temperature == nullptr || rh == nullptr) {
+      throw InputError(reader.Where(t.source()), "[[reference]] needs temperature_C and rh_percent",
+                       "temperature_C = 23.0 and rh_percent = 50.0");
+    }
+    const double temperature_C = reader.Number(*temperature, "temperature_C");
+    const double rh_percent = reader.Number(*rh, "rh_percent");
+    if (!(rh_percent > 0.0 && rh_percent < 100.0)) {
+      throw InputError(reader.Where(rh->source()), "rh_percent is out of range",
+                       "a relative humidity between 0 and 100 %");
+    }
+    // The physics correlations cover 0..100 degC (pipeline/physics/physics.h).
+    if (!(temperature_C >= 0.0 && temperature_C <= 100.0)) {
+      throw InputError(reader.Where(temperature->source()), "temperature_C is out of range",
+                       "a temperature from 0 to 100 °C");
+    }
+    condition.temperature_K = temperature_C + 273.15;  // ITS-90 offset
+    condition.rh_fraction = rh_percent / 100.0;
+    layout.reference_conditions.push_back(condition);
+  }
+}
+
 }  // namespace
 
 Template LoadTemplate(const std::filesystem::path& template_file) {
@@ -113,127 +259,17 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
 
   reader.CheckKeys(root, "", {"template", "lab", "units", "layout", "reference"});
 
-  if (const toml::table* t = reader.Table(root, "template")) {
-    reader.CheckKeys(*t, "template", {"name", "title", "page_size", "margin_mm"});
-    if (const toml::node* n = t->get("name")) layout.name = reader.String(*n, "name");
-    if (const toml::node* n = t->get("title")) layout.title = reader.String(*n, "title");
-    if (const toml::node* n = t->get("page_size")) {
-      const std::string size = reader.String(*n, "page_size");
-      if (size == "A4") {
-        layout.page_size = PageSize::kA4;
-      } else if (size == "letter") {
-        layout.page_size = PageSize::kLetter;
-      } else {
-        throw InputError(reader.Where(n->source()), "page_size \"" + size + "\" is not supported",
-                         "\"A4\" or \"letter\"");
-      }
-    }
-    if (const toml::node* n = t->get("margin_mm")) {
-      layout.margin_mm = reader.Number(*n, "margin_mm");
-      // Below 10 mm printers clip; above 40 mm little is left for the figures (common practice).
-      if (!(layout.margin_mm >= 10.0 && layout.margin_mm <= 40.0)) {
-        throw InputError(reader.Where(n->source()),
-                         "margin_mm " + std::to_string(layout.margin_mm) + " is out of range",
-                         "a margin from 10 to 40 mm");
-      }
-    }
-  }
+  if (const toml::table* t = reader.Table(root, "template")) ReadTemplateTable(reader, t, layout);
   if (layout.name.empty()) layout.name = template_file.stem().string();
 
-  if (const toml::table* t = reader.Table(root, "lab")) {
-    reader.CheckKeys(*t, "lab", {"name", "address", "accreditation", "signatories"});
-    if (const toml::node* n = t->get("name")) layout.lab_name = reader.String(*n, "name");
-    if (const toml::node* n = t->get("address")) layout.lab_address = reader.String(*n, "address");
-    if (const toml::node* n = t->get("accreditation")) {
-      layout.accreditation = reader.String(*n, "accreditation");
-    }
-    if (const toml::node* n = t->get("signatories")) {
-      layout.signatories = reader.StringArray(*n, "signatories");
-    }
-  }
+  if (const toml::table* t = reader.Table(root, "lab")) ReadLabTable(reader, t, layout);
 
-  if (const toml::table* t = reader.Table(root, "units")) {
-    reader.CheckKeys(*t, "units", {"moisture", "uncertainty_significant_digits"});
-    if (const toml::node* n = t->get("moisture")) {
-      const std::string unit = reader.String(*n, "moisture");
-      if (unit == "percent") {
-        layout.moisture_in_percent = true;
-      } else if (unit == "kg/kg") {
-        layout.moisture_in_percent = false;
-      } else {
-        throw InputError(reader.Where(n->source()),
-                         "moisture unit \"" + unit + "\" is not supported",
-                         "\"percent\" or \"kg/kg\"");
-      }
-    }
-    if (const toml::node* n = t->get("uncertainty_significant_digits")) {
-      const long long digits = reader.Integer(*n, "uncertainty_significant_digits");
-      // JCGM 100:2008, 7.2.6: "at most two significant digits"; one is allowed too.
-      if (digits < 1 || digits > 2) {
-        throw InputError(
-            reader.Where(n->source()),
-            "uncertainty_significant_digits " + std::to_string(digits) + " is out of range",
-            "1 or 2 (JCGM 100:2008, 7.2.6)");
-      }
-      layout.uncertainty_significant_digits = static_cast<int>(digits);
-    }
-  }
+  if (const toml::table* t = reader.Table(root, "units")) ReadUnitsTable(reader, t, layout);
 
-  if (const toml::table* t = reader.Table(root, "layout")) {
-    reader.CheckKeys(*t, "layout", {"sections", "compact"});
-    if (const toml::node* n = t->get("sections")) {
-      layout.sections = reader.StringArray(*n, "sections");
-      const auto& known = KnownSections();
-      std::set<std::string> seen;
-      const toml::array& array = *n->as_array();
-      for (size_t i = 0; i < layout.sections.size(); ++i) {
-        const std::string& section = layout.sections[i];
-        if (std::find(known.begin(), known.end(), section) == known.end()) {
-          throw InputError(reader.Where(array[i].source()), "unknown section \"" + section + "\"",
-                           "one of " + JoinQuoted(known));
-        }
-        if (!seen.insert(section).second) {
-          throw InputError(reader.Where(array[i].source()),
-                           "section \"" + section + "\" is listed twice", "each section once");
-        }
-      }
-    }
-    if (const toml::node* n = t->get("compact")) layout.compact = reader.Boolean(*n, "compact");
-  }
+  if (const toml::table* t = reader.Table(root, "layout")) ReadLayoutTable(reader, t, layout);
   if (layout.sections.empty()) layout.sections = KnownSections();
 
-  if (const toml::node* n = root.get("reference")) {
-    if (!n->is_array_of_tables()) {
-      throw InputError(reader.Where(n->source()), "'reference' must be an array of tables",
-                       "[[reference]] entries");
-    }
-    for (const toml::node& item : *n->as_array()) {
-      const toml::table& t = *item.as_table();
-      reader.CheckKeys(t, "reference", {"temperature_C", "rh_percent"});
-      pores::ReferenceCondition condition;
-      const toml::node* temperature = t.get("temperature_C");
-      const toml::node* rh = t.get("rh_percent");
-      if (temperature == nullptr || rh == nullptr) {
-        throw InputError(reader.Where(t.source()),
-                         "[[reference]] needs temperature_C and rh_percent",
-                         "temperature_C = 23.0 and rh_percent = 50.0");
-      }
-      const double temperature_C = reader.Number(*temperature, "temperature_C");
-      const double rh_percent = reader.Number(*rh, "rh_percent");
-      if (!(rh_percent > 0.0 && rh_percent < 100.0)) {
-        throw InputError(reader.Where(rh->source()), "rh_percent is out of range",
-                         "a relative humidity between 0 and 100 %");
-      }
-      // The physics correlations cover 0..100 degC (pipeline/physics/physics.h).
-      if (!(temperature_C >= 0.0 && temperature_C <= 100.0)) {
-        throw InputError(reader.Where(temperature->source()), "temperature_C is out of range",
-                         "a temperature from 0 to 100 °C");
-      }
-      condition.temperature_K = temperature_C + 273.15;  // ITS-90 offset
-      condition.rh_fraction = rh_percent / 100.0;
-      layout.reference_conditions.push_back(condition);
-    }
-  }
+  if (const toml::node* n = root.get("reference")) ReadReferences(reader, n, layout);
   return layout;
 }
 

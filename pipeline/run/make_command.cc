@@ -90,7 +90,8 @@ int Make(const MakeArguments& args) {
       for (const auto& warning : result.warnings) console.Line(FormatDiagnostic(warning));
     }
     message = std::to_string(result.warnings.size()) + " warning(s)";
-    std::printf("%s\n", (out / "datasheet.pdf").string().c_str());
+    const char* sheet = result.artifacts.pdf.empty() ? "datasheet.html" : "datasheet.pdf";
+    std::printf("%s\n", (out / sheet).string().c_str());
   } catch (const InputError& error) {
     code = static_cast<int>(ExitCode::kBadInput);
     message = error.what();

@@ -258,8 +258,9 @@ void WriteOutputDirectory(const RunResult& result, const fs::path& output_dir) {
       WriteFileAtomically(staging / name, content);
       names.push_back(name);
     };
-    write("datasheet.pdf", result.artifacts.pdf);
+    if (!result.artifacts.pdf.empty()) write("datasheet.pdf", result.artifacts.pdf);
     RaiseTestSignalIfRequested();
+    if (!result.artifacts.html.empty()) write("datasheet.html", result.artifacts.html);
     write("results.json", result.artifacts.results_json);
     for (const auto& [name, content] : result.artifacts.csv_files) write(name, content);
     write("run.log", result.log);

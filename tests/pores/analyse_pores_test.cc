@@ -3,6 +3,7 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <string>
 #include <vector>
@@ -82,7 +83,10 @@ TEST(AnalysePores, BothMethodsPerBranchWithTheBranchMeniscus) {
       EXPECT_EQ(d.method, "stepwise");
       // Steps from 1 nm (interpolated) to RH 0.97: 1 nm lies between 33 and 53 % RH on
       // adsorption (cylindrical meniscus) and between 11 and 33 % RH on desorption.
-      EXPECT_EQ(d.points.size(), d.branch == ingest::Branch::kAdsorption ? 5u : 6u);
+      EXPECT_EQ(d.steps.size(), d.branch == ingest::Branch::kAdsorption ? 5u : 6u);
+      // One point per bar; steps not significant are merged into bars.
+      EXPECT_GE(d.points.size(), 1u);
+      EXPECT_LE(d.points.size(), d.steps.size());
     }
   }
   // The decade fractions add up to one.
@@ -132,12 +136,183 @@ TEST(AnalysePores, MissingSourceModelAndDryingGroupAreWarningsNotErrors) {
   EXPECT_EQ(a.distributions.size(), 2u);  // the stepwise ones
   ASSERT_EQ(a.summary.warnings.size(), 3u);
   EXPECT_EQ(a.summary.warnings[0].message,
-            "pores: no converged peleg fit for the adsorption group at 23.00 degC: no model-based "
-            "distribution");
+            "pores: no model-based pore-size distribution for the adsorption group at 23.00 degC: "
+            "no converged peleg fit");
+  ASSERT_EQ(a.unavailable.size(), 2u);  // the model-based ones, with the reason
+  EXPECT_EQ(a.unavailable[0].method, "model");
+  EXPECT_EQ(a.unavailable[0].reason, "no converged peleg fit");
   EXPECT_EQ(a.summary.warnings[2].message,
             "pores: the drying group at 23.00 degC is not analysed (adsorption and desorption "
             "only)");
   EXPECT_EQ(a.summary.warnings[2].severity, Severity::kWarning);
+}
+
+// Issue: `model = "best"` chose a Henderson fit with chi-square p = 1e-187 and printed a pore
+// volume 1500 times the truth. A fit that fails its goodness-of-fit check must not drive the
+// distribution; with "best" the next-ranked fit that passes does, and when none passes the
+// distribution is not available with the reason.
+TEST(AnalysePores, ModelThatFailsItsChecksDoesNotDriveTheDistribution) {
+  fit::IsothermFits fits = TwoBranches();
+  for (fit::ModelFit& f : fits.fits) {
+    f.result.weight_convention = fitters::WeightConvention::kAbsolute;
+    f.result.statistics.chi_square_p_value = 1e-187;
+  }
+  PoreOptions options;
+  options.band_draws = 0;
+  options.stepwise = false;
+  PoreAnalysis a = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+  EXPECT_TRUE(a.distributions.empty());
+  ASSERT_EQ(a.unavailable.size(), 2u);
+  EXPECT_NE(a.unavailable[0].reason.find("goodness-of-fit"), std::string::npos)
+      << a.unavailable[0].reason;
+  // A second, passing fit of the adsorption group ranked below the failing one is used.
+  Eigen::MatrixXd cov = Eigen::MatrixXd::Zero(3, 3);
+  cov(0, 0) = 1e-6;
+  cov(1, 1) = 0.25;
+  cov(2, 2) = 1e-6;
+  fit::ModelFit second = MakeFit("gab", 0, kAds, cov);
+  second.rank = 2;
+  second.result.weight_convention = fitters::WeightConvention::kAbsolute;
+  second.result.statistics.chi_square_p_value = 0.4;
+  fits.fits.push_back(second);
+  a = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+  ASSERT_EQ(a.distributions.size(), 1u);
+  EXPECT_EQ(a.distributions[0].branch, ingest::Branch::kAdsorption);
+  bool named = false;
+  for (const std::string& s : a.distributions[0].assumptions) {
+    named = named || s.find("better-ranked model not used") != std::string::npos;
+  }
+  EXPECT_TRUE(named);
+}
+
+TEST(AnalysePores, NotIdentifiableOrExtrapolatedModelsAreNotUsed) {
+  PoreOptions options;
+  options.band_draws = 0;
+  options.stepwise = false;
+  {  // relative standard uncertainty above 100 %
+    fit::IsothermFits fits = TwoBranches();
+    fits.fits[0].result.covariance(1, 1) = 4.0 * 10.0 * 10.0;  // u(C) = 20 for C = 10
+    const PoreAnalysis a = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+    ASSERT_EQ(a.unavailable.size(), 1u);
+    EXPECT_NE(a.unavailable[0].reason.find("not identifiable"), std::string::npos);
+  }
+  {  // a parameter at a bound
+    fit::IsothermFits fits = TwoBranches();
+    fits.fits[1].result.estimates.resize(3);
+    fits.fits[1].result.estimates[2].at_bound = true;
+    const PoreAnalysis a = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+    ASSERT_EQ(a.unavailable.size(), 1u);
+    EXPECT_EQ(a.unavailable[0].branch, ingest::Branch::kDesorption);
+    EXPECT_NE(a.unavailable[0].reason.find("at a bound"), std::string::npos);
+  }
+  {  // fitted only from 75 % RH up: 1 nm would need the model far below its data
+    fit::IsothermFits fits = TwoBranches();
+    fits.fits[0].used_observations = {3, 4, 5, 6};
+    const PoreAnalysis a = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+    ASSERT_EQ(a.unavailable.size(), 1u);
+    EXPECT_NE(a.unavailable[0].reason.find("below its fitted range"), std::string::npos)
+        << a.unavailable[0].reason;
+  }
+  {  // a point the model was not fitted to (a retention point at RH 0.9999) does not widen
+     // its range: the distribution stops at the highest fitted RH, 0.97
+    fit::IsothermFits fits = TwoBranches();
+    fitters::Observation retention;
+    retention.x[0] = 0.9999;
+    retention.y = 0.5;
+    retention.sigma_y = 1e-3;
+    fits.groups[1].observations.push_back(retention);
+    fits.groups[1].point_indices.push_back(-1);
+    fits.fits[1].used_observations = {0, 1, 2, 3, 4, 5, 6};
+    const PoreAnalysis a = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+    ASSERT_EQ(a.distributions.size(), 2u);
+    EXPECT_NEAR(a.distributions[1].points.back().rh_fraction, 0.97, 1e-9);
+  }
+}
+
+// The dry mass is the same at every step of a specimen: its error shifts every moisture content
+// by -(1 + u) e (e its relative error) and the stepwise volume, a difference of moisture
+// contents, only by -(u_top - u_bottom) e: relative u(V) / V = u(e) = 1 %. Drawn independently
+// per point it would be about sqrt(2) (1 + u) u(e) / (u_top - u_bottom), many times larger.
+TEST(AnalysePores, StepwiseDrawsTheDryMassOncePerDrawForAllSteps) {
+  fit::IsothermFits fits = TwoBranches();
+  fits.groups.resize(1);
+  fits.fits.resize(1);
+  fits.best_fit_per_group.resize(1);
+  constexpr double kRelativeDryMassU = 0.01;
+  reduce::ReducedIsotherms reduced;
+  fit::FitGroup& group = fits.groups[0];
+  for (std::size_t i = 0; i < group.observations.size(); ++i) {
+    fitters::Observation& o = group.observations[i];
+    o.sigma_x0 = 0.0;
+    reduce::IsothermPoint point;
+    point.dataset_id = "d";
+    point.step_index = static_cast<int>(i);
+    point.branch = group.branch;
+    point.rh_fraction = o.x[0];
+    point.moisture_kg_per_kg = o.y;
+    point.u_moisture_kg_per_kg = (1.0 + o.y) * kRelativeDryMassU;
+    reduced.points.push_back(point);
+    group.point_indices[i] = static_cast<int>(i);
+    reduce::SpecimenPoint specimen;
+    specimen.dataset_id = "d";
+    specimen.specimen_id = "s1";
+    specimen.step_index = point.step_index;
+    specimen.branch = point.branch;
+    reduce::BudgetLine line;  // c = -m / m_d^2 with m_d = 1 g, u(m_d) = 0.01 g
+    line.quantity = "dry-mass method";
+    line.standard_uncertainty = kRelativeDryMassU;
+    line.sensitivity = -(1.0 + o.y);
+    line.contribution = std::abs(line.sensitivity) * line.standard_uncertainty;
+    specimen.moisture_budget.push_back(line);
+    reduced.specimen_points.push_back(specimen);
+  }
+  PoreOptions options;
+  options.band_draws = 2000;
+  options.material_class = MaterialClass::kRigid;
+  const PoreAnalysis a = AnalysePores(reduced, fits, options);
+  const PoreDistribution* stepwise = nullptr;
+  for (const PoreDistribution& d : a.distributions) {
+    if (d.method == "stepwise") stepwise = &d;
+  }
+  ASSERT_NE(stepwise, nullptr);
+  ASSERT_GT(stepwise->total_resolved_volume_m3_per_kg, 0.0);
+  const double relative =
+      stepwise->u_total_resolved_volume_m3_per_kg / stepwise->total_resolved_volume_m3_per_kg;
+  // 2000 draws: the standard deviation is known to about 1.6 % of itself.
+  EXPECT_NEAR(relative, kRelativeDryMassU, 0.1 * kRelativeDryMassU);
+}
+
+// Material class (pores.h, MaterialClass): swelling materials get no distribution, with the
+// reason; an unstated class gets the caution on every distribution; rigid ones neither.
+TEST(AnalysePores, MaterialClassDecidesThePoreSection) {
+  PoreOptions options;
+  options.band_draws = 0;
+  options.material_class = MaterialClass::kSwelling;
+  PoreAnalysis a = AnalysePores(reduce::ReducedIsotherms{}, TwoBranches(), options);
+  EXPECT_EQ(a.applicability.section, PoreSection::kOmitted);
+  EXPECT_TRUE(a.distributions.empty());
+  EXPECT_EQ(a.unavailable.size(), 4u);
+  ASSERT_FALSE(a.summary.warnings.empty());
+  EXPECT_EQ(a.summary.warnings[0].message, a.applicability.reason);
+  EXPECT_FALSE(a.surface_areas.empty());  // the other quantities stay
+  const auto has_caution = [](const PoreAnalysis& x) {
+    bool all = !x.distributions.empty();
+    for (const PoreDistribution& d : x.distributions) {
+      all = all && std::find(d.assumptions.begin(), d.assumptions.end(), x.applicability.reason) !=
+                       d.assumptions.end();
+    }
+    return all;
+  };
+  options.material_class = MaterialClass::kNotStated;
+  a = AnalysePores(reduce::ReducedIsotherms{}, TwoBranches(), options);
+  EXPECT_EQ(a.applicability.section, PoreSection::kReportedWithCaution);
+  EXPECT_EQ(a.distributions.size(), 4u);
+  EXPECT_TRUE(has_caution(a));
+  options.material_class = MaterialClass::kRigid;
+  a = AnalysePores(reduce::ReducedIsotherms{}, TwoBranches(), options);
+  EXPECT_EQ(a.applicability.section, PoreSection::kReported);
+  EXPECT_TRUE(a.applicability.reason.empty());
+  EXPECT_EQ(a.distributions.size(), 4u);
 }
 
 }  // namespace

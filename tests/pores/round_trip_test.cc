@@ -279,6 +279,55 @@ TEST(RoundTrip, StepwiseMethodOnMeasuredPointsRecoversModesAndFractions) {
   EXPECT_NEAR(d.resolved_radius_min_m / kNm, 1.0, 1e-6);
 }
 
+// Issue: a stepwise method that sets negative steps to 0 put 13 % too much volume on noisy
+// data. Without a film the step volumes telescope: their sum is (u_top - u(RH of 1 nm)) / rho_w
+// whatever the points between do (here a zig-zag with two falling steps), and a step whose
+// volume is not significant is merged into a bar with a neighbour it cannot be told from.
+TEST(RoundTrip, StepwiseCarriesNegativeStepsAndMergesInsignificantOnes) {
+  PoreOptions options;
+  options.film = FilmModel::kNone;
+  options.band_draws = 500;
+  const PoreRadiusMap map(kTemperature_K, physics::Meniscus::kHemispherical, 0.0,
+                          MakeFilmCurve(options, nullptr));
+  const std::vector<double> rh = {0.30, 0.50, 0.60, 0.65, 0.70, 0.75, 0.80, 0.85, 0.90};
+  const std::vector<double> u = {0.010, 0.020, 0.030, 0.036, 0.034, 0.045, 0.043, 0.060, 0.070};
+  std::vector<MeasuredPoint> points;
+  for (std::size_t i = 0; i < rh.size(); ++i) {
+    MeasuredPoint p(rh[i], u[i], 0.002);
+    p.u_rh_fraction = 0.003;
+    points.push_back(p);
+  }
+  const PoreDistribution d =
+      StepwisePoreDistribution(points, ingest::Branch::kDesorption, map, options);
+  const double rh_1nm = map.RhForPoreRadius(1e-9);
+  // r_K = 2 gamma V_m / (R T ln(1/RH)) = 1 nm at RH 0.35 (23 degC, hemispherical).
+  ASSERT_GT(rh_1nm, 0.30);
+  ASSERT_LT(rh_1nm, 0.50);
+  const double u_1nm = 0.010 + (rh_1nm - 0.30) / 0.20 * (0.020 - 0.010);
+  const double rho = physics::LiquidWaterDensity_kg_per_m3(kTemperature_K);
+  EXPECT_NEAR(d.total_resolved_volume_m3_per_kg, (0.070 - u_1nm) / rho, 1e-15);
+  EXPECT_EQ(d.negative_steps_carried, 2);
+  EXPECT_EQ(d.negative_steps_clamped, 0);
+  ASSERT_EQ(d.steps.size(), 8u);
+  int negative = 0;
+  for (const PoreStep& step : d.steps) negative += step.volume_m3_per_kg < 0.0;
+  EXPECT_EQ(negative, 2);
+  // The falling steps are not significant (0.002 kg/kg noise per point): each lies in a bar
+  // that is not significant, or was merged into one with a neighbour.
+  EXPECT_LT(d.points.size(), d.steps.size());
+  for (const PoreStep& step : d.steps) {
+    std::printf("step %.3g-%.3g nm: %.3g +- %.2g mm3/g, bar %d%s\n", step.radius_low_m / kNm,
+                step.radius_high_m / kNm, step.volume_m3_per_kg * 1e6,
+                step.u_volume_m3_per_kg * 1e6, step.bar,
+                step.bar_significant ? " (significant)" : "");
+    if (step.volume_m3_per_kg >= 0.0) continue;
+    int in_bar = 0;
+    for (const PoreStep& other : d.steps) in_bar += other.bar == step.bar;
+    EXPECT_TRUE(in_bar >= 2 || !step.bar_significant);
+  }
+  EXPECT_GT(d.u_total_resolved_volume_m3_per_kg, 0.0);
+}
+
 // Fits `model_name` to 40 points of the synthetic desorption isotherm (equally spaced in log r
 // between 0.9 nm and 200 nm, sigma 1e-4 kg/kg) and inverts the fitted curve.
 Recovery FitAndInvert(const std::string& model_name) {

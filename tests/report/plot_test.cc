@@ -9,6 +9,7 @@
 #include <string>
 #include <vector>
 
+#include "pipeline/report/plot/pdf_canvas.h"
 #include "pipeline/report/plot/text.h"
 #include "tests/report/pdf_tools.h"
 
@@ -122,8 +123,8 @@ class PlotDocument {
     page_ = HPDF_AddPage(pdf_);
     HPDF_Page_SetWidth(page_, 595.276f);
     HPDF_Page_SetHeight(page_, 841.89f);
-    canvas_ = std::make_unique<Canvas>(page_, HPDF_GetFont(pdf_, regular, "UTF-8"),
-                                       HPDF_GetFont(pdf_, bold, "UTF-8"));
+    canvas_ = std::make_unique<PdfCanvas>(page_, HPDF_GetFont(pdf_, regular, "UTF-8"),
+                                          HPDF_GetFont(pdf_, bold, "UTF-8"));
   }
   ~PlotDocument() { HPDF_Free(pdf_); }
   Canvas& canvas() { return *canvas_; }

@@ -95,7 +95,11 @@ TEST(ComposeReportTest, ResultsJsonSchema) {
   EXPECT_EQ(keys, (std::vector<std::string>{"schema", "software", "report", "job", "inputs",
                                             "settings", "headline", "hygroscopicity_class",
                                             "best_model", "cautions", "standing_statements",
-                                            "equilibria", "isotherm", "fits", "pores"}));
+                                            "equilibria", "isotherm", "fits", "pores", "sheet"}));
+  // The sheet's sections in the template's order, numbered from 1.
+  ASSERT_FALSE(json["sheet"]["sections"].empty());
+  EXPECT_EQ(json["sheet"]["sections"][0]["number"], 1);
+  EXPECT_EQ(json["sheet"]["sections"][0]["key"], "summary");
   EXPECT_EQ(json["inputs"].size(), 4u);
   EXPECT_EQ(json["inputs"][0]["role"], "job");
   EXPECT_EQ(json["isotherm"]["points"].size(), 11u);

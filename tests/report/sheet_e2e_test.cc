@@ -299,6 +299,37 @@ std::vector<std::string> CsvFields(const std::string& line) {
   return fields;
 }
 
+// Section numbers and the summary's cross-reference follow the template's section list: with
+// sections = ["summary", "cautions"] the Cautions section is section 2 and the summary says
+// so (it used to say "See section 8", the place of Cautions in the full template); with the
+// cautions left out the summary carries the conditions of use itself.
+TEST_F(SheetE2eTest, SectionCrossReferencesFollowTheTemplate) {
+  const fs::path dir = CopyScenario("wood_fibre_board_vapour", "job");
+  const std::string lab =
+      "[template]\nname = \"two\"\n[lab]\nname = \"Lab\"\n[layout]\ncompact = false\n";
+  Spit(dir / "two.toml", lab + "sections = [\"summary\", \"cautions\"]\n");
+  Spit(dir / "one.toml", lab + "sections = [\"summary\", \"isotherm\"]\n");
+  Rewrite(dir / "job.toml", "template = \"full\"", "template = \"two.toml\"");
+  const CommandRun made = Sorbtrace("make " + (dir / "job.toml").string() + " --out " +
+                                    (root_ / "out_two").string() + " -q");
+  ASSERT_EQ(made.exit_code, 0) << made.output;
+  const std::string two =
+      testing::CollapseSpaces(testing::PdfText(root_ / "out_two/datasheet.pdf"));
+  EXPECT_NE(two.find("See section 2 for the conditions of use"), std::string::npos) << two;
+  EXPECT_NE(two.find("2 Cautions"), std::string::npos) << two;
+  EXPECT_EQ(two.find("section 8"), std::string::npos);
+
+  Rewrite(dir / "job.toml", "template = \"two.toml\"", "template = \"one.toml\"");
+  const CommandRun again = Sorbtrace("make " + (dir / "job.toml").string() + " --out " +
+                                     (root_ / "out_one").string() + " -q");
+  ASSERT_EQ(again.exit_code, 0) << again.output;
+  const std::string one =
+      testing::CollapseSpaces(testing::PdfText(root_ / "out_one/datasheet.pdf"));
+  EXPECT_NE(one.find("2 Sorption isotherm"), std::string::npos);
+  EXPECT_EQ(one.find("See section"), std::string::npos);
+  EXPECT_NE(one.find("they apply to those specimens only"), std::string::npos);
+}
+
 TEST_F(SheetE2eTest, CsvTextCellsCannotStartAFormula) {
   // OWASP "CSV Injection": cells starting with =, +, -, @, tab or CR run as formulas.
   const fs::path dir = CopyScenario("excipient_powder_25C", "inject");

@@ -47,6 +47,25 @@ TEST(LoadTemplateTest, SummaryTemplate) {
   EXPECT_DOUBLE_EQ(t.margin_mm, 16.0);
 }
 
+TEST(LoadTemplateTest, OutputsChooseThePdfTheHtmlOrBoth) {
+  const Template full = LoadTemplate(SORBTRACE_SOURCE_DIR "/templates/full.toml");
+  EXPECT_TRUE(full.write_pdf);
+  EXPECT_TRUE(full.write_html);
+  const Template plain = LoadTemplate(testing::WriteTempFile("no_outputs.toml", "[layout]\n"));
+  EXPECT_TRUE(plain.write_pdf);  // without the key: the PDF only, as before the key existed
+  EXPECT_FALSE(plain.write_html);
+  const Template html =
+      LoadTemplate(testing::WriteTempFile("html.toml", "[layout]\noutputs = [\"html\"]\n"));
+  EXPECT_FALSE(html.write_pdf);
+  EXPECT_TRUE(html.write_html);
+  EXPECT_EQ(LoadError("twice.toml", "[layout]\noutputs = [\"pdf\", \"pdf\"]\n"),
+            "twice.toml:2:19: error: output \"pdf\" is unknown or listed twice; expected each of "
+            "\"pdf\" or \"html\" at most once");
+  EXPECT_EQ(LoadError("none.toml", "[layout]\noutputs = []\n"),
+            "none.toml:2:11: error: no output is listed; expected at least one of \"pdf\" or "
+            "\"html\"");
+}
+
 TEST(LoadTemplateTest, UnknownKeyNamesKeyLineAndColumn) {
   EXPECT_EQ(LoadError("unknown_key.toml", "[template]\nname = \"x\"\npagesize = \"A4\"\n"),
             "unknown_key.toml:3:1: error: unknown key 'pagesize' in [template]; expected one of "

@@ -13,8 +13,6 @@
 namespace sorbtrace::report::plot {
 namespace {
 
-HPDF_REAL F(double value) { return static_cast<HPDF_REAL>(value); }
-
 bool Usable(double value, Scale scale) {
   return std::isfinite(value) && (scale == Scale::kLinear || value > 0.0);
 }
@@ -101,82 +99,59 @@ std::vector<double> LogMinorTicks(double min, double max) {
   return out;
 }
 
-void SetStroke(HPDF_Page page, Color color, double width_pt) {
-  HPDF_Page_SetRGBStroke(page, F(color.r), F(color.g), F(color.b));
-  HPDF_Page_SetLineWidth(page, F(width_pt));
-}
-void SetFill(HPDF_Page page, Color color) {
-  HPDF_Page_SetRGBFill(page, F(color.r), F(color.g), F(color.b));
-}
-void SetDash(HPDF_Page page, const std::vector<double>& dash_pt) {
-  if (dash_pt.empty()) {
-    HPDF_Page_SetDash(page, nullptr, 0, 0);
-    return;
-  }
-  std::array<HPDF_UINT16, 8> pattern{};
-  const size_t n = std::min<size_t>(dash_pt.size(), pattern.size());
-  for (size_t i = 0; i < n; ++i) {
-    pattern[i] = static_cast<HPDF_UINT16>(std::clamp(std::lround(dash_pt[i]), 1L, 100L));
-  }
-  HPDF_Page_SetDash(page, pattern.data(), static_cast<HPDF_UINT>(n), 0);
-}
-
-void MarkerPath(HPDF_Page page, MarkerShape shape, double x, double y, double size) {
+void MarkerPath(Canvas& canvas, MarkerShape shape, double x, double y, double size) {
   const double h = size / 2.0;
   switch (shape) {
     case MarkerShape::kCircle:
-      HPDF_Page_Circle(page, F(x), F(y), F(h));
+      canvas.Circle(x, y, h);
       break;
     case MarkerShape::kSquare:
       // Same visual weight as the circle: a square of side 0.9 * size.
-      HPDF_Page_Rectangle(page, F(x - 0.45 * size), F(y - 0.45 * size), F(0.9 * size),
-                          F(0.9 * size));
+      canvas.Rectangle({x - 0.45 * size, y - 0.45 * size, 0.9 * size, 0.9 * size});
       break;
     case MarkerShape::kTriangleUp:
-      HPDF_Page_MoveTo(page, F(x), F(y + 1.15 * h));
-      HPDF_Page_LineTo(page, F(x + 1.05 * h), F(y - 0.75 * h));
-      HPDF_Page_LineTo(page, F(x - 1.05 * h), F(y - 0.75 * h));
-      HPDF_Page_ClosePath(page);
+      canvas.MoveTo(x, y + 1.15 * h);
+      canvas.LineTo(x + 1.05 * h, y - 0.75 * h);
+      canvas.LineTo(x - 1.05 * h, y - 0.75 * h);
+      canvas.ClosePath();
       break;
     case MarkerShape::kTriangleDown:
-      HPDF_Page_MoveTo(page, F(x), F(y - 1.15 * h));
-      HPDF_Page_LineTo(page, F(x + 1.05 * h), F(y + 0.75 * h));
-      HPDF_Page_LineTo(page, F(x - 1.05 * h), F(y + 0.75 * h));
-      HPDF_Page_ClosePath(page);
+      canvas.MoveTo(x, y - 1.15 * h);
+      canvas.LineTo(x + 1.05 * h, y + 0.75 * h);
+      canvas.LineTo(x - 1.05 * h, y + 0.75 * h);
+      canvas.ClosePath();
       break;
     case MarkerShape::kDiamond:
-      HPDF_Page_MoveTo(page, F(x), F(y + 1.2 * h));
-      HPDF_Page_LineTo(page, F(x + 1.0 * h), F(y));
-      HPDF_Page_LineTo(page, F(x), F(y - 1.2 * h));
-      HPDF_Page_LineTo(page, F(x - 1.0 * h), F(y));
-      HPDF_Page_ClosePath(page);
+      canvas.MoveTo(x, y + 1.2 * h);
+      canvas.LineTo(x + 1.0 * h, y);
+      canvas.LineTo(x, y - 1.2 * h);
+      canvas.LineTo(x - 1.0 * h, y);
+      canvas.ClosePath();
       break;
     case MarkerShape::kNone:
       break;
   }
 }
 
-void DrawMarker(HPDF_Page page, const MarkerStyle& style, double x, double y) {
+void DrawMarker(Canvas& canvas, const MarkerStyle& style, double x, double y) {
   if (style.shape == MarkerShape::kNone) return;
-  SetDash(page, {});
-  SetStroke(page, style.color, 0.7);
-  SetFill(page, style.filled ? style.color : Color{1.0, 1.0, 1.0});
-  MarkerPath(page, style.shape, x, y, style.size_pt);
-  HPDF_Page_FillStroke(page);
+  canvas.SetDash({});
+  canvas.SetStroke(style.color, 0.7);
+  canvas.SetFill(style.filled ? style.color : Color{1.0, 1.0, 1.0});
+  MarkerPath(canvas, style.shape, x, y, style.size_pt);
+  canvas.FillStroke();
 }
 
-void DrawPolyline(HPDF_Page page, const std::vector<std::pair<double, double>>& points,
+void DrawPolyline(Canvas& canvas, const std::vector<std::pair<double, double>>& points,
                   const LineStyle& style) {
   if (points.size() < 2) return;
-  SetStroke(page, style.color, style.width_pt);
-  SetDash(page, style.dash_pt);
-  HPDF_Page_SetLineJoin(page, HPDF_ROUND_JOIN);
-  HPDF_Page_MoveTo(page, F(points[0].first), F(points[0].second));
-  for (size_t i = 1; i < points.size(); ++i) {
-    HPDF_Page_LineTo(page, F(points[i].first), F(points[i].second));
-  }
-  HPDF_Page_Stroke(page);
-  SetDash(page, {});
+  canvas.SetStroke(style.color, style.width_pt);
+  canvas.SetDash(style.dash_pt);
+  canvas.SetRoundJoin();
+  canvas.MoveTo(points[0].first, points[0].second);
+  for (size_t i = 1; i < points.size(); ++i) canvas.LineTo(points[i].first, points[i].second);
+  canvas.Stroke();
+  canvas.SetDash({});
 }
 
 struct LegendEntry {
@@ -186,136 +161,6 @@ struct LegendEntry {
 };
 
 }  // namespace
-
-// ---- Colours ---------------------------------------------------------------------------------
-Color Color::Tint(double amount) const {
-  return {r + (1.0 - r) * amount, g + (1.0 - g) * amount, b + (1.0 - b) * amount};
-}
-
-Color palette::Series(int index) {
-  static constexpr std::array<Color, 5> kCycle = {kTeal, kOchre, kPlum, kMoss, kSlate};
-  const int n = static_cast<int>(kCycle.size());
-  return kCycle[static_cast<size_t>(((index % n) + n) % n)];
-}
-
-// ---- Canvas ----------------------------------------------------------------------------------
-Canvas::Canvas(HPDF_Page page, HPDF_Font regular, HPDF_Font bold)
-    : page_(page), regular_(regular), bold_(bold) {}
-
-void Canvas::Text(double x, double y, std::string_view text, double size_pt, Align align, bool bold,
-                  Color color) {
-  const std::string clean = PrintableText(text);
-  if (clean.empty()) return;
-  double left = x;
-  if (align != Align::kLeft) {
-    const double width = TextWidth(clean, size_pt, bold);
-    left = align == Align::kCenter ? x - width / 2.0 : x - width;
-  }
-  SetFill(page_, color);
-  HPDF_Page_BeginText(page_);
-  HPDF_Page_SetFontAndSize(page_, bold ? bold_ : regular_, F(size_pt));
-  HPDF_Page_TextOut(page_, F(left), F(y), clean.c_str());
-  HPDF_Page_EndText(page_);
-}
-
-void Canvas::VerticalText(double x, double y, std::string_view text, double size_pt, Color color) {
-  const std::string clean = PrintableText(text);
-  if (clean.empty()) return;
-  const double width = TextWidth(clean, size_pt);
-  SetFill(page_, color);
-  HPDF_Page_BeginText(page_);
-  HPDF_Page_SetFontAndSize(page_, regular_, F(size_pt));
-  // Rotation by +90 degrees: [cos sin -sin cos] = [0 1 -1 0].
-  HPDF_Page_SetTextMatrix(page_, 0, 1, -1, 0, F(x), F(y - width / 2.0));
-  HPDF_Page_ShowText(page_, clean.c_str());
-  HPDF_Page_EndText(page_);
-}
-
-double Canvas::TextWidth(std::string_view text, double size_pt, bool bold) const {
-  const std::string clean = PrintableText(text);
-  if (clean.empty()) return 0.0;
-  HPDF_Font font = bold ? bold_ : regular_;
-  const HPDF_TextWidth width = HPDF_Font_TextWidth(
-      font, reinterpret_cast<const HPDF_BYTE*>(clean.data()), static_cast<HPDF_UINT>(clean.size()));
-  // Widths are in 1/1000 of the font size.
-  return static_cast<double>(width.width) * size_pt / 1000.0;
-}
-
-std::vector<std::string> Canvas::Wrap(std::string_view raw_text, double size_pt, double width_pt,
-                                      bool bold) const {
-  // Words beyond kMaxPrintedWordChars are cut first: no quadratic work on a 1 MiB token.
-  const std::string clipped = ClipLongWords(raw_text);
-  const std::string_view text = clipped;
-  std::vector<std::string> lines;
-  size_t start = 0;
-  while (start <= text.size()) {
-    const size_t end = std::min(text.find('\n', start), text.size());
-    const std::string_view paragraph = text.substr(start, end - start);
-    std::string line;
-    size_t pos = 0;
-    bool any = false;
-    while (pos < paragraph.size()) {
-      size_t space = paragraph.find(' ', pos);
-      if (space == std::string_view::npos) space = paragraph.size();
-      std::string word(paragraph.substr(pos, space - pos));
-      pos = space + 1;
-      if (word.empty()) continue;
-      if (TextWidth(word, size_pt, bold) > width_pt) {
-        // A word wider than the column (a long path, a hash) is cut between characters.
-        if (!line.empty()) lines.push_back(line);
-        line.clear();
-        std::string piece;
-        size_t i = 0;
-        while (i < word.size()) {
-          size_t n = 1;
-          while (i + n < word.size() && (static_cast<unsigned char>(word[i + n]) & 0xC0) == 0x80) {
-            ++n;
-          }
-          const std::string next = piece + word.substr(i, n);
-          if (!piece.empty() && TextWidth(next, size_pt, bold) > width_pt) {
-            lines.push_back(piece);
-            piece = word.substr(i, n);
-          } else {
-            piece = next;
-          }
-          i += n;
-        }
-        word = piece;  // the rest continues like an ordinary word
-      }
-      const std::string candidate = line.empty() ? word : fmt::format("{} {}", line, word);
-      if (!line.empty() && TextWidth(candidate, size_pt, bold) > width_pt) {
-        lines.push_back(line);
-        line = word;
-      } else {
-        line = candidate;
-      }
-      any = true;
-    }
-    if (any || !paragraph.empty() || end < text.size()) lines.push_back(line);
-    if (end >= text.size()) break;
-    start = end + 1;
-  }
-  return lines;
-}
-
-void Canvas::Line(double x0, double y0, double x1, double y1, double width_pt, Color color) {
-  SetStroke(page_, color, width_pt);
-  HPDF_Page_MoveTo(page_, F(x0), F(y0));
-  HPDF_Page_LineTo(page_, F(x1), F(y1));
-  HPDF_Page_Stroke(page_);
-}
-
-void Canvas::StrokeRect(const Rect& rect, double width_pt, Color color) {
-  SetStroke(page_, color, width_pt);
-  HPDF_Page_Rectangle(page_, F(rect.x), F(rect.y), F(rect.width), F(rect.height));
-  HPDF_Page_Stroke(page_);
-}
-
-void Canvas::FillRect(const Rect& rect, Color color) {
-  SetFill(page_, color);
-  HPDF_Page_Rectangle(page_, F(rect.x), F(rect.y), F(rect.width), F(rect.height));
-  HPDF_Page_Fill(page_);
-}
 
 // ---- Ticks -----------------------------------------------------------------------------------
 double NiceNumber(double x, bool round) {
@@ -498,75 +343,78 @@ double AutomaticLeftPadding(const Canvas& canvas, const Figure& figure) {
          (figure.y.label.empty() ? 0.0 : figure.font_size_pt * 1.5);
 }
 
-FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer) {
-  HPDF_Page page = canvas.page();
-  const double fs = figure.font_size_pt;
-  FigureLayout layout;
+namespace {
 
+// Phases 1 and 2 of DrawFigure: ranges, ticks and where the frame goes.
+struct FigurePlan {
+  Ticks x_ticks, y_ticks, r_ticks;
+  Scale y_right_scale = Scale::kLinear;
+  Rect frame;
+  double left_pad = 0.0;
+  double r_label_width = 0.0;
+  double caption_height = 0.0;
+  Mapping mx, my, mr;
+};
+
+FigurePlan PlanFigure(const Canvas& canvas, const Figure& figure, const Rect& outer) {
+  const double fs = figure.font_size_pt;
+  FigurePlan p;
   // 1. Ranges and ticks.
   Extent x_extent, y_extent, r_extent;
-  const Scale y_right_scale = figure.y_right ? figure.y_right->scale : Scale::kLinear;
+  p.y_right_scale = figure.y_right ? figure.y_right->scale : Scale::kLinear;
   FigureExtents(figure, &x_extent, &y_extent, &r_extent);
-  const Ticks x_ticks = AxisTicks(figure.x, x_extent);
-  const Ticks y_ticks = AxisTicks(figure.y, y_extent);
-  Ticks r_ticks;
-  if (figure.y_right) r_ticks = AxisTicks(*figure.y_right, r_extent);
+  p.x_ticks = AxisTicks(figure.x, x_extent);
+  p.y_ticks = AxisTicks(figure.y, y_extent);
+  if (figure.y_right) p.r_ticks = AxisTicks(*figure.y_right, r_extent);
 
   // 2. Frame inside the outer box, leaving room for labels.
-  const double y_label_width = YTickLabelWidth(canvas, figure, y_ticks);
-  double r_label_width = 0.0;
+  const double y_label_width = YTickLabelWidth(canvas, figure, p.y_ticks);
   if (figure.y_right) {
-    for (double v : r_ticks.values) {
-      r_label_width =
-          std::max(r_label_width, canvas.TextWidth(TickLabel(*figure.y_right, r_ticks, v), fs));
+    for (double v : p.r_ticks.values) {
+      p.r_label_width =
+          std::max(p.r_label_width, canvas.TextWidth(TickLabel(*figure.y_right, p.r_ticks, v), fs));
     }
   }
-  const double left_pad = figure.left_padding_pt > 0.0
-                              ? figure.left_padding_pt
-                              : y_label_width + 4.0 + (figure.y.label.empty() ? 0.0 : fs * 1.5);
+  p.left_pad = figure.left_padding_pt > 0.0
+                   ? figure.left_padding_pt
+                   : y_label_width + 4.0 + (figure.y.label.empty() ? 0.0 : fs * 1.5);
   const double right_pad =
-      figure.y_right ? r_label_width + 4.0 + (figure.y_right->label.empty() ? 0.0 : fs * 1.5)
+      figure.y_right ? p.r_label_width + 4.0 + (figure.y_right->label.empty() ? 0.0 : fs * 1.5)
                      : fs * 1.2;
-  const double caption_height = CaptionHeight(canvas, figure, outer.width);
+  p.caption_height = CaptionHeight(canvas, figure, outer.width);
   const double bottom_pad = (figure.x.tick_labels ? fs * 1.45 : 2.0) +
-                            (figure.x.label.empty() ? 0.0 : fs * 1.5) + caption_height;
+                            (figure.x.label.empty() ? 0.0 : fs * 1.5) + p.caption_height;
   double top_pad = fs * 0.8;
   if (!figure.title.empty()) top_pad += fs * 1.7;
   if (figure.x_top) top_pad += fs * 1.45 + (figure.x_top->label.empty() ? 0.0 : fs * 1.4);
-  layout.frame = {outer.x + left_pad, outer.y + bottom_pad,
-                  std::max(10.0, outer.width - left_pad - right_pad),
-                  std::max(10.0, outer.height - bottom_pad - top_pad)};
-  const Rect& frame = layout.frame;
-  layout.x_axis_min = x_ticks.axis_min;
-  layout.x_axis_max = x_ticks.axis_max;
-  layout.y_axis_min = y_ticks.axis_min;
-  layout.y_axis_max = y_ticks.axis_max;
+  p.frame = {outer.x + p.left_pad, outer.y + bottom_pad,
+             std::max(10.0, outer.width - p.left_pad - right_pad),
+             std::max(10.0, outer.height - bottom_pad - top_pad)};
+  const Rect& f = p.frame;
+  p.mx = {figure.x.scale, p.x_ticks.axis_min, p.x_ticks.axis_max, f.x, f.right()};
+  p.my = {figure.y.scale, p.y_ticks.axis_min, p.y_ticks.axis_max, f.y, f.top()};
+  p.mr = {p.y_right_scale, p.r_ticks.axis_min, p.r_ticks.axis_max, f.y, f.top()};
+  return p;
+}
 
-  const Mapping mx{figure.x.scale, x_ticks.axis_min, x_ticks.axis_max, frame.x, frame.right()};
-  const Mapping my{figure.y.scale, y_ticks.axis_min, y_ticks.axis_max, frame.y, frame.top()};
-  const Mapping mr{y_right_scale, r_ticks.axis_min, r_ticks.axis_max, frame.y, frame.top()};
-
-  // 3. Grid (beneath the data).
-  canvas.FillRect(frame, Color{1.0, 1.0, 1.0});
+// 3. Grid (beneath the data).
+void DrawGrid(Canvas& canvas, const Figure& figure, const FigurePlan& p) {
+  canvas.FillRect(p.frame, Color{1.0, 1.0, 1.0});
   if (figure.x.grid) {
-    for (double v : x_ticks.values) {
-      const double px = mx(v);
-      canvas.Line(px, frame.y, px, frame.top(), 0.4, palette::kGrid);
+    for (double v : p.x_ticks.values) {
+      const double px = p.mx(v);
+      canvas.Line(px, p.frame.y, px, p.frame.top(), 0.4, palette::kGrid);
     }
   }
   if (figure.y.grid) {
-    for (double v : y_ticks.values) {
-      const double py = my(v);
-      canvas.Line(frame.x, py, frame.right(), py, 0.4, palette::kGrid);
+    for (double v : p.y_ticks.values) {
+      const double py = p.my(v);
+      canvas.Line(p.frame.x, py, p.frame.right(), py, 0.4, palette::kGrid);
     }
   }
+}
 
-  // 4. Data, clipped to the frame.
-  HPDF_Page_GSave(page);
-  HPDF_Page_Rectangle(page, F(frame.x), F(frame.y), F(frame.width), F(frame.height));
-  HPDF_Page_Clip(page);
-  HPDF_Page_EndPath(page);
-
+void DrawBands(Canvas& canvas, const Figure& figure, const FigurePlan& p) {
   for (const Band& band : figure.bands) {
     std::vector<std::pair<double, double>> upper, lower;
     for (size_t i = 0; i < band.x.size() && i < band.low.size() && i < band.high.size(); ++i) {
@@ -574,193 +422,229 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
           !Usable(band.high[i], figure.y.scale)) {
         continue;
       }
-      upper.emplace_back(mx(band.x[i]), my(band.high[i]));
-      lower.emplace_back(mx(band.x[i]), my(band.low[i]));
+      upper.emplace_back(p.mx(band.x[i]), p.my(band.high[i]));
+      lower.emplace_back(p.mx(band.x[i]), p.my(band.low[i]));
     }
     if (upper.size() < 2) continue;
-    SetFill(page, band.fill);
-    HPDF_Page_MoveTo(page, F(upper[0].first), F(upper[0].second));
-    for (size_t i = 1; i < upper.size(); ++i) {
-      HPDF_Page_LineTo(page, F(upper[i].first), F(upper[i].second));
-    }
-    for (size_t i = lower.size(); i-- > 0;) {
-      HPDF_Page_LineTo(page, F(lower[i].first), F(lower[i].second));
-    }
-    HPDF_Page_ClosePath(page);
-    HPDF_Page_Fill(page);
+    canvas.SetFill(band.fill);
+    canvas.MoveTo(upper[0].first, upper[0].second);
+    for (size_t i = 1; i < upper.size(); ++i) canvas.LineTo(upper[i].first, upper[i].second);
+    for (size_t i = lower.size(); i-- > 0;) canvas.LineTo(lower[i].first, lower[i].second);
+    canvas.ClosePath();
+    canvas.Fill();
   }
+}
+
+void DrawEventsAndRules(Canvas& canvas, const Figure& figure, const FigurePlan& p) {
   for (const EventLine& event : figure.events) {
     if (!Usable(event.x, figure.x.scale)) continue;
-    SetDash(page, {2.0, 2.0});
-    canvas.Line(mx(event.x), frame.y, mx(event.x), frame.top(), event.width_pt, event.color);
-    SetDash(page, {});
+    canvas.SetDash({2.0, 2.0});
+    canvas.Line(p.mx(event.x), p.frame.y, p.mx(event.x), p.frame.top(), event.width_pt,
+                event.color);
+    canvas.SetDash({});
   }
   for (double rule : figure.horizontal_rules) {
     if (!Usable(rule, figure.y.scale)) continue;
-    canvas.Line(frame.x, my(rule), frame.right(), my(rule), 0.6, palette::kSlate);
+    canvas.Line(p.frame.x, p.my(rule), p.frame.right(), p.my(rule), 0.6, palette::kSlate);
   }
-  std::vector<std::pair<double, double>> occupied;  // page positions of data, for the legend
+}
+
+void DrawErrorBars(Canvas& canvas, const Figure& figure, const FigurePlan& p, const Series& s) {
+  const Mapping& ym = s.right_axis ? p.mr : p.my;
+  const Scale ys = s.right_axis ? p.y_right_scale : figure.y.scale;
+  canvas.SetDash({});
+  const double cap = s.marker.size_pt * 0.45;
+  const Color c = s.marker.color;
+  for (size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
+    if (!Usable(s.x[i], figure.x.scale) || !Usable(s.y[i], ys)) continue;
+    const double px = p.mx(s.x[i]);
+    const double py = ym(s.y[i]);
+    if (i < s.y_error.size() && s.y_error[i] > 0.0) {
+      const double lo = s.y[i] - s.y_error[i];
+      const double y0 = Usable(lo, ys) ? ym(lo) : p.frame.y;
+      const double y1 = ym(s.y[i] + s.y_error[i]);
+      canvas.Line(px, y0, px, y1, 0.6, c);
+      canvas.Line(px - cap, y0, px + cap, y0, 0.6, c);
+      canvas.Line(px - cap, y1, px + cap, y1, 0.6, c);
+    }
+    if (i < s.x_error.size() && s.x_error[i] > 0.0) {
+      const double lo = s.x[i] - s.x_error[i];
+      const double x0 = Usable(lo, figure.x.scale) ? p.mx(lo) : p.frame.x;
+      const double x1 = p.mx(s.x[i] + s.x_error[i]);
+      canvas.Line(x0, py, x1, py, 0.6, c);
+      canvas.Line(x0, py - cap, x0, py + cap, 0.6, c);
+      canvas.Line(x1, py - cap, x1, py + cap, 0.6, c);
+    }
+  }
+}
+
+// 4. Data, clipped to the frame; returns the page positions of the data (for the legend).
+std::vector<std::pair<double, double>> DrawData(Canvas& canvas, const Figure& figure,
+                                                const FigurePlan& p) {
+  canvas.PushClip(p.frame);
+  DrawBands(canvas, figure, p);
+  DrawEventsAndRules(canvas, figure, p);
+  std::vector<std::pair<double, double>> occupied;
   for (const Series& s : figure.series) {
-    const Mapping& ym = s.right_axis ? mr : my;
-    const Scale ys = s.right_axis ? y_right_scale : figure.y.scale;
+    const Mapping& ym = s.right_axis ? p.mr : p.my;
+    const Scale ys = s.right_axis ? p.y_right_scale : figure.y.scale;
     std::vector<std::pair<double, double>> points;
     for (size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
       if (!Usable(s.x[i], figure.x.scale) || !Usable(s.y[i], ys)) continue;
-      points.emplace_back(mx(s.x[i]), ym(s.y[i]));
+      points.emplace_back(p.mx(s.x[i]), ym(s.y[i]));
     }
-    if (s.line) DrawPolyline(page, points, *s.line);
+    if (s.line) DrawPolyline(canvas, points, *s.line);
     occupied.insert(occupied.end(), points.begin(), points.end());
     // Error bars, then markers on top.
-    if (!s.x_error.empty() || !s.y_error.empty()) {
-      SetDash(page, {});
-      const double cap = s.marker.size_pt * 0.45;
-      for (size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
-        if (!Usable(s.x[i], figure.x.scale) || !Usable(s.y[i], ys)) continue;
-        const double px = mx(s.x[i]);
-        const double py = ym(s.y[i]);
-        const Color c = s.marker.color;
-        if (i < s.y_error.size() && s.y_error[i] > 0.0) {
-          const double lo = s.y[i] - s.y_error[i];
-          const double y0 = Usable(lo, ys) ? ym(lo) : frame.y;
-          const double y1 = ym(s.y[i] + s.y_error[i]);
-          canvas.Line(px, y0, px, y1, 0.6, c);
-          canvas.Line(px - cap, y0, px + cap, y0, 0.6, c);
-          canvas.Line(px - cap, y1, px + cap, y1, 0.6, c);
-        }
-        if (i < s.x_error.size() && s.x_error[i] > 0.0) {
-          const double lo = s.x[i] - s.x_error[i];
-          const double x0 = Usable(lo, figure.x.scale) ? mx(lo) : frame.x;
-          const double x1 = mx(s.x[i] + s.x_error[i]);
-          canvas.Line(x0, py, x1, py, 0.6, c);
-          canvas.Line(x0, py - cap, x0, py + cap, 0.6, c);
-          canvas.Line(x1, py - cap, x1, py + cap, 0.6, c);
-        }
-      }
-    }
+    if (!s.x_error.empty() || !s.y_error.empty()) DrawErrorBars(canvas, figure, p, s);
     for (const auto& [px, py] : points) {
-      if (s.marker.shape != MarkerShape::kNone) DrawMarker(page, s.marker, px, py);
+      if (s.marker.shape != MarkerShape::kNone) DrawMarker(canvas, s.marker, px, py);
     }
   }
   for (const Band& band : figure.bands) {
     for (size_t i = 0; i < band.x.size() && i < band.high.size(); ++i) {
       if (Usable(band.x[i], figure.x.scale) && Usable(band.high[i], figure.y.scale)) {
-        occupied.emplace_back(mx(band.x[i]), my(band.high[i]));
+        occupied.emplace_back(p.mx(band.x[i]), p.my(band.high[i]));
       }
     }
   }
-  HPDF_Page_GRestore(page);
+  canvas.PopClip();
+  return occupied;
+}
 
-  // 5. Frame, ticks and tick labels.
+constexpr double kTickLength_pt = 3.0;
+
+// 5a. Frame, ticks and tick labels of the bottom, left and right axes.
+void DrawFrameAndTicks(Canvas& canvas, const Figure& figure, const FigurePlan& p) {
+  const double fs = figure.font_size_pt;
+  const double tick = kTickLength_pt;
+  const Rect& frame = p.frame;
   canvas.StrokeRect(frame, 0.7, palette::kInk);
-  const double tick = 3.0;
-  for (double v : x_ticks.values) {
-    const double px = mx(v);
+  for (double v : p.x_ticks.values) {
+    const double px = p.mx(v);
     canvas.Line(px, frame.y, px, frame.y + tick, 0.6, palette::kInk);
     if (!figure.x_top) canvas.Line(px, frame.top(), px, frame.top() - tick, 0.6, palette::kInk);
     if (figure.x.tick_labels) {
-      canvas.Text(px, frame.y - fs - 2.0, TickLabel(figure.x, x_ticks, v), fs,
+      canvas.Text(px, frame.y - fs - 2.0, TickLabel(figure.x, p.x_ticks, v), fs,
                   Canvas::Align::kCenter);
     }
   }
-  for (double v : y_ticks.values) {
-    const double py = my(v);
+  for (double v : p.y_ticks.values) {
+    const double py = p.my(v);
     canvas.Line(frame.x, py, frame.x + tick, py, 0.6, palette::kInk);
     if (!figure.y_right)
       canvas.Line(frame.right(), py, frame.right() - tick, py, 0.6, palette::kInk);
     if (figure.y.tick_labels) {
-      canvas.Text(frame.x - 3.0, py - fs * 0.35, TickLabel(figure.y, y_ticks, v), fs,
+      canvas.Text(frame.x - 3.0, py - fs * 0.35, TickLabel(figure.y, p.y_ticks, v), fs,
                   Canvas::Align::kRight);
     }
   }
   if (figure.x.scale == Scale::kLog10) {
-    for (double v : LogMinorTicks(x_ticks.axis_min, x_ticks.axis_max)) {
-      canvas.Line(mx(v), frame.y, mx(v), frame.y + tick * 0.55, 0.4, palette::kInk);
+    for (double v : LogMinorTicks(p.x_ticks.axis_min, p.x_ticks.axis_max)) {
+      canvas.Line(p.mx(v), frame.y, p.mx(v), frame.y + tick * 0.55, 0.4, palette::kInk);
     }
   }
   if (figure.y.scale == Scale::kLog10) {
-    for (double v : LogMinorTicks(y_ticks.axis_min, y_ticks.axis_max)) {
-      canvas.Line(frame.x, my(v), frame.x + tick * 0.55, my(v), 0.4, palette::kInk);
+    for (double v : LogMinorTicks(p.y_ticks.axis_min, p.y_ticks.axis_max)) {
+      canvas.Line(frame.x, p.my(v), frame.x + tick * 0.55, p.my(v), 0.4, palette::kInk);
     }
   }
   if (figure.y_right) {
-    for (double v : r_ticks.values) {
-      const double py = mr(v);
+    for (double v : p.r_ticks.values) {
+      const double py = p.mr(v);
       canvas.Line(frame.right(), py, frame.right() - tick, py, 0.6, palette::kInk);
-      canvas.Text(frame.right() + 3.0, py - fs * 0.35, TickLabel(*figure.y_right, r_ticks, v), fs);
+      canvas.Text(frame.right() + 3.0, py - fs * 0.35, TickLabel(*figure.y_right, p.r_ticks, v),
+                  fs);
     }
     if (!figure.y_right->label.empty()) {
-      canvas.VerticalText(frame.right() + r_label_width + 4.0 + fs * 1.1,
+      canvas.VerticalText(frame.right() + p.r_label_width + 4.0 + fs * 1.1,
                           frame.y + frame.height / 2.0, figure.y_right->label, fs);
     }
   }
+}
 
-  // Secondary (top) axis through its mapping.
-  if (figure.x_top && figure.x_top->to_secondary && figure.x_top->from_secondary) {
-    const SecondaryAxis& top = *figure.x_top;
-    Extent s_extent;
-    constexpr int kSamples = 256;
-    for (int i = 0; i <= kSamples; ++i) {
-      const double x = x_ticks.axis_min + (x_ticks.axis_max - x_ticks.axis_min) * i / kSamples;
-      s_extent.Add(top.to_secondary(x), top.scale);
+struct TickCandidate {
+  double value;
+  int priority;
+};
+
+// Tick candidates of the secondary axis in secondary units, most wanted first: decades, then
+// 5 and 2 times a decade (log), or every other nice tick (linear).
+std::vector<TickCandidate> SecondaryCandidates(const SecondaryAxis& top, const Extent& extent,
+                                               int* digits) {
+  std::vector<TickCandidate> candidates;
+  *digits = 0;
+  if (top.scale == Scale::kLog10) {
+    const int first = static_cast<int>(std::floor(std::log10(extent.low)));
+    const int last = static_cast<int>(std::ceil(std::log10(extent.high)));
+    for (int decade = first; decade <= last; ++decade) {
+      const double p = std::pow(10.0, decade);
+      candidates.push_back({p, 0});
+      candidates.push_back({5.0 * p, 1});
+      candidates.push_back({2.0 * p, 2});
     }
-    if (!s_extent.empty()) {
-      struct Candidate {
-        double value;
-        int priority;
-      };
-      std::vector<Candidate> candidates;
-      int digits = 0;
-      if (top.scale == Scale::kLog10) {
-        const int first = static_cast<int>(std::floor(std::log10(s_extent.low)));
-        const int last = static_cast<int>(std::ceil(std::log10(s_extent.high)));
-        for (int decade = first; decade <= last; ++decade) {
-          const double p = std::pow(10.0, decade);
-          candidates.push_back({p, 0});
-          candidates.push_back({5.0 * p, 1});
-          candidates.push_back({2.0 * p, 2});
-        }
-      } else {
-        const Ticks t = NiceLinearTicksWithin(s_extent.low, s_extent.high, 8);
-        digits = t.fraction_digits;
-        for (size_t i = 0; i < t.values.size(); ++i) {
-          candidates.push_back({t.values[i], static_cast<int>(i % 2)});
-        }
-      }
-      std::stable_sort(
-          candidates.begin(), candidates.end(),
-          [](const Candidate& a, const Candidate& b) { return a.priority < b.priority; });
-      std::vector<std::pair<double, double>> accepted;  // (page x, half label width)
-      for (const Candidate& c : candidates) {
-        const double x = top.from_secondary(c.value);
-        if (!std::isfinite(x) || x < x_ticks.axis_min || x > x_ticks.axis_max) continue;
-        const double px = mx(x);
-        const std::string label =
-            top.scale == Scale::kLog10 ? FormatLogTick(c.value) : FormatTick(c.value, digits);
-        const double half = canvas.TextWidth(label, fs) / 2.0;
-        // Labels stay within the frame's width (none crowding the corners).
-        bool fits = px - half >= frame.x + 2.0 && px + half <= frame.right() - 2.0;
-        for (const auto& [ax, ah] : accepted) {
-          if (std::abs(ax - px) < std::max(top.min_spacing_pt, ah + half + 4.0)) fits = false;
-        }
-        if (!fits) continue;
-        accepted.emplace_back(px, half);
-        canvas.Line(px, frame.top(), px, frame.top() - tick, 0.6, palette::kInk);
-        canvas.Text(px, frame.top() + 4.0, label, fs, Canvas::Align::kCenter);
-      }
-    }
-    if (!top.label.empty()) {
-      canvas.Text(frame.x + frame.width / 2.0, frame.top() + fs * 1.45 + 2.0, top.label, fs,
-                  Canvas::Align::kCenter);
+  } else {
+    const Ticks t = NiceLinearTicksWithin(extent.low, extent.high, 8);
+    *digits = t.fraction_digits;
+    for (size_t i = 0; i < t.values.size(); ++i) {
+      candidates.push_back({t.values[i], static_cast<int>(i % 2)});
     }
   }
+  std::stable_sort(
+      candidates.begin(), candidates.end(),
+      [](const TickCandidate& a, const TickCandidate& b) { return a.priority < b.priority; });
+  return candidates;
+}
 
-  // Axis labels, title, caption.
+// 5b. Secondary (top) axis through its mapping.
+void DrawSecondaryAxis(Canvas& canvas, const Figure& figure, const FigurePlan& p) {
+  if (!figure.x_top || !figure.x_top->to_secondary || !figure.x_top->from_secondary) return;
+  const double fs = figure.font_size_pt;
+  const Rect& frame = p.frame;
+  const SecondaryAxis& top = *figure.x_top;
+  Extent s_extent;
+  constexpr int kSamples = 256;
+  for (int i = 0; i <= kSamples; ++i) {
+    const double x = p.x_ticks.axis_min + (p.x_ticks.axis_max - p.x_ticks.axis_min) * i / kSamples;
+    s_extent.Add(top.to_secondary(x), top.scale);
+  }
+  if (!s_extent.empty()) {
+    int digits = 0;
+    std::vector<std::pair<double, double>> accepted;  // (page x, half label width)
+    for (const TickCandidate& c : SecondaryCandidates(top, s_extent, &digits)) {
+      const double x = top.from_secondary(c.value);
+      if (!std::isfinite(x) || x < p.x_ticks.axis_min || x > p.x_ticks.axis_max) continue;
+      const double px = p.mx(x);
+      const std::string label =
+          top.scale == Scale::kLog10 ? FormatLogTick(c.value) : FormatTick(c.value, digits);
+      const double half = canvas.TextWidth(label, fs) / 2.0;
+      // Labels stay within the frame's width (none crowding the corners).
+      bool fits = px - half >= frame.x + 2.0 && px + half <= frame.right() - 2.0;
+      for (const auto& [ax, ah] : accepted) {
+        if (std::abs(ax - px) < std::max(top.min_spacing_pt, ah + half + 4.0)) fits = false;
+      }
+      if (!fits) continue;
+      accepted.emplace_back(px, half);
+      canvas.Line(px, frame.top(), px, frame.top() - kTickLength_pt, 0.6, palette::kInk);
+      canvas.Text(px, frame.top() + 4.0, label, fs, Canvas::Align::kCenter);
+    }
+  }
+  if (!top.label.empty()) {
+    canvas.Text(frame.x + frame.width / 2.0, frame.top() + fs * 1.45 + 2.0, top.label, fs,
+                Canvas::Align::kCenter);
+  }
+}
+
+// 5c. Axis labels, title, caption.
+void DrawLabels(Canvas& canvas, const Figure& figure, const FigurePlan& p, const Rect& outer) {
+  const double fs = figure.font_size_pt;
+  const Rect& frame = p.frame;
   if (!figure.x.label.empty()) {
     const double base = frame.y - (figure.x.tick_labels ? fs * 1.45 : 2.0) - fs * 1.25;
     canvas.Text(frame.x + frame.width / 2.0, base, figure.x.label, fs, Canvas::Align::kCenter);
   }
   if (!figure.y.label.empty()) {
-    canvas.VerticalText(frame.x - left_pad + fs * 1.05, frame.y + frame.height / 2.0,
+    canvas.VerticalText(frame.x - p.left_pad + fs * 1.05, frame.y + frame.height / 2.0,
                         figure.y.label, fs);
   }
   if (!figure.title.empty()) {
@@ -769,76 +653,107 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
   }
   if (!figure.caption.empty()) {
     const auto lines = canvas.Wrap(figure.caption, fs, outer.width);
-    double y = outer.y + caption_height - 4.0 - fs;
+    double y = outer.y + p.caption_height - 4.0 - fs;
     for (const std::string& line : lines) {
       canvas.Text(outer.x, y, line, fs, Canvas::Align::kLeft, false, palette::kSlate);
       y -= fs * 1.3;
     }
   }
+}
 
-  // 6. Legend in the emptiest corner.
+std::vector<LegendEntry> LegendEntries(const Figure& figure) {
   std::vector<LegendEntry> entries;
-  if (figure.legend) {
-    for (const Series& s : figure.series) {
-      if (!s.legend.empty()) entries.push_back({s.legend, &s, nullptr});
+  if (!figure.legend) return entries;
+  for (const Series& s : figure.series) {
+    if (!s.legend.empty()) entries.push_back({s.legend, &s, nullptr});
+  }
+  for (const Band& b : figure.bands) {
+    if (!b.legend.empty()) entries.push_back({b.legend, nullptr, &b});
+  }
+  return entries;
+}
+
+// The corner (0 top-left, 1 top-right, 2 bottom-right, 3 bottom-left) whose box covers the
+// fewest data points, and how many it covers.
+std::pair<int, int> EmptiestCorner(const std::array<Rect, 4>& corners,
+                                   const std::vector<std::pair<double, double>>& occupied) {
+  int best = 0;
+  int best_count = std::numeric_limits<int>::max();
+  for (int c = 0; c < 4; ++c) {
+    const Rect& r = corners[static_cast<size_t>(c)];
+    int count = 0;
+    for (const auto& [px, py] : occupied) {
+      if (px >= r.x - 3.0 && px <= r.right() + 3.0 && py >= r.y - 3.0 && py <= r.top() + 3.0) {
+        ++count;
+      }
     }
-    for (const Band& b : figure.bands) {
-      if (!b.legend.empty()) entries.push_back({b.legend, nullptr, &b});
+    if (count < best_count) {
+      best = c;
+      best_count = count;
     }
   }
-  if (!entries.empty()) {
-    const double lfs = fs * 0.95;
-    const double row = lfs * 1.45;
-    const double sample = 16.0;
-    double text_width = 0.0;
-    for (const LegendEntry& e : entries)
-      text_width = std::max(text_width, canvas.TextWidth(e.text, lfs));
-    const double width = std::min(frame.width - 8.0, 6.0 + sample + 4.0 + text_width + 6.0);
-    const double height = std::min(frame.height - 8.0, 4.0 + row * entries.size());
-    const double inset = 5.0;
-    const std::array<Rect, 4> corners = {
-        Rect{frame.x + inset, frame.top() - inset - height, width, height},
-        Rect{frame.right() - inset - width, frame.top() - inset - height, width, height},
-        Rect{frame.right() - inset - width, frame.y + inset, width, height},
-        Rect{frame.x + inset, frame.y + inset, width, height}};
-    int best = 0;
-    int best_count = std::numeric_limits<int>::max();
-    for (int c = 0; c < 4; ++c) {
-      const Rect& r = corners[static_cast<size_t>(c)];
-      int count = 0;
-      for (const auto& [px, py] : occupied) {
-        if (px >= r.x - 3.0 && px <= r.right() + 3.0 && py >= r.y - 3.0 && py <= r.top() + 3.0) {
-          ++count;
-        }
-      }
-      if (count < best_count) {
-        best = c;
-        best_count = count;
+  return {best, best_count};
+}
+
+// 6. Legend in the emptiest corner.
+void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
+                const std::vector<std::pair<double, double>>& occupied, FigureLayout* layout) {
+  const std::vector<LegendEntry> entries = LegendEntries(figure);
+  if (entries.empty()) return;
+  const Rect& frame = p.frame;
+  const double lfs = figure.font_size_pt * 0.95;
+  const double row = lfs * 1.45;
+  const double sample = 16.0;
+  double text_width = 0.0;
+  for (const LegendEntry& e : entries)
+    text_width = std::max(text_width, canvas.TextWidth(e.text, lfs));
+  const double width = std::min(frame.width - 8.0, 6.0 + sample + 4.0 + text_width + 6.0);
+  const double height = std::min(frame.height - 8.0, 4.0 + row * entries.size());
+  const double inset = 5.0;
+  const std::array<Rect, 4> corners = {
+      Rect{frame.x + inset, frame.top() - inset - height, width, height},
+      Rect{frame.right() - inset - width, frame.top() - inset - height, width, height},
+      Rect{frame.right() - inset - width, frame.y + inset, width, height},
+      Rect{frame.x + inset, frame.y + inset, width, height}};
+  const auto [best, best_count] = EmptiestCorner(corners, occupied);
+  const Rect box = corners[static_cast<size_t>(best)];
+  layout->legend = box;
+  layout->legend_corner = best;
+  layout->legend_points_covered = best_count;
+  canvas.FillRect(box, Color{1.0, 1.0, 1.0});
+  canvas.StrokeRect(box, 0.4, palette::kSlate);
+  double y = box.top() - 2.0 - row / 2.0;
+  for (const LegendEntry& e : entries) {
+    const double sx = box.x + 6.0;
+    if (e.band != nullptr) {
+      canvas.FillRect({sx, y - lfs * 0.4, sample, lfs * 0.8}, e.band->fill);
+    } else if (e.series != nullptr) {
+      if (e.series->line) DrawPolyline(canvas, {{sx, y}, {sx + sample, y}}, *e.series->line);
+      if (e.series->marker.shape != MarkerShape::kNone) {
+        DrawMarker(canvas, e.series->marker, sx + sample / 2.0, y);
       }
     }
-    const Rect box = corners[static_cast<size_t>(best)];
-    layout.legend = box;
-    layout.legend_corner = best;
-    layout.legend_points_covered = best_count;
-    canvas.FillRect(box, Color{1.0, 1.0, 1.0});
-    canvas.StrokeRect(box, 0.4, palette::kSlate);
-    double y = box.top() - 2.0 - row / 2.0;
-    for (const LegendEntry& e : entries) {
-      const double sx = box.x + 6.0;
-      if (e.band != nullptr) {
-        canvas.FillRect({sx, y - lfs * 0.4, sample, lfs * 0.8}, e.band->fill);
-      } else if (e.series != nullptr) {
-        if (e.series->line) {
-          DrawPolyline(page, {{sx, y}, {sx + sample, y}}, *e.series->line);
-        }
-        if (e.series->marker.shape != MarkerShape::kNone) {
-          DrawMarker(page, e.series->marker, sx + sample / 2.0, y);
-        }
-      }
-      canvas.Text(sx + sample + 4.0, y - lfs * 0.35, e.text, lfs);
-      y -= row;
-    }
+    canvas.Text(sx + sample + 4.0, y - lfs * 0.35, e.text, lfs);
+    y -= row;
   }
+}
+
+}  // namespace
+
+FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer) {
+  const FigurePlan plan = PlanFigure(canvas, figure, outer);
+  FigureLayout layout;
+  layout.frame = plan.frame;
+  layout.x_axis_min = plan.x_ticks.axis_min;
+  layout.x_axis_max = plan.x_ticks.axis_max;
+  layout.y_axis_min = plan.y_ticks.axis_min;
+  layout.y_axis_max = plan.y_ticks.axis_max;
+  DrawGrid(canvas, figure, plan);
+  const std::vector<std::pair<double, double>> occupied = DrawData(canvas, figure, plan);
+  DrawFrameAndTicks(canvas, figure, plan);
+  DrawSecondaryAxis(canvas, figure, plan);
+  DrawLabels(canvas, figure, plan, outer);
+  DrawLegend(canvas, figure, plan, occupied, &layout);
   return layout;
 }
 

@@ -1,4 +1,5 @@
-// Plot engine of the report stage: vector figures drawn straight into a libharu page.
+// Plot engine of the report stage: vector figures drawn through a Canvas (canvas.h: a PDF
+// page through libharu, or an SVG element for the HTML report).
 // Everything a datasheet figure needs and nothing more: axes with "nice" tick values
 // (Heckbert, "Nice numbers for graph labels", Graphics Gems, 1990), linear and log10 scales,
 // grid, a secondary axis whose ticks are computed through a mapping function (e.g. capillary
@@ -11,78 +12,15 @@
 // whatever the caller plots (already converted to display units, e.g. RH in %).
 #pragma once
 
-#include <hpdf.h>
-
 #include <functional>
 #include <optional>
 #include <string>
 #include <string_view>
 #include <vector>
 
+#include "pipeline/report/plot/canvas.h"
+
 namespace sorbtrace::report::plot {
-
-// An RGB colour, components in [0, 1].
-struct Color {
-  double r = 0.0;
-  double g = 0.0;
-  double b = 0.0;
-  // The colour mixed with white: amount 0 keeps it, 1 gives white (light tints for bands).
-  Color Tint(double amount) const;
-};
-
-// The report's restrained palette (an identity of its own: ink blue-grey, teal, ochre,
-// plum, moss). Distinct in hue and in lightness, so series stay apart in greyscale.
-namespace palette {
-inline constexpr Color kInk{0.13, 0.16, 0.20};
-inline constexpr Color kTeal{0.05, 0.40, 0.45};
-inline constexpr Color kOchre{0.72, 0.45, 0.10};
-inline constexpr Color kPlum{0.45, 0.22, 0.42};
-inline constexpr Color kMoss{0.35, 0.45, 0.18};
-inline constexpr Color kSlate{0.40, 0.44, 0.50};
-inline constexpr Color kGrid{0.86, 0.88, 0.90};
-// The i-th series colour (cycles).
-Color Series(int index);
-}  // namespace palette
-
-// A rectangle on the page [pt].
-struct Rect {
-  double x = 0.0;  // left
-  double y = 0.0;  // bottom
-  double width = 0.0;
-  double height = 0.0;
-  double right() const { return x + width; }
-  double top() const { return y + height; }
-};
-
-// Fonts and page that every drawing call writes to. Text is UTF-8 (the document uses
-// libharu's UTF-8 encoder with an embedded TrueType font, so °, ±, ², µ and Greek print).
-class Canvas {
- public:
-  Canvas(HPDF_Page page, HPDF_Font regular, HPDF_Font bold);
-
-  enum class Align { kLeft, kCenter, kRight };
-  // Draws one line of text with its baseline at y.
-  void Text(double x, double y, std::string_view text, double size_pt, Align align = Align::kLeft,
-            bool bold = false, Color color = palette::kInk);
-  // Text rotated by 90 degrees counter-clockwise, centred on (x, y) along its length.
-  void VerticalText(double x, double y, std::string_view text, double size_pt,
-                    Color color = palette::kInk);
-  double TextWidth(std::string_view text, double size_pt, bool bold = false) const;
-  // Splits text into lines no wider than width_pt (breaks at spaces; long words stay whole).
-  std::vector<std::string> Wrap(std::string_view text, double size_pt, double width_pt,
-                                bool bold = false) const;
-
-  void Line(double x0, double y0, double x1, double y1, double width_pt, Color color);
-  void StrokeRect(const Rect& rect, double width_pt, Color color);
-  void FillRect(const Rect& rect, Color color);
-
-  HPDF_Page page() const { return page_; }
-
- private:
-  HPDF_Page page_;
-  HPDF_Font regular_;
-  HPDF_Font bold_;
-};
 
 enum class Scale { kLinear, kLog10 };
 
@@ -211,7 +149,8 @@ struct FigureLayout {
   int legend_points_covered = 0;
 };
 
-// Draws the figure inside `outer` (labels, legend and caption included).
+// Draws the figure inside `outer` (labels, legend and caption included), in six phases:
+// ranges and ticks, frame placement, grid, clipped data, axes with their labels, legend.
 FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer);
 
 // Height a caption of `text` takes below a figure `width_pt` wide (for page layout).

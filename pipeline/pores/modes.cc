@@ -1,0 +1,173 @@
+// Modes, decade fractions and common assumptions of the pore-size distributions (modes.h).
+
+#include "pipeline/pores/modes.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <string>
+
+#include "pipeline/physics/physics.h"
+#include "pipeline/pores/sampling.h"
+
+namespace sorbtrace::pores::internal {
+namespace {
+
+constexpr double kNm = 1e-9;
+
+// A local maximum of y over x.
+struct Peak {
+  double x = 0.0;
+  double y = 0.0;
+};
+
+// Vertex of the parabola through (x, y) at i - 1, i, i + 1 (i interior): the refined
+// position of a local maximum at node i; (x[i], y[i]) where the curvature is not negative.
+Peak ParabolaVertex(const double* x, const double* y, std::size_t i) {
+  const double h0 = x[i] - x[i - 1];
+  const double h1 = x[i + 1] - x[i];
+  const double d0 = (y[i] - y[i - 1]) / h0;
+  const double d1 = (y[i + 1] - y[i]) / h1;
+  const double curvature = (d1 - d0) / (0.5 * (h0 + h1));  // second derivative
+  Peak peak{x[i], y[i]};
+  if (curvature < 0.0) {
+    const double slope_at_i = (d0 * h1 + d1 * h0) / (h0 + h1);
+    const double shift = std::clamp(-slope_at_i / curvature, -h0, h1);
+    peak.x = x[i] + shift;
+    peak.y = y[i] + slope_at_i * shift + 0.5 * curvature * shift * shift;
+  }
+  return peak;
+}
+
+std::string BranchWords(ingest::Branch branch) { return std::string(ingest::BranchName(branch)); }
+
+}  // namespace
+
+std::vector<DecadeFraction> DecadeFractions(const std::vector<double>& edges_log_r,
+                                            const std::vector<double>& interval_volume,
+                                            double total) {
+  std::vector<DecadeFraction> decades;
+  if (edges_log_r.size() < 2 || !(total > 0.0)) return decades;
+  const double lo = edges_log_r.front();
+  const double hi = edges_log_r.back();
+  for (double d = std::floor(lo); d < hi; d += 1.0) {
+    const double a = std::max(d, lo);
+    const double b = std::min(d + 1.0, hi);
+    double volume = 0.0;
+    for (std::size_t k = 0; k + 1 < edges_log_r.size(); ++k) {
+      const double x0 = edges_log_r[k];
+      const double x1 = edges_log_r[k + 1];
+      const double overlap = std::min(b, x1) - std::max(a, x0);
+      if (overlap > 0.0 && x1 > x0) volume += interval_volume[k] * overlap / (x1 - x0);
+    }
+    DecadeFraction fraction;
+    fraction.radius_low_m = std::pow(10.0, a);
+    fraction.radius_high_m = std::pow(10.0, b);
+    fraction.volume_fraction = volume / total;
+    decades.push_back(fraction);
+  }
+  return decades;
+}
+
+std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
+                                       const std::vector<double>& density,
+                                       const std::vector<double>& band_low,
+                                       const std::vector<double>& band_high, const DrawTable& draws,
+                                       std::size_t edge_nodes,
+                                       const std::vector<double>* step_width_log_r,
+                                       const PoreOptions& options) {
+  const bool histogram = step_width_log_r != nullptr;
+  std::vector<ModalRadius> modes;
+  const std::size_t n = density.size();
+  if (n < 2 * edge_nodes + 1 || n < 3) return modes;
+  const double y_max = *std::max_element(density.begin(), density.end());
+  if (!(y_max > 0.0)) return modes;
+  std::vector<std::size_t> peaks;
+  for (std::size_t i = 1; i + 1 < n; ++i) {
+    if (density[i] > density[i - 1] && density[i] >= density[i + 1] &&
+        density[i] >= options.mode_min_relative_height * y_max) {
+      peaks.push_back(i);
+    }
+  }
+  const auto lowest = [&](std::size_t from, std::size_t to) {  // argmin on [from, to]
+    std::size_t best = from;
+    for (std::size_t j = from; j <= to; ++j) {
+      if (density[j] < density[best]) best = j;
+    }
+    return best;
+  };
+  std::vector<double> column_y(n), radii;
+  for (std::size_t m = 0; m < peaks.size(); ++m) {
+    const std::size_t i = peaks[m];
+    if (i < edge_nodes || i + edge_nodes >= n) continue;
+    const std::size_t left = lowest(m > 0 ? peaks[m - 1] : 0, i);
+    const std::size_t right = lowest(i, m + 1 < peaks.size() ? peaks[m + 1] : n - 1);
+    if (!(band_low[i] > band_high[left] && band_low[i] > band_high[right])) continue;
+    radii.clear();
+    std::size_t missing = 0;
+    for (std::size_t k = 0; k < draws.num_draws; ++k) {
+      std::size_t best = left;
+      for (std::size_t j = left; j <= right; ++j) {
+        column_y[j] = draws.value(k, j);
+        if (column_y[j] > column_y[best]) best = j;
+      }
+      if (best == left || best == right) {
+        ++missing;
+        continue;
+      }
+      radii.push_back(std::pow(10.0, ParabolaVertex(log_r.data(), column_y.data(), best).x));
+    }
+    if (draws.num_draws > 0 &&
+        static_cast<double>(missing) >
+            (1.0 - options.band_confidence_level) * static_cast<double>(draws.num_draws)) {
+      continue;
+    }
+    const Peak nominal = ParabolaVertex(log_r.data(), density.data(), i);
+    ModalRadius mode;
+    mode.radius_m = std::pow(10.0, nominal.x);
+    mode.dv_dlogr_m3_per_kg = nominal.y;
+    mode.u_radius_m = StandardDeviation(radii);
+    if (histogram && i < step_width_log_r->size()) {
+      const double width = (*step_width_log_r)[i];
+      const double u_resolution = mode.radius_m * std::log(10.0) * width / std::sqrt(12.0);
+      mode.u_radius_m = std::hypot(mode.u_radius_m, u_resolution);
+    }
+    modes.push_back(mode);
+  }
+  return modes;
+}
+
+void DecadeUncertainties(const std::vector<std::vector<DecadeFraction>>& draw_decades,
+                         std::vector<DecadeFraction>* decades) {
+  std::vector<double> values;
+  for (std::size_t k = 0; k < decades->size(); ++k) {
+    values.clear();
+    for (const std::vector<DecadeFraction>& draw : draw_decades) {
+      if (k < draw.size()) values.push_back(draw[k].volume_fraction);
+    }
+    (*decades)[k].u_volume_fraction = StandardDeviation(values);
+  }
+}
+
+void CommonAssumptions(const PoreRadiusMap& map, ingest::Branch branch, const PoreOptions& options,
+                       PoreDistribution* d) {
+  d->assumptions.push_back(
+      fmt::format("{} pores; the {} branch is read with a {} meniscus (Cohan 1938)",
+                  options.geometry == PoreGeometry::kOpenCylinder ? "open-ended cylindrical"
+                                                                  : "closed-ended cylindrical",
+                  BranchWords(branch), physics::MeniscusName(map.meniscus())));
+  d->assumptions.push_back(fmt::format(
+      "r_p = r_K + t, Kelvin radius from the IAPWS surface tension and Kell density of water at "
+      "{:.2f} degC, contact angle {:g} rad",
+      physics::KelvinToCelsius(map.temperature_K()), options.contact_angle_rad));
+  d->assumptions.push_back(map.film().description);
+  d->assumptions.push_back(fmt::format(
+      "pores below {:g} nm are not Kelvin-resolved (micropores): their water is reported as "
+      "adsorbed",
+      options.min_radius_m / kNm));
+  d->assumptions.emplace_back(
+      "pore water at the density of bulk liquid water at the test temperature");
+}
+
+}  // namespace sorbtrace::pores::internal

@@ -1,0 +1,535 @@
+// The stepwise (BJH-type) pore-size distribution with JCGM 101 draws of the measured points
+// and the significance merge of its steps (distribution.h, StepwisePoreDistribution).
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <numeric>
+#include <string>
+#include <vector>
+
+#include "pipeline/physics/physics.h"
+#include "pipeline/pores/distribution.h"
+#include "pipeline/pores/modes.h"
+#include "pipeline/pores/sampling.h"
+
+namespace sorbtrace::pores::internal {
+namespace {
+
+constexpr double kNm = 1e-9;
+// Two RH values closer than this are one measured step (RH is known to about 1e-3 at best).
+constexpr double kSameRhFraction = 1e-9;
+// An RH draw outside (0, 1) is drawn again (the measurand lies inside); after this many tries
+// (only for a stated u(RH) far larger than the distance to the bound) it is put just inside.
+constexpr int kMaxRhRedraws = 64;
+constexpr double kRhInsideBound = 1e-9;
+
+// One point (or node) of one draw: RH and moisture content.
+struct Sample {
+  double rh = 0.0;
+  double u = 0.0;
+};
+
+// Points in 0 < RH < 1 with finite moisture, ascending in RH, equal RH averaged (the larger
+// uncertainty kept, common parts averaged).
+std::vector<MeasuredPoint> SortedMerged(const std::vector<MeasuredPoint>& points) {
+  std::vector<MeasuredPoint> sorted;
+  for (const MeasuredPoint& p : points) {
+    if (p.rh_fraction > 0.0 && p.rh_fraction < 1.0 && std::isfinite(p.moisture_kg_per_kg)) {
+      sorted.push_back(p);
+    }
+  }
+  std::stable_sort(
+      sorted.begin(), sorted.end(),
+      [](const MeasuredPoint& a, const MeasuredPoint& b) { return a.rh_fraction < b.rh_fraction; });
+  std::vector<MeasuredPoint> merged;
+  std::vector<double> count;
+  for (const MeasuredPoint& p : sorted) {
+    if (merged.empty() || p.rh_fraction - merged.back().rh_fraction >= kSameRhFraction) {
+      merged.push_back(p);
+      count.push_back(1.0);
+      continue;
+    }
+    MeasuredPoint& m = merged.back();
+    const double c = count.back();
+    m.moisture_kg_per_kg = (m.moisture_kg_per_kg * c + p.moisture_kg_per_kg) / (c + 1.0);
+    m.u_moisture_kg_per_kg = std::max(m.u_moisture_kg_per_kg, p.u_moisture_kg_per_kg);
+    m.u_rh_fraction = std::max(m.u_rh_fraction, p.u_rh_fraction);
+    for (CommonPart& part : m.common) {
+      part.moisture_kg_per_kg *= c / (c + 1.0);
+      part.rh_fraction *= c / (c + 1.0);
+    }
+    for (CommonPart part : p.common) {
+      part.moisture_kg_per_kg /= c + 1.0;
+      part.rh_fraction /= c + 1.0;
+      m.common.push_back(part);
+    }
+    count.back() += 1.0;
+  }
+  return merged;
+}
+
+// Nodes of the steps from samples ascending in RH: the RH of the smallest radius (moisture
+// interpolated linearly in RH), the samples above it, up to rh_max (interpolated).
+std::vector<Sample> BuildNodes(const std::vector<Sample>& sorted, double rh_min, double rh_max) {
+  std::vector<Sample> nodes;
+  auto interpolate = [&](std::size_t j, double rh) {
+    const Sample& a = sorted[j - 1];
+    const Sample& b = sorted[j];
+    const double span = b.rh - a.rh;
+    const double w = span > 0.0 ? (rh - a.rh) / span : 1.0;
+    return Sample{rh, a.u + w * (b.u - a.u)};
+  };
+  for (std::size_t j = 0; j < sorted.size(); ++j) {
+    const double rh_j = sorted[j].rh;
+    if (rh_j < rh_min) continue;
+    if (nodes.empty() && j > 0 && rh_j > rh_min) nodes.push_back(interpolate(j, rh_min));
+    if (rh_j > rh_max) {
+      if (j > 0 && sorted[j - 1].rh < rh_max) nodes.push_back(interpolate(j, rh_max));
+      break;
+    }
+    nodes.push_back(sorted[j]);
+  }
+  return nodes;
+}
+
+// Log radius and cumulative film-corrected pore volume (from the lowest node) of a set of
+// nodes; negative increments carried.
+struct Profile {
+  std::vector<double> log_r;
+  std::vector<double> cumulative;
+  GridVolumes volumes;
+};
+void MakeProfile(const std::vector<Sample>& nodes, const PoreRadiusMap& map, double rho,
+                 Profile* p) {
+  const std::size_t n = nodes.size();
+  std::vector<double> radius(n), t(n), u(n);
+  p->log_r.resize(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    t[i] = map.FilmThickness_m(nodes[i].rh);
+    radius[i] = map.KelvinRadius_m(nodes[i].rh) + t[i];
+    u[i] = nodes[i].u;
+    p->log_r[i] = std::log10(radius[i]);
+  }
+  FilmCorrectedVolumes(MakeStepGeometry(radius, t, rho), u, &p->volumes, false);
+  p->cumulative.assign(n, 0.0);
+  for (std::size_t i = 1; i < n; ++i) {
+    p->cumulative[i] = p->cumulative[i - 1] + p->volumes.interval_volume_m3_per_kg[i - 1];
+  }
+}
+
+// The profile's cumulative volume at x = log10 r: linear between its nodes, continued beyond
+// them with the given densities (the nominal end steps': a draw's own end step can be very
+// narrow when two drawn humidities come close, and its slope then meaningless).
+double CumulativeAt(const Profile& p, double x, double slope_low, double slope_high) {
+  const std::size_t n = p.log_r.size();
+  if (x <= p.log_r[0]) return p.cumulative[0] + slope_low * (x - p.log_r[0]);
+  if (x >= p.log_r[n - 1]) return p.cumulative[n - 1] + slope_high * (x - p.log_r[n - 1]);
+  const std::size_t k = static_cast<std::size_t>(
+                            std::upper_bound(p.log_r.begin(), p.log_r.end(), x) - p.log_r.begin()) -
+                        1;
+  const double x0 = p.log_r[k];
+  const double x1 = p.log_r[k + 1];
+  if (!(x1 > x0)) return p.cumulative[k + 1];
+  return p.cumulative[k] + (p.cumulative[k + 1] - p.cumulative[k]) * (x - x0) / (x1 - x0);
+}
+
+// Draws the points: independent parts per point, common parts once for all.
+class PointSampler {
+ public:
+  PointSampler(const std::vector<MeasuredPoint>& points, std::size_t num_sources,
+               std::uint64_t seed)
+      : points_(points), z_common_(num_sources), normal_(seed) {
+    for (const MeasuredPoint& p : points) {
+      double common_u2 = 0.0;
+      double common_rh2 = 0.0;
+      for (const CommonPart& part : p.common) {
+        common_u2 += part.moisture_kg_per_kg * part.moisture_kg_per_kg;
+        common_rh2 += part.rh_fraction * part.rh_fraction;
+      }
+      independent_u_.push_back(
+          std::sqrt(std::max(0.0, p.u_moisture_kg_per_kg * p.u_moisture_kg_per_kg - common_u2)));
+      independent_rh_.push_back(
+          std::sqrt(std::max(0.0, p.u_rh_fraction * p.u_rh_fraction - common_rh2)));
+    }
+  }
+  bool any_uncertainty() const {
+    for (std::size_t i = 0; i < points_.size(); ++i) {
+      if (independent_u_[i] > 0.0 || independent_rh_[i] > 0.0 || !points_[i].common.empty()) {
+        return true;
+      }
+    }
+    return false;
+  }
+  // One draw of every point, ascending in RH.
+  void Draw(std::vector<Sample>* out) {
+    for (double& z : z_common_) z = normal_.Normal();
+    out->resize(points_.size());
+    for (std::size_t i = 0; i < points_.size(); ++i) {
+      const MeasuredPoint& p = points_[i];
+      double rh_shift = 0.0;
+      double u = p.moisture_kg_per_kg + independent_u_[i] * normal_.Normal();
+      for (const CommonPart& part : p.common) {
+        const double z = z_common_[static_cast<std::size_t>(part.source)];
+        rh_shift += part.rh_fraction * z;
+        u += part.moisture_kg_per_kg * z;
+      }
+      double rh = p.rh_fraction + rh_shift + independent_rh_[i] * normal_.Normal();
+      for (int k = 0; k < kMaxRhRedraws && !(rh > 0.0 && rh < 1.0); ++k) {
+        rh = p.rh_fraction + rh_shift + independent_rh_[i] * normal_.Normal();
+      }
+      (*out)[i] = Sample{std::clamp(rh, kRhInsideBound, 1.0 - kRhInsideBound), u};
+    }
+    std::sort(out->begin(), out->end(),
+              [](const Sample& a, const Sample& b) { return a.rh < b.rh; });
+  }
+
+ private:
+  const std::vector<MeasuredPoint>& points_;
+  std::vector<double> independent_u_;
+  std::vector<double> independent_rh_;
+  std::vector<double> z_common_;
+  NormalSource normal_;
+};
+
+// Step increments of every draw on the nominal nodes, step-major: [step * num_draws + draw].
+struct StepDraws {
+  std::size_t num_steps = 0;
+  std::size_t num_draws = 0;
+  std::vector<double> increment;
+  double at(std::size_t step, std::size_t draw) const { return increment[step * num_draws + draw]; }
+};
+
+StepDraws DrawSteps(const std::vector<MeasuredPoint>& merged, std::size_t num_sources,
+                    const Profile& nominal, double rh_min, double rh_max, const PoreRadiusMap& map,
+                    double rho, const PoreOptions& options) {
+  const std::vector<double>& nominal_log_r = nominal.log_r;
+  StepDraws out;
+  out.num_steps = nominal_log_r.size() - 1;
+  const std::size_t last = out.num_steps - 1;
+  const double slope_low =
+      nominal.volumes.interval_volume_m3_per_kg[0] / (nominal_log_r[1] - nominal_log_r[0]);
+  const double slope_high = nominal.volumes.interval_volume_m3_per_kg[last] /
+                            (nominal_log_r[last + 1] - nominal_log_r[last]);
+  PointSampler sampler(merged, num_sources, options.seed);
+  if (!sampler.any_uncertainty() || options.band_draws <= 0) return out;
+  std::vector<std::vector<double>> by_draw;
+  std::vector<Sample> samples;
+  Profile profile;
+  for (int k = 0; k < options.band_draws; ++k) {
+    sampler.Draw(&samples);
+    const std::vector<Sample> nodes = BuildNodes(samples, rh_min, rh_max);
+    if (nodes.size() < 2) continue;
+    MakeProfile(nodes, map, rho, &profile);
+    std::vector<double> steps(out.num_steps);
+    double below = CumulativeAt(profile, nominal_log_r[0], slope_low, slope_high);
+    for (std::size_t s = 0; s < out.num_steps; ++s) {
+      const double above = CumulativeAt(profile, nominal_log_r[s + 1], slope_low, slope_high);
+      steps[s] = above - below;
+      below = above;
+    }
+    by_draw.push_back(std::move(steps));
+  }
+  out.num_draws = by_draw.size();
+  out.increment.resize(out.num_steps * out.num_draws);
+  for (std::size_t k = 0; k < out.num_draws; ++k) {
+    for (std::size_t s = 0; s < out.num_steps; ++s)
+      out.increment[s * out.num_draws + k] = by_draw[k][s];
+  }
+  return out;
+}
+
+// A bar of the histogram: steps [first, last] merged.
+struct Block {
+  std::size_t first = 0;
+  std::size_t last = 0;
+};
+
+class Blocks {
+ public:
+  Blocks(const std::vector<double>& log_r, const std::vector<double>& increment,
+         const StepDraws& draws, double confidence_level)
+      : log_r_(log_r), increment_(increment), draws_(draws), tail_(0.5 * (1.0 - confidence_level)) {
+    for (std::size_t s = 0; s < increment.size(); ++s) blocks_.push_back({s, s});
+  }
+  const std::vector<Block>& blocks() const { return blocks_; }
+  double Width(std::size_t b) const {
+    return log_r_[blocks_[b].last + 1] - log_r_[blocks_[b].first];
+  }
+  double Volume(std::size_t b) const {
+    double v = 0.0;
+    for (std::size_t s = blocks_[b].first; s <= blocks_[b].last; ++s) v += increment_[s];
+    return v;
+  }
+  double DrawVolume(std::size_t b, std::size_t k) const {
+    double v = 0.0;
+    for (std::size_t s = blocks_[b].first; s <= blocks_[b].last; ++s) v += draws_.at(s, k);
+    return v;
+  }
+  // Percentile interval of the block's volume excludes 0; |z| = |V| / sd for the order.
+  bool Significant(std::size_t b, double* z) const {
+    column_.resize(draws_.num_draws);
+    for (std::size_t k = 0; k < draws_.num_draws; ++k) column_[k] = DrawVolume(b, k);
+    const double sd = StandardDeviation(column_);
+    *z = sd > 0.0 ? std::abs(Volume(b)) / sd : std::numeric_limits<double>::infinity();
+    double low = 0.0;
+    double high = 0.0;
+    QuantilePair(column_, tail_, 1.0 - tail_, &low, &high);
+    return low > 0.0 || high < 0.0;
+  }
+  // Percentile interval of the difference of the two blocks' densities excludes 0; *z as above.
+  bool Distinguishable(std::size_t a, std::size_t b, double* z) const {
+    column_.resize(draws_.num_draws);
+    const double wa = Width(a);
+    const double wb = Width(b);
+    for (std::size_t k = 0; k < draws_.num_draws; ++k) {
+      column_[k] = DrawVolume(a, k) / wa - DrawVolume(b, k) / wb;
+    }
+    const double sd = StandardDeviation(column_);
+    const double difference = Volume(a) / wa - Volume(b) / wb;
+    *z = sd > 0.0 ? std::abs(difference) / sd : std::numeric_limits<double>::infinity();
+    double low = 0.0;
+    double high = 0.0;
+    QuantilePair(column_, tail_, 1.0 - tail_, &low, &high);
+    return low > 0.0 || high < 0.0;
+  }
+  // One merge (distribution.h, part 3); false when none is left to do.
+  bool MergeOnce() {
+    std::vector<std::pair<double, std::size_t>> candidates;
+    for (std::size_t b = 0; b < blocks_.size(); ++b) {
+      double z = 0.0;
+      if (!Significant(b, &z)) candidates.emplace_back(z, b);
+    }
+    std::sort(candidates.begin(), candidates.end());
+    for (const auto& [z_block, b] : candidates) {
+      std::size_t partner = blocks_.size();
+      double best_z = std::numeric_limits<double>::infinity();
+      for (std::size_t n : {b - 1, b + 1}) {  // b - 1 wraps to SIZE_MAX for b = 0
+        if (n >= blocks_.size()) continue;
+        double z = 0.0;
+        if (!Distinguishable(b, n, &z) && z < best_z) {
+          best_z = z;
+          partner = n;
+        }
+      }
+      if (partner == blocks_.size()) continue;
+      Merge(std::min(b, partner));
+      return true;
+    }
+    // Then the pair of neighbouring bars least distinguishable, if not distinguishable.
+    std::size_t pair = blocks_.size();
+    double best_z = std::numeric_limits<double>::infinity();
+    for (std::size_t b = 0; b + 1 < blocks_.size(); ++b) {
+      double z = 0.0;
+      if (!Distinguishable(b, b + 1, &z) && z < best_z) {
+        best_z = z;
+        pair = b;
+      }
+    }
+    if (pair == blocks_.size()) return false;
+    Merge(pair);
+    return true;
+  }
+
+ private:
+  void Merge(std::size_t left) {
+    blocks_[left].last = blocks_[left + 1].last;
+    blocks_.erase(blocks_.begin() + static_cast<std::ptrdiff_t>(left + 1));
+  }
+
+  const std::vector<double>& log_r_;
+  const std::vector<double>& increment_;
+  const StepDraws& draws_;
+  double tail_;
+  std::vector<Block> blocks_;
+  mutable std::vector<double> column_;
+};
+
+void StepwiseAssumptions(std::size_t num_steps, std::size_t num_blocks, int negative_steps,
+                         const StepDraws& draws, const std::vector<std::string>& common_sources,
+                         const PoreOptions& options, PoreDistribution* d) {
+  d->assumptions.emplace_back(
+      "stepwise from the measured points, high RH down, each step corrected for the thinning "
+      "film in pores emptied before (Barrett, Joyner & Halenda 1951); negative step volumes "
+      "are carried, not set to 0");
+  if (draws.num_draws == 0) {
+    d->assumptions.emplace_back("no uncertainty stated for the points: no band, steps not merged");
+    return;
+  }
+  d->assumptions.push_back(fmt::format(
+      "band and uncertainties: {} Monte Carlo draws (JCGM 101) of every point's RH and moisture "
+      "content from their standard uncertainties{}; {:g} % percentile band",
+      draws.num_draws,
+      common_sources.empty() ? std::string()
+                             : fmt::format(", {} shared part(s) drawn once per draw for all points",
+                                           common_sources.size()),
+      100.0 * options.band_confidence_level));
+  d->assumptions.push_back(fmt::format(
+      "{} measured steps shown as {} bars: a step whose volume is not significant at {:g} % is "
+      "merged with the neighbour whose density it cannot be told from",
+      num_steps, num_blocks, 100.0 * options.band_confidence_level));
+  if (negative_steps > 0) {
+    d->assumptions.push_back(fmt::format(
+        "{} steps gave a negative pore volume (scatter, or film thinning larger than the step), "
+        "carried as measured",
+        negative_steps));
+  }
+}
+
+}  // namespace
+
+PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& points,
+                                          ingest::Branch branch, const PoreRadiusMap& map,
+                                          const PoreOptions& options,
+                                          const std::vector<std::string>& common_sources) {
+  PoreDistribution d;
+  d.method = "stepwise";
+  d.branch = branch;
+  d.temperature_K = map.temperature_K();
+  d.meniscus = map.meniscus();
+  d.film_description = map.film().description;
+  d.band_source = "none";
+  CommonAssumptions(map, branch, options, &d);
+
+  const std::vector<MeasuredPoint> merged = SortedMerged(points);
+  const double rh_min = map.RhForPoreRadius(options.min_radius_m);
+  const double rh_max = options.max_radius_m > 0.0 ? map.RhForPoreRadius(options.max_radius_m)
+                                                   : std::numeric_limits<double>::infinity();
+  std::vector<Sample> nominal_samples;
+  for (const MeasuredPoint& p : merged)
+    nominal_samples.push_back({p.rh_fraction, p.moisture_kg_per_kg});
+  const std::vector<Sample> nodes = BuildNodes(nominal_samples, rh_min, rh_max);
+  if (nodes.size() < 2) {
+    d.assumptions.emplace_back(
+        "fewer than two measured points above the smallest radius: nothing resolved");
+    return d;
+  }
+  const double rho = physics::LiquidWaterDensity_kg_per_m3(map.temperature_K());
+  Profile nominal;
+  MakeProfile(nodes, map, rho, &nominal);
+  const std::vector<double>& log_r = nominal.log_r;
+  const std::vector<double>& increment = nominal.volumes.interval_volume_m3_per_kg;
+  const std::size_t num_steps = increment.size();
+  d.resolved_radius_min_m = std::pow(10.0, log_r.front());
+  d.resolved_radius_max_m = std::pow(10.0, log_r.back());
+  d.total_resolved_volume_m3_per_kg = nominal.volumes.total_m3_per_kg;
+  d.adsorbed_volume_m3_per_kg = nominal.volumes.adsorbed_m3_per_kg;
+  d.negative_steps_carried = nominal.volumes.negative_steps;
+
+  const StepDraws draws =
+      DrawSteps(merged, common_sources.size(), nominal, rh_min, rh_max, map, rho, options);
+  Blocks blocks(log_r, increment, draws, options.band_confidence_level);
+  if (draws.num_draws > 0) {
+    while (blocks.MergeOnce()) {
+    }
+    d.band_source = "measurement uncertainty";
+    d.band_draws_used = static_cast<int>(draws.num_draws);
+  }
+  const std::size_t nb = blocks.blocks().size();
+
+  // Bars: nominal, and per draw (bar-major).
+  std::vector<double> edges(nb + 1), volume(nb), width(nb), mid(nb), density(nb);
+  std::vector<double> draw_volume(nb * draws.num_draws);
+  for (std::size_t b = 0; b < nb; ++b) {
+    edges[b] = log_r[blocks.blocks()[b].first];
+    width[b] = blocks.Width(b);
+    mid[b] = edges[b] + 0.5 * width[b];
+    volume[b] = blocks.Volume(b);
+    density[b] = volume[b] / width[b];
+    for (std::size_t k = 0; k < draws.num_draws; ++k) {
+      draw_volume[b * draws.num_draws + k] = blocks.DrawVolume(b, k);
+    }
+  }
+  edges[nb] = log_r.back();
+
+  // Per draw: the bars' densities and cumulative volumes (band), the total and the decade
+  // fractions, these from the measured steps (not the bars: a wide bar spread uniformly over a
+  // decade boundary would move volume across it).
+  std::vector<double> draw_total(draws.num_draws, 0.0);
+  std::vector<double> draw_density(nb * draws.num_draws);
+  std::vector<double> draw_cumulative(nb * draws.num_draws);
+  std::vector<std::vector<DecadeFraction>> draw_decades;
+  std::vector<double> step_volumes(num_steps);
+  for (std::size_t k = 0; k < draws.num_draws; ++k) {
+    double below = 0.0;
+    for (std::size_t b = 0; b < nb; ++b) {
+      const double v = draw_volume[b * draws.num_draws + k];
+      draw_density[b * draws.num_draws + k] = v / width[b];
+      draw_cumulative[b * draws.num_draws + k] = below + 0.5 * v;
+      below += v;
+    }
+    draw_total[k] = below;
+    for (std::size_t st = 0; st < num_steps; ++st) step_volumes[st] = draws.at(st, k);
+    draw_decades.push_back(DecadeFractions(log_r, step_volumes, below));
+  }
+  d.u_total_resolved_volume_m3_per_kg = StandardDeviation(draw_total);
+
+  const double tail = 0.5 * (1.0 - options.band_confidence_level);
+  QuantileScratch scratch;
+  d.points.resize(nb);
+  double below = 0.0;
+  for (std::size_t b = 0; b < nb; ++b) {
+    PoreDistributionPoint& p = d.points[b];
+    p.radius_m = std::pow(10.0, mid[b]);
+    p.rh_fraction = map.RhForPoreRadius(p.radius_m);
+    p.kelvin_radius_m = map.KelvinRadius_m(p.rh_fraction);
+    p.film_thickness_m = map.FilmThickness_m(p.rh_fraction);
+    p.cumulative_volume_m3_per_kg = below + 0.5 * volume[b];
+    below += volume[b];
+    p.dv_dlogr_m3_per_kg = density[b];
+    if (draws.num_draws == 0) {
+      p.cumulative_low_m3_per_kg = p.cumulative_high_m3_per_kg = p.cumulative_volume_m3_per_kg;
+      p.dv_dlogr_low_m3_per_kg = p.dv_dlogr_high_m3_per_kg = density[b];
+      continue;
+    }
+    const std::size_t at = b * draws.num_draws;
+    QuantilePairOf(draw_density.data() + at, draws.num_draws, tail, 1.0 - tail, &scratch,
+                   &p.dv_dlogr_low_m3_per_kg, &p.dv_dlogr_high_m3_per_kg);
+    QuantilePairOf(draw_cumulative.data() + at, draws.num_draws, tail, 1.0 - tail, &scratch,
+                   &p.cumulative_low_m3_per_kg, &p.cumulative_high_m3_per_kg);
+  }
+
+  std::vector<double> band_low(nb), band_high(nb);
+  for (std::size_t b = 0; b < nb; ++b) {
+    band_low[b] = d.points[b].dv_dlogr_low_m3_per_kg;
+    band_high[b] = d.points[b].dv_dlogr_high_m3_per_kg;
+  }
+  DrawTable table;
+  table.num_draws = draws.num_draws;
+  table.value = [&](std::size_t k, std::size_t i) { return draw_density[i * draws.num_draws + k]; };
+  // Each bar is a measured step or a merged block: only the outermost bars are edges.
+  constexpr std::size_t kStepEdgeNodes = 1;
+  d.modes =
+      ResolvedModes(mid, density, band_low, band_high, table, kStepEdgeNodes, &width, options);
+  d.decades = DecadeFractions(log_r, increment, d.total_resolved_volume_m3_per_kg);
+  DecadeUncertainties(draw_decades, &d.decades);
+
+  // The measured steps, each with its bar.
+  std::vector<double> column(draws.num_draws);
+  for (std::size_t b = 0; b < nb; ++b) {
+    double z = 0.0;
+    const bool significant = draws.num_draws > 0 && blocks.Significant(b, &z);
+    for (std::size_t s = blocks.blocks()[b].first; s <= blocks.blocks()[b].last; ++s) {
+      PoreStep step;
+      step.radius_low_m = std::pow(10.0, log_r[s]);
+      step.radius_high_m = std::pow(10.0, log_r[s + 1]);
+      step.rh_low_fraction = nodes[s].rh;
+      step.rh_high_fraction = nodes[s + 1].rh;
+      step.volume_m3_per_kg = increment[s];
+      for (std::size_t k = 0; k < draws.num_draws; ++k) column[k] = draws.at(s, k);
+      step.u_volume_m3_per_kg = StandardDeviation(column);
+      step.bar = static_cast<int>(b);
+      step.bar_significant = significant;
+      d.steps.push_back(step);
+    }
+  }
+  StepwiseAssumptions(num_steps, nb, d.negative_steps_carried, draws, common_sources, options, &d);
+  d.assumptions.push_back(fmt::format("{} measured steps between {:.3g} nm and {:.3g} nm",
+                                      num_steps, d.resolved_radius_min_m / kNm,
+                                      d.resolved_radius_max_m / kNm));
+  return d;
+}
+
+}  // namespace sorbtrace::pores::internal

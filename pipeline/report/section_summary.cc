@@ -1,0 +1,153 @@
+// The summary section (the job's facts, the headline results, the cautions, the
+// signatories; in the one-page summary also a small isotherm figure) and the cautions
+// section.
+#include <fmt/format.h>
+
+#include <set>
+#include <utility>
+
+#include "pipeline/report/format.h"
+#include "pipeline/report/sections.h"
+
+namespace sorbtrace::report::internal {
+namespace {
+
+// Cautions listed on the summary page; longer lists are completed in results.json and in
+// the cautions section (common practice: a summary page stays one page).
+constexpr size_t kMaxSummaryCautions = 12;
+constexpr size_t kMaxCompactSummaryCautions = 4;
+
+std::string MethodText(const ingest::IngestResult& ingested) {
+  std::set<std::string> methods;
+  for (const ingest::DataSetSpec& d : ingested.job.datasets) {
+    methods.insert(d.method == ingest::Method::kDesiccator
+                       ? "desiccator series over saturated salt solutions"
+                       : "dynamic vapour sorption (continuous mass log)");
+  }
+  std::string out;
+  for (const std::string& m : methods) out += (out.empty() ? "" : "; ") + m;
+  return out;
+}
+
+FactsBlock JobFacts(const SectionContext& ctx) {
+  FactsBlock facts;
+  if (ctx.inputs.ingested == nullptr) return facts;
+  auto& rows = facts.rows;
+  const ingest::JobSpec& job = ctx.inputs.ingested->job;
+  rows.emplace_back("Material", PrintedField(job.material_name));
+  if (!job.material_description.empty())
+    rows.emplace_back("Description", PrintedField(job.material_description));
+  if (!job.client.empty()) rows.emplace_back("Client", PrintedField(job.client));
+  std::string specimens;
+  for (const ingest::SpecimenSpec& s : job.specimens) {
+    specimens += (specimens.empty() ? "" : ", ") + s.id;
+  }
+  rows.emplace_back("Specimens",
+                    fmt::format("{} ({})", job.specimens.size(), PrintedField(specimens)));
+  rows.emplace_back("Method", MethodText(*ctx.inputs.ingested));
+  std::string temperatures;
+  for (double t : DistinctTemperatures(ctx.inputs)) {
+    temperatures += (temperatures.empty() ? "" : ", ") + TemperatureLabel(t);
+  }
+  if (!temperatures.empty()) rows.emplace_back("Temperature", temperatures);
+  if (!job.test_dates.empty()) rows.emplace_back("Test dates", PrintedField(job.test_dates));
+  rows.emplace_back("Issued", job.issue_date.empty() ? ctx.options.document_date : job.issue_date);
+  return facts;
+}
+
+// The headline results; the one-page summary prints each best model's parameters on one row.
+TableBlock ResultsTable(const SectionContext& ctx, bool compact) {
+  TableBlock table;
+  table.name = "summary_results";
+  table.columns = {{"Quantity", compact ? 0.45 : 0.60, false},
+                   {"Value ± U", compact ? 0.55 : 0.40, false}};
+  table.size_pt = compact ? 7.5 : 8.0;
+  for (const Quantity& q : ctx.sheet.headline) {
+    if (compact && q.key.rfind("best_", 0) == 0) continue;
+    table.rows.push_back({{q.label, ""}, {q.text, q.key}});
+  }
+  table.rows.push_back({{"Hygroscopicity class (Ph. Eur. 5.11)", ""},
+                        {ctx.sheet.hygroscopicity_class, "hygroscopicity_class"}});
+  if (compact && ctx.inputs.fits != nullptr) {
+    for (int best : ctx.inputs.fits->best_fit_per_group) {
+      if (best < 0 || static_cast<size_t>(best) >= ctx.sheet.models.size()) continue;
+      const ModelRow& row = ctx.sheet.models[static_cast<size_t>(best)];
+      std::string text;
+      for (const Quantity& q : row.parameters) {
+        text += (text.empty() ? "" : ";  ") + q.label + " = " + q.text;
+      }
+      table.rows.push_back(
+          {{"Best model, " + row.group_label + ": " + row.model_title, ""}, {text, ""}});
+    }
+  } else {
+    table.rows.push_back(
+        {{"Best model (lowest AICc)", ""},
+         {ctx.sheet.best_model_text.empty() ? "none converged" : ctx.sheet.best_model_text,
+          "best_model"}});
+  }
+  return table;
+}
+
+// Where the summary sends the reader for the conditions of use: the Cautions section as
+// numbered by the template, or the standing cautions themselves when the sheet has none.
+std::string ConditionsOfUse(const Sheet& sheet) {
+  const int cautions = sheet.SectionNumber("cautions");
+  if (cautions > 0) {
+    return fmt::format("See section {} for the conditions of use of these results.", cautions);
+  }
+  std::string all;
+  for (const std::string& c : sheet.standing_cautions) all += (all.empty() ? "" : " ") + c;
+  return all;
+}
+
+BulletsBlock SummaryCautions(const Sheet& sheet, bool compact) {
+  std::vector<std::string> cautions = sheet.cautions;
+  const size_t limit = compact ? kMaxCompactSummaryCautions : kMaxSummaryCautions;
+  if (cautions.size() > limit) {
+    const size_t more = cautions.size() - (limit - 1);
+    cautions.resize(limit - 1);
+    cautions.push_back(fmt::format("… and {} further notes (results.json, \"cautions\").", more));
+  }
+  if (cautions.empty()) cautions.emplace_back("No measurement or fitting cautions were raised.");
+  cautions.push_back(compact ? sheet.standing_cautions[0] + " " + sheet.standing_cautions[1]
+                             : ConditionsOfUse(sheet));
+  return {cautions, 8.0};
+}
+
+FigureBlock SummaryFigure(const SectionContext& ctx) {
+  FigureBlock block;
+  block.name = "summary_isotherm";
+  block.description =
+      "Sorption isotherm: measured moisture content against relative humidity with expanded "
+      "uncertainties and the best fitted model of each branch with its confidence band.";
+  plot::Figure fig = IsothermFigure(ctx, false);
+  fig.font_size_pt = 7.0;
+  block.panels = {std::move(fig)};
+  block.heights_pt = {260.0};
+  block.arrangement = FigureArrangement::kFillPage;
+  return block;
+}
+
+}  // namespace
+
+void BuildSummarySection(const SectionContext& ctx, bool compact, Section& section) {
+  section.blocks.emplace_back(JobFacts(ctx));
+  section.blocks.emplace_back(SubheadingBlock{fmt::format(
+      "Results (expanded uncertainty U, k = {})", CoverageText(ctx.sheet.rules.coverage_factor))});
+  section.blocks.emplace_back(ResultsTable(ctx, compact));
+  if (compact) section.blocks.emplace_back(SummaryFigure(ctx));
+  section.blocks.emplace_back(SubheadingBlock{"Cautions"});
+  section.blocks.emplace_back(SummaryCautions(ctx.sheet, compact));
+  if (!ctx.layout.signatories.empty()) {
+    section.blocks.emplace_back(SignaturesBlock{ctx.layout.signatories, ctx.layout.accreditation});
+  }
+}
+
+void BuildCautionsSection(const SectionContext& ctx, Section& section) {
+  section.blocks.emplace_back(BulletsBlock{ctx.sheet.standing_cautions, 8.5});
+  if (ctx.sheet.cautions.empty()) return;
+  section.blocks.emplace_back(SubheadingBlock{"Notes on this data set"});
+  section.blocks.emplace_back(BulletsBlock{ctx.sheet.cautions, 8.0});
+}
+
+}  // namespace sorbtrace::report::internal

@@ -1,0 +1,44 @@
+// The section builders of the Sheet (internal to the report stage): one function per
+// template section key, each filling a Section with blocks from the stage results. Only
+// BuildSheet (sheet.cc) calls them; nothing here draws or lays out a page.
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "pipeline/report/sheet.h"
+
+namespace sorbtrace::report::internal {
+
+// What a builder reads: the stage results, the template, the options and the parts of the
+// sheet built before the sections (quantities, model rows, cautions).
+struct SectionContext {
+  const ReportInputs& inputs;
+  const Template& layout;
+  const ReportOptions& options;
+  const Sheet& sheet;
+  // 1 kg/kg = 100 % (mass percent, dry basis).
+  double moisture_scale() const { return sheet.rules.moisture_in_percent ? 100.0 : 1.0; }
+};
+
+// One builder per section key ("summary", "isotherm", "models", "pores", "kinetics",
+// "equilibria", "method", "cautions"); compact: the one-page summary.
+void BuildSummarySection(const SectionContext& ctx, bool compact, Section& section);
+void BuildIsothermSection(const SectionContext& ctx, Section& section);
+void BuildModelsSection(const SectionContext& ctx, Section& section);
+void BuildPoresSection(const SectionContext& ctx, Section& section);
+void BuildKineticsSection(const SectionContext& ctx, Section& section);
+void BuildEquilibriaSection(const SectionContext& ctx, Section& section);
+void BuildMethodSection(const SectionContext& ctx, Section& section);
+void BuildCautionsSection(const SectionContext& ctx, Section& section);
+
+// The isotherm figure (best fits with their bands, measured points with U, retention
+// points; with_secondary: capillary pressure along the top).
+plot::Figure IsothermFigure(const SectionContext& ctx, bool with_secondary);
+// The distinct measurement temperatures of the reduced points [K], ascending.
+std::vector<double> DistinctTemperatures(const ReportInputs& inputs);
+
+// "not available: <reason>", unless the reason says so already.
+std::string NotAvailable(const std::string& reason);
+
+}  // namespace sorbtrace::report::internal
