@@ -180,8 +180,24 @@ enum class ResampleKind {
   kMonteCarloInputs,   // JCGM 101: draw y (and x) from their stated uncertainties
 };
 
+// A relative factor (1 + z) that several observations share, z ~ N(0, u^2) drawn once per
+// resample and applied to every observation it acts on: y_i -> y_i (1 + w_i z) (a correlated
+// input, JCGM 100:2008 F.1.2.3; JCGM 101:2008, clause 7, draws one value of every input quantity
+// per trial, so a quantity shared by several points is drawn once; clause numbers from memory).
+// The residuals do not show it (it moves every point alike, and
+// the fit absorbs it), so the bootstraps draw it too, as a parametric component. Used by the
+// fit stage for the specimen term (pipeline/reduce/reduce.h); none = no extra draws.
+struct CommonFactor {
+  double relative_standard_uncertainty = 0.0;  // u of z
+  std::vector<double> weights;                 // w_i, one per observation (0: not affected)
+};
+
 struct ResampleOptions {
   ResampleKind kind = ResampleKind::kResidualBootstrap;
+  // Drawn at the start of each resample, in this order, before its per-point draws; applied to
+  // f(t_i) in the residual bootstrap, to y of the drawn case in the case bootstrap and to y_i in
+  // the Monte Carlo draw. Empty: the draws are those without common factors, number for number.
+  std::vector<CommonFactor> common_factors;
   int num_resamples = 1000;
   std::uint64_t seed = 20261201;  // results are a pure function of the inputs and this value
   double confidence_level = 0.95;

@@ -306,14 +306,29 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   std::vector<std::vector<double>> pivots(studentize_ok ? pp : 0);
   std::vector<double> x0_start(n);
   std::vector<std::size_t> source(n);
+  // Relative shift sum_k w_ik z_k of each observation in this resample (common factors).
+  const bool common = std::any_of(
+      options.common_factors.begin(), options.common_factors.end(), [n](const CommonFactor& f) {
+        return f.weights.size() == n && f.relative_standard_uncertainty > 0.0;
+      });
+  std::vector<double> shift(n, 0.0);
   for (int b = 0; b < num_resamples; ++b) {
+    if (common) {
+      std::fill(shift.begin(), shift.end(), 0.0);
+      for (const CommonFactor& factor : options.common_factors) {
+        if (factor.weights.size() != n || !(factor.relative_standard_uncertainty > 0.0)) continue;
+        const double z = factor.relative_standard_uncertainty * random.Normal();
+        for (std::size_t i = 0; i < n; ++i) shift[i] += factor.weights[i] * z;
+      }
+    }
     std::vector<Observation>& data = workspace.data();
     switch (options.kind) {
       case ResampleKind::kResidualBootstrap:
         for (std::size_t i = 0; i < n; ++i) {
           data[i] = observations[i];
           const double e = pool.residual[random.Index(n)];
-          drawn_y[i] = e * pool.normal_y[i];
+          drawn_y[i] =
+              e * pool.normal_y[i] + full_fit.fitted[i] * shift[i] / observations[i].sigma_y;
           drawn_x[i] = e * pool.normal_x[i];
           data[i].y = full_fit.fitted[i] + observations[i].sigma_y * drawn_y[i];
           if (pool.normal_x[i] != 0.0) {
@@ -330,13 +345,14 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
         for (std::size_t i = 0; i < n; ++i) {
           source[i] = random.Index(n);
           data[i] = observations[source[i]];
+          data[i].y *= 1.0 + shift[source[i]];
           x0_start[i] = full_fit.fitted_x0[source[i]];
         }
         break;
       case ResampleKind::kMonteCarloInputs:
         for (std::size_t i = 0; i < n; ++i) {
           data[i] = observations[i];
-          data[i].y += s * observations[i].sigma_y * random.Normal();
+          data[i].y += observations[i].y * shift[i] + s * observations[i].sigma_y * random.Normal();
           if (observations[i].sigma_x0 > 0.0) {
             data[i].x[0] += s * observations[i].sigma_x0 * random.Normal();
           }

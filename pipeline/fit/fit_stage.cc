@@ -5,6 +5,7 @@
 #include <fmt/format.h>
 #include <fmt/ranges.h>
 
+#include <Eigen/Core>
 #include <algorithm>
 #include <cmath>
 #include <exception>
@@ -108,6 +109,125 @@ std::vector<ConsistencyCheck> BetConsistency(const fitters::FitResult& result,
   return checks;
 }
 
+// The group's specimen factors restricted to a model's observations (weights re-indexed);
+// factors that act on none of them are left out.
+std::vector<SpecimenFactor> FactorsOf(const FitGroup& group, const std::vector<int>& used) {
+  std::vector<SpecimenFactor> factors;
+  for (const SpecimenFactor& factor : group.specimen_factors) {
+    SpecimenFactor restricted = factor;
+    restricted.weights.clear();
+    bool acts = false;
+    for (const int i : used) {
+      const double w = factor.weights[static_cast<std::size_t>(i)];
+      restricted.weights.push_back(w);
+      acts = acts || w != 0.0;
+    }
+    if (acts && factor.relative_standard_uncertainty > 0.0)
+      factors.push_back(std::move(restricted));
+  }
+  return factors;
+}
+
+// Welch-Satterthwaite (JCGM 100:2008, G.2b) over the independent variance (nu_ind) and the
+// specimen factors' contributions c_k (nu_k): u^4 / sum (c^4 / nu).
+double EffectiveDof(double independent_variance, double independent_dof,
+                    const std::vector<double>& contributions,
+                    const std::vector<SpecimenSensitivity>& sensitivities) {
+  double total = std::max(0.0, independent_variance);
+  double denominator = 0.0;
+  if (std::isfinite(independent_dof) && independent_dof > 0.0) {
+    denominator += independent_variance * independent_variance / independent_dof;
+  }
+  for (std::size_t k = 0; k < contributions.size(); ++k) {
+    const double c2 = contributions[k] * contributions[k];
+    total += c2;
+    const double nu = sensitivities[k].degrees_of_freedom;
+    if (std::isfinite(nu) && nu > 0.0) denominator += c2 * c2 / nu;
+  }
+  if (!(denominator > 0.0) || !(total > 0.0)) return fitters::kInfinity;
+  return total * total / denominator;
+}
+
+// Sensitivity of the parameters to each specimen factor, by refits of the data with the factor
+// at +u and -u (fit_stage.h); adds u^2 s s' to the covariance and sets standard errors and
+// intervals. False (with the covariance left as the fit gave it) when a refit fails.
+bool ApplySpecimenTerm(const fitters::Model& model,
+                       const std::vector<fitters::Observation>& observations,
+                       const fitters::ModelContext& context, const fitters::FitOptions& fit_options,
+                       const std::vector<SpecimenFactor>& factors, ModelFit* fit) {
+  fitters::FitResult& result = fit->result;
+  const std::size_t p = result.parameters.size();
+  fitters::FitOptions refit = fit_options;
+  refit.starting_points = {result.parameters};
+  refit.num_multistarts = 0;
+  std::vector<SpecimenSensitivity> sensitivities;
+  for (const SpecimenFactor& factor : factors) {
+    const double h = factor.relative_standard_uncertainty;
+    std::vector<double> ends[2];
+    for (int side = 0; side < 2; ++side) {
+      std::vector<fitters::Observation> shifted = observations;
+      const double z = side == 0 ? h : -h;
+      for (std::size_t i = 0; i < shifted.size(); ++i) shifted[i].y *= 1.0 + factor.weights[i] * z;
+      fitters::FitResult moved;
+      try {
+        moved = fitters::FitModel(model, shifted, context, refit);
+      } catch (const std::exception&) {
+        return false;
+      }
+      if (!moved.ok() || moved.parameters.size() != p) return false;
+      ends[side] = moved.parameters;
+    }
+    SpecimenSensitivity sensitivity;
+    sensitivity.relative_standard_uncertainty = h;
+    sensitivity.degrees_of_freedom = factor.degrees_of_freedom;
+    for (std::size_t j = 0; j < p; ++j) {
+      sensitivity.parameter_sensitivity.push_back((ends[0][j] - ends[1][j]) / (2.0 * h));
+    }
+    sensitivities.push_back(std::move(sensitivity));
+  }
+  fit->covariance_independent = result.covariance;
+  fit->specimen_sensitivities = sensitivities;
+  for (const SpecimenSensitivity& s : sensitivities) {
+    const Eigen::Map<const Eigen::VectorXd> column(s.parameter_sensitivity.data(),
+                                                   static_cast<Eigen::Index>(p));
+    result.covariance += s.relative_standard_uncertainty * s.relative_standard_uncertainty *
+                         column * column.transpose();
+  }
+  for (std::size_t j = 0; j < p; ++j) {
+    const Eigen::Index jj = static_cast<Eigen::Index>(j);
+    result.estimates[j].standard_error = std::sqrt(std::max(0.0, result.covariance(jj, jj)));
+  }
+  for (Eigen::Index a = 0; a < result.correlation.rows(); ++a) {
+    for (Eigen::Index b = 0; b < result.correlation.cols(); ++b) {
+      const double d = std::sqrt(result.covariance(a, a) * result.covariance(b, b));
+      result.correlation(a, b) = d > 0.0 ? result.covariance(a, b) / d : 0.0;
+    }
+  }
+  return true;
+}
+
+// Per parameter: nu_eff, and the expanded uncertainty and Student-t interval from it.
+void SetCoverage(const FitStageOptions& options, double coverage_factor, ModelFit* fit) {
+  fitters::FitResult& result = fit->result;
+  const std::size_t p = result.estimates.size();
+  fit->expanded_uncertainty.clear();
+  fit->effective_dof.clear();
+  for (std::size_t j = 0; j < p; ++j) {
+    std::vector<double> gradient(p, 0.0);
+    gradient[j] = 1.0;
+    const DerivedUncertainty derived = PropagateToDerived(*fit, gradient, coverage_factor);
+    fitters::ParameterEstimate& estimate = result.estimates[j];
+    fit->effective_dof.push_back(derived.effective_dof);
+    fit->expanded_uncertainty.push_back(derived.coverage_factor * estimate.standard_error);
+    if (std::isfinite(derived.effective_dof) && std::isfinite(estimate.standard_error)) {
+      const double k = reduce::StudentTCoverageFactor(
+          std::max(1.0, std::floor(derived.effective_dof)), options.confidence_level);
+      estimate.interval_low = estimate.value - k * estimate.standard_error;
+      estimate.interval_high = estimate.value + k * estimate.standard_error;
+    }
+  }
+}
+
 // Fits one model to one group; never throws for a failed fit (flags say what went wrong).
 ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int group_index,
                      const FitStageOptions& options, double coverage_factor,
@@ -160,9 +280,27 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
 
   // The engine's flags already cover parameters at a bound, physically doubtful values
   // ("physics: ..."), a missing covariance and poorly determined parameters.
-  for (const fitters::ParameterEstimate& estimate : fit.result.estimates) {
-    fit.expanded_uncertainty.push_back(coverage_factor * estimate.standard_error);
+  fit.independent_dof =
+      options.weights == fitters::WeightConvention::kRelative
+          ? static_cast<double>(std::max(1, fit.result.statistics.degrees_of_freedom))
+          : fitters::kInfinity;
+  const std::vector<SpecimenFactor> factors = FactorsOf(group, fit.used_observations);
+  // The resampling starts from the fit as weighted (standard errors of the independent parts):
+  // its studentised pivots and refit tolerances are in those units, and it draws the specimen
+  // factors itself (fitters::CommonFactor).
+  const fitters::FitResult resample_base = fit.result;
+  if (options.weights == fitters::WeightConvention::kAbsolute) {
+    for (const SpecimenFactor& factor : factors) {
+      fit.independent_dof = std::min(fit.independent_dof, factor.independent_degrees_of_freedom);
+    }
   }
+  if (!factors.empty() && fit.result.summary.covariance_available &&
+      !ApplySpecimenTerm(model, observations, context, fit_options, factors, &fit)) {
+    AddFlag(&fit.flags,
+            "specimen term: a refit with the specimen factor moved failed; the parameter "
+            "uncertainties leave out the specimen-to-specimen part");
+  }
+  SetCoverage(options, coverage_factor, &fit);
 
   const std::vector<double> grid =
       Grid(std::max(options.band_rh_min_fraction, x_min),
@@ -181,6 +319,9 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   refit_options.parameter_tolerance = options.resample_tolerance;
   fitters::ResampleOptions resample;
   resample.confidence_level = options.confidence_level;
+  for (const SpecimenFactor& factor : factors) {
+    resample.common_factors.push_back({factor.relative_standard_uncertainty, factor.weights});
+  }
   resample.refit_tolerance_se = options.refit_tolerance_se;
   if (options.bootstrap_resamples > 0) {
     resample.kind = options.bootstrap_kind;
@@ -189,7 +330,7 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
         internal::StreamState(options.seed, group_index, model.name(), kBootstrapStream);
     try {
       fit.bootstrap =
-          fitters::Resample(model, observations, context, fit.result, refit_options, resample);
+          fitters::Resample(model, observations, context, resample_base, refit_options, resample);
     } catch (const std::exception& error) {
       AddFlag(&fit.flags, fmt::format("bootstrap failed: {}", error.what()));
     }
@@ -201,7 +342,7 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
         internal::StreamState(options.seed, group_index, model.name(), kMonteCarloStream);
     try {
       fit.monte_carlo =
-          fitters::Resample(model, observations, context, fit.result, refit_options, resample);
+          fitters::Resample(model, observations, context, resample_base, refit_options, resample);
     } catch (const std::exception& error) {
       AddFlag(&fit.flags, fmt::format("Monte Carlo failed: {}", error.what()));
     }
@@ -312,6 +453,49 @@ bool FitStageOptions::IsValid(std::string* error) const {
     return fail(fmt::format("confidence_level = {} must be in (0, 1)", confidence_level));
   }
   return true;
+}
+
+DerivedUncertainty PropagateToDerived(const ModelFit& fit, const std::vector<double>& gradient,
+                                      double nominal_k) {
+  DerivedUncertainty out;
+  out.coverage_factor = nominal_k;
+  const Eigen::Index p = static_cast<Eigen::Index>(gradient.size());
+  const Eigen::MatrixXd& total = fit.result.covariance;
+  if (total.rows() != p || total.cols() != p) return out;
+  const Eigen::Map<const Eigen::VectorXd> g(gradient.data(), p);
+  out.standard_uncertainty = std::sqrt(std::max(0.0, g.dot(total * g)));
+  const bool split =
+      fit.covariance_independent.rows() == p && fit.covariance_independent.cols() == p;
+  const double independent = split ? g.dot(fit.covariance_independent * g) : g.dot(total * g);
+  std::vector<double> contributions;
+  if (split) {
+    for (const SpecimenSensitivity& s : fit.specimen_sensitivities) {
+      const Eigen::Map<const Eigen::VectorXd> column(s.parameter_sensitivity.data(), p);
+      contributions.push_back(g.dot(column) * s.relative_standard_uncertainty);
+    }
+  }
+  out.effective_dof =
+      EffectiveDof(independent, fit.independent_dof, contributions,
+                   split ? fit.specimen_sensitivities : std::vector<SpecimenSensitivity>{});
+  out.coverage_factor = reduce::CoverageFactor(out.effective_dof, nominal_k);
+  return out;
+}
+
+DerivedUncertainty CurveUncertainty(const IsothermFits& fits, const ModelFit& fit,
+                                    double rh_fraction) {
+  DerivedUncertainty out;
+  out.coverage_factor = fits.coverage_factor;
+  const fitters::Model* model = fitters::FindModel(fit.model_name);
+  if (model == nullptr || !fit.result.ok() || fit.group_index < 0 ||
+      fit.group_index >= static_cast<int>(fits.groups.size())) {
+    return out;
+  }
+  fitters::ModelContext context;
+  context.temperature_K = fits.groups[static_cast<std::size_t>(fit.group_index)].temperature_K;
+  const double x[fitters::kMaxInputs] = {rh_fraction, 0.0};
+  std::vector<double> gradient(static_cast<std::size_t>(model->num_parameters()), 0.0);
+  model->Gradient(fit.result.parameters.data(), x, context, gradient.data());
+  return PropagateToDerived(fit, gradient, fits.coverage_factor);
 }
 
 IsothermFits FitIsotherms(const reduce::ReducedIsotherms& reduced, const FitStageOptions& options) {

@@ -3,6 +3,7 @@
 // bootstrap and JCGM 101 Monte Carlo intervals, statistics and a model ranking.
 #pragma once
 
+#include <Eigen/Core>
 #include <cstdint>
 #include <string>
 #include <vector>
@@ -56,12 +57,72 @@ struct FitStageOptions {
   bool IsValid(std::string* error) const;
 };
 
+// The specimen term in the fit (see pipeline/reduce/reduce.h for its estimate).
+//
+// The combined points of a data set are means over the same specimens at every step, so the
+// specimen-to-specimen part of their errors is shared from step to step. A fit that weights each
+// point with its whole u treats that part as independent: it averages down over the points like
+// noise (too small an uncertainty of the level of the curve, hence of scale parameters and of
+// moisture contents read off the curve), and it also widens the weights of the shape parameters,
+// which that common factor does not move (too large an uncertainty of GAB C and K). Instead:
+//  - weights: each point's independent part, u_independent (IsothermPoint), only;
+//  - one correlated input per specimen, its factor (1 + delta_s), u(delta_s) = sigma_d, acting
+//    on point i as y_i -> y_i (1 + delta_s / n_i) where s is one of the point's n_i specimens
+//    (the mean over its specimens). Specimens that take part in the same points are merged into
+//    one SpecimenFactor (their sum: u = sigma_d sqrt(count)); with every specimen at every step
+//    all S merge into one factor, u = sigma_d sqrt(S), weight 1/S at every point: in effect
+//    y_i -> y_i (1 + mean_s delta_s) with u(mean delta) = sigma_d / sqrt(S);
+//  - covariance path (JCGM 100:2008, 5.2 and F.1.2.3: a correlated input enters once with its
+//    sensitivity): C = C_ind + sum_k u_k^2 s_k s_k', where C_ind is the fit's covariance from the
+//    independent parts and s_k = dp/dz_k is evaluated numerically by refitting the data with the
+//    factor at +u_k and -u_k (JCGM 100:2008, 5.1.3 note 2; central difference). For a model with
+//    a scale parameter (GAB, BET, Oswin, Peleg's amplitudes, ...) that is the scale parameter
+//    times the factor, and the shape parameters (GAB C, K) do not move; the refit needs no model
+//    knowledge. A generalised least squares with the full point covariance was not chosen: for
+//    a model with a scale parameter the common direction (y_i, proportional to df/dX_m) lies in
+//    the span of the Jacobian, and GLS then gives the weighted fit's estimates (Kruskal's
+//    theorem on OLS = GLS, from memory) with this covariance to first order, while it would
+//    need a non-diagonal weight matrix in the engine;
+//  - Monte Carlo and bootstraps: one draw z_k ~ N(0, u_k^2) per factor and resample, applied to
+//    every point it acts on (fitters::CommonFactor). Drawn normal with the standard uncertainty
+//    (not JCGM 101:2008 6.4.9.7's scaled t with nu_d degrees of freedom: for nu_d <= 2 its
+//    variance is infinite, and the pore stage takes standard uncertainties as the draws' spread);
+//    the few degrees of freedom are carried by nu_eff and k instead (below);
+//  - effective degrees of freedom (JCGM 100:2008, G.4, Eq. G.2b) per parameter and for any
+//    derived quantity with gradient g: u^2 = g' C_ind g + sum_k (g's_k u_k)^2,
+//    nu_eff = u^4 / (sum_k (g's_k u_k)^4 / nu_k + (g' C_ind g)^2 / nu_ind), nu_ind under
+//    absolute weights the smallest nu_e of the factors' data sets whose independent lines are
+//    the pooled Type A estimate (infinite where the evaluated parts, Type B, are the weights),
+//    and n - p under relative weights; the expanded uncertainty
+//    uses k = reduce::CoverageFactor(nu_eff, coverage factor) and the Student-t interval at
+//    confidence_level t(nu_eff). With S = 3 specimens and the specimen term dominant, nu_eff ~ 2
+//    and k ~ 4.5: honest for a mean over three specimens.
+// One such factor of a fit group.
+struct SpecimenFactor {
+  std::string dataset_id;
+  std::vector<std::string> specimen_ids;           // the merged specimens
+  double relative_standard_uncertainty = 0.0;      // u_k of z_k
+  double degrees_of_freedom = fitters::kInfinity;  // nu_d of the data set's term
+  // nu_e of the data set's independent lines where they are the pooled Type A estimate (phi >
+  // 1 in reduce.h), else infinity: the weights of the points it acts on are that estimate.
+  double independent_degrees_of_freedom = fitters::kInfinity;
+  std::vector<double> weights;  // per observation of the group: 1 / n_i, 0 where not acting
+};
+
 // One group of points fitted together: one branch at one temperature.
 struct FitGroup {
   ingest::Branch branch = ingest::Branch::kAdsorption;
   double temperature_K = 0.0;
   std::vector<fitters::Observation> observations;  // what was fitted (x[0] = rh_fraction)
   std::vector<int> point_indices;                  // into ReducedIsotherms::points (-1: retention)
+  std::vector<SpecimenFactor> specimen_factors;    // empty: no specimen term
+};
+
+// Sensitivity of a fit's parameters to one specimen factor (see SpecimenFactor).
+struct SpecimenSensitivity {
+  double relative_standard_uncertainty = 0.0;
+  double degrees_of_freedom = fitters::kInfinity;
+  std::vector<double> parameter_sensitivity;  // dp_j / dz
 };
 
 // A consistency criterion (e.g. Rouquerol's for BET) and whether it holds.
@@ -77,8 +138,15 @@ struct ModelFit {
   fitters::ModelInfo info;
   int group_index = 0;
   fitters::FitResult result;
-  // Per parameter: k * standard error, k = IsothermFits::coverage_factor (the reduce stage's).
+  // Per parameter: k * standard error, k = reduce::CoverageFactor(effective_dof, the reduce
+  // stage's coverage factor) (= IsothermFits::coverage_factor for infinite nu_eff).
   std::vector<double> expanded_uncertainty;
+  std::vector<double> effective_dof;  // per parameter (infinity: no Type A part with few dof)
+  // The specimen term (see SpecimenFactor): result.covariance includes it; the covariance from
+  // the independent parts alone, its degrees of freedom and the sensitivities.
+  Eigen::MatrixXd covariance_independent;
+  double independent_dof = fitters::kInfinity;
+  std::vector<SpecimenSensitivity> specimen_sensitivities;
   // Indices into groups[group_index].observations of the points this model was fitted to
   // (BET: only its RH range; retention points only for retention models).
   std::vector<int> used_observations;
@@ -131,5 +199,22 @@ struct IsothermFits {
 // Never throws for a failed fit (see ModelFit::flags). Throws InputError for invalid options,
 // ComputationError when there is no point to fit or no model converged in any group.
 IsothermFits FitIsotherms(const reduce::ReducedIsotherms& reduced, const FitStageOptions& options);
+
+// Standard uncertainty, effective degrees of freedom and coverage factor of a quantity derived
+// from a fit's parameters with gradient g = dq/dp (see SpecimenFactor): u^2 = g' C g,
+// nu_eff by Welch-Satterthwaite over the independent part and each specimen factor, k =
+// reduce::CoverageFactor(nu_eff, nominal_k). Without a specimen term nu_eff is that of the
+// covariance (infinite under absolute weights) and k = nominal_k.
+struct DerivedUncertainty {
+  double standard_uncertainty = 0.0;
+  double effective_dof = fitters::kInfinity;
+  double coverage_factor = 2.0;
+};
+DerivedUncertainty PropagateToDerived(const ModelFit& fit, const std::vector<double>& gradient,
+                                      double nominal_k);
+// The same for the fitted curve's value at rh_fraction (g = df/dp there; ModelContext at the
+// group's temperature). Standard uncertainty 0 without a covariance.
+DerivedUncertainty CurveUncertainty(const IsothermFits& fits, const ModelFit& fit,
+                                    double rh_fraction);
 
 }  // namespace sorbtrace::fit

@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <iterator>
 #include <map>
 #include <string_view>
 #include <utility>
@@ -97,6 +98,51 @@ void RepairSigmas(FitGroup* group, std::vector<Diagnostic>* warnings) {
 
 }  // namespace
 
+std::vector<SpecimenFactor> SpecimenFactors(const reduce::ReducedIsotherms& reduced,
+                                            const FitGroup& group) {
+  // Per (data set, specimen): its participation vector over the group's observations (1 / n_i
+  // where it is one of the n_i specimens of point i). Specimens with equal vectors are merged.
+  std::map<std::pair<int, std::string>, std::vector<double>> participation;
+  const std::size_t n = group.observations.size();
+  for (std::size_t i = 0; i < n; ++i) {
+    const int index = group.point_indices[i];
+    if (index < 0) continue;
+    const reduce::IsothermPoint& point = reduced.points[static_cast<std::size_t>(index)];
+    if (point.specimen_term < 0 || point.specimen_ids.empty()) continue;
+    const reduce::SpecimenTerm& term =
+        reduced.specimen_terms[static_cast<std::size_t>(point.specimen_term)];
+    if (!(term.relative_sd > 0.0)) continue;
+    for (const std::string& id : point.specimen_ids) {
+      std::vector<double>& weights = participation[{point.specimen_term, id}];
+      weights.resize(n, 0.0);
+      weights[i] = 1.0 / static_cast<double>(point.specimen_ids.size());
+    }
+  }
+  std::vector<SpecimenFactor> factors;
+  for (const auto& [key, weights] : participation) {
+    const reduce::SpecimenTerm& term = reduced.specimen_terms[static_cast<std::size_t>(key.first)];
+    auto same = std::find_if(factors.begin(), factors.end(), [&](const SpecimenFactor& f) {
+      return f.dataset_id == term.dataset_id && f.weights == weights;
+    });
+    if (same == factors.end()) {
+      SpecimenFactor factor;
+      factor.dataset_id = term.dataset_id;
+      factor.degrees_of_freedom = term.degrees_of_freedom;
+      if (term.independent_variance_ratio > 1.0) {
+        factor.independent_degrees_of_freedom = term.residual_degrees_of_freedom;
+      }
+      factor.weights = weights;
+      factors.push_back(std::move(factor));
+      same = std::prev(factors.end());
+    }
+    same->specimen_ids.push_back(key.second);
+    // Merged specimens: the sum of their factors, variance count x sigma_d^2.
+    same->relative_standard_uncertainty =
+        term.relative_sd * std::sqrt(static_cast<double>(same->specimen_ids.size()));
+  }
+  return factors;
+}
+
 const char* BranchLabel(ingest::Branch branch) {
   switch (branch) {
     case ingest::Branch::kAdsorption:
@@ -161,7 +207,10 @@ std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
     candidate.point_index = static_cast<int>(i);
     candidate.observation.x[0] = point.rh_fraction;
     candidate.observation.y = point.moisture_kg_per_kg;
-    candidate.observation.sigma_y = point.u_moisture_kg_per_kg;
+    // With a specimen term the fit weights the independent part only; the common part is
+    // carried by the group's specimen factors (fit_stage.h).
+    candidate.observation.sigma_y =
+        point.specimen_term >= 0 ? point.u_independent_kg_per_kg : point.u_moisture_kg_per_kg;
     candidate.observation.sigma_x0 =
         Finite(point.u_rh_fraction) && point.u_rh_fraction > 0.0 ? point.u_rh_fraction : 0.0;
     const std::string key = "d:" + point.dataset_id;
@@ -272,6 +321,7 @@ std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
                         BranchLabel(branch), temperature_K, not_equilibrated)));
       }
       RepairSigmas(&group, warnings);
+      group.specimen_factors = SpecimenFactors(reduced, group);
       groups.push_back(std::move(group));
     }
   }

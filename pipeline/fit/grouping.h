@@ -29,6 +29,11 @@ std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
                                   const FitStageOptions& options,
                                   std::vector<Diagnostic>* warnings);
 
+// The specimen factors of a group (fit_stage.h, SpecimenFactor) from the reduce stage's
+// specimen terms: one per set of specimens of one data set that take part in the same points.
+std::vector<SpecimenFactor> SpecimenFactors(const reduce::ReducedIsotherms& reduced,
+                                            const FitGroup& group);
+
 // "adsorption" / "desorption" / "drying", for messages (as ingest::BranchName, without
 // needing the ingest library at link time).
 const char* BranchLabel(ingest::Branch branch);

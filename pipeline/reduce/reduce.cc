@@ -217,9 +217,14 @@ struct CombinedUncertainty {
   double effective_dof = kInfinity;
   std::vector<BudgetLine> budget;
 };
+// Budget line names of the two-way decomposition (reduce.h).
+constexpr const char* kSpecimenLine = "specimen-to-specimen (common to every step, Type A)";
+constexpr const char* kIndependentLine =
+    "step-to-step scatter of the specimens (Type A, pooled over the steps)";
+
 CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& members,
-                                     double spread_sd) {
-  if (members.size() == 1) {
+                                     double spread_sd, const SpecimenTerm* term, double mean) {
+  if (members.size() == 1 && term == nullptr) {
     const SpecimenPoint& only = *members.front();
     return {only.u_moisture_kg_per_kg, only.effective_dof, only.moisture_budget};
   }
@@ -234,12 +239,28 @@ CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& me
                                            p->u_systematic_kg_per_kg * p->u_systematic_kg_per_kg) /
                          n;
   }
-  std::vector<BudgetLine> lines = {
-      spread_sd * spread_sd >= mean_independent2
-          ? Line("between-specimen spread (Type A)", spread_sd, "kg/kg", 1.0 / std::sqrt(n),
-                 n - 1.0)
-          : Line("independent parts of the specimens' budgets (spread smaller)",
-                 std::sqrt(mean_independent2), "kg/kg", 1.0 / std::sqrt(n))};
+  std::vector<BudgetLine> lines;
+  if (term != nullptr) {
+    // Two-way decomposition (reduce.h): the specimen line, common to every step, and the
+    // step-to-step part pooled over the block, with the specimens' evaluated independent parts
+    // as its floor.
+    if (term->relative_sd > 0.0) {
+      lines.push_back(Line(kSpecimenLine, term->relative_sd, "1", std::abs(mean) / std::sqrt(n),
+                           term->degrees_of_freedom));
+    }
+    lines.push_back(term->independent_variance_ratio > 1.0
+                        ? Line(kIndependentLine,
+                               std::sqrt(term->independent_variance_ratio * mean_independent2),
+                               "kg/kg", 1.0 / std::sqrt(n), term->residual_degrees_of_freedom)
+                        : Line("independent parts of the specimens' budgets (spread smaller)",
+                               std::sqrt(mean_independent2), "kg/kg", 1.0 / std::sqrt(n)));
+  } else {
+    lines.push_back(spread_sd * spread_sd >= mean_independent2
+                        ? Line("between-specimen spread (Type A)", spread_sd, "kg/kg",
+                               1.0 / std::sqrt(n), n - 1.0)
+                        : Line("independent parts of the specimens' budgets (spread smaller)",
+                               std::sqrt(mean_independent2), "kg/kg", 1.0 / std::sqrt(n)));
+  }
   for (const SpecimenPoint* p : members) {
     for (const BudgetLine& line : p->moisture_budget) {
       if (!line.systematic) continue;
@@ -256,6 +277,97 @@ CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& me
     }
   }
   return {RootSumSquare(lines), EffectiveDegreesOfFreedom(lines), lines};
+}
+
+// Mean over a step's specimens of their evaluated independent variances, u_c^2 - u_sys^2.
+double MeanIndependentVariance(const std::vector<const SpecimenPoint*>& members) {
+  double sum = 0.0;
+  for (const SpecimenPoint* p : members) {
+    sum += std::max(0.0, p->u_moisture_kg_per_kg * p->u_moisture_kg_per_kg -
+                             p->u_systematic_kg_per_kg * p->u_systematic_kg_per_kg);
+  }
+  return sum / static_cast<double>(members.size());
+}
+
+// The specimen term of one data set from its steps (each the included specimen points of one
+// step), by the weighted two-way decomposition of reduce.h. Returns false where it does not
+// apply.
+bool EstimateSpecimenTerm(const std::vector<const std::vector<const SpecimenPoint*>*>& steps,
+                          SpecimenTerm* term) {
+  std::vector<std::string> ids;
+  for (const auto* members : steps) {
+    for (const SpecimenPoint* p : *members) {
+      if (std::find(ids.begin(), ids.end(), p->specimen_id) == ids.end()) {
+        ids.push_back(p->specimen_id);
+      }
+    }
+  }
+  std::sort(ids.begin(), ids.end());
+  const std::size_t num_specimens = ids.size();
+  if (num_specimens < 2) return false;
+  // Complete block: y[i][s] = ln u_si over the steps holding every specimen, all u > 0, with
+  // the step's relative evaluated independent variance v_i > 0 (weight w_i = 1 / v_i).
+  std::vector<std::vector<double>> y;
+  std::vector<double> w;
+  for (const auto* members : steps) {
+    if (members->size() != num_specimens) continue;
+    std::vector<double> row(num_specimens, 0.0);
+    bool usable = true;
+    double mean = 0.0;
+    for (const SpecimenPoint* p : *members) {
+      const auto at = std::find(ids.begin(), ids.end(), p->specimen_id);
+      if (!(p->moisture_kg_per_kg > 0.0)) usable = false;
+      if (usable) row[static_cast<std::size_t>(at - ids.begin())] = std::log(p->moisture_kg_per_kg);
+      mean += p->moisture_kg_per_kg / static_cast<double>(num_specimens);
+    }
+    const double v = MeanIndependentVariance(*members) / (mean * mean);
+    if (!usable || !(v > 0.0) || !std::isfinite(v)) continue;
+    y.push_back(std::move(row));
+    w.push_back(1.0 / v);
+  }
+  const std::size_t num_steps = y.size();
+  if (num_steps < 2) return false;
+  const double S = static_cast<double>(num_specimens);
+  const double I = static_cast<double>(num_steps);
+  // Step means, then each specimen's weighted mean deviation d_s = sum_i w_i (y_si - ybar_.i) / W.
+  std::vector<double> step_mean(num_steps, 0.0), d(num_specimens, 0.0);
+  double W = 0.0;
+  for (std::size_t i = 0; i < num_steps; ++i) {
+    for (std::size_t s = 0; s < num_specimens; ++s) step_mean[i] += y[i][s] / S;
+    W += w[i];
+  }
+  for (std::size_t s = 0; s < num_specimens; ++s) {
+    for (std::size_t i = 0; i < num_steps; ++i) d[s] += w[i] * (y[i][s] - step_mean[i]) / W;
+  }
+  double ss_specimens = 0.0, q_residual = 0.0;
+  for (std::size_t s = 0; s < num_specimens; ++s) ss_specimens += d[s] * d[s];
+  for (std::size_t i = 0; i < num_steps; ++i) {
+    for (std::size_t s = 0; s < num_specimens; ++s) {
+      const double e = y[i][s] - step_mean[i] - d[s];
+      q_residual += w[i] * e * e;
+    }
+  }
+  const double df_specimens = S - 1.0;
+  const double df_residual = (S - 1.0) * (I - 1.0);
+  const double phi = q_residual / df_residual;
+  const double ms_specimens = ss_specimens / df_specimens;  // E = sigma_d^2 + phi / W
+  const double ms_residual = phi / W;
+  term->specimen_ids = ids;
+  term->num_steps = static_cast<int>(num_steps);
+  term->independent_variance_ratio = phi;
+  term->residual_degrees_of_freedom = df_residual;
+  const double difference = ms_specimens - ms_residual;
+  if (difference > 0.0) {
+    term->relative_sd = std::sqrt(difference);
+    // Satterthwaite (1946) for a difference of mean squares.
+    term->degrees_of_freedom =
+        difference * difference /
+        (ms_specimens * ms_specimens / df_specimens + ms_residual * ms_residual / df_residual);
+  } else {
+    term->relative_sd = 0.0;
+    term->degrees_of_freedom = df_specimens;
+  }
+  return true;
 }
 
 }  // namespace
@@ -360,6 +472,21 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
                point.step_label, point.dataset_id}]
         .push_back(&point);
   }
+  // The specimen term of each data set (reduce.h), over its non-drying steps.
+  std::map<std::string, std::vector<const std::vector<const SpecimenPoint*>*>> steps_of_dataset;
+  for (const auto& [key, members] : groups) {
+    if (members.front()->branch == ingest::Branch::kDrying) continue;
+    steps_of_dataset[std::get<5>(key)].push_back(&members);
+  }
+  std::map<std::string, int> term_of_dataset;
+  for (const auto& [dataset_id, steps] : steps_of_dataset) {
+    SpecimenTerm term;
+    term.dataset_id = dataset_id;
+    if (!EstimateSpecimenTerm(steps, &term)) continue;
+    term_of_dataset[dataset_id] = static_cast<int>(reduced.specimen_terms.size());
+    reduced.specimen_terms.push_back(std::move(term));
+  }
+
   for (const auto& [key, members] : groups) {
     IsothermPoint iso;
     const SpecimenPoint& first = *members.front();
@@ -397,8 +524,20 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     const double s = members.size() > 1 ? std::sqrt(ss / (n - 1.0)) : 0.0;
     iso.moisture_kg_per_kg = mean;
     iso.between_specimen_sd_kg_per_kg = s;
-    const CombinedUncertainty combined = CombineSpecimens(members, s);
+    const auto term_it = term_of_dataset.find(first.dataset_id);
+    const SpecimenTerm* term = nullptr;
+    if (term_it != term_of_dataset.end() && first.branch != ingest::Branch::kDrying) {
+      iso.specimen_term = term_it->second;
+      term = &reduced.specimen_terms[static_cast<std::size_t>(term_it->second)];
+    }
+    const CombinedUncertainty combined = CombineSpecimens(members, s, term, mean);
     iso.u_moisture_kg_per_kg = combined.u;
+    if (term != nullptr && term->relative_sd > 0.0) {
+      iso.u_specimen_common_kg_per_kg = std::abs(mean) * term->relative_sd / std::sqrt(n);
+    }
+    iso.u_independent_kg_per_kg =
+        std::sqrt(std::max(0.0, combined.u * combined.u - iso.u_specimen_common_kg_per_kg *
+                                                              iso.u_specimen_common_kg_per_kg));
     iso.moisture_budget = combined.budget;
     iso.effective_dof = combined.effective_dof;
     iso.coverage_factor = CoverageFactor(iso.effective_dof, options.coverage_factor);

@@ -52,6 +52,41 @@
 //   specimens nu_eff is 1-2 and k = t_p(nu_eff) is 4.5-14 (JCGM 100:2008, G.3, G.4). RH of the
 //   step: mean over specimens, with u = sqrt(mean u(rh_i)^2) (same atmosphere: fully correlated,
 //   not averaged down).
+// Specimens that differ from each other (a common specimen term). The same specimens are
+//   weighed at every step of a data set, so a specimen that holds 3 % more water than the
+//   material's mean does so at every RH: that part of the spread is common to all points of the
+//   data set (correlated inputs, JCGM 100:2008, 5.2 and F.1.2.3), the rest varies from step to
+//   step. Model (two-way layout specimen x step, one observation per cell, random specimen
+//   effect; variance components as in ISO 5725-2:2019, here of a two-way layout):
+//     ln u_si = ln U_i + d_s + e_si,   d_s ~ (0, sigma_d^2),  e_si ~ (0, phi v_i),
+//   i.e. u_si = U_i (1 + delta_s) + e'_si to first order (relative specimen factor delta_s).
+//   v_i = u_ind,i^2 / mean_i^2 is the step's evaluated independent part (u_ind,i^2 = mean over its
+//   specimens of u_c^2 - u_sys^2), relative: the step-to-step errors are not alike at every RH
+//   (a balance error weighs most where little water is held), so the steps are weighted
+//   w_i = 1 / v_i and the data estimate only the common scale phi of the evaluated parts (as a
+//   Birge ratio). Estimator (weighted least squares of the additive two-way model, with its
+//   expected mean squares; for equal weights the two-way analysis of variance without
+//   replication, D. C. Montgomery, Design and Analysis of Experiments, from memory): over the
+//   complete block of S specimens x I steps, W = sum_i w_i,
+//     d_s = sum_i w_i (y_si - ybar_.i) / W,   r_si = y_si - ybar_.i - d_s,
+//     phi = sum_si w_i r_si^2 / ((S - 1)(I - 1))           (nu_e = (S - 1)(I - 1)),
+//     MS_S = sum_s d_s^2 / (S - 1),  E[MS_S] = sigma_d^2 + phi / W,
+//     sigma_d^2 = max(0, MS_S - phi / W)   (the usual truncation of a negative estimate),
+//     nu_d = (MS_S - phi/W)^2 / (MS_S^2 / (S - 1) + (phi/W)^2 / nu_e)  (Satterthwaite 1946 for a
+//       difference of mean squares; at most S - 1, about S - 1 when the specimen term dominates).
+//   Complete block: every non-drying step of the data set (all branches and cycles) at which
+//   every specimen of the data set was combined, with every moisture content > 0 (the log
+//   scale) and v_i > 0. The term applies when S >= 2 and the block has I >= 2 steps; otherwise
+//   (one specimen, or specimens missing at all but one step) the rule above is kept unchanged.
+//   Where it applies, every combined point of the data set (also those with specimens missing:
+//   their mean has n_i < S specimens) gets, in place of the spread line:
+//     specimen line (common to every step)   standard uncertainty sigma_d (relative, unit 1),
+//       c = mean_i / sqrt(n_i), nu = nu_d   (left out when sigma_d = 0);
+//     independent line  sqrt(max(phi, 1)) u_ind,i, c = 1 / sqrt(n_i), nu = nu_e (infinite when
+//       phi <= 1: the evaluated independent parts are the floor, as above);
+//   plus the systematic lines as above. The fit stage weights each point with
+//   u_independent (the root sum of squares of every other line) and carries the specimen line as
+//   one factor per specimen, correlated across the points (see pipeline/fit/fit_stage.h).
 // Volumetric content psi = u rho_dry / rho_w(T) (rho_w: Kell 1975), u(psi) = u_c rho_dry/rho_w,
 //   rho_dry the mean stated bulk density (density uncertainty not stated: not included).
 // A negative moisture content is an InputError (at the step) when it is below zero by more
@@ -101,6 +136,20 @@ double EffectiveDegreesOfFreedom(const std::vector<BudgetLine>& lines);
 double CoverageFactor(double degrees_of_freedom, double nominal_k);
 // k_p = t_p(nu) for a given coverage probability p (no truncation of nu), e.g. p = 0.95.
 double StudentTCoverageFactor(double degrees_of_freedom, double coverage_probability);
+
+// The specimen term of one data set (see the header comment: two-way decomposition).
+struct SpecimenTerm {
+  std::string dataset_id;
+  std::vector<std::string> specimen_ids;  // the S specimens of the complete block
+  int num_steps = 0;                      // I, the steps of the complete block
+  // sigma_d: relative standard deviation of one specimen's factor (1 + delta_s), and nu_d.
+  double relative_sd = 0.0;
+  double degrees_of_freedom = std::numeric_limits<double>::infinity();
+  // phi: the step-to-step scatter over the specimens' evaluated independent parts (a variance
+  // ratio, as a Birge ratio squared), and its nu_e.
+  double independent_variance_ratio = 1.0;
+  double residual_degrees_of_freedom = std::numeric_limits<double>::infinity();
+};
 
 // Moisture content of one specimen at one equilibrium.
 struct SpecimenPoint {
@@ -153,6 +202,13 @@ struct IsothermPoint {
   double effective_dof = std::numeric_limits<double>::infinity();
   double coverage_factor = 2.0;
   double between_specimen_sd_kg_per_kg = 0.0;
+  // Index into ReducedIsotherms::specimen_terms of the data set's specimen term (-1: none), the
+  // contribution of its specimen line, mean * sigma_d / sqrt(num_specimens) (0 without one),
+  // and the rest of u, sqrt(u^2 - u_specimen_common^2), with which the fit stage weights the
+  // point (equal to u_moisture_kg_per_kg without a specimen term).
+  int specimen_term = -1;
+  double u_specimen_common_kg_per_kg = 0.0;
+  double u_independent_kg_per_kg = 0.0;
   // The budget of u_moisture_kg_per_kg (root sum of squares of the contributions is u).
   std::vector<BudgetLine> moisture_budget;
   int num_specimens = 0;
@@ -186,7 +242,8 @@ struct ReduceSummary {
 struct ReducedIsotherms {
   double coverage_factor = 2.0;
   std::vector<SpecimenPoint> specimen_points;
-  std::vector<IsothermPoint> points;  // sorted by dataset, cycle, branch, step
+  std::vector<IsothermPoint> points;         // sorted by dataset, cycle, branch, step
+  std::vector<SpecimenTerm> specimen_terms;  // one per data set where the term applies
   std::vector<RetentionIsothermPoint> retention;
   ReduceSummary summary;
 };

@@ -2,7 +2,8 @@
 // through equilibrate -> reduce -> fit (GAB, errors in variables) -> pores (reference
 // conditions): for every reported equilibrium point, the GAB parameters and the moisture
 // contents at 23 degC / 50 % and 80 % RH, the share of replicates whose truth lies inside
-// value ± U must lie in 90-98 % (U at about 95 %: k = 2 or the Student-t k of the point), and
+// value ± U must lie in 90-98 % (U at about 95 %: k = 2 or the Student-t k of the point, of the
+// parameter, or of the curve at the reference condition from its nu_eff), and
 // the mean reported standard uncertainty over the scatter of the errors between 0.7 and 1.5
 // (JCGM 100:2008, 3.3 / 6.2: u describes the dispersion of the values that could reasonably be
 // attributed to the measurand; acceptance band common practice).
@@ -99,12 +100,17 @@ void RunReplicate(const GeneratedJob& job, Tallies& tallies, bool with_fit = tru
   pore_options.stepwise = false;
   const pores::PoreAnalysis pores = pores::AnalysePores(reduced, fits, pore_options);
   for (const pores::ReferenceMoisture& r : pores.reference_moisture) {
-    // Printed with the fit stage's k (pipeline/report: sheet rules).
+    // k from the fit stage's effective degrees of freedom of the curve at that RH
+    // (fit::CurveUncertainty: Welch-Satterthwaite over the independent part and the specimen
+    // term); its u is the pore stage's delta method on the fit's covariance, which holds the
+    // specimen term. Without a specimen term k = fits.coverage_factor.
+    const fit::DerivedUncertainty curve = fit::CurveUncertainty(fits, gab, r.condition.rh_fraction);
+    EXPECT_NEAR(curve.standard_uncertainty, r.u_moisture_kg_per_kg, 1e-9 * r.u_moisture_kg_per_kg);
     tallies
         .by_name["moisture at 23 C / " + std::to_string(int(100 * r.condition.rh_fraction + 0.5)) +
                  " % RH"]
         .Add(r.moisture_kg_per_kg, job.truth(r.condition.rh_fraction), r.u_moisture_kg_per_kg,
-             fits.coverage_factor * r.u_moisture_kg_per_kg);
+             curve.coverage_factor * r.u_moisture_kg_per_kg);
   }
 }
 
@@ -149,20 +155,31 @@ TEST(EquilibriumCoverageTest, DesiccatorJobsIso12571Rule) {
   Check(tallies);
 }
 
-// Specimens that differ (2 % sd of moisture content, one factor per specimen for every step, as
-// real specimens cut from one board do): each combined point still covers the material's
-// isotherm, its U from the spread with nu = 2 and k = t(2). Not checked here: the GAB
-// parameters and reference moisture contents, because the same three specimens make the
-// points' errors correlated from step to step (a common factor) while the fit stage treats
-// them as independent (it then over-states the uncertainty of C and K and under-states that
-// of the curve at 50-80 % RH).
-TEST(EquilibriumCoverageTest, DesiccatorJobsSpecimenVariabilityPoints) {
+// Specimens that differ: each specimen's moisture content is the material's GAB value times its
+// own factor 1 + delta_s, delta_s ~ N(0, 3 %), the same at every step (as specimens cut from one
+// board). The truth compared with is the population isotherm the specimens are drawn around (the
+// generator's GAB at each desiccator's true RH; its parameters for the GAB estimates): with three
+// specimens the mean factor misses 1 by sd 3 % / sqrt(3) = 1.7 %, common to every point, and
+// that is what the points', X_m's and the reference moisture contents' U must cover. The
+// reduce stage estimates the specimen term by a two-way decomposition (nu_d <= 2), so k is the
+// Student-t factor of nu_eff (about 4.5 where the term dominates); GAB C and K are shape
+// parameters the common factor does not move, so their U comes from the independent parts.
+// The reference moisture contents are checked with the fit stage's k (fit::CurveUncertainty).
+// Measured (200 replicates): points 93 %, GAB C 94.5 %, K 95 %, reference 50/80 % RH 93.5 %,
+// X_m 90 % (92 % with seeds from 9000): X_m mixes the specimen term (nu_d ~ 2) with an
+// independent part of similar size, and in the replicates where the three specimens happen to
+// agree (sigma_d estimated at a fraction of its value, chi-square with 2 degrees of freedom)
+// Welch-Satterthwaite gives nu_eff >> 2 and k ~ 2 exactly when the common error is large: the
+// known liberal side of G.4 with a dominant few-degree-of-freedom term (B. D. Hall, R. Willink,
+// Metrologia 38 (2001) 9, from memory). Bootstrap and Monte Carlo intervals are not checked
+// here: they draw the specimen factor normal with the estimated u (fit_stage.h).
+TEST(EquilibriumCoverageTest, DesiccatorJobsSpecimensDiffer) {
   Tallies tallies;
   for (int r = 0; r < kReplicates; ++r) {
-    const GeneratedJob job = MakeDesiccatorJob(3000 + static_cast<std::uint64_t>(r), 0.02);
-    ASSERT_NO_FATAL_FAILURE(RunReplicate(job, tallies, false));
+    const GeneratedJob job = MakeDesiccatorJob(3000 + static_cast<std::uint64_t>(r), 0.03);
+    ASSERT_NO_FATAL_FAILURE(RunReplicate(job, tallies));
   }
-  Report("desiccator, specimens differing by 2 %", tallies);
+  Report("desiccator, specimens differing by 3 %", tallies);
   Check(tallies);
 }
 

@@ -406,5 +406,125 @@ TEST(FitStageOptionsTest, RejectsBadSettingsWithTheFieldName) {
   EXPECT_THROW(FitIsotherms(reduced, options), InputError);
 }
 
+// The specimen term (fit_stage.h, SpecimenFactor): three specimens combined at every point,
+// sigma_d = 3 % per specimen. The common factor (1 + mean delta), u = 3 % / sqrt(3), scales
+// the GAB curve: X_m scales with it and C, K do not (GAB is proportional to X_m; a property
+// of the equation, E. A. Guggenheim 1966 / R. B. Anderson 1946, from memory). So the covariance
+// gains (X_m u)^2 in X_m alone, to the accuracy of the numerical sensitivity (central
+// difference of two refits: second-order terms from the errors-in-variables weights).
+TEST(FitStageTest, SpecimenTermScalesTheMonolayerOnly) {
+  reduce::ReducedIsotherms reduced;
+  BranchSpec spec;
+  spec.num_points = 8;
+  spec.noisy = false;
+  NormalStream noise(1);
+  AppendBranch(spec, &noise, &reduced);
+  reduce::SpecimenTerm term;
+  term.dataset_id = spec.dataset_id;
+  term.specimen_ids = {"A", "B", "C"};
+  term.num_steps = spec.num_points;
+  term.relative_sd = 0.03;
+  term.degrees_of_freedom = 2.0;
+  reduced.specimen_terms.push_back(term);
+  for (reduce::IsothermPoint& point : reduced.points) {
+    point.specimen_term = 0;
+    point.specimen_ids = {"A", "B", "C"};
+    point.u_specimen_common_kg_per_kg = point.moisture_kg_per_kg * 0.03 / std::sqrt(3.0);
+    point.u_independent_kg_per_kg = point.u_moisture_kg_per_kg;
+  }
+  const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab"}));
+  ASSERT_EQ(fits.groups[0].specimen_factors.size(), 1u);  // three specimens, one pattern
+  EXPECT_NEAR(fits.groups[0].specimen_factors[0].relative_standard_uncertainty,
+              0.03 * std::sqrt(3.0), 1e-12);
+  const ModelFit& gab = FindFit(fits, 0, "gab");
+  ASSERT_TRUE(gab.result.ok());
+  ASSERT_EQ(gab.specimen_sensitivities.size(), 1u);
+  const double x_m = gab.result.parameters[0];
+  const double u_common = x_m * 0.03 / std::sqrt(3.0);
+  const Eigen::MatrixXd added = gab.result.covariance - gab.covariance_independent;
+  EXPECT_NEAR(added(0, 0), u_common * u_common, 1e-3 * u_common * u_common);
+  for (int j = 1; j < 3; ++j) {
+    EXPECT_NEAR(added(j, j), 0.0, 1e-6 * gab.covariance_independent(j, j)) << j;
+  }
+  // nu_eff of X_m by G.2b with nu = 2 for the specimen part and infinity for the rest.
+  const double u2_ind = gab.covariance_independent(0, 0);
+  const double u2 = u2_ind + u_common * u_common;
+  const double nu = u2 * u2 / (std::pow(u_common, 4) / 2.0);
+  EXPECT_NEAR(gab.effective_dof[0], nu, 2e-3 * nu);
+  EXPECT_DOUBLE_EQ(gab.expanded_uncertainty[0], reduce::CoverageFactor(gab.effective_dof[0], 2.0) *
+                                                    gab.result.estimates[0].standard_error);
+  EXPECT_TRUE(std::isinf(gab.effective_dof[1]) || gab.effective_dof[1] > 1e6);
+  // The curve: u^2 = g' C g with the same split; at 50 % RH the specimen part dominates here.
+  const DerivedUncertainty at50 = CurveUncertainty(fits, gab, 0.5);
+  EXPECT_GT(at50.coverage_factor, 2.0);
+  EXPECT_GT(at50.standard_uncertainty,
+            GabMoisture(GabTruth{}, 0.5) * 0.03 / std::sqrt(3.0) * (1.0 - 1e-3));
+}
+
+// A specimen missing at a step: its factor acts on fewer points, so it is a factor of its own
+// (weights 1 / n_i over the points it is one of the n_i specimens of).
+TEST(FitStageTest, SpecimenMissingAtAStepGetsItsOwnFactor) {
+  reduce::ReducedIsotherms reduced;
+  BranchSpec spec;
+  spec.num_points = 6;
+  spec.noisy = false;
+  NormalStream noise(1);
+  AppendBranch(spec, &noise, &reduced);
+  reduce::SpecimenTerm term;
+  term.dataset_id = spec.dataset_id;
+  term.specimen_ids = {"A", "B"};
+  term.relative_sd = 0.02;
+  term.degrees_of_freedom = 1.0;
+  reduced.specimen_terms.push_back(term);
+  for (reduce::IsothermPoint& point : reduced.points) {
+    point.specimen_term = 0;
+    point.specimen_ids = {"A", "B"};
+    point.u_independent_kg_per_kg = point.u_moisture_kg_per_kg;
+  }
+  reduced.points.back().specimen_ids = {"A"};
+  const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab"}));
+  const std::vector<SpecimenFactor>& factors = fits.groups[0].specimen_factors;
+  ASSERT_EQ(factors.size(), 2u);
+  EXPECT_EQ(factors[0].specimen_ids, std::vector<std::string>{"A"});
+  EXPECT_DOUBLE_EQ(factors[0].weights[0], 0.5);
+  EXPECT_DOUBLE_EQ(factors[0].weights[5], 1.0);
+  EXPECT_EQ(factors[1].specimen_ids, std::vector<std::string>{"B"});
+  EXPECT_DOUBLE_EQ(factors[1].weights[5], 0.0);
+  EXPECT_DOUBLE_EQ(factors[1].relative_standard_uncertainty, 0.02);
+  EXPECT_EQ(FindFit(fits, 0, "gab").specimen_sensitivities.size(), 2u);
+}
+
+// The Monte Carlo draws carry the common factor: the spread of X_m over the draws matches the
+// covariance with the specimen term (JCGM 101:2008, 8: validation of the GUM framework by the
+// Monte Carlo method; tolerance: 2,000 draws give the sd to about 1.6 %, 10 % allowed).
+TEST(FitStageTest, MonteCarloDrawsTheSpecimenFactor) {
+  reduce::ReducedIsotherms reduced;
+  BranchSpec spec;
+  spec.num_points = 8;
+  spec.noisy = false;
+  NormalStream noise(1);
+  AppendBranch(spec, &noise, &reduced);
+  reduce::SpecimenTerm term;
+  term.dataset_id = spec.dataset_id;
+  term.specimen_ids = {"A", "B", "C"};
+  term.relative_sd = 0.05;
+  term.degrees_of_freedom = 2.0;
+  reduced.specimen_terms.push_back(term);
+  for (reduce::IsothermPoint& point : reduced.points) {
+    point.specimen_term = 0;
+    point.specimen_ids = {"A", "B", "C"};
+    point.u_independent_kg_per_kg = point.u_moisture_kg_per_kg;
+  }
+  FitStageOptions options = QuickOptions({"gab"});
+  options.monte_carlo_draws = 2000;
+  const IsothermFits fits = FitIsotherms(reduced, options);
+  const ModelFit& gab = FindFit(fits, 0, "gab");
+  ASSERT_TRUE(gab.result.ok());
+  EXPECT_NEAR(gab.monte_carlo.parameter_std[0], gab.result.estimates[0].standard_error,
+              0.1 * gab.result.estimates[0].standard_error);
+  EXPECT_NEAR(gab.monte_carlo.parameter_std[1], gab.result.estimates[1].standard_error,
+              0.1 * gab.result.estimates[1].standard_error);
+}
+
 }  // namespace
 }  // namespace sorbtrace::fit

@@ -270,6 +270,68 @@ TEST(ReduceTest, EquilibriumTableCsv) {
 namespace sorbtrace::reduce {
 namespace {
 
+// Specimens that differ (reduce.h, two-way decomposition). Specimen B holds exactly 2 % more
+// water than A at both steps (u = 0.0200/0.0400 and 0.0204/0.0408 on 10 g dry): on the log
+// scale the specimen effects are -+ ln(1.02)/2 whatever the step weights, the residuals are 0,
+// so MS_S = sum d_s^2 / (S - 1) = ln(1.02)^2 / 2, sigma_d = ln(1.02) / sqrt(2) = 0.01400279,
+// phi = 0 and nu_d = MS_S^2 / (MS_S^2 / 1) = 1 (Satterthwaite with a zero second mean square).
+// Hand computation from the two-way random-effects model (Montgomery, from memory).
+// Point 1: mean 0.0202, specimen line c = mean / sqrt(2): 0.0202 x ln(1.02) / 2 = 2.000065e-4;
+// the independent part is the floor (phi <= 1), the specimens' own u_c: sqrt(mean u_c^2 / 2).
+// A third step holding only specimen A (B missing) is outside the complete block and gets the
+// specimen line with c = mean / sqrt(1).
+TEST(ReduceTest, SpecimenTermFromTwoWayDecomposition) {
+  equilibrate::EquilibriumSet set;
+  set.points.push_back(Point("A", 1, 10.200));
+  set.points.push_back(Point("B", 1, 10.204));
+  set.points.push_back(Point("A", 2, 10.400));
+  set.points.push_back(Point("B", 2, 10.408));
+  set.points.push_back(Point("A", 3, 10.500));
+  set.dry_masses.push_back(Dry("A", 10.0));
+  set.dry_masses.push_back(Dry("B", 10.0));
+  const ReducedIsotherms r = Reduce(Job(), set, ReduceOptions{});
+  ASSERT_EQ(r.specimen_terms.size(), 1u);
+  const SpecimenTerm& term = r.specimen_terms[0];
+  EXPECT_EQ(term.num_steps, 2);
+  EXPECT_NEAR(term.relative_sd, std::log(1.02) / std::sqrt(2.0), 1e-9);
+  EXPECT_NEAR(term.degrees_of_freedom, 1.0, 1e-9);
+  EXPECT_LT(term.independent_variance_ratio, 1e-12);
+  ASSERT_EQ(r.points.size(), 3u);
+  const IsothermPoint& p1 = r.points[0];
+  EXPECT_EQ(p1.specimen_term, 0);
+  EXPECT_NEAR(p1.u_specimen_common_kg_per_kg, 2.000065e-4, 1e-9);
+  const double u_a = r.specimen_points[0].u_moisture_kg_per_kg;
+  const double u_b = r.specimen_points[1].u_moisture_kg_per_kg;
+  const double independent = std::sqrt((u_a * u_a + u_b * u_b) / 2.0 / 2.0);
+  EXPECT_NEAR(p1.u_independent_kg_per_kg, independent, 1e-12);
+  EXPECT_NEAR(p1.u_moisture_kg_per_kg, std::hypot(2.000065e-4, independent), 1e-9);
+  ASSERT_EQ(p1.moisture_budget.size(), 2u);
+  EXPECT_EQ(p1.moisture_budget[0].quantity, "specimen-to-specimen (common to every step, Type A)");
+  EXPECT_EQ(p1.moisture_budget[0].unit, "1");
+  EXPECT_NEAR(p1.moisture_budget[0].degrees_of_freedom, 1.0, 1e-9);
+  // nu_eff by G.2b: only the specimen line is Type A with finite nu.
+  const double c1 = 2.000065e-4;
+  const double u1 = p1.u_moisture_kg_per_kg;
+  EXPECT_NEAR(p1.effective_dof, std::pow(u1, 4) / std::pow(c1, 4), 1e-6);
+  const IsothermPoint& p3 = r.points[2];
+  EXPECT_EQ(p3.num_specimens, 1);
+  EXPECT_NEAR(p3.u_specimen_common_kg_per_kg, 0.05 * std::log(1.02) / std::sqrt(2.0), 1e-9);
+}
+
+// One specimen, or the same specimens at one step only: no specimen term, the rule of
+// combined points as before.
+TEST(ReduceTest, NoSpecimenTermWithOneStep) {
+  equilibrate::EquilibriumSet set;
+  set.points.push_back(Point("A", 1, 10.200));
+  set.points.push_back(Point("B", 1, 10.210));
+  set.dry_masses.push_back(Dry("A", 10.0));
+  set.dry_masses.push_back(Dry("B", 10.0));
+  const ReducedIsotherms r = Reduce(Job(), set, ReduceOptions{});
+  EXPECT_TRUE(r.specimen_terms.empty());
+  EXPECT_EQ(r.points[0].specimen_term, -1);
+  EXPECT_DOUBLE_EQ(r.points[0].u_independent_kg_per_kg, r.points[0].u_moisture_kg_per_kg);
+}
+
 TEST(WelchSatterthwaiteTest, GumG4WorkedExample) {
   // JCGM 100:2008 (GUM), G.4.1 example: Y = b X1 X2 X3, relative standard uncertainties 0.25 %,
   // 0.57 %, 0.82 % from n = 10, 5, 15 observations (nu = 9, 4, 14); u_c(y)/y = 1.03 % and
