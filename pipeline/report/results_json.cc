@@ -415,7 +415,8 @@ Json DistributionJson(const pores::PoreDistribution& d, const DisplayRules& rule
 }
 
 // Surface areas, moisture at the reference conditions, the hygroscopicity class.
-void AddDerivedJson(const pores::PoreAnalysis& pa, const DisplayRules& rules, Json& out) {
+void AddDerivedJson(const pores::PoreAnalysis& pa, const fit::IsothermFits* fits,
+                    const DisplayRules& rules, Json& out) {
   Json areas = Json::array();
   for (const pores::SurfaceArea& s : pa.surface_areas) {
     Json a = QuantityJson(MakeQuantity("surface_area", "specific surface area", s.area_m2_per_g,
@@ -435,6 +436,9 @@ void AddDerivedJson(const pores::PoreAnalysis& pa, const DisplayRules& rules, Js
     Json j = QuantityJson(MoistureQuantity("reference_moisture", "moisture content",
                                            r.moisture_kg_per_kg, r.u_moisture_kg_per_kg, rules));
     j["temperature_K"] = Number(r.condition.temperature_K);
+    // The temperature of the isotherm the value was read from (the reference temperature
+    // only where temperature_matches).
+    j["measured_temperature_K"] = Number(MeasuredTemperature_K(fits, r));
     j["rh_fraction"] = Number(r.condition.rh_fraction);
     j["model"] = r.model_name;
     j["branch"] = BranchLabel(r.branch);
@@ -503,7 +507,7 @@ Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
     distributions.push_back(DistributionJson(d, sheet.rules));
   }
   out["distributions"] = distributions;
-  AddDerivedJson(pa, sheet.rules, out);
+  AddDerivedJson(pa, inputs.fits, sheet.rules, out);
   AddThermodynamicsJson(pa, out);
   out["warnings"] = Diagnostics(pa.summary.warnings);
   return out;

@@ -14,6 +14,13 @@ namespace sorbtrace::report {
 // Top-level keys, in order: schema, software, report, job, inputs, settings, headline,
 // hygroscopicity_class, best_model, cautions, standing_statements, equilibria, isotherm,
 // fits, pores.
+// "headline" keys are unique within a job and name what a value belongs to, temperature in
+// °C ("23C", "23p4C"): moisture_23C_50RH_adsorption; a reference condition whose temperature
+// was not measured is keyed by the temperature it was read at and the reference,
+// moisture_25C_50RH_adsorption_ref_23C (its label: "... not measured at 23 °C; value at
+// 25 °C"); surface_area_<model>_<branch>_<T>C, pore_volume_<method>_<branch>_<T>C,
+// modal_radius_<method>_<branch>_<T>C_<n>, best_<branch>_<T>C_<model>_<parameter>,
+// hygroscopicity_mass_increase. `sorbtrace batch` makes them the columns of summary.csv.
 nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Template& layout,
                                         const ReportOptions& options, const Sheet& sheet,
                                         int num_pages);

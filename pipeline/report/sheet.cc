@@ -252,12 +252,56 @@ std::string BranchLabel(ingest::Branch branch) {
   return "?";
 }
 
-std::string TemperatureLabel(double temperature_K) {
-  return FormatFixed(temperature_K - kZeroCelsius_K, 1) + " °C";
+std::string GroupLabel(const fit::FitGroup& group) {
+  return BranchTemperatureLabel(group.branch, group.temperature_K);
 }
 
-std::string GroupLabel(const fit::FitGroup& group) {
-  return BranchLabel(group.branch) + ", " + TemperatureLabel(group.temperature_K);
+namespace {
+// 0.05 K: half the last digit of a temperature printed to one decimal.
+bool WholeDegree(double celsius) { return std::abs(celsius - std::round(celsius)) < 0.05; }
+}  // namespace
+
+std::string TemperatureLabel(double temperature_K) {
+  const double celsius = temperature_K - kZeroCelsius_K;
+  return FormatFixed(celsius, WholeDegree(celsius) ? 0 : 1) + " °C";
+}
+
+std::string TemperatureKey(double temperature_K) {
+  const double celsius = temperature_K - kZeroCelsius_K;
+  std::string text = FormatFixed(celsius, WholeDegree(celsius) ? 0 : 1);
+  for (char& c : text) {
+    if (c == '.') c = 'p';
+    if (c == '-') c = 'm';
+  }
+  return text + "C";
+}
+
+std::string BranchTemperatureLabel(ingest::Branch branch, double temperature_K) {
+  return BranchLabel(branch) + ", " + TemperatureLabel(temperature_K);
+}
+
+std::string BranchTemperatureKey(ingest::Branch branch, double temperature_K) {
+  return BranchLabel(branch) + "_" + TemperatureKey(temperature_K);
+}
+
+double MeasuredTemperature_K(const fit::IsothermFits* fits,
+                             const pores::ReferenceMoisture& reference) {
+  double measured_K = std::nan("");
+  if (fits == nullptr || reference.model_name.empty()) return measured_K;
+  const double wanted_K = reference.condition.temperature_K;
+  for (size_t g = 0; g < fits->groups.size() && g < fits->best_fit_per_group.size(); ++g) {
+    const int best = fits->best_fit_per_group[g];
+    if (fits->groups[g].branch != reference.branch || best < 0 ||
+        static_cast<size_t>(best) >= fits->fits.size() ||
+        fits->fits[static_cast<size_t>(best)].model_name != reference.model_name) {
+      continue;
+    }
+    const double t_K = fits->groups[g].temperature_K;
+    if (std::isnan(measured_K) || std::abs(t_K - wanted_K) < std::abs(measured_K - wanted_K)) {
+      measured_K = t_K;
+    }
+  }
+  return measured_K;
 }
 
 std::string Section::Heading() const { return fmt::format("{}  {}", number, title); }
@@ -365,24 +409,52 @@ bool WantedReference(const Template& layout, const pores::ReferenceCondition& co
   return wanted;
 }
 
-// Headline: moisture at the reference conditions.
-void AddReferenceMoistures(const pores::PoreAnalysis& pa, const Template& layout,
-                           CautionList& cautions) {
+// A reference moisture as headline: key, label and caution name the temperature the value
+// was measured at. Whether that is the reference temperature is the pores stage's verdict
+// (ReferenceMoisture::temperature_matches: within PoreOptions::temperature_tolerance_K,
+// 0.5 K by default, the tolerance by which the pipeline counts two isotherms as one
+// temperature), so the sheet and the pores stage cannot disagree. A value read at another
+// temperature keeps the reference in its label, marked "not measured", and its key names
+// both ("moisture_25C_50RH_adsorption_ref_23C"): no reader can take it for the reference.
+void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
+                          CautionList& cautions) {
   Sheet& sheet = cautions.sheet;
+  const std::string reference_t = TemperatureLabel(rm.condition.temperature_K);
+  const std::string rh = FormatFixed(rm.condition.rh_fraction * 100.0, 0);
+  const std::string branch = BranchLabel(rm.branch);
+  std::string key = fmt::format("moisture_{}_{}RH_{}", TemperatureKey(rm.condition.temperature_K),
+                                rh, KeyPart(branch));
+  std::string label = fmt::format("Moisture content at {} / {} % RH ({})", reference_t, rh, branch);
+  if (!rm.temperature_matches) {
+    const std::string measured_t = TemperatureLabel(measured_K);
+    key = fmt::format("moisture_{}_{}RH_{}_ref_{}", TemperatureKey(measured_K), rh, KeyPart(branch),
+                      TemperatureKey(rm.condition.temperature_K));
+    label = fmt::format("Moisture content at {} / {} % RH ({}): not measured at {}; value at {}",
+                        reference_t, rh, branch, reference_t, measured_t);
+    cautions.Add(fmt::format(
+        "The reference temperature {} was not measured: moisture contents given for it are read "
+        "from the isotherm measured at {} and are not converted to {}.",
+        reference_t, measured_t, reference_t));
+  }
+  sheet.headline.push_back(MoistureQuantity(std::move(key), std::move(label), rm.moisture_kg_per_kg,
+                                            rm.u_moisture_kg_per_kg, sheet.rules));
+}
+
+// Headline: moisture at the reference conditions. A condition no isotherm could be read at
+// (no fitted adsorption isotherm) gets no headline value, only its caution.
+void AddReferenceMoistures(const pores::PoreAnalysis& pa, const fit::IsothermFits* fits,
+                           const Template& layout, CautionList& cautions) {
   for (const pores::ReferenceMoisture& rm : pa.reference_moisture) {
     if (!WantedReference(layout, rm.condition)) continue;
-    const std::string t = FormatFixed(rm.condition.temperature_K - kZeroCelsius_K, 0);
-    const std::string rh = FormatFixed(rm.condition.rh_fraction * 100.0, 0);
-    sheet.headline.push_back(MoistureQuantity(
-        fmt::format("moisture_{}C_{}RH_{}", t, rh, BranchLabel(rm.branch)),
-        fmt::format("Moisture content at {} °C / {} % RH ({})", t, rh, BranchLabel(rm.branch)),
-        rm.moisture_kg_per_kg, rm.u_moisture_kg_per_kg, sheet.rules));
-    if (!rm.temperature_matches) {
-      cautions.Add(fmt::format(
-          "Moisture at {} °C / {} % RH is taken from an isotherm fitted at another temperature.", t,
-          rh));
+    const double measured_K = MeasuredTemperature_K(fits, rm);
+    if (!rm.model_name.empty() && (rm.temperature_matches || !std::isnan(measured_K))) {
+      AddReferenceMoisture(rm, measured_K, cautions);
     }
-    for (const std::string& f : rm.flags) cautions.Add(f);
+    for (const std::string& f : rm.flags) {
+      // The pores stage's own note of the temperature mismatch ("fitted at ... degC, reference
+      // ... degC: not converted ...") is replaced by the plain caution above.
+      if (rm.temperature_matches || f.rfind("fitted at ", 0) != 0) cautions.Add(f);
+    }
   }
 }
 
@@ -391,10 +463,12 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, Sheet& sheet) {
     std::string model = sa.model_name;
     std::transform(model.begin(), model.end(), model.begin(),
                    [](char c) { return static_cast<char>(std::toupper(c)); });
-    sheet.headline.push_back(MakeQuantity(
-        "surface_area_" + KeyPart(sa.model_name),
-        "Specific surface area (" + model + " monolayer, " + BranchLabel(sa.branch) + ")",
-        sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0, "m²/g", sheet.rules));
+    sheet.headline.push_back(
+        MakeQuantity("surface_area_" + KeyPart(sa.model_name) + "_" +
+                         BranchTemperatureKey(sa.branch, sa.temperature_K),
+                     "Specific surface area (" + model + " monolayer, " +
+                         BranchTemperatureLabel(sa.branch, sa.temperature_K) + ")",
+                     sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0, "m²/g", sheet.rules));
   }
   if (pa.hygroscopicity.applicable) {
     sheet.headline.push_back(MakeQuantity(
@@ -412,8 +486,8 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, Sheet& sheet) {
 
 void AddPoreVolumes(const pores::PoreAnalysis& pa, Sheet& sheet) {
   for (const pores::PoreDistribution& pd : pa.distributions) {
-    const std::string tag = pd.method + "_" + BranchLabel(pd.branch);
-    const std::string what = BranchLabel(pd.branch) + ", " + pd.method;
+    const std::string tag = pd.method + "_" + BranchTemperatureKey(pd.branch, pd.temperature_K);
+    const std::string what = BranchTemperatureLabel(pd.branch, pd.temperature_K) + ", " + pd.method;
     // 1 m3/kg = 1e6 mm3/g; 1 m = 1e9 nm.
     sheet.headline.push_back(
         MakeQuantity("pore_volume_" + tag, "Kelvin-resolved pore volume (" + what + ")",
@@ -502,9 +576,8 @@ void AddBestModels(const fit::IsothermFits& fits, CautionList& cautions) {
     best_names.push_back(row.model_title + " (" + row.group_label + ")");
     for (const Quantity& q : row.parameters) {
       Quantity h = q;
-      h.key = "best_" + KeyPart(BranchLabel(fits.groups[g].branch)) + "_" +
-              FormatFixed(fits.groups[g].temperature_K - kZeroCelsius_K, 0) + "C_" +
-              KeyPart(mf.model_name) + "_" + KeyPart(q.label);
+      h.key = "best_" + BranchTemperatureKey(fits.groups[g].branch, fits.groups[g].temperature_K) +
+              "_" + KeyPart(mf.model_name) + "_" + KeyPart(q.label);
       h.label = row.model_title + " " + q.label + " (" + row.group_label + ")";
       sheet.headline.push_back(std::move(h));
     }
@@ -548,6 +621,23 @@ std::vector<std::string> StandingCautions() {
   };
 }
 
+// A last guard: two headline values never share a key or a label (two isotherms whose
+// temperatures print alike, e.g. 23.00 and 23.02 °C, would): the later one is numbered.
+void MakeHeadlineUnique(Sheet& sheet) {
+  std::set<std::string> keys;
+  std::set<std::string> labels;
+  for (Quantity& q : sheet.headline) {
+    const std::string key = q.key;
+    const std::string label = q.label;
+    for (int n = 2; keys.count(q.key) > 0 || labels.count(q.label) > 0; ++n) {
+      q.key = key + "_" + std::to_string(n);
+      q.label = label + " [" + std::to_string(n) + "]";
+    }
+    keys.insert(q.key);
+    labels.insert(q.label);
+  }
+}
+
 }  // namespace
 
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const ReportOptions& options) {
@@ -556,7 +646,7 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
   CautionList cautions{sheet, {}};
   AddInputCautions(inputs, cautions);
   if (inputs.pores != nullptr) {
-    AddReferenceMoistures(*inputs.pores, layout, cautions);
+    AddReferenceMoistures(*inputs.pores, inputs.fits, layout, cautions);
     AddSurfaceAreasAndClass(*inputs.pores, sheet);
     AddPoreVolumes(*inputs.pores, sheet);
     cautions.AddAll(inputs.pores->summary.warnings);
@@ -568,6 +658,7 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
     AddBestModels(*inputs.fits, cautions);
     cautions.AddAll(inputs.fits->summary.warnings);
   }
+  MakeHeadlineUnique(sheet);
   AddMeasurementCautions(inputs, cautions);
   sheet.standing_cautions = StandingCautions();
   sheet.report_number = "draft";

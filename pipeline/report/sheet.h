@@ -22,7 +22,7 @@ namespace sorbtrace::report {
 
 // One printed number.
 struct Quantity {
-  std::string key;                    // stable identifier, e.g. "moisture_23C_50RH"
+  std::string key;                    // unique identifier, e.g. "moisture_23C_50RH_adsorption"
   std::string label;                  // as printed, e.g. "Moisture content at 23 °C / 50 % RH"
   double value = 0.0;                 // in `unit`
   std::string unit;                   // SI or dimensionless unit of value, e.g. "kg/kg", "m2/g"
@@ -206,8 +206,24 @@ struct Sheet {
 std::string PlainVersion(const std::string& software_version);
 
 std::string BranchLabel(ingest::Branch branch);
-std::string TemperatureLabel(double temperature_K);  // "23 °C"
+// A temperature as a person reads it: "23 °C", or "23.4 °C" when it is not a whole degree
+// (within 0.05 K, half the last printed digit).
+std::string TemperatureLabel(double temperature_K);
 std::string GroupLabel(const fit::FitGroup& group);  // "adsorption, 23 °C"
+
+// The same as a results.json key part: "23C", "23p4C" (keys hold no "°" or ".").
+std::string TemperatureKey(double temperature_K);
+// What a headline result belongs to: "adsorption, 23 °C" / "adsorption_23C". Every headline
+// label and key carries it, so a job with several temperatures has no two alike.
+std::string BranchTemperatureLabel(ingest::Branch branch, double temperature_K);
+std::string BranchTemperatureKey(ingest::Branch branch, double temperature_K);
+
+// The temperature [K] of the isotherm the pores stage read a reference moisture from: the
+// adsorption group whose best fit is the model named in `reference`, nearest the reference
+// temperature (the pores stage's choice, pores/quantities.cc ReferenceMoistureFor). NaN when
+// there is none.
+double MeasuredTemperature_K(const fit::IsothermFits* fits,
+                             const pores::ReferenceMoisture& reference);
 
 // The whole sheet: quantities, cautions and the sections the template lists.
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout,

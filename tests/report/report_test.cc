@@ -5,7 +5,9 @@
 
 #include <gtest/gtest.h>
 
+#include <map>
 #include <nlohmann/json.hpp>
+#include <set>
 #include <string>
 
 #include "pipeline/report/document.h"
@@ -287,6 +289,73 @@ TEST(ComposeReportTest, MissingFontIsAnInputError) {
   ReportOptions options = Options();
   options.font_directory = "/nonexistent/fonts";
   EXPECT_THROW(ComposeReport(fixture.Inputs(), FullTemplate(), options), InputError);
+}
+
+// Headline labels a reader cannot misread (keys and labels name branch and temperature in °C).
+// Two isotherms whose temperatures print alike (23.00 and 23.02 °C) still give unique keys and
+// labels; a temperature that is not a whole degree prints with its decimal.
+TEST(SheetLabelsTest, HeadlineKeysAndLabelsAreUniqueAndNameTheirTemperature) {
+  testing::ReportFixture fx = MakeReportFixture();
+  ASSERT_EQ(fx.pores.surface_areas.size(), 1u);
+  pores::SurfaceArea alike = fx.pores.surface_areas.front();
+  alike.temperature_K += 0.02;
+  pores::SurfaceArea warmer = fx.pores.surface_areas.front();
+  warmer.temperature_K += 0.4;
+  fx.pores.surface_areas.push_back(alike);
+  fx.pores.surface_areas.push_back(warmer);
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+  std::set<std::string> keys, labels;
+  for (const Quantity& q : sheet.headline) {
+    EXPECT_TRUE(keys.insert(q.key).second) << q.key;
+    EXPECT_TRUE(labels.insert(q.label).second) << q.label;
+  }
+  EXPECT_TRUE(keys.count("surface_area_gab_adsorption_23C"));
+  EXPECT_TRUE(keys.count("surface_area_gab_adsorption_23C_2"));
+  EXPECT_TRUE(keys.count("surface_area_gab_adsorption_23p4C"));
+  EXPECT_TRUE(labels.count("Specific surface area (GAB monolayer, adsorption, 23 °C)"));
+  EXPECT_TRUE(labels.count("Specific surface area (GAB monolayer, adsorption, 23 °C) [2]"));
+  EXPECT_TRUE(labels.count("Specific surface area (GAB monolayer, adsorption, 23.4 °C)"));
+  EXPECT_TRUE(keys.count("moisture_23C_50RH_adsorption"));
+  EXPECT_TRUE(labels.count("Moisture content at 23 °C / 50 % RH (adsorption)"));
+}
+
+// A reference condition at 23 °C read from an isotherm measured at 25 °C (the pores stage's
+// temperature_matches = false) is marked as not measured and names 25 °C: in its label, its
+// key, one plain caution (which replaces the pores stage's note) and results.json.
+TEST(SheetLabelsTest, AReferenceTemperatureThatWasNotMeasuredIsMarked) {
+  testing::ReportFixture fx = MakeReportFixture();
+  fx.fits.groups[0].temperature_K = 298.15;  // the adsorption isotherm, now at 25 °C
+  for (pores::ReferenceMoisture& rm : fx.pores.reference_moisture) {
+    rm.temperature_matches = false;
+    rm.flags = {
+        "fitted at 25.00 degC, reference 23.00 degC: not converted to the reference "
+        "temperature"};
+  }
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+  std::map<std::string, std::string> label_of;
+  for (const Quantity& q : sheet.headline) label_of[q.key] = q.label;
+  EXPECT_EQ(label_of["moisture_25C_50RH_adsorption_ref_23C"],
+            "Moisture content at 23 °C / 50 % RH (adsorption): not measured at 23 °C; value at "
+            "25 °C");
+  EXPECT_EQ(label_of["moisture_25C_80RH_adsorption_ref_23C"],
+            "Moisture content at 23 °C / 80 % RH (adsorption): not measured at 23 °C; value at "
+            "25 °C");
+  EXPECT_EQ(label_of.count("moisture_23C_50RH_adsorption"), 0u);
+  int marked = 0;
+  for (const std::string& c : sheet.cautions) {
+    EXPECT_NE(c.rfind("fitted at ", 0), 0u) << c;
+    if (c.find("The reference temperature 23 °C was not measured") == 0) {
+      ++marked;
+      EXPECT_NE(c.find("measured at 25 °C"), std::string::npos) << c;
+    }
+  }
+  EXPECT_EQ(marked, 1);
+  const auto json = BuildResultsJson(fx.Inputs(), FullTemplate(), Options(), sheet, 1);
+  ASSERT_EQ(json["pores"]["reference_moisture"].size(), 2u);
+  for (const auto& r : json["pores"]["reference_moisture"]) {
+    EXPECT_DOUBLE_EQ(r["measured_temperature_K"].get<double>(), 298.15);
+    EXPECT_DOUBLE_EQ(r["temperature_K"].get<double>(), 296.15);
+  }
 }
 
 }  // namespace

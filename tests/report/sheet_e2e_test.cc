@@ -15,12 +15,14 @@
 #include <gtest/gtest.h>
 #include <sys/wait.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
 #include <nlohmann/json.hpp>
 #include <regex>
+#include <set>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -372,6 +374,177 @@ TEST_F(SheetE2eTest, CsvTextCellsCannotStartAFormula) {
   const auto json = nlohmann::json::parse(Slurp(out / "results.json"));
   EXPECT_EQ(json["job"]["specimens"][0]["id"], specimen);
   EXPECT_EQ(json["job"]["datasets"][0]["id"], dataset);
+}
+
+// The left column of the summary's results table as pdftotext -layout prints it: the text of
+// each line before the value column (a run of three or more spaces), from the "Quantity"
+// header to the hygroscopicity row, joined with single spaces (a wrapped label reads whole).
+std::string SummaryLabelColumn(const std::string& layout_text) {
+  std::istringstream lines(layout_text);
+  std::string line;
+  std::string column;
+  bool in_table = false;
+  while (std::getline(lines, line)) {
+    if (!in_table) {
+      in_table = line.rfind("Quantity", 0) == 0;
+      continue;
+    }
+    if (line.rfind("Hygroscopicity class", 0) == 0) break;
+    const std::string left = line.substr(0, line.find("   "));
+    if (!left.empty()) column += (column.empty() ? "" : " ") + left;
+  }
+  return column;
+}
+
+size_t Occurrences(const std::string& text, const std::string& part) {
+  size_t count = 0;
+  for (size_t at = text.find(part); at != std::string::npos; at = text.find(part, at + 1)) ++count;
+  return count;
+}
+
+// RFC 4180 fields of one CSV record without line breaks inside quotes (summary.csv).
+std::vector<std::string> CsvValues(const std::string& line) {
+  std::vector<std::string> fields(1);
+  bool quoted = false;
+  for (size_t i = 0; i < line.size(); ++i) {
+    const char c = line[i];
+    if (quoted && c == '"' && i + 1 < line.size() && line[i + 1] == '"') {
+      fields.back() += '"';
+      ++i;
+    } else if (c == '"') {
+      quoted = !quoted;
+    } else if (c == ',' && !quoted) {
+      fields.emplace_back();
+    } else {
+      fields.back() += c;
+    }
+  }
+  return fields;
+}
+
+// Headline quantities that belong to one isotherm: their keys must name its temperature.
+bool TemperatureDependentKey(const std::string& key) {
+  for (const char* prefix :
+       {"moisture_", "surface_area_", "pore_volume_", "modal_radius_", "best_"}) {
+    if (key.rfind(prefix, 0) == 0) return true;
+  }
+  return false;
+}
+
+// Labels a reader cannot misread: in the two-temperature demo (23 and 40 °C) every headline
+// row of the sheet, every results.json headline key and every summary.csv column is unique
+// and names its temperature in °C, and each summary.csv cell holds the value of that job's
+// quantity of that key (no 23 °C and 40 °C values under one column). The excipient demo is
+// measured at 25 °C only: its 23 °C reference rows say "not measured at 23 °C" and name the
+// 25 °C the value was read at, in the PDF, the HTML, results.json and summary.csv alike.
+TEST_F(SheetE2eTest, HeadlineLabelsKeysAndSummaryColumnsNameTheirTemperature) {
+  const fs::path jobs = root_ / "jobs";
+  fs::create_directories(jobs);
+  for (const char* scenario : {"wood_fibre_board_23C_40C", "excipient_powder_25C"}) {
+    fs::copy(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs" / scenario, jobs / scenario,
+             fs::copy_options::recursive);
+  }
+  const fs::path out = root_ / "out";
+  const CommandRun batch =
+      Sorbtrace("batch " + jobs.string() + " --out " + out.string() + " -j 1 -q");
+  ASSERT_EQ(batch.exit_code, 0) << batch.output;
+
+  // summary.csv: unique columns, temperatures in °C in the key ("23C"), never a kelvin value.
+  std::istringstream csv(Slurp(out / "summary.csv"));
+  std::string header_line;
+  ASSERT_TRUE(std::getline(csv, header_line));
+  const std::vector<std::string> header = CsvValues(header_line);
+  std::set<std::string> columns;
+  for (const std::string& column : header) {
+    EXPECT_TRUE(columns.insert(column).second) << "summary.csv column repeats: " << column;
+    EXPECT_EQ(column.find("296"), std::string::npos) << column;
+    EXPECT_EQ(column.find("313"), std::string::npos) << column;
+  }
+  static const std::regex celsius_key(R"(_[0-9]+(p[0-9])?C(_| |$))");
+  for (const std::string& column : header) {
+    if (TemperatureDependentKey(column)) {
+      EXPECT_TRUE(std::regex_search(column, celsius_key)) << "no temperature: " << column;
+    }
+  }
+  const size_t job_id_column = std::find(header.begin(), header.end(), "job_id") - header.begin();
+  const size_t output_column =
+      std::find(header.begin(), header.end(), "output_dir") - header.begin();
+  ASSERT_LT(output_column, header.size());
+
+  std::string row_line;
+  int jobs_seen = 0;
+  bool saw_two_temperatures = false;
+  bool saw_unmeasured_reference = false;
+  while (std::getline(csv, row_line)) {
+    const std::vector<std::string> row = CsvValues(row_line);
+    ASSERT_EQ(row.size(), header.size()) << row_line;
+    const fs::path job_out = row[output_column];
+    const auto json = nlohmann::json::parse(Slurp(job_out / "results.json"));
+    const std::string job = row[job_id_column];
+    ++jobs_seen;
+
+    // results.json: unique headline keys, each naming its temperature; summary.csv cells
+    // hold exactly this job's value of that key.
+    std::set<std::string> keys;
+    std::set<double> temperatures_C;
+    for (const auto& q : json["headline"]) {
+      const std::string key = q["key"].get<std::string>();
+      EXPECT_TRUE(keys.insert(key).second) << job << ": headline key repeats: " << key;
+      std::smatch m;
+      if (TemperatureDependentKey(key)) {
+        ASSERT_TRUE(std::regex_search(key, m, std::regex(R"(_([0-9]+)C(_|$))"))) << key;
+        temperatures_C.insert(std::stod(m[1]));
+      }
+      std::string unit = q["unit"].get<std::string>();
+      unit = unit.empty() || unit == "1" ? "" : " [" + unit + "]";
+      const size_t at = std::find(header.begin(), header.end(), key + unit) - header.begin();
+      ASSERT_LT(at, header.size()) << job << ": no summary.csv column for " << key;
+      ASSERT_FALSE(row[at].empty()) << job << " " << key;
+      EXPECT_DOUBLE_EQ(std::stod(row[at]), q["value"].get<double>()) << job << " " << key;
+    }
+
+    // The sheet as a reader sees it: every headline label once in the results table.
+    const std::string labels = SummaryLabelColumn(testing::PdfText(job_out / "datasheet.pdf"));
+    ASSERT_FALSE(labels.empty()) << job;
+    for (const auto& q : json["headline"]) {
+      EXPECT_EQ(Occurrences(labels, q["label"].get<std::string>()), 1u)
+          << job << ": \"" << q["label"].get<std::string>() << "\" in\n"
+          << labels;
+    }
+    if (temperatures_C == std::set<double>{23.0, 40.0}) {
+      saw_two_temperatures = true;
+      EXPECT_GE(Occurrences(labels, "(GAB monolayer, adsorption, 23 °C)"), 1u) << labels;
+      EXPECT_GE(Occurrences(labels, "(GAB monolayer, adsorption, 40 °C)"), 1u) << labels;
+    }
+
+    // A reference at a temperature that was not measured says so and names the measured one.
+    for (const auto& r : json["pores"]["reference_moisture"]) {
+      if (r["temperature_matches"].get<bool>()) continue;
+      saw_unmeasured_reference = true;
+      // The excipient demo: reference 23 °C (296.15 K), measured at 25 °C (298.15 K).
+      EXPECT_NEAR(r["temperature_K"].get<double>(), 296.15, 1e-9) << job;
+      // The group temperature is the mean of the logged chamber temperatures (the demo's log
+      // scatters around 25 °C); within 0.05 K it prints as "25 °C".
+      EXPECT_NEAR(r["measured_temperature_K"].get<double>(), 298.15, 0.05) << job;
+      const std::string rh = std::to_string(std::lround(100.0 * r["rh_fraction"].get<double>()));
+      const std::string label = "Moisture content at 23 °C / " + rh +
+                                " % RH (adsorption): not measured at 23 °C; value at 25 °C";
+      const std::string key = "moisture_25C_" + rh + "RH_adsorption_ref_23C";
+      EXPECT_EQ(Occurrences(labels, label), 1u) << job << "\n" << labels;
+      EXPECT_TRUE(keys.count(key) == 1) << job << ": " << key;
+      EXPECT_LT(std::find(header.begin(), header.end(), key + " [kg/kg]") - header.begin(),
+                static_cast<std::ptrdiff_t>(header.size()))
+          << key;
+      EXPECT_NE(Slurp(job_out / "datasheet.html").find(label), std::string::npos) << label;
+      // Nowhere is a 23 °C value offered without the mark.
+      EXPECT_EQ(Occurrences(labels, "Moisture content at 23 °C / " + rh + " % RH (adsorption)"),
+                1u);
+      EXPECT_FALSE(keys.count("moisture_23C_" + rh + "RH_adsorption")) << job;
+    }
+  }
+  EXPECT_EQ(jobs_seen, 2);
+  EXPECT_TRUE(saw_two_temperatures);
+  EXPECT_TRUE(saw_unmeasured_reference);
 }
 
 }  // namespace
