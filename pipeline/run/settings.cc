@@ -916,6 +916,32 @@ std::filesystem::path ResolveTemplate(const std::string& name_or_path,
   return dir / (name_or_path + ".toml");
 }
 
+namespace {
+
+// The job's declared material class as the pore stage needs it (pores::MaterialClass): porous
+// minerals have rigid pores a Kelvin analysis can size; wood and fibres, polymers,
+// pharmaceutical powders and foods swell or take water into their structure (sorption by
+// dissolution in the solid, not capillary condensation in fixed pores: Skaar, "Wood-Water
+// Relations", 1988, ch. 3; Zografi & Kontny, Pharm. Res. 3 (1986) 187), so the pore section is
+// omitted for them; "other" and an unstated class leave the section with its caution.
+pores::MaterialClass PoreMaterialClassOf(ingest::MaterialClass material_class) {
+  switch (material_class) {
+    case ingest::MaterialClass::kPorousMineral:
+      return pores::MaterialClass::kRigid;
+    case ingest::MaterialClass::kWoodOrFibre:
+    case ingest::MaterialClass::kPolymer:
+    case ingest::MaterialClass::kPharmaceuticalPowder:
+    case ingest::MaterialClass::kFood:
+      return pores::MaterialClass::kSwelling;
+    case ingest::MaterialClass::kUnstated:
+    case ingest::MaterialClass::kOther:
+      break;
+  }
+  return pores::MaterialClass::kNotStated;
+}
+
+}  // namespace
+
 JobSettings LoadJobSettings(const std::filesystem::path& job_file, const ingest::JobSpec& job,
                             const std::filesystem::path& output_dir) {
   (void)output_dir;
@@ -957,6 +983,7 @@ JobSettings LoadJobSettings(const std::filesystem::path& job_file, const ingest:
 
   // The pore-distribution band is drawn at the fit stage's confidence level.
   settings.pores.band_confidence_level = settings.fit.confidence_level;
+  settings.pores.material_class = PoreMaterialClassOf(job.material_class);
   std::string error;
   if (!settings.fit.IsValid(&error) || !settings.pores.IsValid(&error) ||
       !settings.equilibrate.IsValid(&error) || !settings.reduce.IsValid(&error)) {

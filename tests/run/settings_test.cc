@@ -4,6 +4,7 @@
 #include <filesystem>
 #include <fstream>
 #include <string>
+#include <utility>
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/run/run.h"
@@ -32,6 +33,27 @@ TEST(JobSettingsTest, DefaultsWhenSectionsAreAbsent) {
   EXPECT_EQ(s.fit.bootstrap_resamples, 1000);
   EXPECT_EQ(s.template_file.filename(), "full.toml");
   EXPECT_EQ(s.effective["fit"]["loss"], "squared");
+}
+
+// The declared material class decides the pore-size section (docs/input-formats.md, [job]
+// material_class): swelling classes omit it, porous minerals report it, the rest caution.
+TEST(JobSettingsTest, MaterialClassDecidesThePoreSection) {
+  const auto path = WriteJob("material.toml", "[job]\nid = \"X\"\n");
+  const std::pair<ingest::MaterialClass, pores::MaterialClass> cases[] = {
+      {ingest::MaterialClass::kUnstated, pores::MaterialClass::kNotStated},
+      {ingest::MaterialClass::kOther, pores::MaterialClass::kNotStated},
+      {ingest::MaterialClass::kPorousMineral, pores::MaterialClass::kRigid},
+      {ingest::MaterialClass::kWoodOrFibre, pores::MaterialClass::kSwelling},
+      {ingest::MaterialClass::kPolymer, pores::MaterialClass::kSwelling},
+      {ingest::MaterialClass::kPharmaceuticalPowder, pores::MaterialClass::kSwelling},
+      {ingest::MaterialClass::kFood, pores::MaterialClass::kSwelling},
+  };
+  for (const auto& [declared, expected] : cases) {
+    ingest::JobSpec job = FullTemplateJob();
+    job.material_class = declared;
+    const JobSettings s = LoadJobSettings(path, job, "out");
+    EXPECT_EQ(s.pores.material_class, expected) << ingest::MaterialClassName(declared);
+  }
 }
 
 TEST(JobSettingsTest, OverridesAreConvertedToSiAndRecorded) {
