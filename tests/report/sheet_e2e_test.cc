@@ -332,6 +332,38 @@ TEST_F(SheetE2eTest, SectionCrossReferencesFollowTheTemplate) {
   EXPECT_NE(one.find("they apply to those specimens only"), std::string::npos);
 }
 
+// A material that swells or takes water into its structure has no rigid pores for the Kelvin
+// equation to size ([job] material_class, docs/input-formats.md): the sheet says so in words and
+// gives no pore volume or modal radius; a porous mineral keeps its pore-size results.
+TEST_F(SheetE2eTest, SwellingMaterialClassOmitsThePoreSizeResults) {
+  const fs::path dir = CopyScenario("wood_fibre_board_vapour", "job");
+  Rewrite(dir / "job.toml", "[job]\n", "[job]\nmaterial_class = \"wood_or_fibre\"\n");
+  const CommandRun made = Sorbtrace("make " + (dir / "job.toml").string() + " --out " +
+                                    (root_ / "swelling").string() + " -q");
+  ASSERT_EQ(made.exit_code, 0) << made.output;
+  const std::string text =
+      testing::CollapseSpaces(testing::PdfText(root_ / "swelling/datasheet.pdf"));
+  EXPECT_NE(text.find("No pore-size distribution is given: the material swells"), std::string::npos)
+      << text;
+  const nlohmann::json results = nlohmann::json::parse(Slurp(root_ / "swelling/results.json"));
+  ASSERT_FALSE(results["headline"].empty());
+  for (const auto& entry : results["headline"]) {
+    const std::string key = entry["key"].get<std::string>();
+    EXPECT_EQ(key.find("pore_volume"), std::string::npos) << key;
+    EXPECT_EQ(key.find("modal_radius"), std::string::npos) << key;
+  }
+
+  Rewrite(dir / "job.toml", "\"wood_or_fibre\"", "\"porous_mineral\"");
+  const CommandRun rigid = Sorbtrace("make " + (dir / "job.toml").string() + " --out " +
+                                     (root_ / "rigid").string() + " -q");
+  ASSERT_EQ(rigid.exit_code, 0) << rigid.output;
+  const std::string rigid_json = Slurp(root_ / "rigid/results.json");
+  EXPECT_NE(rigid_json.find("pore_volume"), std::string::npos);
+  EXPECT_EQ(testing::CollapseSpaces(testing::PdfText(root_ / "rigid/datasheet.pdf"))
+                .find("the material swells"),
+            std::string::npos);
+}
+
 TEST_F(SheetE2eTest, CsvTextCellsCannotStartAFormula) {
   // OWASP "CSV Injection": cells starting with =, +, -, @, tab or CR run as formulas.
   const fs::path dir = CopyScenario("excipient_powder_25C", "inject");
