@@ -1,10 +1,14 @@
 #include "pipeline/run/audit.h"
 
+#include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <set>
+#include <sstream>
 
 #include "pipeline/common/bounded_input.h"
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/common/files.h"
 
 namespace sorbtrace::run {
 namespace {
@@ -103,6 +107,39 @@ nlohmann::json ReadResultsFile(const std::filesystem::path& path) {
     }
   }
   return results;
+}
+
+std::string OutputManifestText(
+    const std::vector<std::pair<std::string, std::string>>& files_and_bytes) {
+  std::string text;
+  for (const auto& [name, bytes] : files_and_bytes) text += Sha256Hex(bytes) + "  " + name + "\n";
+  return text;
+}
+
+std::vector<ManifestEntry> ParseOutputManifest(const std::filesystem::path& manifest_file,
+                                               const std::string& text) {
+  // sha256sum's line: 64 hex digits, two spaces (text mode), the file name.
+  constexpr size_t kHexDigits = 64;
+  std::vector<ManifestEntry> entries;
+  std::istringstream lines(text);
+  std::string line;
+  int line_number = 0;
+  while (std::getline(lines, line)) {
+    ++line_number;
+    const bool hex = line.size() > kHexDigits + 2 &&
+                     std::all_of(line.begin(), line.begin() + kHexDigits, [](unsigned char c) {
+                       return std::isdigit(c) != 0 || (c >= 'a' && c <= 'f');
+                     });
+    const std::string name = hex ? line.substr(kHexDigits + 2) : std::string();
+    if (!hex || line.compare(kHexDigits, 2, "  ") != 0 || name.empty() ||
+        name.find('/') != std::string::npos || name == "." || name == "..") {
+      throw InputError(SourceLocation{manifest_file.string(), line_number, 1},
+                       "not a manifest line: '" + Excerpt(line) + "'",
+                       "64 lower-case hex digits, two spaces and a file name of the folder");
+    }
+    entries.push_back({line.substr(0, kHexDigits), name});
+  }
+  return entries;
 }
 
 }  // namespace sorbtrace::run

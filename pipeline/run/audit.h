@@ -5,6 +5,7 @@
 #include <filesystem>
 #include <nlohmann/json.hpp>
 #include <string>
+#include <utility>
 #include <vector>
 
 namespace sorbtrace::run {
@@ -37,5 +38,26 @@ std::vector<AuditLine> CompareResults(const nlohmann::json& reported,
 // (an object with settings.job_file a string and inputs a list of objects whose role, path and
 // sha256 are strings). Throws InputError naming the file and the field.
 nlohmann::json ReadResultsFile(const std::filesystem::path& path);
+
+// The output manifest: `make` writes kOutputManifestName beside results.json, one line per
+// file it wrote ("<lower-case hex SHA-256>  <file name>\n", the format of GNU coreutils'
+// `sha256sum`, so `sha256sum -c outputs.sha256` checks it without sorbtrace), in the order
+// written. File names only: the check works wherever the output folder is moved. `verify`
+// checks every listed file against it, and that datasheet and results.json are listed.
+inline constexpr char kOutputManifestName[] = "outputs.sha256";
+
+struct ManifestEntry {
+  std::string sha256_hex;
+  std::string file_name;
+};
+
+// Manifest text of (file name, bytes) pairs.
+std::string OutputManifestText(
+    const std::vector<std::pair<std::string, std::string>>& files_and_bytes);
+
+// Parses a manifest; a line that is not "<64 hex>  <plain file name>" throws InputError naming
+// the manifest's line. File names with a folder part are refused (never followed).
+std::vector<ManifestEntry> ParseOutputManifest(const std::filesystem::path& manifest_file,
+                                               const std::string& text);
 
 }  // namespace sorbtrace::run

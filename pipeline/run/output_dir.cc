@@ -32,6 +32,7 @@
 #include "pipeline/common/cleanup.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
+#include "pipeline/run/audit.h"
 #include "pipeline/run/run.h"
 
 namespace sorbtrace::run {
@@ -254,9 +255,11 @@ void WriteOutputDirectory(const RunResult& result, const fs::path& output_dir) {
   }
   try {
     std::vector<std::string> names;
+    std::vector<std::pair<std::string, std::string>> written;  // for the manifest
     auto write = [&](const std::string& name, const std::string& content) {
       WriteFileAtomically(staging / name, content);
       names.push_back(name);
+      written.emplace_back(name, content);
     };
     if (!result.artifacts.pdf.empty()) write("datasheet.pdf", result.artifacts.pdf);
     RaiseTestSignalIfRequested();
@@ -264,6 +267,8 @@ void WriteOutputDirectory(const RunResult& result, const fs::path& output_dir) {
     write("results.json", result.artifacts.results_json);
     for (const auto& [name, content] : result.artifacts.csv_files) write(name, content);
     write("run.log", result.log);
+    const std::string manifest = OutputManifestText(written);
+    write(kOutputManifestName, manifest);
     WriteFileAtomically(staging / kOutputMarkerName, MarkerText(result.job.job_id, names));
   } catch (...) {
     fs::remove_all(staging, ec);

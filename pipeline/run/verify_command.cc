@@ -102,6 +102,49 @@ std::string Line(const AuditLine& line) {
          (line.tolerance > 0 ? std::string("rel ") + tolerance : std::string("exact"));
 }
 
+// Checks every file the output manifest lists (kOutputManifestName beside results.json) and
+// that results.json itself is listed with its present bytes; records one line per file and
+// returns the number of failures. A folder without a manifest fails: `make` always writes one.
+template <typename Record>
+int CheckOutputManifest(const std::filesystem::path& results_dir,
+                        const std::filesystem::path& results_file, Record& record) {
+  const std::filesystem::path manifest_file = results_dir / kOutputManifestName;
+  std::vector<ManifestEntry> entries;
+  try {
+    entries = ParseOutputManifest(manifest_file, ReadWholeFile(manifest_file));
+  } catch (const InputError& error) {
+    record(fmt::format("FAIL  outputs {}  {}", kOutputManifestName, error.diagnostic().message),
+           false, true);
+    return 1;
+  }
+  int failures = 0;
+  bool results_listed = false;
+  for (const ManifestEntry& entry : entries) {
+    const std::filesystem::path file = results_dir / entry.file_name;
+    std::error_code ec;
+    results_listed = results_listed || std::filesystem::equivalent(file, results_file, ec);
+    std::string actual;
+    try {
+      actual = Sha256HexOfFile(file);
+    } catch (const InputError& error) {
+      actual = "(" + error.diagnostic().message + ")";
+    }
+    const bool same = actual == entry.sha256_hex;
+    if (!same) ++failures;
+    record(fmt::format("{}  output {}  sha256 {}", same ? "pass" : "FAIL", entry.file_name,
+                       same ? std::string("as issued")
+                            : fmt::format("CHANGED: issued {}, now {}", entry.sha256_hex, actual)),
+           same, true);
+  }
+  if (!results_listed) {
+    ++failures;
+    record(fmt::format("FAIL  outputs {} does not list {}", kOutputManifestName,
+                       results_file.filename().string()),
+           false, true);
+  }
+  return failures;
+}
+
 int Verify(const VerifyArguments& args) {
   namespace fs = std::filesystem;
   const nlohmann::json reported = ParseResults(args.results_file);
@@ -138,6 +181,9 @@ int Verify(const VerifyArguments& args) {
     if (!passed) ++failures;
     if (!passed || always_print || args.show_all) std::printf("%s\n", text.c_str());
   };
+
+  // 0. The issued files unchanged? (the manifest `make` wrote beside results.json)
+  const int output_failures = CheckOutputManifest(results_dir, fs::path(args.results_file), record);
 
   // 1. Inputs unchanged? Every path is resolved before anything is opened or written.
   struct ResolvedInput {
@@ -194,8 +240,9 @@ int Verify(const VerifyArguments& args) {
                             : fmt::format("CHANGED: recorded {}, now {}", input.expected, actual)),
            same, true);
   }
-  if (failures > 0) {
-    std::printf("verify: %d input file(s) changed or missing; numbers not re-derived\n", failures);
+  if (failures > output_failures) {
+    std::printf("verify: %d input file(s) changed or missing; numbers not re-derived\n",
+                failures - output_failures);
     write_report();
     return static_cast<int>(ExitCode::kAuditMismatch);
   }

@@ -2,6 +2,8 @@
 
 #include <gtest/gtest.h>
 
+#include "pipeline/common/diagnostics.h"
+
 namespace sorbtrace::run {
 namespace {
 
@@ -43,6 +45,36 @@ TEST(AuditCompareTest, ChangedTextFails) {
   const auto a = nlohmann::json{{"class", "hygroscopic"}};
   const auto b = nlohmann::json{{"class", "slightly hygroscopic"}};
   EXPECT_FALSE(CompareResults(a, b)[0].passed);
+}
+
+// The manifest is sha256sum's format (GNU coreutils: "<hex>  <name>"); SHA-256 of "abc" is
+// ba7816bf...15ad (FIPS 180-2, appendix B.1).
+TEST(OutputManifestTest, WritesAndReadsSha256sumLines) {
+  const std::string text = OutputManifestText({{"a.txt", "abc"}, {"b.csv", ""}});
+  EXPECT_EQ(text.substr(0, 72),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad  a.txt\n");
+  const auto entries = ParseOutputManifest("outputs.sha256", text);
+  ASSERT_EQ(entries.size(), 2u);
+  EXPECT_EQ(entries[0].file_name, "a.txt");
+  EXPECT_EQ(entries[1].file_name, "b.csv");
+  EXPECT_EQ(entries[1].sha256_hex,
+            "e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855");  // empty input
+}
+
+TEST(OutputManifestTest, RefusesFoldersAndMalformedLinesAtTheirLine) {
+  const std::string good =
+      "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad  a.txt\n";
+  for (const std::string& bad :
+       {std::string("ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad  ../x\n"),
+        std::string("BA7816BF8F01CFEA414140DE5DAE2223B00361A396177A9CB410FF61F20015AD  a\n"),
+        std::string("ba78  a.txt\n"), std::string("\n")}) {
+    try {
+      ParseOutputManifest("outputs.sha256", good + bad);
+      ADD_FAILURE() << "accepted: " << bad;
+    } catch (const InputError& error) {
+      EXPECT_EQ(error.diagnostic().where.line, 2) << bad;
+    }
+  }
 }
 
 }  // namespace

@@ -231,6 +231,48 @@ TEST_F(RunE2eTest, AuditFailsAfterOneReportedNumberChanges) {
       << verified.output;
 }
 
+// The issued files themselves are checked: `make` writes outputs.sha256 (sha256sum format)
+// beside results.json, `verify` fails when one byte of the datasheet changes or the manifest
+// is gone, and passes wherever the whole output folder is moved.
+TEST_F(RunE2eTest, AuditChecksTheIssuedFilesWhereverTheFolderIsMoved) {
+  const fs::path job = Jobs().front();
+  const fs::path out = root_ / "out";
+  ASSERT_EQ(Sorbtrace("make " + job.string() + " --out " + out.string() + " -q").exit_code, 0);
+  const std::string manifest = ReadWholeFile(out / "outputs.sha256");
+  for (const fs::path& file : fs::directory_iterator(out)) {
+    const std::string name = file.filename().string();
+    if (name == "outputs.sha256" || name == ".sorbtrace-output") continue;
+    EXPECT_NE(manifest.find(Sha256HexOfFile(file) + "  " + name + "\n"), std::string::npos)
+        << name << "\n"
+        << manifest;
+  }
+
+  const fs::path moved = root_ / "archive" / "2026" / "issued";
+  fs::create_directories(moved.parent_path());
+  fs::rename(out, moved);
+  const CommandRun audit =
+      Sorbtrace("verify " + (moved / "results.json").string() + " --job " + job.string());
+  EXPECT_EQ(audit.exit_code, 0) << audit.output;
+  EXPECT_NE(audit.output.find("pass  output datasheet.pdf  sha256 as issued"), std::string::npos)
+      << audit.output;
+
+  std::string pdf = ReadWholeFile(moved / "datasheet.pdf");
+  pdf[pdf.size() / 2] = static_cast<char>(pdf[pdf.size() / 2] ^ 0x01);
+  std::ofstream(moved / "datasheet.pdf", std::ios::binary) << pdf;
+  const CommandRun tampered =
+      Sorbtrace("verify " + (moved / "results.json").string() + " --job " + job.string());
+  EXPECT_EQ(tampered.exit_code, 5) << tampered.output;
+  EXPECT_NE(tampered.output.find("FAIL  output datasheet.pdf  sha256 CHANGED"), std::string::npos)
+      << tampered.output;
+
+  fs::remove(moved / "outputs.sha256");
+  const CommandRun unlisted =
+      Sorbtrace("verify " + (moved / "results.json").string() + " --job " + job.string());
+  EXPECT_EQ(unlisted.exit_code, 5) << unlisted.output;
+  EXPECT_NE(unlisted.output.find("FAIL  outputs outputs.sha256"), std::string::npos)
+      << unlisted.output;
+}
+
 TEST_F(RunE2eTest, BatchReportsABrokenJobAndFinishesTheOthers) {
   const fs::path batch = root_ / "batch";
   fs::create_directories(batch);
