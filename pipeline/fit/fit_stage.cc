@@ -38,7 +38,7 @@ Diagnostic Warning(std::string message) {
 }
 
 std::string GroupName(const FitGroup& group) {
-  return fmt::format("{} at {:.2f} K", internal::BranchLabel(group.branch), group.temperature_K);
+  return fmt::format("{} at {:.2f} K", ingest::BranchName(group.branch), group.temperature_K);
 }
 
 // band_points values evenly spaced over [low, high] (low alone for one point).

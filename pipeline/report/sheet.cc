@@ -240,17 +240,7 @@ std::string PlainVersion(const std::string& software_version) {
   return software_version;
 }
 
-std::string BranchLabel(ingest::Branch branch) {
-  switch (branch) {
-    case ingest::Branch::kAdsorption:
-      return "adsorption";
-    case ingest::Branch::kDesorption:
-      return "desorption";
-    case ingest::Branch::kDrying:
-      return "drying";
-  }
-  return "?";
-}
+std::string BranchLabel(ingest::Branch branch) { return std::string(ingest::BranchName(branch)); }
 
 std::string GroupLabel(const fit::FitGroup& group) {
   return BranchTemperatureLabel(group.branch, group.temperature_K);
