@@ -7,6 +7,7 @@
 #include <set>
 #include <utility>
 
+#include "pipeline/physics/physics.h"
 #include "pipeline/report/format.h"
 #include "pipeline/report/plot/text.h"
 #include "pipeline/report/sections.h"
@@ -14,7 +15,7 @@
 namespace sorbtrace::report {
 namespace {
 
-constexpr double kZeroCelsius_K = 273.15;  // ITS-90 offset
+using physics::kZeroCelsius_K;
 // A parameter correlation this close to +-1 makes the pair poorly determined (common practice
 // in nonlinear regression reports).
 constexpr double kNotableCorrelation = 0.95;
