@@ -11,6 +11,7 @@
 #include <limits>
 #include <stdexcept>
 
+#include "fitters/numerical_failure.h"
 #include "fitters/registry.h"
 #include "pipeline/physics/physics.h"
 #include "pipeline/pores/distribution.h"
@@ -538,8 +539,11 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
       }
     } catch (const InputError&) {
       throw;
-    } catch (const std::exception& e) {
+    } catch (const std::invalid_argument& e) {  // MakeFilmCurve: no fit to take the film from
       Warn(&out, fmt::format("pores: no distribution for the {}: {}", GroupWords(group), e.what()));
+    } catch (...) {
+      Warn(&out, fmt::format("pores: no distribution for the {}: {}", GroupWords(group),
+                             fitters::NumericalFailureMessage()));
     }
   }
 
@@ -565,8 +569,9 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
           internal::IsostericHeatFrom(best_desorption, ingest::Branch::kDesorption, options);
       if (q.available) out.isosteric_heat.push_back(std::move(q));
     }
-  } catch (const std::exception& e) {
-    Warn(&out, fmt::format("pores: datasheet quantities incomplete: {}", e.what()));
+  } catch (...) {
+    Warn(&out, fmt::format("pores: datasheet quantities incomplete: {}",
+                           fitters::NumericalFailureMessage()));
   }
   if (out.applicability.section == PoreSection::kReportedWithCaution) {
     for (PoreDistribution& d : out.distributions) {
