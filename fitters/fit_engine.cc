@@ -11,6 +11,7 @@
 #include "fitters/internal/fit_workspace.h"
 #include "fitters/internal/random.h"
 #include "fitters/internal/statistics.h"
+#include "fitters/numerical_failure.h"
 
 namespace sorbtrace::fitters {
 namespace {
@@ -369,11 +370,11 @@ FitResult FitModel(const Model& model, const std::vector<Observation>& observati
                    const ModelContext& context, const FitOptions& options) {
   try {
     return FitModelUnguarded(model, observations, context, options);
-  } catch (const std::exception& e) {
+  } catch (...) {  // a numerical failure becomes a failed fit; a bug propagates
     FitResult result;
     result.model_name = model.name();
     result.summary.termination = FitTermination::kFailure;
-    result.summary.message = std::string("internal error in the fit: ") + e.what();
+    result.summary.message = "numerical failure in the fit: " + NumericalFailureMessage();
     result.summary.flags.push_back(result.summary.message);
     return result;
   }

@@ -10,9 +10,6 @@
 
 #include "fuzz/fuzz_support.h"
 #include "pipeline/common/diagnostics.h"
-#include "pipeline/equilibrate/equilibrate.h"
-#include "pipeline/ingest/ingest.h"
-#include "pipeline/reduce/reduce.h"
 #include "pipeline/run/run.h"
 
 namespace sorbtrace::fuzz {
@@ -38,16 +35,11 @@ id = "S3"
 dry_mass_g = 10.0
 )";
 
-// The work of `sorbtrace check JOB` (pipeline/run/check_command.cc) without the printing.
+// The work of `sorbtrace check JOB` (pipeline/run/check_command.cc) without the printing:
+// run::PrepareJob, the same stage order as check and make.
 inline void CheckJob(const std::filesystem::path& job_path) {
   try {
-    const ingest::JobSpec spec = ingest::LoadJobSpec(job_path);
-    const run::JobSettings settings = run::LoadJobSettings(job_path, spec, {});
-    const ingest::IngestResult ingested = ingest::Ingest(spec, settings.ingest);
-    const equilibrate::EquilibriumSet equilibria =
-        equilibrate::Equilibrate(ingested, settings.equilibrate);
-    const reduce::ReducedIsotherms reduced = reduce::Reduce(ingested, equilibria, settings.reduce);
-    run::CheckWorkBudget(settings, reduced);
+    run::PrepareJob(job_path, {}, {});
   } catch (const InputError&) {
     // Rejected with a located diagnostic: the expected outcome for bad bytes.
   }

@@ -47,6 +47,13 @@ double RhTemperatureCoefficientAtConstantVapourPressure(double rh_fraction, doub
 void SetDesiccatorRh(const ingest::DesiccatorStep& step, const ingest::JobSpec& job,
                      const SourceLocation& where, EquilibriumPoint& point) {
   if (step.salt) {
+    // The salt table's refusals are input errors; any other exception is a bug (exit code 70).
+    auto no_humidity = [&](const std::exception& error) {
+      return InputError(where,
+                        fmt::format("no humidity for salt '{}' at {:.2f} degC: {}", *step.salt,
+                                    physics::KelvinToCelsius(step.temperature_K), error.what()),
+                        "a salt of Greenspan (1977) inside its tabulated temperature range");
+    };
     try {
       const physics::SaltHumidity salt =
           physics::SaltSolutionHumidity(*step.salt, step.temperature_K);
@@ -57,11 +64,10 @@ void SetDesiccatorRh(const ingest::DesiccatorStep& step, const ingest::JobSpec& 
       point.step_label = physics::CanonicalSaltName(*step.salt);
       point.rh_source = fmt::format("{}, {}", physics::CanonicalSaltName(*step.salt),
                                     physics::SaltHumidityMethod(*step.salt));
-    } catch (const std::exception& error) {
-      throw InputError(where,
-                       fmt::format("no humidity for salt '{}' at {:.2f} degC: {}", *step.salt,
-                                   physics::KelvinToCelsius(step.temperature_K), error.what()),
-                       "a salt of Greenspan (1977) inside its tabulated temperature range");
+    } catch (const std::invalid_argument& error) {  // unknown salt
+      throw no_humidity(error);
+    } catch (const physics::RangeError& error) {  // temperature outside the salt's table
+      throw no_humidity(error);
     }
     return;
   }

@@ -13,6 +13,7 @@
 #include <utility>
 
 #include "fitters/models/bet.h"
+#include "fitters/numerical_failure.h"
 #include "fitters/registry.h"
 #include "pipeline/fit/grouping.h"
 
@@ -38,7 +39,7 @@ Diagnostic Warning(std::string message) {
 }
 
 std::string GroupName(const FitGroup& group) {
-  return fmt::format("{} at {:.2f} K", internal::BranchLabel(group.branch), group.temperature_K);
+  return fmt::format("{} at {:.2f} K", ingest::BranchName(group.branch), group.temperature_K);
 }
 
 // band_points values evenly spaced over [low, high] (low alone for one point).
@@ -168,12 +169,8 @@ bool ApplySpecimenTerm(const fitters::Model& model,
       std::vector<fitters::Observation> shifted = observations;
       const double z = side == 0 ? h : -h;
       for (std::size_t i = 0; i < shifted.size(); ++i) shifted[i].y *= 1.0 + factor.weights[i] * z;
-      fitters::FitResult moved;
-      try {
-        moved = fitters::FitModel(model, shifted, context, refit);
-      } catch (const std::exception&) {
-        return false;
-      }
+      // FitModel turns a numerical failure into a failed fit; a bug propagates.
+      const fitters::FitResult moved = fitters::FitModel(model, shifted, context, refit);
       if (!moved.ok() || moved.parameters.size() != p) return false;
       ends[side] = moved.parameters;
     }
@@ -261,14 +258,7 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   const fitters::FitOptions fit_options = EngineOptions(options);
 
   ++summary->fits_attempted;
-  try {
-    fit.result = fitters::FitModel(model, observations, context, fit_options);
-  } catch (const std::exception& error) {
-    fit.result = fitters::FitResult();
-    fit.result.model_name = model.name();
-    fit.result.summary.termination = fitters::FitTermination::kFailure;
-    fit.result.summary.message = fmt::format("fit failed: {}", error.what());
-  }
+  fit.result = fitters::FitModel(model, observations, context, fit_options);
   for (const std::string& flag : fit.result.summary.flags) AddFlag(&fit.flags, flag);
   if (!fit.result.ok()) {
     if (fit.flags.empty()) {
@@ -310,8 +300,8 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
       fit.band =
           fitters::DeltaMethodBand(model, fit.result, context, grid, options.confidence_level);
     }
-  } catch (const std::exception& error) {
-    AddFlag(&fit.flags, fmt::format("band failed: {}", error.what()));
+  } catch (...) {
+    AddFlag(&fit.flags, fmt::format("band failed: {}", fitters::NumericalFailureMessage()));
   }
 
   fitters::FitOptions refit_options = fit_options;
@@ -331,8 +321,8 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     try {
       fit.bootstrap =
           fitters::Resample(model, observations, context, resample_base, refit_options, resample);
-    } catch (const std::exception& error) {
-      AddFlag(&fit.flags, fmt::format("bootstrap failed: {}", error.what()));
+    } catch (...) {
+      AddFlag(&fit.flags, fmt::format("bootstrap failed: {}", fitters::NumericalFailureMessage()));
     }
   }
   if (options.monte_carlo_draws > 0) {
@@ -343,8 +333,9 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     try {
       fit.monte_carlo =
           fitters::Resample(model, observations, context, resample_base, refit_options, resample);
-    } catch (const std::exception& error) {
-      AddFlag(&fit.flags, fmt::format("Monte Carlo failed: {}", error.what()));
+    } catch (...) {
+      AddFlag(&fit.flags,
+              fmt::format("Monte Carlo failed: {}", fitters::NumericalFailureMessage()));
     }
   }
 

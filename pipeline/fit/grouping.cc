@@ -80,7 +80,7 @@ void RepairSigmas(FitGroup* group, std::vector<Diagnostic>* warnings) {
     }
   }
   const std::string where =
-      fmt::format("{} at {:.2f} K", BranchLabel(group->branch), group->temperature_K);
+      fmt::format("{} at {:.2f} K", ingest::BranchName(group->branch), group->temperature_K);
   if (none_valid) {
     warnings->push_back(
         Warning(fmt::format("fit group {}: no point has a positive moisture uncertainty; the "
@@ -141,18 +141,6 @@ std::vector<SpecimenFactor> SpecimenFactors(const reduce::ReducedIsotherms& redu
         term.relative_sd * std::sqrt(static_cast<double>(same->specimen_ids.size()));
   }
   return factors;
-}
-
-const char* BranchLabel(ingest::Branch branch) {
-  switch (branch) {
-    case ingest::Branch::kAdsorption:
-      return "adsorption";
-    case ingest::Branch::kDesorption:
-      return "desorption";
-    case ingest::Branch::kDrying:
-      return "drying";
-  }
-  return "unknown";
 }
 
 bool IsRetentionModel(const std::string& model_name) {
@@ -318,7 +306,7 @@ std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
         warnings->push_back(Warning(
             fmt::format("fit group {} at {:.2f} K: {} point(s) not at equilibrium are fitted "
                         "(kept and flagged by the reduce stage)",
-                        BranchLabel(branch), temperature_K, not_equilibrated)));
+                        ingest::BranchName(branch), temperature_K, not_equilibrated)));
       }
       RepairSigmas(&group, warnings);
       group.specimen_factors = SpecimenFactors(reduced, group);

@@ -34,10 +34,6 @@ std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
 std::vector<SpecimenFactor> SpecimenFactors(const reduce::ReducedIsotherms& reduced,
                                             const FitGroup& group);
 
-// "adsorption" / "desorption" / "drying", for messages (as ingest::BranchName, without
-// needing the ingest library at link time).
-const char* BranchLabel(ingest::Branch branch);
-
 // True for the retention-curve models (van Genuchten, Durner), which may also use the
 // retention points of a group.
 bool IsRetentionModel(const std::string& model_name);

@@ -85,7 +85,7 @@ std::vector<RetentionPoint> ReadRetentionPoints(const JobSpec& job, const DataSe
       try {
         point.capillary_pressure_Pa =
             physics::CapillaryPressureFromPF(pressure, dataset.temperature_K);
-      } catch (const std::exception& error) {
+      } catch (const physics::RangeError& error) {
         reader.Fail(pressure_column, std::string("pF value out of range: ") + error.what(),
                     "a pF of a capillary pressure");
       }

@@ -18,7 +18,7 @@
 namespace sorbtrace::pores::internal {
 namespace {
 
-constexpr double kNm = 1e-9;
+constexpr double kNm = physics::kMetresPerNanometre;
 
 // Nodal density dV/dlog10 r from interval volumes on nodes x = log10 r: the mean of the two
 // adjacent interval densities (the central difference of the cumulative volume), one-sided at

@@ -10,11 +10,12 @@
 #include <utility>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/physics/physics.h"
 
 namespace sorbtrace::pores::internal {
 namespace {
 
-constexpr double kNm = 1e-9;
+constexpr double kNm = physics::kMetresPerNanometre;
 // Badmann, Stockhausen & Setzer (1981), t/nm = a - b ln(-ln RH) (from memory).
 constexpr double kBadmannA_nm = 0.385;
 constexpr double kBadmannB_nm = 0.189;

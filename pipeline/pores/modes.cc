@@ -14,7 +14,7 @@
 namespace sorbtrace::pores::internal {
 namespace {
 
-constexpr double kNm = 1e-9;
+constexpr double kNm = physics::kMetresPerNanometre;
 
 // A local maximum of y over x.
 struct Peak {

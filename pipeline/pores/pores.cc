@@ -11,7 +11,9 @@
 #include <limits>
 #include <stdexcept>
 
+#include "fitters/numerical_failure.h"
 #include "fitters/registry.h"
+#include "pipeline/physics/physics.h"
 #include "pipeline/pores/distribution.h"
 #include "pipeline/pores/kelvin_film.h"
 #include "pipeline/pores/quantities.h"
@@ -19,11 +21,11 @@
 namespace sorbtrace::pores {
 namespace {
 
-constexpr double kNm = 1e-9;
-constexpr double kNm2 = 1e-18;
-constexpr double kHalfPi = 1.57079632679489661923;
+constexpr double kNm = physics::kMetresPerNanometre;
+constexpr double kNm2 = physics::kSquareMetresPerSquareNanometre;
+constexpr double kHalfPi = physics::kPi / 2.0;
 // Validity of the Kelvin radius and water properties used here (physics.h): 0..100 degC.
-constexpr double kLowestTemperature_K = 273.15;
+constexpr double kLowestTemperature_K = physics::kZeroCelsius_K;
 constexpr double kHighestTemperature_K = 373.15;
 // Sanity limits of the grid sizes: below 10 points a derivative is meaningless, above 100000
 // nothing is gained and memory for the band grows (grid x draws doubles).
@@ -537,8 +539,11 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
       }
     } catch (const InputError&) {
       throw;
-    } catch (const std::exception& e) {
+    } catch (const std::invalid_argument& e) {  // MakeFilmCurve: no fit to take the film from
       Warn(&out, fmt::format("pores: no distribution for the {}: {}", GroupWords(group), e.what()));
+    } catch (...) {
+      Warn(&out, fmt::format("pores: no distribution for the {}: {}", GroupWords(group),
+                             fitters::NumericalFailureMessage()));
     }
   }
 
@@ -564,8 +569,9 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
           internal::IsostericHeatFrom(best_desorption, ingest::Branch::kDesorption, options);
       if (q.available) out.isosteric_heat.push_back(std::move(q));
     }
-  } catch (const std::exception& e) {
-    Warn(&out, fmt::format("pores: datasheet quantities incomplete: {}", e.what()));
+  } catch (...) {
+    Warn(&out, fmt::format("pores: datasheet quantities incomplete: {}",
+                           fitters::NumericalFailureMessage()));
   }
   if (out.applicability.section == PoreSection::kReportedWithCaution) {
     for (PoreDistribution& d : out.distributions) {

@@ -18,7 +18,7 @@
 namespace sorbtrace::pores::internal {
 namespace {
 
-constexpr double kNm = 1e-9;
+constexpr double kNm = physics::kMetresPerNanometre;
 // Two RH values closer than this are one measured step (RH is known to about 1e-3 at best).
 constexpr double kSameRhFraction = 1e-9;
 // An RH draw outside (0, 1) is drawn again (the measurand lies inside); after this many tries

@@ -18,8 +18,6 @@
 namespace sorbtrace::reduce {
 namespace {
 
-using physics::kPercent;
-using physics::kSecondsPerHour;
 constexpr double kInfinity = std::numeric_limits<double>::infinity();
 
 // Degrees of freedom as stored upstream (0 = infinite) -> as used here.
@@ -183,28 +181,6 @@ SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilib
     }
   }
   return point;
-}
-
-// Fixed-decimal CSV cells.
-std::string Cell(double value, int decimals) { return fmt::format("{:.{}f}", value, decimals); }
-
-std::string Quote(const std::string& text) {
-  if (text.find_first_of(",\"\n") == std::string::npos) return text;
-  std::string out = "\"";
-  for (char c : text) {
-    if (c == '"') out += '"';
-    out += c;
-  }
-  return out + "\"";
-}
-
-std::string Join(const std::vector<std::string>& items, std::string_view separator) {
-  std::string out;
-  for (const auto& item : items) {
-    if (!out.empty()) out += separator;
-    out += item;
-  }
-  return out;
 }
 
 // Standard uncertainty of the mean of a step's specimens, its budget and its effective degrees
@@ -585,41 +561,6 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     reduced.retention.push_back(out);
   }
   return reduced;
-}
-
-std::string EquilibriumTableCsv(const ReducedIsotherms& reduced) {
-  std::string out =
-      "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_C,rh_percent,u_rh_percent,"
-      "moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,coverage_factor,"
-      "between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,u_volumetric_m3_per_m3,"
-      "time_to_equilibrium_h,equilibrated,extrapolated,excluded,flags\n";
-  auto yes_no = [](bool value) { return value ? "yes" : "no"; };
-  for (const auto& p : reduced.specimen_points) {
-    out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},{},,1,,,{},{},{},{},{}\n",
-                       Quote(p.dataset_id), Quote(p.specimen_id), p.step_index + 1,
-                       Quote(p.step_label), ingest::BranchName(p.branch), p.cycle,
-                       Cell(physics::KelvinToCelsius(p.temperature_K), 2),
-                       Cell(p.rh_fraction * kPercent, 2), Cell(p.u_rh_fraction * kPercent, 3),
-                       Cell(p.moisture_kg_per_kg, 6), Cell(p.u_moisture_kg_per_kg, 7),
-                       Cell(p.expanded_u_moisture_kg_per_kg, 7), Cell(p.coverage_factor, 2),
-                       Cell(p.time_to_equilibrium_s / kSecondsPerHour, 2), yes_no(p.equilibrated),
-                       yes_no(p.extrapolated), yes_no(p.excluded), Quote(Join(p.flags, "; ")));
-  }
-  for (const auto& p : reduced.points) {
-    out += fmt::format(
-        "combined,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},no,{}\n",
-        Quote(p.dataset_id), Quote(Join(p.specimen_ids, "+")), p.step_index + 1,
-        Quote(p.step_label), ingest::BranchName(p.branch), p.cycle,
-        Cell(physics::KelvinToCelsius(p.temperature_K), 2), Cell(p.rh_fraction * kPercent, 2),
-        Cell(p.u_rh_fraction * kPercent, 3), Cell(p.moisture_kg_per_kg, 6),
-        Cell(p.u_moisture_kg_per_kg, 7), Cell(p.expanded_u_moisture_kg_per_kg, 7),
-        Cell(p.coverage_factor, 2), Cell(p.between_specimen_sd_kg_per_kg, 7), p.num_specimens,
-        p.has_volumetric ? Cell(p.volumetric_m3_per_m3, 6) : std::string(),
-        p.has_volumetric ? Cell(p.u_volumetric_m3_per_m3, 7) : std::string(),
-        Cell(p.time_to_equilibrium_s / kSecondsPerHour, 2), yes_no(p.equilibrated),
-        yes_no(p.extrapolated), Quote(Join(p.flags, "; ")));
-  }
-  return out;
 }
 
 }  // namespace sorbtrace::reduce

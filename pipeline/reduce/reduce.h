@@ -252,15 +252,4 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
                         const equilibrate::EquilibriumSet& equilibria,
                         const ReduceOptions& options);
 
-// The equilibrium table as CSV (one row per specimen point, then the combined points),
-// columns documented in README "Outputs":
-//   record ("specimen" | "combined"), dataset, specimen (combined: ids joined by '+'),
-//   step (1-based), atmosphere, branch, cycle, temperature_C, rh_percent, u_rh_percent,
-//   moisture_kg_per_kg, u_moisture_kg_per_kg, expanded_u_moisture_kg_per_kg, coverage_factor,
-//   between_specimen_sd_kg_per_kg, num_specimens, volumetric_m3_per_m3,
-//   u_volumetric_m3_per_m3, time_to_equilibrium_h, equilibrated, extrapolated, excluded, flags
-// (u_ = standard uncertainty; empty volumetric cells when no bulk density is stated; flags
-// joined by "; "). Fixed decimals, so the text is byte-identical for the same inputs.
-std::string EquilibriumTableCsv(const ReducedIsotherms& reduced);
-
 }  // namespace sorbtrace::reduce

@@ -59,12 +59,23 @@ std::string AsPrinted(const Quantity& rh, const Quantity& moisture) {
   return Text(rh.text) + "," + Text(moisture.text);
 }
 
+// Steps are numbered from 1, as in a desiccator file's "step" column and on the sheet.
+int StepNumber(int step_index) { return step_index + 1; }
+
+// equilibrium_table.csv: one row per specimen point ("specimen"), then the combined points
+// ("combined", specimen ids joined by '+'). Columns: record, dataset, specimen, step (from 1),
+// atmosphere, branch, cycle, temperature_K, rh_fraction, u_rh_fraction, moisture_kg_per_kg,
+// u_moisture_kg_per_kg, expanded_u_moisture_kg_per_kg, between_specimen_sd_kg_per_kg,
+// num_specimens, volumetric_m3_per_m3, u_volumetric_m3_per_m3 (combined rows when a bulk
+// density is stated, else empty), time_to_equilibrium_s, equilibrated, extrapolated, flags
+// (joined by "; "), rh_as_printed, moisture_as_printed (the sheet's text). u_ = standard
+// uncertainty.
 std::string EquilibriumTable(const ReportInputs& inputs, const Sheet& sheet) {
   std::string out =
       "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_K,rh_fraction,"
       "u_rh_fraction,moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,"
-      "between_specimen_sd_kg_per_kg,num_specimens,time_to_equilibrium_s,equilibrated,"
-      "extrapolated,flags,rh_as_printed,moisture_as_printed\n";
+      "between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,u_volumetric_m3_per_m3,"
+      "time_to_equilibrium_s,equilibrated,extrapolated,flags,rh_as_printed,moisture_as_printed\n";
   if (inputs.reduced == nullptr) return out;
   const reduce::ReducedIsotherms& r = *inputs.reduced;
   for (const reduce::SpecimenPoint& p : r.specimen_points) {
@@ -79,22 +90,26 @@ std::string EquilibriumTable(const ReportInputs& inputs, const Sheet& sheet) {
         MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%", rh_rules),
         MoistureQuantity("moisture", "moisture content", p.moisture_kg_per_kg,
                          p.u_moisture_kg_per_kg, moisture_rules));
-    out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},,1,{},{},{},{},{}\n",
-                       Text(p.dataset_id), Text(p.specimen_id), p.step_index, Text(p.step_label),
-                       BranchLabel(p.branch), p.cycle, Num(p.temperature_K), Num(p.rh_fraction),
-                       Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg), Num(p.u_moisture_kg_per_kg),
-                       Num(k_u * p.u_moisture_kg_per_kg), Num(p.time_to_equilibrium_s),
-                       p.equilibrated ? "yes" : "no", p.extrapolated ? "yes" : "no",
-                       Text(Join(p.flags, "; ")), printed);
+    out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},,1,,,{},{},{},{},{}\n",
+                       Text(p.dataset_id), Text(p.specimen_id), StepNumber(p.step_index),
+                       Text(p.step_label), BranchLabel(p.branch), p.cycle, Num(p.temperature_K),
+                       Num(p.rh_fraction), Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg),
+                       Num(p.u_moisture_kg_per_kg), Num(k_u * p.u_moisture_kg_per_kg),
+                       Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no",
+                       p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")), printed);
   }
   for (const reduce::IsothermPoint& p : r.points) {
     out += fmt::format(
-        "combined,{},,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", Text(p.dataset_id),
-        p.step_index, Text(p.step_label), BranchLabel(p.branch), p.cycle, Num(p.temperature_K),
+        "combined,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n",
+        Text(p.dataset_id), Text(Join(p.specimen_ids, "+")), StepNumber(p.step_index),
+        Text(p.step_label), BranchLabel(p.branch), p.cycle, Num(p.temperature_K),
         Num(p.rh_fraction), Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg),
         Num(p.u_moisture_kg_per_kg), Num(p.expanded_u_moisture_kg_per_kg),
-        Num(p.between_specimen_sd_kg_per_kg), p.num_specimens, Num(p.time_to_equilibrium_s),
-        p.equilibrated ? "yes" : "no", p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")),
+        Num(p.between_specimen_sd_kg_per_kg), p.num_specimens,
+        p.has_volumetric ? Num(p.volumetric_m3_per_m3) : std::string(),
+        p.has_volumetric ? Num(p.u_volumetric_m3_per_m3) : std::string(),
+        Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no", p.extrapolated ? "yes" : "no",
+        Text(Join(p.flags, "; ")),
         AsPrinted(PointRhQuantity(p, sheet.rules), PointMoistureQuantity(p, sheet.rules)));
   }
   return out;

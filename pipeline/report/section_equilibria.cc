@@ -2,14 +2,15 @@
 // RH and moisture content with U, spread, time to equilibrium, flags).
 #include <fmt/format.h>
 
+#include "pipeline/physics/physics.h"
 #include "pipeline/report/format.h"
 #include "pipeline/report/sections.h"
 
 namespace sorbtrace::report::internal {
 namespace {
 
-constexpr double kSecondsPerHour = 3600.0;
-constexpr double kZeroCelsius_K = 273.15;  // ITS-90 offset
+using physics::kSecondsPerHour;
+using physics::kZeroCelsius_K;
 
 std::string PointFlags(const reduce::IsothermPoint& p) {
   std::string flags;

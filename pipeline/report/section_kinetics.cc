@@ -4,6 +4,7 @@
 #include <set>
 #include <utility>
 
+#include "pipeline/physics/physics.h"
 #include "pipeline/report/sections.h"
 
 namespace sorbtrace::report::internal {
@@ -11,9 +12,9 @@ namespace {
 
 namespace palette = plot::palette;
 
-constexpr double kSecondsPerHour = 3600.0;
-constexpr double kSecondsPerDay = 86400.0;
-constexpr double kPercentPerFraction = 100.0;
+using physics::kSecondsPerDay;
+using physics::kSecondsPerHour;
+constexpr double kPercentPerFraction = physics::kPercent;
 constexpr double kFigureHeight_pt = 250.0;
 
 FigureBlock OnePanel(std::string name, plot::Figure fig) {

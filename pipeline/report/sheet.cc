@@ -7,6 +7,7 @@
 #include <set>
 #include <utility>
 
+#include "pipeline/physics/physics.h"
 #include "pipeline/report/format.h"
 #include "pipeline/report/plot/text.h"
 #include "pipeline/report/sections.h"
@@ -14,7 +15,7 @@
 namespace sorbtrace::report {
 namespace {
 
-constexpr double kZeroCelsius_K = 273.15;  // ITS-90 offset
+using physics::kZeroCelsius_K;
 // A parameter correlation this close to +-1 makes the pair poorly determined (common practice
 // in nonlinear regression reports).
 constexpr double kNotableCorrelation = 0.95;
@@ -240,17 +241,7 @@ std::string PlainVersion(const std::string& software_version) {
   return software_version;
 }
 
-std::string BranchLabel(ingest::Branch branch) {
-  switch (branch) {
-    case ingest::Branch::kAdsorption:
-      return "adsorption";
-    case ingest::Branch::kDesorption:
-      return "desorption";
-    case ingest::Branch::kDrying:
-      return "drying";
-  }
-  return "?";
-}
+std::string BranchLabel(ingest::Branch branch) { return std::string(ingest::BranchName(branch)); }
 
 std::string GroupLabel(const fit::FitGroup& group) {
   return BranchTemperatureLabel(group.branch, group.temperature_K);

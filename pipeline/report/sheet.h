@@ -205,6 +205,7 @@ struct Sheet {
 // The software version without a leading "sorbtrace " (the run stage may pass either form).
 std::string PlainVersion(const std::string& software_version);
 
+// The branch as a word, ingest::BranchName (one rule, in ingest).
 std::string BranchLabel(ingest::Branch branch);
 // A temperature as a person reads it: "23 °C", or "23.4 °C" when it is not a whole degree
 // (within 0.05 K, half the last printed digit).

@@ -241,7 +241,7 @@ void ReadReferences(TemplateReader& reader, const toml::node* n, Template& layou
       throw InputError(reader.Where(temperature->source()), "temperature_C is out of range",
                        "a temperature from 0 to 100 °C");
     }
-    condition.temperature_K = temperature_C + 273.15;  // ITS-90 offset
+    condition.temperature_K = temperature_C + physics::kZeroCelsius_K;
     condition.rh_fraction = rh_percent / 100.0;
     layout.reference_conditions.push_back(condition);
   }

@@ -8,6 +8,7 @@
 #include <cmath>
 #include <cstdio>
 #include <numeric>
+#include <stdexcept>
 
 #include "fitters/autodiff_model.h"
 #include "fitters/fitter.h"
@@ -127,6 +128,32 @@ ClosedFormLine SolveLine(const std::vector<Observation>& data) {
   const Eigen::VectorXd r = y - X * c.beta;
   c.weighted_ssr = r.dot(w.asDiagonal() * r);
   return c;
+}
+
+// A model whose starting points throw: a std::logic_error stands for a bug and must leave
+// FitModel (the run stage maps it to exit code 70); a std::domain_error stands for a
+// numerical failure and becomes a failed fit with the message.
+template <typename Thrown>
+struct ThrowingStart : Line {
+  static std::vector<std::vector<double>> StartingPoints(const std::vector<Observation>&,
+                                                         const ModelContext&) {
+    throw Thrown("thrown by the starting points");
+  }
+};
+
+TEST(FitModelTest, BugInAModelIsNotSwallowed) {
+  const auto model = MakeAutoDiffModel<ThrowingStart<std::logic_error>>();
+  EXPECT_THROW(FitModel(*model, LineData(), ModelContext{}, FitOptions{}), std::logic_error);
+  const auto out_of_range = MakeAutoDiffModel<ThrowingStart<std::out_of_range>>();
+  EXPECT_THROW(FitModel(*out_of_range, LineData(), ModelContext{}, FitOptions{}),
+               std::out_of_range);
+}
+
+TEST(FitModelTest, NumericalFailureBecomesAFailedFit) {
+  const auto model = MakeAutoDiffModel<ThrowingStart<std::domain_error>>();
+  const FitResult fit = FitModel(*model, LineData(), ModelContext{}, FitOptions{});
+  EXPECT_EQ(fit.summary.termination, FitTermination::kFailure);
+  EXPECT_EQ(fit.summary.message, "numerical failure in the fit: thrown by the starting points");
 }
 
 TEST(FitModelTest, WeightedLineMatchesNormalEquations) {

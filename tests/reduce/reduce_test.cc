@@ -242,28 +242,6 @@ TEST(ReduceTest, RetentionPointsGetTheirKelvinRh) {
   EXPECT_DOUBLE_EQ(r.retention[0].u_moisture_kg_per_kg, 0.004);
 }
 
-TEST(ReduceTest, EquilibriumTableCsv) {
-  equilibrate::EquilibriumSet set;
-  set.points.push_back(Point("A", 1, 10.2345));
-  set.dry_masses.push_back(Dry("A", 10.0000));
-  const std::string csv = EquilibriumTableCsv(Reduce(Job(), set, ReduceOptions{}));
-  const std::string header =
-      "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_C,rh_percent,u_rh_percent,"
-      "moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,coverage_factor,"
-      "between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,u_volumetric_m3_per_m3,"
-      "time_to_equilibrium_h,equilibrated,extrapolated,excluded,flags\n";
-  ASSERT_EQ(csv.substr(0, header.size()), header);
-  // Values from the worked budget above; volumetric 0.02345 x 500 / 997.539 = 0.011754.
-  EXPECT_NE(csv.find("specimen,desiccator-23C,A,2,NaCl,adsorption,0,23.00,75.37,0.090,0.023450,"
-                     "0.0000149,0.0000298,2.00,,1,,,72.00,yes,no,no,\n"),
-            std::string::npos)
-      << csv;
-  EXPECT_NE(csv.find("combined,desiccator-23C,A,2,NaCl,adsorption,0,23.00,75.37,0.090,0.023450,"
-                     "0.0000149,0.0000298,2.00,0.0000000,1,0.011754,0.0000075,72.00,yes,no,no,\n"),
-            std::string::npos)
-      << csv;
-}
-
 }  // namespace
 }  // namespace sorbtrace::reduce
 

@@ -413,6 +413,7 @@ ReportFixture MakeReportFixture() {
   for (const StepPlan& st : plan) {
     reduce::IsothermPoint ip;
     ip.dataset_id = desiccator.id;
+    ip.specimen_ids = kSpecimens;
     ip.step_index = st.index;
     ip.step_label = st.step.salt;
     ip.branch = st.branch;
