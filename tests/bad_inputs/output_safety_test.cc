@@ -344,7 +344,9 @@ TEST_F(VerifySafetyTest, ExitCodeMatchesTheVerdict) {
   Outcome run = Run("verify issued/results.json --job moved/job.toml");
   EXPECT_EQ(run.exit_code, 0) << run.output;
   EXPECT_NE(run.output.find(", 0 mismatch(es)"), std::string::npos) << run.output;
-  // One recorded number changed: "1 mismatch(es)" must come with exit 5, with and without --job.
+  // One recorded number changed: the edited results.json no longer matches outputs.sha256 and
+  // the number no longer matches its recomputation, "2 mismatch(es)" with exit 5, with and
+  // without --job.
   auto results = nlohmann::json::parse(ReadWholeFile(lab_ / "issued" / "results.json"));
   std::string pointer;
   const nlohmann::json flat = results.flatten();
@@ -361,7 +363,9 @@ TEST_F(VerifySafetyTest, ExitCodeMatchesTheVerdict) {
   for (const std::string job : {"", " --job moved/job.toml", " --job job/job.toml"}) {
     run = Run("verify issued/results.json" + job);
     EXPECT_EQ(run.exit_code, 5) << job << run.output;
-    EXPECT_NE(run.output.find(", 1 mismatch(es)"), std::string::npos) << job << run.output;
+    EXPECT_NE(run.output.find(", 2 mismatch(es)"), std::string::npos) << job << run.output;
+    EXPECT_NE(run.output.find("FAIL  output results.json  sha256 CHANGED"), std::string::npos)
+        << job << run.output;
   }
 }
 
