@@ -119,7 +119,11 @@ std::vector<SpecimenFactor> SpecimenFactors(const reduce::ReducedIsotherms& redu
     }
   }
   std::vector<SpecimenFactor> factors;
-  for (const auto& [key, weights] : participation) {
+  for (const auto& entry : participation) {
+    // Named references, not a structured binding: the lambda below captures them (C++20 allows
+    // capturing bindings; clang 14, which lints this code, does not).
+    const auto& key = entry.first;
+    const std::vector<double>& weights = entry.second;
     const reduce::SpecimenTerm& term = reduced.specimen_terms[static_cast<std::size_t>(key.first)];
     auto same = std::find_if(factors.begin(), factors.end(), [&](const SpecimenFactor& f) {
       return f.dataset_id == term.dataset_id && f.weights == weights;

@@ -398,6 +398,7 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
   const double rh_max = options.max_radius_m > 0.0 ? map.RhForPoreRadius(options.max_radius_m)
                                                    : std::numeric_limits<double>::infinity();
   std::vector<Sample> nominal_samples;
+  nominal_samples.reserve(merged.size());
   for (const MeasuredPoint& p : merged)
     nominal_samples.push_back({p.rh_fraction, p.moisture_kg_per_kg});
   const std::vector<Sample> nodes = BuildNodes(nominal_samples, rh_min, rh_max);
