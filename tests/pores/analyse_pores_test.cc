@@ -315,5 +315,40 @@ TEST(AnalysePores, MaterialClassDecidesThePoreSection) {
   EXPECT_EQ(a.distributions.size(), 4u);
 }
 
+// The specimen term of the fit stage (specimens that differ do so at every step) is one shared
+// part of the stepwise draws, not an independent error per point: with a 3 % relative specimen
+// factor acting on every point and almost nothing else, every draw scales the whole isotherm, so
+// the resolved pore volume carries about 3 % relative u (an independent draw per point would
+// leave it the 1e-6 kg/kg of the points). 3 %: a choice of this test.
+TEST(AnalysePores, StepwiseDrawsTheSpecimenTermOncePerDraw) {
+  constexpr double kRelativeSpecimenU = 0.03;
+  fit::IsothermFits fits = TwoBranches();
+  for (fit::FitGroup& group : fits.groups) {
+    for (fitters::Observation& o : group.observations) o.sigma_y = 1e-6;
+    fit::SpecimenFactor factor;
+    factor.dataset_id = "d1";
+    factor.specimen_ids = {"S1", "S2", "S3"};
+    factor.relative_standard_uncertainty = kRelativeSpecimenU;
+    factor.weights.assign(group.observations.size(), 1.0);
+    group.specimen_factors.push_back(factor);
+  }
+  PoreOptions options;
+  options.band_draws = 400;
+  const PoreAnalysis a = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+  int stepwise = 0;
+  for (const PoreDistribution& d : a.distributions) {
+    if (d.method != "stepwise") continue;
+    ++stepwise;
+    ASSERT_GT(d.total_resolved_volume_m3_per_kg, 0.0);
+    const double relative = d.u_total_resolved_volume_m3_per_kg / d.total_resolved_volume_m3_per_kg;
+    // 400 draws: the standard deviation is known to about 1 / sqrt(2 * 400) = 3.5 % of itself.
+    EXPECT_NEAR(relative, kRelativeSpecimenU, 0.15 * kRelativeSpecimenU);
+    EXPECT_TRUE(std::any_of(d.assumptions.begin(), d.assumptions.end(), [](const std::string& s) {
+      return s.find("1 shared part(s) drawn once per draw") != std::string::npos;
+    }));
+  }
+  EXPECT_EQ(stepwise, 2);
+}
+
 }  // namespace
 }  // namespace sorbtrace::pores
