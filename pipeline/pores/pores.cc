@@ -89,6 +89,7 @@ internal::FittedCurve CurveOf(const fit::IsothermFits& fits, int index) {
   c.model = model;
   c.name = f.model_name;
   c.parameters = f.result.parameters;
+  c.fit = &f;
   if (f.result.summary.covariance_available) c.covariance = f.result.covariance;
   c.context.temperature_K = group.temperature_K;
   c.branch = group.branch;
@@ -563,7 +564,8 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
   try {
     out.surface_areas = internal::SurfaceAreas(monolayer_fits, options);
     for (const ReferenceCondition& c : options.reference_conditions) {
-      out.reference_moisture.push_back(internal::ReferenceMoistureFor(c, best_adsorption, options));
+      out.reference_moisture.push_back(
+          internal::ReferenceMoistureFor(c, best_adsorption, fits, options));
     }
     out.hygroscopicity =
         internal::HygroscopicityFrom(best_adsorption, fits.coverage_factor, options);

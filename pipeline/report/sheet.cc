@@ -427,8 +427,11 @@ void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
         "from the isotherm measured at {} and are not converted to {}.",
         reference_t, measured_t, reference_t));
   }
+  // Its own coverage factor (ReferenceMoisture::coverage_factor, Student-t from nu_eff).
+  DisplayRules rules = sheet.rules;
+  rules.coverage_factor = rm.coverage_factor;
   sheet.headline.push_back(MoistureQuantity(std::move(key), std::move(label), rm.moisture_kg_per_kg,
-                                            rm.u_moisture_kg_per_kg, sheet.rules));
+                                            rm.u_moisture_kg_per_kg, rules));
 }
 
 // Headline: moisture at the reference conditions. A condition no isotherm could be read at
