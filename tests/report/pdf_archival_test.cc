@@ -172,7 +172,7 @@ TEST(PdfDocument, WithoutALabTheAuthorIsSorbtrace) {
   Template layout;
   ReportOptions options;
   options.font_directory = SORBTRACE_DEFAULT_FONT_DIR;
-  Document doc(layout, options, "REP-8", "1.2.3");
+  Document doc(layout, options, "REP-8", "1.2.3", Letterhead{});  // a draft: no laboratory
   doc.NewPage();
   const fs::path pdf = testing::WriteTempFile("nolab.pdf", doc.Finish());
   std::string err;

@@ -321,7 +321,7 @@ TEST(DocumentTest, LibharuErrorsBecomeComputationErrorsNotCrashes) {
   // A line width below zero is refused by libharu (HPDF_PAGE_OUT_OF_RANGE, hpdf_error.h);
   // after that error HPDF_AddPage returns no page. The next page and the final save must
   // both report it as a ComputationError naming the libharu code.
-  Document doc(FullTemplate(), Options(), "R-1", "0.1.0-test");
+  Document doc(FullTemplate(), Options(), "R-1", "0.1.0-test", Letterhead{});
   doc.NewPage();
   doc.canvas().Line(10.0, 10.0, 20.0, 20.0, -1.0, plot::palette::kInk);
   try {

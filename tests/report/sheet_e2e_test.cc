@@ -211,7 +211,7 @@ TEST_F(SheetE2eTest, LongTokensInEveryFreeTextFieldNeverCrashMakeOrCheck) {
        {{"description = \"Spray-dried binder powder for tableting, 25 mg in a quartz pan\"",
          "description = \"{}\""}}},
       {"client",
-       {{"client = \"Hollowmere Building Physics Laboratory, internal study\"",
+       {{"client = \"Pellwick Excipients (fictional)\"",
          "client = \"{}\""}}},
       {"material", {{"name = \"Powdered excipient EX-12 (fictional)\"", "name = \"{}\""}}},
       {"test_dates", {{"test_dates = \"2026-04-20 to 2026-04-21\"", "test_dates = \"{}\""}}},
@@ -308,7 +308,7 @@ std::vector<std::string> CsvFields(const std::string& line) {
 TEST_F(SheetE2eTest, SectionCrossReferencesFollowTheTemplate) {
   const fs::path dir = CopyScenario("wood_fibre_board_vapour", "job");
   const std::string lab =
-      "[template]\nname = \"two\"\n[lab]\nname = \"Lab\"\n[layout]\ncompact = false\n";
+      "[template]\nname = \"two\"\n[layout]\ncompact = false\n";
   Spit(dir / "two.toml", lab + "sections = [\"summary\", \"cautions\"]\n");
   Spit(dir / "one.toml", lab + "sections = [\"summary\", \"isotherm\"]\n");
   Rewrite(dir / "job.toml", "template = \"full\"", "template = \"two.toml\"");
