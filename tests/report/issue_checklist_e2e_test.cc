@@ -131,7 +131,10 @@ SheetText ReadSheet(const fs::path& pdf) {
 class IssueChecklistE2eTest : public ::testing::Test {
  protected:
   void SetUp() override {
-    root_ = fs::temp_directory_path() / "sorbtrace_issue_checklist_e2e";
+    // One folder per test: ctest runs the tests of this file as parallel processes.
+    root_ = fs::temp_directory_path() /
+            (std::string("sorbtrace_issue_checklist_e2e_") +
+             ::testing::UnitTest::GetInstance()->current_test_info()->name());
     fs::remove_all(root_);
     fs::create_directories(root_);
   }

@@ -90,7 +90,7 @@ TEST(LoadTemplateTest, UnknownKeyNamesKeyLineAndColumn) {
             "\"name\", \"title\", \"page_size\" or \"margin_mm\"");
   EXPECT_EQ(LoadError("unknown_table.toml", "[template]\nname = \"x\"\n\n[colours]\nink = 1\n"),
             "unknown_table.toml:4:2: error: unknown key 'colours' at top level; expected one of "
-            "\"template\", \"lab\", \"units\", \"layout\" or \"reference\"");
+            "\"template\", \"units\", \"layout\" or \"reference\"");
 }
 
 TEST(LoadTemplateTest, BadPageSize) {
@@ -103,7 +103,7 @@ TEST(LoadTemplateTest, OtherErrors) {
   EXPECT_EQ(LoadError("bad_section.toml", "[layout]\nsections = [\"summary\", \"graphs\"]\n"),
             "bad_section.toml:2:24: error: unknown section \"graphs\"; expected one of "
             "\"summary\", \"isotherm\", \"models\", \"pores\", \"kinetics\", \"equilibria\", "
-            "\"method\" or \"cautions\"");
+            "\"method\", \"deviations\" or \"cautions\"");
   EXPECT_EQ(LoadError("bad_digits.toml", "[units]\nuncertainty_significant_digits = 3\n"),
             "bad_digits.toml:2:34: error: uncertainty_significant_digits 3 is out of range; "
             "expected 1 or 2 (JCGM 100:2008, 7.2.6)");
