@@ -572,6 +572,7 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
                     {"uncertainty_significant_digits", sheet.rules.significant_digits},
                     {"coverage_factor", Number(sheet.rules.coverage_factor)}};
   root["job"] = JobJson(inputs);
+  root["issue"] = IssueJson(inputs, sheet);
   Json files = Json::array();
   if (inputs.ingested != nullptr) {
     for (const ingest::InputFileRecord& f : inputs.ingested->inputs) {

@@ -11,8 +11,8 @@
 
 namespace sorbtrace::report {
 
-// Top-level keys, in order: schema, software, report, job, inputs, settings, headline,
-// hygroscopicity_class, best_model, cautions, standing_statements, equilibria, isotherm,
+// Top-level keys, in order: schema, software, report, job, issue (IssueJson), inputs, settings,
+// headline, hygroscopicity_class, best_model, cautions, standing_statements, equilibria, isotherm,
 // fits, pores.
 // "headline" keys are unique within a job and name what a value belongs to, temperature in
 // °C ("23C", "23p4C"): moisture_23C_50RH_adsorption; a reference condition whose temperature

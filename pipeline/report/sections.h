@@ -22,7 +22,7 @@ struct SectionContext {
 };
 
 // One builder per section key ("summary", "isotherm", "models", "pores", "kinetics",
-// "equilibria", "method", "cautions"); compact: the one-page summary.
+// "equilibria", "method", "deviations", "cautions"); compact: the one-page summary.
 void BuildSummarySection(const SectionContext& ctx, bool compact, Section& section);
 void BuildIsothermSection(const SectionContext& ctx, Section& section);
 void BuildModelsSection(const SectionContext& ctx, Section& section);
@@ -30,6 +30,7 @@ void BuildPoresSection(const SectionContext& ctx, Section& section);
 void BuildKineticsSection(const SectionContext& ctx, Section& section);
 void BuildEquilibriaSection(const SectionContext& ctx, Section& section);
 void BuildMethodSection(const SectionContext& ctx, Section& section);
+void BuildDeviationsSection(const SectionContext& ctx, Section& section);
 void BuildCautionsSection(const SectionContext& ctx, Section& section);
 
 // The isotherm figure (best fits with their bands, measured points with U, retention
