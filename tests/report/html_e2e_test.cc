@@ -92,11 +92,12 @@ int Chromium(const fs::path& work, const std::string& arguments, const fs::path&
   return code;
 }
 
-// &amp; &lt; &gt; &quot; and <br> back to text.
+// &amp; &lt; &gt; &quot; &apos; and <br> back to text.
 std::string Unescape(std::string text) {
   text = std::regex_replace(text, std::regex("<br>"), "\n");
   const std::vector<std::pair<std::string, std::string>> entities = {
-      {"&lt;", "<"}, {"&gt;", ">"}, {"&quot;", "\""}, {"&nbsp;", " "}, {"&amp;", "&"}};
+      {"&lt;", "<"},   {"&gt;", ">"},   {"&quot;", "\""},
+      {"&apos;", "'"}, {"&nbsp;", " "}, {"&amp;", "&"}};
   for (const auto& [from, to] : entities) {
     for (size_t pos = 0; (pos = text.find(from, pos)) != std::string::npos; pos += to.size()) {
       text.replace(pos, from.size(), to);

@@ -17,6 +17,7 @@
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/report/document.h"
+#include "pipeline/report/plot/svg_canvas.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace::report {
@@ -79,7 +80,7 @@ TEST(ToUnicodeCMap, IdentityBfrangesOverTheBmpWithoutSurrogates) {
 }
 
 TEST(XmpPacket, EscapesTextAndCarriesEveryField) {
-  EXPECT_EQ(internal::XmlEscape("a<b>&'\"\x01z"), "a&lt;b&gt;&amp;&apos;&quot;z");
+  EXPECT_EQ(plot::XmlEscape("a<b>&'\"\x01z"), "a&lt;b&gt;&amp;&apos;&quot;z");
   internal::DocumentIdentity id;
   id.title = "Sheet <A&B>";
   id.author = "Müller & Söhne";
