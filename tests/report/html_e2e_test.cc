@@ -36,6 +36,7 @@
 #include <string>
 #include <vector>
 
+#include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace::report {
@@ -61,15 +62,9 @@ void Spit(const fs::path& file, const std::string& bytes) {
 
 // Runs a shell command; returns its exit code and puts stdout in *output.
 int Shell(const std::string& command, std::string* output = nullptr) {
-  FILE* pipe = popen(command.c_str(), "r");
-  if (pipe == nullptr) return -1;
-  std::string text;
-  char buffer[65536];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) text.append(buffer, got);
-  const int status = pclose(pipe);
-  if (output != nullptr) *output = std::move(text);
-  return WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  e2e::Outcome run = e2e::Shell(command);
+  if (output != nullptr) *output = std::move(run.output);
+  return run.exit_code;
 }
 
 bool HaveChromium() { return Shell("command -v chromium >/dev/null 2>&1") == 0; }
