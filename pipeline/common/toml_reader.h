@@ -23,6 +23,7 @@
 #include <toml++/toml.h>
 
 #include <cstdint>
+#include <filesystem>
 #include <initializer_list>
 #include <optional>
 #include <span>
@@ -33,6 +34,13 @@
 #include "pipeline/common/diagnostics.h"
 
 namespace sorbtrace {
+
+// A TOML file as parsed once (ParseTomlFile), shared by the readers of its tables: the job file
+// is parsed by ingest::LoadJobSpec and its stage settings are read from the same tree.
+struct ParsedTomlFile {
+  std::filesystem::path file;
+  toml::table root;
+};
 
 // A key as messages name it: the table as written ("[fit]", "[[dataset]]"; empty for the root
 // table) and the key.

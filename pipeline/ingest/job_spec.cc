@@ -7,6 +7,7 @@
 #include <cmath>
 #include <filesystem>
 #include <initializer_list>
+#include <memory>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -229,10 +230,13 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     throw InputError(SourceLocation{in.display(), 0, 0}, "job file not found",
                      "an existing TOML job file");
   }
-  const toml::table root = ParseTomlFile(job_file, "a valid TOML job file");
+  auto parsed = std::make_shared<ParsedTomlFile>(
+      ParsedTomlFile{job_file, ParseTomlFile(job_file, "a valid TOML job file")});
+  const toml::table& root = parsed->root;
 
   JobSpec job;
   job.job_file = job_file;
+  job.parsed = parsed;
   const std::filesystem::path job_dir = job_file.parent_path();
 
   for (auto&& [key, value] : root) {

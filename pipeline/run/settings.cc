@@ -894,7 +894,12 @@ JobSettings LoadJobSettings(const std::filesystem::path& job_file, const ingest:
                             const std::filesystem::path& output_dir) {
   (void)output_dir;
   const std::string file = job_file.string();
-  const toml::table root = ParseTomlFile(job_file, "a valid TOML job file");
+  // The tree LoadJobSpec parsed; the file is parsed again only for a spec read elsewhere.
+  std::optional<toml::table> own_root;
+  const toml::table& root =
+      job.parsed != nullptr && job.parsed->file == job_file
+          ? job.parsed->root
+          : own_root.emplace(ParseTomlFile(job_file, "a valid TOML job file"));
   JobSettings settings;
   settings.template_file = ResolveTemplate(job.template_name, job_file.parent_path());
   const toml::node* template_node = root["job"]["template"].node();
