@@ -191,13 +191,14 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
   result.fitted.resize(static_cast<std::size_t>(n));
   result.residuals.resize(static_cast<std::size_t>(n));
   result.fitted_x0.resize(static_cast<std::size_t>(n));
+  result.x0_is_fitted = workspace.errors_in_variables_mask();
   double x_terms = 0.0;
   double sum_sigma2 = 0.0;
   std::vector<double> residuals_at_observed_x(static_cast<std::size_t>(n));
   int outside_range = 0;
   for (std::size_t i = 0; i < data.size(); ++i) {
     const Observation& o = data[i];
-    const bool eiv = options.errors_in_variables && o.sigma_x0 > 0.0;
+    const bool eiv = result.x0_is_fitted[i] != 0;
     std::array<double, kMaxInputs> x = o.x;
     if (eiv) {
       x[0] = best_x0[i];
@@ -364,6 +365,15 @@ std::string FitSummary::BriefReport() const {
                   iterations, covariance_available ? "available" : "unavailable");
   for (const std::string& flag : flags) text += "\n  flag: " + flag;
   return text;
+}
+
+std::vector<char> ErrorsInVariablesMask(const std::vector<Observation>& observations,
+                                        const FitOptions& options) {
+  std::vector<char> mask(observations.size(), 0);
+  for (std::size_t i = 0; i < observations.size(); ++i) {
+    mask[i] = options.errors_in_variables && observations[i].sigma_x0 > 0.0 ? 1 : 0;
+  }
+  return mask;
 }
 
 FitResult FitModel(const Model& model, const std::vector<Observation>& observations,

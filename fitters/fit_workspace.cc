@@ -75,12 +75,9 @@ FitWorkspace::FitWorkspace(const Model& model, std::vector<Observation> observat
       parameters_(static_cast<std::size_t>(model.num_parameters()), 0.0),
       x0_true_(data_.size(), 0.0),
       state_(parameters_.size() + data_.size(), 0.0),
-      eiv_(data_.size(), 0),
+      eiv_(ErrorsInVariablesMask(data_, options_)),
       loss_(MakeLoss(options.loss, options.loss_scale)) {
-  for (std::size_t i = 0; i < data_.size(); ++i) {
-    eiv_[i] = options_.errors_in_variables && data_[i].sigma_x0 > 0.0 ? 1 : 0;
-    x0_true_[i] = data_[i].x[0];
-  }
+  for (std::size_t i = 0; i < data_.size(); ++i) x0_true_[i] = data_[i].x[0];
   solver_options_.minimizer_type = ceres::TRUST_REGION;
   solver_options_.trust_region_strategy_type = ceres::LEVENBERG_MARQUARDT;
   solver_options_.linear_solver_type = ceres::DENSE_QR;
@@ -150,16 +147,10 @@ void FitWorkspace::Build() {
 }
 
 void FitWorkspace::DataChanged() {
-  bool same = referencing_ && eiv_.size() == data_.size();
-  for (std::size_t i = 0; i < data_.size() && same; ++i) {
-    same = eiv_[i] == (options_.errors_in_variables && data_[i].sigma_x0 > 0.0 ? 1 : 0);
-  }
-  if (same) return;
-  eiv_.assign(data_.size(), 0);
+  std::vector<char> eiv = ErrorsInVariablesMask(data_, options_);
+  if (referencing_ && eiv == eiv_) return;
+  eiv_ = std::move(eiv);
   x0_true_.resize(data_.size(), 0.0);
-  for (std::size_t i = 0; i < data_.size(); ++i) {
-    eiv_[i] = options_.errors_in_variables && data_[i].sigma_x0 > 0.0 ? 1 : 0;
-  }
   Build();
 }
 

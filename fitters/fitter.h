@@ -140,6 +140,9 @@ struct FitResult {
   std::vector<double> fitted;     // f(x_i) at the solution
   std::vector<double> residuals;  // y_i - f(x_i)
   std::vector<double> fitted_x0;  // errors-in-variables: the fitted true x[0]; else = observed
+  // Per point: 1 where its true x[0] was a fitted variable (ErrorsInVariablesMask of the data
+  // and options of this fit); what later steps (resampling) read instead of deciding again.
+  std::vector<char> x0_is_fitted;
   FitSummary summary;
   WeightConvention weight_convention = WeightConvention::kRelative;
   // Quantile used for the parameter intervals and bands: Student-t with n - p degrees of
@@ -151,6 +154,12 @@ struct FitResult {
 
 FitResult FitModel(const Model& model, const std::vector<Observation>& observations,
                    const ModelContext& context, const FitOptions& options);
+
+// The errors-in-variables rule, the one place it is decided: point i's true x[0] is a fitted
+// variable exactly when options.errors_in_variables is set and its sigma_x0 > 0 (an x[0] with
+// no stated uncertainty is exact). One entry (0 or 1) per observation.
+std::vector<char> ErrorsInVariablesMask(const std::vector<Observation>& observations,
+                                        const FitOptions& options);
 
 // Fitted curve with confidence (of the mean curve) and prediction (of a new observation)
 // bands on an x grid (x[1] = 0 for two-input models), delta method:

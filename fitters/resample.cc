@@ -15,6 +15,11 @@
 namespace sorbtrace::fitters {
 namespace {
 
+// Whether the full fit fitted point i's true x[0] (its errors-in-variables mask, fitter.h).
+bool X0IsFitted(const FitResult& full_fit, std::size_t i) {
+  return i < full_fit.x0_is_fitted.size() && full_fit.x0_is_fitted[i] != 0;
+}
+
 // The linearised start of the residual-bootstrap refits (see Resample).
 struct WarmStart {
   bool usable = false;
@@ -120,7 +125,7 @@ WarmStart LinearisedWarmStart(const Model& model, const std::vector<Observation>
   warm.c.assign(n, 0.0);
   warm.g2.assign(n, 1.0);
   for (std::size_t i = 0; i < n; ++i) {
-    if (fit_options.errors_in_variables && observations[i].sigma_x0 > 0.0) {
+    if (X0IsFitted(full_fit, i)) {
       at_solution[i].x[0] = full_fit.fitted_x0[i];
       warm.c[i] = -1.0 / observations[i].sigma_x0;
     }
@@ -172,7 +177,6 @@ struct ResidualPool {
 
 ResidualPool OrthogonalResiduals(const Model& model, const std::vector<Observation>& observations,
                                  const ModelContext& context, const FitResult& full_fit,
-                                 const FitOptions& fit_options,
                                  const std::vector<double>& leverage) {
   const std::size_t n = observations.size();
   ResidualPool pool;
@@ -183,7 +187,7 @@ ResidualPool OrthogonalResiduals(const Model& model, const std::vector<Observati
     const Observation& o = observations[i];
     const double r_y = full_fit.residuals[i] / o.sigma_y;
     double r_x = 0.0;
-    if (fit_options.errors_in_variables && o.sigma_x0 > 0.0) {
+    if (X0IsFitted(full_fit, i)) {
       const double x[kMaxInputs] = {full_fit.fitted_x0[i], o.x[1]};
       const double a =
           model.SlopeInX0(full_fit.parameters.data(), x, context) * o.sigma_x0 / o.sigma_y;
@@ -284,7 +288,7 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   // leverage and centred (see fitter.h), and the direction it is put back along.
   ResidualPool pool;
   if (options.kind == ResampleKind::kResidualBootstrap) {
-    pool = OrthogonalResiduals(model, observations, context, full_fit, fit_options, warm.leverage);
+    pool = OrthogonalResiduals(model, observations, context, full_fit, warm.leverage);
   }
   std::vector<double> start = full_fit.parameters;
   std::vector<double> drawn_y(n, 0.0), drawn_x(n, 0.0);

@@ -2,12 +2,12 @@
 
 #include <algorithm>
 #include <boost/math/distributions/chi_squared.hpp>
-#include <boost/math/distributions/normal.hpp>
-#include <boost/math/distributions/students_t.hpp>
 #include <cmath>
 #include <functional>
 #include <limits>
 #include <numeric>
+
+#include "pipeline/common/student_t.h"
 
 namespace sorbtrace::fitters::internal {
 namespace {
@@ -41,13 +41,12 @@ RunsTestResult WaldWolfowitzRunsTest(const std::vector<double>& sequence) {
 double CoverageFactor(WeightConvention convention, int degrees_of_freedom,
                       double confidence_level) {
   if (!(confidence_level > 0.0 && confidence_level < 1.0)) return kNaN;
-  const double upper = 0.5 * (1.0 + confidence_level);
+  // Known variance (kAbsolute): the normal quantile, the t of infinite degrees of freedom.
   if (convention == WeightConvention::kAbsolute) {
-    return boost::math::quantile(boost::math::normal_distribution<double>(0.0, 1.0), upper);
+    return StudentTCoverageFactor(std::numeric_limits<double>::infinity(), confidence_level);
   }
   if (degrees_of_freedom < 1) return kNaN;
-  return boost::math::quantile(
-      boost::math::students_t_distribution<double>(static_cast<double>(degrees_of_freedom)), upper);
+  return StudentTCoverageFactor(static_cast<double>(degrees_of_freedom), confidence_level);
 }
 
 double ChiSquareUpperTail(double value, int degrees_of_freedom) {

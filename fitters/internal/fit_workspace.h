@@ -40,6 +40,8 @@ class FitWorkspace {
   int num_observations() const { return static_cast<int>(data_.size()); }
   int num_parameters() const { return static_cast<int>(parameters_.size()); }
   int num_errors_in_variables() const;
+  // ErrorsInVariablesMask of the current data (fitter.h), computed when the data change.
+  const std::vector<char>& errors_in_variables_mask() const { return eiv_; }
 
   // The data the residuals read. After editing call DataChanged().
   std::vector<Observation>& data() { return data_; }

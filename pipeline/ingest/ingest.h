@@ -10,12 +10,17 @@
 
 #include <cstdint>
 #include <filesystem>
+#include <memory>
 #include <optional>
 #include <string>
 #include <string_view>
 #include <vector>
 
 #include "pipeline/common/diagnostics.h"
+
+namespace sorbtrace {
+struct ParsedTomlFile;  // pipeline/common/toml_reader.h
+}  // namespace sorbtrace
 
 namespace sorbtrace::ingest {
 
@@ -138,6 +143,9 @@ struct DataSetSpec {
 // Everything the job file states about one material test.
 struct JobSpec {
   std::filesystem::path job_file;
+  // The job file as parsed (pipeline/common/toml_reader.h): the later stages read their tables
+  // from it, so the file is parsed once per run.
+  std::shared_ptr<const ParsedTomlFile> parsed;
   std::string job_id;  // e.g. "LAB-2026-0142"
   std::string material_name;
   std::string material_description;

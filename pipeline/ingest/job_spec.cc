@@ -7,6 +7,7 @@
 #include <cmath>
 #include <filesystem>
 #include <initializer_list>
+#include <memory>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -14,6 +15,7 @@
 
 #include "pipeline/common/bounded_input.h"
 #include "pipeline/common/files.h"
+#include "pipeline/common/toml_reader.h"
 #include "pipeline/ingest/csv_reader.h"
 #include "pipeline/ingest/date_time.h"
 #include "pipeline/ingest/ingest.h"
@@ -44,96 +46,10 @@ TestMethod TestMethodFromName(std::string_view name) {
   return TestMethod::kUnstated;
 }
 
-class JobFileReader {
+// The shared TOML reader (pipeline/common/toml_reader.h) plus the job file's temperatures.
+class JobFileReader : public TomlReader {
  public:
-  explicit JobFileReader(std::string display) : display_(std::move(display)) {}
-
-  SourceLocation At(const toml::source_region& region) const {
-    return SourceLocation{display_, static_cast<int>(region.begin.line),
-                          static_cast<int>(region.begin.column)};
-  }
-  SourceLocation At(const toml::node& node) const { return At(node.source()); }
-
-  [[noreturn]] void Fail(const toml::source_region& region, std::string message,
-                         std::string expected) const {
-    throw InputError(At(region), std::move(message), std::move(expected));
-  }
-  [[noreturn]] void Fail(const toml::node& node, std::string message, std::string expected) const {
-    Fail(node.source(), std::move(message), std::move(expected));
-  }
-
-  // Every key of `table` must be in `allowed`.
-  void CheckKeys(const toml::table& table, std::string_view section,
-                 std::initializer_list<std::string_view> allowed) const {
-    for (auto&& [key, value] : table) {
-      if (std::find(allowed.begin(), allowed.end(), key.str()) != allowed.end()) continue;
-      std::string list;
-      for (std::string_view name : allowed) {
-        if (!list.empty()) list += ", ";
-        list += name;
-      }
-      Fail(key.source(), "unknown key '" + std::string(key.str()) + "' in " + std::string(section),
-           "one of: " + list);
-    }
-  }
-
-  const toml::table& Table(const toml::table& root, std::string_view name) const {
-    const toml::node* node = root.get(name);
-    if (node == nullptr) {
-      throw InputError(SourceLocation{display_, 1, 1}, "missing table [" + std::string(name) + "]",
-                       "a [" + std::string(name) + "] table in the job file");
-    }
-    if (!node->is_table()) {
-      Fail(*node, "'" + std::string(name) + "' is not a table",
-           "a [" + std::string(name) + "] table");
-    }
-    return *node->as_table();
-  }
-
-  std::optional<std::string> String(const toml::table& table, std::string_view section,
-                                    std::string_view key, bool required) const {
-    const toml::node* node = table.get(key);
-    if (node == nullptr) {
-      if (required) Missing(table, section, key, "a string");
-      return std::nullopt;
-    }
-    if (!node->is_string()) {
-      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) + " is not a string",
-           "a quoted string");
-    }
-    return node->value<std::string>();
-  }
-
-  std::optional<double> Number(const toml::table& table, std::string_view section,
-                               std::string_view key, bool required) const {
-    const toml::node* node = table.get(key);
-    if (node == nullptr) {
-      if (required) Missing(table, section, key, "a number");
-      return std::nullopt;
-    }
-    if (!node->is_number()) {
-      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) + " is not a number",
-           "a number");
-    }
-    const double value = *node->value<double>();
-    if (!std::isfinite(value)) {
-      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) + " is not finite",
-           "a finite number");
-    }
-    return value;
-  }
-
-  // A number that must be > 0.
-  std::optional<double> Positive(const toml::table& table, std::string_view section,
-                                 std::string_view key, bool required) const {
-    const auto value = Number(table, section, key, required);
-    if (value && !(*value > 0.0)) {
-      Fail(*table.get(key),
-           "key '" + std::string(key) + "' in " + std::string(section) + " must be positive",
-           "a number above zero");
-    }
-    return value;
-  }
+  using TomlReader::TomlReader;
 
   // A temperature in degC within the plausibility bound, returned in K.
   std::optional<double> Temperature_K(const toml::table& table, std::string_view section,
@@ -144,52 +60,11 @@ class JobFileReader {
     if (!(temperature_K >= internal::kMinPlausibleTemperature_K &&
           temperature_K <= internal::kMaxPlausibleTemperature_K)) {
       Fail(*table.get(key),
-           "key '" + std::string(key) + "' in " + std::string(section) +
-               " is an implausible temperature",
+           Describe({std::string(section), std::string(key)}) + " is an implausible temperature",
            "a temperature in degC within -50..150");
     }
     return temperature_K;
   }
-
-  std::optional<bool> Bool(const toml::table& table, std::string_view section,
-                           std::string_view key) const {
-    const toml::node* node = table.get(key);
-    if (node == nullptr) return std::nullopt;
-    if (!node->is_boolean()) {
-      Fail(*node, "key '" + std::string(key) + "' in " + std::string(section) + " is not a boolean",
-           "true or false");
-    }
-    return node->value<bool>();
-  }
-
-  // A string that must be one of `allowed`.
-  std::optional<std::string> Choice(const toml::table& table, std::string_view section,
-                                    std::string_view key, bool required,
-                                    std::initializer_list<std::string_view> allowed) const {
-    auto value = String(table, section, key, required);
-    if (!value) return value;
-    if (std::find(allowed.begin(), allowed.end(), *value) == allowed.end()) {
-      std::string list;
-      for (std::string_view name : allowed) {
-        if (!list.empty()) list += ", ";
-        list += "\"" + std::string(name) + "\"";
-      }
-      Fail(*table.get(key), "'" + Excerpt(*value) + "' is not a valid " + std::string(key),
-           "one of " + list);
-    }
-    return value;
-  }
-
-  [[noreturn]] void Missing(const toml::table& table, std::string_view section,
-                            std::string_view key, std::string_view what) const {
-    Fail(table, "missing key '" + std::string(key) + "' in " + std::string(section),
-         std::string(key) + " (" + std::string(what) + ")");
-  }
-
-  const std::string& display() const { return display_; }
-
- private:
-  std::string display_;
 };
 
 CsvFormat ReadFormat(const JobFileReader& in, const toml::table& table, std::string_view section) {
@@ -467,10 +342,13 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     throw InputError(SourceLocation{in.display(), 0, 0}, "job file not found",
                      "an existing TOML job file");
   }
-  const toml::table root = ParseTomlFile(job_file, "a valid TOML job file");
+  auto parsed = std::make_shared<ParsedTomlFile>(
+      ParsedTomlFile{job_file, ParseTomlFile(job_file, "a valid TOML job file")});
+  const toml::table& root = parsed->root;
 
   JobSpec job;
   job.job_file = job_file;
+  job.parsed = parsed;
   const std::filesystem::path job_dir = job_file.parent_path();
 
   for (auto&& [key, value] : root) {

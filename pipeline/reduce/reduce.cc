@@ -5,7 +5,6 @@
 
 #include <algorithm>
 #include <boost/math/distributions/normal.hpp>
-#include <boost/math/distributions/students_t.hpp>
 #include <cmath>
 #include <iterator>
 #include <limits>
@@ -13,6 +12,7 @@
 #include <stdexcept>
 #include <tuple>
 
+#include "pipeline/common/student_t.h"
 #include "pipeline/physics/physics.h"
 
 namespace sorbtrace::reduce {
@@ -363,12 +363,7 @@ double EffectiveDegreesOfFreedom(const std::vector<BudgetLine>& lines) {
 }
 
 double StudentTCoverageFactor(double degrees_of_freedom, double coverage_probability) {
-  const double upper = 0.5 * (1.0 + coverage_probability);
-  if (!std::isfinite(degrees_of_freedom)) {
-    return boost::math::quantile(boost::math::normal_distribution<double>(0.0, 1.0), upper);
-  }
-  return boost::math::quantile(boost::math::students_t_distribution<double>(degrees_of_freedom),
-                               upper);
+  return sorbtrace::StudentTCoverageFactor(degrees_of_freedom, coverage_probability);
 }
 
 double CoverageFactor(double degrees_of_freedom, double nominal_k) {

@@ -9,6 +9,7 @@
 
 #include "pipeline/common/bounded_input.h"
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/common/toml_reader.h"
 #include "pipeline/report/report.h"
 
 namespace sorbtrace::report {
@@ -30,76 +31,48 @@ std::string JoinQuoted(const std::vector<std::string>& items) {
   return out;
 }
 
+// The shared TOML reader (pipeline/common/toml_reader.h) as the template's readers call it:
+// a value is named by the key that holds it in the template.
 class TemplateReader {
  public:
-  explicit TemplateReader(std::string file) : file_(std::move(file)) {}
+  TemplateReader(std::string file, const toml::table& root)
+      : reader_(std::move(file)), root_(root) {}
 
-  SourceLocation Where(const toml::source_region& region) const {
-    return {file_, static_cast<int>(region.begin.line), static_cast<int>(region.begin.column)};
-  }
+  SourceLocation Where(const toml::source_region& region) const { return reader_.At(region); }
 
-  // Throws for any key of `table` not in `allowed`.
+  // Throws for any key of `table` not in `allowed` (`table_name` bare, "" for the top level).
   void CheckKeys(const toml::table& table, const std::string& table_name,
                  const std::vector<std::string>& allowed) const {
-    for (auto&& [key, node] : table) {
-      if (std::find(allowed.begin(), allowed.end(), std::string(key.str())) == allowed.end()) {
-        const std::string where = table_name.empty() ? "at top level" : "in [" + table_name + "]";
-        throw InputError(Where(key.source()),
-                         "unknown key '" + std::string(key.str()) + "' " + where,
-                         "one of " + JoinQuoted(allowed));
-      }
-    }
+    reader_.CheckKeys(table, TableDisplayName(table_name), allowed);
   }
 
   const toml::table* Table(const toml::table& parent, const std::string& name) const {
-    const toml::node* node = parent.get(name);
-    if (node == nullptr) return nullptr;
-    if (!node->is_table()) {
-      throw InputError(Where(node->source()), "'" + name + "' must be a table", "[" + name + "]");
-    }
-    return node->as_table();
+    return reader_.OptionalTable(parent, name);
   }
 
   std::string String(const toml::node& node, const std::string& key) const {
-    if (!node.is_string()) {
-      throw InputError(Where(node.source()), "'" + key + "' must be a string", "a quoted string");
-    }
-    return node.as_string()->get();
+    return reader_.String(node, Name(node, key));
   }
-
   double Number(const toml::node& node, const std::string& key) const {
-    if (node.is_integer()) return static_cast<double>(node.as_integer()->get());
-    if (node.is_floating_point()) return node.as_floating_point()->get();
-    throw InputError(Where(node.source()), "'" + key + "' must be a number", "a number");
+    return reader_.Number(node, Name(node, key));
   }
-
   long long Integer(const toml::node& node, const std::string& key) const {
-    if (!node.is_integer()) {
-      throw InputError(Where(node.source()), "'" + key + "' must be an integer", "an integer");
-    }
-    return node.as_integer()->get();
+    return reader_.Integer(node, Name(node, key));
   }
-
   bool Boolean(const toml::node& node, const std::string& key) const {
-    if (!node.is_boolean()) {
-      throw InputError(Where(node.source()), "'" + key + "' must be true or false",
-                       "true or false");
-    }
-    return node.as_boolean()->get();
+    return reader_.Bool(node, Name(node, key));
   }
-
   std::vector<std::string> StringArray(const toml::node& node, const std::string& key) const {
-    if (!node.is_array()) {
-      throw InputError(Where(node.source()), "'" + key + "' must be an array of strings",
-                       "[\"...\", ...]");
-    }
-    std::vector<std::string> out;
-    for (const toml::node& item : *node.as_array()) out.push_back(String(item, key));
-    return out;
+    return reader_.StringArray(node, Name(node, key));
   }
 
  private:
-  std::string file_;
+  TomlKeyName Name(const toml::node& node, const std::string& key) const {
+    return TomlReader::NameOf(root_, node).value_or(TomlKeyName{"", key});
+  }
+
+  TomlReader reader_;
+  const toml::table& root_;
 };
 
 // [layout] outputs: which renderings of the sheet are written ("pdf", "html", each once,
@@ -240,7 +213,7 @@ void ReadReferences(TemplateReader& reader, const toml::node* n, Template& layou
 Template LoadTemplate(const std::filesystem::path& template_file) {
   const std::string file = template_file.string();
   const toml::table root = ParseTomlFile(template_file, "a report template in TOML");
-  TemplateReader reader(file);
+  TemplateReader reader(file, root);
   Template layout;
   layout.source_file = template_file;
   layout.sections.clear();

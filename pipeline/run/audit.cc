@@ -142,4 +142,11 @@ std::vector<ManifestEntry> ParseOutputManifest(const std::filesystem::path& mani
   return entries;
 }
 
+std::vector<ManifestEntry> ReadOutputManifest(const std::filesystem::path& manifest_file) {
+  const std::string display = manifest_file.string();
+  return ParseOutputManifest(manifest_file,
+                             ReadBoundedFile(manifest_file, display, kMaxOutputManifestBytes,
+                                             "an output manifest written by `sorbtrace make`"));
+}
+
 }  // namespace sorbtrace::run

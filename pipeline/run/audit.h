@@ -60,4 +60,13 @@ std::string OutputManifestText(
 std::vector<ManifestEntry> ParseOutputManifest(const std::filesystem::path& manifest_file,
                                                const std::string& text);
 
+// Largest manifest `verify` reads (README, "Limits of inputs"): a line is 64 hex digits, two
+// spaces and a file name of at most 255 bytes (NAME_MAX on Linux), so 64 KiB hold more than
+// 200 lines; `make` writes one line per output file, fewer than 20.
+inline constexpr std::size_t kMaxOutputManifestBytes = std::size_t{64} << 10;
+
+// Reads (a regular file of at most kMaxOutputManifestBytes, bounded_input.h ReadBoundedFile)
+// and parses the manifest; InputError for anything else.
+std::vector<ManifestEntry> ReadOutputManifest(const std::filesystem::path& manifest_file);
+
 }  // namespace sorbtrace::run

@@ -37,6 +37,7 @@
 #include "pipeline/common/cleanup.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
+#include "pipeline/common/paths.h"
 #include "pipeline/run/commands.h"
 #include "pipeline/run/console.h"
 #include "pipeline/run/exit_status.h"
@@ -196,17 +197,6 @@ void AssignFolderNames(std::vector<PlannedJob>& jobs) {
   }
 }
 
-bool IsSameOrInside(const fs::path& inner, const fs::path& outer) {
-  const fs::path relative = inner.lexically_relative(outer);
-  return !relative.empty() && *relative.begin() != "..";
-}
-
-fs::path Resolved(const fs::path& path) {
-  std::error_code ec;
-  fs::path resolved = fs::weakly_canonical(fs::absolute(path), ec);
-  return ec ? fs::absolute(path).lexically_normal() : resolved;
-}
-
 [[noreturn]] void RefuseRoot(const fs::path& out, const std::string& why) {
   throw InputError(SourceLocation{out.string(), 0, 0},
                    "batch output folder refused: " + why + "; nothing was written",
@@ -217,15 +207,15 @@ fs::path Resolved(const fs::path& path) {
 
 // Checks OUT (see the file comment) and creates it with its marker.
 void PrepareOutputRoot(const fs::path& out, const fs::path& input_dir) {
-  const fs::path target = Resolved(out);
-  const fs::path inputs = Resolved(input_dir);
+  const fs::path target = ResolvedPath(out);
+  const fs::path inputs = ResolvedPath(input_dir);
   if (target == target.root_path()) RefuseRoot(out, "it is the root folder");
   if (const char* home = std::getenv("HOME"); home != nullptr && *home != '\0') {
-    if (IsSameOrInside(Resolved(home), target))
+    if (IsSameOrInside(ResolvedPath(home), target))
       RefuseRoot(out, "it is or contains the home folder");
   }
   std::error_code ec;
-  if (IsSameOrInside(Resolved(fs::current_path(ec)), target)) {
+  if (IsSameOrInside(ResolvedPath(fs::current_path(ec)), target)) {
     RefuseRoot(out, "it is or contains the current folder; name a sub-folder instead");
   }
   if (IsSameOrInside(inputs, target) || IsSameOrInside(target, inputs)) {

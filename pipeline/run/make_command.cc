@@ -83,7 +83,7 @@ int Make(const MakeArguments& args) {
     options.progress = [&](const std::string& stage, int index, int count) {
       console.Stage(label, stage, index, count);
     };
-    const RunResult result = RunJob(job_file, options);
+    const RunResult result = RunJob(spec, options);  // the job file is parsed once
     WriteOutputDirectory(result, out);
     results_json = result.artifacts.results_json;
     console.Finish();

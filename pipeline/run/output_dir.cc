@@ -32,6 +32,7 @@
 #include "pipeline/common/cleanup.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
+#include "pipeline/common/paths.h"
 #include "pipeline/run/audit.h"
 #include "pipeline/run/run.h"
 
@@ -53,19 +54,6 @@ constexpr size_t kMaxFolderNameChars = 100;
 int ExchangePaths(const fs::path& a, const fs::path& b) {
   return static_cast<int>(
       ::syscall(SYS_renameat2, AT_FDCWD, a.c_str(), AT_FDCWD, b.c_str(), RENAME_EXCHANGE));
-}
-
-// Symbolic links and ".." resolved as far as the path exists.
-fs::path Resolved(const fs::path& path) {
-  std::error_code ec;
-  fs::path resolved = fs::weakly_canonical(fs::absolute(path), ec);
-  return ec ? fs::absolute(path).lexically_normal() : resolved;
-}
-
-// True if `inner` equals `outer` or lies inside it (both resolved).
-bool IsSameOrInside(const fs::path& inner, const fs::path& outer) {
-  const fs::path relative = inner.lexically_relative(outer);
-  return !relative.empty() && *relative.begin() != "..";
 }
 
 [[noreturn]] void Refuse(const fs::path& output_dir, const std::string& why) {
@@ -175,22 +163,22 @@ std::string OutputFolderName(const std::string& job_id) {
 void CheckOutputFolder(const fs::path& output_dir, const std::string& job_id,
                        const std::vector<fs::path>& inputs) {
   if (output_dir.empty()) Refuse(output_dir, "the folder name is empty");
-  const fs::path target = Resolved(output_dir);
+  const fs::path target = ResolvedPath(output_dir);
   if (target == target.root_path()) Refuse(output_dir, "it is the root folder");
   if (const char* home = std::getenv("HOME"); home != nullptr && *home != '\0') {
-    if (IsSameOrInside(Resolved(home), target)) {
+    if (IsSameOrInside(ResolvedPath(home), target)) {
       Refuse(output_dir, "it is or contains the home folder " + std::string(home));
     }
   }
   std::error_code ec;
-  const fs::path cwd = Resolved(fs::current_path(ec));
+  const fs::path cwd = ResolvedPath(fs::current_path(ec));
   if (!ec && IsSameOrInside(cwd, target)) {
     Refuse(output_dir,
            "it is or contains the current folder (as `--out .` or `--out ..` "
            "would); name a sub-folder instead");
   }
   for (const auto& input : inputs) {
-    const fs::path resolved = Resolved(input);
+    const fs::path resolved = ResolvedPath(input);
     if (IsSameOrInside(resolved, target)) {
       Refuse(output_dir, "it is or contains the input " + input.string());
     }
@@ -221,7 +209,7 @@ void CheckOutputFolder(const fs::path& output_dir, const std::string& job_id,
 
 void WriteOutputDirectory(const RunResult& result, const fs::path& output_dir) {
   CheckOutputFolder(output_dir, result.job.job_id, result.input_files);
-  const fs::path target = Resolved(output_dir);
+  const fs::path target = ResolvedPath(output_dir);
   // Folders created for the output are removed again (if still empty) when writing fails.
   std::vector<fs::path> created;
   struct stat probe {};

@@ -79,6 +79,9 @@ struct PreparedJob {
 };
 PreparedJob PrepareJob(const std::filesystem::path& job_file,
                        const std::filesystem::path& output_dir, const ProgressCallback& progress);
+// The same for a job spec already read (ingest::LoadJobSpec): the job file is not parsed again.
+PreparedJob PrepareJob(ingest::JobSpec job, const std::filesystem::path& output_dir,
+                       const ProgressCallback& progress);
 
 struct RunOptions {
   std::filesystem::path output_dir;  // recorded (relative job path) in results.json
@@ -103,6 +106,8 @@ std::vector<std::filesystem::path> ProtectedInputs(const ingest::JobSpec& job);
 // Runs the whole pipeline on one job file; throws InputError (bad input) or
 // ComputationError (fit failure). Writes nothing.
 RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& options);
+// The same for a job spec already read (ingest::LoadJobSpec): the job file is not parsed again.
+RunResult RunJob(ingest::JobSpec job, const RunOptions& options);
 
 // The marker file inside every output folder: first line "sorbtrace output folder", then
 // "job_id: ID" and one "file: NAME" line per file written.

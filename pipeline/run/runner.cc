@@ -45,16 +45,17 @@ std::vector<std::filesystem::path> ProtectedInputs(const ingest::JobSpec& job) {
   return paths;
 }
 
-PreparedJob PrepareJob(const std::filesystem::path& job_file,
-                       const std::filesystem::path& output_dir, const ProgressCallback& progress) {
+namespace {
+
+// PrepareJob after the job spec is read (stage 0, "ingest", already reported).
+PreparedJob PrepareLoadedJob(ingest::JobSpec job, const std::filesystem::path& output_dir,
+                             const ProgressCallback& progress) {
   auto stage = [&progress](int index) {
     if (progress) progress(kStageNames[index], index, static_cast<int>(kStageNames.size()));
   };
   PreparedJob prepared;
-  stage(0);
-  RequireRegularFile(job_file, job_file.string(), "a TOML job file");
-  prepared.job = ingest::LoadJobSpec(job_file);
-  prepared.settings = LoadJobSettings(job_file, prepared.job, output_dir);
+  prepared.job = std::move(job);
+  prepared.settings = LoadJobSettings(prepared.job.job_file, prepared.job, output_dir);
   prepared.ingested = ingest::Ingest(prepared.job, prepared.settings.ingest);
   {
     const std::string content = ReadWholeFile(prepared.settings.template_file);
@@ -79,14 +80,36 @@ PreparedJob PrepareJob(const std::filesystem::path& job_file,
   return prepared;
 }
 
-RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& options) {
+void ReportFirstStage(const ProgressCallback& progress) {
+  if (progress) progress(kStageNames[0], 0, static_cast<int>(kStageNames.size()));
+}
+
+}  // namespace
+
+PreparedJob PrepareJob(const std::filesystem::path& job_file,
+                       const std::filesystem::path& output_dir, const ProgressCallback& progress) {
+  ReportFirstStage(progress);
+  RequireRegularFile(job_file, job_file.string(), "a TOML job file");
+  return PrepareLoadedJob(ingest::LoadJobSpec(job_file), output_dir, progress);
+}
+
+PreparedJob PrepareJob(ingest::JobSpec job, const std::filesystem::path& output_dir,
+                       const ProgressCallback& progress) {
+  ReportFirstStage(progress);
+  return PrepareLoadedJob(std::move(job), output_dir, progress);
+}
+
+namespace {
+
+// RunJob after PrepareJob: fit, pores, report.
+RunResult RunPreparedJob(const PreparedJob& prepared, const RunOptions& options) {
+  const std::filesystem::path& job_file = prepared.job.job_file;
   auto progress = [&options](int index) {
     if (options.progress) {
       options.progress(kStageNames[index], index, static_cast<int>(kStageNames.size()));
     }
   };
   RunResult result;
-  const PreparedJob prepared = PrepareJob(job_file, options.output_dir, options.progress);
   result.job = prepared.job;
   result.warnings = prepared.warnings;
   result.input_files = ProtectedInputs(result.job);
@@ -128,6 +151,16 @@ RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& option
   for (const auto& warning : result.warnings) result.log += FormatDiagnostic(warning) + "\n";
   result.log += "datasheet: " + std::to_string(result.artifacts.num_pages) + " pages\n";
   return result;
+}
+
+}  // namespace
+
+RunResult RunJob(const std::filesystem::path& job_file, const RunOptions& options) {
+  return RunPreparedJob(PrepareJob(job_file, options.output_dir, options.progress), options);
+}
+
+RunResult RunJob(ingest::JobSpec job, const RunOptions& options) {
+  return RunPreparedJob(PrepareJob(std::move(job), options.output_dir, options.progress), options);
 }
 
 }  // namespace sorbtrace::run

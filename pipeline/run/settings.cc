@@ -11,7 +11,6 @@
 #include <cstdlib>
 #include <filesystem>
 #include <map>
-#include <set>
 #include <string>
 #include <type_traits>
 #include <vector>
@@ -19,6 +18,7 @@
 #include "fitters/registry.h"
 #include "pipeline/common/bounded_input.h"
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/common/toml_reader.h"
 #include "pipeline/physics/physics.h"
 #include "pipeline/run/run.h"
 #include "pipeline/run/settings_table.h"
@@ -30,29 +30,29 @@
 namespace sorbtrace::run {
 namespace internal {
 
-// Reads typed values out of one table, remembering which keys were used so that leftovers
-// can be reported as unknown.
+// Reads typed values out of one table through the shared TOML reader
+// (pipeline/common/toml_reader.h), remembering which keys were used so that leftovers can be
+// reported as unknown.
 class TableReader {
  public:
   TableReader(const toml::table* table, std::string name, std::string file)
-      : table_(table), name_(std::move(name)), file_(std::move(file)) {}
+      : table_(table), name_(std::move(name)), reader_(std::move(file)) {}
 
   bool Has(const std::string& key) const { return table_ != nullptr && table_->contains(key); }
 
   SourceLocation Where(const toml::node* node) const {
-    if (node == nullptr) return {file_, 0, 0};
-    return {file_, static_cast<int>(node->source().begin.line),
-            static_cast<int>(node->source().begin.column)};
+    if (node == nullptr) return {reader_.display(), 0, 0};
+    return reader_.At(*node);
   }
 
   const toml::node* Node(const std::string& key) {
-    used_.insert(key);
+    if (std::find(used_.begin(), used_.end(), key) == used_.end()) used_.push_back(key);
     return table_ == nullptr ? nullptr : table_->get(key);
   }
 
   // Where `key` is written, else where the table starts, else the file alone.
   SourceLocation At(const std::string& key) const {
-    if (table_ == nullptr) return {file_, 0, 0};
+    if (table_ == nullptr) return {reader_.display(), 0, 0};
     if (const toml::node* node = table_->get(key)) return Where(node);
     return Where(table_);
   }
@@ -61,85 +61,45 @@ class TableReader {
   std::optional<double> Number(const std::string& key, double minimum, double maximum) {
     const toml::node* node = Node(key);
     if (node == nullptr) return std::nullopt;
-    std::optional<double> value = node->value<double>();
-    if (!value || !std::isfinite(*value)) {
-      throw InputError(Where(node), Name(key) + " is not a number", "a finite number");
-    }
-    if (*value < minimum || *value > maximum) {
-      throw InputError(Where(node), Name(key) + " = " + Show(*value) + " is out of range",
-                       "a value from " + Show(minimum) + " to " + Show(maximum));
-    }
-    return value;
+    return reader_.Number(*node, Key(key), minimum, maximum);
   }
 
   std::optional<double> Integer(const std::string& key, double minimum, double maximum) {
     const toml::node* node = Node(key);
     if (node == nullptr) return std::nullopt;
-    std::optional<std::int64_t> value = node->value<std::int64_t>();
-    if (!node->is_integer() || !value) {
-      throw InputError(Where(node), Name(key) + " is not an integer", "a whole number");
-    }
-    const auto low = static_cast<std::int64_t>(minimum);
-    const auto high = static_cast<std::int64_t>(maximum);
-    if (*value < low || *value > high) {
-      throw InputError(
-          Where(node), Name(key) + " = " + std::to_string(*value) + " is out of range",
-          "a whole number from " + std::to_string(low) + " to " + std::to_string(high));
-    }
-    return static_cast<double>(*value);
+    return static_cast<double>(reader_.Integer(*node, Key(key), static_cast<std::int64_t>(minimum),
+                                               static_cast<std::int64_t>(maximum)));
   }
 
   std::optional<double> Bool(const std::string& key) {
     const toml::node* node = Node(key);
     if (node == nullptr) return std::nullopt;
-    if (!node->is_boolean()) {
-      throw InputError(Where(node), Name(key) + " is not a boolean", "true or false");
-    }
-    return *node->value<bool>() ? 1.0 : 0.0;
+    return reader_.Bool(*node, Key(key)) ? 1.0 : 0.0;
   }
 
   // A string that must be one of `choices`; returns its index.
   std::optional<double> Choice(const std::string& key, const std::vector<std::string>& choices) {
     const toml::node* node = Node(key);
     if (node == nullptr) return std::nullopt;
-    std::optional<std::string> value = node->value<std::string>();
-    std::string list;
-    for (const auto& choice : choices) list += (list.empty() ? "\"" : ", \"") + choice + "\"";
-    if (!value) throw InputError(Where(node), Name(key) + " is not a string", "one of " + list);
-    for (size_t i = 0; i < choices.size(); ++i) {
-      if (*value == choices[i]) return static_cast<double>(i);
-    }
-    throw InputError(Where(node), Name(key) + " = \"" + Excerpt(*value) + "\" is not known",
-                     "one of " + list);
+    const std::vector<std::string_view> views(choices.begin(), choices.end());
+    return static_cast<double>(reader_.Choice(*node, Key(key), views));
   }
 
+  // Every key of the table must have been read (the keys of the section, in table order).
   void RejectUnknownKeys() const {
-    if (table_ == nullptr) return;
-    for (const auto& [key, node] : *table_) {
-      if (used_.count(std::string(key.str())) == 0) {
-        const SourceLocation where =
-            key.source().begin.line > 0
-                ? SourceLocation{file_, static_cast<int>(key.source().begin.line),
-                                 static_cast<int>(key.source().begin.column)}
-                : Where(&node);
-        throw InputError(where, "unknown key " + Name(std::string(key.str())),
-                         "one of the documented keys of [" + name_ + "] (README, job file)");
-      }
-    }
+    if (table_ != nullptr) reader_.CheckKeys(*table_, TableDisplayName(name_), used_);
   }
 
   std::string Name(const std::string& key) const { return name_ + "." + key; }
-  static std::string Show(double value) {
-    char buffer[32];
-    std::snprintf(buffer, sizeof buffer, "%g", value);
-    return buffer;
-  }
+  static std::string Show(double value) { return TomlReader::Show(value); }
 
  private:
+  TomlKeyName Key(const std::string& key) const { return {TableDisplayName(name_), key}; }
+
   const toml::table* table_;
   std::string name_;
-  std::string file_;
-  std::set<std::string> used_;
+  TomlReader reader_;
+  std::vector<std::string> used_;
 };
 
 namespace {
@@ -766,24 +726,12 @@ void CheckSection(const std::string& section, const TableReader& in, const JobSe
   }
 }
 
-const toml::table* SubTable(const toml::table& root, const std::string& name,
-                            const std::string& file) {
-  const toml::node* node = root.get(name);
-  if (node == nullptr) return nullptr;
-  if (!node->is_table()) {
-    throw InputError(SourceLocation{file, static_cast<int>(node->source().begin.line),
-                                    static_cast<int>(node->source().begin.column)},
-                     "[" + name + "] is not a table", "a [" + name + "] section");
-  }
-  return node->as_table();
-}
-
 // Reads every section of the table in order, records where the work settings are written.
 void ReadAllSettings(const toml::table& root, const std::string& file, JobSettings& s) {
   const std::vector<SettingKey>& keys = SettingKeys();
   for (std::size_t first = 0; first < keys.size();) {
     const std::string section = keys[first].section;
-    TableReader in(SubTable(root, section, file), section, file);
+    TableReader in(TomlReader(file).OptionalTable(root, section), section, file);
     std::size_t end = first;
     for (; end < keys.size() && section == keys[end].section; ++end) {
       ReadSetting(keys[end], in, s);
@@ -946,15 +894,17 @@ JobSettings LoadJobSettings(const std::filesystem::path& job_file, const ingest:
                             const std::filesystem::path& output_dir) {
   (void)output_dir;
   const std::string file = job_file.string();
-  const toml::table root = ParseTomlFile(job_file, "a valid TOML job file");
+  // The tree LoadJobSpec parsed; the file is parsed again only for a spec read elsewhere.
+  std::optional<toml::table> own_root;
+  const toml::table& root =
+      job.parsed != nullptr && job.parsed->file == job_file
+          ? job.parsed->root
+          : own_root.emplace(ParseTomlFile(job_file, "a valid TOML job file"));
   JobSettings settings;
   settings.template_file = ResolveTemplate(job.template_name, job_file.parent_path());
   const toml::node* template_node = root["job"]["template"].node();
   const SourceLocation template_where =
-      template_node == nullptr
-          ? SourceLocation{file, 0, 0}
-          : SourceLocation{file, static_cast<int>(template_node->source().begin.line),
-                           static_cast<int>(template_node->source().begin.column)};
+      template_node == nullptr ? SourceLocation{file, 0, 0} : TomlReader(file).At(*template_node);
   // A template given as a path follows the data-path policy; one given by name comes from
   // the installed templates/.
   if (IsTemplatePath(job.template_name) && !job.allow_data_outside_job_folder &&

@@ -16,6 +16,7 @@
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
+#include "pipeline/common/paths.h"
 #include "pipeline/run/audit.h"
 #include "pipeline/run/commands.h"
 #include "pipeline/run/exit_status.h"
@@ -37,12 +38,6 @@ struct VerifyArguments {
 constexpr char kReportHeader[] = "sorbtrace verification report";
 nlohmann::json ParseResults(const std::string& path) { return ReadResultsFile(path); }
 
-std::filesystem::path Resolved(const std::filesystem::path& path) {
-  std::error_code ec;
-  std::filesystem::path resolved = std::filesystem::weakly_canonical(path, ec);
-  return ec ? std::filesystem::absolute(path).lexically_normal() : resolved;
-}
-
 // Where a recorded data file is: relative to the job folder and inside it, unless the user
 // allowed the path explicitly with --allow-input (an auditor decides what gets opened).
 std::filesystem::path ResolveRecordedInput(const std::string& recorded,
@@ -57,7 +52,7 @@ std::filesystem::path ResolveRecordedInput(const std::string& recorded,
                        (!relative.empty() && *relative.begin() == "..");
   if (!escapes) return candidate;
   for (const auto& allowed : args.allowed_inputs) {
-    if (Resolved(allowed) == Resolved(written.is_absolute() ? written : candidate)) {
+    if (ResolvedPath(allowed) == ResolvedPath(written.is_absolute() ? written : candidate)) {
       return candidate;
     }
   }
@@ -76,7 +71,7 @@ void CheckReportTarget(const std::string& report_file,
                      "report file refused: " + why + "; nothing was written",
                      "a new file, or an earlier report of `sorbtrace verify --report`");
   };
-  const fs::path target = Resolved(report_file);
+  const fs::path target = ResolvedPath(report_file);
   struct stat target_status {};
   const bool exists = ::lstat(target.c_str(), &target_status) == 0;
   for (const auto& input : inputs) {
@@ -84,11 +79,13 @@ void CheckReportTarget(const std::string& report_file,
     const bool same_file = exists && ::stat(input.c_str(), &input_status) == 0 &&
                            input_status.st_dev == target_status.st_dev &&
                            input_status.st_ino == target_status.st_ino;
-    if (same_file || Resolved(input) == target) refuse("it is the input " + input.string());
+    if (same_file || ResolvedPath(input) == target) refuse("it is the input " + input.string());
   }
   if (!exists) return;
   if (!S_ISREG(target_status.st_mode)) refuse("it exists and is not a regular file");
-  const std::string text = ReadWholeFile(target);
+  // Only the first line matters: a large foreign file is not read beyond it.
+  const std::string text = ReadRegularFileUpTo(target, target.string(), sizeof kReportHeader - 1,
+                                               "a report of `sorbtrace verify`");
   if (text.rfind(kReportHeader, 0) != 0) {
     refuse("it exists and is not a report of `sorbtrace verify`");
   }
@@ -111,7 +108,7 @@ int CheckOutputManifest(const std::filesystem::path& results_dir,
   const std::filesystem::path manifest_file = results_dir / kOutputManifestName;
   std::vector<ManifestEntry> entries;
   try {
-    entries = ParseOutputManifest(manifest_file, ReadWholeFile(manifest_file));
+    entries = ReadOutputManifest(manifest_file);
   } catch (const InputError& error) {
     record(fmt::format("FAIL  outputs {}  {}", kOutputManifestName, error.diagnostic().message),
            false, true);
@@ -165,7 +162,7 @@ int Verify(const VerifyArguments& args) {
     job_file = (results_dir / recorded_job).lexically_normal();
     const bool allowed = std::any_of(args.allowed_inputs.begin(), args.allowed_inputs.end(),
                                      [&](const std::string& allowed_path) {
-                                       return Resolved(allowed_path) == Resolved(job_file);
+                                       return ResolvedPath(allowed_path) == ResolvedPath(job_file);
                                      });
     if (recorded_job.is_absolute() && !allowed) {
       throw InputError(SourceLocation{args.results_file, 0, 0},

@@ -25,9 +25,14 @@ namespace sorbtrace::e2e {
 namespace fs = std::filesystem;
 
 struct Outcome {
-  int exit_code = -1;  // as the shell reports it: 128 + n for a process ended by signal n
-  std::string output;  // what the command wrote to stdout (and stderr where redirected)
+  int exit_code = -1;        // as the shell reports it: 128 + n for a process ended by signal n
+  std::string output;        // what the command wrote to stdout (and stderr where redirected)
+  std::string error_output;  // stderr, when captured apart (ShellApart)
+  // The command (or the shell) was ended by a signal: a crash, not an exit code.
+  bool crashed() const { return exit_code < 0 || exit_code > 128; }
 };
+
+inline std::string ReadBytes(const fs::path& path);
 
 // Runs `command` with /bin/sh and collects its stdout.
 inline Outcome Shell(const std::string& command) {
@@ -39,6 +44,14 @@ inline Outcome Shell(const std::string& command) {
   while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
   const int status = pclose(pipe);
   run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  return run;
+}
+
+// Runs `command` with /bin/sh, stdout and stderr kept apart: stderr goes to `err_file` (replaced)
+// and is returned in error_output.
+inline Outcome ShellApart(const std::string& command, const fs::path& err_file) {
+  Outcome run = Shell(command + " 2>'" + err_file.string() + "'");
+  run.error_output = ReadBytes(err_file);
   return run;
 }
 

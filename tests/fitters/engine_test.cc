@@ -473,6 +473,20 @@ TEST(FitModelTest, ErrorsInVariablesLineIsDemingRegression) {
   EXPECT_NEAR(fit.parameters[1], slope, 1e-9);
   EXPECT_NEAR(fit.parameters[0], ybar - slope * xbar, 1e-9);
   EXPECT_NE(fit.fitted_x0[2], data[2].x[0]);  // true x moved off the observed x
+  EXPECT_EQ(fit.x0_is_fitted, std::vector<char>(data.size(), 1));  // every sigma_x0 > 0
+}
+
+// The errors-in-variables rule (fitter.h, ErrorsInVariablesMask): a point's x[0] is fitted only
+// with the option on and a stated uncertainty; an exact x[0] (sigma_x0 = 0) stays observed, and
+// the fit carries the mask it used.
+TEST(FitModelTest, ErrorsInVariablesMaskIsOnePerPoint) {
+  std::vector<Observation> data(3);
+  data[0].sigma_x0 = 0.01;
+  data[2].sigma_x0 = 1e-9;
+  FitOptions options;
+  EXPECT_EQ(ErrorsInVariablesMask(data, options), std::vector<char>({0, 0, 0}));
+  options.errors_in_variables = true;
+  EXPECT_EQ(ErrorsInVariablesMask(data, options), std::vector<char>({1, 0, 1}));
 }
 
 TEST(FitModelTest, RobustLossResistsAnOutlier) {

@@ -36,6 +36,7 @@
 #include <string>
 #include <vector>
 
+#include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace::report {
@@ -61,15 +62,9 @@ void Spit(const fs::path& file, const std::string& bytes) {
 
 // Runs a shell command; returns its exit code and puts stdout in *output.
 int Shell(const std::string& command, std::string* output = nullptr) {
-  FILE* pipe = popen(command.c_str(), "r");
-  if (pipe == nullptr) return -1;
-  std::string text;
-  char buffer[65536];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) text.append(buffer, got);
-  const int status = pclose(pipe);
-  if (output != nullptr) *output = std::move(text);
-  return WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  e2e::Outcome run = e2e::Shell(command);
+  if (output != nullptr) *output = std::move(run.output);
+  return run.exit_code;
 }
 
 bool HaveChromium() { return Shell("command -v chromium >/dev/null 2>&1") == 0; }
@@ -92,11 +87,12 @@ int Chromium(const fs::path& work, const std::string& arguments, const fs::path&
   return code;
 }
 
-// &amp; &lt; &gt; &quot; and <br> back to text.
+// &amp; &lt; &gt; &quot; &apos; and <br> back to text.
 std::string Unescape(std::string text) {
   text = std::regex_replace(text, std::regex("<br>"), "\n");
   const std::vector<std::pair<std::string, std::string>> entities = {
-      {"&lt;", "<"}, {"&gt;", ">"}, {"&quot;", "\""}, {"&nbsp;", " "}, {"&amp;", "&"}};
+      {"&lt;", "<"},   {"&gt;", ">"},   {"&quot;", "\""},
+      {"&apos;", "'"}, {"&nbsp;", " "}, {"&amp;", "&"}};
   for (const auto& [from, to] : entities) {
     for (size_t pos = 0; (pos = text.find(from, pos)) != std::string::npos; pos += to.size()) {
       text.replace(pos, from.size(), to);

@@ -17,6 +17,8 @@
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/report/document.h"
+#include "pipeline/report/plot/svg_canvas.h"
+#include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace::report {
@@ -24,26 +26,12 @@ namespace {
 
 namespace fs = std::filesystem;
 
-std::string Slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
 // stdout of `command`; its stderr into *err.
 std::string RunTool(const std::string& command, std::string* err, int* exit_code) {
-  const fs::path err_file = testing::WriteTempFile("stderr.txt", "");
-  FILE* pipe = popen((command + " 2>'" + err_file.string() + "'").c_str(), "r");
-  std::string out;
-  if (pipe == nullptr) return out;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) out.append(buffer, got);
-  const int status = pclose(pipe);
-  *exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  *err = Slurp(err_file);
-  return out;
+  e2e::Outcome run = e2e::ShellApart(command, testing::WriteTempFile("stderr.txt", ""));
+  *exit_code = run.exit_code;
+  *err = std::move(run.error_output);
+  return std::move(run.output);
 }
 
 TEST(ToUnicodeCMap, IdentityBfrangesOverTheBmpWithoutSurrogates) {
@@ -79,7 +67,7 @@ TEST(ToUnicodeCMap, IdentityBfrangesOverTheBmpWithoutSurrogates) {
 }
 
 TEST(XmpPacket, EscapesTextAndCarriesEveryField) {
-  EXPECT_EQ(internal::XmlEscape("a<b>&'\"\x01z"), "a&lt;b&gt;&amp;&apos;&quot;z");
+  EXPECT_EQ(plot::XmlEscape("a<b>&'\"\x01z"), "a&lt;b&gt;&amp;&apos;&quot;z");
   internal::DocumentIdentity id;
   id.title = "Sheet <A&B>";
   id.author = "Müller & Söhne";

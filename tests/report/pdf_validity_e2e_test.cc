@@ -22,6 +22,8 @@
 #include <string>
 #include <vector>
 
+#include "tests/common/e2e_support.h"
+
 namespace sorbtrace::report {
 namespace {
 
@@ -42,17 +44,8 @@ std::string Slurp(const fs::path& file) {
 
 // Runs `command` through sh with stderr to a file, so stdout and stderr are kept apart.
 ToolRun RunTool(const std::string& command, const fs::path& scratch) {
-  const fs::path err_file = scratch / "stderr.txt";
-  ToolRun run;
-  FILE* pipe = popen((command + " 2>'" + err_file.string() + "'").c_str(), "r");
-  if (pipe == nullptr) return run;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.out.append(buffer, got);
-  const int status = pclose(pipe);
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  run.err = Slurp(err_file);
-  return run;
+  e2e::Outcome run = e2e::ShellApart(command, scratch / "stderr.txt");
+  return {run.exit_code, std::move(run.output), std::move(run.error_output)};
 }
 
 // `[job] id = "..."` of a job file, read with a line scan (independent of the ingest code).

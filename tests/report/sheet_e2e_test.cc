@@ -28,6 +28,7 @@
 #include <vector>
 
 #include "pipeline/common/bounded_input.h"
+#include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace::report {
@@ -35,26 +36,10 @@ namespace {
 
 namespace fs = std::filesystem;
 
-struct CommandRun {
-  int exit_code = -1;
-  bool signalled = false;
-  std::string output;  // stdout and stderr
-};
-
-CommandRun Sorbtrace(const std::string& arguments) {
-  const std::string command = std::string(SORBTRACE_BINARY) + " " + arguments + " 2>&1";
-  CommandRun run;
-  FILE* pipe = popen(command.c_str(), "r");
-  if (pipe == nullptr) return run;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
-  const int status = pclose(pipe);
-  // popen runs the command through sh: a crash of the binary shows as 128 + signal.
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  run.signalled = WIFSIGNALED(status) || run.exit_code > 128;
-  return run;
-}
+// stdout and stderr of `sorbtrace ARGUMENTS`; crashed(): a crash of the binary (sh reports
+// 128 + signal).
+using CommandRun = e2e::Outcome;
+using e2e::Sorbtrace;
 
 std::string Slurp(const fs::path& file) {
   std::ifstream in(file, std::ios::binary);
@@ -234,13 +219,13 @@ TEST_F(SheetE2eTest, LongTokensInEveryFreeTextFieldNeverCrashMakeOrCheck) {
       const bool refused = size + 64 > kMaxTomlLineBytes;
       const int expected_exit = refused ? 3 : 0;
       const CommandRun checked = Sorbtrace("check " + job.string());
-      EXPECT_FALSE(checked.signalled);
+      EXPECT_FALSE(checked.crashed());
       EXPECT_EQ(checked.exit_code, expected_exit) << checked.output.substr(0, 400);
       const fs::path parent = root_ / (name + "_out");
       fs::create_directories(parent);
       const fs::path out = parent / "sheet";
       const CommandRun made = Sorbtrace("make " + job.string() + " --out " + out.string() + " -q");
-      EXPECT_FALSE(made.signalled);
+      EXPECT_FALSE(made.crashed());
       // `make` and `check` agree.
       ASSERT_EQ(made.exit_code, checked.exit_code) << made.output.substr(0, 400);
       if (refused) {

@@ -86,11 +86,11 @@ TEST(LoadTemplateTest, OutputsChooseThePdfTheHtmlOrBoth) {
 
 TEST(LoadTemplateTest, UnknownKeyNamesKeyLineAndColumn) {
   EXPECT_EQ(LoadError("unknown_key.toml", "[template]\nname = \"x\"\npagesize = \"A4\"\n"),
-            "unknown_key.toml:3:1: error: unknown key 'pagesize' in [template]; expected one of "
-            "\"name\", \"title\", \"page_size\" or \"margin_mm\"");
+            "unknown_key.toml:3:1: error: unknown key 'pagesize' in [template]; expected one of: "
+            "name, title, page_size, margin_mm");
   EXPECT_EQ(LoadError("unknown_table.toml", "[template]\nname = \"x\"\n\n[colours]\nink = 1\n"),
-            "unknown_table.toml:4:2: error: unknown key 'colours' at top level; expected one of "
-            "\"template\", \"units\", \"layout\" or \"reference\"");
+            "unknown_table.toml:4:2: error: unknown key 'colours' at top level; expected one of: "
+            "template, units, layout, reference");
 }
 
 TEST(LoadTemplateTest, BadPageSize) {
@@ -108,7 +108,8 @@ TEST(LoadTemplateTest, OtherErrors) {
             "bad_digits.toml:2:34: error: uncertainty_significant_digits 3 is out of range; "
             "expected 1 or 2 (JCGM 100:2008, 7.2.6)");
   EXPECT_EQ(LoadError("bad_type.toml", "[template]\nmargin_mm = \"wide\"\n"),
-            "bad_type.toml:2:13: error: 'margin_mm' must be a number; expected a number");
+            "bad_type.toml:2:13: error: key 'margin_mm' in [template] is not a number; expected a "
+            "number");
   const std::string syntax = LoadError("syntax.toml", "[template\nname = 1\n");
   EXPECT_EQ(syntax.rfind("syntax.toml:1:", 0), 0u) << syntax;
   EXPECT_NE(syntax.find("error: TOML syntax: "), std::string::npos) << syntax;

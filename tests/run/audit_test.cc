@@ -2,6 +2,10 @@
 
 #include <gtest/gtest.h>
 
+#include <filesystem>
+#include <fstream>
+#include <string>
+
 #include "pipeline/common/diagnostics.h"
 
 namespace sorbtrace::run {
@@ -75,6 +79,48 @@ TEST(OutputManifestTest, RefusesFoldersAndMalformedLinesAtTheirLine) {
       EXPECT_EQ(error.diagnostic().where.line, 2) << bad;
     }
   }
+}
+
+// verify reads the manifest within kMaxOutputManifestBytes: a file at the cap is read, one byte
+// more (or a folder) is refused with an InputError before any parsing.
+TEST(OutputManifestTest, ReadingIsBoundedToTheCap) {
+  namespace fs = std::filesystem;
+  const fs::path dir = fs::temp_directory_path() / "sorbtrace_audit_manifest";
+  fs::remove_all(dir);
+  fs::create_directories(dir);
+  const fs::path manifest = dir / "outputs.sha256";
+  const auto write = [&](const std::string& bytes) {
+    std::ofstream(manifest, std::ios::binary) << bytes;
+  };
+  const std::string line =
+      "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad  a.txt\n";
+  std::string lines;
+  while (lines.size() + 2 * line.size() <= kMaxOutputManifestBytes) lines += line;
+  write(lines);
+  EXPECT_EQ(ReadOutputManifest(manifest).size(), lines.size() / line.size());
+  // Exactly at the cap: read to its end, the last line refused by the parser.
+  const std::string at_cap =
+      lines + std::string(kMaxOutputManifestBytes - lines.size() - 1, 'x') + "\n";
+  ASSERT_EQ(at_cap.size(), kMaxOutputManifestBytes);
+  write(at_cap);
+  try {
+    ReadOutputManifest(manifest);
+    ADD_FAILURE() << "the 'x' line is no manifest line";
+  } catch (const InputError& error) {
+    EXPECT_NE(error.diagnostic().message.find("not a manifest line"), std::string::npos)
+        << error.what();
+  }
+  // One byte past the cap: refused before any parsing.
+  write(at_cap + "y");
+  try {
+    ReadOutputManifest(manifest);
+    ADD_FAILURE() << "a manifest past the cap was read";
+  } catch (const InputError& error) {
+    EXPECT_NE(error.diagnostic().message.find("goes on past 65536 bytes"), std::string::npos)
+        << error.what();
+  }
+  EXPECT_THROW(ReadOutputManifest(dir), InputError);  // a folder
+  fs::remove_all(dir);
 }
 
 }  // namespace

@@ -86,7 +86,8 @@ TEST(JobSettingsTest, UnknownKeyNamesKeyLineAndColumn) {
   } catch (const InputError& error) {
     EXPECT_EQ(error.diagnostic().where.line, 3);
     EXPECT_EQ(error.diagnostic().where.column, 1);
-    EXPECT_NE(std::string(error.what()).find("unknown key fit.bootstrapp"), std::string::npos)
+    EXPECT_NE(std::string(error.what()).find("unknown key 'bootstrapp' in [fit]"),
+              std::string::npos)
         << error.what();
   }
 }
@@ -99,7 +100,7 @@ TEST(JobSettingsTest, OutOfRangeAndWrongTypeAreErrors) {
     LoadJobSettings(type, FullTemplateJob(), "out");
     FAIL() << "no error";
   } catch (const InputError& error) {
-    EXPECT_NE(std::string(error.what()).find("pores.grid_points is not an integer"),
+    EXPECT_NE(std::string(error.what()).find("key 'grid_points' in [pores] is not an integer"),
               std::string::npos)
         << error.what();
     EXPECT_EQ(error.diagnostic().where.line, 2);

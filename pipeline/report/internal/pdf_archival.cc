@@ -12,8 +12,12 @@
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
+#include "pipeline/report/plot/svg_canvas.h"
 
 namespace sorbtrace::report::internal {
+
+using plot::XmlEscape;
+
 namespace {
 
 // ISO 32000-1:2008 §9.10.3 / Adobe Technical Note #5014: at most 100 entries per
@@ -101,35 +105,6 @@ void RepairToUnicode(HPDF_Font font) {
   Check(
       HPDF_Dict_Add(info, "Ordering", HPDF_String_New(font->mmgr, "Identity", nullptr)) == HPDF_OK,
       "repairing a font's CIDSystemInfo");
-}
-
-std::string XmlEscape(std::string_view text) {
-  std::string out;
-  out.reserve(text.size());
-  for (const char c : text) {
-    switch (c) {
-      case '&':
-        out += "&amp;";
-        break;
-      case '<':
-        out += "&lt;";
-        break;
-      case '>':
-        out += "&gt;";
-        break;
-      case '\'':
-        out += "&apos;";
-        break;
-      case '"':
-        out += "&quot;";
-        break;
-      default:
-        // XML 1.0 §2.2: of the C0 controls only tab, line feed and carriage return.
-        if (static_cast<unsigned char>(c) < 0x20 && c != '\t' && c != '\n' && c != '\r') break;
-        out += c;
-    }
-  }
-  return out;
 }
 
 std::string XmpDate(const HPDF_Date& date) { return PdfDate(date) + "Z"; }

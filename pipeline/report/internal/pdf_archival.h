@@ -61,10 +61,6 @@ std::string IdentityToUnicodeCMap();
 // the UTF-8 encoder. Throws ComputationError if it is not.
 void RepairToUnicode(HPDF_Font font);
 
-// "&", "<", ">", "'" and '"' as XML entities; control characters other than tab, line feed
-// and carriage return (not allowed in XML 1.0) dropped.
-std::string XmlEscape(std::string_view text);
-
 // "2026-06-02T00:00:00Z" (XMP date, ISO 8601) for a libharu date in UTC.
 std::string XmpDate(const HPDF_Date& date);
 

@@ -22,10 +22,10 @@ int Channel(double component) {
 
 }  // namespace
 
-std::string XmlEscape(const std::string& text) {
+std::string XmlEscape(std::string_view text) {
   std::string out;
   out.reserve(text.size());
-  for (char c : text) {
+  for (const char c : text) {
     switch (c) {
       case '&':
         out += "&amp;";
@@ -36,10 +36,15 @@ std::string XmlEscape(const std::string& text) {
       case '>':
         out += "&gt;";
         break;
+      case '\'':
+        out += "&apos;";
+        break;
       case '"':
         out += "&quot;";
         break;
       default:
+        // XML 1.0 §2.2: of the C0 controls only tab, line feed and carriage return.
+        if (static_cast<unsigned char>(c) < 0x20 && c != '\t' && c != '\n' && c != '\r') break;
         out += c;
     }
   }

@@ -7,6 +7,7 @@
 #pragma once
 
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "pipeline/report/plot/canvas.h"
@@ -63,8 +64,11 @@ class SvgCanvas : public Canvas {
   int num_clips_ = 0;
 };
 
-// Text escaped for HTML and XML character data and attribute values (&, <, >, ").
-std::string XmlEscape(const std::string& text);
+// Text escaped for XML and HTML character data and attribute values: "&", "<", ">", "'" and
+// '"' as entities; control characters other than tab, line feed and carriage return (not
+// allowed in XML 1.0, §2.2) dropped. The one escape of the SVG figures, the HTML report and the
+// PDF's XMP metadata.
+std::string XmlEscape(std::string_view text);
 
 // "#rrggbb" of a colour.
 std::string HexColor(Color color);
