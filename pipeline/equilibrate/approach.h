@@ -35,6 +35,7 @@
 #include <string>
 
 #include "pipeline/equilibrate/equilibrate.h"
+#include "pipeline/equilibrate/exponential_tail.h"
 #include "pipeline/ingest/ingest.h"
 
 namespace sorbtrace::equilibrate::internal {
@@ -42,6 +43,10 @@ namespace sorbtrace::equilibrate::internal {
 // A first-order fit needs 3 parameters and some residual degrees of freedom; 5 is the least
 // FitExponentialTail accepts.
 inline constexpr int kMinWeighingsForFit = 5;
+
+// The tail-fit options of the equilibrate options (the one translation, for the extrapolation of
+// unfinished steps and the approach estimate); step_start_s: the Fickian sheet's time origin.
+TailFitOptions TailOptions(const EquilibrateOptions& options, double step_start_s);
 
 struct ApproachEstimate {
   bool estimated = false;        // a time constant was resolved (correction applied)
@@ -62,9 +67,10 @@ ApproachEstimate EstimateDesiccatorApproach(std::span<const ingest::Weighing> we
                                             double reported_mass_g, double balance_u_g,
                                             const EquilibrateOptions& options);
 
-// tail: block means of the tail (times increasing); reported_mass_g: the final-window mean.
+// tail: block means of the tail (times increasing); step_start_s: the time of the humidity
+// change; reported_mass_g: the final-window mean.
 ApproachEstimate EstimateLogApproach(std::span<const double> tail_time_s,
-                                     std::span<const double> tail_mass_g, double reported_mass_g,
-                                     const EquilibrateOptions& options);
+                                     std::span<const double> tail_mass_g, double step_start_s,
+                                     double reported_mass_g, const EquilibrateOptions& options);
 
 }  // namespace sorbtrace::equilibrate::internal
