@@ -14,8 +14,9 @@
 // to one side and inflate U without centring it.
 //
 // How (from the step's own trace):
-//  - the time constant and asymptote come from an exponential fit (FitExponentialTail, one
-//    term, with the two-term alternative as model term) of the step's weighings (desiccator,
+//  - the time constant and asymptote come from the kinetic-model average of FitExponentialTail
+//    (one and two exponentials, Fickian sheet from the step start; the between-model spread is
+//    the model term, exponential_tail.h) of the step's weighings (desiccator,
 //    at least kMinWeighingsForFit) or of the tail of its block means (log, the same tail the
 //    extrapolation of unfinished steps uses); correction = m_inf - m_reported, standard
 //    uncertainty from the fit covariance (Type A, n - 3 degrees of freedom) and the model term;
