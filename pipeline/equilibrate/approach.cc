@@ -18,19 +18,20 @@ using physics::kSecondsPerMinute;
 // Bisection on the decay rate lambda = 1/tau of the three-weighing estimate.
 constexpr int kBisections = 200;
 
-// Accepts a fitted tail as an estimate of the remaining approach.
-ApproachEstimate FromTailFit(const TailFit& fit, double span_s, double reported_mass_g,
-                             const EquilibrateOptions& options, std::string_view what) {
+// Accepts a fitted tail as an estimate of the remaining approach (the fit refuses time
+// constants beyond options.max_tau_to_tail_ratio of its span).
+ApproachEstimate FromTailFit(const TailFit& fit, double reported_mass_g, std::string_view what) {
   ApproachEstimate estimate;
-  if (!fit.ok || !(fit.slowest_tau_s <= options.max_tau_to_tail_ratio * span_s)) return estimate;
+  if (!fit.ok) return estimate;
   estimate.estimated = true;
   estimate.correction_g = fit.m_inf_g - reported_mass_g;
   estimate.u_correction_g = fit.u_m_inf_g;
   estimate.u_model_g = fit.u_model_g;
   estimate.time_constant_s = fit.slowest_tau_s;
   estimate.degrees_of_freedom = fit.degrees_of_freedom;
-  estimate.method = fmt::format("{}-term exponential fit of {} {}, tau = {:.3g} h", fit.terms,
-                                fit.num_points, what, fit.slowest_tau_s / kSecondsPerHour);
+  estimate.method =
+      fmt::format("kinetic models fitted to {} {} ({}), tau = {:.3g} h", fit.num_points, what,
+                  DescribeCandidates(fit), fit.slowest_tau_s / kSecondsPerHour);
   return estimate;
 }
 
@@ -116,6 +117,14 @@ ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
 
 }  // namespace
 
+TailFitOptions TailOptions(const EquilibrateOptions& options, double step_start_s) {
+  TailFitOptions tail;
+  tail.max_exponential_terms = options.exponential_terms;
+  tail.max_tau_to_span = options.max_tau_to_tail_ratio;
+  tail.step_start_s = step_start_s;
+  return tail;
+}
+
 ApproachEstimate EstimateDesiccatorApproach(std::span<const ingest::Weighing> weighings,
                                             double reported_mass_g, double balance_u_g,
                                             const EquilibrateOptions& options) {
@@ -125,10 +134,9 @@ ApproachEstimate EstimateDesiccatorApproach(std::span<const ingest::Weighing> we
       t.push_back(weighing.time_s);
       m.push_back(weighing.mass_g);
     }
-    const TailFit fit =
-        FitExponentialTail(t, m, options.exponential_terms, options.max_tau_to_tail_ratio);
-    ApproachEstimate estimate =
-        FromTailFit(fit, t.back() - t.front(), reported_mass_g, options, "weighings");
+    // The first weighing is taken at the transfer into the desiccator: the step start.
+    const TailFit fit = FitExponentialTail(t, m, TailOptions(options, t.front()));
+    ApproachEstimate estimate = FromTailFit(fit, reported_mass_g, "weighings");
     estimate.includes_weighing_scatter = estimate.estimated;
     if (estimate.estimated) return estimate;
   }
@@ -136,13 +144,13 @@ ApproachEstimate EstimateDesiccatorApproach(std::span<const ingest::Weighing> we
 }
 
 ApproachEstimate EstimateLogApproach(std::span<const double> tail_time_s,
-                                     std::span<const double> tail_mass_g, double reported_mass_g,
-                                     const EquilibrateOptions& options) {
+                                     std::span<const double> tail_mass_g, double step_start_s,
+                                     double reported_mass_g, const EquilibrateOptions& options) {
   if (static_cast<int>(tail_time_s.size()) < options.min_tail_points) return ApproachEstimate{};
-  const TailFit fit = FitExponentialTail(tail_time_s, tail_mass_g, options.exponential_terms,
-                                         options.max_tau_to_tail_ratio);
+  const TailFit fit =
+      FitExponentialTail(tail_time_s, tail_mass_g, TailOptions(options, step_start_s));
   const double span_s = tail_time_s.back() - tail_time_s.front();
-  ApproachEstimate estimate = FromTailFit(fit, span_s, reported_mass_g, options, "block means");
+  ApproachEstimate estimate = FromTailFit(fit, reported_mass_g, "block means");
   if (estimate.estimated) {
     estimate.method += fmt::format(" (tail of {:.3g} min)", span_s / kSecondsPerMinute);
   }

@@ -14,8 +14,9 @@
 // to one side and inflate U without centring it.
 //
 // How (from the step's own trace):
-//  - the time constant and asymptote come from an exponential fit (FitExponentialTail, one
-//    term, with the two-term alternative as model term) of the step's weighings (desiccator,
+//  - the time constant and asymptote come from the kinetic-model average of FitExponentialTail
+//    (one and two exponentials, Fickian sheet from the step start; the between-model spread is
+//    the model term, exponential_tail.h) of the step's weighings (desiccator,
 //    at least kMinWeighingsForFit) or of the tail of its block means (log, the same tail the
 //    extrapolation of unfinished steps uses); correction = m_inf - m_reported, standard
 //    uncertainty from the fit covariance (Type A, n - 3 degrees of freedom) and the model term;
@@ -35,6 +36,7 @@
 #include <string>
 
 #include "pipeline/equilibrate/equilibrate.h"
+#include "pipeline/equilibrate/exponential_tail.h"
 #include "pipeline/ingest/ingest.h"
 
 namespace sorbtrace::equilibrate::internal {
@@ -42,6 +44,10 @@ namespace sorbtrace::equilibrate::internal {
 // A first-order fit needs 3 parameters and some residual degrees of freedom; 5 is the least
 // FitExponentialTail accepts.
 inline constexpr int kMinWeighingsForFit = 5;
+
+// The tail-fit options of the equilibrate options (the one translation, for the extrapolation of
+// unfinished steps and the approach estimate); step_start_s: the Fickian sheet's time origin.
+TailFitOptions TailOptions(const EquilibrateOptions& options, double step_start_s);
 
 struct ApproachEstimate {
   bool estimated = false;        // a time constant was resolved (correction applied)
@@ -62,9 +68,10 @@ ApproachEstimate EstimateDesiccatorApproach(std::span<const ingest::Weighing> we
                                             double reported_mass_g, double balance_u_g,
                                             const EquilibrateOptions& options);
 
-// tail: block means of the tail (times increasing); reported_mass_g: the final-window mean.
+// tail: block means of the tail (times increasing); step_start_s: the time of the humidity
+// change; reported_mass_g: the final-window mean.
 ApproachEstimate EstimateLogApproach(std::span<const double> tail_time_s,
-                                     std::span<const double> tail_mass_g, double reported_mass_g,
-                                     const EquilibrateOptions& options);
+                                     std::span<const double> tail_mass_g, double step_start_s,
+                                     double reported_mass_g, const EquilibrateOptions& options);
 
 }  // namespace sorbtrace::equilibrate::internal

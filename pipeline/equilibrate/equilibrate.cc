@@ -348,7 +348,7 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
       point.mass_g = mass;
       point.time_to_equilibrium_s = rate.first_met_time_s - step.start_time_s;
       point.u_mass_drift_g = std::abs(rate.final_slope_g_per_s) * options.rate_window_s / kSqrt3;
-      ApplyApproach(internal::EstimateLogApproach(t, m, mass, options), point);
+      ApplyApproach(internal::EstimateLogApproach(t, m, step.start_time_s, mass, options), point);
       trace.equilibrium_times_s.push_back(rate.first_met_time_s);
     } else {
       point.mass_g = mass;
@@ -366,16 +366,11 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
           rejected =
               fmt::format("tail has {} block means ({} needed)", t.size(), options.min_tail_points);
         } else {
-          const internal::TailFit fit = internal::FitExponentialTail(
-              t, m, options.exponential_terms, options.max_tau_to_tail_ratio);
+          const internal::TailFit fit =
+              internal::FitExponentialTail(t, m, internal::TailOptions(options, step.start_time_s));
           const double tail_span = t.back() - t.front();
           if (!fit.ok) {
             rejected = fit.message;
-          } else if (fit.slowest_tau_s > options.max_tau_to_tail_ratio * tail_span) {
-            rejected =
-                fmt::format("time constant {:.3g} h exceeds {:.3g} x the fitted tail ({:.3g} h)",
-                            fit.slowest_tau_s / kSecondsPerHour, options.max_tau_to_tail_ratio,
-                            tail_span / kSecondsPerHour);
           } else {
             point.equilibrated = true;
             point.extrapolated = true;
@@ -389,12 +384,13 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
             point.time_to_equilibrium_s =
                 ProjectedEquilibriumTime(fit, end_s, limit_g_per_s) - step.start_time_s;
             point.flags.push_back(fmt::format(
-                "extrapolated: {}; {}-term exponential fit of the last {:.3g} h, tau = {:.3g} h, "
+                "extrapolated: {}; kinetic models fitted to the last {:.3g} h ({}), tau = {:.3g} "
+                "h, "
                 "asymptote {:+.6g} g from the last mean (u = {:.2g} g: fit {:.2g} g, model {:.2g} "
                 "g)",
-                reason, fit.terms, tail_span / kSecondsPerHour, fit.slowest_tau_s / kSecondsPerHour,
-                fit.m_inf_g - mass, fit.TotalUncertainty_g(), fit.u_m_inf_g, fit.u_model_g));
-            if (!fit.message.empty()) point.flags.push_back(fit.message);
+                reason, tail_span / kSecondsPerHour, internal::DescribeCandidates(fit),
+                fit.slowest_tau_s / kSecondsPerHour, fit.m_inf_g - mass, fit.TotalUncertainty_g(),
+                fit.u_m_inf_g, fit.u_model_g));
           }
         }
       } else {

@@ -361,7 +361,7 @@ std::vector<SettingKey> BuildSettingKeys() {
        .max = 2,
        .access = Field<kEquilibrate, &Eq::exponential_terms>(),
        .stage_bound = kStageMin | kStageMax,
-       .doc = "1 or 2 exponentials in the tail model"},
+       .doc = "kinetic models averaged: 1 = one exponential, Fickian sheet; 2 = also two"},
       {.section = "equilibrium",
        .name = "tail_fraction",
        .min = 0.05,

@@ -1,5 +1,5 @@
 // Extrapolation of an unfinished step: recovery of a known asymptote from synthetic
-// first-order (and two-term) kinetics with deterministic noise.
+// first-order, two-exponential and Fickian-sheet kinetics with deterministic noise.
 #include "pipeline/equilibrate/exponential_tail.h"
 
 #include <gtest/gtest.h>
@@ -29,6 +29,13 @@ class Normal {
   std::mt19937_64 engine_;
 };
 
+// Candidates one exponential only (no step start: no Fickian sheet; no second exponential).
+TailFitOptions OneTerm() {
+  TailFitOptions options;
+  options.max_exponential_terms = 1;
+  return options;
+}
+
 TEST(ExponentialTailTest, RecoversAsymptoteOfFirstOrderKinetics) {
   // Truth: m(t) = 1.0500 - 0.0500 exp(-t / 7200 s); the step stopped at 3 h (t < 1.5 tau), when
   // the mass was still 0.0500 exp(-1.5) = 0.0112 g below the asymptote. Tail: 1..3 h, one
@@ -39,7 +46,7 @@ TEST(ExponentialTailTest, RecoversAsymptoteOfFirstOrderKinetics) {
     t.push_back(s);
     m.push_back(1.0500 - 0.0500 * std::exp(-s / 7200.0) + 2e-6 * noise());
   }
-  const TailFit fit = FitExponentialTail(t, m, 1);
+  const TailFit fit = FitExponentialTail(t, m, OneTerm());
   ASSERT_TRUE(fit.ok) << fit.message;
   EXPECT_GT(fit.u_m_inf_g, 0.0);
   EXPECT_LT(fit.u_m_inf_g, 1e-4);
@@ -59,7 +66,7 @@ TEST(ExponentialTailTest, DesorptionApproachesFromAbove) {
     t.push_back(s);
     m.push_back(2.000 + 0.030 * std::exp(-s / 3600.0) + 1e-6 * noise());
   }
-  const TailFit fit = FitExponentialTail(t, m, 1);
+  const TailFit fit = FitExponentialTail(t, m, OneTerm());
   ASSERT_TRUE(fit.ok) << fit.message;
   EXPECT_NEAR(fit.m_inf_g, 2.000, 3.0 * fit.u_m_inf_g);
   EXPECT_LT(fit.amplitude_g, 0.0);
@@ -71,7 +78,7 @@ TEST(ExponentialTailTest, StraightLineHasNoAsymptote) {
     t.push_back(s);
     m.push_back(1.0 + 1e-6 * s);
   }
-  const TailFit fit = FitExponentialTail(t, m, 1);
+  const TailFit fit = FitExponentialTail(t, m, OneTerm());
   // Either rejected outright or with a time constant far beyond the tail (rejected upstream
   // by max_tau_to_tail_ratio).
   if (fit.ok) {
@@ -90,14 +97,14 @@ TEST(ExponentialTailTest, TwoTermsRecoverAsymptote) {
     m.push_back(1.100 - 0.060 * std::exp(-s / 1800.0) - 0.040 * std::exp(-s / 14400.0) +
                 1e-6 * noise());
   }
-  const TailFit two = FitExponentialTail(t, m, 2);
+  const TailFit two = FitExponentialTail(t, m, TailFitOptions{});
   ASSERT_TRUE(two.ok) << two.message;
-  ASSERT_EQ(two.terms, 2) << two.message;
+  ASSERT_EQ(two.terms, 2) << DescribeCandidates(two);
   EXPECT_NEAR(two.m_inf_g, 1.100, 3.0 * two.u_m_inf_g);
   EXPECT_NEAR(two.slowest_tau_s, 14400.0, 1500.0);
   // The one-term model on the same data misses the slow part: its asymptote is further from the
   // truth than the two-term one.
-  const TailFit one = FitExponentialTail(t, m, 1);
+  const TailFit one = FitExponentialTail(t, m, OneTerm());
   ASSERT_TRUE(one.ok);
   EXPECT_GT(std::abs(one.m_inf_g - 1.100), std::abs(two.m_inf_g - 1.100));
 }
@@ -118,7 +125,7 @@ void MilligramTail(double grams_to_unit, std::vector<double>& t, std::vector<dou
 TEST(ExponentialTailTest, MilligramSpecimenIsIdentifiable) {
   std::vector<double> t, m;
   MilligramTail(1.0, t, m);
-  const TailFit fit = FitExponentialTail(t, m, 1);
+  const TailFit fit = FitExponentialTail(t, m, OneTerm());
   ASSERT_TRUE(fit.ok) << fit.message;
   // The extrapolation adds 0.0006 exp(-1.5) = 134 ug; the asymptote within 3 u of the truth,
   // u well below the extrapolated amount.
@@ -134,9 +141,9 @@ TEST(ExponentialTailTest, SameAsymptoteInGramsMilligramsMicrograms) {
   MilligramTail(1.0, t, m_g);
   MilligramTail(1e3, t, m_mg);
   MilligramTail(1e6, t, m_ug);
-  const TailFit g = FitExponentialTail(t, m_g, 1);
-  const TailFit mg = FitExponentialTail(t, m_mg, 1);
-  const TailFit ug = FitExponentialTail(t, m_ug, 1);
+  const TailFit g = FitExponentialTail(t, m_g, OneTerm());
+  const TailFit mg = FitExponentialTail(t, m_mg, OneTerm());
+  const TailFit ug = FitExponentialTail(t, m_ug, OneTerm());
   ASSERT_TRUE(g.ok && mg.ok && ug.ok);
   EXPECT_NEAR(mg.m_inf_g / 1e3, g.m_inf_g, 1e-9 * g.m_inf_g);
   EXPECT_NEAR(ug.m_inf_g / 1e6, g.m_inf_g, 1e-9 * g.m_inf_g);
@@ -149,9 +156,10 @@ TEST(ExponentialTailTest, SameAsymptoteInGramsMilligramsMicrograms) {
               1e-6 * std::abs(g.m_inf_g - g.Mass_g(3600.0)));
 }
 
-TEST(ExponentialTailTest, ModelTermFromTheTwoTermAlternative) {
-  // Two-exponential truth fitted with one term (data of TwoTermsRecoverAsymptote): the two-term
-  // alternative differs, and the model term is |difference| / sqrt(3) (JCGM 100:2008, 4.3.7).
+TEST(ExponentialTailTest, ModelAverageOfTheCandidates) {
+  // Two-exponential truth (data of TwoTermsRecoverAsymptote) with every candidate: the average
+  // and its two parts are the Akaike-weighted mean, within- and between-model variances
+  // (Burnham & Anderson 2002, 4.2-4.3), and the two-exponential model carries the weight.
   Normal noise(42);
   std::vector<double> t, m;
   for (double s = 1800.0; s <= 28800.0; s += 20.0) {
@@ -159,19 +167,76 @@ TEST(ExponentialTailTest, ModelTermFromTheTwoTermAlternative) {
     m.push_back(1.100 - 0.060 * std::exp(-s / 1800.0) - 0.040 * std::exp(-s / 14400.0) +
                 1e-6 * noise());
   }
-  const TailFit one = FitExponentialTail(t, m, 1);
-  ASSERT_TRUE(one.ok);
-  ASSERT_TRUE(one.has_alternative);
-  EXPECT_NEAR(one.u_model_g, std::abs(one.alternative_m_inf_g - one.m_inf_g) / std::sqrt(3.0),
-              1e-15);
-  // The one-term asymptote misses the slow part; with the model term the truth is inside 2 u.
-  EXPECT_GT(std::abs(one.m_inf_g - 1.100), 3.0 * one.u_m_inf_g);
-  EXPECT_LT(std::abs(one.m_inf_g - 1.100), 2.0 * one.TotalUncertainty_g());
+  TailFitOptions options;
+  options.step_start_s = 0.0;
+  const TailFit fit = FitExponentialTail(t, m, options);
+  ASSERT_TRUE(fit.ok) << fit.message;
+  ASSERT_GE(fit.candidates.size(), 2u);
+  double sum_w = 0.0, mean = 0.0, within = 0.0, between = 0.0;
+  for (const TailCandidate& c : fit.candidates) {
+    sum_w += c.weight;
+    mean += c.weight * c.m_inf_g;
+  }
+  for (const TailCandidate& c : fit.candidates) {
+    within += c.weight * c.u_m_inf_g * c.u_m_inf_g;
+    between += c.weight * (c.m_inf_g - mean) * (c.m_inf_g - mean);
+  }
+  EXPECT_NEAR(sum_w, 1.0, 1e-12);
+  EXPECT_NEAR(fit.m_inf_g, mean, 1e-12);
+  EXPECT_NEAR(fit.u_m_inf_g, std::sqrt(within), 1e-9 * std::sqrt(within));
+  EXPECT_NEAR(fit.u_model_g, std::sqrt(between), 1e-9 * std::sqrt(between) + 1e-18);
+  EXPECT_EQ(fit.model, KineticModel::kTwoExponentials) << DescribeCandidates(fit);
+  EXPECT_NEAR(fit.m_inf_g, 1.100, 3.0 * fit.TotalUncertainty_g());
+}
+
+// Fickian sheet F(x) against its series summed to 1000 terms (J. Crank, The Mathematics of
+// Diffusion, 2nd ed. 1975, eq. 4.18): the short-time form below x = 0.2 agrees to 1e-6.
+TEST(ExponentialTailTest, FickianSheetMatchesItsSeries) {
+  for (double x : {1e-4, 0.01, 0.1, 0.19, 0.2, 0.5, 1.0, 3.0}) {
+    double series = 0.0;
+    for (int k = 0; k < 1000; ++k) {
+      const double j = 2.0 * k + 1.0;
+      series += 8.0 / (j * j * std::numbers::pi * std::numbers::pi) * std::exp(-j * j * x);
+    }
+    EXPECT_NEAR(FickianSheetUnaccomplished(x), series, 1e-6) << x;
+  }
+  // F(0) = 1 (sum of 8/(j^2 pi^2) over odd j, Crank eq. 4.18 at t = 0).
+  EXPECT_NEAR(FickianSheetUnaccomplished(0.0), 1.0, 1e-12);
+}
+
+// Fickian uptake cut at half its time constant: m(t) = 0.012 + 0.0004 (1 - F(t / 2400 s)),
+// step from t = 0 to 1200 s, tail the last 80 % (240..1200 s), 10 s block means, noise 0.1 ug.
+// Half of the uptake is still to come (F(0.5) = 0.49).
+void FickianTail(std::uint64_t initial_state, std::vector<double>& t, std::vector<double>& m) {
+  Normal noise(initial_state);
+  t.clear();
+  m.clear();
+  for (double s = 245.0; s <= 1200.0; s += 10.0) {
+    t.push_back(s);
+    m.push_back(0.012 + 0.0004 * (1.0 - FickianSheetUnaccomplished(s / 2400.0)) + 0.1e-6 * noise());
+  }
+}
+
+TEST(ExponentialTailTest, FickianSheetCutEarlyIsRecovered) {
+  TailFitOptions options;
+  options.step_start_s = 0.0;
+  int inside = 0;
+  constexpr int kTrials = 40;
+  for (int trial = 0; trial < kTrials; ++trial) {
+    std::vector<double> t, m;
+    FickianTail(100 + static_cast<std::uint64_t>(trial), t, m);
+    const TailFit fit = FitExponentialTail(t, m, options);
+    ASSERT_TRUE(fit.ok) << fit.message;
+    EXPECT_EQ(fit.model, KineticModel::kFickianSheet) << DescribeCandidates(fit);
+    if (std::abs(fit.m_inf_g - 0.0124) <= 2.0 * fit.TotalUncertainty_g()) ++inside;
+  }
+  // About 95 % inside m_inf +- 2u (binomial: at least 34 of 40 with probability > 0.99).
+  EXPECT_GE(inside, 34);
 }
 
 TEST(ExponentialTailTest, TooFewPointsIsRejected) {
   const std::vector<double> t = {0, 1, 2}, m = {1, 1.1, 1.15};
-  const TailFit fit = FitExponentialTail(t, m, 1);
+  const TailFit fit = FitExponentialTail(t, m, OneTerm());
   EXPECT_FALSE(fit.ok);
   EXPECT_EQ(fit.message, "too few points in the tail");
 }
