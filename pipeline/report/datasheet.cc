@@ -22,11 +22,20 @@ namespace {
 using plot::Canvas;
 namespace palette = plot::palette;
 
-// Room kept free below a heading of the cautions section before it starts a page [pt].
-constexpr double kCautionsSpace_pt = 200.0;
+// Heights of a section heading and of a subheading as Document draws them [pt].
+constexpr double kHeadingHeight_pt = 30.0;
+constexpr double kSubheadingHeight_pt = 16.0;
+// A paragraph of at most this many lines is a note kept with the block after it.
+constexpr double kShortNoteLines = 3.0;
+// Space above a fill-page figure [pt].
+constexpr double kFillPageGap_pt = 8.0;
 // Room the fill-page figure leaves for each kind of block after it [pt] (see FillPageFigure).
 constexpr double kSubheadingAllowance_pt = 30.0;
 constexpr double kSignaturesAllowance_pt = 72.0;
+// A figure is drawn down to this fraction of its height rather than moved to the next page
+// and leave the rest of this one empty (common practice: at 65 % the tick labels and legend stay
+// legible).
+constexpr double kMinFigureScale = 0.65;
 // The notes column beside kBesideNotes figures [pt].
 constexpr double kNotesColumn_pt = 150.0;
 constexpr double kNotesGap_pt = 10.0;
@@ -47,10 +56,49 @@ void DrawTable(Document& doc, const TableBlock& table) {
 }
 
 // Panels one below the other over the full width, sharing one left edge.
+// A figure's height: its panels (which may shrink) and what does not scale (caption, gaps).
+struct FigureHeight {
+  double panels = 0.0;
+  double fixed = 0.0;
+  double Natural() const { return panels + fixed; }
+  double Smallest() const { return panels * kMinFigureScale + fixed; }
+};
+
+FigureHeight StackedHeight(Document& doc, const FigureBlock& block) {
+  FigureHeight height;
+  for (double h : block.heights_pt) height.panels += h;
+  if (block.caption_adds_height && !block.panels.empty()) {
+    height.fixed += plot::CaptionHeight(doc.canvas(), block.panels.back(), doc.width());
+  }
+  if (block.heights_pt.size() > 1) {
+    height.fixed += block.gap_pt * static_cast<double>(block.heights_pt.size() - 1);
+  }
+  return height;
+}
+
+FigureHeight BesideNotesHeight(const FigureBlock& block) {
+  FigureHeight height;
+  for (double h : block.heights_pt) height.panels += h;
+  height.fixed = kNotesGap_pt;
+  if (block.heights_pt.size() > 1) {
+    height.fixed += block.gap_pt * static_cast<double>(block.heights_pt.size() - 1);
+  }
+  return height;
+}
+
+// The scale of a figure's panels here: 1 when it fits below the cursor, smaller (down to
+// kMinFigureScale) when only that fits, else 1 on a new page.
+double PlaceFigure(Document& doc, const FigureHeight& height) {
+  const double room = doc.Remaining();
+  if (height.Natural() <= room || height.Smallest() > room || height.panels <= 0.0) {
+    doc.EnsureSpace(height.Natural());
+    return 1.0;
+  }
+  return (room - height.fixed) / height.panels;
+}
+
 void StackedFigure(Document& doc, const FigureBlock& block) {
-  double total = 0.0;
-  for (double h : block.heights_pt) total += h;
-  doc.EnsureSpace(total);
+  const double scale = PlaceFigure(doc, StackedHeight(doc, block));
   std::vector<plot::Figure> panels = block.panels;
   if (panels.size() > 1) {
     double pad = 0.0;
@@ -61,7 +109,7 @@ void StackedFigure(Document& doc, const FigureBlock& block) {
   }
   for (size_t i = 0; i < panels.size() && i < block.heights_pt.size(); ++i) {
     const bool last = i + 1 == panels.size();
-    double h = block.heights_pt[i];
+    double h = block.heights_pt[i] * scale;
     if (last && block.caption_adds_height) {
       h += plot::CaptionHeight(doc.canvas(), panels[i], doc.width());
     }
@@ -91,7 +139,7 @@ double ReservedBelow(Document& doc, const std::vector<Block>& following) {
 // One panel taking what the rest of the section leaves on the page.
 void FillPageFigure(Document& doc, const FigureBlock& block, const std::vector<Block>& following) {
   if (block.panels.empty()) return;
-  const double gap = 8.0;
+  const double gap = kFillPageGap_pt;
   const double height =
       std::clamp(doc.cursor() - doc.bottom() - ReservedBelow(doc, following) - gap,
                  block.min_height_pt, block.max_height_pt);
@@ -131,16 +179,14 @@ void NotesColumn(Document& doc, const FigureBlock& block, double top, double bot
 
 void FigureBesideNotes(Document& doc, const FigureBlock& block) {
   const double fig_width = doc.width() - kNotesColumn_pt - kNotesGap_pt;
+  const double scale = PlaceFigure(doc, BesideNotesHeight(block));
+  const double top = doc.cursor();  // after a page break, if there was one
   double total = 0.0;
-  for (double h : block.heights_pt) total += h;
-  const double top = doc.cursor();
-  doc.EnsureSpace(total + kNotesGap_pt);
-  double above = 0.0;
   for (size_t i = 0; i < block.panels.size() && i < block.heights_pt.size(); ++i) {
-    above += block.heights_pt[i];
-    const double y = top - above - block.gap_pt * static_cast<double>(i);
-    plot::DrawFigure(doc.canvas(), block.panels[i],
-                     {doc.left(), y, fig_width, block.heights_pt[i]});
+    const double h = block.heights_pt[i] * scale;
+    total += h;
+    const double y = top - total - block.gap_pt * static_cast<double>(i);
+    plot::DrawFigure(doc.canvas(), block.panels[i], {doc.left(), y, fig_width, h});
   }
   NotesColumn(doc, block, top, top - total, doc.left() + fig_width + kNotesGap_pt);
   const double gaps = block.gap_pt * static_cast<double>(block.panels.size() - 1);
@@ -168,11 +214,67 @@ void DrawSignatures(Document& doc, const SignaturesBlock& block) {
   if (!block.accreditation.empty()) doc.Paragraph(block.accreditation, 7.0, 0.0, palette::kSlate);
 }
 
+// Height of the start of block `index` that may not be separated from what precedes it
+// [pt]: a table's header with its first rows, a figure whole, the first lines of a text; a
+// subheading or a short note (at most kShortNoteLines lines) together with the block after it
+// (one such link: a list of one-line paragraphs is not one unit).
+double StartHeight(Document& doc, const Section& section, size_t index, bool link = true) {
+  if (index >= section.blocks.size()) return 0.0;
+  const Block& block = section.blocks[index];
+  if (std::holds_alternative<SubheadingBlock>(block)) {
+    return kSubheadingHeight_pt + StartHeight(doc, section, index + 1, link);
+  }
+  if (const auto* p = std::get_if<ParagraphBlock>(&block)) {
+    const double leading = p->size_pt * 1.32;  // Document::Paragraph's leading
+    const double whole =
+        leading * static_cast<double>(
+                      doc.canvas().Wrap(p->text, p->size_pt, doc.width() - p->indent_pt).size());
+    if (link && whole <= leading * kShortNoteLines) {
+      return p->space_before_pt + whole + StartHeight(doc, section, index + 1, false);
+    }
+    return p->space_before_pt +
+           doc.ParagraphStartHeight(p->text, p->size_pt, p->indent_pt, p->bold);
+  }
+  if (const auto* l = std::get_if<BulletsBlock>(&block)) {
+    return doc.BulletsStartHeight(l->items, l->size_pt);
+  }
+  if (const auto* f = std::get_if<FactsBlock>(&block)) {
+    return doc.KeyValuesStartHeight(f->rows, f->label_width_pt, 8.5);
+  }
+  if (const auto* t = std::get_if<TableBlock>(&block)) {
+    std::vector<TableColumn> columns;
+    for (const ColumnSpec& c : t->columns) {
+      columns.push_back({c.header, doc.width() * c.width_fraction, c.numeric});
+    }
+    std::vector<std::vector<std::string>> rows;
+    for (size_t r = 0; r < t->rows.size() && r < kMinLinesAcrossBreak; ++r) {
+      std::vector<std::string> texts;
+      for (const Cell& cell : t->rows[r]) texts.push_back(cell.text);
+      rows.push_back(std::move(texts));
+    }
+    return doc.TableStartHeight(columns, rows, t->size_pt);
+  }
+  if (const auto* g = std::get_if<FigureBlock>(&block)) {
+    switch (g->arrangement) {
+      case FigureArrangement::kStacked:
+        return StackedHeight(doc, *g).Smallest();
+      case FigureArrangement::kFillPage:
+        return g->min_height_pt + kFillPageGap_pt;
+      case FigureArrangement::kBesideNotes:
+        return BesideNotesHeight(*g).Smallest();
+    }
+  }
+  if (std::holds_alternative<SignaturesBlock>(block)) return kSignaturesAllowance_pt;
+  return 0.0;
+}
+
 void DrawBlock(Document& doc, const Section& section, size_t index) {
   const Block& block = section.blocks[index];
   if (const auto* b = std::get_if<SubheadingBlock>(&block)) {
+    doc.EnsureSpace(StartHeight(doc, section, index));  // kept with the block below it
     doc.Subheading(b->text);
   } else if (const auto* p = std::get_if<ParagraphBlock>(&block)) {
+    doc.EnsureSpace(StartHeight(doc, section, index));
     if (p->space_before_pt > 0.0) doc.Skip(p->space_before_pt);
     doc.Paragraph(p->text, p->size_pt, p->indent_pt, p->muted ? palette::kSlate : palette::kInk,
                   p->bold);
@@ -200,14 +302,11 @@ void DrawBlock(Document& doc, const Section& section, size_t index) {
   }
 }
 
-// The summary continues the first page, the cautions start a page only when short of room,
-// every other section starts a page of its own.
+// Sections follow one another on the page (no page left near-empty before a section): a
+// section starts a new page only when its heading and the start of its first block (see
+// StartHeight) do not fit below the previous one.
 void StartSection(Document& doc, const Section& section) {
-  if (section.key == "cautions") {
-    doc.EnsureSpace(kCautionsSpace_pt);
-  } else if (section.key != "summary") {
-    doc.NewPageIfUsed();
-  }
+  doc.EnsureSpace(kHeadingHeight_pt + StartHeight(doc, section, 0));
   doc.Heading(section.Heading());
 }
 

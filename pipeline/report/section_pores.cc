@@ -155,7 +155,7 @@ void BuildPoresSection(const SectionContext& ctx, Section& section) {
       "cumulative pore volume against pore radius, with their uncertainty bands.";
   auto [density, cumulative] = DistributionFigures(pa);
   figures.panels = {std::move(density), std::move(cumulative)};
-  figures.heights_pt = {230.0, 230.0};
+  figures.heights_pt = {210.0, 210.0};
   figures.gap_pt = 8.0;
   figures.arrangement = FigureArrangement::kBesideNotes;
   figures.notes_title = "Assumptions";
