@@ -40,16 +40,6 @@ plot::MarkerStyle BranchMarker(ingest::Branch branch, int temperature_index) {
   return m;
 }
 
-// "gab" -> "GAB", "oswin" -> "Oswin": short names for legends.
-std::string ShortModelName(std::string name) {
-  if (name.size() <= 3) {
-    for (char& c : name) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
-  } else if (!name.empty()) {
-    name[0] = static_cast<char>(std::toupper(static_cast<unsigned char>(name[0])));
-  }
-  return name;
-}
-
 int TemperatureIndex(const std::vector<double>& temperatures, double temperature_K) {
   for (size_t i = 0; i < temperatures.size(); ++i) {
     if (std::abs(temperatures[i] - temperature_K) < kSameTemperature_K) {
@@ -239,6 +229,15 @@ void BuildIsothermSection(const SectionContext& ctx, Section& section) {
   block.heights_pt = {400.0, 150.0};
   block.caption_adds_height = true;
   section.blocks.emplace_back(std::move(block));
+}
+
+std::string ShortModelName(std::string name) {
+  if (name.size() <= 3) {
+    for (char& c : name) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
+  } else if (!name.empty()) {
+    name[0] = static_cast<char>(std::toupper(static_cast<unsigned char>(name[0])));
+  }
+  return name;
 }
 
 std::string NotAvailable(const std::string& reason) {

@@ -38,6 +38,9 @@ plot::Figure IsothermFigure(const SectionContext& ctx, bool with_secondary);
 // The distinct measurement temperatures of the reduced points [K], ascending.
 std::vector<double> DistinctTemperatures(const ReportInputs& inputs);
 
+// A model's registry key as a short legend name: "gab" -> "GAB", "oswin" -> "Oswin".
+std::string ShortModelName(std::string name);
+
 // "not available: <reason>", unless the reason says so already.
 std::string NotAvailable(const std::string& reason);
 

@@ -53,7 +53,12 @@ Ticks AxisTicks(const Axis& axis, Extent extent) {
     double high = axis.max.value_or(extent.empty() ? 10.0 : extent.high);
     if (!(low > 0.0)) low = 1.0;
     if (!(high > low)) high = low * 10.0;
-    return LogTicks(low, high, axis.min.has_value() && axis.max.has_value());
+    if (axis.min.has_value() && axis.max.has_value()) return LogTicks(low, high, true);
+    Ticks ticks = CloseLogTicks(low, high);
+    if (axis.min || axis.max) {  // a fixed end stays where the caller put it
+      ticks = LogTicks(axis.min.value_or(ticks.axis_min), axis.max.value_or(ticks.axis_max), true);
+    }
+    return ticks;
   }
   double low = extent.empty() ? 0.0 : extent.low;
   double high = extent.empty() ? 1.0 : extent.high;
@@ -69,7 +74,7 @@ Ticks AxisTicks(const Axis& axis, Extent extent) {
     high += pad;
   }
   if (axis.min && axis.max) return NiceLinearTicksWithin(low, high, axis.num_ticks);
-  Ticks ticks = NiceLinearTicks(low, high, axis.num_ticks);
+  Ticks ticks = CloseLinearTicks(low, high, axis.num_ticks);
   // A fixed end stays where the caller put it.
   if (axis.min || axis.max) {
     const double fixed_low = axis.min.value_or(ticks.axis_min);
@@ -225,6 +230,32 @@ Ticks NiceLinearTicks(double data_min, double data_max, int num_ticks) {
   ticks.axis_min = ticks.values.front();
   ticks.axis_max = ticks.values.back();
   return ticks;
+}
+
+Ticks CloseLinearTicks(double data_min, double data_max, int num_ticks) {
+  const Ticks heckbert = NiceLinearTicks(data_min, data_max, num_ticks);
+  if (!(data_max > data_min)) return heckbert;
+  const int n = std::max(num_ticks, 2);
+  for (int target = n; target <= 2 * n; ++target) {
+    Ticks t = NiceLinearTicks(data_min, data_max, target);
+    const double length = t.axis_max - t.axis_min;
+    const double slack = length - (data_max - data_min);
+    if (slack <= kMaxAxisSlack * length && t.values.size() <= static_cast<size_t>(2 * n)) {
+      return t;
+    }
+  }
+  return heckbert;
+}
+
+Ticks CloseLogTicks(double data_min, double data_max) {
+  if (!(data_min > 0.0)) data_min = 1.0;
+  if (!(data_max > data_min)) data_max = data_min * 10.0;
+  // The whole mantissas 1..10 of the decades holding each end.
+  const double low_power = std::pow(10.0, std::floor(std::log10(data_min) + kStepSlack));
+  const double high_power = std::pow(10.0, std::floor(std::log10(data_max) - kStepSlack));
+  const double low = std::floor(data_min / low_power * (1.0 + kStepSlack)) * low_power;
+  const double high = std::ceil(data_max / high_power * (1.0 - kStepSlack)) * high_power;
+  return LogTicks(low, high, true);
 }
 
 Ticks NiceLinearTicksWithin(double axis_min, double axis_max, int num_ticks) {
@@ -497,8 +528,15 @@ std::vector<std::pair<double, double>> DrawData(Canvas& canvas, const Figure& fi
     occupied.insert(occupied.end(), points.begin(), points.end());
     // Error bars, then markers on top.
     if (!s.x_error.empty() || !s.y_error.empty()) DrawErrorBars(canvas, figure, p, s);
-    for (const auto& [px, py] : points) {
-      if (s.marker.shape != MarkerShape::kNone) DrawMarker(canvas, s.marker, px, py);
+    if (s.marker.shape != MarkerShape::kNone) {
+      if (s.marker_indices.empty()) {
+        for (const auto& [px, py] : points) DrawMarker(canvas, s.marker, px, py);
+      }
+      for (size_t i : s.marker_indices) {
+        if (i >= s.x.size() || i >= s.y.size()) continue;
+        if (!Usable(s.x[i], figure.x.scale) || !Usable(s.y[i], ys)) continue;
+        DrawMarker(canvas, s.marker, p.mx(s.x[i]), ym(s.y[i]));
+      }
     }
   }
   for (const Band& band : figure.bands) {
