@@ -5,6 +5,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <memory>
 #include <string>
 #include <type_traits>
 #include <variant>
@@ -33,9 +34,9 @@ constexpr double kFillPageGap_pt = 8.0;
 constexpr double kSubheadingAllowance_pt = 30.0;
 constexpr double kSignaturesAllowance_pt = 72.0;
 // A figure is drawn down to this fraction of its height rather than moved to the next page
-// and leave the rest of this one empty (common practice: at 65 % the tick labels and legend stay
-// legible).
-constexpr double kMinFigureScale = 0.65;
+// and leave the rest of this one empty (common practice: at 60 % the tick labels stay legible;
+// a legend too tall for the frame takes more columns, plot.cc).
+constexpr double kMinFigureScale = 0.6;
 // The notes column beside kBesideNotes figures [pt].
 constexpr double kNotesColumn_pt = 150.0;
 constexpr double kNotesGap_pt = 10.0;
@@ -239,7 +240,7 @@ double StartHeight(Document& doc, const Section& section, size_t index, bool lin
     return doc.BulletsStartHeight(l->items, l->size_pt);
   }
   if (const auto* f = std::get_if<FactsBlock>(&block)) {
-    return doc.KeyValuesStartHeight(f->rows, f->label_width_pt, 8.5);
+    return doc.KeyValuesStartHeight(f->rows, f->label_width_pt, f->size_pt);
   }
   if (const auto* t = std::get_if<TableBlock>(&block)) {
     std::vector<TableColumn> columns;
@@ -281,7 +282,7 @@ void DrawBlock(Document& doc, const Section& section, size_t index) {
   } else if (const auto* l = std::get_if<BulletsBlock>(&block)) {
     doc.Bullets(l->items, l->size_pt);
   } else if (const auto* f = std::get_if<FactsBlock>(&block)) {
-    doc.KeyValues(f->rows, f->label_width_pt);
+    doc.KeyValues(f->rows, f->label_width_pt, f->size_pt);
   } else if (const auto* t = std::get_if<TableBlock>(&block)) {
     DrawTable(doc, *t);
   } else if (const auto* g = std::get_if<FigureBlock>(&block)) {
@@ -310,20 +311,71 @@ void StartSection(Document& doc, const Section& section) {
   doc.Heading(section.Heading());
 }
 
+// How densely the one-page summary is set: text sizes and the smallest figure height as a
+// fraction of the sheet's own. Tried in order until the content fits one page.
+struct Density {
+  double text = 1.0;
+  double figure = 1.0;
+};
+// Down to 80 % of the text size (7.5 pt table text -> 6 pt, still legible on A4; common
+// practice) and 60 % of the figure's smallest height.
+constexpr Density kCompactDensities[] = {{1.0, 1.0}, {0.93, 1.0}, {0.87, 1.0}, {0.8, 1.0}};
+
+// The section with its text and figures set at `density`.
+Section AtDensity(const Section& section, const Density& density) {
+  Section out = section;
+  for (Block& block : out.blocks) {
+    if (auto* p = std::get_if<ParagraphBlock>(&block)) p->size_pt *= density.text;
+    if (auto* l = std::get_if<BulletsBlock>(&block)) l->size_pt *= density.text;
+    if (auto* t = std::get_if<TableBlock>(&block)) t->size_pt *= density.text;
+    if (auto* f = std::get_if<FactsBlock>(&block)) f->size_pt *= density.text;
+    if (auto* g = std::get_if<FigureBlock>(&block)) g->min_height_pt *= density.figure;
+  }
+  return out;
+}
+
+// Lays the sections out in a new document; `one_page`: no page is added (overflowed() says
+// whether everything fitted).
+std::unique_ptr<Document> LayOut(const std::vector<Section>& sections, const Template& layout,
+                                 const ReportOptions& options, const std::string& report_number,
+                                 const std::string& version, bool one_page) {
+  auto doc = std::make_unique<Document>(layout, options, report_number, version);
+  doc->NewPage();
+  doc->set_allow_new_pages(!one_page);
+  for (const Section& section : sections) {
+    StartSection(*doc, section);
+    for (size_t i = 0; i < section.blocks.size(); ++i) DrawBlock(*doc, section, i);
+  }
+  if (doc->cursor() < doc->bottom()) doc->EnsureSpace(doc->Remaining() + 1.0);  // flags it
+  return doc;
+}
+
 }  // namespace
 
 RenderedPdf RenderPdf(const Sheet& sheet, const Template& layout, const ReportOptions& options,
                       const std::string& software_version) {
-  Document doc(layout, options, sheet.report_number, PlainVersion(software_version));
-  doc.NewPage();
-  if (layout.compact) doc.set_allow_new_pages(false);
-  for (const Section& section : sheet.sections) {
-    StartSection(doc, section);
-    for (size_t i = 0; i < section.blocks.size(); ++i) DrawBlock(doc, section, i);
+  const std::string version = PlainVersion(software_version);
+  std::unique_ptr<Document> doc;
+  if (layout.compact) {
+    // The one-page summary: the first density at which everything fits on the page.
+    for (const Density& density : kCompactDensities) {
+      std::vector<Section> sections;
+      for (const Section& section : sheet.sections) {
+        sections.push_back(AtDensity(section, density));
+      }
+      doc = LayOut(sections, layout, options, sheet.report_number, version, true);
+      if (!doc->overflowed()) break;
+      doc.reset();
+    }
+  }
+  // The full sheet, and a summary too long for one page even at the densest setting: it
+  // continues on a second page rather than run past the footer.
+  if (doc == nullptr) {
+    doc = LayOut(sheet.sections, layout, options, sheet.report_number, version, false);
   }
   RenderedPdf out;
-  out.num_pages = doc.num_pages();
-  out.bytes = doc.Finish();
+  out.num_pages = doc->num_pages();
+  out.bytes = doc->Finish();
   return out;
 }
 

@@ -117,6 +117,7 @@ std::pair<plot::Figure, plot::Figure> DistributionFigures(const pores::PoreAnaly
   density.y.include_zero = true;
   plot::Figure cumulative = density;
   cumulative.y.label = "cumulative pore volume (mm³/g)";
+  cumulative.legend = false;  // the same curves as the panel above, whose legend names them
   static constexpr plot::MarkerShape kShapes[] = {
       plot::MarkerShape::kCircle, plot::MarkerShape::kSquare, plot::MarkerShape::kTriangleUp,
       plot::MarkerShape::kDiamond, plot::MarkerShape::kTriangleDown};

@@ -733,6 +733,11 @@ std::pair<int, int> EmptiestCorner(const std::array<Rect, 4>& corners,
   return {best, best_count};
 }
 
+// A legend taller than this share of its frame is set in more columns, up to kMaxLegendColumns
+// (common practice: the legend must not hide the data it explains).
+constexpr double kMaxLegendHeightShare = 0.45;
+constexpr size_t kMaxLegendColumns = 3;
+
 // 6. Legend in the emptiest corner.
 void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
                 const std::vector<std::pair<double, double>>& occupied, FigureLayout* layout) {
@@ -745,8 +750,19 @@ void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
   double text_width = 0.0;
   for (const LegendEntry& e : entries)
     text_width = std::max(text_width, canvas.TextWidth(e.text, lfs));
-  const double width = std::min(frame.width - 8.0, 6.0 + sample + 4.0 + text_width + 6.0);
-  const double height = std::min(frame.height - 8.0, 4.0 + row * entries.size());
+  // Entries in as many columns (at most kMaxLegendColumns, as the frame's width allows) as
+  // keep the legend within kMaxLegendHeightShare of the frame's height.
+  const double column_width = 6.0 + sample + 4.0 + text_width + 6.0;
+  size_t columns = 1;
+  while (columns < kMaxLegendColumns &&
+         4.0 + row * static_cast<double>((entries.size() + columns - 1) / columns) >
+             kMaxLegendHeightShare * frame.height &&
+         column_width * static_cast<double>(columns + 1) <= frame.width - 8.0) {
+    ++columns;
+  }
+  const size_t per_column = (entries.size() + columns - 1) / columns;
+  const double width = std::min(frame.width - 8.0, column_width * static_cast<double>(columns));
+  const double height = std::min(frame.height - 8.0, 4.0 + row * static_cast<double>(per_column));
   const double inset = 5.0;
   const std::array<Rect, 4> corners = {
       Rect{frame.x + inset, frame.top() - inset - height, width, height},
@@ -760,9 +776,10 @@ void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
   layout->legend_points_covered = best_count;
   canvas.FillRect(box, Color{1.0, 1.0, 1.0});
   canvas.StrokeRect(box, 0.4, palette::kSlate);
-  double y = box.top() - 2.0 - row / 2.0;
-  for (const LegendEntry& e : entries) {
-    const double sx = box.x + 6.0;
+  for (size_t k = 0; k < entries.size(); ++k) {
+    const LegendEntry& e = entries[k];
+    const double sx = box.x + 6.0 + column_width * static_cast<double>(k / per_column);
+    const double y = box.top() - 2.0 - row / 2.0 - row * static_cast<double>(k % per_column);
     if (e.band != nullptr) {
       canvas.FillRect({sx, y - lfs * 0.4, sample, lfs * 0.8}, e.band->fill);
     } else if (e.series != nullptr) {
@@ -772,7 +789,6 @@ void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
       }
     }
     canvas.Text(sx + sample + 4.0, y - lfs * 0.35, e.text, lfs);
-    y -= row;
   }
 }
 
