@@ -4,7 +4,10 @@
 
 #include <algorithm>
 #include <cmath>
+#include <iterator>
 #include <map>
+#include <set>
+#include <tuple>
 #include <utility>
 
 #include "pipeline/physics/physics.h"
@@ -136,13 +139,28 @@ void AddMeasuredPoints(const SectionContext& ctx, const std::vector<double>& tem
   if (ctx.inputs.reduced == nullptr) return;
   const double ms = ctx.moisture_scale();
   const double k = ctx.sheet.rules.coverage_factor;
-  std::map<std::pair<int, int>, plot::Series> groups;
-  for (const reduce::IsothermPoint& p : ctx.inputs.reduced->points) {
+  const auto& points = ctx.inputs.reduced->points;
+  const bool cycles = std::any_of(points.begin(), points.end(),
+                                  [](const reduce::IsothermPoint& p) { return p.cycle > 0; });
+  std::map<std::tuple<int, int, int>, plot::Series> groups;
+  for (const reduce::IsothermPoint& p : points) {
     const int ti = TemperatureIndex(temperatures, p.temperature_K);
-    plot::Series& s = groups[std::make_pair(static_cast<int>(p.branch), ti)];
+    plot::Series& s = groups[std::make_tuple(static_cast<int>(p.branch), ti, p.cycle)];
     if (s.x.empty()) {
       s.marker = BranchMarker(p.branch, ti);
-      s.legend = BranchLabel(p.branch) + ", " + TemperatureLabel(p.temperature_K) + " (± U)";
+      s.legend = BranchLabel(p.branch) + ", " + TemperatureLabel(p.temperature_K);
+      if (cycles) {
+        // Each later cycle its own shape (and the fill turned over), so cycles read apart.
+        static constexpr plot::MarkerShape kCycleShapes[] = {
+            plot::MarkerShape::kDiamond, plot::MarkerShape::kTriangleUp,
+            plot::MarkerShape::kTriangleDown, plot::MarkerShape::kSquare};
+        if (p.cycle > 0) {
+          s.marker.shape = kCycleShapes[static_cast<size_t>(p.cycle - 1) % std::size(kCycleShapes)];
+          s.marker.filled = !s.marker.filled;
+        }
+        s.legend += fmt::format(", cycle {}", p.cycle + 1);
+      }
+      s.legend += " (± U)";
     }
     s.x.push_back(p.rh_fraction * kPercentPerFraction);
     s.y.push_back(p.moisture_kg_per_kg * ms);
@@ -273,10 +291,47 @@ void BuildIsothermSection(const SectionContext& ctx, Section& section) {
       "fitted to (extrapolated). Top axis: capillary pressure of the pore water "
       "in equilibrium with the RH (Kelvin equation).",
       CoverageText(ctx.sheet.rules.coverage_factor));
+  const std::string cycles = CyclesSentence(ctx);
+  if (!cycles.empty()) res.caption += " " + cycles;
   block.panels = {std::move(fig), std::move(res)};
   block.heights_pt = {400.0, 150.0};
   block.caption_adds_height = true;
   section.blocks.emplace_back(std::move(block));
+}
+
+std::string CyclesSentence(const SectionContext& ctx) {
+  if (ctx.inputs.reduced == nullptr) return {};
+  // Data sets with points from more than one cycle.
+  std::map<std::string, std::set<int>> cycles;
+  for (const reduce::IsothermPoint& p : ctx.inputs.reduced->points) {
+    cycles[p.dataset_id].insert(p.cycle);
+  }
+  std::string text;
+  for (const auto& [dataset, set] : cycles) {
+    if (set.size() < 2) continue;
+    std::string parts;
+    if (ctx.inputs.fits != nullptr) {
+      for (const fit::FitGroup& g : ctx.inputs.fits->groups) {
+        for (const fit::SpecimenFactor& f : g.specimen_factors) {
+          if (!f.is_cycle || f.dataset_id != dataset) continue;
+          parts +=
+              fmt::format("{}{}: {} % (ν = {})", parts.empty() ? "" : "; ", BranchLabel(g.branch),
+                          FormatSignificant(f.relative_standard_uncertainty * 100.0, 2),
+                          FormatSignificant(f.degrees_of_freedom, 2));
+          break;  // one factor per cycle, all with the same u
+        }
+      }
+    }
+    text += fmt::format(
+        "{}The {} cycles of data set {} are fitted together as one isotherm per branch, not as "
+        "independent replicates: what a cycle does not share with the others is a component "
+        "common to every step of that cycle (one correlated factor per cycle, estimated from "
+        "the steps measured in every cycle, as the specimen term), {}.",
+        text.empty() ? "" : " ", set.size(), dataset,
+        parts.empty() ? "none was found beyond the points' own uncertainties"
+                      : "relative standard deviation " + parts);
+  }
+  return text;
 }
 
 std::string ShortModelName(std::string name) {
