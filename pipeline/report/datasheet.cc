@@ -346,7 +346,8 @@ std::unique_ptr<Document> LayOut(const std::vector<Section>& sections, const Tem
     StartSection(*doc, section);
     for (size_t i = 0; i < section.blocks.size(); ++i) DrawBlock(*doc, section, i);
   }
-  if (doc->cursor() < doc->bottom()) doc->EnsureSpace(doc->Remaining() + 1.0);  // flags it
+  // Content set past the bottom without a break (a block's last lines): overflowed too.
+  if (one_page && doc->cursor() < doc->bottom()) doc->EnsureSpace(doc->Remaining() + 1.0);
   return doc;
 }
 

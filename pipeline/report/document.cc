@@ -195,7 +195,9 @@ void Document::EnsureSpace(double height_pt) {
     return;
   }
   if (cursor_ - height_pt >= bottom_) return;
-  if (allow_new_pages_) {
+  // Taller than a whole page: a new page would only leave this one blank.
+  const bool page_empty = cursor_ >= top_ - 0.5;
+  if (allow_new_pages_ && !page_empty) {
     NewPage();
   } else {
     overflowed_ = true;

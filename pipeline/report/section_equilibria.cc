@@ -35,7 +35,6 @@ std::vector<Cell> PointRow(const SectionContext& ctx, const reduce::IsothermPoin
       k != CoverageText(ctx.sheet.rules.coverage_factor) ? " (k = " + k + ")" : std::string();
   const std::string key = fmt::format("point_{}", index);
   std::vector<Cell> row = {{p.dataset_id + " / " + p.step_label, ""}, {BranchLabel(p.branch), ""}};
-  if (with_cycle) row.push_back({std::to_string(p.cycle + 1), ""});
   std::vector<Cell> rest = {
       {FormatFixed(p.temperature_K - kZeroCelsius_K, 1), ""},
       {std::to_string(p.num_specimens), ""},
@@ -49,6 +48,8 @@ std::vector<Cell> PointRow(const SectionContext& ctx, const reduce::IsothermPoin
       {FormatSignificant(p.time_to_equilibrium_s / kSecondsPerHour, 3), ""},
       {PointFlags(p), ""}};
   row.insert(row.end(), rest.begin(), rest.end());
+  // Last, so that every other column keeps its place with or without cycles.
+  if (with_cycle) row.push_back({std::to_string(p.cycle + 1), ""});
   return row;
 }
 
@@ -86,7 +87,7 @@ void BuildEquilibriaSection(const SectionContext& ctx, Section& section) {
   if (with_cycle) {
     table.columns[0].width_fraction -= 0.02;
     table.columns.back().width_fraction -= 0.03;
-    table.columns.insert(table.columns.begin() + 2, ColumnSpec{"Cycle", 0.05, true});
+    table.columns.push_back(ColumnSpec{"Cycle", 0.05, true});
   }
   table.size_pt = 7.0;
   for (size_t i = 0; i < points.size(); ++i) {
