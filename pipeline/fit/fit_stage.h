@@ -107,6 +107,9 @@ struct SpecimenFactor {
   // 1 in reduce.h), else infinity: the weights of the points it acts on are that estimate.
   double independent_degrees_of_freedom = fitters::kInfinity;
   std::vector<double> weights;  // per observation of the group: 1 / n_i, 0 where not acting
+  // A cycle factor (grouping.h, CycleFactors: specimen_ids holds "cycle N", weights 1 on that
+  // cycle's points), not a specimen factor.
+  bool is_cycle = false;
 };
 
 // One group of points fitted together: one branch at one temperature.

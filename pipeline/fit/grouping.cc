@@ -147,6 +147,79 @@ std::vector<SpecimenFactor> SpecimenFactors(const reduce::ReducedIsotherms& redu
   return factors;
 }
 
+std::vector<SpecimenFactor> CycleFactors(const reduce::ReducedIsotherms& reduced,
+                                         const FitGroup& group) {
+  // Per data set: per cycle, the group's observation of each step label.
+  std::map<std::string, std::map<int, std::map<std::string, std::size_t>>> by_dataset;
+  const std::size_t n = group.observations.size();
+  for (std::size_t i = 0; i < n; ++i) {
+    const int index = group.point_indices[i];
+    if (index < 0) continue;
+    const reduce::IsothermPoint& point = reduced.points[static_cast<std::size_t>(index)];
+    by_dataset[point.dataset_id][point.cycle][point.step_label] = i;
+  }
+  std::vector<SpecimenFactor> factors;
+  for (const auto& [dataset_id, cycles] : by_dataset) {
+    if (cycles.size() < 2) continue;
+    // The complete block: step labels present in every cycle, on the log scale.
+    std::vector<std::string> labels;
+    for (const auto& [label, i] : cycles.begin()->second) {
+      bool everywhere = true;
+      for (const auto& [cycle, steps] : cycles) everywhere = everywhere && steps.count(label) > 0;
+      if (everywhere) labels.push_back(label);
+    }
+    const double num_cycles = static_cast<double>(cycles.size());
+    double total_weight = 0.0;    // W = sum_i w_i
+    std::map<int, double> level;  // c_c * W
+    for (const std::string& label : labels) {
+      double mean_log = 0.0, mean_variance = 0.0;
+      bool usable = true;
+      for (const auto& [cycle, steps] : cycles) {
+        const reduce::IsothermPoint& p =
+            reduced.points[static_cast<std::size_t>(group.point_indices[steps.at(label)])];
+        usable = usable && p.moisture_kg_per_kg > 0.0 && p.u_independent_kg_per_kg > 0.0;
+        if (!usable) break;
+        mean_log += std::log(p.moisture_kg_per_kg) / num_cycles;
+        mean_variance += std::pow(p.u_independent_kg_per_kg / p.moisture_kg_per_kg, 2) / num_cycles;
+      }
+      if (!usable) continue;
+      const double w = 1.0 / mean_variance;
+      total_weight += w;
+      for (const auto& [cycle, steps] : cycles) {
+        const reduce::IsothermPoint& p =
+            reduced.points[static_cast<std::size_t>(group.point_indices[steps.at(label)])];
+        level[cycle] += w * (std::log(p.moisture_kg_per_kg) - mean_log);
+      }
+    }
+    if (!(total_weight > 0.0)) continue;
+    double mean_square = 0.0;  // MS_C = sum_c c_c^2 / (C - 1)
+    for (const auto& [cycle, sum] : level) {
+      mean_square += std::pow(sum / total_weight, 2) / (num_cycles - 1.0);
+    }
+    const double variance = mean_square - 1.0 / total_weight;
+    if (!(variance > 0.0)) continue;  // the cycles agree within their independent parts
+    for (const auto& [cycle, steps] : cycles) {
+      SpecimenFactor factor;
+      factor.dataset_id = dataset_id;
+      factor.specimen_ids = {fmt::format("cycle {}", cycle + 1)};
+      factor.is_cycle = true;
+      factor.relative_standard_uncertainty = std::sqrt(variance);
+      // Satterthwaite for MS_C - 1/W, 1/W exactly known (the evaluated parts, Type B).
+      factor.degrees_of_freedom =
+          variance * variance / (mean_square * mean_square / (num_cycles - 1.0));
+      factor.weights.assign(n, 0.0);
+      for (std::size_t i = 0; i < n; ++i) {
+        const int index = group.point_indices[i];
+        if (index < 0) continue;
+        const reduce::IsothermPoint& p = reduced.points[static_cast<std::size_t>(index)];
+        if (p.dataset_id == dataset_id && p.cycle == cycle) factor.weights[i] = 1.0;
+      }
+      factors.push_back(std::move(factor));
+    }
+  }
+  return factors;
+}
+
 bool IsRetentionModel(const std::string& model_name) {
   return model_name.starts_with("vangenuchten") || model_name.starts_with("durner");
 }
@@ -314,6 +387,9 @@ std::vector<FitGroup> BuildGroups(const reduce::ReducedIsotherms& reduced,
       }
       RepairSigmas(&group, warnings);
       group.specimen_factors = SpecimenFactors(reduced, group);
+      for (SpecimenFactor& factor : CycleFactors(reduced, group)) {
+        group.specimen_factors.push_back(std::move(factor));
+      }
       groups.push_back(std::move(group));
     }
   }

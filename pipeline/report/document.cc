@@ -206,7 +206,46 @@ void Document::EnsureSpace(double height_pt) {
     NewPage();
     return;
   }
-  if (cursor_ - height_pt < bottom_ && allow_new_pages_) NewPage();
+  if (cursor_ - height_pt >= bottom_) return;
+  // Taller than a whole page: a new page would only leave this one blank.
+  const bool page_empty = cursor_ >= top_ - 0.5;
+  if (allow_new_pages_ && !page_empty) {
+    NewPage();
+  } else {
+    overflowed_ = true;
+  }
+}
+
+double HeightOfRange(const std::vector<double>& heights, size_t first, size_t count) {
+  double sum = 0.0;
+  for (size_t i = first; i < heights.size() && i < first + count; ++i) sum += heights[i];
+  return sum;
+}
+
+namespace {
+
+// Parts that must stay together at the start (or the end) of a block of n parts: all of a
+// block too short to be split with kMinLinesAcrossBreak parts on each side.
+size_t KeptTogether(size_t n) { return n < 2 * kMinLinesAcrossBreak ? n : kMinLinesAcrossBreak; }
+
+}  // namespace
+
+void Document::BreakBefore(const std::vector<double>& heights, size_t index, size_t first_on_page) {
+  const size_t n = heights.size();
+  const double room = cursor_ - bottom_;
+  if (HeightOfRange(heights, index, n - index) <= room) return;  // the rest fits
+  if (heights[index] > room) {
+    EnsureSpace(heights[index]);
+    return;
+  }
+  // The rest breaks somewhere: where the parts from here stop fitting.
+  size_t fit_end = index;
+  double used = 0.0;
+  while (fit_end < n && used + heights[fit_end] <= room) used += heights[fit_end++];
+  const size_t keep = KeptTogether(n);
+  const bool widow = n - fit_end < keep;
+  const bool leaves_enough = index - first_on_page >= keep;
+  if (widow && index + keep >= n && leaves_enough) EnsureSpace(room + 1.0);
 }
 
 void Document::Heading(const std::string& text) {
@@ -225,25 +264,55 @@ void Document::Subheading(const std::string& text) {
   Skip(4.0);
 }
 
+double Document::ParagraphStartHeight(const std::string& text, double size_pt, double indent_pt,
+                                      bool bold) const {
+  const size_t lines = canvas_->Wrap(text, size_pt, width() - indent_pt, bold).size();
+  return size_pt * 1.32 * static_cast<double>(KeptTogether(lines));
+}
+
 double Document::Paragraph(const std::string& text, double size_pt, double indent_pt, Color color,
                            bool bold) {
   const double leading = size_pt * 1.32;
   const auto lines = canvas_->Wrap(text, size_pt, width() - indent_pt, bold);
+  const std::vector<double> heights(lines.size(), leading);
+  size_t first_on_page = 0;
   double used = 0.0;
-  for (const std::string& line : lines) {
-    EnsureSpace(leading);
+  for (size_t i = 0; i < lines.size(); ++i) {
+    const size_t page = pages_.size();
+    BreakBefore(heights, i, first_on_page);
+    if (pages_.size() != page) first_on_page = i;
     Skip(leading);
-    canvas_->Text(left_ + indent_pt, cursor_, line, size_pt, Canvas::Align::kLeft, bold, color);
+    canvas_->Text(left_ + indent_pt, cursor_, lines[i], size_pt, Canvas::Align::kLeft, bold, color);
     used += leading;
   }
   return used;
 }
 
-void Document::Bullets(const std::vector<std::string>& items, double size_pt) {
+std::vector<double> Document::BulletItemHeights(const std::vector<std::string>& items,
+                                                double size_pt) const {
   const double leading = size_pt * 1.32;
+  std::vector<double> heights;
+  heights.reserve(items.size());
   for (const std::string& item : items) {
     const auto lines = canvas_->Wrap(item, size_pt, width() - 12.0);
-    EnsureSpace(leading * std::min<double>(2.0, static_cast<double>(lines.size())));
+    heights.push_back(leading * static_cast<double>(lines.size()) + 1.5);
+  }
+  return heights;
+}
+
+double Document::BulletsStartHeight(const std::vector<std::string>& items, double size_pt) const {
+  return HeightOfRange(BulletItemHeights(items, size_pt), 0, KeptTogether(items.size()));
+}
+
+void Document::Bullets(const std::vector<std::string>& items, double size_pt) {
+  const double leading = size_pt * 1.32;
+  const std::vector<double> heights = BulletItemHeights(items, size_pt);
+  size_t first_on_page = 0;
+  for (size_t k = 0; k < items.size(); ++k) {
+    const size_t page = pages_.size();
+    BreakBefore(heights, k, first_on_page);  // an item is not split unless taller than a page
+    if (pages_.size() != page) first_on_page = k;
+    const auto lines = canvas_->Wrap(items[k], size_pt, width() - 12.0);
     for (size_t i = 0; i < lines.size(); ++i) {
       EnsureSpace(leading);
       Skip(leading);
@@ -255,14 +324,39 @@ void Document::Bullets(const std::vector<std::string>& items, double size_pt) {
   }
 }
 
+std::vector<double> Document::KeyValueRowHeights(
+    const std::vector<std::pair<std::string, std::string>>& rows, double label_width_pt,
+    double size_pt) const {
+  const double leading = size_pt * 1.35;
+  std::vector<double> heights;
+  heights.reserve(rows.size());
+  for (const auto& [label, value] : rows) {
+    const size_t n = std::max(canvas_->Wrap(label, size_pt, label_width_pt - 6.0).size(),
+                              canvas_->Wrap(value, size_pt, width() - label_width_pt).size());
+    heights.push_back(leading * static_cast<double>(n) + 1.0);
+  }
+  return heights;
+}
+
+double Document::KeyValuesStartHeight(const std::vector<std::pair<std::string, std::string>>& rows,
+                                      double label_width_pt, double size_pt) const {
+  return HeightOfRange(KeyValueRowHeights(rows, label_width_pt, size_pt), 0,
+                       KeptTogether(rows.size()));
+}
+
 void Document::KeyValues(const std::vector<std::pair<std::string, std::string>>& rows,
                          double label_width_pt, double size_pt) {
   const double leading = size_pt * 1.35;
-  for (const auto& [label, value] : rows) {
+  const std::vector<double> heights = KeyValueRowHeights(rows, label_width_pt, size_pt);
+  size_t first_on_page = 0;
+  for (size_t r = 0; r < rows.size(); ++r) {
+    const auto& [label, value] = rows[r];
+    const size_t page = pages_.size();
+    BreakBefore(heights, r, first_on_page);
+    if (pages_.size() != page) first_on_page = r;
     const auto label_lines = canvas_->Wrap(label, size_pt, label_width_pt - 6.0);
     const auto value_lines = canvas_->Wrap(value, size_pt, width() - label_width_pt);
     const size_t n = std::max(label_lines.size(), value_lines.size());
-    EnsureSpace(leading * static_cast<double>(n));
     for (size_t i = 0; i < n; ++i) {
       Skip(leading);
       if (i < label_lines.size()) {
@@ -316,23 +410,45 @@ void Document::TableRow(const std::vector<TableColumn>& columns,
   }
 }
 
+namespace {
+// Space above a table and the "(continued)" line of a continued table [pt].
+constexpr double kTableSpaceAbove_pt = 4.0;
+constexpr double kContinuedLine_pt = 12.0;
+}  // namespace
+
+double Document::TableStartHeight(const std::vector<TableColumn>& columns,
+                                  const std::vector<std::vector<std::string>>& rows,
+                                  double size_pt) const {
+  std::vector<std::string> header;
+  header.reserve(columns.size());
+  for (const TableColumn& c : columns) header.push_back(c.header);
+  double height = kTableSpaceAbove_pt + TableRowHeight(columns, header, size_pt, true);
+  for (size_t r = 0; r < KeptTogether(rows.size()); ++r) {
+    height += TableRowHeight(columns, rows[r], size_pt, false);
+  }
+  return height;
+}
+
 void Document::Table(const std::vector<TableColumn>& columns,
                      const std::vector<std::vector<std::string>>& rows, double size_pt) {
   std::vector<std::string> header;
   header.reserve(columns.size());
   for (const TableColumn& c : columns) header.push_back(c.header);
-  const double header_height = TableRowHeight(columns, header, size_pt, true);
-  const double first_row = rows.empty() ? 0.0 : TableRowHeight(columns, rows[0], size_pt, false);
-  EnsureSpace(header_height + first_row + 4.0);
-  Skip(4.0);
+  EnsureSpace(TableStartHeight(columns, rows, size_pt));
+  Skip(kTableSpaceAbove_pt);
   TableRow(columns, header, size_pt, true, true);
+  std::vector<double> heights;
+  heights.reserve(rows.size());
+  for (const auto& row : rows) heights.push_back(TableRowHeight(columns, row, size_pt, false));
+  size_t first_on_page = 0;
   for (size_t r = 0; r < rows.size(); ++r) {
-    const double height = TableRowHeight(columns, rows[r], size_pt, false);
-    if (cursor_ - height < bottom_ && allow_new_pages_) {
-      NewPage();
+    const size_t page = pages_.size();
+    BreakBefore(heights, r, first_on_page);
+    if (pages_.size() != page) {
+      first_on_page = r;
       canvas_->Text(left_, cursor_ - 8.0, "(continued)", 7.0, Canvas::Align::kLeft, false,
                     palette::kSlate);
-      Skip(12.0);
+      Skip(kContinuedLine_pt);
       TableRow(columns, header, size_pt, true, true);
     }
     TableRow(columns, rows[r], size_pt, false, r % 2 == 1);

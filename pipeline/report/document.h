@@ -1,6 +1,12 @@
 // The PDF document of the report stage (internal): libharu document with the embedded DejaVu
 // fonts, pages with the sheet's running header and "page n of N" footer, and a flowing text
 // cursor with paragraphs, key-value blocks and tables that continue on further pages.
+//
+// Page breaks (common typesetting practice, e.g. the widow and orphan rules of TeX and CSS):
+// a block that continues on a new page carries at least kMinLinesAcrossBreak lines, bullet
+// items or table rows there and leaves at least as many before the break, so no page starts
+// or ends with a lone line, bullet or row; a continued table repeats its header. A heading is
+// kept with the start of its first block by the caller (RenderPdf).
 #pragma once
 
 #include <hpdf.h>
@@ -15,6 +21,12 @@
 #include "pipeline/report/sheet.h"
 
 namespace sorbtrace::report {
+
+// Fewest lines, bullet items or table rows a block leaves on either side of a page break.
+inline constexpr size_t kMinLinesAcrossBreak = 2;
+
+// Height [pt] of `count` parts of given heights from `first` on (the page-break lookahead).
+double HeightOfRange(const std::vector<double>& heights, size_t first, size_t count);
 
 struct TableColumn {
   std::string header;
@@ -50,8 +62,21 @@ class Document {
   void Skip(double height_pt) { cursor_ -= height_pt; }
   // Starts a new page unless `height_pt` still fits above the bottom margin.
   void EnsureSpace(double height_pt);
-  // When false, EnsureSpace never adds pages (the one-page summary).
+  // Height left above the bottom margin on the current page [pt].
+  double Remaining() const { return cursor_ - bottom_; }
+  // When false, EnsureSpace never adds pages (the one-page summary); content that does not
+  // fit then runs past the bottom margin and overflowed() turns true.
   void set_allow_new_pages(bool allow) { allow_new_pages_ = allow; }
+  bool overflowed() const { return overflowed_; }
+  // Height of the start of a block that must stay with a heading above it [pt]: the first
+  // kMinLinesAcrossBreak lines / items / rows (with a table's header).
+  double ParagraphStartHeight(const std::string& text, double size_pt, double indent_pt,
+                              bool bold) const;
+  double BulletsStartHeight(const std::vector<std::string>& items, double size_pt) const;
+  double KeyValuesStartHeight(const std::vector<std::pair<std::string, std::string>>& rows,
+                              double label_width_pt, double size_pt) const;
+  double TableStartHeight(const std::vector<TableColumn>& columns,
+                          const std::vector<std::vector<std::string>>& rows, double size_pt) const;
 
   // A numbered section heading, e.g. "2  Sorption isotherm".
   void Heading(const std::string& text);
@@ -80,6 +105,15 @@ class Document {
   void SetUpDocument(const std::filesystem::path& regular, const std::filesystem::path& bold);
   void DrawHeader();
   void DrawWatermark();  // drafts: under the page's content
+  // Before part `index` of a block whose parts have `heights`: a new page when the part does
+  // not fit, or earlier when the break would leave fewer than kMinLinesAcrossBreak parts on
+  // either side of it. `first_on_page` is the index of the block's first part on this page.
+  void BreakBefore(const std::vector<double>& heights, size_t index, size_t first_on_page);
+  std::vector<double> BulletItemHeights(const std::vector<std::string>& items,
+                                        double size_pt) const;
+  std::vector<double> KeyValueRowHeights(
+      const std::vector<std::pair<std::string, std::string>>& rows, double label_width_pt,
+      double size_pt) const;
   double TableRowHeight(const std::vector<TableColumn>& columns,
                         const std::vector<std::string>& cells, double size_pt, bool bold) const;
   void TableRow(const std::vector<TableColumn>& columns, const std::vector<std::string>& cells,
@@ -99,6 +133,7 @@ class Document {
   double page_height_ = 0.0;
   double left_ = 0.0, right_ = 0.0, bottom_ = 0.0, top_ = 0.0, cursor_ = 0.0;
   bool allow_new_pages_ = true;
+  bool overflowed_ = false;
   HPDF_STATUS first_error_ = HPDF_OK;
   HPDF_STATUS first_detail_ = 0;
 };

@@ -2,6 +2,8 @@
 // RH and moisture content with U, spread, time to equilibrium, flags).
 #include <fmt/format.h>
 
+#include <algorithm>
+
 #include "pipeline/physics/physics.h"
 #include "pipeline/report/format.h"
 #include "pipeline/report/sections.h"
@@ -22,8 +24,8 @@ std::string PointFlags(const reduce::IsothermPoint& p) {
   return flags.empty() ? "–" : flags;
 }
 
-std::vector<Cell> PointRow(const SectionContext& ctx, const reduce::IsothermPoint& p,
-                           size_t index) {
+std::vector<Cell> PointRow(const SectionContext& ctx, const reduce::IsothermPoint& p, size_t index,
+                           bool with_cycle) {
   const Quantity rh = PointRhQuantity(p, ctx.sheet.rules);
   const Quantity moisture = PointMoistureQuantity(p, ctx.sheet.rules);
   const int digits = ctx.sheet.rules.significant_digits;
@@ -32,19 +34,23 @@ std::vector<Cell> PointRow(const SectionContext& ctx, const reduce::IsothermPoin
   const std::string own_k =
       k != CoverageText(ctx.sheet.rules.coverage_factor) ? " (k = " + k + ")" : std::string();
   const std::string key = fmt::format("point_{}", index);
-  return {{p.dataset_id + " / " + p.step_label, ""},
-          {BranchLabel(p.branch), ""},
-          {FormatFixed(p.temperature_K - kZeroCelsius_K, 1), ""},
-          {std::to_string(p.num_specimens), ""},
-          {FormatWithUncertainty(rh.display_value, rh.display_expanded_uncertainty, digits),
-           key + "_rh"},
-          {FormatWithUncertainty(moisture.display_value, moisture.display_expanded_uncertainty,
-                                 digits) +
-               own_k,
-           key + "_moisture"},
-          {FormatSignificant(p.between_specimen_sd_kg_per_kg * ctx.moisture_scale(), 2), ""},
-          {FormatSignificant(p.time_to_equilibrium_s / kSecondsPerHour, 3), ""},
-          {PointFlags(p), ""}};
+  std::vector<Cell> row = {{p.dataset_id + " / " + p.step_label, ""}, {BranchLabel(p.branch), ""}};
+  std::vector<Cell> rest = {
+      {FormatFixed(p.temperature_K - kZeroCelsius_K, 1), ""},
+      {std::to_string(p.num_specimens), ""},
+      {FormatWithUncertainty(rh.display_value, rh.display_expanded_uncertainty, digits),
+       key + "_rh"},
+      {FormatWithUncertainty(moisture.display_value, moisture.display_expanded_uncertainty,
+                             digits) +
+           own_k,
+       key + "_moisture"},
+      {FormatSignificant(p.between_specimen_sd_kg_per_kg * ctx.moisture_scale(), 2), ""},
+      {FormatSignificant(p.time_to_equilibrium_s / kSecondsPerHour, 3), ""},
+      {PointFlags(p), ""}};
+  row.insert(row.end(), rest.begin(), rest.end());
+  // Last, so that every other column keeps its place with or without cycles.
+  if (with_cycle) row.push_back({std::to_string(p.cycle + 1), ""});
+  return row;
 }
 
 }  // namespace
@@ -57,6 +63,15 @@ void BuildEquilibriaSection(const SectionContext& ctx, Section& section) {
                                  "equilibrium (longest specimen).",
                                  CoverageText(ctx.sheet.rules.coverage_factor)),
                      8.0, 0.0, true});
+  const auto& points = ctx.inputs.reduced->points;
+  // A log with several adsorption/desorption cycles: each row says its cycle.
+  const bool with_cycle = std::any_of(points.begin(), points.end(),
+                                      [](const reduce::IsothermPoint& p) { return p.cycle > 0; });
+  if (with_cycle) {
+    section.blocks.emplace_back(ParagraphBlock{
+        "Cycle: the adsorption/desorption cycle of the log (1 = first). " + CyclesSentence(ctx),
+        8.0, 0.0, true});
+  }
   const std::string mu = ctx.sheet.moisture_unit;
   TableBlock table;
   table.name = "equilibria";
@@ -69,9 +84,15 @@ void BuildEquilibriaSection(const SectionContext& ctx, Section& section) {
                    {"Spread (" + mu + ")", 0.09, true},
                    {"t_eq (h)", 0.07, true},
                    {"Flags", 0.15, false}};
+  if (with_cycle) {
+    table.columns[0].width_fraction -= 0.02;
+    table.columns.back().width_fraction -= 0.03;
+    table.columns.push_back(ColumnSpec{"Cycle", 0.05, true});
+  }
   table.size_pt = 7.0;
-  const auto& points = ctx.inputs.reduced->points;
-  for (size_t i = 0; i < points.size(); ++i) table.rows.push_back(PointRow(ctx, points[i], i));
+  for (size_t i = 0; i < points.size(); ++i) {
+    table.rows.push_back(PointRow(ctx, points[i], i, with_cycle));
+  }
   section.blocks.emplace_back(std::move(table));
 }
 

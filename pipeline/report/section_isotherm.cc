@@ -4,7 +4,10 @@
 
 #include <algorithm>
 #include <cmath>
+#include <iterator>
 #include <map>
+#include <set>
+#include <tuple>
 #include <utility>
 
 #include "pipeline/physics/physics.h"
@@ -40,14 +43,24 @@ plot::MarkerStyle BranchMarker(ingest::Branch branch, int temperature_index) {
   return m;
 }
 
-// "gab" -> "GAB", "oswin" -> "Oswin": short names for legends.
-std::string ShortModelName(std::string name) {
-  if (name.size() <= 3) {
-    for (char& c : name) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
-  } else if (!name.empty()) {
-    name[0] = static_cast<char>(std::toupper(static_cast<unsigned char>(name[0])));
+// Dash pattern of a fitted curve beyond the RH range of the points it was fitted to [pt].
+const std::vector<double> kExtrapolatedDash_pt = {1.2, 1.8};
+
+// The RH range [fraction] of the observations a fit used (its measured range).
+struct FittedRange {
+  double low = 0.0;
+  double high = 1.0;
+};
+FittedRange FittedRhRange(const fit::FitGroup& group, const fit::ModelFit& mf) {
+  FittedRange range{1.0, 0.0};
+  for (int i : mf.used_observations) {
+    if (i < 0 || static_cast<size_t>(i) >= group.observations.size()) continue;
+    const double x = group.observations[static_cast<size_t>(i)].x[0];
+    range.low = std::min(range.low, x);
+    range.high = std::max(range.high, x);
   }
-  return name;
+  if (range.low > range.high) return {0.0, 1.0};  // none recorded: no part is marked
+  return range;
 }
 
 int TemperatureIndex(const std::vector<double>& temperatures, double temperature_K) {
@@ -65,6 +78,7 @@ void AddBestFits(const SectionContext& ctx, const std::vector<double>& temperatu
   if (ctx.inputs.fits == nullptr) return;
   const double ms = ctx.moisture_scale();
   const fit::IsothermFits& fits = *ctx.inputs.fits;
+  bool any_extrapolated = false;
   for (size_t g = 0; g < fits.best_fit_per_group.size() && g < fits.groups.size(); ++g) {
     const int best = fits.best_fit_per_group[g];
     if (best < 0 || static_cast<size_t>(best) >= fits.fits.size()) continue;
@@ -73,22 +87,48 @@ void AddBestFits(const SectionContext& ctx, const std::vector<double>& temperatu
     const plot::MarkerStyle m = BranchMarker(
         fits.groups[g].branch, TemperatureIndex(temperatures, fits.groups[g].temperature_K));
     plot::Band band;
-    plot::Series curve;
     for (const fitters::BandPoint& b : mf.band) {
       band.x.push_back(b.x * kPercentPerFraction);
       band.low.push_back(b.confidence_low * ms);
       band.high.push_back(b.confidence_high * ms);
-      curve.x.push_back(b.x * kPercentPerFraction);
-      curve.y.push_back(b.y * ms);
     }
     band.fill = m.color.Tint(0.78);
     if (g == 0) band.legend = "confidence band of the fit";
-    curve.marker.shape = plot::MarkerShape::kNone;
-    curve.line = plot::LineStyle{m.color, 1.1, {}};
-    if (fits.groups[g].branch == ingest::Branch::kDesorption) curve.line->dash_pt = {4.0, 2.0};
-    curve.legend = ShortModelName(mf.model_name) + " fit, " + GroupLabel(fits.groups[g]);
     fig.bands.push_back(std::move(band));
-    fig.series.push_back(std::move(curve));
+    // The fitted range: solid (desorption dashed), beyond it dotted on both sides.
+    const FittedRange range = FittedRhRange(fits.groups[g], mf);
+    plot::Series fitted, below, above;
+    // Grid indices of the first and last curve points inside the range; the parts beyond
+    // share these end points, so the curve stays joined.
+    const size_t n = mf.band.size();
+    size_t first = 0, last = n - 1;
+    while (first + 1 < n && mf.band[first].x < range.low) ++first;
+    while (last > first && mf.band[last].x > range.high) --last;
+    auto append = [&](plot::Series& s, size_t from, size_t to) {
+      for (size_t i = from; i <= to; ++i) {
+        s.x.push_back(mf.band[i].x * kPercentPerFraction);
+        s.y.push_back(mf.band[i].y * ms);
+      }
+    };
+    append(fitted, first, last);
+    if (first > 0) append(below, 0, first);
+    if (last + 1 < n) append(above, last, n - 1);
+    fitted.marker.shape = below.marker.shape = above.marker.shape = plot::MarkerShape::kNone;
+    fitted.line = plot::LineStyle{m.color, 1.1, {}};
+    if (fits.groups[g].branch == ingest::Branch::kDesorption) fitted.line->dash_pt = {4.0, 2.0};
+    below.line = above.line = plot::LineStyle{m.color, 0.9, kExtrapolatedDash_pt};
+    fitted.legend = ShortModelName(mf.model_name) + " fit, " + GroupLabel(fits.groups[g]);
+    any_extrapolated = any_extrapolated || !below.x.empty() || !above.x.empty();
+    fig.series.push_back(std::move(fitted));
+    if (!below.x.empty()) fig.series.push_back(std::move(below));
+    if (!above.x.empty()) fig.series.push_back(std::move(above));
+  }
+  if (any_extrapolated) {
+    plot::Series key;  // legend entry only
+    key.legend = "fit extrapolated beyond the measured RH range";
+    key.marker.shape = plot::MarkerShape::kNone;
+    key.line = plot::LineStyle{palette::kSlate, 0.9, kExtrapolatedDash_pt};
+    fig.series.push_back(std::move(key));
   }
 }
 
@@ -99,13 +139,28 @@ void AddMeasuredPoints(const SectionContext& ctx, const std::vector<double>& tem
   if (ctx.inputs.reduced == nullptr) return;
   const double ms = ctx.moisture_scale();
   const double k = ctx.sheet.rules.coverage_factor;
-  std::map<std::pair<int, int>, plot::Series> groups;
-  for (const reduce::IsothermPoint& p : ctx.inputs.reduced->points) {
+  const auto& points = ctx.inputs.reduced->points;
+  const bool cycles = std::any_of(points.begin(), points.end(),
+                                  [](const reduce::IsothermPoint& p) { return p.cycle > 0; });
+  std::map<std::tuple<int, int, int>, plot::Series> groups;
+  for (const reduce::IsothermPoint& p : points) {
     const int ti = TemperatureIndex(temperatures, p.temperature_K);
-    plot::Series& s = groups[std::make_pair(static_cast<int>(p.branch), ti)];
+    plot::Series& s = groups[std::make_tuple(static_cast<int>(p.branch), ti, p.cycle)];
     if (s.x.empty()) {
       s.marker = BranchMarker(p.branch, ti);
-      s.legend = BranchLabel(p.branch) + ", " + TemperatureLabel(p.temperature_K) + " (± U)";
+      s.legend = BranchLabel(p.branch) + ", " + TemperatureLabel(p.temperature_K);
+      if (cycles) {
+        // Each later cycle its own shape (and the fill turned over), so cycles read apart.
+        static constexpr plot::MarkerShape kCycleShapes[] = {
+            plot::MarkerShape::kDiamond, plot::MarkerShape::kTriangleUp,
+            plot::MarkerShape::kTriangleDown, plot::MarkerShape::kSquare};
+        if (p.cycle > 0) {
+          s.marker.shape = kCycleShapes[static_cast<size_t>(p.cycle - 1) % std::size(kCycleShapes)];
+          s.marker.filled = !s.marker.filled;
+        }
+        s.legend += fmt::format(", cycle {}", p.cycle + 1);
+      }
+      s.legend += " (± U)";
     }
     s.x.push_back(p.rh_fraction * kPercentPerFraction);
     s.y.push_back(p.moisture_kg_per_kg * ms);
@@ -232,13 +287,60 @@ void BuildIsothermSection(const SectionContext& ctx, Section& section) {
   res.caption = fmt::format(
       "Points: combined specimens per step, bars: expanded uncertainty U (k = {}) in RH and "
       "moisture content. Curves: best model of each branch (lowest AICc) with its confidence "
-      "band of the mean curve (delta method). Top axis: capillary pressure of the pore water "
+      "band of the mean curve (delta method), dotted beyond the RH range of the points it was "
+      "fitted to (extrapolated). Top axis: capillary pressure of the pore water "
       "in equilibrium with the RH (Kelvin equation).",
       CoverageText(ctx.sheet.rules.coverage_factor));
+  const std::string cycles = CyclesSentence(ctx);
+  if (!cycles.empty()) res.caption += " " + cycles;
   block.panels = {std::move(fig), std::move(res)};
   block.heights_pt = {400.0, 150.0};
   block.caption_adds_height = true;
   section.blocks.emplace_back(std::move(block));
+}
+
+std::string CyclesSentence(const SectionContext& ctx) {
+  if (ctx.inputs.reduced == nullptr) return {};
+  // Data sets with points from more than one cycle.
+  std::map<std::string, std::set<int>> cycles;
+  for (const reduce::IsothermPoint& p : ctx.inputs.reduced->points) {
+    cycles[p.dataset_id].insert(p.cycle);
+  }
+  std::string text;
+  for (const auto& [dataset, set] : cycles) {
+    if (set.size() < 2) continue;
+    std::string parts;
+    if (ctx.inputs.fits != nullptr) {
+      for (const fit::FitGroup& g : ctx.inputs.fits->groups) {
+        for (const fit::SpecimenFactor& f : g.specimen_factors) {
+          if (!f.is_cycle || f.dataset_id != dataset) continue;
+          parts +=
+              fmt::format("{}{}: {} % (ν = {})", parts.empty() ? "" : "; ", BranchLabel(g.branch),
+                          FormatSignificant(f.relative_standard_uncertainty * 100.0, 2),
+                          FormatSignificant(f.degrees_of_freedom, 2));
+          break;  // one factor per cycle, all with the same u
+        }
+      }
+    }
+    text += fmt::format(
+        "{}The {} cycles of data set {} are fitted together as one isotherm per branch, not as "
+        "independent replicates: what a cycle does not share with the others is a component "
+        "common to every step of that cycle (one correlated factor per cycle, estimated from "
+        "the steps measured in every cycle, as the specimen term), {}.",
+        text.empty() ? "" : " ", set.size(), dataset,
+        parts.empty() ? "none was found beyond the points' own uncertainties"
+                      : "relative standard deviation " + parts);
+  }
+  return text;
+}
+
+std::string ShortModelName(std::string name) {
+  if (name.size() <= 3) {
+    for (char& c : name) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
+  } else if (!name.empty()) {
+    name[0] = static_cast<char>(std::toupper(static_cast<unsigned char>(name[0])));
+  }
+  return name;
 }
 
 std::string NotAvailable(const std::string& reason) {

@@ -3,6 +3,9 @@
 // isosteric heat) and the assumptions of the Kelvin inversion.
 #include <fmt/format.h>
 
+#include <algorithm>
+#include <cmath>
+#include <iterator>
 #include <set>
 #include <utility>
 
@@ -16,13 +19,96 @@ namespace {
 constexpr double kMm3PerGPerM3PerKg = 1e6;
 constexpr double kNmPerM = 1e9;
 constexpr double kJPerKJ = 1000.0;
+// Markers along a smooth model curve (enough to read its shape in greyscale).
+constexpr size_t kMarkersPerCurve = 8;
 
+// What a distribution's curves belong to, as in the legend: "stepwise, adsorption, 23 °C",
+// "model (GAB), desorption, 23 °C".
 std::string DistributionLegend(const pores::PoreDistribution& pd) {
-  return pd.method + (pd.model_name.empty() ? "" : " (" + pd.model_name + ")") + ", " +
-         BranchLabel(pd.branch);
+  return pd.method + (pd.model_name.empty() ? "" : " (" + ShortModelName(pd.model_name) + ")") +
+         ", " + BranchLabel(pd.branch) + ", " + TemperatureLabel(pd.temperature_K);
 }
 
-// Density (dV/dlog r) and cumulative volume against pore radius, one series per distribution.
+// A distribution's curves on the two panels, in display units (mm³/g against nm).
+struct DistributionCurves {
+  plot::Series density;
+  plot::Series cumulative;
+  plot::Band density_band;
+  plot::Band cumulative_band;
+};
+
+// The model-based distribution: smooth curves on the radius grid, with their bands.
+DistributionCurves ModelCurves(const pores::PoreDistribution& pd) {
+  DistributionCurves c;
+  for (const pores::PoreDistributionPoint& p : pd.points) {
+    const double r = p.radius_m * kNmPerM;
+    c.density_band.x.push_back(r);
+    c.density_band.low.push_back(p.dv_dlogr_low_m3_per_kg * kMm3PerGPerM3PerKg);
+    c.density_band.high.push_back(p.dv_dlogr_high_m3_per_kg * kMm3PerGPerM3PerKg);
+    c.density.x.push_back(r);
+    c.density.y.push_back(p.dv_dlogr_m3_per_kg * kMm3PerGPerM3PerKg);
+    c.cumulative_band.x.push_back(r);
+    c.cumulative_band.low.push_back(p.cumulative_low_m3_per_kg * kMm3PerGPerM3PerKg);
+    c.cumulative_band.high.push_back(p.cumulative_high_m3_per_kg * kMm3PerGPerM3PerKg);
+    c.cumulative.x.push_back(r);
+    c.cumulative.y.push_back(p.cumulative_volume_m3_per_kg * kMm3PerGPerM3PerKg);
+  }
+  // A few markers along the curve (its shape tells it apart from the others in greyscale).
+  const size_t n = c.density.x.size();
+  const size_t stride = std::max<size_t>(1, n / kMarkersPerCurve);
+  for (size_t i = stride / 2; i < n; i += stride) c.density.marker_indices.push_back(i);
+  c.cumulative.marker_indices = c.density.marker_indices;
+  return c;
+}
+
+// The stepwise distribution as what it is: bars over the radius range of their measured
+// steps (pores::PoreStep::bar), the density a step outline, the cumulative volume straight
+// in log r across each bar (the density is uniform over the bar) up to the distribution's
+// total at the upper edge of the last bar; a marker at each bar's middle (its PoreDistribution
+// point). A point alone would put the peak at the bar's middle and end the cumulative curve
+// half a bar short of the total (the table's pore volume).
+DistributionCurves StepwiseCurves(const pores::PoreDistribution& pd) {
+  DistributionCurves c;
+  const size_t nb = pd.points.size();
+  std::vector<double> low(nb, 0.0), high(nb, 0.0);
+  for (const pores::PoreStep& step : pd.steps) {
+    if (step.bar < 0 || static_cast<size_t>(step.bar) >= nb) continue;
+    const auto b = static_cast<size_t>(step.bar);
+    low[b] = low[b] > 0.0 ? std::min(low[b], step.radius_low_m) : step.radius_low_m;
+    high[b] = std::max(high[b], step.radius_high_m);
+  }
+  for (size_t b = 0; b < nb; ++b) {
+    const pores::PoreDistributionPoint& p = pd.points[b];
+    if (!(low[b] > 0.0 && high[b] > low[b])) {  // no step recorded: the point alone
+      low[b] = high[b] = p.radius_m;
+    }
+    const double lo = low[b] * kNmPerM, mid = p.radius_m * kNmPerM, hi = high[b] * kNmPerM;
+    const double density = p.dv_dlogr_m3_per_kg * kMm3PerGPerM3PerKg;
+    // Volume of the bar: its density over its width in log10 r (stepwise.cc's bar volume).
+    const double volume = density * std::log10(high[b] / low[b]);
+    const double at_mid = p.cumulative_volume_m3_per_kg * kMm3PerGPerM3PerKg;
+    if (b == 0) {
+      c.density.x.push_back(lo);
+      c.density.y.push_back(0.0);
+    }
+    c.density.x.insert(c.density.x.end(), {lo, mid, hi});
+    c.density.y.insert(c.density.y.end(), {density, density, density});
+    c.density.marker_indices.push_back(c.density.x.size() - 2);
+    if (b + 1 == nb) {
+      c.density.x.push_back(hi);
+      c.density.y.push_back(0.0);
+    }
+    c.cumulative.x.insert(c.cumulative.x.end(), {lo, mid, hi});
+    c.cumulative.y.insert(c.cumulative.y.end(),
+                          {at_mid - 0.5 * volume, at_mid, at_mid + 0.5 * volume});
+    c.cumulative.marker_indices.push_back(c.cumulative.x.size() - 2);
+  }
+  return c;
+}
+
+// Density (dV/dlog r) and cumulative volume against pore radius. Each (branch, temperature)
+// has its colour and marker shape; the model-based curve is solid with filled markers, the
+// stepwise outline dashed with open markers: eight curves stay apart in greyscale.
 std::pair<plot::Figure, plot::Figure> DistributionFigures(const pores::PoreAnalysis& pa) {
   plot::Figure density;
   density.x.label = "pore radius (nm)";
@@ -31,41 +117,35 @@ std::pair<plot::Figure, plot::Figure> DistributionFigures(const pores::PoreAnaly
   density.y.include_zero = true;
   plot::Figure cumulative = density;
   cumulative.y.label = "cumulative pore volume (mm³/g)";
-  for (size_t d = 0; d < pa.distributions.size(); ++d) {
-    const pores::PoreDistribution& pd = pa.distributions[d];
-    const plot::Color color = plot::palette::Series(static_cast<int>(d));
-    plot::Band band, cband;
-    plot::Series s, cs;
-    for (const pores::PoreDistributionPoint& p : pd.points) {
-      const double r = p.radius_m * kNmPerM;
-      band.x.push_back(r);
-      band.low.push_back(p.dv_dlogr_low_m3_per_kg * kMm3PerGPerM3PerKg);
-      band.high.push_back(p.dv_dlogr_high_m3_per_kg * kMm3PerGPerM3PerKg);
-      s.x.push_back(r);
-      s.y.push_back(p.dv_dlogr_m3_per_kg * kMm3PerGPerM3PerKg);
-      cband.x.push_back(r);
-      cband.low.push_back(p.cumulative_low_m3_per_kg * kMm3PerGPerM3PerKg);
-      cband.high.push_back(p.cumulative_high_m3_per_kg * kMm3PerGPerM3PerKg);
-      cs.x.push_back(r);
-      cs.y.push_back(p.cumulative_volume_m3_per_kg * kMm3PerGPerM3PerKg);
-    }
-    band.fill = cband.fill = color.Tint(0.8);
+  cumulative.legend = false;  // the same curves as the panel above, whose legend names them
+  static constexpr plot::MarkerShape kShapes[] = {
+      plot::MarkerShape::kCircle, plot::MarkerShape::kSquare, plot::MarkerShape::kTriangleUp,
+      plot::MarkerShape::kDiamond, plot::MarkerShape::kTriangleDown};
+  std::vector<std::pair<int, long>> groups;  // (branch, temperature in mK) in order of appearance
+  bool band_in_legend = false;
+  for (const pores::PoreDistribution& pd : pa.distributions) {
+    const std::pair<int, long> group{static_cast<int>(pd.branch),
+                                     std::lround(pd.temperature_K * 1000.0)};
+    size_t g = std::find(groups.begin(), groups.end(), group) - groups.begin();
+    if (g == groups.size()) groups.push_back(group);
+    const plot::Color color = plot::palette::Series(static_cast<int>(g));
     const bool stepwise = pd.method == "stepwise";
-    s.marker.shape = cs.marker.shape =
-        stepwise ? plot::MarkerShape::kSquare : plot::MarkerShape::kNone;
-    s.marker.filled = cs.marker.filled = false;
-    s.marker.color = cs.marker.color = color;
-    s.marker.size_pt = cs.marker.size_pt = 3.6;
-    s.line = cs.line = plot::LineStyle{
-        color, 1.1, stepwise ? std::vector<double>{3.0, 2.0} : std::vector<double>{}};
-    s.legend = cs.legend = DistributionLegend(pd);
-    if (d == 0) band.legend = "band (fit uncertainty)";
-    if (!stepwise) {
-      density.bands.push_back(std::move(band));
-      cumulative.bands.push_back(std::move(cband));
+    DistributionCurves c = stepwise ? StepwiseCurves(pd) : ModelCurves(pd);
+    for (plot::Series* s : {&c.density, &c.cumulative}) {
+      s->marker = {kShapes[g % std::size(kShapes)], !stepwise, 4.0, color};
+      s->line = plot::LineStyle{color, stepwise ? 0.9 : 1.2,
+                                stepwise ? std::vector<double>{3.0, 2.0} : std::vector<double>{}};
+      s->legend = DistributionLegend(pd);
     }
-    density.series.push_back(std::move(s));
-    cumulative.series.push_back(std::move(cs));
+    if (!stepwise) {
+      c.density_band.fill = c.cumulative_band.fill = color.Tint(0.8);
+      if (!band_in_legend) c.density_band.legend = "band (fit uncertainty)";
+      band_in_legend = true;
+      density.bands.push_back(std::move(c.density_band));
+      cumulative.bands.push_back(std::move(c.cumulative_band));
+    }
+    density.series.push_back(std::move(c.density));
+    cumulative.series.push_back(std::move(c.cumulative));
   }
   return {std::move(density), std::move(cumulative)};
 }
@@ -155,7 +235,7 @@ void BuildPoresSection(const SectionContext& ctx, Section& section) {
       "cumulative pore volume against pore radius, with their uncertainty bands.";
   auto [density, cumulative] = DistributionFigures(pa);
   figures.panels = {std::move(density), std::move(cumulative)};
-  figures.heights_pt = {230.0, 230.0};
+  figures.heights_pt = {210.0, 210.0};
   figures.gap_pt = 8.0;
   figures.arrangement = FigureArrangement::kBesideNotes;
   figures.notes_title = "Assumptions";

@@ -39,6 +39,13 @@ plot::Figure IsothermFigure(const SectionContext& ctx, bool with_secondary);
 // The distinct measurement temperatures of the reduced points [K], ascending.
 std::vector<double> DistinctTemperatures(const ReportInputs& inputs);
 
+// How the cycles of a log with several adsorption/desorption cycles were combined (one
+// sentence per data set and branch, from the fit groups' cycle factors); "" without cycles.
+std::string CyclesSentence(const SectionContext& ctx);
+
+// A model's registry key as a short legend name: "gab" -> "GAB", "oswin" -> "Oswin".
+std::string ShortModelName(std::string name);
+
 // "not available: <reason>", unless the reason says so already.
 std::string NotAvailable(const std::string& reason);
 

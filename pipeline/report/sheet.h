@@ -128,6 +128,7 @@ struct BulletsBlock {
 struct FactsBlock {
   std::vector<std::pair<std::string, std::string>> rows;
   double label_width_pt = 90.0;
+  double size_pt = 8.5;
 };
 // One table cell: the text exactly as printed and, where the cell prints a Quantity of
 // the sheet, that Quantity's key (results.json "headline"/"points" keys).

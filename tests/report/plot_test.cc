@@ -99,6 +99,25 @@ TEST(LogTicksTest, DecadesAndIntermediateTicks) {
   EXPECT_EQ(FormatLogTick(0.005), "0.005");
 }
 
+// Heckbert on 0..21 with 6 ticks: nicenum(21, ceil) = 50, step nicenum(10, round) = 10, axis
+// 0..30 (30 % beyond the data). The close labelling takes the fewest ticks whose axis extends
+// by at most 25 %: target 11 gives step nicenum(5, round) = 5, axis 0..25 (16 %).
+TEST(NiceTicksTest, CloseLabellingLeavesNoHalfEmptyAxis) {
+  EXPECT_DOUBLE_EQ(NiceLinearTicks(0.0, 21.0, 6).axis_max, 30.0);
+  const Ticks t = CloseLinearTicks(0.0, 21.0, 6);
+  EXPECT_DOUBLE_EQ(t.axis_min, 0.0);
+  EXPECT_DOUBLE_EQ(t.axis_max, 25.0);
+  EXPECT_EQ(t.values, (std::vector<double>{0.0, 5.0, 10.0, 15.0, 20.0, 25.0}));
+  // Heckbert's own result where it is already close: 0..0.97 -> 0..1.0.
+  EXPECT_DOUBLE_EQ(CloseLinearTicks(0.0, 0.97, 5).axis_max, 1.0);
+  // Log: 1.3..21.4 nm ends at 1 and 30, not at the decades 1 and 100; ticks 1, 2, 5, 10, 20.
+  const Ticks log = CloseLogTicks(1.3, 21.4);
+  EXPECT_DOUBLE_EQ(log.axis_min, 1.0);
+  EXPECT_DOUBLE_EQ(log.axis_max, 30.0);
+  EXPECT_EQ(log.values, (std::vector<double>{1.0, 2.0, 5.0, 10.0, 20.0}));
+  EXPECT_DOUBLE_EQ(CloseLogTicks(2e-9, 1e-8).axis_max, 1e-8);  // an exact decade stays
+}
+
 TEST(TextTest, SanitizeKeepsUnicodeAndReplacesInvalidBytes) {
   EXPECT_EQ(SanitizeUtf8("23 °C ± 0.2 K, m² µm αβ"), "23 °C ± 0.2 K, m² µm αβ");
   EXPECT_EQ(SanitizeUtf8(std::string("a\xff") + "b"), "a?b");
@@ -284,8 +303,9 @@ TEST(DrawFigureTest, LogAxisAndRightAxisRender) {
   }
   fig.series = {a, b};
   const FigureLayout layout = DrawFigure(doc.canvas(), fig, {50.0, 400.0, 450.0, 300.0});
+  // Data 1..10^1.95 = 89.1: the axis ends at the next whole mantissa, 90 (CloseLogTicks).
   EXPECT_DOUBLE_EQ(layout.x_axis_min, 1.0);
-  EXPECT_DOUBLE_EQ(layout.x_axis_max, 100.0);
+  EXPECT_DOUBLE_EQ(layout.x_axis_max, 90.0);
   const auto pdf = WriteTempFile("plot_log.pdf", doc.Save());
   const std::string text = CollapseSpaces(PdfText(pdf));
   EXPECT_NE(text.find("pore radius (nm)"), std::string::npos);

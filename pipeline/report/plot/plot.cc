@@ -53,7 +53,12 @@ Ticks AxisTicks(const Axis& axis, Extent extent) {
     double high = axis.max.value_or(extent.empty() ? 10.0 : extent.high);
     if (!(low > 0.0)) low = 1.0;
     if (!(high > low)) high = low * 10.0;
-    return LogTicks(low, high, axis.min.has_value() && axis.max.has_value());
+    if (axis.min.has_value() && axis.max.has_value()) return LogTicks(low, high, true);
+    Ticks ticks = CloseLogTicks(low, high);
+    if (axis.min || axis.max) {  // a fixed end stays where the caller put it
+      ticks = LogTicks(axis.min.value_or(ticks.axis_min), axis.max.value_or(ticks.axis_max), true);
+    }
+    return ticks;
   }
   double low = extent.empty() ? 0.0 : extent.low;
   double high = extent.empty() ? 1.0 : extent.high;
@@ -69,7 +74,7 @@ Ticks AxisTicks(const Axis& axis, Extent extent) {
     high += pad;
   }
   if (axis.min && axis.max) return NiceLinearTicksWithin(low, high, axis.num_ticks);
-  Ticks ticks = NiceLinearTicks(low, high, axis.num_ticks);
+  Ticks ticks = CloseLinearTicks(low, high, axis.num_ticks);
   // A fixed end stays where the caller put it.
   if (axis.min || axis.max) {
     const double fixed_low = axis.min.value_or(ticks.axis_min);
@@ -225,6 +230,32 @@ Ticks NiceLinearTicks(double data_min, double data_max, int num_ticks) {
   ticks.axis_min = ticks.values.front();
   ticks.axis_max = ticks.values.back();
   return ticks;
+}
+
+Ticks CloseLinearTicks(double data_min, double data_max, int num_ticks) {
+  const Ticks heckbert = NiceLinearTicks(data_min, data_max, num_ticks);
+  if (!(data_max > data_min)) return heckbert;
+  const int n = std::max(num_ticks, 2);
+  for (int target = n; target <= 2 * n; ++target) {
+    Ticks t = NiceLinearTicks(data_min, data_max, target);
+    const double length = t.axis_max - t.axis_min;
+    const double slack = length - (data_max - data_min);
+    if (slack <= kMaxAxisSlack * length && t.values.size() <= static_cast<size_t>(2 * n)) {
+      return t;
+    }
+  }
+  return heckbert;
+}
+
+Ticks CloseLogTicks(double data_min, double data_max) {
+  if (!(data_min > 0.0)) data_min = 1.0;
+  if (!(data_max > data_min)) data_max = data_min * 10.0;
+  // The whole mantissas 1..10 of the decades holding each end.
+  const double low_power = std::pow(10.0, std::floor(std::log10(data_min) + kStepSlack));
+  const double high_power = std::pow(10.0, std::floor(std::log10(data_max) - kStepSlack));
+  const double low = std::floor(data_min / low_power * (1.0 + kStepSlack)) * low_power;
+  const double high = std::ceil(data_max / high_power * (1.0 - kStepSlack)) * high_power;
+  return LogTicks(low, high, true);
 }
 
 Ticks NiceLinearTicksWithin(double axis_min, double axis_max, int num_ticks) {
@@ -497,8 +528,15 @@ std::vector<std::pair<double, double>> DrawData(Canvas& canvas, const Figure& fi
     occupied.insert(occupied.end(), points.begin(), points.end());
     // Error bars, then markers on top.
     if (!s.x_error.empty() || !s.y_error.empty()) DrawErrorBars(canvas, figure, p, s);
-    for (const auto& [px, py] : points) {
-      if (s.marker.shape != MarkerShape::kNone) DrawMarker(canvas, s.marker, px, py);
+    if (s.marker.shape != MarkerShape::kNone) {
+      if (s.marker_indices.empty()) {
+        for (const auto& [px, py] : points) DrawMarker(canvas, s.marker, px, py);
+      }
+      for (size_t i : s.marker_indices) {
+        if (i >= s.x.size() || i >= s.y.size()) continue;
+        if (!Usable(s.x[i], figure.x.scale) || !Usable(s.y[i], ys)) continue;
+        DrawMarker(canvas, s.marker, p.mx(s.x[i]), ym(s.y[i]));
+      }
     }
   }
   for (const Band& band : figure.bands) {
@@ -695,6 +733,11 @@ std::pair<int, int> EmptiestCorner(const std::array<Rect, 4>& corners,
   return {best, best_count};
 }
 
+// A legend taller than this share of its frame is set in more columns, up to kMaxLegendColumns
+// (common practice: the legend must not hide the data it explains).
+constexpr double kMaxLegendHeightShare = 0.45;
+constexpr size_t kMaxLegendColumns = 3;
+
 // 6. Legend in the emptiest corner.
 void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
                 const std::vector<std::pair<double, double>>& occupied, FigureLayout* layout) {
@@ -707,8 +750,19 @@ void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
   double text_width = 0.0;
   for (const LegendEntry& e : entries)
     text_width = std::max(text_width, canvas.TextWidth(e.text, lfs));
-  const double width = std::min(frame.width - 8.0, 6.0 + sample + 4.0 + text_width + 6.0);
-  const double height = std::min(frame.height - 8.0, 4.0 + row * entries.size());
+  // Entries in as many columns (at most kMaxLegendColumns, as the frame's width allows) as
+  // keep the legend within kMaxLegendHeightShare of the frame's height.
+  const double column_width = 6.0 + sample + 4.0 + text_width + 6.0;
+  size_t columns = 1;
+  while (columns < kMaxLegendColumns &&
+         4.0 + row * static_cast<double>((entries.size() + columns - 1) / columns) >
+             kMaxLegendHeightShare * frame.height &&
+         column_width * static_cast<double>(columns + 1) <= frame.width - 8.0) {
+    ++columns;
+  }
+  const size_t per_column = (entries.size() + columns - 1) / columns;
+  const double width = std::min(frame.width - 8.0, column_width * static_cast<double>(columns));
+  const double height = std::min(frame.height - 8.0, 4.0 + row * static_cast<double>(per_column));
   const double inset = 5.0;
   const std::array<Rect, 4> corners = {
       Rect{frame.x + inset, frame.top() - inset - height, width, height},
@@ -722,9 +776,10 @@ void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
   layout->legend_points_covered = best_count;
   canvas.FillRect(box, Color{1.0, 1.0, 1.0});
   canvas.StrokeRect(box, 0.4, palette::kSlate);
-  double y = box.top() - 2.0 - row / 2.0;
-  for (const LegendEntry& e : entries) {
-    const double sx = box.x + 6.0;
+  for (size_t k = 0; k < entries.size(); ++k) {
+    const LegendEntry& e = entries[k];
+    const double sx = box.x + 6.0 + column_width * static_cast<double>(k / per_column);
+    const double y = box.top() - 2.0 - row / 2.0 - row * static_cast<double>(k % per_column);
     if (e.band != nullptr) {
       canvas.FillRect({sx, y - lfs * 0.4, sample, lfs * 0.8}, e.band->fill);
     } else if (e.series != nullptr) {
@@ -734,7 +789,6 @@ void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
       }
     }
     canvas.Text(sx + sample + 4.0, y - lfs * 0.35, e.text, lfs);
-    y -= row;
   }
 }
 

@@ -38,11 +38,20 @@ struct Ticks {
 
 // Heckbert's loose labelling of [data_min, data_max] with about num_ticks ticks.
 Ticks NiceLinearTicks(double data_min, double data_max, int num_ticks);
+// The axis of automatic figures: Heckbert's labelling with the fewest ticks, from num_ticks
+// up to twice as many, whose range extends beyond the data by at most kMaxAxisSlack of its
+// length (so an axis is never half empty: 0..21 gets 0..25 in steps of 5, not Heckbert's
+// 0..30 in steps of 10); Heckbert's own labelling when none does.
+inline constexpr double kMaxAxisSlack = 0.25;  // common practice for data graphics
+Ticks CloseLinearTicks(double data_min, double data_max, int num_ticks);
 // Same, but the range is kept as given (tight); ticks fall inside it.
 Ticks NiceLinearTicksWithin(double axis_min, double axis_max, int num_ticks);
 // Decades (and 2, 5 between them when the range spans fewer than three decades) for a log10
 // axis; the range is widened to whole decades unless `tight`. Requires 0 < min < max.
 Ticks LogTicks(double data_min, double data_max, bool tight);
+// The log axis of automatic figures: the range widened only to the next whole mantissa
+// (1.3..21 -> 1..30, not 1..100), ticks as LogTicks.
+Ticks CloseLogTicks(double data_min, double data_max);
 
 // A tick value printed with `fraction_digits` decimals, without "-0" and without binary
 // noise (e.g. 0.30000000000000004 prints "0.3").
@@ -96,6 +105,10 @@ struct Series {
   std::vector<double> x_error;  // half-widths (same size as x) or empty
   std::vector<double> y_error;
   MarkerStyle marker;  // shape kNone: no markers
+  // Indices of the points that get a marker; empty: every point. A smooth curve of many
+  // points marks a few of them so that the curve is told apart by its marker shape, not only
+  // by its colour (the legend shows the marker with the line).
+  std::vector<size_t> marker_indices;
   std::optional<LineStyle> line;
   bool right_axis = false;  // plotted against Figure::y_right
 };
