@@ -92,6 +92,12 @@ struct ModelRow {
   int rank = 0;
   bool converged = false;
   std::vector<std::string> flags;
+  // The design could not support the model (fit::ModelDesign): not fitted, no statistics.
+  bool evaluated = true;
+  // A converged fit whose parameters its data do not determine (fit::IsIdentified): printed as
+  // "not identifiable from these data" with the reason, without uncertainties or correlations.
+  bool identifiable = true;
+  std::string not_identifiable_reason;  // plain words
 };
 
 // Longest free-text field of the job printed in full, in code points (common practice: a
@@ -195,6 +201,10 @@ struct Sheet {
   std::string hygroscopicity_class;
   std::string best_model_text;  // e.g. "GAB (adsorption, 23 °C)"
   std::vector<ModelRow> models;
+  // One plain sentence per model the design could not support, e.g. "Brunauer-Emmett-Teller
+  // (BET) not evaluated: 2 points between 5 and 35 % RH, at least 3 needed (adsorption,
+  // 23 °C; desorption, 23 °C)" (fit::ModelDesign; results.json keeps the machine reason).
+  std::vector<std::string> not_evaluated;
   std::vector<std::string> cautions;           // data-specific cautions (flags, warnings)
   std::vector<std::string> standing_cautions;  // the fixed statements of section 8
   std::vector<Diagnostic> warnings;            // the report's own findings (run.log)
@@ -225,6 +235,13 @@ std::string BranchTemperatureKey(ingest::Branch branch, double temperature_K);
 // there is none.
 double MeasuredTemperature_K(const fit::IsothermFits* fits,
                              const pores::ReferenceMoisture& reference);
+
+// The fit a surface area was computed from (same model, branch and temperature), -1 if none.
+int SurfaceAreaFitIndex(const fit::IsothermFits& fits, const pores::SurfaceArea& area);
+// Why a surface area is not a headline value, empty when it is one: its fit must be identified
+// (fit::IsIdentified) and, for BET, pass every Rouquerol criterion (ModelFit::consistency).
+std::string SurfaceAreaNotHeadlineReason(const fit::IsothermFits* fits,
+                                         const pores::SurfaceArea& area);
 
 // The whole sheet: quantities, cautions and the sections the template lists.
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout,
