@@ -467,11 +467,26 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, const fit::IsothermF
                      sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0, "m²/g", sheet.rules));
   }
   if (pa.hygroscopicity.applicable) {
+    sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
+    if (!sheet.hygroscopicity_relevant) return;
+    // Its basis in the label: the equilibrium uptake on dry mass, not the compendial 24 h
+    // increase of the sample as received (pores::Hygroscopicity).
     sheet.headline.push_back(MakeQuantity(
-        "hygroscopicity_mass_increase", "Mass increase at 25 °C / 80 % RH (Ph. Eur. 5.11)",
+        "hygroscopicity_mass_increase",
+        "Equilibrium moisture uptake at 25 °C / 80 % RH, on dry mass (basis of the Ph. Eur. 5.11 "
+        "class)",
         pa.hygroscopicity.mass_increase_percent, pa.hygroscopicity.u_mass_increase_percent, "%",
         1.0, "%", sheet.rules));
-    sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
+    cautions.Add(
+        "The hygroscopicity class applies the Ph. Eur. 5.11 limits (0.2 %, 2 % and 15 % mass "
+        "increase) to the equilibrium uptake on dry mass at 25 °C / 80 % RH. The compendial test "
+        "weighs the sample as received after 24 h at that condition: a sample that already "
+        "holds water, or equilibrates slowly, gains less there and may fall in a lower class.");
+    if (pa.hygroscopicity.reason.find("class boundary") != std::string::npos) {
+      cautions.Add(
+          "A class limit lies within the expanded uncertainty of the uptake: the neighbouring "
+          "class cannot be excluded.");
+    }
   } else {
     sheet.hygroscopicity_class = "not classified";
     if (!pa.hygroscopicity.reason.empty()) {
@@ -736,6 +751,10 @@ void ToReaderText(Section& section) {
 
 }  // namespace
 
+bool HygroscopicityClassRelevant(ingest::MaterialClass material_class) {
+  return material_class == ingest::MaterialClass::kPharmaceuticalPowder;
+}
+
 int SurfaceAreaFitIndex(const fit::IsothermFits& fits, const pores::SurfaceArea& area) {
   for (size_t i = 0; i < fits.fits.size(); ++i) {
     const fit::ModelFit& mf = fits.fits[i];
@@ -772,6 +791,8 @@ std::string SurfaceAreaNotHeadlineReason(const fit::IsothermFits* fits,
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const ReportOptions& options) {
   Sheet sheet;
   SetDisplayRules(inputs, layout, sheet);
+  sheet.hygroscopicity_relevant = inputs.ingested != nullptr &&
+                                  HygroscopicityClassRelevant(inputs.ingested->job.material_class);
   CautionList cautions{sheet, {}};
   AddInputCautions(inputs, cautions);
   if (inputs.pores != nullptr) {

@@ -199,6 +199,8 @@ struct Sheet {
   std::string moisture_axis_label;  // "moisture content (% dry basis)"
   std::vector<Quantity> headline;   // summary values in print order
   std::string hygroscopicity_class;
+  // Whether the sheet prints the Ph. Eur. 5.11 class (HygroscopicityClassRelevant).
+  bool hygroscopicity_relevant = false;
   std::string best_model_text;  // e.g. "GAB (adsorption, 23 °C)"
   std::vector<ModelRow> models;
   // One plain sentence per model the design could not support, e.g. "Brunauer-Emmett-Teller
@@ -242,6 +244,13 @@ int SurfaceAreaFitIndex(const fit::IsothermFits& fits, const pores::SurfaceArea&
 // (fit::IsIdentified) and, for BET, pass every Rouquerol criterion (ModelFit::consistency).
 std::string SurfaceAreaNotHeadlineReason(const fit::IsothermFits* fits,
                                          const pores::SurfaceArea& area);
+
+// The European Pharmacopoeia's hygroscopicity classes (Ph. Eur. 5.11) are defined for
+// pharmaceutical substances: the sheet prints the class, and the uptake it is read from, only
+// for [job] material_class = "pharmaceutical_powder" (excipients, active substances). Foods,
+// building materials and other classes have no compendial hygroscopicity class (results.json
+// still holds the pores stage's figure).
+bool HygroscopicityClassRelevant(ingest::MaterialClass material_class);
 
 // The whole sheet: quantities, cautions and the sections the template lists.
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout,
