@@ -72,8 +72,8 @@ void AddModelTable(const SectionContext& ctx, Section& section) {
   if (!ctx.sheet.not_evaluated.empty()) {
     // Said once, in the method section; here only where to find it.
     section.blocks.emplace_back(ParagraphBlock{
-        method > 0 ? fmt::format("Models the data cannot support (too few points in their range) "
-                                 "were not evaluated: see section {}.",
+        method > 0 ? fmt::format("Models the data cannot support (not enough points in their "
+                                 "humidity range) were not evaluated: see section {}.",
                                  method)
                    : fmt::format("Not evaluated: {}", fmt::join(ctx.sheet.not_evaluated, " ")),
         7.5});
