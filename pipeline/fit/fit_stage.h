@@ -10,6 +10,7 @@
 
 #include "fitters/fitter.h"
 #include "fitters/model.h"
+#include "fitters/models/bet.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/ingest/ingest.h"
 #include "pipeline/reduce/reduce.h"
@@ -20,8 +21,10 @@ struct FitStageOptions {
   // Registry keys of the models to fit (fitters/registry.h).
   std::vector<std::string> models = {"gab",   "bet",    "vangenuchten", "durner2",
                                      "oswin", "halsey", "henderson",    "peleg"};
-  double bet_rh_min_fraction = 0.05;  // BET validity range (common practice for water)
-  double bet_rh_max_fraction = 0.35;
+  // BET fitting range; by default the model's own validity range (fitters/models/bet.h,
+  // ModelInfo x_min..x_max: 5..35 % RH), so the range has one source.
+  double bet_rh_min_fraction = fitters::models::BetEquation::Info().x_min;
+  double bet_rh_max_fraction = fitters::models::BetEquation::Info().x_max;
   fitters::LossKind loss = fitters::LossKind::kSquared;
   double loss_scale = 1.0;
   // The reduce stage gives GUM standard uncertainties of both moisture content and RH, so

@@ -824,7 +824,7 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
   if (inputs.ingested != nullptr && !inputs.ingested->job.job_id.empty()) {
     sheet.report_number = PrintedField(inputs.ingested->job.job_id, kMaxReportNumberChars);
   }
-  for (std::string& c : sheet.cautions) c = internal::ReaderText(c);
+  // The cautions keep the stages' wording in results.json; the sections print reader text.
   sheet.sections = BuildSections(inputs, layout, options, sheet);
   for (Section& section : sheet.sections) ToReaderText(section);
   return sheet;
