@@ -225,6 +225,24 @@ void SetCoverage(const FitStageOptions& options, double coverage_factor, ModelFi
   }
 }
 
+// The design check of a model with p parameters on n points in its RH range [x_min, x_max].
+ModelDesign DesignOf(int n, int p, double x_min, double x_max) {
+  ModelDesign design;
+  design.points = n;
+  design.num_parameters = p;
+  design.points_needed = MinimumPoints(p);
+  design.rh_min_fraction = std::max(0.0, x_min);
+  design.rh_max_fraction = std::min(1.0, x_max);
+  design.restricted_range = x_min > 0.0 || x_max < 1.0;
+  design.supported = n >= design.points_needed;
+  if (!design.supported) {
+    design.reason = fmt::format(
+        "not evaluated: n = {} points in RH {:g}..{:g} for p = {} parameters; at least {} needed",
+        n, design.rh_min_fraction, design.rh_max_fraction, p, design.points_needed);
+  }
+  return design;
+}
+
 // Fits one model to one group; never throws for a failed fit (flags say what went wrong).
 ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int group_index,
                      const FitStageOptions& options, double coverage_factor,
@@ -234,6 +252,7 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   fit.info = model.info();
   fit.group_index = group_index;
   fit.result.model_name = model.name();
+  fit.max_relative_parameter_uncertainty = options.max_relative_parameter_uncertainty;
 
   const bool is_bet = model.name() == "bet";
   const double x_min = is_bet ? options.bet_rh_min_fraction : fit.info.x_min;
@@ -244,12 +263,13 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   observations.reserve(fit.used_observations.size());
   for (const int i : fit.used_observations) observations.push_back(group.observations[i]);
 
-  const int n = static_cast<int>(observations.size());
-  const int p = model.num_parameters();
-  if (n <= p) {
+  fit.design =
+      DesignOf(static_cast<int>(observations.size()), model.num_parameters(), x_min, x_max);
+  if (!fit.design.supported) {
+    // Not evaluated: not a failed fit, so no flag (ModelDesign).
     fit.result.summary.termination = fitters::FitTermination::kTooFewPoints;
-    fit.result.summary.message = fmt::format("too few points: n = {} for p = {}", n, p);
-    AddFlag(&fit.flags, fit.result.summary.message);
+    fit.result.summary.message = fit.design.reason;
+    ++summary->models_not_evaluated;
     return fit;
   }
 
@@ -343,11 +363,11 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   return fit;
 }
 
-// Ranks the converged fits of each group by AICc (rank 1 best). AICc values are comparable
-// only between fits to the same points, so the ranking is among the converged fits that used
+// Ranks the identified fits (IsIdentified) of each group by AICc (rank 1 best). AICc values are
+// comparable only between fits to the same points, so the ranking is among the fits that used
 // every isotherm point of the group (BET on its restricted range and retention models fitted
-// jointly with retention points are left unranked, rank 0). Fits whose AICc is undefined
-// (n - p - 1 <= 0) rank after the others. Ties keep the order of FitStageOptions::models.
+// jointly with retention points are left unranked, rank 0), and AICc must be defined
+// (n - p - 1 > 0). Ties keep the order of FitStageOptions::models.
 void Rank(IsothermFits* fits) {
   fits->best_fit_per_group.assign(fits->groups.size(), -1);
   for (std::size_t g = 0; g < fits->groups.size(); ++g) {
@@ -360,27 +380,28 @@ void Rank(IsothermFits* fits) {
     for (std::size_t f = 0; f < fits->fits.size(); ++f) {
       ModelFit& fit = fits->fits[f];
       if (fit.group_index != static_cast<int>(g) || !fit.result.ok()) continue;
+      if (!IsIdentified(fit)) {
+        AddFlag(&fit.flags, "not ranked: not identifiable from these data (" +
+                                IdentifiabilityOf(fit).reason + ")");
+        continue;
+      }
       if (fit.used_observations != all_isotherm_points) {
         AddFlag(&fit.flags,
                 "not ranked: fitted to a different set of points than the group (AICc not "
                 "comparable)");
         continue;
       }
+      if (std::isnan(fit.result.statistics.aicc)) {
+        AddFlag(&fit.flags, "not ranked: AICc undefined (it needs n >= p + 2 points)");
+        continue;
+      }
       candidates.push_back(static_cast<int>(f));
     }
     std::stable_sort(candidates.begin(), candidates.end(), [&](int a, int b) {
-      const double aicc_a = fits->fits[a].result.statistics.aicc;
-      const double aicc_b = fits->fits[b].result.statistics.aicc;
-      if (std::isnan(aicc_a) || std::isnan(aicc_b))
-        return !std::isnan(aicc_a) && std::isnan(aicc_b);
-      return aicc_a < aicc_b;
+      return fits->fits[a].result.statistics.aicc < fits->fits[b].result.statistics.aicc;
     });
     for (std::size_t r = 0; r < candidates.size(); ++r) {
-      ModelFit& fit = fits->fits[candidates[r]];
-      fit.rank = static_cast<int>(r) + 1;
-      if (std::isnan(fit.result.statistics.aicc)) {
-        AddFlag(&fit.flags, "ranked last: AICc undefined");
-      }
+      fits->fits[candidates[r]].rank = static_cast<int>(r) + 1;
     }
     if (!candidates.empty()) fits->best_fit_per_group[g] = candidates.front();
   }
@@ -440,11 +461,64 @@ bool FitStageOptions::IsValid(std::string* error) const {
         "band_rh_min_fraction = {} and band_rh_max_fraction = {} must satisfy 0 <= min < max <= 1",
         band_rh_min_fraction, band_rh_max_fraction));
   }
+  if (!(max_relative_parameter_uncertainty > 0.0) ||
+      !std::isfinite(max_relative_parameter_uncertainty)) {
+    return fail(fmt::format("max_relative_parameter_uncertainty = {} must be > 0",
+                            max_relative_parameter_uncertainty));
+  }
   if (!(confidence_level > 0.0 && confidence_level < 1.0)) {
     return fail(fmt::format("confidence_level = {} must be in (0, 1)", confidence_level));
   }
   return true;
 }
+
+int MinimumPoints(int num_parameters) {
+  // One residual degree of freedom (ModelDesign).
+  constexpr int kMinResidualDegreesOfFreedom = 1;
+  return num_parameters + kMinResidualDegreesOfFreedom;
+}
+
+Identifiability CheckIdentifiability(const fitters::FitResult& result,
+                                     double max_relative_parameter_uncertainty) {
+  Identifiability out;
+  if (!result.ok()) {
+    out.reason = "the fit did not converge";
+    return out;
+  }
+  const Eigen::Index p = static_cast<Eigen::Index>(result.parameters.size());
+  if (!result.summary.covariance_available || result.covariance.rows() != p ||
+      result.covariance.cols() != p) {
+    out.reason = "the parameter covariance could not be computed";
+    return out;
+  }
+  for (Eigen::Index j = 0; j < p; ++j) {
+    const std::size_t jj = static_cast<std::size_t>(j);
+    const std::string name =
+        jj < result.estimates.size() ? result.estimates[jj].name : std::to_string(jj + 1);
+    if (jj < result.estimates.size() && result.estimates[jj].at_bound) {
+      out.reason = fmt::format("parameter {} = {:.3g} sits at a bound of its allowed range", name,
+                               result.parameters[jj]);
+      return out;
+    }
+    const double u = std::sqrt(std::max(0.0, result.covariance(j, j)));
+    const double relative = u / std::abs(result.parameters[jj]);
+    if (!(relative <= max_relative_parameter_uncertainty)) {
+      out.reason = fmt::format(
+          "parameter {} has a standard uncertainty of {:.0f} % of its value (more than {:g} %)",
+          name, 100.0 * relative, 100.0 * max_relative_parameter_uncertainty);
+      return out;
+    }
+  }
+  out.identifiable = true;
+  return out;
+}
+
+Identifiability IdentifiabilityOf(const ModelFit& fit) {
+  if (!fit.design.supported) return {false, fit.design.reason};
+  return CheckIdentifiability(fit.result, fit.max_relative_parameter_uncertainty);
+}
+
+bool IsIdentified(const ModelFit& fit) { return IdentifiabilityOf(fit).identifiable; }
 
 DerivedUncertainty PropagateToDerived(const ModelFit& fit, const std::vector<double>& gradient,
                                       double nominal_k) {
@@ -510,7 +584,7 @@ IsothermFits FitIsotherms(const reduce::ReducedIsotherms& reduced, const FitStag
       fits.fits.push_back(FitOneModel(*model, fits.groups[g], static_cast<int>(g), options,
                                       fits.coverage_factor, &fits.summary));
       const ModelFit& fit = fits.fits.back();
-      if (!fit.result.ok()) {
+      if (fit.design.supported && !fit.result.ok()) {
         fits.summary.warnings.push_back(Warning(
             fmt::format("{}, {}: {}", GroupName(fits.groups[g]), fit.model_name,
                         fit.flags.empty() ? fit.result.summary.message : fit.flags.back())));

@@ -10,6 +10,7 @@
 
 #include "fitters/fitter.h"
 #include "fitters/model.h"
+#include "fitters/models/bet.h"
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/ingest/ingest.h"
 #include "pipeline/reduce/reduce.h"
@@ -20,8 +21,10 @@ struct FitStageOptions {
   // Registry keys of the models to fit (fitters/registry.h).
   std::vector<std::string> models = {"gab",   "bet",    "vangenuchten", "durner2",
                                      "oswin", "halsey", "henderson",    "peleg"};
-  double bet_rh_min_fraction = 0.05;  // BET validity range (common practice for water)
-  double bet_rh_max_fraction = 0.35;
+  // BET fitting range; by default the model's own validity range (fitters/models/bet.h,
+  // ModelInfo x_min..x_max: 5..35 % RH), so the range has one source.
+  double bet_rh_min_fraction = fitters::models::BetEquation::Info().x_min;
+  double bet_rh_max_fraction = fitters::models::BetEquation::Info().x_max;
   fitters::LossKind loss = fitters::LossKind::kSquared;
   double loss_scale = 1.0;
   // The reduce stage gives GUM standard uncertainties of both moisture content and RH, so
@@ -53,6 +56,11 @@ struct FitStageOptions {
   double band_rh_max_fraction = 0.98;
   double confidence_level = 0.95;
   bool include_retention_points = true;  // joint fits of retention models (van Genuchten, Durner)
+  // A converged fit is identifiable from its data only if every parameter's standard uncertainty
+  // is at most this fraction of its value (CheckIdentifiability): a parameter not known to within
+  // its own value is not determined by the data (common practice; the engine's "poorly
+  // determined" flag uses the same limit).
+  double max_relative_parameter_uncertainty = 1.0;
 
   bool IsValid(std::string* error) const;
 };
@@ -135,6 +143,47 @@ struct ConsistencyCheck {
   std::string detail;
 };
 
+// Whether the points of a group can support a model at all, decided before fitting from the
+// design alone (how many points lie in the model's RH range against its parameter count).
+//
+// Rule (MinimumPoints): n >= p + 1 points, i.e. at least one residual degree of freedom. With
+// n = p a model interpolates its points: nothing tests it (no chi-square check, no residual
+// variance for relative weights) and its parameter uncertainties are not estimable (common
+// practice). For BET (p = 2, fitted to the points between FitStageOptions::bet_rh_min_fraction
+// and bet_rh_max_fraction, 5..35 % RH by default) that is three points, the minimum of a
+// multipoint BET determination (ISO 9277:2010, 7.2; from memory). The AICc ranking needs one
+// point more, n >= p + 2 (AICc's correction 2p(p + 1) / (n - p - 1), Hurvich & Tsai,
+// Biometrika 76 (1989) 297): a fit with n = p + 1 is evaluated but not ranked (Rank).
+// A model the design cannot support is not fitted, not ranked and not flagged as a failure:
+// ModelFit::design says why ("not evaluated").
+struct ModelDesign {
+  bool supported = true;  // (a ModelFit built by hand is taken as supported)
+  int points = 0;         // observations in the model's RH range (isotherm + retention points)
+  int points_needed = 0;  // MinimumPoints(num_parameters)
+  int num_parameters = 0;
+  double rh_min_fraction = 0.0;  // the model's RH range (BET: the options' BET range)
+  double rh_max_fraction = 1.0;
+  bool restricted_range = false;  // the range is narrower than 0..100 % RH (BET)
+  std::string reason;             // machine-readable, empty when supported
+};
+
+// Points a model with num_parameters parameters needs (ModelDesign): num_parameters + 1.
+int MinimumPoints(int num_parameters);
+
+// Whether a converged fit's parameters are determined by its data. Not identifiable when the
+// covariance is unavailable, a parameter sits at a bound (its interval is then not a
+// confidence interval), or a parameter's standard uncertainty exceeds
+// max_relative_parameter_uncertainty times its value. Such a fit shows no uncertainties or
+// correlations on the sheet, is never ranked, and never drives a headline value or a pore-size
+// distribution: IsIdentified is the one predicate the fit ranking, the datasheet's headline
+// selection and the pores stage use.
+struct Identifiability {
+  bool identifiable = false;
+  std::string reason;  // in plain words, empty when identifiable
+};
+Identifiability CheckIdentifiability(const fitters::FitResult& result,
+                                     double max_relative_parameter_uncertainty);
+
 // One model fitted to one group.
 struct ModelFit {
   std::string model_name;
@@ -158,13 +207,25 @@ struct ModelFit {
   fitters::ResampleResult monte_carlo;
   std::vector<ConsistencyCheck> consistency;  // BET: Rouquerol criteria
   std::vector<std::string> flags;             // every guard rail tripped
-  int rank = 0;                               // 1 = best AICc in its group among converged fits
+  int rank = 0;        // 1 = best AICc in its group among identified fits (IsIdentified)
+  ModelDesign design;  // decided before fitting; !supported: not evaluated
+  // FitStageOptions::max_relative_parameter_uncertainty the fit was judged with.
+  double max_relative_parameter_uncertainty = 1.0;
 };
+
+// The identifiability of a fit as it stands (result.covariance includes the specimen term):
+// CheckIdentifiability with the fit's own limit; "not evaluated" for a design that cannot
+// support the model.
+Identifiability IdentifiabilityOf(const ModelFit& fit);
+// The fit may be used for results: evaluated, converged and identifiable from its data
+// (IdentifiabilityOf). The one predicate of the ranking, the headline and the pores stage.
+bool IsIdentified(const ModelFit& fit);
 
 struct FitStageSummary {
   std::vector<Diagnostic> warnings;
-  int fits_attempted = 0;  // fitters::FitModel calls (group x model pairs with n > p)
+  int fits_attempted = 0;  // fitters::FitModel calls (group x model pairs the design supports)
   int fits_converged = 0;
+  int models_not_evaluated = 0;  // group x model pairs the design cannot support (ModelDesign)
 };
 
 struct IsothermFits {
@@ -189,15 +250,18 @@ struct IsothermFits {
 // (vangenuchten*, durner*).
 //
 // Per model: "bet" uses only the points with bet_rh_min_fraction <= RH <= bet_rh_max_fraction
-// (other models the ModelInfo x range) and gets the four Rouquerol checks; n <= p is skipped
-// with the flag "too few points: n = N for p = P"; bands on band_grid_points RH values over
-// [band_rh_min, band_rh_max] clipped to that range; bootstrap and Monte Carlo draws come from
+// (other models the ModelInfo x range) and gets the four Rouquerol checks; a model the design
+// cannot support (ModelDesign, n < p + 1) is not fitted: termination kTooFewPoints, message
+// ModelDesign::reason, no flag and no warning (not a failure); bands on band_grid_points RH values
+// over [band_rh_min, band_rh_max] clipped to that range; bootstrap and Monte Carlo draws come from
 // random streams that are a pure function of options.seed, the group index and the model name
 // (so adding a model to the list does not change the draws of the others).
 //
-// Ranking: AICc among the converged fits of a group that used all of its isotherm points (AICc
-// is only comparable on identical data); BET on its restricted range and retention models
-// fitted with retention points keep rank 0 with a "not ranked" flag.
+// Ranking: AICc among the identified fits (IsIdentified) of a group that used all of its
+// isotherm points (AICc is only comparable on identical data) and whose AICc is defined
+// (n >= p + 2); BET on its restricted range, retention models fitted with retention points,
+// fits with undefined AICc and fits not identifiable from their data keep rank 0 with a
+// "not ranked" flag.
 //
 // Never throws for a failed fit (see ModelFit::flags). Throws InputError for invalid options,
 // ComputationError when there is no point to fit or no model converged in any group.

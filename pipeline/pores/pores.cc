@@ -146,25 +146,10 @@ std::string ModelCheckFailure(const fit::IsothermFits& fits, int index, double r
                               const PoreOptions& options) {
   const fit::ModelFit& f = fits.fits[static_cast<std::size_t>(index)];
   const fitters::FitResult& r = f.result;
-  if (!r.ok()) return "the fit did not converge";
-  if (!r.summary.covariance_available) return "no parameter covariance (not identifiable)";
-  const std::size_t p = r.parameters.size();
-  for (std::size_t j = 0; j < p; ++j) {
-    const std::string name = j < r.estimates.size() ? r.estimates[j].name : std::to_string(j + 1);
-    if (j < r.estimates.size() && r.estimates[j].at_bound) {
-      return fmt::format("parameter {} is at a bound (not identifiable)", name);
-    }
-    const double variance =
-        static_cast<Eigen::Index>(j) < r.covariance.rows()
-            ? r.covariance(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(j))
-            : std::numeric_limits<double>::quiet_NaN();
-    const double relative = std::sqrt(std::max(0.0, variance)) / std::abs(r.parameters[j]);
-    if (!(relative <= options.model_max_relative_parameter_u)) {
-      return fmt::format(
-          "parameter {} has a relative standard uncertainty of {:.0f} % (more than {:g} %: not "
-          "identifiable)",
-          name, 100.0 * relative, 100.0 * options.model_max_relative_parameter_u);
-    }
+  // The fit stage's one identifiability predicate (fit_stage.h).
+  const fit::Identifiability identifiability = fit::IdentifiabilityOf(f);
+  if (!identifiability.identifiable) {
+    return "not identifiable from these data: " + identifiability.reason;
   }
   const bool absolute = r.weight_convention == fitters::WeightConvention::kAbsolute;
   const double p_value =
@@ -289,11 +274,10 @@ void AddModelDistribution(const fit::IsothermFits& fits, std::size_t g,
       d.assumptions.push_back("better-ranked model not used: " + why);
     }
     d.assumptions.push_back(fmt::format(
-        "the {} fit passes its checks: converged, covariance available, no parameter at a "
-        "bound or above {:g} % relative uncertainty, goodness of fit p >= {:g}, read within "
-        "its fitted RH range",
-        source.name, 100.0 * options.model_max_relative_parameter_u,
-        options.model_min_fit_p_value));
+        "the {} fit passes its checks: converged, identifiable from these data (covariance "
+        "available, no parameter at a bound, every parameter known to better than its own "
+        "value), goodness of fit p >= {:g}, read within its fitted RH range",
+        source.model->info().title, options.model_min_fit_p_value));
     out->distributions.push_back(std::move(d));
     return;
   }
@@ -474,10 +458,6 @@ bool PoreOptions::IsValid(std::string* error) const {
   if (!(model_min_fit_p_value >= 0.0 && model_min_fit_p_value < 1.0)) {
     return Fail(error, fmt::format("pores.model_min_fit_p_value = {:g} must be in [0, 1)",
                                    model_min_fit_p_value));
-  }
-  if (!(model_max_relative_parameter_u > 0.0) || !std::isfinite(model_max_relative_parameter_u)) {
-    return Fail(error, fmt::format("pores.model_max_relative_parameter_u = {:g} must be > 0",
-                                   model_max_relative_parameter_u));
   }
   if (!(model_rh_margin_fraction >= 0.0 && model_rh_margin_fraction < 1.0)) {
     return Fail(error, fmt::format("pores.model_rh_margin = {:g} must be in [0, 1)",

@@ -112,9 +112,6 @@ struct PoreOptions {
   // rejected at the 99.9 % level is inconsistent with its data and the stated uncertainties
   // (common practice for a goodness-of-fit gate).
   double model_min_fit_p_value = 1e-3;
-  // Every parameter's standard uncertainty at most this fraction of its value (issue: "relative
-  // u <= 100 %": a parameter not known to within itself is not identified by the data).
-  double model_max_relative_parameter_u = 1.0;
   // The model may be read this far outside the RH range of the points it was fitted to (and no
   // further): half a percent RH, below the standard uncertainty of salt-solution and sensor
   // humidities (common practice; the same tolerance as the reference moisture contents).
@@ -307,8 +304,9 @@ struct PoreAnalysis {
 // Per fitted group (adsorption, desorption; drying is skipped):
 //  - model-based distribution from the model of options.source_model, only if that fit passes
 //    every check over the RH range the distribution reads it on, [RH(min_radius_m), top]:
-//    converged; covariance available; no parameter at a bound; every parameter's relative
-//    standard uncertainty <= model_max_relative_parameter_u; goodness of fit p >=
+//    identifiable from its data (fit::IsIdentified: converged, covariance available, no
+//    parameter at a bound, relative standard uncertainties within the fit stage's limit);
+//    goodness of fit p >=
 //    model_min_fit_p_value (chi-square with absolute weights, runs test with relative ones);
 //    RH(min_radius_m) not below the lowest RH the model was fitted to by more than
 //    model_rh_margin_fraction (the top is the highest fitted RH, or RH(max_radius_m) when

@@ -28,7 +28,12 @@ constexpr double kPharmacopoeiaRhToleranceFraction = 0.02;
 // that is below the standard uncertainty of salt-solution and sensor humidities (common
 // practice), and a reference RH of 80 % is often also the highest step (measured as 79.97 %).
 constexpr double kRhRangeToleranceFraction = 0.005;
-// Class thresholds of Ph. Eur. 5.11, mass increase in % (from memory).
+// Class limits of Ph. Eur. 5.11 (Characters section in monographs, hygroscopicity), mass increase
+// in % after 24 h at 25 °C / 80 % RH: very hygroscopic >= 15, hygroscopic 2..15, slightly
+// hygroscopic 0.2..2. Confirmed against secondary sources quoting the chapter (J. Swarbrick (ed.),
+// Encyclopedia of Pharmaceutical Technology, 3rd ed., Informa (2007), excipient hygroscopicity
+// classes; R. Allada, "Hygroscopicity categorization of pharmaceutical solids by gravimetric
+// sorption analysis", Asian J. Pharm.: 24 h at 25 °C and 80 % RH); the chapter itself not seen.
 constexpr double kVeryHygroscopicPercent = 15.0;
 constexpr double kHygroscopicPercent = 2.0;
 constexpr double kSlightlyHygroscopicPercent = 0.2;

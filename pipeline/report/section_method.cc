@@ -180,6 +180,10 @@ void AddSettings(const SectionContext& ctx, Section& section) {
 
 void BuildMethodSection(const SectionContext& ctx, Section& section) {
   AddProcedure(ctx, section);
+  if (!ctx.sheet.not_evaluated.empty()) {  // the design could not support these models
+    section.blocks.emplace_back(SubheadingBlock{"Models not evaluated"});
+    section.blocks.emplace_back(BulletsBlock{ctx.sheet.not_evaluated, 8.0});
+  }
   AddDryMasses(ctx, section);
   AddBudgetOfLargestPoint(ctx, section);
   AddInputs(ctx, section);

@@ -1,6 +1,7 @@
 // The model comparison section: every fitted model with its parameters, statistics, rank
 // and flags (as numbered notes), and the equations.
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 
 #include <set>
 
@@ -9,6 +10,22 @@
 
 namespace sorbtrace::report::internal {
 namespace {
+
+// Surface areas that are no headline value (their fit fails its checks), marked as such.
+void AddSurfaceAreaMarks(const SectionContext& ctx, Section& section) {
+  if (ctx.inputs.pores == nullptr) return;
+  for (const pores::SurfaceArea& sa : ctx.inputs.pores->surface_areas) {
+    const std::string reason = SurfaceAreaNotHeadlineReason(ctx.inputs.fits, sa);
+    if (reason.empty()) continue;
+    const Quantity area = MakeQuantity("", "", sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0,
+                                       "m²/g", ctx.sheet.rules);
+    section.blocks.emplace_back(ParagraphBlock{
+        fmt::format("Surface area from the {} monolayer ({}): {}, not a reported result: {}.",
+                    sa.model_name, BranchTemperatureLabel(sa.branch, sa.temperature_K), area.text,
+                    reason),
+        7.5});
+  }
+}
 
 // Flags are long sentences: they go in numbered notes below the table, so the numeric
 // columns keep a readable width.
@@ -22,11 +39,17 @@ void AddModelTable(const SectionContext& ctx, Section& section) {
   table.size_pt = 7.0;
   std::vector<std::string> notes;
   for (const ModelRow& row : ctx.sheet.models) {
+    if (!row.evaluated) continue;  // said once, in plain words, below the table
     std::string parameters;
-    for (const Quantity& q : row.parameters) {
-      parameters += (parameters.empty() ? "" : "\n") + q.label + " = " + q.text;
+    if (row.converged && !row.identifiable) {
+      // No ± values and no correlations for parameters the data do not determine.
+      parameters = "not identifiable from these data: " + row.not_identifiable_reason;
+    } else {
+      for (const Quantity& q : row.parameters) {
+        parameters += (parameters.empty() ? "" : "\n") + q.label + " = " + q.text;
+      }
+      for (const std::string& c : row.correlations) parameters += "\n" + c;
     }
-    for (const std::string& c : row.correlations) parameters += "\n" + c;
     std::string model = row.model_title + "\n" + row.group_label;
     if (!row.flags.empty()) {
       std::string flags;
@@ -45,6 +68,17 @@ void AddModelTable(const SectionContext& ctx, Section& section) {
                           {row.rank > 0 ? std::to_string(row.rank) : "–", ""}});
   }
   section.blocks.emplace_back(std::move(table));
+  const int method = ctx.sheet.SectionNumber("method");
+  if (!ctx.sheet.not_evaluated.empty()) {
+    // Said once, in the method section; here only where to find it.
+    section.blocks.emplace_back(ParagraphBlock{
+        method > 0 ? fmt::format("Models the data cannot support (not enough points in their "
+                                 "humidity range) were not evaluated: see section {}.",
+                                 method)
+                   : fmt::format("Not evaluated: {}", fmt::join(ctx.sheet.not_evaluated, " ")),
+        7.5});
+  }
+  AddSurfaceAreaMarks(ctx, section);
   if (notes.empty()) return;
   section.blocks.emplace_back(SubheadingBlock{"Flags"});
   for (const std::string& note : notes) {
@@ -58,7 +92,8 @@ void BuildModelsSection(const SectionContext& ctx, Section& section) {
   section.blocks.emplace_back(ParagraphBlock{
       fmt::format("Parameters with expanded uncertainty U (k = {}); correlations with "
                   "|r| > 0.95 are listed below the parameters. RMSE in {}; MRD: mean "
-                  "relative deviation; rank by AICc within each branch.",
+                  "relative deviation; rank by AICc within each branch, among the fits "
+                  "identifiable from these data.",
                   CoverageText(ctx.sheet.rules.coverage_factor), ctx.sheet.moisture_unit),
       8.0, 0.0, true});
   AddModelTable(ctx, section);

@@ -48,8 +48,10 @@ TableBlock ResultsTable(const SectionContext& ctx, bool compact) {
         q.standard_uncertainty > 0.0 && k != CoverageText(ctx.sheet.rules.coverage_factor);
     table.rows.push_back({{q.label, ""}, {own_k ? q.text + " (k = " + k + ")" : q.text, q.key}});
   }
-  table.rows.push_back({{"Hygroscopicity class (Ph. Eur. 5.11)", ""},
-                        {ctx.sheet.hygroscopicity_class, "hygroscopicity_class"}});
+  if (ctx.sheet.hygroscopicity_relevant) {  // pharmaceutical powders only (sheet.h)
+    table.rows.push_back({{"Hygroscopicity class (Ph. Eur. 5.11 limits, on the uptake above)", ""},
+                          {ctx.sheet.hygroscopicity_class, "hygroscopicity_class"}});
+  }
   if (compact && ctx.inputs.fits != nullptr) {
     for (int best : ctx.inputs.fits->best_fit_per_group) {
       if (best < 0 || static_cast<size_t>(best) >= ctx.sheet.models.size()) continue;

@@ -9,6 +9,7 @@
 
 #include "pipeline/physics/physics.h"
 #include "pipeline/report/format.h"
+#include "pipeline/report/internal/reader_text.h"
 #include "pipeline/report/plot/text.h"
 #include "pipeline/report/sections.h"
 
@@ -455,8 +456,12 @@ void AddReferenceMoistures(const pores::PoreAnalysis& pa, const fit::IsothermFit
   }
 }
 
-void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, Sheet& sheet) {
+void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, const fit::IsothermFits* fits,
+                             CautionList& cautions) {
+  Sheet& sheet = cautions.sheet;
   for (const pores::SurfaceArea& sa : pa.surface_areas) {
+    // A fit that fails its own checks gives no headline value (the model section marks it).
+    if (!SurfaceAreaNotHeadlineReason(fits, sa).empty()) continue;
     std::string model = sa.model_name;
     std::transform(model.begin(), model.end(), model.begin(),
                    [](char c) { return static_cast<char>(std::toupper(c)); });
@@ -468,11 +473,26 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, Sheet& sheet) {
                      sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0, "m²/g", sheet.rules));
   }
   if (pa.hygroscopicity.applicable) {
+    sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
+    if (!sheet.hygroscopicity_relevant) return;
+    // Its basis in the label: the equilibrium uptake on dry mass, not the compendial 24 h
+    // increase of the sample as received (pores::Hygroscopicity).
     sheet.headline.push_back(MakeQuantity(
-        "hygroscopicity_mass_increase", "Mass increase at 25 °C / 80 % RH (Ph. Eur. 5.11)",
+        "hygroscopicity_mass_increase",
+        "Equilibrium moisture uptake at 25 °C / 80 % RH, on dry mass (basis of the Ph. Eur. 5.11 "
+        "class)",
         pa.hygroscopicity.mass_increase_percent, pa.hygroscopicity.u_mass_increase_percent, "%",
         1.0, "%", sheet.rules));
-    sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
+    cautions.Add(
+        "The hygroscopicity class applies the Ph. Eur. 5.11 limits (0.2 %, 2 % and 15 % mass "
+        "increase) to the equilibrium uptake on dry mass at 25 °C / 80 % RH. The compendial test "
+        "weighs the sample as received after 24 h at that condition: a sample that already "
+        "holds water, or equilibrates slowly, gains less there and may fall in a lower class.");
+    if (pa.hygroscopicity.reason.find("class boundary") != std::string::npos) {
+      cautions.Add(
+          "A class limit lies within the expanded uncertainty of the uptake: the neighbouring "
+          "class cannot be excluded.");
+    }
   } else {
     sheet.hygroscopicity_class = "not classified";
     if (!pa.hygroscopicity.reason.empty()) {
@@ -542,9 +562,17 @@ ModelRow MakeModelRow(const fit::IsothermFits& fits, size_t i, const Sheet& shee
     row.group_label = GroupLabel(fits.groups[static_cast<size_t>(mf.group_index)]);
   }
   row.converged = mf.result.ok();
+  row.evaluated = mf.design.supported;
   row.rank = mf.rank;
   row.parameters = ParameterQuantities(fits, i, sheet.rules);
   row.correlations = NotableCorrelations(mf.result);
+  if (!row.evaluated) return row;  // not fitted, not a failure: Sheet::not_evaluated says why
+  if (row.converged) {
+    const fit::Identifiability identifiability = fit::IdentifiabilityOf(mf);
+    row.identifiable = identifiability.identifiable;
+    row.not_identifiable_reason = identifiability.reason;
+    if (!row.identifiable) row.correlations.clear();  // no correlations of undetermined values
+  }
   const fitters::FitStatistics& s = mf.result.statistics;
   const double scale = sheet.rules.moisture_in_percent ? 100.0 : 1.0;
   row.rmse_text = WithUnit(FormatSignificant(s.rmse * scale, 2), sheet.moisture_unit);
@@ -559,6 +587,74 @@ ModelRow MakeModelRow(const fit::IsothermFits& fits, size_t i, const Sheet& shee
   }
   if (!row.converged) AddUnique(row.flags, seen_flags, "not converged");
   return row;
+}
+
+// The models the design could not support, one sentence per model and reason, naming the
+// groups (fit::ModelDesign).
+std::vector<std::string> NotEvaluatedSentences(const fit::IsothermFits& fits) {
+  std::vector<std::pair<std::string, std::string>> reasons;  // (sentence head, groups)
+  for (const fit::ModelFit& mf : fits.fits) {
+    if (mf.design.supported) continue;
+    const fit::ModelDesign& d = mf.design;
+    const std::string range =
+        d.restricted_range
+            ? fmt::format(" between {} and {} % RH", FormatSetting(100.0 * d.rh_min_fraction),
+                          FormatSetting(100.0 * d.rh_max_fraction))
+            : "";
+    const std::string head =
+        fmt::format("{} not evaluated: {} point{}{}, at least {} needed for its {} parameters",
+                    mf.info.title.empty() ? mf.model_name : mf.info.title, d.points,
+                    d.points == 1 ? "" : "s", range, d.points_needed, d.num_parameters);
+    std::string group;
+    if (mf.group_index >= 0 && static_cast<size_t>(mf.group_index) < fits.groups.size()) {
+      group = GroupLabel(fits.groups[static_cast<size_t>(mf.group_index)]);
+    }
+    auto it = std::find_if(reasons.begin(), reasons.end(),
+                           [&](const auto& r) { return r.first == head; });
+    if (it == reasons.end()) {
+      reasons.emplace_back(head, group);
+    } else if (!group.empty()) {
+      it->second += (it->second.empty() ? "" : "; ") + group;
+    }
+  }
+  std::vector<std::string> out;
+  for (const auto& [head, groups] : reasons) {
+    out.push_back(head + (groups.empty() ? "" : " (" + groups + ")") + ".");
+  }
+  return out;
+}
+
+// The flags of a best model as sentences a client reads; the flags themselves stay in the
+// model section's notes and in results.json.
+void AddBestModelCautions(const fit::ModelFit& mf, const ModelRow& row, const Sheet& sheet,
+                          CautionList& cautions) {
+  const std::string what = row.model_title + " (" + row.group_label + ")";
+  const int models_section = sheet.SectionNumber("models");
+  const std::string see =
+      models_section > 0 ? fmt::format(" (section {}, notes)", models_section) : "";
+  const fitters::FitStatistics& s = mf.result.statistics;
+  bool other = false;
+  for (const std::string& f : row.flags) {
+    if (f.rfind("chi-square check fails", 0) == 0) {
+      cautions.Add(fmt::format(
+          "The best-fitting model, {}, deviates from the measured points by more than their "
+          "stated uncertainties (chi-square test, p = {}): values read from the curve may be "
+          "less certain than stated.",
+          what, FormatSignificant(s.chi_square_p_value, 2)));
+    } else if (f.rfind("physics: ", 0) == 0) {
+      cautions.Add(fmt::format(
+          "The parameters of the best-fitting model, {}, lie outside the range in which its "
+          "physical interpretation holds{}: its monolayer moisture content and the surface area "
+          "derived from it are indicative only.",
+          what, see));
+    } else if (f.rfind("not ranked", 0) != 0) {
+      other = true;
+    }
+  }
+  if (other) {
+    cautions.Add(fmt::format("The best-fitting model, {}, carries notes on its fit{}.", what,
+                             see.empty() ? "" : see));
+  }
 }
 
 // The best model of each group: its parameters join the headline, its flags the cautions.
@@ -578,7 +674,7 @@ void AddBestModels(const fit::IsothermFits& fits, CautionList& cautions) {
       h.label = row.model_title + " " + q.label + " (" + row.group_label + ")";
       sheet.headline.push_back(std::move(h));
     }
-    for (const std::string& f : row.flags) cautions.Add(row.model_title + ": " + f);
+    AddBestModelCautions(mf, row, sheet, cautions);
   }
   for (size_t i = 0; i < best_names.size(); ++i) {
     sheet.best_model_text += (i > 0 ? "; " : "") + best_names[i];
@@ -652,16 +748,79 @@ void AddFrontMatter(const ReportInputs& inputs, const ReportOptions& options, Sh
   }
 }
 
+// Every text of a section as a person reads it (internal/reader_text.h): the one place the
+// stages' wording for run.log becomes the sheet's.
+void ToReaderText(Section& section) {
+  using internal::ReaderText;
+  for (Block& block : section.blocks) {
+    if (auto* p = std::get_if<ParagraphBlock>(&block)) {
+      p->text = ReaderText(p->text);
+    } else if (auto* b = std::get_if<BulletsBlock>(&block)) {
+      for (std::string& item : b->items) item = ReaderText(item);
+    } else if (auto* f = std::get_if<FactsBlock>(&block)) {
+      for (auto& row : f->rows) row.second = ReaderText(row.second);
+    } else if (auto* t = std::get_if<TableBlock>(&block)) {
+      for (auto& row : t->rows) {
+        for (Cell& cell : row) cell.text = ReaderText(cell.text);
+      }
+    } else if (auto* g = std::get_if<FigureBlock>(&block)) {
+      for (auto& notes : g->notes) {
+        for (std::string& note : notes) note = ReaderText(note);
+      }
+      for (plot::Figure& panel : g->panels) panel.caption = ReaderText(panel.caption);
+    }
+  }
+}
+
 }  // namespace
+
+bool HygroscopicityClassRelevant(ingest::MaterialClass material_class) {
+  return material_class == ingest::MaterialClass::kPharmaceuticalPowder;
+}
+
+int SurfaceAreaFitIndex(const fit::IsothermFits& fits, const pores::SurfaceArea& area) {
+  for (size_t i = 0; i < fits.fits.size(); ++i) {
+    const fit::ModelFit& mf = fits.fits[i];
+    if (mf.model_name != area.model_name || mf.group_index < 0 ||
+        static_cast<size_t>(mf.group_index) >= fits.groups.size()) {
+      continue;
+    }
+    const fit::FitGroup& g = fits.groups[static_cast<size_t>(mf.group_index)];
+    if (g.branch == area.branch && g.temperature_K == area.temperature_K) {
+      return static_cast<int>(i);
+    }
+  }
+  return -1;
+}
+
+std::string SurfaceAreaNotHeadlineReason(const fit::IsothermFits* fits,
+                                         const pores::SurfaceArea& area) {
+  if (fits == nullptr) return std::string();
+  const int index = SurfaceAreaFitIndex(*fits, area);
+  if (index < 0) return std::string();  // no fit to judge it by (not from the fit stage)
+  const fit::ModelFit& mf = fits->fits[static_cast<size_t>(index)];
+  const fit::Identifiability identifiability = fit::IdentifiabilityOf(mf);
+  if (!identifiability.identifiable) {
+    return "the fit is not identifiable from these data: " + identifiability.reason;
+  }
+  std::string failed;
+  for (const fit::ConsistencyCheck& c : mf.consistency) {
+    if (!c.passed) failed += (failed.empty() ? "" : "; ") + c.criterion;
+  }
+  if (!failed.empty()) return "the fit fails " + failed;
+  return std::string();
+}
 
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const ReportOptions& options) {
   Sheet sheet;
   SetDisplayRules(inputs, layout, sheet);
+  sheet.hygroscopicity_relevant = inputs.ingested != nullptr &&
+                                  HygroscopicityClassRelevant(inputs.ingested->job.material_class);
   CautionList cautions{sheet, {}};
   AddInputCautions(inputs, cautions);
   if (inputs.pores != nullptr) {
     AddReferenceMoistures(*inputs.pores, inputs.fits, layout, cautions);
-    AddSurfaceAreasAndClass(*inputs.pores, sheet);
+    AddSurfaceAreasAndClass(*inputs.pores, inputs.fits, cautions);
     AddPoreVolumes(*inputs.pores, sheet);
     cautions.AddAll(inputs.pores->summary.warnings);
   }
@@ -670,10 +829,19 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
       sheet.models.push_back(MakeModelRow(*inputs.fits, i, sheet));
     }
     AddBestModels(*inputs.fits, cautions);
-    cautions.AddAll(inputs.fits->summary.warnings);
+    // The fit stage's warnings (a model that failed to converge) stay in run.log: they do not
+    // change a reported value; the model section lists each fit with its notes.
+    sheet.not_evaluated = NotEvaluatedSentences(*inputs.fits);
   }
   MakeHeadlineUnique(sheet);
   AddMeasurementCautions(inputs, cautions);
+  if (std::any_of(sheet.headline.begin(), sheet.headline.end(),
+                  [](const Quantity& q) { return q.key.rfind("surface_area_", 0) == 0; })) {
+    cautions.Add(
+        "Surface areas are derived from the water-vapour monolayer: they are not comparable with "
+        "a nitrogen BET surface area (ISO 9277), since water sorbs on specific sites and can "
+        "enter structures nitrogen does not reach.");
+  }
   sheet.standing_cautions = StandingCautions();
   sheet.report_number = "draft";
   if (inputs.ingested != nullptr && !inputs.ingested->job.job_id.empty()) {
@@ -685,6 +853,8 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
   }
   AddFrontMatter(inputs, options, sheet);
   sheet.sections = BuildSections(inputs, layout, options, sheet);
+  // The cautions keep the stages' wording in results.json; the sections print reader text.
+  for (Section& section : sheet.sections) ToReaderText(section);
   // ISO/IEC 17025:2017, 7.8.2.1 a: the end of the report is clearly identified.
   if (!sheet.sections.empty()) {
     sheet.sections.back().blocks.emplace_back(

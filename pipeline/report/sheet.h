@@ -92,6 +92,12 @@ struct ModelRow {
   int rank = 0;
   bool converged = false;
   std::vector<std::string> flags;
+  // The design could not support the model (fit::ModelDesign): not fitted, no statistics.
+  bool evaluated = true;
+  // A converged fit whose parameters its data do not determine (fit::IsIdentified): printed as
+  // "not identifiable from these data" with the reason, without uncertainties or correlations.
+  bool identifiable = true;
+  std::string not_identifiable_reason;  // plain words
 };
 
 // Longest free-text field of the job printed in full, in code points (common practice: a
@@ -207,8 +213,14 @@ struct Sheet {
   std::string moisture_axis_label;  // "moisture content (% dry basis)"
   std::vector<Quantity> headline;   // summary values in print order
   std::string hygroscopicity_class;
+  // Whether the sheet prints the Ph. Eur. 5.11 class (HygroscopicityClassRelevant).
+  bool hygroscopicity_relevant = false;
   std::string best_model_text;  // e.g. "GAB (adsorption, 23 °C)"
   std::vector<ModelRow> models;
+  // One plain sentence per model the design could not support, e.g. "Brunauer-Emmett-Teller
+  // (BET) not evaluated: 2 points between 5 and 35 % RH, at least 3 needed (adsorption,
+  // 23 °C; desorption, 23 °C)" (fit::ModelDesign; results.json keeps the machine reason).
+  std::vector<std::string> not_evaluated;
   std::vector<std::string> cautions;           // data-specific cautions (flags, warnings)
   std::vector<std::string> standing_cautions;  // the fixed statements of section 8
   std::vector<Diagnostic> warnings;            // the report's own findings (run.log)
@@ -263,6 +275,20 @@ std::vector<std::string> MethodDeviations(const ReportInputs& inputs);
 // results.json "issue": the laboratory, customer, item, sampling, method, revision,
 // deviations and whether the sheet is a draft.
 nlohmann::ordered_json IssueJson(const ReportInputs& inputs, const Sheet& sheet);
+
+// The fit a surface area was computed from (same model, branch and temperature), -1 if none.
+int SurfaceAreaFitIndex(const fit::IsothermFits& fits, const pores::SurfaceArea& area);
+// Why a surface area is not a headline value, empty when it is one: its fit must be identified
+// (fit::IsIdentified) and, for BET, pass every Rouquerol criterion (ModelFit::consistency).
+std::string SurfaceAreaNotHeadlineReason(const fit::IsothermFits* fits,
+                                         const pores::SurfaceArea& area);
+
+// The European Pharmacopoeia's hygroscopicity classes (Ph. Eur. 5.11) are defined for
+// pharmaceutical substances: the sheet prints the class, and the uptake it is read from, only
+// for [job] material_class = "pharmaceutical_powder" (excipients, active substances). Foods,
+// building materials and other classes have no compendial hygroscopicity class (results.json
+// still holds the pores stage's figure).
+bool HygroscopicityClassRelevant(ingest::MaterialClass material_class);
 
 // The whole sheet: quantities, cautions and the sections the template lists.
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout,

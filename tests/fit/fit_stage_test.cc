@@ -188,7 +188,9 @@ TEST(FitStageTest, BetRestrictedToItsRangeAndNotRankedAgainstFullRangeFits) {
   EXPECT_TRUE(FindFit(fits, 0, "gab").consistency.empty());
 }
 
-TEST(FitStageTest, TooFewPointsIsFlaggedNotThrown) {
+// A model the design cannot support (fit_stage.h, ModelDesign: n >= p + 1) is not fitted, not
+// ranked and not flagged as a failure; its design says why.
+TEST(FitStageTest, TooFewPointsIsNotEvaluatedNotThrown) {
   reduce::ReducedIsotherms reduced;
   NormalStream noise(6);
   BranchSpec spec;
@@ -200,11 +202,24 @@ TEST(FitStageTest, TooFewPointsIsFlaggedNotThrown) {
   const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab", "bet"}));
   const ModelFit& gab = FindFit(fits, 0, "gab");
   EXPECT_EQ(gab.result.summary.termination, fitters::FitTermination::kTooFewPoints);
-  EXPECT_EQ(gab.flags, std::vector<std::string>{"too few points: n = 3 for p = 3"});
+  EXPECT_FALSE(gab.design.supported);
+  EXPECT_EQ(gab.design.points, 3);
+  EXPECT_EQ(gab.design.points_needed, 4);
+  EXPECT_EQ(gab.result.summary.message,
+            "not evaluated: n = 3 points in RH 0..1 for p = 3 parameters; at least 4 needed");
+  EXPECT_TRUE(gab.flags.empty());
   EXPECT_EQ(gab.rank, 0);
   EXPECT_TRUE(gab.band.empty());
-  // BET (p = 2) still fits the three points.
-  EXPECT_TRUE(FindFit(fits, 0, "bet").result.ok());
+  EXPECT_FALSE(IsIdentified(gab));
+  EXPECT_TRUE(fits.summary.warnings.empty());  // not a failure: no warning
+  EXPECT_EQ(fits.summary.models_not_evaluated, 1);
+  // BET (p = 2) still fits the three points (ISO 9277's minimum), but its AICc is undefined
+  // (n - p - 1 = 0): it is not ranked.
+  const ModelFit& bet = FindFit(fits, 0, "bet");
+  EXPECT_TRUE(bet.result.ok());
+  EXPECT_TRUE(bet.design.supported);
+  EXPECT_EQ(bet.rank, 0);
+  EXPECT_TRUE(HasFlag(bet, "not ranked: AICc undefined"));
   EXPECT_EQ(fits.summary.fits_attempted, 1);
   EXPECT_EQ(fits.summary.fits_converged, 1);
 }

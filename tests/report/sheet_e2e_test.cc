@@ -392,7 +392,8 @@ TEST_F(SheetE2eTest, CsvTextCellsCannotStartAFormula) {
 
 // The left column of the summary's results table as pdftotext -layout prints it: the text of
 // each line before the value column (a run of three or more spaces), from the "Quantity"
-// header to the hygroscopicity row, joined with single spaces (a wrapped label reads whole).
+// header to the hygroscopicity row (or the best-model row where there is none), joined with single
+// spaces (a wrapped label reads whole).
 std::string SummaryLabelColumn(const std::string& layout_text) {
   std::istringstream lines(layout_text);
   std::string line;
@@ -403,7 +404,7 @@ std::string SummaryLabelColumn(const std::string& layout_text) {
       in_table = line.rfind("Quantity", 0) == 0;
       continue;
     }
-    if (line.rfind("Hygroscopicity class", 0) == 0) break;
+    if (line.rfind("Hygroscopicity class", 0) == 0 || line.rfind("Best model", 0) == 0) break;
     const std::string left = line.substr(0, line.find("   "));
     if (!left.empty()) column += (column.empty() ? "" : " ") + left;
   }
