@@ -302,6 +302,7 @@ namespace {
 std::string SectionTitle(const std::string& key) {
   static const std::vector<std::pair<std::string, std::string>> kTitles = {
       {"summary", "Summary"},
+      {"conformity", "Statement of conformity"},
       {"isotherm", "Sorption isotherm"},
       {"models", "Model comparison"},
       {"pores", "Pore-size distribution"},
@@ -318,6 +319,8 @@ std::string SectionTitle(const std::string& key) {
 void BuildSection(const internal::SectionContext& ctx, Section& section) {
   if (section.key == "summary") {
     internal::BuildSummarySection(ctx, ctx.layout.compact, section);
+  } else if (section.key == "conformity") {
+    internal::BuildConformitySection(ctx, section);
   } else if (section.key == "isotherm") {
     internal::BuildIsothermSection(ctx, section);
   } else if (section.key == "models") {
@@ -373,6 +376,12 @@ void SetDisplayRules(const ReportInputs& inputs, const Template& layout, Sheet& 
     sheet.rules.coverage_factor = inputs.fits->coverage_factor;
   }
   sheet.section_keys = layout.compact ? std::vector<std::string>{"summary"} : layout.sections;
+  // A job without specifications has no statement of conformity: no empty section.
+  if (inputs.ingested == nullptr || inputs.ingested->job.specifications.empty()) {
+    sheet.section_keys.erase(
+        std::remove(sheet.section_keys.begin(), sheet.section_keys.end(), "conformity"),
+        sheet.section_keys.end());
+  }
   sheet.moisture_unit = sheet.rules.moisture_in_percent ? "%" : "kg/kg";
   sheet.moisture_axis_label = sheet.rules.moisture_in_percent
                                   ? "moisture content (mass %, dry basis)"
@@ -407,14 +416,20 @@ bool WantedReference(const Template& layout, const pores::ReferenceCondition& co
 // temperature), so the sheet and the pores stage cannot disagree. A value read at another
 // temperature keeps the reference in its label, marked "not measured", and its key names
 // both ("moisture_25C_50RH_adsorption_ref_23C"): no reader can take it for the reference.
+// The headline key of a reference moisture measured at its reference temperature.
+std::string ReferenceMoistureKey(const pores::ReferenceMoisture& rm) {
+  return fmt::format("moisture_{}_{}RH_{}", TemperatureKey(rm.condition.temperature_K),
+                     FormatFixed(rm.condition.rh_fraction * 100.0, 0),
+                     KeyPart(BranchLabel(rm.branch)));
+}
+
 void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
                           CautionList& cautions) {
   Sheet& sheet = cautions.sheet;
   const std::string reference_t = TemperatureLabel(rm.condition.temperature_K);
   const std::string rh = FormatFixed(rm.condition.rh_fraction * 100.0, 0);
   const std::string branch = BranchLabel(rm.branch);
-  std::string key = fmt::format("moisture_{}_{}RH_{}", TemperatureKey(rm.condition.temperature_K),
-                                rh, KeyPart(branch));
+  std::string key = ReferenceMoistureKey(rm);
   std::string label = fmt::format("Moisture content at {} / {} % RH ({})", reference_t, rh, branch);
   if (!rm.temperature_matches) {
     const std::string measured_t = TemperatureLabel(measured_K);
@@ -426,6 +441,9 @@ void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
         "The reference temperature {} was not measured: moisture contents given for it are read "
         "from the isotherm measured at {} and are not converted to {}.",
         reference_t, measured_t, reference_t));
+    sheet.unavailable_headline.emplace_back(
+        ReferenceMoistureKey(rm),
+        fmt::format("not measured at {}; value at {}", reference_t, measured_t));
   }
   sheet.headline.push_back(MoistureQuantity(std::move(key), std::move(label), rm.moisture_kg_per_kg,
                                             rm.u_moisture_kg_per_kg, sheet.rules));
@@ -440,6 +458,11 @@ void AddReferenceMoistures(const pores::PoreAnalysis& pa, const fit::IsothermFit
     const double measured_K = MeasuredTemperature_K(fits, rm);
     if (!rm.model_name.empty() && (rm.temperature_matches || !std::isnan(measured_K))) {
       AddReferenceMoisture(rm, measured_K, cautions);
+    } else {
+      std::string reason;
+      for (const std::string& f : rm.flags) reason += (reason.empty() ? "" : "; ") + f;
+      cautions.sheet.unavailable_headline.emplace_back(
+          ReferenceMoistureKey(rm), reason.empty() ? "no fitted isotherm to read it from" : reason);
     }
     for (const std::string& f : rm.flags) {
       // The pores stage's own note of the temperature mismatch ("fitted at ... degC, reference
@@ -469,6 +492,9 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, Sheet& sheet) {
     sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
   } else {
     sheet.hygroscopicity_class = "not classified";
+    sheet.unavailable_headline.emplace_back(
+        "hygroscopicity_mass_increase",
+        pa.hygroscopicity.reason.empty() ? "not classified" : pa.hygroscopicity.reason);
     if (!pa.hygroscopicity.reason.empty()) {
       sheet.hygroscopicity_class += " (" + pa.hygroscopicity.reason + ")";
     }
@@ -507,6 +533,7 @@ std::vector<Quantity> ParameterQuantities(const fit::IsothermFits& fits, size_t 
     out.push_back(MakeQuantity(
         "fit_" + std::to_string(i) + "_" + KeyPart(mf.model_name) + "_" + KeyPart(e.name), e.name,
         e.value, u, e.unit.empty() ? "1" : e.unit, 1.0, PrettyUnit(e.unit), param_rules));
+    if (k < mf.effective_dof.size()) out.back().degrees_of_freedom = mf.effective_dof[k];
   }
   return out;
 }
@@ -650,6 +677,7 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
     cautions.AddAll(inputs.fits->summary.warnings);
   }
   MakeHeadlineUnique(sheet);
+  internal::EvaluateSpecifications(inputs, sheet);
   AddMeasurementCautions(inputs, cautions);
   sheet.standing_cautions = StandingCautions();
   sheet.report_number = "draft";

@@ -9,12 +9,14 @@
 // output format: one renderer of Sheet::sections.
 #pragma once
 
+#include <limits>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <utility>
 #include <variant>
 #include <vector>
 
+#include "pipeline/conform/conform.h"
 #include "pipeline/report/plot/plot.h"
 #include "pipeline/report/report.h"
 
@@ -33,6 +35,9 @@ struct Quantity {
   double display_expanded_uncertainty = 0.0;
   std::string display_unit;  // e.g. "%", "m²/g"
   std::string text;          // "1.23 ± 0.05 %", exactly as on the sheet
+  // Effective degrees of freedom of standard_uncertainty (JCGM 100:2008, G.4); infinity: the
+  // coverage factor is that of a normal distribution. Read by the statements of conformity.
+  double degrees_of_freedom = std::numeric_limits<double>::infinity();
 };
 
 nlohmann::ordered_json QuantityJson(const Quantity& quantity);
@@ -182,6 +187,26 @@ struct Section {
   std::string Heading() const;  // "8  Cautions"
 };
 
+// One [[specification]] of the job evaluated on its headline value (section_conformity.cc):
+// the value and limits in the specification's unit, the decision of pipeline/conform, and
+// the texts as printed. A headline the sheet does not have gives no decision, only a reason.
+struct ConformityStatement {
+  ingest::Specification specification;
+  std::string quantity_label;  // the headline label (the key when the headline is missing)
+  bool available = false;      // false: "no statement: <reason>"
+  std::string reason;
+  std::string unit_text;             // the specification's unit as printed, e.g. "m²/g"
+  conform::Measurement measurement;  // in the specification's unit
+  conform::Result result;
+  // As printed.
+  std::string limits_text;  // "at most 2 %", "at least 150 m²/g", "150 to 250 m²/g"
+  std::string value_text;   // "1.660 ± 0.038 % (k = 2)"
+  std::string rule_text;    // conform's rule with its source
+  std::string guard_band_text;
+  std::string result_text;  // "pass", "fail", "inconclusive", "no statement: <reason>"
+  std::string risk_text;
+};
+
 struct Sheet {
   // The template's sections in print order (the one-page summary: "summary" only); a
   // section's number is its place in this list, so cross-references follow the template.
@@ -192,6 +217,10 @@ struct Sheet {
   std::string moisture_unit;        // "%" or "kg/kg"
   std::string moisture_axis_label;  // "moisture content (% dry basis)"
   std::vector<Quantity> headline;   // summary values in print order
+  // Headline keys a job may name that this sheet does not print, with the reason (e.g. a
+  // reference condition at a temperature that was not measured): (key, reason).
+  std::vector<std::pair<std::string, std::string>> unavailable_headline;
+  std::vector<ConformityStatement> conformity;  // one per [[specification]], in job order
   std::string hygroscopicity_class;
   std::string best_model_text;  // e.g. "GAB (adsorption, 23 °C)"
   std::vector<ModelRow> models;
