@@ -50,6 +50,7 @@ constexpr UnitAlias kUnits[] = {
 // The forms of headline keys (results_json.h) and the SI unit of each ("" = the parameter's).
 struct KeyForm {
   const char* pattern;
+  const char* title;  // what the quantity is called (its parts follow in brackets)
   std::string_view si;
   int temperature_group;  // index of the temperature part ("23C", "23p4C", "m5C"); 0: none
   // The sheet lists every key of this form it can have (in its headline or, with the reason,
@@ -59,18 +60,26 @@ struct KeyForm {
 constexpr const char* kT = "(m?[0-9]+(?:p[0-9])?C)";
 const std::vector<KeyForm>& KeyForms() {
   static const std::vector<KeyForm> kForms = {
-      {"moisture_[^_]+_[0-9]+RH_(adsorption|desorption)(_ref_[^_]+)?", "kg/kg", 0, true},
-      {"surface_area_(gab|bet)_(adsorption|desorption)_TEMP", "m2/g", 3, false},
-      {"pore_volume_(model|stepwise)_(adsorption|desorption)_TEMP", "m3/kg", 3, false},
-      {"modal_radius_(model|stepwise)_(adsorption|desorption)_TEMP_[0-9]+", "m", 3, false},
-      {"best_(adsorption|desorption)_TEMP_[a-z0-9_]+", "", 2, false},
-      {"hygroscopicity_mass_increase", "%", 0, false},
+      {"moisture_[^_]+_[0-9]+RH_(adsorption|desorption)(_ref_[^_]+)?", "Moisture content", "kg/kg",
+       0, true},
+      {"surface_area_(gab|bet)_(adsorption|desorption)_TEMP", "Specific surface area", "m2/g", 3,
+       false},
+      {"pore_volume_(model|stepwise)_(adsorption|desorption)_TEMP", "Kelvin-resolved pore volume",
+       "m3/kg", 3, false},
+      {"modal_radius_(model|stepwise)_(adsorption|desorption)_TEMP_[0-9]+", "Modal pore radius",
+       "m", 3, false},
+      {"best_(adsorption|desorption)_TEMP_[a-z0-9_]+", "Best-model parameter", "", 2, false},
+      {"hygroscopicity_mass_increase", "Mass increase at 25 °C / 80 % RH (Ph. Eur. 5.11)", "%", 0,
+       false},
   };
   return kForms;
 }
 
-// The form `key` has, or nullptr; the temperature part in *temperature_key.
-const KeyForm* FormOf(const std::string& key, std::string* temperature_key) {
+std::string TemperatureKeyLabel(std::string key);
+
+// The form `key` has, or nullptr; the temperature part in *temperature_key and a label for a
+// person in *label ("Specific surface area (GAB, adsorption, 40 °C)").
+const KeyForm* FormOf(const std::string& key, std::string* temperature_key, std::string* label) {
   for (const KeyForm& form : KeyForms()) {
     std::string pattern = form.pattern;
     const size_t at = pattern.find("TEMP");
@@ -78,6 +87,17 @@ const KeyForm* FormOf(const std::string& key, std::string* temperature_key) {
     std::smatch match;
     if (std::regex_match(key, match, std::regex(pattern))) {
       if (form.temperature_group > 0) *temperature_key = match[form.temperature_group].str();
+      std::string parts;
+      for (size_t i = 1; i < match.size(); ++i) {
+        std::string part = match[i].str();
+        if (part.empty() || part.rfind("_ref_", 0) == 0) continue;
+        if (static_cast<int>(i) == form.temperature_group) part = TemperatureKeyLabel(part);
+        if (part == "gab" || part == "bet") {
+          for (char& c : part) c = static_cast<char>(c - 'a' + 'A');
+        }
+        parts += (parts.empty() ? "" : ", ") + part;
+      }
+      *label = parts.empty() ? form.title : std::string(form.title) + " (" + parts + ")";
       return &form;
     }
   }
@@ -104,8 +124,8 @@ const Quantity* FindHeadline(const Sheet& sheet, const std::string& key) {
 std::string AvailableKeys(const Sheet& sheet) {
   std::string list;
   for (const Quantity& q : sheet.headline) list += (list.empty() ? "" : ", ") + q.key;
-  for (const auto& [key, reason] : sheet.unavailable_headline) {
-    list += (list.empty() ? "" : ", ") + key + " (no statement possible: " + reason + ")";
+  for (const Sheet::Unavailable& u : sheet.unavailable_headline) {
+    list += (list.empty() ? "" : ", ") + u.key + " (no statement possible: " + u.reason + ")";
   }
   return list.empty() ? "none: this sheet has no headline results" : list;
 }
@@ -254,7 +274,8 @@ ConformityStatement Evaluate(const ReportInputs& inputs, const Sheet& sheet,
   s.quantity_label = spec.quantity;
   s.rule_text = conform::AssessConformity({}, {}, spec.decision).summary.rule;
   std::string temperature_key;
-  const KeyForm* form = FormOf(spec.quantity, &temperature_key);
+  std::string label;
+  const KeyForm* form = FormOf(spec.quantity, &temperature_key, &label);
   const Quantity* q = FindHeadline(sheet, spec.quantity);
   if (form == nullptr && q == nullptr) {
     UnknownQuantity(spec, sheet, "is not a result this program reports");
@@ -271,8 +292,11 @@ ConformityStatement Evaluate(const ReportInputs& inputs, const Sheet& sheet,
     s.quantity_label = q->label;
     Decide(*q, to_si, sheet.rules.significant_digits, s);
   } else {
-    for (const auto& [key, reason] : sheet.unavailable_headline) {
-      if (key == spec.quantity && s.reason.empty()) s.reason = reason;
+    s.quantity_label = label;
+    for (const Sheet::Unavailable& u : sheet.unavailable_headline) {
+      if (u.key != spec.quantity || !s.reason.empty()) continue;
+      s.reason = u.reason;
+      s.quantity_label = u.label;
     }
     if (s.reason.empty() && form->listed_by_sheet) {
       // A moisture content at a condition the template does not list: a setting to correct.

@@ -441,9 +441,10 @@ void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
         "The reference temperature {} was not measured: moisture contents given for it are read "
         "from the isotherm measured at {} and are not converted to {}.",
         reference_t, measured_t, reference_t));
-    sheet.unavailable_headline.emplace_back(
-        ReferenceMoistureKey(rm),
-        fmt::format("not measured at {}; value at {}", reference_t, measured_t));
+    sheet.unavailable_headline.push_back(
+        {ReferenceMoistureKey(rm),
+         fmt::format("Moisture content at {} / {} % RH ({})", reference_t, rh, branch),
+         fmt::format("not measured at {}; value at {}", reference_t, measured_t)});
   }
   sheet.headline.push_back(MoistureQuantity(std::move(key), std::move(label), rm.moisture_kg_per_kg,
                                             rm.u_moisture_kg_per_kg, sheet.rules));
@@ -461,8 +462,12 @@ void AddReferenceMoistures(const pores::PoreAnalysis& pa, const fit::IsothermFit
     } else {
       std::string reason;
       for (const std::string& f : rm.flags) reason += (reason.empty() ? "" : "; ") + f;
-      cautions.sheet.unavailable_headline.emplace_back(
-          ReferenceMoistureKey(rm), reason.empty() ? "no fitted isotherm to read it from" : reason);
+      cautions.sheet.unavailable_headline.push_back(
+          {ReferenceMoistureKey(rm),
+           fmt::format("Moisture content at {} / {} % RH ({})",
+                       TemperatureLabel(rm.condition.temperature_K),
+                       FormatFixed(rm.condition.rh_fraction * 100.0, 0), BranchLabel(rm.branch)),
+           reason.empty() ? "no fitted isotherm to read it from" : reason});
     }
     for (const std::string& f : rm.flags) {
       // The pores stage's own note of the temperature mismatch ("fitted at ... degC, reference
@@ -471,6 +476,8 @@ void AddReferenceMoistures(const pores::PoreAnalysis& pa, const fit::IsothermFit
     }
   }
 }
+
+constexpr const char* kHygroscopicityLabel = "Mass increase at 25 °C / 80 % RH (Ph. Eur. 5.11)";
 
 void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, Sheet& sheet) {
   for (const pores::SurfaceArea& sa : pa.surface_areas) {
@@ -485,16 +492,16 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, Sheet& sheet) {
                      sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0, "m²/g", sheet.rules));
   }
   if (pa.hygroscopicity.applicable) {
-    sheet.headline.push_back(MakeQuantity(
-        "hygroscopicity_mass_increase", "Mass increase at 25 °C / 80 % RH (Ph. Eur. 5.11)",
-        pa.hygroscopicity.mass_increase_percent, pa.hygroscopicity.u_mass_increase_percent, "%",
-        1.0, "%", sheet.rules));
+    sheet.headline.push_back(MakeQuantity("hygroscopicity_mass_increase", kHygroscopicityLabel,
+                                          pa.hygroscopicity.mass_increase_percent,
+                                          pa.hygroscopicity.u_mass_increase_percent, "%", 1.0, "%",
+                                          sheet.rules));
     sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
   } else {
     sheet.hygroscopicity_class = "not classified";
-    sheet.unavailable_headline.emplace_back(
-        "hygroscopicity_mass_increase",
-        pa.hygroscopicity.reason.empty() ? "not classified" : pa.hygroscopicity.reason);
+    sheet.unavailable_headline.push_back(
+        {"hygroscopicity_mass_increase", kHygroscopicityLabel,
+         pa.hygroscopicity.reason.empty() ? "not classified" : pa.hygroscopicity.reason});
     if (!pa.hygroscopicity.reason.empty()) {
       sheet.hygroscopicity_class += " (" + pa.hygroscopicity.reason + ")";
     }

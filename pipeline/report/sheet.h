@@ -218,8 +218,13 @@ struct Sheet {
   std::string moisture_axis_label;  // "moisture content (% dry basis)"
   std::vector<Quantity> headline;   // summary values in print order
   // Headline keys a job may name that this sheet does not print, with the reason (e.g. a
-  // reference condition at a temperature that was not measured): (key, reason).
-  std::vector<std::pair<std::string, std::string>> unavailable_headline;
+  // reference condition at a temperature that was not measured).
+  struct Unavailable {
+    std::string key;
+    std::string label;   // what the headline would be called
+    std::string reason;  // e.g. "not measured at 23 °C; value at 25 °C"
+  };
+  std::vector<Unavailable> unavailable_headline;
   std::vector<ConformityStatement> conformity;  // one per [[specification]], in job order
   std::string hygroscopicity_class;
   std::string best_model_text;  // e.g. "GAB (adsorption, 23 °C)"
