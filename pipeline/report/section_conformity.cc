@@ -267,52 +267,58 @@ void Decide(const Quantity& q, double to_si, int significant_digits, ConformityS
   s.risk_text = RiskText(s.result);
 }
 
+// Why a key of a known form is not on this sheet (sets s.reason and s.quantity_label), or an
+// InputError when the sheet lists every key of that form and this one is not among them.
+void ExplainMissing(const ReportInputs& inputs, const Sheet& sheet, const KeyForm& form,
+                    const std::string& temperature_key, ConformityStatement& s) {
+  const ingest::Specification& spec = s.specification;
+  for (const Sheet::Unavailable& u : sheet.unavailable_headline) {
+    if (u.key != spec.quantity) continue;
+    s.reason = u.reason;
+    s.quantity_label = u.label;
+    return;
+  }
+  if (form.listed_by_sheet) {
+    // A moisture content at a condition the template does not list: a setting to correct.
+    UnknownQuantity(spec, sheet,
+                    "is not on this sheet (moisture contents are reported at the reference "
+                    "conditions of the template)");
+  }
+  if (form.temperature_group == 0) {
+    s.reason = "not determined in this job";
+    return;
+  }
+  bool measured = false;
+  for (double t_K : DistinctTemperatures(inputs)) {
+    measured = measured || TemperatureKey(t_K) == temperature_key;
+  }
+  s.reason = measured ? "this job has no such result (the model or analysis was not made, or "
+                        "did not pass its checks)"
+                      : "not measured at " + TemperatureKeyLabel(temperature_key);
+}
+
 ConformityStatement Evaluate(const ReportInputs& inputs, const Sheet& sheet,
                              const ingest::Specification& spec) {
   ConformityStatement s;
   s.specification = spec;
-  s.quantity_label = spec.quantity;
   s.rule_text = conform::AssessConformity({}, {}, spec.decision).summary.rule;
   std::string temperature_key;
-  std::string label;
-  const KeyForm* form = FormOf(spec.quantity, &temperature_key, &label);
+  const KeyForm* form = FormOf(spec.quantity, &temperature_key, &s.quantity_label);
   const Quantity* q = FindHeadline(sheet, spec.quantity);
   if (form == nullptr && q == nullptr) {
     UnknownQuantity(spec, sheet, "is not a result this program reports");
   }
   const std::string si = q != nullptr ? q->unit : std::string(form->si);
   double to_si = 1.0;
-  if (!si.empty())
-    std::tie(to_si, s.unit_text) = ResolveUnit(spec, si);
-  else
-    s.unit_text = spec.unit;
+  s.unit_text = spec.unit;
+  if (!si.empty()) std::tie(to_si, s.unit_text) = ResolveUnit(spec, si);
   s.limits_text = LimitsText(spec, s.unit_text);
   if (q != nullptr) {
     s.available = true;
     s.quantity_label = q->label;
     Decide(*q, to_si, sheet.rules.significant_digits, s);
   } else {
-    s.quantity_label = label;
-    for (const Sheet::Unavailable& u : sheet.unavailable_headline) {
-      if (u.key != spec.quantity || !s.reason.empty()) continue;
-      s.reason = u.reason;
-      s.quantity_label = u.label;
-    }
-    if (s.reason.empty() && form->listed_by_sheet) {
-      // A moisture content at a condition the template does not list: a setting to correct.
-      UnknownQuantity(spec, sheet,
-                      "is not on this sheet (moisture contents are reported at the reference "
-                      "conditions of the template)");
-    }
-    if (s.reason.empty() && form->temperature_group == 0) s.reason = "not determined in this job";
-    if (s.reason.empty()) {
-      bool measured = false;
-      for (double t_K : DistinctTemperatures(inputs))
-        measured = measured || TemperatureKey(t_K) == temperature_key;
-      s.reason = measured ? "this job has no such result (the model or analysis was not made, or "
-                            "did not pass its checks)"
-                          : "not measured at " + TemperatureKeyLabel(temperature_key);
-    }
+    ExplainMissing(inputs, sheet, *form, temperature_key, s);
   }
   if (!s.available) {
     s.value_text = "not available";
