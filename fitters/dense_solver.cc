@@ -16,6 +16,10 @@ constexpr double kMinRelativeDecrease = 1e-3;
 constexpr double kMinLmDiagonal = 1e-6;
 constexpr double kMaxLmDiagonal = 1e32;
 constexpr int kMaxConsecutiveInvalidSteps = 5;
+// Geodesic acceleration: finite-difference step h and acceptance ratio alpha (Transtrum &
+// Sethna 2012, sec. 4: "h = 0.1", "alpha = 0.75"; GSL's defaults too).
+constexpr double kAccelerationDifference = 0.1;
+constexpr double kMaxAccelerationRatio = 0.75;
 
 // Least-squares solution x of min ||A x - b|| for a column-major m x p matrix A (m >= p) by
 // Householder QR (G. H. Golub, C. F. Van Loan, Matrix Computations, 4th ed., Johns Hopkins
@@ -62,6 +66,22 @@ void SolveLeastSquaresByHouseholderQr(int m, int p, double* a, double* b, double
 // Solves N x = v in place for a symmetric positive definite p x p column-major N (only its
 // lower triangle is read; L overwrites it) by Cholesky (Golub & Van Loan, Matrix Computations,
 // 4th ed., alg. 4.2.1); x overwrites v. False for a non-positive or non-finite pivot.
+// Solves L L' x = v for the Cholesky factor L that SolveByCholeskyInPlace left in the lower
+// triangle of `factor`; x overwrites v.
+void SolveWithCholeskyFactor(int p, const double* factor, double* v) {
+  const auto at = [&](int r, int c) { return factor[static_cast<std::ptrdiff_t>(c) * p + r]; };
+  for (int j = 0; j < p; ++j) {
+    double sum = v[j];
+    for (int l = 0; l < j; ++l) sum -= at(j, l) * v[l];
+    v[j] = sum / at(j, j);
+  }
+  for (int j = p - 1; j >= 0; --j) {
+    double sum = v[j];
+    for (int r = j + 1; r < p; ++r) sum -= at(r, j) * v[r];
+    v[j] = sum / at(j, j);
+  }
+}
+
 bool SolveByCholeskyInPlace(int p, double* normal, double* v) {
   const auto at = [&](int r, int c) -> double& {
     return normal[static_cast<std::ptrdiff_t>(c) * p + r];
@@ -113,10 +133,13 @@ DenseLevenbergMarquardt::DenseLevenbergMarquardt(const Model& model, const Model
   const int p = num_parameters_;
   use_scaled_step_test_ = options_.scaled_step_tolerance > 0.0 &&
                           static_cast<int>(options_.parameter_scale.size()) == p;
-  for (Eigen::VectorXd* v :
-       {&x_, &candidate_x_, &gradient_x_, &scaling_x_, &diagonal_x_, &step_x_, &normal_rhs_})
+  use_acceleration_ =
+      use_scaled_step_test_ && options_.step_solver == StepSolver::kDenseNormalCholesky;
+  for (Eigen::VectorXd* v : {&x_, &candidate_x_, &gradient_x_, &scaling_x_, &diagonal_x_, &step_x_,
+                             &normal_rhs_, &accel_x_})
     v->resize(p);
   normal_.resize(p, p);
+  step_factor_.resize(p, p);
 }
 
 void DenseLevenbergMarquardt::Resize(int num_points, int num_true_x) {
@@ -126,11 +149,11 @@ void DenseLevenbergMarquardt::Resize(int num_points, int num_true_x) {
   const int n = num_points;
   const int q = num_true_x;
   const int p = num_parameters_;
-  for (Eigen::VectorXd* v :
-       {&ry_, &candidate_ry_, &slope_, &candidate_slope_, &model_ry_, &point_gamma_, &point_beta_})
+  for (Eigen::VectorXd* v : {&ry_, &candidate_ry_, &slope_, &candidate_slope_, &model_ry_,
+                             &point_gamma_, &point_beta_, &accel_ry_, &second_derivative_})
     v->resize(n);
   for (Eigen::VectorXd* v : {&t_, &candidate_t_, &rx_, &candidate_rx_, &gradient_t_, &scaling_t_,
-                             &diagonal_t_, &step_t_, &model_rx_, &x_residual_jacobian_})
+                             &diagonal_t_, &step_t_, &model_rx_, &x_residual_jacobian_, &accel_t_})
     v->resize(q);
   jacobian_.resize(n, p);
   candidate_jacobian_.resize(n, p);
@@ -277,10 +300,13 @@ void DenseLevenbergMarquardt::ComputeStep(double radius) {
     FormScaledNormalEquations(inverse_radius);
     for (int j = 0; j < p; ++j) normal_(j, j) += diagonal_x_[j] * inverse_radius;
     step_x_ = normal_rhs_;
-    if (!SolveByCholeskyInPlace(p, normal_.data(), step_x_.data())) {
+    step_factor_ = normal_;
+    if (!SolveByCholeskyInPlace(p, step_factor_.data(), step_x_.data())) {
       step_x_.setConstant(std::numeric_limits<double>::quiet_NaN());
     }
     BackSubstituteTrueX0Steps(radius);
+    step_accelerated_ =
+        use_acceleration_ && step_x_.allFinite() && step_t_.allFinite() && AccelerateStep(radius);
     return;
   }
   // Rows of the scaled Jacobian: a_i = dr_yi/dp * scaling_x, b_i = dr_yi/dt_i * scaling_t,
@@ -334,6 +360,57 @@ void DenseLevenbergMarquardt::BackSubstituteTrueX0Steps(double radius) {
     for (int j = 0; j < p; ++j) a_dot_s += jacobian_(i, j) * scaling_x_[j] * step_x_[j];
     step_t_[k] = -(b * (a_dot_s + ry_[i]) + c * rx_[k]) / h;
   }
+}
+
+bool DenseLevenbergMarquardt::AccelerateStep(double radius) {
+  const int n = num_points_;
+  const int p = num_parameters_;
+  const int q = num_true_x_;
+  const double h = kAccelerationDifference;
+  // Residuals at x + h v (parameters inside their bounds: a projected point would not lie on
+  // the line the difference assumes).
+  candidate_x_ = x_ + h * scaling_x_.cwiseProduct(step_x_);
+  for (int j = 0; j < p; ++j) {
+    if (lower_[j] <= upper_[j] && (candidate_x_[j] < lower_[j] || candidate_x_[j] > upper_[j])) {
+      return false;
+    }
+  }
+  for (int k = 0; k < q; ++k) {
+    const std::size_t i = static_cast<std::size_t>(point_of_true_x_[static_cast<std::size_t>(k)]);
+    evaluated_[i].x[0] = t_[k] + h * scaling_t_[k] * step_t_[k];
+  }
+  if (!model_.WeightedResiduals(candidate_x_.data(), evaluated_.data(), static_cast<std::size_t>(n),
+                                context_, accel_ry_.data(), nullptr, nullptr)) {
+    return false;
+  }
+  // r''_v of the y residuals (the x residuals are linear in t: no second derivative).
+  second_derivative_.noalias() = jacobian_ * scaling_x_.cwiseProduct(step_x_);
+  for (int k = 0; k < q; ++k) {
+    const int i = point_of_true_x_[static_cast<std::size_t>(k)];
+    second_derivative_[i] += slope_[i] * scaling_t_[k] * step_t_[k];
+  }
+  second_derivative_ = (2.0 / h) * ((accel_ry_ - ry_) / h - second_derivative_);
+  // a = -(N)^-1 J' r'': the reduced right-hand side of FormScaledNormalEquations with r_y ->
+  // r''_y and r_x -> 0, i.e. beta_i = gamma_i r''_i (gamma_i = 1 without a fitted t_i).
+  accel_x_.setZero();
+  for (int i = 0; i < n; ++i) {
+    const double beta = point_gamma_[i] * second_derivative_[i];
+    for (int j = 0; j < p; ++j) accel_x_[j] -= beta * jacobian_(i, j) * scaling_x_[j];
+  }
+  SolveWithCholeskyFactor(p, step_factor_.data(), accel_x_.data());
+  for (int k = 0; k < q; ++k) {
+    const int i = point_of_true_x_[static_cast<std::size_t>(k)];
+    const double b = slope_[i] * scaling_t_[k];
+    const double c = x_residual_jacobian_[k] * scaling_t_[k];
+    const double hk = b * b + c * c + diagonal_t_[k] / radius;
+    double a_dot_s = 0.0;
+    for (int j = 0; j < p; ++j) a_dot_s += jacobian_(i, j) * scaling_x_[j] * accel_x_[j];
+    accel_t_[k] = -b * (a_dot_s + second_derivative_[i]) / hk;
+  }
+  if (!accel_x_.allFinite() || !accel_t_.allFinite()) return false;
+  const double velocity = std::sqrt(step_x_.squaredNorm() + step_t_.squaredNorm());
+  const double acceleration = std::sqrt(accel_x_.squaredNorm() + accel_t_.squaredNorm());
+  return 2.0 * acceleration <= kMaxAccelerationRatio * velocity;
 }
 
 DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>& data,
@@ -456,6 +533,12 @@ DenseSolveOutcome DenseLevenbergMarquardt::Solve(const std::vector<Observation>&
     }
     consecutive_invalid_steps = 0;
 
+    if (step_accelerated_) {
+      // The trust region judges the velocity's model decrease against the accelerated step's
+      // actual one (Transtrum & Sethna 2012, sec. 4).
+      step_x_ += 0.5 * accel_x_;
+      step_t_ += 0.5 * accel_t_;
+    }
     candidate_x_ = x_ + scaling_x_.cwiseProduct(step_x_);
     Clamp(&candidate_x_);
     candidate_t_ = t_ + scaling_t_.cwiseProduct(step_t_);

@@ -144,6 +144,53 @@ void Write(const fs::path& path, const std::string& text) {
   fmt::print("wrote {} ({} bytes)\n", path.string(), text.size());
 }
 
+// The laboratory profile of the demonstration jobs: one invented laboratory (each scenario
+// folder holds a copy, so a job and its profile move together and the profile lies inside
+// the job's folder tree as the data-path policy asks).
+constexpr const char* kLabProfile =
+    "# Invented laboratory profile of the demonstration jobs (scripts/generate_examples.cc).\n"
+    "# Laboratory, accreditation, people and addresses are fictional.\n"
+    "[laboratory]\n"
+    "name = \"Hollowmere Building Physics Laboratory (fictional)\"\n"
+    "address = \"12 Quarry Lane, Hollowmere HM4 7QX, Fictland\"\n"
+    "contact = \"+00 1234 567890, sorption@hollowmere.example\"\n\n"
+    "[accreditation]\n"
+    "number = \"FT-0000 (fictional)\"\n"
+    "body = \"Fictland Accreditation Service (fictional)\"\n\n"
+    "[[signatory]]\n"
+    "name = \"R. Aldous-Penhale\"\n"
+    "role = \"technical manager\"\n\n"
+    "[[signatory]]\n"
+    "name = \"M. Ketteridge\"\n"
+    "role = \"quality manager\"\n\n"
+    "[[location]]\n"
+    "id = \"main\"\n"
+    "address = \"Hygrothermal laboratory, 12 Quarry Lane, Hollowmere\"\n\n"
+    "[[location]]\n"
+    "id = \"sorption-annex\"\n"
+    "address = \"Sorption annex, Unit 3, Mill Yard, Hollowmere\"\n";
+
+// What a job adds for its issue: laboratory, material class and method ([job]), customer and
+// item ([material]), sampling ([sampling]).
+struct IssueFacts {
+  std::string job_keys;       // after `template = ...` in [job]
+  std::string material_keys;  // replace the demo client line of [material]
+  std::string sampling;       // the [sampling] table
+};
+
+// Inserts the issue facts into a job text written by the scenario code and writes the job
+// and its laboratory profile into `dir`.
+void WriteJob(const fs::path& dir, std::string job, const IssueFacts& facts) {
+  const std::string template_line = "template = \"full\"\n";
+  job.insert(job.find(template_line) + template_line.size(), facts.job_keys);
+  const std::string client_line =
+      "client = \"Hollowmere Building Physics Laboratory, internal study\"\n";
+  job.replace(job.find(client_line), client_line.size(), facts.material_keys);
+  job.insert(job.find("[measurement]"), facts.sampling + "\n");
+  Write(dir / "job.toml", job);
+  Write(dir / "lab_profile.toml", kLabProfile);
+}
+
 // =========================================================================================
 // Scenario 1: lime plaster, desiccator method (ISO 12571), three specimens, 23 degC.
 // =========================================================================================
@@ -328,7 +375,17 @@ DesiccatorTruth LimePlasterDesiccator(const fs::path& dir) {
       "decision_rule = \"conformance_probability\"\n"
       "required_conformance_probability = 0.95\n"
       "document = \"Hollowmere render brief HR-4, clause 3.3 (fictional)\"\n";
-  Write(dir / "job.toml", job);
+  WriteJob(dir, job,
+           {"lab_profile = \"lab_profile.toml\"\nlocation = \"main\"\n"
+            "material_class = \"porous_mineral\"\nmethod = \"iso_12571_desiccator\"\n",
+            "client = \"Cobbleford Lime Works (fictional)\"\n"
+            "client_address = \"4 Kiln Road, Cobbleford CB2 9LW, Fictland\"\n"
+            "client_contact = \"J. Tarrant, j.tarrant@cobbleford.example\"\n"
+            "received_date = \"2026-02-24\"\n"
+            "condition = \"three cured panels in sealed bags, intact\"\n",
+            "[sampling]\nby = \"laboratory\"\n"
+            "plan = \"HBPL-SP-03 (fictional): three discs cut from the centre of each panel\"\n"
+            "date = \"2026-02-26\"\n"});
   return truth;
 }
 
@@ -519,12 +576,22 @@ int main(int argc, char** argv) {
                     wood_ads.at_reference, wood_des.at_reference, s, rng);
     const fs::path dir = out / "wood_fibre_board_vapour";
     Write(dir / "data" / "vapour_log_W1.csv", log.csv);
-    Write(dir / "job.toml",
-          LogJob("HBPL-2026-0311", "2026-05-20", "2026-04-06 to 2026-04-16",
-                 "Wood-fibre board WF-160 (fictional)",
-                 "Wet-process wood-fibre insulation board, 160 kg/m3, specimen cut 15 x 15 x 10 mm",
-                 "desiccant_step", {{"dvs-23C", "data/vapour_log_W1.csv", 23.0, "W1"}},
-                 {{"W1", 160.0}}));
+    WriteJob(
+        dir,
+        LogJob("HBPL-2026-0311", "2026-05-20", "2026-04-06 to 2026-04-16",
+               "Wood-fibre board WF-160 (fictional)",
+               "Wet-process wood-fibre insulation board, 160 kg/m3, specimen cut 15 x 15 x "
+               "10 mm",
+               "desiccant_step", {{"dvs-23C", "data/vapour_log_W1.csv", 23.0, "W1"}},
+               {{"W1", 160.0}}),
+        {"lab_profile = \"lab_profile.toml\"\nlocation = \"sorption-annex\"\n"
+         "material_class = \"wood_or_fibre\"\nmethod = \"iso_12571_climatic_chamber\"\n",
+         "client = \"Fernvale Fibreboards (fictional)\"\n"
+         "client_address = \"Unit 9, Fernvale Industrial Estate, Fernvale FV1 2AB, Fictland\"\n"
+         "client_contact = \"P. Okafor-Lind, quality@fernvale.example\"\n"
+         "received_date = \"2026-03-30\"\n"
+         "condition = \"one board offcut 300 x 300 mm, dry, undamaged\"\n",
+         "[sampling]\nby = \"customer\"\n"});
     truth["scenarios"].push_back({{"scenario", "wood_fibre_board_vapour"},
                                   {"material", "Wood-fibre board WF-160 (fictional)"},
                                   {"method", "vapor_log"},
@@ -581,7 +648,16 @@ int main(int argc, char** argv) {
         "unit = \"%\"\n"
         "decision_rule = \"simple_acceptance\"\n"
         "document = \"Hollowmere excipient sheet EX-12, item 8 (fictional)\"\n";
-    Write(dir / "job.toml", job);
+    WriteJob(dir, job,
+             {"lab_profile = \"lab_profile.toml\"\nlocation = \"sorption-annex\"\n"
+              "material_class = \"pharmaceutical_powder\"\n",
+              "client = \"Pellwick Excipients (fictional)\"\n"
+              "client_address = \"2 Tablet Row, Pellwick PW3 5EX, Fictland\"\n"
+              "client_contact = \"Dr A. Vasquez-Hale, a.vasquez-hale@pellwick.example\"\n"
+              "received_date = \"2026-04-14\"\n"
+              "condition = \"sealed amber glass vial, powder free-flowing\"\n",
+              "[sampling]\nby = \"customer\"\nplan = \"batch EX-12-0426, retained sample "
+              "(fictional)\"\n"});
     const double x80 = excipient.X(0.8);
     // Ph. Eur. 5.11 classes (thresholds from memory): slightly 0.2-2 %, hygroscopic 2-15 %,
     // very hygroscopic >= 15 % mass increase at 25 degC / 80 % RH.
@@ -641,11 +717,24 @@ int main(int argc, char** argv) {
           {{"temperature_C", run.temperature_C}, {"branch", "desorption"}, {"gab", des.Json()}});
       steps[did] = StepsJson(log.steps);
     }
-    Write(dir / "job.toml", LogJob("HBPL-2026-0322", "2026-05-29", "2026-04-22 to 2026-05-02",
-                                   "Wood-fibre board WF-160 (fictional)",
-                                   "Wet-process wood-fibre insulation board, 160 kg/m3; adsorption "
-                                   "and desorption at 23 and 40 degC",
-                                   "desiccant_step", datasets, {{"W2", 160.0}, {"W3", 160.0}}));
+    WriteJob(
+        dir,
+        LogJob("HBPL-2026-0322", "2026-05-29", "2026-04-22 to 2026-05-02",
+               "Wood-fibre board WF-160 (fictional)",
+               "Wet-process wood-fibre insulation board, 160 kg/m3; adsorption "
+               "and desorption at 23 and 40 degC",
+               "desiccant_step", datasets, {{"W2", 160.0}, {"W3", 160.0}}),
+        {"lab_profile = \"lab_profile.toml\"\nlocation = \"sorption-annex\"\n"
+         "material_class = \"wood_or_fibre\"\nmethod = \"iso_12571_climatic_chamber\"\n"
+         "revision = 1\nsupersedes = \"HBPL-2026-0322 issued 2026-05-12\"\n"
+         "revision_reason = \"client address corrected\"\n",
+         "client = \"Fernvale Fibreboards (fictional)\"\n"
+         "client_address = \"Unit 9, Fernvale Industrial Estate, Fernvale FV1 2AB, Fictland\"\n"
+         "client_contact = \"P. Okafor-Lind, quality@fernvale.example\"\n"
+         "received_date = \"2026-04-15\"\n"
+         "condition = \"two board offcuts 300 x 300 mm, dry, undamaged\"\n",
+         "[sampling]\nby = \"laboratory\"\n"
+         "plan = \"HBPL-SP-07 (fictional): specimens cut from the board centre\"\n"});
     // Net isosteric heat from the truth at fixed moisture contents (Clausius-Clapeyron between
     // the two temperatures): q = R ln(a2/a1) / (1/T1 - 1/T2).
     const double T1 = CelsiusToKelvin(23.0), T2 = CelsiusToKelvin(40.0);

@@ -183,6 +183,10 @@ IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
   }
   internal::CheckDistinctDataSources(
       sources, std::vector<InputFileRecord>(result.inputs.begin() + 1, result.inputs.end()));
+  if (job.lab_profile) {
+    result.inputs.push_back(
+        Record("lab_profile", job.lab_profile->file, job.lab_profile->file_as_written));
+  }
 
   std::vector<internal::SpecimenMasses> masses;  // for the plausibility rules across files
   for (const DataSetSpec& dataset : job.datasets) {

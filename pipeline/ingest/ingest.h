@@ -62,6 +62,46 @@ std::string_view TestMethodName(TestMethod method);
 // "ISO 12571:2021, climatic-chamber method", "ASTM C1498-04a"; "" for kUnstated.
 std::string_view TestMethodCitation(TestMethod method);
 
+// The laboratory that issues the report: a TOML file kept apart from the report templates
+// and named by the job ([job] lab_profile; docs/input-formats.md, "Laboratory profile").
+// Without one the sheet is a draft (DRAFT on every page). ISO/IEC 17025:2017, 7.8.2.1 b
+// (name and address of the laboratory) and o (the person(s) authorizing the report).
+struct Signatory {
+  std::string name;
+  std::string role;  // e.g. "technical manager"
+};
+// A place where the laboratory performs tests (7.8.2.1 c): its own premises, a site or a
+// mobile facility.
+struct LabLocation {
+  std::string id;       // referred to by [job] location
+  std::string address;  // as printed
+};
+struct LabProfile {
+  std::filesystem::path file;   // resolved
+  std::string file_as_written;  // as the job file gives it
+  std::string name;
+  std::string address;
+  std::string contact;               // telephone / e-mail line, optional
+  std::string accreditation_number;  // empty: not accredited (no accreditation printed)
+  std::string accreditation_body;    // required with a number
+  std::vector<Signatory> signatories;
+  std::vector<LabLocation> locations;  // none: the work is done at `address`
+};
+
+// Reads a laboratory profile (`display`: the file as messages name it). Every key is known or
+// refused; problems are InputErrors at the profile's line and column.
+LabProfile LoadLabProfile(const std::filesystem::path& file, const std::string& display);
+
+// Who took the sample the lab tested ([sampling] by): 7.8.2.1 i, 7.8.2.2, 7.8.5.
+enum class SamplingBy { kUnstated, kLaboratory, kCustomer };
+std::string_view SamplingByName(SamplingBy by);  // "laboratory", "customer", ""
+
+struct SamplingSpec {
+  SamplingBy by = SamplingBy::kUnstated;
+  std::string plan;  // reference of the sampling plan / method (by the laboratory)
+  std::string date;  // ISO 8601 date of sampling, optional
+};
+
 // How a CSV file is written (declared in the job file; defaults in brackets). The unit
 // fields are empty unless the job file declares them: normally the CSV header carries the
 // unit in the column name ("mass_mg"); a declared unit serves a bare column name ("mass")
@@ -125,6 +165,19 @@ struct JobSpec {
   bool allow_data_outside_job_folder = false;
   MaterialClass material_class = MaterialClass::kUnstated;  // [job] material_class
   TestMethod test_method = TestMethod::kUnstated;           // [job] method
+  // Issue of the report (ISO/IEC 17025:2017, 7.8.2.1 and 7.8.8).
+  std::optional<LabProfile> lab_profile;  // [job] lab_profile; none: a draft
+  std::string work_location;              // where the work was done: the chosen location's
+                                          // address ([job] location), else the lab's address
+  int revision = 0;                       // [job] revision: 0 original, n-th amendment
+  std::string supersedes;                 // [job] supersedes: report replaced (revision >= 1)
+  std::string revision_reason;            // [job] revision_reason
+  // The customer and the item ([material]): 7.8.2.1 e, i.
+  std::string client_address;
+  std::string client_contact;
+  std::string received_date;   // ISO 8601 date of receipt of the item
+  std::string item_condition;  // condition of the item on receipt
+  SamplingSpec sampling;       // [sampling]
   DryMassMethod dry_mass_method = DryMassMethod::kOvenDrying;
   double drying_temperature_K = 378.15;  // 105 degC, ISO 12570 default
   double balance_resolution_g = 1e-4;

@@ -284,6 +284,118 @@ void CheckUncertaintyBounds(const JobFileReader& in, const toml::table& measurem
   job->balance_uncertainty_where = where("balance_standard_uncertainty_g");
 }
 
+// An optional ISO 8601 date; "" when absent.
+std::string OptionalDate(const JobFileReader& in, const toml::table& table,
+                         std::string_view section, std::string_view key) {
+  const std::string date = in.String(table, section, key, false).value_or("");
+  if (!date.empty() && !internal::IsIsoDate(date)) {
+    in.Fail(*table.get(key), std::string(key) + " '" + Excerpt(date) + "' is not a date",
+            "an ISO 8601 date YYYY-MM-DD");
+  }
+  return date;
+}
+
+// [job] revision, supersedes, revision_reason: an amended report names the one it replaces
+// (ISO/IEC 17025:2017, 7.8.8.2 and 7.8.8.3).
+void ReadRevision(const JobFileReader& in, const toml::table& job_table, JobSpec* job) {
+  if (const auto revision = in.Number(job_table, "[job]", "revision", false)) {
+    if (!(*revision >= 0.0 && *revision <= 999.0 && *revision == std::floor(*revision))) {
+      in.Fail(*job_table.get("revision"), "revision is not a whole number from 0 to 999",
+              "0 for the original report, 1, 2, ... for amendments");
+    }
+    job->revision = static_cast<int>(*revision);
+  }
+  job->supersedes = in.String(job_table, "[job]", "supersedes", false).value_or("");
+  job->revision_reason = in.String(job_table, "[job]", "revision_reason", false).value_or("");
+  if (job->revision > 0 && job->supersedes.empty()) {
+    in.Fail(*job_table.get("revision"),
+            "revision " + std::to_string(job->revision) + " does not say which report it replaces",
+            "supersedes = \"<number of the report replaced>\" in [job]");
+  }
+  for (const char* key : {"supersedes", "revision_reason"}) {
+    if (job->revision == 0 && job_table.get(key) != nullptr) {
+      in.Fail(*job_table.get(key), std::string(key) + " is given for an original report",
+              "revision = 1 (or higher) in [job] for a report that replaces another");
+    }
+  }
+}
+
+// [job] lab_profile (read here: `check` validates it like every other input) and [job]
+// location, which names one of its [[location]] entries.
+void ReadLabProfile(const JobFileReader& in, const std::filesystem::path& job_dir,
+                    const toml::table& job_table, JobSpec* job) {
+  const auto written = in.String(job_table, "[job]", "lab_profile", false);
+  const toml::node* location = job_table.get("location");
+  if (!written) {
+    if (location != nullptr) {
+      in.Fail(*location, "location is given without a laboratory profile",
+              "lab_profile = \"<profile file>\" in [job] (its [[location]] ids)");
+    }
+    return;
+  }
+  const toml::node& key = *job_table.get("lab_profile");
+  const std::filesystem::path path = (job_dir / *written).lexically_normal();
+  // The data-path policy of data files and templates (LiesInsideFolder).
+  if (!job->allow_data_outside_job_folder && !LiesInsideFolder(*written, job_dir)) {
+    in.Fail(key,
+            "laboratory profile '" + Excerpt(*written) + "' lies outside the job file's folder",
+            "a profile file inside the job file's folder tree (or "
+            "allow_data_outside_job_folder = true in [job] for a profile kept elsewhere)");
+  }
+  const std::string problem = written->empty() ? "not found" : RegularFileProblem(path);
+  if (!problem.empty()) {
+    in.Fail(key,
+            "laboratory profile '" + Excerpt(*written) + "' " + problem + " (looked for " +
+                Excerpt(path.string(), 200) + ")",
+            "an existing laboratory profile file, relative to the job file");
+  }
+  LabProfile profile = LoadLabProfile(path, path.string());
+  profile.file_as_written = *written;
+  job->work_location = profile.address;
+  if (location != nullptr) {
+    const std::string id = *in.String(job_table, "[job]", "location", true);
+    const auto found = std::find_if(profile.locations.begin(), profile.locations.end(),
+                                    [&](const LabLocation& l) { return l.id == id; });
+    if (found == profile.locations.end()) {
+      std::string ids;
+      for (const LabLocation& l : profile.locations)
+        ids += (ids.empty() ? "\"" : ", \"") + l.id + "\"";
+      in.Fail(
+          *location,
+          "location '" + Excerpt(id) + "' is not a [[location]] of the laboratory profile",
+          ids.empty() ? "no location key (the profile lists no [[location]])" : "one of " + ids);
+    }
+    job->work_location = found->address;
+  } else if (profile.locations.size() > 1) {
+    in.Fail(key, "the laboratory profile lists several [[location]] entries",
+            "location = \"<id>\" in [job]: where this work was done");
+  } else if (profile.locations.size() == 1) {
+    job->work_location = profile.locations.front().address;
+  }
+  job->lab_profile = std::move(profile);
+}
+
+// [sampling]: who took the item tested, to which plan (ISO/IEC 17025:2017, 7.8.2.1 i, 7.8.2.2,
+// 7.8.5).
+void ReadSampling(const JobFileReader& in, const toml::table& root, JobSpec* job) {
+  if (root.get("sampling") == nullptr) return;
+  const toml::table& table = in.Table(root, "sampling");
+  constexpr std::string_view kSa = "[sampling]";
+  in.CheckKeys(table, kSa, {"by", "plan", "date"});
+  const std::string by =
+      *in.Choice(table, kSa, "by", true,
+                 {SamplingByName(SamplingBy::kLaboratory), SamplingByName(SamplingBy::kCustomer)});
+  job->sampling.by = by == SamplingByName(SamplingBy::kLaboratory) ? SamplingBy::kLaboratory
+                                                                   : SamplingBy::kCustomer;
+  job->sampling.plan = in.String(table, kSa, "plan", false).value_or("");
+  job->sampling.date = OptionalDate(in, table, kSa, "date");
+  if (job->sampling.by == SamplingBy::kLaboratory && job->sampling.plan.empty()) {
+    in.Fail(table, "sampling by the laboratory without a sampling plan",
+            "plan = \"<reference of the sampling plan>\" in [sampling] (ISO/IEC 17025:2017, "
+            "7.8.5)");
+  }
+}
+
 }  // namespace
 
 std::string_view MaterialClassName(MaterialClass material_class) {
@@ -366,7 +478,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     const std::string_view name = key.str();
     const bool ours = name == "job" || name == "material" || name == "measurement" ||
                       name == "specimen" || name == "dataset" || name == "retention" ||
-                      name == "specification";
+                      name == "sampling" || name == "specification";
     const bool theirs = std::find(std::begin(kOtherStagesTables), std::end(kOtherStagesTables),
                                   name) != std::end(kOtherStagesTables);
     if (!ours && !theirs) {
@@ -374,7 +486,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
               "unknown top-level " + std::string(value.is_table() ? "table [" : "key '") +
                   std::string(name) + (value.is_table() ? "]" : "'"),
               "tables [job], [material], [measurement], [[specimen]], [[dataset]], "
-              "[retention], [[specification]], [equilibrium], [fit], [pores], [report]");
+              "[retention], [sampling], [[specification]], [equilibrium], [fit], [pores], [report]");
     }
   }
 
@@ -382,7 +494,8 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
   const toml::table& job_table = in.Table(root, "job");
   in.CheckKeys(job_table, "[job]",
                {"id", "issue_date", "template", "test_dates", "allow_data_outside_job_folder",
-                "material_class", "method"});
+                "material_class", "method", "lab_profile", "location", "revision", "supersedes",
+                "revision_reason"});
   job.job_id = *in.String(job_table, "[job]", "id", true);
   job.issue_date = *in.String(job_table, "[job]", "issue_date", true);
   if (!internal::IsIsoDate(job.issue_date)) {
@@ -410,12 +523,22 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     job.test_method = TestMethodFromName(*name);
   }
 
+  ReadRevision(in, job_table, &job);
+  ReadLabProfile(in, job_dir, job_table, &job);
+
   // [material]
   const toml::table& material = in.Table(root, "material");
-  in.CheckKeys(material, "[material]", {"name", "description", "client"});
+  in.CheckKeys(material, "[material]",
+               {"name", "description", "client", "client_address", "client_contact",
+                "received_date", "condition"});
   job.material_name = *in.String(material, "[material]", "name", true);
   job.material_description = in.String(material, "[material]", "description", false).value_or("");
   job.client = in.String(material, "[material]", "client", false).value_or("");
+  job.client_address = in.String(material, "[material]", "client_address", false).value_or("");
+  job.client_contact = in.String(material, "[material]", "client_contact", false).value_or("");
+  job.received_date = OptionalDate(in, material, "[material]", "received_date");
+  job.item_condition = in.String(material, "[material]", "condition", false).value_or("");
+  ReadSampling(in, root, &job);
 
   // [measurement]
   const toml::table& measurement = in.Table(root, "measurement");

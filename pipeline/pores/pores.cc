@@ -4,6 +4,7 @@
 #include "pipeline/pores/pores.h"
 
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 
 #include <algorithm>
 #include <cmath>
@@ -88,6 +89,7 @@ internal::FittedCurve CurveOf(const fit::IsothermFits& fits, int index) {
   c.model = model;
   c.name = f.model_name;
   c.parameters = f.result.parameters;
+  c.fit = &f;
   if (f.result.summary.covariance_available) c.covariance = f.result.covariance;
   c.context.temperature_K = group.temperature_K;
   c.branch = group.branch;
@@ -357,6 +359,18 @@ void StepwisePoints(const fit::FitGroup& group, const reduce::ReducedIsotherms& 
         }
       }
     }
+    // The specimen term (fit::SpecimenFactor: specimens that differ from each other do so at
+    // every step): one shared part per factor, y_i w_i u_k, drawn once per draw for every point
+    // it acts on, as the fit stage draws it; u_moisture_kg_per_kg above includes it.
+    for (const fit::SpecimenFactor& factor : group.specimen_factors) {
+      const double w = i < factor.weights.size() ? factor.weights[i] : 0.0;
+      if (w == 0.0 || !(factor.relative_standard_uncertainty > 0.0)) continue;
+      internal::CommonPart part;
+      part.source = SourceIndex(sources, fmt::format("{}: specimen term ({})", factor.dataset_id,
+                                                     fmt::join(factor.specimen_ids, ", ")));
+      part.moisture_kg_per_kg = o.y * w * factor.relative_standard_uncertainty;
+      p.common.push_back(part);
+    }
     points->push_back(std::move(p));
   }
 }
@@ -550,7 +564,8 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
   try {
     out.surface_areas = internal::SurfaceAreas(monolayer_fits, options);
     for (const ReferenceCondition& c : options.reference_conditions) {
-      out.reference_moisture.push_back(internal::ReferenceMoistureFor(c, best_adsorption, options));
+      out.reference_moisture.push_back(
+          internal::ReferenceMoistureFor(c, best_adsorption, fits, options));
     }
     out.hygroscopicity =
         internal::HygroscopicityFrom(best_adsorption, fits.coverage_factor, options);

@@ -9,6 +9,7 @@
 #pragma once
 
 #include <cstdint>
+#include <limits>
 #include <optional>
 #include <string>
 #include <utility>
@@ -227,7 +228,12 @@ struct ReferenceMoisture {
   ingest::Branch branch = ingest::Branch::kAdsorption;
   double moisture_kg_per_kg = 0.0;
   double u_moisture_kg_per_kg = 0.0;  // standard
-  bool temperature_matches = true;    // false: fitted at another temperature (flagged)
+  // Of the expanded uncertainty: fit::CurveUncertainty of the fit read (Welch-Satterthwaite
+  // nu_eff over the independent part and the specimen factors, Student-t k for 95 %; the
+  // nominal k where nu_eff is infinite).
+  double effective_dof = std::numeric_limits<double>::infinity();
+  double coverage_factor = 2.0;
+  bool temperature_matches = true;  // false: fitted at another temperature (flagged)
   std::vector<std::string> flags;
 };
 

@@ -174,8 +174,9 @@ std::vector<SurfaceArea> SurfaceAreas(const std::vector<FittedCurve>& gab_bet_fi
 
 ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
                                        const std::vector<FittedCurve>& best_adsorption,
-                                       const PoreOptions& options) {
+                                       const fit::IsothermFits& fits, const PoreOptions& options) {
   ReferenceMoisture r;
+  r.coverage_factor = fits.coverage_factor;
   r.condition = condition;
   r.branch = ingest::Branch::kAdsorption;
   if (best_adsorption.empty()) {
@@ -193,6 +194,12 @@ ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
   r.model_name = best->name;
   r.moisture_kg_per_kg = best->Value(condition.rh_fraction);
   r.u_moisture_kg_per_kg = best->StandardUncertainty(condition.rh_fraction);
+  if (best->fit != nullptr) {
+    const fit::DerivedUncertainty derived =
+        fit::CurveUncertainty(fits, *best->fit, condition.rh_fraction);
+    r.effective_dof = derived.effective_dof;
+    r.coverage_factor = derived.coverage_factor;
+  }
   r.temperature_matches =
       std::abs(best->temperature_K - condition.temperature_K) <= options.temperature_tolerance_K;
   if (!r.temperature_matches) {

@@ -30,6 +30,7 @@ struct FittedCurve {
   double temperature_K = 0.0;
   double rh_min_fraction = 0.0;  // measured range of the group
   double rh_max_fraction = 1.0;
+  const fit::ModelFit* fit = nullptr;  // the fit it was made from (for fit::CurveUncertainty)
 
   double Value(double rh_fraction) const;
   // Delta method: sqrt(g' C g), g = df/dp at rh; 0 without covariance.
@@ -58,9 +59,11 @@ double InvertForRh(const FittedCurve& curve, double moisture_kg_per_kg, double r
 // Builders used by AnalysePores.
 std::vector<SurfaceArea> SurfaceAreas(const std::vector<FittedCurve>& gab_bet_fits,
                                       const PoreOptions& options);
+// The moisture content at a reference condition from the best adsorption curve nearest in
+// temperature; its coverage factor from fit::CurveUncertainty (fits: where the curves come from).
 ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
                                        const std::vector<FittedCurve>& best_adsorption,
-                                       const PoreOptions& options);
+                                       const fit::IsothermFits& fits, const PoreOptions& options);
 // coverage_factor: k of the expanded uncertainty, to say when a class boundary lies within it.
 Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorption,
                                   double coverage_factor, const PoreOptions& options);

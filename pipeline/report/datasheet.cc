@@ -215,7 +215,8 @@ void StartSection(Document& doc, const Section& section) {
 
 RenderedPdf RenderPdf(const Sheet& sheet, const Template& layout, const ReportOptions& options,
                       const std::string& software_version) {
-  Document doc(layout, options, sheet.report_number, PlainVersion(software_version));
+  Document doc(layout, options, sheet.report_number, PlainVersion(software_version),
+               sheet.letterhead);
   doc.NewPage();
   if (layout.compact) doc.set_allow_new_pages(false);
   for (const Section& section : sheet.sections) {

@@ -65,11 +65,12 @@ void Document::OnError(HPDF_STATUS error, HPDF_STATUS detail, void* user_data) {
 }
 
 Document::Document(const Template& layout, const ReportOptions& options, std::string report_number,
-                   std::string software_version)
+                   std::string software_version, Letterhead letterhead)
     : layout_(layout),
       report_number_(std::move(report_number)),
       software_version_(std::move(software_version)),
-      document_date_(options.document_date) {
+      document_date_(options.document_date),
+      letterhead_(std::move(letterhead)) {
   const std::filesystem::path regular = options.font_directory / "DejaVuSans.ttf";
   const std::filesystem::path bold = options.font_directory / "DejaVuSans-Bold.ttf";
   for (const auto& font : {regular, bold}) {
@@ -122,7 +123,8 @@ void Document::SetUpDocument(const std::filesystem::path& regular,
   // clock); strings pass the same cleaning and length limits as the printed text.
   internal::DocumentIdentity identity;
   identity.title = plot::PrintableText(layout_.title);
-  identity.author = plot::PrintableText(layout_.lab_name.empty() ? "sorbtrace" : layout_.lab_name);
+  identity.author =
+      plot::PrintableText(letterhead_.lab_name.empty() ? "sorbtrace" : letterhead_.lab_name);
   identity.subject = plot::PrintableText(report_number_);
   identity.creator = plot::PrintableText("sorbtrace " + software_version_);
   identity.producer = identity.creator + " (libharu " + HPDF_GetVersion() + ")";
@@ -163,7 +165,16 @@ void Document::NewPage() {
   top_ = page_height_ - margin - kHeaderHeight;
   bottom_ = margin + kFooterHeight;
   cursor_ = top_;
+  if (letterhead_.draft) DrawWatermark();
   DrawHeader();
+}
+
+// Large, light and under everything else drawn on the page (PDF/A-1 allows no transparency).
+void Document::DrawWatermark() {
+  constexpr double kSize_pt = 120.0;
+  constexpr plot::Color kLight{0.84, 0.85, 0.88};
+  canvas_->Text(page_width_ / 2.0, page_height_ / 2.0, kDraftWatermark, kSize_pt,
+                Canvas::Align::kCenter, true, kLight);
 }
 
 void Document::NewPageIfUsed() {
@@ -177,10 +188,11 @@ void Document::DrawHeader() {
   // A short, thick accent bar at the left and a thin rule across: the sheet's mark.
   c.FillRect({left_, y_top - 3.0, 46.0, 3.0}, kAccent);
   c.Line(left_ + 46.0, y_top - 2.5, right_, y_top - 2.5, 0.4, palette::kSlate);
-  const std::string lab = layout_.lab_name.empty() ? "Laboratory" : layout_.lab_name;
+  const std::string lab =
+      letterhead_.draft ? std::string(kDraftWatermark) + ": not for issue" : letterhead_.lab_name;
   c.Text(left_, y_top - 14.0, lab, 9.0, Canvas::Align::kLeft, true);
-  if (!layout_.lab_address.empty()) {
-    c.Text(left_, y_top - 23.5, layout_.lab_address, 7.0, Canvas::Align::kLeft, false,
+  if (!letterhead_.lab_address.empty()) {
+    c.Text(left_, y_top - 23.5, letterhead_.lab_address, 7.0, Canvas::Align::kLeft, false,
            palette::kSlate);
   }
   c.Text(right_, y_top - 14.0, layout_.title, 9.0, Canvas::Align::kRight, true, kAccent);

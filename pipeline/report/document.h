@@ -12,6 +12,7 @@
 
 #include "pipeline/report/plot/plot.h"
 #include "pipeline/report/report.h"
+#include "pipeline/report/sheet.h"
 
 namespace sorbtrace::report {
 
@@ -23,9 +24,11 @@ struct TableColumn {
 
 class Document {
  public:
-  // Loads the fonts from options.font_directory (InputError naming the file if missing).
+  // Loads the fonts from options.font_directory (InputError naming the file if missing). The
+  // letterhead names the laboratory in the running header; a draft's pages carry the DRAFT
+  // watermark.
   Document(const Template& layout, const ReportOptions& options, std::string report_number,
-           std::string software_version);
+           std::string software_version, Letterhead letterhead);
   ~Document();
   Document(const Document&) = delete;
   Document& operator=(const Document&) = delete;
@@ -76,6 +79,7 @@ class Document {
   // Fonts, encoder and document information (the constructor frees pdf_ if this throws).
   void SetUpDocument(const std::filesystem::path& regular, const std::filesystem::path& bold);
   void DrawHeader();
+  void DrawWatermark();  // drafts: under the page's content
   double TableRowHeight(const std::vector<TableColumn>& columns,
                         const std::vector<std::string>& cells, double size_pt, bool bold) const;
   void TableRow(const std::vector<TableColumn>& columns, const std::vector<std::string>& cells,
@@ -85,6 +89,7 @@ class Document {
   std::string report_number_;
   std::string software_version_;
   std::string document_date_;
+  Letterhead letterhead_;
   HPDF_Doc pdf_ = nullptr;
   HPDF_Font regular_ = nullptr;
   HPDF_Font bold_ = nullptr;

@@ -60,6 +60,8 @@ svg { display: block; width: 100%; height: auto; }
 .signatures { display: flex; flex-wrap: wrap; gap: 1rem 2rem; margin-top: 1rem; }
 .signature { flex: 1 1 12rem; border-top: 1px solid var(--slate); padding-top: 0.3rem; margin-top: 2rem; }
 footer { margin-top: 2rem; padding-top: 0.5rem; border-top: 1px solid var(--rule); }
+.watermark { position: fixed; top: 40%; left: 0; right: 0; text-align: center; z-index: -1;
+  font-size: 8rem; font-weight: bold; color: #e6e6eb; transform: rotate(-30deg); pointer-events: none; }
 @media (max-width: 40rem) {
   body { font-size: 14px; }
   .sheet { padding: 0.75rem; }
@@ -217,15 +219,22 @@ std::string Masthead(const Sheet& sheet, const Template& layout, const ReportOpt
   return fmt::format(
       "<header class=\"masthead\">\n<div><p class=\"lab\">{}</p><p class=\"address\">{}</p></div>\n"
       "<div><h1>{}</h1><p class=\"report-line\">{}</p></div>\n</header>\n",
-      Html(layout.lab_name.empty() ? "Laboratory" : layout.lab_name), Html(layout.lab_address),
-      Html(layout.title), Html(line));
+      Html(sheet.letterhead.draft ? std::string(kDraftWatermark) + ": not for issue"
+                                  : sheet.letterhead.lab_name),
+      Html(sheet.letterhead.lab_address), Html(layout.title), Html(line));
+}
+
+// A draft's watermark: fixed to the viewport, so a browser repeats it on every printed page.
+std::string Watermark(const Sheet& sheet) {
+  if (!sheet.letterhead.draft) return "";
+  return fmt::format("<div class=\"watermark\" aria-hidden=\"true\">{}</div>\n", kDraftWatermark);
 }
 
 }  // namespace
 
 std::string RenderHtml(const Sheet& sheet, const Template& layout, const ReportOptions& options) {
   // The PDF document supplies the font metrics, so figures break and space as on the PDF.
-  Document metrics(layout, options, sheet.report_number, "");
+  Document metrics(layout, options, sheet.report_number, "", sheet.letterhead);
   metrics.NewPage();
   HtmlContext ctx{metrics.canvas(), metrics.width()};
   std::string out = fmt::format(
@@ -233,7 +242,7 @@ std::string RenderHtml(const Sheet& sheet, const Template& layout, const ReportO
       "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n"
       "<title>{} – report {}</title>\n<style>{}</style>\n</head>\n<body>\n<div class=\"sheet\">\n",
       Html(layout.title), Html(sheet.report_number), kStyle);
-  out += Masthead(sheet, layout, options) + "<main>\n";
+  out += Watermark(sheet) + Masthead(sheet, layout, options) + "<main>\n";
   for (const Section& section : sheet.sections) {
     out += fmt::format(
         "<section id=\"section-{0}\" aria-labelledby=\"heading-{0}\">\n"

@@ -22,23 +22,19 @@ namespace sorbtrace::report {
 
 enum class PageSize { kA4, kLetter };
 
-// A report template (templates/*.toml): layout, the lab's identity, units, precision rules,
-// sections and reference conditions. LoadTemplate rejects unknown keys naming the key.
+// A report template (templates/*.toml): layout, units, precision rules, sections and reference
+// conditions. LoadTemplate rejects unknown keys naming the key. The laboratory's identity is
+// not part of a template: it comes from the job's laboratory profile (ingest::LabProfile).
 struct Template {
   std::string name;                                   // e.g. "full", "summary"
   std::string title = "Moisture sorption datasheet";  // printed at the top of every page
   PageSize page_size = PageSize::kA4;
   double margin_mm = 18.0;
-  // Lab header fields.
-  std::string lab_name;
-  std::string lab_address;
-  std::string accreditation;
-  std::vector<std::string> signatories;  // "Name, role"
   // Units and precision.
   bool moisture_in_percent = true;  // else kg/kg
   int uncertainty_significant_digits = 2;
   // Sections in order: "summary", "conformity", "isotherm", "models", "pores", "kinetics",
-  // "equilibria", "method", "cautions".
+  // "equilibria", "method", "deviations", "cautions".
   std::vector<std::string> sections;
   // One-page layout: the summary, a small isotherm figure and the cautions share page 1;
   // further sections are left out (the summary template).

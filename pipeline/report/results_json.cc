@@ -433,8 +433,10 @@ void AddDerivedJson(const pores::PoreAnalysis& pa, const fit::IsothermFits* fits
   out["surface_area"] = areas;
   Json reference = Json::array();
   for (const pores::ReferenceMoisture& r : pa.reference_moisture) {
+    DisplayRules own = rules;
+    own.coverage_factor = r.coverage_factor;  // Student-t from nu_eff (pores.h)
     Json j = QuantityJson(MoistureQuantity("reference_moisture", "moisture content",
-                                           r.moisture_kg_per_kg, r.u_moisture_kg_per_kg, rules));
+                                           r.moisture_kg_per_kg, r.u_moisture_kg_per_kg, own));
     j["temperature_K"] = Number(r.condition.temperature_K);
     // The temperature of the isotherm the value was read from (the reference temperature
     // only where temperature_matches).
@@ -611,6 +613,7 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
                     {"uncertainty_significant_digits", sheet.rules.significant_digits},
                     {"coverage_factor", Number(sheet.rules.coverage_factor)}};
   root["job"] = JobJson(inputs);
+  root["issue"] = IssueJson(inputs, sheet);
   Json files = Json::array();
   if (inputs.ingested != nullptr) {
     for (const ingest::InputFileRecord& f : inputs.ingested->inputs) {

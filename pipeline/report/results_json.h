@@ -11,9 +11,9 @@
 
 namespace sorbtrace::report {
 
-// Top-level keys, in order: schema, software, report, job, inputs, settings, headline,
-// hygroscopicity_class, conformity (one statement per [[specification]], possibly none),
-// best_model, cautions, standing_statements, equilibria, isotherm, fits, pores.
+// Top-level keys, in order: schema, software, report, job, issue (IssueJson), inputs, settings,
+// headline, hygroscopicity_class, conformity (one statement per [[specification]], possibly
+// none), best_model, cautions, standing_statements, equilibria, isotherm, fits, pores.
 // "headline" keys are unique within a job and name what a value belongs to, temperature in
 // °C ("23C", "23p4C"): moisture_23C_50RH_adsorption; a reference condition whose temperature
 // was not measured is keyed by the temperature it was read at and the reference,

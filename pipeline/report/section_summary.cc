@@ -3,7 +3,6 @@
 // section.
 #include <fmt/format.h>
 
-#include <set>
 #include <utility>
 
 #include "pipeline/report/format.h"
@@ -17,41 +16,20 @@ namespace {
 constexpr size_t kMaxSummaryCautions = 12;
 constexpr size_t kMaxCompactSummaryCautions = 4;
 
-std::string MethodText(const ingest::IngestResult& ingested) {
-  std::set<std::string> methods;
-  for (const ingest::DataSetSpec& d : ingested.job.datasets) {
-    methods.insert(d.method == ingest::Method::kDesiccator
-                       ? "desiccator series over saturated salt solutions"
-                       : "dynamic vapour sorption (continuous mass log)");
-  }
-  std::string out;
-  for (const std::string& m : methods) out += (out.empty() ? "" : "; ") + m;
-  return out;
-}
-
+// The front matter (sheet.front_matter) and where the deviations from the method are listed.
 FactsBlock JobFacts(const SectionContext& ctx) {
   FactsBlock facts;
   if (ctx.inputs.ingested == nullptr) return facts;
-  auto& rows = facts.rows;
-  const ingest::JobSpec& job = ctx.inputs.ingested->job;
-  rows.emplace_back("Material", PrintedField(job.material_name));
-  if (!job.material_description.empty())
-    rows.emplace_back("Description", PrintedField(job.material_description));
-  if (!job.client.empty()) rows.emplace_back("Client", PrintedField(job.client));
-  std::string specimens;
-  for (const ingest::SpecimenSpec& s : job.specimens) {
-    specimens += (specimens.empty() ? "" : ", ") + s.id;
+  facts.rows = ctx.sheet.front_matter;
+  facts.label_width_pt = 132.0;  // "Deviations from the method" on one line at 8.5 pt
+  const int section = ctx.sheet.SectionNumber("deviations");
+  const size_t n = ctx.sheet.deviations.size();
+  std::string deviations = n == 0 ? "none" : fmt::format("{} (", n);
+  if (n > 0) {
+    deviations += section > 0 ? fmt::format("listed in section {})", section)
+                              : "listed in results.json, \"issue\")";
   }
-  rows.emplace_back("Specimens",
-                    fmt::format("{} ({})", job.specimens.size(), PrintedField(specimens)));
-  rows.emplace_back("Method", MethodText(*ctx.inputs.ingested));
-  std::string temperatures;
-  for (double t : DistinctTemperatures(ctx.inputs)) {
-    temperatures += (temperatures.empty() ? "" : ", ") + TemperatureLabel(t);
-  }
-  if (!temperatures.empty()) rows.emplace_back("Temperature", temperatures);
-  if (!job.test_dates.empty()) rows.emplace_back("Test dates", PrintedField(job.test_dates));
-  rows.emplace_back("Issued", job.issue_date.empty() ? ctx.options.document_date : job.issue_date);
+  facts.rows.emplace_back("Deviations from the method", deviations);
   return facts;
 }
 
@@ -64,7 +42,11 @@ TableBlock ResultsTable(const SectionContext& ctx, bool compact) {
   table.size_pt = compact ? 7.5 : 8.0;
   for (const Quantity& q : ctx.sheet.headline) {
     if (compact && q.key.rfind("best_", 0) == 0) continue;
-    table.rows.push_back({{q.label, ""}, {q.text, q.key}});
+    // k beside a value only where its two-digit value differs from the sheet's (as for points).
+    const std::string k = CoverageText(q.coverage_factor);
+    const bool own_k =
+        q.standard_uncertainty > 0.0 && k != CoverageText(ctx.sheet.rules.coverage_factor);
+    table.rows.push_back({{q.label, ""}, {own_k ? q.text + " (k = " + k + ")" : q.text, q.key}});
   }
   table.rows.push_back({{"Hygroscopicity class (Ph. Eur. 5.11)", ""},
                         {ctx.sheet.hygroscopicity_class, "hygroscopicity_class"}});
@@ -142,8 +124,9 @@ void BuildSummarySection(const SectionContext& ctx, bool compact, Section& secti
   if (compact) section.blocks.emplace_back(SummaryFigure(ctx));
   section.blocks.emplace_back(SubheadingBlock{"Cautions"});
   section.blocks.emplace_back(SummaryCautions(ctx.sheet, compact));
-  if (!ctx.layout.signatories.empty()) {
-    section.blocks.emplace_back(SignaturesBlock{ctx.layout.signatories, ctx.layout.accreditation});
+  if (!ctx.sheet.letterhead.signatories.empty()) {
+    section.blocks.emplace_back(
+        SignaturesBlock{ctx.sheet.letterhead.signatories, ctx.sheet.letterhead.accreditation});
   }
 }
 

@@ -21,8 +21,8 @@ struct SectionContext {
   double moisture_scale() const { return sheet.rules.moisture_in_percent ? 100.0 : 1.0; }
 };
 
-// One builder per section key ("summary", "conformity", "isotherm", "models", "pores", "kinetics",
-// "equilibria", "method", "cautions"); compact: the one-page summary.
+// One builder per section key ("summary", "conformity", "isotherm", "models", "pores",
+// "kinetics", "equilibria", "method", "deviations", "cautions"); compact: the one-page summary.
 void BuildSummarySection(const SectionContext& ctx, bool compact, Section& section);
 void BuildConformitySection(const SectionContext& ctx, Section& section);
 void BuildIsothermSection(const SectionContext& ctx, Section& section);
@@ -31,6 +31,7 @@ void BuildPoresSection(const SectionContext& ctx, Section& section);
 void BuildKineticsSection(const SectionContext& ctx, Section& section);
 void BuildEquilibriaSection(const SectionContext& ctx, Section& section);
 void BuildMethodSection(const SectionContext& ctx, Section& section);
+void BuildDeviationsSection(const SectionContext& ctx, Section& section);
 void BuildCautionsSection(const SectionContext& ctx, Section& section);
 
 // The isotherm figure (best fits with their bands, measured points with U, retention

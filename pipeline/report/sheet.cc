@@ -309,6 +309,7 @@ std::string SectionTitle(const std::string& key) {
       {"kinetics", "Kinetics"},
       {"equilibria", "Equilibrium table"},
       {"method", "Method and traceability"},
+      {"deviations", "Deviations from the method"},
       {"cautions", "Cautions"}};
   for (const auto& [k, title] : kTitles) {
     if (k == key) return title;
@@ -333,6 +334,8 @@ void BuildSection(const internal::SectionContext& ctx, Section& section) {
     internal::BuildEquilibriaSection(ctx, section);
   } else if (section.key == "method") {
     internal::BuildMethodSection(ctx, section);
+  } else if (section.key == "deviations") {
+    internal::BuildDeviationsSection(ctx, section);
   } else if (section.key == "cautions") {
     internal::BuildCautionsSection(ctx, section);
   }
@@ -446,8 +449,12 @@ void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
          fmt::format("Moisture content at {} / {} % RH ({})", reference_t, rh, branch),
          fmt::format("not measured at {}; value at {}", reference_t, measured_t)});
   }
+  // Its own coverage factor (ReferenceMoisture::coverage_factor, Student-t from nu_eff).
+  DisplayRules rules = sheet.rules;
+  rules.coverage_factor = rm.coverage_factor;
   sheet.headline.push_back(MoistureQuantity(std::move(key), std::move(label), rm.moisture_kg_per_kg,
-                                            rm.u_moisture_kg_per_kg, sheet.rules));
+                                            rm.u_moisture_kg_per_kg, rules));
+  sheet.headline.back().degrees_of_freedom = rm.effective_dof;
 }
 
 // Headline: moisture at the reference conditions. A condition no isotherm could be read at
@@ -663,6 +670,23 @@ void MakeHeadlineUnique(Sheet& sheet) {
   }
 }
 
+// The issue facts: letterhead (a draft without a laboratory profile, said in run.log and by
+// `make`), front matter, deviations from the method and the end-of-report line.
+void AddFrontMatter(const ReportInputs& inputs, const ReportOptions& options, Sheet& sheet) {
+  const ingest::JobSpec* job = inputs.ingested != nullptr ? &inputs.ingested->job : nullptr;
+  sheet.letterhead = MakeLetterhead(job);
+  sheet.front_matter = FrontMatter(inputs, options);
+  sheet.deviations = MethodDeviations(inputs);
+  sheet.end_marker = "End of report " + sheet.report_number;
+  if (sheet.letterhead.draft) {
+    sheet.warnings.push_back(
+        {Severity::kWarning, SourceLocation{job != nullptr ? job->job_file.string() : "", 0, 0},
+         "the job names no laboratory profile: the datasheet is a draft (DRAFT on every page, "
+         "no laboratory, no signatures)",
+         "lab_profile = \"<profile file>\" in [job] to issue it"});
+  }
+}
+
 }  // namespace
 
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const ReportOptions& options) {
@@ -690,8 +714,18 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
   sheet.report_number = "draft";
   if (inputs.ingested != nullptr && !inputs.ingested->job.job_id.empty()) {
     sheet.report_number = PrintedField(inputs.ingested->job.job_id, kMaxReportNumberChars);
+    // An amended report is identified as such on every page (ISO/IEC 17025:2017, 7.8.8.3).
+    if (inputs.ingested->job.revision > 0) {
+      sheet.report_number += fmt::format(" rev. {}", inputs.ingested->job.revision);
+    }
   }
+  AddFrontMatter(inputs, options, sheet);
   sheet.sections = BuildSections(inputs, layout, options, sheet);
+  // ISO/IEC 17025:2017, 7.8.2.1 a: the end of the report is clearly identified.
+  if (!sheet.sections.empty()) {
+    sheet.sections.back().blocks.emplace_back(
+        ParagraphBlock{sheet.end_marker, 8.5, 0.0, false, true, 10.0});
+  }
   return sheet;
 }
 

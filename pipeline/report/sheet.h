@@ -207,6 +207,19 @@ struct ConformityStatement {
   std::string risk_text;
 };
 
+// The issuing laboratory as every page prints it (running header, signatures, PDF author):
+// from the job's laboratory profile. Without a profile the sheet is a draft: DRAFT on every
+// page (watermark), no laboratory named, no signature block.
+struct Letterhead {
+  bool draft = true;
+  std::string lab_name;
+  std::string lab_address;
+  std::string accreditation;             // "Accredited by BODY, No. NUMBER"; "" if none
+  std::vector<std::string> signatories;  // "Name, role"
+};
+// The watermark printed on every page of a draft (PDF and HTML).
+inline constexpr char kDraftWatermark[] = "DRAFT";
+
 struct Sheet {
   // The template's sections in print order (the one-page summary: "summary" only); a
   // section's number is its place in this list, so cross-references follow the template.
@@ -233,7 +246,13 @@ struct Sheet {
   std::vector<std::string> standing_cautions;  // the fixed statements of section 8
   std::vector<Diagnostic> warnings;            // the report's own findings (run.log)
   std::string report_number;                   // the job id as printed (running header)
-  std::vector<Section> sections;               // the document, in print order
+  Letterhead letterhead;
+  // The facts of the front matter (ISO/IEC 17025:2017, 7.8.2.1): label / value as printed.
+  std::vector<std::pair<std::string, std::string>> front_matter;
+  // Deviations from the method, each a sentence (section "deviations"); empty: none.
+  std::vector<std::string> deviations;
+  std::string end_marker;         // "End of report HBPL-2026-0307", the last line of the sheet
+  std::vector<Section> sections;  // the document, in print order
 };
 
 // The software version without a leading "sorbtrace " (the run stage may pass either form).
@@ -259,6 +278,24 @@ std::string BranchTemperatureKey(ingest::Branch branch, double temperature_K);
 // there is none.
 double MeasuredTemperature_K(const fit::IsothermFits* fits,
                              const pores::ReferenceMoisture& reference);
+
+// The letterhead of a job (a draft when it names no laboratory profile or `job` is null).
+Letterhead MakeLetterhead(const ingest::JobSpec* job);
+// The method as the sheet cites it, with its edition: the job's [job] method and the drying
+// standard of an oven dry mass, e.g. "ISO 12571:2021, desiccator method; dry mass by oven
+// drying at 105 °C (ISO 12570:2000)"; the procedure in words when the job names no method.
+std::string MethodCitation(const ingest::IngestResult& ingested);
+// The front-matter rows (laboratory, location, customer, item, sampling, method, report
+// identity and revision), in print order.
+std::vector<std::pair<std::string, std::string>> FrontMatter(const ReportInputs& inputs,
+                                                             const ReportOptions& options);
+// The deviations from the method the stage results record: steps not equilibrated (excluded
+// or kept), extrapolated steps, equilibrium settings that differ from the method's criteria,
+// models not evaluated. One sentence each, in that order.
+std::vector<std::string> MethodDeviations(const ReportInputs& inputs);
+// results.json "issue": the laboratory, customer, item, sampling, method, revision,
+// deviations and whether the sheet is a draft.
+nlohmann::ordered_json IssueJson(const ReportInputs& inputs, const Sheet& sheet);
 
 // The whole sheet: quantities, cautions and the sections the template lists.
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout,

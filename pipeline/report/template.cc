@@ -15,9 +15,9 @@ namespace sorbtrace::report {
 namespace {
 
 const std::vector<std::string>& KnownSections() {
-  static const std::vector<std::string> kSections = {"summary",    "conformity", "isotherm",
-                                                     "models",     "pores",      "kinetics",
-                                                     "equilibria", "method",     "cautions"};
+  static const std::vector<std::string> kSections = {
+      "summary",  "conformity", "isotherm", "models",     "pores",
+      "kinetics", "equilibria", "method",   "deviations", "cautions"};
   return kSections;
 }
 
@@ -151,19 +151,6 @@ void ReadTemplateTable(TemplateReader& reader, const toml::table* t, Template& l
   }
 }
 
-// [lab]
-void ReadLabTable(TemplateReader& reader, const toml::table* t, Template& layout) {
-  reader.CheckKeys(*t, "lab", {"name", "address", "accreditation", "signatories"});
-  if (const toml::node* n = t->get("name")) layout.lab_name = reader.String(*n, "name");
-  if (const toml::node* n = t->get("address")) layout.lab_address = reader.String(*n, "address");
-  if (const toml::node* n = t->get("accreditation")) {
-    layout.accreditation = reader.String(*n, "accreditation");
-  }
-  if (const toml::node* n = t->get("signatories")) {
-    layout.signatories = reader.StringArray(*n, "signatories");
-  }
-}
-
 // [units]
 void ReadUnitsTable(TemplateReader& reader, const toml::table* t, Template& layout) {
   reader.CheckKeys(*t, "units", {"moisture", "uncertainty_significant_digits"});
@@ -258,12 +245,18 @@ Template LoadTemplate(const std::filesystem::path& template_file) {
   layout.source_file = template_file;
   layout.sections.clear();
 
-  reader.CheckKeys(root, "", {"template", "lab", "units", "layout", "reference"});
+  if (const toml::node* lab = root.get("lab")) {
+    // Templates carry no laboratory: one template serves every laboratory, and an invented
+    // identity must never reach an issued sheet.
+    throw InputError(reader.Where(lab->source()),
+                     "a template holds no [lab] table: the laboratory is named in its own profile",
+                     "the [lab] table removed, and lab_profile = \"<profile file>\" in the job's "
+                     "[job] table (docs/input-formats.md, \"Laboratory profile\")");
+  }
+  reader.CheckKeys(root, "", {"template", "units", "layout", "reference"});
 
   if (const toml::table* t = reader.Table(root, "template")) ReadTemplateTable(reader, t, layout);
   if (layout.name.empty()) layout.name = template_file.stem().string();
-
-  if (const toml::table* t = reader.Table(root, "lab")) ReadLabTable(reader, t, layout);
 
   if (const toml::table* t = reader.Table(root, "units")) ReadUnitsTable(reader, t, layout);
 

@@ -230,6 +230,7 @@ TEST_F(OutputSafetyTest, BatchGivesJobsMappingToOneFolderDistinctDisjointFolders
   fs::copy(lab_ / "job", lab_ / "jobs" / "a", fs::copy_options::recursive);
   std::string text = ReadWholeFile(lab_ / "job" / "job.toml");
   text.replace(text.find("\"data/"), 6, "\"a/data/");
+  text.replace(text.find("\"lab_profile.toml\""), 18, "\"a/lab_profile.toml\"");
   std::ofstream(lab_ / "jobs" / "a.toml") << text;
   JobWithId(lab_ / "jobs" / "c", "X/1");
   JobWithId(lab_ / "jobs" / "d", "X_1");
@@ -455,7 +456,7 @@ TEST_F(VerifySafetyTest, NonRegularInputsAreNamedAndNeverRead) {
     for (const std::string verb : {"check job/job.toml", "make job/job.toml --out fresh -q"}) {
       const Outcome run = Run(verb);
       EXPECT_EQ(run.exit_code, 3) << variant.name << " " << verb << run.output;
-      EXPECT_NE(run.output.find("job/job.toml:35:"), std::string::npos) << run.output;
+      EXPECT_NE(run.output.find("job/job.toml:48:"), std::string::npos) << run.output;
       EXPECT_NE(run.output.find(variant.job_message), std::string::npos) << run.output;
       EXPECT_EQ(run.output.find("not found"), std::string::npos) << run.output;
     }

@@ -26,16 +26,15 @@ std::string Slurp(const fs::path& file) {
   return s.str();
 }
 
-// The lime demo job without its own specifications, ending in `tables`; written beside the
-// demo's data folder (a copy) so the data file resolves.
+// The lime demo job without its own specifications, ending in `tables`; written into a copy of
+// the scenario folder so the data file and the laboratory profile resolve.
 class SpecificationTest : public ::testing::Test {
  protected:
   void SetUp() override {
     const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
     dir_ = fs::temp_directory_path() / (std::string("sorbtrace_specification_") + info->name());
     fs::remove_all(dir_);
-    fs::create_directories(dir_);
-    fs::copy(kLime / "data", dir_ / "data", fs::copy_options::recursive);
+    fs::copy(kLime, dir_, fs::copy_options::recursive);  // data and laboratory profile
     base_ = Slurp(kLime / "job.toml");
     base_ = base_.substr(0, base_.find("\n# Statements of conformity") + 1);
   }

@@ -372,3 +372,39 @@ TEST(IngestOptionsTest, Validation) {
 
 }  // namespace
 }  // namespace sorbtrace::ingest
+
+namespace sorbtrace::ingest {
+namespace {
+
+// The issue fields of a job and its laboratory profile, read back from the wood-fibre 23/40 °C
+// demo (an amendment, sampled by the laboratory, tested at the profile's second location); a job
+// without the keys has none of them and no profile (a draft).
+TEST(LoadJobSpecTest, LaboratoryProfileAndIssueFieldsAreRead) {
+  const JobSpec job = LoadJobSpec(std::string(SORBTRACE_SOURCE_DIR) +
+                                  "/example_inputs/wood_fibre_board_23C_40C/job.toml");
+  ASSERT_TRUE(job.lab_profile.has_value());
+  const LabProfile& lab = *job.lab_profile;
+  EXPECT_EQ(lab.name, "Hollowmere Building Physics Laboratory (fictional)");
+  EXPECT_EQ(lab.file_as_written, "lab_profile.toml");
+  EXPECT_EQ(lab.accreditation_body, "Fictland Accreditation Service (fictional)");
+  ASSERT_EQ(lab.signatories.size(), 2u);
+  EXPECT_EQ(lab.signatories[1].role, "quality manager");
+  ASSERT_EQ(lab.locations.size(), 2u);
+  // [job] location = "sorption-annex" picks the second [[location]], not the lab's address.
+  EXPECT_EQ(job.work_location, "Sorption annex, Unit 3, Mill Yard, Hollowmere");
+  EXPECT_EQ(job.revision, 1);
+  EXPECT_EQ(job.supersedes, "HBPL-2026-0322 issued 2026-05-12");
+  EXPECT_EQ(job.received_date, "2026-04-15");
+  EXPECT_EQ(job.sampling.by, SamplingBy::kLaboratory);
+  EXPECT_FALSE(job.sampling.plan.empty());
+  EXPECT_EQ(job.material_class, MaterialClass::kWoodOrFibre);
+
+  const JobSpec bare = LoadJobSpec(kFixtures + "job_european.toml");
+  EXPECT_FALSE(bare.lab_profile.has_value());
+  EXPECT_EQ(bare.revision, 0);
+  EXPECT_EQ(bare.sampling.by, SamplingBy::kUnstated);
+  EXPECT_TRUE(bare.work_location.empty());
+}
+
+}  // namespace
+}  // namespace sorbtrace::ingest

@@ -315,5 +315,73 @@ TEST(AnalysePores, MaterialClassDecidesThePoreSection) {
   EXPECT_EQ(a.distributions.size(), 4u);
 }
 
+// The specimen term of the fit stage (specimens that differ do so at every step) is one shared
+// part of the stepwise draws, not an independent error per point: with a 3 % relative specimen
+// factor acting on every point and almost nothing else, every draw scales the whole isotherm, so
+// the resolved pore volume carries about 3 % relative u (an independent draw per point would
+// leave it the 1e-6 kg/kg of the points). 3 %: a choice of this test.
+TEST(AnalysePores, StepwiseDrawsTheSpecimenTermOncePerDraw) {
+  constexpr double kRelativeSpecimenU = 0.03;
+  fit::IsothermFits fits = TwoBranches();
+  for (fit::FitGroup& group : fits.groups) {
+    for (fitters::Observation& o : group.observations) o.sigma_y = 1e-6;
+    fit::SpecimenFactor factor;
+    factor.dataset_id = "d1";
+    factor.specimen_ids = {"S1", "S2", "S3"};
+    factor.relative_standard_uncertainty = kRelativeSpecimenU;
+    factor.weights.assign(group.observations.size(), 1.0);
+    group.specimen_factors.push_back(factor);
+  }
+  PoreOptions options;
+  options.band_draws = 400;
+  const PoreAnalysis a = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+  int stepwise = 0;
+  for (const PoreDistribution& d : a.distributions) {
+    if (d.method != "stepwise") continue;
+    ++stepwise;
+    ASSERT_GT(d.total_resolved_volume_m3_per_kg, 0.0);
+    const double relative = d.u_total_resolved_volume_m3_per_kg / d.total_resolved_volume_m3_per_kg;
+    // 400 draws: the standard deviation is known to about 1 / sqrt(2 * 400) = 3.5 % of itself.
+    EXPECT_NEAR(relative, kRelativeSpecimenU, 0.15 * kRelativeSpecimenU);
+    EXPECT_TRUE(std::any_of(d.assumptions.begin(), d.assumptions.end(), [](const std::string& s) {
+      return s.find("1 shared part(s) drawn once per draw") != std::string::npos;
+    }));
+  }
+  EXPECT_EQ(stepwise, 2);
+}
+
+// Reference-condition moisture contents carry the coverage factor of the fit they are read from
+// (fit::CurveUncertainty: Welch-Satterthwaite nu_eff over the independent part and the specimen
+// factors, Student-t k), not the nominal 2. Here a specimen factor with 2 degrees of freedom
+// (three specimens) moves X_m and dominates the covariance: nu_eff just above 2, so k =
+// t_p(2) at the p = 95.45 % of the nominal k = 2, 4.53 (JCGM 100:2008, Table G.2).
+TEST(AnalysePores, ReferenceMoistureTakesTheFitsCoverageFactor) {
+  fit::IsothermFits fits = TwoBranches();
+  fits.coverage_factor = 2.0;
+  for (fit::ModelFit& f : fits.fits) {
+    fit::SpecimenSensitivity s;
+    s.relative_standard_uncertainty = 0.05;
+    s.degrees_of_freedom = 2.0;
+    s.parameter_sensitivity = {f.result.parameters[0], 0.0, 0.0};  // X_m scales with the factor
+    f.covariance_independent = 1e-4 * f.result.covariance;
+    f.independent_dof = fitters::kInfinity;
+    f.specimen_sensitivities = {s};
+    const Eigen::Map<const Eigen::VectorXd> c(s.parameter_sensitivity.data(), 3);
+    f.result.covariance = f.covariance_independent + 0.05 * 0.05 * c * c.transpose();
+  }
+  PoreOptions options;
+  options.band_draws = 50;
+  const PoreAnalysis a = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+  ASSERT_EQ(a.reference_moisture.size(), options.reference_conditions.size());
+  for (const ReferenceMoisture& r : a.reference_moisture) {
+    const fit::DerivedUncertainty expected =
+        fit::CurveUncertainty(fits, fits.fits[0], r.condition.rh_fraction);
+    EXPECT_DOUBLE_EQ(r.coverage_factor, expected.coverage_factor);
+    EXPECT_DOUBLE_EQ(r.effective_dof, expected.effective_dof);
+    EXPECT_NEAR(r.effective_dof, 2.0, 0.05);
+    EXPECT_NEAR(r.coverage_factor, 4.53, 0.005);
+  }
+}
+
 }  // namespace
 }  // namespace sorbtrace::pores

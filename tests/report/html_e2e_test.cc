@@ -545,8 +545,7 @@ TEST_F(HtmlE2eTest, TheTemplateDecidesWhichOutputsAreWritten) {
   fs::remove_all(dir);
   fs::copy(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs/wood_fibre_board_vapour", dir,
            fs::copy_options::recursive);
-  Spit(dir / "html.toml",
-       "[template]\nname = \"html\"\n[lab]\nname = \"Lab\"\n[layout]\noutputs = [\"html\"]\n");
+  Spit(dir / "html.toml", "[template]\nname = \"html\"\n[layout]\noutputs = [\"html\"]\n");
   Spit(dir / "bad.toml", "[template]\nname = \"bad\"\n[layout]\noutputs = [\"pdf\", \"docx\"]\n");
   std::string job = Slurp(dir / "job.toml");
   job.replace(job.find("template = \"full\""), 17, "template = \"html.toml\"");

@@ -129,13 +129,15 @@ TEST(OutputIntent, RefusesAMissingOrUnsuitableProfile) {
 TEST(PdfDocument, SpecialCharactersReadBackAndPopplerIsSilent) {
   Template layout;
   layout.title = "Sorption sheet";
-  layout.lab_name = "Prüflabor Ærø & Co";
   ReportOptions options;
   options.font_directory = SORBTRACE_DEFAULT_FONT_DIR;
   options.document_date = "2026-06-02";
   const std::string sample =
       "23 °C ± 0.2 K; 12 m³ 4 m² 3 × 10⁻⁶; 5 µm; H₂O p₀ w₁; α β θ λ μ σ Δ Ω; –";
-  Document doc(layout, options, "REP-7", "1.2.3");
+  Letterhead letterhead;
+  letterhead.draft = false;
+  letterhead.lab_name = "Prüflabor Ærø & Co";
+  Document doc(layout, options, "REP-7", "1.2.3", letterhead);
   doc.NewPage();
   doc.Paragraph(sample);
   doc.Paragraph("Bold: α ± ³", 8.5, 0.0, plot::palette::kInk, true);
@@ -170,7 +172,7 @@ TEST(PdfDocument, WithoutALabTheAuthorIsSorbtrace) {
   Template layout;
   ReportOptions options;
   options.font_directory = SORBTRACE_DEFAULT_FONT_DIR;
-  Document doc(layout, options, "REP-8", "1.2.3");
+  Document doc(layout, options, "REP-8", "1.2.3", Letterhead{});  // a draft: no laboratory
   doc.NewPage();
   const fs::path pdf = testing::WriteTempFile("nolab.pdf", doc.Finish());
   std::string err;

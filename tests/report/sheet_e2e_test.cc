@@ -210,9 +210,7 @@ TEST_F(SheetE2eTest, LongTokensInEveryFreeTextFieldNeverCrashMakeOrCheck) {
       {"description",
        {{"description = \"Spray-dried binder powder for tableting, 25 mg in a quartz pan\"",
          "description = \"{}\""}}},
-      {"client",
-       {{"client = \"Hollowmere Building Physics Laboratory, internal study\"",
-         "client = \"{}\""}}},
+      {"client", {{"client = \"Pellwick Excipients (fictional)\"", "client = \"{}\""}}},
       {"material", {{"name = \"Powdered excipient EX-12 (fictional)\"", "name = \"{}\""}}},
       {"test_dates", {{"test_dates = \"2026-04-20 to 2026-04-21\"", "test_dates = \"{}\""}}},
       {"job_id", {{"id = \"HBPL-2026-0318\"", "id = \"{}\""}}},
@@ -307,8 +305,7 @@ std::vector<std::string> CsvFields(const std::string& line) {
 // cautions left out the summary carries the conditions of use itself.
 TEST_F(SheetE2eTest, SectionCrossReferencesFollowTheTemplate) {
   const fs::path dir = CopyScenario("wood_fibre_board_vapour", "job");
-  const std::string lab =
-      "[template]\nname = \"two\"\n[lab]\nname = \"Lab\"\n[layout]\ncompact = false\n";
+  const std::string lab = "[template]\nname = \"two\"\n[layout]\ncompact = false\n";
   Spit(dir / "two.toml", lab + "sections = [\"summary\", \"cautions\"]\n");
   Spit(dir / "one.toml", lab + "sections = [\"summary\", \"isotherm\"]\n");
   Rewrite(dir / "job.toml", "template = \"full\"", "template = \"two.toml\"");
@@ -336,8 +333,8 @@ TEST_F(SheetE2eTest, SectionCrossReferencesFollowTheTemplate) {
 // equation to size ([job] material_class, docs/input-formats.md): the sheet says so in words and
 // gives no pore volume or modal radius; a porous mineral keeps its pore-size results.
 TEST_F(SheetE2eTest, SwellingMaterialClassOmitsThePoreSizeResults) {
+  // The wood-fibre demo declares material_class = "wood_or_fibre" itself.
   const fs::path dir = CopyScenario("wood_fibre_board_vapour", "job");
-  Rewrite(dir / "job.toml", "[job]\n", "[job]\nmaterial_class = \"wood_or_fibre\"\n");
   const CommandRun made = Sorbtrace("make " + (dir / "job.toml").string() + " --out " +
                                     (root_ / "swelling").string() + " -q");
   ASSERT_EQ(made.exit_code, 0) << made.output;

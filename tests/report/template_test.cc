@@ -32,13 +32,30 @@ TEST(LoadTemplateTest, FullTemplate) {
   EXPECT_FALSE(t.compact);
   EXPECT_TRUE(t.moisture_in_percent);
   EXPECT_EQ(t.uncertainty_significant_digits, 2);
-  EXPECT_EQ(t.sections,
-            (std::vector<std::string>{"summary", "conformity", "isotherm", "models", "pores",
-                                      "kinetics", "equilibria", "method", "cautions"}));
+  EXPECT_EQ(t.sections, (std::vector<std::string>{"summary", "conformity", "isotherm", "models",
+                                                  "pores", "kinetics", "equilibria", "method",
+                                                  "deviations", "cautions"}));
   ASSERT_EQ(t.reference_conditions.size(), 2u);
   EXPECT_DOUBLE_EQ(t.reference_conditions[0].temperature_K, 296.15);
   EXPECT_DOUBLE_EQ(t.reference_conditions[1].rh_fraction, 0.8);
-  EXPECT_EQ(t.signatories.size(), 2u);
+}
+
+// A template names no laboratory (the laboratory profile does): a [lab] table is refused at its
+// line, pointing to the profile; the shipped templates hold none.
+TEST(LoadTemplateTest, ALabTableIsRefusedPointingToTheLaboratoryProfile) {
+  const auto path = testing::WriteTempFile(
+      "with_lab.toml", "[template]\nname = \"x\"\n\n[lab]\nname = \"Some Lab\"\n");
+  try {
+    LoadTemplate(path);
+    FAIL() << "a [lab] table was accepted";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.diagnostic().where.line, 4);
+    EXPECT_NE(e.diagnostic().expected.find("lab_profile"), std::string::npos)
+        << e.diagnostic().expected;
+  }
+  for (const char* name : {"full.toml", "summary.toml"}) {
+    EXPECT_NO_THROW(LoadTemplate(std::string(SORBTRACE_SOURCE_DIR "/templates/") + name)) << name;
+  }
 }
 
 TEST(LoadTemplateTest, SummaryTemplate) {
@@ -73,7 +90,7 @@ TEST(LoadTemplateTest, UnknownKeyNamesKeyLineAndColumn) {
             "\"name\", \"title\", \"page_size\" or \"margin_mm\"");
   EXPECT_EQ(LoadError("unknown_table.toml", "[template]\nname = \"x\"\n\n[colours]\nink = 1\n"),
             "unknown_table.toml:4:2: error: unknown key 'colours' at top level; expected one of "
-            "\"template\", \"lab\", \"units\", \"layout\" or \"reference\"");
+            "\"template\", \"units\", \"layout\" or \"reference\"");
 }
 
 TEST(LoadTemplateTest, BadPageSize) {
@@ -86,7 +103,7 @@ TEST(LoadTemplateTest, OtherErrors) {
   EXPECT_EQ(LoadError("bad_section.toml", "[layout]\nsections = [\"summary\", \"graphs\"]\n"),
             "bad_section.toml:2:24: error: unknown section \"graphs\"; expected one of "
             "\"summary\", \"conformity\", \"isotherm\", \"models\", \"pores\", \"kinetics\", "
-            "\"equilibria\", \"method\" or \"cautions\"");
+            "\"equilibria\", \"method\", \"deviations\" or \"cautions\"");
   EXPECT_EQ(LoadError("bad_digits.toml", "[units]\nuncertainty_significant_digits = 3\n"),
             "bad_digits.toml:2:34: error: uncertainty_significant_digits 3 is out of range; "
             "expected 1 or 2 (JCGM 100:2008, 7.2.6)");
