@@ -354,6 +354,27 @@ DesiccatorTruth LimePlasterDesiccator(const fs::path& dir) {
       "[[dataset]]\nid = \"desiccator-23C\"\nmethod = \"desiccator\"\nfile = "
       "\"data/desiccator.csv\"\n";
   job += "temperature_C = 23.0\n";
+  // Specifications: one that passes, one whose result is inconclusive (docs/input-formats.md).
+  job +=
+      "\n"
+      "# Statements of conformity (invented specifications). The decision rules are those agreed "
+      "with\n"
+      "# the (fictional) client before the test (ISO/IEC 17025:2017, 7.1.3).\n"
+      "[[specification]]\n"
+      "quantity = \"moisture_23C_80RH_adsorption\"\n"
+      "upper_limit = 2.0\n"
+      "unit = \"%\"\n"
+      "decision_rule = \"guarded_acceptance\"\n"
+      "guard_band_fraction_of_U = 1.0\n"
+      "document = \"Hollowmere render brief HR-4, clause 3.2 (fictional)\"\n"
+      "\n"
+      "[[specification]]\n"
+      "quantity = \"moisture_23C_50RH_adsorption\"\n"
+      "upper_limit = 0.78\n"
+      "unit = \"%\"\n"
+      "decision_rule = \"conformance_probability\"\n"
+      "required_conformance_probability = 0.95\n"
+      "document = \"Hollowmere render brief HR-4, clause 3.3 (fictional)\"\n";
   WriteJob(dir, job,
            {"lab_profile = \"lab_profile.toml\"\nlocation = \"main\"\n"
             "material_class = \"porous_mineral\"\nmethod = \"iso_12571_desiccator\"\n",
@@ -608,6 +629,25 @@ int main(int argc, char** argv) {
                "Powdered excipient EX-12 (fictional)",
                "Spray-dried binder powder for tableting, 25 mg in a quartz pan", "desiccant_step",
                {{"dvs-25C", "data/vapour_log_E1.csv", 25.0, "E1"}}, {{"E1", 0.0}});
+    // Specifications: one on the Ph. Eur. 5.11 mass increase, one on a 23 °C reference that
+    // this 25 °C test cannot give ("no statement").
+    job +=
+        "# Statements of conformity (invented specifications, agreed with the fictional client).\n"
+        "[[specification]]\n"
+        "quantity = \"hygroscopicity_mass_increase\"\n"
+        "upper_limit = 15.0\n"
+        "unit = \"%\"\n"
+        "decision_rule = \"guarded_acceptance\"\n"
+        "guard_band_fraction_of_U = 1.0\n"
+        "inconclusive_zone = true\n"
+        "document = \"Hollowmere excipient sheet EX-12, item 7 (fictional)\"\n"
+        "\n"
+        "[[specification]]\n"
+        "quantity = \"moisture_23C_80RH_adsorption\"\n"
+        "upper_limit = 9.0\n"
+        "unit = \"%\"\n"
+        "decision_rule = \"simple_acceptance\"\n"
+        "document = \"Hollowmere excipient sheet EX-12, item 8 (fictional)\"\n";
     WriteJob(dir, job,
              {"lab_profile = \"lab_profile.toml\"\nlocation = \"sorption-annex\"\n"
               "material_class = \"pharmaceutical_powder\"\n",

@@ -17,6 +17,7 @@
 #include <vector>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/conform/conform.h"
 
 namespace sorbtrace {
 struct ParsedTomlFile;  // pipeline/common/toml_reader.h
@@ -140,6 +141,21 @@ struct DataSetSpec {
   SourceLocation where;  // its [[dataset]] (or [retention]) entry in the job file
 };
 
+// A specification limit the job states for one headline quantity ([[specification]];
+// docs/input-formats.md), and the decision rule agreed with the customer (ISO/IEC 17025:2017
+// 7.1.3). The report evaluates it with conform::AssessConformity on the headline value.
+struct Specification {
+  std::string quantity;  // a results.json headline key, e.g. "moisture_23C_80RH_adsorption"
+  // Limits in `unit`; the absent one is infinite (a one-sided specification).
+  conform::ToleranceInterval limits;
+  std::string unit;           // as written: "%", "kg/kg", "m2/g", "mm3/g", "nm", ...
+  conform::Options decision;  // rule, guard-band fraction of U, required probability
+  std::string document;       // the specification's reference as written ("" when not stated)
+  SourceLocation where;       // its [[specification]] table
+  SourceLocation quantity_where;
+  SourceLocation unit_where;
+};
+
 // Everything the job file states about one material test.
 struct JobSpec {
   std::filesystem::path job_file;
@@ -182,7 +198,8 @@ struct JobSpec {
   bool negative_moisture_expected = false;
   std::vector<SpecimenSpec> specimens;
   std::vector<DataSetSpec> datasets;
-  std::optional<DataSetSpec> retention;  // over-hygroscopic retention points (CSV)
+  std::optional<DataSetSpec> retention;       // over-hygroscopic retention points (CSV)
+  std::vector<Specification> specifications;  // [[specification]], in job-file order
 };
 
 // One weighing of a specimen in a desiccator.
@@ -318,7 +335,7 @@ std::vector<DryMassSource> FindDryMassSources(const IngestResult& result,
                                               std::vector<Diagnostic>* warnings);
 
 // Parses and validates the job file (the sections that describe the test and its data:
-// [job], [material], [measurement], [[specimen]], [[dataset]], [retention]; see
+// [job], [material], [measurement], [[specimen]], [[dataset]], [retention], [[specification]]; see
 // docs/input-formats.md). Tables of later stages ([equilibrium], [fit], [pores], [report]) are
 // left to their owners; any other top-level table or key is an error. Data files must exist
 // (paths relative to the job file); their contents are read by Ingest().

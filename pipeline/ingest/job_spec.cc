@@ -20,6 +20,7 @@
 #include "pipeline/ingest/date_time.h"
 #include "pipeline/ingest/ingest.h"
 #include "pipeline/ingest/plausibility.h"
+#include "pipeline/ingest/specification.h"
 #include "pipeline/physics/physics.h"
 
 namespace sorbtrace::ingest {
@@ -355,7 +356,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     const std::string_view name = key.str();
     const bool ours = name == "job" || name == "material" || name == "measurement" ||
                       name == "specimen" || name == "dataset" || name == "retention" ||
-                      name == "sampling";
+                      name == "sampling" || name == "specification";
     const bool theirs = std::find(std::begin(kOtherStagesTables), std::end(kOtherStagesTables),
                                   name) != std::end(kOtherStagesTables);
     if (!ours && !theirs) {
@@ -363,7 +364,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
               "unknown top-level " + std::string(value.is_table() ? "table [" : "key '") +
                   std::string(name) + (value.is_table() ? "]" : "'"),
               "tables [job], [material], [measurement], [[specimen]], [[dataset]], "
-              "[retention], [sampling], [equilibrium], [fit], [pores], [report]");
+              "[retention], [sampling], [[specification]], [equilibrium], [fit], [pores], [report]");
     }
   }
 
@@ -536,6 +537,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     ResolveFile(in, job_dir, job.allow_data_outside_job_folder, table, kR, &retention);
     job.retention = std::move(retention);
   }
+  job.specifications = internal::ReadSpecifications(root, in.display());
   return job;
 }
 

@@ -164,13 +164,42 @@ std::string PoreDistribution(const ReportInputs& inputs) {
   return out;
 }
 
+// One row per [[specification]]: the specification, the value in its unit, the decision and
+// the risk; numbers empty where no statement could be made (and for an infinite limit).
+std::string Conformity(const Sheet& sheet) {
+  std::string out =
+      "specification,quantity,unit,lower_limit,upper_limit,document,rule,value,"
+      "standard_uncertainty,coverage_factor,effective_degrees_of_freedom,expanded_uncertainty,"
+      "guard_band,acceptance_lower,acceptance_upper,conformance_probability,"
+      "false_acceptance_probability_at_limit,decision,statement\n";
+  for (size_t i = 0; i < sheet.conformity.size(); ++i) {
+    const ConformityStatement& s = sheet.conformity[i];
+    const ingest::Specification& spec = s.specification;
+    const conform::Result& r = s.result;
+    const auto number = [&](double value) { return s.available ? Num(value) : std::string(); };
+    out += fmt::format(
+        "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", i + 1, Text(spec.quantity),
+        Text(spec.unit), Num(spec.limits.lower), Num(spec.limits.upper), Text(spec.document),
+        Text(s.rule_text), number(s.measurement.value), number(s.measurement.standard_uncertainty),
+        number(s.measurement.coverage_factor), number(s.measurement.effective_degrees_of_freedom),
+        number(r.expanded_uncertainty), number(r.guard_band), number(r.acceptance_lower),
+        number(r.acceptance_upper), number(r.conformance_probability),
+        number(r.false_acceptance_probability_at_limit),
+        s.available ? conform::DecisionName(r.decision) : "no statement", Text(s.result_text));
+  }
+  return out;
+}
+
 }  // namespace
 
 std::vector<std::pair<std::string, std::string>> BuildCsvFiles(const ReportInputs& inputs,
                                                                const Sheet& sheet) {
-  return {{"equilibrium_table.csv", EquilibriumTable(inputs, sheet)},
-          {"fit_parameters.csv", FitParameters(inputs, sheet)},
-          {"pore_distribution.csv", PoreDistribution(inputs)}};
+  std::vector<std::pair<std::string, std::string>> files = {
+      {"equilibrium_table.csv", EquilibriumTable(inputs, sheet)},
+      {"fit_parameters.csv", FitParameters(inputs, sheet)},
+      {"pore_distribution.csv", PoreDistribution(inputs)}};
+  if (!sheet.conformity.empty()) files.emplace_back("conformity.csv", Conformity(sheet));
+  return files;
 }
 
 }  // namespace sorbtrace::report

@@ -33,8 +33,8 @@ struct Template {
   // Units and precision.
   bool moisture_in_percent = true;  // else kg/kg
   int uncertainty_significant_digits = 2;
-  // Sections in order: "summary", "isotherm", "models", "pores", "kinetics", "equilibria",
-  // "method", "deviations", "cautions".
+  // Sections in order: "summary", "conformity", "isotherm", "models", "pores", "kinetics",
+  // "equilibria", "method", "deviations", "cautions".
   std::vector<std::string> sections;
   // One-page layout: the summary, a small isotherm figure and the cautions share page 1;
   // further sections are left out (the summary template).

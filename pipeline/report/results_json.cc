@@ -558,6 +558,47 @@ Json SheetJson(const Sheet& sheet) {
 
 }  // namespace
 
+namespace {
+
+// One statement of conformity: the specification as stated, the value and its uncertainty in
+// the specification's unit, the decision and its risk (null where not available).
+Json ConformityJson(const ConformityStatement& s) {
+  const ingest::Specification& spec = s.specification;
+  const conform::Result& r = s.result;
+  const bool a = s.available;
+  Json j;
+  j["quantity"] = spec.quantity;
+  j["label"] = s.quantity_label;
+  j["unit"] = spec.unit;
+  j["lower_limit"] = Number(spec.limits.lower);
+  j["upper_limit"] = Number(spec.limits.upper);
+  j["document"] = spec.document;
+  j["rule"] = s.rule_text;
+  j["available"] = a;
+  j["reason"] = s.reason;
+  j["value"] = a ? Number(s.measurement.value) : Json(nullptr);
+  j["standard_uncertainty"] = a ? Number(s.measurement.standard_uncertainty) : Json(nullptr);
+  j["coverage_factor"] = a ? Number(s.measurement.coverage_factor) : Json(nullptr);
+  j["effective_degrees_of_freedom"] =
+      a ? Number(s.measurement.effective_degrees_of_freedom) : Json(nullptr);
+  j["expanded_uncertainty"] = a ? Number(r.expanded_uncertainty) : Json(nullptr);
+  j["guard_band"] = a ? Number(r.guard_band) : Json(nullptr);
+  j["acceptance_lower"] = a ? Number(r.acceptance_lower) : Json(nullptr);
+  j["acceptance_upper"] = a ? Number(r.acceptance_upper) : Json(nullptr);
+  j["conformance_probability"] = a ? Number(r.conformance_probability) : Json(nullptr);
+  j["false_acceptance_probability_at_limit"] =
+      a ? Number(r.false_acceptance_probability_at_limit) : Json(nullptr);
+  j["decision"] = a ? conform::DecisionName(r.decision) : "no statement";
+  j["text"] = {{"specification", s.limits_text},
+               {"value", s.value_text},
+               {"guard_band", s.guard_band_text},
+               {"result", s.result_text},
+               {"risk", s.risk_text}};
+  return j;
+}
+
+}  // namespace
+
 nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Template& layout,
                                         const ReportOptions& options, const Sheet& sheet,
                                         int num_pages) {
@@ -587,6 +628,9 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
   for (const Quantity& q : sheet.headline) headline.push_back(QuantityJson(q));
   root["headline"] = headline;
   root["hygroscopicity_class"] = sheet.hygroscopicity_class;
+  Json conformity = Json::array();
+  for (const ConformityStatement& s : sheet.conformity) conformity.push_back(ConformityJson(s));
+  root["conformity"] = conformity;
   root["best_model"] = sheet.best_model_text;
   root["cautions"] = StringArray(sheet.cautions);
   root["standing_statements"] = StringArray(sheet.standing_cautions);

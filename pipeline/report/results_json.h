@@ -12,8 +12,8 @@
 namespace sorbtrace::report {
 
 // Top-level keys, in order: schema, software, report, job, issue (IssueJson), inputs, settings,
-// headline, hygroscopicity_class, best_model, cautions, standing_statements, equilibria, isotherm,
-// fits, pores.
+// headline, hygroscopicity_class, conformity (one statement per [[specification]], possibly
+// none), best_model, cautions, standing_statements, equilibria, isotherm, fits, pores.
 // "headline" keys are unique within a job and name what a value belongs to, temperature in
 // °C ("23C", "23p4C"): moisture_23C_50RH_adsorption; a reference condition whose temperature
 // was not measured is keyed by the temperature it was read at and the reference,
@@ -30,7 +30,8 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
 // is quoted; a plain number such as "-0.5" is left as it is).
 std::string CsvText(const std::string& text);
 
-// (file name, content): equilibrium_table.csv, fit_parameters.csv, pore_distribution.csv.
+// (file name, content): equilibrium_table.csv, fit_parameters.csv, pore_distribution.csv, and
+// conformity.csv when the job states a [[specification]].
 std::vector<std::pair<std::string, std::string>> BuildCsvFiles(const ReportInputs& inputs,
                                                                const Sheet& sheet);
 

@@ -119,6 +119,10 @@ void BuildSummarySection(const SectionContext& ctx, bool compact, Section& secti
   section.blocks.emplace_back(SubheadingBlock{fmt::format(
       "Results (expanded uncertainty U, k = {})", CoverageText(ctx.sheet.rules.coverage_factor))});
   section.blocks.emplace_back(ResultsTable(ctx, compact));
+  if (!ctx.sheet.conformity.empty()) {
+    section.blocks.emplace_back(SubheadingBlock{"Statements of conformity"});
+    section.blocks.emplace_back(ConformitySummaryTable(ctx.sheet));
+  }
   if (compact) section.blocks.emplace_back(SummaryFigure(ctx));
   section.blocks.emplace_back(SubheadingBlock{"Cautions"});
   section.blocks.emplace_back(SummaryCautions(ctx.sheet, compact));

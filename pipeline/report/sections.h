@@ -21,9 +21,10 @@ struct SectionContext {
   double moisture_scale() const { return sheet.rules.moisture_in_percent ? 100.0 : 1.0; }
 };
 
-// One builder per section key ("summary", "isotherm", "models", "pores", "kinetics",
-// "equilibria", "method", "deviations", "cautions"); compact: the one-page summary.
+// One builder per section key ("summary", "conformity", "isotherm", "models", "pores",
+// "kinetics", "equilibria", "method", "deviations", "cautions"); compact: the one-page summary.
 void BuildSummarySection(const SectionContext& ctx, bool compact, Section& section);
+void BuildConformitySection(const SectionContext& ctx, Section& section);
 void BuildIsothermSection(const SectionContext& ctx, Section& section);
 void BuildModelsSection(const SectionContext& ctx, Section& section);
 void BuildPoresSection(const SectionContext& ctx, Section& section);
@@ -45,6 +46,14 @@ std::string CyclesSentence(const SectionContext& ctx);
 
 // A model's registry key as a short legend name: "gab" -> "GAB", "oswin" -> "Oswin".
 std::string ShortModelName(std::string name);
+
+// The job's [[specification]] tables evaluated on the sheet's headline (section_conformity.cc):
+// fills sheet.conformity. A key that names no headline quantity a job can have (a typo, a
+// reference condition the template does not list, a unit that does not fit the quantity) is an
+// InputError at the specification's line in the job file, listing the keys of this sheet.
+void EvaluateSpecifications(const ReportInputs& inputs, Sheet& sheet);
+// The summary page's one line per specification (empty table when there is none).
+TableBlock ConformitySummaryTable(const Sheet& sheet);
 
 // "not available: <reason>", unless the reason says so already.
 std::string NotAvailable(const std::string& reason);

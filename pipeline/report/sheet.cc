@@ -303,6 +303,7 @@ namespace {
 std::string SectionTitle(const std::string& key) {
   static const std::vector<std::pair<std::string, std::string>> kTitles = {
       {"summary", "Summary"},
+      {"conformity", "Statement of conformity"},
       {"isotherm", "Sorption isotherm"},
       {"models", "Model comparison"},
       {"pores", "Pore-size distribution"},
@@ -320,6 +321,8 @@ std::string SectionTitle(const std::string& key) {
 void BuildSection(const internal::SectionContext& ctx, Section& section) {
   if (section.key == "summary") {
     internal::BuildSummarySection(ctx, ctx.layout.compact, section);
+  } else if (section.key == "conformity") {
+    internal::BuildConformitySection(ctx, section);
   } else if (section.key == "isotherm") {
     internal::BuildIsothermSection(ctx, section);
   } else if (section.key == "models") {
@@ -377,6 +380,12 @@ void SetDisplayRules(const ReportInputs& inputs, const Template& layout, Sheet& 
     sheet.rules.coverage_factor = inputs.fits->coverage_factor;
   }
   sheet.section_keys = layout.compact ? std::vector<std::string>{"summary"} : layout.sections;
+  // A job without specifications has no statement of conformity: no empty section.
+  if (inputs.ingested == nullptr || inputs.ingested->job.specifications.empty()) {
+    sheet.section_keys.erase(
+        std::remove(sheet.section_keys.begin(), sheet.section_keys.end(), "conformity"),
+        sheet.section_keys.end());
+  }
   sheet.moisture_unit = sheet.rules.moisture_in_percent ? "%" : "kg/kg";
   sheet.moisture_axis_label = sheet.rules.moisture_in_percent
                                   ? "moisture content (mass %, dry basis)"
@@ -411,14 +420,20 @@ bool WantedReference(const Template& layout, const pores::ReferenceCondition& co
 // temperature), so the sheet and the pores stage cannot disagree. A value read at another
 // temperature keeps the reference in its label, marked "not measured", and its key names
 // both ("moisture_25C_50RH_adsorption_ref_23C"): no reader can take it for the reference.
+// The headline key of a reference moisture measured at its reference temperature.
+std::string ReferenceMoistureKey(const pores::ReferenceMoisture& rm) {
+  return fmt::format("moisture_{}_{}RH_{}", TemperatureKey(rm.condition.temperature_K),
+                     FormatFixed(rm.condition.rh_fraction * 100.0, 0),
+                     KeyPart(BranchLabel(rm.branch)));
+}
+
 void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
                           CautionList& cautions) {
   Sheet& sheet = cautions.sheet;
   const std::string reference_t = TemperatureLabel(rm.condition.temperature_K);
   const std::string rh = FormatFixed(rm.condition.rh_fraction * 100.0, 0);
   const std::string branch = BranchLabel(rm.branch);
-  std::string key = fmt::format("moisture_{}_{}RH_{}", TemperatureKey(rm.condition.temperature_K),
-                                rh, KeyPart(branch));
+  std::string key = ReferenceMoistureKey(rm);
   std::string label = fmt::format("Moisture content at {} / {} % RH ({})", reference_t, rh, branch);
   if (!rm.temperature_matches) {
     const std::string measured_t = TemperatureLabel(measured_K);
@@ -430,12 +445,17 @@ void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
         "The reference temperature {} was not measured: moisture contents given for it are read "
         "from the isotherm measured at {} and are not converted to {}.",
         reference_t, measured_t, reference_t));
+    sheet.unavailable_headline.push_back(
+        {ReferenceMoistureKey(rm),
+         fmt::format("Moisture content at {} / {} % RH ({})", reference_t, rh, branch),
+         fmt::format("not measured at {}; value at {}", reference_t, measured_t)});
   }
   // Its own coverage factor (ReferenceMoisture::coverage_factor, Student-t from nu_eff).
   DisplayRules rules = sheet.rules;
   rules.coverage_factor = rm.coverage_factor;
   sheet.headline.push_back(MoistureQuantity(std::move(key), std::move(label), rm.moisture_kg_per_kg,
                                             rm.u_moisture_kg_per_kg, rules));
+  sheet.headline.back().degrees_of_freedom = rm.effective_dof;
 }
 
 // Headline: moisture at the reference conditions. A condition no isotherm could be read at
@@ -447,6 +467,15 @@ void AddReferenceMoistures(const pores::PoreAnalysis& pa, const fit::IsothermFit
     const double measured_K = MeasuredTemperature_K(fits, rm);
     if (!rm.model_name.empty() && (rm.temperature_matches || !std::isnan(measured_K))) {
       AddReferenceMoisture(rm, measured_K, cautions);
+    } else {
+      std::string reason;
+      for (const std::string& f : rm.flags) reason += (reason.empty() ? "" : "; ") + f;
+      cautions.sheet.unavailable_headline.push_back(
+          {ReferenceMoistureKey(rm),
+           fmt::format("Moisture content at {} / {} % RH ({})",
+                       TemperatureLabel(rm.condition.temperature_K),
+                       FormatFixed(rm.condition.rh_fraction * 100.0, 0), BranchLabel(rm.branch)),
+           reason.empty() ? "no fitted isotherm to read it from" : reason});
     }
     for (const std::string& f : rm.flags) {
       // The pores stage's own note of the temperature mismatch ("fitted at ... degC, reference
@@ -455,6 +484,12 @@ void AddReferenceMoistures(const pores::PoreAnalysis& pa, const fit::IsothermFit
     }
   }
 }
+
+// Its basis in the label: the equilibrium uptake on dry mass, not the compendial 24 h increase
+// of the sample as received (pores::Hygroscopicity).
+constexpr const char* kHygroscopicityLabel =
+    "Equilibrium moisture uptake at 25 °C / 80 % RH, on dry mass (basis of the Ph. Eur. 5.11 "
+    "class)";
 
 void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, const fit::IsothermFits* fits,
                              CautionList& cautions) {
@@ -474,15 +509,16 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, const fit::IsothermF
   }
   if (pa.hygroscopicity.applicable) {
     sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
-    if (!sheet.hygroscopicity_relevant) return;
-    // Its basis in the label: the equilibrium uptake on dry mass, not the compendial 24 h
-    // increase of the sample as received (pores::Hygroscopicity).
-    sheet.headline.push_back(MakeQuantity(
-        "hygroscopicity_mass_increase",
-        "Equilibrium moisture uptake at 25 °C / 80 % RH, on dry mass (basis of the Ph. Eur. 5.11 "
-        "class)",
-        pa.hygroscopicity.mass_increase_percent, pa.hygroscopicity.u_mass_increase_percent, "%",
-        1.0, "%", sheet.rules));
+    if (!sheet.hygroscopicity_relevant) {
+      sheet.unavailable_headline.push_back(
+          {"hygroscopicity_mass_increase", kHygroscopicityLabel,
+           "the Ph. Eur. 5.11 class is printed for pharmaceutical powders only"});
+      return;
+    }
+    sheet.headline.push_back(MakeQuantity("hygroscopicity_mass_increase", kHygroscopicityLabel,
+                                          pa.hygroscopicity.mass_increase_percent,
+                                          pa.hygroscopicity.u_mass_increase_percent, "%", 1.0, "%",
+                                          sheet.rules));
     cautions.Add(
         "The hygroscopicity class applies the Ph. Eur. 5.11 limits (0.2 %, 2 % and 15 % mass "
         "increase) to the equilibrium uptake on dry mass at 25 °C / 80 % RH. The compendial test "
@@ -495,6 +531,9 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, const fit::IsothermF
     }
   } else {
     sheet.hygroscopicity_class = "not classified";
+    sheet.unavailable_headline.push_back(
+        {"hygroscopicity_mass_increase", kHygroscopicityLabel,
+         pa.hygroscopicity.reason.empty() ? "not classified" : pa.hygroscopicity.reason});
     if (!pa.hygroscopicity.reason.empty()) {
       sheet.hygroscopicity_class += " (" + pa.hygroscopicity.reason + ")";
     }
@@ -533,6 +572,7 @@ std::vector<Quantity> ParameterQuantities(const fit::IsothermFits& fits, size_t 
     out.push_back(MakeQuantity(
         "fit_" + std::to_string(i) + "_" + KeyPart(mf.model_name) + "_" + KeyPart(e.name), e.name,
         e.value, u, e.unit.empty() ? "1" : e.unit, 1.0, PrettyUnit(e.unit), param_rules));
+    if (k < mf.effective_dof.size()) out.back().degrees_of_freedom = mf.effective_dof[k];
   }
   return out;
 }
@@ -834,6 +874,7 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
     sheet.not_evaluated = NotEvaluatedSentences(*inputs.fits);
   }
   MakeHeadlineUnique(sheet);
+  internal::EvaluateSpecifications(inputs, sheet);
   AddMeasurementCautions(inputs, cautions);
   if (std::any_of(sheet.headline.begin(), sheet.headline.end(),
                   [](const Quantity& q) { return q.key.rfind("surface_area_", 0) == 0; })) {

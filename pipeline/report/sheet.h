@@ -9,12 +9,14 @@
 // output format: one renderer of Sheet::sections.
 #pragma once
 
+#include <limits>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <utility>
 #include <variant>
 #include <vector>
 
+#include "pipeline/conform/conform.h"
 #include "pipeline/report/plot/plot.h"
 #include "pipeline/report/report.h"
 
@@ -33,6 +35,9 @@ struct Quantity {
   double display_expanded_uncertainty = 0.0;
   std::string display_unit;  // e.g. "%", "m²/g"
   std::string text;          // "1.23 ± 0.05 %", exactly as on the sheet
+  // Effective degrees of freedom of standard_uncertainty (JCGM 100:2008, G.4); infinity: the
+  // coverage factor is that of a normal distribution. Read by the statements of conformity.
+  double degrees_of_freedom = std::numeric_limits<double>::infinity();
 };
 
 nlohmann::ordered_json QuantityJson(const Quantity& quantity);
@@ -189,6 +194,26 @@ struct Section {
   std::string Heading() const;  // "8  Cautions"
 };
 
+// One [[specification]] of the job evaluated on its headline value (section_conformity.cc):
+// the value and limits in the specification's unit, the decision of pipeline/conform, and
+// the texts as printed. A headline the sheet does not have gives no decision, only a reason.
+struct ConformityStatement {
+  ingest::Specification specification;
+  std::string quantity_label;  // the headline label (the key when the headline is missing)
+  bool available = false;      // false: "no statement: <reason>"
+  std::string reason;
+  std::string unit_text;             // the specification's unit as printed, e.g. "m²/g"
+  conform::Measurement measurement;  // in the specification's unit
+  conform::Result result;
+  // As printed.
+  std::string limits_text;  // "at most 2 %", "at least 150 m²/g", "150 to 250 m²/g"
+  std::string value_text;   // "1.660 ± 0.038 % (k = 2)"
+  std::string rule_text;    // conform's rule with its source
+  std::string guard_band_text;
+  std::string result_text;  // "pass", "fail", "inconclusive", "no statement: <reason>"
+  std::string risk_text;
+};
+
 // The issuing laboratory as every page prints it (running header, signatures, PDF author):
 // from the job's laboratory profile. Without a profile the sheet is a draft: DRAFT on every
 // page (watermark), no laboratory named, no signature block.
@@ -212,6 +237,15 @@ struct Sheet {
   std::string moisture_unit;        // "%" or "kg/kg"
   std::string moisture_axis_label;  // "moisture content (% dry basis)"
   std::vector<Quantity> headline;   // summary values in print order
+  // Headline keys a job may name that this sheet does not print, with the reason (e.g. a
+  // reference condition at a temperature that was not measured).
+  struct Unavailable {
+    std::string key;
+    std::string label;   // what the headline would be called
+    std::string reason;  // e.g. "not measured at 23 °C; value at 25 °C"
+  };
+  std::vector<Unavailable> unavailable_headline;
+  std::vector<ConformityStatement> conformity;  // one per [[specification]], in job order
   std::string hygroscopicity_class;
   // Whether the sheet prints the Ph. Eur. 5.11 class (HygroscopicityClassRelevant).
   bool hygroscopicity_relevant = false;

@@ -16,9 +16,9 @@ namespace sorbtrace::report {
 namespace {
 
 const std::vector<std::string>& KnownSections() {
-  static const std::vector<std::string> kSections = {"summary", "isotherm",   "models",
-                                                     "pores",   "kinetics",   "equilibria",
-                                                     "method",  "deviations", "cautions"};
+  static const std::vector<std::string> kSections = {
+      "summary",  "conformity", "isotherm", "models",     "pores",
+      "kinetics", "equilibria", "method",   "deviations", "cautions"};
   return kSections;
 }
 

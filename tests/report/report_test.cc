@@ -99,7 +99,7 @@ TEST(ComposeReportTest, ResultsJsonSchema) {
   for (auto it = json.begin(); it != json.end(); ++it) keys.push_back(it.key());
   EXPECT_EQ(keys, (std::vector<std::string>{
                       "schema", "software", "report", "job", "issue", "inputs", "settings",
-                      "headline", "hygroscopicity_class", "best_model", "cautions",
+                      "headline", "hygroscopicity_class", "conformity", "best_model", "cautions",
                       "standing_statements", "equilibria", "isotherm", "fits", "pores", "sheet"}));
   // The sheet's sections in the template's order, numbered from 1.
   ASSERT_FALSE(json["sheet"]["sections"].empty());

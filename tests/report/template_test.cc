@@ -32,9 +32,9 @@ TEST(LoadTemplateTest, FullTemplate) {
   EXPECT_FALSE(t.compact);
   EXPECT_TRUE(t.moisture_in_percent);
   EXPECT_EQ(t.uncertainty_significant_digits, 2);
-  EXPECT_EQ(t.sections,
-            (std::vector<std::string>{"summary", "isotherm", "models", "pores", "kinetics",
-                                      "equilibria", "method", "deviations", "cautions"}));
+  EXPECT_EQ(t.sections, (std::vector<std::string>{"summary", "conformity", "isotherm", "models",
+                                                  "pores", "kinetics", "equilibria", "method",
+                                                  "deviations", "cautions"}));
   ASSERT_EQ(t.reference_conditions.size(), 2u);
   EXPECT_DOUBLE_EQ(t.reference_conditions[0].temperature_K, 296.15);
   EXPECT_DOUBLE_EQ(t.reference_conditions[1].rh_fraction, 0.8);
@@ -102,8 +102,8 @@ TEST(LoadTemplateTest, BadPageSize) {
 TEST(LoadTemplateTest, OtherErrors) {
   EXPECT_EQ(LoadError("bad_section.toml", "[layout]\nsections = [\"summary\", \"graphs\"]\n"),
             "bad_section.toml:2:24: error: unknown section \"graphs\"; expected one of "
-            "\"summary\", \"isotherm\", \"models\", \"pores\", \"kinetics\", \"equilibria\", "
-            "\"method\", \"deviations\" or \"cautions\"");
+            "\"summary\", \"conformity\", \"isotherm\", \"models\", \"pores\", \"kinetics\", "
+            "\"equilibria\", \"method\", \"deviations\" or \"cautions\"");
   EXPECT_EQ(LoadError("bad_digits.toml", "[units]\nuncertainty_significant_digits = 3\n"),
             "bad_digits.toml:2:34: error: uncertainty_significant_digits 3 is out of range; "
             "expected 1 or 2 (JCGM 100:2008, 7.2.6)");
