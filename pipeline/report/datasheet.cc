@@ -322,6 +322,16 @@ struct Density {
 constexpr Density kCompactDensities[] = {{1.0, 1.0}, {0.93, 1.0}, {0.87, 1.0}, {0.8, 1.0}};
 
 // The section with its text and figures set at `density`.
+// The section without its figure blocks (a one-page summary that cannot hold them).
+Section WithoutFigures(const Section& section) {
+  Section out = section;
+  out.blocks.clear();
+  for (const Block& block : section.blocks) {
+    if (!std::holds_alternative<FigureBlock>(block)) out.blocks.push_back(block);
+  }
+  return out;
+}
+
 Section AtDensity(const Section& section, const Density& density) {
   Section out = section;
   for (Block& block : out.blocks) {
@@ -359,15 +369,21 @@ RenderedPdf RenderPdf(const Sheet& sheet, const Template& layout, const ReportOp
   const std::string version = PlainVersion(software_version);
   std::unique_ptr<Document> doc;
   if (layout.compact) {
-    // The one-page summary: the first density at which everything fits on the page.
-    for (const Density& density : kCompactDensities) {
-      std::vector<Section> sections;
-      for (const Section& section : sheet.sections) {
-        sections.push_back(AtDensity(section, density));
+    // The one-page summary: the first density at which everything fits on the page; then,
+    // without its figures (the words and numbers come first: the full sheet and the HTML
+    // keep the figures), again from the first density.
+    for (const bool with_figures : {true, false}) {
+      for (const Density& density : kCompactDensities) {
+        std::vector<Section> sections;
+        for (const Section& section : sheet.sections) {
+          sections.push_back(AtDensity(with_figures ? section : WithoutFigures(section), density));
+        }
+        doc =
+            LayOut(sections, layout, options, sheet.report_number, version, sheet.letterhead, true);
+        if (!doc->overflowed()) break;
+        doc.reset();
       }
-      doc = LayOut(sections, layout, options, sheet.report_number, version, sheet.letterhead, true);
-      if (!doc->overflowed()) break;
-      doc.reset();
+      if (doc != nullptr) break;
     }
   }
   // The full sheet, and a summary too long for one page even at the densest setting: it

@@ -3,7 +3,11 @@
 // section.
 #include <fmt/format.h>
 
+#include <algorithm>
+#include <map>
+#include <string>
 #include <utility>
+#include <vector>
 
 #include "pipeline/report/format.h"
 #include "pipeline/report/sections.h"
@@ -16,11 +20,37 @@ namespace {
 constexpr size_t kMaxSummaryCautions = 12;
 constexpr size_t kMaxCompactSummaryCautions = 4;
 
+// The one-page summary folds the front matter's detail rows into the row they belong to
+// ("Client address" into "Client", ...): the same facts on fewer lines.
+std::vector<std::pair<std::string, std::string>> FoldedFacts(
+    const std::vector<std::pair<std::string, std::string>>& rows) {
+  static const std::map<std::string, std::string> kInto = {
+      {"Laboratory contact", "Laboratory"}, {"Location of testing", "Laboratory"},
+      {"Client address", "Client"},         {"Client contact", "Client"},
+      {"Description", "Material"},          {"Condition on receipt", "Item received"},
+      {"Test dates", "Temperature"},        {"Issued", "Temperature"}};
+  std::vector<std::pair<std::string, std::string>> folded;
+  for (const auto& [label, text] : rows) {
+    const auto into = kInto.find(label);
+    const auto target = into == kInto.end()
+                            ? folded.end()
+                            : std::find_if(folded.begin(), folded.end(), [&into](const auto& row) {
+                                return row.first == into->second;
+                              });
+    if (target == folded.end()) {
+      folded.emplace_back(label, text);
+    } else {
+      target->second += "; " + (label == "Issued" ? "issued " + text : text);
+    }
+  }
+  return folded;
+}
+
 // The front matter (sheet.front_matter) and where the deviations from the method are listed.
-FactsBlock JobFacts(const SectionContext& ctx) {
+FactsBlock JobFacts(const SectionContext& ctx, bool compact) {
   FactsBlock facts;
   if (ctx.inputs.ingested == nullptr) return facts;
-  facts.rows = ctx.sheet.front_matter;
+  facts.rows = compact ? FoldedFacts(ctx.sheet.front_matter) : ctx.sheet.front_matter;
   facts.label_width_pt = 132.0;  // "Deviations from the method" on one line at 8.5 pt
   const int section = ctx.sheet.SectionNumber("deviations");
   const size_t n = ctx.sheet.deviations.size();
@@ -115,7 +145,7 @@ FigureBlock SummaryFigure(const SectionContext& ctx) {
 }  // namespace
 
 void BuildSummarySection(const SectionContext& ctx, bool compact, Section& section) {
-  section.blocks.emplace_back(JobFacts(ctx));
+  section.blocks.emplace_back(JobFacts(ctx, compact));
   section.blocks.emplace_back(SubheadingBlock{fmt::format(
       "Results (expanded uncertainty U, k = {})", CoverageText(ctx.sheet.rules.coverage_factor))});
   section.blocks.emplace_back(ResultsTable(ctx, compact));

@@ -106,6 +106,7 @@ TEST(CyclesE2eTest, TwoCyclesAreNumberedMarkedAndCarriedAsACycleComponent) {
   fs::remove_all(root);
   fs::create_directories(root / "job/data");
   fs::copy_file(demo / "job.toml", root / "job/job.toml");
+  fs::copy_file(demo / "lab_profile.toml", root / "job/lab_profile.toml");
   ASSERT_TRUE(
       WriteTwoCycleLog(demo / "data/vapour_log_W1.csv", root / "job/data/vapour_log_W1.csv"));
   int code = -1;

@@ -155,8 +155,10 @@ TEST(PoresFigureAgreementTest, CurvesEndAtTheTableVolumeAndPeakAtTheTableMode) {
       ++modes_checked;
     }
   }
-  // The demos hold model-based and stepwise distributions and at least one resolved mode.
-  EXPECT_GE(distributions_checked, 8);
+  // The demos hold model-based and stepwise distributions (adsorption and desorption) and at
+  // least one resolved mode; only the lime plaster is a porous mineral, the wood-fibre and
+  // excipient jobs omit the pore section (material_class).
+  EXPECT_GE(distributions_checked, 4);
   EXPECT_GE(modes_checked, 1);
 }
 
