@@ -360,11 +360,12 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     const bool theirs = std::find(std::begin(kOtherStagesTables), std::end(kOtherStagesTables),
                                   name) != std::end(kOtherStagesTables);
     if (!ours && !theirs) {
-      in.Fail(key.source(),
-              "unknown top-level " + std::string(value.is_table() ? "table [" : "key '") +
-                  std::string(name) + (value.is_table() ? "]" : "'"),
-              "tables [job], [material], [measurement], [[specimen]], [[dataset]], "
-              "[retention], [sampling], [[specification]], [equilibrium], [fit], [pores], [report]");
+      in.Fail(
+          key.source(),
+          "unknown top-level " + std::string(value.is_table() ? "table [" : "key '") +
+              std::string(name) + (value.is_table() ? "]" : "'"),
+          "tables [job], [material], [measurement], [[specimen]], [[dataset]], "
+          "[retention], [sampling], [[specification]], [equilibrium], [fit], [pores], [report]");
     }
   }
 
