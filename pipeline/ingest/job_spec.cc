@@ -162,7 +162,7 @@ void CheckUncertaintyBounds(const JobFileReader& in, const toml::table& measurem
 // An optional ISO 8601 date; "" when absent.
 std::string OptionalDate(const JobFileReader& in, const toml::table& table,
                          std::string_view section, std::string_view key) {
-  const std::string date = in.String(table, section, key, false).value_or("");
+  std::string date = in.String(table, section, key, false).value_or("");
   if (!date.empty() && !internal::IsIsoDate(date)) {
     in.Fail(*table.get(key), std::string(key) + " '" + Excerpt(date) + "' is not a date",
             "an ISO 8601 date YYYY-MM-DD");

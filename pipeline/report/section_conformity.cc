@@ -203,7 +203,7 @@ std::string GuardBandText(const ConformityStatement& s) {
 std::string ResultText(const ConformityStatement& s) {
   const conform::Options& o = s.specification.decision;
   const conform::Decision d = s.result.decision;
-  const std::string name = conform::DecisionName(d);
+  std::string name = conform::DecisionName(d);
   switch (o.rule) {
     case conform::DecisionRule::kSimpleAcceptance:
       return name + (d == conform::Decision::kPass

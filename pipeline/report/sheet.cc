@@ -658,8 +658,11 @@ std::vector<std::string> NotEvaluatedSentences(const fit::IsothermFits& fits) {
     }
   }
   std::vector<std::string> out;
+  out.reserve(reasons.size());
   for (const auto& [head, groups] : reasons) {
-    out.push_back(head + (groups.empty() ? "" : " (" + groups + ")") + ".");
+    std::string sentence = head;
+    if (!groups.empty()) sentence.append(" (").append(groups).append(")");
+    out.push_back(sentence.append("."));
   }
   return out;
 }

@@ -233,14 +233,14 @@ Ticks NiceLinearTicks(double data_min, double data_max, int num_ticks) {
 }
 
 Ticks CloseLinearTicks(double data_min, double data_max, int num_ticks) {
-  const Ticks heckbert = NiceLinearTicks(data_min, data_max, num_ticks);
+  Ticks heckbert = NiceLinearTicks(data_min, data_max, num_ticks);
   if (!(data_max > data_min)) return heckbert;
   const int n = std::max(num_ticks, 2);
   for (int target = n; target <= 2 * n; ++target) {
     Ticks t = NiceLinearTicks(data_min, data_max, target);
     const double length = t.axis_max - t.axis_min;
     const double slack = length - (data_max - data_min);
-    if (slack <= kMaxAxisSlack * length && t.values.size() <= static_cast<size_t>(2 * n)) {
+    if (slack <= kMaxAxisSlack * length && t.values.size() <= 2 * static_cast<size_t>(n)) {
       return t;
     }
   }
@@ -754,9 +754,12 @@ void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
   // keep the legend within kMaxLegendHeightShare of the frame's height.
   const double column_width = 6.0 + sample + 4.0 + text_width + 6.0;
   size_t columns = 1;
+  const auto rows_in = [&entries](size_t n_columns) {
+    const size_t rows = (entries.size() + n_columns - 1) / n_columns;  // ceiling
+    return static_cast<double>(rows);
+  };
   while (columns < kMaxLegendColumns &&
-         4.0 + row * static_cast<double>((entries.size() + columns - 1) / columns) >
-             kMaxLegendHeightShare * frame.height &&
+         4.0 + row * rows_in(columns) > kMaxLegendHeightShare * frame.height &&
          column_width * static_cast<double>(columns + 1) <= frame.width - 8.0) {
     ++columns;
   }
@@ -778,7 +781,8 @@ void DrawLegend(Canvas& canvas, const Figure& figure, const FigurePlan& p,
   canvas.StrokeRect(box, 0.4, palette::kSlate);
   for (size_t k = 0; k < entries.size(); ++k) {
     const LegendEntry& e = entries[k];
-    const double sx = box.x + 6.0 + column_width * static_cast<double>(k / per_column);
+    const size_t column = k / per_column;  // entries fill a column, then the next
+    const double sx = box.x + 6.0 + column_width * static_cast<double>(column);
     const double y = box.top() - 2.0 - row / 2.0 - row * static_cast<double>(k % per_column);
     if (e.band != nullptr) {
       canvas.FillRect({sx, y - lfs * 0.4, sample, lfs * 0.8}, e.band->fill);
