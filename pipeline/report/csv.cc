@@ -12,7 +12,7 @@
 
 #include "pipeline/report/results_json.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 std::string Num(double value) { return std::isfinite(value) ? fmt::format("{}", value) : ""; }
@@ -202,4 +202,4 @@ std::vector<std::pair<std::string, std::string>> BuildCsvFiles(const ReportInput
   return files;
 }
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -17,7 +17,7 @@
 #include "pipeline/report/results_json.h"
 #include "pipeline/report/sheet.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 using plot::Canvas;
@@ -398,22 +398,26 @@ RenderedPdf RenderPdf(const Sheet& sheet, const Template& layout, const ReportOp
   return out;
 }
 
+}  // namespace sorbtrace::report::internal
+
+namespace sorbtrace::report {
+
 ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout,
                               const ReportOptions& options) {
-  const Sheet sheet = BuildSheet(inputs, layout, options);
+  const internal::Sheet sheet = internal::BuildSheet(inputs, layout, options);
   ReportArtifacts artifacts;
   artifacts.warnings = sheet.warnings;
   // The page count is recorded in results.json, so the PDF is laid out even when the
   // template writes only the HTML report.
-  RenderedPdf pdf = RenderPdf(sheet, layout, options, inputs.software_version);
+  internal::RenderedPdf pdf = internal::RenderPdf(sheet, layout, options, inputs.software_version);
   artifacts.num_pages = pdf.num_pages;
   if (layout.write_pdf) artifacts.pdf = std::move(pdf.bytes);
-  if (layout.write_html) artifacts.html = RenderHtml(sheet, layout, options);
+  if (layout.write_html) artifacts.html = internal::RenderHtml(sheet, layout, options);
   artifacts.results_json =
-      BuildResultsJson(inputs, layout, options, sheet, artifacts.num_pages)
+      internal::BuildResultsJson(inputs, layout, options, sheet, artifacts.num_pages)
           .dump(2, ' ', false, nlohmann::ordered_json::error_handler_t::replace) +
       "\n";
-  artifacts.csv_files = BuildCsvFiles(inputs, sheet);
+  artifacts.csv_files = internal::BuildCsvFiles(inputs, sheet);
   return artifacts;
 }
 

@@ -12,7 +12,7 @@
 #include "pipeline/report/plot/pdf_canvas.h"
 #include "pipeline/report/plot/text.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 using plot::Canvas;
@@ -487,4 +487,4 @@ std::string Document::Finish() {
   return bytes;
 }
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

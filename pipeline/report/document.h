@@ -20,7 +20,7 @@
 #include "pipeline/report/report.h"
 #include "pipeline/report/sheet.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 
 // Fewest lines, bullet items or table rows a block leaves on either side of a page break.
 inline constexpr size_t kMinLinesAcrossBreak = 2;
@@ -138,4 +138,4 @@ class Document {
   HPDF_STATUS first_detail_ = 0;
 };
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -10,7 +10,7 @@
 #include "pipeline/report/plot/text.h"
 #include "pipeline/report/report.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 // Plain decimals while the larger magnitude stays within these decades and no more than
@@ -119,28 +119,6 @@ std::string FormatSignificant(double value, int significant_digits) {
   return Decimal(r, exponent) + TimesTenTo(exponent);
 }
 
-std::string FormatWithUncertainty(double value, double uncertainty, int significant_digits) {
-  if (!std::isfinite(value)) return "n/a";
-  if (!std::isfinite(uncertainty) || uncertainty <= 0.0) {
-    // No usable uncertainty: the value alone, to four significant digits (common practice).
-    return FormatSignificant(value, 4);
-  }
-  const int n = std::clamp(significant_digits, 1, 4);
-  int place = UncertaintyPlace(uncertainty, n);
-  Rounded v = RoundAt(value, place);
-  Rounded u = RoundAt(uncertainty, place);
-  // Digit cap: U rounded up to the value's kMaxValueDigits-th digit (see format.h).
-  while (v.num_digits() > kMaxValueDigits) {
-    place += v.num_digits() - kMaxValueDigits;
-    v = RoundAt(value, place);
-    u = RoundUpAt(uncertainty, place);
-  }
-  const int top = std::max(v.top(), u.top());
-  const int exponent = NotationExponent(top, place);
-  if (exponent == 0) return Decimal(v, 0) + " ± " + Decimal(u, 0);
-  return "(" + Decimal(v, exponent) + " ± " + Decimal(u, exponent) + ")" + TimesTenTo(exponent);
-}
-
 std::string CoverageText(double k) {
   constexpr double kHalfOfSecondDigit = 0.005;  // below this, two digits would read "2.0"
   return std::abs(k - std::round(k)) < kHalfOfSecondDigit ? FormatFixed(k, 0)
@@ -163,6 +141,33 @@ std::string FormatSetting(double value) {
     text = mantissa + "e" + (negative ? "-" : "") + exponent;
   }
   return text;
+}
+
+}  // namespace sorbtrace::report::internal
+
+namespace sorbtrace::report {
+
+std::string FormatWithUncertainty(double value, double uncertainty, int significant_digits) {
+  if (!std::isfinite(value)) return "n/a";
+  if (!std::isfinite(uncertainty) || uncertainty <= 0.0) {
+    // No usable uncertainty: the value alone, to four significant digits (common practice).
+    return internal::FormatSignificant(value, 4);
+  }
+  const int n = std::clamp(significant_digits, 1, 4);
+  int place = internal::UncertaintyPlace(uncertainty, n);
+  internal::Rounded v = internal::RoundAt(value, place);
+  internal::Rounded u = internal::RoundAt(uncertainty, place);
+  // Digit cap: U rounded up to the value's kMaxValueDigits-th digit (see format.h).
+  while (v.num_digits() > internal::kMaxValueDigits) {
+    place += v.num_digits() - internal::kMaxValueDigits;
+    v = internal::RoundAt(value, place);
+    u = internal::RoundUpAt(uncertainty, place);
+  }
+  const int top = std::max(v.top(), u.top());
+  const int exponent = internal::NotationExponent(top, place);
+  if (exponent == 0) return internal::Decimal(v, 0) + " ± " + internal::Decimal(u, 0);
+  return "(" + internal::Decimal(v, exponent) + " ± " + internal::Decimal(u, exponent) + ")" +
+         internal::TimesTenTo(exponent);
 }
 
 }  // namespace sorbtrace::report

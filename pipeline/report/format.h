@@ -22,7 +22,7 @@
 
 #include <string>
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 
 // Most significant digits a printed value carries (common practice: no sorption quantity
 // is known to better than about 1e-5 relative; a balance reading has five to six digits).
@@ -45,4 +45,4 @@ std::string CoverageText(double k);
 // the 17th digit only), exponent without padding ("1e-5"). "n/a" when not finite.
 std::string FormatSetting(double value);
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -14,7 +14,7 @@
 #include "pipeline/report/sections.h"
 #include "pipeline/report/sheet.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 using Json = nlohmann::ordered_json;
@@ -195,4 +195,4 @@ Json IssueJson(const ReportInputs& inputs, const Sheet& sheet) {
   return issue;
 }
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

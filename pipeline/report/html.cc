@@ -16,7 +16,7 @@
 #include "pipeline/report/plot/svg_canvas.h"
 #include "pipeline/report/renderers.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 using plot::XmlEscape;
@@ -256,4 +256,4 @@ std::string RenderHtml(const Sheet& sheet, const Template& layout, const ReportO
   return out;
 }
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -5,7 +5,7 @@
 
 #include "pipeline/report/sheet.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 
 struct RenderedPdf {
   std::string bytes;
@@ -21,4 +21,4 @@ RenderedPdf RenderPdf(const Sheet& sheet, const Template& layout, const ReportOp
 // (html.cc). Deterministic: no time stamp other than the sheet's own issue date.
 std::string RenderHtml(const Sheet& sheet, const Template& layout, const ReportOptions& options);
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -12,7 +12,7 @@
 
 #include "pipeline/physics/physics.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 using Json = nlohmann::ordered_json;
@@ -642,4 +642,4 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
   return root;
 }
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

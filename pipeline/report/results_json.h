@@ -9,7 +9,7 @@
 #include "pipeline/report/report.h"
 #include "pipeline/report/sheet.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 
 // Top-level keys, in order: schema, software, report, job, issue (IssueJson), inputs, settings,
 // headline, hygroscopicity_class, conformity (one statement per [[specification]], possibly
@@ -35,4 +35,4 @@ std::string CsvText(const std::string& text);
 std::vector<std::pair<std::string, std::string>> BuildCsvFiles(const ReportInputs& inputs,
                                                                const Sheet& sheet);
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -12,7 +12,7 @@
 #include "pipeline/report/format.h"
 #include "pipeline/report/sections.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 using Json = nlohmann::ordered_json;
@@ -138,8 +138,6 @@ std::vector<std::string> MethodDeviations(const ReportInputs& inputs) {
   return out;
 }
 
-namespace internal {
-
 void BuildDeviationsSection(const SectionContext& ctx, Section& section) {
   if (ctx.sheet.deviations.empty()) {
     section.blocks.emplace_back(ParagraphBlock{
@@ -153,5 +151,4 @@ void BuildDeviationsSection(const SectionContext& ctx, Section& section) {
   section.blocks.emplace_back(BulletsBlock{ctx.sheet.deviations, 8.0});
 }
 
-}  // namespace internal
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

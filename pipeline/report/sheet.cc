@@ -13,7 +13,7 @@
 #include "pipeline/report/plot/text.h"
 #include "pipeline/report/sections.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 using physics::kZeroCelsius_K;
@@ -907,4 +907,4 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
   return sheet;
 }
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

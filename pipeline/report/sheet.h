@@ -20,7 +20,7 @@
 #include "pipeline/report/plot/plot.h"
 #include "pipeline/report/report.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 
 // One printed number.
 struct Quantity {
@@ -328,4 +328,4 @@ bool HygroscopicityClassRelevant(ingest::MaterialClass material_class);
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout,
                  const ReportOptions& options = {});
 
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

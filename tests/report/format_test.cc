@@ -12,7 +12,7 @@
 
 #include "pipeline/report/report.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 struct Case {
@@ -143,4 +143,4 @@ TEST(FormatSettingTest, NumbersAsAPersonWroteThem) {
 }
 
 }  // namespace
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -19,7 +19,7 @@
 #include "pipeline/report/sheet.h"
 #include "tests/report/report_fixture.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 using testing::MakeReportFixture;
@@ -210,4 +210,4 @@ TEST(ReaderTextTest, KelvinDegCSourceNotesAndRegistryKeysBecomePlain) {
 }
 
 }  // namespace
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -21,7 +21,7 @@
 #include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 namespace fs = std::filesystem;
@@ -171,4 +171,4 @@ TEST(PdfDocument, WithoutALabTheAuthorIsSorbtrace) {
 }
 
 }  // namespace
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -13,7 +13,7 @@
 #include "pipeline/report/plot/text.h"
 #include "tests/report/pdf_tools.h"
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 namespace {
 
 using report::testing::CollapseSpaces;
@@ -313,4 +313,4 @@ TEST(DrawFigureTest, LogAxisAndRightAxisRender) {
 }
 
 }  // namespace
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

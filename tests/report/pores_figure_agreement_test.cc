@@ -25,7 +25,7 @@
 #include "pipeline/report/sheet.h"
 #include "pipeline/run/run.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 namespace fs = std::filesystem;
@@ -163,4 +163,4 @@ TEST(PoresFigureAgreementTest, CurvesEndAtTheTableVolumeAndPeakAtTheTableMode) {
 }
 
 }  // namespace
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

@@ -17,7 +17,7 @@
 #include "tests/report/pdf_tools.h"
 #include "tests/report/report_fixture.h"
 
-namespace sorbtrace::report {
+namespace sorbtrace::report::internal {
 namespace {
 
 using testing::CollapseSpaces;
@@ -418,4 +418,4 @@ TEST(SheetLabelsTest, AReferenceTemperatureThatWasNotMeasuredIsMarked) {
 }
 
 }  // namespace
-}  // namespace sorbtrace::report
+}  // namespace sorbtrace::report::internal

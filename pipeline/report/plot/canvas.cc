@@ -8,7 +8,7 @@
 
 #include "pipeline/report/plot/text.h"
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 
 // ---- Colours ---------------------------------------------------------------------------------
 Color Color::Tint(double amount) const {
@@ -132,4 +132,4 @@ std::vector<int> DashPattern(const std::vector<double>& dash_pt) {
   return pattern;
 }
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

@@ -6,7 +6,7 @@
 #include <string_view>
 #include <vector>
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 
 // An RGB colour, components in [0, 1].
 struct Color {
@@ -96,4 +96,4 @@ class Canvas {
 // (the PDF canvas passes whole numbers to libharu; the SVG canvas draws the same).
 std::vector<int> DashPattern(const std::vector<double>& dash_pt);
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

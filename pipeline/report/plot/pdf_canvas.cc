@@ -1,6 +1,6 @@
 #include "pipeline/report/plot/pdf_canvas.h"
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 namespace {
 
 HPDF_REAL F(double value) { return static_cast<HPDF_REAL>(value); }
@@ -75,4 +75,4 @@ void PdfCanvas::PushClip(const Rect& rect) {
 
 void PdfCanvas::PopClip() { HPDF_Page_GRestore(page_); }
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

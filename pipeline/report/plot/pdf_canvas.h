@@ -9,7 +9,7 @@
 
 #include "pipeline/report/plot/canvas.h"
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 
 class PdfCanvas : public Canvas {
  public:
@@ -39,4 +39,4 @@ class PdfCanvas : public Canvas {
   HPDF_Font bold_;
 };
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

@@ -10,7 +10,7 @@
 
 #include "pipeline/report/plot/text.h"
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 namespace {
 
 bool Usable(double value, Scale scale) {
@@ -815,4 +815,4 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
   return layout;
 }
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

@@ -20,7 +20,7 @@
 
 #include "pipeline/report/plot/canvas.h"
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 
 enum class Scale { kLinear, kLog10 };
 
@@ -169,4 +169,4 @@ FigureLayout DrawFigure(Canvas& canvas, const Figure& figure, const Rect& outer)
 // Height a caption of `text` takes below a figure `width_pt` wide (for page layout).
 double CaptionHeight(const Canvas& canvas, const Figure& figure, double width_pt);
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

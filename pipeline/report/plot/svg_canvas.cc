@@ -6,7 +6,7 @@
 #include <cmath>
 #include <utility>
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 namespace {
 
 // Two decimals of a point (1/7200 in): finer than any screen or printer resolves.
@@ -152,4 +152,4 @@ void SvgCanvas::PopClip() {
   body_ += "</g>\n";
 }
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

@@ -12,7 +12,7 @@
 
 #include "pipeline/report/plot/canvas.h"
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 
 class SvgCanvas : public Canvas {
  public:
@@ -73,4 +73,4 @@ std::string XmlEscape(std::string_view text);
 // "#rrggbb" of a colour.
 std::string HexColor(Color color);
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

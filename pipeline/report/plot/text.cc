@@ -5,7 +5,7 @@
 #include <cstdint>
 #include <string>
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 
 std::string SanitizeUtf8(std::string_view text) {
   std::string out;
@@ -116,4 +116,4 @@ std::string Superscript(int value) {
   return out;
 }
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot

@@ -5,7 +5,7 @@
 #include <string>
 #include <string_view>
 
-namespace sorbtrace::report::plot {
+namespace sorbtrace::report::internal::plot {
 
 // Returns text with every invalid UTF-8 sequence (and control character other than none)
 // replaced by '?', so that nothing from an input file can confuse the PDF text encoder.
@@ -31,4 +31,4 @@ std::string PrintableText(std::string_view text);
 // An integer written with Unicode superscript digits, e.g. -6 -> "⁻⁶".
 std::string Superscript(int value);
 
-}  // namespace sorbtrace::report::plot
+}  // namespace sorbtrace::report::internal::plot
