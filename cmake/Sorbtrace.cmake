@@ -24,15 +24,62 @@ if(SORBTRACE_SANITIZE)
   add_link_options(-fsanitize=address,undefined)
 endif()
 
-# sorbtrace_library(NAME SOURCES a.cc b.cc DEPS lib1 lib2)
-# Creates static library sorbtrace_NAME with the repo root on its include path,
-# so public headers are included as "pipeline/ingest/ingest.h", "fitters/model.h".
+# sorbtrace_library(NAME SOURCES a.cc b.cc DEPS lib1 lib2 [PUBLIC_HEADERS a.h models/b.h])
+# Creates static library sorbtrace_NAME from the sources of the calling folder (a stage, e.g.
+# pipeline/ingest, or fitters). Headers are included by their path from the repository root
+# ("pipeline/ingest/ingest.h", "fitters/model.h"), but the build enforces the layering
+# (DEVELOPERS.md, "Architecture"): no target sees the repository root through a library.
+#  - PRIVATE: the library's own folder, as
+#      ${PROJECT_BINARY_DIR}/include-private/NAME/<folder> -> symbolic link to the folder,
+#    so its sources include every header of their own stage and nothing of another's.
+#  - PUBLIC: only PUBLIC_HEADERS, as symbolic links in ${PROJECT_BINARY_DIR}/include/NAME/<folder>/;
+#    without PUBLIC_HEADERS every header of the folder is public (pipeline/common: utilities).
+# A stage therefore sees the public headers of the stages it links (DEPS, transitively) and
+# nothing else: including another stage's internal header, or a later stage's public header,
+# fails to compile ("No such file or directory"). Tests, benchmarks and fuzz targets put the
+# repository root on their own PRIVATE path so they can test internals.
 function(sorbtrace_library name)
-  cmake_parse_arguments(ARG "" "" "SOURCES;DEPS" ${ARGN})
+  cmake_parse_arguments(ARG "" "" "SOURCES;DEPS;PUBLIC_HEADERS" ${ARGN})
+  file(RELATIVE_PATH folder ${PROJECT_SOURCE_DIR} ${CMAKE_CURRENT_SOURCE_DIR})
+  set(private_root "${PROJECT_BINARY_DIR}/include-private/${name}")
+  set(public_root "${PROJECT_BINARY_DIR}/include/${name}")
+  # Links from an earlier configure may name headers no longer public: start afresh.
+  file(REMOVE_RECURSE "${private_root}" "${public_root}")
+  sorbtrace_internal_link("${CMAKE_CURRENT_SOURCE_DIR}" "${private_root}/${folder}")
+  if(ARG_PUBLIC_HEADERS)
+    foreach(header IN LISTS ARG_PUBLIC_HEADERS)
+      if(NOT EXISTS "${CMAKE_CURRENT_SOURCE_DIR}/${header}")
+        message(FATAL_ERROR "sorbtrace_library(${name}): public header ${folder}/${header} not found")
+      endif()
+      sorbtrace_internal_link("${CMAKE_CURRENT_SOURCE_DIR}/${header}"
+                              "${public_root}/${folder}/${header}")
+    endforeach()
+  else()
+    sorbtrace_internal_link("${CMAKE_CURRENT_SOURCE_DIR}" "${public_root}/${folder}")
+  endif()
   add_library(sorbtrace_${name} STATIC ${ARG_SOURCES})
-  target_include_directories(sorbtrace_${name} PUBLIC ${PROJECT_SOURCE_DIR})
+  target_include_directories(sorbtrace_${name} PRIVATE "${private_root}")
+  target_include_directories(sorbtrace_${name} PUBLIC "$<BUILD_INTERFACE:${public_root}>")
   target_compile_options(sorbtrace_${name} PRIVATE ${SORBTRACE_WARNINGS})
   target_link_libraries(sorbtrace_${name} PUBLIC ${ARG_DEPS})
+endfunction()
+
+# sorbtrace_private_headers(TARGET NAME): TARGET (an executable built from a stage's folder,
+# e.g. the sorbtrace command from pipeline/run/main.cc) sees the headers of library NAME's
+# folder as that library's own sources do.
+function(sorbtrace_private_headers target name)
+  target_include_directories(${target} PRIVATE "${PROJECT_BINARY_DIR}/include-private/${name}")
+endfunction()
+
+# A symbolic link `link` -> `original` (parent folders created). Symbolic, not a copy: an
+# edited header is seen at once, and GCC's #pragma once knows the two paths as one file.
+function(sorbtrace_internal_link original link)
+  get_filename_component(parent "${link}" DIRECTORY)
+  file(MAKE_DIRECTORY "${parent}")
+  file(CREATE_LINK "${original}" "${link}" RESULT result SYMBOLIC)
+  if(NOT result EQUAL 0)
+    message(FATAL_ERROR "cannot link ${link} -> ${original}: ${result}")
+  endif()
 endfunction()
 
 # sorbtrace_test(NAME SOURCES a_test.cc DEPS sorbtrace_x [LABELS unit|e2e|slow])

@@ -3,7 +3,8 @@
 # sources. Exit non-zero on any finding. Needs build/compile_commands.json (scripts/test.sh
 # or `cmake -B build` makes it).
 #
-# Usage: scripts/lint.sh           clang-format on every source; clang-tidy on the .cc files
+# Usage: scripts/lint.sh           clang-format on every source, function size of the report
+#                                  stage (scripts/function_size.py); clang-tidy on the .cc files
 #                                  changed against the base (see below), 2 files at a time
 #        scripts/lint.sh --all     clang-tidy on every .cc file as well (about 6 min on the
 #                                  2-core reference machine; 67 files)
@@ -23,6 +24,10 @@ files=$(git ls-files 'pipeline/*.cc' 'pipeline/*.h' 'fitters/*.cc' 'fitters/*.h'
 echo "== clang-format"
 # shellcheck disable=SC2086
 clang-format --dry-run --Werror $files
+
+# Function length (DEVELOPERS.md, Tests: every report-stage function at most 80 lines).
+echo "== function size (pipeline/report)"
+python3 scripts/function_size.py --max-lines 80 --top 3 pipeline/report
 
 all_sources=$(git ls-files 'pipeline/*.cc' 'fitters/*.cc')
 if [ "${1:-}" = "--all" ]; then
