@@ -103,6 +103,41 @@ inline fs::path FreshDir(const std::string& prefix, const std::string& name) {
   return dir;
 }
 
+// FreshDir for the running test: `prefix` names the test file, the test's own name the case
+// (ctest runs the tests of one file as parallel processes).
+inline fs::path FreshTestDir(const std::string& prefix) {
+  return FreshDir(prefix, ::testing::UnitTest::GetInstance()->current_test_info()->name());
+}
+
+// The demo jobs: example_inputs/<scenario>/job.toml of every scenario, sorted.
+inline std::vector<fs::path> DemoJobFiles() {
+  std::vector<fs::path> jobs;
+  for (const auto& entry :
+       fs::directory_iterator(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs")) {
+    if (fs::exists(entry.path() / "job.toml")) jobs.push_back(entry.path() / "job.toml");
+  }
+  std::sort(jobs.begin(), jobs.end());
+  return jobs;
+}
+
+// ---- PDF text as a reader sees it (poppler-utils: pdfinfo, pdftotext) ----------------------
+
+// The number of pages pdfinfo reports, -1 when it reports none (not a PDF, no pdfinfo).
+inline int PdfPageCount(const fs::path& pdf) {
+  static const std::regex pages(R"(Pages:\s+([0-9]+))");
+  std::smatch m;
+  const std::string info = Shell("pdfinfo '" + pdf.string() + "' 2>&1").output;
+  return std::regex_search(info, m, pages) ? std::stoi(m[1]) : -1;
+}
+
+// The text of page `page` (1-based) with its layout (pdftotext -layout, UTF-8), as printed.
+inline std::string PdfPageText(const fs::path& pdf, int page) {
+  const std::string n = std::to_string(page);
+  return Shell("pdftotext -q -layout -enc UTF-8 -f " + n + " -l " + n + " '" + pdf.string() +
+               "' - 2>&1")
+      .output;
+}
+
 // ---- Corpora of faulty inputs (tests/bad_inputs/corpus, tests/bad_inputs/plausibility) -----
 
 // One row of a corpus's cases.tsv: case folder, verb (check|make), exit code, file named in

@@ -17,18 +17,16 @@
 //    its key for `check` and `make` alike;
 //  - a job without specifications: no conformity section, no conformity.csv.
 #include <gtest/gtest.h>
-#include <sys/wait.h>
 
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
-#include <fstream>
 #include <nlohmann/json.hpp>
 #include <regex>
-#include <sstream>
 #include <string>
 
+#include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace {
@@ -39,35 +37,10 @@ using Json = nlohmann::json;
 using report::testing::CollapseSpaces;
 using report::testing::PdfText;
 
-struct CommandRun {
-  int exit_code = -1;
-  std::string output;  // stdout and stderr
-};
-
-CommandRun Sorbtrace(const std::string& arguments) {
-  const std::string command = std::string(SORBTRACE_BINARY) + " " + arguments + " 2>&1";
-  CommandRun run;
-  FILE* pipe = popen(command.c_str(), "r");
-  if (pipe == nullptr) return run;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.output.append(buffer, got);
-  const int status = pclose(pipe);
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return run;
-}
-
-std::string Slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
-void Spit(const fs::path& file, const std::string& bytes) {
-  std::ofstream out(file, std::ios::binary);
-  out << bytes;
-}
+using CommandRun = e2e::Outcome;
+using e2e::ReadBytes;
+using e2e::Sorbtrace;
+using e2e::WriteBytes;
 
 // Standard normal cumulative distribution, Phi(x) = erfc(-x / sqrt 2) / 2 (A&S 26.2.29).
 double Phi(double x) { return 0.5 * std::erfc(-x / std::sqrt(2.0)); }
@@ -76,7 +49,7 @@ const fs::path kExamples = fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs";
 
 // The lime demo job without its specifications (they are the last tables of the file).
 std::string LimeJobWithoutSpecifications() {
-  const std::string job = Slurp(kExamples / "lime_plaster_desiccator" / "job.toml");
+  const std::string job = ReadBytes(kExamples / "lime_plaster_desiccator" / "job.toml");
   const size_t at = job.find("\n# Statements of conformity");
   return at == std::string::npos ? job : job.substr(0, at + 1);
 }
@@ -85,9 +58,7 @@ class ConformityE2eTest : public ::testing::Test {
  protected:
   void SetUp() override {
     const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    root_ = fs::temp_directory_path() / (std::string("sorbtrace_conformity_") + info->name());
-    fs::remove_all(root_);
-    fs::create_directories(root_);
+    root_ = e2e::FreshDir("conformity", info->name());
   }
   void TearDown() override { fs::remove_all(root_); }
 
@@ -97,7 +68,7 @@ class ConformityE2eTest : public ::testing::Test {
     fs::remove_all(dir);
     // The whole scenario (data, laboratory profile), then the job rewritten.
     fs::copy(kExamples / "lime_plaster_desiccator", dir, fs::copy_options::recursive);
-    Spit(dir / "job.toml", LimeJobWithoutSpecifications() + specifications);
+    WriteBytes(dir / "job.toml", LimeJobWithoutSpecifications() + specifications);
     return dir / "job.toml";
   }
 
@@ -111,7 +82,7 @@ class ConformityE2eTest : public ::testing::Test {
 
 // The recorded statement of specification `index` (0-based) of an output folder.
 Json Statement(const fs::path& out, size_t index) {
-  const Json results = Json::parse(Slurp(out / "results.json"));
+  const Json results = Json::parse(ReadBytes(out / "results.json"));
   EXPECT_GT(results["conformity"].size(), index);
   return results["conformity"][index];
 }
@@ -171,14 +142,14 @@ TEST_F(ConformityE2eTest, LimeDemoPassesOneSpecificationAndIsInconclusiveOnTheOt
   }
   EXPECT_NEAR(inconclusive["false_acceptance_probability_at_limit"].get<double>(), 0.05, 1e-9);
   // The value is the headline's, in the specification's unit (%).
-  const Json results = Json::parse(Slurp(out / "results.json"));
+  const Json results = Json::parse(ReadBytes(out / "results.json"));
   for (const Json& q : results["headline"]) {
     if (q["key"] == "moisture_23C_50RH_adsorption") {
       EXPECT_NEAR(y, 100.0 * q["value"].get<double>(), 1e-12);
     }
   }
   // conformity.csv carries the same decisions.
-  const std::string csv = Slurp(out / "conformity.csv");
+  const std::string csv = ReadBytes(out / "conformity.csv");
   EXPECT_NE(csv.find(",pass,pass: inside the acceptance interval\n"), std::string::npos) << csv;
   EXPECT_NE(csv.find(",inconclusive,inconclusive: conformance probability"), std::string::npos);
 }
@@ -334,7 +305,7 @@ TEST_F(ConformityE2eTest, JobWithoutSpecificationsHasNoConformitySection) {
   const std::string text = CollapseSpaces(PdfText(out / "datasheet.pdf"));
   EXPECT_EQ(text.find("Statement of conformity"), std::string::npos);
   EXPECT_NE(text.find("2 Sorption isotherm"), std::string::npos);
-  const Json results = Json::parse(Slurp(out / "results.json"));
+  const Json results = Json::parse(ReadBytes(out / "results.json"));
   EXPECT_TRUE(results["conformity"].is_array());
   EXPECT_TRUE(results["conformity"].empty());
 }

@@ -9,6 +9,7 @@
 #include <string>
 #include <vector>
 
+#include "tests/fit/fit_stage_fixture.h"
 #include "tests/fit/fit_test_data.h"
 
 namespace sorbtrace::fit {
@@ -16,28 +17,12 @@ namespace {
 
 using testing::AppendBranch;
 using testing::BranchSpec;
+using testing::FindFit;
 using testing::GabMoisture;
 using testing::GabTruth;
 using testing::NormalStream;
-
-// Fast settings: small resampling counts keep the suite quick.
-FitStageOptions QuickOptions(std::vector<std::string> models) {
-  FitStageOptions options;
-  options.models = std::move(models);
-  options.bootstrap_resamples = 0;
-  options.monte_carlo_draws = 0;
-  options.band_grid_points = 50;
-  return options;
-}
-
-const ModelFit& FindFit(const IsothermFits& fits, int group, const std::string& model) {
-  for (const ModelFit& fit : fits.fits) {
-    if (fit.group_index == group && fit.model_name == model) return fit;
-  }
-  ADD_FAILURE() << "no fit of " << model << " in group " << group;
-  static const ModelFit kNone;
-  return kNone;
-}
+using testing::OneBranch;
+using testing::QuickOptions;
 
 bool HasFlag(const ModelFit& fit, const std::string& text) {
   return std::any_of(fit.flags.begin(), fit.flags.end(),
@@ -48,9 +33,7 @@ TEST(FitStageTest, RecoversGabParametersFromNoisySyntheticIsotherm) {
   // X_m = 0.05 kg/kg, C = 10, K = 0.8: a sigmoid Type II isotherm (0.24 < K <= 1 and
   // C >= 5.67 per T. P. Lewicki, Int. J. Food Sci. Technol. 32 (1997) 553, from memory).
   const GabTruth truth;
-  reduce::ReducedIsotherms reduced;
-  NormalStream noise(12571);
-  AppendBranch(BranchSpec{}, &noise, &reduced);
+  const reduce::ReducedIsotherms reduced = OneBranch(12571);
 
   FitStageOptions options = QuickOptions({"gab"});
   options.bootstrap_resamples = 200;
@@ -102,9 +85,7 @@ TEST(FitStageTest, NoiseFreeGabFitReproducesEquationValues) {
 }
 
 TEST(FitStageTest, RanksGabAboveBetOnFullRangeGabData) {
-  reduce::ReducedIsotherms reduced;
-  NormalStream noise(4);
-  AppendBranch(BranchSpec{}, &noise, &reduced);
+  const reduce::ReducedIsotherms reduced = OneBranch(4);
 
   // BET over the whole range, so both models see the same points and AICc is comparable.
   FitStageOptions options = QuickOptions({"bet", "gab"});
@@ -125,9 +106,7 @@ TEST(FitStageTest, RanksGabAboveBetOnFullRangeGabData) {
 }
 
 TEST(FitStageTest, EngineFlagsAreCopiedIntoTheFit) {
-  reduce::ReducedIsotherms reduced;
-  NormalStream noise(14);
-  AppendBranch(BranchSpec{}, &noise, &reduced);
+  const reduce::ReducedIsotherms reduced = OneBranch(14);
   // BET widened beyond its default validity range 0.05..0.35: the engine flags the points
   // outside the model's range; the stage must pass every engine flag on.
   FitStageOptions options = QuickOptions({"bet"});
@@ -415,9 +394,7 @@ TEST(FitStageOptionsTest, RejectsBadSettingsWithTheFieldName) {
   EXPECT_FALSE(options.IsValid(&error));
   EXPECT_EQ(error, "bootstrap_resamples = -1 must be >= 0");
 
-  reduce::ReducedIsotherms reduced;
-  NormalStream noise(13);
-  AppendBranch(BranchSpec{}, &noise, &reduced);
+  const reduce::ReducedIsotherms reduced = OneBranch(13);
   EXPECT_THROW(FitIsotherms(reduced, options), InputError);
 }
 

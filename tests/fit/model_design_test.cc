@@ -10,42 +10,22 @@
 #include <vector>
 
 #include "pipeline/fit/fit_stage.h"
+#include "tests/fit/fit_stage_fixture.h"
 #include "tests/fit/fit_test_data.h"
 
 namespace sorbtrace::fit {
 namespace {
 
-using testing::AppendBranch;
 using testing::BranchSpec;
-using testing::NormalStream;
-
-FitStageOptions QuickOptions(std::vector<std::string> models) {
-  FitStageOptions options;
-  options.models = std::move(models);
-  options.bootstrap_resamples = 0;
-  options.monte_carlo_draws = 0;
-  options.band_grid_points = 20;
-  return options;
-}
-
-const ModelFit& FindFit(const IsothermFits& fits, const std::string& model) {
-  for (const ModelFit& fit : fits.fits) {
-    if (fit.model_name == model) return fit;
-  }
-  ADD_FAILURE() << "no fit of " << model;
-  static const ModelFit kNone;
-  return kNone;
-}
+using testing::FindFit;
+using testing::QuickOptions;
 
 // Six points evenly spaced over 5..95 % RH: 5, 23, 41, ... % RH, so two lie in the BET range
 // 5..35 % RH (the wood-fibre case).
 reduce::ReducedIsotherms SixPoints() {
-  reduce::ReducedIsotherms reduced;
-  NormalStream noise(9277);
   BranchSpec spec;
   spec.num_points = 6;
-  AppendBranch(spec, &noise, &reduced);
-  return reduced;
+  return testing::OneBranch(9277, spec);
 }
 
 // A converged result with the given values and standard uncertainties (diagonal covariance).
@@ -77,8 +57,8 @@ TEST(ModelDesignTest, MinimumPointsLeaveOneResidualDegreeOfFreedom) {
 }
 
 TEST(ModelDesignTest, UnsupportedModelsAreNotFittedRankedOrFlagged) {
-  const IsothermFits fits = FitIsotherms(SixPoints(), QuickOptions({"gab", "bet", "durner2"}));
-  const ModelFit& bet = FindFit(fits, "bet");
+  const IsothermFits fits = FitIsotherms(SixPoints(), QuickOptions({"gab", "bet", "durner2"}, 20));
+  const ModelFit& bet = FindFit(fits, 0, "bet");
   EXPECT_FALSE(bet.design.supported);
   EXPECT_EQ(bet.design.points, 2);
   EXPECT_EQ(bet.design.points_needed, 3);
@@ -92,7 +72,7 @@ TEST(ModelDesignTest, UnsupportedModelsAreNotFittedRankedOrFlagged) {
   EXPECT_TRUE(bet.flags.empty());
   EXPECT_FALSE(bet.result.ok());
   EXPECT_EQ(bet.rank, 0);
-  const ModelFit& durner = FindFit(fits, "durner2");
+  const ModelFit& durner = FindFit(fits, 0, "durner2");
   EXPECT_FALSE(durner.design.supported);
   EXPECT_EQ(durner.design.points, 6);
   EXPECT_EQ(durner.design.points_needed, 7);
@@ -103,7 +83,7 @@ TEST(ModelDesignTest, UnsupportedModelsAreNotFittedRankedOrFlagged) {
   EXPECT_EQ(fits.summary.models_not_evaluated, 2);
   EXPECT_EQ(fits.summary.fits_attempted, 1);
   // GAB (p = 3, six points) is evaluated, identified and the group's best fit.
-  const ModelFit& gab = FindFit(fits, "gab");
+  const ModelFit& gab = FindFit(fits, 0, "gab");
   EXPECT_TRUE(gab.design.supported);
   EXPECT_TRUE(IsIdentified(gab)) << IdentifiabilityOf(gab).reason;
   EXPECT_EQ(gab.rank, 1);
@@ -161,7 +141,7 @@ TEST(IdentifiabilityTest, IsIdentifiedUsesTheFitsLimitAndDesign) {
 // headline values and the pores stage read the best fit). With a limit no real fit meets,
 // no fit of the group is ranked and the group has no best fit.
 TEST(IdentifiabilityTest, NotIdentifiableFitsAreNeverRanked) {
-  FitStageOptions options = QuickOptions({"gab", "oswin"});
+  FitStageOptions options = QuickOptions({"gab", "oswin"}, 20);
   options.max_relative_parameter_uncertainty = 1e-12;
   const IsothermFits fits = FitIsotherms(SixPoints(), options);
   for (const ModelFit& fit : fits.fits) {
@@ -175,7 +155,7 @@ TEST(IdentifiabilityTest, NotIdentifiableFitsAreNeverRanked) {
   ASSERT_EQ(fits.best_fit_per_group.size(), 1u);
   EXPECT_EQ(fits.best_fit_per_group[0], -1);
   // With the default limit the same data rank both.
-  const IsothermFits ranked = FitIsotherms(SixPoints(), QuickOptions({"gab", "oswin"}));
+  const IsothermFits ranked = FitIsotherms(SixPoints(), QuickOptions({"gab", "oswin"}, 20));
   EXPECT_GE(ranked.best_fit_per_group[0], 0);
 }
 

@@ -14,10 +14,8 @@
 //  - say how the cycles were combined, with the cycle component's relative standard deviation
 //    (2.8 %, to two digits).
 #include <gtest/gtest.h>
-#include <sys/wait.h>
 
 #include <cmath>
-#include <cstdio>
 #include <filesystem>
 #include <fstream>
 #include <iomanip>
@@ -26,6 +24,7 @@
 #include <string>
 #include <vector>
 
+#include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace::report {
@@ -34,18 +33,6 @@ namespace {
 namespace fs = std::filesystem;
 
 constexpr double kCycleFactor = 1.04;
-
-std::string RunCommand(const std::string& command, int* exit_code) {
-  std::string out;
-  FILE* pipe = popen((command + " 2>&1").c_str(), "r");
-  if (pipe == nullptr) return out;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) out.append(buffer, got);
-  const int status = pclose(pipe);
-  *exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return out;
-}
 
 struct LogRow {
   double elapsed_s = 0.0;
@@ -102,19 +89,15 @@ bool WriteTwoCycleLog(const fs::path& demo_log, const fs::path& out) {
 
 TEST(CyclesE2eTest, TwoCyclesAreNumberedMarkedAndCarriedAsACycleComponent) {
   const fs::path demo = fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs/wood_fibre_board_vapour";
-  const fs::path root = fs::temp_directory_path() / "sorbtrace_cycles_e2e";
-  fs::remove_all(root);
+  const fs::path root = e2e::FreshDir("cycles_e2e", "two_cycles");
   fs::create_directories(root / "job/data");
   fs::copy_file(demo / "job.toml", root / "job/job.toml");
   fs::copy_file(demo / "lab_profile.toml", root / "job/lab_profile.toml");
   ASSERT_TRUE(
       WriteTwoCycleLog(demo / "data/vapour_log_W1.csv", root / "job/data/vapour_log_W1.csv"));
-  int code = -1;
-  const std::string log =
-      RunCommand(std::string(SORBTRACE_BINARY) + " make '" + (root / "job/job.toml").string() +
-                     "' --out '" + (root / "out").string() + "' -q",
-                 &code);
-  ASSERT_EQ(code, 0) << log;
+  const e2e::Outcome made = e2e::Sorbtrace("make '" + (root / "job/job.toml").string() +
+                                           "' --out '" + (root / "out").string() + "' -q");
+  ASSERT_EQ(made.exit_code, 0) << made.output;
   const std::string text = testing::CollapseSpaces(testing::PdfText(root / "out/datasheet.pdf"));
   // The equilibrium table has a Cycle column; both cycles appear in the legend.
   EXPECT_NE(text.find("Cycle"), std::string::npos);

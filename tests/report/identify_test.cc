@@ -22,20 +22,10 @@
 namespace sorbtrace::report::internal {
 namespace {
 
+using testing::FixtureOptions;
+using testing::FullTemplate;
 using testing::MakeReportFixture;
 using testing::ReportFixture;
-
-ReportOptions Options() {
-  ReportOptions options;
-  options.font_directory = SORBTRACE_DEFAULT_FONT_DIR;
-  options.document_date = "2026-10-15";
-  return options;
-}
-
-const Template& FullTemplate() {
-  static const Template t = LoadTemplate(SORBTRACE_SOURCE_DIR "/templates/full.toml");
-  return t;
-}
 
 const Section& SectionOf(const Sheet& sheet, const std::string& key) {
   for (const Section& s : sheet.sections) {
@@ -81,14 +71,14 @@ TEST(IdentifySheetTest, NotIdentifiableFitShowsItsReasonWithoutUncertainties) {
   ReportFixture fx = MakeReportFixture();
   ASSERT_EQ(fx.fits.fits[1].model_name, "oswin");
   {
-    const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+    const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
     EXPECT_TRUE(sheet.models[1].identifiable);
     EXPECT_TRUE(AnyContains(Texts(SectionOf(sheet, "models")), "B = 0.512 ±"));
   }
   // u(B) = 1.4 B: the "n1 = 0 ± 140" kind of result.
   fx.fits.fits[1].result.covariance(1, 1) = (1.4 * 0.512) * (1.4 * 0.512);
   fx.fits.fits[1].result.correlation(0, 1) = fx.fits.fits[1].result.correlation(1, 0) = 0.999;
-  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
   EXPECT_FALSE(sheet.models[1].identifiable);
   EXPECT_TRUE(sheet.models[1].correlations.empty());
   const std::vector<std::string> texts = Texts(SectionOf(sheet, "models"));
@@ -114,7 +104,7 @@ TEST(IdentifySheetTest, BetAreaFailingRouquerolIsNoHeadlineValue) {
   bet_area.u_area_m2_per_g = 3.9;
   fx.pores.surface_areas.push_back(bet_area);
   {
-    const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+    const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
     EXPECT_TRUE(HasHeadline(sheet, "surface_area_bet_"));
     EXPECT_TRUE(std::any_of(sheet.cautions.begin(), sheet.cautions.end(), [](const auto& c) {
       return c.find("not comparable with a nitrogen BET surface area (ISO 9277)") !=
@@ -122,7 +112,7 @@ TEST(IdentifySheetTest, BetAreaFailingRouquerolIsNoHeadlineValue) {
     }));
   }
   fx.fits.fits[2].consistency[0].passed = false;
-  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
   EXPECT_FALSE(HasHeadline(sheet, "surface_area_bet_"));
   EXPECT_TRUE(HasHeadline(sheet, "surface_area_gab_"));  // GAB's area is unaffected
   const std::vector<std::string> texts = Texts(SectionOf(sheet, "models"));
@@ -154,7 +144,7 @@ TEST(IdentifySheetTest, NotEvaluatedModelsAreSaidOnceInTheMethodSection) {
     durner.result.summary.message = durner.design.reason;
     fx.fits.fits.push_back(durner);
   }
-  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
   ASSERT_EQ(sheet.not_evaluated.size(), 1u);
   EXPECT_EQ(sheet.not_evaluated[0],
             "Durner bimodal retention curve not evaluated: 6 points, at least 7 needed for its 6 "
@@ -172,13 +162,13 @@ TEST(IdentifySheetTest, HygroscopicityClassOnlyForPharmaceuticalPowders) {
   ReportFixture fx = MakeReportFixture();
   fx.ingested.job.material_class = ingest::MaterialClass::kPorousMineral;
   {
-    const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+    const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
     EXPECT_FALSE(sheet.hygroscopicity_relevant);
     EXPECT_FALSE(HasHeadline(sheet, "hygroscopicity_"));
     EXPECT_FALSE(AnyContains(Texts(SectionOf(sheet, "summary")), "Ph. Eur. 5.11"));
   }
   fx.ingested.job.material_class = ingest::MaterialClass::kPharmaceuticalPowder;
-  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
   EXPECT_TRUE(sheet.hygroscopicity_relevant);
   EXPECT_TRUE(HasHeadline(sheet, "hygroscopicity_mass_increase"));
   const std::vector<std::string> summary = Texts(SectionOf(sheet, "summary"));

@@ -15,12 +15,9 @@
 // plus 7.8.8 (an amended report names the report it supersedes) and the draft rule of this
 // program: without a laboratory profile every page says DRAFT, with one no page does.
 #include <gtest/gtest.h>
-#include <sys/wait.h>
 
 #include <algorithm>
-#include <cstdio>
 #include <filesystem>
-#include <fstream>
 #include <map>
 #include <nlohmann/json.hpp>
 #include <regex>
@@ -28,6 +25,7 @@
 #include <string>
 #include <vector>
 
+#include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace::report {
@@ -36,29 +34,8 @@ namespace {
 namespace fs = std::filesystem;
 using testing::CollapseSpaces;
 
-std::string Slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
-struct CommandRun {
-  int exit_code = -1;
-  std::string out;  // stdout and stderr
-};
-
-CommandRun Shell(const std::string& command) {
-  CommandRun run;
-  FILE* pipe = popen((command + " 2>&1").c_str(), "r");
-  if (pipe == nullptr) return run;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) run.out.append(buffer, got);
-  const int status = pclose(pipe);
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return run;
-}
+using CommandRun = e2e::Outcome;
+using e2e::ReadBytes;
 
 // One `key = "value"` line of a TOML file with the table it stands in ("job", "signatory", ...;
 // an array-of-tables entry counts from 0 in `index`). Only the plain string and integer lines
@@ -113,16 +90,9 @@ struct SheetText {
 
 SheetText ReadSheet(const fs::path& pdf) {
   SheetText text;
-  const CommandRun info = Shell("pdfinfo '" + pdf.string() + "'");
-  std::smatch m;
-  static const std::regex pages(R"(Pages:\s+([0-9]+))");
-  if (!std::regex_search(info.out, m, pages)) return text;
-  const int n = std::stoi(m[1]);
+  const int n = e2e::PdfPageCount(pdf);
   for (int i = 1; i <= n; ++i) {
-    const std::string page_number = std::to_string(i);
-    const CommandRun page = Shell("pdftotext -q -enc UTF-8 -layout -f " + page_number + " -l " +
-                                  page_number + " '" + pdf.string() + "' -");
-    text.pages.push_back(CollapseSpaces(page.out));
+    text.pages.push_back(CollapseSpaces(e2e::PdfPageText(pdf, i)));
     text.all += text.pages.back() + " ";
   }
   return text;
@@ -132,11 +102,7 @@ class IssueChecklistE2eTest : public ::testing::Test {
  protected:
   void SetUp() override {
     // One folder per test: ctest runs the tests of this file as parallel processes.
-    root_ = fs::temp_directory_path() /
-            (std::string("sorbtrace_issue_checklist_e2e_") +
-             ::testing::UnitTest::GetInstance()->current_test_info()->name());
-    fs::remove_all(root_);
-    fs::create_directories(root_);
+    root_ = e2e::FreshTestDir("issue_checklist_e2e");
   }
   void TearDown() override { fs::remove_all(root_); }
 
@@ -149,8 +115,7 @@ class IssueChecklistE2eTest : public ::testing::Test {
   }
 
   CommandRun Make(const fs::path& job, const fs::path& out) {
-    return Shell(std::string(SORBTRACE_BINARY) + " make '" + job.string() + "' --out '" +
-                 out.string() + "'");
+    return e2e::Sorbtrace("make '" + job.string() + "' --out '" + out.string() + "'");
   }
 
   fs::path root_;
@@ -158,11 +123,9 @@ class IssueChecklistE2eTest : public ::testing::Test {
 
 std::vector<std::string> DemoScenarios() {
   std::vector<std::string> names;
-  for (const auto& entry :
-       fs::directory_iterator(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs")) {
-    if (fs::exists(entry.path() / "job.toml")) names.push_back(entry.path().filename().string());
+  for (const fs::path& job : e2e::DemoJobFiles()) {
+    names.push_back(job.parent_path().filename().string());
   }
-  std::sort(names.begin(), names.end());
   return names;
 }
 
@@ -187,17 +150,17 @@ TEST_F(IssueChecklistE2eTest, EveryDemoSheetCarriesTheItemsOfIso17025Clause7821)
   for (const std::string& scenario : scenarios) {
     SCOPED_TRACE(scenario);
     const fs::path dir = CopyScenario(scenario, scenario);
-    const std::vector<Entry> job = ScanToml(Slurp(dir / "job.toml"));
+    const std::vector<Entry> job = ScanToml(ReadBytes(dir / "job.toml"));
     const std::string profile_file = Value(job, "job", "lab_profile");
     ASSERT_FALSE(profile_file.empty()) << "every demo job names its laboratory profile";
-    const std::vector<Entry> lab = ScanToml(Slurp(dir / profile_file));
+    const std::vector<Entry> lab = ScanToml(ReadBytes(dir / profile_file));
     const fs::path out = root_ / (scenario + "_out");
     const CommandRun made = Make(dir / "job.toml", out);
-    ASSERT_EQ(made.exit_code, 0) << made.out;
-    EXPECT_EQ(made.out.find("no laboratory profile"), std::string::npos) << made.out;
+    ASSERT_EQ(made.exit_code, 0) << made.output;
+    EXPECT_EQ(made.output.find("no laboratory profile"), std::string::npos) << made.output;
     const SheetText sheet = ReadSheet(out / "datasheet.pdf");
     ASSERT_GE(sheet.pages.size(), 2u);
-    const nlohmann::json results = nlohmann::json::parse(Slurp(out / "results.json"));
+    const nlohmann::json results = nlohmann::json::parse(ReadBytes(out / "results.json"));
 
     // a) title
     ExpectOnSheet(sheet.all, "a", "Moisture sorption datasheet");
@@ -291,27 +254,27 @@ TEST_F(IssueChecklistE2eTest, EveryDemoSheetCarriesTheItemsOfIso17025Clause7821)
 // page), the HTML's watermark, no signature block, a warning from `make`, exit code 0.
 TEST_F(IssueChecklistE2eTest, WithoutALaboratoryProfileEveryPageSaysDraft) {
   const fs::path dir = CopyScenario("lime_plaster_desiccator", "draft");
-  std::string text = Slurp(dir / "job.toml");
+  std::string text = ReadBytes(dir / "job.toml");
   for (const std::string key : {"lab_profile", "location"}) {
     const size_t at = text.find("\n" + key + " = ");
     ASSERT_NE(at, std::string::npos) << key;
     text.erase(at + 1, text.find('\n', at + 1) - at);
   }
-  std::ofstream(dir / "job.toml", std::ios::binary) << text;
+  e2e::WriteBytes(dir / "job.toml", text);
   const CommandRun made = Make(dir / "job.toml", root_ / "draft_out");
-  ASSERT_EQ(made.exit_code, 0) << made.out;
-  EXPECT_NE(made.out.find("warning: the job names no laboratory profile"), std::string::npos)
-      << made.out;
+  ASSERT_EQ(made.exit_code, 0) << made.output;
+  EXPECT_NE(made.output.find("warning: the job names no laboratory profile"), std::string::npos)
+      << made.output;
   const SheetText sheet = ReadSheet(root_ / "draft_out" / "datasheet.pdf");
   ASSERT_GE(sheet.pages.size(), 2u);
   for (size_t p = 0; p < sheet.pages.size(); ++p) {
     EXPECT_NE(sheet.pages[p].find("DRAFT"), std::string::npos) << "page " << p + 1;
   }
   EXPECT_EQ(sheet.all.find("Approved for issue"), std::string::npos) << "no signature block";
-  const std::string html = Slurp(root_ / "draft_out" / "datasheet.html");
+  const std::string html = ReadBytes(root_ / "draft_out" / "datasheet.html");
   EXPECT_NE(html.find("<div class=\"watermark\" aria-hidden=\"true\">DRAFT</div>"),
             std::string::npos);
-  const nlohmann::json results = nlohmann::json::parse(Slurp(root_ / "draft_out/results.json"));
+  const nlohmann::json results = nlohmann::json::parse(ReadBytes(root_ / "draft_out/results.json"));
   EXPECT_TRUE(results["issue"]["draft"].get<bool>());
   EXPECT_TRUE(results["issue"]["laboratory"].is_null());
 
@@ -319,15 +282,15 @@ TEST_F(IssueChecklistE2eTest, WithoutALaboratoryProfileEveryPageSaysDraft) {
   const CommandRun issued =
       Make(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs/lime_plaster_desiccator/job.toml",
            root_ / "issued_out");
-  ASSERT_EQ(issued.exit_code, 0) << issued.out;
+  ASSERT_EQ(issued.exit_code, 0) << issued.output;
   const SheetText issued_sheet = ReadSheet(root_ / "issued_out" / "datasheet.pdf");
   for (const std::string& page : issued_sheet.pages) {
     EXPECT_EQ(page.find("DRAFT"), std::string::npos);
   }
-  EXPECT_EQ(Slurp(root_ / "issued_out" / "datasheet.html").find("class=\"watermark\""),
+  EXPECT_EQ(ReadBytes(root_ / "issued_out" / "datasheet.html").find("class=\"watermark\""),
             std::string::npos);
   const nlohmann::json issued_results =
-      nlohmann::json::parse(Slurp(root_ / "issued_out/results.json"));
+      nlohmann::json::parse(ReadBytes(root_ / "issued_out/results.json"));
   EXPECT_FALSE(issued_results["issue"]["draft"].get<bool>());
   // The profile is a recorded input (verify checks its SHA-256).
   bool recorded = false;

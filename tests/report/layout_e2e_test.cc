@@ -7,18 +7,16 @@
 //    nothing set past the bottom of the content area (every word above the footer rule except
 //    the footer's own), and the sign-off block on the page.
 #include <gtest/gtest.h>
-#include <sys/wait.h>
 
 #include <algorithm>
-#include <cstdio>
 #include <filesystem>
-#include <fstream>
 #include <regex>
 #include <set>
 #include <sstream>
 #include <string>
 #include <vector>
 
+#include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
 namespace sorbtrace::report {
@@ -39,29 +37,12 @@ constexpr int kMinContentLines = 3;
 // Words of the footer line (its two texts, a report number of up to three words).
 constexpr int kMaxFooterWords = 16;
 
-std::string Slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
-std::string RunCommand(const std::string& command, int* exit_code = nullptr) {
-  std::string out;
-  FILE* pipe = popen((command + " 2>&1").c_str(), "r");
-  if (pipe == nullptr) return out;
-  char buffer[4096];
-  size_t got = 0;
-  while ((got = fread(buffer, 1, sizeof buffer, pipe)) > 0) out.append(buffer, got);
-  const int status = pclose(pipe);
-  if (exit_code != nullptr) *exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return out;
-}
+using e2e::ReadBytes;
 
 // margin_mm of a template file (its [template] table), by a line scan.
 double TemplateMargin_mm(const fs::path& file) {
   static const std::regex margin(R"(^\s*margin_mm\s*=\s*([0-9.]+))");
-  std::istringstream lines(Slurp(file));
+  std::istringstream lines(ReadBytes(file));
   std::string line;
   std::smatch m;
   while (std::getline(lines, line)) {
@@ -72,26 +53,14 @@ double TemplateMargin_mm(const fs::path& file) {
 
 std::vector<fs::path> DemoFolders() {
   std::vector<fs::path> folders;
-  for (const auto& entry :
-       fs::directory_iterator(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs")) {
-    if (fs::exists(entry.path() / "job.toml")) folders.push_back(entry.path());
-  }
-  std::sort(folders.begin(), folders.end());
+  for (const fs::path& job : e2e::DemoJobFiles()) folders.push_back(job.parent_path());
   return folders;
-}
-
-int PageCount(const fs::path& pdf) {
-  static const std::regex pages(R"(Pages:\s+(\d+))");
-  std::smatch m;
-  const std::string info = RunCommand("pdfinfo '" + pdf.string() + "'");
-  return std::regex_search(info, m, pages) ? std::stoi(m[1]) : -1;
 }
 
 // The non-empty lines of one page (pdftotext -layout), header and footer left out: the
 // header's two lines are the first two, the footer's the last one.
 std::vector<std::string> ContentLines(const fs::path& pdf, int page) {
-  const std::string text = RunCommand("pdftotext -layout -enc UTF-8 -f " + std::to_string(page) +
-                                      " -l " + std::to_string(page) + " '" + pdf.string() + "' -");
+  const std::string text = e2e::PdfPageText(pdf, page);
   std::vector<std::string> lines;
   std::istringstream in(text);
   std::string line;
@@ -104,12 +73,7 @@ std::vector<std::string> ContentLines(const fs::path& pdf, int page) {
 
 class LayoutE2eTest : public ::testing::Test {
  protected:
-  void SetUp() override {
-    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    root_ = fs::temp_directory_path() / (std::string("sorbtrace_layout_e2e_") + info->name());
-    fs::remove_all(root_);
-    fs::create_directories(root_);
-  }
+  void SetUp() override { root_ = e2e::FreshTestDir("layout_e2e"); }
   void TearDown() override { fs::remove_all(root_); }
   fs::path root_;
 };
@@ -123,15 +87,12 @@ TEST_F(LayoutE2eTest, FullSheetsHaveNoNearEmptyPagesAndNoLoneLines) {
   for (const fs::path& demo : demos) {
     SCOPED_TRACE(demo.filename().string());
     const fs::path out = root_ / demo.filename();
-    int code = -1;
-    const std::string log =
-        RunCommand(std::string(SORBTRACE_BINARY) + " make '" + (demo / "job.toml").string() +
-                       "' --out '" + out.string() + "' -q",
-                   &code);
-    ASSERT_EQ(code, 0) << log;
+    const e2e::Outcome made = e2e::Sorbtrace("make '" + (demo / "job.toml").string() + "' --out '" +
+                                             out.string() + "' -q");
+    ASSERT_EQ(made.exit_code, 0) << made.output;
     const fs::path pdf = out / "datasheet.pdf";
     const std::vector<testing::GreyImage> pages = testing::RenderPages(pdf, kDpi);
-    ASSERT_EQ(static_cast<int>(pages.size()), PageCount(pdf));
+    ASSERT_EQ(static_cast<int>(pages.size()), e2e::PdfPageCount(pdf));
     for (size_t i = 0; i < pages.size(); ++i) {
       const int page = static_cast<int>(i) + 1;
       const testing::GreyImage& p = pages[i];
@@ -164,23 +125,21 @@ TEST_F(LayoutE2eTest, SummaryTemplateFitsOnePageForEveryDemo) {
     // The demo copied with `template = "summary"` (its data files beside it, as in the demo).
     const fs::path job_folder = root_ / demo.filename();
     fs::copy(demo, job_folder, fs::copy_options::recursive);
-    const std::string job = Slurp(job_folder / "job.toml");
+    const std::string job = ReadBytes(job_folder / "job.toml");
     const std::string changed = std::regex_replace(job, std::regex(R"re(template\s*=\s*"full")re"),
                                                    "template = \"summary\"");
     ASSERT_NE(changed, job) << "the demo job names the full template";
-    std::ofstream(job_folder / "job.toml", std::ios::binary) << changed;
+    e2e::WriteBytes(job_folder / "job.toml", changed);
     const fs::path out = root_ / (demo.filename().string() + "_out");
-    int code = -1;
-    const std::string log =
-        RunCommand(std::string(SORBTRACE_BINARY) + " make '" + (job_folder / "job.toml").string() +
-                       "' --out '" + out.string() + "' -q",
-                   &code);
-    ASSERT_EQ(code, 0) << log;
+    const e2e::Outcome made = e2e::Sorbtrace("make '" + (job_folder / "job.toml").string() +
+                                             "' --out '" + out.string() + "' -q");
+    ASSERT_EQ(made.exit_code, 0) << made.output;
     const fs::path pdf = out / "datasheet.pdf";
-    EXPECT_EQ(PageCount(pdf), 1);
+    EXPECT_EQ(e2e::PdfPageCount(pdf), 1);
     // Every word (pdftotext -bbox: yMax from the top of the page) ends above the footer band,
     // except the footer's own words.
-    const std::string bbox = RunCommand("pdftotext -bbox -enc UTF-8 '" + pdf.string() + "' -");
+    const std::string bbox =
+        e2e::Shell("pdftotext -bbox -enc UTF-8 '" + pdf.string() + "' - 2>&1").output;
     static const std::regex word(
         R"re(<word xMin="[^"]+" yMin="([^"]+)" xMax="[^"]+" yMax="([^"]+)">([^<]*)</word>)re");
     int words = 0;
@@ -204,8 +163,8 @@ TEST_F(LayoutE2eTest, SummaryTemplateFitsOnePageForEveryDemo) {
     // below the content area would add its words here.
     EXPECT_NE(footer.find("page 1 of 1"), std::string::npos) << footer;
     EXPECT_LE(footer_words, kMaxFooterWords) << footer;
-    const std::string text =
-        testing::CollapseSpaces(RunCommand("pdftotext -enc UTF-8 '" + pdf.string() + "' -"));
+    const std::string text = testing::CollapseSpaces(
+        e2e::Shell("pdftotext -enc UTF-8 '" + pdf.string() + "' - 2>&1").output);
     EXPECT_NE(text.find("Approved for issue"), std::string::npos);
     EXPECT_NE(text.find("Cautions"), std::string::npos);
   }

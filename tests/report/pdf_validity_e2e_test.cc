@@ -16,7 +16,6 @@
 #include <algorithm>
 #include <cstdio>
 #include <filesystem>
-#include <fstream>
 #include <regex>
 #include <sstream>
 #include <string>
@@ -35,12 +34,7 @@ struct ToolRun {
   std::string err;  // stderr, captured on its own
 };
 
-std::string Slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using e2e::ReadBytes;
 
 // Runs `command` through sh with stderr to a file, so stdout and stderr are kept apart.
 ToolRun RunTool(const std::string& command, const fs::path& scratch) {
@@ -50,7 +44,7 @@ ToolRun RunTool(const std::string& command, const fs::path& scratch) {
 
 // `[job] id = "..."` of a job file, read with a line scan (independent of the ingest code).
 std::string JobId(const fs::path& job_file) {
-  std::istringstream lines(Slurp(job_file));
+  std::istringstream lines(ReadBytes(job_file));
   std::string line;
   bool in_job = false;
   static const std::regex table(R"(^\s*\[([^\]]*)\]\s*$)");
@@ -76,15 +70,7 @@ std::string InfoField(const std::string& pdfinfo, const std::string& key) {
   return {};
 }
 
-std::vector<fs::path> DemoJobs() {
-  std::vector<fs::path> jobs;
-  for (const auto& entry :
-       fs::directory_iterator(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs")) {
-    if (fs::exists(entry.path() / "job.toml")) jobs.push_back(entry.path() / "job.toml");
-  }
-  std::sort(jobs.begin(), jobs.end());
-  return jobs;
-}
+using e2e::DemoJobFiles;
 
 class PdfValidityE2eTest : public ::testing::Test {
  protected:
@@ -98,7 +84,7 @@ class PdfValidityE2eTest : public ::testing::Test {
 };
 
 TEST_F(PdfValidityE2eTest, EveryDemoSheetPassesPopplerAndQpdfAndIsReproducible) {
-  const std::vector<fs::path> jobs = DemoJobs();
+  const std::vector<fs::path> jobs = DemoJobFiles();
   ASSERT_GE(jobs.size(), 4u) << "the four demo scenarios of example_inputs/";
   for (const fs::path& job : jobs) {
     const std::string scenario = job.parent_path().filename().string();
@@ -167,7 +153,8 @@ TEST_F(PdfValidityE2eTest, EveryDemoSheetPassesPopplerAndQpdfAndIsReproducible) 
     EXPECT_EQ(check.out.find("WARNING"), std::string::npos) << check.out;
     EXPECT_EQ(check.err.find("WARNING"), std::string::npos) << check.err;
 
-    EXPECT_EQ(Slurp(pdf), Slurp(second / "datasheet.pdf")) << "two runs, byte-identical PDF";
+    EXPECT_EQ(ReadBytes(pdf), ReadBytes(second / "datasheet.pdf"))
+        << "two runs, byte-identical PDF";
   }
 }
 

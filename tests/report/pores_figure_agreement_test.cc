@@ -24,21 +24,14 @@
 #include "pipeline/pores/pores.h"
 #include "pipeline/report/sheet.h"
 #include "pipeline/run/run.h"
+#include "tests/common/e2e_support.h"
 
 namespace sorbtrace::report::internal {
 namespace {
 
 namespace fs = std::filesystem;
 
-std::vector<fs::path> DemoJobs() {
-  std::vector<fs::path> jobs;
-  for (const auto& entry :
-       fs::directory_iterator(fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs")) {
-    if (fs::exists(entry.path() / "job.toml")) jobs.push_back(entry.path() / "job.toml");
-  }
-  std::sort(jobs.begin(), jobs.end());
-  return jobs;
-}
+using e2e::DemoJobFiles;
 
 const FigureBlock* FindFigure(const Sheet& sheet, const std::string& name) {
   for (const Section& section : sheet.sections) {
@@ -78,7 +71,7 @@ std::string CellText(const TableBlock& table, const std::string& key) {
 }
 
 TEST(PoresFigureAgreementTest, CurvesEndAtTheTableVolumeAndPeakAtTheTableMode) {
-  const std::vector<fs::path> jobs = DemoJobs();
+  const std::vector<fs::path> jobs = DemoJobFiles();
   ASSERT_GE(jobs.size(), 4u) << "the four demo scenarios of example_inputs/";
   int distributions_checked = 0;
   int modes_checked = 0;

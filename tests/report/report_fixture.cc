@@ -617,4 +617,16 @@ ReportFixture MakeReportFixture() {
   return fx;
 }
 
+ReportOptions FixtureOptions() {
+  ReportOptions options;
+  options.font_directory = SORBTRACE_DEFAULT_FONT_DIR;
+  options.document_date = "2026-10-15";
+  return options;
+}
+
+const Template& FullTemplate() {
+  static const Template t = LoadTemplate(SORBTRACE_SOURCE_DIR "/templates/full.toml");
+  return t;
+}
+
 }  // namespace sorbtrace::report::testing

@@ -27,4 +27,10 @@ double GabMoisture(double rh_fraction, double monolayer_kg_per_kg, double c, dou
 
 ReportFixture MakeReportFixture();
 
+// The options the report tests compose with: the build's font folder, a fixed document date.
+ReportOptions FixtureOptions();
+
+// templates/full.toml, loaded once.
+const Template& FullTemplate();
+
 }  // namespace sorbtrace::report::testing

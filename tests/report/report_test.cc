@@ -21,28 +21,18 @@ namespace sorbtrace::report::internal {
 namespace {
 
 using testing::CollapseSpaces;
+using testing::FixtureOptions;
+using testing::FullTemplate;
 using testing::MakeReportFixture;
 using testing::PdfText;
 using testing::RenderPages;
 using testing::WriteTempFile;
 
-ReportOptions Options() {
-  ReportOptions options;
-  options.font_directory = SORBTRACE_DEFAULT_FONT_DIR;
-  options.document_date = "2026-10-15";
-  return options;
-}
-
-const Template& FullTemplate() {
-  static const Template t = LoadTemplate(SORBTRACE_SOURCE_DIR "/templates/full.toml");
-  return t;
-}
-
 // One full composition shared by the tests below (composition is pure).
 const ReportArtifacts& FullReport() {
   static const testing::ReportFixture fixture = MakeReportFixture();
   static const ReportArtifacts artifacts =
-      ComposeReport(fixture.Inputs(), FullTemplate(), Options());
+      ComposeReport(fixture.Inputs(), FullTemplate(), FixtureOptions());
   return artifacts;
 }
 
@@ -187,13 +177,13 @@ TEST(ComposeReportTest, EquilibriumTableColumnsNumberingAndUnits) {
 
 TEST(ComposeReportTest, ByteIdenticalAcrossCompositions) {
   const testing::ReportFixture fixture = MakeReportFixture();
-  const ReportArtifacts again = ComposeReport(fixture.Inputs(), FullTemplate(), Options());
+  const ReportArtifacts again = ComposeReport(fixture.Inputs(), FullTemplate(), FixtureOptions());
   EXPECT_TRUE(again.pdf == FullReport().pdf);
   EXPECT_EQ(again.results_json, FullReport().results_json);
   EXPECT_EQ(again.csv_files, FullReport().csv_files);
   // The date is the one given, never the clock's.
   EXPECT_NE(again.pdf.find("/CreationDate (D:20261015000000Z"), std::string::npos);
-  ReportOptions other = Options();
+  ReportOptions other = FixtureOptions();
   other.document_date = "2026-10-16";
   const ReportArtifacts later = ComposeReport(fixture.Inputs(), FullTemplate(), other);
   EXPECT_FALSE(later.pdf == again.pdf);
@@ -202,7 +192,7 @@ TEST(ComposeReportTest, ByteIdenticalAcrossCompositions) {
 TEST(ComposeReportTest, SummaryTemplateIsOnePage) {
   const testing::ReportFixture fixture = MakeReportFixture();
   const Template t = LoadTemplate(SORBTRACE_SOURCE_DIR "/templates/summary.toml");
-  const ReportArtifacts a = ComposeReport(fixture.Inputs(), t, Options());
+  const ReportArtifacts a = ComposeReport(fixture.Inputs(), t, FixtureOptions());
   EXPECT_EQ(a.num_pages, 1);
   const auto pdf = WriteTempFile("summary.pdf", a.pdf);
   const auto pages = RenderPages(pdf, 40);
@@ -222,7 +212,7 @@ TEST(ComposeReportTest, LetterPagesAndKilogramUnits) {
   Template t = FullTemplate();
   t.page_size = PageSize::kLetter;
   t.moisture_in_percent = false;
-  const ReportArtifacts a = ComposeReport(fixture.Inputs(), t, Options());
+  const ReportArtifacts a = ComposeReport(fixture.Inputs(), t, FixtureOptions());
   const auto pages = RenderPages(WriteTempFile("letter.pdf", a.pdf), 40);
   ASSERT_FALSE(pages.empty());
   EXPECT_EQ(pages[0].width, 340);   // 8.5 in x 40 dpi
@@ -234,7 +224,7 @@ TEST(ComposeReportTest, LetterPagesAndKilogramUnits) {
 TEST(ComposeReportTest, EmptyInputsStillGiveADocument) {
   // A run stage that stops early (or a stage that produced nothing) must not crash the sheet.
   const ReportInputs nothing;
-  const ReportArtifacts a = ComposeReport(nothing, FullTemplate(), Options());
+  const ReportArtifacts a = ComposeReport(nothing, FullTemplate(), FixtureOptions());
   EXPECT_GE(a.num_pages, 1);
   EXPECT_EQ(a.pdf.rfind("%PDF-", 0), 0u);
   const auto json = nlohmann::ordered_json::parse(a.results_json);
@@ -253,7 +243,7 @@ TEST(ComposeReportTest, SectionOrderFromTheTemplateAndHostileText) {
   fixture.ingested.job.material_name = std::string("Plaster \xff\xfe batch");
   Template t = FullTemplate();
   t.sections = {"models", "summary"};
-  const ReportArtifacts a = ComposeReport(fixture.Inputs(), t, Options());
+  const ReportArtifacts a = ComposeReport(fixture.Inputs(), t, FixtureOptions());
   EXPECT_EQ(a.num_pages, 2);  // no empty first page before "models"
   const std::string text = CollapseSpaces(PdfText(WriteTempFile("order.pdf", a.pdf)));
   EXPECT_LT(text.find("1 Model comparison"), text.find("2 Summary"));
@@ -292,7 +282,7 @@ TEST(ComposeReportTest, LongTokensArePrintedShortenedWithACaution) {
     std::string spaced;  // a long field of ordinary words
     while (spaced.size() < size) spaced += "lorem ipsum ";
     fixture.ingested.job.test_dates = spaced;
-    const ReportArtifacts a = ComposeReport(fixture.Inputs(), FullTemplate(), Options());
+    const ReportArtifacts a = ComposeReport(fixture.Inputs(), FullTemplate(), FixtureOptions());
     // Bounded: the shortened fields and their four cautions may spill onto two more pages,
     // never one page per kilobyte of token.
     EXPECT_LE(a.num_pages, FullReport().num_pages + 2) << size;
@@ -317,7 +307,7 @@ TEST(ComposeReportTest, LongTokensArePrintedShortenedWithACaution) {
 TEST(ComposeReportTest, SettingsArePrintedAsWritten) {
   testing::ReportFixture fixture = MakeReportFixture();
   fixture.settings["pores"] = {{"molecular_area_nm2", 0.106e-18 * 1e18}, {"grid_points", 400}};
-  const ReportArtifacts a = ComposeReport(fixture.Inputs(), FullTemplate(), Options());
+  const ReportArtifacts a = ComposeReport(fixture.Inputs(), FullTemplate(), FixtureOptions());
   const std::string text = CollapseSpaces(PdfText(WriteTempFile("settings.pdf", a.pdf)));
   EXPECT_NE(text.find("pores.molecular_area_nm2 = 0.106 "), std::string::npos);
   EXPECT_NE(text.find("pores.grid_points = 400"), std::string::npos);
@@ -331,7 +321,7 @@ TEST(DocumentTest, LibharuErrorsBecomeComputationErrorsNotCrashes) {
   // A line width below zero is refused by libharu (HPDF_PAGE_OUT_OF_RANGE, hpdf_error.h);
   // after that error HPDF_AddPage returns no page. The next page and the final save must
   // both report it as a ComputationError naming the libharu code.
-  Document doc(FullTemplate(), Options(), "R-1", "0.1.0-test", Letterhead{});
+  Document doc(FullTemplate(), FixtureOptions(), "R-1", "0.1.0-test", Letterhead{});
   doc.NewPage();
   doc.canvas().Line(10.0, 10.0, 20.0, 20.0, -1.0, plot::palette::kInk);
   try {
@@ -345,7 +335,7 @@ TEST(DocumentTest, LibharuErrorsBecomeComputationErrorsNotCrashes) {
 
 TEST(ComposeReportTest, MissingFontIsAnInputError) {
   const testing::ReportFixture fixture = MakeReportFixture();
-  ReportOptions options = Options();
+  ReportOptions options = FixtureOptions();
   options.font_directory = "/nonexistent/fonts";
   EXPECT_THROW(ComposeReport(fixture.Inputs(), FullTemplate(), options), InputError);
 }
@@ -362,7 +352,7 @@ TEST(SheetLabelsTest, HeadlineKeysAndLabelsAreUniqueAndNameTheirTemperature) {
   warmer.temperature_K += 0.4;
   fx.pores.surface_areas.push_back(alike);
   fx.pores.surface_areas.push_back(warmer);
-  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
   std::set<std::string> keys, labels;
   for (const Quantity& q : sheet.headline) {
     EXPECT_TRUE(keys.insert(q.key).second) << q.key;
@@ -390,7 +380,7 @@ TEST(SheetLabelsTest, AReferenceTemperatureThatWasNotMeasuredIsMarked) {
         "fitted at 25.00 degC, reference 23.00 degC: not converted to the reference "
         "temperature"};
   }
-  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), Options());
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
   std::map<std::string, std::string> label_of;
   for (const Quantity& q : sheet.headline) label_of[q.key] = q.label;
   EXPECT_EQ(label_of["moisture_25C_50RH_adsorption_ref_23C"],
@@ -409,7 +399,7 @@ TEST(SheetLabelsTest, AReferenceTemperatureThatWasNotMeasuredIsMarked) {
     }
   }
   EXPECT_EQ(marked, 1);
-  const auto json = BuildResultsJson(fx.Inputs(), FullTemplate(), Options(), sheet, 1);
+  const auto json = BuildResultsJson(fx.Inputs(), FullTemplate(), FixtureOptions(), sheet, 1);
   ASSERT_EQ(json["pores"]["reference_moisture"].size(), 2u);
   for (const auto& r : json["pores"]["reference_moisture"]) {
     EXPECT_DOUBLE_EQ(r["measured_temperature_K"].get<double>(), 298.15);
