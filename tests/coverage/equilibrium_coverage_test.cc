@@ -21,6 +21,7 @@
 #include "pipeline/pores/pores.h"
 #include "pipeline/reduce/reduce.h"
 #include "tests/coverage/job_generator.h"
+#include "tests/coverage/replicates.h"
 
 namespace sorbtrace::coverage {
 namespace {
@@ -28,35 +29,6 @@ namespace {
 // 200 replicates: the binomial standard deviation of a 95 % coverage is 1.5 %, so the 90-98 %
 // window is not left by chance alone (with 50 replicates a single miss more or less moves it 2 %).
 constexpr int kReplicates = 200;
-constexpr double kMinCoverage = 0.90;
-constexpr double kMaxCoverage = 0.98;
-constexpr double kMinRatio = 0.7;
-constexpr double kMaxRatio = 1.5;
-
-// Errors, standard and expanded uncertainties of one quantity over the replicates.
-struct Tally {
-  int inside = 0;
-  int count = 0;
-  double sum_u = 0.0;
-  std::vector<double> errors;
-  void Add(double value, double truth, double u, double expanded_u) {
-    ++count;
-    if (std::abs(value - truth) <= expanded_u) ++inside;
-    sum_u += u;
-    errors.push_back(value - truth);
-  }
-  double Coverage() const { return count > 0 ? static_cast<double>(inside) / count : 0.0; }
-  double ErrorSd() const {
-    double mean = 0.0;
-    for (double e : errors) mean += e;
-    mean /= static_cast<double>(errors.size());
-    double ss = 0.0;
-    for (double e : errors) ss += (e - mean) * (e - mean);
-    return std::sqrt(ss / static_cast<double>(errors.size() - 1));
-  }
-  double Ratio() const { return (sum_u / count) / ErrorSd(); }
-};
-
 struct Tallies {
   std::map<std::string, Tally> by_name;  // per quantity
   Tally pooled_points;                   // every equilibrium point of every replicate
@@ -81,37 +53,7 @@ void RunReplicate(const GeneratedJob& job, Tallies& tallies, bool with_fit = tru
                           p.expanded_u_rh_fraction);
   }
   if (!with_fit) return;
-  fit::FitStageOptions fit_options;
-  fit_options.models = {"gab"};
-  fit_options.bootstrap_resamples = 0;  // the covariance intervals are the ones printed
-  fit_options.monte_carlo_draws = 0;
-  const fit::IsothermFits fits = fit::FitIsotherms(reduced, fit_options);
-  ASSERT_EQ(fits.fits.size(), 1u);
-  const fit::ModelFit& gab = fits.fits[0];
-  ASSERT_TRUE(gab.result.summary.covariance_available);
-  const double truth[] = {job.truth.xm_kg_per_kg, job.truth.c, job.truth.k};
-  for (std::size_t k = 0; k < 3; ++k) {
-    const auto& estimate = gab.result.estimates[k];
-    tallies.by_name["GAB " + estimate.name].Add(estimate.value, truth[k], estimate.standard_error,
-                                                gab.expanded_uncertainty[k]);
-  }
-  pores::PoreOptions pore_options;
-  pore_options.band_draws = 0;
-  pore_options.stepwise = false;
-  const pores::PoreAnalysis pores = pores::AnalysePores(reduced, fits, pore_options);
-  for (const pores::ReferenceMoisture& r : pores.reference_moisture) {
-    // k from the fit stage's effective degrees of freedom of the curve at that RH
-    // (fit::CurveUncertainty: Welch-Satterthwaite over the independent part and the specimen
-    // term); its u is the pore stage's delta method on the fit's covariance, which holds the
-    // specimen term. Without a specimen term k = fits.coverage_factor.
-    const fit::DerivedUncertainty curve = fit::CurveUncertainty(fits, gab, r.condition.rh_fraction);
-    EXPECT_NEAR(curve.standard_uncertainty, r.u_moisture_kg_per_kg, 1e-9 * r.u_moisture_kg_per_kg);
-    tallies
-        .by_name["moisture at 23 C / " + std::to_string(int(100 * r.condition.rh_fraction + 0.5)) +
-                 " % RH"]
-        .Add(r.moisture_kg_per_kg, job.truth(r.condition.rh_fraction), r.u_moisture_kg_per_kg,
-             curve.coverage_factor * r.u_moisture_kg_per_kg);
-  }
+  ASSERT_NO_FATAL_FAILURE(TallyGabAndReferences(job, reduced, ReferenceK::kCurve, tallies.by_name));
 }
 
 void Report(const std::string& title, const Tallies& tallies) {
@@ -147,10 +89,9 @@ void Check(const Tallies& tallies) {
 
 TEST(EquilibriumCoverageTest, DesiccatorJobsIso12571Rule) {
   Tallies tallies;
-  for (int r = 0; r < kReplicates; ++r) {
-    const GeneratedJob job = MakeDesiccatorJob(1000 + static_cast<std::uint64_t>(r), 0.0);
-    ASSERT_NO_FATAL_FAILURE(RunReplicate(job, tallies));
-  }
+  RunReplicates(
+      kReplicates, 1000, [](std::uint64_t seed) { return MakeDesiccatorJob(seed, 0.0); },
+      [](const GeneratedJob& job, Tallies& t) { RunReplicate(job, t); }, tallies);
   Report("desiccator", tallies);
   Check(tallies);
 }
@@ -175,20 +116,18 @@ TEST(EquilibriumCoverageTest, DesiccatorJobsIso12571Rule) {
 // here: they draw the specimen factor normal with the estimated u (fit_stage.h).
 TEST(EquilibriumCoverageTest, DesiccatorJobsSpecimensDiffer) {
   Tallies tallies;
-  for (int r = 0; r < kReplicates; ++r) {
-    const GeneratedJob job = MakeDesiccatorJob(3000 + static_cast<std::uint64_t>(r), 0.03);
-    ASSERT_NO_FATAL_FAILURE(RunReplicate(job, tallies));
-  }
+  RunReplicates(
+      kReplicates, 3000, [](std::uint64_t seed) { return MakeDesiccatorJob(seed, 0.03); },
+      [](const GeneratedJob& job, Tallies& t) { RunReplicate(job, t); }, tallies);
   Report("desiccator, specimens differing by 3 %", tallies);
   Check(tallies);
 }
 
 TEST(EquilibriumCoverageTest, VapourLogJobsRateRuleMilligramSpecimen) {
   Tallies tallies;
-  for (int r = 0; r < kReplicates; ++r) {
-    const GeneratedJob job = MakeVaporLogJob(5000 + static_cast<std::uint64_t>(r));
-    ASSERT_NO_FATAL_FAILURE(RunReplicate(job, tallies));
-  }
+  RunReplicates(
+      kReplicates, 5000, [](std::uint64_t seed) { return MakeVaporLogJob(seed); },
+      [](const GeneratedJob& job, Tallies& t) { RunReplicate(job, t); }, tallies);
   Report("vapour log", tallies);
   Check(tallies);
 }

@@ -32,6 +32,7 @@
 #include "pipeline/pores/pores.h"
 #include "pipeline/reduce/reduce.h"
 #include "tests/coverage/job_generator.h"
+#include "tests/coverage/replicates.h"
 
 namespace sorbtrace::coverage {
 namespace {
@@ -39,38 +40,10 @@ namespace {
 // 100 replicates per kinetics: 800 points pooled (binomial sd of a 95 % coverage 0.8 %), 200
 // cut points (1.5 %).
 constexpr int kReplicates = 100;
-constexpr double kMinCoverage = 0.90;
-constexpr double kMaxCoverage = 0.98;
-constexpr double kMinRatio = 0.7;
-constexpr double kMaxRatio = 1.5;
 // One step over 100 replicates (binomial sd of a 95 % coverage 2.2 %); a biased step falls far
 // below.
 constexpr double kMinStepCoverage = 0.85;
 
-struct Tally {
-  int inside = 0;
-  int count = 0;
-  double sum_u = 0.0;
-  std::vector<double> errors;
-  void Add(double value, double truth, double u, double expanded_u) {
-    ++count;
-    if (std::abs(value - truth) <= expanded_u) ++inside;
-    sum_u += u;
-    errors.push_back(value - truth);
-  }
-  double Coverage() const { return count > 0 ? static_cast<double>(inside) / count : 0.0; }
-  double Ratio() const {
-    double mean = 0.0;
-    for (double e : errors) mean += e;
-    mean /= static_cast<double>(errors.size());
-    double ss = 0.0;
-    for (double e : errors) ss += (e - mean) * (e - mean);
-    const double sd = std::sqrt(ss / static_cast<double>(errors.size() - 1));
-    return (sum_u / count) / sd;
-  }
-};
-
-// Cut steps refused at most in this share (project choice).
 constexpr double kMaxRefusedShare = 0.05;
 
 struct Tallies {
@@ -104,31 +77,7 @@ void RunReplicate(const GeneratedJob& job, Tallies& tallies) {
     tallies.by_step["point " + p.step_label].Add(p.moisture_kg_per_kg, truth, u, expanded);
     if (k + 2 >= num_steps) tallies.cut_points.Add(p.moisture_kg_per_kg, truth, u, expanded);
   }
-  fit::FitStageOptions fit_options;
-  fit_options.models = {"gab"};
-  fit_options.bootstrap_resamples = 0;  // the covariance intervals are the ones printed
-  fit_options.monte_carlo_draws = 0;
-  const fit::IsothermFits fits = fit::FitIsotherms(reduced, fit_options);
-  ASSERT_EQ(fits.fits.size(), 1u);
-  const fit::ModelFit& gab = fits.fits[0];
-  ASSERT_TRUE(gab.result.summary.covariance_available);
-  const double truth[] = {job.truth.xm_kg_per_kg, job.truth.c, job.truth.k};
-  for (std::size_t k = 0; k < 3; ++k) {
-    const auto& estimate = gab.result.estimates[k];
-    tallies.headline["GAB " + estimate.name].Add(estimate.value, truth[k], estimate.standard_error,
-                                                 gab.expanded_uncertainty[k]);
-  }
-  pores::PoreOptions pore_options;
-  pore_options.band_draws = 0;
-  pore_options.stepwise = false;
-  const pores::PoreAnalysis pores = pores::AnalysePores(reduced, fits, pore_options);
-  for (const pores::ReferenceMoisture& r : pores.reference_moisture) {
-    tallies
-        .headline["moisture at 23 C / " +
-                  std::to_string(static_cast<int>(100 * r.condition.rh_fraction + 0.5)) + " % RH"]
-        .Add(r.moisture_kg_per_kg, job.truth(r.condition.rh_fraction), r.u_moisture_kg_per_kg,
-             fits.coverage_factor * r.u_moisture_kg_per_kg);
-  }
+  ASSERT_NO_FATAL_FAILURE(TallyGabAndReferences(job, reduced, ReferenceK::kFits, tallies.headline));
 }
 
 void ReportAndCheck(const std::string& title, const Tallies& tallies) {
@@ -168,22 +117,20 @@ void ReportAndCheck(const std::string& title, const Tallies& tallies) {
 
 TEST(KineticsCoverageTest, TwoExponentialKineticsCutEarly) {
   Tallies tallies;
-  for (int r = 0; r < kReplicates; ++r) {
-    const GeneratedJob job =
-        MakeVaporLogJob(7000 + static_cast<std::uint64_t>(r), Kinetics::kTwoExponential);
-    ASSERT_NO_FATAL_FAILURE(RunReplicate(job, tallies));
-  }
+  RunReplicates(
+      kReplicates, 7000,
+      [](std::uint64_t seed) { return MakeVaporLogJob(seed, Kinetics::kTwoExponential); },
+      RunReplicate, tallies);
   ReportAndCheck("two-exponential kinetics", tallies);
 }
 
 TEST(KineticsCoverageTest, FickianSlabKineticsCutEarly) {
   Tallies tallies;
-  for (int r = 0; r < kReplicates; ++r) {
-    // Cut at 0.5 tau: the tail still carries the faster terms of the series.
-    const GeneratedJob job =
-        MakeVaporLogJob(9000 + static_cast<std::uint64_t>(r), Kinetics::kFickianSlab, 0.5);
-    ASSERT_NO_FATAL_FAILURE(RunReplicate(job, tallies));
-  }
+  // Cut at 0.5 tau: the tail still carries the faster terms of the series.
+  RunReplicates(
+      kReplicates, 9000,
+      [](std::uint64_t seed) { return MakeVaporLogJob(seed, Kinetics::kFickianSlab, 0.5); },
+      RunReplicate, tallies);
   ReportAndCheck("Fickian plane-sheet kinetics", tallies);
 }
 
