@@ -59,70 +59,67 @@ std::string AsPrinted(const Quantity& rh, const Quantity& moisture) {
   return Text(rh.text) + "," + Text(moisture.text);
 }
 
-// Steps are numbered from 1, as in a desiccator file's "step" column and on the sheet.
-int StepNumber(int step_index) { return step_index + 1; }
+// Cycles are numbered from 1, as in the equilibrium table of the sheet.
+int CycleNumber(int cycle) { return cycle + 1; }
+
+std::string YesNo(bool value) { return value ? "yes" : "no"; }
 
 // equilibrium_table.csv: one row per specimen point ("specimen"), then the combined points
-// ("combined", specimen ids joined by '+'). Columns: record, dataset, specimen, step (from 1),
-// atmosphere, branch, cycle, temperature_K, rh_fraction, u_rh_fraction, moisture_kg_per_kg,
-// u_moisture_kg_per_kg, expanded_u_moisture_kg_per_kg, between_specimen_sd_kg_per_kg,
+// ("combined", specimen ids joined by '+'). Columns (docs/input-formats.md, section 7):
+// record, dataset, specimen, step (as numbered in the data file: a desiccator file's `step`
+// column, a log's steps from 1), atmosphere, branch, cycle (from 1), temperature_K,
+// rh_fraction, u_rh_fraction, moisture_kg_per_kg, u_moisture_kg_per_kg,
+// expanded_u_moisture_kg_per_kg, coverage_factor, between_specimen_sd_kg_per_kg,
 // num_specimens, volumetric_m3_per_m3, u_volumetric_m3_per_m3 (combined rows when a bulk
 // density is stated, else empty), time_to_equilibrium_s, equilibrated, extrapolated, flags
-// (joined by "; "), rh_as_printed, moisture_as_printed (the sheet's text). u_ = standard
-// uncertainty.
-std::string EquilibriumTable(const ReportInputs& inputs, const Sheet& sheet) {
+// (joined by "; "), rh_as_printed, moisture_as_printed (the sheet's text, with its unit).
+// u_ = standard uncertainty; coverage_factor: k of the expanded moisture uncertainty.
+std::string EquilibriumTable(const Sheet& sheet) {
   std::string out =
       "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_K,rh_fraction,"
       "u_rh_fraction,moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,"
-      "between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,u_volumetric_m3_per_m3,"
-      "time_to_equilibrium_s,equilibrated,extrapolated,flags,rh_as_printed,moisture_as_printed\n";
-  if (inputs.reduced == nullptr) return out;
-  const reduce::ReducedIsotherms& r = *inputs.reduced;
-  for (const reduce::SpecimenPoint& p : r.specimen_points) {
-    const DisplayRules& rules = sheet.rules;
-    const double k_u = CoverageFactorOf(p.u_moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg,
-                                        r.coverage_factor);
-    DisplayRules moisture_rules = rules;
-    moisture_rules.coverage_factor = k_u;
-    DisplayRules rh_rules = rules;
-    rh_rules.coverage_factor = r.coverage_factor;
-    const std::string printed = AsPrinted(
-        MakeQuantity("rh", "RH", p.rh_fraction, p.u_rh_fraction, "1", 100.0, "%", rh_rules),
-        MoistureQuantity("moisture", "moisture content", p.moisture_kg_per_kg,
-                         p.u_moisture_kg_per_kg, moisture_rules));
-    out += fmt::format("specimen,{},{},{},{},{},{},{},{},{},{},{},{},,1,,,{},{},{},{},{}\n",
-                       Text(p.dataset_id), Text(p.specimen_id), StepNumber(p.step_index),
-                       Text(p.step_label), BranchLabel(p.branch), p.cycle, Num(p.temperature_K),
-                       Num(p.rh_fraction), Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg),
-                       Num(p.u_moisture_kg_per_kg), Num(k_u * p.u_moisture_kg_per_kg),
-                       Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no",
-                       p.extrapolated ? "yes" : "no", Text(Join(p.flags, "; ")), printed);
-  }
-  for (const reduce::IsothermPoint& p : r.points) {
+      "coverage_factor,between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,"
+      "u_volumetric_m3_per_m3,time_to_equilibrium_s,equilibrated,extrapolated,flags,"
+      "rh_as_printed,moisture_as_printed\n";
+  if (!sheet.record.isotherm) return out;
+  const IsothermRecord& r = *sheet.record.isotherm;
+  for (const SpecimenPointRecord& record : r.specimen_points) {
+    const reduce::SpecimenPoint& p = record.point;
+    const Quantity& moisture = record.moisture;
     out += fmt::format(
-        "combined,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n",
-        Text(p.dataset_id), Text(Join(p.specimen_ids, "+")), StepNumber(p.step_index),
-        Text(p.step_label), BranchLabel(p.branch), p.cycle, Num(p.temperature_K),
+        "specimen,{},{},{},{},{},{},{},{},{},{},{},{},{},,1,,,{},{},{},{},{}\n", Text(p.dataset_id),
+        Text(p.specimen_id), record.step_in_file, Text(p.step_label), BranchLabel(p.branch),
+        CycleNumber(p.cycle), Num(p.temperature_K), Num(p.rh_fraction), Num(p.u_rh_fraction),
+        Num(p.moisture_kg_per_kg), Num(p.u_moisture_kg_per_kg),
+        Num(moisture.coverage_factor * p.u_moisture_kg_per_kg), Num(moisture.coverage_factor),
+        Num(p.time_to_equilibrium_s), YesNo(p.equilibrated), YesNo(p.extrapolated),
+        Text(Join(p.flags, "; ")), AsPrinted(record.rh, moisture));
+  }
+  for (const CombinedPointRecord& record : r.points) {
+    const reduce::IsothermPoint& p = record.point;
+    out += fmt::format(
+        "combined,{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n",
+        Text(p.dataset_id), Text(Join(p.specimen_ids, "+")), Text(record.step_in_file),
+        Text(p.step_label), BranchLabel(p.branch), CycleNumber(p.cycle), Num(p.temperature_K),
         Num(p.rh_fraction), Num(p.u_rh_fraction), Num(p.moisture_kg_per_kg),
         Num(p.u_moisture_kg_per_kg), Num(p.expanded_u_moisture_kg_per_kg),
-        Num(p.between_specimen_sd_kg_per_kg), p.num_specimens,
+        Num(record.moisture.coverage_factor), Num(p.between_specimen_sd_kg_per_kg), p.num_specimens,
         p.has_volumetric ? Num(p.volumetric_m3_per_m3) : std::string(),
         p.has_volumetric ? Num(p.u_volumetric_m3_per_m3) : std::string(),
-        Num(p.time_to_equilibrium_s), p.equilibrated ? "yes" : "no", p.extrapolated ? "yes" : "no",
-        Text(Join(p.flags, "; ")),
-        AsPrinted(PointRhQuantity(p, sheet.rules), PointMoistureQuantity(p, sheet.rules)));
+        Num(p.time_to_equilibrium_s), YesNo(p.equilibrated), YesNo(p.extrapolated),
+        Text(Join(p.flags, "; ")), AsPrinted(record.rh, record.moisture));
   }
   return out;
 }
 
-std::string FitParameters(const ReportInputs& inputs, const Sheet& sheet) {
+std::string FitParameters(const Sheet& sheet) {
   std::string out =
       "fit,group,model,rank,converged,parameter,unit,value,standard_uncertainty,"
       "coverage_factor,expanded_uncertainty,interval_low,interval_high,as_printed,rmse_kg_per_kg,"
       "aicc,bic,flags\n";
-  if (inputs.fits == nullptr) return out;
-  const fit::IsothermFits& f = *inputs.fits;
-  for (size_t i = 0; i < f.fits.size(); ++i) {
+  if (!sheet.record.fits) return out;
+  const FitsRecord& f = *sheet.record.fits;
+  for (size_t i = 0; i < f.fits.size() && i < sheet.models.size(); ++i) {
     const fit::ModelFit& mf = f.fits[i];
     const ModelRow& row = sheet.models[i];
     for (size_t k = 0; k < mf.result.estimates.size() && k < row.parameters.size(); ++k) {
@@ -142,16 +139,16 @@ std::string FitParameters(const ReportInputs& inputs, const Sheet& sheet) {
   return out;
 }
 
-std::string PoreDistribution(const ReportInputs& inputs) {
+std::string PoreDistribution(const Sheet& sheet) {
   std::string out =
       "distribution,method,model,branch,temperature_K,radius_m,kelvin_radius_m,film_thickness_m,"
       "rh_fraction,cumulative_volume_m3_per_kg,cumulative_low_m3_per_kg,"
       "cumulative_high_m3_per_kg,dv_dlogr_m3_per_kg,dv_dlogr_low_m3_per_kg,"
       "dv_dlogr_high_m3_per_kg\n";
-  if (inputs.pores == nullptr) return out;
-  const auto& distributions = inputs.pores->distributions;
+  if (!sheet.record.pores) return out;
+  const auto& distributions = sheet.record.pores->distributions;
   for (size_t d = 0; d < distributions.size(); ++d) {
-    const pores::PoreDistribution& pd = distributions[d];
+    const pores::PoreDistribution& pd = distributions[d].distribution;
     for (const pores::PoreDistributionPoint& p : pd.points) {
       out += fmt::format(
           "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", d, Text(pd.method), Text(pd.model_name),
@@ -192,12 +189,11 @@ std::string Conformity(const Sheet& sheet) {
 
 }  // namespace
 
-std::vector<std::pair<std::string, std::string>> BuildCsvFiles(const ReportInputs& inputs,
-                                                               const Sheet& sheet) {
+std::vector<std::pair<std::string, std::string>> BuildCsvFiles(const Sheet& sheet) {
   std::vector<std::pair<std::string, std::string>> files = {
-      {"equilibrium_table.csv", EquilibriumTable(inputs, sheet)},
-      {"fit_parameters.csv", FitParameters(inputs, sheet)},
-      {"pore_distribution.csv", PoreDistribution(inputs)}};
+      {"equilibrium_table.csv", EquilibriumTable(sheet)},
+      {"fit_parameters.csv", FitParameters(sheet)},
+      {"pore_distribution.csv", PoreDistribution(sheet)}};
   if (!sheet.conformity.empty()) files.emplace_back("conformity.csv", Conformity(sheet));
   return files;
 }

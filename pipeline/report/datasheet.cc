@@ -1,7 +1,7 @@
 // The PDF renderer of the Sheet: lays out its numbered sections on pages (Document: page
 // cursor, running header and footer, tables that continue on further pages) and draws its
 // figures through the plot engine. Layout only: every text and number comes formatted from
-// the Sheet. ComposeReport builds the Sheet and every output the template asks for.
+// the Sheet.
 #include <fmt/format.h>
 
 #include <algorithm>
@@ -14,7 +14,6 @@
 #include "pipeline/report/plot/plot.h"
 #include "pipeline/report/renderers.h"
 #include "pipeline/report/report.h"
-#include "pipeline/report/results_json.h"
 #include "pipeline/report/sheet.h"
 
 namespace sorbtrace::report::internal {
@@ -399,26 +398,3 @@ RenderedPdf RenderPdf(const Sheet& sheet, const Template& layout, const ReportOp
 }
 
 }  // namespace sorbtrace::report::internal
-
-namespace sorbtrace::report {
-
-ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout,
-                              const ReportOptions& options) {
-  const internal::Sheet sheet = internal::BuildSheet(inputs, layout, options);
-  ReportArtifacts artifacts;
-  artifacts.warnings = sheet.warnings;
-  // The page count is recorded in results.json, so the PDF is laid out even when the
-  // template writes only the HTML report.
-  internal::RenderedPdf pdf = internal::RenderPdf(sheet, layout, options, inputs.software_version);
-  artifacts.num_pages = pdf.num_pages;
-  if (layout.write_pdf) artifacts.pdf = std::move(pdf.bytes);
-  if (layout.write_html) artifacts.html = internal::RenderHtml(sheet, layout, options);
-  artifacts.results_json =
-      internal::BuildResultsJson(inputs, layout, options, sheet, artifacts.num_pages)
-          .dump(2, ' ', false, nlohmann::ordered_json::error_handler_t::replace) +
-      "\n";
-  artifacts.csv_files = internal::BuildCsvFiles(inputs, sheet);
-  return artifacts;
-}
-
-}  // namespace sorbtrace::report

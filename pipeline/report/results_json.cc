@@ -10,8 +10,6 @@
 #include <utility>
 #include <variant>
 
-#include "pipeline/physics/physics.h"
-
 namespace sorbtrace::report::internal {
 namespace {
 
@@ -72,10 +70,10 @@ Json Budget(const std::vector<reduce::BudgetLine>& lines) {
   return out;
 }
 
-Json JobJson(const ReportInputs& inputs) {
+Json JobJson(const SheetRecord& record) {
   Json job = Json::object();
-  if (inputs.ingested == nullptr) return job;
-  const ingest::JobSpec& j = inputs.ingested->job;
+  if (!record.job) return job;
+  const ingest::JobSpec& j = *record.job;
   job["job_id"] = j.job_id;
   job["material"] = j.material_name;
   job["material_description"] = j.material_description;
@@ -110,10 +108,10 @@ Json JobJson(const ReportInputs& inputs) {
   return job;
 }
 
-Json EquilibriaJson(const ReportInputs& inputs) {
+Json EquilibriaJson(const SheetRecord& record) {
   Json out = Json::object();
-  if (inputs.equilibria == nullptr) return out;
-  const equilibrate::EquilibriumSet& e = *inputs.equilibria;
+  if (!record.equilibria) return out;
+  const EquilibriaRecord& e = *record.equilibria;
   Json points = Json::array();
   for (const equilibrate::EquilibriumPoint& p : e.points) {
     points.push_back({{"dataset_id", p.dataset_id},
@@ -157,17 +155,17 @@ Json EquilibriaJson(const ReportInputs& inputs) {
   return out;
 }
 
-Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
+Json IsothermJson(const SheetRecord& record) {
   Json out = Json::object();
-  if (inputs.reduced == nullptr) return out;
-  const reduce::ReducedIsotherms& r = *inputs.reduced;
+  if (!record.isotherm) return out;
+  const IsothermRecord& r = *record.isotherm;
   out["coverage_factor"] = Number(r.coverage_factor);
   Json points = Json::array();
   for (size_t i = 0; i < r.points.size(); ++i) {
-    const reduce::IsothermPoint& p = r.points[i];
-    const Quantity rh = PointRhQuantity(p, sheet.rules);
-    const Quantity u = PointMoistureQuantity(p, sheet.rules);
-    const PointBudget budget = CombinedPointBudget(r, p);
+    const reduce::IsothermPoint& p = r.points[i].point;
+    const Quantity& rh = r.points[i].rh;
+    const Quantity& u = r.points[i].moisture;
+    const PointBudget& budget = r.points[i].budget;
     Json point = {{"index", i},
                   {"dataset_id", p.dataset_id},
                   {"step_index", p.step_index},
@@ -197,7 +195,8 @@ Json IsothermJson(const ReportInputs& inputs, const Sheet& sheet) {
   }
   out["points"] = points;
   Json specimen_points = Json::array();
-  for (const reduce::SpecimenPoint& p : r.specimen_points) {
+  for (const SpecimenPointRecord& sp : r.specimen_points) {
+    const reduce::SpecimenPoint& p = sp.point;
     specimen_points.push_back({{"dataset_id", p.dataset_id},
                                {"specimen_id", p.specimen_id},
                                {"step_index", p.step_index},
@@ -246,7 +245,7 @@ Json ResampleJson(const fitters::ResampleResult& r) {
           {"parameter_std", NumberArray(r.parameter_std)}};
 }
 
-Json FitModelJson(const fit::IsothermFits& f, size_t i, const Sheet& sheet) {
+Json FitModelJson(const FitsRecord& f, size_t i, const Sheet& sheet) {
   const fit::ModelFit& mf = f.fits[i];
   const ModelRow& row = sheet.models[i];
   Json parameters = Json::array();
@@ -313,40 +312,35 @@ Json FitModelJson(const fit::IsothermFits& f, size_t i, const Sheet& sheet) {
           {"band", band}};
 }
 
-Json RankingJson(const fit::IsothermFits& f) {
+Json RankingJson(const FitsRecord& f) {
   Json ranking = Json::array();
-  for (size_t g = 0; g < f.best_fit_per_group.size(); ++g) {
+  for (const RankingRecord& r : f.ranking) {
     Json order = Json::array();
-    std::vector<std::pair<int, size_t>> ranked;
-    for (size_t i = 0; i < f.fits.size(); ++i) {
-      if (f.fits[i].group_index == static_cast<int>(g) && f.fits[i].rank > 0) {
-        ranked.emplace_back(f.fits[i].rank, i);
-      }
+    for (const RankingRecord::Entry& e : r.order) {
+      order.push_back({{"rank", e.rank},
+                       {"fit_index", e.fit_index},
+                       {"model", f.fits[e.fit_index].model_name}});
     }
-    std::sort(ranked.begin(), ranked.end());
-    for (const auto& [rank, i] : ranked) {
-      order.push_back({{"rank", rank}, {"fit_index", i}, {"model", f.fits[i].model_name}});
-    }
-    ranking.push_back({{"group_index", g},
-                       {"best_fit_index", f.best_fit_per_group[g]},
+    ranking.push_back({{"group_index", r.group_index},
+                       {"best_fit_index", r.best_fit_index},
                        {"by", "AICc"},
                        {"order", order}});
   }
   return ranking;
 }
 
-Json FitsJson(const ReportInputs& inputs, const Sheet& sheet) {
+Json FitsJson(const Sheet& sheet) {
   Json out = Json::object();
-  if (inputs.fits == nullptr) return out;
-  const fit::IsothermFits& f = *inputs.fits;
+  if (!sheet.record.fits) return out;
+  const FitsRecord& f = *sheet.record.fits;
   out["coverage_factor"] = Number(f.coverage_factor);
   Json groups = Json::array();
   for (size_t g = 0; g < f.groups.size(); ++g) {
-    const fit::FitGroup& group = f.groups[g];
+    const fit::FitGroup& group = f.groups[g].group;
     Json indices = Json::array();
     for (int i : group.point_indices) indices.push_back(i);
     groups.push_back({{"index", g},
-                      {"label", GroupLabel(group)},
+                      {"label", f.groups[g].label},
                       {"branch", BranchLabel(group.branch)},
                       {"temperature_K", Number(group.temperature_K)},
                       {"num_observations", group.observations.size()},
@@ -363,7 +357,8 @@ Json FitsJson(const ReportInputs& inputs, const Sheet& sheet) {
   return out;
 }
 
-Json DistributionJson(const pores::PoreDistribution& d, const DisplayRules& rules) {
+Json DistributionJson(const DistributionRecord& record) {
+  const pores::PoreDistribution& d = record.distribution;
   Json points = Json::array();
   for (const pores::PoreDistributionPoint& p : d.points) {
     points.push_back({Number(p.radius_m), Number(p.kelvin_radius_m), Number(p.film_thickness_m),
@@ -373,10 +368,8 @@ Json DistributionJson(const pores::PoreDistribution& d, const DisplayRules& rule
                       Number(p.dv_dlogr_high_m3_per_kg)});
   }
   Json modes = Json::array();
-  for (size_t m = 0; m < d.modes.size(); ++m) {
-    const Quantity q = MakeQuantity("mode", "modal radius", d.modes[m].radius_m,
-                                    d.modes[m].u_radius_m, "m", 1e9, "nm", rules);
-    Json mode = QuantityJson(q);
+  for (size_t m = 0; m < d.modes.size() && m < record.modes.size(); ++m) {
+    Json mode = QuantityJson(record.modes[m]);
     mode["dv_dlogr_m3_per_kg"] = Number(d.modes[m].dv_dlogr_m3_per_kg);
     modes.push_back(mode);
   }
@@ -395,11 +388,7 @@ Json DistributionJson(const pores::PoreDistribution& d, const DisplayRules& rule
       {"meniscus", std::string(d.meniscus == physics::Meniscus::kHemispherical ? "hemispherical"
                                                                                : "cylindrical")},
       {"film", d.film_description},
-      {"total_resolved_volume",
-       QuantityJson(MakeQuantity("total_resolved_volume", "Kelvin-resolved pore volume",
-                                 d.total_resolved_volume_m3_per_kg,
-                                 d.u_total_resolved_volume_m3_per_kg, "m3/kg", 1e6, "mm³/g",
-                                 rules))},
+      {"total_resolved_volume", QuantityJson(record.total_resolved_volume)},
       {"adsorbed_volume_m3_per_kg", Number(d.adsorbed_volume_m3_per_kg)},
       {"not_resolved_volume_m3_per_kg", Number(d.not_resolved_volume_m3_per_kg)},
       {"resolved_radius_min_m", Number(d.resolved_radius_min_m)},
@@ -415,32 +404,27 @@ Json DistributionJson(const pores::PoreDistribution& d, const DisplayRules& rule
 }
 
 // Surface areas, moisture at the reference conditions, the hygroscopicity class.
-void AddDerivedJson(const pores::PoreAnalysis& pa, const fit::IsothermFits* fits,
-                    const DisplayRules& rules, Json& out) {
+void AddDerivedJson(const PoresRecord& pa, Json& out) {
   Json areas = Json::array();
-  for (const pores::SurfaceArea& s : pa.surface_areas) {
-    Json a = QuantityJson(MakeQuantity("surface_area", "specific surface area", s.area_m2_per_g,
-                                       s.u_area_m2_per_g, "m2/g", 1.0, "m²/g", rules));
+  for (const SurfaceAreaRecord& record : pa.surface_areas) {
+    const pores::SurfaceArea& s = record.area;
+    Json a = QuantityJson(record.value);
     a["model"] = s.model_name;
     a["branch"] = BranchLabel(s.branch);
     a["temperature_K"] = Number(s.temperature_K);
-    a["monolayer"] =
-        QuantityJson(MoistureQuantity("monolayer", "monolayer moisture content",
-                                      s.monolayer_kg_per_kg, s.u_monolayer_kg_per_kg, rules));
+    a["monolayer"] = QuantityJson(record.monolayer);
     a["molecular_area_m2"] = Number(s.molecular_area_m2);
     areas.push_back(a);
   }
   out["surface_area"] = areas;
   Json reference = Json::array();
-  for (const pores::ReferenceMoisture& r : pa.reference_moisture) {
-    DisplayRules own = rules;
-    own.coverage_factor = r.coverage_factor;  // Student-t from nu_eff (pores.h)
-    Json j = QuantityJson(MoistureQuantity("reference_moisture", "moisture content",
-                                           r.moisture_kg_per_kg, r.u_moisture_kg_per_kg, own));
+  for (const ReferenceMoistureRecord& record : pa.reference_moisture) {
+    const pores::ReferenceMoisture& r = record.reference;
+    Json j = QuantityJson(record.value);
     j["temperature_K"] = Number(r.condition.temperature_K);
     // The temperature of the isotherm the value was read from (the reference temperature
     // only where temperature_matches).
-    j["measured_temperature_K"] = Number(MeasuredTemperature_K(fits, r));
+    j["measured_temperature_K"] = Number(record.measured_temperature_K);
     j["rh_fraction"] = Number(r.condition.rh_fraction);
     j["model"] = r.model_name;
     j["branch"] = BranchLabel(r.branch);
@@ -451,16 +435,12 @@ void AddDerivedJson(const pores::PoreAnalysis& pa, const fit::IsothermFits* fits
   out["reference_moisture"] = reference;
   const pores::Hygroscopicity& h = pa.hygroscopicity;
   Json hyg = {{"applicable", h.applicable}, {"reason", h.reason}, {"class", h.class_name}};
-  if (h.applicable) {
-    hyg["mass_increase"] =
-        QuantityJson(MakeQuantity("mass_increase", "mass increase", h.mass_increase_percent,
-                                  h.u_mass_increase_percent, "%", 1.0, "%", rules));
-  }
+  if (h.applicable) hyg["mass_increase"] = QuantityJson(pa.mass_increase);
   out["hygroscopicity"] = hyg;
 }
 
 // Hysteresis and isosteric heat.
-void AddThermodynamicsJson(const pores::PoreAnalysis& pa, Json& out) {
+void AddThermodynamicsJson(const PoresRecord& pa, Json& out) {
   Json hysteresis = Json::array();
   for (const pores::Hysteresis& y : pa.hysteresis) {
     Json points = Json::array();
@@ -500,18 +480,16 @@ void AddThermodynamicsJson(const pores::PoreAnalysis& pa, Json& out) {
   out["isosteric_heat"] = heat;
 }
 
-Json PoresJson(const ReportInputs& inputs, const Sheet& sheet) {
+Json PoresJson(const SheetRecord& record) {
   Json out = Json::object();
-  if (inputs.pores == nullptr) return out;
-  const pores::PoreAnalysis& pa = *inputs.pores;
+  if (!record.pores) return out;
+  const PoresRecord& pa = *record.pores;
   Json distributions = Json::array();
-  for (const pores::PoreDistribution& d : pa.distributions) {
-    distributions.push_back(DistributionJson(d, sheet.rules));
-  }
+  for (const DistributionRecord& d : pa.distributions) distributions.push_back(DistributionJson(d));
   out["distributions"] = distributions;
-  AddDerivedJson(pa, inputs.fits, sheet.rules, out);
+  AddDerivedJson(pa, out);
   AddThermodynamicsJson(pa, out);
-  out["warnings"] = Diagnostics(pa.summary.warnings);
+  out["warnings"] = Diagnostics(pa.warnings);
   return out;
 }
 
@@ -599,31 +577,27 @@ Json ConformityJson(const ConformityStatement& s) {
 
 }  // namespace
 
-nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Template& layout,
-                                        const ReportOptions& options, const Sheet& sheet,
-                                        int num_pages) {
+nlohmann::ordered_json BuildResultsJson(const Sheet& sheet, int num_pages) {
+  const SheetRecord& record = sheet.record;
   Json root;
   root["schema"] = "sorbtrace-results/1";
-  root["software"] = {{"name", "sorbtrace"}, {"version", PlainVersion(inputs.software_version)}};
-  root["report"] = {{"template", layout.name},
-                    {"title", layout.title},
-                    {"document_date", options.document_date},
+  root["software"] = {{"name", "sorbtrace"}, {"version", record.software_version}};
+  root["report"] = {{"template", record.template_name},
+                    {"title", record.template_title},
+                    {"document_date", record.document_date},
                     {"num_pages", num_pages},
                     {"moisture_unit", sheet.moisture_unit},
                     {"uncertainty_significant_digits", sheet.rules.significant_digits},
                     {"coverage_factor", Number(sheet.rules.coverage_factor)}};
-  root["job"] = JobJson(inputs);
-  root["issue"] = IssueJson(inputs, sheet);
+  root["job"] = JobJson(record);
+  root["issue"] = record.issue;
   Json files = Json::array();
-  if (inputs.ingested != nullptr) {
-    for (const ingest::InputFileRecord& f : inputs.ingested->inputs) {
-      files.push_back(
-          {{"role", f.role}, {"path", f.path}, {"sha256", f.sha256}, {"size_bytes", f.size_bytes}});
-    }
+  for (const ingest::InputFileRecord& f : record.input_files) {
+    files.push_back(
+        {{"role", f.role}, {"path", f.path}, {"sha256", f.sha256}, {"size_bytes", f.size_bytes}});
   }
   root["inputs"] = files;
-  root["settings"] =
-      inputs.effective_settings.is_null() ? Json::object() : inputs.effective_settings;
+  root["settings"] = record.settings;
   Json headline = Json::array();
   for (const Quantity& q : sheet.headline) headline.push_back(QuantityJson(q));
   root["headline"] = headline;
@@ -634,10 +608,10 @@ nlohmann::ordered_json BuildResultsJson(const ReportInputs& inputs, const Templa
   root["best_model"] = sheet.best_model_text;
   root["cautions"] = StringArray(sheet.cautions);
   root["standing_statements"] = StringArray(sheet.standing_cautions);
-  root["equilibria"] = EquilibriaJson(inputs);
-  root["isotherm"] = IsothermJson(inputs, sheet);
-  root["fits"] = FitsJson(inputs, sheet);
-  root["pores"] = PoresJson(inputs, sheet);
+  root["equilibria"] = EquilibriaJson(record);
+  root["isotherm"] = IsothermJson(record);
+  root["fits"] = FitsJson(sheet);
+  root["pores"] = PoresJson(record);
   root["sheet"] = SheetJson(sheet);
   return root;
 }

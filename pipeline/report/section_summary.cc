@@ -72,11 +72,8 @@ TableBlock ResultsTable(const SectionContext& ctx, bool compact) {
   table.size_pt = compact ? 7.5 : 8.0;
   for (const Quantity& q : ctx.sheet.headline) {
     if (compact && q.key.rfind("best_", 0) == 0) continue;
-    // k beside a value only where its two-digit value differs from the sheet's (as for points).
-    const std::string k = CoverageText(q.coverage_factor);
-    const bool own_k =
-        q.standard_uncertainty > 0.0 && k != CoverageText(ctx.sheet.rules.coverage_factor);
-    table.rows.push_back({{q.label, ""}, {own_k ? q.text + " (k = " + k + ")" : q.text, q.key}});
+    // The text carries the value's own k where it differs from the sheet's (WithOwnCoverage).
+    table.rows.push_back({{q.label, ""}, {q.text, q.key}});
   }
   if (ctx.sheet.hygroscopicity_relevant) {  // pharmaceutical powders only (sheet.h)
     table.rows.push_back({{"Hygroscopicity class (Ph. Eur. 5.11 limits, on the uptake above)", ""},

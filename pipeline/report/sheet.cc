@@ -193,6 +193,13 @@ double CoverageFactorOf(double standard_uncertainty, double expanded_uncertainty
              : fallback;
 }
 
+std::string WithOwnCoverage(const Quantity& quantity, double sheet_coverage_factor) {
+  const std::string k = CoverageText(quantity.coverage_factor);
+  const bool own_k =
+      quantity.standard_uncertainty > 0.0 && k != CoverageText(sheet_coverage_factor);
+  return own_k ? quantity.text + " (k = " + k + ")" : quantity.text;
+}
+
 int Sheet::SectionNumber(const std::string& key) const {
   for (size_t i = 0; i < section_keys.size(); ++i) {
     if (section_keys[i] == key) return static_cast<int>(i) + 1;
@@ -877,6 +884,7 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
     sheet.not_evaluated = NotEvaluatedSentences(*inputs.fits);
   }
   MakeHeadlineUnique(sheet);
+  for (Quantity& q : sheet.headline) q.text = WithOwnCoverage(q, sheet.rules.coverage_factor);
   internal::EvaluateSpecifications(inputs, sheet);
   AddMeasurementCautions(inputs, cautions);
   if (std::any_of(sheet.headline.begin(), sheet.headline.end(),
@@ -904,6 +912,7 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
     sheet.sections.back().blocks.emplace_back(
         ParagraphBlock{sheet.end_marker, 8.5, 0.0, false, true, 10.0});
   }
+  sheet.record = BuildSheetRecord(inputs, layout, options, sheet);
   return sheet;
 }
 

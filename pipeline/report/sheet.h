@@ -11,6 +11,7 @@
 
 #include <limits>
 #include <nlohmann/json.hpp>
+#include <optional>
 #include <string>
 #include <utility>
 #include <variant>
@@ -34,7 +35,8 @@ struct Quantity {
   double display_value = 0.0;         // in display_unit
   double display_expanded_uncertainty = 0.0;
   std::string display_unit;  // e.g. "%", "m²/g"
-  std::string text;          // "1.23 ± 0.05 %", exactly as on the sheet
+  std::string text;          // "1.23 ± 0.05 %", exactly as on the sheet (headline: with its
+                             // own k where it differs from the sheet's, WithOwnCoverage)
   // Effective degrees of freedom of standard_uncertainty (JCGM 100:2008, G.4); infinity: the
   // coverage factor is that of a normal distribution. Read by the statements of conformity.
   double degrees_of_freedom = std::numeric_limits<double>::infinity();
@@ -60,6 +62,12 @@ Quantity MoistureQuantity(std::string key, std::string label, double value_kg_pe
 // The coverage factor of an uncertainty: expanded / standard where both are set, else
 // `fallback` (the sheet's k).
 double CoverageFactorOf(double standard_uncertainty, double expanded_uncertainty, double fallback);
+
+// A value's text followed by its own coverage factor where that differs, to the two printed
+// digits (CoverageText), from the sheet's and an uncertainty is stated: "0.773 ± 0.055 %
+// (k = 3.3)". BuildSheet gives every headline Quantity this text, so the summary, the HTML and
+// results.json print one string.
+std::string WithOwnCoverage(const Quantity& quantity, double sheet_coverage_factor);
 
 // The RH and moisture content of a combined point as printed: with the point's own expanded
 // uncertainty (its coverage factor is expanded / standard; the rules' k when none is set).
@@ -227,6 +235,110 @@ struct Letterhead {
 // The watermark printed on every page of a draft (PDF and HTML).
 inline constexpr char kDraftWatermark[] = "DRAFT";
 
+// ---- The record: the full-precision values beside the printed sheet -------------------------
+// What results.json and the CSV companions write besides the printed cells. BuildSheet fills
+// it (sheet_record.cc) from the stage results; the writers read nothing else. Where a stage's
+// value type is written out field by field as the stage computed it, the record holds that
+// plain value (one field list, in the stage's header); what the report derives from it (the
+// quantities as printed with their own coverage factor, a combined point's budget, labels, the
+// ranking, the step number of the input file) is computed here, once.
+
+// The step of a data file as its own numbering gives it: the desiccator file's `step` column;
+// a vapour log's steps counted from 1 in log order. A combined point whose specimens carry
+// different numbers for the same step joins them with '+' in specimen order.
+struct CombinedPointRecord {
+  reduce::IsothermPoint point;
+  Quantity rh;        // PointRhQuantity: the point's own k
+  Quantity moisture;  // PointMoistureQuantity
+  PointBudget budget;
+  std::string step_in_file;
+};
+struct SpecimenPointRecord {
+  reduce::SpecimenPoint point;
+  // As printed: RH with the isotherm's k, the moisture content with the point's own k
+  // (expanded / standard; the isotherm's k when none is set).
+  Quantity rh;
+  Quantity moisture;
+  std::string step_in_file;
+};
+struct EquilibriaRecord {
+  std::vector<equilibrate::EquilibriumPoint> points;
+  std::vector<equilibrate::DryMass> dry_masses;
+  equilibrate::EquilibrateSummary summary;
+};
+struct IsothermRecord {
+  double coverage_factor = 2.0;
+  std::vector<CombinedPointRecord> points;  // in the reduce stage's order
+  std::vector<SpecimenPointRecord> specimen_points;
+  std::vector<reduce::RetentionIsothermPoint> retention;
+  reduce::ReduceSummary summary;
+};
+struct FitGroupRecord {
+  fit::FitGroup group;
+  std::string label;  // GroupLabel
+};
+// The converged fits of one group by AICc rank (fit stage ranks; 1 = best).
+struct RankingRecord {
+  int group_index = 0;
+  int best_fit_index = -1;
+  struct Entry {
+    int rank = 0;
+    size_t fit_index = 0;
+  };
+  std::vector<Entry> order;
+};
+struct FitsRecord {
+  double coverage_factor = 2.0;
+  std::vector<FitGroupRecord> groups;
+  std::vector<fit::ModelFit> fits;  // Sheet::models[i] is fits[i] as printed
+  std::vector<RankingRecord> ranking;
+  fit::FitStageSummary summary;
+};
+struct DistributionRecord {
+  pores::PoreDistribution distribution;
+  Quantity total_resolved_volume;  // mm³/g
+  std::vector<Quantity> modes;     // modal radii, nm
+};
+struct SurfaceAreaRecord {
+  pores::SurfaceArea area;
+  Quantity value;      // m²/g
+  Quantity monolayer;  // moisture content
+};
+struct ReferenceMoistureRecord {
+  pores::ReferenceMoisture reference;
+  Quantity value;  // with its own k (Student-t from nu_eff, pores.h)
+  // The temperature of the isotherm it was read from (MeasuredTemperature_K).
+  double measured_temperature_K = std::numeric_limits<double>::quiet_NaN();
+};
+struct PoresRecord {
+  std::vector<DistributionRecord> distributions;
+  std::vector<SurfaceAreaRecord> surface_areas;
+  std::vector<ReferenceMoistureRecord> reference_moisture;
+  pores::Hygroscopicity hygroscopicity;
+  Quantity mass_increase;  // when hygroscopicity.applicable
+  std::vector<pores::Hysteresis> hysteresis;
+  std::vector<pores::IsostericHeat> isosteric_heat;
+  std::vector<Diagnostic> warnings;
+};
+struct SheetRecord {
+  std::string software_version;  // without "sorbtrace " (PlainVersion)
+  std::string template_name;
+  std::string template_title;
+  std::string document_date;
+  std::optional<ingest::JobSpec> job;  // absent: no ingest result
+  std::vector<ingest::InputFileRecord> input_files;
+  // The run stage's record of every setting after overrides, written out as it came: the
+  // report reads no key of it, so a structure of its own would only copy the run stage's.
+  nlohmann::ordered_json settings = nlohmann::ordered_json::object();
+  // results.json "issue" (IssueJson): built beside the front-matter rows it restates, from the
+  // same job fields, so the printed facts and the machine-readable ones have one author.
+  nlohmann::ordered_json issue = nlohmann::ordered_json::object();
+  std::optional<EquilibriaRecord> equilibria;
+  std::optional<IsothermRecord> isotherm;
+  std::optional<FitsRecord> fits;
+  std::optional<PoresRecord> pores;
+};
+
 struct Sheet {
   // The template's sections in print order (the one-page summary: "summary" only); a
   // section's number is its place in this list, so cross-references follow the template.
@@ -266,6 +378,7 @@ struct Sheet {
   std::vector<std::string> deviations;
   std::string end_marker;         // "End of report HBPL-2026-0307", the last line of the sheet
   std::vector<Section> sections;  // the document, in print order
+  SheetRecord record;             // the full-precision values (results.json, CSV)
 };
 
 // The software version without a leading "sorbtrace " (the run stage may pass either form).
@@ -324,7 +437,12 @@ std::string SurfaceAreaNotHeadlineReason(const fit::IsothermFits* fits,
 // still holds the pores stage's figure).
 bool HygroscopicityClassRelevant(ingest::MaterialClass material_class);
 
-// The whole sheet: quantities, cautions and the sections the template lists.
+// The record of the stage results (Sheet::record), for a sheet whose rules, model rows and
+// front matter are built.
+SheetRecord BuildSheetRecord(const ReportInputs& inputs, const Template& layout,
+                             const ReportOptions& options, const Sheet& sheet);
+
+// The whole sheet: quantities, cautions, the sections the template lists and the record.
 Sheet BuildSheet(const ReportInputs& inputs, const Template& layout,
                  const ReportOptions& options = {});
 

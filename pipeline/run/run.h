@@ -28,6 +28,9 @@ struct JobSettings {
   fit::FitStageOptions fit;
   pores::PoreOptions pores;
   std::filesystem::path template_file;
+  // The report template, read once per run (its reference conditions seed pores; the report
+  // stage lays the sheet out with it).
+  report::Template layout;
   nlohmann::ordered_json effective;  // all of the above, as recorded in results.json
   // Where each work setting ("fit.bootstrap_resamples", ...) is written; {job file, 0, 0} when
   // the default is used. For the messages of CheckWorkBudget.

@@ -128,7 +128,6 @@ RunResult RunPreparedJob(const PreparedJob& prepared, const RunOptions& options)
   Append(result.warnings, pore_analysis.summary.warnings);
 
   progress(5);
-  const report::Template layout = report::LoadTemplate(settings.template_file);
   report::ReportInputs inputs;
   inputs.ingested = &ingested;
   inputs.equilibria = &equilibria;
@@ -144,7 +143,7 @@ RunResult RunPreparedJob(const PreparedJob& prepared, const RunOptions& options)
   inputs.software_version = std::string("sorbtrace ") + kVersion;
   report::ReportOptions report_options;
   report_options.document_date = DocumentDate(result.job);
-  result.artifacts = report::ComposeReport(inputs, layout, report_options);
+  result.artifacts = report::ComposeReport(inputs, settings.layout, report_options);
   Append(result.warnings, result.artifacts.warnings);
 
   result.log = "sorbtrace " + std::string(kVersion) + "\njob: " + job_file.string() + "\n";

@@ -924,9 +924,9 @@ JobSettings LoadJobSettings(const std::filesystem::path& job_file, const ingest:
                      "to the job file");
   }
   // The template supplies the reference conditions unless the job overrides them.
-  const report::Template layout = report::LoadTemplate(settings.template_file);
-  if (!layout.reference_conditions.empty()) {
-    settings.pores.reference_conditions = layout.reference_conditions;
+  settings.layout = report::LoadTemplate(settings.template_file);
+  if (!settings.layout.reference_conditions.empty()) {
+    settings.pores.reference_conditions = settings.layout.reference_conditions;
   }
 
   internal::ReadAllSettings(root, file, settings);

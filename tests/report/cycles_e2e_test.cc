@@ -8,8 +8,8 @@
 // log scale at every step, so one cycle's factor has the relative standard deviation
 // ln(1.04) / sqrt(2) = 2.77 % (the standard deviation of two values d apart is d / sqrt(2)),
 // less the points' own share (below 0.01 % here). The sheet must
-//  - number the cycle of every row of the equilibrium table (columns "Cycle", 1 and 2; the CSV
-//    companion is the other engineer's);
+//  - number the cycle of every row of the equilibrium table (columns "Cycle", 1 and 2, on the
+//    sheet and in equilibrium_table.csv);
 //  - draw the cycles with their own markers (legend entries "cycle 1" and "cycle 2");
 //  - say how the cycles were combined, with the cycle component's relative standard deviation
 //    (2.8 %, to two digits).
@@ -19,6 +19,7 @@
 #include <filesystem>
 #include <fstream>
 #include <iomanip>
+#include <map>
 #include <regex>
 #include <sstream>
 #include <string>
@@ -112,6 +113,29 @@ TEST(CyclesE2eTest, TwoCyclesAreNumberedMarkedAndCarriedAsACycleComponent) {
   const double printed = std::stod(m[1]);
   const double truth = 100.0 * std::log(kCycleFactor) / std::sqrt(2.0);  // 2.77 %
   EXPECT_NEAR(printed, truth, 0.1) << "printed to two significant digits";
+  // equilibrium_table.csv keeps the cycles apart, numbered from 1 as on the sheet: rows of
+  // both record kinds (specimen, combined) in cycle 1 and in cycle 2, and in no other. The
+  // cycle is the 7th column; no text before it holds a comma in this job.
+  std::ifstream csv(root / "out/equilibrium_table.csv");
+  std::string line;
+  ASSERT_TRUE(std::getline(csv, line));
+  ASSERT_EQ(line.rfind("record,dataset,specimen,step,atmosphere,branch,cycle,", 0), 0u) << line;
+  std::map<std::string, std::map<std::string, int>> rows_per_cycle;
+  while (std::getline(csv, line)) {
+    std::vector<std::string> cells;
+    std::istringstream fields(line);
+    for (std::string cell; cells.size() < 7 && std::getline(fields, cell, ',');) {
+      cells.push_back(cell);
+    }
+    ASSERT_EQ(cells.size(), 7u) << line;
+    ++rows_per_cycle[cells[0]][cells[6]];
+  }
+  for (const char* record : {"specimen", "combined"}) {
+    const std::map<std::string, int>& cycles = rows_per_cycle[record];
+    ASSERT_EQ(cycles.size(), 2u) << record;
+    EXPECT_GT(cycles.count("1"), 0u) << record;
+    EXPECT_GT(cycles.count("2"), 0u) << record;
+  }
   fs::remove_all(root);
 }
 

@@ -89,8 +89,7 @@ TEST(PoresFigureAgreementTest, CurvesEndAtTheTableVolumeAndPeakAtTheTableMode) {
     inputs.fits = &fits;
     inputs.pores = &pa;
     inputs.effective_settings = prepared.settings.effective;
-    const Template layout = LoadTemplate(prepared.settings.template_file);
-    const Sheet sheet = BuildSheet(inputs, layout);
+    const Sheet sheet = BuildSheet(inputs, prepared.settings.layout);
 
     if (pa.distributions.empty()) continue;
     const FigureBlock* figure = FindFigure(sheet, "pores");

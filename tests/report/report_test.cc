@@ -130,18 +130,26 @@ TEST(ComposeReportTest, CsvCompanions) {
 
 // The equilibrium table's columns carry their unit in the name and hold SI values: the
 // fixture's 23 degC (296.15 K, 0 degC = 273.15 K exactly, SI Brochure 9th ed. 2019) stays in
-// kelvin, RH as a fraction, time in seconds (4 days = 345600 s). Steps are numbered from 1 as
-// in the desiccator file. The volumetric content of a combined point is u x rho_dry / rho_w
-// with the fixture's 720 kg/m3 bulk density and 997.5 kg/m3 water.
+// kelvin, RH as a fraction, time in seconds (4 days = 345600 s). Steps carry the number the
+// desiccator file gives them (its `step` column; here 10 + the step's order, so that it
+// differs from the order), cycles are numbered from 1 as on the sheet, and the coverage factor
+// of each expanded uncertainty is stated beside it (JCGM 100:2008, 7.2.3). The volumetric
+// content of a combined point is u x rho_dry / rho_w with the fixture's 720 kg/m3 bulk density
+// and 997.5 kg/m3 water.
 TEST(ComposeReportTest, EquilibriumTableColumnsNumberingAndUnits) {
-  const std::string& csv = FullReport().csv_files[0].second;
+  testing::ReportFixture fixture = MakeReportFixture();
+  for (ingest::DesiccatorStep& step : fixture.ingested.desiccator_series.front().steps) {
+    step.step_number = 10 + step.step_index;
+  }
+  const std::string csv =
+      ComposeReport(fixture.Inputs(), FullTemplate(), Options()).csv_files[0].second;
   const std::string header =
       "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_K,rh_fraction,"
       "u_rh_fraction,moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,"
-      "between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,u_volumetric_m3_per_m3,"
-      "time_to_equilibrium_s,equilibrated,extrapolated,flags,rh_as_printed,moisture_as_printed\n";
+      "coverage_factor,between_specimen_sd_kg_per_kg,num_specimens,volumetric_m3_per_m3,"
+      "u_volumetric_m3_per_m3,time_to_equilibrium_s,equilibrated,extrapolated,flags,"
+      "rh_as_printed,moisture_as_printed\n";
   ASSERT_EQ(csv.substr(0, header.size()), header);
-  const testing::ReportFixture fixture = MakeReportFixture();
   const reduce::SpecimenPoint& sp = fixture.reduced.specimen_points.front();
   const reduce::IsothermPoint& ip = fixture.reduced.points.front();
   ASSERT_EQ(sp.step_index, 0);
@@ -152,27 +160,32 @@ TEST(ComposeReportTest, EquilibriumTableColumnsNumberingAndUnits) {
     std::vector<std::string> cells;
     std::istringstream fields(line);
     for (std::string cell; std::getline(fields, cell, ',');) cells.push_back(cell);
-    ASSERT_GE(cells.size(), 18u) << line;
+    ASSERT_GE(cells.size(), 19u) << line;
     rows.push_back(cells);
   }
   ASSERT_EQ(rows.size(), fixture.reduced.specimen_points.size() + fixture.reduced.points.size());
   const std::vector<std::string>& first = rows.front();
   EXPECT_EQ(first[0], "specimen");
   EXPECT_EQ(first[2], sp.specimen_id);
-  EXPECT_EQ(first[3], "1");
+  EXPECT_EQ(first[3], "10");
+  EXPECT_EQ(first[6], "1");  // the first cycle
   EXPECT_EQ(first[7], "296.15");
   EXPECT_DOUBLE_EQ(std::stod(first[8]), sp.rh_fraction);
   EXPECT_LT(std::stod(first[8]), 1.0);
-  EXPECT_EQ(first[15], "");  // volumetric content belongs to the combined points
-  EXPECT_EQ(first[17], "345600");
+  EXPECT_DOUBLE_EQ(std::stod(first[12]), std::stod(first[13]) * sp.u_moisture_kg_per_kg);
+  EXPECT_EQ(first[16], "");  // volumetric content belongs to the combined points
+  EXPECT_EQ(first[18], "345600");
   const std::vector<std::string>& combined = rows[fixture.reduced.specimen_points.size()];
   EXPECT_EQ(combined[0], "combined");
   EXPECT_EQ(combined[2], "P7-A+P7-B+P7-C") << "the specimens joined by '+'";
-  EXPECT_EQ(combined[3], "1");
-  EXPECT_EQ(combined[14], std::to_string(ip.num_specimens));
-  EXPECT_NEAR(std::stod(combined[15]), ip.moisture_kg_per_kg * 720.0 / 997.5, 1e-15);
-  EXPECT_NEAR(std::stod(combined[16]), ip.u_moisture_kg_per_kg * 720.0 / 997.5, 1e-15);
-  EXPECT_EQ(rows.back()[3], std::to_string(fixture.reduced.points.back().step_index + 1));
+  EXPECT_EQ(combined[3], "10");
+  EXPECT_EQ(combined[6], "1");
+  EXPECT_NEAR(std::stod(combined[13]), ip.expanded_u_moisture_kg_per_kg / ip.u_moisture_kg_per_kg,
+              1e-12);
+  EXPECT_EQ(combined[15], std::to_string(ip.num_specimens));
+  EXPECT_NEAR(std::stod(combined[16]), ip.moisture_kg_per_kg * 720.0 / 997.5, 1e-15);
+  EXPECT_NEAR(std::stod(combined[17]), ip.u_moisture_kg_per_kg * 720.0 / 997.5, 1e-15);
+  EXPECT_EQ(rows.back()[3], std::to_string(10 + fixture.reduced.points.back().step_index));
 }
 
 TEST(ComposeReportTest, ByteIdenticalAcrossCompositions) {
@@ -399,7 +412,7 @@ TEST(SheetLabelsTest, AReferenceTemperatureThatWasNotMeasuredIsMarked) {
     }
   }
   EXPECT_EQ(marked, 1);
-  const auto json = BuildResultsJson(fx.Inputs(), FullTemplate(), FixtureOptions(), sheet, 1);
+  const auto json = BuildResultsJson(sheet, 1);
   ASSERT_EQ(json["pores"]["reference_moisture"].size(), 2u);
   for (const auto& r : json["pores"]["reference_moisture"]) {
     EXPECT_DOUBLE_EQ(r["measured_temperature_K"].get<double>(), 298.15);
