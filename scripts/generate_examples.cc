@@ -191,6 +191,88 @@ void WriteJob(const fs::path& dir, std::string job, const IssueFacts& facts) {
   Write(dir / "lab_profile.toml", kLabProfile);
 }
 
+// ---- An invented laboratory logo (one demo shows it): a small PNG written here ----
+// PNG (W3C PNG 2nd ed. / ISO/IEC 15948:2004): signature, IHDR (8-bit RGB), one IDAT holding a
+// zlib stream (RFC 1950) of stored deflate blocks (RFC 1951 §3.2.4), IEND; chunk CRC-32 of
+// ISO 3309 (polynomial 0xEDB88320, reflected), zlib Adler-32 (RFC 1950 §8.2).
+std::uint32_t Crc32(const std::string& bytes) {
+  std::uint32_t crc = 0xFFFFFFFFu;
+  for (const char ch : bytes) {
+    crc ^= static_cast<unsigned char>(ch);
+    for (int bit = 0; bit < 8; ++bit) crc = (crc >> 1) ^ (0xEDB88320u & (0u - (crc & 1u)));
+  }
+  return crc ^ 0xFFFFFFFFu;
+}
+
+void PutBigEndian32(std::string& out, std::uint32_t value) {
+  for (int shift = 24; shift >= 0; shift -= 8) out += static_cast<char>((value >> shift) & 0xFF);
+}
+
+void PngChunk(std::string& png, const std::string& type, const std::string& data) {
+  PutBigEndian32(png, static_cast<std::uint32_t>(data.size()));
+  png += type + data;
+  PutBigEndian32(png, Crc32(type + data));
+}
+
+std::string StoredZlib(const std::string& raw) {
+  std::string z = {'\x78', '\x01'};  // deflate, 32 KiB window, no preset dictionary
+  constexpr size_t kMaxStored = 65535;
+  for (size_t at = 0; at == 0 || at < raw.size(); at += kMaxStored) {
+    const size_t n = std::min(kMaxStored, raw.size() - at);
+    z += static_cast<char>(at + n >= raw.size() ? 1 : 0);  // BFINAL, BTYPE = 00 (stored)
+    z += static_cast<char>(n & 0xFF);
+    z += static_cast<char>(n >> 8);
+    z += static_cast<char>(~n & 0xFF);
+    z += static_cast<char>((~n >> 8) & 0xFF);
+    z += raw.substr(at, n);
+  }
+  std::uint32_t a = 1, b = 0;
+  for (const char ch : raw) {
+    a = (a + static_cast<unsigned char>(ch)) % 65521u;
+    b = (b + a) % 65521u;
+  }
+  PutBigEndian32(z, (b << 16) | a);
+  return z;
+}
+
+// 120 x 40 pixels: a teal tile with three white strata (a stylised stack of layers) and a
+// slate bar under it; nothing copied from any artwork.
+std::string InventedLogoPng() {
+  constexpr int kWidth = 120, kHeight = 40;
+  std::string raw;
+  for (int y = 0; y < kHeight; ++y) {
+    raw += '\0';  // filter type 0 (None)
+    for (int x = 0; x < kWidth; ++x) {
+      unsigned char r = 255, g = 255, bl = 255;  // white
+      const bool tile = x < 40;
+      const bool stratum = tile && x >= 6 && x < 34 && (y % 10 >= 4 && y % 10 < 7) && y < 36;
+      if (tile && !stratum) r = 0x1F, g = 0x6F, bl = 0x78;  // teal
+      if (!tile && y >= 26 && y < 31 && x >= 46 && x < 116) r = 0x4A, g = 0x55, bl = 0x68;
+      raw += static_cast<char>(r);
+      raw += static_cast<char>(g);
+      raw += static_cast<char>(bl);
+    }
+  }
+  std::string png("\x89PNG\r\n\x1a\n", 8);
+  std::string header;
+  PutBigEndian32(header, kWidth);
+  PutBigEndian32(header, kHeight);
+  header += std::string{'\x08', '\x02', '\0', '\0', '\0'};  // 8-bit RGB, no interlace
+  PngChunk(png, "IHDR", header);
+  PngChunk(png, "IDAT", StoredZlib(raw));
+  PngChunk(png, "IEND", "");
+  return png;
+}
+
+// The lime demo's profile names the invented logo (the other demos have none).
+void WriteProfileWithLogo(const fs::path& dir) {
+  std::string profile = kLabProfile;
+  const std::string contact_end = "sorption@hollowmere.example\"\n";
+  profile.insert(profile.find(contact_end) + contact_end.size(), "logo = \"logo.png\"\n");
+  Write(dir / "lab_profile.toml", profile);
+  Write(dir / "logo.png", InventedLogoPng());
+}
+
 // =========================================================================================
 // Scenario 1: lime plaster, desiccator method (ISO 12571), three specimens, 23 degC.
 // =========================================================================================
@@ -386,6 +468,7 @@ DesiccatorTruth LimePlasterDesiccator(const fs::path& dir) {
             "[sampling]\nby = \"laboratory\"\n"
             "plan = \"HBPL-SP-03 (fictional): three discs cut from the centre of each panel\"\n"
             "date = \"2026-02-26\"\n"});
+  WriteProfileWithLogo(dir);
   return truth;
 }
 
@@ -650,7 +733,7 @@ int main(int argc, char** argv) {
         "document = \"Hollowmere excipient sheet EX-12, item 8 (fictional)\"\n";
     WriteJob(dir, job,
              {"lab_profile = \"lab_profile.toml\"\nlocation = \"sorption-annex\"\n"
-              "material_class = \"pharmaceutical_powder\"\n",
+              "material_class = \"pharmaceutical_powder\"\nmethod = \"ph_eur_2_9_39\"\n",
               "client = \"Pellwick Excipients (fictional)\"\n"
               "client_address = \"2 Tablet Row, Pellwick PW3 5EX, Fictland\"\n"
               "client_contact = \"Dr A. Vasquez-Hale, a.vasquez-hale@pellwick.example\"\n"

@@ -197,4 +197,33 @@ Result AssessConformity(const Measurement& measurement, const ToleranceInterval&
   return r;
 }
 
+namespace {
+
+// Ph. Eur. 5.11 class limits [% mass increase] (sources in conform.h).
+constexpr HygroscopicityClass kHygroscopicityClasses[] = {
+    {"non-hygroscopic", 0.0, 0.2},
+    {"slightly hygroscopic", 0.2, 2.0},
+    {"hygroscopic", 2.0, 15.0},
+    {"very hygroscopic", 15.0, kInfinity},
+};
+
+}  // namespace
+
+std::span<const HygroscopicityClass> HygroscopicityClasses() { return kHygroscopicityClasses; }
+
+std::string_view HygroscopicityClassOf(double mass_increase_percent) {
+  std::string_view name = kHygroscopicityClasses[0].name;
+  for (const HygroscopicityClass& c : kHygroscopicityClasses) {
+    if (mass_increase_percent >= c.lower_percent) name = c.name;
+  }
+  return name;
+}
+
+const HygroscopicityClass* FindHygroscopicityClass(std::string_view name) {
+  for (const HygroscopicityClass& c : kHygroscopicityClasses) {
+    if (c.name == name) return &c;
+  }
+  return nullptr;
+}
+
 }  // namespace sorbtrace::conform

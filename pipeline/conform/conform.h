@@ -48,7 +48,9 @@
 #pragma once
 
 #include <limits>
+#include <span>
 #include <string>
+#include <string_view>
 
 namespace sorbtrace::conform {
 
@@ -118,5 +120,32 @@ bool IsValid(const Measurement& measurement, const ToleranceInterval& tolerance,
 // inconclusive, the numbers NaN.
 Result AssessConformity(const Measurement& measurement, const ToleranceInterval& tolerance,
                         const Options& options);
+
+// Hygroscopicity classes of the European Pharmacopoeia (general chapter 5.11, characters
+// section in monographs): the increase in mass [%] after 24 h at 25 °C / 80 % RH places a
+// substance in one class, each class the half-open interval [lower, upper):
+//   non-hygroscopic       [0, 0.2)       slightly hygroscopic  [0.2, 2)
+//   hygroscopic           [2, 15)        very hygroscopic      [15, inf)
+// ("deliquescent", enough water to form a liquid, is not a mass limit and is not listed).
+// The 24 h / 25 °C / 80 % RH conditions are confirmed by R. Allada, Asian J. Pharm. (abstract
+// at asiapharmaceutics.info, article 867); the 0.2 / 2 / 15 % limits are quoted from secondary
+// sources (J. Swarbrick (ed.), Encyclopedia of Pharmaceutical Technology, 3rd ed., 2007), the
+// chapter itself was not seen: from memory.
+// The one table of the limits: the pores stage classifies with it, a [[specification]]
+// "class at most X" takes its upper limit from it.
+struct HygroscopicityClass {
+  std::string_view name;  // as the sheet prints it and a job file writes it
+  double lower_percent;   // inclusive
+  double upper_percent;   // exclusive; infinity for the last class
+};
+
+// The four classes in increasing order of mass increase.
+std::span<const HygroscopicityClass> HygroscopicityClasses();
+
+// The class of a mass increase [%] (below 0 counts as non-hygroscopic).
+std::string_view HygroscopicityClassOf(double mass_increase_percent);
+
+// The class called `name` (exact, as listed above), or nullptr.
+const HygroscopicityClass* FindHygroscopicityClass(std::string_view name);
 
 }  // namespace sorbtrace::conform

@@ -186,6 +186,10 @@ IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
   if (job.lab_profile) {
     result.inputs.push_back(
         Record("lab_profile", job.lab_profile->file, job.lab_profile->file_as_written));
+    if (!job.lab_profile->logo_file.empty()) {
+      result.inputs.push_back(
+          Record("lab_logo", job.lab_profile->logo_file, job.lab_profile->logo_as_written));
+    }
   }
 
   std::vector<internal::SpecimenMasses> masses;  // for the plausibility rules across files

@@ -60,11 +60,13 @@ enum class TestMethod {
   kIso12571Desiccator,       // "iso_12571_desiccator"
   kIso12571ClimaticChamber,  // "iso_12571_climatic_chamber"
   kAstmC1498,                // "astm_c1498"
+  kPhEur2939,                // "ph_eur_2_9_39": European Pharmacopoeia 2.9.39
 };
 // The job-file value of a method ("iso_12571_desiccator", ...; "" for kUnstated).
 std::string_view TestMethodName(TestMethod method);
 // The reference as a report cites it: "ISO 12571:2021, desiccator method",
-// "ISO 12571:2021, climatic-chamber method", "ASTM C1498-04a"; "" for kUnstated.
+// "ISO 12571:2021, climatic-chamber method", "ASTM C1498-04a", "Ph. Eur. 2.9.39 (...)"; ""
+// for kUnstated.
 std::string_view TestMethodCitation(TestMethod method);
 
 // The laboratory that issues the report: a TOML file kept apart from the report templates
@@ -81,6 +83,11 @@ struct LabLocation {
   std::string id;       // referred to by [job] location
   std::string address;  // as printed
 };
+// The image formats a laboratory logo may have: those libharu embeds without a soft mask
+// (PDF/A-1 allows no transparency): PNG of 8-bit grey or RGB without a tRNS chunk, or JPEG
+// (baseline or progressive, grey or RGB).
+enum class LabLogoFormat { kNone, kPng, kJpeg };
+
 struct LabProfile {
   std::filesystem::path file;   // resolved
   std::string file_as_written;  // as the job file gives it
@@ -91,11 +98,30 @@ struct LabProfile {
   std::string accreditation_body;    // required with a number
   std::vector<Signatory> signatories;
   std::vector<LabLocation> locations;  // none: the work is done at `address`
+  // [laboratory] logo (optional): the file relative to the profile's folder, its bytes as
+  // read and checked (LoadLabLogo) and where the key is, for messages about the image.
+  std::string logo_as_written;
+  std::filesystem::path logo_file;  // resolved; empty: no logo
+  std::string logo_bytes;
+  LabLogoFormat logo_format = LabLogoFormat::kNone;
+  int logo_width_px = 0;
+  int logo_height_px = 0;
+  SourceLocation logo_where;
 };
 
 // Reads a laboratory profile (`display`: the file as messages name it). Every key is known or
 // refused; problems are InputErrors at the profile's line and column.
 LabProfile LoadLabProfile(const std::filesystem::path& file, const std::string& display);
+
+// Reads and checks the profile's logo, if it names one: under the data-path policy
+// (LiesInsideFolder: inside `job_dir` unless `allow_outside`; `profile_as_written` is the
+// profile's path as the job file gives it), a regular file of at most kMaxLabLogoBytes, a PNG
+// or JPEG as LabLogoFormat describes, at most kMaxLabLogoPixels on a side. InputError at the
+// profile's logo key otherwise.
+inline constexpr std::size_t kMaxLabLogoBytes = 1 << 20;  // 1 MiB: far above a letterhead logo
+inline constexpr int kMaxLabLogoPixels = 4096;            // (this program's limits)
+void LoadLabLogo(const std::filesystem::path& job_dir, const std::string& profile_as_written,
+                 bool allow_outside, LabProfile& profile);
 
 // Who took the sample the lab tested ([sampling] by): 7.8.2.1 i, 7.8.2.2, 7.8.5.
 enum class SamplingBy { kUnstated, kLaboratory, kCustomer };
@@ -151,7 +177,10 @@ struct Specification {
   std::string unit;           // as written: "%", "kg/kg", "m2/g", "mm3/g", "nm", ...
   conform::Options decision;  // rule, guard-band fraction of U, required probability
   std::string document;       // the specification's reference as written ("" when not stated)
-  SourceLocation where;       // its [[specification]] table
+  // "class at most X" (quantity = "hygroscopicity_class", at_most = X): the Ph. Eur. 5.11 class
+  // X; quantity, limits and unit are then the mass increase below X's upper limit, in %.
+  std::string class_at_most;
+  SourceLocation where;  // its [[specification]] table
   SourceLocation quantity_where;
   SourceLocation unit_where;
 };

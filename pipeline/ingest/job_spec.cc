@@ -41,7 +41,7 @@ MaterialClass MaterialClassFromName(std::string_view name) {
 
 TestMethod TestMethodFromName(std::string_view name) {
   for (const TestMethod m : {TestMethod::kIso12571Desiccator, TestMethod::kIso12571ClimaticChamber,
-                             TestMethod::kAstmC1498}) {
+                             TestMethod::kAstmC1498, TestMethod::kPhEur2939}) {
     if (TestMethodName(m) == name) return m;
   }
   return TestMethod::kUnstated;
@@ -226,6 +226,7 @@ void ReadLabProfile(const JobFileReader& in, const std::filesystem::path& job_di
   }
   LabProfile profile = LoadLabProfile(path, path.string());
   profile.file_as_written = *written;
+  LoadLabLogo(job_dir, *written, job->allow_data_outside_job_folder, profile);
   job->work_location = profile.address;
   if (location != nullptr) {
     const std::string id = *in.String(job_table, "[job]", "location", true);
@@ -303,13 +304,19 @@ std::string_view TestMethodName(TestMethod method) {
       return "iso_12571_climatic_chamber";
     case TestMethod::kAstmC1498:
       return "astm_c1498";
+    case TestMethod::kPhEur2939:
+      return "ph_eur_2_9_39";
   }
   return "";
 }
 
 // ISO 12571:2021 "Hygrothermal performance of building materials and products - Determination
 // of hygroscopic sorption properties" (desiccator and climatic-chamber methods); ASTM C1498-04a
-// "Standard Test Method for Hygroscopic Sorption Isotherms of Building Materials".
+// "Standard Test Method for Hygroscopic Sorption Isotherms of Building Materials";
+// European Pharmacopoeia 2.9.39 "Water-solid interactions: determination of sorption-desorption
+// isotherms and of water activity" (chapter number and title confirmed in the British
+// Pharmacopoeia's Appendix IX M, which reproduces it as "Ph. Eur. method 2.9.39"; the edition of
+// the Pharmacopoeia is not cited: unconfirmed).
 std::string_view TestMethodCitation(TestMethod method) {
   switch (method) {
     case TestMethod::kUnstated:
@@ -320,6 +327,8 @@ std::string_view TestMethodCitation(TestMethod method) {
       return "ISO 12571:2021, climatic-chamber method";
     case TestMethod::kAstmC1498:
       return "ASTM C1498-04a";
+    case TestMethod::kPhEur2939:
+      return "Ph. Eur. 2.9.39, water-solid interactions: sorption-desorption isotherms";
   }
   return "";
 }
@@ -395,10 +404,11 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
            MaterialClassName(MaterialClass::kFood), MaterialClassName(MaterialClass::kOther)})) {
     job.material_class = MaterialClassFromName(*name);
   }
-  if (const auto name = in.Choice(job_table, "[job]", "method", false,
-                                  {TestMethodName(TestMethod::kIso12571Desiccator),
-                                   TestMethodName(TestMethod::kIso12571ClimaticChamber),
-                                   TestMethodName(TestMethod::kAstmC1498)})) {
+  if (const auto name = in.Choice(
+          job_table, "[job]", "method", false,
+          {TestMethodName(TestMethod::kIso12571Desiccator),
+           TestMethodName(TestMethod::kIso12571ClimaticChamber),
+           TestMethodName(TestMethod::kAstmC1498), TestMethodName(TestMethod::kPhEur2939)})) {
     job.test_method = TestMethodFromName(*name);
   }
 

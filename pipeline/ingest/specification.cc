@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "pipeline/common/bounded_input.h"
+#include "pipeline/conform/conform.h"
 
 namespace sorbtrace::ingest::internal {
 namespace {
@@ -29,7 +30,12 @@ constexpr std::string_view kKeys[] = {"quantity",          "lower_limit",
                                       "upper_limit",       "unit",
                                       "decision_rule",     "guard_band_fraction_of_U",
                                       "inconclusive_zone", "required_conformance_probability",
-                                      "document"};
+                                      "document",          "at_most"};
+
+// The class shorthand: quantity = "hygroscopicity_class", at_most = "<class>" stands for an
+// upper limit on the headline mass increase (conform::HygroscopicityClasses).
+constexpr std::string_view kClassQuantity = "hygroscopicity_class";
+constexpr std::string_view kClassBasis = "hygroscopicity_mass_increase";
 
 std::string KeyList() {
   std::string list;
@@ -171,6 +177,42 @@ conform::Options ReadDecision(const TableReader& in) {
   return options;
 }
 
+// The classes a specification can name as its upper bound: those with a finite upper limit.
+std::string ClassList() {
+  std::string list;
+  for (const conform::HygroscopicityClass& c : conform::HygroscopicityClasses()) {
+    if (std::isinf(c.upper_percent)) continue;
+    list += (list.empty() ? "\"" : ", \"") + std::string(c.name) + "\"";
+  }
+  return list;
+}
+
+// "class at most X": limits, unit and the headline key from the class table.
+void ReadClassLimit(const TableReader& in, Specification& spec) {
+  for (std::string_view key : {"lower_limit", "upper_limit", "unit"}) {
+    if (!in.Has(key)) continue;
+    in.Fail(in.At(key), fmt::format("key '{}' with quantity = \"{}\"", key, kClassQuantity),
+            "only at_most = \"<class>\": the class sets the limit (Ph. Eur. 5.11)");
+  }
+  const std::string name = *in.String("at_most", true);
+  spec.unit_where = in.At("at_most");
+  const conform::HygroscopicityClass* c = conform::FindHygroscopicityClass(name);
+  if (c == nullptr) {
+    in.Fail(spec.unit_where, "'" + Excerpt(name) + "' is not a Ph. Eur. 5.11 hygroscopicity class",
+            "one of " + ClassList());
+  }
+  if (std::isinf(c->upper_percent)) {
+    in.Fail(spec.unit_where,
+            "at_most = \"" + Excerpt(name) +
+                "\" sets no limit: every mass increase is in that class or below",
+            "one of " + ClassList());
+  }
+  spec.class_at_most = std::string(c->name);
+  spec.quantity = std::string(kClassBasis);
+  spec.limits.upper = c->upper_percent;
+  spec.unit = "%";
+}
+
 Specification ReadOne(const std::string& display, const toml::table& table) {
   const TableReader in(display, table);
   in.CheckKeys();
@@ -182,11 +224,21 @@ Specification ReadOne(const std::string& display, const toml::table& table) {
     in.Fail(spec.quantity_where, "empty quantity",
             "the results.json headline key of the quantity, e.g. \"moisture_23C_80RH_adsorption\"");
   }
-  spec.limits = ReadLimits(in);
-  spec.unit = *in.String("unit", true);
-  spec.unit_where = in.At("unit");
-  if (spec.unit.empty()) {
-    in.Fail(spec.unit_where, "empty unit", "the unit of the limits, e.g. \"%\" or \"m2/g\"");
+  if (spec.quantity == kClassQuantity) {
+    ReadClassLimit(in, spec);
+  } else {
+    if (in.Has("at_most")) {
+      in.Fail(in.At("at_most"), "key 'at_most' with quantity = \"" + Excerpt(spec.quantity) + "\"",
+              fmt::format("'at_most' only with quantity = \"{}\" (a class name); limits of other "
+                          "quantities are lower_limit and upper_limit",
+                          kClassQuantity));
+    }
+    spec.limits = ReadLimits(in);
+    spec.unit = *in.String("unit", true);
+    spec.unit_where = in.At("unit");
+    if (spec.unit.empty()) {
+      in.Fail(spec.unit_where, "empty unit", "the unit of the limits, e.g. \"%\" or \"m2/g\"");
+    }
   }
   spec.decision = ReadDecision(in);
   spec.document = in.String("document", false).value_or("");

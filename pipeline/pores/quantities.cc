@@ -10,6 +10,7 @@
 #include <limits>
 #include <numeric>
 
+#include "pipeline/conform/conform.h"
 #include "pipeline/physics/physics.h"
 
 namespace sorbtrace::pores::internal {
@@ -28,15 +29,6 @@ constexpr double kPharmacopoeiaRhToleranceFraction = 0.02;
 // that is below the standard uncertainty of salt-solution and sensor humidities (common
 // practice), and a reference RH of 80 % is often also the highest step (measured as 79.97 %).
 constexpr double kRhRangeToleranceFraction = 0.005;
-// Class limits of Ph. Eur. 5.11 (Characters section in monographs, hygroscopicity), mass increase
-// in % after 24 h at 25 °C / 80 % RH: very hygroscopic >= 15, hygroscopic 2..15, slightly
-// hygroscopic 0.2..2. Confirmed against secondary sources quoting the chapter (J. Swarbrick (ed.),
-// Encyclopedia of Pharmaceutical Technology, 3rd ed., Informa (2007), excipient hygroscopicity
-// classes; R. Allada, "Hygroscopicity categorization of pharmaceutical solids by gravimetric
-// sorption analysis", Asian J. Pharm.: 24 h at 25 °C and 80 % RH); the chapter itself not seen.
-constexpr double kVeryHygroscopicPercent = 15.0;
-constexpr double kHygroscopicPercent = 2.0;
-constexpr double kSlightlyHygroscopicPercent = 0.2;
 // Bisection steps for a_w(u): 100 halvings of [0, 1] are far below double precision.
 constexpr int kInversionSteps = 100;
 // Step in 1/T [1/K] of the central difference of ln p_s: 1e-7 1/K is about 0.01 K at room
@@ -52,11 +44,9 @@ double SurfaceArea_m2_per_g(double monolayer_kg_per_kg, double molecular_area_m2
          molecular_area_m2 / kGramsPerKilogram;
 }
 
+// The class limits live in one table (conform::HygroscopicityClasses, with their sources).
 std::string HygroscopicityClassName(double mass_increase_percent) {
-  if (mass_increase_percent >= kVeryHygroscopicPercent) return "very hygroscopic";
-  if (mass_increase_percent >= kHygroscopicPercent) return "hygroscopic";
-  if (mass_increase_percent >= kSlightlyHygroscopicPercent) return "slightly hygroscopic";
-  return "non-hygroscopic";
+  return std::string(conform::HygroscopicityClassOf(mass_increase_percent));
 }
 
 double FittedCurve::Value(double rh_fraction) const {
@@ -275,8 +265,9 @@ Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorptio
         100.0 * best->rh_max_fraction);
   }
   const double expanded = coverage_factor * h.u_mass_increase_percent;
-  for (double boundary :
-       {kSlightlyHygroscopicPercent, kHygroscopicPercent, kVeryHygroscopicPercent}) {
+  for (const conform::HygroscopicityClass& c : conform::HygroscopicityClasses()) {
+    const double boundary = c.lower_percent;
+    if (boundary <= 0.0) continue;  // the lowest class has no lower boundary
     if (std::abs(h.mass_increase_percent - boundary) <= expanded) {
       h.reason +=
           fmt::format("; the class boundary {:g} % lies within the expanded uncertainty", boundary);

@@ -14,9 +14,9 @@ namespace sorbtrace::pores::internal {
 // S = X_m / M_w * N_A * a_m [m2/kg], returned in m2/g.
 double SurfaceArea_m2_per_g(double monolayer_kg_per_kg, double molecular_area_m2);
 
-// Ph. Eur. 5.11 class of a mass increase [%] (thresholds from memory): >= 15 very hygroscopic,
-// >= 2 hygroscopic, >= 0.2 slightly hygroscopic, else non-hygroscopic. "deliquescent" cannot be
-// told from an isotherm fit and is never returned.
+// Ph. Eur. 5.11 class of a mass increase [%] (limits and sources: conform::HygroscopicityClasses):
+// >= 15 very hygroscopic, >= 2 hygroscopic, >= 0.2 slightly hygroscopic, else non-hygroscopic.
+// "deliquescent" cannot be told from an isotherm fit and is never returned.
 std::string HygroscopicityClassName(double mass_increase_percent);
 
 // A fitted isotherm of one group, ready to evaluate.

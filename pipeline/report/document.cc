@@ -27,6 +27,11 @@ constexpr double kA4Width = 595.276, kA4Height = 841.890;
 constexpr double kLetterWidth = 612.0, kLetterHeight = 792.0;
 constexpr double kHeaderHeight = 34.0;  // running header band below the top margin
 constexpr double kFooterHeight = 22.0;
+// Logo height in the header band [pt] (this program's layout): the two lines of name and address
+// beside it; at most kMaxLogoWidth_pt wide (a wide logo is scaled down to it).
+constexpr double kLogoHeight_pt = 24.0;
+constexpr double kMaxLogoWidth_pt = 96.0;
+constexpr double kLogoGap_pt = 6.0;
 
 // The sheet's accent: a deep teal rule, the same hue as the first data series.
 constexpr Color kAccent = palette::kTeal;
@@ -133,6 +138,34 @@ void Document::SetUpDocument(const std::filesystem::path& regular,
   internal::WriteDocumentIdentity(pdf_, identity);
   internal::AddOutputIntent(pdf_, SORBTRACE_ICC_PROFILE);
   ThrowIfFailed("writing the document information");
+  LoadLogo();
+}
+
+void Document::LoadLogo() {
+  if (letterhead_.logo_bytes.empty()) return;
+  const auto* data = reinterpret_cast<const HPDF_BYTE*>(letterhead_.logo_bytes.data());
+  const auto size = static_cast<HPDF_UINT>(letterhead_.logo_bytes.size());
+  logo_ = letterhead_.logo_format == ingest::LabLogoFormat::kJpeg
+              ? HPDF_LoadJpegImageFromMem(pdf_, data, size)
+              : HPDF_LoadPngImageFromMem(pdf_, data, size);
+  if (logo_ != nullptr && first_error_ == HPDF_OK) return;
+  // The header checks of ingest::LoadLabLogo passed, the decoder did not: a damaged image.
+  throw InputError(
+      letterhead_.logo_where,
+      fmt::format("the logo image could not be decoded (libharu error 0x{:04X})", first_error_),
+      "an undamaged PNG (8-bit grey or RGB, no transparency) or JPEG file");
+}
+
+double Document::DrawLogo(double x, double y_top) {
+  if (logo_ == nullptr || pages_.empty()) return 0.0;
+  double height = kLogoHeight_pt;
+  double width = height * letterhead_.logo_aspect;
+  if (width > kMaxLogoWidth_pt) {
+    width = kMaxLogoWidth_pt;
+    height = width / letterhead_.logo_aspect;
+  }
+  HPDF_Page_DrawImage(pages_.back(), logo_, F(x), F(y_top - height), F(width), F(height));
+  return width + kLogoGap_pt;
 }
 
 Document::~Document() {
@@ -190,9 +223,11 @@ void Document::DrawHeader() {
   c.Line(left_ + 46.0, y_top - 2.5, right_, y_top - 2.5, 0.4, palette::kSlate);
   const std::string lab =
       letterhead_.draft ? std::string(kDraftWatermark) + ": not for issue" : letterhead_.lab_name;
-  c.Text(left_, y_top - 14.0, lab, 9.0, Canvas::Align::kLeft, true);
+  // The logo below the rule, the laboratory's name and address beside it.
+  const double text_left = left_ + DrawLogo(left_, y_top - 5.0);
+  c.Text(text_left, y_top - 14.0, lab, 9.0, Canvas::Align::kLeft, true);
   if (!letterhead_.lab_address.empty()) {
-    c.Text(left_, y_top - 23.5, letterhead_.lab_address, 7.0, Canvas::Align::kLeft, false,
+    c.Text(text_left, y_top - 23.5, letterhead_.lab_address, 7.0, Canvas::Align::kLeft, false,
            palette::kSlate);
   }
   c.Text(right_, y_top - 14.0, layout_.title, 9.0, Canvas::Align::kRight, true, kAccent);

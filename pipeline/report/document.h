@@ -103,6 +103,8 @@ class Document {
   void ThrowIfFailed(const char* doing) const;
   // Fonts, encoder and document information (the constructor frees pdf_ if this throws).
   void SetUpDocument(const std::filesystem::path& regular, const std::filesystem::path& bold);
+  void LoadLogo();  // letterhead_.logo_bytes into logo_; InputError at the profile's key
+  double DrawLogo(double x, double y_top);  // its width [pt]; 0 without a logo
   void DrawHeader();
   void DrawWatermark();  // drafts: under the page's content
   // Before part `index` of a block whose parts have `heights`: a new page when the part does
@@ -127,6 +129,7 @@ class Document {
   HPDF_Doc pdf_ = nullptr;
   HPDF_Font regular_ = nullptr;
   HPDF_Font bold_ = nullptr;
+  HPDF_Image logo_ = nullptr;  // the letterhead's logo, loaded once (SetUpDocument)
   std::vector<HPDF_Page> pages_;
   std::unique_ptr<plot::Canvas> canvas_;
   double page_width_ = 0.0;

@@ -38,8 +38,9 @@ std::string ProcedureText(const ingest::JobSpec& job) {
 }
 
 // ISO 12570:2000 "Hygrothermal performance of building materials and products - Determination
-// of moisture content by drying at elevated temperature" (from memory: edition 2000, amended
-// 2013): the oven dry mass.
+// of moisture content by drying at elevated temperature", first edition 2000-03-15, confirmed
+// in the ISO catalogue entry (iTeh standards catalogue, iso-12570-2000: published 2000-03,
+// stage 90.93 confirmed): the oven dry mass. (An amendment of 2013 is from memory.)
 std::string DryingCitation(const ingest::JobSpec& job) {
   switch (job.dry_mass_method) {
     case ingest::DryMassMethod::kOvenDrying:
@@ -93,6 +94,12 @@ Letterhead MakeLetterhead(const ingest::JobSpec* job) {
   letterhead.accreditation = Accreditation(lab);
   for (const ingest::Signatory& s : lab.signatories) {
     letterhead.signatories.push_back(s.name + ", " + s.role);
+  }
+  if (!lab.logo_bytes.empty() && lab.logo_height_px > 0) {
+    letterhead.logo_bytes = lab.logo_bytes;
+    letterhead.logo_format = lab.logo_format;
+    letterhead.logo_aspect = static_cast<double>(lab.logo_width_px) / lab.logo_height_px;
+    letterhead.logo_where = lab.logo_where;
   }
   return letterhead;
 }

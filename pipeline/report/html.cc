@@ -31,6 +31,8 @@ body { margin: 0; color: var(--ink); background: #fff;
 header.masthead { display: flex; flex-wrap: wrap; justify-content: space-between; gap: 0.5rem 2rem;
   border-top: 4px solid var(--accent); padding-top: 0.6rem; margin-bottom: 1rem; }
 header.masthead p { margin: 0; }
+.letterhead { display: flex; align-items: center; gap: 0.6rem; }
+img.logo { height: 2.4rem; width: auto; max-width: 9rem; }
 .lab { font-weight: bold; }
 .muted, .address, .report-line { color: var(--slate); font-size: 0.85rem; }
 h1 { font-size: 1.3rem; margin: 0; color: var(--accent); }
@@ -213,12 +215,42 @@ std::string BlockHtml(HtmlContext& ctx, const Block& block) {
   return "";
 }
 
+// Base64 of RFC 4648 §4 (standard alphabet, "=" padding), for a data: URI (RFC 2397).
+std::string Base64(const std::string& bytes) {
+  static constexpr char kAlphabet[] =
+      "ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
+  std::string out;
+  out.reserve((bytes.size() + 2) / 3 * 4);
+  for (size_t i = 0; i < bytes.size(); i += 3) {
+    const size_t n = std::min<size_t>(3, bytes.size() - i);
+    unsigned int group = 0;
+    for (size_t j = 0; j < 3; ++j) {
+      group = (group << 8) | (j < n ? static_cast<unsigned char>(bytes[i + j]) : 0u);
+    }
+    for (size_t j = 0; j < 4; ++j) {
+      out += j <= n ? kAlphabet[(group >> (18 - 6 * j)) & 0x3F] : '=';
+    }
+  }
+  return out;
+}
+
+// The laboratory's logo inlined (the page stays one self-contained file).
+std::string LogoHtml(const Letterhead& letterhead) {
+  if (letterhead.logo_bytes.empty()) return "";
+  const char* type =
+      letterhead.logo_format == ingest::LabLogoFormat::kJpeg ? "image/jpeg" : "image/png";
+  return fmt::format("<img class=\"logo\" src=\"data:{};base64,{}\" alt=\"Logo of {}\">", type,
+                     Base64(letterhead.logo_bytes), Html(letterhead.lab_name));
+}
+
 std::string Masthead(const Sheet& sheet, const Template& layout, const ReportOptions& options) {
   std::string line = "Report " + sheet.report_number;
   if (!options.document_date.empty()) line += "  ·  issued " + options.document_date.substr(0, 10);
   return fmt::format(
-      "<header class=\"masthead\">\n<div><p class=\"lab\">{}</p><p class=\"address\">{}</p></div>\n"
+      "<header class=\"masthead\">\n<div class=\"letterhead\">{}<div><p class=\"lab\">{}</p>"
+      "<p class=\"address\">{}</p></div></div>\n"
       "<div><h1>{}</h1><p class=\"report-line\">{}</p></div>\n</header>\n",
+      LogoHtml(sheet.letterhead),
       Html(sheet.letterhead.draft ? std::string(kDraftWatermark) + ": not for issue"
                                   : sheet.letterhead.lab_name),
       Html(sheet.letterhead.lab_address), Html(layout.title), Html(line));

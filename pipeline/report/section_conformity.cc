@@ -160,6 +160,10 @@ std::string WithUnit(const std::string& number, const std::string& unit) {
 
 std::string LimitsText(const ingest::Specification& spec, const std::string& unit) {
   const conform::ToleranceInterval& t = spec.limits;
+  if (!spec.class_at_most.empty()) {  // "class at most X": the class and the limit it sets
+    return "class at most " + spec.class_at_most + " (Ph. Eur. 5.11: mass increase below " +
+           WithUnit(FormatSetting(t.upper), unit) + ")";
+  }
   if (std::isinf(t.lower)) return "at most " + WithUnit(FormatSetting(t.upper), unit);
   if (std::isinf(t.upper)) return "at least " + WithUnit(FormatSetting(t.lower), unit);
   return WithUnit(FormatSetting(t.lower) + " to " + FormatSetting(t.upper), unit);

@@ -80,9 +80,38 @@ size_t LongestWord(const std::string& text) {
   return longest;
 }
 
+// Cautions collected each once with their rank (CautionRank, sheet.h); Finish() orders
+// Sheet::cautions by rank, keeping the order of collection within a rank.
+struct CautionList {
+  Sheet& sheet;
+  std::set<std::string> seen;
+  std::vector<CautionRank> ranks;  // parallel to sheet.cautions
+
+  void Add(const std::string& text, CautionRank rank) {
+    const size_t before = sheet.cautions.size();
+    AddUnique(sheet.cautions, seen, text);
+    if (sheet.cautions.size() > before) ranks.push_back(rank);
+  }
+  void AddAll(const std::vector<Diagnostic>& warnings, CautionRank rank) {
+    for (const Diagnostic& w : warnings) Add(w.message, rank);
+  }
+  void Finish() {
+    std::vector<size_t> order(sheet.cautions.size());
+    for (size_t i = 0; i < order.size(); ++i) order[i] = i;
+    std::stable_sort(order.begin(), order.end(),
+                     [this](size_t a, size_t b) { return ranks[a] < ranks[b]; });
+    std::vector<std::string> sorted;
+    sorted.reserve(order.size());
+    for (size_t i : order) sorted.push_back(std::move(sheet.cautions[i]));
+    sheet.cautions = std::move(sorted);
+    std::stable_sort(ranks.begin(), ranks.end());
+  }
+};
+
 // A caution (and a run.log warning) for every free-text field of the job that the sheet
 // prints shortened.
-void CheckPrintedFields(const ingest::JobSpec& job, Sheet& sheet) {
+void CheckPrintedFields(const ingest::JobSpec& job, CautionList& cautions) {
+  Sheet& sheet = cautions.sheet;
   std::vector<std::pair<std::string, std::string>> fields = {
       {"job id", job.job_id},
       {"material name", job.material_name},
@@ -101,7 +130,7 @@ void CheckPrintedFields(const ingest::JobSpec& job, Sheet& sheet) {
         "(results.json holds it in full)",
         name, length,
         word > plot::kMaxPrintedWordChars ? fmt::format(", a word of {} characters", word) : "");
-    sheet.cautions.push_back(message + ".");
+    cautions.Add(message + ".", CautionRank::kInformation);
     sheet.warnings.push_back({Severity::kWarning, SourceLocation{job.job_file.string(), 0, 0},
                               message,
                               fmt::format("at most {} characters, words of at most {}", limit,
@@ -369,16 +398,6 @@ std::vector<Section> BuildSections(const ReportInputs& inputs, const Template& l
 
 namespace {
 
-// Cautions collected in print order, each once.
-struct CautionList {
-  Sheet& sheet;
-  std::set<std::string> seen;
-  void Add(const std::string& text) { AddUnique(sheet.cautions, seen, text); }
-  void AddAll(const std::vector<Diagnostic>& warnings) {
-    for (const Diagnostic& w : warnings) Add(w.message);
-  }
-};
-
 void SetDisplayRules(const ReportInputs& inputs, const Template& layout, Sheet& sheet) {
   sheet.rules.moisture_in_percent = layout.moisture_in_percent;
   sheet.rules.significant_digits = layout.uncertainty_significant_digits;
@@ -399,13 +418,19 @@ void SetDisplayRules(const ReportInputs& inputs, const Template& layout, Sheet& 
                                   : "moisture content (kg/kg, dry basis)";
 }
 
-// Input warnings first (a frozen sensor, a gap in a log): they change what every number
-// below can be trusted for, and the summary page lists only the first cautions.
+// Input warnings rank with validity (a frozen sensor, a gap in a log): they change what every
+// number below can be trusted for.
 void AddInputCautions(const ReportInputs& inputs, CautionList& cautions) {
   if (inputs.ingested == nullptr) return;
-  cautions.AddAll(inputs.ingested->summary.warnings);
-  CheckPrintedFields(inputs.ingested->job, cautions.sheet);
-  cautions.seen.insert(cautions.sheet.cautions.begin(), cautions.sheet.cautions.end());
+  // DRAFT (no laboratory profile): the first thing a reader of the summary must know.
+  if (!inputs.ingested->job.lab_profile) {
+    cautions.Add(
+        "DRAFT: this sheet names no issuing laboratory and carries no signatures; it is not a "
+        "report for issue.",
+        CautionRank::kNotForIssue);
+  }
+  cautions.AddAll(inputs.ingested->summary.warnings, CautionRank::kValidity);
+  CheckPrintedFields(inputs.ingested->job, cautions);
 }
 
 bool WantedReference(const Template& layout, const pores::ReferenceCondition& condition) {
@@ -448,10 +473,11 @@ void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
                       TemperatureKey(rm.condition.temperature_K));
     label = fmt::format("Moisture content at {} / {} % RH ({}): not measured at {}; value at {}",
                         reference_t, rh, branch, reference_t, measured_t);
-    cautions.Add(fmt::format(
-        "The reference temperature {} was not measured: moisture contents given for it are read "
-        "from the isotherm measured at {} and are not converted to {}.",
-        reference_t, measured_t, reference_t));
+    cautions.Add(fmt::format("The reference temperature {} was not measured: moisture contents "
+                             "given for it are read from the isotherm measured at {} and are "
+                             "not converted to {}.",
+                             reference_t, measured_t, reference_t),
+                 CautionRank::kValidity);
     sheet.unavailable_headline.push_back(
         {ReferenceMoistureKey(rm),
          fmt::format("Moisture content at {} / {} % RH ({})", reference_t, rh, branch),
@@ -487,7 +513,9 @@ void AddReferenceMoistures(const pores::PoreAnalysis& pa, const fit::IsothermFit
     for (const std::string& f : rm.flags) {
       // The pores stage's own note of the temperature mismatch ("fitted at ... degC, reference
       // ... degC: not converted ...") is replaced by the plain caution above.
-      if (rm.temperature_matches || f.rfind("fitted at ", 0) != 0) cautions.Add(f);
+      if (rm.temperature_matches || f.rfind("fitted at ", 0) != 0) {
+        cautions.Add(f, CautionRank::kValidity);
+      }
     }
   }
 }
@@ -530,11 +558,13 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, const fit::IsothermF
         "The hygroscopicity class applies the Ph. Eur. 5.11 limits (0.2 %, 2 % and 15 % mass "
         "increase) to the equilibrium uptake on dry mass at 25 °C / 80 % RH. The compendial test "
         "weighs the sample as received after 24 h at that condition: a sample that already "
-        "holds water, or equilibrates slowly, gains less there and may fall in a lower class.");
+        "holds water, or equilibrates slowly, gains less there and may fall in a lower class.",
+        CautionRank::kInformation);
     if (pa.hygroscopicity.reason.find("class boundary") != std::string::npos) {
       cautions.Add(
           "A class limit lies within the expanded uncertainty of the uptake: the neighbouring "
-          "class cannot be excluded.");
+          "class cannot be excluded.",
+          CautionRank::kValidity);
     }
   } else {
     sheet.hygroscopicity_class = "not classified";
@@ -686,24 +716,30 @@ void AddBestModelCautions(const fit::ModelFit& mf, const ModelRow& row, const Sh
   bool other = false;
   for (const std::string& f : row.flags) {
     if (f.rfind("chi-square check fails", 0) == 0) {
-      cautions.Add(fmt::format(
-          "The best-fitting model, {}, deviates from the measured points by more than their "
-          "stated uncertainties (chi-square test, p = {}): values read from the curve may be "
-          "less certain than stated.",
-          what, FormatSignificant(s.chi_square_p_value, 2)));
+      cautions.Add(
+          fmt::format(
+              "The best-fitting model, {}, deviates from the measured points by more than their "
+              "stated uncertainties (chi-square test, p = {}): values read from the curve may be "
+              "less certain than stated.",
+              what, FormatSignificant(s.chi_square_p_value, 2)),
+          CautionRank::kValidity);
     } else if (f.rfind("physics: ", 0) == 0) {
-      cautions.Add(fmt::format(
-          "The parameters of the best-fitting model, {}, lie outside the range in which its "
-          "physical interpretation holds{}: its monolayer moisture content and the surface area "
-          "derived from it are indicative only.",
-          what, see));
+      cautions.Add(
+          fmt::format(
+              "The parameters of the best-fitting model, {}, lie outside the range in which its "
+              "physical interpretation holds{}: its monolayer moisture content and the surface "
+              "area "
+              "derived from it are indicative only.",
+              what, see),
+          CautionRank::kValidity);
     } else if (f.rfind("not ranked", 0) != 0) {
       other = true;
     }
   }
   if (other) {
     cautions.Add(fmt::format("The best-fitting model, {}, carries notes on its fit{}.", what,
-                             see.empty() ? "" : see));
+                             see.empty() ? "" : see),
+                 CautionRank::kInformation);
   }
 }
 
@@ -736,17 +772,20 @@ void AddMeasurementCautions(const ReportInputs& inputs, CautionList& cautions) {
     const equilibrate::EquilibrateSummary& s = inputs.equilibria->summary;
     if (s.num_not_equilibrated > 0) {
       cautions.Add(fmt::format("{} of {} steps did not meet the equilibrium criterion.",
-                               s.num_not_equilibrated, s.num_steps));
+                               s.num_not_equilibrated, s.num_steps),
+                   CautionRank::kDeviation);
     }
     if (s.num_extrapolated > 0) {
-      cautions.Add(
-          fmt::format("{} of {} steps were extrapolated to their asymptote (flagged in "
-                      "the equilibrium table; the extra uncertainty is included).",
-                      s.num_extrapolated, s.num_steps));
+      cautions.Add(fmt::format("{} of {} steps were extrapolated to their asymptote (flagged in "
+                               "the equilibrium table; the extra uncertainty is included).",
+                               s.num_extrapolated, s.num_steps),
+                   CautionRank::kDeviation);
     }
-    cautions.AddAll(s.warnings);
+    cautions.AddAll(s.warnings, CautionRank::kDeviation);
   }
-  if (inputs.reduced != nullptr) cautions.AddAll(inputs.reduced->summary.warnings);
+  if (inputs.reduced != nullptr) {
+    cautions.AddAll(inputs.reduced->summary.warnings, CautionRank::kDeviation);
+  }
 }
 
 std::vector<std::string> StandingCautions() {
@@ -866,13 +905,18 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
   SetDisplayRules(inputs, layout, sheet);
   sheet.hygroscopicity_relevant = inputs.ingested != nullptr &&
                                   HygroscopicityClassRelevant(inputs.ingested->job.material_class);
-  CautionList cautions{sheet, {}};
+  CautionList cautions{sheet, {}, {}};
   AddInputCautions(inputs, cautions);
   if (inputs.pores != nullptr) {
     AddReferenceMoistures(*inputs.pores, inputs.fits, layout, cautions);
     AddSurfaceAreasAndClass(*inputs.pores, inputs.fits, cautions);
     AddPoreVolumes(*inputs.pores, sheet);
-    cautions.AddAll(inputs.pores->summary.warnings);
+    // The pore section left out by material class is a decision of the method, not a fault.
+    const std::string& omitted = inputs.pores->applicability.reason;
+    for (const Diagnostic& w : inputs.pores->summary.warnings) {
+      cautions.Add(w.message,
+                   w.message == omitted ? CautionRank::kInformation : CautionRank::kDeviation);
+    }
   }
   if (inputs.fits != nullptr) {
     for (size_t i = 0; i < inputs.fits->fits.size(); ++i) {
@@ -892,8 +936,10 @@ Sheet BuildSheet(const ReportInputs& inputs, const Template& layout, const Repor
     cautions.Add(
         "Surface areas are derived from the water-vapour monolayer: they are not comparable with "
         "a nitrogen BET surface area (ISO 9277), since water sorbs on specific sites and can "
-        "enter structures nitrogen does not reach.");
+        "enter structures nitrogen does not reach.",
+        CautionRank::kInformation);
   }
+  cautions.Finish();
   sheet.standing_cautions = StandingCautions();
   sheet.report_number = "draft";
   if (inputs.ingested != nullptr && !inputs.ingested->job.job_id.empty()) {

@@ -231,6 +231,12 @@ struct Letterhead {
   std::string lab_address;
   std::string accreditation;             // "Accredited by BODY, No. NUMBER"; "" if none
   std::vector<std::string> signatories;  // "Name, role"
+  // The laboratory's logo (ingest::LabProfile, checked by ingest::LoadLabLogo): drawn at the
+  // left of the PDF header, inlined in the HTML masthead as a data: URI. Empty: none.
+  std::string logo_bytes;
+  ingest::LabLogoFormat logo_format = ingest::LabLogoFormat::kNone;
+  double logo_aspect = 1.0;   // width / height in pixels
+  SourceLocation logo_where;  // the profile's logo key, for a message about the image
 };
 // The watermark printed on every page of a draft (PDF and HTML).
 inline constexpr char kDraftWatermark[] = "DRAFT";
@@ -367,7 +373,9 @@ struct Sheet {
   // (BET) not evaluated: 2 points between 5 and 35 % RH, at least 3 needed (adsorption,
   // 23 °C; desorption, 23 °C)" (fit::ModelDesign; results.json keeps the machine reason).
   std::vector<std::string> not_evaluated;
-  std::vector<std::string> cautions;           // data-specific cautions (flags, warnings)
+  // Data-specific cautions (flags, warnings), most important first (CautionRank, stable
+  // within a rank): the summary page prints the first ones.
+  std::vector<std::string> cautions;
   std::vector<std::string> standing_cautions;  // the fixed statements of section 8
   std::vector<Diagnostic> warnings;            // the report's own findings (run.log)
   std::string report_number;                   // the job id as printed (running header)
@@ -436,6 +444,17 @@ std::string SurfaceAreaNotHeadlineReason(const fit::IsothermFits* fits,
 // building materials and other classes have no compendial hygroscopicity class (results.json
 // still holds the pores stage's figure).
 bool HygroscopicityClassRelevant(ingest::MaterialClass material_class);
+
+// How much a caution matters to the reader, most important first; given where the caution is
+// collected (BuildSheet) and the order of Sheet::cautions:
+//  - kNotForIssue: the sheet itself may not be issued (DRAFT: no laboratory profile);
+//  - kValidity: a result is not what it seems or may be wrong (input faults, a reference
+//    temperature that was not measured, a best model that fails its checks, a class limit
+//    within the uncertainty);
+//  - kDeviation: the method was not followed as written (steps not equilibrated,
+//    extrapolated or excluded; analyses not made);
+//  - kInformation: how to read a result (bases, comparability, shortened fields).
+enum class CautionRank { kNotForIssue, kValidity, kDeviation, kInformation };
 
 // The record of the stage results (Sheet::record), for a sheet whose rules, model rows and
 // front matter are built.

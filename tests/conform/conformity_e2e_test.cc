@@ -240,6 +240,47 @@ TEST_F(ConformityE2eTest, UnavailableHeadlineGivesNoStatementNeverPass) {
   EXPECT_NE(lime.find("1 to 100 m²/g"), std::string::npos);
 }
 
+// "class at most X" on the excipient demo, whose equilibrium uptake at 25 °C / 80 % RH is about
+// 7.9 ± 0.3 % (the "hygroscopic" class, 2 to 15 %, Ph. Eur. 5.11 limits from conform.h): at most
+// hygroscopic passes, at most slightly hygroscopic (below 2 %) fails under w = U; on the lime
+// demo (measured at 23 °C, not at the class's 25 ± 1 °C) no statement is made.
+TEST_F(ConformityE2eTest, ClassAtMostIsDecidedOnTheUptakeAndItsUncertainty) {
+  const fs::path dir = root_ / "excipient_job";
+  fs::copy(kExamples / "excipient_powder_25C", dir, fs::copy_options::recursive);
+  std::string job = Slurp(dir / "job.toml");
+  job = job.substr(0, job.find("\n# Statements of conformity") + 1) +
+        "\n[[specification]]\nquantity = \"hygroscopicity_class\"\nat_most = \"hygroscopic\"\n"
+        "decision_rule = \"simple_acceptance\"\n"
+        "\n[[specification]]\nquantity = \"hygroscopicity_class\"\n"
+        "at_most = \"slightly hygroscopic\"\ndecision_rule = \"guarded_acceptance\"\n";
+  Spit(dir / "job.toml", job);
+  const CommandRun made = Make(dir / "job.toml", "classes");
+  ASSERT_EQ(made.exit_code, 0) << made.output;
+  const fs::path out = root_ / "classes";
+  const Json results = Json::parse(Slurp(out / "results.json"));
+  ASSERT_EQ(results["hygroscopicity_class"], "hygroscopic");
+  EXPECT_EQ(Statement(out, 0)["decision"], "pass");
+  EXPECT_EQ(Statement(out, 1)["decision"], "fail");
+  const std::string text = CollapseSpaces(PdfText(out / "datasheet.pdf"));
+  EXPECT_NE(text.find("class at most hygroscopic (Ph. Eur. 5.11: mass increase below 15 %)"),
+            std::string::npos)
+      << text.substr(0, 3000);
+  EXPECT_NE(text.find("class at most slightly hygroscopic (Ph. Eur. 5.11: mass increase below "
+                      "2 %)"),
+            std::string::npos);
+  EXPECT_EQ(text.find("hygroscopicity_class"), std::string::npos) << "no key on the sheet";
+
+  const fs::path lime = LimeJob(
+      "\n[[specification]]\nquantity = \"hygroscopicity_class\"\nat_most = \"hygroscopic\"\n"
+      "decision_rule = \"simple_acceptance\"\n");
+  ASSERT_EQ(Make(lime, "lime_class").exit_code, 0);
+  const Json none = Statement(root_ / "lime_class", 0);
+  EXPECT_EQ(none["decision"], "no statement");
+  EXPECT_NE(CollapseSpaces(PdfText(root_ / "lime_class" / "datasheet.pdf"))
+                .find("no statement: not applicable: Ph. Eur. 5.11 classifies at 25 ± 1 °C"),
+            std::string::npos);
+}
+
 TEST_F(ConformityE2eTest, UnknownKeyOrUnitIsALocatedErrorAndNothingIsWritten) {
   const std::string head = "\n[[specification]]\nquantity = ";
   struct Case {

@@ -147,6 +147,68 @@ TEST_F(SpecificationTest, MalformedTablesAreRefusedAtTheirKey) {
   }
 }
 
+// "class at most X": the upper limit of class X in the Ph. Eur. 5.11 table (0.2 / 2 / 15 %
+// mass increase, conform.h; from secondary sources quoting the chapter) on the mass increase.
+TEST_F(SpecificationTest, ClassAtMostBecomesTheClassUpperLimitOnTheMassIncrease) {
+  const JobSpec job = Load(
+      "[[specification]]\nquantity = \"hygroscopicity_class\"\nat_most = \"slightly hygroscopic\"\n"
+      "decision_rule = \"guarded_acceptance\"\ninconclusive_zone = true\n"
+      "[[specification]]\nquantity = \"hygroscopicity_class\"\nat_most = \"hygroscopic\"\n"
+      "decision_rule = \"simple_acceptance\"\n"
+      "[[specification]]\nquantity = \"hygroscopicity_class\"\nat_most = \"non-hygroscopic\"\n"
+      "decision_rule = \"simple_acceptance\"\n");
+  ASSERT_EQ(job.specifications.size(), 3u);
+  const double expected_upper[] = {2.0, 15.0, 0.2};
+  const char* expected_class[] = {"slightly hygroscopic", "hygroscopic", "non-hygroscopic"};
+  for (size_t i = 0; i < 3; ++i) {
+    const Specification& s = job.specifications[i];
+    EXPECT_EQ(s.quantity, "hygroscopicity_mass_increase");
+    EXPECT_EQ(s.class_at_most, expected_class[i]);
+    EXPECT_DOUBLE_EQ(s.limits.upper, expected_upper[i]);
+    EXPECT_TRUE(std::isinf(s.limits.lower) && s.limits.lower < 0);
+    EXPECT_EQ(s.unit, "%");
+  }
+  EXPECT_TRUE(job.specifications[0].decision.non_binary);
+  EXPECT_EQ(job.specifications[0].unit_where.line, FirstLine() + 2);  // the at_most key
+}
+
+TEST_F(SpecificationTest, MalformedClassSpecificationsAreRefusedAtTheirKey) {
+  const std::string q = "[[specification]]\nquantity = \"hygroscopicity_class\"\n";
+  const std::string rule = "decision_rule = \"simple_acceptance\"\n";
+  struct Case {
+    std::string tables;
+    int line_offset;
+    std::string message;
+  };
+  const Case cases[] = {
+      {q + "at_most = \"slightly hygroscopik\"\n" + rule, 2,
+       "'slightly hygroscopik' is not a Ph. Eur. 5.11 hygroscopicity class"},
+      {q + "at_most = \"very hygroscopic\"\n" + rule, 2, "sets no limit"},
+      {q + "at_most = \"deliquescent\"\n" + rule, 2, "is not a Ph. Eur. 5.11"},
+      {q + "at_most = 2\n" + rule, 2, "is not a string"},
+      {q + rule, 0, "missing key 'at_most'"},
+      {q + "at_most = \"hygroscopic\"\nupper_limit = 15\n" + rule, 3,
+       "key 'upper_limit' with quantity = \"hygroscopicity_class\""},
+      {q + "at_most = \"hygroscopic\"\nunit = \"%\"\n" + rule, 3, "key 'unit' with quantity"},
+      {"[[specification]]\nquantity = \"hygroscopicity_mass_increase\"\nat_most = "
+       "\"hygroscopic\"\nunit = \"%\"\n" +
+           rule,
+       2, "key 'at_most' with quantity = \"hygroscopicity_mass_increase\""},
+  };
+  for (const Case& c : cases) {
+    const Diagnostic d = Refused(c.tables);
+    EXPECT_NE(d.message.find(c.message), std::string::npos) << d.message << "\n" << c.tables;
+    EXPECT_EQ(d.where.line, FirstLine() + c.line_offset) << c.tables;
+    EXPECT_GT(d.where.column, 0) << c.tables;
+    EXPECT_FALSE(d.expected.empty()) << c.tables;
+  }
+  // The expected text lists the classes a limit can be set with.
+  const Diagnostic d = Refused(q + "at_most = \"x\"\n" + rule);
+  EXPECT_NE(d.expected.find("\"non-hygroscopic\", \"slightly hygroscopic\", \"hygroscopic\""),
+            std::string::npos)
+      << d.expected;
+}
+
 TEST_F(SpecificationTest, ASingleTableIsNotAnArrayOfTables) {
   const Diagnostic d = Refused(
       "[specification]\nquantity = \"x\"\nupper_limit = 1\nunit = \"%\"\n"

@@ -135,6 +135,8 @@ std::string ExpectedCitation(const std::string& method_key) {
   if (method_key == "iso_12571_desiccator") return "ISO 12571:2021, desiccator method";
   if (method_key == "iso_12571_climatic_chamber") return "ISO 12571:2021, climatic-chamber method";
   if (method_key == "astm_c1498") return "ASTM C1498-04a";
+  // European Pharmacopoeia 2.9.39 (title as the British Pharmacopoeia's Appendix IX M gives it).
+  if (method_key == "ph_eur_2_9_39") return "Ph. Eur. 2.9.39, water-solid interactions";
   return "no standard method named";
 }
 
