@@ -186,13 +186,12 @@ void CsvReader::Refill() {
     if (buffer_.size() >= kMaxCsvLineBytes) {
       // Refused where the limit is passed, before the rest of the line is read: a file that is
       // one endless line (a binary export, /dev/zero copied out) costs at most this much memory.
-      throw InputError(
-          SourceLocation{display_name_, static_cast<int>(line_number_ + 1),
-                         static_cast<int>(end_) + 1},
-          "line " + std::to_string(line_number_ + 1) + " is longer than " +
-              std::to_string(kMaxCsvLineBytes) + " bytes",
-          "lines of at most " + std::to_string(kMaxCsvLineBytes) +
-              " bytes (one reading or weighing per line)");
+      throw InputError(SourceLocation{display_name_, static_cast<int>(line_number_ + 1),
+                                      static_cast<int>(end_) + 1},
+                       "line " + std::to_string(line_number_ + 1) + " is longer than " +
+                           std::to_string(kMaxCsvLineBytes) + " bytes",
+                       "lines of at most " + std::to_string(kMaxCsvLineBytes) +
+                           " bytes (one reading or weighing per line)");
     }
     buffer_.resize(std::min(buffer_.size() * 2, kMaxCsvLineBytes));
   }

@@ -455,8 +455,8 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
   for (auto& [key, members] : members_of) {
     int first_step = members.front()->step_index;
     for (const SpecimenPoint* p : members) first_step = std::min(first_step, p->step_index);
-    groups[Order{std::get<0>(key), std::get<1>(key), std::get<2>(key), first_step,
-                 std::get<3>(key), std::get<4>(key)}] = std::move(members);
+    groups[Order{std::get<0>(key), std::get<1>(key), std::get<2>(key), first_step, std::get<3>(key),
+                 std::get<4>(key)}] = std::move(members);
   }
   // The specimen term of each data set (reduce.h), over its non-drying steps.
   std::map<std::string, std::vector<const std::vector<const SpecimenPoint*>*>> steps_of_dataset;
@@ -489,6 +489,7 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     iso.equilibrated = true;
     for (const SpecimenPoint* p : members) {
       iso.specimen_ids.push_back(p->specimen_id);
+      iso.specimen_point_indices.push_back(static_cast<int>(p - reduced.specimen_points.data()));
       sum_u += p->moisture_kg_per_kg;
       sum_rh += p->rh_fraction;
       sum_urh2 += p->u_rh_fraction * p->u_rh_fraction;

@@ -215,6 +215,10 @@ struct IsothermPoint {
   std::vector<BudgetLine> moisture_budget;
   int num_specimens = 0;
   std::vector<std::string> specimen_ids;
+  // The specimen points combined here: indices into ReducedIsotherms::specimen_points (the one
+  // record of which specimen point belongs to which isotherm point; later stages read it
+  // rather than matching step numbers, which differ between specimens).
+  std::vector<int> specimen_point_indices;
   bool has_volumetric = false;
   double volumetric_m3_per_m3 = 0.0;  // u * rho_dry / rho_water, when a density is given
   double u_volumetric_m3_per_m3 = 0.0;
