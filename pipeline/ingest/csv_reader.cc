@@ -16,7 +16,7 @@
 namespace sorbtrace::ingest::internal {
 namespace {
 
-// Chunk read at a time; lines longer than this grow the buffer.
+// Chunk read at a time; lines longer than this grow the buffer up to kMaxCsvLineBytes.
 constexpr std::size_t kChunkBytes = std::size_t{1} << 20;
 
 bool IsBlankRecord(std::string_view line, char delimiter) {
@@ -114,9 +114,11 @@ SourceLocation CsvReader::Where(int column) const {
 }
 
 std::string CsvReader::CapEchoes(std::string message) const {
+  // Long text is cut, and text with control bytes or invalid UTF-8 escaped, wherever the
+  // message quotes it (a short cell of stray bytes would otherwise reach the terminal raw).
   const auto shorten = [&message](std::string_view text) {
-    if (text.size() <= kMaxExcerptChars) return;
     const std::string excerpt = Excerpt(text);
+    if (excerpt == text) return;
     for (std::size_t at = message.find(text); at != std::string::npos;
          at = message.find(text, at + excerpt.size())) {
       message.replace(at, text.size(), excerpt);
@@ -180,7 +182,19 @@ void CsvReader::Refill() {
   if (begin_ > 0 && remaining > 0) std::memmove(buffer_.data(), buffer_.data() + begin_, remaining);
   begin_ = 0;
   end_ = remaining;
-  if (end_ == buffer_.size()) buffer_.resize(buffer_.size() * 2);  // a very long line
+  if (end_ == buffer_.size()) {  // one line fills the whole buffer
+    if (buffer_.size() >= kMaxCsvLineBytes) {
+      // Refused where the limit is passed, before the rest of the line is read: a file that is
+      // one endless line (a binary export, /dev/zero copied out) costs at most this much memory.
+      throw InputError(SourceLocation{display_name_, static_cast<int>(line_number_ + 1),
+                                      static_cast<int>(end_) + 1},
+                       "line " + std::to_string(line_number_ + 1) + " is longer than " +
+                           std::to_string(kMaxCsvLineBytes) + " bytes",
+                       "lines of at most " + std::to_string(kMaxCsvLineBytes) +
+                           " bytes (one reading or weighing per line)");
+    }
+    buffer_.resize(std::min(buffer_.size() * 2, kMaxCsvLineBytes));
+  }
   const std::size_t got = std::fread(buffer_.data() + end_, 1, buffer_.size() - end_, file_);
   if (got == 0) {
     if (std::ferror(file_)) {

@@ -24,6 +24,11 @@ namespace sorbtrace::ingest::internal {
 inline constexpr double kMinPlausibleTemperature_K = 223.15;
 inline constexpr double kMaxPlausibleTemperature_K = 423.15;
 
+// Longest line a data file may hold (README, "Limits of inputs"). A balance log line is under
+// 100 bytes and a weighing with a long note a few hundred; 1 MiB is far above any real line and
+// bounds the memory a line without end can take (the whole line must be held to split it).
+inline constexpr std::size_t kMaxCsvLineBytes = std::size_t{1} << 20;  // 1 MiB
+
 // Result of parsing one decimal number.
 enum class NumberStatus { kOk, kEmpty, kNotANumber, kNotFinite, kOutOfRange };
 

@@ -135,6 +135,26 @@ void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir, 
 // Plausibility rule R7 (plausibility.h): RH-sensor and temperature uncertainties within what
 // the instruments can have; where the balance keys are, for the balance bound checked once the
 // masses are read.
+// An identifier the sheet prints and the files refer to (report number, dataset or specimen
+// id): at least one visible character and no control characters (a line break in a report
+// number would break the running header of every page and the CSV rows that quote it).
+std::string ReadIdentifier(const JobFileReader& in, const toml::table& table,
+                           std::string_view section, std::string_view what) {
+  const std::string id = *in.String(table, section, "id", true);
+  const bool blank = id.find_first_not_of(" \t") == std::string::npos;
+  const bool control = std::any_of(id.begin(), id.end(), [](char c) {
+    const auto byte = static_cast<unsigned char>(c);
+    return byte < 0x20 || byte == 0x7f;
+  });
+  if (blank || control) {
+    in.Fail(*table.get("id"),
+            std::string(what) + " '" + Excerpt(id) + "' is " +
+                (blank ? "empty" : "not printable (control characters)"),
+            "a non-empty " + std::string(what) + " of printable characters");
+  }
+  return id;
+}
+
 void CheckUncertaintyBounds(const JobFileReader& in, const toml::table& measurement, JobSpec* job) {
   const auto bound = [&](std::string_view key, double value, double limit, std::string_view unit) {
     if (value <= limit) return;
@@ -384,7 +404,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
                {"id", "issue_date", "template", "test_dates", "allow_data_outside_job_folder",
                 "material_class", "method", "lab_profile", "location", "revision", "supersedes",
                 "revision_reason"});
-  job.job_id = *in.String(job_table, "[job]", "id", true);
+  job.job_id = ReadIdentifier(in, job_table, "[job]", "report number (id)");
   job.issue_date = *in.String(job_table, "[job]", "issue_date", true);
   if (!internal::IsIsoDate(job.issue_date)) {
     in.Fail(*job_table.get("issue_date"),
@@ -471,9 +491,8 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
     constexpr std::string_view kS = "[[specimen]]";
     in.CheckKeys(table, kS, {"id", "dry_mass_g", "bulk_density_kg_per_m3"});
     SpecimenSpec specimen;
-    specimen.id = *in.String(table, kS, "id", true);
+    specimen.id = ReadIdentifier(in, table, kS, "specimen id");
     specimen.where = in.At(table);
-    if (specimen.id.empty()) in.Fail(*table.get("id"), "empty specimen id", "a non-empty id");
     for (const SpecimenSpec& other : job.specimens) {
       if (other.id == specimen.id) {
         in.Fail(*table.get("id"),
@@ -501,7 +520,7 @@ JobSpec LoadJobSpec(const std::filesystem::path& job_file) {
                   "datetime_format", "mass_unit", "rh_unit", "time_unit", "temperature_unit"});
     DataSetSpec dataset;
     dataset.where = in.At(table);
-    dataset.id = *in.String(table, kD, "id", true);
+    dataset.id = ReadIdentifier(in, table, kD, "dataset id");
     for (const DataSetSpec& other : job.datasets) {
       if (other.id == dataset.id) {
         in.Fail(*table.get("id"),

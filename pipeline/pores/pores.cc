@@ -318,11 +318,8 @@ void StepwisePoints(const fit::FitGroup& group, const reduce::ReducedIsotherms& 
       const reduce::IsothermPoint& point = reduced.points[static_cast<std::size_t>(index)];
       p.u_moisture_kg_per_kg = point.u_moisture_kg_per_kg;
       std::vector<const reduce::SpecimenPoint*> members;
-      for (const reduce::SpecimenPoint& s : reduced.specimen_points) {
-        if (!s.excluded && s.dataset_id == point.dataset_id && s.step_index == point.step_index &&
-            s.cycle == point.cycle && s.branch == point.branch) {
-          members.push_back(&s);
-        }
+      for (const int member : point.specimen_point_indices) {
+        members.push_back(&reduced.specimen_points[static_cast<std::size_t>(member)]);
       }
       const double n = static_cast<double>(members.size());
       for (const reduce::SpecimenPoint* s : members) {

@@ -434,20 +434,35 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     reduced.specimen_points.push_back(std::move(point));
   }
 
-  // Group the included specimen points per step.
-  using Key = std::tuple<int, int, int, int, std::string, std::string>;
-  std::map<Key, std::vector<const SpecimenPoint*>> groups;
+  // Group the included specimen points per step: one condition of a data set (cycle, branch,
+  // atmosphere, and how often the specimen met that atmosphere in that branch and cycle
+  // before), whatever number the step has in each specimen's own sequence (a specimen with
+  // an oven step first numbers its humidity steps one higher than one with a stated dry mass).
+  using Key = std::tuple<int, int, int, std::string, int>;
+  std::map<Key, std::vector<const SpecimenPoint*>> members_of;
+  std::map<std::tuple<std::string, std::string, int, int, std::string>, int> seen;
   for (const auto& point : reduced.specimen_points) {
+    const int occurrence = seen[{point.dataset_id, point.specimen_id, point.cycle,
+                                 BranchOrder(point.branch), point.step_label}]++;
     if (point.excluded) continue;
-    groups[Key{order_of(point.dataset_id), point.cycle, BranchOrder(point.branch), point.step_index,
-               point.step_label, point.dataset_id}]
+    members_of[Key{order_of(point.dataset_id), point.cycle, BranchOrder(point.branch),
+                   point.step_label, occurrence}]
         .push_back(&point);
+  }
+  // In measurement order: data set, cycle, branch, then the earliest step number of the group.
+  using Order = std::tuple<int, int, int, int, std::string, int>;
+  std::map<Order, std::vector<const SpecimenPoint*>> groups;
+  for (auto& [key, members] : members_of) {
+    int first_step = members.front()->step_index;
+    for (const SpecimenPoint* p : members) first_step = std::min(first_step, p->step_index);
+    groups[Order{std::get<0>(key), std::get<1>(key), std::get<2>(key), first_step, std::get<3>(key),
+                 std::get<4>(key)}] = std::move(members);
   }
   // The specimen term of each data set (reduce.h), over its non-drying steps.
   std::map<std::string, std::vector<const std::vector<const SpecimenPoint*>*>> steps_of_dataset;
   for (const auto& [key, members] : groups) {
     if (members.front()->branch == ingest::Branch::kDrying) continue;
-    steps_of_dataset[std::get<5>(key)].push_back(&members);
+    steps_of_dataset[members.front()->dataset_id].push_back(&members);
   }
   std::map<std::string, int> term_of_dataset;
   for (const auto& [dataset_id, steps] : steps_of_dataset) {
@@ -474,6 +489,7 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     iso.equilibrated = true;
     for (const SpecimenPoint* p : members) {
       iso.specimen_ids.push_back(p->specimen_id);
+      iso.specimen_point_indices.push_back(static_cast<int>(p - reduced.specimen_points.data()));
       sum_u += p->moisture_kg_per_kg;
       sum_rh += p->rh_fraction;
       sum_urh2 += p->u_rh_fraction * p->u_rh_fraction;

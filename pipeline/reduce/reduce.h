@@ -1,7 +1,9 @@
 // Reduce stage: equilibrium masses -> moisture content on a dry basis, u = (m - m_dry)/m_dry
 // [kg/kg], with a GUM (JCGM 100:2008) uncertainty budget per point: balance, dry mass, RH of
 // the step (salt table or sensor), temperature effect on RH, extrapolation. Several specimens
-// are combined per step: mean, between-specimen standard deviation, combined uncertainty.
+// are combined per step: mean, between-specimen standard deviation, combined uncertainty. A
+// step is one condition of a data set (cycle, branch, atmosphere, and its repetition within
+// them): specimens whose own step numbers differ (one dried in the oven first) are combined.
 //
 // Budget of one specimen point (JCGM 100:2008, Eq. 10, inputs taken as uncorrelated):
 //   u = (m - m_d) / m_d,  c_m = du/dm = 1/m_d,  c_md = du/dm_d = -m/m_d^2
@@ -213,6 +215,10 @@ struct IsothermPoint {
   std::vector<BudgetLine> moisture_budget;
   int num_specimens = 0;
   std::vector<std::string> specimen_ids;
+  // The specimen points combined here: indices into ReducedIsotherms::specimen_points (the one
+  // record of which specimen point belongs to which isotherm point; later stages read it
+  // rather than matching step numbers, which differ between specimens).
+  std::vector<int> specimen_point_indices;
   bool has_volumetric = false;
   double volumetric_m3_per_m3 = 0.0;  // u * rho_dry / rho_water, when a density is given
   double u_volumetric_m3_per_m3 = 0.0;

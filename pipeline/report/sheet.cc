@@ -252,12 +252,8 @@ PointBudget CombinedPointBudget(const reduce::ReducedIsotherms& reduced,
   PointBudget budget;
   // The moisture budget is the reduce stage's own (its combination rule lives there).
   budget.moisture = point.moisture_budget;
-  for (const reduce::SpecimenPoint& sp : reduced.specimen_points) {
-    if (sp.excluded || sp.dataset_id != point.dataset_id || sp.cycle != point.cycle ||
-        sp.branch != point.branch || sp.step_index != point.step_index ||
-        sp.step_label != point.step_label) {
-      continue;
-    }
+  for (const int index : point.specimen_point_indices) {
+    const reduce::SpecimenPoint& sp = reduced.specimen_points[static_cast<std::size_t>(index)];
     budget.specimen_ids.push_back(sp.specimen_id);
     for (const reduce::BudgetLine& line : sp.rh_budget) Accumulate(budget.rh, line);
   }

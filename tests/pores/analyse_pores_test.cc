@@ -251,6 +251,7 @@ TEST(AnalysePores, StepwiseDrawsTheDryMassOncePerDrawForAllSteps) {
     point.rh_fraction = o.x[0];
     point.moisture_kg_per_kg = o.y;
     point.u_moisture_kg_per_kg = (1.0 + o.y) * kRelativeDryMassU;
+    point.specimen_point_indices = {static_cast<int>(reduced.specimen_points.size())};
     reduced.points.push_back(point);
     group.point_indices[i] = static_cast<int>(i);
     reduce::SpecimenPoint specimen;

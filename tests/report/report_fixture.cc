@@ -424,8 +424,10 @@ ReportFixture MakeReportFixture() {
     double sum = 0.0, sum2 = 0.0, u2 = 0.0;
     int n = 0;
     bool all_eq = true;
-    for (const reduce::SpecimenPoint& p : fx.reduced.specimen_points) {
+    for (std::size_t k = 0; k < fx.reduced.specimen_points.size(); ++k) {
+      const reduce::SpecimenPoint& p = fx.reduced.specimen_points[k];
       if (p.step_index != st.index) continue;
+      ip.specimen_point_indices.push_back(static_cast<int>(k));
       sum += p.moisture_kg_per_kg;
       sum2 += p.moisture_kg_per_kg * p.moisture_kg_per_kg;
       u2 += p.u_moisture_kg_per_kg * p.u_moisture_kg_per_kg;
