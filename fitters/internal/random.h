@@ -12,6 +12,20 @@
 
 namespace sorbtrace::fitters::internal {
 
+// The initial state of the random stream of draw `index` (0, 1, 2, ...) of a resampling run
+// seeded with `seed`: output index + 1 of SplitMix64 started at `seed`, i.e. the SplitMix64
+// finaliser of seed + (index + 1) * 0x9E3779B97F4A7C15 (S. Vigna, splitmix64.c, public domain,
+// prng.di.unimi.it; the generator of G. L. Steele, D. Lea, C. H. Flood, "Fast splittable
+// pseudorandom number generators", OOPSLA 2014). Each draw then owns its stream, so what it
+// draws depends on (seed, index) alone, not on which thread runs it or in which order.
+constexpr std::uint64_t DrawStreamState(std::uint64_t seed, std::uint64_t index) {
+  constexpr std::uint64_t kGoldenGamma = 0x9E3779B97F4A7C15ULL;
+  std::uint64_t z = seed + (index + 1) * kGoldenGamma;
+  z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
+  z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
+  return z ^ (z >> 31);
+}
+
 class Random {
  public:
   explicit Random(std::uint64_t state) : engine_(state) {}
