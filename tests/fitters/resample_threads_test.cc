@@ -68,6 +68,30 @@ TEST(DrawStreamStateTest, IsSplitMix64OfSeedAndIndex) {
   EXPECT_NE(internal::DrawStreamState(20261201, 7), internal::DrawStreamState(20261201, 8));
 }
 
+// xoshiro256** from the state {1, 2, 3, 4}: the first ten outputs of the reference code
+// xoshiro256starstar.c (D. Blackman, S. Vigna; values as in the test vectors of Rust's
+// rand_xoshiro crate, from memory).
+TEST(DrawStreamStateTest, Xoshiro256StarStarMatchesTheReferenceOutputs) {
+  internal::Xoshiro256StarStar engine = internal::Xoshiro256StarStar::FromState(1, 2, 3, 4);
+  const std::uint64_t expected[] = {11520ULL,
+                                    0ULL,
+                                    1509978240ULL,
+                                    1215971899390074240ULL,
+                                    1216172134540287360ULL,
+                                    607988272756665600ULL,
+                                    16172922978634559625ULL,
+                                    8476171486693032832ULL,
+                                    10595114339597558777ULL,
+                                    2904607092377533576ULL};
+  for (const std::uint64_t value : expected) EXPECT_EQ(engine(), value);
+  // Seeded by a number: four SplitMix64 outputs of it fill the state.
+  internal::Xoshiro256StarStar seeded(0);
+  internal::Xoshiro256StarStar same = internal::Xoshiro256StarStar::FromState(
+      0xE220A8397B1DCDAFULL, 0x6E789E6AA1B965F4ULL, 0x06C45D188009454FULL,
+      internal::SplitMix64Output(4 * internal::kGoldenGamma));
+  for (int i = 0; i < 4; ++i) EXPECT_EQ(seeded(), same());
+}
+
 // GAB with errors in variables and a specimen-like common factor on every point, each kind of
 // resampling, 1, 2 and 3 threads: the same result, bit for bit.
 TEST(ResampleThreadsTest, ResultIsTheSameForAnyNumberOfThreads) {
