@@ -63,11 +63,8 @@ void SolveLeastSquaresByHouseholderQr(int m, int p, double* a, double* b, double
   }
 }
 
-// Solves N x = v in place for a symmetric positive definite p x p column-major N (only its
-// lower triangle is read; L overwrites it) by Cholesky (Golub & Van Loan, Matrix Computations,
-// 4th ed., alg. 4.2.1); x overwrites v. False for a non-positive or non-finite pivot.
 // Solves L L' x = v for the Cholesky factor L that SolveByCholeskyInPlace left in the lower
-// triangle of `factor`; x overwrites v.
+// triangle of `factor` (forward then back substitution); x overwrites v.
 void SolveWithCholeskyFactor(int p, const double* factor, double* v) {
   const auto at = [&](int r, int c) { return factor[static_cast<std::ptrdiff_t>(c) * p + r]; };
   for (int j = 0; j < p; ++j) {
@@ -82,6 +79,10 @@ void SolveWithCholeskyFactor(int p, const double* factor, double* v) {
   }
 }
 
+// Solves N x = v in place for a symmetric positive definite p x p column-major N (only its
+// lower triangle is read; L overwrites it) by Cholesky (Golub & Van Loan, Matrix Computations,
+// 4th ed., alg. 4.2.1), then SolveWithCholeskyFactor; x overwrites v. False for a non-positive
+// or non-finite pivot.
 bool SolveByCholeskyInPlace(int p, double* normal, double* v) {
   const auto at = [&](int r, int c) -> double& {
     return normal[static_cast<std::ptrdiff_t>(c) * p + r];
@@ -98,16 +99,7 @@ bool SolveByCholeskyInPlace(int p, double* normal, double* v) {
       at(r, j) = sum / root;
     }
   }
-  for (int j = 0; j < p; ++j) {
-    double sum = v[j];
-    for (int l = 0; l < j; ++l) sum -= at(j, l) * v[l];
-    v[j] = sum / at(j, j);
-  }
-  for (int j = p - 1; j >= 0; --j) {
-    double sum = v[j];
-    for (int r = j + 1; r < p; ++r) sum -= at(r, j) * v[r];
-    v[j] = sum / at(j, j);
-  }
+  SolveWithCholeskyFactor(p, normal, v);
   return true;
 }
 

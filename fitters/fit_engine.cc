@@ -51,7 +51,7 @@ std::string CheckObservations(const Model& model, const std::vector<Observation>
 std::vector<std::vector<double>> ExpandStarts(const std::vector<std::vector<double>>& base,
                                               const ModelInfo& info, int num_multistarts) {
   std::vector<std::vector<double>> starts;
-  internal::Random random(kMultistartStream);
+  internal::MultistartRandom random(kMultistartStream);
   for (const std::vector<double>& point : base) {
     starts.push_back(point);
     for (int k = 0; k < num_multistarts; ++k) {

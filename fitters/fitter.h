@@ -216,12 +216,18 @@ struct ResampleOptions {
   // is an eighth of the Monte Carlo error of a 2.5 % percentile from 1000 resamples (about
   // 0.085 standard errors for a normal spread: sqrt(0.025 * 0.975 / 1000) / phi(1.96)).
   double refit_tolerance_se = 0.01;
+  // Threads that run the refits (the calling one included; at most num_resamples). Each draw
+  // has its own random stream (see Resample), so the result is the same, bit for bit, for every
+  // value.
+  int num_threads = 1;
 };
 
 // Percentile intervals of the parameters from resampled refits
-// (warm-started from the full-data solution, no multi-starts). Draws come from one
-// std::mt19937_64 stream whose initial state is ResampleOptions::seed, with our own
-// uniform/Box-Muller transforms.
+// (warm-started from the full-data solution, no multi-starts). Draw b (b = 0, 1, ...) comes from
+// a std::mt19937_64 stream of its own whose initial state is
+// internal::DrawStreamState(ResampleOptions::seed, b) (SplitMix64 of seed and index,
+// fitters/internal/random.h), with our own uniform/Box-Muller transforms; the draws are refitted
+// on ResampleOptions::num_threads threads and collected in draw order.
 //  - residual bootstrap: weighted residuals e_i = (y_i - f_i) / sigma_i, divided by
 //    sqrt(1 - h_i) with h_i the leverage of point i in the fit linearised at the solution, and
 //    centred: the modified residuals of Davison & Hinkley 1997, Bootstrap Methods and their

@@ -1,11 +1,16 @@
-// Resample: residual and case bootstrap and JCGM 101 Monte Carlo, each draw refitted on one
-// reused FitWorkspace (its dense solver, or its ceres::Problem) warm-started at the full-data
-// solution.
+// Resample: residual and case bootstrap and JCGM 101 Monte Carlo, each draw from its own random
+// stream and refitted on a reused FitWorkspace (its dense solver, or its ceres::Problem) of the
+// thread that runs it, warm-started at the full-data solution.
 #include <Eigen/Cholesky>
 #include <algorithm>
+#include <atomic>
 #include <cmath>
+#include <exception>
 #include <limits>
+#include <memory>
 #include <numeric>
+#include <system_error>
+#include <thread>
 
 #include "fitters/fitter.h"
 #include "fitters/internal/fit_workspace.h"
@@ -219,6 +224,82 @@ ResidualPool OrthogonalResiduals(const Model& model, const std::vector<Observati
   return pool;
 }
 
+// What one resampled refit gave, kept per draw so the draws can be assembled in draw order.
+struct DrawOutcome {
+  bool converged = false;
+  int iterations = 0;
+  std::vector<double> parameters;  // the refit (when converged)
+  std::vector<double> pivots;      // its studentised pivots (empty: none formed)
+};
+
+// One thread's refit machinery: its own workspace and warm-start work storage, reused from
+// draw to draw.
+struct DrawWorker {
+  DrawWorker(const Model& model, const std::vector<Observation>& observations,
+             const ModelContext& context, const FitOptions& refit_options,
+             const WarmStart& linearised, const std::vector<double>& first_start)
+      : workspace(model, observations, context, refit_options),
+        warm(linearised),
+        start(first_start),
+        drawn_y(observations.size(), 0.0),
+        drawn_x(observations.size(), 0.0),
+        x0_start(observations.size(), 0.0),
+        shift(observations.size(), 0.0),
+        source(observations.size(), 0) {}
+  internal::FitWorkspace workspace;
+  WarmStart warm;
+  std::vector<double> start, drawn_y, drawn_x, x0_start, shift;
+  std::vector<std::size_t> source;
+  Eigen::MatrixXd covariance;
+};
+
+// Runs run_draw(b, worker, outcome_b) for b = 0 .. count - 1 on up to num_threads threads (the
+// calling thread and num_threads - 1 more), each thread taking the next draw not yet taken and
+// working on a DrawWorker of its own (all made here, before any thread starts, so a failure to
+// make one throws as it did without threads). The outcomes do not depend on the number of
+// threads as long as a draw depends on its index alone. An exception thrown by a draw is
+// rethrown here, that of the lowest draw index, after every thread has ended (draws after it are
+// skipped: with one thread they would never have run). A thread that cannot be started leaves
+// its draws to the others.
+template <typename MakeWorker, typename RunDraw>
+std::vector<DrawOutcome> RunDraws(int count, int num_threads, const MakeWorker& make_worker,
+                                  const RunDraw& run_draw) {
+  std::vector<DrawOutcome> outcomes(static_cast<std::size_t>(std::max(0, count)));
+  const int threads = std::clamp(num_threads, 1, std::max(1, count));
+  std::vector<std::unique_ptr<DrawWorker>> workers;
+  for (int t = 0; t < threads; ++t) workers.push_back(make_worker());
+  std::vector<std::exception_ptr> errors(outcomes.size());
+  std::atomic<int> next{0};
+  std::atomic<int> first_error{count};
+  const auto work = [&](DrawWorker* worker) {
+    for (int b = next.fetch_add(1); b < count && b < first_error.load(); b = next.fetch_add(1)) {
+      const std::size_t slot = static_cast<std::size_t>(b);
+      try {
+        run_draw(b, *worker, outcomes[slot]);
+      } catch (...) {
+        errors[slot] = std::current_exception();
+        int seen = first_error.load();
+        while (b < seen && !first_error.compare_exchange_weak(seen, b)) {
+        }
+      }
+    }
+  };
+  std::vector<std::thread> pool;
+  for (int t = 1; t < threads; ++t) {
+    try {
+      pool.emplace_back(work, workers[static_cast<std::size_t>(t)].get());
+    } catch (const std::system_error&) {
+      break;  // no more threads: the started ones and this one take every draw
+    }
+  }
+  work(workers.front().get());
+  for (std::thread& thread : pool) thread.join();
+  if (first_error.load() < count) {
+    std::rethrow_exception(errors[static_cast<std::size_t>(first_error.load())]);
+  }
+  return outcomes;
+}
+
 }  // namespace
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
@@ -268,9 +349,6 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
       refit_options.parameter_scale.push_back(e.standard_error);
     }
   }
-  internal::FitWorkspace workspace(model, observations, context, refit_options);
-  internal::Random random(options.seed);
-
   // Residual bootstrap: each refit starts one Gauss-Newton step away from the full-data
   // solution (p_hat, t_hat), computed from the full-data Jacobian for the drawn residuals, so
   // the refit begins within second order of its optimum. Point i has y residual
@@ -280,24 +358,21 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   // step in t_i leaves the row a_i c_i / g_i and residual (c_i r_yi - b_i r_xi) / g_i with
   // g_i = sqrt(b_i^2 + c_i^2) (a_i and r_yi alone without a fitted t_i); then
   // s_p = -(A'A)^-1 A' r and s_ti = -(b_i (r_yi + a_i s_p) + c_i r_xi) / g_i^2.
-  WarmStart warm;
+  WarmStart warm_start;
   if (options.kind == ResampleKind::kResidualBootstrap) {
-    warm = LinearisedWarmStart(model, observations, context, full_fit, fit_options);
+    warm_start = LinearisedWarmStart(model, observations, context, full_fit, fit_options);
   }
   // The residual bootstrap's pool: each point's signed orthogonal residual, corrected for its
   // leverage and centred (see fitter.h), and the direction it is put back along.
   ResidualPool pool;
   if (options.kind == ResampleKind::kResidualBootstrap) {
-    pool = OrthogonalResiduals(model, observations, context, full_fit, warm.leverage);
+    pool = OrthogonalResiduals(model, observations, context, full_fit, warm_start.leverage);
   }
-  std::vector<double> start = full_fit.parameters;
-  std::vector<double> drawn_y(n, 0.0), drawn_x(n, 0.0);
 
   // Full-data standard errors in the studentised form, s sqrt([(J'J)^-1]_jj), from the fit's
   // own: under kRelative they are that already, under kAbsolute they lack the factor s.
   const bool studentize = options.kind != ResampleKind::kMonteCarloInputs;
   std::vector<double> se_hat(pp, kNaN);
-  Eigen::MatrixXd covariance;
   if (studentize && full_fit.summary.covariance_available && full_fit.estimates.size() == pp) {
     const double s_hat = std::sqrt(full_fit.statistics.weighted_ssr / dof);
     for (std::size_t j = 0; j < pp; ++j) {
@@ -307,16 +382,25 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   const bool studentize_ok = studentize && std::all_of(se_hat.begin(), se_hat.end(), [](double se) {
                                return std::isfinite(se) && se > 0.0;
                              });
-  std::vector<std::vector<double>> pivots(studentize_ok ? pp : 0);
-  std::vector<double> x0_start(n);
-  std::vector<std::size_t> source(n);
   // Relative shift sum_k w_ik z_k of each observation in this resample (common factors).
   const bool common = std::any_of(
       options.common_factors.begin(), options.common_factors.end(), [n](const CommonFactor& f) {
         return f.weights.size() == n && f.relative_standard_uncertainty > 0.0;
       });
-  std::vector<double> shift(n, 0.0);
-  for (int b = 0; b < num_resamples; ++b) {
+
+  // Draw b: its data from its own random stream (internal::DrawStreamState), its refit on the
+  // worker's workspace (every Solve starts afresh from the given start: no state carries over
+  // from the draw before), its outcome in its own slot.
+  const auto run_draw = [&](int b, DrawWorker& worker, DrawOutcome& outcome) {
+    internal::Random random(internal::DrawStreamState(options.seed, static_cast<std::uint64_t>(b)));
+    internal::FitWorkspace& workspace = worker.workspace;
+    WarmStart& warm = worker.warm;
+    std::vector<double>& start = worker.start;
+    std::vector<double>& drawn_y = worker.drawn_y;
+    std::vector<double>& drawn_x = worker.drawn_x;
+    std::vector<double>& x0_start = worker.x0_start;
+    std::vector<std::size_t>& source = worker.source;
+    std::vector<double>& shift = worker.shift;
     if (common) {
       std::fill(shift.begin(), shift.end(), 0.0);
       for (const CommonFactor& factor : options.common_factors) {
@@ -365,31 +449,51 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
         break;
     }
     workspace.DataChanged();
-    const internal::SolveOutcome outcome =
+    const internal::SolveOutcome solved =
         workspace.Solve(warm.usable ? start : full_fit.parameters, &x0_start);
-    result.refit_iterations += outcome.iterations;
-    if (outcome.converged) {
-      result.parameter_draws.push_back(workspace.parameters());
-      double weighted_ssr = 0.0;
-      if (studentize_ok && workspace.LastSolveCovariance(&covariance, &weighted_ssr)) {
-        const double s2 = weighted_ssr / dof;
-        const std::vector<double>& draw = result.parameter_draws.back();
-        bool usable = std::isfinite(s2) && s2 > 0.0;
-        for (std::size_t j = 0; j < pp && usable; ++j) {
+    outcome.iterations = solved.iterations;
+    outcome.converged = solved.converged;
+    if (!solved.converged) return;
+    outcome.parameters = workspace.parameters();
+    double weighted_ssr = 0.0;
+    Eigen::MatrixXd& covariance = worker.covariance;
+    if (studentize_ok && workspace.LastSolveCovariance(&covariance, &weighted_ssr)) {
+      const double s2 = weighted_ssr / dof;
+      bool usable = std::isfinite(s2) && s2 > 0.0;
+      for (std::size_t j = 0; j < pp && usable; ++j) {
+        const Eigen::Index jj = static_cast<Eigen::Index>(j);
+        usable = covariance(jj, jj) > 0.0;
+      }
+      if (usable) {
+        outcome.pivots.resize(pp);
+        for (std::size_t j = 0; j < pp; ++j) {
           const Eigen::Index jj = static_cast<Eigen::Index>(j);
-          usable = covariance(jj, jj) > 0.0;
-        }
-        if (usable) {
-          for (std::size_t j = 0; j < pp; ++j) {
-            const Eigen::Index jj = static_cast<Eigen::Index>(j);
-            pivots[j].push_back((draw[j] - full_fit.parameters[j]) /
-                                std::sqrt(s2 * covariance(jj, jj)));
-          }
-          ++result.num_studentized;
+          outcome.pivots[j] =
+              (outcome.parameters[j] - full_fit.parameters[j]) / std::sqrt(s2 * covariance(jj, jj));
         }
       }
-    } else {
+    }
+  };
+  const std::vector<DrawOutcome> outcomes = RunDraws(
+      num_resamples, options.num_threads,
+      [&] {
+        return std::make_unique<DrawWorker>(model, observations, context, refit_options, warm_start,
+                                            full_fit.parameters);
+      },
+      run_draw);
+
+  // In draw order, so the result does not depend on the number of threads.
+  std::vector<std::vector<double>> pivots(studentize_ok ? pp : 0);
+  for (const DrawOutcome& outcome : outcomes) {
+    result.refit_iterations += outcome.iterations;
+    if (!outcome.converged) {
       ++result.num_failed;
+      continue;
+    }
+    result.parameter_draws.push_back(outcome.parameters);
+    if (outcome.pivots.size() == pp && studentize_ok) {
+      for (std::size_t j = 0; j < pp; ++j) pivots[j].push_back(outcome.pivots[j]);
+      ++result.num_studentized;
     }
   }
 

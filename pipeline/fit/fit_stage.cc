@@ -10,6 +10,7 @@
 #include <cmath>
 #include <exception>
 #include <set>
+#include <thread>
 #include <utility>
 
 #include "fitters/models/bet.h"
@@ -333,6 +334,7 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     resample.common_factors.push_back({factor.relative_standard_uncertainty, factor.weights});
   }
   resample.refit_tolerance_se = options.refit_tolerance_se;
+  resample.num_threads = ThreadsToUse(options.threads);
   if (options.bootstrap_resamples > 0) {
     resample.kind = options.bootstrap_kind;
     resample.num_resamples = options.bootstrap_resamples;
@@ -441,6 +443,7 @@ bool FitStageOptions::IsValid(std::string* error) const {
   if (!(resample_tolerance > 0.0 && resample_tolerance < 1.0)) {
     return fail(fmt::format("resample_tolerance = {} must be in (0, 1)", resample_tolerance));
   }
+  if (threads < 0) return fail(fmt::format("threads = {} must be >= 0", threads));
   if (bootstrap_resamples < 0) {
     return fail(fmt::format("bootstrap_resamples = {} must be >= 0", bootstrap_resamples));
   }
@@ -470,6 +473,12 @@ bool FitStageOptions::IsValid(std::string* error) const {
     return fail(fmt::format("confidence_level = {} must be in (0, 1)", confidence_level));
   }
   return true;
+}
+
+int ThreadsToUse(int requested) {
+  if (requested > 0) return requested;
+  const unsigned hardware = std::thread::hardware_concurrency();  // 0 when not known
+  return std::clamp(static_cast<int>(hardware), 1, kMaxAutomaticThreads);
 }
 
 int MinimumPoints(int num_parameters) {

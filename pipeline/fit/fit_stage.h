@@ -51,6 +51,10 @@ struct FitStageOptions {
   fitters::ResampleKind bootstrap_kind = fitters::ResampleKind::kResidualBootstrap;
   int monte_carlo_draws = 1000;  // JCGM 101 propagation of input uncertainties (0 = off)
   std::uint64_t seed = 20261201;
+  // Threads that run the bootstrap and Monte Carlo refits: 0 = automatic (ThreadsToUse), else
+  // that many. The results are the same, bit for bit, for every value: each draw has its own
+  // random stream (fitters::ResampleOptions::num_threads).
+  int threads = 0;
   int band_grid_points = 200;
   double band_rh_min_fraction = 0.0;
   double band_rh_max_fraction = 0.98;
@@ -64,6 +68,15 @@ struct FitStageOptions {
 
   bool IsValid(std::string* error) const;
 };
+
+// FitStageOptions::threads = 0 uses the hardware's concurrency up to this many threads: the
+// reference machine has 2 cores, and `sorbtrace batch -j N` already runs jobs side by side
+// (more can be asked for explicitly).
+inline constexpr int kMaxAutomaticThreads = 2;
+
+// The number of threads `requested` (FitStageOptions::threads) stands for: itself when > 0,
+// else std::thread::hardware_concurrency() capped at kMaxAutomaticThreads (1 when unknown).
+int ThreadsToUse(int requested);
 
 // The specimen term in the fit (see pipeline/reduce/reduce.h for its estimate).
 //

@@ -125,6 +125,9 @@ constexpr double kMaxPoreGridPoints = 2000;
 // 90 s blocks.
 constexpr double kMaxTailPoints = 1000;
 constexpr double kMaxSeed = 2147483647;  // 2^31 - 1: a seed any TOML reader holds exactly
+// More threads than draws' worth of cores only add switching; 64 is above any workstation's
+// core count a laboratory runs this on (common practice).
+constexpr double kMaxThreads = 64;
 
 // The member `kField` of the stage options `kStage` of JobSettings, as a double.
 template <auto kStage, auto kField>
@@ -498,6 +501,17 @@ std::vector<SettingKey> BuildSettingKeys() {
        .access = Field<kFit, &Fit::seed>(),
        .doc = "seed of every random draw of the fits (results are a pure function of inputs and "
               "seed)"},
+      {.section = "fit",
+       .name = "threads",
+       .kind = K::kInteger,
+       .min = 0,
+       .max = kMaxThreads,
+       .access = Field<kFit, &Fit::threads>(),
+       .stage_bound = kStageMin,
+       .default_text = "0 (auto)",
+       .doc = "threads of the bootstrap and Monte Carlo refits; 0 = the processor's cores, at "
+              "most 2; results are identical for every value (each draw has its own random "
+              "stream)"},
       {.section = "fit",
        .name = "band_points",
        .kind = K::kInteger,
