@@ -189,16 +189,23 @@ enum class ResampleKind {
   kMonteCarloInputs,   // JCGM 101: draw y (and x) from their stated uncertainties
 };
 
-// A relative factor (1 + z) that several observations share, z ~ N(0, u^2) drawn once per
-// resample and applied to every observation it acts on: y_i -> y_i (1 + w_i z) (a correlated
+// A relative factor (1 + z) that several observations share, drawn once per resample and
+// applied to every observation it acts on: y_i -> y_i (1 + w_i z) (a correlated
 // input, JCGM 100:2008 F.1.2.3; JCGM 101:2008, clause 7, draws one value of every input quantity
 // per trial, so a quantity shared by several points is drawn once; clause numbers from memory).
 // The residuals do not show it (it moves every point alike, and
 // the fit absorbs it), so the bootstraps draw it too, as a parametric component. Used by the
 // fit stage for the specimen term (pipeline/reduce/reduce.h); none = no extra draws.
+// The distribution of z: where u comes from a Type A evaluation with nu degrees of freedom
+// (the specimen term: nu_d <= S - 1), the scaled and shifted t, z = u t_nu (JCGM 101:2008,
+// 6.4.9.7: scale u itself, not u sqrt((nu - 2) / nu)); z ~ N(0, u^2) for infinite nu (a Type B
+// or well-known u). For nu <= 2 the draws of z, and so the parameter draws, have no finite
+// variance: ResampleResult states intervals and u from percentiles (DrawStatisticsOf,
+// pipeline/common/draw_statistics.h), never from the draws' standard deviation.
 struct CommonFactor {
   double relative_standard_uncertainty = 0.0;  // u of z
   std::vector<double> weights;                 // w_i, one per observation (0: not affected)
+  double degrees_of_freedom = kInfinity;       // nu of u (infinity: z drawn normal)
 };
 
 struct ResampleOptions {
@@ -269,9 +276,13 @@ struct ResampleResult {
   std::vector<double> parameter_high;
   std::vector<double> studentized_low;  // bootstrap-t interval per parameter (NaN: not formed)
   std::vector<double> studentized_high;
-  int num_studentized = 0;            // refits that gave a covariance (the T* sample size)
-  std::vector<double> parameter_std;  // standard deviation of the draws
-  int num_failed = 0;                 // refits that did not converge
+  int num_studentized = 0;  // refits that gave a covariance (the T* sample size)
+  // Per parameter: u = U / k from the draws' percentile interval at
+  // ResampleOptions::confidence_level (DrawStatisticsOf: U its half-width, k the normal quantile,
+  // so u is the draws' standard deviation when they are normal, and finite when they are drawn
+  // with a t factor of nu <= 2 that has no standard deviation). NaN with fewer than two draws.
+  std::vector<double> parameter_u;
+  int num_failed = 0;  // refits that did not converge
   // Solver iterations summed over all refits (successful and unsuccessful steps, as
   // SolveOutcome::iterations counts them): the cost of the resampling, for diagnostics.
   long long refit_iterations = 0;

@@ -16,6 +16,7 @@
 #include "fitters/internal/fit_workspace.h"
 #include "fitters/internal/random.h"
 #include "fitters/internal/statistics.h"
+#include "pipeline/common/draw_statistics.h"
 
 namespace sorbtrace::fitters {
 namespace {
@@ -300,6 +301,14 @@ std::vector<DrawOutcome> RunDraws(int count, int num_threads, const MakeWorker& 
   return outcomes;
 }
 
+// One standardised draw of a common factor with nu degrees of freedom (CommonFactor): standard
+// normal for infinite nu (the Box-Muller stream, as without degrees of freedom), else Student's
+// t_nu by inversion of one uniform (JCGM 101:2008, 6.4.9.7).
+double FactorVariate(internal::Random& random, double nu) {
+  if (!std::isfinite(nu)) return random.Normal();
+  return StudentTVariate(random.Uniform(), nu);
+}
+
 }  // namespace
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
@@ -313,7 +322,7 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   const int num_resamples = std::max(0, options.num_resamples);
   result.parameter_low.assign(pp, kNaN);
   result.parameter_high.assign(pp, kNaN);
-  result.parameter_std.assign(pp, kNaN);
+  result.parameter_u.assign(pp, kNaN);
   result.studentized_low.assign(pp, kNaN);
   result.studentized_high.assign(pp, kNaN);
   if (!full_fit.ok() || full_fit.parameters.size() != pp || full_fit.residuals.size() != n ||
@@ -405,7 +414,8 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
       std::fill(shift.begin(), shift.end(), 0.0);
       for (const CommonFactor& factor : options.common_factors) {
         if (factor.weights.size() != n || !(factor.relative_standard_uncertainty > 0.0)) continue;
-        const double z = factor.relative_standard_uncertainty * random.Normal();
+        const double z =
+            factor.relative_standard_uncertainty * FactorVariate(random, factor.degrees_of_freedom);
         for (std::size_t i = 0; i < n; ++i) shift[i] += factor.weights[i] * z;
       }
     }
@@ -502,17 +512,11 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   const double alpha = 1.0 - options.confidence_level;
   std::vector<double> column(draws);
   for (std::size_t j = 0; j < pp; ++j) {
-    double mean = 0.0;
-    for (std::size_t d = 0; d < draws; ++d) {
-      column[d] = result.parameter_draws[d][j];
-      mean += column[d];
-    }
-    mean /= static_cast<double>(draws);
-    double sum2 = 0.0;
-    for (double v : column) sum2 += (v - mean) * (v - mean);
-    result.parameter_std[j] = std::sqrt(sum2 / static_cast<double>(draws - 1));
-    internal::PercentilePair(&column, 0.5 * alpha, 1.0 - 0.5 * alpha, &result.parameter_low[j],
-                             &result.parameter_high[j]);
+    for (std::size_t d = 0; d < draws; ++d) column[d] = result.parameter_draws[d][j];
+    const DrawStatistics stats = DrawStatisticsOf(column, options.confidence_level);
+    result.parameter_u[j] = stats.standard_uncertainty;
+    result.parameter_low[j] = stats.low;
+    result.parameter_high[j] = stats.high;
     if (studentize_ok && pivots[j].size() >= 2) {
       double t_low = kNaN, t_high = kNaN;
       internal::PercentilePair(&pivots[j], 0.5 * alpha, 1.0 - 0.5 * alpha, &t_low, &t_high);

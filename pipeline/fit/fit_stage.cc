@@ -331,7 +331,8 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   fitters::ResampleOptions resample;
   resample.confidence_level = options.confidence_level;
   for (const SpecimenFactor& factor : factors) {
-    resample.common_factors.push_back({factor.relative_standard_uncertainty, factor.weights});
+    resample.common_factors.push_back(
+        {factor.relative_standard_uncertainty, factor.weights, factor.degrees_of_freedom});
   }
   resample.refit_tolerance_se = options.refit_tolerance_se;
   resample.num_threads = ThreadsToUse(options.threads);

@@ -263,7 +263,8 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
   }
   d.band_draws_used = static_cast<int>(used);
   if (used == 0) d.band_source = "none";
-  d.u_total_resolved_volume_m3_per_kg = StandardDeviation(draw_total);
+  d.u_total_resolved_volume_m3_per_kg =
+      DrawStatisticsOf(draw_total, options.band_confidence_level).standard_uncertainty;
 
   const double tail = 0.5 * (1.0 - options.band_confidence_level);
   QuantileScratch scratch;
@@ -301,7 +302,7 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
   d.modes =
       ResolvedModes(log_r, density, band_low, band_high, table, kGridEdgeNodes, nullptr, options);
   d.decades = DecadeFractions(log_r, nominal.interval_volume_m3_per_kg, nominal.total_m3_per_kg);
-  DecadeUncertainties(draw_decades, &d.decades);
+  DecadeUncertainties(draw_decades, options.band_confidence_level, &d.decades);
   if (d.band_source != "none") {
     d.assumptions.push_back(fmt::format("band: {:g} % percentile interval over {} {}",
                                         100.0 * options.band_confidence_level, d.band_draws_used,

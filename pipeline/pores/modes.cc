@@ -8,6 +8,7 @@
 #include <cmath>
 #include <string>
 
+#include "pipeline/common/draw_statistics.h"
 #include "pipeline/physics/physics.h"
 #include "pipeline/pores/sampling.h"
 
@@ -127,7 +128,7 @@ std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
     ModalRadius mode;
     mode.radius_m = std::pow(10.0, nominal.x);
     mode.dv_dlogr_m3_per_kg = nominal.y;
-    mode.u_radius_m = StandardDeviation(radii);
+    mode.u_radius_m = DrawStatisticsOf(radii, options.band_confidence_level).standard_uncertainty;
     if (histogram && i < step_width_log_r->size()) {
       const double width = (*step_width_log_r)[i];
       const double u_resolution = mode.radius_m * std::log(10.0) * width / std::sqrt(12.0);
@@ -139,14 +140,15 @@ std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
 }
 
 void DecadeUncertainties(const std::vector<std::vector<DecadeFraction>>& draw_decades,
-                         std::vector<DecadeFraction>* decades) {
+                         double coverage_probability, std::vector<DecadeFraction>* decades) {
   std::vector<double> values;
   for (std::size_t k = 0; k < decades->size(); ++k) {
     values.clear();
     for (const std::vector<DecadeFraction>& draw : draw_decades) {
       if (k < draw.size()) values.push_back(draw[k].volume_fraction);
     }
-    (*decades)[k].u_volume_fraction = StandardDeviation(values);
+    (*decades)[k].u_volume_fraction =
+        DrawStatisticsOf(values, coverage_probability).standard_uncertainty;
   }
 }
 

@@ -20,9 +20,11 @@ std::vector<DecadeFraction> DecadeFractions(const std::vector<double>& edges_log
                                             const std::vector<double>& interval_volume,
                                             double total);
 
-// The standard deviation of each decade's volume fraction over the draws' fractions.
+// Each decade's u(volume fraction) from the draws' fractions: u = U / k of their
+// probabilistically symmetric interval at coverage_probability (DrawStatisticsOf,
+// pipeline/common/draw_statistics.h; the draws' standard deviation for normal draws).
 void DecadeUncertainties(const std::vector<std::vector<DecadeFraction>>& draw_decades,
-                         std::vector<DecadeFraction>* decades);
+                         double coverage_probability, std::vector<DecadeFraction>* decades);
 
 // The per-draw curves of a distribution: value(k, i) of draw k at node i.
 struct DrawTable {
@@ -41,7 +43,9 @@ struct DrawTable {
 //  - present in the draws: in at least options.band_confidence_level of the draws the maximum
 //    of that draw over [L, R] lies inside the window (not on L or R).
 // Position: the vertex of the parabola through the maximum and its two neighbours, in the
-// nominal curve and in each draw; u(r) is the standard deviation of the draws' positions. For a
+// nominal curve and in each draw; u(r) = U / k of the draws' positions (DrawStatisticsOf at
+// options.band_confidence_level: percentile-based, finite also for draws without a variance,
+// the standard deviation for normal draws). For a
 // histogram of measured steps (step_width_log_r: the width in log10 r of each node's bar, a
 // step or merged steps) the position within the bar is not known beyond what the bars show, so
 // u(r) also holds the resolution term r ln(10) w / sqrt(12), w the bar's width (rectangular

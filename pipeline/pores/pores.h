@@ -158,7 +158,10 @@ struct PoreStep {
 // moisture content, combined with the resolution of the bar it lies in).
 struct ModalRadius {
   double radius_m = 0.0;
-  double u_radius_m = 0.0;  // standard uncertainty: standard deviation over the draws
+  // Standard uncertainty from the draws: U / k of their 95 % percentile interval
+  // (DrawStatisticsOf, pipeline/common/draw_statistics.h; the standard deviation for normal
+  // draws, finite also for draws that have none).
+  double u_radius_m = 0.0;
   double dv_dlogr_m3_per_kg = 0.0;
 };
 
@@ -167,7 +170,7 @@ struct DecadeFraction {
   double radius_low_m = 0.0;
   double radius_high_m = 0.0;
   double volume_fraction = 0.0;
-  double u_volume_fraction = 0.0;  // standard deviation over the same draws as the band; 0: none
+  double u_volume_fraction = 0.0;  // DrawStatisticsOf over the same draws as the band; 0: none
 };
 
 struct PoreDistribution {

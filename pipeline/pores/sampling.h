@@ -9,6 +9,7 @@
 #include <vector>
 
 #include "fitters/model.h"
+#include "pipeline/common/draw_statistics.h"
 
 namespace sorbtrace::pores::internal {
 
@@ -48,7 +49,9 @@ struct QuantileScratch {
 void QuantilePairOf(const double* values, std::size_t n, double p_low, double p_high,
                     QuantileScratch* scratch, double* low, double* high);
 
-// Sample standard deviation (n - 1); 0 for fewer than two values.
+// Sample standard deviation (n - 1); 0 for fewer than two values. For ordering only (the
+// stepwise merge's |z|); an uncertainty stated from draws is DrawStatisticsOf
+// (pipeline/common/draw_statistics.h), finite also where the draws have no variance.
 double StandardDeviation(const std::vector<double>& values);
 
 }  // namespace sorbtrace::pores::internal

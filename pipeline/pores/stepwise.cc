@@ -465,7 +465,8 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
     for (std::size_t st = 0; st < num_steps; ++st) step_volumes[st] = draws.at(st, k);
     draw_decades.push_back(DecadeFractions(log_r, step_volumes, below));
   }
-  d.u_total_resolved_volume_m3_per_kg = StandardDeviation(draw_total);
+  d.u_total_resolved_volume_m3_per_kg =
+      DrawStatisticsOf(draw_total, options.band_confidence_level).standard_uncertainty;
 
   const double tail = 0.5 * (1.0 - options.band_confidence_level);
   QuantileScratch scratch;
@@ -505,7 +506,7 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
   d.modes =
       ResolvedModes(mid, density, band_low, band_high, table, kStepEdgeNodes, &width, options);
   d.decades = DecadeFractions(log_r, increment, d.total_resolved_volume_m3_per_kg);
-  DecadeUncertainties(draw_decades, &d.decades);
+  DecadeUncertainties(draw_decades, options.band_confidence_level, &d.decades);
 
   // The measured steps, each with its bar.
   std::vector<double> column(draws.num_draws);
@@ -520,7 +521,8 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
       step.rh_high_fraction = nodes[s + 1].rh;
       step.volume_m3_per_kg = increment[s];
       for (std::size_t k = 0; k < draws.num_draws; ++k) column[k] = draws.at(s, k);
-      step.u_volume_m3_per_kg = StandardDeviation(column);
+      step.u_volume_m3_per_kg =
+          DrawStatisticsOf(column, options.band_confidence_level).standard_uncertainty;
       step.bar = static_cast<int>(b);
       step.bar_significant = significant;
       d.steps.push_back(step);

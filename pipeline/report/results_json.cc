@@ -242,7 +242,7 @@ Json ResampleJson(const fitters::ResampleResult& r) {
           {"num_studentized", r.num_studentized},
           {"studentized_low", NumberArray(r.studentized_low)},
           {"studentized_high", NumberArray(r.studentized_high)},
-          {"parameter_std", NumberArray(r.parameter_std)}};
+          {"parameter_u", NumberArray(r.parameter_u)}};
 }
 
 Json FitModelJson(const FitsRecord& f, size_t i, const Sheet& sheet) {

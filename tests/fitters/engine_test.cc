@@ -586,8 +586,8 @@ TEST(ResampleTest, MonteCarloOnLineReproducesLinearPropagation) {
   const ClosedFormLine exact = SolveLine(data);
   // Relative standard error of a standard deviation from N draws: 1/sqrt(2N) = 1.6 %;
   // 8 % is 5 of them.
-  EXPECT_NEAR(mc.parameter_std[0] / std::sqrt(exact.inverse_normal(0, 0)), 1.0, 0.08);
-  EXPECT_NEAR(mc.parameter_std[1] / std::sqrt(exact.inverse_normal(1, 1)), 1.0, 0.08);
+  EXPECT_NEAR(mc.parameter_u[0] / std::sqrt(exact.inverse_normal(0, 0)), 1.0, 0.08);
+  EXPECT_NEAR(mc.parameter_u[1] / std::sqrt(exact.inverse_normal(1, 1)), 1.0, 0.08);
 }
 
 // A Model that only offers copying residuals: the engine must then rebuild its problem for

@@ -130,11 +130,11 @@ TEST(GabErrorsInVariablesCoverageTest, CovarianceBootstrapAndMonteCarloIntervals
       estimates[j].push_back(e.value);
       covariance.Add(j, Inside(e.interval_low, kTruth[j], e.interval_high), e.standard_error);
       studentized.Add(j, Inside(boot.studentized_low[j], kTruth[j], boot.studentized_high[j]),
-                      boot.parameter_std[j]);
+                      boot.parameter_u[j]);
       percentile.Add(j, Inside(boot.parameter_low[j], kTruth[j], boot.parameter_high[j]),
-                     boot.parameter_std[j]);
+                     boot.parameter_u[j]);
       mc.Add(j, Inside(draws.parameter_low[j], kTruth[j], draws.parameter_high[j]),
-             draws.parameter_std[j]);
+             draws.parameter_u[j]);
     }
   }
   EXPECT_GE(done, kReplicates - 10);  // practically every replicate fits and resamples

@@ -8,6 +8,8 @@
 #include <cmath>
 #include <vector>
 
+#include "pipeline/pores/modes.h"
+
 namespace sorbtrace::pores::internal {
 namespace {
 
@@ -86,6 +88,33 @@ TEST(MultivariateNormalDraws, SemidefiniteCovarianceStillDraws) {
   const auto draws = MultivariateNormalDraws({0.0, 0.0}, cov, 100, 3, {});
   ASSERT_EQ(draws.size(), 100u);
   for (const auto& d : draws) EXPECT_NEAR(d[0], d[1], 1e-9);
+}
+
+// Draws without a variance (a specimen factor drawn from t with nu_d = 1: Cauchy): the decade
+// fractions' u is finite and percentile-based, U / 1.96 with U the half-width of the 95 %
+// interval, t_0.975(1) = 12.71 times the scale (JCGM 100:2008 Table G.2), where the draws'
+// standard deviation grows without bound with the number of draws.
+TEST(DecadeUncertainties, FiniteForDrawsWithoutVariance) {
+  constexpr int kDraws = 4000;
+  constexpr double kScale = 0.01;
+  std::vector<std::vector<DecadeFraction>> draws;
+  std::vector<double> first;
+  for (int k = 0; k < kDraws; ++k) {
+    const double t = StudentTVariate((k + 0.5) / kDraws, 1.0);
+    DecadeFraction a, b;
+    a.volume_fraction = 0.3 + kScale * t;
+    b.volume_fraction = 0.7 - kScale * t;
+    draws.push_back({a, b});
+    first.push_back(a.volume_fraction);
+  }
+  std::vector<DecadeFraction> decades(2);
+  DecadeUncertainties(draws, 0.95, &decades);
+  for (const DecadeFraction& d : decades) {
+    EXPECT_TRUE(std::isfinite(d.u_volume_fraction));
+    EXPECT_NEAR(d.u_volume_fraction, 12.71 * kScale / 1.96, 0.01 * 12.71 * kScale / 1.96);
+  }
+  // The standard deviation of the same 4,000 draws is already about ten times that u.
+  EXPECT_GT(StandardDeviation(first), 5.0 * decades[0].u_volume_fraction);
 }
 
 }  // namespace

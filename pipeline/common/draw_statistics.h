@@ -1,0 +1,116 @@
+// Draws of an output quantity (Monte Carlo trials, bootstrap refits, band draws) reduced to the
+// statement of that quantity, and the Student-t variate the draws of a Type A input with few
+// degrees of freedom use. The one definition for the fitting engine's resampled intervals and
+// for every uncertainty the pores stage takes from draws. Header only (Boost.Math is header
+// only), so the fitting engine uses it without linking the pipeline's common library.
+//
+// Why percentiles and not the draws' standard deviation: an input whose value comes from a Type
+// A evaluation with nu degrees of freedom is drawn from the scaled and shifted t distribution
+// t_nu(x_bar, s^2 / n) (JCGM 101:2008, 6.4.9.7). For nu <= 2 that distribution has no finite
+// variance (the variance of t_nu is nu / (nu - 2) for nu > 2 only), so a standard deviation of
+// the draws does not converge as the number of draws grows and says nothing. Its quantiles are
+// finite for every nu > 0. JCGM 101:2008 7.7 states the coverage interval from the draws'
+// order statistics; the probabilistically symmetric interval (7.7.1: equal probability
+// (1 - p) / 2 in each tail) is used here.
+#pragma once
+
+#include <algorithm>
+#include <boost/math/distributions/students_t.hpp>
+#include <cmath>
+#include <cstddef>
+#include <limits>
+#include <span>
+#include <vector>
+
+#include "pipeline/common/student_t.h"
+
+namespace sorbtrace {
+
+// What draws of one quantity state (DrawStatisticsOf).
+struct DrawStatistics {
+  std::size_t count = 0;               // finite draws used (non-finite draws are left out)
+  double coverage_probability = 0.95;  // p
+  double central = std::numeric_limits<double>::quiet_NaN();  // median: the 50 % point
+  // Probabilistically symmetric coverage interval [q_{(1-p)/2}, q_{(1+p)/2}] (JCGM 101:2008,
+  // 7.7.1), quantiles by linear interpolation between order statistics (R. J. Hyndman, Y. Fan,
+  // Am. Stat. 50 (1996) 361, type 7).
+  double low = std::numeric_limits<double>::quiet_NaN();
+  double high = std::numeric_limits<double>::quiet_NaN();
+  // U = (high - low) / 2: the half-width of that interval.
+  double expanded_uncertainty = 0.0;
+  // k = z_{(1+p)/2}, the standard normal quantile (1.960 for p = 0.95): the factor that turns
+  // the half-width of a normal distribution's symmetric p interval into its standard deviation.
+  double coverage_factor = 0.0;
+  // u = U / k: for normally distributed draws the standard deviation (to within the sampling
+  // error of the quantiles), for heavier tails (t with few degrees of freedom) larger, so that
+  // u times a coverage factor of about 2 still spans the draws' 95 % interval. 0 with fewer
+  // than two finite draws (nothing to state).
+  double standard_uncertainty = 0.0;
+};
+
+namespace internal {
+
+// Type 7 quantile q of the sorted values (size n >= 1).
+inline double SortedQuantile(const std::vector<double>& sorted, double q) {
+  const double position = std::clamp(q, 0.0, 1.0) * static_cast<double>(sorted.size() - 1);
+  const std::size_t below = static_cast<std::size_t>(std::floor(position));
+  const double fraction = position - static_cast<double>(below);
+  const double low = sorted[below];
+  const double high = below + 1 < sorted.size() ? sorted[below + 1] : low;
+  return low + fraction * (high - low);
+}
+
+}  // namespace internal
+
+// The reduction of draws to {central value, coverage interval, U, u = U / k, k} at coverage
+// probability p in (0, 1) (see DrawStatistics). Non-finite draws are left out (a refit that
+// diverged is no draw of the quantity).
+inline DrawStatistics DrawStatisticsOf(std::span<const double> draws, double coverage_probability) {
+  DrawStatistics s;
+  s.coverage_probability = coverage_probability;
+  s.coverage_factor =
+      StudentTCoverageFactor(std::numeric_limits<double>::infinity(), coverage_probability);
+  std::vector<double> sorted;
+  sorted.reserve(draws.size());
+  for (double v : draws) {
+    if (std::isfinite(v)) sorted.push_back(v);
+  }
+  s.count = sorted.size();
+  if (sorted.empty()) return s;
+  std::sort(sorted.begin(), sorted.end());
+  const double tail = 0.5 * (1.0 - coverage_probability);
+  s.central = internal::SortedQuantile(sorted, 0.5);
+  s.low = internal::SortedQuantile(sorted, tail);
+  s.high = internal::SortedQuantile(sorted, 1.0 - tail);
+  if (s.count < 2) return s;
+  s.expanded_uncertainty = 0.5 * (s.high - s.low);
+  s.standard_uncertainty = s.expanded_uncertainty / s.coverage_factor;
+  return s;
+}
+
+// One draw of the standard Student-t distribution with nu > 0 degrees of freedom (any real nu,
+// e.g. a Welch-Satterthwaite value) by inversion of its distribution function (the inverse
+// transform; JCGM 101:2008, 6.4.9.7 and annex C, clause from memory) from one uniform value v in
+// [0, 1) (53 random bits): v is moved to the middle of its 2^-53 cell, m = v + 2^-54, and the
+// upper half is taken from the lower tail by symmetry, t(m) = -t(1 - m) with 1 - m formed from
+// 1 - v (exact), so the quantile function never sees 0 or 1 (m itself would round to 1 at the top
+// cell: the quantile overflows there) and the draw is always finite (|t| < 1e16 for nu = 1).
+// Infinite nu: the standard normal quantile. The scaled and shifted t_nu(x_bar, s^2 / n) of a
+// Type A input is x_bar + (s / sqrt(n)) times this: the standard uncertainty s / sqrt(n)
+// itself, without the factor sqrt(nu / (nu - 2)) (JCGM 101:2008, 6.4.9.7).
+inline double StudentTVariate(double uniform_0_1, double nu) {
+  constexpr double kHalfCell = 0.5 / 9007199254740992.0;  // 2^-54: half of the 2^-53 cell
+  const double v = std::clamp(uniform_0_1, 0.0, 1.0 - 2.0 * kHalfCell);
+  const bool upper = v >= 0.5;
+  const double tail = upper ? (1.0 - v) - kHalfCell : v + kHalfCell;  // in (0, 0.5]
+  double lower_quantile = 0.0;
+  if (!std::isfinite(nu)) {
+    lower_quantile =
+        boost::math::quantile(boost::math::normal_distribution<double>(0.0, 1.0), tail);
+  } else {
+    lower_quantile = boost::math::quantile(boost::math::students_t_distribution<double>(nu), tail);
+  }
+  return upper ? -lower_quantile : lower_quantile;
+}
+
+}  // namespace sorbtrace

@@ -1,0 +1,139 @@
+// Coverage of the resampled intervals results.json states (fit stage: JCGM 101 Monte Carlo and
+// residual bootstrap, percentile intervals of the GAB parameters) on generated desiccator jobs
+// whose three specimens differ (job_generator.h, specimen factor sd 3 %). The reduce stage
+// estimates the specimen term with nu_d <= 2 degrees of freedom, and the draws carry it as one
+// common factor per resample: drawn from the scaled and shifted t with nu_d degrees of freedom
+// (JCGM 101:2008, 6.4.9.7), its few degrees of freedom widen the percentile intervals as the
+// Student-t k widens the covariance intervals (equilibrium_coverage_test.cc,
+// DesiccatorJobsSpecimensDiffer). Checked: the share of replicates whose truth lies inside the
+// stated interval, for the GAB parameters (the Monte Carlo and bootstrap percentile intervals)
+// and the moisture contents at 23 degC / 50 % and 80 % RH (the 95 % interval of the curve over
+// the Monte Carlo draws, DrawStatisticsOf: the reduction every uncertainty from draws uses), in
+// 90-98 % (95 % intervals: the acceptance band of issue 13, common practice); the bootstrap
+// percentile interval of X_m, the parameter the specimen factor moves, in the same band.
+// Measured (200 replicates, seeds 3000-3199), before (factor drawn normal with its u) -> after
+// (t with nu_d): Monte Carlo X_m 85 -> 94 %, moisture at 50 % RH 79 -> 93.5 %, at 80 % RH 79.5
+// -> 93.5 %, C 94 -> 94 %, K 93 -> 93.5 %; bootstrap percentile X_m 83.5 -> 93.5 %.
+// Printed, not checked (other causes, still open): the bootstrap percentile intervals of C and K
+// (83.5 % and 85 %, unchanged by the factor: the residual bootstrap of six points with n - p = 3
+// resamples the residual scale without its own uncertainty, the small-sample under-coverage of
+// percentile intervals described in fitters/fitter.h) and the studentised intervals (C 97.5 %,
+// K 98 %, X_m 98.5 %: their pivots carry the factor's t draw in the numerator but not in se*).
+// The mean u / sd of the draws' u (U / 1.96) is about 1.9 for X_m and the moisture contents:
+// with nu_d <= 2 the interval is t-wide in every replicate, while the errors themselves are
+// the normal mean of three specimens; coverage, not that ratio, is what the interval promises.
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <iostream>
+#include <map>
+#include <string>
+#include <vector>
+
+#include "pipeline/common/draw_statistics.h"
+#include "pipeline/equilibrate/equilibrate.h"
+#include "pipeline/fit/fit_stage.h"
+#include "pipeline/reduce/reduce.h"
+#include "tests/coverage/job_generator.h"
+
+namespace sorbtrace::coverage {
+namespace {
+
+// 200 replicates (the acceptance of issue 13 asks for >= 100): the binomial standard deviation
+// of a 95 % coverage is 1.5 %, so 90-98 % is not left by chance alone. About 12 s (Release).
+constexpr int kReplicates = 200;
+constexpr double kMinCoverage = 0.90;
+constexpr double kMaxCoverage = 0.98;
+constexpr double kCoverageProbability = 0.95;
+// Reference conditions of the datasheet (pores::PoreOptions defaults: 23 degC, 50 and 80 % RH).
+constexpr double kReferenceRh[] = {0.5, 0.8};
+
+struct Tally {
+  int inside = 0;
+  int count = 0;
+  double sum_u = 0.0;
+  std::vector<double> errors;
+  void Add(double value, double truth, double low, double high, double u) {
+    ++count;
+    if (truth >= low && truth <= high) ++inside;
+    sum_u += u;
+    errors.push_back(value - truth);
+  }
+  double Coverage() const { return count > 0 ? static_cast<double>(inside) / count : 0.0; }
+  double Ratio() const {
+    double mean = 0.0;
+    for (double e : errors) mean += e;
+    mean /= static_cast<double>(errors.size());
+    double ss = 0.0;
+    for (double e : errors) ss += (e - mean) * (e - mean);
+    return (sum_u / count) / std::sqrt(ss / static_cast<double>(errors.size() - 1));
+  }
+};
+
+// The moisture content of the GAB curve at rh_fraction for parameters p (X_m, C, K).
+double GabAt(const std::vector<double>& p, double rh_fraction) {
+  const Gab gab{p[0], p[1], p[2]};
+  return gab(rh_fraction);
+}
+
+TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap) {
+  std::map<std::string, Tally> tallies;
+  const char* const names[] = {"X_m", "C", "K"};
+  for (int r = 0; r < kReplicates; ++r) {
+    const GeneratedJob job = MakeDesiccatorJob(3000 + static_cast<std::uint64_t>(r), 0.03);
+    const equilibrate::EquilibriumSet equilibria =
+        equilibrate::Equilibrate(job.ingested, equilibrate::EquilibrateOptions{});
+    const reduce::ReducedIsotherms reduced =
+        reduce::Reduce(job.ingested, equilibria, reduce::ReduceOptions{});
+    fit::FitStageOptions options;
+    options.models = {"gab"};
+    const fit::IsothermFits fits = fit::FitIsotherms(reduced, options);
+    ASSERT_EQ(fits.fits.size(), 1u);
+    const fit::ModelFit& gab = fits.fits[0];
+    ASSERT_TRUE(gab.result.ok());
+    // The test is about the specimen factor: every replicate must carry it, with few dof.
+    ASSERT_FALSE(fits.groups[0].specimen_factors.empty());
+    EXPECT_LE(fits.groups[0].specimen_factors[0].degrees_of_freedom, 2.0);
+    const double truth[] = {job.truth.xm_kg_per_kg, job.truth.c, job.truth.k};
+    ASSERT_GE(gab.monte_carlo.parameter_draws.size(), 900u);
+    ASSERT_GE(gab.bootstrap.parameter_draws.size(), 900u);
+    for (std::size_t j = 0; j < 3; ++j) {
+      const double value = gab.result.parameters[j];
+      tallies[std::string("Monte Carlo ") + names[j]].Add(
+          value, truth[j], gab.monte_carlo.parameter_low[j], gab.monte_carlo.parameter_high[j],
+          gab.monte_carlo.parameter_u[j]);
+      tallies[std::string("bootstrap percentile ") + names[j]].Add(
+          value, truth[j], gab.bootstrap.parameter_low[j], gab.bootstrap.parameter_high[j],
+          gab.bootstrap.parameter_u[j]);
+      tallies[std::string("bootstrap studentised ") + names[j]].Add(
+          value, truth[j], gab.bootstrap.studentized_low[j], gab.bootstrap.studentized_high[j],
+          gab.bootstrap.parameter_u[j]);
+    }
+    for (double rh : kReferenceRh) {
+      std::vector<double> curve;
+      for (const std::vector<double>& draw : gab.monte_carlo.parameter_draws) {
+        curve.push_back(GabAt(draw, rh));
+      }
+      const DrawStatistics stats = DrawStatisticsOf(curve, kCoverageProbability);
+      tallies["Monte Carlo moisture at " + std::to_string(static_cast<int>(100 * rh + 0.5)) +
+              " % RH"]
+          .Add(GabAt(gab.result.parameters, rh), job.truth(rh), stats.low, stats.high,
+               stats.standard_uncertainty);
+    }
+  }
+  std::cout << "desiccator, specimens differing by 3 % (" << kReplicates
+            << " replicates): coverage of the stated interval, mean u / sd\n";
+  for (const auto& [name, t] : tallies) {
+    std::cout << "  " << name << ": " << 100.0 * t.Coverage() << " %, " << t.Ratio() << "\n";
+  }
+  for (const auto& [name, t] : tallies) {
+    const bool checked = name.rfind("Monte Carlo", 0) == 0 || name == "bootstrap percentile X_m";
+    if (!checked) continue;  // printed only (see the header)
+    SCOPED_TRACE(name);
+    EXPECT_GE(t.Coverage(), kMinCoverage);
+    EXPECT_LE(t.Coverage(), kMaxCoverage);
+  }
+}
+
+}  // namespace
+}  // namespace sorbtrace::coverage
