@@ -304,7 +304,8 @@ class Blocks {
     QuantilePair(column_, tail_, 1.0 - tail_, &low, &high);
     return low > 0.0 || high < 0.0;
   }
-  // Percentile interval of the difference of the two blocks' densities excludes 0; *z as above.
+  // Percentile interval of the difference of the two blocks' densities excludes 0 at the
+  // family-wise level; *z as above.
   bool Distinguishable(std::size_t a, std::size_t b, double* z) const {
     column_.resize(draws_.num_draws);
     const double wa = Width(a);
@@ -367,8 +368,9 @@ class Blocks {
   const std::vector<double>& log_r_;
   const std::vector<double>& increment_;
   const StepDraws& draws_;
-  double tail_;
-  double boundary_tail_;
+  double tail_;           // per step: is its volume significant
+  double boundary_tail_;  // per boundary between bars, family-wise (Bonferroni over the
+                          // num_steps - 1 boundaries; distribution.h, part 3)
   std::vector<Block> blocks_;
   mutable std::vector<double> column_;
 };
