@@ -116,22 +116,31 @@ struct MeasuredPoint {
 //    independent parts per point; each common part once per draw for every point that shares
 //    it; an RH draw outside (0, 1) is drawn again), the steps are rebuilt at the drawn RH
 //    (Kelvin radius and film of the drawn humidity) and the draw's cumulative volume is read at
-//    the nominal nodes (linear in log r, continued with the end steps' densities beyond the
-//    draw's own nodes). Each step's increment thus has draws; every reported uncertainty is a
+//    the nominal nodes: the value of the draw's node nearest to the nominal node, moved to it
+//    along the nominal profile (the drawn point stands for the true state of the measured one;
+//    reading the draw's own polyline instead flattened its slopes and stated the steps' u
+//    13-16 % low). Each step's increment thus has draws; every reported uncertainty is a
 //    standard deviation (or percentile band) over them.
 // 3. Regularisation. A step (or block of merged steps) is significant when the percentile
 //    interval of its increment at options.band_confidence_level excludes 0. The least
 //    significant block that is not significant is merged with the neighbouring block whose
 //    density dV/dlog r it is least distinguishable from, provided the two are not
 //    distinguishable (the percentile interval of the difference of their densities over the
-//    draws contains 0); repeated until every remaining insignificant block differs from all
-//    its neighbours. Then neighbouring bars whose densities cannot be told apart (same test)
-//    are merged, least distinguishable pair first, until every boundary is significant. A
+//    draws contains 0, at the family-wise level: each of the num_steps - 1 boundaries is
+//    tested with tail probability (1 - options.band_confidence_level) / 2 / (num_steps - 1),
+//    Bonferroni; per boundary at 95 % about one zig-zag of noise per isotherm survived as a
+//    narrow spike that became a mode; with 1000 draws and 24 steps each tail is read between
+//    its second and third most extreme draw, Hyndman & Fan type 7); repeated until every remaining
+//    insignificant block differs from all its neighbours. Then neighbouring bars whose
+//    densities cannot be told apart (same test) are merged, least distinguishable pair first,
+//    until every boundary is significant. A
 //    merged block spreads its volume uniformly in log r over its width (a
 //    histogram bar); scatter that would zig-zag from step to step merges, a gap or a low tail
 //    that differs from its neighbours is kept (and not smeared with their volume).
-// 4. Modes: ResolvedModes (modes.h), the rule of the model method, on the bars (parabola vertex
-//    through the bar middles, resolution term from the bar's width).
+// 4. Modes: ResolvedModes (modes.h), the rule of the model method, on the bars (the mode of
+//    grouped data within the highest bar, GroupedDataModeShift), with what the bars cannot
+//    resolve added to the draws' spread (stepwise.cc, AddStepwiseModeTerms): the measured
+//    step that holds the mode (or the bars that could be as high), and the interpolation.
 // 5. Total volume and band from the bars, decade fractions from the measured steps (a wide bar
 //    would move volume across a decade boundary), each with its spread over the draws.
 // common_sources names the CommonPart sources (may be empty).

@@ -26,6 +26,17 @@ std::vector<DecadeFraction> DecadeFractions(const std::vector<double>& edges_log
 void DecadeUncertainties(const std::vector<std::vector<DecadeFraction>>& draw_decades,
                          double coverage_probability, std::vector<DecadeFraction>* decades);
 
+// The mode of grouped data within its highest bar, as the shift from the bar's middle (log10 r):
+// width w of the highest bar, y_peak its density, y_left and y_right the densities read next to
+// it. Written from the bar's lower edge L it is the interpolation formula for the mode of
+// grouped data, L + w (y_peak - y_left) / ((y_peak - y_left) + (y_peak - y_right)), with
+// frequency densities (e.g. Kendall & Stuart, The Advanced Theory of Statistics, vol. 1, from
+// memory); from the middle, the vertex of the parabola through the three densities placed one
+// bar width apart, i.e. the quadratic whose means over three adjacent windows of width w are
+// the three densities: for a density quadratic about its peak the exact mode, whatever the
+// widths of the neighbouring bars. 0 where the bar is not above its neighbours; at most w / 2.
+double GroupedDataModeShift(double width, double y_left, double y_peak, double y_right);
+
 // The per-draw curves of a distribution: value(k, i) of draw k at node i.
 struct DrawTable {
   std::size_t num_draws = 0;
@@ -47,10 +58,11 @@ struct DrawTable {
 // options.band_confidence_level: percentile-based, finite also for draws without a variance,
 // the standard deviation for normal draws). For a
 // histogram of measured steps (step_width_log_r: the width in log10 r of each node's bar, a
-// step or merged steps) the position within the bar is not known beyond what the bars show, so
-// u(r) also holds the resolution term r ln(10) w / sqrt(12), w the bar's width (rectangular
-// distribution over the bar, JCGM 100:2008 F.2.2.1; the bar's width, not the spacing of the
-// bar middles, which differs on uneven RH schedules), combined with the spread over the draws.
+// step or merged steps; log_r then holds the bars' middles) the vertex is the mode of grouped
+// data (modes.cc, HistogramVertex: the neighbours read as bars of the highest bar's width, the
+// position kept inside that bar), in the nominal histogram and in each draw; what the bars
+// cannot resolve (the position within the bar, a neighbour as high) is the stepwise method's
+// to add (stepwise.cc).
 std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
                                        const std::vector<double>& density,
                                        const std::vector<double>& band_low,

@@ -155,7 +155,8 @@ struct PoreStep {
 // both methods: internal::ResolvedModes, modes.h). Its uncertainty is its spread over the draws
 // (the band's parameter draws: the fit stage's Monte Carlo or bootstrap refits, or N(p,
 // covariance) without them; for the stepwise method the draws of the measured points' RH and
-// moisture content, combined with the resolution of the bar it lies in).
+// moisture content, combined with the resolution of the measured step it lies in, or of the
+// bars that could be as high, and the interpolation's model terms: stepwise.cc).
 struct ModalRadius {
   double radius_m = 0.0;
   // Standard uncertainty from the draws: U / k of their 95 % percentile interval

@@ -6,14 +6,8 @@
 // value +- 2 u of the truth in at least 90 % of the replicates, and the stated u of the modes
 // and the volume lie within 0.7-1.5 times the scatter of their errors over the replicates.
 //
-// The pore system: cumulative pore volume (pores of radius <= r, per kg of dry material)
-//   V(r) = V_tot sum_i w_i [1 + (a_i / r)^n_i]^(-m_i),  m_i = 1 - 1/n_i,
-// a van Genuchten (1980) pore family per i (the form of Durner 1994 read in radius through the
-// Young-Laplace equation, p_c = 2 gamma / r for the hemispherical meniscus of desorption);
-// families a = 2.1 nm and 8.4 nm, n = 5, weights 0.4 / 0.6, V_tot = 1e-4 m3/kg: modes of
-// dV/dlog r near 2 nm and 8 nm (a single family peaks at r = a m^(1/n), from d/ds of
-// s (1 + s)^(-m - 1), s = (a / r)^n). Forward Kelvin model, no adsorbed film: at RH the pores
-// with r <= r_K(RH) (hemispherical, physics::KelvinRadius_m) are full, u(RH) = rho_w V(r_K).
+// The pore system (two_family_pores.h): two van Genuchten pore families, modes of dV/dlog r near
+// 2 nm and 8 nm, turned into u(RH) by the forward Kelvin model without a film.
 // Measurement: 25 steps at RH 0.10 ... 0.96 read with 0.5 %RH (a vapour-sorption instrument's
 // sensor, common practice) and u with 1.5 % relative and 0.2 g/kg absolute standard
 // uncertainty (the reduce stage's budgets, common practice), normal.
@@ -38,11 +32,12 @@
 #include "pipeline/pores/distribution.h"
 #include "pipeline/pores/kelvin_film.h"
 #include "tests/models/synthetic.h"
+#include "tests/pores/two_family_pores.h"
 
 namespace sorbtrace::pores {
 namespace {
 
-constexpr double kTemperature_K = 296.15;  // 23 degC
+constexpr double kTemperature_K = testing::kTwoFamilyTemperature_K;
 constexpr int kReplicates = 200;
 constexpr int kResamples = 500;
 constexpr int kNumPoints = 25;
@@ -54,78 +49,15 @@ constexpr double kMinCoverage = 0.90;
 constexpr double kMinRatio = 0.7;  // reported u / scatter of the errors over the replicates
 constexpr double kMaxRatio = 1.5;
 
-// Mean of the stated u over the standard deviation of (estimate - truth).
-struct Spread {
-  std::vector<double> errors;
-  double sum_u = 0.0;
-  void Add(double error, double u) {
-    errors.push_back(error);
-    sum_u += u;
-  }
-  double Ratio() const {
-    const double n = static_cast<double>(errors.size());
-    double mean = 0.0;
-    for (double e : errors) mean += e / n;
-    double sum = 0.0;
-    for (double e : errors) sum += (e - mean) * (e - mean);
-    return sum_u / n / std::sqrt(sum / (n - 1.0));
-  }
-};
-
-struct Family {
-  double weight;
-  double a_m;
-  double n;
-};
-constexpr Family kFamilies[] = {{0.4, 2.1e-9, 5.0}, {0.6, 8.4e-9, 5.0}};
-constexpr double kTotalVolume_m3_per_kg = 1e-4;
-
-double CumulativeVolume(double radius_m) {
-  double v = 0.0;
-  for (const Family& f : kFamilies) {
-    const double m = 1.0 - 1.0 / f.n;
-    v += f.weight * std::pow(1.0 + std::pow(f.a_m / radius_m, f.n), -m);
-  }
-  return kTotalVolume_m3_per_kg * v;
-}
-
-// dV/dlog10 r, analytic: per family V_tot w m n s (1 + s)^(-m - 1) ln 10, s = (a / r)^n.
-double Density(double radius_m) {
-  double d = 0.0;
-  for (const Family& f : kFamilies) {
-    const double m = 1.0 - 1.0 / f.n;
-    const double s = std::pow(f.a_m / radius_m, f.n);
-    d += f.weight * m * f.n * s * std::pow(1.0 + s, -m - 1.0);
-  }
-  return kTotalVolume_m3_per_kg * std::log(10.0) * d;
-}
-
-// Local maxima of the true density on [r_min, r_max] (fine log grid, parabola vertex).
-std::vector<double> TrueModes(double r_min, double r_max) {
-  constexpr int kFine = 20001;
-  std::vector<double> x(kFine), y(kFine);
-  for (int i = 0; i < kFine; ++i) {
-    x[i] = std::log10(r_min) + (std::log10(r_max) - std::log10(r_min)) * i / (kFine - 1.0);
-    y[i] = Density(std::pow(10.0, x[i]));
-  }
-  std::vector<double> modes;
-  for (int i = 1; i + 1 < kFine; ++i) {
-    if (y[i] > y[i - 1] && y[i] >= y[i + 1]) {
-      const double h = x[i + 1] - x[i];
-      const double shift = 0.5 * h * (y[i - 1] - y[i + 1]) / (y[i - 1] - 2.0 * y[i] + y[i + 1]);
-      modes.push_back(std::pow(10.0, x[i] + shift));
-    }
-  }
-  return modes;
-}
+using testing::ErrorSpread;
+using testing::TrueCumulativeVolume;
+using testing::TrueModes;
+using testing::TrueMoisture_kg_per_kg;
 
 std::vector<fitters::Observation> Replicate(fitters::testing::NormalSource* noise) {
-  const double rho = physics::LiquidWaterDensity_kg_per_m3(kTemperature_K);
   std::vector<fitters::Observation> points;
   for (double rh : fitters::testing::Grid(0.10, 0.96, kNumPoints)) {
-    const double r_k =
-        physics::KelvinRadius_m(rh, kTemperature_K, physics::Meniscus::kHemispherical);
-    const double u = rho * CumulativeVolume(r_k);
+    const double u = TrueMoisture_kg_per_kg(rh);
     fitters::Observation o;
     o.x[0] = rh + kSigmaRhFraction * noise->Normal();
     o.sigma_y = std::hypot(kRelativeSigmaMoisture * u, kAbsoluteSigmaMoisture_kg_per_kg);
@@ -168,9 +100,9 @@ TEST(TwoFamilyPoreCoverageTest, ModesVolumeAndDecadeFractions) {
   int volume_hits = 0;
   int fraction_checks = 0;
   int fraction_hits = 0;
-  Spread volume_spread;
-  Spread mode_spread[2];
-  Spread first_decade;  // the fraction of [1 nm, 10 nm]
+  ErrorSpread volume_spread;
+  ErrorSpread mode_spread[2];
+  ErrorSpread first_decade;  // the fraction of [1 nm, 10 nm]
   for (int r = 0; r < kReplicates; ++r) {
     const std::vector<fitters::Observation> points = Replicate(&noise);
     resample.seed = noise.Raw();
@@ -192,7 +124,7 @@ TEST(TwoFamilyPoreCoverageTest, ModesVolumeAndDecadeFractions) {
     ++done;
     const double r_min = d.resolved_radius_min_m;
     const double r_max = d.resolved_radius_max_m;
-    const double true_volume = CumulativeVolume(r_max) - CumulativeVolume(r_min);
+    const double true_volume = TrueCumulativeVolume(r_max) - TrueCumulativeVolume(r_min);
     volume_hits +=
         Within(d.total_resolved_volume_m3_per_kg, d.u_total_resolved_volume_m3_per_kg, true_volume);
     volume_spread.Add(d.total_resolved_volume_m3_per_kg - true_volume,
@@ -218,7 +150,8 @@ TEST(TwoFamilyPoreCoverageTest, ModesVolumeAndDecadeFractions) {
     }
     for (const DecadeFraction& f : d.decades) {
       const double truth =
-          (CumulativeVolume(f.radius_high_m) - CumulativeVolume(f.radius_low_m)) / true_volume;
+          (TrueCumulativeVolume(f.radius_high_m) - TrueCumulativeVolume(f.radius_low_m)) /
+          true_volume;
       ++fraction_checks;
       fraction_hits += Within(f.volume_fraction, f.u_volume_fraction, truth);
       if (f.radius_low_m < 1.5e-9) first_decade.Add(f.volume_fraction - truth, f.u_volume_fraction);
@@ -247,7 +180,8 @@ TEST(TwoFamilyPoreCoverageTest, ModesVolumeAndDecadeFractions) {
   for (double e : first_decade.errors) bias += e / static_cast<double>(first_decade.errors.size());
   std::printf("fraction 1-10 nm: mean error %.4g, mean u %.4g\n", bias,
               first_decade.sum_u / static_cast<double>(first_decade.errors.size()));
-  for (const Spread* spread : {&mode_spread[0], &mode_spread[1], &volume_spread, &first_decade}) {
+  for (const ErrorSpread* spread :
+       {&mode_spread[0], &mode_spread[1], &volume_spread, &first_decade}) {
     ASSERT_GE(spread->errors.size(), 10u);
     EXPECT_GE(spread->Ratio(), kMinRatio);
     EXPECT_LE(spread->Ratio(), kMaxRatio);
