@@ -247,17 +247,17 @@ TEST_F(ConformityE2eTest, UnavailableHeadlineGivesNoStatementNeverPass) {
 TEST_F(ConformityE2eTest, ClassAtMostIsDecidedOnTheUptakeAndItsUncertainty) {
   const fs::path dir = root_ / "excipient_job";
   fs::copy(kExamples / "excipient_powder_25C", dir, fs::copy_options::recursive);
-  std::string job = Slurp(dir / "job.toml");
+  std::string job = ReadBytes(dir / "job.toml");
   job = job.substr(0, job.find("\n# Statements of conformity") + 1) +
         "\n[[specification]]\nquantity = \"hygroscopicity_class\"\nat_most = \"hygroscopic\"\n"
         "decision_rule = \"simple_acceptance\"\n"
         "\n[[specification]]\nquantity = \"hygroscopicity_class\"\n"
         "at_most = \"slightly hygroscopic\"\ndecision_rule = \"guarded_acceptance\"\n";
-  Spit(dir / "job.toml", job);
+  WriteBytes(dir / "job.toml", job);
   const CommandRun made = Make(dir / "job.toml", "classes");
   ASSERT_EQ(made.exit_code, 0) << made.output;
   const fs::path out = root_ / "classes";
-  const Json results = Json::parse(Slurp(out / "results.json"));
+  const Json results = Json::parse(ReadBytes(out / "results.json"));
   ASSERT_EQ(results["hygroscopicity_class"], "hygroscopic");
   EXPECT_EQ(Statement(out, 0)["decision"], "pass");
   EXPECT_EQ(Statement(out, 1)["decision"], "fail");

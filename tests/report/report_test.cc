@@ -142,7 +142,7 @@ TEST(ComposeReportTest, EquilibriumTableColumnsNumberingAndUnits) {
     step.step_number = 10 + step.step_index;
   }
   const std::string csv =
-      ComposeReport(fixture.Inputs(), FullTemplate(), Options()).csv_files[0].second;
+      ComposeReport(fixture.Inputs(), FullTemplate(), FixtureOptions()).csv_files[0].second;
   const std::string header =
       "record,dataset,specimen,step,atmosphere,branch,cycle,temperature_K,rh_fraction,"
       "u_rh_fraction,moisture_kg_per_kg,u_moisture_kg_per_kg,expanded_u_moisture_kg_per_kg,"
