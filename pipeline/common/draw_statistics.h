@@ -112,8 +112,8 @@ inline double StudentTVariate(double uniform_0_1, double nu) {
     // draw, where the promoted powl/ibeta were a fifth of a Monte Carlo run's time.
     using DoublePolicy =
         boost::math::policies::policy<boost::math::policies::promote_double<false>>;
-    lower_quantile = boost::math::quantile(
-        boost::math::students_t_distribution<double, DoublePolicy>(nu), tail);
+    lower_quantile =
+        boost::math::quantile(boost::math::students_t_distribution<double, DoublePolicy>(nu), tail);
   }
   return upper ? -lower_quantile : lower_quantile;
 }
