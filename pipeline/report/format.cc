@@ -119,6 +119,17 @@ std::string FormatSignificant(double value, int significant_digits) {
   return Decimal(r, exponent) + TimesTenTo(exponent);
 }
 
+std::string FormatProbability(double probability, int significant_digits) {
+  if (!std::isfinite(probability)) return "n/a";
+  if (probability == 0.0) return "0";
+  const int n = std::clamp(significant_digits, 1, 15);
+  int place = DecimalExponent(probability) - (n - 1);
+  Rounded r = RoundAt(probability, place);
+  if (r.num_digits() > n) r = RoundAt(probability, ++place);  // 9.96e-50 -> 1.0e-49
+  if (r.top() >= kMinPlainExponent) return FormatSignificant(probability, n);
+  return Decimal(r, r.top()) + TimesTenTo(r.top());
+}
+
 std::string CoverageText(double k) {
   constexpr double kHalfOfSecondDigit = 0.005;  // below this, two digits would read "2.0"
   return std::abs(k - std::round(k)) < kHalfOfSecondDigit ? FormatFixed(k, 0)

@@ -32,6 +32,12 @@ inline constexpr int kMaxValueDigits = 6;
 // notation by the rules above; "0" for zero, "n/a" when not finite.
 std::string FormatSignificant(double value, int significant_digits);
 
+// A probability (a p-value, a risk) to `significant_digits` significant digits: plain down to
+// 10^-4 like any value, below that in scientific notation with the leading digit before the
+// point ("7.1 × 10⁻⁴⁹", not the engineering "710 × 10⁻⁵¹": a probability has no unit prefix a
+// power of 1000 would stand for; ISO 80000-1:2009, 6.5.1 scientific notation, from memory).
+std::string FormatProbability(double probability, int significant_digits);
+
 // `value` with a fixed number of decimals ("-0" printed as "0").
 std::string FormatFixed(double value, int decimals);
 

@@ -142,5 +142,17 @@ TEST(FormatSettingTest, NumbersAsAPersonWroteThem) {
   EXPECT_EQ(FormatSetting(-0.5), "-0.5");
 }
 
+// A p-value in scientific notation: the chi-square p of a poor fit seen on a held-out job,
+// 7.1e-49, read "710 × 10⁻⁵¹" in engineering notation (ISO 80000-1 scientific notation, from
+// memory; plain down to 10^-4 like every printed value).
+TEST(FormatProbabilityTest, ScientificBelowPlainRange) {
+  EXPECT_EQ(FormatProbability(7.1e-49, 2), "7.1 × 10⁻⁴⁹");
+  EXPECT_EQ(FormatProbability(9.96e-50, 2), "1.0 × 10⁻⁴⁹");
+  EXPECT_EQ(FormatProbability(3.4e-5, 2), "3.4 × 10⁻⁵");
+  EXPECT_EQ(FormatProbability(0.0123, 2), "0.012");
+  EXPECT_EQ(FormatProbability(0.5, 2), "0.50");
+  EXPECT_EQ(FormatProbability(0.0, 2), "0");
+}
+
 }  // namespace
 }  // namespace sorbtrace::report::internal
