@@ -268,6 +268,7 @@ std::vector<DrawOutcome> RunDraws(int count, int num_threads, const MakeWorker& 
   std::vector<DrawOutcome> outcomes(static_cast<std::size_t>(std::max(0, count)));
   const int threads = std::clamp(num_threads, 1, std::max(1, count));
   std::vector<std::unique_ptr<DrawWorker>> workers;
+  workers.reserve(static_cast<std::size_t>(threads));
   for (int t = 0; t < threads; ++t) workers.push_back(make_worker());
   std::vector<std::exception_ptr> errors(outcomes.size());
   std::atomic<int> next{0};

@@ -140,7 +140,7 @@ void ResolveFile(const JobFileReader& in, const std::filesystem::path& job_dir, 
 // number would break the running header of every page and the CSV rows that quote it).
 std::string ReadIdentifier(const JobFileReader& in, const toml::table& table,
                            std::string_view section, std::string_view what) {
-  const std::string id = *in.String(table, section, "id", true);
+  std::string id = *in.String(table, section, "id", true);
   const bool blank = id.find_first_not_of(" \t") == std::string::npos;
   const bool control = std::any_of(id.begin(), id.end(), [](char c) {
     const auto byte = static_cast<unsigned char>(c);

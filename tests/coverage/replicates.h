@@ -38,6 +38,14 @@ struct Tally {
     sum_u += u;
     errors.push_back(value - truth);
   }
+  // The same for a stated interval [low, high] (a Monte Carlo or bootstrap interval, not
+  // necessarily symmetric about the value).
+  void AddInterval(double value, double truth, double low, double high, double u) {
+    ++count;
+    if (truth >= low && truth <= high) ++inside;
+    sum_u += u;
+    errors.push_back(value - truth);
+  }
   double Coverage() const { return count > 0 ? static_cast<double>(inside) / count : 0.0; }
   // Sample standard deviation of the errors.
   double ErrorSd() const {

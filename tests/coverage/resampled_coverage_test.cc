@@ -35,6 +35,7 @@
 #include "pipeline/fit/fit_stage.h"
 #include "pipeline/reduce/reduce.h"
 #include "tests/coverage/job_generator.h"
+#include "tests/coverage/replicates.h"
 
 namespace sorbtrace::coverage {
 namespace {
@@ -42,33 +43,9 @@ namespace {
 // 200 replicates (the acceptance of issue 13 asks for >= 100): the binomial standard deviation
 // of a 95 % coverage is 1.5 %, so 90-98 % is not left by chance alone. About 12 s (Release).
 constexpr int kReplicates = 200;
-constexpr double kMinCoverage = 0.90;
-constexpr double kMaxCoverage = 0.98;
 constexpr double kCoverageProbability = 0.95;
 // Reference conditions of the datasheet (pores::PoreOptions defaults: 23 degC, 50 and 80 % RH).
 constexpr double kReferenceRh[] = {0.5, 0.8};
-
-struct Tally {
-  int inside = 0;
-  int count = 0;
-  double sum_u = 0.0;
-  std::vector<double> errors;
-  void Add(double value, double truth, double low, double high, double u) {
-    ++count;
-    if (truth >= low && truth <= high) ++inside;
-    sum_u += u;
-    errors.push_back(value - truth);
-  }
-  double Coverage() const { return count > 0 ? static_cast<double>(inside) / count : 0.0; }
-  double Ratio() const {
-    double mean = 0.0;
-    for (double e : errors) mean += e;
-    mean /= static_cast<double>(errors.size());
-    double ss = 0.0;
-    for (double e : errors) ss += (e - mean) * (e - mean);
-    return (sum_u / count) / std::sqrt(ss / static_cast<double>(errors.size() - 1));
-  }
-};
 
 // The moisture content of the GAB curve at rh_fraction for parameters p (X_m, C, K).
 double GabAt(const std::vector<double>& p, double rh_fraction) {
@@ -99,13 +76,13 @@ TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap)
     ASSERT_GE(gab.bootstrap.parameter_draws.size(), 900u);
     for (std::size_t j = 0; j < 3; ++j) {
       const double value = gab.result.parameters[j];
-      tallies[std::string("Monte Carlo ") + names[j]].Add(
+      tallies[std::string("Monte Carlo ") + names[j]].AddInterval(
           value, truth[j], gab.monte_carlo.parameter_low[j], gab.monte_carlo.parameter_high[j],
           gab.monte_carlo.parameter_u[j]);
-      tallies[std::string("bootstrap percentile ") + names[j]].Add(
+      tallies[std::string("bootstrap percentile ") + names[j]].AddInterval(
           value, truth[j], gab.bootstrap.parameter_low[j], gab.bootstrap.parameter_high[j],
           gab.bootstrap.parameter_u[j]);
-      tallies[std::string("bootstrap studentised ") + names[j]].Add(
+      tallies[std::string("bootstrap studentised ") + names[j]].AddInterval(
           value, truth[j], gab.bootstrap.studentized_low[j], gab.bootstrap.studentized_high[j],
           gab.bootstrap.parameter_u[j]);
     }
@@ -117,7 +94,7 @@ TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap)
       const DrawStatistics stats = DrawStatisticsOf(curve, kCoverageProbability);
       tallies["Monte Carlo moisture at " + std::to_string(static_cast<int>(100 * rh + 0.5)) +
               " % RH"]
-          .Add(GabAt(gab.result.parameters, rh), job.truth(rh), stats.low, stats.high,
+          .AddInterval(GabAt(gab.result.parameters, rh), job.truth(rh), stats.low, stats.high,
                stats.standard_uncertainty);
     }
   }
