@@ -742,7 +742,7 @@ int main(int argc, char** argv) {
               "[sampling]\nby = \"customer\"\nplan = \"batch EX-12-0426, retained sample "
               "(fictional)\"\n"});
     const double x80 = excipient.X(0.8);
-    // Ph. Eur. 5.11 classes (thresholds from memory): slightly 0.2-2 %, hygroscopic 2-15 %,
+    // Ph. Eur. 5.11 classes (thresholds: conform::HygroscopicityClasses, sourced there): slightly 0.2-2 %, hygroscopic 2-15 %,
     // very hygroscopic >= 15 % mass increase at 25 degC / 80 % RH.
     const std::string cls = x80 >= 0.15    ? "very hygroscopic"
                             : x80 >= 0.02  ? "hygroscopic"

