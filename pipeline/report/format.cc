@@ -93,12 +93,14 @@ std::string TimesTenTo(int exponent) {
   return exponent == 0 ? "" : " × 10" + plot::Superscript(exponent);
 }
 
-// Decimal place of the last significant digit when u is rounded to n significant digits,
-// after the carry (0.0996 to 2 digits is 0.10: place -2, not -3).
-int UncertaintyPlace(double u, int n) {
-  int place = DecimalExponent(u) - (n - 1);
-  if (RoundAt(u, place).num_digits() > n) ++place;
-  return place;
+// x (finite, not zero) rounded to n significant digits (clamped to 1-15); a carry into a new
+// leading digit keeps n digits by rounding one place higher (9.996 to 3 digits is 10.0, place
+// -1; 0.0996 to 2 digits is 0.10, place -2; 9.96e-50 is 1.0e-49).
+Rounded RoundToSignificant(double x, int n) {
+  n = std::clamp(n, 1, 15);
+  const int place = DecimalExponent(x) - (n - 1);
+  Rounded r = RoundAt(x, place);
+  return r.num_digits() > n ? RoundAt(x, place + 1) : r;
 }
 
 }  // namespace
@@ -111,22 +113,16 @@ std::string FormatFixed(double value, int decimals) {
 std::string FormatSignificant(double value, int significant_digits) {
   if (!std::isfinite(value)) return "n/a";
   if (value == 0.0) return "0";
-  const int n = std::clamp(significant_digits, 1, 15);
-  int place = DecimalExponent(value) - (n - 1);
-  Rounded r = RoundAt(value, place);
-  if (r.num_digits() > n) r = RoundAt(value, ++place);  // 9.996 -> 10.0: one digit fewer
-  const int exponent = NotationExponent(r.top(), place);
+  const Rounded r = RoundToSignificant(value, significant_digits);
+  const int exponent = NotationExponent(r.top(), r.place);
   return Decimal(r, exponent) + TimesTenTo(exponent);
 }
 
 std::string FormatProbability(double probability, int significant_digits) {
   if (!std::isfinite(probability)) return "n/a";
   if (probability == 0.0) return "0";
-  const int n = std::clamp(significant_digits, 1, 15);
-  int place = DecimalExponent(probability) - (n - 1);
-  Rounded r = RoundAt(probability, place);
-  if (r.num_digits() > n) r = RoundAt(probability, ++place);  // 9.96e-50 -> 1.0e-49
-  if (r.top() >= kMinPlainExponent) return FormatSignificant(probability, n);
+  const Rounded r = RoundToSignificant(probability, significant_digits);
+  if (r.top() >= kMinPlainExponent) return FormatSignificant(probability, significant_digits);
   return Decimal(r, r.top()) + TimesTenTo(r.top());
 }
 
@@ -165,7 +161,8 @@ std::string FormatWithUncertainty(double value, double uncertainty, int signific
     return internal::FormatSignificant(value, 4);
   }
   const int n = std::clamp(significant_digits, 1, 4);
-  int place = internal::UncertaintyPlace(uncertainty, n);
+  // U to n significant digits fixes the last printed decimal place (JCGM 100:2008, 7.2.6).
+  int place = internal::RoundToSignificant(uncertainty, n).place;
   internal::Rounded v = internal::RoundAt(value, place);
   internal::Rounded u = internal::RoundAt(uncertainty, place);
   // Digit cap: U rounded up to the value's kMaxValueDigits-th digit (see format.h).
