@@ -16,6 +16,7 @@
 #include "fitters/internal/random.h"
 #include "fitters/internal/statistics.h"
 #include "fitters/registry.h"
+#include "tests/models/synthetic.h"
 
 namespace sorbtrace::fitters {
 namespace {
@@ -710,23 +711,14 @@ TEST(AutoDiffModelTest, GradientAndSlopeMatchAnalyticDerivatives) {
   EXPECT_EQ(model->name(), "decay");
 }
 
-// Invented 20-point isotherm on a GAB curve (X_m 0.05, C 10, K 0.8; GAB form as in
-// R. B. Anderson, J. Am. Chem. Soc. 68 (1946) 686, from memory) with a deterministic scatter
-// of about 2 %, sigma_y = 5e-4 + 0.02 u and u(RH) = 0.005 on every point: the bimodal
-// retention curve describes it only loosely (a sloppy fit, slow Gauss-Newton convergence).
+// The invented GAB isotherm, 20 points with u(RH) = 0.005: the bimodal retention curve
+// describes it only loosely (a sloppy fit, slow Gauss-Newton convergence).
 std::vector<Observation> GabShapedIsothermWithRhErrors() {
-  std::vector<Observation> data;
-  for (int i = 0; i < 20; ++i) {
-    Observation o;
-    o.x = {0.05 + 0.9 * i / 19.0, 0.0};
-    const double ka = 0.8 * o.x[0];
-    const double u = 0.05 * 10.0 * ka / ((1.0 - ka) * (1.0 - ka + 10.0 * ka));
-    o.y = u * (1.0 + 0.02 * std::sin(2.3 * i));
-    o.sigma_y = 5e-4 + 0.02 * u;
-    o.sigma_x0 = 0.005;
-    data.push_back(o);
-  }
-  return data;
+  testing::GabScatterSpec spec;
+  spec.num_points = 20;
+  spec.wiggle_per_point = 2.3;
+  spec.rh_uncertainty = 0.005;
+  return testing::GabPointsWithRhErrors(spec);
 }
 
 // The statistical stopping rule of the refits (ResampleOptions::refit_tolerance_se): every

@@ -15,6 +15,7 @@
 #include "fitters/fitter.h"
 #include "fitters/internal/random.h"
 #include "fitters/registry.h"
+#include "tests/models/synthetic.h"
 
 namespace sorbtrace::fitters {
 namespace {
@@ -39,26 +40,10 @@ void ExpectSameResult(const ResampleResult& a, const ResampleResult& b) {
   EXPECT_EQ(a.refit_iterations, b.refit_iterations);
 }
 
-// Invented 16-point isotherm on a GAB curve (X_m 0.05 kg/kg, C 10, K 0.8; GAB form as in
-// R. B. Anderson, J. Am. Chem. Soc. 68 (1946) 686, from memory) with a deterministic scatter of
-// about 2 %, sigma_y = 5e-4 + 0.02 u and u(RH) = 0.008 on every point (errors in variables).
-std::vector<Observation> GabPointsWithRhErrors() {
-  std::vector<Observation> data;
-  for (int i = 0; i < 16; ++i) {
-    Observation o;
-    o.x = {0.05 + 0.9 * i / 15.0, 0.0};
-    const double ka = 0.8 * o.x[0];
-    const double u = 0.05 * 10.0 * ka / ((1.0 - ka) * (1.0 - ka + 10.0 * ka));
-    o.y = u * (1.0 + 0.02 * std::sin(1.7 * i));
-    o.sigma_y = 5e-4 + 0.02 * u;
-    o.sigma_x0 = 0.008;
-    data.push_back(o);
-  }
-  return data;
-}
-
 // SplitMix64 started at 0 gives 0xE220A8397B1DCDAF, 0x6E789E6AA1B965F4, 0x06C45D188009454F as
-// its first three outputs (S. Vigna, splitmix64.c, prng.di.unimi.it; values from memory).
+// its first three outputs: computed by hand (Python integers mod 2^64) from the reference code
+// splitmix64.c (S. Vigna, 2015, public domain, prng.di.unimi.it; its text as kept in the numpy
+// repository, numpy/random/src/splitmix64/splitmix64.orig.c), not from the code under test.
 TEST(DrawStreamStateTest, IsSplitMix64OfSeedAndIndex) {
   EXPECT_EQ(internal::DrawStreamState(0, 0), 0xE220A8397B1DCDAFULL);
   EXPECT_EQ(internal::DrawStreamState(0, 1), 0x6E789E6AA1B965F4ULL);
@@ -69,8 +54,9 @@ TEST(DrawStreamStateTest, IsSplitMix64OfSeedAndIndex) {
 }
 
 // xoshiro256** from the state {1, 2, 3, 4}: the first ten outputs of the reference code
-// xoshiro256starstar.c (D. Blackman, S. Vigna; values as in the test vectors of Rust's
-// rand_xoshiro crate, from memory).
+// xoshiro256starstar.c (D. Blackman, S. Vigna), as listed in the test "reference" of the Rust
+// crate rand_xoshiro (rust-random/rngs, rand_xoshiro/src/xoshiro256starstar.rs: "produced with
+// the reference implementation").
 TEST(DrawStreamStateTest, Xoshiro256StarStarMatchesTheReferenceOutputs) {
   internal::Xoshiro256StarStar engine = internal::Xoshiro256StarStar::FromState(1, 2, 3, 4);
   const std::uint64_t expected[] = {11520ULL,
@@ -88,7 +74,7 @@ TEST(DrawStreamStateTest, Xoshiro256StarStarMatchesTheReferenceOutputs) {
   internal::Xoshiro256StarStar seeded(0);
   internal::Xoshiro256StarStar same = internal::Xoshiro256StarStar::FromState(
       0xE220A8397B1DCDAFULL, 0x6E789E6AA1B965F4ULL, 0x06C45D188009454FULL,
-      internal::SplitMix64Output(4 * internal::kGoldenGamma));
+      0xF88BB8A8724C81ECULL);  // the fourth output, computed as the first three above
   for (int i = 0; i < 4; ++i) EXPECT_EQ(seeded(), same());
 }
 
@@ -97,7 +83,8 @@ TEST(DrawStreamStateTest, Xoshiro256StarStarMatchesTheReferenceOutputs) {
 TEST(ResampleThreadsTest, ResultIsTheSameForAnyNumberOfThreads) {
   const Model* gab = FindModel("gab");
   ASSERT_NE(gab, nullptr);
-  const std::vector<Observation> data = GabPointsWithRhErrors();
+  // The invented 16-point GAB isotherm, u(RH) = 0.008 on every point (tests/models/synthetic.h).
+  const std::vector<Observation> data = testing::GabPointsWithRhErrors(testing::GabScatterSpec{});
   FitOptions fit_options;
   fit_options.errors_in_variables = true;
   const FitResult fit = FitModel(*gab, data, ModelContext{}, fit_options);
@@ -127,7 +114,7 @@ TEST(ResampleThreadsTest, ResultIsTheSameForAnyNumberOfThreads) {
 TEST(ResampleThreadsTest, ShorterRunIsAPrefixOfALongerOne) {
   const Model* gab = FindModel("gab");
   ASSERT_NE(gab, nullptr);
-  const std::vector<Observation> data = GabPointsWithRhErrors();
+  const std::vector<Observation> data = testing::GabPointsWithRhErrors(testing::GabScatterSpec{});
   FitOptions fit_options;
   const FitResult fit = FitModel(*gab, data, ModelContext{}, fit_options);
   ASSERT_TRUE(fit.ok());

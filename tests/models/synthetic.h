@@ -1,5 +1,6 @@
 // Test helpers: deterministic normal noise (Box-Muller on std::mt19937_64, so the draws do not
-// depend on the standard library's distributions) and synthetic data sets from a model.
+// depend on the standard library's distributions), synthetic data sets from a model and an
+// invented GAB-shaped isotherm with RH errors.
 #pragma once
 
 #include <cmath>
@@ -62,6 +63,30 @@ inline std::vector<Observation> Synthesize(const Model& model, const std::vector
     points.push_back(o);
   }
   return points;
+}
+
+// An invented isotherm on a GAB curve (X_m 0.05 kg/kg, C 10, K 0.8; GAB form as in
+// R. B. Anderson, J. Am. Chem. Soc. 68 (1946) 686, from memory) with errors in variables.
+struct GabScatterSpec {
+  int num_points = 16;            // equally spaced from 5 % to 95 % RH
+  double wiggle_per_point = 1.7;  // y = GAB (1 + 0.02 sin(wiggle_per_point i)), point i
+  double rh_uncertainty = 0.008;  // u(RH) of every point, as a fraction
+};
+
+// The points of `spec`: a deterministic scatter of about 2 %, sigma_y = 5e-4 + 0.02 u.
+inline std::vector<Observation> GabPointsWithRhErrors(const GabScatterSpec& spec) {
+  std::vector<Observation> data;
+  for (int i = 0; i < spec.num_points; ++i) {
+    Observation o;
+    o.x = {0.05 + 0.9 * i / static_cast<double>(spec.num_points - 1), 0.0};
+    const double ka = 0.8 * o.x[0];
+    const double u = 0.05 * 10.0 * ka / ((1.0 - ka) * (1.0 - ka + 10.0 * ka));
+    o.y = u * (1.0 + 0.02 * std::sin(spec.wiggle_per_point * i));
+    o.sigma_y = 5e-4 + 0.02 * u;
+    o.sigma_x0 = spec.rh_uncertainty;
+    data.push_back(o);
+  }
+  return data;
 }
 
 }  // namespace sorbtrace::fitters::testing
