@@ -15,6 +15,8 @@
 namespace sorbtrace::fit {
 namespace {
 
+using testing::AddSpecimenTermToEveryPoint;
+using testing::AdsorptionAndDesorption;
 using testing::AppendBranch;
 using testing::BranchSpec;
 using testing::FindFit;
@@ -280,13 +282,7 @@ TEST(FitStageTest, TwoTemperaturesGiveTwoGroupsAndCloseOnesMerge) {
 }
 
 TEST(FitStageTest, RepeatedRunsAreIdentical) {
-  reduce::ReducedIsotherms reduced;
-  NormalStream noise(10);
-  AppendBranch(BranchSpec{}, &noise, &reduced);
-  BranchSpec desorption;
-  desorption.branch = ingest::Branch::kDesorption;
-  desorption.truth.monolayer_kg_per_kg = 0.06;
-  AppendBranch(desorption, &noise, &reduced);
+  const reduce::ReducedIsotherms reduced = AdsorptionAndDesorption(10);
 
   FitStageOptions options = QuickOptions({"gab", "bet"});
   options.bootstrap_resamples = 60;
@@ -411,18 +407,10 @@ TEST(FitStageTest, SpecimenTermScalesTheMonolayerOnly) {
   spec.noisy = false;
   NormalStream noise(1);
   AppendBranch(spec, &noise, &reduced);
-  reduce::SpecimenTerm term;
-  term.dataset_id = spec.dataset_id;
-  term.specimen_ids = {"A", "B", "C"};
+  reduce::SpecimenTerm& term = AddSpecimenTermToEveryPoint({"A", "B", "C"}, 0.03, 2.0, &reduced);
   term.num_steps = spec.num_points;
-  term.relative_sd = 0.03;
-  term.degrees_of_freedom = 2.0;
-  reduced.specimen_terms.push_back(term);
   for (reduce::IsothermPoint& point : reduced.points) {
-    point.specimen_term = 0;
-    point.specimen_ids = {"A", "B", "C"};
     point.u_specimen_common_kg_per_kg = point.moisture_kg_per_kg * 0.03 / std::sqrt(3.0);
-    point.u_independent_kg_per_kg = point.u_moisture_kg_per_kg;
   }
   const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab"}));
   ASSERT_EQ(fits.groups[0].specimen_factors.size(), 1u);  // three specimens, one pattern
@@ -462,17 +450,7 @@ TEST(FitStageTest, SpecimenMissingAtAStepGetsItsOwnFactor) {
   spec.noisy = false;
   NormalStream noise(1);
   AppendBranch(spec, &noise, &reduced);
-  reduce::SpecimenTerm term;
-  term.dataset_id = spec.dataset_id;
-  term.specimen_ids = {"A", "B"};
-  term.relative_sd = 0.02;
-  term.degrees_of_freedom = 1.0;
-  reduced.specimen_terms.push_back(term);
-  for (reduce::IsothermPoint& point : reduced.points) {
-    point.specimen_term = 0;
-    point.specimen_ids = {"A", "B"};
-    point.u_independent_kg_per_kg = point.u_moisture_kg_per_kg;
-  }
+  AddSpecimenTermToEveryPoint({"A", "B"}, 0.02, 1.0, &reduced);
   reduced.points.back().specimen_ids = {"A"};
   const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab"}));
   const std::vector<SpecimenFactor>& factors = fits.groups[0].specimen_factors;
@@ -496,17 +474,7 @@ ModelFit SpecimenTermMonteCarloFit(double degrees_of_freedom) {
   spec.noisy = false;
   NormalStream noise(1);
   AppendBranch(spec, &noise, &reduced);
-  reduce::SpecimenTerm term;
-  term.dataset_id = spec.dataset_id;
-  term.specimen_ids = {"A", "B", "C"};
-  term.relative_sd = 0.05;
-  term.degrees_of_freedom = degrees_of_freedom;
-  reduced.specimen_terms.push_back(term);
-  for (reduce::IsothermPoint& point : reduced.points) {
-    point.specimen_term = 0;
-    point.specimen_ids = {"A", "B", "C"};
-    point.u_independent_kg_per_kg = point.u_moisture_kg_per_kg;
-  }
+  AddSpecimenTermToEveryPoint({"A", "B", "C"}, 0.05, degrees_of_freedom, &reduced);
   FitStageOptions options = QuickOptions({"gab"});
   options.monte_carlo_draws = 2000;
   const IsothermFits fits = FitIsotherms(reduced, options);

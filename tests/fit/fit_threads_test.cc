@@ -7,14 +7,10 @@
 #include <vector>
 
 #include "pipeline/fit/fit_stage.h"
-#include "tests/fit/fit_test_data.h"
+#include "tests/fit/fit_stage_fixture.h"
 
 namespace sorbtrace::fit {
 namespace {
-
-using testing::AppendBranch;
-using testing::BranchSpec;
-using testing::NormalStream;
 
 bool SameBits(const std::vector<double>& a, const std::vector<double>& b) {
   return a.size() == b.size() &&
@@ -50,24 +46,8 @@ TEST(FitThreadsTest, ThreadsToUse) {
 // Two branches of a noisy synthetic GAB isotherm with RH errors and a specimen term, GAB and
 // Oswin, bootstrap and Monte Carlo: one thread and two give the same fits bit for bit.
 TEST(FitThreadsTest, OneAndTwoThreadsGiveIdenticalFits) {
-  reduce::ReducedIsotherms reduced;
-  NormalStream noise(7);
-  AppendBranch(BranchSpec{}, &noise, &reduced);
-  BranchSpec desorption;
-  desorption.branch = ingest::Branch::kDesorption;
-  desorption.truth.monolayer_kg_per_kg = 0.06;
-  AppendBranch(desorption, &noise, &reduced);
-  reduce::SpecimenTerm term;
-  term.dataset_id = BranchSpec{}.dataset_id;
-  term.specimen_ids = {"A", "B", "C"};
-  term.relative_sd = 0.03;
-  term.degrees_of_freedom = 2.0;
-  reduced.specimen_terms.push_back(term);
-  for (reduce::IsothermPoint& point : reduced.points) {
-    point.specimen_term = 0;
-    point.specimen_ids = {"A", "B", "C"};
-    point.u_independent_kg_per_kg = point.u_moisture_kg_per_kg;
-  }
+  reduce::ReducedIsotherms reduced = testing::AdsorptionAndDesorption(7);
+  testing::AddSpecimenTermToEveryPoint({"A", "B", "C"}, 0.03, 2.0, &reduced);
   FitStageOptions options;
   options.models = {"gab", "oswin"};
   options.bootstrap_resamples = 80;
