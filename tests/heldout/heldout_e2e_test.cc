@@ -247,27 +247,47 @@ std::string LogCsv(const std::vector<LogReading>& rows, const std::string& heade
   return csv;
 }
 
+// Set points from `first_percent` to `last_percent` RH in steps of `step_percent` (negative:
+// drying), each with its GAB moisture content.
+std::vector<LogStep> GabLogSteps(const Gab& truth, int first_percent, int last_percent,
+                                 int step_percent) {
+  std::vector<LogStep> steps;
+  for (int percent = first_percent;
+       step_percent > 0 ? percent <= last_percent : percent >= last_percent;
+       percent += step_percent) {
+    const double rh = percent / 100.0;
+    steps.push_back({rh, truth.At(rh)});
+  }
+  return steps;
+}
+
+// A job of one specimen and one vapour log: job_dir/data/log.csv, lab.toml and job.toml
+// (`head`, the specimen, a vapor_log dataset `dataset_id` at `temperature_C`).
+void WriteLogJob(const fs::path& job_dir, const std::string& log_csv, const std::string& head,
+                 const std::string& specimen_id, const std::string& dataset_id,
+                 double temperature_C) {
+  WriteBytes(job_dir / "data" / "log.csv", log_csv);
+  WriteBytes(job_dir / "lab.toml", kLabProfile);
+  WriteBytes(job_dir / "job.toml", head + "\n[[specimen]]\nid = \"" + specimen_id + "\"\n" +
+                                       "\n[[dataset]]\nid = \"" + dataset_id +
+                                       "\"\nmethod = \"vapor_log\"\nfile = \"data/log.csv\"\n" +
+                                       "temperature_C = " + Fixed(temperature_C, 1) +
+                                       "\nspecimen = \"" + specimen_id + "\"\n");
+}
+
 // A vapour log that starts wet at 90 % and only dries (set points 90 .. 10 %, then 0 % for the
 // dry mass), in hours and grams: the desorption isotherm is recovered.
 TEST(HeldoutJobs, DesorptionOnlyLogInHoursAndGrams) {
   const fs::path dir = FreshDir("heldout", "desorption_log");
   const Gab truth{0.04, 9.0, 0.75};
-  std::vector<LogStep> steps;
-  for (int percent = 90; percent >= 0; percent -= 10) {
-    const double rh = percent / 100.0;
-    steps.push_back({rh, truth.At(rh)});
-  }
   Noise noise(9);
-  const auto rows = RunLog(steps, 0.2, truth.At(0.9) + 0.01, 23.0, 1e-6, &noise);
-  WriteBytes(dir / "job" / "data" / "log.csv",
-             LogCsv(rows, "elapsed_h,set_rh_percent,measured_rh_percent,temperature_C,mass_g",
-                    3600.0, false, false, 1.0));
-  WriteBytes(dir / "job" / "lab.toml", kLabProfile);
-  WriteBytes(dir / "job" / "job.toml",
-             JobHead("HO-DES-LOG", "porous_mineral", "final_drying_step", 0.000001) +
-                 "\n[[specimen]]\nid = \"D1\"\n"
-                 "\n[[dataset]]\nid = \"v23\"\nmethod = \"vapor_log\"\nfile = \"data/log.csv\"\n"
-                 "temperature_C = 23.0\nspecimen = \"D1\"\n");
+  const auto rows =
+      RunLog(GabLogSteps(truth, 90, 0, -10), 0.2, truth.At(0.9) + 0.01, 23.0, 1e-6, &noise);
+  WriteLogJob(dir / "job",
+              LogCsv(rows, "elapsed_h,set_rh_percent,measured_rh_percent,temperature_C,mass_g",
+                     3600.0, false, false, 1.0),
+              JobHead("HO-DES-LOG", "porous_mineral", "final_drying_step", 0.000001), "D1", "v23",
+              23.0);
   const nlohmann::json results = MakeAndCheck(dir / "job");
   ASSERT_FALSE(results.is_null());
   int desorption_points = 0;
@@ -283,22 +303,12 @@ TEST(HeldoutJobs, DesorptionOnlyLogInHoursAndGrams) {
 TEST(HeldoutJobs, FoodPowderWithHighUptakeInMicrograms) {
   const fs::path dir = FreshDir("heldout", "food_powder");
   const Gab truth{0.08, 3.0, 0.95};
-  std::vector<LogStep> steps;
-  for (int percent = 0; percent <= 90; percent += 10) {
-    const double rh = percent / 100.0;
-    steps.push_back({rh, truth.At(rh)});
-  }
   Noise noise(25);
-  const auto rows = RunLog(steps, 0.0102345, 0.01, 25.0, 2e-7, &noise);
-  WriteBytes(dir / "job" / "data" / "log.csv",
-             LogCsv(rows, "elapsed_min,set_rh_fraction,measured_rh_fraction,temperature_K,mass_ug",
-                    60.0, true, true, 1e6));
-  WriteBytes(dir / "job" / "lab.toml", kLabProfile);
-  WriteBytes(dir / "job" / "job.toml",
-             JobHead("HO-FOOD", "food", "desiccant_step", 0.0000002) +
-                 "\n[[specimen]]\nid = \"F1\"\n"
-                 "\n[[dataset]]\nid = \"v25\"\nmethod = \"vapor_log\"\nfile = \"data/log.csv\"\n"
-                 "temperature_C = 25.0\nspecimen = \"F1\"\n");
+  const auto rows = RunLog(GabLogSteps(truth, 0, 90, 10), 0.0102345, 0.01, 25.0, 2e-7, &noise);
+  WriteLogJob(dir / "job",
+              LogCsv(rows, "elapsed_min,set_rh_fraction,measured_rh_fraction,temperature_K,mass_ug",
+                     60.0, true, true, 1e6),
+              JobHead("HO-FOOD", "food", "desiccant_step", 0.0000002), "F1", "v25", 25.0);
   const nlohmann::json results = MakeAndCheck(dir / "job");
   ASSERT_FALSE(results.is_null());
   bool found = false;
@@ -323,15 +333,10 @@ fs::path SmallLogJob(const std::string& name) {
   Noise noise(3);
   const auto rows = RunLog({{0.0, 0.0}, {0.3, truth.At(0.3)}, {0.6, truth.At(0.6)}}, 0.5, 0.01,
                            23.0, 2e-6, &noise);
-  WriteBytes(dir / "data" / "log.csv",
-             LogCsv(rows, "elapsed_s,set_rh_percent,measured_rh_percent,temperature_C,mass_mg", 1.0,
-                    false, false, 1e3));
-  WriteBytes(dir / "lab.toml", kLabProfile);
-  WriteBytes(dir / "job.toml",
-             JobHead("HO-BAD", "other", "desiccant_step", 0.000002) +
-                 "\n[[specimen]]\nid = \"R1\"\n"
-                 "\n[[dataset]]\nid = \"v23\"\nmethod = \"vapor_log\"\nfile = \"data/log.csv\"\n"
-                 "temperature_C = 23.0\nspecimen = \"R1\"\n");
+  WriteLogJob(dir,
+              LogCsv(rows, "elapsed_s,set_rh_percent,measured_rh_percent,temperature_C,mass_mg",
+                     1.0, false, false, 1e3),
+              JobHead("HO-BAD", "other", "desiccant_step", 0.000002), "R1", "v23", 23.0);
   return dir;
 }
 
@@ -390,6 +395,7 @@ TEST(HeldoutBadInputs, StrayBytesInACellAreQuotedEscaped) {
 // refused at its key.
 TEST(HeldoutBadInputs, ReportNumberMustBeVisibleAndPrintable) {
   for (const char* id : {"", "   ", "HO\\nBAD"}) {
+    SCOPED_TRACE(std::string("id = \"") + id + "\"");
     const fs::path job = SmallLogJob("report_number");
     std::string text = ReadBytes(job / "job.toml");
     text.replace(text.find("\"HO-BAD\""), 8, std::string("\"") + id + "\"");
@@ -398,20 +404,35 @@ TEST(HeldoutBadInputs, ReportNumberMustBeVisibleAndPrintable) {
   }
 }
 
-// An existing folder of the user's as --out, or the job folder itself: refused, nothing in
-// either is added, replaced or deleted.
-TEST(HeldoutBadInputs, UserFoldersAreNeverTakenAsOutput) {
-  const fs::path job = SmallLogJob("user_folders");
+// make with --out `out`: exit 3, the refusal says `reason` for that folder, and neither the
+// job folder nor `out` gains, loses or changes a file.
+void ExpectOutputFolderRefused(const fs::path& job, const fs::path& out,
+                               const std::string& reason) {
+  const auto job_before = Snapshot(job);
+  const auto out_before = Snapshot(out);
+  const auto run = Sorbtrace(job, "make job.toml -q --out '" + out.string() + "'");
+  EXPECT_EQ(run.exit_code, 3) << run.output;
+  EXPECT_NE(run.output.find(out.string() + ": error: output folder refused: " + reason),
+            std::string::npos)
+      << run.output;
+  EXPECT_EQ(Snapshot(out), out_before) << "the refused folder changed";
+  EXPECT_EQ(Snapshot(job), job_before) << "an input changed";
+}
+
+// An existing folder of the user's as --out: refused (sorbtrace did not write it), its file
+// kept.
+TEST(HeldoutBadInputs, AUserFolderIsNeverTakenAsOutput) {
+  const fs::path job = SmallLogJob("user_folder");
   const fs::path mine = job.parent_path() / "my_results";
   WriteBytes(mine / "notes.txt", "precious\n");
-  const auto job_before = Snapshot(job);
-  for (const fs::path& out : {mine, job}) {
-    const auto run = Sorbtrace(job, "make job.toml -q --out '" + out.string() + "'");
-    EXPECT_EQ(run.exit_code, 3) << run.output;
-    EXPECT_NE(run.output.find("output folder refused"), std::string::npos) << run.output;
-  }
+  ExpectOutputFolderRefused(job, mine, "it exists and was not written by sorbtrace");
   EXPECT_EQ(Snapshot(mine), (std::map<std::string, std::string>{{"notes.txt", "precious\n"}}));
-  EXPECT_EQ(Snapshot(job), job_before);
+}
+
+// The job folder itself as --out (make runs in it): refused as the current folder.
+TEST(HeldoutBadInputs, TheJobFolderIsNeverTakenAsOutput) {
+  const fs::path job = SmallLogJob("job_folder");
+  ExpectOutputFolderRefused(job, job, "it is or contains the current folder");
 }
 
 }  // namespace
