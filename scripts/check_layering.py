@@ -24,6 +24,9 @@ import os
 import re
 import sys
 
+sys.dont_write_bytecode = True  # no __pycache__ in the source tree
+import source_tree  # noqa: E402 (scripts/source_tree.py, beside this script)
+
 STAGES = ["ingest", "equilibrate", "reduce", "fit", "pores", "report", "run"]
 # Library folder -> name of its library in the build (sorbtrace_<name>).
 FOLDERS = {f"pipeline/{s}": s for s in STAGES}
@@ -78,12 +81,10 @@ def allowed(from_folder, to_folder, header, public):
 
 
 def project_files(root):
+    """Repository paths of the C++ sources of every library folder, in a fixed order."""
     for folder in sorted(FOLDERS):
-        for base, dirs, files in os.walk(os.path.join(root, folder)):
-            dirs.sort()
-            for name in sorted(files):
-                if name.endswith((".cc", ".h")):
-                    yield os.path.relpath(os.path.join(base, name), root).replace(os.sep, "/")
+        for path in source_tree.cpp_files(os.path.join(root, folder)):
+            yield os.path.relpath(path, root).replace(os.sep, "/")
 
 
 def violations(root, public):

@@ -22,6 +22,9 @@ import os
 import re
 import sys
 
+sys.dont_write_bytecode = True  # no __pycache__ in the source tree
+import source_tree  # noqa: E402 (scripts/source_tree.py, beside this script)
+
 KEYWORDS_NOT_FUNCTION = re.compile(r"\b(class|struct|enum|union|namespace)\b")
 CONTROL = re.compile(r"^\s*(if|for|while|switch|catch|do|else)\b")
 
@@ -111,12 +114,10 @@ def functions(path):
 
 
 def sources(paths):
+    """The files named and the C++ sources below the folders named."""
     for p in paths:
         if os.path.isdir(p):
-            for root, _, files in sorted(os.walk(p)):
-                for name in sorted(files):
-                    if name.endswith((".cc", ".h")):
-                        yield os.path.join(root, name)
+            yield from source_tree.cpp_files(p)
         else:
             yield p
 
