@@ -36,6 +36,15 @@ std::string JobHead(const std::string& id, const std::string& material_class,
          "temperature_standard_uncertainty_K = 0.2\n";
 }
 
+// A job folder: `data` as job_dir/data/`data_name`, the laboratory profile lab.toml and
+// `job_toml` as job.toml.
+void WriteJobFolder(const fs::path& job_dir, const std::string& data_name, const std::string& data,
+                    const std::string& job_toml) {
+  WriteBytes(job_dir / "data" / data_name, data);
+  WriteBytes(job_dir / "lab.toml", kLabProfile);
+  WriteBytes(job_dir / "job.toml", job_toml);
+}
+
 // Every string in a results.json (the sheet's cells as printed are among them).
 void CollectStrings(const nlohmann::json& node, std::vector<std::string>* out) {
   if (node.is_string()) {
@@ -153,13 +162,12 @@ TEST(HeldoutJobs, SpecimensWhoseStepNumbersDifferAreCombinedPerCondition) {
            Fixed(w.temperature_C, 1) + "," + IsoStamp(w.minute, "+01:00") + "," +
            Fixed(w.mass_g, 4) + "\n";
   }
-  WriteBytes(dir / "job" / "data" / "w.csv", csv);
-  WriteBytes(dir / "job" / "lab.toml", kLabProfile);
-  WriteBytes(dir / "job" / "job.toml",
-             JobHead("HO-STEPS", "other", "oven", 0.00012) +
-                 "\n[[specimen]]\nid = \"M1\"\ndry_mass_g = 8.0001\n\n[[specimen]]\nid = \"M2\"\n"
-                 "\n[[dataset]]\nid = \"d23\"\nmethod = \"desiccator\"\nfile = \"data/w.csv\"\n"
-                 "temperature_C = 23.0\n");
+  WriteJobFolder(
+      dir / "job", "w.csv", csv,
+      JobHead("HO-STEPS", "other", "oven", 0.00012) +
+          "\n[[specimen]]\nid = \"M1\"\ndry_mass_g = 8.0001\n\n[[specimen]]\nid = \"M2\"\n"
+          "\n[[dataset]]\nid = \"d23\"\nmethod = \"desiccator\"\nfile = \"data/w.csv\"\n"
+          "temperature_C = 23.0\n");
   const nlohmann::json results = MakeAndCheck(dir / "job");
   ASSERT_FALSE(results.is_null());
   const auto& points = results["isotherm"]["points"];
@@ -209,14 +217,12 @@ TEST(HeldoutJobs, SpreadsheetExportAt30CWithHysteresis) {
            ";" + w.specimen + ";" + temperature + "\r\n";
   }
   csv += "\r\n\r\n";
-  WriteBytes(dir / "job" / "data" / "w.csv", csv);
-  WriteBytes(dir / "job" / "lab.toml", kLabProfile);
-  WriteBytes(dir / "job" / "job.toml",
-             JobHead("HO-EURO-30", "porous_mineral", "oven", 0.0001) +
-                 "\n[[specimen]]\nid = \"A\"\ndry_mass_g = 20.5\n"
-                 "\n[[dataset]]\nid = \"d30\"\nmethod = \"desiccator\"\nfile = \"data/w.csv\"\n"
-                 "temperature_C = 30.0\ndelimiter = \";\"\ndecimal_comma = true\n"
-                 "datetime_format = \"%d.%m.%Y %H:%M\"\n");
+  WriteJobFolder(dir / "job", "w.csv", csv,
+                 JobHead("HO-EURO-30", "porous_mineral", "oven", 0.0001) +
+                     "\n[[specimen]]\nid = \"A\"\ndry_mass_g = 20.5\n"
+                     "\n[[dataset]]\nid = \"d30\"\nmethod = \"desiccator\"\nfile = \"data/w.csv\"\n"
+                     "temperature_C = 30.0\ndelimiter = \";\"\ndecimal_comma = true\n"
+                     "datetime_format = \"%d.%m.%Y %H:%M\"\n");
   const nlohmann::json results = MakeAndCheck(dir / "job");
   ASSERT_FALSE(results.is_null());
   EXPECT_EQ(results["isotherm"]["points"].size(), 9u);
@@ -261,18 +267,16 @@ std::vector<LogStep> GabLogSteps(const Gab& truth, int first_percent, int last_p
   return steps;
 }
 
-// A job of one specimen and one vapour log: job_dir/data/log.csv, lab.toml and job.toml
-// (`head`, the specimen, a vapor_log dataset `dataset_id` at `temperature_C`).
+// A job folder of one specimen and one vapour log, data/log.csv: job.toml is `head`, the
+// specimen and a vapor_log dataset `dataset_id` at `temperature_C`.
 void WriteLogJob(const fs::path& job_dir, const std::string& log_csv, const std::string& head,
                  const std::string& specimen_id, const std::string& dataset_id,
                  double temperature_C) {
-  WriteBytes(job_dir / "data" / "log.csv", log_csv);
-  WriteBytes(job_dir / "lab.toml", kLabProfile);
-  WriteBytes(job_dir / "job.toml", head + "\n[[specimen]]\nid = \"" + specimen_id + "\"\n" +
-                                       "\n[[dataset]]\nid = \"" + dataset_id +
-                                       "\"\nmethod = \"vapor_log\"\nfile = \"data/log.csv\"\n" +
-                                       "temperature_C = " + Fixed(temperature_C, 1) +
-                                       "\nspecimen = \"" + specimen_id + "\"\n");
+  WriteJobFolder(
+      job_dir, "log.csv", log_csv,
+      head + "\n[[specimen]]\nid = \"" + specimen_id + "\"\n" + "\n[[dataset]]\nid = \"" +
+          dataset_id + "\"\nmethod = \"vapor_log\"\nfile = \"data/log.csv\"\n" +
+          "temperature_C = " + Fixed(temperature_C, 1) + "\nspecimen = \"" + specimen_id + "\"\n");
 }
 
 // A vapour log that starts wet at 90 % and only dries (set points 90 .. 10 %, then 0 % for the
@@ -376,16 +380,14 @@ TEST(HeldoutBadInputs, EndlessLineIsRefusedWhereItPassesTheLimit) {
 // A specimen cell with bytes that are not UTF-8: quoted escaped, never raw.
 TEST(HeldoutBadInputs, StrayBytesInACellAreQuotedEscaped) {
   const fs::path dir = FreshDir("heldout", "stray_bytes") / "job";
-  WriteBytes(dir / "data" / "w.csv",
-             "specimen,step,atmosphere,branch,weighed_at,mass_g\n"
-             "S\xFF\xFE"
-             "1,1,NaCl,adsorption,2026-03-02T09:00,10.1000\n");
-  WriteBytes(dir / "lab.toml", kLabProfile);
-  WriteBytes(dir / "job.toml",
-             JobHead("HO-BYTES", "other", "oven", 0.0001) +
-                 "\n[[specimen]]\nid = \"S1\"\ndry_mass_g = 10.0\n"
-                 "\n[[dataset]]\nid = \"d23\"\nmethod = \"desiccator\"\nfile = \"data/w.csv\"\n"
-                 "temperature_C = 23.0\n");
+  WriteJobFolder(dir, "w.csv",
+                 "specimen,step,atmosphere,branch,weighed_at,mass_g\n"
+                 "S\xFF\xFE"
+                 "1,1,NaCl,adsorption,2026-03-02T09:00,10.1000\n",
+                 JobHead("HO-BYTES", "other", "oven", 0.0001) +
+                     "\n[[specimen]]\nid = \"S1\"\ndry_mass_g = 10.0\n"
+                     "\n[[dataset]]\nid = \"d23\"\nmethod = \"desiccator\"\nfile = \"data/w.csv\"\n"
+                     "temperature_C = 23.0\n");
   ExpectRefused(dir, "data/w.csv:2:1", "specimen 'S\\xff\\xfe1' is not declared");
   const auto run = Sorbtrace(dir, "check job.toml");
   EXPECT_EQ(run.output.find('\xFF'), std::string::npos) << "a raw 0xFF byte reached the terminal";
