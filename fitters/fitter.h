@@ -255,6 +255,18 @@ struct ResampleOptions {
 //    + sigma_y_i e*_j n_yi (the residual bootstrap of Davison & Hinkley sec. 6.2.3 applied to that
 //    reduced regression). Without a fitted t_i, n_i = (0, 1) and this is the plain residual
 //    bootstrap above;
+//    Residual scale: every residual bootstrap draw multiplies its drawn residuals by one factor
+//    w* = sqrt(nu / chi2*_nu), nu = n - p (ResidualScaleVariate in resample.cc): the pool's
+//    spread is the residual scale s estimated from nu residuals, and a bootstrap that keeps it
+//    fixed treats s as the true error scale; its percentile intervals then cut the estimates'
+//    spread at normal-like points and under-cover by about P(|t_nu| <= 1.96) (0.934 at nu = 17,
+//    0.86 at nu = 3; measured 0.92 and 0.84 in tests/models/gab_eiv_coverage_test.cc and
+//    tests/coverage/resampled_coverage_test.cc before the factor). Drawing sigma / s from its
+//    distribution given s (nu s^2 / sigma^2 ~ chi2_nu; the posterior under p(sigma) ~ 1 / sigma,
+//    Gelman et al., Bayesian Data Analysis, 3rd ed. 2013, sec. 14.2, from memory) makes the
+//    draws of a linear model t_nu-wide, as the Student-t interval of the same fit: the scale's
+//    own uncertainty, drawn as JCGM 101:2008 6.4.9.7 draws a Type A input's. The studentised
+//    pivot divides the factor out (se* carries it too);
 //  - case bootstrap: n points drawn with replacement;
 //  - Monte Carlo (JCGM 101:2008): y*_i ~ N(y_i, u_y_i), x0*_i ~ N(x0_i, u_x0_i) with u = sigma
 //    under kAbsolute and u = s * sigma under kRelative (the sigmas are then only weights).
@@ -264,12 +276,15 @@ struct ResampleOptions {
 // T*_bj = (p*_bj - p_hat_j) / se*_bj; the interval is
 // [p_hat_j - T*_j(1 - a/2) se_hat_j, p_hat_j - T*_j(a/2) se_hat_j], se_hat from the full-data
 // fit in the same form (B. Efron and R. J. Tibshirani 1993, An Introduction to the Bootstrap,
-// sec. 12.5; Davison & Hinkley 1997, sec. 5.2.1). The percentile interval cuts the estimates'
-// spread at normal-like points and so under-covers when n - p is small (about
-// P(|t_(n-p)| <= 1.96), 0.926 at n - p = 12); the studentised one carries the t-like tails of
-// the estimated scatter and also corrects for skewness. The studentisation always uses the
+// sec. 12.5; Davison & Hinkley 1997, sec. 5.2.1). The percentile interval gets the t-like tails
+// of the estimated scatter from the residual scale draw (above); the studentised one from its
+// pivot, and it also corrects for skewness. The studentisation always uses the
 // residual-variance-scaled covariance (whatever FitOptions::weights says), since the
-// resampled residuals carry the observed scatter, not the stated sigmas.
+// resampled residuals carry the observed scatter, not the stated sigmas. Not formed where
+// common factors are drawn (ResampleOptions::common_factors): a factor moves p*_bj but is not in
+// se*_bj (the refit's covariance knows only the residuals), so T* would not be a pivot (measured
+// in tests/coverage/resampled_coverage_test.cc, three specimens: 97.5-98.5 % coverage for 95 %
+// intervals); ResampleResult::studentized_not_formed then says so.
 struct ResampleResult {
   std::vector<std::vector<double>> parameter_draws;  // successful refits, each of size p
   std::vector<double> parameter_low;                 // percentile interval per parameter
@@ -277,10 +292,13 @@ struct ResampleResult {
   std::vector<double> studentized_low;  // bootstrap-t interval per parameter (NaN: not formed)
   std::vector<double> studentized_high;
   int num_studentized = 0;  // refits that gave a covariance (the T* sample size)
-  // Per parameter: u = U / k from the draws' percentile interval at
-  // ResampleOptions::confidence_level (DrawStatisticsOf: U its half-width, k the normal quantile,
-  // so u is the draws' standard deviation when they are normal, and finite when they are drawn
-  // with a t factor of nu <= 2 that has no standard deviation). NaN with fewer than two draws.
+  // Empty where the studentised intervals were formed (or the kind has none: Monte Carlo); else
+  // why not (kStudentizedWithCommonFactor).
+  std::string studentized_not_formed;
+  // Per parameter: u, the half-width of the draws' central 68.27 % interval (DrawStatisticsOf:
+  // the draws' standard deviation when they are normal, finite when they are drawn with a t
+  // factor of nu <= 2 that has no standard deviation; [parameter_low, parameter_high] is the
+  // interval at ResampleOptions::confidence_level). NaN with fewer than two draws.
   std::vector<double> parameter_u;
   int num_failed = 0;  // refits that did not converge
   // Solver iterations summed over all refits (successful and unsuccessful steps, as
@@ -297,6 +315,11 @@ struct ResampleResult {
   // as failed (num_failed = num_resamples).
   std::string not_formed;
 };
+
+// ResampleResult::studentized_not_formed where common factors are drawn.
+inline constexpr const char* kStudentizedWithCommonFactor =
+    "not formed: a common factor (specimen or cycle term) moves the refits but not their "
+    "standard errors, so the studentised statistic is no pivot";
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
                         const ModelContext& context, const FitResult& full_fit,

@@ -310,6 +310,22 @@ double FactorVariate(internal::Random& random, double nu) {
   return StudentTVariate(random.Uniform(), nu);
 }
 
+// One draw of the residual bootstrap's scale factor w = sqrt(nu / chi2_nu), chi2_nu the sum of
+// nu squared standard normal deviates (see fitter.h, "residual scale"): the ratio sigma / s of
+// the error scale to the scale s estimated from nu = n - p residuals, drawn from its
+// distribution given s (the posterior of sigma^2, nu s^2 / chi2_nu, of a normal regression
+// under the prior p(sigma) ~ 1 / sigma: A. Gelman et al., Bayesian Data Analysis, 3rd ed.
+// 2013, sec. 14.2, eq. 14.7; from memory). The parameters of a linear model drawn with it are
+// t_nu-distributed about their estimates, as the Student-t interval states them.
+double ResidualScaleVariate(internal::Random& random, int nu) {
+  double chi2 = 0.0;
+  for (int k = 0; k < nu; ++k) {
+    const double z = random.Normal();
+    chi2 += z * z;
+  }
+  return chi2 > 0.0 ? std::sqrt(static_cast<double>(nu) / chi2) : 1.0;
+}
+
 }  // namespace
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
@@ -389,14 +405,16 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
       se_hat[j] = full_fit.estimates[j].standard_error * (relative ? 1.0 : s_hat);
     }
   }
-  const bool studentize_ok = studentize && std::all_of(se_hat.begin(), se_hat.end(), [](double se) {
-                               return std::isfinite(se) && se > 0.0;
-                             });
   // Relative shift sum_k w_ik z_k of each observation in this resample (common factors).
   const bool common = std::any_of(
       options.common_factors.begin(), options.common_factors.end(), [n](const CommonFactor& f) {
         return f.weights.size() == n && f.relative_standard_uncertainty > 0.0;
       });
+  // A common factor moves p* without entering se*: the pivot would not be one (fitter.h).
+  if (studentize && common) result.studentized_not_formed = kStudentizedWithCommonFactor;
+  const bool studentize_ok = studentize && !common &&
+                             std::all_of(se_hat.begin(), se_hat.end(),
+                                         [](double se) { return std::isfinite(se) && se > 0.0; });
 
   // Draw b: its data from its own random stream (internal::DrawStreamState), its refit on the
   // worker's workspace (every Solve starts afresh from the given start: no state carries over
@@ -422,10 +440,11 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
     }
     std::vector<Observation>& data = workspace.data();
     switch (options.kind) {
-      case ResampleKind::kResidualBootstrap:
+      case ResampleKind::kResidualBootstrap: {
+        const double scale = ResidualScaleVariate(random, dof);
         for (std::size_t i = 0; i < n; ++i) {
           data[i] = observations[i];
-          const double e = pool.residual[random.Index(n)];
+          const double e = scale * pool.residual[random.Index(n)];
           drawn_y[i] =
               e * pool.normal_y[i] + full_fit.fitted[i] * shift[i] / observations[i].sigma_y;
           drawn_x[i] = e * pool.normal_x[i];
@@ -440,6 +459,7 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
           warm.Backtrack(model, data, context, full_fit, &start, &x0_start);
         }
         break;
+      }
       case ResampleKind::kCaseBootstrap:
         for (std::size_t i = 0; i < n; ++i) {
           source[i] = random.Index(n);

@@ -12,6 +12,19 @@
 // finite for every nu > 0. JCGM 101:2008 7.7 states the coverage interval from the draws'
 // order statistics; the probabilistically symmetric interval (7.7.1: equal probability
 // (1 - p) / 2 in each tail) is used here.
+//
+// The standard uncertainty u is the half-width of the central interval of probability
+// P1 = erf(1 / sqrt(2)) = 0.682689... (the probability within one standard deviation of a
+// normal distribution): the standard deviation for normal draws, and for the t_nu(x_bar,
+// s^2 / n) of a Type A input about s / sqrt(n) itself (the 84.13 % point of t_nu is 1.32 for
+// nu = 2, 1.09 for nu = 5, against 1 for the normal), i.e. close to the GUM's standard
+// uncertainty of that input, which JCGM 100:2008 G.3 states as s / sqrt(n) and widens only
+// through the coverage factor t_nu. The half-width U of the 95 % interval over u is then the
+// draws' own coverage factor (1.96 for normal draws, 3.26 for t_2): heavy tails show in k, not
+// in u. A choice of this project (JCGM 101 gives u as the standard deviation, 7.6, which does
+// not exist for nu <= 2); measured in tests/coverage/resampled_coverage_test.cc: with three
+// specimens (nu <= 2) the percentile-based U / 1.96 was 1.9 times the scatter of the estimates
+// it describes, this u 1.1-1.3 times.
 #pragma once
 
 #include <algorithm>
@@ -21,8 +34,6 @@
 #include <limits>
 #include <span>
 #include <vector>
-
-#include "pipeline/common/student_t.h"
 
 namespace sorbtrace {
 
@@ -38,15 +49,20 @@ struct DrawStatistics {
   double high = std::numeric_limits<double>::quiet_NaN();
   // U = (high - low) / 2: the half-width of that interval.
   double expanded_uncertainty = 0.0;
-  // k = z_{(1+p)/2}, the standard normal quantile (1.960 for p = 0.95): the factor that turns
-  // the half-width of a normal distribution's symmetric p interval into its standard deviation.
-  double coverage_factor = 0.0;
-  // u = U / k: for normally distributed draws the standard deviation (to within the sampling
-  // error of the quantiles), for heavier tails (t with few degrees of freedom) larger, so that
-  // u times a coverage factor of about 2 still spans the draws' 95 % interval. 0 with fewer
-  // than two finite draws (nothing to state).
+  // u: the half-width of the central interval of probability kOneSigmaProbability (see the file
+  // comment): the standard deviation for normal draws (to within the sampling error of the
+  // quantiles), finite for draws that have none. 0 with fewer than two finite draws or draws
+  // whose central interval has zero width (nothing to state).
   double standard_uncertainty = 0.0;
+  // k = U / u: the draws' own coverage factor for p (1.96 for normal draws, larger for heavy
+  // tails); 0 where u is 0. A statement "value +- k' u" covers the draws' p interval for every
+  // k' >= k (CoverageFactorOfDraws).
+  double coverage_factor = 0.0;
 };
+
+// erf(1 / sqrt(2)): the probability of a normal distribution within one standard deviation of
+// its mean (Abramowitz & Stegun 1964, 26.2.2 and Table 26.1: P(1) = 0.682689492).
+inline constexpr double kOneSigmaProbability = 0.6826894921370859;
 
 namespace internal {
 
@@ -62,14 +78,12 @@ inline double SortedQuantile(const std::vector<double>& sorted, double q) {
 
 }  // namespace internal
 
-// The reduction of draws to {central value, coverage interval, U, u = U / k, k} at coverage
+// The reduction of draws to {central value, coverage interval, U, u, k = U / u} at coverage
 // probability p in (0, 1) (see DrawStatistics). Non-finite draws are left out (a refit that
 // diverged is no draw of the quantity).
 inline DrawStatistics DrawStatisticsOf(std::span<const double> draws, double coverage_probability) {
   DrawStatistics s;
   s.coverage_probability = coverage_probability;
-  s.coverage_factor =
-      StudentTCoverageFactor(std::numeric_limits<double>::infinity(), coverage_probability);
   std::vector<double> sorted;
   sorted.reserve(draws.size());
   for (double v : draws) {
@@ -84,8 +98,21 @@ inline DrawStatistics DrawStatisticsOf(std::span<const double> draws, double cov
   s.high = internal::SortedQuantile(sorted, 1.0 - tail);
   if (s.count < 2) return s;
   s.expanded_uncertainty = 0.5 * (s.high - s.low);
-  s.standard_uncertainty = s.expanded_uncertainty / s.coverage_factor;
+  const double one_sigma_tail = 0.5 * (1.0 - kOneSigmaProbability);
+  s.standard_uncertainty = 0.5 * (internal::SortedQuantile(sorted, 1.0 - one_sigma_tail) -
+                                  internal::SortedQuantile(sorted, one_sigma_tail));
+  if (s.standard_uncertainty > 0.0) {
+    s.coverage_factor = s.expanded_uncertainty / s.standard_uncertainty;
+  }
   return s;
+}
+
+// The coverage factor of a statement "value +- k u" of draws reduced by DrawStatisticsOf: the
+// larger of the nominal k (the sheet's, e.g. 2) and the draws' own U / u
+// (DrawStatistics::coverage_factor; 0 = none), so that the stated interval is never narrower
+// than the draws' coverage interval (heavy tails widen k, not u).
+inline double CoverageFactorOfDraws(double draws_coverage_factor, double nominal_k) {
+  return std::max(nominal_k, draws_coverage_factor);
 }
 
 // One draw of the standard Student-t distribution with nu > 0 degrees of freedom (any real nu,

@@ -263,8 +263,9 @@ PoreDistribution ModelPoreDistribution(const ModelCurve& curve, ingest::Branch b
   }
   d.band_draws_used = static_cast<int>(used);
   if (used == 0) d.band_source = "none";
-  d.u_total_resolved_volume_m3_per_kg =
-      DrawStatisticsOf(draw_total, options.band_confidence_level).standard_uncertainty;
+  const DrawStatistics total_spread = DrawStatisticsOf(draw_total, options.band_confidence_level);
+  d.u_total_resolved_volume_m3_per_kg = total_spread.standard_uncertainty;
+  d.k_total_resolved_volume = total_spread.coverage_factor;
 
   const double tail = 0.5 * (1.0 - options.band_confidence_level);
   QuantileScratch scratch;

@@ -153,7 +153,9 @@ std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
     ModalRadius mode;
     mode.radius_m = std::pow(10.0, nominal.x);
     mode.dv_dlogr_m3_per_kg = nominal.y;
-    mode.u_radius_m = DrawStatisticsOf(radii, options.band_confidence_level).standard_uncertainty;
+    const DrawStatistics spread = DrawStatisticsOf(radii, options.band_confidence_level);
+    mode.u_radius_m = spread.standard_uncertainty;
+    mode.coverage_factor = spread.coverage_factor;
     modes.push_back(mode);
   }
   return modes;
@@ -167,8 +169,9 @@ void DecadeUncertainties(const std::vector<std::vector<DecadeFraction>>& draw_de
     for (const std::vector<DecadeFraction>& draw : draw_decades) {
       if (k < draw.size()) values.push_back(draw[k].volume_fraction);
     }
-    (*decades)[k].u_volume_fraction =
-        DrawStatisticsOf(values, coverage_probability).standard_uncertainty;
+    const DrawStatistics spread = DrawStatisticsOf(values, coverage_probability);
+    (*decades)[k].u_volume_fraction = spread.standard_uncertainty;
+    (*decades)[k].coverage_factor = spread.coverage_factor;
   }
 }
 

@@ -20,9 +20,10 @@ std::vector<DecadeFraction> DecadeFractions(const std::vector<double>& edges_log
                                             const std::vector<double>& interval_volume,
                                             double total);
 
-// Each decade's u(volume fraction) from the draws' fractions: u = U / k of their
-// probabilistically symmetric interval at coverage_probability (DrawStatisticsOf,
-// pipeline/common/draw_statistics.h; the draws' standard deviation for normal draws).
+// Each decade's u(volume fraction) and coverage factor from the draws' fractions: the half-width
+// of their central 68.27 % interval and U / u of their probabilistically symmetric interval at
+// coverage_probability (DrawStatisticsOf, pipeline/common/draw_statistics.h; the draws' standard
+// deviation and 1.96 for normal draws).
 void DecadeUncertainties(const std::vector<std::vector<DecadeFraction>>& draw_decades,
                          double coverage_probability, std::vector<DecadeFraction>* decades);
 
@@ -54,7 +55,7 @@ struct DrawTable {
 //  - present in the draws: in at least options.band_confidence_level of the draws the maximum
 //    of that draw over [L, R] lies inside the window (not on L or R).
 // Position: the vertex of the parabola through the maximum and its two neighbours, in the
-// nominal curve and in each draw; u(r) = U / k of the draws' positions (DrawStatisticsOf at
+// nominal curve and in each draw; u(r) and k of the draws' positions (DrawStatisticsOf at
 // options.band_confidence_level: percentile-based, finite also for draws without a variance,
 // the standard deviation for normal draws). For a
 // histogram of measured steps (step_width_log_r: the width in log10 r of each node's bar, a

@@ -159,10 +159,14 @@ struct PoreStep {
 // bars that could be as high, and the interpolation's model terms: stepwise.cc).
 struct ModalRadius {
   double radius_m = 0.0;
-  // Standard uncertainty from the draws: U / k of their 95 % percentile interval
+  // Standard uncertainty from the draws: the half-width of their central 68.27 % interval
   // (DrawStatisticsOf, pipeline/common/draw_statistics.h; the standard deviation for normal
   // draws, finite also for draws that have none).
   double u_radius_m = 0.0;
+  // The draws' own coverage factor U95 / u (DrawStatistics::coverage_factor; 1.96 for normal
+  // draws, larger for heavy tails); 0: u is not from draws alone (the sheet's k applies). The
+  // sheet states k = max(its k, this) (CoverageFactorOfDraws).
+  double coverage_factor = 0.0;
   double dv_dlogr_m3_per_kg = 0.0;
 };
 
@@ -172,6 +176,7 @@ struct DecadeFraction {
   double radius_high_m = 0.0;
   double volume_fraction = 0.0;
   double u_volume_fraction = 0.0;  // DrawStatisticsOf over the same draws as the band; 0: none
+  double coverage_factor = 0.0;    // the draws' U95 / u (as ModalRadius::coverage_factor)
 };
 
 struct PoreDistribution {
@@ -185,6 +190,8 @@ struct PoreDistribution {
   std::vector<ModalRadius> modes;
   double total_resolved_volume_m3_per_kg = 0.0;
   double u_total_resolved_volume_m3_per_kg = 0.0;
+  // The draws' U95 / u of the total (as ModalRadius::coverage_factor); 0: the sheet's k.
+  double k_total_resolved_volume = 0.0;
   double adsorbed_volume_m3_per_kg = 0.0;      // below min_radius_m: not Kelvin-resolved
   double not_resolved_volume_m3_per_kg = 0.0;  // above the largest resolved radius (if known)
   double resolved_radius_min_m = 0.0;

@@ -242,6 +242,7 @@ Json ResampleJson(const fitters::ResampleResult& r) {
           {"num_studentized", r.num_studentized},
           {"studentized_low", NumberArray(r.studentized_low)},
           {"studentized_high", NumberArray(r.studentized_high)},
+          {"studentized_not_formed", r.studentized_not_formed},
           {"parameter_u", NumberArray(r.parameter_u)}};
 }
 
@@ -378,7 +379,8 @@ Json DistributionJson(const DistributionRecord& record) {
     decades.push_back({{"radius_low_m", Number(f.radius_low_m)},
                        {"radius_high_m", Number(f.radius_high_m)},
                        {"volume_fraction", Number(f.volume_fraction)},
-                       {"u_volume_fraction", Number(f.u_volume_fraction)}});
+                       {"u_volume_fraction", Number(f.u_volume_fraction)},
+                       {"draws_coverage_factor", Number(f.coverage_factor)}});
   }
   return {
       {"method", d.method},

@@ -7,6 +7,7 @@
 #include <set>
 #include <utility>
 
+#include "pipeline/common/draw_statistics.h"
 #include "pipeline/physics/physics.h"
 #include "pipeline/report/format.h"
 #include "pipeline/report/internal/reader_text.h"
@@ -183,6 +184,14 @@ Quantity MakeQuantity(std::string key, std::string label, double value, double s
                                           rules.significant_digits),
                     q.display_unit);
   return q;
+}
+
+Quantity DrawnQuantity(std::string key, std::string label, double value,
+                       double standard_uncertainty, double draws_coverage_factor, std::string unit,
+                       double display_scale, std::string display_unit, DisplayRules rules) {
+  rules.coverage_factor = CoverageFactorOfDraws(draws_coverage_factor, rules.coverage_factor);
+  return MakeQuantity(std::move(key), std::move(label), value, standard_uncertainty,
+                      std::move(unit), display_scale, std::move(display_unit), rules);
 }
 
 Quantity MoistureQuantity(std::string key, std::string label, double value_kg_per_kg,
@@ -579,14 +588,14 @@ void AddPoreVolumes(const pores::PoreAnalysis& pa, Sheet& sheet) {
     const std::string what = BranchTemperatureLabel(pd.branch, pd.temperature_K) + ", " + pd.method;
     // 1 m3/kg = 1e6 mm3/g; 1 m = 1e9 nm.
     sheet.headline.push_back(
-        MakeQuantity("pore_volume_" + tag, "Kelvin-resolved pore volume (" + what + ")",
-                     pd.total_resolved_volume_m3_per_kg, pd.u_total_resolved_volume_m3_per_kg,
-                     "m3/kg", 1e6, "mm³/g", sheet.rules));
+        DrawnQuantity("pore_volume_" + tag, "Kelvin-resolved pore volume (" + what + ")",
+                      pd.total_resolved_volume_m3_per_kg, pd.u_total_resolved_volume_m3_per_kg,
+                      pd.k_total_resolved_volume, "m3/kg", 1e6, "mm³/g", sheet.rules));
     for (size_t m = 0; m < pd.modes.size(); ++m) {
-      sheet.headline.push_back(
-          MakeQuantity("modal_radius_" + tag + "_" + std::to_string(m + 1),
-                       "Modal pore radius " + std::to_string(m + 1) + " (" + what + ")",
-                       pd.modes[m].radius_m, pd.modes[m].u_radius_m, "m", 1e9, "nm", sheet.rules));
+      sheet.headline.push_back(DrawnQuantity(
+          "modal_radius_" + tag + "_" + std::to_string(m + 1),
+          "Modal pore radius " + std::to_string(m + 1) + " (" + what + ")", pd.modes[m].radius_m,
+          pd.modes[m].u_radius_m, pd.modes[m].coverage_factor, "m", 1e9, "nm", sheet.rules));
     }
   }
 }

@@ -55,6 +55,13 @@ struct DisplayRules {
 Quantity MakeQuantity(std::string key, std::string label, double value, double standard_uncertainty,
                       std::string unit, double display_scale, std::string display_unit,
                       const DisplayRules& rules);
+// A Quantity whose u comes from draws (DrawStatisticsOf): stated with k = the larger of the
+// rules' k and the draws' own U95 / u (CoverageFactorOfDraws, pipeline/common/draw_statistics.h;
+// draws_coverage_factor 0: the rules' k), so that "value +- U" is never narrower than the draws'
+// coverage interval.
+Quantity DrawnQuantity(std::string key, std::string label, double value,
+                       double standard_uncertainty, double draws_coverage_factor, std::string unit,
+                       double display_scale, std::string display_unit, DisplayRules rules);
 // A moisture content [kg/kg] shown in % or kg/kg per the rules.
 Quantity MoistureQuantity(std::string key, std::string label, double value_kg_per_kg,
                           double u_kg_per_kg, const DisplayRules& rules);

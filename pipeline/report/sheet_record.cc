@@ -126,12 +126,12 @@ DistributionRecord MakeDistributionRecord(const pores::PoreDistribution& d,
   DistributionRecord out;
   out.distribution = d;
   // 1 m3/kg = 1e6 mm3/g; 1 m = 1e9 nm.
-  out.total_resolved_volume = MakeQuantity(
+  out.total_resolved_volume = DrawnQuantity(
       "total_resolved_volume", "Kelvin-resolved pore volume", d.total_resolved_volume_m3_per_kg,
-      d.u_total_resolved_volume_m3_per_kg, "m3/kg", 1e6, "mm³/g", rules);
+      d.u_total_resolved_volume_m3_per_kg, d.k_total_resolved_volume, "m3/kg", 1e6, "mm³/g", rules);
   for (const pores::ModalRadius& mode : d.modes) {
-    out.modes.push_back(MakeQuantity("mode", "modal radius", mode.radius_m, mode.u_radius_m, "m",
-                                     1e9, "nm", rules));
+    out.modes.push_back(DrawnQuantity("mode", "modal radius", mode.radius_m, mode.u_radius_m,
+                                      mode.coverage_factor, "m", 1e9, "nm", rules));
   }
   return out;
 }

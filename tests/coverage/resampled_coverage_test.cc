@@ -9,19 +9,21 @@
 // stated interval, for the GAB parameters (the Monte Carlo and bootstrap percentile intervals)
 // and the moisture contents at 23 degC / 50 % and 80 % RH (the 95 % interval of the curve over
 // the Monte Carlo draws, DrawStatisticsOf: the reduction every uncertainty from draws uses), in
-// 90-98 % (95 % intervals: the acceptance band of issue 13, common practice); the bootstrap
-// percentile interval of X_m, the parameter the specimen factor moves, in the same band.
-// Measured (200 replicates, seeds 3000-3199), before (factor drawn normal with its u) -> after
-// (t with nu_d): Monte Carlo X_m 85 -> 94 %, moisture at 50 % RH 79 -> 93.5 %, at 80 % RH 79.5
-// -> 93.5 %, C 94 -> 94 %, K 93 -> 93.5 %; bootstrap percentile X_m 83.5 -> 93.5 %.
-// Printed, not checked (other causes, still open): the bootstrap percentile intervals of C and K
-// (83.5 % and 85 %, unchanged by the factor: the residual bootstrap of six points with n - p = 3
-// resamples the residual scale without its own uncertainty, the small-sample under-coverage of
-// percentile intervals described in fitters/fitter.h) and the studentised intervals (C 97.5 %,
-// K 98 %, X_m 98.5 %: their pivots carry the factor's t draw in the numerator but not in se*).
-// The mean u / sd of the draws' u (U / 1.96) is about 1.9 for X_m and the moisture contents:
-// with nu_d <= 2 the interval is t-wide in every replicate, while the errors themselves are
-// the normal mean of three specimens; coverage, not that ratio, is what the interval promises.
+// 90-98 % (95 % intervals: the acceptance band of issue 13, common practice), and the stated u
+// (DrawStatistics::standard_uncertainty: the half-width of the draws' central 68.27 % interval)
+// within 0.7-1.5 times the scatter of the estimates over the replicates. The studentised
+// intervals are not formed with a common factor (fitters/fitter.h): checked to be absent, with
+// their reason stated.
+// Measured (200 replicates, seeds 3000-3199):
+//  - factor drawn normal with its u -> t with nu_d: Monte Carlo X_m 85 -> 94 %, moisture at 50 %
+//    RH 79 -> 93.5 %, at 80 % RH 79.5 -> 93.5 %; bootstrap percentile X_m 83.5 -> 93.5 %;
+//  - then the bootstrap's residual scale drawn with its n - p = 3 degrees of freedom
+//    (fitters/fitter.h): bootstrap percentile C 83.5 -> 96.5 %, K 85 -> 96 %, X_m 93.5 -> 97.5 %;
+//    u as the draws' 95 % half-width / 1.96 -> the 68.27 % half-width: mean u / sd of X_m and the
+//    moisture contents 1.9 -> 1.09-1.15 (with nu_d <= 2 the 95 % interval is t-wide in every
+//    replicate; the k of the draws carries that now); Monte Carlo coverage 93-93.5 % for every
+//    quantity, u / sd 0.91-1.15; bootstrap u / sd 1.06-1.23. Studentised intervals (before:
+//    97.5-98.5 %, their pivots carried the factor's t draw in the numerator only) not formed.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -30,6 +32,7 @@
 #include <string>
 #include <vector>
 
+#include "fitters/fitter.h"
 #include "pipeline/common/draw_statistics.h"
 #include "pipeline/equilibrate/equilibrate.h"
 #include "pipeline/fit/fit_stage.h"
@@ -74,6 +77,7 @@ TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap)
     const double truth[] = {job.truth.xm_kg_per_kg, job.truth.c, job.truth.k};
     ASSERT_GE(gab.monte_carlo.parameter_draws.size(), 900u);
     ASSERT_GE(gab.bootstrap.parameter_draws.size(), 900u);
+    EXPECT_EQ(gab.bootstrap.studentized_not_formed, fitters::kStudentizedWithCommonFactor);
     for (std::size_t j = 0; j < 3; ++j) {
       const double value = gab.result.parameters[j];
       tallies[std::string("Monte Carlo ") + names[j]].AddInterval(
@@ -82,9 +86,8 @@ TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap)
       tallies[std::string("bootstrap percentile ") + names[j]].AddInterval(
           value, truth[j], gab.bootstrap.parameter_low[j], gab.bootstrap.parameter_high[j],
           gab.bootstrap.parameter_u[j]);
-      tallies[std::string("bootstrap studentised ") + names[j]].AddInterval(
-          value, truth[j], gab.bootstrap.studentized_low[j], gab.bootstrap.studentized_high[j],
-          gab.bootstrap.parameter_u[j]);
+      EXPECT_TRUE(std::isnan(gab.bootstrap.studentized_low[j]));
+      EXPECT_TRUE(std::isnan(gab.bootstrap.studentized_high[j]));
     }
     for (double rh : kReferenceRh) {
       std::vector<double> curve;
@@ -95,7 +98,7 @@ TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap)
       tallies["Monte Carlo moisture at " + std::to_string(static_cast<int>(100 * rh + 0.5)) +
               " % RH"]
           .AddInterval(GabAt(gab.result.parameters, rh), job.truth(rh), stats.low, stats.high,
-               stats.standard_uncertainty);
+                       stats.standard_uncertainty);
     }
   }
   std::cout << "desiccator, specimens differing by 3 % (" << kReplicates
@@ -103,12 +106,13 @@ TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap)
   for (const auto& [name, t] : tallies) {
     std::cout << "  " << name << ": " << 100.0 * t.Coverage() << " %, " << t.Ratio() << "\n";
   }
+  ASSERT_EQ(tallies.size(), 8u);  // 3 Monte Carlo and 3 bootstrap parameters, 2 moistures
   for (const auto& [name, t] : tallies) {
-    const bool checked = name.rfind("Monte Carlo", 0) == 0 || name == "bootstrap percentile X_m";
-    if (!checked) continue;  // printed only (see the header)
     SCOPED_TRACE(name);
     EXPECT_GE(t.Coverage(), kMinCoverage);
     EXPECT_LE(t.Coverage(), kMaxCoverage);
+    EXPECT_GE(t.Ratio(), kMinRatio);
+    EXPECT_LE(t.Ratio(), kMaxRatio);
   }
 }
 

@@ -44,7 +44,8 @@ TEST(DrawStatisticsTest, StudentTVariateMatchesClosedFormQuantiles) {
 }
 
 // Type 7 quantiles (Hyndman & Fan 1996; R's default) of 1, 2, ..., 101: position q (n - 1), so
-// q = 0.025 -> 2.5 -> 3.5, q = 0.975 -> 97.5 -> 98.5, median 51. U = 47.5, u = U / 1.959964.
+// q = 0.025 -> 2.5 -> 3.5, q = 0.975 -> 97.5 -> 98.5, median 51, U = 47.5; the central 68.27 %
+// interval: q = 0.158655 -> 16.8655, q = 0.841345 -> 85.1345, u = 34.1345, k = U / u = 1.39157.
 TEST(DrawStatisticsTest, PercentileIntervalOfKnownValues) {
   std::vector<double> values;
   for (int i = 101; i >= 1; --i) values.push_back(i);  // order does not matter
@@ -57,8 +58,8 @@ TEST(DrawStatisticsTest, PercentileIntervalOfKnownValues) {
   EXPECT_NEAR(s.low, 3.5, 1e-12);
   EXPECT_NEAR(s.high, 98.5, 1e-12);
   EXPECT_NEAR(s.expanded_uncertainty, 47.5, 1e-12);
-  EXPECT_NEAR(s.coverage_factor, 1.959964, 1e-6);
-  EXPECT_NEAR(s.standard_uncertainty, 47.5 / 1.959964, 1e-5);
+  EXPECT_NEAR(s.standard_uncertainty, 34.134474, 1e-5);
+  EXPECT_NEAR(s.coverage_factor, 47.5 / 34.134474, 1e-6);
 }
 
 TEST(DrawStatisticsTest, FewerThanTwoDrawsStateNoUncertainty) {
@@ -70,8 +71,10 @@ TEST(DrawStatisticsTest, FewerThanTwoDrawsStateNoUncertainty) {
 }
 
 // Stratified draws (the quantile function at (i + 1/2) / N) of N(3, 0.2^2): u = the standard
-// deviation 0.2, interval 3 -+ 1.96 * 0.2. Of t_2 scaled by 0.2: the interval is 3 -+ 4.303 *
-// 0.2 (Table G.2) although the draws have no variance; u = 4.303 / 1.96 * 0.2.
+// deviation 0.2, interval 3 -+ 1.96 * 0.2, k = 1.96. Of t_2 scaled by 0.2: the interval is 3 -+
+// 4.303 * 0.2 (JCGM 100:2008, Table G.2) although the draws have no variance; u = 1.3213 * 0.2,
+// the 84.13 % point of t_2 from its closed-form distribution function F(t) = 1/2 + t / (2
+// sqrt(2 + t^2)) (t^2 = 2 c^2 / (1 - c^2) with c = 2 * 0.341345), and k = 4.303 / 1.3213 = 3.257.
 TEST(DrawStatisticsTest, NormalAndStudentTDraws) {
   constexpr int kDraws = 100000;
   std::vector<double> normal, t2;
@@ -84,10 +87,14 @@ TEST(DrawStatisticsTest, NormalAndStudentTDraws) {
   EXPECT_NEAR(n.central, 3.0, 1e-9);
   EXPECT_NEAR(n.standard_uncertainty, 0.2, 1e-3);
   EXPECT_NEAR(n.low, 3.0 - 1.96 * 0.2, 1e-3);
+  EXPECT_NEAR(n.coverage_factor, 1.96, 1e-2);
+  EXPECT_DOUBLE_EQ(CoverageFactorOfDraws(n.coverage_factor, 2.0), 2.0);
   const DrawStatistics t = DrawStatisticsOf(t2, 0.95);
   EXPECT_NEAR(t.high, 3.0 + 4.303 * 0.2, 2e-3);
   EXPECT_NEAR(t.low, 3.0 - 4.303 * 0.2, 2e-3);
-  EXPECT_NEAR(t.standard_uncertainty, 4.303 / 1.96 * 0.2, 2e-3);
+  EXPECT_NEAR(t.standard_uncertainty, 1.3213 * 0.2, 2e-3);
+  EXPECT_NEAR(t.coverage_factor, 3.257, 1e-2);
+  EXPECT_DOUBLE_EQ(CoverageFactorOfDraws(t.coverage_factor, 2.0), t.coverage_factor);
 }
 
 }  // namespace

@@ -91,9 +91,11 @@ TEST(MultivariateNormalDraws, SemidefiniteCovarianceStillDraws) {
 }
 
 // Draws without a variance (a specimen factor drawn from t with nu_d = 1: Cauchy): the decade
-// fractions' u is finite and percentile-based, U / 1.96 with U the half-width of the 95 %
-// interval, t_0.975(1) = 12.71 times the scale (JCGM 100:2008 Table G.2), where the draws'
-// standard deviation grows without bound with the number of draws.
+// fractions' u is finite and percentile-based, the half-width of the central 68.27 % interval,
+// tan(pi (0.841345 - 1/2)) = 1.8373 times the scale (the Cauchy quantile function), and their
+// coverage factor U / u = 12.71 / 1.8373 = 6.92 with U the half-width of the 95 % interval,
+// t_0.975(1) = 12.71 times the scale (JCGM 100:2008 Table G.2), where the draws' standard
+// deviation grows without bound with the number of draws.
 TEST(DecadeUncertainties, FiniteForDrawsWithoutVariance) {
   constexpr int kDraws = 4000;
   constexpr double kScale = 0.01;
@@ -111,7 +113,8 @@ TEST(DecadeUncertainties, FiniteForDrawsWithoutVariance) {
   DecadeUncertainties(draws, 0.95, &decades);
   for (const DecadeFraction& d : decades) {
     EXPECT_TRUE(std::isfinite(d.u_volume_fraction));
-    EXPECT_NEAR(d.u_volume_fraction, 12.71 * kScale / 1.96, 0.01 * 12.71 * kScale / 1.96);
+    EXPECT_NEAR(d.u_volume_fraction, 1.8373 * kScale, 0.01 * 1.8373 * kScale);
+    EXPECT_NEAR(d.coverage_factor, 12.71 / 1.8373, 0.01 * 12.71 / 1.8373);
   }
   // The standard deviation of the same 4,000 draws is already about ten times that u.
   EXPECT_GT(StandardDeviation(first), 5.0 * decades[0].u_volume_fraction);
