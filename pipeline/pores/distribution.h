@@ -139,8 +139,10 @@ struct MeasuredPoint {
 //    that differs from its neighbours is kept (and not smeared with their volume).
 // 4. Modes: ResolvedModes (modes.h), the rule of the model method, on the bars (the mode of
 //    grouped data within the highest bar, GroupedDataModeShift), with what the bars cannot
-//    resolve added to the draws' spread (stepwise.cc, AddStepwiseModeTerms): the measured
-//    step that holds the mode (or the bars that could be as high), and the interpolation.
+//    resolve (stepwise.cc, AddStepwiseModeTerms): the scatter of the position at the bar's
+//    resolution where the nominal bars hold it fixed (the largest window of the bar's width
+//    over the draws' steps), the measured step that holds the mode (or the bars that could be
+//    as high), and the interpolation.
 // 5. Total volume and band from the bars, decade fractions from the measured steps (a wide bar
 //    would move volume across a decade boundary), each with its spread over the draws.
 // common_sources names the CommonPart sources (may be empty).

@@ -7,7 +7,8 @@
 //  - the stated u of the volume, of the modes and of the fraction in 1-10 nm lies within
 //    0.7-1.5 times the standard deviation of its errors; for the modes also within 0.7-1.5
 //    times their root mean square error (a stepwise mode's error holds a bias, where the
-//    family's peak lies within its bar, that u must cover);
+//    family's peak lies within its bar, that u must cover; for the second pore system the
+//    modes' u / sd is held only from below, see its test);
 //  - exactly two modes are reported in at least 90 % of the replicates (two pore families);
 //  - the volume put at 100-1000 nm (truth below 0.001 %) stays within its own expanded
 //    uncertainty of the truth in at least 95 % of the replicates and averages below 0.5 % of
@@ -28,18 +29,26 @@
 // moisture content 1.5 % relative and 0.2 g/kg absolute, independent; dry mass 0.1 % relative,
 // one error per replicate shared by every point (u = (1 + u_true) / (1 + e) - 1).
 // With R = 400 replicates the Monte Carlo standard error of a 95 % coverage is 1.1 %.
-// Measured at this seed (before: the mode as the vertex of the parabola through the bar
-// middles, rectangle over the whole bar, draws read on their own polylines, boundary test per
-// pair): volume 0.993 (0.973), modes 0.902 / 0.917 (0.945 / 0.877), decade fractions 0.949
-// (0.918), steps 0.958 (0.917) inside +- 2 u; two modes in 0.988 (0.980); u / sd volume 1.24
-// (1.10), modes 0.80 / 1.29 (1.80 / 1.20); u / rms error of the modes 0.80 / 0.99 (1.38 /
-// 1.20); u / sd of the 1-10 nm fraction 0.96; 100-1000 nm mean fraction -0.08 % (truth < 0.001 %),
-// within truth + 2 u in 0.995. With the noise seeds 11 and 12345: modes 0.900 / 0.915 and 0.932 /
-// 0.912, u / sd 0.82-0.94 and 1.28, volume 0.983-0.995, fractions 0.954, steps 0.957-0.960.
+// Measured at this seed (before: the modes' noise from the draws on the nominal bars only, the
+// two interpolation differences as two terms): volume 0.993, modes 0.960 / 0.927 (0.900 /
+// 0.917), decade fractions 0.947, steps 0.956 inside +- 2 u; two modes in 0.988; u / sd volume
+// 1.22, modes 1.03 / 1.36 (0.80 / 1.28); u / rms error of the modes 1.03 / 1.05 (0.80 / 0.99);
+// u / sd of the 1-10 nm fraction 0.96; 100-1000 nm mean fraction -0.08 % (truth < 0.001 %),
+// within truth + 2 u in 0.995. With the noise seeds 11 and 12345: modes 0.958 / 0.938 and
+// 0.980 / 0.915 (0.905 / 0.932 and 0.932 / 0.935), u / sd 1.05 / 1.39 and 1.21 / 1.38, u / rms
+// 1.05 / 1.05 and 1.20 / 1.04, volume 0.985-0.993, fractions 0.953-0.954, steps 0.955-0.960.
+// The 2 nm mode's misses before were where the nominal data were cut into a narrow highest bar
+// (one step: 0.30 covered) on the flat top of the family: see stepwise.cc, AddStepwiseModeTerms.
+// Second pore system (kWideTwoFamily, modes near 3 and 15 nm, seed 20261204): volume 0.983,
+// modes 0.955 / 0.935 (0.922 / 0.935), fractions 0.978, steps 0.964, two modes 0.995; u / sd
+// volume 1.12, modes 1.36 / 1.57 (1.21 / 1.52), 1-10 nm fraction 1.08; u / rms of the modes
+// 1.25 / 1.24 (1.11 / 1.20); seeds 11 and 12345: modes 0.970 / 0.935 and 0.973 / 0.927, u / sd
+// 1.48 / 1.57 and 1.43 / 1.54, u / rms 1.31 / 1.19 and 1.23 / 1.23.
 #include <gtest/gtest.h>
 
 #include <algorithm>
 #include <cmath>
+#include <cstdint>
 #include <cstdio>
 #include <string>
 #include <vector>
@@ -69,6 +78,7 @@ constexpr double kMaxRatio = 1.5;
 constexpr double kMaxMeanTailFraction = 0.005;
 
 using testing::ErrorSpread;
+using testing::PoreSystem;
 using testing::TrueCumulativeVolume;
 using testing::TrueModes;
 using testing::TrueMoisture_kg_per_kg;
@@ -80,12 +90,13 @@ std::vector<double> Schedule(double phase) {
   return rh;
 }
 
-std::vector<internal::MeasuredPoint> Replicate(fitters::testing::NormalSource* noise) {
+std::vector<internal::MeasuredPoint> Replicate(const PoreSystem& system,
+                                               fitters::testing::NormalSource* noise) {
   const double phase = 0.025 * (noise->Uniform() - 0.5);
   const double dry_mass_error = kRelativeSigmaDryMass * noise->Normal();
   std::vector<internal::MeasuredPoint> points;
   for (double rh : Schedule(phase)) {
-    const double u_true = TrueMoisture_kg_per_kg(rh);
+    const double u_true = TrueMoisture_kg_per_kg(rh, system);
     const double sigma_rh = std::min(kSigmaRhFraction, kSigmaRhOfOneMinusRh * (1.0 - rh));
     const double sigma_u =
         std::hypot(kRelativeSigmaMoisture * u_true, kAbsoluteSigmaMoisture_kg_per_kg);
@@ -108,14 +119,8 @@ bool Within(double value, double u, double truth) {
   return std::abs(value - truth) <= kCoverageFactor * u;
 }
 
-TEST(StepwisePoreCoverageTest, VolumeModesFractionsStepsAndTail) {
-  fitters::testing::NormalSource noise(20261203);
-  PoreOptions options;
-  options.film = FilmModel::kNone;
-  options.band_draws = kDraws;
-  const internal::PoreRadiusMap map(
-      kTemperature_K, internal::MeniscusFor(options.geometry, ingest::Branch::kDesorption),
-      options.contact_angle_rad, internal::MakeFilmCurve(options, nullptr));
+// The tallies of one run of replicates.
+struct Tallies {
   int volume_hits = 0;
   int mode_hits[2] = {0, 0};
   int two_modes = 0;
@@ -126,114 +131,164 @@ TEST(StepwisePoreCoverageTest, VolumeModesFractionsStepsAndTail) {
   ErrorSpread volume_spread, mode_spread[2];
   ErrorSpread first_decade;  // the fraction of [1 nm, 10 nm]
   std::vector<int> mode_counts;
-  for (int r = 0; r < kReplicates; ++r) {
-    options.seed = noise.Raw();
-    const std::vector<internal::MeasuredPoint> points = Replicate(&noise);
-    const PoreDistribution d = internal::StepwisePoreDistribution(
-        points, ingest::Branch::kDesorption, map, options, {"dry mass"});
-    ASSERT_GT(d.band_draws_used, kDraws * 9 / 10);
-    const double r_min = d.resolved_radius_min_m;
-    const double r_max = d.resolved_radius_max_m;
-    const double true_volume = TrueCumulativeVolume(r_max) - TrueCumulativeVolume(r_min);
-    volume_hits +=
-        Within(d.total_resolved_volume_m3_per_kg, d.u_total_resolved_volume_m3_per_kg, true_volume);
-    volume_spread.Add(d.total_resolved_volume_m3_per_kg - true_volume,
-                      d.u_total_resolved_volume_m3_per_kg);
-    const std::vector<double> truth_modes = TrueModes(r_min, r_max);
-    ASSERT_EQ(truth_modes.size(), 2u);
-    two_modes += d.modes.size() == 2;
-    mode_counts.push_back(static_cast<int>(d.modes.size()));
-    for (std::size_t m = 0; m < 2; ++m) {
-      const ModalRadius* nearest = nullptr;
-      for (const ModalRadius& mode : d.modes) {
-        const double distance = std::abs(std::log10(mode.radius_m / truth_modes[m]));
-        if (distance < 0.25 &&
-            (nearest == nullptr ||
-             distance < std::abs(std::log10(nearest->radius_m / truth_modes[m])))) {
-          nearest = &mode;
-        }
-      }
-      mode_hits[m] +=
-          nearest != nullptr && Within(nearest->radius_m, nearest->u_radius_m, truth_modes[m]);
-      if (nearest != nullptr) {
-        mode_spread[m].Add(nearest->radius_m - truth_modes[m], nearest->u_radius_m);
-      }
-    }
-    for (const DecadeFraction& f : d.decades) {
-      const double truth =
-          (TrueCumulativeVolume(f.radius_high_m) - TrueCumulativeVolume(f.radius_low_m)) /
-          true_volume;
-      ++fraction_checks;
-      fraction_hits += Within(f.volume_fraction, f.u_volume_fraction, truth);
-      if (std::abs(f.radius_low_m - 1e-9) < 1e-12 && std::abs(f.radius_high_m - 10e-9) < 1e-12) {
-        first_decade.Add(f.volume_fraction - truth, f.u_volume_fraction);
-      }
-      if (std::abs(f.radius_low_m - 100e-9) < 1e-12) {
-        ++tail_count;
-        tail_sum += f.volume_fraction;
-        tail_hits += f.volume_fraction <= truth + kCoverageFactor * f.u_volume_fraction;
-      }
-    }
-    for (const PoreStep& s : d.steps) {
-      const double truth =
-          TrueCumulativeVolume(s.radius_high_m) - TrueCumulativeVolume(s.radius_low_m);
-      ++step_checks;
-      step_hits += Within(s.volume_m3_per_kg, s.u_volume_m3_per_kg, truth);
-    }
-    if (r == 0) {
-      std::printf(
-          "first replicate: volume %.4g +- %.2g (truth %.4g) m3/kg, %zu steps in %zu bars;"
-          " modes",
-          d.total_resolved_volume_m3_per_kg, d.u_total_resolved_volume_m3_per_kg, true_volume,
-          d.steps.size(), d.points.size());
-      for (const ModalRadius& mode : d.modes) {
-        std::printf(" %.4g +- %.2g nm", mode.radius_m * 1e9, mode.u_radius_m * 1e9);
-      }
-      std::printf(" (truth %.4g, %.4g nm)\n", truth_modes[0] * 1e9, truth_modes[1] * 1e9);
+};
+
+// The reported mode nearest to the true one (within a quarter decade), or none.
+const ModalRadius* NearestMode(const PoreDistribution& d, double truth) {
+  const ModalRadius* nearest = nullptr;
+  for (const ModalRadius& mode : d.modes) {
+    const double distance = std::abs(std::log10(mode.radius_m / truth));
+    if (distance < 0.25 &&
+        (nearest == nullptr || distance < std::abs(std::log10(nearest->radius_m / truth)))) {
+      nearest = &mode;
     }
   }
+  return nearest;
+}
+
+void TallyOne(const PoreSystem& system, const PoreDistribution& d, Tallies* t) {
+  const double r_min = d.resolved_radius_min_m;
+  const double r_max = d.resolved_radius_max_m;
+  const double true_volume =
+      TrueCumulativeVolume(r_max, system) - TrueCumulativeVolume(r_min, system);
+  t->volume_hits +=
+      Within(d.total_resolved_volume_m3_per_kg, d.u_total_resolved_volume_m3_per_kg, true_volume);
+  t->volume_spread.Add(d.total_resolved_volume_m3_per_kg - true_volume,
+                       d.u_total_resolved_volume_m3_per_kg);
+  const std::vector<double> truth_modes = TrueModes(r_min, r_max, system);
+  ASSERT_EQ(truth_modes.size(), 2u);
+  t->two_modes += d.modes.size() == 2;
+  t->mode_counts.push_back(static_cast<int>(d.modes.size()));
+  for (std::size_t m = 0; m < 2; ++m) {
+    const ModalRadius* nearest = NearestMode(d, truth_modes[m]);
+    if (nearest == nullptr) continue;
+    t->mode_hits[m] += Within(nearest->radius_m, nearest->u_radius_m, truth_modes[m]);
+    t->mode_spread[m].Add(nearest->radius_m - truth_modes[m], nearest->u_radius_m);
+  }
+  for (const DecadeFraction& f : d.decades) {
+    const double truth = (TrueCumulativeVolume(f.radius_high_m, system) -
+                          TrueCumulativeVolume(f.radius_low_m, system)) /
+                         true_volume;
+    ++t->fraction_checks;
+    t->fraction_hits += Within(f.volume_fraction, f.u_volume_fraction, truth);
+    if (std::abs(f.radius_low_m - 1e-9) < 1e-12 && std::abs(f.radius_high_m - 10e-9) < 1e-12) {
+      t->first_decade.Add(f.volume_fraction - truth, f.u_volume_fraction);
+    }
+    if (std::abs(f.radius_low_m - 100e-9) < 1e-12) {
+      ++t->tail_count;
+      t->tail_sum += f.volume_fraction;
+      t->tail_hits += f.volume_fraction <= truth + kCoverageFactor * f.u_volume_fraction;
+    }
+  }
+  for (const PoreStep& s : d.steps) {
+    const double truth = TrueCumulativeVolume(s.radius_high_m, system) -
+                         TrueCumulativeVolume(s.radius_low_m, system);
+    ++t->step_checks;
+    t->step_hits += Within(s.volume_m3_per_kg, s.u_volume_m3_per_kg, truth);
+  }
+}
+
+void Print(const Tallies& t) {
   const double n = kReplicates;
   std::printf(
       "%d replicates: volume %.3f, mode 1 %.3f, mode 2 %.3f, fractions %.3f (%d), "
       "steps %.3f (%d) inside +- %g u; two modes in %.3f\n",
-      kReplicates, volume_hits / n, mode_hits[0] / n, mode_hits[1] / n,
-      static_cast<double>(fraction_hits) / fraction_checks, fraction_checks,
-      static_cast<double>(step_hits) / step_checks, step_checks, kCoverageFactor, two_modes / n);
+      kReplicates, t.volume_hits / n, t.mode_hits[0] / n, t.mode_hits[1] / n,
+      static_cast<double>(t.fraction_hits) / t.fraction_checks, t.fraction_checks,
+      static_cast<double>(t.step_hits) / t.step_checks, t.step_checks, kCoverageFactor,
+      t.two_modes / n);
   std::printf(
       "u / sd: volume %.3f, mode 1 %.3f, mode 2 %.3f, fraction 1-10 nm %.3f; u / rms error "
       "%.3f %.3f %.3f\n",
-      volume_spread.Ratio(), mode_spread[0].Ratio(), mode_spread[1].Ratio(), first_decade.Ratio(),
-      volume_spread.RmsRatio(), mode_spread[0].RmsRatio(), mode_spread[1].RmsRatio());
+      t.volume_spread.Ratio(), t.mode_spread[0].Ratio(), t.mode_spread[1].Ratio(),
+      t.first_decade.Ratio(), t.volume_spread.RmsRatio(), t.mode_spread[0].RmsRatio(),
+      t.mode_spread[1].RmsRatio());
   std::printf("100-1000 nm: mean fraction %.4g over %d, below truth + 2u in %.3f\n",
-              tail_count > 0 ? tail_sum / tail_count : 0.0, tail_count,
-              tail_count > 0 ? static_cast<double>(tail_hits) / tail_count : 0.0);
+              t.tail_count > 0 ? t.tail_sum / t.tail_count : 0.0, t.tail_count,
+              t.tail_count > 0 ? static_cast<double>(t.tail_hits) / t.tail_count : 0.0);
   int histogram[8] = {};
-  for (int c : mode_counts) ++histogram[std::min(c, 7)];
+  for (int c : t.mode_counts) ++histogram[std::min(c, 7)];
   std::printf("number of modes 0..7+:");
   for (int c : histogram) std::printf(" %d", c);
   std::printf("\n");
+}
 
-  EXPECT_GE(volume_hits / n, kMinCoverage);
-  EXPECT_GE(mode_hits[0] / n, kMinCoverage);
-  EXPECT_GE(mode_hits[1] / n, kMinCoverage);
-  EXPECT_GE(two_modes / n, kMinCoverage);
-  ASSERT_GT(fraction_checks, 0);
-  EXPECT_GE(static_cast<double>(fraction_hits) / fraction_checks, kMinCoverage);
-  ASSERT_GT(step_checks, 0);
-  EXPECT_GE(static_cast<double>(step_hits) / step_checks, kMinCoverage);
-  for (const ErrorSpread* spread :
-       {&volume_spread, &mode_spread[0], &mode_spread[1], &first_decade}) {
+// mode_sd_upper: whether the modes' u / sd is held below kMaxRatio as well (see the test of the
+// second pore system for why not there).
+void Check(const Tallies& t, bool mode_sd_upper) {
+  const double n = kReplicates;
+  EXPECT_GE(t.volume_hits / n, kMinCoverage);
+  EXPECT_GE(t.mode_hits[0] / n, kMinCoverage);
+  EXPECT_GE(t.mode_hits[1] / n, kMinCoverage);
+  EXPECT_GE(t.two_modes / n, kMinCoverage);
+  ASSERT_GT(t.fraction_checks, 0);
+  EXPECT_GE(static_cast<double>(t.fraction_hits) / t.fraction_checks, kMinCoverage);
+  ASSERT_GT(t.step_checks, 0);
+  EXPECT_GE(static_cast<double>(t.step_hits) / t.step_checks, kMinCoverage);
+  for (const ErrorSpread* spread : {&t.volume_spread, &t.first_decade}) {
     ASSERT_GE(spread->errors.size(), 10u);
     EXPECT_GE(spread->Ratio(), kMinRatio);
     EXPECT_LE(spread->Ratio(), kMaxRatio);
   }
-  for (const ErrorSpread* spread : {&mode_spread[0], &mode_spread[1]}) {
+  for (const ErrorSpread* spread : {&t.mode_spread[0], &t.mode_spread[1]}) {
+    ASSERT_GE(spread->errors.size(), 10u);
+    EXPECT_GE(spread->Ratio(), kMinRatio);
+    if (mode_sd_upper) {
+      EXPECT_LE(spread->Ratio(), kMaxRatio);
+    }
     EXPECT_GE(spread->RmsRatio(), kMinRatio);
     EXPECT_LE(spread->RmsRatio(), kMaxRatio);
   }
-  ASSERT_EQ(tail_count, kReplicates);  // every replicate reaches above 100 nm
-  EXPECT_GE(static_cast<double>(tail_hits) / tail_count, kMinTailCoverage);
-  EXPECT_LT(tail_sum / tail_count, kMaxMeanTailFraction);
+  ASSERT_EQ(t.tail_count, kReplicates);  // every replicate reaches above 100 nm
+  EXPECT_GE(static_cast<double>(t.tail_hits) / t.tail_count, kMinTailCoverage);
+  EXPECT_LT(t.tail_sum / t.tail_count, kMaxMeanTailFraction);
+}
+
+// kReplicates replicates of the pore system, noise from the seed; prints and checks.
+void RunCoverage(const PoreSystem& system, std::uint64_t seed, bool mode_sd_upper) {
+  fitters::testing::NormalSource noise(seed);
+  PoreOptions options;
+  options.film = FilmModel::kNone;
+  options.band_draws = kDraws;
+  const internal::PoreRadiusMap map(
+      kTemperature_K, internal::MeniscusFor(options.geometry, ingest::Branch::kDesorption),
+      options.contact_angle_rad, internal::MakeFilmCurve(options, nullptr));
+  Tallies t;
+  for (int r = 0; r < kReplicates; ++r) {
+    options.seed = noise.Raw();
+    const std::vector<internal::MeasuredPoint> points = Replicate(system, &noise);
+    const PoreDistribution d = internal::StepwisePoreDistribution(
+        points, ingest::Branch::kDesorption, map, options, {"dry mass"});
+    ASSERT_GT(d.band_draws_used, kDraws * 9 / 10);
+    TallyOne(system, d, &t);
+    if (r == 0) {
+      std::printf("first replicate: volume %.4g +- %.2g m3/kg, %zu steps in %zu bars; modes",
+                  d.total_resolved_volume_m3_per_kg, d.u_total_resolved_volume_m3_per_kg,
+                  d.steps.size(), d.points.size());
+      for (const ModalRadius& mode : d.modes) {
+        std::printf(" %.4g +- %.2g nm", mode.radius_m * 1e9, mode.u_radius_m * 1e9);
+      }
+      std::printf("\n");
+    }
+  }
+  Print(t);
+  Check(t, mode_sd_upper);
+}
+
+TEST(StepwisePoreCoverageTest, VolumeModesFractionsStepsAndTail) {
+  RunCoverage(testing::kTwoFamily, 20261203, true);
+}
+
+// The same on the second pore system (two_family_pores.h, kWideTwoFamily: modes near 3 nm and
+// 15 nm, at the same schedule), with its own noise seed, except the upper limit of the modes'
+// u / sd: the 15 nm mode lies in a bar about 0.45 wide in log10 r next to the empty tail bar,
+// and the mode of grouped data (which takes the density quadratic about its peak, while the
+// true one falls to 0 on the wide side and only to the valley between the families on the
+// other) puts it 0.029 low in log10 r on average, against a scatter of 0.037: its u must cover
+// that bias (u / rms error is held to 0.7-1.5) and then stands at 1.54-1.57 times the scatter
+// alone (1.52 before the window term of the stepwise modes).
+TEST(StepwisePoreCoverageTest, WideFamiliesVolumeModesFractionsStepsAndTail) {
+  RunCoverage(testing::kWideTwoFamily, 20261204, false);
 }
 
 }  // namespace

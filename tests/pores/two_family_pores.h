@@ -15,6 +15,9 @@
 // u(RH) = rho_w V(r_K(RH)).
 // Both distributions report dV/dlog10 r, its modes and the volume between their resolved radii;
 // the truths here are the same quantities of V(r) (the mode of dV/dlog10 r, not of dV/dr).
+// A second system (kWideTwoFamily, stepwise_coverage_test.cc) puts the modes near 3 nm and
+// 15 nm: a = 3.14 nm and 15.7 nm (a = r_mode / m^(1/n), m^(1/5) = 0.956), weights 0.5 / 0.5,
+// so the larger mode lies where a laboratory's RH steps of 0.025 are 0.17 wide in log10 r.
 #pragma once
 
 #include <cmath>
@@ -31,44 +34,50 @@ struct PoreFamily {
   double a_m;
   double n;
 };
-constexpr PoreFamily kPoreFamilies[] = {{0.4, 2.1e-9, 5.0}, {0.6, 8.4e-9, 5.0}};
-constexpr double kTotalPoreVolume_m3_per_kg = 1e-4;
+struct PoreSystem {
+  PoreFamily families[2];
+  double total_volume_m3_per_kg;
+};
+constexpr PoreSystem kTwoFamily = {{{0.4, 2.1e-9, 5.0}, {0.6, 8.4e-9, 5.0}}, 1e-4};
+constexpr PoreSystem kWideTwoFamily = {{{0.5, 3.14e-9, 5.0}, {0.5, 15.7e-9, 5.0}}, 1e-4};
 
 // V(r) [m3/kg].
-inline double TrueCumulativeVolume(double radius_m) {
+inline double TrueCumulativeVolume(double radius_m, const PoreSystem& system = kTwoFamily) {
   double v = 0.0;
-  for (const PoreFamily& f : kPoreFamilies) {
+  for (const PoreFamily& f : system.families) {
     const double m = 1.0 - 1.0 / f.n;
     v += f.weight * std::pow(1.0 + std::pow(f.a_m / radius_m, f.n), -m);
   }
-  return kTotalPoreVolume_m3_per_kg * v;
+  return system.total_volume_m3_per_kg * v;
 }
 
 // dV/dlog10 r, analytic: per family V_tot w m n s (1 + s)^(-m - 1) ln 10, s = (a / r)^n.
-inline double TrueDensity(double radius_m) {
+inline double TrueDensity(double radius_m, const PoreSystem& system = kTwoFamily) {
   double d = 0.0;
-  for (const PoreFamily& f : kPoreFamilies) {
+  for (const PoreFamily& f : system.families) {
     const double m = 1.0 - 1.0 / f.n;
     const double s = std::pow(f.a_m / radius_m, f.n);
     d += f.weight * m * f.n * s * std::pow(1.0 + s, -m - 1.0);
   }
-  return kTotalPoreVolume_m3_per_kg * std::log(10.0) * d;
+  return system.total_volume_m3_per_kg * std::log(10.0) * d;
 }
 
 // The moisture content [kg/kg] of the pore system at RH on desorption (forward Kelvin model).
-inline double TrueMoisture_kg_per_kg(double rh_fraction) {
+inline double TrueMoisture_kg_per_kg(double rh_fraction, const PoreSystem& system = kTwoFamily) {
   const double r_k = physics::KelvinRadius_m(rh_fraction, kTwoFamilyTemperature_K,
                                              physics::Meniscus::kHemispherical);
-  return physics::LiquidWaterDensity_kg_per_m3(kTwoFamilyTemperature_K) * TrueCumulativeVolume(r_k);
+  return physics::LiquidWaterDensity_kg_per_m3(kTwoFamilyTemperature_K) *
+         TrueCumulativeVolume(r_k, system);
 }
 
 // Local maxima of the true density on [r_min, r_max] (fine log grid, parabola vertex).
-inline std::vector<double> TrueModes(double r_min, double r_max) {
+inline std::vector<double> TrueModes(double r_min, double r_max,
+                                     const PoreSystem& system = kTwoFamily) {
   constexpr int kFine = 20001;
   std::vector<double> x(kFine), y(kFine);
   for (int i = 0; i < kFine; ++i) {
     x[i] = std::log10(r_min) + (std::log10(r_max) - std::log10(r_min)) * i / (kFine - 1.0);
-    y[i] = TrueDensity(std::pow(10.0, x[i]));
+    y[i] = TrueDensity(std::pow(10.0, x[i]), system);
   }
   std::vector<double> modes;
   for (int i = 1; i + 1 < kFine; ++i) {
