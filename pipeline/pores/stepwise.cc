@@ -530,6 +530,9 @@ void AddStepwiseModeTerms(const std::vector<double>& step_log_r,
     const double u_log_r = std::sqrt(u_noise * u_noise + u_resolution * u_resolution +
                                      u_interpolation * u_interpolation);
     mode.u_radius_m = mode.radius_m * ln10 * u_log_r;
+    // A combination of the draws' spread with rectangular model terms (GUM 5.1.2), not the
+    // spread of draws alone: stated with the sheet's k (ModalRadius::coverage_factor 0).
+    mode.coverage_factor = 0.0;
   }
 }
 
@@ -651,8 +654,9 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
     for (std::size_t st = 0; st < num_steps; ++st) step_volumes[st] = draws.at(st, k);
     draw_decades.push_back(DecadeFractions(log_r, step_volumes, below));
   }
-  d.u_total_resolved_volume_m3_per_kg =
-      DrawStatisticsOf(draw_total, options.band_confidence_level).standard_uncertainty;
+  const DrawStatistics total_spread = DrawStatisticsOf(draw_total, options.band_confidence_level);
+  d.u_total_resolved_volume_m3_per_kg = total_spread.standard_uncertainty;
+  d.k_total_resolved_volume = total_spread.coverage_factor;
 
   const double tail = 0.5 * (1.0 - options.band_confidence_level);
   QuantileScratch scratch;
