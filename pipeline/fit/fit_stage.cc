@@ -569,10 +569,8 @@ GoodnessOfFit GoodnessOfFitOf(const ModelFit& fit) {
   out.p_value = absolute ? s.chi_square_p_value : s.runs_test_p_value;
   out.passed = out.p_value >= kMinGoodnessOfFitPValue;  // NaN fails
   if (!out.passed) {
-    out.reason = fmt::format(
-        "fails its {} check (p = {:.2g}, below {:g}): it does not describe the points within "
-        "their uncertainties",
-        out.test, out.p_value, kMinGoodnessOfFitPValue);
+    out.reason = fmt::format("fails its {} check (p = {:.2g}, below {:g})", out.test, out.p_value,
+                             kMinGoodnessOfFitPValue);
   }
   return out;
 }
