@@ -10,6 +10,7 @@
 #include <cmath>
 #include <exception>
 #include <set>
+#include <string_view>
 #include <thread>
 #include <utility>
 
@@ -366,13 +367,34 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   return fit;
 }
 
-// Ranks the identified fits (IsIdentified) of each group by AICc (rank 1 best). AICc values are
+// Why no fit of group g is ranked: "title: reason" for each model fitted to the group, from its
+// "not converged" or "not ranked" flag (Rank), "; "-separated; models not evaluated are left out.
+std::string WhyNoBestFit(const IsothermFits& fits, int g) {
+  std::string out;
+  for (const ModelFit& fit : fits.fits) {
+    if (fit.group_index != g || !fit.design.supported) continue;
+    std::string why;
+    for (const std::string& flag : fit.flags) {
+      for (const std::string_view prefix : {"not ranked: ", "not converged: "}) {
+        if (why.empty() && flag.rfind(prefix, 0) == 0) {
+          why = prefix == "not converged: " ? flag : flag.substr(prefix.size());
+        }
+      }
+    }
+    if (why.empty()) why = "not ranked";
+    out += (out.empty() ? "" : "; ") + fit.info.title + ": " + why;
+  }
+  return out;
+}
+
+// Ranks the usable fits (IsUsable) of each group by AICc (rank 1 best). AICc values are
 // comparable only between fits to the same points, so the ranking is among the fits that used
 // every isotherm point of the group (BET on its restricted range and retention models fitted
 // jointly with retention points are left unranked, rank 0), and AICc must be defined
 // (n - p - 1 > 0). Ties keep the order of FitStageOptions::models.
 void Rank(IsothermFits* fits) {
   fits->best_fit_per_group.assign(fits->groups.size(), -1);
+  fits->no_best_fit_reason.assign(fits->groups.size(), std::string());
   for (std::size_t g = 0; g < fits->groups.size(); ++g) {
     const FitGroup& group = fits->groups[g];
     std::vector<int> all_isotherm_points;
@@ -398,6 +420,11 @@ void Rank(IsothermFits* fits) {
         AddFlag(&fit.flags, "not ranked: AICc undefined (it needs n >= p + 2 points)");
         continue;
       }
+      const GoodnessOfFit goodness = GoodnessOfFitOf(fit);
+      if (!goodness.passed) {
+        AddFlag(&fit.flags, "not ranked: " + goodness.reason);
+        continue;
+      }
       candidates.push_back(static_cast<int>(f));
     }
     std::stable_sort(candidates.begin(), candidates.end(), [&](int a, int b) {
@@ -406,7 +433,11 @@ void Rank(IsothermFits* fits) {
     for (std::size_t r = 0; r < candidates.size(); ++r) {
       fits->fits[candidates[r]].rank = static_cast<int>(r) + 1;
     }
-    if (!candidates.empty()) fits->best_fit_per_group[g] = candidates.front();
+    if (!candidates.empty()) {
+      fits->best_fit_per_group[g] = candidates.front();
+    } else {
+      fits->no_best_fit_reason[g] = WhyNoBestFit(*fits, static_cast<int>(g));
+    }
   }
 }
 
@@ -529,6 +560,22 @@ Identifiability IdentifiabilityOf(const ModelFit& fit) {
 }
 
 bool IsIdentified(const ModelFit& fit) { return IdentifiabilityOf(fit).identifiable; }
+
+GoodnessOfFit GoodnessOfFitOf(const ModelFit& fit) {
+  GoodnessOfFit out;
+  const fitters::FitStatistics& s = fit.result.statistics;
+  const bool absolute = fit.result.weight_convention == fitters::WeightConvention::kAbsolute;
+  out.test = absolute ? "chi-square" : "runs test";
+  out.p_value = absolute ? s.chi_square_p_value : s.runs_test_p_value;
+  out.passed = out.p_value >= kMinGoodnessOfFitPValue;  // NaN fails
+  if (!out.passed) {
+    out.reason = fmt::format("fails its {} check (p = {:.2g}, below {:g})", out.test, out.p_value,
+                             kMinGoodnessOfFitPValue);
+  }
+  return out;
+}
+
+bool IsUsable(const ModelFit& fit) { return IsIdentified(fit) && GoodnessOfFitOf(fit).passed; }
 
 DerivedUncertainty PropagateToDerived(const ModelFit& fit, const std::vector<double>& gradient,
                                       double nominal_k) {

@@ -236,6 +236,34 @@ Identifiability IdentifiabilityOf(const ModelFit& fit);
 // (IdentifiabilityOf). The one predicate of the ranking, the headline and the pores stage.
 bool IsIdentified(const ModelFit& fit);
 
+// Goodness of fit a fit must pass to be ranked, hence to be a group's best model, to drive
+// headline values and the model-based pore distribution (IsUsable). Under absolute weights the
+// stated uncertainties are known, and the chi-square test of the weighted SSR on n - p degrees
+// of freedom asks whether the model describes the points within them; under relative weights
+// the variance is estimated from the residuals, chi-square tests nothing, and the runs test of
+// the residual signs (systematic misfit) is read instead.
+//
+// Threshold: p >= kMinGoodnessOfFitPValue. The p-values of adequate fits are uniform, so a gate
+// at p rejects an adequate model with probability p; a rejected fit withholds a result, so the
+// gate is set where a rejection is strong evidence: 0.1 % (common practice for a goodness-of-fit
+// gate; the pores stage's PoreOptions::model_min_fit_p_value takes its default from here). The
+// engine's 5 % chi-square flag (fitters/fit_engine.cc) stays a caution on a usable fit.
+inline constexpr double kMinGoodnessOfFitPValue = 1e-3;
+
+struct GoodnessOfFit {
+  bool passed = false;
+  std::string test;      // "chi-square" (absolute weights) or "runs test" (relative weights)
+  double p_value = 0.0;  // NaN when the test has no degrees of freedom (fails)
+  std::string reason;    // in plain words, empty when passed
+};
+GoodnessOfFit GoodnessOfFitOf(const ModelFit& fit);
+
+// The fit may be used for results: identified from its data (IsIdentified) and consistent with
+// them within their uncertainties (GoodnessOfFitOf). The predicate of the ranking: only such
+// fits are ranked, so only such a fit is a group's best model, gives headline values or drives
+// a pore-size distribution chosen as "best".
+bool IsUsable(const ModelFit& fit);
+
 struct FitStageSummary {
   std::vector<Diagnostic> warnings;
   int fits_attempted = 0;  // fitters::FitModel calls (group x model pairs the design supports)
@@ -246,7 +274,10 @@ struct FitStageSummary {
 struct IsothermFits {
   std::vector<FitGroup> groups;
   std::vector<ModelFit> fits;
-  std::vector<int> best_fit_per_group;  // index into fits, -1 if none converged
+  std::vector<int> best_fit_per_group;  // index into fits, -1 if no fit of the group is ranked
+  // Per group: why it has no best model (each evaluated model and why it is not ranked, e.g.
+  // "Oswin: fails its chi-square check (p = 7.1e-49, below 0.001)"), "" when it has one.
+  std::vector<std::string> no_best_fit_reason;
   double coverage_factor = 2.0;
   FitStageSummary summary;
 };
@@ -272,11 +303,12 @@ struct IsothermFits {
 // random streams that are a pure function of options.seed, the group index and the model name
 // (so adding a model to the list does not change the draws of the others).
 //
-// Ranking: AICc among the identified fits (IsIdentified) of a group that used all of its
-// isotherm points (AICc is only comparable on identical data) and whose AICc is defined
-// (n >= p + 2); BET on its restricted range, retention models fitted with retention points,
-// fits with undefined AICc and fits not identifiable from their data keep rank 0 with a
-// "not ranked" flag.
+// Ranking: AICc among the usable fits (IsUsable: identified, goodness of fit passed) of a group
+// that used all of its isotherm points (AICc is only comparable on identical data) and whose
+// AICc is defined (n >= p + 2); BET on its restricted range, retention models fitted with
+// retention points, fits with undefined AICc, fits not identifiable from their data and fits
+// that fail their goodness-of-fit check keep rank 0 with a "not ranked" flag. A group without a
+// ranked fit has no best model (best_fit_per_group -1, no_best_fit_reason says why).
 //
 // Never throws for a failed fit (see ModelFit::flags). Throws InputError for invalid options,
 // ComputationError when there is no point to fit or no model converged in any group.

@@ -177,6 +177,19 @@ void CsvReader::RejectOtherEncodings(std::string_view first_line) const {
   }
 }
 
+void CsvReader::RejectCarriageReturnLineEnds(std::string_view first_line) const {
+  // A CR left inside the first line (its CR before the LF is already removed) ends a line in a
+  // file written with classic Mac OS line ends (CR only): without a LF the whole file would
+  // read as one line. Fields may not hold line breaks (csv_reader.h), so a CR is never data.
+  const std::size_t cr = first_line.find('\r');
+  if (cr == std::string_view::npos) return;
+  FailAt(1, static_cast<int>(cr) + 1,
+         "line ends are CR only (carriage return without line feed, as classic Mac OS wrote "
+         "them): the line break after column " +
+             std::to_string(cr) + " of line 1 is a bare CR",
+         "LF or CRLF line ends (save the file as CSV with Windows or Unix line ends)");
+}
+
 void CsvReader::Refill() {
   const std::size_t remaining = end_ - begin_;
   if (begin_ > 0 && remaining > 0) std::memmove(buffer_.data(), buffer_.data() + begin_, remaining);
@@ -184,6 +197,9 @@ void CsvReader::Refill() {
   end_ = remaining;
   if (end_ == buffer_.size()) {  // one line fills the whole buffer
     if (buffer_.size() >= kMaxCsvLineBytes) {
+      // A CR-only file longer than the limit is one endless line too: say why.
+      // (The last byte may be the CR of a CRLF split across reads: not looked at.)
+      if (first_line_) RejectCarriageReturnLineEnds(std::string_view(buffer_.data(), end_ - 1));
       // Refused where the limit is passed, before the rest of the line is read: a file that is
       // one endless line (a binary export, /dev/zero copied out) costs at most this much memory.
       throw InputError(SourceLocation{display_name_, static_cast<int>(line_number_ + 1),
@@ -229,6 +245,7 @@ bool CsvReader::NextLine(std::string_view* line) {
   if (first_line_) {
     first_line_ = false;
     RejectOtherEncodings(*line);
+    RejectCarriageReturnLineEnds(*line);
     constexpr std::string_view kUtf8ByteOrderMark = "\xEF\xBB\xBF";
     if (line->substr(0, 3) == kUtf8ByteOrderMark) line->remove_prefix(3);
   }

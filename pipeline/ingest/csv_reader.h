@@ -1,9 +1,10 @@
 // Internal to the ingest stage: a streaming CSV reader that keeps only one chunk of the file
 // in memory, tracks line and column of every field, and parses numbers without allocation.
 // Accepts what lab software and spreadsheets write: UTF-8 byte-order mark, CRLF or LF line
-// ends, a missing final line end, '#' comment lines, blank lines, quoted fields ("" inside a
-// quoted field is one quote), ',' ';' or tab delimiters and decimal commas. Refuses UTF-16 and
-// UTF-32 files by name. Quotes of the file in messages are capped (CapEchoes).
+// ends (CR-only line ends, classic Mac OS, are refused at line 1 by name), a missing final line
+// end, '#' comment lines, blank lines, quoted fields ("" inside a quoted field is one quote), ','
+// ';' or tab delimiters and decimal commas. Refuses UTF-16 and UTF-32 files by name. Quotes of the
+// file in messages are capped (CapEchoes).
 #pragma once
 
 #include <cstddef>
@@ -152,6 +153,8 @@ class CsvReader {
   std::string CapEchoes(std::string message) const;
   // Throws for a file in UTF-16 or UTF-32 (by byte-order mark or NUL-interleaved ASCII).
   void RejectOtherEncodings(std::string_view first_line) const;
+  // Throws at line 1 for a file whose line ends are CR only (a CR inside the first line).
+  void RejectCarriageReturnLineEnds(std::string_view first_line) const;
   bool NextLine(std::string_view* line);  // false at end of file
   void Split(std::string_view line);
   void SplitChecked(std::string_view line);  // Split + field count check

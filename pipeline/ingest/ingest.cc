@@ -201,8 +201,8 @@ IngestResult Ingest(const JobSpec& job, const IngestOptions& options) {
       }
       result.summary.num_steps += static_cast<int>(result.desiccator_series.back().steps.size());
     } else {
-      result.vapor_logs.push_back(
-          internal::ReadVaporLog(dataset, options, &result.summary, &masses));
+      result.vapor_logs.push_back(internal::ReadVaporLog(
+          dataset, options, job.balance_standard_uncertainty_g, &result.summary, &masses));
       result.summary.rows_read += result.vapor_logs.back().num_rows;
       result.summary.num_steps += static_cast<int>(result.vapor_logs.back().steps.size());
     }

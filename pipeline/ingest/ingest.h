@@ -275,8 +275,16 @@ struct LogBlock {
 struct VaporLogStep {
   int step_index = 0;
   double set_rh_fraction = 0.0;
-  Branch branch = Branch::kAdsorption;  // from the set-point sequence
-  int cycle = 0;                        // 0-based adsorption/desorption cycle
+  // From the set-point sequence: 0 % is drying, a set point above the one before adsorption,
+  // below it desorption. The first step has no set point before it: its own trace decides,
+  // desorption when its mass falls from its first to its last block mean by more than
+  // 2 sqrt(2) u_balance ([measurement] balance_standard_uncertainty_g), adsorption when it rises
+  // by more; within that, desorption when the next set point is lower, else adsorption (a log
+  // that starts wet at 90 % and dries is desorption from its first step).
+  Branch branch = Branch::kAdsorption;
+  // 0-based cycle: a new one begins each time the log comes back to the branch of its first wet
+  // step after the other branch.
+  int cycle = 0;
   double start_time_s = 0.0;
   double end_time_s = 0.0;
   std::int64_t first_line = 0;

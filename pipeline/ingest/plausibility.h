@@ -202,8 +202,11 @@ struct SpecimenMasses {
 // Readers that also gather the masses (the public ones of ingest.h call these with nullptr).
 DesiccatorSeries ReadDesiccatorSeries(const JobSpec& job, const DataSetSpec& dataset,
                                       std::vector<SpecimenMasses>* masses);
+// balance_standard_uncertainty_g: the job's [measurement] value (the public reader: JobSpec's
+// default), for the branch of the log's first step (VaporLogStep::branch).
 VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
-                      IngestSummary* summary, std::vector<SpecimenMasses>* masses);
+                      double balance_standard_uncertainty_g, IngestSummary* summary,
+                      std::vector<SpecimenMasses>* masses);
 
 // R6 and R7 (balance) on everything read; throws InputError for the first violation.
 void CheckAcrossFiles(const IngestResult& result, const std::vector<SpecimenMasses>& masses);

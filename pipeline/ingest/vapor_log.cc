@@ -119,6 +119,52 @@ class StepBuilder {
 
 std::string FormatValue(double value) { return fmt::format("{:g}", value); }
 
+// Coverage factor of the test "the first step's mass changed" (FirstStepBranch): k = 2, about
+// 95 % for a normal distribution (JCGM 100:2008, 6.3.3).
+constexpr double kMassChangeCoverageFactor = 2.0;
+
+// The branch of a log's first step (the rule is stated at VaporLogStep::branch, ingest.h). No
+// earlier set point tells which way the specimen went, so the step's own trace decides: the
+// change from its first to its last block mean, significant when larger than k u with
+// u = sqrt(2) u_balance (two readings, each block mean taken as no better than one reading:
+// balance drift does not average out). Within that, the direction of the next set point (a
+// lower one: the log dries from here, desorption); without a next step, adsorption.
+Branch FirstStepBranch(const VaporLogStep& first, const VaporLogStep* next,
+                       double balance_standard_uncertainty_g) {
+  if (first.set_rh_fraction <= kSetPointTolerance_fraction) return Branch::kDrying;
+  const double change_g = first.blocks.back().mass_g - first.blocks.front().mass_g;
+  const double u_change_g = std::sqrt(2.0) * balance_standard_uncertainty_g;
+  if (std::abs(change_g) > kMassChangeCoverageFactor * u_change_g) {
+    return change_g < 0.0 ? Branch::kDesorption : Branch::kAdsorption;
+  }
+  if (next != nullptr && next->set_rh_fraction < first.set_rh_fraction) {
+    return Branch::kDesorption;
+  }
+  return Branch::kAdsorption;
+}
+
+// Numbers the adsorption/desorption cycles of a log (VaporLogStep::cycle): a new cycle begins
+// each time the log comes back to the branch of its first wet step after the other branch;
+// drying steps keep the cycle they fall in.
+class CycleCounter {
+ public:
+  int Enter(Branch branch) {
+    if (branch == Branch::kDrying) return cycle_;
+    if (first_wet_ == Branch::kDrying) {
+      first_wet_ = branch;
+    } else if (branch == first_wet_ && last_wet_ != first_wet_) {
+      ++cycle_;
+    }
+    last_wet_ = branch;
+    return cycle_;
+  }
+
+ private:
+  Branch first_wet_ = Branch::kDrying;  // kDrying: no wet step yet
+  Branch last_wet_ = Branch::kDrying;
+  int cycle_ = 0;
+};
+
 // "step 3 (set 40 %RH, lines 120-250)".
 std::string DescribeStep(const VaporLogStep& step) {
   return fmt::format("step {} (set {:g} %RH, lines {}-{})", step.step_index + 1,
@@ -182,11 +228,13 @@ void WarnAboutFrozenStep(const VaporLog& log, const VaporLogStep& step,
 
 VaporLog ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
                       IngestSummary* summary) {
-  return internal::ReadVaporLog(dataset, options, summary, nullptr);
+  return internal::ReadVaporLog(dataset, options, JobSpec{}.balance_standard_uncertainty_g, summary,
+                                nullptr);
 }
 
 VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions& options,
-                                IngestSummary* summary, std::vector<SpecimenMasses>* masses) {
+                                double balance_standard_uncertainty_g, IngestSummary* summary,
+                                std::vector<SpecimenMasses>* masses) {
   const CsvFormat& format = dataset.format;
   const std::string display = dataset.file.string();
   CsvReader reader(dataset.file, display, format.delimiter, format.decimal_comma);
@@ -260,8 +308,13 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
   double previous_t = 0.0;
   std::int64_t previous_line = 0;
   double current_set = 0.0;
-  Branch last_wet_branch = Branch::kDrying;  // last non-drying branch
-  int cycle = 0;
+  CycleCounter cycles;
+  // Once the first step has ended: its branch from its own trace and the next set point.
+  const auto settle_first_step = [&](const VaporLogStep* next) {
+    VaporLogStep& first = log.steps.front();
+    first.branch = FirstStepBranch(first, next, balance_standard_uncertainty_g);
+    first.cycle = cycles.Enter(first.branch);
+  };
   int num_gaps = 0;
 
   double values[5];    // in header order
@@ -360,8 +413,15 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
       if (in_step) {
         log.steps.push_back(builder.Finish());
       }
-      if (branch == Branch::kAdsorption && last_wet_branch == Branch::kDesorption) ++cycle;
-      if (branch != Branch::kDrying) last_wet_branch = branch;
+      int cycle = 0;  // the first step: settled when it ends
+      if (!log.steps.empty()) {
+        if (log.steps.size() == 1) {
+          VaporLogStep next;
+          next.set_rh_fraction = set_rh;
+          settle_first_step(&next);
+        }
+        cycle = cycles.Enter(branch);
+      }
       builder.Begin(static_cast<int>(log.steps.size()), set_rh, branch, cycle, t, reader.line());
       step_mass_cells.push_back(fields().Where(fields().Column(mass_index)));
       if (log.steps.size() == 1) second_step_rh = fields().Where(fields().Column(rh_index));
@@ -381,6 +441,7 @@ VaporLog internal::ReadVaporLog(const DataSetSpec& dataset, const IngestOptions&
         "at least one reading per line");
   }
   log.steps.push_back(builder.Finish());
+  if (log.steps.size() == 1) settle_first_step(nullptr);
 
   // Plausibility rule R2: RH fractions under a percent column.
   const auto fail_fractions = [&](const internal::MappedColumn& column, std::string message) {

@@ -111,7 +111,7 @@ struct PoreOptions {
   // p-value with relative weights, where chi-square tests nothing) must be at least this: a fit
   // rejected at the 99.9 % level is inconsistent with its data and the stated uncertainties
   // (common practice for a goodness-of-fit gate).
-  double model_min_fit_p_value = 1e-3;
+  double model_min_fit_p_value = fit::kMinGoodnessOfFitPValue;
   // The model may be read this far outside the RH range of the points it was fitted to (and no
   // further): half a percent RH, below the standard uncertainty of salt-solution and sensor
   // humidities (common practice; the same tolerance as the reference moisture contents).

@@ -748,6 +748,34 @@ void AddBestModelCautions(const fit::ModelFit& mf, const ModelRow& row, const Sh
   }
 }
 
+// A group without a best model (fit::IsothermFits::no_best_fit_reason): no model describes its
+// points within their uncertainties, or none could be ranked; said in the best-model line and,
+// with the reason, in the cautions.
+void AddGroupsWithoutBestModel(const fit::IsothermFits& fits, std::vector<std::string>& best_names,
+                               CautionList& cautions) {
+  for (size_t g = 0; g < fits.best_fit_per_group.size() && g < fits.groups.size(); ++g) {
+    if (fits.best_fit_per_group[g] >= 0 || g >= fits.no_best_fit_reason.size() ||
+        fits.no_best_fit_reason[g].empty()) {
+      continue;
+    }
+    const std::string group =
+        BranchTemperatureLabel(fits.groups[g].branch, fits.groups[g].temperature_K);
+    bool misfit = false;  // a model was rejected by its goodness-of-fit check (fit_stage.h)
+    for (const fit::ModelFit& mf : fits.fits) {
+      misfit = misfit || (mf.group_index == static_cast<int>(g) && fit::IsIdentified(mf) &&
+                          !fit::GoodnessOfFitOf(mf).passed);
+    }
+    best_names.push_back("none for " + group);
+    const std::string lead =
+        misfit ? fmt::format("No model describes the {} points within their uncertainties", group)
+               : fmt::format("No model could be ranked for the {} points", group);
+    cautions.Add(fmt::format("{}, so no best model, model parameters or model-based pore-size "
+                             "distribution are given for them. {}.",
+                             lead, fits.no_best_fit_reason[g]),
+                 CautionRank::kValidity);
+  }
+}
+
 // The best model of each group: its parameters join the headline, its flags the cautions.
 void AddBestModels(const fit::IsothermFits& fits, CautionList& cautions) {
   Sheet& sheet = cautions.sheet;
@@ -767,6 +795,7 @@ void AddBestModels(const fit::IsothermFits& fits, CautionList& cautions) {
     }
     AddBestModelCautions(mf, row, sheet, cautions);
   }
+  AddGroupsWithoutBestModel(fits, best_names, cautions);
   for (size_t i = 0; i < best_names.size(); ++i) {
     sheet.best_model_text += (i > 0 ? "; " : "") + best_names[i];
   }

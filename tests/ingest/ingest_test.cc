@@ -297,7 +297,9 @@ TEST(VaporLogTest, DeclaredUnits) {
   dataset.format.mass_unit = "g";
   const VaporLog log = ReadVaporLog(dataset, IngestOptions{}, nullptr);
   ASSERT_EQ(log.steps.size(), 4u);
-  EXPECT_EQ(log.steps[0].branch, Branch::kAdsorption);
+  // The first step gains 0.1 mg, within 2 sqrt(2) u_balance (JobSpec default 0.1 mg), and the
+  // next set point is lower: desorption (VaporLogStep::branch).
+  EXPECT_EQ(log.steps[0].branch, Branch::kDesorption);
   EXPECT_EQ(log.steps[0].set_rh_fraction, 0.5);
   EXPECT_EQ(log.steps[0].end_time_s, 30.0);  // 0.5 min
   EXPECT_EQ(log.steps[1].branch, Branch::kDesorption);
@@ -305,7 +307,8 @@ TEST(VaporLogTest, DeclaredUnits) {
   EXPECT_EQ(log.steps[2].branch, Branch::kDrying);
   EXPECT_EQ(log.steps[2].cycle, 0);
   EXPECT_EQ(log.steps[3].branch, Branch::kAdsorption);
-  EXPECT_EQ(log.steps[3].cycle, 1);  // adsorption after a desorption, drying in between
+  // Adsorption after the log's first branch (desorption): still its first cycle.
+  EXPECT_EQ(log.steps[3].cycle, 0);
   EXPECT_EQ(log.steps[3].blocks[0].mass_g, 0.2510);
   EXPECT_EQ(log.steps[3].blocks[0].temperature_K, 298.14);
   EXPECT_EQ(log.steps[3].blocks[0].rh_measured_fraction, 0.399);
