@@ -45,11 +45,27 @@ struct Tally {
   int covered = 0;
   std::vector<double> errors;
   std::vector<double> uncertainties;
-  void Add(double error, double standard_uncertainty, bool inside) {
+  double worst_z = 0;  // the largest |error| / u, and where
+  int worst_replicate = -1;
+  void Add(double error, double standard_uncertainty, bool inside, int replicate) {
     ++trials;
     covered += inside ? 1 : 0;
     errors.push_back(error);
     uncertainties.push_back(standard_uncertainty);
+    const double z = standard_uncertainty > 0 ? std::fabs(error) / standard_uncertainty : 1e300;
+    if (z > worst_z) {
+      worst_z = z;
+      worst_replicate = replicate;
+    }
+  }
+  // 1 / RMS(error / u): the u / RMS(error) of a pool of quantities in different units.
+  double PooledRatio() const {
+    double sum = 0;
+    for (std::size_t i = 0; i < errors.size(); ++i) {
+      const double z = errors[i] / uncertainties[i];
+      sum += z * z;
+    }
+    return sum > 0 ? std::sqrt(static_cast<double>(errors.size()) / sum) : 0.0;
   }
   double Coverage() const { return trials > 0 ? static_cast<double>(covered) / trials : 0.0; }
   double MeanU() const {
@@ -94,6 +110,7 @@ struct Tallies {
   int missing_points = 0;
   int missing_gab = 0;
   int missing_headlines = 0;
+  std::map<std::string, int> reference_models;  // the model behind the reference conditions
   std::vector<double> seconds;
   std::vector<std::string> misses;  // what missed, for the failure message
 };
@@ -110,17 +127,17 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
         best = i;
     }
     const TruePoint& truth = job.points[best];
-    if (std::fabs(truth.rh_fraction - rh) > 0.02) continue;  // not one of our steps
+    if (std::fabs(truth.rh_fraction - rh) > 0.045) continue;  // not one of our steps
     seen[best] = true;
     const json& m = point.at("moisture");
     const double error = m.at("value").get<double>() - truth.moisture_kg_per_kg;
     const double expanded = m.at("expanded_uncertainty").get<double>();
     const double u = m.at("standard_uncertainty").get<double>();
     const bool inside = std::fabs(error) <= expanded;
-    tallies.by_quantity["point " + truth.label].Add(error, u, inside);
-    tallies.all_points.Add(error, u, inside);
+    tallies.by_quantity["point " + truth.label].Add(error, u, inside, replicate);
+    tallies.all_points.Add(error, u, inside, replicate);
     if (job.points.size() > 0 && truth.cut_early) {
-      tallies.by_quantity["point cut early (any step)"].Add(error, u, inside);
+      tallies.by_quantity["point cut early (any step)"].Add(error, u, inside, replicate);
     }
     if (!inside) {
       tallies.misses.push_back("replicate " + std::to_string(replicate) + " point " + truth.label +
@@ -153,8 +170,8 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
       const double u = parameter.at("standard_uncertainty").is_number()
                            ? parameter.at("standard_uncertainty").get<double>()
                            : 0.0;
-      tallies.by_quantity["GAB " + label].Add(value - truth.at(label), u, inside);
-      tallies.all_gab.Add(value - truth.at(label), u, inside);
+      tallies.by_quantity["GAB " + label].Add(value - truth.at(label), u, inside, replicate);
+      tallies.all_gab.Add(value - truth.at(label), u, inside, replicate);
       if (!inside) {
         tallies.misses.push_back("replicate " + std::to_string(replicate) + " GAB " + label + " " +
                                  std::to_string(value) + " interval [" +
@@ -194,39 +211,49 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
     }
   }
   const int headlines = static_cast<int>(references.size());
+  std::string model = results.at("best_model").is_string()
+                          ? results.at("best_model").get<std::string>()
+                          : std::string("?");
+  if (!references.empty() && references.front().value->contains("model")) {
+    model = references.front().value->at("model").get<std::string>();
+  }
+  if (headlines > 0) ++tallies.reference_models[model];
   for (const Reference& reference : references) {
     const json& r = *reference.value;
     const double error = r.at("value").get<double>() - job.truth(reference.rh_fraction);
     const double expanded = r.at("expanded_uncertainty").get<double>();
     const double u = r.at("standard_uncertainty").get<double>();
     const bool inside = std::fabs(error) <= expanded;
-    tallies.by_quantity[reference.name].Add(error, u, inside);
-    tallies.all_headlines.Add(error, u, inside);
+    tallies.by_quantity[reference.name].Add(error, u, inside, replicate);
+    tallies.all_headlines.Add(error, u, inside, replicate);
     if (!inside) {
       tallies.misses.push_back("replicate " + std::to_string(replicate) + " " + reference.name +
                                ": error " + std::to_string(error) + ", U " +
-                               std::to_string(expanded));
+                               std::to_string(expanded) + " (model " + model + ")");
     }
   }
   tallies.missing_headlines += headlines == 2 ? 0 : 1;
 }
 
-std::string Row(const std::string& name, const Tally& t) {
+// One row; a pooled row (quantities in different units) gives 1 / RMS(error / u) as its ratio.
+std::string Row(const std::string& name, const Tally& t, bool pooled = false) {
   char buffer[256];
-  std::snprintf(buffer, sizeof buffer, "  %-28s %4d %6.1f %%  %10.3g %10.3g %10.3g %6.2f\n",
-                name.c_str(), t.trials, 100.0 * t.Coverage(), t.MeanU(), t.Rms(), t.Bias(),
-                t.Rms() > 0 ? t.MeanU() / t.Rms() : 0.0);
+  const double ratio = pooled ? t.PooledRatio() : (t.Rms() > 0 ? t.MeanU() / t.Rms() : 0.0);
+  std::snprintf(buffer, sizeof buffer,
+                "  %-28s %4d %6.1f %%  %10.3g %10.3g %10.3g %6.2f %7.1f (%d)\n", name.c_str(),
+                t.trials, 100.0 * t.Coverage(), pooled ? 0.0 : t.MeanU(), pooled ? 0.0 : t.Rms(),
+                pooled ? 0.0 : t.Bias(), ratio, t.worst_z, t.worst_replicate);
   return buffer;
 }
 
 std::string Table(const std::string& title, const Tallies& tallies) {
   std::string out = title + "\n  " +
                     "quantity                        n  coverage     mean u   RMS(err)       bias "
-                    "u/RMS\n";
+                    "u/RMS  max|z| (replicate)\n";
   for (const auto& [name, tally] : tallies.by_quantity) out += Row(name, tally);
-  out += Row("ALL points", tallies.all_points);
-  out += Row("ALL GAB parameters", tallies.all_gab);
-  out += Row("ALL reference conditions", tallies.all_headlines);
+  out += Row("ALL points", tallies.all_points, true);
+  out += Row("ALL GAB parameters", tallies.all_gab, true);
+  out += Row("ALL reference conditions", tallies.all_headlines, true);
   double total = 0, slowest = 0;
   for (double s : tallies.seconds) {
     total += s;
@@ -239,7 +266,12 @@ std::string Table(const std::string& title, const Tallies& tallies) {
                 tallies.expected_points - tallies.missing_points, tallies.expected_points,
                 tallies.missing_gab, tallies.missing_headlines, total,
                 total / static_cast<double>(tallies.seconds.size()), slowest);
-  return out + buffer;
+  out += buffer;
+  out += "  model behind the reference conditions:";
+  for (const auto& [model, count] : tallies.reference_models) {
+    out += " " + model + " " + std::to_string(count);
+  }
+  return out + "\n";
 }
 
 Tallies RunClass(JobClass job_class, const std::string& name) {
@@ -265,29 +297,32 @@ Tallies RunClass(JobClass job_class, const std::string& name) {
 }
 
 void ExpectCalibrated(const std::string& title, const Tallies& tallies) {
-  const std::string table = Table(title, tallies);
-  std::cout << table << std::flush;
-  std::string misses;
+  std::cout << Table(title, tallies) << std::flush;  // the table, once; failures name a row
+  std::string misses = "  statements that missed the truth:\n";
   for (const auto& m : tallies.misses) misses += "    " + m + "\n";
+  std::cout << misses << std::flush;
 
   // Every job reports its GAB fit and both reference conditions; at most 2 % of the steps
   // may be left out (a step the program judges differently from the laboratory's rule).
-  EXPECT_EQ(tallies.missing_gab, 0) << table;
-  EXPECT_EQ(tallies.missing_headlines, 0) << table;
-  EXPECT_LE(tallies.missing_points, tallies.expected_points / 50) << table;
+  EXPECT_EQ(tallies.missing_gab, 0);
+  EXPECT_EQ(tallies.missing_headlines, 0);
+  EXPECT_LE(tallies.missing_points, tallies.expected_points / 50);
 
-  for (const Tally* pooled : {&tallies.all_points, &tallies.all_gab, &tallies.all_headlines}) {
-    EXPECT_GE(pooled->Coverage(), 0.90) << table << misses;
-    EXPECT_LE(pooled->Coverage(), 0.98) << table << misses;
+  const std::vector<std::pair<std::string, const Tally*>> pooled{
+      {"ALL points", &tallies.all_points},
+      {"ALL GAB parameters", &tallies.all_gab},
+      {"ALL reference conditions", &tallies.all_headlines}};
+  for (const auto& [name, t] : pooled) {
+    EXPECT_GE(t->Coverage(), 0.90) << name << " (table above)";
+    EXPECT_LE(t->Coverage(), 0.98) << name << " (table above)";
   }
   for (const auto& [name, t] : tallies.by_quantity) {
     EXPECT_TRUE(ConsistentWithCalibrated(t))
-        << name << ": " << t.covered << " of " << t.trials << "\n"
-        << table << misses;
+        << name << ": " << t.covered << " of " << t.trials << " (table above)";
     if (t.trials >= 20) {
       const double ratio = t.MeanU() / t.Rms();
-      EXPECT_GE(ratio, 0.7) << name << "\n" << table;
-      EXPECT_LE(ratio, 1.5) << name << "\n" << table;
+      EXPECT_GE(ratio, 0.7) << name << ": mean(u)/RMS(error) (table above)";
+      EXPECT_LE(ratio, 1.5) << name << ": mean(u)/RMS(error) (table above)";
     }
   }
 }

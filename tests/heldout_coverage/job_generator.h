@@ -8,14 +8,17 @@
 //    a time constant of 1-4 days; the laboratory moves the specimens on when the last three
 //    weighings of every specimen, 24 h apart, lie within 0.1 % of its mass (ISO 12571:2021,
 //    constant-mass criterion, read as max - min of the three); balance noise 0.1 mg, readings
-//    rounded to 0.1 mg. All specimens follow the same GAB isotherm.
+//    rounded to 0.1 mg. All specimens follow the same GAB isotherm. The humidity over each salt
+//    is Greenspan's value plus a deviation drawn with his uncertainty (the truth of the step).
 //  - kDesiccatorFactors: the same, each specimen's moisture content = factor * GAB truth, the
 //    factor drawn with sd 3 %; the truth of the job is the mean curve (factor 1).
 //  - kVapourLog: one 10-20 mg specimen in a vapour-sorption balance at 23 degC, readings every
 //    60 s, set points 0 (drying; dry mass = its end), 10, 20, ..., 90 % RH, time constants
 //    20-90 min; a step ends when the least-squares slope of the last 10 min of readings is below
 //    0.002 %/min of the dry mass (common practice), except two steps at 60-90 % that the
-//    instrument cuts at about 1.5 time constants (to be extrapolated); balance noise 1 ug.
+//    instrument cuts at about 1.5 time constants (to be extrapolated); balance noise 1 ug. The
+//    chamber holds the set point; the humidity sensor reads it with an error per step drawn
+//    with the standard uncertainty the job states (0.8 %RH) plus 0.2 %RH noise per reading.
 //
 // Deterministic: one std::mt19937_64 per job seeded from the class and the replicate, uniform
 // deviates from the top 53 bits, normal deviates from our own Box-Muller transform, numbers
@@ -99,20 +102,22 @@ struct GeneratedJob {
 
 namespace internal {
 
-// Saturated salt humidities at 25 degC, Greenspan (1977), J. Res. NBS 81A, 89-96, Table 2
-// (from memory; each agrees with `sorbtrace calc salt X --temp 25C` within 0.01 %RH).
+// Saturated salt humidities at 25 degC and their estimated uncertainties (taken as k = 2),
+// Greenspan (1977), J. Res. NBS 81A, 89-96, Table 2 (from memory; each value agrees with
+// `sorbtrace calc salt X --temp 25C` within 0.01 %RH, each uncertainty with its U).
 struct Salt {
   const char* formula;
   double rh_fraction;
+  double expanded_uncertainty_fraction;
 };
-inline constexpr std::array<Salt, 8> kSalts25C{{{"LiCl", 0.1130},
-                                                {"MgCl2", 0.3278},
-                                                {"K2CO3", 0.4316},
-                                                {"Mg(NO3)2", 0.5289},
-                                                {"NaBr", 0.5757},
-                                                {"NaCl", 0.7529},
-                                                {"KCl", 0.8434},
-                                                {"K2SO4", 0.9730}}};
+inline constexpr std::array<Salt, 8> kSalts25C{{{"LiCl", 0.1130, 0.0027},
+                                                {"MgCl2", 0.3278, 0.0016},
+                                                {"K2CO3", 0.4316, 0.0039},
+                                                {"Mg(NO3)2", 0.5289, 0.0022},
+                                                {"NaBr", 0.5757, 0.0040},
+                                                {"NaCl", 0.7529, 0.0012},
+                                                {"KCl", 0.8434, 0.0026},
+                                                {"K2SO4", 0.9730, 0.0045}}};
 
 inline std::string Fixed(double value, int decimals) {
   char buffer[64];
@@ -197,7 +202,12 @@ inline GeneratedJob Desiccator(int replicate, bool specimen_factors) {
   const int num_steps = 1 + static_cast<int>(salts.size());
   for (int step = 0; step < num_steps; ++step) {
     const bool oven = step == 0;
-    const double rh = oven ? 0.0 : salts[step - 1].rh_fraction;
+    // A real saturated solution sits within Greenspan's uncertainty of his value: the humidity
+    // of this desiccator is drawn with u = U / 2, the uncertainty the job relies on.
+    const double rh =
+        oven ? 0.0
+             : salts[step - 1].rh_fraction +
+                   0.5 * salts[step - 1].expanded_uncertainty_fraction * random.Normal();
     const double tau_step_d = oven ? 0.3 : random.Uniform(1.0, 4.0);
     std::array<double, kSpecimens> tau_d{};
     std::array<double, kSpecimens> start{};
@@ -294,6 +304,7 @@ inline GeneratedJob VapourLog(int replicate) {
   long elapsed_s = 0;
   constexpr double kRateLimitPerMin = 0.002 / 100.0;  // of the dry mass (common practice)
   constexpr int kWindowReadings = 11;                 // 10 min of 60 s readings
+  constexpr double kSensorUncertaintyPercent = 0.8;   // as the job file states
   double reference_mg = dry_mg * (1.0 + moisture);    // before drying: the current mass
   for (int step = 0; step <= 9; ++step) {
     const double set = 0.1 * step;
@@ -302,12 +313,14 @@ inline GeneratedJob VapourLog(int replicate) {
     const double cut_min = 1.5 * tau_min * random.Uniform(0.9, 1.1);
     const double start = moisture;
     const double target = job.truth(set);
+    const double sensor_error_percent = kSensorUncertaintyPercent * random.Normal();
     std::vector<double> t_min, m_mg;
     for (int minute = 0;; ++minute) {
       const double w = target + (start - target) * std::exp(-minute / tau_min);
       moisture = w;
       const double mass_mg = dry_mg * (1.0 + w) + 1e-3 * random.Normal();
-      const double measured = std::max(0.0, 100.0 * set + 0.2 * random.Normal());
+      const double measured =
+          std::max(0.0, 100.0 * set + sensor_error_percent + 0.2 * random.Normal());
       csv += std::to_string(elapsed_s) + "," + Fixed(100.0 * set, 1) + "," + Fixed(measured, 2) +
              "," + Fixed(23.0 + 0.03 * random.Normal(), 2) + "," + Fixed(mass_mg, 4) + "\n";
       elapsed_s += 60;
