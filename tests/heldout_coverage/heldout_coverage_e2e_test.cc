@@ -111,6 +111,9 @@ struct Tallies {
   int missing_gab = 0;
   int missing_headlines = 0;
   std::map<std::string, int> reference_models;  // the model behind the reference conditions
+  // Not checked, printed to locate a cause: the reference conditions split by the model behind
+  // them (GAB, the truth's form, or another one ranked first).
+  std::map<std::string, Tally> diagnostic;
   std::vector<double> seconds;
   std::vector<std::string> misses;  // what missed, for the failure message
 };
@@ -226,6 +229,10 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
     const bool inside = std::fabs(error) <= expanded;
     tallies.by_quantity[reference.name].Add(error, u, inside, replicate);
     tallies.all_headlines.Add(error, u, inside, replicate);
+    const bool gab =
+        model.find("gab") != std::string::npos || model.find("GAB") != std::string::npos;
+    tallies.diagnostic[reference.name + (gab ? " (GAB)" : " (other model)")].Add(error, u, inside,
+                                                                                 replicate);
     if (!inside) {
       tallies.misses.push_back("replicate " + std::to_string(replicate) + " " + reference.name +
                                ": error " + std::to_string(error) + ", U " +
@@ -235,21 +242,31 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
   tallies.missing_headlines += headlines == 2 ? 0 : 1;
 }
 
-// One row; a pooled row (quantities in different units) gives 1 / RMS(error / u) as its ratio.
+// One row: n, coverage, mean u, RMS(error), bias, mean(u) / RMS(error) (a pooled row, of
+// quantities in different units, gives none of these three), 1 / RMS(error / u) (the same
+// calibration read per replicate: it is not dominated by the replicates with the largest u),
+// and the largest |error| / u with its replicate.
 std::string Row(const std::string& name, const Tally& t, bool pooled = false) {
   char buffer[256];
-  const double ratio = pooled ? t.PooledRatio() : (t.Rms() > 0 ? t.MeanU() / t.Rms() : 0.0);
-  std::snprintf(buffer, sizeof buffer,
-                "  %-28s %4d %6.1f %%  %10.3g %10.3g %10.3g %6.2f %7.1f (%d)\n", name.c_str(),
-                t.trials, 100.0 * t.Coverage(), pooled ? 0.0 : t.MeanU(), pooled ? 0.0 : t.Rms(),
-                pooled ? 0.0 : t.Bias(), ratio, t.worst_z, t.worst_replicate);
+  if (pooled) {
+    std::snprintf(buffer, sizeof buffer,
+                  "  %-28s %4d %6.1f %%  %10s %10s %10s %6s %6.2f %7.1f (%d)\n", name.c_str(),
+                  t.trials, 100.0 * t.Coverage(), "-", "-", "-", "-", t.PooledRatio(), t.worst_z,
+                  t.worst_replicate);
+  } else {
+    std::snprintf(buffer, sizeof buffer,
+                  "  %-28s %4d %6.1f %%  %10.3g %10.3g %10.3g %6.2f %6.2f %7.1f (%d)\n",
+                  name.c_str(), t.trials, 100.0 * t.Coverage(), t.MeanU(), t.Rms(), t.Bias(),
+                  t.Rms() > 0 ? t.MeanU() / t.Rms() : 0.0, t.PooledRatio(), t.worst_z,
+                  t.worst_replicate);
+  }
   return buffer;
 }
 
 std::string Table(const std::string& title, const Tallies& tallies) {
   std::string out = title + "\n  " +
                     "quantity                        n  coverage     mean u   RMS(err)       bias "
-                    "u/RMS  max|z| (replicate)\n";
+                    "u/RMS 1/RMS(z) max|z| (replicate)\n";
   for (const auto& [name, tally] : tallies.by_quantity) out += Row(name, tally);
   out += Row("ALL points", tallies.all_points, true);
   out += Row("ALL GAB parameters", tallies.all_gab, true);
@@ -267,6 +284,8 @@ std::string Table(const std::string& title, const Tallies& tallies) {
                 tallies.missing_gab, tallies.missing_headlines, total,
                 total / static_cast<double>(tallies.seconds.size()), slowest);
   out += buffer;
+  out += "  not checked, to locate causes: the reference conditions by the model behind them\n";
+  for (const auto& [name, tally] : tallies.diagnostic) out += Row(name, tally);
   out += "  model behind the reference conditions:";
   for (const auto& [model, count] : tallies.reference_models) {
     out += " " + model + " " + std::to_string(count);
