@@ -151,9 +151,6 @@ ApproachEstimate EstimateLogApproach(std::span<const double> tail_time_s,
       FitExponentialTail(tail_time_s, tail_mass_g, TailOptions(options, step_start_s));
   const double span_s = tail_time_s.back() - tail_time_s.front();
   ApproachEstimate estimate = FromTailFit(fit, reported_mass_g, "block means");
-  // The asymptote of a fit through the block means: its Type A uncertainty holds the balance
-  // scatter (as for the desiccator fit above; JCGM 100:2008, 4.3.10: not counted twice).
-  estimate.includes_weighing_scatter = estimate.estimated;
   if (estimate.estimated) {
     estimate.method += fmt::format(" (tail of {:.3g} min)", span_s / kSecondsPerMinute);
   }

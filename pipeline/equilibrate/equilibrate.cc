@@ -378,8 +378,6 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
             point.u_mass_extrapolation_g = fit.u_m_inf_g;
             point.u_mass_extrapolation_model_g = fit.u_model_g;
             point.extrapolation_degrees_of_freedom = fit.degrees_of_freedom;
-            // A fitted asymptote: the fit's Type A uncertainty holds the balance scatter.
-            point.mass_includes_weighing_scatter = true;
             point.u_mass_drift_g = 0.0;
             const double limit_g_per_s =
                 options.rate_limit_fraction_per_min * reference_mass_g / kSecondsPerMinute;
