@@ -125,7 +125,8 @@ struct Tallies {
   int missing_headlines = 0;
   std::map<std::string, int> reference_models;  // the model behind the reference conditions
   // Not checked, printed to locate a cause: the reference conditions split by the model behind
-  // them (GAB, the truth's form, or another one ranked first).
+  // them (GAB, the truth's form, or another one ranked first); the GAB parameters' bootstrap
+  // and Monte Carlo intervals of results.json (u: the draws' parameter_u).
   std::map<std::string, Tally> diagnostic;
   std::vector<double> seconds;
   std::vector<std::string> misses;  // what missed, for the failure message
@@ -187,6 +188,24 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
                            ? parameter.at("standard_uncertainty").get<double>()
                            : 0.0;
       tallies.by_quantity["GAB " + label].Add(value - truth.at(label), u, inside, replicate);
+      // Printed, not checked: the resampled intervals results.json gives beside the stated one.
+      for (const char* method : {"bootstrap", "monte_carlo"}) {
+        if (!model.contains(method)) continue;
+        const json& draws = model.at(method);
+        const std::size_t i = static_cast<std::size_t>(&parameter - &model.at("parameters")[0]);
+        if (!draws.contains("parameter_low") || i >= draws.at("parameter_low").size()) continue;
+        const json& low = draws.at("parameter_low").at(i);
+        const json& high = draws.at("parameter_high").at(i);
+        const double draw_u =
+            draws.contains("parameter_u") && draws.at("parameter_u").at(i).is_number()
+                ? draws.at("parameter_u").at(i).get<double>()
+                : 0.0;
+        const bool covered = low.is_number() && high.is_number() &&
+                             low.get<double>() <= truth.at(label) &&
+                             truth.at(label) <= high.get<double>();
+        tallies.diagnostic["GAB " + label + " (" + method + " interval)"].Add(
+            value - truth.at(label), draw_u, covered, replicate);
+      }
       tallies.all_gab.Add(value - truth.at(label), u, inside, replicate);
       if (!inside) {
         tallies.misses.push_back("replicate " + std::to_string(replicate) + " GAB " + label + " " +
@@ -297,7 +316,9 @@ std::string Table(const std::string& title, const Tallies& tallies) {
                 tallies.missing_gab, tallies.missing_headlines, total,
                 total / static_cast<double>(tallies.seconds.size()), slowest);
   out += buffer;
-  out += "  not checked, to locate causes: the reference conditions by the model behind them\n";
+  out +=
+      "  not checked, to locate causes: reference conditions by the model behind them; "
+      "resampled GAB intervals\n";
   for (const auto& [name, tally] : tallies.diagnostic) out += Row(name, tally);
   out += "  model behind the reference conditions:";
   for (const auto& [model, count] : tallies.reference_models) {
