@@ -132,8 +132,8 @@ struct Tallies {
   std::vector<std::string> misses;  // what missed, for the failure message
 };
 
-void CheckJob(const GeneratedJob& job, const json& results, int replicate, Tallies& tallies) {
-  // Equilibrium points (adsorption), matched to a step by the nearest true humidity.
+// Equilibrium points (adsorption), matched to a step by the nearest true humidity.
+void CheckPoints(const GeneratedJob& job, const json& results, int replicate, Tallies& tallies) {
   std::vector<bool> seen(job.points.size(), false);
   for (const auto& point : results.at("isotherm").at("points")) {
     if (point.at("branch") != "adsorption") continue;
@@ -153,7 +153,7 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
     const bool inside = std::fabs(error) <= expanded;
     tallies.by_quantity["point " + truth.label].Add(error, u, inside, replicate);
     tallies.all_points.Add(error, u, inside, replicate);
-    if (job.points.size() > 0 && truth.cut_early) {
+    if (truth.cut_early) {
       tallies.by_quantity["point cut early (any step)"].Add(error, u, inside, replicate);
     }
     if (!inside) {
@@ -164,8 +164,10 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
   }
   tallies.expected_points += static_cast<int>(job.points.size());
   for (bool s : seen) tallies.missing_points += s ? 0 : 1;
+}
 
-  // GAB parameters of the adsorption group.
+// GAB parameters of the adsorption group.
+void CheckGab(const GeneratedJob& job, const json& results, int replicate, Tallies& tallies) {
   const json& fits = results.at("fits");
   bool gab_found = false;
   for (const auto& model : fits.at("models")) {
@@ -216,11 +218,14 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
     }
   }
   tallies.missing_gab += gab_found ? 0 : 1;
+}
 
-  // Moisture contents at the reference conditions: the headline values where the sheet's
-  // summary lists them (the template's [[reference]] conditions, 23 degC), else the values
-  // results.json gives for the job's own [pores] reference_conditions (pores.reference_moisture;
-  // the desiccator jobs at 25 degC name 25 degC / 50 and 80 % there).
+// Moisture contents at the reference conditions: the headline values where the sheet's
+// summary lists them (the template's [[reference]] conditions, 23 degC), else the values
+// results.json gives for the job's own [pores] reference_conditions (pores.reference_moisture;
+// the desiccator jobs at 25 degC name 25 degC / 50 and 80 % there).
+void CheckReferences(const GeneratedJob& job, const json& results, int replicate,
+                     Tallies& tallies) {
   static const std::regex kKey(R"(moisture_(\d+)C_(\d+)RH_adsorption)");
   struct Reference {
     std::string name;
@@ -272,6 +277,12 @@ void CheckJob(const GeneratedJob& job, const json& results, int replicate, Talli
     }
   }
   tallies.missing_headlines += headlines == 2 ? 0 : 1;
+}
+
+void CheckJob(const GeneratedJob& job, const json& results, int replicate, Tallies& tallies) {
+  CheckPoints(job, results, replicate, tallies);
+  CheckGab(job, results, replicate, tallies);
+  CheckReferences(job, results, replicate, tallies);
 }
 
 // One row: n, coverage, mean u, RMS(error), bias, mean(u) / RMS(error) (a pooled row, of

@@ -165,6 +165,43 @@ inline bool ConstantMass(const std::vector<double>& masses_g) {
   return high - low <= 0.001 * masses_g[n - 1];
 }
 
+// The salts of a job: six always, NaBr in seven, K2SO4 too in eight; ascending humidity.
+inline std::vector<Salt> ChooseSalts(Random& random) {
+  const int num_salts = 6 + static_cast<int>(random.Uniform() * 3.0);
+  std::vector<Salt> salts;
+  for (const auto& salt : kSalts25C) {
+    const std::string f = salt.formula;
+    if (f == "NaBr" && num_salts < 7) continue;
+    if (f == "K2SO4" && num_salts < 8) continue;
+    salts.push_back(salt);
+  }
+  return salts;
+}
+
+// The job file of a desiccator job: three specimens, oven dry mass, one data set at 25 degC and
+// the reference conditions at 25 degC (the shipped template lists 23 degC ones).
+inline std::string DesiccatorToml(int replicate, bool specimen_factors,
+                                  const std::array<const char*, 3>& ids) {
+  const std::string id =
+      std::string(specimen_factors ? "QMT-F-" : "QMT-I-") + std::to_string(1000 + replicate);
+  std::string toml = "# Held-out coverage job (invented laboratory and material)\n[job]\nid = \"" +
+                     id +
+                     "\"\nissue_date = \"2026-11-30\"\nmaterial_class = \"porous_mineral\"\n"
+                     "method = \"iso_12571_desiccator\"\n\n[material]\nname = \"Clay-lime render "
+                     "CLR-5 (invented)\"\n\n[measurement]\ndry_mass_method = \"oven\"\n"
+                     "drying_temperature_C = 105\nbalance_resolution_g = 0.0001\n"
+                     "balance_standard_uncertainty_g = 0.0001\n"
+                     "temperature_standard_uncertainty_K = 0.2\n";
+  for (const char* specimen : ids) {
+    toml += "\n[[specimen]]\nid = \"" + std::string(specimen) + "\"\n";
+  }
+  toml +=
+      "\n[[dataset]]\nid = \"desiccator-25C\"\nmethod = \"desiccator\"\nfile = \"weighings.csv\"\n"
+      "temperature_C = 25.0\n\n[pores]\nreference_conditions = [{ temperature_C = 25, "
+      "rh_percent = 50 }, { temperature_C = 25, rh_percent = 80 }]\n";
+  return toml;
+}
+
 inline GeneratedJob Desiccator(int replicate, bool specimen_factors) {
   Random random(0x5EEDC0FFEEull * 7919u + static_cast<std::uint64_t>(replicate) * 2u +
                 (specimen_factors ? 1u : 0u));
@@ -184,15 +221,7 @@ inline GeneratedJob Desiccator(int replicate, bool specimen_factors) {
     moisture[s] = factor[s] * job.truth(0.45);  // as conditioned in the laboratory's air
   }
 
-  // Salts: six always, NaBr in seven, K2SO4 too in eight; ascending humidity.
-  const int num_salts = 6 + static_cast<int>(random.Uniform() * 3.0);
-  std::vector<internal::Salt> salts;
-  for (const auto& salt : kSalts25C) {
-    const std::string f = salt.formula;
-    if (f == "NaBr" && num_salts < 7) continue;
-    if (f == "K2SO4" && num_salts < 8) continue;
-    salts.push_back(salt);
-  }
+  const std::vector<Salt> salts = ChooseSalts(random);
 
   std::string csv =
       "# Quillfeather Materials Test House (invented) - desiccator weighings, 25 degC\n"
@@ -247,23 +276,7 @@ inline GeneratedJob Desiccator(int replicate, bool specimen_factors) {
   }
   job.data_csv = csv;
 
-  const std::string id =
-      std::string(specimen_factors ? "QMT-F-" : "QMT-I-") + std::to_string(1000 + replicate);
-  std::string toml = "# Held-out coverage job (invented laboratory and material)\n[job]\nid = \"" +
-                     id +
-                     "\"\nissue_date = \"2026-11-30\"\nmaterial_class = \"porous_mineral\"\n"
-                     "method = \"iso_12571_desiccator\"\n\n[material]\nname = \"Clay-lime render "
-                     "CLR-5 (invented)\"\n\n[measurement]\ndry_mass_method = \"oven\"\n"
-                     "drying_temperature_C = 105\nbalance_resolution_g = 0.0001\n"
-                     "balance_standard_uncertainty_g = 0.0001\n"
-                     "temperature_standard_uncertainty_K = 0.2\n";
-  for (const char* specimen : ids)
-    toml += "\n[[specimen]]\nid = \"" + std::string(specimen) + "\"\n";
-  toml +=
-      "\n[[dataset]]\nid = \"desiccator-25C\"\nmethod = \"desiccator\"\nfile = \"weighings.csv\"\n"
-      "temperature_C = 25.0\n\n[pores]\nreference_conditions = [{ temperature_C = 25, "
-      "rh_percent = 50 }, { temperature_C = 25, rh_percent = 80 }]\n";
-  job.job_toml = toml;
+  job.job_toml = DesiccatorToml(replicate, specimen_factors, ids);
   return job;
 }
 
