@@ -477,12 +477,22 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
   out.applicability = ApplicabilityFor(options.material_class);
   if (out.applicability.section == PoreSection::kOmitted) Warn(&out, out.applicability.reason);
   std::vector<internal::FittedCurve> best_adsorption;
+  std::vector<internal::FittedCurve> ranked_adsorption;  // every ranked fit (model choice)
   std::vector<internal::FittedCurve> best_desorption;
   std::vector<internal::FittedCurve> monolayer_fits;
 
   for (std::size_t g = 0; g < fits.groups.size(); ++g) {
     const fit::FitGroup& group = fits.groups[g];
     const internal::FittedCurve best = CurveOf(fits, BestFitOf(fits, g));
+    for (std::size_t i = 0; i < fits.fits.size(); ++i) {
+      const fit::ModelFit& f = fits.fits[i];
+      if (f.rank <= 0 || f.group_index != static_cast<int>(g) ||
+          group.branch != ingest::Branch::kAdsorption) {
+        continue;
+      }
+      const internal::FittedCurve c = CurveOf(fits, static_cast<int>(i));
+      if (c.model != nullptr) ranked_adsorption.push_back(c);
+    }
     if (best.model != nullptr) {
       if (group.branch == ingest::Branch::kAdsorption) best_adsorption.push_back(best);
       if (group.branch == ingest::Branch::kDesorption) best_desorption.push_back(best);
@@ -542,7 +552,7 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
     out.surface_areas = internal::SurfaceAreas(monolayer_fits, options);
     for (const ReferenceCondition& c : options.reference_conditions) {
       out.reference_moisture.push_back(
-          internal::ReferenceMoistureFor(c, best_adsorption, fits, options));
+          internal::ReferenceMoistureFor(c, best_adsorption, ranked_adsorption, fits, options));
     }
     out.hygroscopicity =
         internal::HygroscopicityFrom(best_adsorption, fits.coverage_factor, options);

@@ -236,7 +236,11 @@ struct ReferenceMoisture {
   std::string model_name;
   ingest::Branch branch = ingest::Branch::kAdsorption;
   double moisture_kg_per_kg = 0.0;
-  double u_moisture_kg_per_kg = 0.0;  // standard
+  double u_moisture_kg_per_kg = 0.0;  // standard (includes u_model_choice_kg_per_kg)
+  // Model choice (ReferenceMoistureFor): the spread of the other ranked models of the group
+  // about the best one at this condition, by their Akaike weights; 0 with one ranked model.
+  double u_model_choice_kg_per_kg = 0.0;
+  int models_weighed = 0;  // ranked models of the group the term was formed from
   // Of the expanded uncertainty: fit::CurveUncertainty of the fit read (Welch-Satterthwaite
   // nu_eff over the independent part and the specimen factors, Student-t k for 95 %; the
   // nominal k where nu_eff is infinite).

@@ -12,6 +12,7 @@
 
 #include "pipeline/conform/conform.h"
 #include "pipeline/physics/physics.h"
+#include "pipeline/reduce/reduce.h"
 
 namespace sorbtrace::pores::internal {
 namespace {
@@ -167,8 +168,42 @@ std::vector<SurfaceArea> SurfaceAreas(const std::vector<FittedCurve>& gab_bet_fi
   return areas;
 }
 
+namespace {
+
+// u_model^2 = sum_i w_i (q_i - q_best)^2 over the ranked models of best's group (see
+// ReferenceMoistureFor); *count: the models weighed.
+double ModelChoiceVariance(const FittedCurve& best, const std::vector<FittedCurve>& ranked,
+                           double rh_fraction, int* count) {
+  *count = 0;
+  if (best.fit == nullptr) return 0.0;
+  double least_aicc = std::numeric_limits<double>::infinity();
+  std::vector<const FittedCurve*> group;
+  for (const FittedCurve& c : ranked) {
+    if (c.fit == nullptr || c.fit->group_index != best.fit->group_index) continue;
+    const double aicc = c.fit->result.statistics.aicc;
+    if (!std::isfinite(aicc)) continue;
+    group.push_back(&c);
+    least_aicc = std::min(least_aicc, aicc);
+  }
+  const double q_best = best.Value(rh_fraction);
+  double weight_sum = 0.0;
+  double weighted = 0.0;
+  for (const FittedCurve* c : group) {
+    const double q = c->Value(rh_fraction);
+    if (!std::isfinite(q)) continue;
+    const double w = std::exp(-0.5 * (c->fit->result.statistics.aicc - least_aicc));
+    weight_sum += w;
+    weighted += w * (q - q_best) * (q - q_best);
+    ++*count;
+  }
+  return weight_sum > 0.0 ? weighted / weight_sum : 0.0;
+}
+
+}  // namespace
+
 ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
                                        const std::vector<FittedCurve>& best_adsorption,
+                                       const std::vector<FittedCurve>& ranked_adsorption,
                                        const fit::IsothermFits& fits, const PoreOptions& options) {
   ReferenceMoisture r;
   r.coverage_factor = fits.coverage_factor;
@@ -194,6 +229,18 @@ ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
         fit::CurveUncertainty(fits, *best->fit, condition.rh_fraction);
     r.effective_dof = derived.effective_dof;
     r.coverage_factor = derived.coverage_factor;
+  }
+  const double model_variance =
+      ModelChoiceVariance(*best, ranked_adsorption, condition.rh_fraction, &r.models_weighed);
+  if (model_variance > 0.0) {
+    const double u_curve = r.u_moisture_kg_per_kg;
+    r.u_model_choice_kg_per_kg = std::sqrt(model_variance);
+    r.u_moisture_kg_per_kg = std::sqrt(u_curve * u_curve + model_variance);
+    // Welch-Satterthwaite (JCGM 100:2008, G.4.1) with the model term's nu infinite.
+    if (std::isfinite(r.effective_dof) && u_curve > 0.0) {
+      r.effective_dof *= std::pow(r.u_moisture_kg_per_kg / u_curve, 4.0);
+      r.coverage_factor = reduce::CoverageFactor(r.effective_dof, fits.coverage_factor);
+    }
   }
   r.temperature_matches =
       std::abs(best->temperature_K - condition.temperature_K) <= options.temperature_tolerance_K;

@@ -431,6 +431,8 @@ void AddDerivedJson(const PoresRecord& pa, Json& out) {
     j["model"] = r.model_name;
     j["branch"] = BranchLabel(r.branch);
     j["temperature_matches"] = r.temperature_matches;
+    j["u_model_choice_kg_per_kg"] = Number(r.u_model_choice_kg_per_kg);
+    j["models_weighed"] = r.models_weighed;
     j["flags"] = StringArray(r.flags);
     reference.push_back(j);
   }

@@ -384,5 +384,39 @@ TEST(AnalysePores, ReferenceMoistureTakesTheFitsCoverageFactor) {
   }
 }
 
+// Model choice (quantities.h, ReferenceMoistureFor): a second ranked adsorption model whose AICc
+// exceeds the best one's by 2 ln 3 has Akaike weight 1/4 against 3/4 (w_i proportional to
+// exp(-d_i / 2); Burnham & Anderson 2002, sec. 2.9, from memory), so u_model^2 = (q_oswin -
+// q_gab)^2 / 4 and u^2 = u_curve^2 + u_model^2; the value stays the best model's. Oswin u(a) =
+// A [a / (1 - a)]^B (Oswin 1946), here A = 0.02, B = 0.6. With one ranked model the term is 0.
+TEST(AnalysePores, ReferenceMoistureCarriesTheModelChoice) {
+  PoreOptions options;
+  options.band_draws = 20;
+  fit::IsothermFits fits = TwoBranches();
+  fits.fits[0].result.statistics.aicc = 10.0;
+  const PoreAnalysis one = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+  fit::ModelFit oswin = MakeFit("oswin", 0, {0.02, 0.6}, 1e-8 * Eigen::MatrixXd::Identity(2, 2));
+  oswin.rank = 2;
+  oswin.result.statistics.aicc = 10.0 + 2.0 * std::log(3.0);
+  fits.fits.push_back(oswin);
+  const PoreAnalysis two = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
+  ASSERT_EQ(one.reference_moisture.size(), two.reference_moisture.size());
+  ASSERT_FALSE(two.reference_moisture.empty());
+  for (std::size_t i = 0; i < two.reference_moisture.size(); ++i) {
+    const ReferenceMoisture& a = one.reference_moisture[i];
+    const ReferenceMoisture& b = two.reference_moisture[i];
+    const double rh = b.condition.rh_fraction;
+    const double q_gab = Gab(kAds[0], kAds[1], kAds[2], rh);
+    const double q_oswin = 0.02 * std::pow(rh / (1.0 - rh), 0.6);
+    EXPECT_EQ(a.u_model_choice_kg_per_kg, 0.0);
+    EXPECT_EQ(a.models_weighed, 1);
+    EXPECT_EQ(b.models_weighed, 2);
+    EXPECT_NEAR(b.moisture_kg_per_kg, q_gab, 1e-12);
+    EXPECT_NEAR(b.u_model_choice_kg_per_kg, 0.5 * std::abs(q_oswin - q_gab), 1e-9);
+    EXPECT_NEAR(b.u_moisture_kg_per_kg, std::hypot(a.u_moisture_kg_per_kg, 0.5 * (q_oswin - q_gab)),
+                1e-9);
+  }
+}
+
 }  // namespace
 }  // namespace sorbtrace::pores
