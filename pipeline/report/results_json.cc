@@ -235,7 +235,8 @@ Json IsothermJson(const SheetRecord& record) {
 }
 
 Json ResampleJson(const fitters::ResampleResult& r) {
-  return {{"num_draws", r.parameter_draws.size()},
+  return {{"not_formed", r.not_formed},
+          {"num_draws", r.parameter_draws.size()},
           {"num_failed", r.num_failed},
           {"parameter_low", NumberArray(r.parameter_low)},
           {"parameter_high", NumberArray(r.parameter_high)},

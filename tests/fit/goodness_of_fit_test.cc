@@ -120,5 +120,27 @@ TEST(GoodnessOfFitTest, FailingFitIsNeverTheBestModel) {
   EXPECT_EQ(loose.no_best_fit_reason[0], "");
 }
 
+// A fit that fails its goodness-of-fit check states no result, so it is not resampled
+// (fit_stage.cc): no bootstrap or Monte Carlo draws, and the reason in not_formed; the fit that
+// passes on the same points is resampled.
+TEST(GoodnessOfFitTest, FailingFitIsNotResampled) {
+  FitStageOptions options = QuickOptions({"gab", "oswin"}, 20);
+  options.bootstrap_resamples = 40;
+  options.monte_carlo_draws = 40;
+  const IsothermFits tight = FitIsotherms(FourDesorptionPoints(0.001), options);
+  const ModelFit& oswin = FindFit(tight, 0, "oswin");
+  ASSERT_FALSE(IsUsable(oswin));
+  EXPECT_TRUE(oswin.bootstrap.parameter_draws.empty());
+  EXPECT_TRUE(oswin.monte_carlo.parameter_draws.empty());
+  EXPECT_NE(oswin.bootstrap.not_formed.find("fails its chi-square check"), std::string::npos)
+      << oswin.bootstrap.not_formed;
+  EXPECT_EQ(oswin.monte_carlo.not_formed, oswin.bootstrap.not_formed);
+  const IsothermFits loose = FitIsotherms(FourDesorptionPoints(0.2), options);
+  const ModelFit& oswin_loose = FindFit(loose, 0, "oswin");
+  ASSERT_TRUE(IsUsable(oswin_loose));
+  EXPECT_EQ(oswin_loose.bootstrap.parameter_draws.size() + oswin_loose.bootstrap.num_failed, 40u);
+  EXPECT_TRUE(oswin_loose.bootstrap.not_formed.empty());
+}
+
 }  // namespace
 }  // namespace sorbtrace::fit
