@@ -75,26 +75,26 @@ struct Tally {
   }
   double Coverage() const { return trials > 0 ? static_cast<double>(covered) / trials : 0.0; }
   double MeanU() const {
-    double sum = 0;
-    for (double u : uncertainties) sum += u;
-    return sum / static_cast<double>(uncertainties.size());
+    return Mean(uncertainties, [](double u) { return u; });
   }
   // sqrt(mean(u^2)): for a calibrated u, E[error^2] = E[u^2] also when u differs from one
   // replicate to the next, while mean(u) <= sqrt(mean(u^2)) (Jensen's inequality).
   double RmsU() const {
-    double sum = 0;
-    for (double u : uncertainties) sum += u * u;
-    return std::sqrt(sum / static_cast<double>(uncertainties.size()));
+    return std::sqrt(Mean(uncertainties, [](double u) { return u * u; }));
   }
   double Bias() const {
-    double sum = 0;
-    for (double e : errors) sum += e;
-    return sum / static_cast<double>(errors.size());
+    return Mean(errors, [](double e) { return e; });
   }
   double Rms() const {
+    return std::sqrt(Mean(errors, [](double e) { return e * e; }));
+  }
+
+ private:
+  template <typename Transform>
+  static double Mean(const std::vector<double>& values, Transform transform) {
     double sum = 0;
-    for (double e : errors) sum += e * e;
-    return std::sqrt(sum / static_cast<double>(errors.size()));
+    for (double v : values) sum += transform(v);
+    return sum / static_cast<double>(values.size());
   }
 };
 
