@@ -194,7 +194,8 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
   result.x0_is_fitted = workspace.errors_in_variables_mask();
   double x_terms = 0.0;
   double sum_sigma2 = 0.0;
-  std::vector<double> residuals_at_observed_x(static_cast<std::size_t>(n));
+  std::vector<double>& residuals_at_observed_x = result.residuals_at_observed_x;
+  residuals_at_observed_x.resize(static_cast<std::size_t>(n));
   int outside_range = 0;
   for (std::size_t i = 0; i < data.size(); ++i) {
     const Observation& o = data[i];

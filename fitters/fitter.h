@@ -138,7 +138,12 @@ struct FitResult {
   Eigen::MatrixXd correlation;  // p x p
   FitStatistics statistics;
   std::vector<double> fitted;     // f(x_i) at the solution
-  std::vector<double> residuals;  // y_i - f(x_i)
+  std::vector<double> residuals;  // y_i - f(x_i) at the fitted x_i (errors in variables: the
+                                  // fitted true x[0]; these enter the objective)
+  // y_i - f(x_obs,i) at the OBSERVED x: what a reader re-derives from a point and the curve,
+  // the residuals of rmse, the runs test and the residual plot (= residuals without errors in
+  // variables; under them the fitted x absorbs most of the misfit, so `residuals` are tiny).
+  std::vector<double> residuals_at_observed_x;
   std::vector<double> fitted_x0;  // errors-in-variables: the fitted true x[0]; else = observed
   // Per point: 1 where its true x[0] was a fitted variable (ErrorsInVariablesMask of the data
   // and options of this fit); what later steps (resampling) read instead of deciding again.

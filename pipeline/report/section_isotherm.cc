@@ -224,9 +224,10 @@ plot::Figure ResidualFigure(const SectionContext& ctx) {
     plot::Series s;
     s.marker = BranchMarker(group.branch, TemperatureIndex(temperatures, group.temperature_K));
     s.marker.size_pt = 4.0;
-    for (size_t i = 0; i < group.observations.size() && i < mf.result.residuals.size(); ++i) {
+    for (size_t i = 0;
+         i < group.observations.size() && i < mf.result.residuals_at_observed_x.size(); ++i) {
       s.x.push_back(group.observations[i].x[0] * kPercentPerFraction);
-      s.y.push_back(mf.result.residuals[i] * ms);
+      s.y.push_back(mf.result.residuals_at_observed_x[i] * ms);
     }
     fig.series.push_back(std::move(s));
   }
@@ -283,7 +284,7 @@ void BuildIsothermSection(const SectionContext& ctx, Section& section) {
   plot::Figure fig = IsothermFigure(ctx, true);
   fig.font_size_pt = 7.5;
   plot::Figure res = ResidualFigure(ctx);
-  res.title = "Residuals of the best fits (measured − fitted)";
+  res.title = "Residuals of the best fits (measured − fitted, at the measured RH)";
   res.caption = fmt::format(
       "Points: combined specimens per step, bars: expanded uncertainty U (k = {}) in RH and "
       "moisture content. Curves: best model of each branch (lowest AICc) with its confidence "

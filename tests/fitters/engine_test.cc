@@ -475,6 +475,17 @@ TEST(FitModelTest, ErrorsInVariablesLineIsDemingRegression) {
   EXPECT_NEAR(fit.parameters[0], ybar - slope * xbar, 1e-9);
   EXPECT_NE(fit.fitted_x0[2], data[2].x[0]);  // true x moved off the observed x
   EXPECT_EQ(fit.x0_is_fitted, std::vector<char>(data.size(), 1));  // every sigma_x0 > 0
+  // The residuals a reader re-derives: y - f(x) at the observed x (the Deming line above), and
+  // rmse from them; the residuals at the fitted x are what the objective saw (smaller).
+  double ssr_observed = 0.0, ssr_fitted = 0.0;
+  for (std::size_t i = 0; i < data.size(); ++i) {
+    const double at_observed = data[i].y - (fit.parameters[0] + fit.parameters[1] * data[i].x[0]);
+    EXPECT_NEAR(fit.residuals_at_observed_x[i], at_observed, 1e-12);
+    ssr_observed += at_observed * at_observed;
+    ssr_fitted += fit.residuals[i] * fit.residuals[i];
+  }
+  EXPECT_NEAR(fit.statistics.rmse, std::sqrt(ssr_observed / n), 1e-12);
+  EXPECT_LT(ssr_fitted, ssr_observed);
 }
 
 // The errors-in-variables rule (fitter.h, ErrorsInVariablesMask): a point's x[0] is fitted only
