@@ -1,54 +1,17 @@
-// Number formatting of the report stage (internal): the one place that decides how a number
-// reads wherever a person reads it — the PDF, the "as printed" columns of the CSV companions,
-// the `text` fields of results.json and the output of `sorbtrace check`. Value fields of
-// results.json and the numeric CSV columns keep full precision and are not formatted here.
-//
-// Rules (FormatWithUncertainty is declared in report.h):
-//  - Rounding, JCGM 100:2008 (GUM) 7.2.6: the expanded uncertainty U to two significant
-//    digits (the template may ask for one), the value rounded to the same decimal place;
-//    GUM's example: y = 10.057 62 Ω with u = 27 mΩ is written 10.058 Ω. Rounding is to the
-//    nearest, an exact tie to the even digit (rule B of ISO 80000-1:2009 Annex B, from memory;
-//    the same as C printf). Digits come from exact fixed-point conversion of the binary
-//    value, never from repeated floating-point scaling, so no "0.30000000000000004" appears.
-//  - At most kMaxValueDigits significant digits in a value: where U is smaller than the
-//    value's sixth significant digit, U is rounded up to that digit (GUM 7.2.6: "it may
-//    sometimes be appropriate to round uncertainties up", e.g. 10.47 mΩ to 11 mΩ). The
-//    printed interval then still contains the stated one; the full U stays in results.json.
-//  - Notation: plain decimals while the larger of |value| and U lies in [1e-4, 1e6) and no
-//    more than six decimals are needed; otherwise a common power of ten that is a multiple
-//    of three (engineering notation, matching the SI prefixes: "(12.3 ± 1.1) × 10⁻⁶"), never
-//    "× 10⁰".
+// Number formatting of the report stage (internal): the rules live in
+// pipeline/common/number_text.h (JCGM 100:2008, 7.2.6; notation; digit cap), shared with the
+// stages that write notes for the sheet; the report uses them under its own names.
 #pragma once
 
-#include <string>
+#include "pipeline/common/number_text.h"
 
 namespace sorbtrace::report::internal {
 
-// Most significant digits a printed value carries (common practice: no sorption quantity
-// is known to better than about 1e-5 relative; a balance reading has five to six digits).
-inline constexpr int kMaxValueDigits = 6;
-
-// `value` to `significant_digits` significant digits (1-15), plain or in engineering
-// notation by the rules above; "0" for zero, "n/a" when not finite.
-std::string FormatSignificant(double value, int significant_digits);
-
-// A probability (a p-value, a risk) to `significant_digits` significant digits: plain down to
-// 10^-4 like any value, below that in scientific notation with the leading digit before the
-// point ("7.1 × 10⁻⁴⁹", not the engineering "710 × 10⁻⁵¹": a probability has no unit prefix a
-// power of 1000 would stand for; ISO 80000-1:2009, 6.5.1 scientific notation, from memory).
-std::string FormatProbability(double probability, int significant_digits);
-
-// `value` with a fixed number of decimals ("-0" printed as "0").
-std::string FormatFixed(double value, int decimals);
-
-// A coverage factor as printed, to two significant digits: "2" for k = 2 (and for k = 2.004
-// from a large effective number of degrees of freedom), "2.3" otherwise.
-std::string CoverageText(double k);
-
-// A setting as a person wrote it: the shortest form of at most 15 significant digits
-// (every decimal of up to 15 digits survives the round trip through a double, IEEE 754
-// binary64; a value converted between units, e.g. 0.106 nm² -> m² -> nm², differs from it in
-// the 17th digit only), exponent without padding ("1e-5"). "n/a" when not finite.
-std::string FormatSetting(double value);
+using common::CoverageText;
+using common::FormatFixed;
+using common::FormatProbability;
+using common::FormatSetting;
+using common::FormatSignificant;
+using common::kMaxValueDigits;
 
 }  // namespace sorbtrace::report::internal

@@ -12,6 +12,7 @@
 #include <vector>
 
 #include "pipeline/common/diagnostics.h"
+#include "pipeline/common/number_text.h"
 #include "pipeline/equilibrate/equilibrate.h"
 #include "pipeline/fit/fit_stage.h"
 #include "pipeline/ingest/ingest.h"
@@ -78,7 +79,8 @@ ReportArtifacts ComposeReport(const ReportInputs& inputs, const Template& layout
                               const ReportOptions& options);
 
 // Formats value +- uncertainty with the template's rule (uncertainty to N significant digits,
-// value rounded to match), e.g. (0.0123456, 0.00123) -> "0.0123 ± 0.0012".
-std::string FormatWithUncertainty(double value, double uncertainty, int significant_digits);
+// value rounded to match), e.g. (0.0123456, 0.00123) -> "0.0123 ± 0.0012"; the rule lives in
+// pipeline/common/number_text.h.
+using common::FormatWithUncertainty;
 
 }  // namespace sorbtrace::report

@@ -1,7 +1,8 @@
-// The rounding and notation rules of format.h. Check values: JCGM 100:2008 (GUM) 7.2.6 —
-// U to (at most) two significant digits, the value rounded to the same decimal place, with
-// GUM's own example; exact ties to even (ISO 80000-1:2009 Annex B, rule B, from memory; the
-// same as C printf); the digit cap rounds U up (GUM 7.2.6, "round uncertainties up").
+// The rounding and notation rules of pipeline/common/number_text.h (report/format.h uses them).
+// Check values: JCGM 100:2008 (GUM) 7.2.6 — U to (at most) two significant digits, the value
+// rounded to the same decimal place, with GUM's own example; exact ties to even (ISO 80000-1:2009
+// Annex B, rule B, from memory; the same as C printf); the digit cap rounds U up (GUM 7.2.6, "round
+// uncertainties up").
 #include "pipeline/report/format.h"
 
 #include <gtest/gtest.h>
@@ -112,6 +113,18 @@ TEST(FormatWithUncertaintyTest, MissingUncertaintyAndNonFiniteValues) {
   EXPECT_EQ(FormatWithUncertainty(0.0123456, 0.0, 2), "0.01235");
   EXPECT_EQ(FormatWithUncertainty(0.0123456, std::nan(""), 2), "0.01235");
   EXPECT_EQ(FormatWithUncertainty(std::numeric_limits<double>::infinity(), 0.1, 2), "n/a");
+}
+
+// A value stated beside its standard uncertainty in words ("corrected by ... (u = ...)"): the value
+// to the decimal place of u's second significant digit, GUM 7.2.6 as above.
+TEST(FormatAtUncertaintyTest, ValueToTheDigitOfItsUncertainty) {
+  EXPECT_EQ(common::FormatAtUncertainty(0.000849152, 3.1e-5, 2, true), "+0.000849");
+  EXPECT_EQ(common::FormatAtUncertainty(10.05762, 0.027, 2), "10.058");  // GUM's example
+  // Seven decimals would be needed: engineering notation, as for value ± U.
+  EXPECT_EQ(common::FormatAtUncertainty(-0.00776584, 1.2e-6, 2, true), "-7.7658 × 10⁻³");
+  EXPECT_EQ(common::FormatAtUncertainty(0.00776584, 1.2e-9, 2), "7.76584 × 10⁻³");  // 6-digit cap
+  EXPECT_EQ(common::FormatAtUncertainty(1.5e-8, 2.3e-9, 2), "15.0 × 10⁻⁹");
+  EXPECT_EQ(common::FormatAtUncertainty(0.25, 0.0, 2), "0.2500");  // no usable u: 4 digits
 }
 
 TEST(FormatSignificantTest, PlainAndEngineering) {

@@ -102,18 +102,4 @@ std::string PrintableText(std::string_view text) {
   return clean;
 }
 
-std::string Superscript(int value) {
-  static constexpr std::array<const char*, 10> kDigits = {"⁰", "¹", "²", "³", "⁴",
-                                                          "⁵", "⁶", "⁷", "⁸", "⁹"};
-  std::string out;
-  long magnitude = value;
-  if (magnitude < 0) {
-    out += "⁻";
-    magnitude = -magnitude;
-  }
-  const std::string digits = std::to_string(magnitude);
-  for (char d : digits) out += kDigits[static_cast<size_t>(d - '0')];
-  return out;
-}
-
 }  // namespace sorbtrace::report::internal::plot

@@ -5,6 +5,8 @@
 #include <string>
 #include <string_view>
 
+#include "pipeline/common/number_text.h"
+
 namespace sorbtrace::report::internal::plot {
 
 // Returns text with every invalid UTF-8 sequence (and control character other than none)
@@ -28,7 +30,7 @@ std::string ClipLongWords(std::string_view text, size_t max_chars = kMaxPrintedW
 // at most kMaxTextRunBytes bytes (cut at a character boundary, ending in "…").
 std::string PrintableText(std::string_view text);
 
-// An integer written with Unicode superscript digits, e.g. -6 -> "⁻⁶".
-std::string Superscript(int value);
+// An integer written with Unicode superscript digits (pipeline/common/number_text.h).
+using common::Superscript;
 
 }  // namespace sorbtrace::report::internal::plot

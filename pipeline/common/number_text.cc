@@ -1,16 +1,14 @@
 // The rules are stated in format.h (JCGM 100:2008, 7.2.6; notation; digit cap).
-#include "pipeline/report/format.h"
+#include "pipeline/common/number_text.h"
 
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <string>
 
-#include "pipeline/report/plot/text.h"
-#include "pipeline/report/report.h"
-
-namespace sorbtrace::report::internal {
+namespace sorbtrace::common {
 namespace {
 
 // Plain decimals while the larger magnitude stays within these decades and no more than
@@ -90,7 +88,7 @@ int NotationExponent(int top, int place) {
 }
 
 std::string TimesTenTo(int exponent) {
-  return exponent == 0 ? "" : " × 10" + plot::Superscript(exponent);
+  return exponent == 0 ? "" : " × 10" + Superscript(exponent);
 }
 
 // x (finite, not zero) rounded to n significant digits (clamped to 1-15); a carry into a new
@@ -150,32 +148,56 @@ std::string FormatSetting(double value) {
   return text;
 }
 
-}  // namespace sorbtrace::report::internal
-
-namespace sorbtrace::report {
-
 std::string FormatWithUncertainty(double value, double uncertainty, int significant_digits) {
   if (!std::isfinite(value)) return "n/a";
   if (!std::isfinite(uncertainty) || uncertainty <= 0.0) {
     // No usable uncertainty: the value alone, to four significant digits (common practice).
-    return internal::FormatSignificant(value, 4);
+    return FormatSignificant(value, 4);
   }
   const int n = std::clamp(significant_digits, 1, 4);
   // U to n significant digits fixes the last printed decimal place (JCGM 100:2008, 7.2.6).
-  int place = internal::RoundToSignificant(uncertainty, n).place;
-  internal::Rounded v = internal::RoundAt(value, place);
-  internal::Rounded u = internal::RoundAt(uncertainty, place);
-  // Digit cap: U rounded up to the value's kMaxValueDigits-th digit (see format.h).
-  while (v.num_digits() > internal::kMaxValueDigits) {
-    place += v.num_digits() - internal::kMaxValueDigits;
-    v = internal::RoundAt(value, place);
-    u = internal::RoundUpAt(uncertainty, place);
+  int place = RoundToSignificant(uncertainty, n).place;
+  Rounded v = RoundAt(value, place);
+  Rounded u = RoundAt(uncertainty, place);
+  // Digit cap: U rounded up to the value's kMaxValueDigits-th digit (see number_text.h).
+  while (v.num_digits() > kMaxValueDigits) {
+    place += v.num_digits() - kMaxValueDigits;
+    v = RoundAt(value, place);
+    u = RoundUpAt(uncertainty, place);
   }
   const int top = std::max(v.top(), u.top());
-  const int exponent = internal::NotationExponent(top, place);
-  if (exponent == 0) return internal::Decimal(v, 0) + " ± " + internal::Decimal(u, 0);
-  return "(" + internal::Decimal(v, exponent) + " ± " + internal::Decimal(u, exponent) + ")" +
-         internal::TimesTenTo(exponent);
+  const int exponent = NotationExponent(top, place);
+  if (exponent == 0) return Decimal(v, 0) + " ± " + Decimal(u, 0);
+  return "(" + Decimal(v, exponent) + " ± " + Decimal(u, exponent) + ")" + TimesTenTo(exponent);
 }
 
-}  // namespace sorbtrace::report
+std::string FormatAtUncertainty(double value, double uncertainty, int significant_digits,
+                                bool show_plus) {
+  if (!std::isfinite(value)) return "n/a";
+  const std::string sign = show_plus && value > 0.0 ? "+" : "";
+  if (!std::isfinite(uncertainty) || uncertainty <= 0.0) {
+    return sign + FormatSignificant(value, 4);  // as FormatWithUncertainty without u
+  }
+  int place = RoundToSignificant(uncertainty, std::clamp(significant_digits, 1, 4)).place;
+  Rounded v = RoundAt(value, place);
+  if (v.num_digits() > kMaxValueDigits)
+    v = RoundAt(value, place + v.num_digits() - kMaxValueDigits);
+  const int exponent = NotationExponent(std::max(v.top(), place), v.place);
+  return sign + Decimal(v, exponent) + TimesTenTo(exponent);
+}
+
+std::string Superscript(int value) {
+  static constexpr std::array<const char*, 10> kDigits = {"⁰", "¹", "²", "³", "⁴",
+                                                          "⁵", "⁶", "⁷", "⁸", "⁹"};
+  std::string out;
+  long magnitude = value;
+  if (magnitude < 0) {
+    out += "⁻";
+    magnitude = -magnitude;
+  }
+  const std::string digits = std::to_string(magnitude);
+  for (char d : digits) out += kDigits[static_cast<size_t>(d - '0')];
+  return out;
+}
+
+}  // namespace sorbtrace::common
