@@ -46,6 +46,11 @@ struct Tally {
     sum_u += u;
     errors.push_back(value - truth);
   }
+  // A replicate in which the quantity is not stated (no model passed its own checks, so the
+  // product refused to state it: honest, but no statement about the truth). It counts as a
+  // trial that did not cover, so refusals are bounded by the coverage floor, and adds no
+  // error or u (it must not enter the ratio as 0 +- 0).
+  void AddNotStated() { ++count; }
   double Coverage() const { return count > 0 ? static_cast<double>(inside) / count : 0.0; }
   // Sample standard deviation of the errors.
   double ErrorSd() const {
@@ -57,7 +62,7 @@ struct Tally {
     return std::sqrt(ss / static_cast<double>(errors.size() - 1));
   }
   // Mean reported standard uncertainty over the scatter of the errors.
-  double Ratio() const { return (sum_u / count) / ErrorSd(); }
+  double Ratio() const { return (sum_u / static_cast<double>(errors.size())) / ErrorSd(); }
 };
 
 // Runs `run(job, tallies)` on the jobs `make(seed)` makes for seeds first_seed,
@@ -105,6 +110,13 @@ inline void TallyGabAndReferences(const GeneratedJob& job, const reduce::Reduced
   pore_options.stepwise = false;
   const pores::PoreAnalysis pores = pores::AnalysePores(reduced, fits, pore_options);
   for (const pores::ReferenceMoisture& r : pores.reference_moisture) {
+    const std::string name = "moisture at 23 C / " +
+                             std::to_string(static_cast<int>(100 * r.condition.rh_fraction + 0.5)) +
+                             " % RH";
+    if (r.model_name.empty() || !(r.u_moisture_kg_per_kg > 0.0)) {
+      tallies[name].AddNotStated();  // no best fit (e.g. GAB failed its goodness of fit)
+      continue;
+    }
     double k = fits.coverage_factor;
     if (reference_k == ReferenceK::kCurve) {
       const fit::DerivedUncertainty curve =
@@ -113,10 +125,8 @@ inline void TallyGabAndReferences(const GeneratedJob& job, const reduce::Reduced
                   1e-9 * r.u_moisture_kg_per_kg);
       k = curve.coverage_factor;
     }
-    tallies["moisture at 23 C / " +
-            std::to_string(static_cast<int>(100 * r.condition.rh_fraction + 0.5)) + " % RH"]
-        .Add(r.moisture_kg_per_kg, job.truth(r.condition.rh_fraction), r.u_moisture_kg_per_kg,
-             k * r.u_moisture_kg_per_kg);
+    tallies[name].Add(r.moisture_kg_per_kg, job.truth(r.condition.rh_fraction),
+                      r.u_moisture_kg_per_kg, k * r.u_moisture_kg_per_kg);
   }
 }
 
