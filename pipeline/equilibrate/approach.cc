@@ -2,8 +2,12 @@
 
 #include <fmt/format.h>
 
+#include <Eigen/Dense>
+#include <algorithm>
 #include <array>
+#include <boost/math/distributions/chi_squared.hpp>
 #include <cmath>
+#include <limits>
 #include <vector>
 
 #include "pipeline/equilibrate/criteria.h"
@@ -115,7 +119,211 @@ ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
   return estimate;
 }
 
+// ---- Shared time constant of a desiccator group (see the header) -------------------------
+
+// Scaled data of the group: time x = (t - t0_j) / T (T the longest span), mass
+// y = (m - mean_j) / S (S the largest |m - mean_j|): the fit does not depend on the units.
+struct ScaledGroup {
+  std::vector<std::vector<double>> x, y;
+  std::vector<double> mean_g;
+  double time_scale_s = 0.0;
+  double mass_scale_g = 0.0;
+  std::size_t num_points = 0;
+};
+
+ScaledGroup ScaleGroup(std::span<const GroupMember> members) {
+  ScaledGroup group;
+  for (const GroupMember& member : members) {
+    group.time_scale_s = std::max(group.time_scale_s,
+                                  member.weighings.back().time_s - member.weighings.front().time_s);
+    double mean = 0.0;
+    for (const auto& w : member.weighings) mean += w.mass_g;
+    mean /= static_cast<double>(member.weighings.size());
+    group.mean_g.push_back(mean);
+    for (const auto& w : member.weighings) {
+      group.mass_scale_g = std::max(group.mass_scale_g, std::abs(w.mass_g - mean));
+    }
+    group.num_points += member.weighings.size();
+  }
+  for (std::size_t j = 0; j < members.size(); ++j) {
+    std::vector<double> x, y;
+    for (const auto& w : members[j].weighings) {
+      x.push_back((w.time_s - members[j].weighings.front().time_s) / group.time_scale_s);
+      y.push_back((w.mass_g - group.mean_g[j]) / group.mass_scale_g);
+    }
+    group.x.push_back(std::move(x));
+    group.y.push_back(std::move(y));
+  }
+  return group;
+}
+
+// For a decay rate lambda (per scaled time): each member's exact least-squares a_j, b_j of
+// y = a - b exp(-lambda x); returns the summed squared residuals.
+double ProfileSsr(const ScaledGroup& group, double lambda, std::vector<double>* a,
+                  std::vector<double>* b) {
+  double ssr = 0.0;
+  for (std::size_t j = 0; j < group.x.size(); ++j) {
+    const std::vector<double>& x = group.x[j];
+    const std::vector<double>& y = group.y[j];
+    const double n = static_cast<double>(x.size());
+    double se = 0.0, see = 0.0, sy = 0.0, sey = 0.0;
+    for (std::size_t k = 0; k < x.size(); ++k) {
+      const double e = std::exp(-lambda * x[k]);
+      se += e;
+      see += e * e;
+      sy += y[k];
+      sey += e * y[k];
+    }
+    // y = a + c e with c = -b: normal equations of the two columns 1 and e.
+    const double det = n * see - se * se;
+    if (!(det > 0.0)) return std::numeric_limits<double>::infinity();
+    const double c = (n * sey - se * sy) / det;
+    const double intercept = (sy - c * se) / n;
+    for (std::size_t k = 0; k < x.size(); ++k) {
+      const double r = y[k] - intercept - c * std::exp(-lambda * x[k]);
+      ssr += r * r;
+    }
+    if (a != nullptr) a->push_back(intercept);
+    if (b != nullptr) b->push_back(-c);
+  }
+  return ssr;
+}
+
+// Decay rates searched (scaled time): from 1 / max_tau_to_tail_ratio (the longest credible tau)
+// to kMaxScaledRate (tau a thirtieth of the span: between weighings a day apart over a few days
+// the mass would be flat, nothing to resolve); grid, then golden section. Project choices.
+constexpr double kMaxScaledRate = 30.0;
+constexpr int kRateGrid = 120;
+constexpr int kGoldenSteps = 80;
+// Resolution of the decay rate (see the header), as kResolved in FromThreeWeighings.
+constexpr double kRateResolved = 2.0;
+// Quantile of the chi-square test of the residuals against the balance (common practice).
+constexpr double kResidualTestProbability = 0.95;
+
+// Minimises ProfileSsr over ln(lambda); false when the minimum lies at an end of the range.
+bool BestRate(const ScaledGroup& group, double lo_rate, double* lambda) {
+  const double lo = std::log(lo_rate);
+  const double hi = std::log(kMaxScaledRate);
+  if (!(hi > lo)) return false;
+  auto ssr_at = [&](double log_rate) {
+    return ProfileSsr(group, std::exp(log_rate), nullptr, nullptr);
+  };
+  int best = 0;
+  double best_ssr = std::numeric_limits<double>::infinity();
+  const double step = (hi - lo) / kRateGrid;
+  for (int i = 0; i <= kRateGrid; ++i) {
+    const double value = ssr_at(lo + step * i);
+    if (value < best_ssr) {
+      best_ssr = value;
+      best = i;
+    }
+  }
+  if (best == 0 || best == kRateGrid) return false;
+  // Golden section in [best - 1, best + 1] grid steps.
+  const double golden = 0.5 * (std::sqrt(5.0) - 1.0);
+  double left = lo + step * (best - 1), right = lo + step * (best + 1);
+  double p = right - golden * (right - left), q = left + golden * (right - left);
+  double fp = ssr_at(p), fq = ssr_at(q);
+  for (int i = 0; i < kGoldenSteps; ++i) {
+    if (fp < fq) {
+      right = q;
+      q = p;
+      fq = fp;
+      p = right - golden * (right - left);
+      fp = ssr_at(p);
+    } else {
+      left = p;
+      p = q;
+      fp = fq;
+      q = left + golden * (right - left);
+      fq = ssr_at(q);
+    }
+  }
+  *lambda = std::exp(0.5 * (left + right));
+  return std::isfinite(best_ssr);
+}
+
 }  // namespace
+
+std::vector<ApproachEstimate> EstimateSharedDesiccatorApproach(std::span<const GroupMember> members,
+                                                               double balance_u_g,
+                                                               const EquilibrateOptions& options) {
+  const std::size_t num_members = members.size();
+  if (num_members < 2) return std::vector<ApproachEstimate>(num_members);
+  for (const GroupMember& member : members) {
+    if (member.weighings.size() < 3) return std::vector<ApproachEstimate>(num_members);
+  }
+  const ScaledGroup group = ScaleGroup(members);
+  const int num_parameters = 2 * static_cast<int>(num_members) + 1;
+  if (!(group.time_scale_s > 0.0) || !(group.mass_scale_g > 0.0) ||
+      static_cast<int>(group.num_points) <= num_parameters - 1) {
+    return std::vector<ApproachEstimate>(num_members);
+  }
+  double lambda = 0.0;
+  if (!BestRate(group, 1.0 / options.max_tau_to_tail_ratio, &lambda)) {
+    return std::vector<ApproachEstimate>(num_members);
+  }
+  std::vector<double> a, b;
+  const double ssr = ProfileSsr(group, lambda, &a, &b);
+  // Jacobian of the residual model in (a_1, b_1, ..., a_J, b_J, lambda).
+  Eigen::MatrixXd jacobian =
+      Eigen::MatrixXd::Zero(static_cast<Eigen::Index>(group.num_points), num_parameters);
+  Eigen::Index row = 0;
+  for (std::size_t j = 0; j < num_members; ++j) {
+    const auto col = static_cast<Eigen::Index>(2 * j);
+    for (double x : group.x[j]) {
+      const double e = std::exp(-lambda * x);
+      jacobian(row, col) = 1.0;
+      jacobian(row, col + 1) = -e;
+      jacobian(row, num_parameters - 1) = b[j] * x * e;
+      ++row;
+    }
+  }
+  const Eigen::MatrixXd normal = jacobian.transpose() * jacobian;
+  const Eigen::FullPivLU<Eigen::MatrixXd> lu(normal);
+  if (!lu.isInvertible()) return std::vector<ApproachEstimate>(num_members);
+  // Scale of the residuals: the balance, unless the chi-square test rejects it (header).
+  const double sigma_balance = balance_u_g / group.mass_scale_g;
+  const int nu = static_cast<int>(group.num_points) - num_parameters;
+  double variance = sigma_balance * sigma_balance;
+  int degrees_of_freedom = 0;
+  if (nu >= 1) {
+    const boost::math::chi_squared_distribution<double> chi2(nu);
+    if (!(ssr <= variance * boost::math::quantile(chi2, kResidualTestProbability))) {
+      variance = ssr / nu;
+      degrees_of_freedom = nu;
+    }
+  }
+  const Eigen::MatrixXd covariance = variance * lu.inverse();
+  const auto rate = static_cast<Eigen::Index>(num_parameters - 1);
+  const double var_rate = covariance(rate, rate);
+  if (!(var_rate > 0.0) || !(lambda > kRateResolved * std::sqrt(var_rate))) {
+    return std::vector<ApproachEstimate>(num_members);
+  }
+  const double tau_s = group.time_scale_s / lambda;
+  std::vector<ApproachEstimate> estimates(num_members);
+  for (std::size_t j = 0; j < num_members; ++j) {
+    const auto col = static_cast<Eigen::Index>(2 * j);
+    const double var_a = covariance(col, col);
+    const double shared = covariance(col, rate) * covariance(col, rate) / var_rate;
+    const double own = std::max(0.0, var_a - shared);
+    ApproachEstimate& estimate = estimates[j];
+    estimate.estimated = true;
+    const double asymptote_g = group.mean_g[j] + a[j] * group.mass_scale_g;
+    estimate.correction_g = asymptote_g - members[j].reported_mass_g;
+    estimate.u_correction_g = std::sqrt(own) * group.mass_scale_g;
+    estimate.u_model_g = std::sqrt(shared) * group.mass_scale_g;
+    estimate.time_constant_s = tau_s;
+    estimate.degrees_of_freedom = degrees_of_freedom;
+    estimate.includes_weighing_scatter = true;
+    estimate.method = fmt::format(
+        "first-order decay with one time constant for the {} specimens of the step, fitted to "
+        "{} weighings, tau = {:.3g} h (u of tau {:.2g} h, shared part u = {:.2g} g)",
+        num_members, group.num_points, tau_s / kSecondsPerHour,
+        tau_s * std::sqrt(var_rate) / lambda / kSecondsPerHour, estimate.u_model_g);
+  }
+  return estimates;
+}
 
 TailFitOptions TailOptions(const EquilibrateOptions& options, double step_start_s) {
   TailFitOptions tail;
