@@ -249,15 +249,15 @@ std::vector<ApproachEstimate> EstimateSharedDesiccatorApproach(std::span<const G
                                                                double balance_u_g,
                                                                const EquilibrateOptions& options) {
   const std::size_t num_members = members.size();
-  if (num_members < 2) return std::vector<ApproachEstimate>(num_members);
+  if (num_members < 2) return {};
   for (const GroupMember& member : members) {
-    if (member.weighings.size() < 3) return std::vector<ApproachEstimate>(num_members);
+    if (member.weighings.size() < 3) return {};
   }
   const ScaledGroup group = ScaleGroup(members);
   const int num_parameters = 2 * static_cast<int>(num_members) + 1;
   if (!(group.time_scale_s > 0.0) || !(group.mass_scale_g > 0.0) ||
       static_cast<int>(group.num_points) <= num_parameters - 1) {
-    return std::vector<ApproachEstimate>(num_members);
+    return {};
   }
   double lambda = 0.0;
   if (!BestRate(group, 1.0 / options.max_tau_to_tail_ratio, &lambda)) {
@@ -285,14 +285,10 @@ std::vector<ApproachEstimate> EstimateSharedDesiccatorApproach(std::span<const G
   // Scale of the residuals: the balance, unless the chi-square test rejects it (header).
   const double sigma_balance = balance_u_g / group.mass_scale_g;
   const int nu = static_cast<int>(group.num_points) - num_parameters;
-  double variance = sigma_balance * sigma_balance;
-  int degrees_of_freedom = 0;
+  const double variance = sigma_balance * sigma_balance;
   if (nu >= 1) {
     const boost::math::chi_squared_distribution<double> chi2(nu);
-    if (!(ssr <= variance * boost::math::quantile(chi2, kResidualTestProbability))) {
-      variance = ssr / nu;
-      degrees_of_freedom = nu;
-    }
+    if (!(ssr <= variance * boost::math::quantile(chi2, kResidualTestProbability))) return {};
   }
   const Eigen::MatrixXd covariance = variance * lu.inverse();
   const auto rate = static_cast<Eigen::Index>(num_parameters - 1);
@@ -314,7 +310,7 @@ std::vector<ApproachEstimate> EstimateSharedDesiccatorApproach(std::span<const G
     estimate.u_correction_g = std::sqrt(own) * group.mass_scale_g;
     estimate.u_model_g = std::sqrt(shared) * group.mass_scale_g;
     estimate.time_constant_s = tau_s;
-    estimate.degrees_of_freedom = degrees_of_freedom;
+    estimate.degrees_of_freedom = 0;  // the balance u (Type B, infinite)
     estimate.includes_weighing_scatter = true;
     estimate.method = fmt::format(
         "first-order decay with one time constant for the {} specimens of the step, fitted to "

@@ -41,10 +41,13 @@
 //    the time constant of the group instead of fixing it by the ratio of two noisy differences
 //    (the three-weighing rule above, whose correction and propagated u scatter by an order of
 //    magnitude between replicates). Uncertainty: the covariance s^2 (J^T J)^-1 at the optimum
-//    (JCGM 100:2008, 4.2; linearised, H.3 style), with s the balance standard uncertainty of one
-//    weighing (infinite degrees of freedom) unless the residuals are larger than it allows: when
+//    (JCGM 100:2008, 4.2; linearised), with s the balance standard uncertainty of one weighing
+//    (infinite degrees of freedom). The shared time constant is a hypothesis, tested: when
 //    SSR / u_balance^2 exceeds the 95 % quantile of chi-square with nu = N - (2 J + 1) degrees of
-//    freedom (common practice; the Birge-ratio test), s^2 = SSR / nu, Type A with nu. The
+//    freedom (common practice), the specimens do not share one tau (thickness or density differ)
+//    and the group is not used: each specimen keeps its own estimate (fit or three weighings).
+//    Inflating s to SSR / nu instead was measured to overstate u up to 5-fold on generated jobs
+//    whose specimens draw their own tau (tests/coverage/equilibrium_coverage_test.cc). The
 //    variance of a_j is split by the law of total variance of the Gaussian: the part through the
 //    shared time constant, cov(a_j, tau)^2 / var(tau), is common to every specimen of the step
 //    and is returned as u_model_g (the reduce stage's line for an input that acts alike on the
@@ -54,8 +57,8 @@
 //    95 % one-sided, project choice, as the curvature test above) and tau is at most
 //    max_tau_to_tail_ratio times the longest specimen span of the group. Specimens with at least
 //    kMinWeighingsForFit weighings keep their own kinetic-model fit (their weighings still
-//    inform the shared tau). When the group fit does not resolve tau, the three weighings of one
-//    specimen do not either: its steps keep the drift term below;
+//    inform the shared tau). When the group fit accepts the shared tau but does not resolve it,
+//    the three weighings of one specimen do not either: its steps keep the drift term below;
 //  - when neither resolves a time constant (changes of mixed sign or lost in the noise, a
 //    tail without curvature, a time constant beyond max_tau_to_tail_ratio times the trace):
 //    no correction; the last change over the criterion interval is the half-width of a
@@ -107,8 +110,9 @@ struct GroupMember {
 };
 
 // The shared-time-constant fit of a desiccator group (see the header): one estimate per member,
-// in order, all estimated or none (empty estimates when tau is not resolved, or fewer than two
-// members).
+// in order, all estimated or none (estimates not estimated when tau is not resolved); an empty
+// vector when the group cannot be used (fewer than two members, too few weighings, or the
+// residuals reject the shared time constant): each member keeps its own estimate.
 std::vector<ApproachEstimate> EstimateSharedDesiccatorApproach(std::span<const GroupMember> members,
                                                                double balance_u_g,
                                                                const EquilibrateOptions& options);

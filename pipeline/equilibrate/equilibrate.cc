@@ -172,7 +172,8 @@ void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint&
 // time. For every group with at least two steps that met the criterion, one of them with fewer
 // than internal::kMinWeighingsForFit weighings, the group fit's estimate is set for each such
 // short step (estimated or not: when the group does not resolve tau, neither do three
-// weighings); other steps are left empty (their own estimate applies). Indexed as series.steps.
+// weighings); other steps, and every step of a group whose residuals reject one time constant,
+// are left empty (their own estimate applies). Indexed as series.steps.
 std::vector<std::optional<internal::ApproachEstimate>> SharedApproaches(
     const ingest::DesiccatorSeries& series, double balance_u_g, const EquilibrateOptions& options) {
   struct Group {
@@ -216,6 +217,7 @@ std::vector<std::optional<internal::ApproachEstimate>> SharedApproaches(
     }
     const std::vector<internal::ApproachEstimate> estimates =
         internal::EstimateSharedDesiccatorApproach(members, balance_u_g, options);
+    if (estimates.empty()) continue;  // not one time constant: each its own estimate
     for (std::size_t k = 0; k < group.steps.size(); ++k) {
       if (is_short(group.steps[k])) shared[group.steps[k]] = estimates[k];
     }
