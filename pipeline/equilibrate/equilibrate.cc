@@ -6,10 +6,8 @@
 #include <algorithm>
 #include <cctype>
 #include <cmath>
-#include <iterator>
 #include <limits>
 #include <map>
-#include <optional>
 #include <stdexcept>
 
 #include "pipeline/equilibrate/approach.h"
@@ -167,73 +165,11 @@ void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint&
 
 // ---- Desiccator ------------------------------------------------------------------------
 
-// The shared-time-constant estimates of the steps of one series (approach.h): steps with the
-// same atmosphere and branch whose weighing periods overlap were in one desiccator at the same
-// time. For every group with at least two steps that met the criterion, one of them with fewer
-// than internal::kMinWeighingsForFit weighings, the group fit's estimate is set for each such
-// short step (estimated or not: when the group does not resolve tau, neither do three
-// weighings); other steps, and every step of a group whose residuals reject one time constant,
-// are left empty (their own estimate applies). Indexed as series.steps.
-std::vector<std::optional<internal::ApproachEstimate>> SharedApproaches(
-    const ingest::DesiccatorSeries& series, double balance_u_g, const EquilibrateOptions& options) {
-  struct Group {
-    const ingest::DesiccatorStep* first = nullptr;
-    double start_s = 0.0, end_s = 0.0;
-    std::vector<std::size_t> steps;
-  };
-  std::vector<Group> groups;
-  for (std::size_t i = 0; i < series.steps.size(); ++i) {
-    const ingest::DesiccatorStep& step = series.steps[i];
-    if (step.weighings.empty() || !internal::EvaluateConstantMass(step.weighings, options).met) {
-      continue;
-    }
-    const double start = step.weighings.front().time_s;
-    const double end = step.weighings.back().time_s;
-    auto same_desiccator = [&](const Group& group) {
-      return group.first->atmosphere == step.atmosphere && group.first->branch == step.branch &&
-             start <= group.end_s && end >= group.start_s;
-    };
-    auto it = std::find_if(groups.begin(), groups.end(), same_desiccator);
-    if (it == groups.end()) {
-      groups.push_back(Group{&step, start, end, {}});
-      it = std::prev(groups.end());
-    }
-    it->start_s = std::min(it->start_s, start);
-    it->end_s = std::max(it->end_s, end);
-    it->steps.push_back(i);
-  }
-  std::vector<std::optional<internal::ApproachEstimate>> shared(series.steps.size());
-  auto is_short = [&](std::size_t i) {
-    return static_cast<int>(series.steps[i].weighings.size()) < internal::kMinWeighingsForFit;
-  };
-  for (const Group& group : groups) {
-    if (group.steps.size() < 2 || std::none_of(group.steps.begin(), group.steps.end(), is_short)) {
-      continue;
-    }
-    std::vector<internal::GroupMember> members;
-    for (std::size_t i : group.steps) {
-      const auto& weighings = series.steps[i].weighings;
-      members.push_back(internal::GroupMember{weighings, weighings.back().mass_g});
-    }
-    const std::vector<internal::ApproachEstimate> estimates =
-        internal::EstimateSharedDesiccatorApproach(members, balance_u_g, options);
-    if (estimates.empty()) continue;  // not one time constant: each its own estimate
-    for (std::size_t k = 0; k < group.steps.size(); ++k) {
-      if (is_short(group.steps[k])) shared[group.steps[k]] = estimates[k];
-    }
-  }
-  return shared;
-}
-
 void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest::JobSpec& job,
                            const EquilibrateOptions& options, EquilibriumSet& set) {
   std::map<std::string, Trace> traces;  // by specimen, emitted in first-appearance order
   std::vector<std::string> order;
-  const double balance_u_g = BalanceStandardUncertainty_g(job);
-  const std::vector<std::optional<internal::ApproachEstimate>> shared =
-      SharedApproaches(series, balance_u_g, options);
-  for (std::size_t step_number = 0; step_number < series.steps.size(); ++step_number) {
-    const ingest::DesiccatorStep& step = series.steps[step_number];
+  for (const ingest::DesiccatorStep& step : series.steps) {
     EquilibriumPoint point;
     point.dataset_id = series.dataset_id;
     point.specimen_id = step.specimen_id;
@@ -261,9 +197,8 @@ void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest:
     if (criterion.met) {
       point.time_to_equilibrium_s =
           step.weighings[static_cast<std::size_t>(criterion.first_met_index)].time_s - first.time_s;
-      ApplyApproach(shared[step_number] ? *shared[step_number]
-                                        : internal::EstimateDesiccatorApproach(
-                                              step.weighings, last.mass_g, balance_u_g, options),
+      ApplyApproach(internal::EstimateDesiccatorApproach(
+                        step.weighings, last.mass_g, BalanceStandardUncertainty_g(job), options),
                     point);
     } else {
       point.time_to_equilibrium_s = last.time_s - first.time_s;
