@@ -123,6 +123,59 @@ TEST(EquilibriumCoverageTest, DesiccatorJobsSpecimensDiffer) {
   Check(tallies);
 }
 
+// Steps stopped at their first three or four weighings (a weakly sorbing material,
+// job_generator.h MakeShortStepDesiccatorJob): the 0.1 % rule stops a step while up to half of its
+// change is still to come, and the residual approach rests on the three-weighing first-order
+// estimate (pipeline/equilibrate/approach.h). The class must hold such steps often (at least a
+// quarter of the adsorption steps, checked; measured 1510 of 3600), else it would not test them.
+// Disabled with its measured failures (issue 13 open; 200 replicates each):
+//  - one time constant per step, shared by the specimens (seeds 7000-): points 96.9 %, GAB
+//    95.5-97 %, reference conditions 97-97.5 %; mean u / sd per point 0.69-1.12, NaCl 0.686
+//    below 0.7. The NaCl points outside 2u were mostly steps of 5-6 weighings whose kinetic fit
+//    (3 parameters) states a Type A u from s with 2-3 degrees of freedom: the stated u of the
+//    three specimens of one step differed up to 5-fold at the same fitted time constant;
+//    three-weighing estimates (4 weighings or fewer) stated larger u and covered;
+//  - each specimen its own time constant (seeds 8000-): points 98.3 % (above 98 %), Mg(NO3)2
+//    99.5 %, reference 50 % RH 99 %; u / sd 0.96-1.22.
+// Tried and not kept (pipeline/equilibrate/approach.cc):
+//  - one time constant for the specimens of a step (variable projection, each specimen its own
+//    asymptote and amplitude; the shared part of u as a line common to the specimens). Shared
+//    class: points 95.2 %, u / sd 0.68-1.05 (no better); own-time-constant class: u / sd up to
+//    1.6 (5.0 when s was inflated to the residuals); held-out identical-specimen class: u / sd
+//    2-4 on five salts (u too large): those jobs do not hold one time constant per step;
+//  - desiccator fits' u rescaled from s to the balance u where a chi-square test accepts it:
+//    shared class NaCl 95 -> 97.5 %, u / sd 0.686 -> 0.696; own class points 98.3 -> 98.6 %;
+//    DesiccatorJobsIso12571Rule points 97.4 -> 98.0 %; held-out identical-specimen class
+//    unchanged (Mg(NO3)2 u / sd 0.58, MgCl2 0.68 -> 0.69): more coverage, not better u.
+TEST(EquilibriumCoverageTest, DISABLED_DesiccatorJobsShortStepsSharedTimeConstant) {
+  Tallies tallies;
+  int short_steps = 0, steps = 0;
+  RunReplicates(
+      kReplicates, 7000, [](std::uint64_t seed) { return MakeShortStepDesiccatorJob(seed, false); },
+      [&](const GeneratedJob& job, Tallies& t) {
+        for (const auto& step : job.ingested.desiccator_series[0].steps) {
+          if (step.branch != ingest::Branch::kAdsorption) continue;
+          ++steps;
+          if (step.weighings.size() <= 4) ++short_steps;
+        }
+        RunReplicate(job, t);
+      },
+      tallies);
+  Report("desiccator, weakly sorbing, short steps", tallies);
+  std::cout << "  adsorption steps with 3-4 weighings: " << short_steps << " of " << steps << "\n";
+  EXPECT_GE(4 * short_steps, steps);
+  Check(tallies);
+}
+
+TEST(EquilibriumCoverageTest, DISABLED_DesiccatorJobsShortStepsOwnTimeConstants) {
+  Tallies tallies;
+  RunReplicates(
+      kReplicates, 8000, [](std::uint64_t seed) { return MakeShortStepDesiccatorJob(seed, true); },
+      [&](const GeneratedJob& job, Tallies& t) { RunReplicate(job, t); }, tallies);
+  Report("desiccator, weakly sorbing, short steps, own time constants", tallies);
+  Check(tallies);
+}
+
 TEST(EquilibriumCoverageTest, VapourLogJobsRateRuleMilligramSpecimen) {
   Tallies tallies;
   RunReplicates(

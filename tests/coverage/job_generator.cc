@@ -171,6 +171,78 @@ GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd) {
   return job;
 }
 
+GeneratedJob MakeShortStepDesiccatorJob(std::uint64_t seed, bool own_time_constants) {
+  Random random(seed);
+  GeneratedJob job;
+  job.truth = Gab{0.005, 12.0, 0.7};  // a mineral plaster (invented)
+  ingest::JobSpec& spec = job.ingested.job;
+  spec.job_file = "generated-desiccator-plaster.toml";
+  spec.dry_mass_method = ingest::DryMassMethod::kOvenDrying;
+  spec.balance_resolution_g = kBalanceStep_g;
+  spec.balance_standard_uncertainty_g = kBalanceSd_g;
+  spec.temperature_standard_uncertainty_K = 0.2;
+  ingest::DataSetSpec dataset;
+  dataset.id = "desiccator-23C";
+  dataset.temperature_K = kTestTemperature_K;
+  spec.datasets.push_back(dataset);
+  for (const char* salt : kSalts) {
+    const physics::SaltHumidity table = physics::SaltSolutionHumidity(salt, kTestTemperature_K);
+    const double rh = table.rh_fraction + table.standard_uncertainty_fraction * random.Normal();
+    job.true_rh_fraction.push_back(rh);
+    job.true_moisture_kg_per_kg.push_back(job.truth(rh));
+  }
+  // One time constant per step, shared by the specimens (oven first).
+  std::vector<double> tau_s = {random.Uniform(0.3, 0.6) * kDay_s};
+  for (std::size_t k = 0; k < std::size(kSalts); ++k) {
+    tau_s.push_back(random.Uniform(1.0, 4.0) * kDay_s);
+  }
+  ingest::DesiccatorSeries series;
+  series.dataset_id = dataset.id;
+  series.file = "generated-weighings.csv";
+  int line = 2;
+  // The specimens go through each desiccator together: each step starts for all of them at the
+  // end of the slowest one's previous step.
+  constexpr int kSpecimens = 3;
+  std::vector<double> dry_mass_g, x;
+  for (int s = 0; s < kSpecimens; ++s) {
+    const std::string id = "P" + std::to_string(s + 1);
+    spec.specimens.push_back(ingest::SpecimenSpec{id, std::nullopt, std::nullopt, {}});
+    dry_mass_g.push_back(random.Uniform(18.0, 22.0));
+    x.push_back(job.truth(0.5));  // conditioned in the laboratory before drying
+  }
+  std::vector<std::vector<ingest::DesiccatorStep>> steps(kSpecimens);
+  double step_start_s = 0.0;
+  for (std::size_t k = 0; k <= std::size(kSalts); ++k) {
+    double next_start_s = step_start_s;
+    for (std::size_t s = 0; s < kSpecimens; ++s) {
+      ingest::DesiccatorStep step;
+      step.specimen_id = "P" + std::to_string(s + 1);
+      step.step_index = static_cast<int>(k);
+      step.step_number = static_cast<int>(k) + 1;
+      const bool oven = k == 0;
+      step.atmosphere = oven ? "oven" : kSalts[k - 1];
+      if (!oven) step.salt = kSalts[k - 1];
+      step.branch = oven ? ingest::Branch::kDrying : ingest::Branch::kAdsorption;
+      step.temperature_K = oven ? physics::CelsiusToKelvin(105.0) : kTestTemperature_K;
+      const double x_eq = oven ? 0.0 : job.truth(job.true_rh_fraction[k - 1]);
+      const double tau = !own_time_constants ? tau_s[k]
+                         : oven              ? random.Uniform(0.3, 0.6) * kDay_s
+                                             : random.Uniform(1.0, 4.0) * kDay_s;
+      double time_s = step_start_s;
+      x[s] = RunDesiccatorStep(dry_mass_g[s], x[s], x_eq, tau, time_s, line, step, random);
+      next_start_s = std::max(next_start_s, time_s);
+      steps[s].push_back(std::move(step));
+    }
+    step_start_s = next_start_s + 3600.0;  // transfer to the next desiccator
+  }
+  // Grouped by specimen, then step order (ingest::DesiccatorSeries).
+  for (auto& specimen_steps : steps) {
+    for (auto& step : specimen_steps) series.steps.push_back(std::move(step));
+  }
+  job.ingested.desiccator_series.push_back(series);
+  return job;
+}
+
 double UnaccomplishedFraction(Kinetics kinetics, double elapsed_over_tau) {
   switch (kinetics) {
     case Kinetics::kFirstOrder:

@@ -69,6 +69,18 @@ struct GeneratedJob {
 GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd);
 GeneratedJob MakeVaporLogJob(std::uint64_t seed);
 
+// Desiccator jobs of a weakly sorbing material (a mineral plaster, invented: GAB X_m 0.5 %,
+// C 12, K 0.7), so that the moisture change between salts is a few tenths of a percent of the
+// mass and the 0.1 % constant-mass rule often stops a step at its first three or four daily
+// weighings while up to half of the change is still to come. Three identical specimens
+// (specimen factor 1) in one desiccator per salt; the time constant, 1-4 d, is drawn per step
+// and shared by the specimens (one thickness, one atmosphere; Crank 1975, eq. 4.18:
+// tau = 4 l^2 / (pi^2 D)); oven 0.3-0.6 d. Otherwise as MakeDesiccatorJob: Greenspan RH with
+// its uncertainty, daily weighings with jitter, balance 0.12 mg rounded to 0.1 mg.
+// own_time_constants: each specimen draws its own time constant per step (1-4 d), as specimens
+// whose thickness or density differ; the shared-time-constant model is then not true.
+GeneratedJob MakeShortStepDesiccatorJob(std::uint64_t seed, bool own_time_constants);
+
 // Sorption kinetics of the vapour-log steps: the unaccomplished fraction F(t) = (x_eq - x(t)) /
 // (x_eq - x_start) at time t after the humidity change, tau the step's drawn time constant.
 enum class Kinetics {
