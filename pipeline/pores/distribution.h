@@ -142,9 +142,13 @@ struct MeasuredPoint {
 //    resolve (stepwise.cc, AddStepwiseModeTerms): the scatter of the position at the bar's
 //    resolution where the nominal bars hold it fixed (the largest window of the bar's width
 //    over the draws' steps), the measured step that holds the mode (or the bars that could be
-//    as high), and the interpolation.
+//    as high), and the interpolation, whose alternative models bound the mode: it is reported
+//    at the middle of their range.
 // 5. Total volume and band from the bars, decade fractions from the measured steps (a wide bar
-//    would move volume across a decade boundary), each with its spread over the draws.
+//    would move volume across a decade boundary), each with its spread over the draws; a step
+//    that crosses a decade boundary is split there by the shape-preserving cubic of the
+//    cumulative volume, the difference from a uniform spread in log r the bound of that
+//    split's error (SplitAtDecadeBoundaries, modes.h).
 // common_sources names the CommonPart sources (may be empty).
 PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& points,
                                           ingest::Branch branch, const PoreRadiusMap& map,

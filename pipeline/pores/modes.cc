@@ -92,6 +92,73 @@ std::vector<DecadeFraction> DecadeFractions(const std::vector<double>& edges_log
   return decades;
 }
 
+namespace {
+
+// The slope at node k of the shape-preserving piecewise cubic Hermite interpolant through
+// (x, y) (Fritsch & Carlson 1980, SIAM J. Numer. Anal. 17, 238, with the weighted harmonic mean
+// of Fritsch & Butland 1984, SIAM J. Sci. Stat. Comput. 5, 300): 0 where the neighbouring
+// secants differ in sign, the end secant at the ends.
+double MonotoneSlope(const std::vector<double>& x, const std::vector<double>& y, std::size_t k) {
+  const std::size_t n = x.size();
+  const auto secant = [&](std::size_t j) { return (y[j + 1] - y[j]) / (x[j + 1] - x[j]); };
+  if (k == 0) return secant(0);
+  if (k + 1 == n) return secant(n - 2);
+  const double before = secant(k - 1);
+  const double after = secant(k);
+  if (!(before * after > 0.0)) return 0.0;
+  const double h0 = x[k] - x[k - 1];
+  const double h1 = x[k + 1] - x[k];
+  const double w0 = 2.0 * h1 + h0;
+  const double w1 = h1 + 2.0 * h0;
+  return (w0 + w1) / (w0 / before + w1 / after);
+}
+
+// That interpolant on [x[s], x[s + 1]] at x0.
+double MonotoneCubicAt(const std::vector<double>& x, const std::vector<double>& y, std::size_t s,
+                       double x0) {
+  const double h = x[s + 1] - x[s];
+  const double t = (x0 - x[s]) / h;
+  const double t2 = t * t;
+  const double t3 = t2 * t;
+  return (2.0 * t3 - 3.0 * t2 + 1.0) * y[s] + (t3 - 2.0 * t2 + t) * h * MonotoneSlope(x, y, s) +
+         (-2.0 * t3 + 3.0 * t2) * y[s + 1] + (t3 - t2) * h * MonotoneSlope(x, y, s + 1);
+}
+
+}  // namespace
+
+void SplitAtDecadeBoundaries(const std::vector<double>& step_log_r,
+                             const std::vector<double>& step_volume, double total,
+                             std::vector<DecadeFraction>* decades) {
+  const std::size_t n = step_log_r.size();
+  if (n < 3 || step_volume.size() + 1 != n || !(total > 0.0) || decades->empty()) return;
+  std::vector<double> cumulative(n, 0.0);
+  for (std::size_t s = 0; s + 1 < n; ++s) cumulative[s + 1] = cumulative[s] + step_volume[s];
+  for (std::size_t d = 0; d + 1 < decades->size(); ++d) {
+    DecadeFraction& left = (*decades)[d];
+    DecadeFraction& right = (*decades)[d + 1];
+    const double boundary = std::log10(left.radius_high_m);
+    const auto above = std::upper_bound(step_log_r.begin(), step_log_r.end(), boundary);
+    if (above == step_log_r.begin() || above == step_log_r.end()) continue;
+    const std::size_t s = static_cast<std::size_t>(above - step_log_r.begin()) - 1;
+    const double x0 = step_log_r[s];
+    const double x1 = step_log_r[s + 1];
+    if (!(boundary > x0 && x1 > x0)) continue;  // on a node: nothing to split
+    const double v = step_volume[s];
+    const double uniform = v * (boundary - x0) / (x1 - x0);
+    const double shaped =
+        std::clamp(MonotoneCubicAt(step_log_r, cumulative, s, boundary) - cumulative[s],
+                   std::min(0.0, v), std::max(0.0, v));
+    const double shift = (shaped - uniform) / total;
+    const double u = std::abs(shaped - uniform) / std::sqrt(3.0) / total;
+    left.volume_fraction += shift;
+    right.volume_fraction -= shift;
+    for (DecadeFraction* f : {&left, &right}) {
+      f->u_volume_fraction = std::hypot(f->u_volume_fraction, u);
+      f->coverage_factor = 0.0;
+    }
+  }
+}
+
 std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
                                        const std::vector<double>& density,
                                        const std::vector<double>& band_low,

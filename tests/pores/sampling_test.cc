@@ -120,5 +120,62 @@ TEST(DecadeUncertainties, FiniteForDrawsWithoutVariance) {
   EXPECT_GT(StandardDeviation(first), 5.0 * decades[0].u_volume_fraction);
 }
 
+// A step across a decade boundary is split by the shape-preserving cubic of the cumulative
+// volume (modes.h, SplitAtDecadeBoundaries). Nodes log10 r = -9, -8.5, -7.5, -7 with step
+// volumes 1, 2, 0.5 (total 3.5): the boundary -8 is the middle of the second step. Worked by
+// hand from Fritsch & Butland (1984) (the slope at an interior node is the weighted harmonic
+// mean (w0 + w1) / (w0 / d_before + w1 / d_after), w0 = 2 h_after + h_before, w1 = h_after +
+// 2 h_before, of the neighbouring secants d) and the cubic Hermite basis at t = 1/2: secants
+// 2, 2, 1; slopes 2 at -8.5 and 4.5 / 3.5 = 9/7 at -7.5; cumulative at -8:
+// 0.5 * 1 + 0.125 * 2 + 0.5 * 3 - 0.125 * 9/7 = 2.0892857..., so the part left of the boundary is
+// 1.0892857 = 1 + 5/56, against 1 for the uniform spread in log r. The fraction of
+// [1e-9, 1e-8] m moves from 2 / 3.5 by (5/56) / 3.5, and its u gains (5/56) / sqrt(3) / 3.5 in
+// quadrature (JCGM 100:2008 4.3.7); the other decade loses what this one gains.
+TEST(SplitAtDecadeBoundaries, FollowsTheMonotoneCubicWithItsModelError) {
+  const std::vector<double> nodes = {-9.0, -8.5, -7.5, -7.0};
+  const std::vector<double> volumes = {1.0, 2.0, 0.5};
+  constexpr double kTotal = 3.5;
+  std::vector<DecadeFraction> decades = DecadeFractions(nodes, volumes, kTotal);
+  ASSERT_EQ(decades.size(), 2u);
+  EXPECT_NEAR(decades[0].volume_fraction, 2.0 / kTotal, 1e-12);  // the uniform spread
+  constexpr double kDrawsU = 0.01;
+  for (DecadeFraction& d : decades) {
+    d.u_volume_fraction = kDrawsU;
+    d.coverage_factor = 2.1;
+  }
+  SplitAtDecadeBoundaries(nodes, volumes, kTotal, &decades);
+  const double moved = 5.0 / 56.0;
+  EXPECT_NEAR(decades[0].volume_fraction, (2.0 + moved) / kTotal, 1e-12);
+  EXPECT_NEAR(decades[1].volume_fraction, (1.5 - moved) / kTotal, 1e-12);
+  const double u_split = moved / std::sqrt(3.0) / kTotal;
+  for (const DecadeFraction& d : decades) {
+    EXPECT_NEAR(d.u_volume_fraction, std::hypot(kDrawsU, u_split), 1e-12);
+    EXPECT_EQ(d.coverage_factor, 0.0);  // draws and a rectangular term: the sheet's k
+  }
+}
+
+// Where the density is the same on both sides of the step (a uniform density in log r) the
+// monotone cubic is the straight line (its slopes are the common secant), and where the
+// boundary is a node there is nothing to split: the fractions and u stay as the draws gave them.
+TEST(SplitAtDecadeBoundaries, NoTermForUniformDensityOrBoundaryOnANode) {
+  const std::vector<double> uniform_nodes = {-9.0, -8.7, -7.6, -7.0};
+  const std::vector<double> uniform_volumes = {0.3, 1.1, 0.6};  // density 1 throughout
+  std::vector<DecadeFraction> decades = DecadeFractions(uniform_nodes, uniform_volumes, 2.0);
+  const std::vector<DecadeFraction> before = decades;
+  SplitAtDecadeBoundaries(uniform_nodes, uniform_volumes, 2.0, &decades);
+  ASSERT_EQ(decades.size(), before.size());
+  for (std::size_t k = 0; k < decades.size(); ++k) {
+    EXPECT_NEAR(decades[k].volume_fraction, before[k].volume_fraction, 1e-12);
+    EXPECT_NEAR(decades[k].u_volume_fraction, 0.0, 1e-12);
+  }
+  const std::vector<double> on_node = {-9.0, -8.5, -8.0, -7.0};
+  const std::vector<double> volumes = {1.0, 3.0, 0.2};
+  decades = DecadeFractions(on_node, volumes, 4.2);
+  SplitAtDecadeBoundaries(on_node, volumes, 4.2, &decades);
+  ASSERT_EQ(decades.size(), 2u);
+  EXPECT_DOUBLE_EQ(decades[0].volume_fraction, 4.0 / 4.2);
+  EXPECT_DOUBLE_EQ(decades[0].u_volume_fraction, 0.0);
+}
+
 }  // namespace
 }  // namespace sorbtrace::pores::internal

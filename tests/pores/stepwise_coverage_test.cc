@@ -7,8 +7,8 @@
 //  - the stated u of the volume, of the modes and of the fraction in 1-10 nm lies within
 //    0.7-1.5 times the standard deviation of its errors; for the modes also within 0.7-1.5
 //    times their root mean square error (a stepwise mode's error holds a bias, where the
-//    family's peak lies within its bar, that u must cover; for the second pore system the
-//    modes' u / sd is held only from below, see its test);
+//    family's peak lies within its bar, that u must cover; at the coarse schedule the modes'
+//    u / sd is held only from below, see its test);
 //  - exactly two modes are reported in at least 90 % of the replicates (two pore families);
 //  - the volume put at 100-1000 nm (truth below 0.001 %) stays within its own expanded
 //    uncertainty of the truth in at least 95 % of the replicates and averages below 0.5 % of
@@ -29,21 +29,29 @@
 // moisture content 1.5 % relative and 0.2 g/kg absolute, independent; dry mass 0.1 % relative,
 // one error per replicate shared by every point (u = (1 + u_true) / (1 + e) - 1).
 // With R = 400 replicates the Monte Carlo standard error of a 95 % coverage is 1.1 %.
-// Measured at this seed (before: the modes' noise from the draws on the nominal bars only, the
-// two interpolation differences as two terms): volume 0.993, modes 0.960 / 0.927 (0.900 /
-// 0.917), decade fractions 0.947, steps 0.956 inside +- 2 u; two modes in 0.988; u / sd volume
-// 1.22, modes 1.03 / 1.36 (0.80 / 1.28); u / rms error of the modes 1.03 / 1.05 (0.80 / 0.99);
-// u / sd of the 1-10 nm fraction 0.96; 100-1000 nm mean fraction -0.08 % (truth < 0.001 %),
-// within truth + 2 u in 0.995. With the noise seeds 11 and 12345: modes 0.958 / 0.938 and
-// 0.980 / 0.915 (0.905 / 0.932 and 0.932 / 0.935), u / sd 1.05 / 1.39 and 1.21 / 1.38, u / rms
-// 1.05 / 1.05 and 1.20 / 1.04, volume 0.985-0.993, fractions 0.953-0.954, steps 0.955-0.960.
-// The 2 nm mode's misses before were where the nominal data were cut into a narrow highest bar
-// (one step: 0.30 covered) on the flat top of the family: see stepwise.cc, AddStepwiseModeTerms.
+// Measured at this seed (in brackets: the mode of grouped data itself with u = its largest
+// difference from the other interpolation models / sqrt(3), the decade split uniform in log r,
+// the profile continued beyond its top node with the end step's density): volume 0.993, modes
+// 0.910 / 0.927 (0.935 / 0.900), decade fractions 0.941 (0.946), steps 0.948 inside +- 2 u;
+// two modes in 0.990; u / sd volume 1.11 (1.20), modes 0.90 / 1.27 (0.94 / 1.36); u / rms
+// error of the modes 0.90 / 1.17 (0.93 / 1.04); mean error of the 8 nm mode -0.012 in log10 r
+// (-0.024); u / sd of the 1-10 nm fraction 0.89 (0.96); 100-1000 nm mean fraction -0.07 %
+// (truth < 0.001 %), within truth + 2 u in 0.99. Noise seeds 11 and 12345: modes 0.905 / 0.938
+// and 0.917 / 0.917, u / sd 0.90 / 1.22 and 1.03 / 1.25, volume 0.995 and 0.980, fractions
+// 0.960 and 0.959.
+// The 2 nm mode's misses before the window term were where the nominal data were cut into a
+// narrow highest bar (one step: 0.30 covered) on the flat top of the family: see stepwise.cc,
+// AddStepwiseModeTerms.
 // Second pore system (kWideTwoFamily, modes near 3 and 15 nm, seed 20261204): volume 0.983,
-// modes 0.955 / 0.935 (0.922 / 0.935), fractions 0.978, steps 0.964, two modes 0.995; u / sd
-// volume 1.12, modes 1.36 / 1.57 (1.21 / 1.52), 1-10 nm fraction 1.08; u / rms of the modes
-// 1.25 / 1.24 (1.11 / 1.20); seeds 11 and 12345: modes 0.970 / 0.935 and 0.973 / 0.927, u / sd
-// 1.48 / 1.57 and 1.43 / 1.54, u / rms 1.31 / 1.19 and 1.23 / 1.23.
+// modes 0.917 / 0.948 (0.932 / 0.930), fractions 0.970, steps 0.957, two modes 0.995; u / sd
+// volume 1.10, modes 1.17 / 1.35 (1.38 / 1.55), 1-10 nm fraction 1.05; u / rms of the modes
+// 1.16 / 1.28 (1.27 / 1.22); 15 nm mode's mean error -0.015 in log10 r (-0.029); seeds 11 and
+// 12345: modes 0.927 / 0.945 and 0.905 / 0.930, u / sd 1.20 / 1.32 and 1.16 / 1.29.
+// Coarse schedule (first system, RH steps of 0.05, seed 20261205): volume 0.975, modes 0.973 /
+// 0.988, fractions 0.937 (0.802), steps 0.922; u / sd volume 1.11 (1.63: one replicate whose
+// 0.995 and 0.998 points were measured at RH 0.99803 and 0.99804 stated u 170 times the
+// scatter), 1-10 nm fraction 0.99 (0.90; mean error -0.009, was -0.023); seeds 11 and 12345:
+// fractions 0.927 and 0.944, volume u / sd 1.05 and 1.13.
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -76,6 +84,8 @@ constexpr double kMinTailCoverage = 0.95;
 constexpr double kMinRatio = 0.7;
 constexpr double kMaxRatio = 1.5;
 constexpr double kMaxMeanTailFraction = 0.005;
+constexpr double kFineStepRh = 0.025;
+constexpr double kCoarseStepRh = 0.05;
 
 using testing::ErrorSpread;
 using testing::PoreSystem;
@@ -83,19 +93,21 @@ using testing::TrueCumulativeVolume;
 using testing::TrueModes;
 using testing::TrueMoisture_kg_per_kg;
 
-std::vector<double> Schedule(double phase) {
+// The schedule between 0.55 and 0.95 in steps of step_rh, shifted by phase.
+std::vector<double> Schedule(double step_rh, double phase) {
   std::vector<double> rh = {0.10, 0.20, 0.30, 0.40, 0.50};
-  for (int i = 0; i <= 16; ++i) rh.push_back(0.55 + 0.025 * i + phase);
+  const int last = static_cast<int>(std::lround(0.40 / step_rh));
+  for (int i = 0; i <= last; ++i) rh.push_back(0.55 + step_rh * i + phase);
   for (double a : {0.97, 0.98, 0.99, 0.995, 0.998}) rh.push_back(a);
   return rh;
 }
 
-std::vector<internal::MeasuredPoint> Replicate(const PoreSystem& system,
+std::vector<internal::MeasuredPoint> Replicate(const PoreSystem& system, double step_rh,
                                                fitters::testing::NormalSource* noise) {
-  const double phase = 0.025 * (noise->Uniform() - 0.5);
+  const double phase = step_rh * (noise->Uniform() - 0.5);
   const double dry_mass_error = kRelativeSigmaDryMass * noise->Normal();
   std::vector<internal::MeasuredPoint> points;
-  for (double rh : Schedule(phase)) {
+  for (double rh : Schedule(step_rh, phase)) {
     const double u_true = TrueMoisture_kg_per_kg(rh, system);
     const double sigma_rh = std::min(kSigmaRhFraction, kSigmaRhOfOneMinusRh * (1.0 - rh));
     const double sigma_u =
@@ -129,7 +141,9 @@ struct Tallies {
   int tail_hits = 0, tail_count = 0;
   double tail_sum = 0.0;
   ErrorSpread volume_spread, mode_spread[2];
-  ErrorSpread first_decade;  // the fraction of [1 nm, 10 nm]
+  ErrorSpread mode_log_spread[2];  // the modes' errors in log10 r
+  ErrorSpread first_decade;        // the fraction of [1 nm, 10 nm]
+  ErrorSpread decade_spread[4];    // by decade from 0.1 nm
   std::vector<int> mode_counts;
 };
 
@@ -164,6 +178,8 @@ void TallyOne(const PoreSystem& system, const PoreDistribution& d, Tallies* t) {
     if (nearest == nullptr) continue;
     t->mode_hits[m] += Within(nearest->radius_m, nearest->u_radius_m, truth_modes[m]);
     t->mode_spread[m].Add(nearest->radius_m - truth_modes[m], nearest->u_radius_m);
+    t->mode_log_spread[m].Add(std::log10(nearest->radius_m / truth_modes[m]),
+                              nearest->u_radius_m / (nearest->radius_m * std::log(10.0)));
   }
   for (const DecadeFraction& f : d.decades) {
     const double truth = (TrueCumulativeVolume(f.radius_high_m, system) -
@@ -171,6 +187,10 @@ void TallyOne(const PoreSystem& system, const PoreDistribution& d, Tallies* t) {
                          true_volume;
     ++t->fraction_checks;
     t->fraction_hits += Within(f.volume_fraction, f.u_volume_fraction, truth);
+    const long decade = std::lround(std::log10(f.radius_low_m)) + 10;
+    if (decade >= 0 && decade < 4) {
+      t->decade_spread[decade].Add(f.volume_fraction - truth, f.u_volume_fraction);
+    }
     if (std::abs(f.radius_low_m - 1e-9) < 1e-12 && std::abs(f.radius_high_m - 10e-9) < 1e-12) {
       t->first_decade.Add(f.volume_fraction - truth, f.u_volume_fraction);
     }
@@ -203,6 +223,21 @@ void Print(const Tallies& t) {
       t.volume_spread.Ratio(), t.mode_spread[0].Ratio(), t.mode_spread[1].Ratio(),
       t.first_decade.Ratio(), t.volume_spread.RmsRatio(), t.mode_spread[0].RmsRatio(),
       t.mode_spread[1].RmsRatio());
+  for (std::size_t k = 0; k < 4; ++k) {
+    const ErrorSpread& spread = t.decade_spread[k];
+    if (spread.errors.size() < 2) continue;
+    const int low_exponent = static_cast<int>(k) - 10;
+    std::printf("fraction 1e%d-1e%d m: mean error %+.4f, sd %.4f, mean u %.4f\n", low_exponent,
+                low_exponent + 1, spread.Mean(), spread.Sd(),
+                spread.sum_u / static_cast<double>(spread.errors.size()));
+  }
+  std::printf("volume: mean error %+.3g, sd %.3g, mean u %.3g m3/kg\n", t.volume_spread.Mean(),
+              t.volume_spread.Sd(),
+              t.volume_spread.sum_u / static_cast<double>(t.volume_spread.errors.size()));
+  for (const ErrorSpread& spread : t.mode_log_spread) {
+    std::printf("mode in log10 r: mean error %+.4f, sd %.4f, mean u %.4f\n", spread.Mean(),
+                spread.Sd(), spread.sum_u / static_cast<double>(spread.errors.size()));
+  }
   std::printf("100-1000 nm: mean fraction %.4g over %d, below truth + 2u in %.3f\n",
               t.tail_count > 0 ? t.tail_sum / t.tail_count : 0.0, t.tail_count,
               t.tail_count > 0 ? static_cast<double>(t.tail_hits) / t.tail_count : 0.0);
@@ -213,8 +248,8 @@ void Print(const Tallies& t) {
   std::printf("\n");
 }
 
-// mode_sd_upper: whether the modes' u / sd is held below kMaxRatio as well (see the test of the
-// second pore system for why not there).
+// mode_sd_upper: whether the modes' u / sd and u / rms error are held below kMaxRatio as well
+// (see the coarse-schedule test for why not there).
 void Check(const Tallies& t, bool mode_sd_upper) {
   const double n = kReplicates;
   EXPECT_GE(t.volume_hits / n, kMinCoverage);
@@ -233,11 +268,11 @@ void Check(const Tallies& t, bool mode_sd_upper) {
   for (const ErrorSpread* spread : {&t.mode_spread[0], &t.mode_spread[1]}) {
     ASSERT_GE(spread->errors.size(), 10u);
     EXPECT_GE(spread->Ratio(), kMinRatio);
+    EXPECT_GE(spread->RmsRatio(), kMinRatio);
     if (mode_sd_upper) {
       EXPECT_LE(spread->Ratio(), kMaxRatio);
+      EXPECT_LE(spread->RmsRatio(), kMaxRatio);
     }
-    EXPECT_GE(spread->RmsRatio(), kMinRatio);
-    EXPECT_LE(spread->RmsRatio(), kMaxRatio);
   }
   ASSERT_EQ(t.tail_count, kReplicates);  // every replicate reaches above 100 nm
   EXPECT_GE(static_cast<double>(t.tail_hits) / t.tail_count, kMinTailCoverage);
@@ -245,7 +280,7 @@ void Check(const Tallies& t, bool mode_sd_upper) {
 }
 
 // kReplicates replicates of the pore system, noise from the seed; prints and checks.
-void RunCoverage(const PoreSystem& system, std::uint64_t seed, bool mode_sd_upper) {
+void RunCoverage(const PoreSystem& system, std::uint64_t seed, double step_rh, bool mode_sd_upper) {
   fitters::testing::NormalSource noise(seed);
   PoreOptions options;
   options.film = FilmModel::kNone;
@@ -256,7 +291,7 @@ void RunCoverage(const PoreSystem& system, std::uint64_t seed, bool mode_sd_uppe
   Tallies t;
   for (int r = 0; r < kReplicates; ++r) {
     options.seed = noise.Raw();
-    const std::vector<internal::MeasuredPoint> points = Replicate(system, &noise);
+    const std::vector<internal::MeasuredPoint> points = Replicate(system, step_rh, &noise);
     const PoreDistribution d = internal::StepwisePoreDistribution(
         points, ingest::Branch::kDesorption, map, options, {"dry mass"});
     ASSERT_GT(d.band_draws_used, kDraws * 9 / 10);
@@ -276,19 +311,30 @@ void RunCoverage(const PoreSystem& system, std::uint64_t seed, bool mode_sd_uppe
 }
 
 TEST(StepwisePoreCoverageTest, VolumeModesFractionsStepsAndTail) {
-  RunCoverage(testing::kTwoFamily, 20261203, true);
+  RunCoverage(testing::kTwoFamily, 20261203, kFineStepRh, true);
 }
 
 // The same on the second pore system (two_family_pores.h, kWideTwoFamily: modes near 3 nm and
-// 15 nm, at the same schedule), with its own noise seed, except the upper limit of the modes'
-// u / sd: the 15 nm mode lies in a bar about 0.45 wide in log10 r next to the empty tail bar,
-// and the mode of grouped data (which takes the density quadratic about its peak, while the
-// true one falls to 0 on the wide side and only to the valley between the families on the
-// other) puts it 0.029 low in log10 r on average, against a scatter of 0.037: its u must cover
-// that bias (u / rms error is held to 0.7-1.5) and then stands at 1.54-1.57 times the scatter
-// alone (1.52 before the window term of the stepwise modes).
+// 15 nm, at the same schedule), with its own noise seed. The 15 nm mode lies in a bar about
+// 0.45 wide in log10 r next to the nearly empty tail bar; the mode of grouped data alone put it
+// 0.029 low in log10 r against a scatter of 0.037 and its u, which covered that bias, at
+// 1.54-1.57 times the scatter; the midpoint of the interpolation models (stepwise.cc,
+// AddStepwiseModeTerms) holds the bias to -0.015 and u / sd within 1.5.
 TEST(StepwisePoreCoverageTest, WideFamiliesVolumeModesFractionsStepsAndTail) {
-  RunCoverage(testing::kWideTwoFamily, 20261204, false);
+  RunCoverage(testing::kWideTwoFamily, 20261204, kFineStepRh, true);
+}
+
+// The first pore system at a coarser schedule, RH steps of 0.05 between 0.55 and 0.95 (phase
+// +-0.025), own noise seed: steps 0.19 wide in log10 r at the 10 nm decade boundary, beside the
+// 8 nm mode (SplitAtDecadeBoundaries, modes.h). The modes' u / sd is held only from below: the
+// resolution term (rectangular over the measured step that holds the mode, stepwise.cc) alone
+// is about 0.055 in log10 r for the 8 nm mode there against a scatter of its errors of 0.032
+// (u / sd 1.69, u / rms error 1.48, covered in 0.99; noise seeds 11 and 12345: u / sd 1.76 and
+// 1.90, u / rms 1.44 and 1.56): the interpolation places the mode within a coarse step better
+// than that rectangle says. The upper limits of u / sd and u / rms error are not held for the
+// modes here (an open finding of the resolution term).
+TEST(StepwisePoreCoverageTest, CoarseScheduleVolumeModesFractionsStepsAndTail) {
+  RunCoverage(testing::kTwoFamily, 20261205, kCoarseStepRh, false);
 }
 
 }  // namespace

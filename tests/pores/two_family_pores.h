@@ -98,15 +98,22 @@ struct ErrorSpread {
     errors.push_back(error);
     sum_u += u;
   }
-  // Mean stated u over the standard deviation of the errors (around their mean).
-  double Ratio() const {
-    const double n = static_cast<double>(errors.size());
+  // Mean of the errors (the bias).
+  double Mean() const {
     double mean = 0.0;
-    for (double e : errors) mean += e / n;
+    for (double e : errors) mean += e / static_cast<double>(errors.size());
+    return mean;
+  }
+  // Standard deviation of the errors around their mean.
+  double Sd() const {
+    const double n = static_cast<double>(errors.size());
+    const double mean = Mean();
     double sum = 0.0;
     for (double e : errors) sum += (e - mean) * (e - mean);
-    return sum_u / n / std::sqrt(sum / (n - 1.0));
+    return std::sqrt(sum / (n - 1.0));
   }
+  // Mean stated u over the standard deviation of the errors (around their mean).
+  double Ratio() const { return sum_u / static_cast<double>(errors.size()) / Sd(); }
   // Mean stated u over the root mean square error (bias included).
   double RmsRatio() const {
     double sum = 0.0;
