@@ -207,6 +207,18 @@ enum class ResampleKind {
 // or well-known u). For nu <= 2 the draws of z, and so the parameter draws, have no finite
 // variance: ResampleResult states intervals and u from percentiles (DrawStatisticsOf,
 // pipeline/common/draw_statistics.h), never from the draws' standard deviation.
+// Fewer than one degree of freedom: a Welch-Satterthwaite nu of a term estimated as the
+// difference of two nearly equal variances (the specimen term of identical specimens: measured
+// nu_d = 0.03-0.07 with u = 1e-5 relative on generated desiccator jobs) is drawn with nu = 1.
+// JCGM 101:2008, 6.4.9.7 draws a Type A input from n >= 2 indications, nu = n - 1 >= 1, and the
+// covariance path takes its k at max(1, floor(nu_eff)) as well (pipeline/fit/fit_stage.cc,
+// SetCoverage). Drawn as given, t_0.03 puts the central 68 % of z beyond 10^10 u: a term of
+// 1e-5 moved every point by orders of magnitude, the refits ran off (GAB C to 10^6, bootstrap
+// and Monte Carlo u up to 10^6 times the covariance u), and the quantile overflowed (boost
+// "Overflow Error": no interval at all). With t_1 such a term stays as small as its u says
+// (tests/models/gab_small_eiv_coverage_test.cc, NegligibleCommonFactorWithFewDof).
+inline constexpr double kMinFactorDof = 1.0;
+
 struct CommonFactor {
   double relative_standard_uncertainty = 0.0;  // u of z
   std::vector<double> weights;                 // w_i, one per observation (0: not affected)
@@ -260,7 +272,19 @@ struct ResampleOptions {
 //    + sigma_y_i e*_j n_yi (the residual bootstrap of Davison & Hinkley sec. 6.2.3 applied to that
 //    reduced regression). Without a fitted t_i, n_i = (0, 1) and this is the plain residual
 //    bootstrap above;
-//    Residual scale: every residual bootstrap draw multiplies its drawn residuals by one factor
+//    Residual scale, absolute weights (WeightConvention::kAbsolute, the fit stage's default): the
+//    sigmas are the standard uncertainties, known as the covariance (J'J)^-1 and the Monte Carlo
+//    take them, so the pool is scaled to root mean square 1 (its shape is resampled, its scale is
+//    the stated one) and no scale is drawn. Kept at the scale s^2 = chi2 / nu of the residuals,
+//    a pool of n - p = 3-6 residual degrees of freedom made each job's interval as wide as its
+//    own chance chi2 (s from 0.04 to 1.4 of the stated scale over generated desiccator jobs):
+//    intervals 3-25 times narrower than the covariance's missed (held-out desiccator jobs: GAB C
+//    85 %, max |z| 10-12; vapour logs max |z| 4.6-6.0), while the drawn scale below made others
+//    t_3 wide. Scaled, the bootstrap is as wide as the stated uncertainties and keeps what the
+//    residuals show beyond the covariance: their distribution and the model's curvature
+//    (tests/models/gab_small_eiv_coverage_test.cc, seven salts, n - p = 4).
+//    Relative weights (kRelative: the sigmas are only weights, the scale is estimated): every
+//    residual bootstrap draw multiplies its drawn residuals by one factor
 //    w* = sqrt(nu / chi2*_nu), nu = n - p (ResidualScaleVariate in resample.cc): the pool's
 //    spread is the residual scale s estimated from nu residuals, and a bootstrap that keeps it
 //    fixed treats s as the true error scale; its percentile intervals then cut the estimates'
@@ -277,15 +301,16 @@ struct ResampleOptions {
 //    under kAbsolute and u = s * sigma under kRelative (the sigmas are then only weights).
 // Percentiles: linear interpolation between order statistics (Hyndman & Fan 1996, type 7).
 // Studentised (bootstrap-t) intervals, for the two bootstrap kinds: each refit b also gives
-// se*_bj = s*_b sqrt([(J*'J*)^-1]_jj) with s*_b^2 = SSR*_b / (n - p), and
+// se*_bj = s*_b sqrt([(J*'J*)^-1]_jj) (s*_b below), and
 // T*_bj = (p*_bj - p_hat_j) / se*_bj; the interval is
 // [p_hat_j - T*_j(1 - a/2) se_hat_j, p_hat_j - T*_j(a/2) se_hat_j], se_hat from the full-data
 // fit in the same form (B. Efron and R. J. Tibshirani 1993, An Introduction to the Bootstrap,
-// sec. 12.5; Davison & Hinkley 1997, sec. 5.2.1). The percentile interval gets the t-like tails
-// of the estimated scatter from the residual scale draw (above); the studentised one from its
-// pivot, and it also corrects for skewness. The studentisation always uses the
-// residual-variance-scaled covariance (whatever FitOptions::weights says), since the
-// resampled residuals carry the observed scatter, not the stated sigmas. Not formed where
+// sec. 12.5; Davison & Hinkley 1997, sec. 5.2.1). Under kRelative the percentile interval gets
+// the t-like tails of the estimated scatter from the residual scale draw (above); the studentised
+// one from its pivot, and it also corrects for skewness. The studentisation uses the covariance
+// of the weight convention: s*_b^2 = SSR*_b / (n - p) under kRelative, s*_b = 1 under kAbsolute
+// (the resampled residuals carry the stated scale, above; se_hat is then the fit's own standard
+// error). Not formed where
 // common factors are drawn (ResampleOptions::common_factors): a factor moves p*_bj but is not in
 // se*_bj (the refit's covariance knows only the residuals), so T* would not be a pivot (measured
 // in tests/coverage/resampled_coverage_test.cc, three specimens: 97.5-98.5 % coverage for 95 %
@@ -325,6 +350,12 @@ struct ResampleResult {
 inline constexpr const char* kStudentizedWithCommonFactor =
     "not formed: a common factor (specimen or cycle term) moves the refits but not their "
     "standard errors, so the studentised statistic is no pivot";
+
+// ResampleResult::not_formed of a residual bootstrap under kAbsolute whose residuals are all
+// zero (an exact fit: no shape to scale to the stated sigmas).
+inline constexpr const char* kBootstrapZeroResiduals =
+    "not formed: every residual of the fit is zero, so the residual bootstrap has nothing to "
+    "resample";
 
 ResampleResult Resample(const Model& model, const std::vector<Observation>& observations,
                         const ModelContext& context, const FitResult& full_fit,

@@ -225,6 +225,17 @@ ResidualPool OrthogonalResiduals(const Model& model, const std::vector<Observati
   return pool;
 }
 
+// Absolute weights (see fitter.h, "residual scale"): the pool scaled to root mean square 1, the
+// stated scale. False (pool unchanged) where every residual is zero: no shape to resample.
+bool ScaleToStatedSigma(ResidualPool* pool) {
+  double sum_squares = 0.0;
+  for (double e : pool->residual) sum_squares += e * e;
+  const double rms = std::sqrt(sum_squares / static_cast<double>(pool->residual.size()));
+  if (!(rms > 0.0) || !std::isfinite(rms)) return false;
+  for (double& e : pool->residual) e /= rms;
+  return true;
+}
+
 // What one resampled refit gave, kept per draw so the draws can be assembled in draw order.
 struct DrawOutcome {
   bool converged = false;
@@ -304,10 +315,11 @@ std::vector<DrawOutcome> RunDraws(int count, int num_threads, const MakeWorker& 
 
 // One standardised draw of a common factor with nu degrees of freedom (CommonFactor): standard
 // normal for infinite nu (the Box-Muller stream, as without degrees of freedom), else Student's
-// t_nu by inversion of one uniform (JCGM 101:2008, 6.4.9.7).
+// t by inversion of one uniform (JCGM 101:2008, 6.4.9.7) with max(nu, kMinFactorDof) degrees of
+// freedom (see CommonFactor).
 double FactorVariate(internal::Random& random, double nu) {
   if (!std::isfinite(nu)) return random.Normal();
-  return StudentTVariate(random.Uniform(), nu);
+  return StudentTVariate(random.Uniform(), std::max(nu, kMinFactorDof));
 }
 
 // One draw of the residual bootstrap's scale factor w = sqrt(nu / chi2_nu), chi2_nu the sum of
@@ -393,17 +405,19 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
   ResidualPool pool;
   if (options.kind == ResampleKind::kResidualBootstrap) {
     pool = OrthogonalResiduals(model, observations, context, full_fit, warm_start.leverage);
+    if (!relative && !ScaleToStatedSigma(&pool)) {
+      result.not_formed = kBootstrapZeroResiduals;
+      result.num_failed = num_resamples;
+      return result;
+    }
   }
 
-  // Full-data standard errors in the studentised form, s sqrt([(J'J)^-1]_jj), from the fit's
-  // own: under kRelative they are that already, under kAbsolute they lack the factor s.
+  // Full-data standard errors in the form of the pivots (fitter.h): the fit's own, s
+  // sqrt([(J'J)^-1]_jj) under kRelative and sqrt([(J'J)^-1]_jj) under kAbsolute.
   const bool studentize = options.kind != ResampleKind::kMonteCarloInputs;
   std::vector<double> se_hat(pp, kNaN);
   if (studentize && full_fit.summary.covariance_available && full_fit.estimates.size() == pp) {
-    const double s_hat = std::sqrt(full_fit.statistics.weighted_ssr / dof);
-    for (std::size_t j = 0; j < pp; ++j) {
-      se_hat[j] = full_fit.estimates[j].standard_error * (relative ? 1.0 : s_hat);
-    }
+    for (std::size_t j = 0; j < pp; ++j) se_hat[j] = full_fit.estimates[j].standard_error;
   }
   // Relative shift sum_k w_ik z_k of each observation in this resample (common factors).
   const bool common = std::any_of(
@@ -441,7 +455,7 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
     std::vector<Observation>& data = workspace.data();
     switch (options.kind) {
       case ResampleKind::kResidualBootstrap: {
-        const double scale = ResidualScaleVariate(random, dof);
+        const double scale = relative ? ResidualScaleVariate(random, dof) : 1.0;
         for (std::size_t i = 0; i < n; ++i) {
           data[i] = observations[i];
           const double e = scale * pool.residual[random.Index(n)];
@@ -489,7 +503,8 @@ ResampleResult Resample(const Model& model, const std::vector<Observation>& obse
     double weighted_ssr = 0.0;
     Eigen::MatrixXd& covariance = worker.covariance;
     if (studentize_ok && workspace.LastSolveCovariance(&covariance, &weighted_ssr)) {
-      const double s2 = weighted_ssr / dof;
+      // The refit's residual variance under kRelative; the stated scale (1) under kAbsolute.
+      const double s2 = relative ? weighted_ssr / dof : 1.0;
       bool usable = std::isfinite(s2) && s2 > 0.0;
       for (std::size_t j = 0; j < pp && usable; ++j) {
         const Eigen::Index jj = static_cast<Eigen::Index>(j);

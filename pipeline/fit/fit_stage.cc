@@ -330,12 +330,12 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
   // (IsUsable): resampled intervals of it would state nothing, and its refits are the costly ones
   // (data far from the curve; measured on the wood-fibre 23/40 degC demo: up to 24 of 1000
   // bootstrap refits of such fits ran to the iteration limit). Not resampled.
-  const GoodnessOfFit goodness = GoodnessOfFitOf(fit);
-  if (!goodness.passed) {
-    const std::string why = "not formed: the fit " + goodness.reason + " and states no result";
+  if (is_bet) fit.consistency = BetConsistency(fit.result, observations);
+  fit.goodness = GoodnessOfFitOf(fit);
+  if (!fit.goodness.passed) {
+    const std::string why = "not formed: the fit " + fit.goodness.reason + " and states no result";
     fit.bootstrap.not_formed = why;
     fit.monte_carlo.not_formed = why;
-    if (is_bet) fit.consistency = BetConsistency(fit.result, observations);
     return fit;
   }
 
@@ -375,8 +375,6 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
               fmt::format("Monte Carlo failed: {}", fitters::NumericalFailureMessage()));
     }
   }
-
-  if (is_bet) fit.consistency = BetConsistency(fit.result, observations);
   return fit;
 }
 
@@ -433,9 +431,8 @@ void Rank(IsothermFits* fits) {
         AddFlag(&fit.flags, "not ranked: AICc undefined (it needs n >= p + 2 points)");
         continue;
       }
-      const GoodnessOfFit goodness = GoodnessOfFitOf(fit);
-      if (!goodness.passed) {
-        AddFlag(&fit.flags, "not ranked: " + goodness.reason);
+      if (!fit.goodness.passed) {  // evaluated by FitOneModel
+        AddFlag(&fit.flags, "not ranked: " + fit.goodness.reason);
         continue;
       }
       candidates.push_back(static_cast<int>(f));

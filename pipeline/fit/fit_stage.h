@@ -199,6 +199,14 @@ struct Identifiability {
 Identifiability CheckIdentifiability(const fitters::FitResult& result,
                                      double max_relative_parameter_uncertainty);
 
+// The goodness-of-fit check of a fit (GoodnessOfFitOf, below).
+struct GoodnessOfFit {
+  bool passed = false;
+  std::string test;      // "chi-square" (absolute weights) or "runs test" (relative weights)
+  double p_value = 0.0;  // NaN when the test has no degrees of freedom (fails)
+  std::string reason;    // in plain words, empty when passed
+};
+
 // One model fitted to one group.
 struct ModelFit {
   std::string model_name;
@@ -221,7 +229,10 @@ struct ModelFit {
   fitters::ResampleResult bootstrap;
   fitters::ResampleResult monte_carlo;
   std::vector<ConsistencyCheck> consistency;  // BET: Rouquerol criteria
-  std::vector<std::string> flags;             // every guard rail tripped
+  // GoodnessOfFitOf(*this), evaluated once by the fit stage for every converged fit (the gate of
+  // the resampling and of the ranking read it); default (not passed) otherwise.
+  GoodnessOfFit goodness;
+  std::vector<std::string> flags;  // every guard rail tripped
   int rank = 0;        // 1 = best AICc in its group among identified fits (IsIdentified)
   ModelDesign design;  // decided before fitting; !supported: not evaluated
   // FitStageOptions::max_relative_parameter_uncertainty the fit was judged with.
@@ -250,12 +261,6 @@ bool IsIdentified(const ModelFit& fit);
 // engine's 5 % chi-square flag (fitters/fit_engine.cc) stays a caution on a usable fit.
 inline constexpr double kMinGoodnessOfFitPValue = 1e-3;
 
-struct GoodnessOfFit {
-  bool passed = false;
-  std::string test;      // "chi-square" (absolute weights) or "runs test" (relative weights)
-  double p_value = 0.0;  // NaN when the test has no degrees of freedom (fails)
-  std::string reason;    // in plain words, empty when passed
-};
 GoodnessOfFit GoodnessOfFitOf(const ModelFit& fit);
 
 // The fit may be used for results: identified from its data (IsIdentified) and consistent with
