@@ -5,8 +5,10 @@
 #include <fmt/format.h>
 #include <fmt/ranges.h>
 
+#include <Eigen/Cholesky>
 #include <Eigen/Core>
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <exception>
 #include <set>
@@ -131,15 +133,16 @@ std::vector<SpecimenFactor> FactorsOf(const FitGroup& group, const std::vector<i
   return factors;
 }
 
-// Welch-Satterthwaite (JCGM 100:2008, G.2b) over the independent variance (nu_ind) and the
-// specimen factors' contributions c_k (nu_k): u^4 / sum (c^4 / nu).
-double EffectiveDof(double independent_variance, double independent_dof,
+// Welch-Satterthwaite (JCGM 100:2008, G.2b) over the independent variance, of which
+// type_a_variance has nu_ind degrees of freedom and the rest infinitely many, and the specimen
+// factors' contributions c_k (nu_k): u^4 / sum (c^4 / nu).
+double EffectiveDof(double independent_variance, double type_a_variance, double independent_dof,
                     const std::vector<double>& contributions,
                     const std::vector<SpecimenSensitivity>& sensitivities) {
   double total = std::max(0.0, independent_variance);
   double denominator = 0.0;
   if (std::isfinite(independent_dof) && independent_dof > 0.0) {
-    denominator += independent_variance * independent_variance / independent_dof;
+    denominator += type_a_variance * type_a_variance / independent_dof;
   }
   for (std::size_t k = 0; k < contributions.size(); ++k) {
     const double c2 = contributions[k] * contributions[k];
@@ -149,6 +152,52 @@ double EffectiveDof(double independent_variance, double independent_dof,
   }
   if (!(denominator > 0.0) || !(total > 0.0)) return fitters::kInfinity;
   return total * total / denominator;
+}
+
+// The part of the parameter covariance that comes from the pooled Type A line of the points
+// (fit_stage.h, effective degrees of freedom): C_A = sum_i a_i A_i A_i', A_i = C_lin J_i w_i,
+// linearised at the solution with effective-variance weights. 0 x 0 when every a_i is 0 or the
+// linearisation is singular.
+Eigen::MatrixXd PooledScatterCovariance(const fitters::Model& model,
+                                        const std::vector<fitters::Observation>& observations,
+                                        const fitters::ModelContext& context,
+                                        const fitters::FitResult& result,
+                                        const std::vector<double>& pooled_variance) {
+  const std::size_t n = observations.size();
+  const Eigen::Index p = static_cast<Eigen::Index>(result.parameters.size());
+  bool any = false;
+  for (const double a : pooled_variance) any = any || a > 0.0;
+  if (!any || pooled_variance.size() != n || result.fitted_x0.size() != n) return {};
+  Eigen::MatrixXd jacobian(static_cast<Eigen::Index>(n), p);
+  Eigen::VectorXd weight(static_cast<Eigen::Index>(n));
+  std::vector<double> gradient(static_cast<std::size_t>(p));
+  for (std::size_t i = 0; i < n; ++i) {
+    const Eigen::Index ii = static_cast<Eigen::Index>(i);
+    std::array<double, fitters::kMaxInputs> x = observations[i].x;
+    x[0] = result.fitted_x0[i];
+    model.Gradient(result.parameters.data(), x.data(), context, gradient.data());
+    for (Eigen::Index j = 0; j < p; ++j) jacobian(ii, j) = gradient[static_cast<std::size_t>(j)];
+    double variance = observations[i].sigma_y * observations[i].sigma_y;
+    if (i < result.x0_is_fitted.size() && result.x0_is_fitted[i] != 0) {
+      const double slope = model.SlopeInX0(result.parameters.data(), x.data(), context);
+      variance += slope * slope * observations[i].sigma_x0 * observations[i].sigma_x0;
+    }
+    weight(ii) = 1.0 / variance;
+  }
+  const Eigen::MatrixXd information = jacobian.transpose() * weight.asDiagonal() * jacobian;
+  const Eigen::LDLT<Eigen::MatrixXd> ldlt(information);
+  if (ldlt.info() != Eigen::Success || !ldlt.isPositive()) return {};
+  // Rows of response: A' = W J C_lin (n x p).
+  const Eigen::MatrixXd response =
+      weight.asDiagonal() * ldlt.solve(jacobian.transpose()).transpose();
+  Eigen::MatrixXd pooled = Eigen::MatrixXd::Zero(p, p);
+  for (std::size_t i = 0; i < n; ++i) {
+    if (!(pooled_variance[i] > 0.0)) continue;
+    const Eigen::VectorXd a = response.row(static_cast<Eigen::Index>(i)).transpose();
+    pooled += pooled_variance[i] * a * a.transpose();
+  }
+  if (!pooled.allFinite()) return {};
+  return pooled;
 }
 
 // Sensitivity of the parameters to each specimen factor, by refits of the data with the factor
@@ -305,6 +354,16 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     for (const SpecimenFactor& factor : factors) {
       fit.independent_dof = std::min(fit.independent_dof, factor.independent_degrees_of_freedom);
     }
+    // Only the pooled Type A part of the independent covariance has those degrees of freedom.
+    if (std::isfinite(fit.independent_dof) && fit.result.summary.covariance_available &&
+        group.pooled_scatter_variance.size() == group.observations.size()) {
+      std::vector<double> pooled;
+      for (const int i : fit.used_observations) {
+        pooled.push_back(group.pooled_scatter_variance[static_cast<std::size_t>(i)]);
+      }
+      fit.covariance_pooled_scatter =
+          PooledScatterCovariance(model, observations, context, fit.result, pooled);
+    }
   }
   if (!factors.empty() && fit.result.summary.covariance_available &&
       !ApplySpecimenTerm(model, observations, context, fit_options, factors, &fit)) {
@@ -376,6 +435,19 @@ ModelFit FitOneModel(const fitters::Model& model, const FitGroup& group, int gro
     }
   }
   return fit;
+}
+
+// FitGroup::pooled_scatter_variance from the points behind the group's observations.
+void SetPooledScatterVariance(const reduce::ReducedIsotherms& reduced, FitGroup* group) {
+  group->pooled_scatter_variance.assign(group->observations.size(), 0.0);
+  for (std::size_t i = 0; i < group->observations.size() && i < group->point_indices.size(); ++i) {
+    const int index = group->point_indices[i];
+    if (index < 0) continue;
+    const reduce::IsothermPoint& point = reduced.points[static_cast<std::size_t>(index)];
+    if (point.specimen_term < 0) continue;  // sigma_y is then the whole u (grouping.cc)
+    group->pooled_scatter_variance[i] =
+        point.u_pooled_scatter_kg_per_kg * point.u_pooled_scatter_kg_per_kg;
+  }
 }
 
 // Why no fit of group g is ranked: "title: reason" for each model fitted to the group, from its
@@ -599,6 +671,12 @@ DerivedUncertainty PropagateToDerived(const ModelFit& fit, const std::vector<dou
   const bool split =
       fit.covariance_independent.rows() == p && fit.covariance_independent.cols() == p;
   const double independent = split ? g.dot(fit.covariance_independent * g) : g.dot(total * g);
+  // The Type A part of the independent variance (fit_stage.h); all of it where not formed.
+  const bool pooled_formed = split && fit.covariance_pooled_scatter.rows() == p &&
+                             fit.covariance_pooled_scatter.cols() == p;
+  const double type_a = pooled_formed ? std::clamp(g.dot(fit.covariance_pooled_scatter * g), 0.0,
+                                                   std::max(0.0, independent))
+                                      : independent;
   std::vector<double> contributions;
   if (split) {
     for (const SpecimenSensitivity& s : fit.specimen_sensitivities) {
@@ -607,7 +685,7 @@ DerivedUncertainty PropagateToDerived(const ModelFit& fit, const std::vector<dou
     }
   }
   out.effective_dof =
-      EffectiveDof(independent, fit.independent_dof, contributions,
+      EffectiveDof(independent, type_a, fit.independent_dof, contributions,
                    split ? fit.specimen_sensitivities : std::vector<SpecimenSensitivity>{});
   out.coverage_factor = reduce::CoverageFactor(out.effective_dof, nominal_k);
   return out;
@@ -645,6 +723,7 @@ IsothermFits FitIsotherms(const reduce::ReducedIsotherms& reduced, const FitStag
     throw ComputationError(
         "no isotherm could be fitted: no adsorption or desorption point with finite values");
   }
+  for (FitGroup& group : fits.groups) SetPooledScatterVariance(reduced, &group);
 
   for (std::size_t g = 0; g < fits.groups.size(); ++g) {
     for (const fitters::Model* model : models) {

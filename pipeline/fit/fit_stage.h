@@ -112,14 +112,30 @@ int ThreadsToUse(int requested);
 //    Carlo X_m interval covered 85 % and the curve at 50 % RH 79 % with three specimens that
 //    differ by 3 %; with the t draw 94 % and 93.5 % (tests/coverage/resampled_coverage_test.cc);
 //  - effective degrees of freedom (JCGM 100:2008, G.4, Eq. G.2b) per parameter and for any
-//    derived quantity with gradient g: u^2 = g' C_ind g + sum_k (g's_k u_k)^2,
-//    nu_eff = u^4 / (sum_k (g's_k u_k)^4 / nu_k + (g' C_ind g)^2 / nu_ind), nu_ind under
-//    absolute weights the smallest nu_e of the factors' data sets whose independent lines are
-//    the pooled Type A estimate (infinite where the evaluated parts, Type B, are the weights),
-//    and n - p under relative weights; the expanded uncertainty
-//    uses k = reduce::CoverageFactor(nu_eff, coverage factor) and the Student-t interval at
-//    confidence_level t(nu_eff). With S = 3 specimens and the specimen term dominant, nu_eff ~ 2
-//    and k ~ 4.5: honest for a mean over three specimens.
+//    derived quantity with gradient g: u^2 = g' C_ind g + sum_k (g's_k u_k)^2. Each input
+//    enters Welch-Satterthwaite with its own degrees of freedom (G.4.1: the sum runs over the
+//    components, each with the nu of its own evaluation), so C_ind is split by where its
+//    variance comes from. Linearised at the solution (effective-variance weights
+//    w_i = 1 / (sigma_y,i^2 + (df/dx_i sigma_x,i)^2), J_i = df/dp at the fitted x_i,
+//    C_lin = (J' W J)^-1), the parameters respond to y_i as A_i = C_lin J_i w_i, and
+//      C_A = sum_i a_i A_i A_i'   (a_i: FitGroup::pooled_scatter_variance)
+//    is the part of C_ind that comes from the pooled Type A line of the points (one estimate
+//    phi shared by every point, so one component with nu_ind); the rest, g' C_ind g - g' C_A g
+//    (the RH of salt tables and sensors through errors in variables, the evaluated independent
+//    parts and the systematic lines), is Type B with infinite nu. Then
+//      nu_eff = u^4 / (sum_k (g's_k u_k)^4 / nu_k + (g' C_A g)^2 / nu_ind),
+//    nu_ind the smallest nu_e of the factors' data sets whose independent lines are the pooled
+//    Type A estimate (phi > 1 in reduce.h). Counting all of C_ind with nu_e overstates the
+//    weight of that estimate: on generated desiccator jobs (3 specimens, factor sd 3 %, 6-8
+//    salts, 200 replicates) GAB C and K got k = 2.00-2.28 (2.28 for nu_e = 10) although most
+//    of their variance is Type B; with the split k = 2.00-2.10, and their covariance
+//    intervals cover 93-93.5 % with u / RMS(error) 0.97-0.98. Under relative weights all of
+//    C_ind is scaled by the residual variance and has n - p degrees of freedom. The expanded
+//    uncertainty uses k = reduce::CoverageFactor(nu_eff, coverage factor) and the Student-t
+//    interval at confidence_level t(nu_eff). With S = 3 specimens and the specimen term
+//    dominant (X_m, the curve), nu_eff ~ 2 and k ~ 4.5: honest for a mean over three specimens
+//    (the mean factor over its estimated sd is t with nu_d degrees of freedom); a shape
+//    parameter the common factor does not move (GAB C, K) keeps k ~ 2.
 // One such factor of a fit group.
 struct SpecimenFactor {
   std::string dataset_id;
@@ -142,6 +158,10 @@ struct FitGroup {
   std::vector<fitters::Observation> observations;  // what was fitted (x[0] = rh_fraction)
   std::vector<int> point_indices;                  // into ReducedIsotherms::points (-1: retention)
   std::vector<SpecimenFactor> specimen_factors;    // empty: no specimen term
+  // Per observation: the variance of the pooled Type A line within sigma_y^2
+  // (reduce::IsothermPoint::u_pooled_scatter_kg_per_kg squared; 0 for retention points and where
+  // there is none). Its degrees of freedom are the factors' independent_degrees_of_freedom.
+  std::vector<double> pooled_scatter_variance;
 };
 
 // Sensitivity of a fit's parameters to one specimen factor (see SpecimenFactor).
@@ -220,6 +240,11 @@ struct ModelFit {
   // The specimen term (see SpecimenFactor): result.covariance includes it; the covariance from
   // the independent parts alone, its degrees of freedom and the sensitivities.
   Eigen::MatrixXd covariance_independent;
+  // The part of covariance_independent that comes from the pooled Type A line of the points
+  // (FitGroup::pooled_scatter_variance), the only part with independent_dof degrees of freedom
+  // under absolute weights (see SpecimenFactor, effective degrees of freedom); 0 x 0 when not
+  // formed (relative weights: all of covariance_independent has independent_dof = n - p).
+  Eigen::MatrixXd covariance_pooled_scatter;
   double independent_dof = fitters::kInfinity;
   std::vector<SpecimenSensitivity> specimen_sensitivities;
   // Indices into groups[group_index].observations of the points this model was fitted to

@@ -192,6 +192,7 @@ struct CombinedUncertainty {
   double u = 0.0;
   double effective_dof = kInfinity;
   std::vector<BudgetLine> budget;
+  double u_pooled_scatter = 0.0;  // contribution of the pooled step-to-step line (0: none)
 };
 // Budget line names of the two-way decomposition (reduce.h).
 constexpr const char* kSpecimenLine = "specimen-to-specimen (common to every step, Type A)";
@@ -252,7 +253,11 @@ CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& me
       same->contribution = same->standard_uncertainty;
     }
   }
-  return {RootSumSquare(lines), EffectiveDegreesOfFreedom(lines), lines};
+  double u_pooled_scatter = 0.0;
+  for (const BudgetLine& line : lines) {
+    if (line.quantity == kIndependentLine) u_pooled_scatter = line.contribution;
+  }
+  return {RootSumSquare(lines), EffectiveDegreesOfFreedom(lines), lines, u_pooled_scatter};
 }
 
 // Mean over a step's specimens of their evaluated independent variances, u_c^2 - u_sys^2.
@@ -525,6 +530,7 @@ ReducedIsotherms Reduce(const ingest::IngestResult& ingested,
     iso.u_independent_kg_per_kg =
         std::sqrt(std::max(0.0, combined.u * combined.u - iso.u_specimen_common_kg_per_kg *
                                                               iso.u_specimen_common_kg_per_kg));
+    iso.u_pooled_scatter_kg_per_kg = combined.u_pooled_scatter;
     iso.moisture_budget = combined.budget;
     iso.effective_dof = combined.effective_dof;
     iso.coverage_factor = CoverageFactor(iso.effective_dof, options.coverage_factor);

@@ -211,6 +211,12 @@ struct IsothermPoint {
   int specimen_term = -1;
   double u_specimen_common_kg_per_kg = 0.0;
   double u_independent_kg_per_kg = 0.0;
+  // The part of u_independent_kg_per_kg that is the pooled Type A estimate of the specimen term
+  // (the independent line sqrt(phi) u_ind,i / sqrt(n_i) where phi > 1, with nu_e degrees of
+  // freedom; 0 where the evaluated parts are the floor or there is no specimen term). The rest
+  // of u_independent is Type B (infinite nu). The fit stage gives each part its own degrees of
+  // freedom in Welch-Satterthwaite (pipeline/fit/fit_stage.h).
+  double u_pooled_scatter_kg_per_kg = 0.0;
   // The budget of u_moisture_kg_per_kg (root sum of squares of the contributions is u).
   std::vector<BudgetLine> moisture_budget;
   int num_specimens = 0;

@@ -20,6 +20,8 @@ constexpr double kBalanceStep_g = 0.1e-3;    // display resolution
 constexpr double kConstantMassLimit = 1e-3;  // ISO 12571: 0.1 % (from memory)
 constexpr int kMaxDaysPerStep = 80;
 const char* const kSalts[] = {"LiCl", "MgCl2", "Mg(NO3)2", "NaCl", "KCl", "K2SO4"};
+// Two more saturated salts between them (Greenspan 1977), for designs with 7 or 8 steps.
+const char* const kMoreSalts[] = {"K2CO3", "NaBr"};
 
 double Weigh(double true_mass_g, Random& random) {
   const double reading = true_mass_g + kBalanceSd_g * random.Normal();
@@ -110,6 +112,19 @@ double Random::Normal() {
 }
 
 GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd) {
+  return MakeDesiccatorJob(seed, specimen_factor_sd, 3, 6);
+}
+
+GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd, int num_specimens,
+                               int num_salts) {
+  std::vector<const char*> salts(std::begin(kSalts), std::end(kSalts));
+  for (int extra = 0; extra < num_salts - 6 && extra < 2; ++extra) {
+    salts.push_back(kMoreSalts[extra]);
+  }
+  std::sort(salts.begin(), salts.end(), [](const char* a, const char* b) {
+    return physics::SaltSolutionHumidity(a, kTestTemperature_K).rh_fraction <
+           physics::SaltSolutionHumidity(b, kTestTemperature_K).rh_fraction;
+  });
   Random random(seed);
   GeneratedJob job;
   job.truth = Gab{0.045, 9.0, 0.75};  // a wood-like material (invented)
@@ -124,7 +139,7 @@ GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd) {
   dataset.temperature_K = kTestTemperature_K;
   spec.datasets.push_back(dataset);
   // True RH of each desiccator: table value + its standard uncertainty x normal deviate.
-  for (const char* salt : kSalts) {
+  for (const char* salt : salts) {
     const physics::SaltHumidity table = physics::SaltSolutionHumidity(salt, kTestTemperature_K);
     const double rh = table.rh_fraction + table.standard_uncertainty_fraction * random.Normal();
     job.true_rh_fraction.push_back(rh);
@@ -134,7 +149,7 @@ GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd) {
   series.dataset_id = dataset.id;
   series.file = "generated-weighings.csv";
   int line = 2;
-  for (int s = 0; s < 3; ++s) {
+  for (int s = 0; s < num_specimens; ++s) {
     const std::string id = "S" + std::to_string(s + 1);
     spec.specimens.push_back(ingest::SpecimenSpec{id, std::nullopt, std::nullopt, {}});
     const double dry_mass_g = random.Uniform(18.0, 22.0);
@@ -156,11 +171,11 @@ GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd) {
     x = RunDesiccatorStep(dry_mass_g, x, 0.0, random.Uniform(0.3, 0.6) * kDay_s, time_s, line, oven,
                           random);
     series.steps.push_back(oven);
-    for (std::size_t k = 0; k < std::size(kSalts); ++k) {
+    for (std::size_t k = 0; k < salts.size(); ++k) {
       time_s += 3600.0;  // transfer to the next desiccator
       ingest::DesiccatorStep step =
-          new_step(static_cast<int>(k) + 1, kSalts[k], ingest::Branch::kAdsorption);
-      step.salt = kSalts[k];
+          new_step(static_cast<int>(k) + 1, salts[k], ingest::Branch::kAdsorption);
+      step.salt = salts[k];
       const double x_eq = factor * job.truth(job.true_rh_fraction[k]);
       x = RunDesiccatorStep(dry_mass_g, x, x_eq, random.Uniform(1.0, 4.0) * kDay_s, time_s, line,
                             step, random);

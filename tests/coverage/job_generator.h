@@ -67,6 +67,11 @@ struct GeneratedJob {
 // specimen_factor_sd: relative specimen-to-specimen variability of the moisture content (one
 // factor per specimen for all steps; 0 = identical specimens).
 GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd);
+// The same with num_specimens specimens (>= 1) over the first num_salts (6..8) of LiCl, MgCl2,
+// Mg(NO3)2, NaCl, KCl, K2SO4, K2CO3, NaBr, taken in order of their humidity; (3, 6) draws as
+// MakeDesiccatorJob(seed, specimen_factor_sd).
+GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd, int num_specimens,
+                               int num_salts);
 GeneratedJob MakeVaporLogJob(std::uint64_t seed);
 
 // Desiccator jobs of a weakly sorbing material (a mineral plaster, invented: GAB X_m 0.5 %,

@@ -444,6 +444,52 @@ TEST(FitStageTest, SpecimenTermScalesTheMonolayerOnly) {
             GabMoisture(GabTruth{}, 0.5) * 0.03 / std::sqrt(3.0) * (1.0 - 1e-3));
 }
 
+// The independent covariance is split by the degrees of freedom of its inputs (fit_stage.h,
+// effective degrees of freedom). With the RH exact (no errors in variables) and every point's
+// sigma_y the pooled Type A line (nu_e = 14), the linearised response C_A = sum_i a_i A_i A_i'
+// is the weighted least-squares covariance (J'WJ)^-1 itself (a_i = sigma_y,i^2, A_i =
+// C J_i / sigma_y,i^2: sum_i A_i A_i' sigma_i^2 = C J'WJ C = C), and C, which the specimen
+// factor does not move, gets nu_eff = nu_e by G.2b. With a quarter of each sigma_y^2 pooled,
+// C_A = C / 4 and nu_eff = nu_e / (1/4)^2 = 16 nu_e (JCGM 100:2008, G.4.1, Eq. G.2b; the rest
+// Type B, infinite nu).
+TEST(FitStageTest, OnlyThePooledTypeAPartOfTheIndependentCovarianceHasItsDegreesOfFreedom) {
+  for (const double pooled_share : {1.0, 0.25}) {
+    SCOPED_TRACE(pooled_share);
+    reduce::ReducedIsotherms reduced;
+    BranchSpec spec;
+    spec.num_points = 8;
+    spec.noisy = false;
+    spec.u_rh_fraction = 0.0;
+    NormalStream noise(1);
+    AppendBranch(spec, &noise, &reduced);
+    reduce::SpecimenTerm& term = AddSpecimenTermToEveryPoint({"A", "B", "C"}, 0.03, 2.0, &reduced);
+    term.independent_variance_ratio = 2.0;  // phi > 1: the pooled Type A estimate
+    term.residual_degrees_of_freedom = 14.0;
+    for (reduce::IsothermPoint& point : reduced.points) {
+      point.u_pooled_scatter_kg_per_kg = std::sqrt(pooled_share) * point.u_independent_kg_per_kg;
+    }
+    const IsothermFits fits = FitIsotherms(reduced, QuickOptions({"gab"}));
+    const ModelFit& gab = FindFit(fits, 0, "gab");
+    ASSERT_TRUE(gab.result.ok());
+    EXPECT_DOUBLE_EQ(gab.independent_dof, 14.0);
+    ASSERT_EQ(gab.covariance_pooled_scatter.rows(), 3);
+    for (int a = 0; a < 3; ++a) {
+      for (int b = 0; b < 3; ++b) {
+        const double expected = pooled_share * gab.covariance_independent(a, b);
+        EXPECT_NEAR(
+            gab.covariance_pooled_scatter(a, b), expected,
+            1e-6 * std::sqrt(gab.covariance_independent(a, a) * gab.covariance_independent(b, b)))
+            << a << "," << b;
+      }
+    }
+    const double expected_nu = 14.0 / (pooled_share * pooled_share);
+    EXPECT_NEAR(gab.effective_dof[1], expected_nu, 1e-3 * expected_nu);
+    EXPECT_DOUBLE_EQ(
+        gab.expanded_uncertainty[1],
+        reduce::CoverageFactor(gab.effective_dof[1], 2.0) * gab.result.estimates[1].standard_error);
+  }
+}
+
 // A specimen missing at a step: its factor acts on fewer points, so it is a factor of its own
 // (weights 1 / n_i over the points it is one of the n_i specimens of).
 TEST(FitStageTest, SpecimenMissingAtAStepGetsItsOwnFactor) {
