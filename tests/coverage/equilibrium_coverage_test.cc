@@ -135,9 +135,11 @@ TEST(EquilibriumCoverageTest, VapourLogJobsRateRuleMilligramSpecimen) {
 // The balance's stated standard uncertainty (1 ug) is the repeatability of one reading (one per
 // minute, no offset between steps): each mass is a tail fit or window mean over many readings
 // whose Type A already holds that scatter, so one reading's u on the wet and the dry mass on top
-// would double-count it (JCGM 100:2008, 4.3.10). Measured (200 replicates) with it counted:
-// points over-cover (pooled 99.8 %, u / sd 1.5-1.9 at 10-70 % RH); with the balance part taken
-// from the readings (equilibrate.h, EquilibriumPoint::u_mass_balance_g): see the commit log.
+// would double-count it (JCGM 100:2008, 4.3.10). Measured (200 replicates, seeds from 11000)
+// with one reading's u counted on both masses: all points 99.7 %, points u / sd 1.67-2.23 at
+// 10-70 % RH (1.32 at the cut 80 and 90 % steps); with the balance part taken from the readings
+// (equilibrate.h, EquilibriumPoint::u_mass_balance_g): all points 96.9 %, points 94-98 % with
+// u / sd 0.93-1.19.
 TEST(EquilibriumCoverageTest, VapourLogJobsBalanceRepeatabilityOnly) {
   Tallies tallies;
   VaporLogOptions options;
