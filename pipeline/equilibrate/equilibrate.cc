@@ -262,12 +262,22 @@ double ProjectedEquilibriumTime(const internal::TailFit& fit, double from_s, dou
   return hi;
 }
 
-// Standard deviation of one block mean from the third differences of consecutive block means
-// (EquilibriumPoint::u_mass_balance_g); none with fewer than 4 means.
-std::optional<double> BlockScatter_g(std::span<const double> mass_g) {
+// Variance of one block mean from the third differences of consecutive block means, and the
+// standard uncertainty of that estimate (EquilibriumPoint::u_mass_balance_g); none with fewer
+// than 4 means.
+struct BlockScatter {
+  double variance_g2 = 0.0;
+  double u_variance_g2 = 0.0;
+};
+std::optional<BlockScatter> BlockScatter_g(std::span<const double> mass_g) {
   constexpr std::size_t kThirdDifference = 3;
   // Sum of the squared coefficients of m_{i+3} - 3 m_{i+2} + 3 m_{i+1} - m_i.
   constexpr double kCoefficientSquares = 20.0;
+  // Consecutive differences overlap: their autocovariances (in units of the reading variance)
+  // are 20, -15, 6, -1 at lags 0-3, so for white noise Var(s^2) / sigma^4 = (2 / m)
+  // (1 + 2 (15^2 + 6^2 + 1^2) / 20^2) = 4.62 / m over m differences (Var of a mean of squares of
+  // correlated normal deviates, 2 sum_lags rho^2 / m; derived).
+  constexpr double kRelativeVarianceTimesCount = 2.0 * (1.0 + 2.0 * (225.0 + 36.0 + 1.0) / 400.0);
   if (mass_g.size() <= kThirdDifference) return std::nullopt;
   double sum = 0.0;
   for (std::size_t i = 0; i + kThirdDifference < mass_g.size(); ++i) {
@@ -275,7 +285,10 @@ std::optional<double> BlockScatter_g(std::span<const double> mass_g) {
     sum += d * d;
   }
   const double count = static_cast<double>(mass_g.size() - kThirdDifference);
-  return std::sqrt(sum / (kCoefficientSquares * count));
+  BlockScatter scatter;
+  scatter.variance_g2 = sum / (kCoefficientSquares * count);
+  scatter.u_variance_g2 = scatter.variance_g2 * std::sqrt(kRelativeVarianceTimesCount / count);
+  return scatter;
 }
 
 // The balance part of a log step's mass (EquilibriumPoint::u_mass_balance_g). from_fit: mass_g
@@ -283,12 +296,18 @@ std::optional<double> BlockScatter_g(std::span<const double> mass_g) {
 // window_count block means.
 std::optional<double> LogBalanceUncertainty_g(std::span<const double> tail_mass_g, bool from_fit,
                                               double window_count, const ingest::JobSpec& job) {
-  const std::optional<double> scatter = BlockScatter_g(tail_mass_g);
+  const std::optional<BlockScatter> scatter = BlockScatter_g(tail_mass_g);
   if (!scatter) return std::nullopt;
   const double u_balance = BalanceStandardUncertainty_g(job);
-  const double persistent2 = std::max(0.0, u_balance * u_balance - *scatter * *scatter);
+  double persistent2 = u_balance * u_balance - scatter->variance_g2;
+  // Counted only where the readings show it: u_bal^2 above s^2 by more than twice the standard
+  // uncertainty of s^2 (about 98 % one-sided; project choice). Within it the stated u_bal is the
+  // readings' own repeatability, and max(0, u_bal^2 - s^2) of a noisy s^2 would add up to half
+  // of u_bal at random (measured on generated logs: tests/coverage/equilibrium_coverage_test.cc).
+  constexpr double kResolved = 2.0;
+  if (!(persistent2 > kResolved * scatter->u_variance_g2)) persistent2 = 0.0;
   if (from_fit) return std::sqrt(persistent2);
-  return std::sqrt(persistent2 + *scatter * *scatter / window_count);
+  return std::sqrt(persistent2 + scatter->variance_g2 / window_count);
 }
 
 void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,

@@ -113,10 +113,13 @@ struct EquilibriumPoint {
   // G. Tintner, The Variate Difference Method, 1940, from memory: differencing removes a smooth
   // trend, the coefficients' squares sum to 20), and the Type A lines of mass_g already hold it
   // (the tail fit's covariance; for a window mean, s / sqrt(n_window)). The rest of u_bal,
-  // u_persist = sqrt(max(0, u_bal^2 - s^2)), acts on every reading of the step alike and is
+  // u_persist = sqrt(u_bal^2 - s^2), acts on every reading of the step alike and is
   // counted once (JCGM 100:2008, 4.3.10: a component evaluated from the data is not counted again
-  // as Type B). When a tail fit gave mass_g: u_persist; window mean (no time constant resolved):
-  // sqrt(u_persist^2 + s^2 / n_window). Unset (desiccator, stated masses): one weighing's u_bal.
+  // as Type B); it is taken as 0 unless u_bal^2 - s^2 exceeds twice the standard uncertainty of s^2
+  // (sqrt(4.62 / m) s^2 over m third differences of white noise; project choice: within it the
+  // stated u_bal is the readings' own repeatability). When a tail fit gave mass_g: u_persist;
+  // window mean (no time constant resolved): sqrt(u_persist^2 + s^2 / n_window). Unset (desiccator,
+  // stated masses): one weighing's u_bal.
   std::optional<double> u_mass_balance_g;
   // When no time constant is resolved (and for steps that did not meet their criterion): the
   // mass change over the last criterion interval (desiccator: last two chain weighings; log:
