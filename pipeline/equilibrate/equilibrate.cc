@@ -8,6 +8,8 @@
 #include <cmath>
 #include <limits>
 #include <map>
+#include <optional>
+#include <span>
 #include <stdexcept>
 
 #include "pipeline/equilibrate/approach.h"
@@ -260,6 +262,54 @@ double ProjectedEquilibriumTime(const internal::TailFit& fit, double from_s, dou
   return hi;
 }
 
+// Variance of one block mean from the third differences of consecutive block means, and the
+// standard uncertainty of that estimate (EquilibriumPoint::u_mass_balance_g); none with fewer
+// than 4 means.
+struct BlockScatter {
+  double variance_g2 = 0.0;
+  double u_variance_g2 = 0.0;
+};
+std::optional<BlockScatter> BlockScatter_g(std::span<const double> mass_g) {
+  constexpr std::size_t kThirdDifference = 3;
+  // Sum of the squared coefficients of m_{i+3} - 3 m_{i+2} + 3 m_{i+1} - m_i.
+  constexpr double kCoefficientSquares = 20.0;
+  // Consecutive differences overlap: their autocovariances (in units of the reading variance)
+  // are 20, -15, 6, -1 at lags 0-3, so for white noise Var(s^2) / sigma^4 = (2 / m)
+  // (1 + 2 (15^2 + 6^2 + 1^2) / 20^2) = 4.62 / m over m differences (Var of a mean of squares of
+  // correlated normal deviates, 2 sum_lags rho^2 / m; derived).
+  constexpr double kRelativeVarianceTimesCount = 2.0 * (1.0 + 2.0 * (225.0 + 36.0 + 1.0) / 400.0);
+  if (mass_g.size() <= kThirdDifference) return std::nullopt;
+  double sum = 0.0;
+  for (std::size_t i = 0; i + kThirdDifference < mass_g.size(); ++i) {
+    const double d = mass_g[i + 3] - 3.0 * mass_g[i + 2] + 3.0 * mass_g[i + 1] - mass_g[i];
+    sum += d * d;
+  }
+  const double count = static_cast<double>(mass_g.size() - kThirdDifference);
+  BlockScatter scatter;
+  scatter.variance_g2 = sum / (kCoefficientSquares * count);
+  scatter.u_variance_g2 = scatter.variance_g2 * std::sqrt(kRelativeVarianceTimesCount / count);
+  return scatter;
+}
+
+// The balance part of a log step's mass (EquilibriumPoint::u_mass_balance_g). from_fit: mass_g
+// is a tail fit's asymptote (its covariance holds the scatter); else the mean of
+// window_count block means.
+std::optional<double> LogBalanceUncertainty_g(std::span<const double> tail_mass_g, bool from_fit,
+                                              double window_count, const ingest::JobSpec& job) {
+  const std::optional<BlockScatter> scatter = BlockScatter_g(tail_mass_g);
+  if (!scatter) return std::nullopt;
+  const double u_balance = BalanceStandardUncertainty_g(job);
+  double persistent2 = u_balance * u_balance - scatter->variance_g2;
+  // Counted only where the readings show it: u_bal^2 above s^2 by more than twice the standard
+  // uncertainty of s^2 (about 98 % one-sided; project choice). Within it the stated u_bal is the
+  // readings' own repeatability, and max(0, u_bal^2 - s^2) of a noisy s^2 would add up to half
+  // of u_bal at random (measured on generated logs: tests/coverage/equilibrium_coverage_test.cc).
+  constexpr double kResolved = 2.0;
+  if (!(persistent2 > kResolved * scatter->u_variance_g2)) persistent2 = 0.0;
+  if (from_fit) return std::sqrt(persistent2);
+  return std::sqrt(persistent2 + scatter->variance_g2 / window_count);
+}
+
 void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
                     const ingest::DataSetSpec* dataset, const EquilibrateOptions& options,
                     EquilibriumSet& set) {
@@ -348,7 +398,10 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
       point.mass_g = mass;
       point.time_to_equilibrium_s = rate.first_met_time_s - step.start_time_s;
       point.u_mass_drift_g = std::abs(rate.final_slope_g_per_s) * options.rate_window_s / kSqrt3;
-      ApplyApproach(internal::EstimateLogApproach(t, m, step.start_time_s, mass, options), point);
+      const internal::ApproachEstimate approach =
+          internal::EstimateLogApproach(t, m, step.start_time_s, mass, options);
+      ApplyApproach(approach, point);
+      point.u_mass_balance_g = LogBalanceUncertainty_g(m, approach.estimated, count, job);
       trace.equilibrium_times_s.push_back(rate.first_met_time_s);
     } else {
       point.mass_g = mass;
@@ -396,6 +449,7 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
       } else {
         rejected = "extrapolation disabled";
       }
+      point.u_mass_balance_g = LogBalanceUncertainty_g(m, point.extrapolated, count, job);
       if (!point.extrapolated) {
         point.flags.push_back(
             fmt::format("not equilibrated: {}; not extrapolated: {}", reason, rejected));
@@ -468,6 +522,7 @@ void FindDryMasses(const ingest::IngestResult& ingested, EquilibriumSet& set) {
           reference->u_mass_approach_model_g * reference->u_mass_approach_model_g +
           reference->u_mass_drift_g * reference->u_mass_drift_g);
       dry.includes_weighing_scatter = reference->mass_includes_weighing_scatter;
+      dry.u_mass_balance_g = reference->u_mass_balance_g;
       dry.degrees_of_freedom = reference->extrapolated ? reference->extrapolation_degrees_of_freedom
                                                        : reference->approach_degrees_of_freedom;
       dry.method += fmt::format(" ({} step {})", reference->dataset_id, reference->step_index + 1);

@@ -104,6 +104,23 @@ struct EquilibriumPoint {
   // (desiccator): its Type A uncertainty (u_mass_approach_g) holds the balance scatter, so the
   // reduce stage does not count the balance standard uncertainty of that mass again.
   bool mass_includes_weighing_scatter = false;
+  // Vapour-log steps (mass_g from the step's own readings): the balance's standard uncertainty of
+  // mass_g, in place of one weighing's BalanceStandardUncertainty_g (reduce.h). The stated u_bal of
+  // one reading covers its repeatability and whatever does not average out over a step (drift,
+  // buoyancy, an offset between steps). The repeatability is seen in the readings: s, the standard
+  // deviation of one block mean from the third differences of the tail's block means,
+  // s^2 = sum (m_{i+3} - 3 m_{i+2} + 3 m_{i+1} - m_i)^2 / (20 (n - 3)) (variate-difference method,
+  // G. Tintner, The Variate Difference Method, 1940, from memory: differencing removes a smooth
+  // trend, the coefficients' squares sum to 20), and the Type A lines of mass_g already hold it
+  // (the tail fit's covariance; for a window mean, s / sqrt(n_window)). The rest of u_bal,
+  // u_persist = sqrt(u_bal^2 - s^2), acts on every reading of the step alike and is
+  // counted once (JCGM 100:2008, 4.3.10: a component evaluated from the data is not counted again
+  // as Type B); it is taken as 0 unless u_bal^2 - s^2 exceeds twice the standard uncertainty of s^2
+  // (sqrt(4.62 / m) s^2 over m third differences of white noise; project choice: within it the
+  // stated u_bal is the readings' own repeatability). When a tail fit gave mass_g: u_persist;
+  // window mean (no time constant resolved): sqrt(u_persist^2 + s^2 / n_window). Unset (desiccator,
+  // stated masses): one weighing's u_bal.
+  std::optional<double> u_mass_balance_g;
   // When no time constant is resolved (and for steps that did not meet their criterion): the
   // mass change over the last criterion interval (desiccator: last two chain weighings; log:
   // slope x rate window) taken as the half-width of a rectangular distribution,
@@ -131,6 +148,8 @@ struct DryMass {
   int degrees_of_freedom = 0;
   // The drying step's mass_includes_weighing_scatter (see EquilibriumPoint).
   bool includes_weighing_scatter = false;
+  // The drying step's u_mass_balance_g (see EquilibriumPoint; unset: one weighing's u_bal).
+  std::optional<double> u_mass_balance_g;
   std::string method;  // e.g. "oven drying at 105 degC (ISO 12570)"
   bool equilibrated = true;
   bool stated = false;     // given in the job file (no weighing in the data files)

@@ -96,11 +96,15 @@ SpecimenPoint ReducePoint(const equilibrate::EquilibriumPoint& eq, const equilib
   auto& budget = point.moisture_budget;
   // A mass fitted through independent weighings carries the balance scatter in its Type A
   // uncertainty (approach line / dry-mass method): not counted twice (JCGM 100:2008, 4.3.10).
-  if (!eq.mass_includes_weighing_scatter) {
-    budget.push_back(Line("balance (wet mass)", u_balance, "g", c_wet));
+  // A log step's mass carries the balance part its readings do not show (u_mass_balance_g,
+  // equilibrate.h), not one reading's u_bal on top of the Type A of its fit or window mean.
+  const double u_balance_wet = eq.u_mass_balance_g.value_or(u_balance);
+  const double u_balance_dry = dry.u_mass_balance_g.value_or(u_balance);
+  if (!eq.mass_includes_weighing_scatter && u_balance_wet > 0.0) {
+    budget.push_back(Line("balance (wet mass)", u_balance_wet, "g", c_wet));
   }
-  if (!dry.includes_weighing_scatter) {
-    budget.push_back(Line("balance (dry mass)", u_balance, "g", c_dry));
+  if (!dry.includes_weighing_scatter && u_balance_dry > 0.0) {
+    budget.push_back(Line("balance (dry mass)", u_balance_dry, "g", c_dry));
   }
   if (dry.u_mass_g > 0.0) {
     budget.push_back(

@@ -14,7 +14,12 @@
 //   lines: balance (wet mass) u_bal, c_m;  balance (dry mass) u_bal, c_md (each left out when
 //          that mass is the asymptote of a fit through the step's independent weighings,
 //          EquilibriumPoint::mass_includes_weighing_scatter: the fit's Type A uncertainty holds
-//          the balance scatter already);
+//          the balance scatter already). A vapour-log mass is the asymptote of a tail fit or the
+//          mean of the final window, both from many readings: its line carries
+//          EquilibriumPoint::u_mass_balance_g (DryMass::u_mass_balance_g for the dry mass), the
+//          part of u_bal its readings do not show, sqrt(u_bal^2 - s^2) with s the scatter
+//          of one block mean (plus s^2 / n_window for a window mean), not one reading's u_bal
+//          on top of the fit's Type A (JCGM 100:2008, 4.3.10; equilibrate.h); left out when 0;
 //          dry-mass method  DryMass::u_mass_g, c_md (when > 0; nu = DryMass::degrees_of_freedom);
 //          residual drift   EquilibriumPoint::u_mass_drift_g, c_m (when > 0; no time constant
 //                           resolved: rectangular, no correction);

@@ -64,11 +64,15 @@ double RunDesiccatorStep(double dry_mass_g, double x_start, double x_eq, double 
 }
 
 // ---- Vapour log ------------------------------------------------------------------------
+// BalanceErrors::kReadingNoiseAndStepOffset
 constexpr double kBlock_s = 10.0;
 constexpr int kRowsPerBlock = 10;
 constexpr double kReadingSd_g = 0.3e-6;        // balance, one reading
 constexpr double kBalanceOffsetSd_g = 0.2e-6;  // per step, = stated balance uncertainty
-constexpr double kRateLimitPerMin = 2e-5;      // 0.002 %/min of the dry mass
+// BalanceErrors::kReadingNoiseOnly: one reading per minute, its sd = stated balance uncertainty.
+constexpr double kSlowBlock_s = 60.0;
+constexpr double kRepeatabilitySd_g = 1e-6;
+constexpr double kRateLimitPerMin = 2e-5;  // 0.002 %/min of the dry mass
 constexpr double kRateWindow_s = 600.0;
 constexpr double kSensorSd = 0.008;       // per-step sensor error, = stated sensor uncertainty
 constexpr double kChamberSd = 0.003;      // control offset of the chamber
@@ -284,6 +288,18 @@ GeneratedJob MakeVaporLogJob(std::uint64_t seed) {
 }
 
 GeneratedJob MakeVaporLogJob(std::uint64_t seed, Kinetics kinetics, double cut_after_tau) {
+  return MakeVaporLogJob(
+      seed, VaporLogOptions{kinetics, cut_after_tau, BalanceErrors::kReadingNoiseAndStepOffset});
+}
+
+GeneratedJob MakeVaporLogJob(std::uint64_t seed, const VaporLogOptions& options) {
+  const Kinetics kinetics = options.kinetics;
+  const double cut_after_tau = options.cut_after_tau;
+  const bool step_offset = options.balance == BalanceErrors::kReadingNoiseAndStepOffset;
+  const double block_s = step_offset ? kBlock_s : kSlowBlock_s;
+  const int rows_per_block = step_offset ? kRowsPerBlock : 1;
+  const double reading_sd_g = step_offset ? kReadingSd_g : kRepeatabilitySd_g;
+  const double stated_balance_u_g = step_offset ? kBalanceOffsetSd_g : kRepeatabilitySd_g;
   Random random(seed);
   GeneratedJob job;
   job.truth = Gab{0.058, 7.5, 0.78};  // a wood-fibre-like material (invented)
@@ -291,7 +307,7 @@ GeneratedJob MakeVaporLogJob(std::uint64_t seed, Kinetics kinetics, double cut_a
   spec.job_file = "generated-vapour.toml";
   spec.dry_mass_method = ingest::DryMassMethod::kDesiccantStep;
   spec.balance_resolution_g = 0.1e-6;
-  spec.balance_standard_uncertainty_g = kBalanceOffsetSd_g;
+  spec.balance_standard_uncertainty_g = stated_balance_u_g;
   spec.rh_sensor_standard_uncertainty_fraction = kSensorSd;
   spec.temperature_standard_uncertainty_K = kTemperatureSd_K;
   spec.specimens.push_back(ingest::SpecimenSpec{"V1", std::nullopt, std::nullopt, {}});
@@ -311,8 +327,8 @@ GeneratedJob MakeVaporLogJob(std::uint64_t seed, Kinetics kinetics, double cut_a
   double x = job.truth(0.4);
   double time_s = 0.0;
   std::int64_t line = 2;
-  const double block_sd_g = kReadingSd_g / std::sqrt(static_cast<double>(kRowsPerBlock));
-  const double sensor_block_sd = kSensorNoiseSd / std::sqrt(static_cast<double>(kRowsPerBlock));
+  const double block_sd_g = reading_sd_g / std::sqrt(static_cast<double>(rows_per_block));
+  const double sensor_block_sd = kSensorNoiseSd / std::sqrt(static_cast<double>(rows_per_block));
   for (std::size_t k = 0; k < set_points.size(); ++k) {
     const double set = set_points[k];
     const bool drying = set == 0.0;
@@ -334,8 +350,10 @@ GeneratedJob MakeVaporLogJob(std::uint64_t seed, Kinetics kinetics, double cut_a
     step.start_time_s = time_s;
     step.first_line = line;
     const double x_start = x;
-    const double balance_offset_g = kBalanceOffsetSd_g * random.Normal();
-    for (double t = time_s + 0.5 * kBlock_s;; t += kBlock_s) {
+    // Drawn in both cases (the draws of the kinetics stay those of MakeVaporLogJob(seed)).
+    const double offset_deviate = random.Normal();
+    const double balance_offset_g = step_offset ? kBalanceOffsetSd_g * offset_deviate : 0.0;
+    for (double t = time_s + 0.5 * block_s;; t += block_s) {
       const double elapsed = t - step.start_time_s;
       x = x_eq + (x_start - x_eq) * UnaccomplishedFraction(kinetics, elapsed / tau_s);
       ingest::LogBlock block;
@@ -344,9 +362,9 @@ GeneratedJob MakeVaporLogJob(std::uint64_t seed, Kinetics kinetics, double cut_a
       block.rh_measured_fraction =
           std::max(0.0, chamber + sensor_error + sensor_block_sd * random.Normal());
       block.temperature_K = kTestTemperature_K;
-      block.num_rows = kRowsPerBlock;
+      block.num_rows = rows_per_block;
       step.blocks.push_back(block);
-      line += kRowsPerBlock;
+      line += rows_per_block;
       if (cut_early) {
         if (elapsed >= cut_after_tau * tau_s) break;
       } else if (elapsed >= kRateWindow_s) {
@@ -357,10 +375,10 @@ GeneratedJob MakeVaporLogJob(std::uint64_t seed, Kinetics kinetics, double cut_a
       }
       if (elapsed > kMaxStep_s) break;
     }
-    step.end_time_s = step.blocks.back().time_s + 0.5 * kBlock_s;
+    step.end_time_s = step.blocks.back().time_s + 0.5 * block_s;
     time_s = step.end_time_s;
     step.last_line = line - 1;
-    step.num_rows = static_cast<std::int64_t>(step.blocks.size()) * kRowsPerBlock;
+    step.num_rows = static_cast<std::int64_t>(step.blocks.size()) * rows_per_block;
     double rh_sum = 0.0;
     for (const auto& b : step.blocks) rh_sum += b.rh_measured_fraction;
     step.rh_measured_mean_fraction = rh_sum / static_cast<double>(step.blocks.size());

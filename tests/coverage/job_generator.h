@@ -102,6 +102,26 @@ enum class Kinetics {
   kFickianSlab,
 };
 
+// How the balance of a vapour log errs.
+enum class BalanceErrors {
+  // As described above: 0.3 ug per 1 s reading, 10 readings per 10 s block mean, and per step an
+  // offset with the job's stated balance standard uncertainty (0.2 ug) that averaging does not
+  // remove.
+  kReadingNoiseAndStepOffset,
+  // The stated balance standard uncertainty (1 ug) is the repeatability of one reading: every
+  // reading (one per 60 s, each its own block) errs independently with that standard deviation,
+  // and nothing persists over a step (a microbalance whose drift is tared out between steps).
+  kReadingNoiseOnly,
+};
+
+struct VaporLogOptions {
+  Kinetics kinetics = Kinetics::kFirstOrder;
+  // The 80 and 90 % steps are cut by the operator after this many time constants.
+  double cut_after_tau = 1.5;
+  BalanceErrors balance = BalanceErrors::kReadingNoiseAndStepOffset;
+};
+GeneratedJob MakeVaporLogJob(std::uint64_t seed, const VaporLogOptions& options);
+
 // As MakeVaporLogJob(seed) (identical draws for kFirstOrder), with the given kinetics; the
 // 80 and 90 % steps are cut by the operator at cut_after_tau time constants (1.5 in
 // MakeVaporLogJob(seed)).

@@ -3,6 +3,7 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
 #include <numbers>
@@ -330,6 +331,34 @@ TEST(EquilibrateLogTest, TooSlowATailIsNotExtrapolated) {
   const EquilibriumSet set = Equilibrate(LogJob(), options);
   EXPECT_FALSE(set.points[2].equilibrated);
   EXPECT_TRUE(HasFlagContaining(set.points[2], "exceeds 0.5 x the fitted tail"));
+}
+
+// A log mass from many readings carries the part of the stated balance uncertainty its readings
+// do not show (EquilibriumPoint::u_mass_balance_g): the blocks of LogJob() scatter with sd 1 ug
+// (the generated noise), so sqrt(u_bal^2 - (1 ug)^2) remains, once, and the same for the dry mass.
+TEST(EquilibrateLogTest, BalanceUncertaintyBeyondTheReadingScatter) {
+  for (const double stated_g : {5e-6, 1e-6}) {
+    SCOPED_TRACE(stated_g);
+    ingest::IngestResult job = LogJob();
+    job.job.balance_standard_uncertainty_g = stated_g;
+    job.job.balance_resolution_g = 1e-9;  // rounding negligible: u_bal = stated_g
+    const EquilibriumSet set = Equilibrate(job, EquilibrateOptions{});
+    ASSERT_EQ(set.points.size(), 3u);
+    const double persistent_g = std::sqrt(std::max(0.0, stated_g * stated_g - 1e-12));
+    for (const EquilibriumPoint& point : set.points) {
+      ASSERT_TRUE(point.u_mass_balance_g.has_value());
+      if (stated_g > 1e-6) {
+        // s estimated from hundreds of blocks (a few % relative): u within 1 % of sqrt(24) ug.
+        EXPECT_NEAR(*point.u_mass_balance_g, persistent_g, 0.01 * persistent_g);
+      } else {
+        // Stated = scatter: (almost) nothing of the balance is left beyond the readings' Type A.
+        EXPECT_LT(*point.u_mass_balance_g, 0.35 * stated_g);
+      }
+    }
+    ASSERT_EQ(set.dry_masses.size(), 1u);
+    ASSERT_TRUE(set.dry_masses[0].u_mass_balance_g.has_value());
+    EXPECT_EQ(*set.dry_masses[0].u_mass_balance_g, *set.points[0].u_mass_balance_g);
+  }
 }
 
 TEST(EquilibrateOptionsTest, InvalidOptionsAreRejected) {
