@@ -128,6 +128,14 @@ struct FitStatistics {
   double runs_test_p_value = 1.0;   // two-sided, normal approximation; 1 if all one sign
 };
 
+// Akaike weights of candidate models fitted to the same data (K. P. Burnham, D. R. Anderson,
+// Model Selection and Multimodel Inference, 2nd ed., Springer 2002, sec. 2.9, eq. 2.14):
+// Delta_i = AICc_i - min_j AICc_j, w_i = exp(-Delta_i / 2) / sum_j exp(-Delta_j / 2), in the
+// order given. A NaN or +infinite AICc (undefined: n - k - 1 <= 0) takes no part (weight 0).
+// -infinite AICc (an exact fit, weighted SSR 0) is the limit of the definition: those models
+// share the weight equally. All weights 0 when no AICc takes part.
+std::vector<double> AkaikeWeights(const std::vector<double>& aicc);
+
 struct FitResult {
   std::string model_name;
   std::vector<double> parameters;

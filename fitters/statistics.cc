@@ -219,3 +219,28 @@ FitStatistics ComputeStatistics(const std::vector<Observation>& observations,
 }
 
 }  // namespace sorbtrace::fitters::internal
+
+namespace sorbtrace::fitters {
+
+std::vector<double> AkaikeWeights(const std::vector<double>& aicc) {
+  constexpr double kInfinityAicc = std::numeric_limits<double>::infinity();
+  std::vector<double> weights(aicc.size(), 0.0);
+  const auto takes_part = [](double a) { return !std::isnan(a) && a != kInfinityAicc; };
+  double least = kInfinityAicc;
+  for (double a : aicc) {
+    if (takes_part(a)) least = std::min(least, a);
+  }
+  if (least == kInfinityAicc) return weights;
+  double sum = 0.0;
+  for (std::size_t i = 0; i < aicc.size(); ++i) {
+    if (!takes_part(aicc[i])) continue;
+    // Exact fits (least = -inf): equal weights among them, the limit of exp(-Delta / 2).
+    const bool exact = std::isinf(least);
+    weights[i] = exact ? (aicc[i] == least ? 1.0 : 0.0) : std::exp(-0.5 * (aicc[i] - least));
+    sum += weights[i];
+  }
+  for (double& w : weights) w /= sum;
+  return weights;
+}
+
+}  // namespace sorbtrace::fitters

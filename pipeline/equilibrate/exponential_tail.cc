@@ -10,6 +10,8 @@
 #include <numbers>
 #include <vector>
 
+#include "fitters/fitter.h"
+
 namespace sorbtrace::equilibrate::internal {
 namespace {
 
@@ -532,19 +534,13 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
     return fit;
   }
   // ---- Akaike weights on the group means.
-  std::vector<double> all_weights;
-  double best_aicc = std::numeric_limits<double>::infinity();
+  std::vector<double> aicc;
   for (const ModelFit& candidate : fits) {
-    all_weights.push_back(Aicc(SsrOn(grouped, candidate), grouped.t.size(), candidate.parameters));
-    best_aicc = std::min(best_aicc, all_weights.back());
+    aicc.push_back(Aicc(SsrOn(grouped, candidate), grouped.t.size(), candidate.parameters));
   }
-  double all_sum = 0.0;
-  for (double& w : all_weights) {
-    w = std::isfinite(w) ? std::exp(-0.5 * (w - best_aicc)) : 0.0;
-    all_sum += w;
-  }
-  if (!(all_sum > 0.0)) {
-    // Every SSR zero (an exact curve): equal weights.
+  std::vector<double> all_weights = fitters::AkaikeWeights(aicc);
+  double all_sum = 1.0;  // AkaikeWeights: normalised, or all 0 when no AICc is defined
+  if (std::none_of(all_weights.begin(), all_weights.end(), [](double w) { return w > 0.0; })) {
     std::fill(all_weights.begin(), all_weights.end(), 1.0);
     all_sum = static_cast<double>(all_weights.size());
   }

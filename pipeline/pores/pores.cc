@@ -477,7 +477,7 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
   out.applicability = ApplicabilityFor(options.material_class);
   if (out.applicability.section == PoreSection::kOmitted) Warn(&out, out.applicability.reason);
   std::vector<internal::FittedCurve> best_adsorption;
-  std::vector<internal::FittedCurve> ranked_adsorption;  // every ranked fit (model choice)
+  std::vector<internal::FittedCurve> ranked;  // every ranked fit (model choice: ReadCurves)
   std::vector<internal::FittedCurve> best_desorption;
   std::vector<internal::FittedCurve> monolayer_fits;
 
@@ -486,12 +486,10 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
     const internal::FittedCurve best = CurveOf(fits, BestFitOf(fits, g));
     for (std::size_t i = 0; i < fits.fits.size(); ++i) {
       const fit::ModelFit& f = fits.fits[i];
-      if (f.rank <= 0 || f.group_index != static_cast<int>(g) ||
-          group.branch != ingest::Branch::kAdsorption) {
-        continue;
-      }
+      if (f.rank <= 0 || f.group_index != static_cast<int>(g)) continue;
       const internal::FittedCurve c = CurveOf(fits, static_cast<int>(i));
-      if (c.model != nullptr) ranked_adsorption.push_back(c);
+      if (c.model == nullptr) continue;
+      ranked.push_back(c);
     }
     if (best.model != nullptr) {
       if (group.branch == ingest::Branch::kAdsorption) best_adsorption.push_back(best);
@@ -552,14 +550,14 @@ PoreAnalysis AnalysePores(const reduce::ReducedIsotherms& reduced, const fit::Is
     out.surface_areas = internal::SurfaceAreas(monolayer_fits, options);
     for (const ReferenceCondition& c : options.reference_conditions) {
       out.reference_moisture.push_back(
-          internal::ReferenceMoistureFor(c, best_adsorption, ranked_adsorption, fits, options));
+          internal::ReferenceMoistureFor(c, best_adsorption, ranked, fits, options));
     }
-    out.hygroscopicity =
-        internal::HygroscopicityFrom(best_adsorption, fits.coverage_factor, options);
+    out.hygroscopicity = internal::HygroscopicityFrom(best_adsorption, ranked, fits, options);
     for (const internal::FittedCurve& a : best_adsorption) {
       for (const internal::FittedCurve& d : best_desorption) {
         if (std::abs(a.temperature_K - d.temperature_K) <= options.temperature_tolerance_K) {
-          out.hysteresis.push_back(internal::HysteresisFrom(a, d, fits.coverage_factor, options));
+          out.hysteresis.push_back(
+              internal::HysteresisFrom(a, d, ranked, fits, fits.coverage_factor, options));
           break;
         }
       }

@@ -237,10 +237,11 @@ struct ReferenceMoisture {
   ingest::Branch branch = ingest::Branch::kAdsorption;
   double moisture_kg_per_kg = 0.0;
   double u_moisture_kg_per_kg = 0.0;  // standard (includes u_model_choice_kg_per_kg)
-  // Model choice (ReferenceMoistureFor): the spread of the other ranked models of the group
-  // about the best one at this condition, by their Akaike weights; 0 with one ranked model.
+  // moisture_kg_per_kg is the Akaike-weighted average over the group's ranked models
+  // (internal::ReadCurves, quantities.h); model_name is the best of them. u_model_choice: the
+  // between-model part of u, sqrt(sum_i w_i (q_i - q)^2); 0 with one ranked model.
   double u_model_choice_kg_per_kg = 0.0;
-  int models_weighed = 0;  // ranked models of the group the term was formed from
+  int models_weighed = 0;  // ranked models in the average (1: the best model's value alone)
   // Of the expanded uncertainty: fit::CurveUncertainty of the fit read (Welch-Satterthwaite
   // nu_eff over the independent part and the specimen factors, Student-t k for 95 %; the
   // nominal k where nu_eff is infinite).

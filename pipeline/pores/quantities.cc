@@ -10,6 +10,7 @@
 #include <limits>
 #include <numeric>
 
+#include "fitters/fitter.h"
 #include "pipeline/conform/conform.h"
 #include "pipeline/physics/physics.h"
 #include "pipeline/reduce/reduce.h"
@@ -170,40 +171,86 @@ std::vector<SurfaceArea> SurfaceAreas(const std::vector<FittedCurve>& gab_bet_fi
 
 namespace {
 
-// u_model^2 = sum_i w_i (q_i - q_best)^2 over the ranked models of best's group (see
-// ReferenceMoistureFor); *count: the models weighed.
-double ModelChoiceVariance(const FittedCurve& best, const std::vector<FittedCurve>& ranked,
-                           double rh_fraction, int* count) {
-  *count = 0;
-  if (best.fit == nullptr) return 0.0;
-  double least_aicc = std::numeric_limits<double>::infinity();
+// The ranked curves of best's group (with their fits), best included.
+std::vector<const FittedCurve*> GroupOf(const FittedCurve& best,
+                                        const std::vector<FittedCurve>& ranked) {
   std::vector<const FittedCurve*> group;
+  if (best.fit == nullptr) return group;
   for (const FittedCurve& c : ranked) {
-    if (c.fit == nullptr || c.fit->group_index != best.fit->group_index) continue;
-    const double aicc = c.fit->result.statistics.aicc;
-    if (!std::isfinite(aicc)) continue;
-    group.push_back(&c);
-    least_aicc = std::min(least_aicc, aicc);
+    if (c.fit != nullptr && c.model != nullptr && c.fit->group_index == best.fit->group_index) {
+      group.push_back(&c);
+    }
   }
-  const double q_best = best.Value(rh_fraction);
-  double weight_sum = 0.0;
-  double weighted = 0.0;
-  for (const FittedCurve* c : group) {
-    const double q = c->Value(rh_fraction);
-    if (!std::isfinite(q)) continue;
-    const double w = std::exp(-0.5 * (c->fit->result.statistics.aicc - least_aicc));
-    weight_sum += w;
-    weighted += w * (q - q_best) * (q - q_best);
-    ++*count;
+  return group;
+}
+
+// The reading of one curve alone (no model average).
+CurveReading ReadOneCurve(const FittedCurve& curve, const fit::IsothermFits& fits,
+                          double rh_fraction) {
+  CurveReading r;
+  r.value = curve.Value(rh_fraction);
+  r.standard_uncertainty = curve.StandardUncertainty(rh_fraction);
+  r.coverage_factor = fits.coverage_factor;
+  if (curve.fit != nullptr) {
+    const fit::DerivedUncertainty d = fit::CurveUncertainty(fits, *curve.fit, rh_fraction);
+    r.effective_dof = d.effective_dof;
+    r.coverage_factor = d.coverage_factor;
   }
-  return weight_sum > 0.0 ? weighted / weight_sum : 0.0;
+  return r;
 }
 
 }  // namespace
 
+CurveReading ReadCurves(const FittedCurve& best, const std::vector<FittedCurve>& ranked,
+                        const fit::IsothermFits& fits, double rh_fraction) {
+  const std::vector<const FittedCurve*> group = GroupOf(best, ranked);
+  std::vector<double> aicc, values;
+  std::vector<fit::DerivedUncertainty> own;
+  for (const FittedCurve* c : group) {
+    values.push_back(c->Value(rh_fraction));
+    own.push_back(fit::CurveUncertainty(fits, *c->fit, rh_fraction));
+    // A curve without a finite value here takes no part.
+    aicc.push_back(std::isfinite(values.back()) ? c->fit->result.statistics.aicc : kNaN);
+  }
+  const std::vector<double> w = fitters::AkaikeWeights(aicc);
+  CurveReading r;
+  r.models_averaged =
+      static_cast<int>(std::count_if(w.begin(), w.end(), [](double x) { return x > 0.0; }));
+  if (r.models_averaged < 2) return ReadOneCurve(best, fits, rh_fraction);
+  r.value = 0.0;
+  for (std::size_t i = 0; i < group.size(); ++i) {
+    if (w[i] > 0.0) r.value += w[i] * values[i];
+  }
+  double within = 0.0;
+  double between = 0.0;
+  double welch_denominator = 0.0;  // sum_i (w_i u_i^2)^2 / nu_i
+  for (std::size_t i = 0; i < group.size(); ++i) {
+    if (!(w[i] > 0.0)) continue;
+    const double part = w[i] * own[i].standard_uncertainty * own[i].standard_uncertainty;
+    within += part;
+    between += w[i] * (values[i] - r.value) * (values[i] - r.value);
+    if (std::isfinite(own[i].effective_dof))
+      welch_denominator += part * part / own[i].effective_dof;
+  }
+  const double total = within + between;
+  r.standard_uncertainty = std::sqrt(total);
+  r.u_model_choice = std::sqrt(between);
+  // Welch-Satterthwaite (JCGM 100:2008, G.4.1) on variances: nu = (sum c_i)^2 / sum c_i^2 / nu_i.
+  r.effective_dof = welch_denominator > 0.0 ? total * total / welch_denominator
+                                            : std::numeric_limits<double>::infinity();
+  r.coverage_factor = reduce::CoverageFactor(r.effective_dof, fits.coverage_factor);
+  return r;
+}
+
+std::string ReadingSource(const CurveReading& reading, const std::string& best_name) {
+  if (reading.models_averaged < 2) return fmt::format("the fitted {} isotherm", best_name);
+  return fmt::format("the model average over {} fitted isotherm models (best: {})",
+                     reading.models_averaged, best_name);
+}
+
 ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
                                        const std::vector<FittedCurve>& best_adsorption,
-                                       const std::vector<FittedCurve>& ranked_adsorption,
+                                       const std::vector<FittedCurve>& ranked,
                                        const fit::IsothermFits& fits, const PoreOptions& options) {
   ReferenceMoisture r;
   r.coverage_factor = fits.coverage_factor;
@@ -222,26 +269,13 @@ ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
     }
   }
   r.model_name = best->name;
-  r.moisture_kg_per_kg = best->Value(condition.rh_fraction);
-  r.u_moisture_kg_per_kg = best->StandardUncertainty(condition.rh_fraction);
-  if (best->fit != nullptr) {
-    const fit::DerivedUncertainty derived =
-        fit::CurveUncertainty(fits, *best->fit, condition.rh_fraction);
-    r.effective_dof = derived.effective_dof;
-    r.coverage_factor = derived.coverage_factor;
-  }
-  const double model_variance =
-      ModelChoiceVariance(*best, ranked_adsorption, condition.rh_fraction, &r.models_weighed);
-  if (model_variance > 0.0) {
-    const double u_curve = r.u_moisture_kg_per_kg;
-    r.u_model_choice_kg_per_kg = std::sqrt(model_variance);
-    r.u_moisture_kg_per_kg = std::sqrt(u_curve * u_curve + model_variance);
-    // Welch-Satterthwaite (JCGM 100:2008, G.4.1) with the model term's nu infinite.
-    if (std::isfinite(r.effective_dof) && u_curve > 0.0) {
-      r.effective_dof *= std::pow(r.u_moisture_kg_per_kg / u_curve, 4.0);
-      r.coverage_factor = reduce::CoverageFactor(r.effective_dof, fits.coverage_factor);
-    }
-  }
+  const CurveReading reading = ReadCurves(*best, ranked, fits, condition.rh_fraction);
+  r.moisture_kg_per_kg = reading.value;
+  r.u_moisture_kg_per_kg = reading.standard_uncertainty;
+  r.u_model_choice_kg_per_kg = reading.u_model_choice;
+  r.models_weighed = reading.models_averaged;
+  r.effective_dof = reading.effective_dof;
+  r.coverage_factor = reading.coverage_factor;
   r.temperature_matches =
       std::abs(best->temperature_K - condition.temperature_K) <= options.temperature_tolerance_K;
   if (!r.temperature_matches) {
@@ -265,7 +299,8 @@ ReferenceMoisture ReferenceMoistureFor(const ReferenceCondition& condition,
 }
 
 Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorption,
-                                  double coverage_factor, const PoreOptions& /*options*/) {
+                                  const std::vector<FittedCurve>& ranked,
+                                  const fit::IsothermFits& fits, const PoreOptions& /*options*/) {
   Hygroscopicity h;
   const FittedCurve* best = nullptr;
   for (const FittedCurve& c : best_adsorption) {
@@ -296,22 +331,23 @@ Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorptio
     return h;
   }
   h.applicable = true;
-  h.mass_increase_percent = 100.0 * best->Value(kPharmacopoeiaRhFraction);
-  h.u_mass_increase_percent = 100.0 * best->StandardUncertainty(kPharmacopoeiaRhFraction);
+  const CurveReading reading = ReadCurves(*best, ranked, fits, kPharmacopoeiaRhFraction);
+  h.mass_increase_percent = 100.0 * reading.value;
+  h.u_mass_increase_percent = 100.0 * reading.standard_uncertainty;
   h.class_name = HygroscopicityClassName(h.mass_increase_percent);
   h.reason = fmt::format(
-      "equilibrium mass increase relative to the dry mass from the fitted {} isotherm at 80 % RH "
+      "equilibrium mass increase relative to the dry mass from {} at 80 % RH "
       "and {:.2f} degC; Ph. Eur. 5.11 takes the increase after 24 h relative to the sample as "
       "received, so a sample that already holds water, or equilibrates slowly, gains less in the "
       "pharmacopoeial test; 'deliquescent' cannot be told from an isotherm",
-      best->name, Celsius(best->temperature_K));
+      ReadingSource(reading, best->name), Celsius(best->temperature_K));
   if (kPharmacopoeiaRhFraction > best->rh_max_fraction) {
     h.reason += fmt::format(
         "; the highest measured step is {:.2f} % RH, within the 80 +- 2 % RH tolerance of the "
         "test",
         100.0 * best->rh_max_fraction);
   }
-  const double expanded = coverage_factor * h.u_mass_increase_percent;
+  const double expanded = reading.coverage_factor * h.u_mass_increase_percent;
   for (const conform::HygroscopicityClass& c : conform::HygroscopicityClasses()) {
     const double boundary = c.lower_percent;
     if (boundary <= 0.0) continue;  // the lowest class has no lower boundary
@@ -324,6 +360,7 @@ Hygroscopicity HygroscopicityFrom(const std::vector<FittedCurve>& best_adsorptio
 }
 
 Hysteresis HysteresisFrom(const FittedCurve& adsorption, const FittedCurve& desorption,
+                          const std::vector<FittedCurve>& ranked, const fit::IsothermFits& fits,
                           double coverage_factor, const PoreOptions& options) {
   Hysteresis h;
   h.temperature_K = adsorption.temperature_K;
@@ -341,14 +378,20 @@ Hysteresis HysteresisFrom(const FittedCurve& adsorption, const FittedCurve& deso
   const int m = options.hysteresis_grid_points;
   double max_abs = -1.0;
   bool any_significant = false;
+  int adsorption_models = 1;
+  int desorption_models = 1;
   for (int i = 0; i < m; ++i) {
     HysteresisPoint p;
     p.rh_fraction = lo + (hi - lo) * static_cast<double>(i) / static_cast<double>(m - 1);
-    p.adsorption_kg_per_kg = adsorption.Value(p.rh_fraction);
-    p.desorption_kg_per_kg = desorption.Value(p.rh_fraction);
+    const CurveReading a = ReadCurves(adsorption, ranked, fits, p.rh_fraction);
+    const CurveReading d = ReadCurves(desorption, ranked, fits, p.rh_fraction);
+    adsorption_models = std::max(adsorption_models, a.models_averaged);
+    desorption_models = std::max(desorption_models, d.models_averaged);
+    p.adsorption_kg_per_kg = a.value;
+    p.desorption_kg_per_kg = d.value;
     p.difference_kg_per_kg = p.desorption_kg_per_kg - p.adsorption_kg_per_kg;
-    const double ua = adsorption.StandardUncertainty(p.rh_fraction);
-    const double ud = desorption.StandardUncertainty(p.rh_fraction);
+    const double ua = a.standard_uncertainty;
+    const double ud = d.standard_uncertainty;
     p.u_difference_kg_per_kg = std::sqrt(ua * ua + ud * ud);
     p.significant = std::abs(p.difference_kg_per_kg) > coverage_factor * p.u_difference_kg_per_kg;
     if (std::abs(p.difference_kg_per_kg) > max_abs) {
@@ -363,10 +406,16 @@ Hysteresis HysteresisFrom(const FittedCurve& adsorption, const FittedCurve& deso
     }
     h.points.push_back(p);
   }
+  CurveReading models;
+  models.models_averaged = desorption_models;
+  const std::string desorption_source = ReadingSource(models, desorption.name);
+  models.models_averaged = adsorption_models;
   h.reason = fmt::format(
-      "desorption minus adsorption from the fitted {} and {} on {:.1f}..{:.1f} % RH; "
-      "significant where |difference| > {:g} u (delta method, both fits)",
-      desorption.name, adsorption.name, 100.0 * lo, 100.0 * hi, coverage_factor);
+      "desorption minus adsorption, desorption from {}, adsorption from {}, on {:.1f}..{:.1f} % "
+      "RH; significant where |difference| > {:g} u (delta method on each fit, model choice "
+      "included)",
+      desorption_source, ReadingSource(models, adsorption.name), 100.0 * lo, 100.0 * hi,
+      coverage_factor);
   if (!any_significant) h.reason += "; nowhere significant";
   return h;
 }

@@ -505,6 +505,17 @@ void AddReferenceMoistures(const pores::PoreAnalysis& pa, const fit::IsothermFit
     const double measured_K = MeasuredTemperature_K(fits, rm);
     if (!rm.model_name.empty() && (rm.temperature_matches || !std::isnan(measured_K))) {
       AddReferenceMoisture(rm, measured_K, cautions);
+      // What the value is (pores::ReferenceMoisture::models_weighed; quantities.h ReadCurves).
+      if (rm.models_weighed > 1) {
+        cautions.Add(
+            fmt::format("Moisture content at {} / {} % RH ({}): the average of {} fitted isotherm "
+                        "models by their Akaike weights (best: {}); its uncertainty includes "
+                        "their spread.",
+                        TemperatureLabel(rm.condition.temperature_K),
+                        FormatFixed(rm.condition.rh_fraction * 100.0, 0), BranchLabel(rm.branch),
+                        rm.models_weighed, ShortModelName(rm.model_name)),
+            CautionRank::kInformation);
+      }
     } else {
       std::string reason;
       for (const std::string& f : rm.flags) reason += (reason.empty() ? "" : "; ") + f;

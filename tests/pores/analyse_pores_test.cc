@@ -384,12 +384,16 @@ TEST(AnalysePores, ReferenceMoistureTakesTheFitsCoverageFactor) {
   }
 }
 
-// Model choice (quantities.h, ReferenceMoistureFor): a second ranked adsorption model whose AICc
-// exceeds the best one's by 2 ln 3 has Akaike weight 1/4 against 3/4 (w_i proportional to
-// exp(-d_i / 2); Burnham & Anderson 2002, sec. 2.9, from memory), so u_model^2 = (q_oswin -
-// q_gab)^2 / 4 and u^2 = u_curve^2 + u_model^2; the value stays the best model's. Oswin u(a) =
-// A [a / (1 - a)]^B (Oswin 1946), here A = 0.02, B = 0.6. With one ranked model the term is 0.
-TEST(AnalysePores, ReferenceMoistureCarriesTheModelChoice) {
+// Model choice (quantities.h, ReadCurves): a second ranked adsorption model whose AICc exceeds
+// the best one's by 2 ln 3 has Akaike weight 1/4 against 3/4 (w_i proportional to exp(-d_i / 2);
+// Burnham & Anderson 2002, sec. 2.9), so the value read is the model average q = 3/4 q_gab + 1/4
+// q_oswin and u^2 = sum_i w_i (u_i^2 + (q_i - q)^2) (their sec. 6.3, revised unconditional
+// variance; from memory): between-model part 3/4 (d/4)^2 + 1/4 (3d/4)^2 = 3 d^2 / 16 with d =
+// q_oswin - q_gab. Oswin u(a) = A [a / (1 - a)]^B (Oswin 1946), here A = 0.02, B = 0.6, with
+// covariance 1e-8 I: u_oswin^2 = 1e-8 (r^(2B) + (A r^B ln r)^2), r = a / (1 - a) (delta method
+// written out). With one ranked model the reading is GAB's alone. The hysteresis reads its
+// adsorption branch the same way.
+TEST(AnalysePores, ReadingsAverageOverTheRankedModels) {
   PoreOptions options;
   options.band_draws = 20;
   fit::IsothermFits fits = TwoBranches();
@@ -402,20 +406,38 @@ TEST(AnalysePores, ReferenceMoistureCarriesTheModelChoice) {
   const PoreAnalysis two = AnalysePores(reduce::ReducedIsotherms{}, fits, options);
   ASSERT_EQ(one.reference_moisture.size(), two.reference_moisture.size());
   ASSERT_FALSE(two.reference_moisture.empty());
+  const auto oswin_value = [](double rh) { return 0.02 * std::pow(rh / (1.0 - rh), 0.6); };
+  const auto oswin_u = [](double rh) {
+    const double r = rh / (1.0 - rh);
+    return std::sqrt(1e-8 *
+                     (std::pow(r, 1.2) + std::pow(0.02 * std::pow(r, 0.6) * std::log(r), 2)));
+  };
   for (std::size_t i = 0; i < two.reference_moisture.size(); ++i) {
     const ReferenceMoisture& a = one.reference_moisture[i];
     const ReferenceMoisture& b = two.reference_moisture[i];
     const double rh = b.condition.rh_fraction;
     const double q_gab = Gab(kAds[0], kAds[1], kAds[2], rh);
-    const double q_oswin = 0.02 * std::pow(rh / (1.0 - rh), 0.6);
+    const double d = oswin_value(rh) - q_gab;
     EXPECT_EQ(a.u_model_choice_kg_per_kg, 0.0);
     EXPECT_EQ(a.models_weighed, 1);
+    EXPECT_NEAR(a.moisture_kg_per_kg, q_gab, 1e-12);
     EXPECT_EQ(b.models_weighed, 2);
-    EXPECT_NEAR(b.moisture_kg_per_kg, q_gab, 1e-12);
-    EXPECT_NEAR(b.u_model_choice_kg_per_kg, 0.5 * std::abs(q_oswin - q_gab), 1e-9);
-    EXPECT_NEAR(b.u_moisture_kg_per_kg, std::hypot(a.u_moisture_kg_per_kg, 0.5 * (q_oswin - q_gab)),
-                1e-9);
+    EXPECT_EQ(b.model_name, "gab");
+    EXPECT_NEAR(b.moisture_kg_per_kg, q_gab + 0.25 * d, 1e-12);
+    EXPECT_NEAR(b.u_model_choice_kg_per_kg, std::sqrt(3.0 / 16.0) * std::abs(d), 1e-12);
+    const double within =
+        0.75 * a.u_moisture_kg_per_kg * a.u_moisture_kg_per_kg + 0.25 * std::pow(oswin_u(rh), 2);
+    EXPECT_NEAR(b.u_moisture_kg_per_kg, std::sqrt(within + 3.0 / 16.0 * d * d), 1e-12);
   }
+  ASSERT_EQ(two.hysteresis.size(), 1u);
+  ASSERT_FALSE(two.hysteresis[0].points.empty());
+  for (const HysteresisPoint& p : two.hysteresis[0].points) {
+    const double q_gab = Gab(kAds[0], kAds[1], kAds[2], p.rh_fraction);
+    EXPECT_NEAR(p.adsorption_kg_per_kg, 0.75 * q_gab + 0.25 * oswin_value(p.rh_fraction), 1e-12);
+    EXPECT_NEAR(p.desorption_kg_per_kg, Gab(kDes[0], kDes[1], kDes[2], p.rh_fraction), 1e-12);
+  }
+  EXPECT_NE(two.hysteresis[0].reason.find("model average over 2"), std::string::npos)
+      << two.hysteresis[0].reason;
 }
 
 }  // namespace
