@@ -535,6 +535,7 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   }
   // ---- Akaike weights on the group means.
   std::vector<double> aicc;
+  aicc.reserve(fits.size());
   for (const ModelFit& candidate : fits) {
     aicc.push_back(Aicc(SsrOn(grouped, candidate), grouped.t.size(), candidate.parameters));
   }

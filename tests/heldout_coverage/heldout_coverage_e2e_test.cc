@@ -413,7 +413,10 @@ TEST(HeldoutCoverage, GeneratedFilesAreDeterministic) {
   }
 }
 
-// The three classes below are DISABLED: on main they do not yet meet issue 13's acceptance, and
+// The vapour-log class runs (after the log masses stopped counting one reading's balance u twice
+// and the curve readings became the Akaike-weighted model average: points 99.6 -> 97.3 %, u / RMS
+// 0.82-1.18, reference conditions 94 -> 97 %). The two desiccator classes below are DISABLED:
+// they do not yet meet issue 13's acceptance, and
 // the causes are open there (not hidden by weaker checks). Run them with
 // `heldout_coverage_e2e_test --gtest_also_run_disabled_tests`. Measured at 4e766b2 (after the
 // residual-scale bootstrap, the 68.27 % u of draws and the goodness-of-fit gate of the ranking):
@@ -421,7 +424,11 @@ TEST(HeldoutCoverage, GeneratedFilesAreDeterministic) {
 //    mean(u) / RMS(error) of two salts (Mg(NO3)2 0.58, MgCl2 0.68; 1 / RMS(error / u) 0.88 and
 //    0.94): a step ended at its first three weighings gets a correction u several times that of
 //    a longer step, so u varies strongly between replicates;
-//  - specimens differing (sd 3 %): GAB parameters 150 of 150 covered (u / RMS 1.09-1.13 but
+//    (unchanged after the changes of the next stop: a joint time constant per step was tried
+//    and made five other salts' u 2-4 times too large);
+//  - specimens differing (sd 3 %): now 149 of 150 (Type A nu only on the pooled scatter part;
+//    on 200 replicates of this generator C / K / X_m cover 93 / 93.5 / 95.5 %, u / RMS 0.97-1.03,
+//    so 50 replicates over 98 % is mostly chance); before: GAB parameters 150 of 150 covered (u / RMS 1.09-1.13 but
 //    Student-t k 2.2-3.3 from nu_eff of the specimen term: the errors do not scatter like a
 //    two-degree-of-freedom estimate);
 //  - vapour logs (10-20 mg, two steps cut early): points 99.6 % (u / RMS 1.6-1.7 at 10-50 % RH:
@@ -442,7 +449,7 @@ TEST(HeldoutCoverage, DISABLED_DesiccatorSpecimenFactors) {
                    RunClass(JobClass::kDesiccatorFactors, "factors"));
 }
 
-TEST(HeldoutCoverage, DISABLED_VapourLogMilligram) {
+TEST(HeldoutCoverage, VapourLogMilligram) {
   ExpectCalibrated("Vapour log, 10-20 mg, dm/dt 0.002 %/min, two steps cut at 1.5 tau",
                    RunClass(JobClass::kVapourLog, "vapour"));
 }
