@@ -12,6 +12,7 @@
 #include <span>
 #include <stdexcept>
 
+#include "pipeline/common/number_text.h"
 #include "pipeline/equilibrate/approach.h"
 #include "pipeline/equilibrate/criteria.h"
 #include "pipeline/equilibrate/exponential_tail.h"
@@ -142,14 +143,29 @@ void CountAndWarn(const EquilibriumPoint& point, EquilibrateSummary& summary) {
   }
 }
 
+// Significant digits of a standard uncertainty in a note (JCGM 100:2008, 7.2.6: at most two).
+constexpr int kUncertaintyDigits = 2;
+// Share of the total below which a part of an uncertainty is named negligible rather than
+// printed (a model term of 1e-101 g beside a fit term of 1e-6 g; project choice).
+constexpr double kNegligibleShare = 0.01;
+
+// "fit 1.2 × 10⁻⁶ g, model 3.0 × 10⁻⁷ g", or "from the fit; model term negligible".
+std::string UncertaintyParts(double u_fit_g, double u_model_g) {
+  if (!(u_model_g > kNegligibleShare * std::hypot(u_fit_g, u_model_g))) {
+    return "from the fit; model term negligible";
+  }
+  return fmt::format("fit {} g, model {} g", common::FormatSignificant(u_fit_g, kUncertaintyDigits),
+                     common::FormatSignificant(u_model_g, kUncertaintyDigits));
+}
+
 // Applies the residual-approach estimate of a step that met its criterion (approach.h); the
 // drift term stays as the fallback when no time constant was resolved.
 void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint& point) {
   if (!estimate.estimated) {
     point.flags.push_back(fmt::format(
         "approach to equilibrium not resolved from the trace; last change as rectangular "
-        "uncertainty (u = {:.2g} g)",
-        point.u_mass_drift_g));
+        "uncertainty (u = {} g)",
+        common::FormatSignificant(point.u_mass_drift_g, 2)));
     return;
   }
   point.approach_correction_g = estimate.correction_g;
@@ -160,9 +176,11 @@ void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint&
   point.mass_includes_weighing_scatter = estimate.includes_weighing_scatter;
   point.mass_g += estimate.correction_g;
   point.u_mass_drift_g = 0.0;
-  point.flags.push_back(fmt::format(
-      "approach to equilibrium corrected by {:+.6g} g (u = {:.2g} g; {})", estimate.correction_g,
-      std::hypot(estimate.u_correction_g, estimate.u_model_g), estimate.method));
+  const double u_g = std::hypot(estimate.u_correction_g, estimate.u_model_g);
+  point.flags.push_back(
+      fmt::format("approach to equilibrium corrected by {} g (u = {} g; {})",
+                  common::FormatAtUncertainty(estimate.correction_g, u_g, kUncertaintyDigits, true),
+                  common::FormatSignificant(u_g, kUncertaintyDigits), estimate.method));
 }
 
 // ---- Desiccator ------------------------------------------------------------------------
@@ -439,11 +457,13 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
             point.flags.push_back(fmt::format(
                 "extrapolated: {}; kinetic models fitted to the last {:.3g} h ({}), tau = {:.3g} "
                 "h, "
-                "asymptote {:+.6g} g from the last mean (u = {:.2g} g: fit {:.2g} g, model {:.2g} "
-                "g)",
+                "asymptote {} g from the last mean (u = {} g: {})",
                 reason, tail_span / kSecondsPerHour, internal::DescribeCandidates(fit),
-                fit.slowest_tau_s / kSecondsPerHour, fit.m_inf_g - mass, fit.TotalUncertainty_g(),
-                fit.u_m_inf_g, fit.u_model_g));
+                fit.slowest_tau_s / kSecondsPerHour,
+                common::FormatAtUncertainty(fit.m_inf_g - mass, fit.TotalUncertainty_g(),
+                                            kUncertaintyDigits, true),
+                common::FormatSignificant(fit.TotalUncertainty_g(), kUncertaintyDigits),
+                UncertaintyParts(fit.u_m_inf_g, fit.u_model_g)));
           }
         }
       } else {
