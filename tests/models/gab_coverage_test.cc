@@ -43,8 +43,6 @@ constexpr std::array<double, 3> kTruth = {0.05, 10.0, 0.8};
 constexpr double kNoise_kg_per_kg = 0.001;
 constexpr int kNumPoints = 20;
 constexpr double kNormalQuantile975 = 1.959963984540054;  // standard normal, 97.5 %
-constexpr double kMinCoverage = 0.92;
-constexpr double kMaxCoverage = 0.98;
 
 std::vector<Observation> Replicate(testing::NormalSource* noise) {
   const std::vector<double> truth(kTruth.begin(), kTruth.end());
@@ -82,10 +80,10 @@ TEST(GabCoverageTest, StudentTAndKnownSigmaIntervals) {
     std::printf("GAB %s: Student-t coverage %.4f, known-sigma coverage %.4f (%d fits)\n", names[i],
                 t_coverage, z_coverage, fitted);
     RecordProperty(std::string("t_coverage_") + names[i], std::to_string(t_coverage));
-    EXPECT_GE(t_coverage, kMinCoverage) << names[i];
-    EXPECT_LE(t_coverage, kMaxCoverage) << names[i];
-    EXPECT_GE(z_coverage, kMinCoverage) << names[i];
-    EXPECT_LE(z_coverage, kMaxCoverage) << names[i];
+    EXPECT_GE(t_coverage, testing::kMinIntervalCoverage) << names[i];
+    EXPECT_LE(t_coverage, testing::kMaxIntervalCoverage) << names[i];
+    EXPECT_GE(z_coverage, testing::kMinIntervalCoverage) << names[i];
+    EXPECT_LE(z_coverage, testing::kMaxIntervalCoverage) << names[i];
   }
 }
 
@@ -127,10 +125,10 @@ TEST(GabCoverageTest, ResidualBootstrapIntervals) {
     RecordProperty(std::string("bootstrap_t_coverage_") + names[i], std::to_string(studentized));
     RecordProperty(std::string("bootstrap_percentile_coverage_") + names[i],
                    std::to_string(percentile));
-    EXPECT_GE(studentized, kMinCoverage) << names[i];
-    EXPECT_LE(studentized, kMaxCoverage) << names[i];
-    EXPECT_GE(percentile, kMinCoverage) << names[i];
-    EXPECT_LE(percentile, kMaxCoverage) << names[i];
+    EXPECT_GE(studentized, testing::kMinIntervalCoverage) << names[i];
+    EXPECT_LE(studentized, testing::kMaxIntervalCoverage) << names[i];
+    EXPECT_GE(percentile, testing::kMinIntervalCoverage) << names[i];
+    EXPECT_LE(percentile, testing::kMaxIntervalCoverage) << names[i];
   }
 }
 

@@ -56,8 +56,6 @@ constexpr double kSigmaRhFraction = 0.008;        // 0.8 %RH
 constexpr double kRelativeSigmaMoisture = 0.015;  // 1.5 % of the value
 constexpr int kReplicates = 1000;
 constexpr int kResamples = 1000;
-constexpr double kMinCoverage = 0.92;
-constexpr double kMaxCoverage = 0.98;
 constexpr double kMinRatio = 0.7;
 constexpr double kMaxRatio = 1.5;
 
@@ -65,14 +63,10 @@ std::vector<Observation> Replicate(testing::NormalSource* noise) {
   const Model& model = models::GabModel();
   std::vector<Observation> points;
   for (double a : Grid(0.1, 0.9, kNumPoints)) {
-    Observation o;
-    o.x[0] = a;
-    const double f = model.Evaluate(kTruth.data(), o.x.data(), ModelContext{});
-    o.x[0] = a + kSigmaRhFraction * noise->Normal();
-    o.y = f * (1.0 + kRelativeSigmaMoisture * noise->Normal());
-    o.sigma_y = kRelativeSigmaMoisture * o.y;
-    o.sigma_x0 = kSigmaRhFraction;
-    points.push_back(o);
+    // The humidity is read with an error of sd kSigmaRhFraction.
+    const double read_rh = a + kSigmaRhFraction * noise->Normal();
+    points.push_back(testing::ErrorsInVariablesPoint(
+        model, kTruth.data(), a, read_rh, kSigmaRhFraction, kRelativeSigmaMoisture, noise));
   }
   return points;
 }
@@ -99,45 +93,30 @@ double StandardDeviation(const std::vector<double>& v) {
 
 TEST(GabErrorsInVariablesCoverageTest, CovarianceBootstrapAndMonteCarloIntervals) {
   testing::NormalSource noise(20261203);
-  FitOptions options;
-  options.weights = WeightConvention::kAbsolute;
-  options.errors_in_variables = true;
-  ResampleOptions bootstrap;
-  bootstrap.kind = ResampleKind::kResidualBootstrap;
-  bootstrap.num_resamples = kResamples;
-  ResampleOptions monte_carlo;
-  monte_carlo.kind = ResampleKind::kMonteCarloInputs;
-  monte_carlo.num_resamples = kResamples;
   Tally covariance, studentized, percentile, mc;
   std::array<std::vector<double>, 3> estimates;
   int done = 0;
-  for (int r = 0; r < kReplicates; ++r) {
-    const std::vector<Observation> points = Replicate(&noise);
-    const FitResult fit = FitModel(models::GabModel(), points, ModelContext{}, options);
-    bootstrap.seed = noise.Raw();
-    monte_carlo.seed = noise.Raw();
-    if (!fit.ok() || !fit.summary.covariance_available) continue;
-    const ResampleResult boot =
-        Resample(models::GabModel(), points, ModelContext{}, fit, options, bootstrap);
-    const ResampleResult draws =
-        Resample(models::GabModel(), points, ModelContext{}, fit, options, monte_carlo);
-    if (boot.num_studentized < kResamples / 2 ||
-        static_cast<int>(draws.parameter_draws.size()) < kResamples / 2) {
-      continue;
-    }
-    ++done;
-    for (std::size_t j = 0; j < 3; ++j) {
-      const ParameterEstimate& e = fit.estimates[j];
-      estimates[j].push_back(e.value);
-      covariance.Add(j, Inside(e.interval_low, kTruth[j], e.interval_high), e.standard_error);
-      studentized.Add(j, Inside(boot.studentized_low[j], kTruth[j], boot.studentized_high[j]),
-                      boot.parameter_u[j]);
-      percentile.Add(j, Inside(boot.parameter_low[j], kTruth[j], boot.parameter_high[j]),
-                     boot.parameter_u[j]);
-      mc.Add(j, Inside(draws.parameter_low[j], kTruth[j], draws.parameter_high[j]),
-             draws.parameter_u[j]);
-    }
-  }
+  testing::RunResampledReplicates(
+      models::GabModel(), testing::ErrorsInVariablesOptions(), kReplicates, kResamples, &noise,
+      Replicate,
+      [&](const FitResult& fit, const ResampleResult& boot, const ResampleResult& draws) {
+        if (boot.num_studentized < kResamples / 2 ||
+            static_cast<int>(draws.parameter_draws.size()) < kResamples / 2) {
+          return;
+        }
+        ++done;
+        for (std::size_t j = 0; j < 3; ++j) {
+          const ParameterEstimate& e = fit.estimates[j];
+          estimates[j].push_back(e.value);
+          covariance.Add(j, Inside(e.interval_low, kTruth[j], e.interval_high), e.standard_error);
+          studentized.Add(j, Inside(boot.studentized_low[j], kTruth[j], boot.studentized_high[j]),
+                          boot.parameter_u[j]);
+          percentile.Add(j, Inside(boot.parameter_low[j], kTruth[j], boot.parameter_high[j]),
+                         boot.parameter_u[j]);
+          mc.Add(j, Inside(draws.parameter_low[j], kTruth[j], draws.parameter_high[j]),
+                 draws.parameter_u[j]);
+        }
+      });
   EXPECT_GE(done, kReplicates - 10);  // practically every replicate fits and resamples
   ASSERT_GT(done, 1);
   const char* names[] = {"X_m", "C", "K"};
@@ -154,8 +133,8 @@ TEST(GabErrorsInVariablesCoverageTest, CovarianceBootstrapAndMonteCarloIntervals
       std::printf("GAB EIV %s: %s coverage %.3f, mean u / sd %.3f (%d replicates x %d)\n", names[j],
                   kind, coverage, ratio, done, kResamples);
       RecordProperty(std::string(kind) + "_coverage_" + names[j], std::to_string(coverage));
-      EXPECT_GE(coverage, kMinCoverage) << names[j] << " " << kind;
-      EXPECT_LE(coverage, kMaxCoverage) << names[j] << " " << kind;
+      EXPECT_GE(coverage, testing::kMinIntervalCoverage) << names[j] << " " << kind;
+      EXPECT_LE(coverage, testing::kMaxIntervalCoverage) << names[j] << " " << kind;
       EXPECT_GE(ratio, kMinRatio) << names[j] << " " << kind;
       EXPECT_LE(ratio, kMaxRatio) << names[j] << " " << kind;
     }

@@ -41,22 +41,18 @@ constexpr double kTemperatureK = 298.15;
 constexpr double kRelativeSigmaMoisture = 0.01;  // 1 % of the value
 constexpr int kReplicates = 400;
 constexpr int kResamples = 1000;
-constexpr double kMinCoverage = 0.92;
-constexpr double kMaxCoverage = 0.98;
 
 std::vector<Observation> Replicate(testing::NormalSource* noise) {
   const Model& model = models::GabModel();
   std::vector<Observation> points;
   for (const char* salt : kSalts) {
     const physics::SaltHumidity table = physics::SaltSolutionHumidity(salt, kTemperatureK);
-    Observation o;
-    o.x[0] = table.rh_fraction + table.standard_uncertainty_fraction * noise->Normal();
-    const double f = model.Evaluate(kTruth.data(), o.x.data(), ModelContext{});
-    o.x[0] = table.rh_fraction;
-    o.y = f * (1.0 + kRelativeSigmaMoisture * noise->Normal());
-    o.sigma_y = kRelativeSigmaMoisture * o.y;
-    o.sigma_x0 = table.standard_uncertainty_fraction;
-    points.push_back(o);
+    // The desiccator's true humidity deviates from the table value the laboratory states.
+    const double true_rh =
+        table.rh_fraction + table.standard_uncertainty_fraction * noise->Normal();
+    points.push_back(testing::ErrorsInVariablesPoint(
+        model, kTruth.data(), true_rh, table.rh_fraction, table.standard_uncertainty_fraction,
+        kRelativeSigmaMoisture, noise));
   }
   return points;
 }
@@ -81,31 +77,15 @@ struct Tally {
 
 TEST(GabSmallErrorsInVariablesCoverageTest, BootstrapAndMonteCarloCoverOrAreNotFormed) {
   testing::NormalSource noise(20261204);
-  FitOptions options;
-  options.weights = WeightConvention::kAbsolute;
-  options.errors_in_variables = true;
-  ResampleOptions bootstrap;
-  bootstrap.kind = ResampleKind::kResidualBootstrap;
-  bootstrap.num_resamples = kResamples;
-  ResampleOptions monte_carlo;
-  monte_carlo.kind = ResampleKind::kMonteCarloInputs;
-  monte_carlo.num_resamples = kResamples;
   Tally boot, mc;
   int fitted = 0;
-  for (int r = 0; r < kReplicates; ++r) {
-    const std::vector<Observation> points = Replicate(&noise);
-    const FitResult fit = FitModel(models::GabModel(), points, ModelContext{}, options);
-    bootstrap.seed = noise.Raw();
-    monte_carlo.seed = noise.Raw();
-    if (!fit.ok() || !fit.summary.covariance_available) continue;
-    ++fitted;
-    const ResampleResult b =
-        Resample(models::GabModel(), points, ModelContext{}, fit, options, bootstrap);
-    const ResampleResult m =
-        Resample(models::GabModel(), points, ModelContext{}, fit, options, monte_carlo);
-    boot.Add(b);
-    mc.Add(m);
-  }
+  testing::RunResampledReplicates(
+      models::GabModel(), testing::ErrorsInVariablesOptions(), kReplicates, kResamples, &noise,
+      Replicate, [&](const FitResult&, const ResampleResult& b, const ResampleResult& m) {
+        ++fitted;
+        boot.Add(b);
+        mc.Add(m);
+      });
   EXPECT_GE(fitted, kReplicates - 10);  // practically every replicate fits
   const char* names[] = {"X_m", "C", "K"};
   for (const auto& [kind, tally] : {std::pair{"bootstrap", &boot}, std::pair{"Monte Carlo", &mc}}) {
@@ -117,8 +97,8 @@ TEST(GabSmallErrorsInVariablesCoverageTest, BootstrapAndMonteCarloCoverOrAreNotF
       const double coverage = static_cast<double>(tally->hits[j]) / tally->formed;
       std::printf("small GAB EIV %s %s: coverage %.3f (%d replicates x %d)\n", kind, names[j],
                   coverage, tally->formed, kResamples);
-      EXPECT_GE(coverage, kMinCoverage) << names[j] << " " << kind;
-      EXPECT_LE(coverage, kMaxCoverage) << names[j] << " " << kind;
+      EXPECT_GE(coverage, testing::kMinIntervalCoverage) << names[j] << " " << kind;
+      EXPECT_LE(coverage, testing::kMaxIntervalCoverage) << names[j] << " " << kind;
     }
   }
   // No replicate fits exactly: both are formed on every fitted replicate.
@@ -133,9 +113,7 @@ TEST(GabSmallErrorsInVariablesCoverageTest, BootstrapAndMonteCarloCoverOrAreNotF
 // of about 0.5 %). Drawn with t_0.03 it was 10^4-10^6 times larger or threw (fitter.h).
 TEST(GabSmallErrorsInVariablesCoverageTest, NegligibleCommonFactorWithFewDof) {
   testing::NormalSource noise(20261205);
-  FitOptions options;
-  options.weights = WeightConvention::kAbsolute;
-  options.errors_in_variables = true;
+  const FitOptions options = testing::ErrorsInVariablesOptions();
   int checked = 0;
   for (int r = 0; r < 20; ++r) {
     const std::vector<Observation> points = Replicate(&noise);
