@@ -22,6 +22,7 @@ constexpr int kMaxDaysPerStep = 80;
 const char* const kSalts[] = {"LiCl", "MgCl2", "Mg(NO3)2", "NaCl", "KCl", "K2SO4"};
 // Two more saturated salts between them (Greenspan 1977), for designs with 7 or 8 steps.
 const char* const kMoreSalts[] = {"K2CO3", "NaBr"};
+constexpr const char* kDesiccatorDataSet = "desiccator-23C";
 
 double Weigh(double true_mass_g, Random& random) {
   const double reading = true_mass_g + kBalanceSd_g * random.Normal();
@@ -61,6 +62,33 @@ double RunDesiccatorStep(double dry_mass_g, double x_start, double x_eq, double 
   step.first_line = step.weighings.front().line;
   step.last_line = step.weighings.back().line;
   return x_last;
+}
+
+// A desiccator job without its weighings: oven-dried specimens weighed on the balance above, one
+// data set at 23 degC, and per salt in `salts` (in order) the true RH of its desiccator (the
+// Greenspan table value plus its standard uncertainty times a normal deviate drawn from
+// `random`) and the true moisture content of `truth` there.
+GeneratedJob StartDesiccatorJob(const Gab& truth, const char* job_file,
+                                const std::vector<const char*>& salts, Random& random) {
+  GeneratedJob job;
+  job.truth = truth;
+  ingest::JobSpec& spec = job.ingested.job;
+  spec.job_file = job_file;
+  spec.dry_mass_method = ingest::DryMassMethod::kOvenDrying;
+  spec.balance_resolution_g = kBalanceStep_g;
+  spec.balance_standard_uncertainty_g = kBalanceSd_g;
+  spec.temperature_standard_uncertainty_K = 0.2;
+  ingest::DataSetSpec dataset;
+  dataset.id = kDesiccatorDataSet;
+  dataset.temperature_K = kTestTemperature_K;
+  spec.datasets.push_back(dataset);
+  for (const char* salt : salts) {
+    const physics::SaltHumidity table = physics::SaltSolutionHumidity(salt, kTestTemperature_K);
+    const double rh = table.rh_fraction + table.standard_uncertainty_fraction * random.Normal();
+    job.true_rh_fraction.push_back(rh);
+    job.true_moisture_kg_per_kg.push_back(job.truth(rh));
+  }
+  return job;
 }
 
 // ---- Vapour log ------------------------------------------------------------------------
@@ -130,27 +158,11 @@ GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd, in
            physics::SaltSolutionHumidity(b, kTestTemperature_K).rh_fraction;
   });
   Random random(seed);
-  GeneratedJob job;
-  job.truth = Gab{0.045, 9.0, 0.75};  // a wood-like material (invented)
+  GeneratedJob job = StartDesiccatorJob(Gab{0.045, 9.0, 0.75},  // a wood-like material (invented)
+                                        "generated-desiccator.toml", salts, random);
   ingest::JobSpec& spec = job.ingested.job;
-  spec.job_file = "generated-desiccator.toml";
-  spec.dry_mass_method = ingest::DryMassMethod::kOvenDrying;
-  spec.balance_resolution_g = kBalanceStep_g;
-  spec.balance_standard_uncertainty_g = kBalanceSd_g;
-  spec.temperature_standard_uncertainty_K = 0.2;
-  ingest::DataSetSpec dataset;
-  dataset.id = "desiccator-23C";
-  dataset.temperature_K = kTestTemperature_K;
-  spec.datasets.push_back(dataset);
-  // True RH of each desiccator: table value + its standard uncertainty x normal deviate.
-  for (const char* salt : salts) {
-    const physics::SaltHumidity table = physics::SaltSolutionHumidity(salt, kTestTemperature_K);
-    const double rh = table.rh_fraction + table.standard_uncertainty_fraction * random.Normal();
-    job.true_rh_fraction.push_back(rh);
-    job.true_moisture_kg_per_kg.push_back(job.truth(rh));
-  }
   ingest::DesiccatorSeries series;
-  series.dataset_id = dataset.id;
+  series.dataset_id = kDesiccatorDataSet;
   series.file = "generated-weighings.csv";
   int line = 2;
   for (int s = 0; s < num_specimens; ++s) {
@@ -192,31 +204,17 @@ GeneratedJob MakeDesiccatorJob(std::uint64_t seed, double specimen_factor_sd, in
 
 GeneratedJob MakeShortStepDesiccatorJob(std::uint64_t seed, bool own_time_constants) {
   Random random(seed);
-  GeneratedJob job;
-  job.truth = Gab{0.005, 12.0, 0.7};  // a mineral plaster (invented)
+  GeneratedJob job = StartDesiccatorJob(Gab{0.005, 12.0, 0.7},  // a mineral plaster (invented)
+                                        "generated-desiccator-plaster.toml",
+                                        {std::begin(kSalts), std::end(kSalts)}, random);
   ingest::JobSpec& spec = job.ingested.job;
-  spec.job_file = "generated-desiccator-plaster.toml";
-  spec.dry_mass_method = ingest::DryMassMethod::kOvenDrying;
-  spec.balance_resolution_g = kBalanceStep_g;
-  spec.balance_standard_uncertainty_g = kBalanceSd_g;
-  spec.temperature_standard_uncertainty_K = 0.2;
-  ingest::DataSetSpec dataset;
-  dataset.id = "desiccator-23C";
-  dataset.temperature_K = kTestTemperature_K;
-  spec.datasets.push_back(dataset);
-  for (const char* salt : kSalts) {
-    const physics::SaltHumidity table = physics::SaltSolutionHumidity(salt, kTestTemperature_K);
-    const double rh = table.rh_fraction + table.standard_uncertainty_fraction * random.Normal();
-    job.true_rh_fraction.push_back(rh);
-    job.true_moisture_kg_per_kg.push_back(job.truth(rh));
-  }
   // One time constant per step, shared by the specimens (oven first).
   std::vector<double> tau_s = {random.Uniform(0.3, 0.6) * kDay_s};
   for (std::size_t k = 0; k < std::size(kSalts); ++k) {
     tau_s.push_back(random.Uniform(1.0, 4.0) * kDay_s);
   }
   ingest::DesiccatorSeries series;
-  series.dataset_id = dataset.id;
+  series.dataset_id = kDesiccatorDataSet;
   series.file = "generated-weighings.csv";
   int line = 2;
   // The specimens go through each desiccator together: each step starts for all of them at the
