@@ -60,18 +60,62 @@ double GabAt(const std::vector<double>& p, double rh_fraction) {
   return gab(rh_fraction);
 }
 
+// Equilibrate, reduce and the fit of GAB alone (the fit stage's defaults: covariance, Monte Carlo
+// and bootstrap intervals) of one generated job, as the run stage takes it.
+struct GabReplicate {
+  reduce::ReducedIsotherms reduced;
+  fit::IsothermFits fits;
+};
+
+GabReplicate FitGab(const GeneratedJob& job) {
+  const equilibrate::EquilibriumSet equilibria =
+      equilibrate::Equilibrate(job.ingested, equilibrate::EquilibrateOptions{});
+  GabReplicate replicate;
+  replicate.reduced = reduce::Reduce(job.ingested, equilibria, reduce::ReduceOptions{});
+  fit::FitStageOptions options;
+  options.models = {"gab"};
+  replicate.fits = fit::FitIsotherms(replicate.reduced, options);
+  return replicate;
+}
+
+// Adds the Monte Carlo and the bootstrap percentile interval of GAB parameter j (value: the
+// fitted one) against its truth.
+void AddResampledIntervals(const fit::ModelFit& gab, std::size_t j, double value, double truth,
+                           std::map<std::string, Tally>& tallies) {
+  const char* const names[] = {"X_m", "C", "K"};
+  tallies[std::string("Monte Carlo ") + names[j]].AddInterval(
+      value, truth, gab.monte_carlo.parameter_low[j], gab.monte_carlo.parameter_high[j],
+      gab.monte_carlo.parameter_u[j]);
+  tallies[std::string("bootstrap percentile ") + names[j]].AddInterval(
+      value, truth, gab.bootstrap.parameter_low[j], gab.bootstrap.parameter_high[j],
+      gab.bootstrap.parameter_u[j]);
+}
+
+// Prints every tally (coverage of the stated interval, mean u / sd) under `title`, then checks
+// that there are num_tallies of them, each covering in min_coverage-kMaxCoverage with its mean
+// u / sd in kMinRatio-kMaxRatio.
+void ReportAndCheck(const std::string& title, const std::map<std::string, Tally>& tallies,
+                    std::size_t num_tallies, double min_coverage) {
+  std::cout << title << " (" << kReplicates
+            << " replicates): coverage of the stated interval, mean u / sd\n";
+  for (const auto& [name, t] : tallies) {
+    std::cout << "  " << name << ": " << 100.0 * t.Coverage() << " %, " << t.Ratio() << "\n";
+  }
+  ASSERT_EQ(tallies.size(), num_tallies);
+  for (const auto& [name, t] : tallies) {
+    SCOPED_TRACE(name);
+    EXPECT_GE(t.Coverage(), min_coverage);
+    EXPECT_LE(t.Coverage(), kMaxCoverage);
+    EXPECT_GE(t.Ratio(), kMinRatio);
+    EXPECT_LE(t.Ratio(), kMaxRatio);
+  }
+}
+
 TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap) {
   std::map<std::string, Tally> tallies;
-  const char* const names[] = {"X_m", "C", "K"};
   for (int r = 0; r < kReplicates; ++r) {
     const GeneratedJob job = MakeDesiccatorJob(3000 + static_cast<std::uint64_t>(r), 0.03);
-    const equilibrate::EquilibriumSet equilibria =
-        equilibrate::Equilibrate(job.ingested, equilibrate::EquilibrateOptions{});
-    const reduce::ReducedIsotherms reduced =
-        reduce::Reduce(job.ingested, equilibria, reduce::ReduceOptions{});
-    fit::FitStageOptions options;
-    options.models = {"gab"};
-    const fit::IsothermFits fits = fit::FitIsotherms(reduced, options);
+    const fit::IsothermFits fits = FitGab(job).fits;
     ASSERT_EQ(fits.fits.size(), 1u);
     const fit::ModelFit& gab = fits.fits[0];
     ASSERT_TRUE(gab.result.ok());
@@ -83,13 +127,7 @@ TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap)
     ASSERT_GE(gab.bootstrap.parameter_draws.size(), 900u);
     EXPECT_EQ(gab.bootstrap.studentized_not_formed, fitters::kStudentizedWithCommonFactor);
     for (std::size_t j = 0; j < 3; ++j) {
-      const double value = gab.result.parameters[j];
-      tallies[std::string("Monte Carlo ") + names[j]].AddInterval(
-          value, truth[j], gab.monte_carlo.parameter_low[j], gab.monte_carlo.parameter_high[j],
-          gab.monte_carlo.parameter_u[j]);
-      tallies[std::string("bootstrap percentile ") + names[j]].AddInterval(
-          value, truth[j], gab.bootstrap.parameter_low[j], gab.bootstrap.parameter_high[j],
-          gab.bootstrap.parameter_u[j]);
+      AddResampledIntervals(gab, j, gab.result.parameters[j], truth[j], tallies);
       EXPECT_TRUE(std::isnan(gab.bootstrap.studentized_low[j]));
       EXPECT_TRUE(std::isnan(gab.bootstrap.studentized_high[j]));
     }
@@ -105,19 +143,8 @@ TEST(ResampledCoverageTest, DesiccatorJobsSpecimensDifferMonteCarloAndBootstrap)
                        stats.standard_uncertainty);
     }
   }
-  std::cout << "desiccator, specimens differing by 3 % (" << kReplicates
-            << " replicates): coverage of the stated interval, mean u / sd\n";
-  for (const auto& [name, t] : tallies) {
-    std::cout << "  " << name << ": " << 100.0 * t.Coverage() << " %, " << t.Ratio() << "\n";
-  }
-  ASSERT_EQ(tallies.size(), 8u);  // 3 Monte Carlo and 3 bootstrap parameters, 2 moistures
-  for (const auto& [name, t] : tallies) {
-    SCOPED_TRACE(name);
-    EXPECT_GE(t.Coverage(), kMinCoverage);
-    EXPECT_LE(t.Coverage(), kMaxCoverage);
-    EXPECT_GE(t.Ratio(), kMinRatio);
-    EXPECT_LE(t.Ratio(), kMaxRatio);
-  }
+  // 3 Monte Carlo and 3 bootstrap parameters, 2 moistures.
+  ReportAndCheck("desiccator, specimens differing by 3 %", tallies, 8, kMinCoverage);
 }
 
 // Several specimens that differ (factor sd 3 %, 3-5 specimens) over 6-8 salts: the class of job
@@ -141,13 +168,9 @@ TEST(ResampledCoverageTest, SeveralSpecimensSixToEightSaltsEveryInterval) {
     const int num_salts = 6 + (r / 3) % 3;
     const GeneratedJob job =
         MakeDesiccatorJob(7000 + static_cast<std::uint64_t>(r), 0.03, num_specimens, num_salts);
-    const equilibrate::EquilibriumSet equilibria =
-        equilibrate::Equilibrate(job.ingested, equilibrate::EquilibrateOptions{});
-    const reduce::ReducedIsotherms reduced =
-        reduce::Reduce(job.ingested, equilibria, reduce::ReduceOptions{});
-    fit::FitStageOptions options;
-    options.models = {"gab"};
-    const fit::IsothermFits fits = fit::FitIsotherms(reduced, options);
+    const GabReplicate replicate = FitGab(job);
+    const reduce::ReducedIsotherms& reduced = replicate.reduced;
+    const fit::IsothermFits& fits = replicate.fits;
     ASSERT_EQ(fits.fits.size(), 1u);
     const fit::ModelFit& gab = fits.fits[0];
     ASSERT_TRUE(gab.result.ok());
@@ -160,27 +183,12 @@ TEST(ResampledCoverageTest, SeveralSpecimensSixToEightSaltsEveryInterval) {
       tallies[std::string("covariance ") + names[j]].AddInterval(
           estimate.value, truth[j], estimate.interval_low, estimate.interval_high,
           estimate.standard_error);
-      tallies[std::string("Monte Carlo ") + names[j]].AddInterval(
-          estimate.value, truth[j], gab.monte_carlo.parameter_low[j],
-          gab.monte_carlo.parameter_high[j], gab.monte_carlo.parameter_u[j]);
-      tallies[std::string("bootstrap percentile ") + names[j]].AddInterval(
-          estimate.value, truth[j], gab.bootstrap.parameter_low[j], gab.bootstrap.parameter_high[j],
-          gab.bootstrap.parameter_u[j]);
+      AddResampledIntervals(gab, j, estimate.value, truth[j], tallies);
     }
   }
-  std::cout << "desiccator, 3-5 specimens differing by 3 %, 6-8 salts (" << kReplicates
-            << " replicates): coverage of the stated interval, mean u / sd\n";
-  for (const auto& [name, t] : tallies) {
-    std::cout << "  " << name << ": " << 100.0 * t.Coverage() << " %, " << t.Ratio() << "\n";
-  }
-  ASSERT_EQ(tallies.size(), 9u);  // 3 parameters x (covariance, Monte Carlo, bootstrap)
-  for (const auto& [name, t] : tallies) {
-    SCOPED_TRACE(name);
-    EXPECT_GE(t.Coverage(), kMinCoverageHere);
-    EXPECT_LE(t.Coverage(), kMaxCoverage);
-    EXPECT_GE(t.Ratio(), kMinRatio);
-    EXPECT_LE(t.Ratio(), kMaxRatio);
-  }
+  // 3 parameters x (covariance, Monte Carlo, bootstrap).
+  ReportAndCheck("desiccator, 3-5 specimens differing by 3 %, 6-8 salts", tallies, 9,
+                 kMinCoverageHere);
 }
 
 }  // namespace
