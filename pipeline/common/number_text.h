@@ -28,6 +28,11 @@ namespace sorbtrace::common {
 // is known to better than about 1e-5 relative; a balance reading has five to six digits).
 inline constexpr int kMaxValueDigits = 6;
 
+// Significant digits of a printed uncertainty (standard or expanded) where no template sets
+// them: two (JCGM 100:2008, 7.2.6: "at most two significant digits"; also the most a template
+// may ask for).
+inline constexpr int kUncertaintySignificantDigits = 2;
+
 // `value` to `significant_digits` significant digits (1-15), plain or in engineering
 // notation by the rules above; "0" for zero, "n/a" when not finite.
 std::string FormatSignificant(double value, int significant_digits);

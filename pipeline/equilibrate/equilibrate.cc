@@ -143,8 +143,6 @@ void CountAndWarn(const EquilibriumPoint& point, EquilibrateSummary& summary) {
   }
 }
 
-// Significant digits of a standard uncertainty in a note (JCGM 100:2008, 7.2.6: at most two).
-constexpr int kUncertaintyDigits = 2;
 // Share of the total below which a part of an uncertainty is named negligible rather than
 // printed (a model term of 1e-101 g beside a fit term of 1e-6 g; project choice).
 constexpr double kNegligibleShare = 0.01;
@@ -154,8 +152,9 @@ std::string UncertaintyParts(double u_fit_g, double u_model_g) {
   if (!(u_model_g > kNegligibleShare * std::hypot(u_fit_g, u_model_g))) {
     return "from the fit; model term negligible";
   }
-  return fmt::format("fit {} g, model {} g", common::FormatSignificant(u_fit_g, kUncertaintyDigits),
-                     common::FormatSignificant(u_model_g, kUncertaintyDigits));
+  return fmt::format("fit {} g, model {} g",
+                     common::FormatSignificant(u_fit_g, common::kUncertaintySignificantDigits),
+                     common::FormatSignificant(u_model_g, common::kUncertaintySignificantDigits));
 }
 
 // Applies the residual-approach estimate of a step that met its criterion (approach.h); the
@@ -165,7 +164,7 @@ void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint&
     point.flags.push_back(fmt::format(
         "approach to equilibrium not resolved from the trace; last change as rectangular "
         "uncertainty (u = {} g)",
-        common::FormatSignificant(point.u_mass_drift_g, 2)));
+        common::FormatSignificant(point.u_mass_drift_g, common::kUncertaintySignificantDigits)));
     return;
   }
   point.approach_correction_g = estimate.correction_g;
@@ -177,10 +176,11 @@ void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint&
   point.mass_g += estimate.correction_g;
   point.u_mass_drift_g = 0.0;
   const double u_g = std::hypot(estimate.u_correction_g, estimate.u_model_g);
-  point.flags.push_back(
-      fmt::format("approach to equilibrium corrected by {} g (u = {} g; {})",
-                  common::FormatAtUncertainty(estimate.correction_g, u_g, kUncertaintyDigits, true),
-                  common::FormatSignificant(u_g, kUncertaintyDigits), estimate.method));
+  point.flags.push_back(fmt::format(
+      "approach to equilibrium corrected by {} g (u = {} g; {})",
+      common::FormatAtUncertainty(estimate.correction_g, u_g, common::kUncertaintySignificantDigits,
+                                  true),
+      common::FormatSignificant(u_g, common::kUncertaintySignificantDigits), estimate.method));
 }
 
 // ---- Desiccator ------------------------------------------------------------------------
@@ -461,8 +461,9 @@ void EquilibrateLog(const ingest::VaporLog& log, const ingest::JobSpec& job,
                 reason, tail_span / kSecondsPerHour, internal::DescribeCandidates(fit),
                 fit.slowest_tau_s / kSecondsPerHour,
                 common::FormatAtUncertainty(fit.m_inf_g - mass, fit.TotalUncertainty_g(),
-                                            kUncertaintyDigits, true),
-                common::FormatSignificant(fit.TotalUncertainty_g(), kUncertaintyDigits),
+                                            common::kUncertaintySignificantDigits, true),
+                common::FormatSignificant(fit.TotalUncertainty_g(),
+                                          common::kUncertaintySignificantDigits),
                 UncertaintyParts(fit.u_m_inf_g, fit.u_model_g)));
           }
         }

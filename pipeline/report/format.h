@@ -13,5 +13,6 @@ using common::FormatProbability;
 using common::FormatSetting;
 using common::FormatSignificant;
 using common::kMaxValueDigits;
+using common::kUncertaintySignificantDigits;
 
 }  // namespace sorbtrace::report::internal

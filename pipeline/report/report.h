@@ -33,7 +33,8 @@ struct Template {
   double margin_mm = 18.0;
   // Units and precision.
   bool moisture_in_percent = true;  // else kg/kg
-  int uncertainty_significant_digits = 2;
+  // Significant digits of a printed uncertainty: 1 or 2 (JCGM 100:2008, 7.2.6).
+  int uncertainty_significant_digits = common::kUncertaintySignificantDigits;
   // Sections in order: "summary", "conformity", "isotherm", "models", "pores", "kinetics",
   // "equilibria", "method", "deviations", "cautions".
   std::vector<std::string> sections;

@@ -317,7 +317,8 @@ std::string CyclesSentence(const SectionContext& ctx) {
           if (!f.is_cycle || f.dataset_id != dataset) continue;
           parts +=
               fmt::format("{}{}: {} % (ν = {})", parts.empty() ? "" : "; ", BranchLabel(g.branch),
-                          FormatSignificant(f.relative_standard_uncertainty * 100.0, 2),
+                          FormatSignificant(f.relative_standard_uncertainty * 100.0,
+                                            kUncertaintySignificantDigits),
                           FormatSignificant(f.degrees_of_freedom, 2));
           break;  // one factor per cycle, all with the same u
         }

@@ -75,7 +75,9 @@ void AddDryMasses(const SectionContext& ctx, Section& section) {
     table.rows.push_back(
         {{d.specimen_id, ""},
          {FormatFixed(d.mass_g, 4) + " g", ""},
-         {d.u_mass_g > 0.0 ? FormatSignificant(d.u_mass_g, 2) + " g" : "balance only", ""},
+         {d.u_mass_g > 0.0 ? FormatSignificant(d.u_mass_g, kUncertaintySignificantDigits) + " g"
+                           : "balance only",
+          ""},
          {d.method + (d.equilibrated ? "" : " (not at constant mass)"), ""}});
   }
   section.blocks.emplace_back(std::move(table));
@@ -94,15 +96,17 @@ TableBlock BudgetTable(const SectionContext& ctx, const PointBudget& budget,
   for (const reduce::BudgetLine& b : budget.moisture) {
     table.rows.push_back(
         {{b.quantity, ""},
-         {FormatSignificant(b.contribution * ms, 2), ""},
+         {FormatSignificant(b.contribution * ms, kUncertaintySignificantDigits), ""},
          {u2 > 0.0 ? FormatFixed(100.0 * b.contribution * b.contribution / u2, 1) : "–", ""}});
   }
-  table.rows.push_back({{"combined standard uncertainty u_c", ""},
-                        {FormatSignificant(moisture.standard_uncertainty * ms, 2), ""},
-                        {"100.0", ""}});
+  table.rows.push_back(
+      {{"combined standard uncertainty u_c", ""},
+       {FormatSignificant(moisture.standard_uncertainty * ms, kUncertaintySignificantDigits), ""},
+       {"100.0", ""}});
   table.rows.push_back(
       {{"expanded uncertainty U = k u_c (k = " + CoverageText(moisture.coverage_factor) + ")", ""},
-       {FormatSignificant(moisture.display_expanded_uncertainty, 2), ""},
+       {FormatSignificant(moisture.display_expanded_uncertainty, kUncertaintySignificantDigits),
+        ""},
        {"", ""}});
   return table;
 }

@@ -47,7 +47,7 @@ nlohmann::ordered_json QuantityJson(const Quantity& quantity);
 // How values are shown: the template's rules.
 struct DisplayRules {
   bool moisture_in_percent = true;
-  int significant_digits = 2;
+  int significant_digits = common::kUncertaintySignificantDigits;
   double coverage_factor = 2.0;
 };
 

@@ -141,7 +141,7 @@ void ReadUnitsTable(TemplateReader& reader, const toml::table* t, Template& layo
   if (const toml::node* n = t->get("uncertainty_significant_digits")) {
     const long long digits = reader.Integer(*n, "uncertainty_significant_digits");
     // JCGM 100:2008, 7.2.6: "at most two significant digits"; one is allowed too.
-    if (digits < 1 || digits > 2) {
+    if (digits < 1 || digits > common::kUncertaintySignificantDigits) {
       throw InputError(
           reader.Where(n->source()),
           "uncertainty_significant_digits " + std::to_string(digits) + " is out of range",

@@ -14,6 +14,7 @@
 
 #include "pipeline/common/diagnostics.h"
 #include "pipeline/common/files.h"
+#include "pipeline/common/number_text.h"
 #include "pipeline/equilibrate/equilibrate.h"
 #include "pipeline/ingest/ingest.h"
 #include "pipeline/physics/physics.h"
@@ -131,8 +132,9 @@ void PrintText(const ingest::IngestResult& in, const equilibrate::EquilibriumSet
         "  {:<20} {:<12} {:<10} cycle {}  RH {} %  u {} kg/kg (k = {:.2g}, n = {})\n", p.dataset_id,
         p.step_label, ingest::BranchName(p.branch), p.cycle,
         report::FormatWithUncertainty(p.rh_fraction * kPercent, p.expanded_u_rh_fraction * kPercent,
-                                      2),
-        report::FormatWithUncertainty(p.moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg, 2),
+                                      common::kUncertaintySignificantDigits),
+        report::FormatWithUncertainty(p.moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg,
+                                      common::kUncertaintySignificantDigits),
         reduced.coverage_factor, p.num_specimens);
   }
   if (!reduced.retention.empty()) {
