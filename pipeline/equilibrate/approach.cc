@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <array>
+#include <boost/math/distributions/chi_squared.hpp>
 #include <cmath>
 #include <vector>
 
@@ -62,8 +63,9 @@ bool RemainingFromThree(const std::array<double, 3>& m, double a_s, double b_s, 
 }
 
 ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
-                                    double reported_mass_g, double balance_u_g,
+                                    double reported_mass_g, const WeighingScatter& scatter,
                                     const EquilibrateOptions& options) {
+  const double balance_u_g = scatter.sd_g;
   ApproachEstimate estimate;
   // The chain of the criterion: the last weighing and the previous ones min_weighing_interval
   // apart (criteria.h); three are needed.
@@ -108,10 +110,62 @@ ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
   estimate.correction_g = m[0] + remaining - reported_mass_g;
   estimate.u_correction_g = std::sqrt(variance);
   estimate.time_constant_s = tau;
-  estimate.degrees_of_freedom = 0;
+  estimate.degrees_of_freedom = scatter.degrees_of_freedom;
   estimate.method =
       fmt::format("first-order decay through the last three criterion weighings, tau = {:.3g} h",
                   tau / kSecondsPerHour);
+  return estimate;
+}
+
+// The weighings of a trace as arrays, from its start (when known and asked for) on.
+struct Series {
+  std::vector<double> time_s;
+  std::vector<double> mass_g;
+  bool from_start = false;
+};
+Series ToSeries(const StepTrace& trace, bool from_start) {
+  Series series;
+  series.from_start = from_start && trace.start != nullptr;
+  if (series.from_start) {
+    series.time_s.push_back(trace.start->time_s);
+    series.mass_g.push_back(trace.start->mass_g);
+  }
+  for (const ingest::Weighing& weighing : trace.weighings) {
+    series.time_s.push_back(weighing.time_s);
+    series.mass_g.push_back(weighing.mass_g);
+  }
+  return series;
+}
+
+// The upper-tail probability of the chi-square of the fit's model with the largest weight,
+// weighed by the stated scatter (n - p degrees of freedom).
+double LackOfFitProbability(const TailFit& fit, double sd_g) {
+  const int parameters = fit.terms == 2 ? 5 : 3;
+  const int dof = fit.num_points - parameters;
+  if (dof < 1 || !(sd_g > 0.0)) return 1.0;
+  const double chi_square =
+      fit.rms_residual_g * fit.rms_residual_g * fit.num_points / (sd_g * sd_g);
+  return boost::math::cdf(
+      boost::math::complement(boost::math::chi_squared_distribution<double>(dof), chi_square));
+}
+
+// Approach from a kinetic-model fit of `series` with the stated scatter; not estimated when the
+// series is too short, the fit fails or fails the lack-of-fit test.
+ApproachEstimate FitWithStatedScatter(const Series& series, double reported_mass_g,
+                                      const WeighingScatter& scatter,
+                                      const EquilibrateOptions& options) {
+  if (static_cast<int>(series.time_s.size()) < kMinTracePointsForFit) return ApproachEstimate{};
+  TailFitOptions tail = TailOptions(options, series.time_s.front());
+  tail.point_sd_g = scatter.sd_g;
+  tail.point_sd_degrees_of_freedom = scatter.degrees_of_freedom;
+  const TailFit fit = FitExponentialTail(series.time_s, series.mass_g, tail);
+  if (!fit.ok || LackOfFitProbability(fit, scatter.sd_g) < kLackOfFitProbability) {
+    return ApproachEstimate{};
+  }
+  ApproachEstimate estimate =
+      FromTailFit(fit, reported_mass_g,
+                  series.from_start ? "weighings from the previous step's last" : "weighings");
+  estimate.includes_weighing_scatter = true;
   return estimate;
 }
 
@@ -125,22 +179,50 @@ TailFitOptions TailOptions(const EquilibrateOptions& options, double step_start_
   return tail;
 }
 
-ApproachEstimate EstimateDesiccatorApproach(std::span<const ingest::Weighing> weighings,
-                                            double reported_mass_g, double balance_u_g,
+WeighingScatter PooledWeighingScatter(std::span<const StepTrace> traces, double balance_u_g,
+                                      const EquilibrateOptions& options) {
+  double ssr_g2 = 0.0;
+  WeighingScatter scatter;
+  for (const StepTrace& trace : traces) {
+    if (static_cast<int>(trace.weighings.size()) < kMinTracePointsForScatter) continue;
+    const Series own = ToSeries(trace, false);
+    const TailFit fit =
+        FitExponentialTail(own.time_s, own.mass_g, TailOptions(options, own.time_s.front()));
+    if (!fit.ok || fit.degrees_of_freedom < 1) continue;
+    ssr_g2 += fit.rms_residual_g * fit.rms_residual_g * fit.num_points;
+    scatter.degrees_of_freedom += fit.degrees_of_freedom;
+    ++scatter.num_steps;
+  }
+  if (scatter.num_steps == 0 || !(ssr_g2 > 0.0)) return WeighingScatter{balance_u_g, 0, 0};
+  scatter.sd_g = std::sqrt(ssr_g2 / scatter.degrees_of_freedom);
+  return scatter;
+}
+
+ApproachEstimate EstimateDesiccatorApproach(const StepTrace& trace, double reported_mass_g,
+                                            const WeighingScatter& scatter,
                                             const EquilibrateOptions& options) {
-  if (static_cast<int>(weighings.size()) >= kMinWeighingsForFit) {
-    std::vector<double> t, m;
-    for (const auto& weighing : weighings) {
-      t.push_back(weighing.time_s);
-      m.push_back(weighing.mass_g);
-    }
-    // The first weighing is taken at the transfer into the desiccator: the step start.
-    const TailFit fit = FitExponentialTail(t, m, TailOptions(options, t.front()));
-    ApproachEstimate estimate = FromTailFit(fit, reported_mass_g, "weighings");
-    estimate.includes_weighing_scatter = estimate.estimated;
+  for (const bool from_start : {true, false}) {
+    const Series series = ToSeries(trace, from_start);
+    if (from_start != series.from_start) continue;
+    // Without the start, the three criterion weighings of a four-weighing step are the local
+    // estimate (4 below): a four-point fit would also lean on the first, least settled weighing.
+    const int needed = from_start ? kMinTracePointsForFit : kMinTracePointsForScatter;
+    if (static_cast<int>(series.time_s.size()) < needed) continue;
+    ApproachEstimate estimate = FitWithStatedScatter(series, reported_mass_g, scatter, options);
     if (estimate.estimated) return estimate;
   }
-  return FromThreeWeighings(weighings, reported_mass_g, balance_u_g, options);
+  if (static_cast<int>(trace.weighings.size()) >= kMinTracePointsForScatter) {
+    const Series own = ToSeries(trace, false);
+    const TailFit fit =
+        FitExponentialTail(own.time_s, own.mass_g, TailOptions(options, own.time_s.front()));
+    ApproachEstimate estimate = FromTailFit(fit, reported_mass_g, "weighings");
+    estimate.includes_weighing_scatter = estimate.estimated;
+    if (estimate.estimated) {
+      estimate.method += "; own residual scale";
+      return estimate;
+    }
+  }
+  return FromThreeWeighings(trace.weighings, reported_mass_g, scatter, options);
 }
 
 ApproachEstimate EstimateLogApproach(std::span<const double> tail_time_s,

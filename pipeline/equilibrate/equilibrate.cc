@@ -172,24 +172,68 @@ void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint&
   point.u_mass_approach_model_g = estimate.u_model_g;
   point.approach_degrees_of_freedom = estimate.degrees_of_freedom;
   point.approach_time_constant_s = estimate.time_constant_s;
+  point.approach_method = estimate.method;
   point.mass_includes_weighing_scatter = estimate.includes_weighing_scatter;
   point.mass_g += estimate.correction_g;
   point.u_mass_drift_g = 0.0;
   const double u_g = std::hypot(estimate.u_correction_g, estimate.u_model_g);
-  point.flags.push_back(fmt::format(
-      "approach to equilibrium corrected by {} g (u = {} g; {})",
-      common::FormatAtUncertainty(estimate.correction_g, u_g, common::kUncertaintySignificantDigits,
-                                  true),
-      common::FormatSignificant(u_g, common::kUncertaintySignificantDigits), estimate.method));
+  point.flags.push_back(
+      fmt::format("approach to equilibrium corrected by {} g (u = {} g; tau = {:.3g} h)",
+                  common::FormatAtUncertainty(estimate.correction_g, u_g,
+                                              common::kUncertaintySignificantDigits, true),
+                  common::FormatSignificant(u_g, common::kUncertaintySignificantDigits),
+                  estimate.time_constant_s / kSecondsPerHour));
 }
 
 // ---- Desiccator ------------------------------------------------------------------------
+
+// The specimen's last weighing before the step's first one (in any step of the series), when
+// the step's first weighing is at least half a weighing interval after it
+// (EquilibrateOptions::previous_weighing_starts_step); nullptr otherwise.
+const ingest::Weighing* PreviousWeighing(const ingest::DesiccatorSeries& series,
+                                         const ingest::DesiccatorStep& step,
+                                         const EquilibrateOptions& options) {
+  if (!options.previous_weighing_starts_step || step.weighings.empty()) return nullptr;
+  const double first_s = step.weighings.front().time_s;
+  const ingest::Weighing* previous = nullptr;
+  for (const ingest::DesiccatorStep& other : series.steps) {
+    if (other.specimen_id != step.specimen_id || &other == &step) continue;
+    for (const ingest::Weighing& weighing : other.weighings) {
+      if (weighing.time_s <= first_s &&
+          (previous == nullptr || weighing.time_s > previous->time_s)) {
+        previous = &weighing;
+      }
+    }
+  }
+  constexpr double kHalf = 0.5;  // of the weighing interval: EquilibrateOptions
+  if (previous == nullptr || first_s - previous->time_s < kHalf * options.min_weighing_interval_s) {
+    return nullptr;
+  }
+  return previous;
+}
+
+// Every step's trace for the approach estimate (approach.h), in the order of series.steps.
+std::vector<internal::StepTrace> DesiccatorTraces(const ingest::DesiccatorSeries& series,
+                                                  const EquilibrateOptions& options) {
+  std::vector<internal::StepTrace> traces;
+  traces.reserve(series.steps.size());
+  for (const ingest::DesiccatorStep& step : series.steps) {
+    traces.push_back(internal::StepTrace{step.weighings, PreviousWeighing(series, step, options)});
+  }
+  return traces;
+}
 
 void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest::JobSpec& job,
                            const EquilibrateOptions& options, EquilibriumSet& set) {
   std::map<std::string, Trace> traces;  // by specimen, emitted in first-appearance order
   std::vector<std::string> order;
-  for (const ingest::DesiccatorStep& step : series.steps) {
+  const std::vector<internal::StepTrace> step_traces = DesiccatorTraces(series, options);
+  const internal::WeighingScatter scatter =
+      internal::PooledWeighingScatter(step_traces, BalanceStandardUncertainty_g(job), options);
+  set.summary.weighing_scatter.push_back(WeighingScatterRecord{
+      series.dataset_id, scatter.sd_g, scatter.degrees_of_freedom, scatter.num_steps});
+  for (std::size_t k = 0; k < series.steps.size(); ++k) {
+    const ingest::DesiccatorStep& step = series.steps[k];
     EquilibriumPoint point;
     point.dataset_id = series.dataset_id;
     point.specimen_id = step.specimen_id;
@@ -217,9 +261,9 @@ void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest:
     if (criterion.met) {
       point.time_to_equilibrium_s =
           step.weighings[static_cast<std::size_t>(criterion.first_met_index)].time_s - first.time_s;
-      ApplyApproach(internal::EstimateDesiccatorApproach(
-                        step.weighings, last.mass_g, BalanceStandardUncertainty_g(job), options),
-                    point);
+      ApplyApproach(
+          internal::EstimateDesiccatorApproach(step_traces[k], last.mass_g, scatter, options),
+          point);
     } else {
       point.time_to_equilibrium_s = last.time_s - first.time_s;
       if (criterion.chain_length < options.min_weighings) {

@@ -33,6 +33,16 @@ struct EquilibrateOptions {
   // standard; 0 gives the literal reading.
   double weighing_interval_tolerance_s = 3600.0;
   int min_weighings = 3;  // [min_weighings] weighings that must agree
+  // Desiccator: the weighing that ends a specimen's step is also the start of its next step
+  // (weighed, then moved into the next atmosphere; ISO 12571 moves the specimen on once its
+  // mass is constant, from memory). When the next step's first weighing is at least half of
+  // min_weighing_interval_s later, the step's trace for the approach to equilibrium starts at
+  // that weighing (approach.h): the large early change it adds fixes the time constant of a
+  // step that met its criterion after three weighings. A first weighing sooner than that is
+  // taken as the weighing at the transfer itself (the laboratory weighed on moving the
+  // specimen). false: each step's own weighings alone (specimens stored or reconditioned
+  // between steps). Project choice.
+  bool previous_weighing_starts_step = true;  // [previous_weighing_starts_step]
   // Vapour-sorption log: |dm/dt| from a least-squares line over the last rate_window_s of
   // block means, relative to the reference dry mass (stated dry mass, else the lowest block
   // mass of the log), below rate_limit_fraction_per_min. Common practice: 0.002 %/min over a
@@ -100,6 +110,9 @@ struct EquilibriumPoint {
   double u_mass_approach_model_g = 0.0;
   int approach_degrees_of_freedom = 0;
   double approach_time_constant_s = 0.0;
+  // How the approach was estimated (trace, kinetic models and their weights); the flag names
+  // only the correction, its u and the time constant (a short line in the equilibrium table).
+  std::string approach_method;
   // True when mass_g is the asymptote of a fit through the step's independent weighings
   // (desiccator): its Type A uncertainty (u_mass_approach_g) holds the balance scatter, so the
   // reduce stage does not count the balance standard uncertainty of that mass again.
@@ -173,6 +186,17 @@ struct Trace {
   std::vector<double> equilibrium_times_s;  // where equilibria were detected
 };
 
+// The scatter of one weighing about its step's approach curve that a desiccator data set's
+// approach estimates use (pipeline/equilibrate/approach.h): pooled over num_steps steps of five
+// or more weighings on degrees_of_freedom (JCGM 100:2008, 4.2.4), or, with num_steps = 0, the
+// balance's stated standard uncertainty (Type B, degrees_of_freedom 0 = infinite).
+struct WeighingScatterRecord {
+  std::string dataset_id;
+  double sd_g = 0.0;
+  int degrees_of_freedom = 0;
+  int num_steps = 0;
+};
+
 // Counts are disjoint: num_equilibrated (criterion met) + num_extrapolated +
 // num_not_equilibrated = num_steps (drying steps included).
 struct EquilibrateSummary {
@@ -181,6 +205,7 @@ struct EquilibrateSummary {
   int num_equilibrated = 0;
   int num_extrapolated = 0;
   int num_not_equilibrated = 0;
+  std::vector<WeighingScatterRecord> weighing_scatter;  // one per desiccator data set
 };
 
 struct EquilibriumSet {

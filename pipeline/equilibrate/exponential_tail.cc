@@ -25,6 +25,11 @@ constexpr int kGoldenIterations = 80;
 constexpr double kGolden = 0.6180339887498949;
 constexpr int kThreeParameters = 3;  // m_inf, A, tau
 constexpr int kFiveParameters = 5;   // m_inf, A1, tau1, A2, tau2
+// Points a fit needs: three parameters and residual degrees of freedom for s^2 and AICc (n - p -
+// 1 > 0); with a stated point sd, one more point than parameters (a residual to weigh the
+// candidates by).
+constexpr std::size_t kMinPoints = 5;
+constexpr std::size_t kMinPointsStatedSd = 4;
 constexpr double kSecondsPerHour = 3600.0;
 // A fitted amplitude is resolved when it lies more than this many standard uncertainties from
 // zero (about 95 %, two-sided normal; common practice).
@@ -164,6 +169,8 @@ struct ModelFit {
   double origin = 0.0;  // scaled time origin (Fickian sheet)
   double m_inf = 0.0;
   double u_m_inf = 0.0;
+  // [(J'J)^-1]_(m_inf, m_inf): u_m_inf^2 / s^2, for a stated point standard deviation.
+  double unscaled_variance_m_inf = 0.0;
   double amplitude = 0.0;
   double tau = 0.0;
   double amplitude2 = 0.0;
@@ -305,10 +312,12 @@ ModelFit FitThreeParameters(const ScaledTail& scaled, const Basis& basis) {
     fit.message = "exponential fit not identifiable";
     return fit;
   }
-  const double s2 = one.ssr / static_cast<double>(n - kThreeParameters);
-  const Eigen::Matrix3d covariance = s2 * lu.inverse();
+  const double s2 = n > kThreeParameters ? one.ssr / static_cast<double>(n - kThreeParameters)
+                                         : std::numeric_limits<double>::quiet_NaN();
+  const Eigen::Matrix3d unscaled = lu.inverse();
   fit.ok = true;
-  fit.u_m_inf = std::sqrt(std::max(0.0, covariance(0, 0)));
+  fit.unscaled_variance_m_inf = std::max(0.0, unscaled(0, 0));
+  fit.u_m_inf = std::sqrt(s2 * fit.unscaled_variance_m_inf);
   fit.degrees_of_freedom = static_cast<int>(n) - kThreeParameters;
   return fit;
 }
@@ -397,7 +406,8 @@ ModelFit FitTwoTerms(const ScaledTail& grouped, const ModelFit& one) {
   // Ceres' covariance assumes unit residual variance: scale by s^2.
   fit.ok = true;
   fit.m_inf = x[0];
-  fit.u_m_inf = std::sqrt(std::max(0.0, full[0] * s2));
+  fit.unscaled_variance_m_inf = std::max(0.0, full[0]);
+  fit.u_m_inf = std::sqrt(fit.unscaled_variance_m_inf * s2);
   fit.amplitude = x[1];
   fit.tau = std::exp(x[2]);
   fit.amplitude2 = x[3];
@@ -435,6 +445,12 @@ double Aicc(double ssr, std::size_t n, int p) {
   if (!(dof > 0.0) || !(ssr > 0.0)) return std::numeric_limits<double>::infinity();
   return count * std::log(ssr / count) + 2.0 * p + 2.0 * p * (p + 1.0) / dof;
 }
+
+// The same with a stated standard deviation of the points: -2 ln L = chi^2 + const, so
+// AIC = chi^2 + 2p (Burnham & Anderson 2002, 2.2, for a known error variance; from memory),
+// chi^2 = SSR / sd^2. Defined for every n (no small-sample term: that one corrects for the
+// estimated variance).
+double AicStatedSd(double chi_square, int p) { return chi_square + 2.0 * p; }
 
 double SsrOn(const ScaledTail& data, const ModelFit& fit) {
   double ssr = 0.0;
@@ -501,7 +517,8 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   TailFit fit;
   const std::size_t n = std::min(time_s.size(), mass_g.size());
   fit.num_points = static_cast<int>(n);
-  if (n < 5) {
+  const bool stated_sd = options.point_sd_g.has_value() && *options.point_sd_g > 0.0;
+  if (n < (stated_sd ? kMinPointsStatedSd : kMinPoints)) {
     fit.message = "too few points in the tail";
     return fit;
   }
@@ -536,8 +553,14 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   // ---- Akaike weights on the group means.
   std::vector<double> aicc;
   aicc.reserve(fits.size());
+  // Stated sd: of one point in scaled units (a group mean of g points has sd / sqrt(g)).
+  const double group_size = static_cast<double>(n) / static_cast<double>(grouped.t.size());
+  const double sd_scaled = stated_sd ? *options.point_sd_g / scaled.mass_scale : 0.0;
   for (const ModelFit& candidate : fits) {
-    aicc.push_back(Aicc(SsrOn(grouped, candidate), grouped.t.size(), candidate.parameters));
+    const double ssr = SsrOn(grouped, candidate);
+    aicc.push_back(
+        stated_sd ? AicStatedSd(ssr * group_size / (sd_scaled * sd_scaled), candidate.parameters)
+                  : Aicc(ssr, grouped.t.size(), candidate.parameters));
   }
   std::vector<double> all_weights = fitters::AkaikeWeights(aicc);
   double all_sum = 1.0;  // AkaikeWeights: normalised, or all 0 when no AICc is defined
@@ -590,7 +613,10 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   }
   double within = 0.0, between = 0.0;
   for (std::size_t i = 0; i < credible.size(); ++i) {
-    within += weight[i] * credible[i].u_m_inf * credible[i].u_m_inf;
+    const double variance = stated_sd ? sd_scaled * sd_scaled * credible[i].unscaled_variance_m_inf
+                                      : credible[i].u_m_inf * credible[i].u_m_inf;
+    credible[i].u_m_inf = std::sqrt(variance);
+    within += weight[i] * variance;
     between += weight[i] * (credible[i].m_inf - mean) * (credible[i].m_inf - mean);
   }
   // ---- Back to the units of the input.
@@ -606,7 +632,8 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   fit.m_inf_g = scaled.mass_offset + s * mean;
   fit.u_m_inf_g = s * std::sqrt(within);
   fit.u_model_g = s * std::sqrt(between);
-  fit.degrees_of_freedom = chosen.degrees_of_freedom;
+  fit.degrees_of_freedom =
+      stated_sd ? options.point_sd_degrees_of_freedom : chosen.degrees_of_freedom;
   fit.model = chosen.model;
   fit.terms = chosen.model == KineticModel::kTwoExponentials ? 2 : 1;
   fit.step_start_s = scaled.t0 + chosen.origin * time_scale;

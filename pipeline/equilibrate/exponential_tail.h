@@ -73,9 +73,11 @@ struct TailFit {
   std::string message;  // why the fit was refused (when !ok)
   // Model-averaged asymptote and its two uncertainty parts (see above).
   double m_inf_g = 0.0;
-  double u_m_inf_g = 0.0;                 // sqrt(sum w_i u_i^2), Type A
-  double u_model_g = 0.0;                 // sqrt(sum w_i (m_i - m_inf)^2)
-  int degrees_of_freedom = 0;             // n - p of the model with the largest weight
+  double u_m_inf_g = 0.0;  // sqrt(sum w_i u_i^2), Type A
+  double u_model_g = 0.0;  // sqrt(sum w_i (m_i - m_inf)^2)
+  // n - p of the model with the largest weight (TailFitOptions::point_sd_degrees_of_freedom
+  // when a point sd is stated).
+  int degrees_of_freedom = 0;
   std::vector<TailCandidate> candidates;  // in the order listed above
   // The curve of the model with the largest weight (for the slope at the step end).
   KineticModel model = KineticModel::kOneExponential;
@@ -112,6 +114,14 @@ struct TailFitOptions {
   // Start of the step (the Fickian sheet's time origin, <= the first tail time); without it the
   // Fickian sheet is not a candidate.
   std::optional<double> step_start_s;
+  // Stated standard deviation of one point about the curve (e.g. the scatter of a data set's
+  // weighings pooled over its steps, JCGM 100:2008, 4.2.4) and its degrees of freedom (0:
+  // infinite, a Type B value such as the balance's stated uncertainty). When set, each
+  // candidate's u(m_inf) is point_sd sqrt([(J'J)^-1]_00) in place of s sqrt(...), the weights use
+  // AIC = SSR / sd^2 + 2p (known variance), TailFit::degrees_of_freedom is
+  // point_sd_degrees_of_freedom, and four points suffice (five otherwise).
+  std::optional<double> point_sd_g;
+  int point_sd_degrees_of_freedom = 0;
 };
 
 // Fits the tail given as parallel arrays (times increasing).

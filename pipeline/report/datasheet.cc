@@ -274,8 +274,14 @@ void DrawBlock(Document& doc, const Section& section, size_t index) {
     doc.EnsureSpace(StartHeight(doc, section, index));  // kept with the block below it
     doc.Subheading(b->text);
   } else if (const auto* p = std::get_if<ParagraphBlock>(&block)) {
-    doc.EnsureSpace(StartHeight(doc, section, index));
-    if (p->space_before_pt > 0.0) doc.Skip(p->space_before_pt);
+    // The space before a paragraph is given up where it alone would carry the paragraph to the
+    // next page (space at a page break is discarded anyway; common typesetting practice): the
+    // end-of-report line then stays with the text it closes.
+    const double start = StartHeight(doc, section, index);
+    const bool keep_space =
+        !(start > doc.Remaining() && start - p->space_before_pt <= doc.Remaining());
+    doc.EnsureSpace(keep_space ? start : start - p->space_before_pt);
+    if (keep_space && p->space_before_pt > 0.0) doc.Skip(p->space_before_pt);
     doc.Paragraph(p->text, p->size_pt, p->indent_pt, p->muted ? palette::kSlate : palette::kInk,
                   p->bold);
   } else if (const auto* l = std::get_if<BulletsBlock>(&block)) {

@@ -131,6 +131,7 @@ Json EquilibriaJson(const SheetRecord& record) {
                       {"u_mass_approach_g", Number(p.u_mass_approach_g)},
                       {"u_mass_approach_model_g", Number(p.u_mass_approach_model_g)},
                       {"approach_time_constant_s", Number(p.approach_time_constant_s)},
+                      {"approach_method", p.approach_method},
                       {"time_to_equilibrium_s", Number(p.time_to_equilibrium_s)},
                       {"equilibrated", p.equilibrated},
                       {"extrapolated", p.extrapolated},
@@ -152,6 +153,14 @@ Json EquilibriaJson(const SheetRecord& record) {
                     {"num_extrapolated", e.summary.num_extrapolated},
                     {"num_not_equilibrated", e.summary.num_not_equilibrated},
                     {"warnings", Diagnostics(e.summary.warnings)}};
+  Json scatter = Json::array();
+  for (const equilibrate::WeighingScatterRecord& w : e.summary.weighing_scatter) {
+    scatter.push_back({{"dataset_id", w.dataset_id},
+                       {"sd_g", Number(w.sd_g)},
+                       {"degrees_of_freedom", w.degrees_of_freedom},
+                       {"num_steps_pooled", w.num_steps}});
+  }
+  out["summary"]["weighing_scatter"] = scatter;
   return out;
 }
 

@@ -62,6 +62,26 @@ void AddProcedure(const SectionContext& ctx, Section& section) {
   }
 }
 
+// One sentence per desiccator data set: the weighing scatter its approach estimates used.
+void AddWeighingScatter(const SectionContext& ctx, Section& section) {
+  if (ctx.inputs.equilibria == nullptr) return;
+  for (const equilibrate::WeighingScatterRecord& w :
+       ctx.inputs.equilibria->summary.weighing_scatter) {
+    const std::string source =
+        w.num_steps > 0
+            ? fmt::format(
+                  "standard deviation pooled over the {} steps of five or more weighings, "
+                  "{} degrees of freedom; JCGM 100:2008, 4.2.4",
+                  w.num_steps, w.degrees_of_freedom)
+            : "the balance's stated standard uncertainty: no step has five weighings";
+    section.blocks.emplace_back(ParagraphBlock{
+        fmt::format("Data set {}: the approach to equilibrium of each step is read from its "
+                    "weighings with a weighing scatter of {} g ({}).",
+                    w.dataset_id, FormatSignificant(w.sd_g, kUncertaintySignificantDigits), source),
+        8.0});
+  }
+}
+
 void AddDryMasses(const SectionContext& ctx, Section& section) {
   section.blocks.emplace_back(SubheadingBlock{"Dry mass"});
   if (ctx.inputs.equilibria == nullptr) return;
@@ -184,6 +204,7 @@ void AddSettings(const SectionContext& ctx, Section& section) {
 
 void BuildMethodSection(const SectionContext& ctx, Section& section) {
   AddProcedure(ctx, section);
+  AddWeighingScatter(ctx, section);
   if (!ctx.sheet.not_evaluated.empty()) {  // the design could not support these models
     section.blocks.emplace_back(SubheadingBlock{"Models not evaluated"});
     section.blocks.emplace_back(BulletsBlock{ctx.sheet.not_evaluated, 8.0});

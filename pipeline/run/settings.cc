@@ -353,6 +353,14 @@ std::vector<SettingKey> BuildSettingKeys() {
        .access = Field<kEquilibrate, &Eq::rate_window_s>(),
        .doc = "window of the rate criterion"},
       {.section = "equilibrium",
+       .name = "previous_weighing_starts_step",
+       .kind = K::kBool,
+       .access = Field<kEquilibrate, &Eq::previous_weighing_starts_step>(),
+       .doc = "a desiccator step's approach to equilibrium is read from the specimen's last "
+              "weighing of its previous step on (weighed, then moved on), when the step's first "
+              "weighing is at least half a weighing interval later; false when specimens are "
+              "stored or reconditioned between steps"},
+      {.section = "equilibrium",
        .name = "extrapolate_unfinished_steps",
        .kind = K::kBool,
        .access = Field<kEquilibrate, &Eq::extrapolate_unfinished_steps>(),

@@ -198,6 +198,95 @@ TEST(EquilibrateDesiccatorTest, UnknownSaltIsAnInputError) {
   }
 }
 
+// ---- The step start and the pooled weighing scatter (approach.h) ------------------------
+
+// Specimen A: the desiccant step of DesiccatorJob (last weighing 10.0000 g at 72 h), then a NaCl
+// step weighed from 96 h on, one day after it was moved in at 72 h, with first-order kinetics
+// m(t) = 10.0200 - 0.0200 exp(-(t - 72 h) / 48 h) (no noise): the criterion range over 96-144 h,
+// 0.0077 g, is below 0.1 % of the mass, so the step ends after three weighings with
+// 0.0200 exp(-1.5) = 4.4626e-3 g of its approach left.
+ingest::IngestResult ShortStepJob(double first_hour) {
+  ingest::IngestResult in = DesiccatorJob(ingest::DryMassMethod::kDesiccantStep);
+  std::vector<std::pair<double, double>> weighings;
+  for (double h = first_hour; h <= first_hour + 48.0; h += 24.0) {
+    weighings.emplace_back(h, 10.0200 - 0.0200 * std::exp(-(h - 72.0) / 48.0));
+  }
+  in.desiccator_series[0].steps[1] = Step("A", 1, "NaCl", ingest::Branch::kAdsorption, weighings);
+  return in;
+}
+
+TEST(EquilibrateDesiccatorTest, StepStartsAtThePreviousStepsLastWeighing) {
+  const EquilibriumPoint with_start =
+      Equilibrate(ShortStepJob(96.0), EquilibrateOptions{}).points[1];
+  ASSERT_TRUE(with_start.equilibrated);
+  EXPECT_NE(with_start.approach_method.find("from the previous step's last"), std::string::npos)
+      << with_start.approach_method;
+  // The four points (72 h start and three weighings) lie on the curve: the fit returns it.
+  EXPECT_NEAR(with_start.approach_correction_g, 0.0200 * std::exp(-1.5), 1e-7);
+  EXPECT_NEAR(with_start.approach_time_constant_s, 48.0 * kHour_s, 60.0);
+  // No step has five weighings: the balance's stated uncertainty is the scatter (Type B).
+  const EquilibriumSet set = Equilibrate(ShortStepJob(96.0), EquilibrateOptions{});
+  ASSERT_EQ(set.summary.weighing_scatter.size(), 1u);
+  EXPECT_EQ(set.summary.weighing_scatter[0].num_steps, 0);
+  EXPECT_NEAR(set.summary.weighing_scatter[0].sd_g,
+              BalanceStandardUncertainty_g(ShortStepJob(96.0).job), 1e-15);
+  EXPECT_EQ(with_start.approach_degrees_of_freedom, 0);
+
+  // Without the start: the last three criterion weighings give the same value (exact first
+  // order, equal spacing: d1 r / (1 - r)) with a larger uncertainty (the curvature of three
+  // late weighings against the balance scatter, in place of the large early change).
+  EquilibrateOptions own_weighings;
+  own_weighings.previous_weighing_starts_step = false;
+  const EquilibriumPoint without = Equilibrate(ShortStepJob(96.0), own_weighings).points[1];
+  EXPECT_NE(without.approach_method.find("last three criterion weighings"), std::string::npos)
+      << without.approach_method;
+  EXPECT_NEAR(without.approach_correction_g, 0.0200 * std::exp(-1.5), 1e-7);
+  // Measured: 1.02 mg without, 0.46 mg with the start.
+  EXPECT_GT(without.u_mass_approach_g, 2.0 * with_start.u_mass_approach_g);
+}
+
+TEST(EquilibrateDesiccatorTest, AWeighingAtTheTransferIsTheStepStart) {
+  // First weighing 2 h after the previous step's last one (less than half the 24 h interval):
+  // the laboratory weighed on moving the specimen; the previous weighing is not prepended.
+  const EquilibriumPoint point = Equilibrate(ShortStepJob(74.0), EquilibrateOptions{}).points[1];
+  EXPECT_EQ(point.approach_method.find("previous step's last"), std::string::npos)
+      << point.approach_method;
+}
+
+TEST(EquilibrateDesiccatorTest, AStartTheKineticsDoNotReachIsNotUsed) {
+  // The specimen was stored elsewhere between the steps: its last weighing before the step
+  // (10.0000 g at 72 h) lies 0.5 g below a step that starts near 10.5 g. No kinetic model
+  // passes through it within the balance scatter (chi-square upper tail below 1 %), so the
+  // step's own weighings are used.
+  ingest::IngestResult in = ShortStepJob(96.0);
+  for (ingest::Weighing& w : in.desiccator_series[0].steps[1].weighings) w.mass_g += 0.5;
+  const EquilibriumPoint point = Equilibrate(in, EquilibrateOptions{}).points[1];
+  EXPECT_NE(point.approach_method.find("last three criterion weighings"), std::string::npos)
+      << point.approach_method;
+}
+
+TEST(EquilibrateDesiccatorTest, WeighingScatterPooledOverTheStepsWithFiveWeighings) {
+  // A's NaCl step weighed six times from its transfer at 72 h with +-0.2 mg alternating about
+  // first-order kinetics (tau 30 h): the only step with five or more weighings, so the pooled
+  // scatter is its own, s^2 = SSR / (6 - 3), on 3 degrees of freedom (JCGM 100:2008, 4.2.4), and
+  // every fitted approach of the data set carries those degrees of freedom.
+  ingest::IngestResult in = DesiccatorJob(ingest::DryMassMethod::kDesiccantStep);
+  std::vector<std::pair<double, double>> weighings;
+  for (int i = 0; i < 6; ++i) {
+    const double h = 72.0 + 24.0 * i;
+    const double wiggle_g = (i % 2 == 0 ? 2e-4 : -2e-4);
+    weighings.emplace_back(h, 10.0060 - 0.0060 * std::exp(-(h - 72.0) / 30.0) + wiggle_g);
+  }
+  in.desiccator_series[0].steps[1] = Step("A", 1, "NaCl", ingest::Branch::kAdsorption, weighings);
+  const EquilibriumSet set = Equilibrate(in, EquilibrateOptions{});
+  const EquilibriumPoint& point = set.points[1];
+  ASSERT_TRUE(point.equilibrated);
+  ASSERT_EQ(set.summary.weighing_scatter.size(), 1u);
+  EXPECT_EQ(set.summary.weighing_scatter[0].num_steps, 1);
+  EXPECT_EQ(set.summary.weighing_scatter[0].degrees_of_freedom, 3);
+  EXPECT_EQ(point.approach_degrees_of_freedom, 3);
+}
+
 // ---- Vapour logs ------------------------------------------------------------------------
 
 class Normal {
