@@ -204,9 +204,9 @@ ApproachEstimate EstimateDesiccatorApproach(const StepTrace& trace, double repor
   for (const bool from_start : {true, false}) {
     const Series series = ToSeries(trace, from_start);
     if (from_start != series.from_start) continue;
-    // Without the start, the three criterion weighings of a four-weighing step are the local
-    // estimate (4 below): a four-point fit would also lean on the first, least settled weighing.
-    const int needed = from_start ? kMinTracePointsForFit : kMinTracePointsForScatter;
+    // Four points need the step start (see the header).
+    const int needed = from_start || trace.first_weighing_is_start ? kMinTracePointsForFit
+                                                                   : kMinTracePointsForScatter;
     if (static_cast<int>(series.time_s.size()) < needed) continue;
     ApproachEstimate estimate = FitWithStatedScatter(series, reported_mass_g, scatter, options);
     if (estimate.estimated) return estimate;

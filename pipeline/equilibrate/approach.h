@@ -67,6 +67,8 @@ inline constexpr double kLackOfFitProbability = 0.01;
 struct StepTrace {
   std::span<const ingest::Weighing> weighings;
   const ingest::Weighing* start = nullptr;
+  // No start to prepend: the step's first weighing was taken at the transfer itself.
+  bool first_weighing_is_start = false;
 };
 
 // Standard deviation of one weighing about its step's approach curve.
@@ -104,7 +106,9 @@ struct ApproachEstimate {
 // reported_mass_g: the mass the step reports (last weighing); scatter: PooledWeighingScatter of
 // its data set. In order, the first that resolves the approach:
 //  1. the trace from its start, fitted with the stated scatter, if it passes the lack-of-fit test;
-//  2. the step's own weighings (at least kMinTracePointsForScatter), the same way;
+//  2. the step's own weighings, the same way (at least kMinTracePointsForFit when the first was
+//     taken at the transfer, else kMinTracePointsForScatter: a four-point fit from a first
+//     weighing already inside the approach would lean on its least settled point);
 //  3. its own weighings (at least kMinTracePointsForScatter) with the fit's own residual scale
 //     (Type A, n - p degrees of freedom: kinetics the models describe only with a scatter
 //     larger than the data set's);

@@ -187,13 +187,14 @@ void ApplyApproach(const internal::ApproachEstimate& estimate, EquilibriumPoint&
 
 // ---- Desiccator ------------------------------------------------------------------------
 
-// The specimen's last weighing before the step's first one (in any step of the series), when
-// the step's first weighing is at least half a weighing interval after it
-// (EquilibrateOptions::previous_weighing_starts_step); nullptr otherwise.
-const ingest::Weighing* PreviousWeighing(const ingest::DesiccatorSeries& series,
-                                         const ingest::DesiccatorStep& step,
-                                         const EquilibrateOptions& options) {
-  if (!options.previous_weighing_starts_step || step.weighings.empty()) return nullptr;
+// The step's trace (approach.h): its weighings and the specimen's last weighing before the
+// step's first one (in any step of the series). That weighing is the step's start when the first
+// weighing is at least half a weighing interval after it; a first weighing sooner than that is
+// itself the weighing at the transfer (EquilibrateOptions::previous_weighing_starts_step).
+internal::StepTrace TraceOf(const ingest::DesiccatorSeries& series,
+                            const ingest::DesiccatorStep& step, const EquilibrateOptions& options) {
+  internal::StepTrace trace{step.weighings, nullptr, false};
+  if (!options.previous_weighing_starts_step || step.weighings.empty()) return trace;
   const double first_s = step.weighings.front().time_s;
   const ingest::Weighing* previous = nullptr;
   for (const ingest::DesiccatorStep& other : series.steps) {
@@ -205,11 +206,14 @@ const ingest::Weighing* PreviousWeighing(const ingest::DesiccatorSeries& series,
       }
     }
   }
+  if (previous == nullptr) return trace;
   constexpr double kHalf = 0.5;  // of the weighing interval: EquilibrateOptions
-  if (previous == nullptr || first_s - previous->time_s < kHalf * options.min_weighing_interval_s) {
-    return nullptr;
+  if (first_s - previous->time_s < kHalf * options.min_weighing_interval_s) {
+    trace.first_weighing_is_start = true;
+  } else {
+    trace.start = previous;
   }
-  return previous;
+  return trace;
 }
 
 // Every step's trace for the approach estimate (approach.h), in the order of series.steps.
@@ -218,7 +222,7 @@ std::vector<internal::StepTrace> DesiccatorTraces(const ingest::DesiccatorSeries
   std::vector<internal::StepTrace> traces;
   traces.reserve(series.steps.size());
   for (const ingest::DesiccatorStep& step : series.steps) {
-    traces.push_back(internal::StepTrace{step.weighings, PreviousWeighing(series, step, options)});
+    traces.push_back(TraceOf(series, step, options));
   }
   return traces;
 }
