@@ -65,7 +65,7 @@ bool RemainingFromThree(const std::array<double, 3>& m, double a_s, double b_s, 
 ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
                                     double reported_mass_g, const WeighingScatter& scatter,
                                     const EquilibrateOptions& options) {
-  const double balance_u_g = scatter.sd_g;
+  const double weighing_sd_g = scatter.sd_g;
   ApproachEstimate estimate;
   // The chain of the criterion: the last weighing and the previous ones min_weighing_interval
   // apart (criteria.h); three are needed.
@@ -86,7 +86,7 @@ ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
   // ratio d1/d2 is noise and the time constant unbounded.
   const double curvature = (m[1] - m[2]) - (m[0] - m[1]);
   const double kResolved = 2.0;  // about 95 % one-sided, project choice
-  if (!(std::abs(curvature) > kResolved * std::sqrt(6.0) * balance_u_g)) return estimate;
+  if (!(std::abs(curvature) > kResolved * std::sqrt(6.0) * weighing_sd_g)) return estimate;
   if (!(tau <= options.max_tau_to_tail_ratio * (t[0] - t[2]))) return estimate;
   // Propagation of the balance uncertainty of each weighing (JCGM 100:2008, Eq. 10) with
   // central-difference sensitivities.
@@ -104,7 +104,7 @@ ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
       return ApproachEstimate{};
     }
     const double c = (r_up - r_down) / (2.0 * h);
-    variance += c * c * balance_u_g * balance_u_g;
+    variance += c * c * weighing_sd_g * weighing_sd_g;
   }
   estimate.estimated = true;
   estimate.correction_g = m[0] + remaining - reported_mass_g;
@@ -149,6 +149,12 @@ double LackOfFitProbability(const TailFit& fit, double sd_g) {
       boost::math::complement(boost::math::chi_squared_distribution<double>(dof), chi_square));
 }
 
+// The kinetic-model fit of the step's own weighings with its own residual scale (Type A).
+TailFit FitOwnWeighings(const StepTrace& trace, const EquilibrateOptions& options) {
+  const Series own = ToSeries(trace, false);
+  return FitExponentialTail(own.time_s, own.mass_g, TailOptions(options, own.time_s.front()));
+}
+
 // Approach from a kinetic-model fit of `series` with the stated scatter; not estimated when the
 // series is too short, the fit fails or fails the lack-of-fit test.
 ApproachEstimate FitWithStatedScatter(const Series& series, double reported_mass_g,
@@ -185,9 +191,7 @@ WeighingScatter PooledWeighingScatter(std::span<const StepTrace> traces, double 
   WeighingScatter scatter;
   for (const StepTrace& trace : traces) {
     if (static_cast<int>(trace.weighings.size()) < kMinTracePointsForScatter) continue;
-    const Series own = ToSeries(trace, false);
-    const TailFit fit =
-        FitExponentialTail(own.time_s, own.mass_g, TailOptions(options, own.time_s.front()));
+    const TailFit fit = FitOwnWeighings(trace, options);
     if (!fit.ok || fit.degrees_of_freedom < 1) continue;
     ssr_g2 += fit.rms_residual_g * fit.rms_residual_g * fit.num_points;
     scatter.degrees_of_freedom += fit.degrees_of_freedom;
@@ -212,10 +216,8 @@ ApproachEstimate EstimateDesiccatorApproach(const StepTrace& trace, double repor
     if (estimate.estimated) return estimate;
   }
   if (static_cast<int>(trace.weighings.size()) >= kMinTracePointsForScatter) {
-    const Series own = ToSeries(trace, false);
-    const TailFit fit =
-        FitExponentialTail(own.time_s, own.mass_g, TailOptions(options, own.time_s.front()));
-    ApproachEstimate estimate = FromTailFit(fit, reported_mass_g, "weighings");
+    ApproachEstimate estimate =
+        FromTailFit(FitOwnWeighings(trace, options), reported_mass_g, "weighings");
     estimate.includes_weighing_scatter = estimate.estimated;
     if (estimate.estimated) {
       estimate.method += "; own residual scale";
