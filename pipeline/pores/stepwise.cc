@@ -502,8 +502,9 @@ double WindowMaximumSpread(const std::vector<double>& step_log_r, const StepDraw
 //    interpolation's own error (0.09-0.22 of the step width in the coverage test against
 //    0.29) and stands in for a part of the noise the draws on fixed bars miss: at RH steps of
 //    0.05 it states the modes' u at 1.3-1.9 times their scatter, and the narrower terms tried
-//    lose the modes' coverage at RH steps of 0.025 (tests/pores/stepwise_coverage_test.cc,
-//    coarse schedule);
+//    lose the modes' coverage at RH steps of 0.025; the merge evaluated for every draw in
+//    place of this noise term states the modes at RH steps of 0.025 at 1.6-2.0 times their
+//    scatter (tests/pores/stepwise_coverage_test.cc, coarse schedule);
 //  - interpolation: the mode of grouped data (GroupedDataModeShift) assumes the density
 //    quadratic about its peak; the histogram itself (uniform within the bar) puts the mode at
 //    the bar's middle; and the densities it reads next to the bar may be the neighbouring bars'
