@@ -498,7 +498,13 @@ double WindowMaximumSpread(const std::vector<double>& step_log_r, const StepDraw
 //    holds it: rectangular over that step, u = w / sqrt(12) (JCGM 100:2008 F.2.2.1). Where a
 //    neighbouring bar could be as high as the mode's bar (its percentile band reaches the
 //    lower limit of the mode's), the maximum may lie in it: rectangular over the mode's bar and
-//    every such bar next to it instead (JCGM 100:2008 4.3.7);
+//    every such bar next to it instead (JCGM 100:2008 4.3.7). This rectangle overstates the
+//    interpolation's own error (0.09-0.22 of the step width in the coverage test against
+//    0.29) and stands in for a part of the noise the draws on fixed bars miss: at RH steps of
+//    0.05 it states the modes' u at 1.3-1.9 times their scatter, and the narrower terms tried
+//    lose the modes' coverage at RH steps of 0.025; the merge evaluated for every draw in
+//    place of this noise term states the modes at RH steps of 0.025 at 1.6-2.0 times their
+//    scatter (tests/pores/stepwise_coverage_test.cc, coarse schedule);
 //  - interpolation: the mode of grouped data (GroupedDataModeShift) assumes the density
 //    quadratic about its peak; the histogram itself (uniform within the bar) puts the mode at
 //    the bar's middle; and the densities it reads next to the bar may be the neighbouring bars'
