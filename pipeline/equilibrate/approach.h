@@ -22,19 +22,25 @@
 //    extrapolation of unfinished steps uses); correction = m_inf - m_reported, standard
 //    uncertainty from the fit covariance and the model term. Log: Type A from the tail's own
 //    residuals (n - 3 degrees of freedom, hundreds of block means). Desiccator: a step has 3-8
-//    weighings, and s from its own 1-5 residual degrees of freedom made u vary by a factor of
-//    ten between otherwise alike steps (held-out desiccator jobs: u / RMS error 0.58-0.68 at
-//    the salts whose steps end after three weighings); the scatter of the weighings about their
-//    curves is one property of the balance and handling, so it is pooled over the data set's
-//    steps (JCGM 100:2008, 4.2.4: a pooled estimate of a well-characterised measurement),
-//    PooledWeighingScatter, and every step's fit uses it (TailFitOptions::point_sd_g);
-//  - desiccator steps with fewer weighings: the three chain weighings m2, m1, m0 (times t2 <
-//    t1 < t0, differences d2 = m1 - m2, d1 = m0 - m1) fix the first-order time constant by
+//    weighings, and s from its own 1-5 residual degrees of freedom is itself uncertain by
+//    30-70 %; the scatter of the weighings about their curves is one property of the balance
+//    and handling, so it is pooled over the data set's steps (JCGM 100:2008, 4.2.4: a pooled
+//    estimate of a well-characterised measurement), PooledWeighingScatter, and every step's fit
+//    uses it (TailFitOptions::point_sd_g). The step's start (the weighing that ended the
+//    previous step) adds the large early change: a step that met its criterion after three
+//    weighings, read from three late weighings alone, had its time constant fixed by their
+//    curvature against the balance noise, and u varied about 40-fold between otherwise alike
+//    steps (held-out desiccator jobs: mean u / RMS error 0.58-0.68 at the salts whose steps
+//    ended after three weighings; with the start and the pooled scatter 1.00-1.03, and the RMS
+//    error 3.7-3.9 times smaller);
+//  - desiccator steps no fit describes (order in EstimateDesiccatorApproach): the three chain
+//    weighings m2, m1, m0 (times t2 < t1 < t0, differences d2 = m1 - m2, d1 = m0 - m1) fix the
+//    first-order time constant by
 //    d1 / d2 = (1 - exp(-a/tau)) / (exp(b/tau) - 1), a = t0 - t1, b = t1 - t2 (for a = b:
 //    d1/d2 = exp(-a/tau)), and the remaining approach is d1 / (exp(a/tau) - 1) (for a = b:
-//    d1 r / (1 - r), r = exp(-a/tau)); its uncertainty by propagating the balance standard
-//    scatter of the weighings (the pooled one, else the balance's stated uncertainty) on each of
-//    the three weighings (sensitivities by central differences);
+//    d1 r / (1 - r), r = exp(-a/tau)); its uncertainty by propagating the standard scatter of
+//    the weighings (the pooled one, else the balance's stated uncertainty) on each of the three
+//    weighings (sensitivities by central differences);
 //  - when neither resolves a time constant (changes of mixed sign or lost in the noise, a
 //    tail without curvature, a time constant beyond max_tau_to_tail_ratio times the trace):
 //    no correction; the last change over the criterion interval is the half-width of a
