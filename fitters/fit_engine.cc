@@ -12,6 +12,7 @@
 #include "fitters/internal/random.h"
 #include "fitters/internal/statistics.h"
 #include "fitters/numerical_failure.h"
+#include "pipeline/common/number_text.h"
 
 namespace sorbtrace::fitters {
 namespace {
@@ -299,9 +300,10 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
       stats.chi_square_p_value < 0.05) {
     // 5 % significance: common practice.
     summary.flags.push_back(fmt::format(
-        "chi-square check fails: weighted SSR = {:.4g} on {} degrees of freedom (p = {:.3g}); "
+        "chi-square check fails: weighted SSR = {:.4g} on {} degrees of freedom (p = {}); "
         "stated uncertainties too small or model inadequate",
-        stats.weighted_ssr, stats.degrees_of_freedom, stats.chi_square_p_value));
+        stats.weighted_ssr, stats.degrees_of_freedom,
+        common::FormatProbability(stats.chi_square_p_value, common::kProbabilityDigits)));
   }
   for (const std::string& flag : model.PhysicalFlags(result.parameters.data())) {
     summary.flags.push_back("physics: " + flag);

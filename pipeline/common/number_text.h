@@ -41,6 +41,9 @@ std::string FormatSignificant(double value, int significant_digits);
 // 10^-4 like any value, below that in scientific notation with the leading digit before the
 // point ("7.1 × 10⁻⁴⁹", not the engineering "710 × 10⁻⁵¹": a probability has no unit prefix a
 // power of 1000 would stand for; ISO 80000-1:2009, 6.5.1 scientific notation, from memory).
+// Significant digits of a printed p-value (a test's verdict needs its order of magnitude and
+// one more digit; common practice).
+inline constexpr int kProbabilityDigits = 2;
 std::string FormatProbability(double probability, int significant_digits);
 
 // `value` with a fixed number of decimals ("-0" printed as "0").

@@ -19,6 +19,7 @@
 #include "fitters/models/bet.h"
 #include "fitters/numerical_failure.h"
 #include "fitters/registry.h"
+#include "pipeline/common/number_text.h"
 #include "pipeline/fit/grouping.h"
 
 namespace sorbtrace::fit {
@@ -651,7 +652,8 @@ GoodnessOfFit GoodnessOfFitOf(const ModelFit& fit) {
   out.p_value = absolute ? s.chi_square_p_value : s.runs_test_p_value;
   out.passed = out.p_value >= kMinGoodnessOfFitPValue;  // NaN fails
   if (!out.passed) {
-    out.reason = fmt::format("fails its {} check (p = {:.2g}, below {:g})", out.test, out.p_value,
+    out.reason = fmt::format("fails its {} check (p = {}, below {:g})", out.test,
+                             common::FormatProbability(out.p_value, common::kProbabilityDigits),
                              kMinGoodnessOfFitPValue);
   }
   return out;

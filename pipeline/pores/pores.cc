@@ -14,6 +14,7 @@
 
 #include "fitters/numerical_failure.h"
 #include "fitters/registry.h"
+#include "pipeline/common/number_text.h"
 #include "pipeline/physics/physics.h"
 #include "pipeline/pores/distribution.h"
 #include "pipeline/pores/kelvin_film.h"
@@ -155,8 +156,9 @@ std::string ModelCheckFailure(const fit::IsothermFits& fits, int index, double r
   const double p_value =
       absolute ? r.statistics.chi_square_p_value : r.statistics.runs_test_p_value;
   if (!(p_value >= options.model_min_fit_p_value)) {
-    return fmt::format("the fit fails its goodness-of-fit check ({} p = {:.2g}, below {:g})",
-                       absolute ? "chi-square" : "runs test", p_value,
+    return fmt::format("the fit fails its goodness-of-fit check ({} p = {}, below {:g})",
+                       absolute ? "chi-square" : "runs test",
+                       common::FormatProbability(p_value, common::kProbabilityDigits),
                        options.model_min_fit_p_value);
   }
   const fit::FitGroup& group = fits.groups[static_cast<std::size_t>(f.group_index)];

@@ -737,7 +737,7 @@ void AddBestModelCautions(const fit::ModelFit& mf, const ModelRow& row, const Sh
               "The best-fitting model, {}, deviates from the measured points by more than their "
               "stated uncertainties (chi-square test, p = {}): values read from the curve may be "
               "less certain than stated.",
-              what, FormatProbability(s.chi_square_p_value, 2)),
+              what, FormatProbability(s.chi_square_p_value, common::kProbabilityDigits)),
           CautionRank::kValidity);
     } else if (f.rfind("physics: ", 0) == 0) {
       cautions.Add(

@@ -49,7 +49,7 @@ TEST(GoodnessOfFitTest, ChiSquareUnderAbsoluteWeightsDecides) {
   const GoodnessOfFit bad = GoodnessOfFitOf(oswin_like);
   EXPECT_FALSE(bad.passed);
   EXPECT_EQ(bad.test, "chi-square");
-  EXPECT_EQ(bad.reason, "fails its chi-square check (p = 7.1e-49, below 0.001)");
+  EXPECT_EQ(bad.reason, "fails its chi-square check (p = 7.1 × 10⁻⁴⁹, below 0.001)");
   EXPECT_TRUE(IsIdentified(oswin_like));
   EXPECT_FALSE(IsUsable(oswin_like));
   EXPECT_FALSE(GoodnessOfFitOf(FitWithPValues(WeightConvention::kAbsolute, 9.99e-4, 1.0)).passed);
