@@ -241,5 +241,32 @@ TEST(ExponentialTailTest, TooFewPointsIsRejected) {
   EXPECT_EQ(fit.message, "too few points in the tail");
 }
 
+// A stated point standard deviation (TailFitOptions::point_sd_g; e.g. the data set's pooled
+// weighing scatter): u(m_inf) = sd sqrt([(J'J)^-1]_00) is linear in the stated sd and does not
+// depend on the residuals; the fit carries the stated degrees of freedom; four points suffice
+// (five without it: s^2 needs n - p >= 2 for AICc). Daily weighings of a first-order step,
+// m(t) = 20.0200 - 0.0200 exp(-t / 1.5 d), with +-0.1 mg deterministic wiggles.
+TEST(ExponentialTailTest, StatedPointStandardDeviation) {
+  constexpr double kDay_s = 86400.0;
+  std::vector<double> t, m;
+  for (int day = 0; day <= 3; ++day) {
+    t.push_back(day * kDay_s);
+    m.push_back(20.0200 - 0.0200 * std::exp(-day / 1.5) + (day % 2 == 0 ? 1e-4 : -1e-4));
+  }
+  TailFitOptions options = OneTerm();
+  EXPECT_FALSE(FitExponentialTail(t, m, options).ok);  // four points, residual scale unknown
+  options.point_sd_g = 1e-4;
+  options.point_sd_degrees_of_freedom = 21;
+  const TailFit one = FitExponentialTail(t, m, options);
+  ASSERT_TRUE(one.ok) << one.message;
+  EXPECT_EQ(one.degrees_of_freedom, 21);
+  EXPECT_GT(one.u_m_inf_g, 0.0);
+  options.point_sd_g = 2e-4;
+  const TailFit two = FitExponentialTail(t, m, options);
+  ASSERT_TRUE(two.ok) << two.message;
+  EXPECT_DOUBLE_EQ(two.m_inf_g, one.m_inf_g);  // the estimate does not depend on the sd
+  EXPECT_NEAR(two.u_m_inf_g, 2.0 * one.u_m_inf_g, 1e-12 * one.u_m_inf_g);
+}
+
 }  // namespace
 }  // namespace sorbtrace::equilibrate::internal
