@@ -28,6 +28,7 @@
 #include <vector>
 
 #include "pipeline/common/bounded_input.h"
+#include "pipeline/common/number_text.h"
 #include "tests/common/e2e_support.h"
 #include "tests/report/pdf_tools.h"
 
@@ -165,6 +166,54 @@ TEST_F(SheetE2eTest, DemoSheetsPrintGumRoundedNumbersAndBudgetsOfEveryPoint) {
       EXPECT_EQ(p["specimen_ids"].size(), p["num_specimens"].get<size_t>());
     }
   }
+}
+
+// The desiccator demo (lime plaster): the weighing scatter its approach estimates used is in
+// results.json (equilibria.summary.weighing_scatter) and printed once in the method section as
+// the reader sees it; the steps whose first weighing came days after the previous step's last
+// are read from that start (the demo's LiCl step: oven weighings end 2026-03-06, LiCl weighings
+// start 2026-03-09), each with its method in results.json, and the table's flags stay short.
+TEST_F(SheetE2eTest, DesiccatorSheetStatesItsWeighingScatterAndStepStarts) {
+  const fs::path job =
+      fs::path(SORBTRACE_SOURCE_DIR) / "example_inputs" / "lime_plaster_desiccator" / "job.toml";
+  const fs::path out = root_ / "lime";
+  const CommandRun made = Sorbtrace("make " + job.string() + " --out " + out.string() + " -q");
+  ASSERT_EQ(made.exit_code, 0) << made.output;
+  const auto json = nlohmann::json::parse(Slurp(out / "results.json"));
+  const auto& scatter = json["equilibria"]["summary"]["weighing_scatter"];
+  ASSERT_EQ(scatter.size(), 1u);
+  EXPECT_EQ(scatter[0]["dataset_id"], "desiccator-23C");
+  const int pooled = scatter[0]["num_steps_pooled"].get<int>();
+  EXPECT_GT(pooled, 0);
+  // Each pooled step adds at least one residual degree of freedom (n - p >= 1).
+  EXPECT_GE(scatter[0]["degrees_of_freedom"].get<int>(), pooled);
+  const double sd_g = scatter[0]["sd_g"].get<double>();
+  EXPECT_GT(sd_g, 0.0);
+
+  // Printed once, to two significant digits, as the JSON value.
+  const std::string text = testing::CollapseSpaces(testing::PdfText(out / "datasheet.pdf"));
+  const std::string sentence =
+      "weighing scatter of " +
+      common::FormatSignificant(sd_g, common::kUncertaintySignificantDigits) + " g";
+  EXPECT_NE(text.find(sentence), std::string::npos) << sentence;
+
+  int from_previous = 0;
+  for (const auto& p : json["equilibria"]["points"]) {
+    if (p["approach_correction_g"].get<double>() != 0.0) {
+      EXPECT_FALSE(p["approach_method"].get<std::string>().empty());
+    }
+    from_previous += p["approach_method"].get<std::string>().find(
+                         "from the previous step's last") != std::string::npos;
+    for (const auto& flag : p["flags"]) {
+      // "approach to equilibrium corrected by +0.000116 g (u = 98 × 10⁻⁶ g; tau = 17.1 h)": the
+      // method is in approach_method, not in the table's flag.
+      const std::string f = flag.get<std::string>();
+      if (f.rfind("approach to equilibrium corrected", 0) != 0) continue;
+      EXPECT_EQ(f.find("kinetic models"), std::string::npos) << f;
+      EXPECT_NE(f.find("; tau = "), std::string::npos) << f;
+    }
+  }
+  EXPECT_GT(from_previous, 0);
 }
 
 TEST_F(SheetE2eTest, CheckPrintsValueAndUncertaintyByTheSameRule) {
