@@ -61,8 +61,10 @@ int Make(const MakeArguments& args) {
   Console console(args.quiet ? Verbosity::kQuiet
                              : (args.verbose ? Verbosity::kVerbose : Verbosity::kNormal));
   const fs::path job_file = args.job_file;
-  const std::string label =
-      job_file.parent_path().filename().string() + "/" + job_file.filename().string();
+  // "folder/job.toml" (the job's folder names the job where every job file is job.toml);
+  // "job.toml" alone when it is given without a folder.
+  const std::string folder = job_file.parent_path().filename().string();
+  const std::string label = (folder.empty() ? "" : folder + "/") + job_file.filename().string();
   std::string job_id;
   std::string results_json;
   std::string message;

@@ -159,6 +159,21 @@ TEST_F(RunE2eTest, AuditPassesWhateverTheWorkingFoldersOfMakeAndVerify) {
   EXPECT_EQ(audit.exit_code, 0) << audit.output;
 }
 
+// The progress lines name the job as it was given: "folder/job.toml", or "job.toml" when make
+// runs in the job's own folder (it printed "/job.toml").
+TEST_F(RunE2eTest, ProgressLinesNameTheJobFile) {
+  const fs::path job = Jobs().front();
+  const CommandRun own = Sorbtrace(job.parent_path(), "make job.toml --out issued");
+  ASSERT_EQ(own.exit_code, 0) << own.output;
+  EXPECT_NE(own.output.find("[1/6] job.toml: ingest"), std::string::npos) << own.output;
+  const std::string folder = job.parent_path().filename().string();
+  const CommandRun given =
+      Sorbtrace("make " + job.string() + " --out " + (root_ / "issued2").string());
+  ASSERT_EQ(given.exit_code, 0) << given.output;
+  EXPECT_NE(given.output.find("[1/6] " + folder + "/job.toml: ingest"), std::string::npos)
+      << given.output;
+}
+
 // `check` and `make` run the same first stages in the same order (run::PrepareJob): check
 // lists the inputs results.json records (job file, data files, template), in the same order.
 TEST_F(RunE2eTest, CheckListsTheInputsResultsJsonRecords) {
