@@ -140,13 +140,10 @@ Series ToSeries(const StepTrace& trace, bool from_start) {
 // The upper-tail probability of the chi-square of the fit's model with the largest weight,
 // weighed by the stated scatter (n - p degrees of freedom).
 double LackOfFitProbability(const TailFit& fit, double sd_g) {
-  const int parameters = fit.terms == 2 ? 5 : 3;
-  const int dof = fit.num_points - parameters;
+  const int dof = fit.residual_degrees_of_freedom;
   if (dof < 1 || !(sd_g > 0.0)) return 1.0;
-  const double chi_square =
-      fit.rms_residual_g * fit.rms_residual_g * fit.num_points / (sd_g * sd_g);
-  return boost::math::cdf(
-      boost::math::complement(boost::math::chi_squared_distribution<double>(dof), chi_square));
+  return boost::math::cdf(boost::math::complement(
+      boost::math::chi_squared_distribution<double>(dof), fit.ssr_g2 / (sd_g * sd_g)));
 }
 
 // The kinetic-model fit of the step's own weighings with its own residual scale (Type A).
@@ -160,7 +157,6 @@ TailFit FitOwnWeighings(const StepTrace& trace, const EquilibrateOptions& option
 ApproachEstimate FitWithStatedScatter(const Series& series, double reported_mass_g,
                                       const WeighingScatter& scatter,
                                       const EquilibrateOptions& options) {
-  if (static_cast<int>(series.time_s.size()) < kMinTracePointsForFit) return ApproachEstimate{};
   TailFitOptions tail = TailOptions(options, series.time_s.front());
   tail.point_sd_g = scatter.sd_g;
   tail.point_sd_degrees_of_freedom = scatter.degrees_of_freedom;
@@ -192,9 +188,9 @@ WeighingScatter PooledWeighingScatter(std::span<const StepTrace> traces, double 
   for (const StepTrace& trace : traces) {
     if (static_cast<int>(trace.weighings.size()) < kMinTracePointsForScatter) continue;
     const TailFit fit = FitOwnWeighings(trace, options);
-    if (!fit.ok || fit.degrees_of_freedom < 1) continue;
-    ssr_g2 += fit.rms_residual_g * fit.rms_residual_g * fit.num_points;
-    scatter.degrees_of_freedom += fit.degrees_of_freedom;
+    if (!fit.ok || fit.residual_degrees_of_freedom < 1) continue;
+    ssr_g2 += fit.ssr_g2;
+    scatter.degrees_of_freedom += fit.residual_degrees_of_freedom;
     ++scatter.num_steps;
   }
   if (scatter.num_steps == 0 || !(ssr_g2 > 0.0)) return WeighingScatter{balance_u_g, 0, 0};
@@ -205,17 +201,20 @@ WeighingScatter PooledWeighingScatter(std::span<const StepTrace> traces, double 
 ApproachEstimate EstimateDesiccatorApproach(const StepTrace& trace, double reported_mass_g,
                                             const WeighingScatter& scatter,
                                             const EquilibrateOptions& options) {
-  for (const bool from_start : {true, false}) {
-    const Series series = ToSeries(trace, from_start);
-    if (from_start != series.from_start) continue;
-    // Four points need the step start (see the header).
-    const int needed = from_start || trace.first_weighing_is_start ? kMinTracePointsForFit
-                                                                   : kMinTracePointsForScatter;
-    if (static_cast<int>(series.time_s.size()) < needed) continue;
-    ApproachEstimate estimate = FitWithStatedScatter(series, reported_mass_g, scatter, options);
+  if (trace.start != nullptr) {  // 1. from the start (it makes at least four points)
+    ApproachEstimate estimate =
+        FitWithStatedScatter(ToSeries(trace, true), reported_mass_g, scatter, options);
     if (estimate.estimated) return estimate;
   }
-  if (static_cast<int>(trace.weighings.size()) >= kMinTracePointsForScatter) {
+  // 2. the own weighings; four points only when the first was taken at the transfer.
+  const int needed =
+      trace.first_weighing_is_start ? kMinTracePointsForFit : kMinTracePointsForScatter;
+  if (static_cast<int>(trace.weighings.size()) >= needed) {
+    ApproachEstimate estimate =
+        FitWithStatedScatter(ToSeries(trace, false), reported_mass_g, scatter, options);
+    if (estimate.estimated) return estimate;
+  }
+  if (static_cast<int>(trace.weighings.size()) >= kMinTracePointsForScatter) {  // 3.
     ApproachEstimate estimate =
         FromTailFit(FitOwnWeighings(trace, options), reported_mass_g, "weighings");
     estimate.includes_weighing_scatter = estimate.estimated;
@@ -224,7 +223,7 @@ ApproachEstimate EstimateDesiccatorApproach(const StepTrace& trace, double repor
       return estimate;
     }
   }
-  return FromThreeWeighings(trace.weighings, reported_mass_g, scatter, options);
+  return FromThreeWeighings(trace.weighings, reported_mass_g, scatter, options);  // 4.
 }
 
 ApproachEstimate EstimateLogApproach(std::span<const double> tail_time_s,

@@ -234,8 +234,9 @@ void EquilibrateDesiccator(const ingest::DesiccatorSeries& series, const ingest:
   const std::vector<internal::StepTrace> step_traces = DesiccatorTraces(series, options);
   const internal::WeighingScatter scatter =
       internal::PooledWeighingScatter(step_traces, BalanceStandardUncertainty_g(job), options);
-  set.summary.weighing_scatter.push_back(WeighingScatterRecord{
-      series.dataset_id, scatter.sd_g, scatter.degrees_of_freedom, scatter.num_steps});
+  set.summary.weighing_scatter.push_back(
+      WeighingScatterRecord{series.dataset_id, scatter.sd_g, scatter.degrees_of_freedom,
+                            scatter.num_steps, internal::kMinTracePointsForScatter});
   for (std::size_t k = 0; k < series.steps.size(); ++k) {
     const ingest::DesiccatorStep& step = series.steps[k];
     EquilibriumPoint point;

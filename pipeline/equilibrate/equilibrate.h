@@ -187,14 +187,16 @@ struct Trace {
 };
 
 // The scatter of one weighing about its step's approach curve that a desiccator data set's
-// approach estimates use (pipeline/equilibrate/approach.h): pooled over num_steps steps of five
-// or more weighings on degrees_of_freedom (JCGM 100:2008, 4.2.4), or, with num_steps = 0, the
-// balance's stated standard uncertainty (Type B, degrees_of_freedom 0 = infinite).
+// approach estimates use (pipeline/equilibrate/approach.h): pooled over num_steps steps of
+// min_weighings_pooled or more weighings on degrees_of_freedom (JCGM 100:2008, 4.2.4), or, with
+// num_steps = 0, the balance's stated standard uncertainty (Type B, degrees_of_freedom 0 =
+// infinite).
 struct WeighingScatterRecord {
   std::string dataset_id;
   double sd_g = 0.0;
   int degrees_of_freedom = 0;
   int num_steps = 0;
+  int min_weighings_pooled = 0;  // a step enters the pool from this many weighings
 };
 
 // Counts are disjoint: num_equilibrated (criterion met) + num_extrapolated +

@@ -312,8 +312,7 @@ ModelFit FitThreeParameters(const ScaledTail& scaled, const Basis& basis) {
     fit.message = "exponential fit not identifiable";
     return fit;
   }
-  const double s2 = n > kThreeParameters ? one.ssr / static_cast<double>(n - kThreeParameters)
-                                         : std::numeric_limits<double>::quiet_NaN();
+  const double s2 = one.ssr / static_cast<double>(n - kThreeParameters);
   const Eigen::Matrix3d unscaled = lu.inverse();
   fit.ok = true;
   fit.unscaled_variance_m_inf = std::max(0.0, unscaled(0, 0));
@@ -645,6 +644,8 @@ TailFit FitExponentialTail(std::span<const double> time_s, std::span<const doubl
   fit.slowest_tau_s = chosen.slowest_tau * time_scale;
   fit.rms_residual_g =
       s * std::sqrt(chosen.ssr / static_cast<double>(std::max(1, chosen.num_points)));
+  fit.ssr_g2 = s * s * chosen.ssr;
+  fit.residual_degrees_of_freedom = chosen.degrees_of_freedom;
   return fit;
 }
 

@@ -91,6 +91,10 @@ struct TailFit {
   double tau2_s = 0.0;         // tau2 (two exponentials)
   double slowest_tau_s = 0.0;
   double rms_residual_g = 0.0;
+  // That model's residual sum of squares (g^2) and n - p, whether or not a point sd is stated
+  // (a lack-of-fit test against it; a pooled scatter).
+  double ssr_g2 = 0.0;
+  int residual_degrees_of_freedom = 0;
   int num_points = 0;
   // sqrt(u_m_inf^2 + u_model^2).
   double TotalUncertainty_g() const;

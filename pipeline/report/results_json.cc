@@ -158,7 +158,8 @@ Json EquilibriaJson(const SheetRecord& record) {
     scatter.push_back({{"dataset_id", w.dataset_id},
                        {"sd_g", Number(w.sd_g)},
                        {"degrees_of_freedom", w.degrees_of_freedom},
-                       {"num_steps_pooled", w.num_steps}});
+                       {"num_steps_pooled", w.num_steps},
+                       {"min_weighings_pooled", w.min_weighings_pooled}});
   }
   out["summary"]["weighing_scatter"] = scatter;
   return out;

@@ -70,10 +70,11 @@ void AddWeighingScatter(const SectionContext& ctx, Section& section) {
     const std::string source =
         w.num_steps > 0
             ? fmt::format(
-                  "standard deviation pooled over the {} steps of five or more weighings, "
+                  "standard deviation pooled over the {} steps of {} or more weighings, "
                   "{} degrees of freedom; JCGM 100:2008, 4.2.4",
-                  w.num_steps, w.degrees_of_freedom)
-            : "the balance's stated standard uncertainty: no step has five weighings";
+                  w.num_steps, w.min_weighings_pooled, w.degrees_of_freedom)
+            : fmt::format("the balance's stated standard uncertainty: no step has {} weighings",
+                          w.min_weighings_pooled);
     section.blocks.emplace_back(ParagraphBlock{
         fmt::format("Data set {}: the approach to equilibrium of each step is read from its "
                     "weighings with a weighing scatter of {} g ({}).",
