@@ -248,11 +248,25 @@ TEST(EquilibrateDesiccatorTest, StepStartsAtThePreviousStepsLastWeighing) {
 }
 
 TEST(EquilibrateDesiccatorTest, AWeighingAtTheTransferIsTheStepStart) {
-  // First weighing 2 h after the previous step's last one (less than half the 24 h interval):
-  // the laboratory weighed on moving the specimen; the previous weighing is not prepended.
-  const EquilibriumPoint point = Equilibrate(ShortStepJob(74.0), EquilibrateOptions{}).points[1];
+  // The NaCl step of ShortStepJob's curve weighed at 74 h (2 h after the previous step's last
+  // weighing: less than half the 24 h interval, so the laboratory weighed on moving the
+  // specimen) and at 120, 144 and 168 h (range 4.7 mg, below 0.1 % of the mass: met). The
+  // previous weighing is not prepended, and the four weighings, the first at the step start,
+  // are fitted (four points need the step start); the remaining approach is
+  // 0.0200 exp(-(168 - 72) / 48) = 2.7067e-3 g.
+  ingest::IngestResult in = DesiccatorJob(ingest::DryMassMethod::kDesiccantStep);
+  std::vector<std::pair<double, double>> weighings;
+  for (const double h : {74.0, 120.0, 144.0, 168.0}) {
+    weighings.emplace_back(h, 10.0200 - 0.0200 * std::exp(-(h - 72.0) / 48.0));
+  }
+  in.desiccator_series[0].steps[1] = Step("A", 1, "NaCl", ingest::Branch::kAdsorption, weighings);
+  const EquilibriumPoint point = Equilibrate(in, EquilibrateOptions{}).points[1];
+  ASSERT_TRUE(point.equilibrated);
+  EXPECT_NE(point.approach_method.find("kinetic models fitted to 4 weighings"), std::string::npos)
+      << point.approach_method;
   EXPECT_EQ(point.approach_method.find("previous step's last"), std::string::npos)
       << point.approach_method;
+  EXPECT_NEAR(point.approach_correction_g, 0.0200 * std::exp(-2.0), 2.0 * point.u_mass_approach_g);
 }
 
 TEST(EquilibrateDesiccatorTest, AStartTheKineticsDoNotReachIsNotUsed) {
