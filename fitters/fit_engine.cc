@@ -233,14 +233,16 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
   summary.covariance_available = workspace.ComputeCovariance(&unscaled, &covariance_error);
   if (options.weights == WeightConvention::kRelative) {
     summary.covariance_convention = fmt::format(
-        "relative weights: C = s^2 (J'J)^-1, s^2 = weighted SSR / (n - p) = {:.6g}; "
+        "relative weights: C = s^2 (J'J)^-1, s^2 = weighted SSR / (n - p) = {}; "
         "Student-t intervals, {} degrees of freedom",
-        s2, stats.degrees_of_freedom);
+        common::FormatSignificant(s2, common::kDiagnosticDigits), stats.degrees_of_freedom);
   } else {
     summary.covariance_convention = fmt::format(
         "absolute uncertainties: C = (J'J)^-1 unscaled; normal coverage factor; chi-square "
-        "check: weighted SSR = {:.6g} on {} degrees of freedom, p = {:.4g}",
-        stats.weighted_ssr, stats.degrees_of_freedom, stats.chi_square_p_value);
+        "check: weighted SSR = {} on {} degrees of freedom, p = {}",
+        common::FormatSignificant(stats.weighted_ssr, common::kDiagnosticDigits),
+        stats.degrees_of_freedom,
+        common::FormatProbability(stats.chi_square_p_value, common::kProbabilityDigits));
   }
   if (options.loss != LossKind::kSquared) {
     summary.covariance_convention +=
@@ -276,8 +278,10 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
     if (summary.covariance_available && !(e.standard_error <= std::abs(e.value))) {
       // Relative standard error above 100 %: common practice for "not determined".
       summary.flags.push_back(fmt::format(
-          "parameter {} = {:.6g} poorly determined: standard error {:.3g} exceeds its value",
-          e.name, e.value, e.standard_error));
+          "parameter {} = {} poorly determined: standard error {} exceeds its value", e.name,
+          common::FormatAtUncertainty(e.value, e.standard_error,
+                                      common::kUncertaintySignificantDigits),
+          common::FormatSignificant(e.standard_error, common::kUncertaintySignificantDigits)));
     }
     if (options.use_bounds) {
       const auto near = [&](double bound) {
@@ -286,9 +290,10 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
       };
       if (near(spec.lower_bound) || near(spec.upper_bound)) {
         e.at_bound = true;
-        summary.flags.push_back(
-            fmt::format("parameter {} = {:.6g} at its bound [{}, {}]: its interval is not reliable",
-                        e.name, e.value, spec.lower_bound, spec.upper_bound));
+        summary.flags.push_back(fmt::format(
+            "parameter {} = {} at its bound [{}, {}]: its interval is not reliable", e.name,
+            common::FormatSignificant(e.value, common::kDiagnosticDigits),
+            common::FormatSetting(spec.lower_bound), common::FormatSetting(spec.upper_bound)));
       }
     }
     result.estimates.push_back(std::move(e));
@@ -300,13 +305,14 @@ FitResult FitModelUnguarded(const Model& model, const std::vector<Observation>& 
       stats.chi_square_p_value < 0.05) {
     // 5 % significance: common practice.
     summary.flags.push_back(fmt::format(
-        "chi-square check fails: weighted SSR = {:.4g} on {} degrees of freedom (p = {}); "
+        "chi-square check fails: weighted SSR = {} on {} degrees of freedom (p = {}); "
         "stated uncertainties too small or model inadequate",
-        stats.weighted_ssr, stats.degrees_of_freedom,
+        common::FormatSignificant(stats.weighted_ssr, common::kDiagnosticDigits),
+        stats.degrees_of_freedom,
         common::FormatProbability(stats.chi_square_p_value, common::kProbabilityDigits)));
   }
   for (const std::string& flag : model.PhysicalFlags(result.parameters.data())) {
-    summary.flags.push_back("physics: " + flag);
+    summary.flags.push_back(kPhysicsFlagPrefix + flag);
   }
   return result;
 }

@@ -9,6 +9,8 @@
 #include <cmath>
 #include <utility>
 
+#include "pipeline/common/number_text.h"
+
 namespace sorbtrace::fitters::internal {
 namespace {
 
@@ -339,9 +341,10 @@ bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* e
   for (std::size_t j = 0; j < sensitivity.size(); ++j) {
     if (parameters_[j] != 0.0 && sensitivity[j] < kMinRelativeSensitivity * max_sensitivity) {
       *error = fmt::format(
-          "parameter {} has almost no effect on the fit (relative sensitivity {:.3g} of the "
+          "parameter {} has almost no effect on the fit (relative sensitivity {} of the "
           "largest)",
-          model_.info().parameters[j].name, sensitivity[j] / max_sensitivity);
+          model_.info().parameters[j].name,
+          common::FormatSignificant(sensitivity[j] / max_sensitivity, common::kDiagnosticDigits));
       return false;
     }
   }
@@ -363,8 +366,9 @@ bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* e
   if (!(ratio >= std::sqrt(options_.covariance_min_reciprocal_condition_number))) {
     *error = fmt::format(
         "the Jacobian is rank deficient or too ill-conditioned at the solution (column-scaled "
-        "sigma_min / sigma_max = {:.3g} < sqrt({:g}))",
-        ratio, options_.covariance_min_reciprocal_condition_number);
+        "sigma_min / sigma_max = {} < sqrt({}))",
+        common::FormatSignificant(ratio, common::kDiagnosticDigits),
+        common::FormatSetting(options_.covariance_min_reciprocal_condition_number));
     return false;
   }
 
@@ -422,8 +426,8 @@ bool FitWorkspace::ComputeCovariance(Eigen::MatrixXd* covariance, std::string* e
   if (!ok) {
     *error = fmt::format(
         "the Jacobian is rank deficient or too ill-conditioned at the solution "
-        "(column-scaled sigma_min / sigma_max below sqrt({:g}))",
-        options_.covariance_min_reciprocal_condition_number);
+        "(column-scaled sigma_min / sigma_max below sqrt({}))",
+        common::FormatSetting(options_.covariance_min_reciprocal_condition_number));
   }
   return ok;
 }

@@ -81,6 +81,10 @@ struct StartReport {
   std::string termination;  // Ceres' termination message
 };
 
+// The prefix of a flag from Model::PhysicalFlags: the parameters lie outside the range in
+// which the model's physical interpretation holds (the curve may still describe the data).
+inline constexpr const char* kPhysicsFlagPrefix = "physics: ";
+
 struct FitSummary {
   FitTermination termination = FitTermination::kFailure;
   std::string message;  // one line: why it ended

@@ -125,7 +125,9 @@ std::string FormatProbability(double probability, int significant_digits) {
 }
 
 std::string CoverageText(double k) {
-  constexpr double kHalfOfSecondDigit = 0.005;  // below this, two digits would read "2.0"
+  // Within half a unit of the second significant digit of a whole k (k < 10) two digits read
+  // "2.0": printed "2", the k the sheet states unless another is printed beside a value.
+  constexpr double kHalfOfSecondDigit = 0.05;
   return std::abs(k - std::round(k)) < kHalfOfSecondDigit ? FormatFixed(k, 0)
                                                           : FormatSignificant(k, 2);
 }
@@ -159,11 +161,18 @@ std::string FormatWithUncertainty(double value, double uncertainty, int signific
   int place = RoundToSignificant(uncertainty, n).place;
   Rounded v = RoundAt(value, place);
   Rounded u = RoundAt(uncertainty, place);
-  // Digit cap: U rounded up to the value's kMaxValueDigits-th digit (see number_text.h).
+  // Digit cap: U rounded up to the value's kMaxValueDigits-th digit, keeping its n
+  // significant digits (see number_text.h; n - 1 zeros after a one where U is below 10^(n-1)
+  // units of that place).
+  bool capped = false;
   while (v.num_digits() > kMaxValueDigits) {
     place += v.num_digits() - kMaxValueDigits;
     v = RoundAt(value, place);
+    capped = true;
+  }
+  if (capped) {
     u = RoundUpAt(uncertainty, place);
+    if (u.num_digits() < n) u.digits = "1" + std::string(static_cast<std::size_t>(n - 1), '0');
   }
   const int top = std::max(v.top(), u.top());
   const int exponent = NotationExponent(top, place);

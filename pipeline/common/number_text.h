@@ -10,10 +10,12 @@
 //    nearest, an exact tie to the even digit (rule B of ISO 80000-1:2009 Annex B, from memory;
 //    the same as C printf). Digits come from exact fixed-point conversion of the binary
 //    value, never from repeated floating-point scaling, so no "0.30000000000000004" appears.
-//  - At most kMaxValueDigits significant digits in a value: where U is smaller than the
-//    value's sixth significant digit, U is rounded up to that digit (GUM 7.2.6: "it may
-//    sometimes be appropriate to round uncertainties up", e.g. 10.47 mΩ to 11 mΩ). The
-//    printed interval then still contains the stated one; the full U stays in results.json.
+//  - At most kMaxValueDigits significant digits in a value: where U's second significant
+//    digit would lie below the value's eighth, the value is cut at its eighth digit and U is
+//    rounded up to that decimal place, keeping two significant digits (a U below ten units of
+//    that place is printed as 10 units: "62.973875 ± 0.000010"; GUM 7.2.6: "it may sometimes
+//    be appropriate to round uncertainties up", e.g. 10.47 mΩ to 11 mΩ). The printed interval
+//    then still contains the stated one; the full U stays in results.json.
 //  - Notation: plain decimals while the larger of |value| and U lies in [1e-4, 1e6) and no
 //    more than six decimals are needed; otherwise a common power of ten that is a multiple
 //    of three (engineering notation, matching the SI prefixes: "(12.3 ± 1.1) × 10⁻⁶"), never
@@ -24,9 +26,11 @@
 
 namespace sorbtrace::common {
 
-// Most significant digits a printed value carries (common practice: no sorption quantity
-// is known to better than about 1e-5 relative; a balance reading has five to six digits).
-inline constexpr int kMaxValueDigits = 6;
+// Most significant digits a printed value carries (common practice: a semi-micro balance
+// reads a 100 g load to 0.01 mg, eight digits; a moisture content averaged over a vapour log's
+// readings is known to a few parts in 10^5 of itself, "18.42060 ± 0.00021 %"). A U below ten
+// units of the eighth digit (about 1e-6 relative) is printed as that floor.
+inline constexpr int kMaxValueDigits = 8;
 
 // Significant digits of a printed uncertainty (standard or expanded) where no template sets
 // them: two (JCGM 100:2008, 7.2.6: "at most two significant digits"; also the most a template
@@ -36,6 +40,11 @@ inline constexpr int kUncertaintySignificantDigits = 2;
 // `value` to `significant_digits` significant digits (1-15), plain or in engineering
 // notation by the rules above; "0" for zero, "n/a" when not finite.
 std::string FormatSignificant(double value, int significant_digits);
+
+// Significant digits of a number in a diagnostic sentence (a statistic, a parameter at its
+// bound, a check's detail) where no uncertainty beside it fixes them: three (common practice;
+// enough to compare it with the limit the sentence names).
+inline constexpr int kDiagnosticDigits = 3;
 
 // A probability (a p-value, a risk) to `significant_digits` significant digits: plain down to
 // 10^-4 like any value, below that in scientific notation with the leading digit before the
@@ -49,8 +58,8 @@ std::string FormatProbability(double probability, int significant_digits);
 // `value` with a fixed number of decimals ("-0" printed as "0").
 std::string FormatFixed(double value, int decimals);
 
-// A coverage factor as printed, to two significant digits: "2" for k = 2 (and for k = 2.004
-// from a large effective number of degrees of freedom), "2.3" otherwise.
+// A coverage factor as printed, to two significant digits: "2" for any k that two digits
+// print as "2.0" (k = 2.04 from 60 effective degrees of freedom), "2.3" otherwise.
 std::string CoverageText(double k);
 
 // A setting as a person wrote it: the shortest form of at most 15 significant digits

@@ -83,7 +83,7 @@ std::vector<ConsistencyCheck> BetConsistency(const fitters::FitResult& result,
   std::vector<ConsistencyCheck> checks(4);
   checks[0].criterion = "BET constant C > 0 (Rouquerol criterion 1)";
   checks[0].passed = criteria.c_positive;
-  checks[0].detail = fmt::format("C = {:.6g}", c);
+  checks[0].detail = "C = " + common::FormatSignificant(c, common::kDiagnosticDigits);
   checks[1].criterion =
       "u (1 - RH) increases monotonically with RH over the fitted points (Rouquerol criterion 2)";
   checks[1].passed = criteria.monotonic;
@@ -97,11 +97,12 @@ std::vector<ConsistencyCheck> BetConsistency(const fitters::FitResult& result,
   checks[2].criterion =
       "the RH at which u = X_m lies inside the fitted RH range (Rouquerol criterion 3)";
   checks[2].passed = criteria.monolayer_in_range;
-  checks[2].detail =
-      std::isnan(criteria.measured_rh_at_monolayer)
-          ? fmt::format("X_m = {:.6g} kg/kg is outside the measured moisture range", x_m)
-          : fmt::format("u = X_m = {:.6g} kg/kg at RH {:.4f}", x_m,
-                        criteria.measured_rh_at_monolayer);
+  checks[2].detail = std::isnan(criteria.measured_rh_at_monolayer)
+                         ? fmt::format("X_m = {} kg/kg is outside the measured moisture range",
+                                       common::FormatSignificant(x_m, common::kDiagnosticDigits))
+                         : fmt::format("u = X_m = {} kg/kg at RH {:.4f}",
+                                       common::FormatSignificant(x_m, common::kDiagnosticDigits),
+                                       criteria.measured_rh_at_monolayer);
   checks[3].criterion =
       "1 / (sqrt(C) + 1) agrees with the RH at u = X_m within 10 % (Rouquerol criterion 4)";
   checks[3].passed = criteria.monolayer_position_consistent;
@@ -620,8 +621,9 @@ Identifiability CheckIdentifiability(const fitters::FitResult& result,
     const std::string name =
         jj < result.estimates.size() ? result.estimates[jj].name : std::to_string(jj + 1);
     if (jj < result.estimates.size() && result.estimates[jj].at_bound) {
-      out.reason = fmt::format("parameter {} = {:.3g} sits at a bound of its allowed range", name,
-                               result.parameters[jj]);
+      out.reason =
+          fmt::format("parameter {} = {} sits at a bound of its allowed range", name,
+                      common::FormatSignificant(result.parameters[jj], common::kDiagnosticDigits));
       return out;
     }
     const double u = std::sqrt(std::max(0.0, result.covariance(j, j)));

@@ -229,6 +229,11 @@ struct SurfaceArea {
   double molecular_area_m2 = 0.0;
   double area_m2_per_g = 0.0;
   double u_area_m2_per_g = 0.0;  // standard
+  // k of the expanded uncertainty: the monolayer parameter's (fit::ModelFit::
+  // expanded_uncertainty / standard error; the area is X_m times a constant, so it has X_m's
+  // effective degrees of freedom, JCGM 100:2008 G.4); 0 where the fit states none (the
+  // sheet's k applies).
+  double coverage_factor = 0.0;
 };
 
 struct ReferenceMoisture {

@@ -164,6 +164,11 @@ std::vector<SurfaceArea> SurfaceAreas(const std::vector<FittedCurve>& gab_bet_fi
     a.molecular_area_m2 = options.molecular_area_m2;
     a.area_m2_per_g = SurfaceArea_m2_per_g(a.monolayer_kg_per_kg, options.molecular_area_m2);
     a.u_area_m2_per_g = SurfaceArea_m2_per_g(a.u_monolayer_kg_per_kg, options.molecular_area_m2);
+    if (c.fit != nullptr && !c.fit->expanded_uncertainty.empty() &&
+        !c.fit->result.estimates.empty() && c.fit->result.estimates[0].standard_error > 0.0) {
+      a.coverage_factor =
+          c.fit->expanded_uncertainty[0] / c.fit->result.estimates[0].standard_error;
+    }
     areas.push_back(a);
   }
   return areas;

@@ -125,15 +125,14 @@ std::string FitParameters(const Sheet& sheet) {
     for (size_t k = 0; k < mf.result.estimates.size() && k < row.parameters.size(); ++k) {
       const fitters::ParameterEstimate& e = mf.result.estimates[k];
       const Quantity& q = row.parameters[k];
-      out += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", i,
-                         Text(row.group_label), Text(mf.model_name), mf.rank,
-                         row.converged ? "yes" : "no", Text(e.name), Text(q.unit), Num(e.value),
-                         Num(q.standard_uncertainty), Num(q.coverage_factor),
-                         Num(q.expanded_uncertainty), Num(e.interval_low), Num(e.interval_high),
-                         // The sheet prints no value of a fit its data do not determine (ModelRow).
-                         Text(row.converged && !row.identifiable ? std::string() : q.text),
-                         Num(mf.result.statistics.rmse), Num(mf.result.statistics.aicc),
-                         Num(mf.result.statistics.bic), Text(Join(row.flags, "; ")));
+      out += fmt::format(
+          "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", i, Text(row.group_label),
+          Text(mf.model_name), mf.rank, row.converged ? "yes" : "no", Text(e.name), Text(q.unit),
+          Num(e.value), Num(q.standard_uncertainty), Num(q.coverage_factor),
+          Num(q.expanded_uncertainty), Num(e.interval_low), Num(e.interval_high),
+          // Empty where the sheet prints no value (MakeModelRow).
+          Text(q.text), Num(mf.result.statistics.rmse), Num(mf.result.statistics.aicc),
+          Num(mf.result.statistics.bic), Text(Join(row.flags, "; ")));
     }
   }
   return out;

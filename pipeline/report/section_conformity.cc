@@ -370,17 +370,22 @@ void BuildConformitySection(const SectionContext& ctx, Section& section) {
   const Sheet& sheet = ctx.sheet;
   for (size_t i = 0; i < sheet.conformity.size(); ++i) {
     const ConformityStatement& s = sheet.conformity[i];
-    section.blocks.emplace_back(
-        SubheadingBlock{fmt::format("Specification {}: {}", i + 1, s.quantity_label)});
+    // The quantity goes in the facts, which wrap: a long label in the one-line subheading ran
+    // off the page.
+    section.blocks.emplace_back(SubheadingBlock{fmt::format("Specification {}", i + 1)});
     FactsBlock facts;
     facts.label_width_pt = 110.0;
     std::string limits = s.limits_text;
     if (!s.specification.document.empty()) {
       limits += " (" + PrintedField(s.specification.document) + ")";
     }
-    facts.rows = {{"Specification", limits},      {"Measured value", s.value_text},
-                  {"Decision rule", s.rule_text}, {"Guard band", s.guard_band_text},
-                  {"Result", s.result_text},      {"Risk", s.risk_text}};
+    facts.rows = {{"Quantity", s.quantity_label},
+                  {"Specification", limits},
+                  {"Measured value", s.value_text},
+                  {"Decision rule", s.rule_text},
+                  {"Guard band", s.guard_band_text},
+                  {"Result", s.result_text},
+                  {"Risk", s.risk_text}};
     section.blocks.emplace_back(std::move(facts));
   }
   ParagraphBlock note;

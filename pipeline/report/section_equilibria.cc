@@ -44,7 +44,11 @@ std::vector<Cell> PointRow(const SectionContext& ctx, const reduce::IsothermPoin
                              digits) +
            own_k,
        key + "_moisture"},
-      {FormatSignificant(p.between_specimen_sd_kg_per_kg * ctx.moisture_scale(), 2), ""},
+      // One specimen has no between-specimen spread (not a spread of 0).
+      {p.num_specimens > 1
+           ? FormatSignificant(p.between_specimen_sd_kg_per_kg * ctx.moisture_scale(), 2)
+           : "–",
+       ""},
       {FormatSignificant(p.time_to_equilibrium_s / kSecondsPerHour, 3), ""},
       {PointFlags(p), ""}};
   row.insert(row.end(), rest.begin(), rest.end());
@@ -58,10 +62,11 @@ std::vector<Cell> PointRow(const SectionContext& ctx, const reduce::IsothermPoin
 void BuildEquilibriaSection(const SectionContext& ctx, Section& section) {
   if (ctx.inputs.reduced == nullptr) return;
   section.blocks.emplace_back(
-      ParagraphBlock{fmt::format("Combined specimens per step. U: expanded uncertainty (k = {}); "
+      ParagraphBlock{fmt::format("Combined specimens per step, {}. U: expanded uncertainty ({}); "
                                  "spread: between-specimen standard deviation; t_eq: time to "
                                  "equilibrium (longest specimen).",
-                                 CoverageText(ctx.sheet.rules.coverage_factor)),
+                                 ctx.sheet.moisture_basis_text,
+                                 CoverageStatement(ctx.sheet.rules.coverage_factor)),
                      8.0, 0.0, true});
   const auto& points = ctx.inputs.reduced->points;
   // A log with several adsorption/desorption cycles: each row says its cycle.
@@ -85,9 +90,9 @@ void BuildEquilibriaSection(const SectionContext& ctx, Section& section) {
                    {"t_eq (h)", 0.07, true},
                    {"Flags", 0.15, false}};
   if (with_cycle) {
-    table.columns[0].width_fraction -= 0.02;
+    table.columns[0].width_fraction -= 0.03;
     table.columns.back().width_fraction -= 0.03;
-    table.columns.push_back(ColumnSpec{"Cycle", 0.05, true});
+    table.columns.push_back(ColumnSpec{"Cycle", 0.06, true});
   }
   table.size_pt = 7.0;
   for (size_t i = 0; i < points.size(); ++i) {

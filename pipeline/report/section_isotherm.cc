@@ -286,12 +286,13 @@ void BuildIsothermSection(const SectionContext& ctx, Section& section) {
   plot::Figure res = ResidualFigure(ctx);
   res.title = "Residuals of the best fits (measured − fitted, at the measured RH)";
   res.caption = fmt::format(
-      "Points: combined specimens per step, bars: expanded uncertainty U (k = {}) in RH and "
+      "Points: combined specimens per step, bars: expanded uncertainty U ({} in the table "
+      "of equilibria) in RH and "
       "moisture content. Curves: best model of each branch (lowest AICc) with its confidence "
       "band of the mean curve (delta method), dotted beyond the RH range of the points it was "
       "fitted to (extrapolated). Top axis: capillary pressure of the pore water "
       "in equilibrium with the RH (Kelvin equation).",
-      CoverageText(ctx.sheet.rules.coverage_factor));
+      CoverageStatement(ctx.sheet.rules.coverage_factor));
   const std::string cycles = CyclesSentence(ctx);
   if (!cycles.empty()) res.caption += " " + cycles;
   block.panels = {std::move(fig), std::move(res)};

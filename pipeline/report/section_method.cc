@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cmath>
 #include <functional>
 
 #include "pipeline/report/format.h"
@@ -114,10 +115,18 @@ TableBlock BudgetTable(const SectionContext& ctx, const PointBudget& budget,
   table.columns = {{"Component (aggregated over the specimens of the step)", 0.56, false},
                    {"Contribution to u_c (" + ctx.sheet.moisture_unit + ")", 0.24, true},
                    {"Share of u_c² (%)", 0.20, true}};
+  // A line below a thousandth of u_c (a millionth of u_c^2; e.g. a kinetic-model term of
+  // 1e-99 where both models agree) changes no printed digit of u_c: said so, not printed as
+  // a number no reader can use (results.json keeps its value).
+  constexpr double kNegligibleFractionOfUc = 1e-3;
+  const double u_c = std::sqrt(u2);
   for (const reduce::BudgetLine& b : budget.moisture) {
+    const bool negligible = std::abs(b.contribution) < kNegligibleFractionOfUc * u_c;
     table.rows.push_back(
         {{b.quantity, ""},
-         {FormatSignificant(b.contribution * ms, kUncertaintySignificantDigits), ""},
+         {negligible ? "negligible (< 0.001 u_c)"
+                     : FormatSignificant(b.contribution * ms, kUncertaintySignificantDigits),
+          ""},
          {u2 > 0.0 ? FormatFixed(100.0 * b.contribution * b.contribution / u2, 1) : "–", ""}});
   }
   table.rows.push_back(

@@ -17,12 +17,11 @@ void AddSurfaceAreaMarks(const SectionContext& ctx, Section& section) {
   for (const pores::SurfaceArea& sa : ctx.inputs.pores->surface_areas) {
     const std::string reason = SurfaceAreaNotHeadlineReason(ctx.inputs.fits, sa);
     if (reason.empty()) continue;
-    const Quantity area = MakeQuantity("", "", sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0,
-                                       "m²/g", ctx.sheet.rules);
+    const Quantity area = SurfaceAreaQuantity(sa, "", "", ctx.sheet.rules);
     section.blocks.emplace_back(ParagraphBlock{
         fmt::format("Surface area from the {} monolayer ({}): {}, not a reported result: {}.",
-                    sa.model_name, BranchTemperatureLabel(sa.branch, sa.temperature_K), area.text,
-                    reason),
+                    sa.model_name, BranchTemperatureLabel(sa.branch, sa.temperature_K),
+                    WithOwnCoverage(area, ctx.sheet.rules.coverage_factor), reason),
         7.5});
   }
 }
@@ -41,12 +40,16 @@ void AddModelTable(const SectionContext& ctx, Section& section) {
   for (const ModelRow& row : ctx.sheet.models) {
     if (!row.evaluated) continue;  // said once, in plain words, below the table
     std::string parameters;
-    if (row.converged && !row.identifiable) {
+    if (!row.converged) {
+      // A fit that did not converge has no result: its last iterate is not printed as one.
+      parameters = "not converged: no parameters reported";
+    } else if (!row.identifiable) {
       // No ± values and no correlations for parameters the data do not determine.
       parameters = "not identifiable from these data: " + row.not_identifiable_reason;
     } else {
       for (const Quantity& q : row.parameters) {
-        parameters += (parameters.empty() ? "" : "\n") + q.label + " = " + q.text;
+        parameters += (parameters.empty() ? "" : "\n") + q.label + " = " +
+                      WithOwnCoverage(q, ctx.sheet.rules.coverage_factor);
       }
       for (const std::string& c : row.correlations) parameters += "\n" + c;
     }
@@ -90,11 +93,11 @@ void AddModelTable(const SectionContext& ctx, Section& section) {
 
 void BuildModelsSection(const SectionContext& ctx, Section& section) {
   section.blocks.emplace_back(ParagraphBlock{
-      fmt::format("Parameters with expanded uncertainty U (k = {}); correlations with "
+      fmt::format("Parameters with expanded uncertainty U ({}); correlations with "
                   "|r| > 0.95 are listed below the parameters. RMSE in {}; MRD: mean "
                   "relative deviation; rank by AICc within each branch, among the fits "
                   "identifiable from these data.",
-                  CoverageText(ctx.sheet.rules.coverage_factor), ctx.sheet.moisture_unit),
+                  CoverageStatement(ctx.sheet.rules.coverage_factor), ctx.sheet.moisture_unit),
       8.0, 0.0, true});
   AddModelTable(ctx, section);
   if (ctx.inputs.fits == nullptr) return;

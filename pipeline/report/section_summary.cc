@@ -143,8 +143,11 @@ FigureBlock SummaryFigure(const SectionContext& ctx) {
 
 void BuildSummarySection(const SectionContext& ctx, bool compact, Section& section) {
   section.blocks.emplace_back(JobFacts(ctx, compact));
-  section.blocks.emplace_back(SubheadingBlock{fmt::format(
-      "Results (expanded uncertainty U, k = {})", CoverageText(ctx.sheet.rules.coverage_factor))});
+  // One line (a subheading does not wrap): the k and the basis of the values below; the
+  // method section states both in full (CoverageStatement, Sheet::moisture_basis_text).
+  section.blocks.emplace_back(SubheadingBlock{
+      fmt::format("Results (expanded uncertainty U: k = {} unless stated; moisture on dry basis)",
+                  CoverageText(ctx.sheet.rules.coverage_factor))});
   section.blocks.emplace_back(ResultsTable(ctx, compact));
   if (!ctx.sheet.conformity.empty()) {
     section.blocks.emplace_back(SubheadingBlock{"Statements of conformity"});

@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstring>
 #include <set>
 #include <utility>
 
@@ -194,6 +195,17 @@ Quantity DrawnQuantity(std::string key, std::string label, double value,
                       std::move(unit), display_scale, std::move(display_unit), rules);
 }
 
+DisplayRules MonolayerRules(const pores::SurfaceArea& area, DisplayRules rules) {
+  if (area.coverage_factor > 0.0) rules.coverage_factor = area.coverage_factor;
+  return rules;
+}
+
+Quantity SurfaceAreaQuantity(const pores::SurfaceArea& area, std::string key, std::string label,
+                             const DisplayRules& rules) {
+  return MakeQuantity(std::move(key), std::move(label), area.area_m2_per_g, area.u_area_m2_per_g,
+                      "m2/g", 1.0, "m²/g", MonolayerRules(area, rules));
+}
+
 Quantity MoistureQuantity(std::string key, std::string label, double value_kg_per_kg,
                           double u_kg_per_kg, const DisplayRules& rules) {
   // 1 kg/kg = 100 % (mass percent, dry basis).
@@ -236,6 +248,11 @@ std::string WithOwnCoverage(const Quantity& quantity, double sheet_coverage_fact
   const bool own_k =
       quantity.standard_uncertainty > 0.0 && k != CoverageText(sheet_coverage_factor);
   return own_k ? quantity.text + " (k = " + k + ")" : quantity.text;
+}
+
+std::string CoverageStatement(double sheet_coverage_factor) {
+  return "k = " + CoverageText(sheet_coverage_factor) +
+         " unless another k is stated beside the value";
 }
 
 int Sheet::SectionNumber(const std::string& key) const {
@@ -421,6 +438,10 @@ void SetDisplayRules(const ReportInputs& inputs, const Template& layout, Sheet& 
   sheet.moisture_axis_label = sheet.rules.moisture_in_percent
                                   ? "moisture content (mass %, dry basis)"
                                   : "moisture content (kg/kg, dry basis)";
+  sheet.moisture_basis_text = sheet.rules.moisture_in_percent
+                                  ? "moisture contents in mass % of the dry mass (dry basis)"
+                                  : "moisture contents in kg of water per kg of dry mass (dry "
+                                    "basis)";
 }
 
 // Input warnings rank with validity (a frozen sensor, a gap in a log): they change what every
@@ -455,8 +476,9 @@ bool WantedReference(const Template& layout, const pores::ReferenceCondition& co
 // (ReferenceMoisture::temperature_matches: within PoreOptions::temperature_tolerance_K,
 // 0.5 K by default, the tolerance by which the pipeline counts two isotherms as one
 // temperature), so the sheet and the pores stage cannot disagree. A value read at another
-// temperature keeps the reference in its label, marked "not measured", and its key names
-// both ("moisture_25C_50RH_adsorption_ref_23C"): no reader can take it for the reference.
+// temperature is labelled with the temperature it holds for and the reference marked "not
+// measured", and its key names both ("moisture_25C_50RH_adsorption_ref_23C"): no reader can
+// take it for the reference.
 // The headline key of a reference moisture measured at its reference temperature.
 std::string ReferenceMoistureKey(const pores::ReferenceMoisture& rm) {
   return fmt::format("moisture_{}_{}RH_{}", TemperatureKey(rm.condition.temperature_K),
@@ -476,8 +498,11 @@ void AddReferenceMoisture(const pores::ReferenceMoisture& rm, double measured_K,
     const std::string measured_t = TemperatureLabel(measured_K);
     key = fmt::format("moisture_{}_{}RH_{}_ref_{}", TemperatureKey(measured_K), rh, KeyPart(branch),
                       TemperatureKey(rm.condition.temperature_K));
-    label = fmt::format("Moisture content at {} / {} % RH ({}): not measured at {}; value at {}",
-                        reference_t, rh, branch, reference_t, measured_t);
+    // The label leads with the temperature the value holds for.
+    label = fmt::format(
+        "Moisture content at {} / {} % RH ({}); reference temperature {} not "
+        "measured",
+        measured_t, rh, branch, reference_t);
     cautions.Add(fmt::format("The reference temperature {} was not measured: moisture contents "
                              "given for it are read from the isotherm measured at {} and are "
                              "not converted to {}.",
@@ -552,11 +577,12 @@ void AddSurfaceAreasAndClass(const pores::PoreAnalysis& pa, const fit::IsothermF
     std::transform(model.begin(), model.end(), model.begin(),
                    [](char c) { return static_cast<char>(std::toupper(c)); });
     sheet.headline.push_back(
-        MakeQuantity("surface_area_" + KeyPart(sa.model_name) + "_" +
-                         BranchTemperatureKey(sa.branch, sa.temperature_K),
-                     "Specific surface area (" + model + " monolayer, " +
-                         BranchTemperatureLabel(sa.branch, sa.temperature_K) + ")",
-                     sa.area_m2_per_g, sa.u_area_m2_per_g, "m2/g", 1.0, "m²/g", sheet.rules));
+        SurfaceAreaQuantity(sa,
+                            "surface_area_" + KeyPart(sa.model_name) + "_" +
+                                BranchTemperatureKey(sa.branch, sa.temperature_K),
+                            "Specific surface area (" + model + " monolayer, " +
+                                BranchTemperatureLabel(sa.branch, sa.temperature_K) + ")",
+                            sheet.rules));
   }
   if (pa.hygroscopicity.applicable) {
     sheet.hygroscopicity_class = pa.hygroscopicity.class_name;
@@ -666,6 +692,12 @@ ModelRow MakeModelRow(const fit::IsothermFits& fits, size_t i, const Sheet& shee
     row.not_identifiable_reason = identifiability.reason;
     if (!row.identifiable) row.correlations.clear();  // no correlations of undetermined values
   }
+  // No value is printed of a fit that did not converge or whose data do not determine it
+  // (AddModelTable): their texts, also the CSV's "as printed" and results.json's "text", stay
+  // empty; the value fields keep the last iterate for a reader who wants it.
+  if (!row.converged || !row.identifiable) {
+    for (Quantity& q : row.parameters) q.text.clear();
+  }
   const fitters::FitStatistics& s = mf.result.statistics;
   const double scale = sheet.rules.moisture_in_percent ? 100.0 : 1.0;
   row.rmse_text = WithUnit(FormatSignificant(s.rmse * scale, 2), sheet.moisture_unit);
@@ -739,13 +771,12 @@ void AddBestModelCautions(const fit::ModelFit& mf, const ModelRow& row, const Sh
               "less certain than stated.",
               what, FormatProbability(s.chi_square_p_value, common::kProbabilityDigits)),
           CautionRank::kValidity);
-    } else if (f.rfind("physics: ", 0) == 0) {
+    } else if (f.rfind(fitters::kPhysicsFlagPrefix, 0) == 0) {
       cautions.Add(
           fmt::format(
               "The parameters of the best-fitting model, {}, lie outside the range in which its "
-              "physical interpretation holds{}: its monolayer moisture content and the surface "
-              "area "
-              "derived from it are indicative only.",
+              "physical interpretation holds{}: they describe the curve, but its monolayer "
+              "moisture content is indicative only and no surface area is reported from it.",
               what, see),
           CautionRank::kValidity);
     } else if (f.rfind("not ranked", 0) != 0) {
@@ -940,6 +971,12 @@ std::string SurfaceAreaNotHeadlineReason(const fit::IsothermFits* fits,
   std::string failed;
   for (const fit::ConsistencyCheck& c : mf.consistency) {
     if (!c.passed) failed += (failed.empty() ? "" : "; ") + c.criterion;
+  }
+  // The monolayer read as a physical quantity needs the model's physical interpretation.
+  for (const std::string& f : mf.result.summary.flags) {
+    if (f.rfind(fitters::kPhysicsFlagPrefix, 0) == 0) {
+      failed += (failed.empty() ? "" : "; ") + f.substr(std::strlen(fitters::kPhysicsFlagPrefix));
+    }
   }
   if (!failed.empty()) return "the fit fails " + failed;
   return std::string();

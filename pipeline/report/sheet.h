@@ -62,6 +62,12 @@ Quantity MakeQuantity(std::string key, std::string label, double value, double s
 Quantity DrawnQuantity(std::string key, std::string label, double value,
                        double standard_uncertainty, double draws_coverage_factor, std::string unit,
                        double display_scale, std::string display_unit, DisplayRules rules);
+// The rules of a monolayer and of the surface area derived from it: the monolayer
+// parameter's k (pores::SurfaceArea::coverage_factor; the rules' k where that is 0).
+DisplayRules MonolayerRules(const pores::SurfaceArea& area, DisplayRules rules);
+// A specific surface area [m²/g] with MonolayerRules.
+Quantity SurfaceAreaQuantity(const pores::SurfaceArea& area, std::string key, std::string label,
+                             const DisplayRules& rules);
 // A moisture content [kg/kg] shown in % or kg/kg per the rules.
 Quantity MoistureQuantity(std::string key, std::string label, double value_kg_per_kg,
                           double u_kg_per_kg, const DisplayRules& rules);
@@ -75,6 +81,12 @@ double CoverageFactorOf(double standard_uncertainty, double expanded_uncertainty
 // (k = 3.3)". BuildSheet gives every headline Quantity this text, so the summary, the HTML and
 // results.json print one string.
 std::string WithOwnCoverage(const Quantity& quantity, double sheet_coverage_factor);
+
+// The coverage statement of a heading, a table's note or a caption over values that may carry
+// their own k (WithOwnCoverage): "k = 2 unless another k is stated beside the value". A
+// Student-t k from few effective degrees of freedom (JCGM 100:2008, G.4) differs from the
+// sheet's; a heading that said only "k = 2" above "(k = 4.5)" would contradict its rows.
+std::string CoverageStatement(double sheet_coverage_factor);
 
 // The RH and moisture content of a combined point as printed: with the point's own expanded
 // uncertainty (its coverage factor is expanded / standard; the rules' k when none is set).
@@ -361,7 +373,10 @@ struct Sheet {
   DisplayRules rules;
   std::string moisture_unit;        // "%" or "kg/kg"
   std::string moisture_axis_label;  // "moisture content (% dry basis)"
-  std::vector<Quantity> headline;   // summary values in print order
+  // The basis of every moisture content, said where a table of them starts: "moisture
+  // contents in mass % of the dry mass (dry basis)".
+  std::string moisture_basis_text;
+  std::vector<Quantity> headline;  // summary values in print order
   // Headline keys a job may name that this sheet does not print, with the reason (e.g. a
   // reference condition at a temperature that was not measured).
   struct Unavailable {

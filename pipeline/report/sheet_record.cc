@@ -155,11 +155,9 @@ PoresRecord MakePoresRecord(const pores::PoreAnalysis& pa, const fit::IsothermFi
   }
   for (const pores::SurfaceArea& s : pa.surface_areas) {
     out.surface_areas.push_back(
-        {s,
-         MakeQuantity("surface_area", "specific surface area", s.area_m2_per_g, s.u_area_m2_per_g,
-                      "m2/g", 1.0, "m²/g", rules),
+        {s, SurfaceAreaQuantity(s, "surface_area", "specific surface area", rules),
          MoistureQuantity("monolayer", "monolayer moisture content", s.monolayer_kg_per_kg,
-                          s.u_monolayer_kg_per_kg, rules)});
+                          s.u_monolayer_kg_per_kg, MonolayerRules(s, rules))});
   }
   for (const pores::ReferenceMoisture& r : pa.reference_moisture) {
     out.reference_moisture.push_back(MakeReferenceRecord(r, fits, rules));

@@ -129,13 +129,13 @@ void PrintText(const ingest::IngestResult& in, const equilibrate::EquilibriumSet
   for (const auto& p : reduced.points) {
     // Value ± U rounded as on the datasheet (JCGM 100:2008 7.2.6; report::FormatWithUncertainty).
     out += fmt::format(
-        "  {:<20} {:<12} {:<10} cycle {}  RH {} %  u {} kg/kg (k = {:.2g}, n = {})\n", p.dataset_id,
+        "  {:<20} {:<12} {:<10} cycle {}  RH {} %  u {} kg/kg (k = {}, n = {})\n", p.dataset_id,
         p.step_label, ingest::BranchName(p.branch), p.cycle,
         report::FormatWithUncertainty(p.rh_fraction * kPercent, p.expanded_u_rh_fraction * kPercent,
                                       common::kUncertaintySignificantDigits),
         report::FormatWithUncertainty(p.moisture_kg_per_kg, p.expanded_u_moisture_kg_per_kg,
                                       common::kUncertaintySignificantDigits),
-        reduced.coverage_factor, p.num_specimens);
+        common::CoverageText(p.coverage_factor), p.num_specimens);
   }
   if (!reduced.retention.empty()) {
     out += fmt::format("retention points: {}\n", reduced.retention.size());

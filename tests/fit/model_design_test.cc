@@ -115,7 +115,8 @@ TEST(IdentifiabilityTest, CovarianceBoundsAndRelativeUncertaintyDecide) {
   bound.estimates[1].at_bound = true;
   const Identifiability at_bound = CheckIdentifiability(bound, 1.0);
   EXPECT_FALSE(at_bound.identifiable);
-  EXPECT_NE(at_bound.reason.find("p2 = 1 sits at a bound"), std::string::npos) << at_bound.reason;
+  EXPECT_NE(at_bound.reason.find("p2 = 1.00 sits at a bound"), std::string::npos)
+      << at_bound.reason;
   // Not converged.
   fitters::FitResult failed = Converged({0.05, 10.0}, {0.01, 1.0});
   failed.summary.termination = fitters::FitTermination::kNoConvergence;

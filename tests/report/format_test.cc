@@ -55,19 +55,24 @@ TEST(FormatWithUncertaintyTest, GumRoundingTable) {
   ExpectAll(std::begin(cases), std::end(cases));
 }
 
-TEST(FormatWithUncertaintyTest, NeverMoreThanSixSignificantDigitsInTheValue) {
+TEST(FormatWithUncertaintyTest, NeverMoreThanEightSignificantDigitsInTheValue) {
   const Case cases[] = {
-      // The printouts of issue 13: U below the sixth digit is rounded up to it.
-      {62.9738754178, 2.8e-9, 2, "62.9739 ± 0.0001"},
-      {177.2641, 0.0011, 2, "177.264 ± 0.002"},
-      {153.799396, 9.4e-7, 2, "153.799 ± 0.001"},
-      {1.993381, 0.000020, 2, "1.99338 ± 0.00002"},
-      {18.42024, 0.00064, 2, "18.4202 ± 0.0007"},
-      {1.23456, 0.000012, 2, "1.23456 ± 0.00002"},
-      // Six digits exactly: untouched.
+      // The printouts of issue 13: U below the eighth digit is rounded up to it, keeping two
+      // significant digits (10 units of that place where U is below ten units).
+      {62.9738754178, 2.8e-9, 2, "62.973875 ± 0.000010"},
+      {153.799396, 9.4e-7, 2, "153.79940 ± 0.00010"},
+      {153.799396, 3.4e-5, 2, "153.79940 ± 0.00010"},  // 3.4 units of the eighth digit
+      // Eight digits suffice: GUM 7.2.6 unchanged (vapour-log points of the wood-fibre demos,
+      // which a six-digit cap printed "2.44196 ± 0.00007" and "18.4206 ± 0.0003": U with
+      // one digit).
+      {2.4419604, 0.0000741, 2, "2.441960 ± 0.000074"},
+      {18.4206012, 0.00021, 2, "18.42060 ± 0.00021"},
+      {153.799396, 3.4e-4, 2, "153.79940 ± 0.00034"},
+      {177.2641, 0.0011, 2, "177.2641 ± 0.0011"},
+      {1.993381, 0.000020, 2, "1.993381 ± 0.000020"},
       {123.456, 0.012, 2, "123.456 ± 0.012"},
-      // A carry in the value (9.9999996 -> 10.0000) does not add a seventh digit.
-      {9.9999996, 1e-9, 2, "10.0000 ± 0.0001"},
+      // A carry in the value (9.99999996 -> 10.000000) does not add a ninth digit.
+      {9.99999996, 1e-10, 2, "10.000000 ± 0.000010"},
   };
   ExpectAll(std::begin(cases), std::end(cases));
   // U rounded up never prints below the computed U.
@@ -91,7 +96,8 @@ TEST(FormatWithUncertaintyTest, EngineeringPowersOfTenNeverTenToTheZero) {
   // Plain at the edges of the plain range.
   EXPECT_EQ(FormatWithUncertainty(0.00123, 0.00012, 2), "0.00123 ± 0.00012");
   EXPECT_EQ(FormatWithUncertainty(999000.0, 1200.0, 2), "999000 ± 1200");
-  // A sweep over 30 decades: no "10⁰" and never more than six digits in a value.
+  // A sweep over 30 decades: no "10⁰", never more than eight digits in a value, U always with
+  // two significant digits.
   for (int e = -15; e <= 15; ++e) {
     for (double rel : {3e-1, 2e-3, 1e-5, 1e-9}) {
       const double v = 1.2345678901 * std::pow(10.0, e);
@@ -105,6 +111,15 @@ TEST(FormatWithUncertaintyTest, EngineeringPowersOfTenNeverTenToTheZero) {
         if (ch >= '0' && ch <= '9' && !leading) ++digits;
       }
       EXPECT_LE(digits, kMaxValueDigits) << text;
+      std::string u_part = text.substr(text.find("± ") + 3);
+      u_part = u_part.substr(0, u_part.find_first_not_of("0123456789."));
+      const std::size_t first = u_part.find_first_of("123456789");
+      ASSERT_NE(first, std::string::npos) << text;
+      int u_digits = 0;
+      for (std::size_t i = first; i < u_part.size(); ++i) u_digits += u_part[i] != '.';
+      if (u_part.find('.') != std::string::npos) {
+        EXPECT_EQ(u_digits, 2) << text;
+      }
     }
   }
 }
@@ -122,9 +137,23 @@ TEST(FormatAtUncertaintyTest, ValueToTheDigitOfItsUncertainty) {
   EXPECT_EQ(common::FormatAtUncertainty(10.05762, 0.027, 2), "10.058");  // GUM's example
   // Seven decimals would be needed: engineering notation, as for value ± U.
   EXPECT_EQ(common::FormatAtUncertainty(-0.00776584, 1.2e-6, 2, true), "-7.7658 × 10⁻³");
-  EXPECT_EQ(common::FormatAtUncertainty(0.00776584, 1.2e-9, 2), "7.76584 × 10⁻³");  // 6-digit cap
+  EXPECT_EQ(common::FormatAtUncertainty(0.00776584, 1.2e-9, 2), "7.7658400 × 10⁻³");  // 8-digit cap
   EXPECT_EQ(common::FormatAtUncertainty(1.5e-8, 2.3e-9, 2), "15.0 × 10⁻⁹");
   EXPECT_EQ(common::FormatAtUncertainty(0.25, 0.0, 2), "0.2500");  // no usable u: 4 digits
+}
+
+// A coverage factor to two significant digits; one that two digits print as "2.0" is the
+// sheet's "2" (a Student-t k of 2.04 beside a heading "k = 2" would read as a contradiction).
+// Check values: Student-t quantiles for 95.45 % (JCGM 100:2008, Table G.2: nu = 2 -> 4.53,
+// nu = 50 -> 2.05; nu = 3 -> 3.31).
+TEST(CoverageTextTest, TwoSignificantDigitsAndTheSheetsTwo) {
+  EXPECT_EQ(common::CoverageText(2.0), "2");
+  EXPECT_EQ(common::CoverageText(2.004), "2");
+  EXPECT_EQ(common::CoverageText(2.04), "2");
+  EXPECT_EQ(common::CoverageText(2.06), "2.1");
+  EXPECT_EQ(common::CoverageText(2.87), "2.9");
+  EXPECT_EQ(common::CoverageText(4.53), "4.5");
+  EXPECT_EQ(common::CoverageText(13.97), "14");
 }
 
 TEST(FormatSignificantTest, PlainAndEngineering) {

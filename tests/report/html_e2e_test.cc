@@ -306,6 +306,12 @@ void ExpectCsvAgrees(const Json& results, const fs::path& out, const std::string
       EXPECT_NE(printed.find("not identifiable from these data"), std::string::npos) << where;
       continue;
     }
+    if (fits[i][converged] != "yes") {
+      // Not converged: no values, in the table as in the CSV.
+      EXPECT_TRUE(fits[i][as_printed].empty()) << where << ": " << fits[i][as_printed];
+      EXPECT_NE(printed.find("not converged: no parameters reported"), std::string::npos) << where;
+      continue;
+    }
     const std::string line = fits[i][parameter] + " = " + CsvPrinted(fits[i][as_printed]);
     EXPECT_NE(printed.find(line), std::string::npos) << where << ": model table lacks " << line;
   }
@@ -338,10 +344,10 @@ TEST_F(HtmlE2eTest, PdfHtmlJsonAndCsvAgreeCellByCellOnEveryDemoJob) {
       const bool shows_k = cell->second.find(" (k = ") != std::string::npos;
       // The sheet's k is results.json "report" "coverage_factor" (2 on the demos); a k is
       // printed with two significant digits (JCGM 100:2008, 7.2.6), so one that differs from
-      // 2 by half a unit of the second digit (0.005) or more reads differently.
+      // 2 by half a unit of the second digit (0.05) or more reads differently.
       const double sheet_k = results["report"]["coverage_factor"].get<double>();
       EXPECT_EQ(shows_k,
-                std::abs(k - sheet_k) >= 0.005 && q["standard_uncertainty"].get<double>() > 0.0)
+                std::abs(k - sheet_k) >= 0.05 && q["standard_uncertainty"].get<double>() > 0.0)
           << scenario << " " << key << ": " << cell->second;
       ++matched;
     }

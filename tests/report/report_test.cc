@@ -397,11 +397,11 @@ TEST(SheetLabelsTest, AReferenceTemperatureThatWasNotMeasuredIsMarked) {
   std::map<std::string, std::string> label_of;
   for (const Quantity& q : sheet.headline) label_of[q.key] = q.label;
   EXPECT_EQ(label_of["moisture_25C_50RH_adsorption_ref_23C"],
-            "Moisture content at 23 °C / 50 % RH (adsorption): not measured at 23 °C; value at "
-            "25 °C");
+            "Moisture content at 25 °C / 50 % RH (adsorption); reference temperature 23 °C not "
+            "measured");
   EXPECT_EQ(label_of["moisture_25C_80RH_adsorption_ref_23C"],
-            "Moisture content at 23 °C / 80 % RH (adsorption): not measured at 23 °C; value at "
-            "25 °C");
+            "Moisture content at 25 °C / 80 % RH (adsorption); reference temperature 23 °C not "
+            "measured");
   EXPECT_EQ(label_of.count("moisture_23C_50RH_adsorption"), 0u);
   int marked = 0;
   for (const std::string& c : sheet.cautions) {
