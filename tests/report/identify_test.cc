@@ -127,6 +127,46 @@ TEST(IdentifySheetTest, BetAreaFailingRouquerolIsNoHeadlineValue) {
   EXPECT_TRUE(marked);
 }
 
+// A monolayer read as a physical quantity needs the model inside the range of its physical
+// interpretation: a GAB fit flagged "physics: ..." (C < 5.67 or K outside (0.24, 1]: the curve
+// is then not a sigmoid type II isotherm, Lewicki, Int. J. Food Sci. Technol. 32 (1997) 553)
+// gives no surface-area result, only the marked value in the model section.
+TEST(IdentifySheetTest, GabOutsideItsPhysicalRangeGivesNoSurfaceArea) {
+  ReportFixture fx = MakeReportFixture();
+  fit::ModelFit* gab = nullptr;
+  for (fit::ModelFit& mf : fx.fits.fits) {
+    if (mf.model_name == "gab" && mf.group_index == 0) gab = &mf;
+  }
+  ASSERT_NE(gab, nullptr);
+  ASSERT_TRUE(
+      HasHeadline(BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions()), "surface_area_gab_"));
+  gab->result.summary.flags.push_back(std::string(fitters::kPhysicsFlagPrefix) +
+                                      "outside 0.24 < K <= 1, C >= 5.67");
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
+  EXPECT_FALSE(HasHeadline(sheet, "surface_area_gab_"));
+  const std::vector<std::string> texts = Texts(SectionOf(sheet, "models"));
+  EXPECT_TRUE(AnyContains(texts, "not a reported result: the fit fails outside 0.24 < K <= 1"));
+}
+
+// The surface area is X_m times a constant: it is stated with the monolayer parameter's k
+// (Student-t from its effective degrees of freedom, JCGM 100:2008 G.4), not the sheet's 2.
+TEST(IdentifySheetTest, SurfaceAreaCarriesTheMonolayersCoverageFactor) {
+  ReportFixture fx = MakeReportFixture();
+  ASSERT_FALSE(fx.pores.surface_areas.empty());
+  // nu_eff = 4: k = t_95.45(4) = 2.87 (JCGM 100:2008, Table G.2).
+  fx.pores.surface_areas.front().coverage_factor = 2.87;
+  const Sheet sheet = BuildSheet(fx.Inputs(), FullTemplate(), FixtureOptions());
+  bool found = false;
+  for (const Quantity& q : sheet.headline) {
+    if (q.key.rfind("surface_area_gab_", 0) != 0) continue;
+    found = true;
+    EXPECT_DOUBLE_EQ(q.coverage_factor, 2.87);
+    EXPECT_DOUBLE_EQ(q.expanded_uncertainty, 2.87 * q.standard_uncertainty);
+    EXPECT_NE(q.text.find("(k = 2.9)"), std::string::npos) << q.text;
+  }
+  EXPECT_TRUE(found);
+}
+
 TEST(IdentifySheetTest, NotEvaluatedModelsAreSaidOnceInTheMethodSection) {
   ReportFixture fx = MakeReportFixture();
   for (int g = 0; g < 2; ++g) {
