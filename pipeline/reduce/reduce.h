@@ -109,7 +109,7 @@
 //       their own sampling error (a pooled scatter on ~20 degrees of freedom: about 15 %), and phi
 //       sees it; keeping the larger of the two adopted phi only where it raised u. Measured on
 //       generated desiccator jobs (3 specimens with their own time constants, steps stopped after
-//       3-4 weighings, 200 replicates; tests/coverage/equilibrium_coverage_test.cc): in the 57 %
+//       3-4 weighings, 200 replicates; tests/coverage/equilibrium_coverage_test.cc): in the 58 %
 //       of replicates with phi <= 1 the specimen points' RMS(error / u) was 0.92, 1.23 in the
 //       others; the combined points on the floor had RMS z 0.85 and covered 98.8 %, those with
 //       sqrt(phi) (k of nu_e = 10: 2.3) 98.4 %, all points 98.7 %; with this rule (and the

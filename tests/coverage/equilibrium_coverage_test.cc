@@ -141,7 +141,7 @@ TEST(EquilibriumCoverageTest, DesiccatorJobsSpecimensDiffer) {
 // the plain floor sqrt(mean u_c^2 / n) would have had RMS z 1.08. The reduce stage took
 // max(phi, 1) of the evaluated independent parts (reduce.h), and those parts are themselves
 // uncertain (the pooled weighing scatter on ~20 degrees of freedom: 0.068-0.152 mg over the
-// first 20 replicates for a true 0.123 mg), which phi sees: in the 57 % of replicates with phi <= 1
+// first 20 replicates for a true 0.123 mg), which phi sees: in the 58 % of replicates with phi <= 1
 // the specimen points' RMS z was 0.92 and the combined points on the floor had RMS z 0.85 (98.8 %
 // covered), in the others sqrt(phi) with k = t(nu_e = 10) = 2.3 covered 98.4 %.
 // After (reduce.h: phi pooled with the evaluated parts by degrees of freedom unless it
