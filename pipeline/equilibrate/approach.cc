@@ -7,6 +7,7 @@
 #include <cmath>
 #include <vector>
 
+#include "pipeline/common/number_text.h"
 #include "pipeline/equilibrate/criteria.h"
 #include "pipeline/equilibrate/exponential_tail.h"
 #include "pipeline/physics/physics.h"
@@ -62,10 +63,13 @@ bool RemainingFromThree(const std::array<double, 3>& m, double a_s, double b_s, 
   return std::isfinite(*remaining);
 }
 
+// stated: the data set's scatter (the resolution test); propagated: the scatter propagated to
+// the remaining approach (the step's own where its weighings contradict the stated one).
 ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
-                                    double reported_mass_g, const WeighingScatter& scatter,
+                                    double reported_mass_g, const WeighingScatter& stated,
+                                    const WeighingScatter& propagated,
                                     const EquilibrateOptions& options) {
-  const double weighing_sd_g = scatter.sd_g;
+  const double weighing_sd_g = propagated.sd_g;
   ApproachEstimate estimate;
   // The chain of the criterion: the last weighing and the previous ones min_weighing_interval
   // apart (criteria.h); three are needed.
@@ -86,7 +90,7 @@ ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
   // ratio d1/d2 is noise and the time constant unbounded.
   const double curvature = (m[1] - m[2]) - (m[0] - m[1]);
   const double kResolved = 2.0;  // about 95 % one-sided, project choice
-  if (!(std::abs(curvature) > kResolved * std::sqrt(6.0) * weighing_sd_g)) return estimate;
+  if (!(std::abs(curvature) > kResolved * std::sqrt(6.0) * stated.sd_g)) return estimate;
   if (!(tau <= options.max_tau_to_tail_ratio * (t[0] - t[2]))) return estimate;
   // Propagation of the balance uncertainty of each weighing (JCGM 100:2008, Eq. 10) with
   // central-difference sensitivities.
@@ -110,10 +114,16 @@ ApproachEstimate FromThreeWeighings(std::span<const ingest::Weighing> weighings,
   estimate.correction_g = m[0] + remaining - reported_mass_g;
   estimate.u_correction_g = std::sqrt(variance);
   estimate.time_constant_s = tau;
-  estimate.degrees_of_freedom = scatter.degrees_of_freedom;
+  estimate.degrees_of_freedom = propagated.degrees_of_freedom;
   estimate.method =
       fmt::format("first-order decay through the last three criterion weighings, tau = {:.3g} h",
                   tau / kSecondsPerHour);
+  if (propagated.sd_g != stated.sd_g) {
+    estimate.method += fmt::format(
+        "; the step's own scatter {} g ({} degrees of freedom)",
+        common::FormatSignificant(propagated.sd_g, common::kUncertaintySignificantDigits),
+        propagated.degrees_of_freedom);
+  }
   return estimate;
 }
 
@@ -156,12 +166,18 @@ TailFit FitOwnWeighings(const StepTrace& trace, const EquilibrateOptions& option
 // series is too short, the fit fails or fails the lack-of-fit test.
 ApproachEstimate FitWithStatedScatter(const Series& series, double reported_mass_g,
                                       const WeighingScatter& scatter,
-                                      const EquilibrateOptions& options) {
+                                      const EquilibrateOptions& options,
+                                      WeighingScatter* contradicted = nullptr) {
   TailFitOptions tail = TailOptions(options, series.time_s.front());
   tail.point_sd_g = scatter.sd_g;
   tail.point_sd_degrees_of_freedom = scatter.degrees_of_freedom;
   const TailFit fit = FitExponentialTail(series.time_s, series.mass_g, tail);
-  if (!fit.ok || LackOfFitProbability(fit, scatter.sd_g) < kLackOfFitProbability) {
+  if (!fit.ok) return ApproachEstimate{};
+  if (LackOfFitProbability(fit, scatter.sd_g) < kLackOfFitProbability) {
+    if (contradicted != nullptr && fit.residual_degrees_of_freedom >= 1) {
+      *contradicted = WeighingScatter{std::sqrt(fit.ssr_g2 / fit.residual_degrees_of_freedom),
+                                      fit.residual_degrees_of_freedom, 0};
+    }
     return ApproachEstimate{};
   }
   ApproachEstimate estimate =
@@ -209,9 +225,10 @@ ApproachEstimate EstimateDesiccatorApproach(const StepTrace& trace, double repor
   // 2. the own weighings; four points only when the first was taken at the transfer.
   const int needed =
       trace.first_weighing_is_start ? kMinTracePointsForFit : kMinTracePointsForScatter;
+  WeighingScatter chain_scatter = scatter;
   if (static_cast<int>(trace.weighings.size()) >= needed) {
-    ApproachEstimate estimate =
-        FitWithStatedScatter(ToSeries(trace, false), reported_mass_g, scatter, options);
+    ApproachEstimate estimate = FitWithStatedScatter(ToSeries(trace, false), reported_mass_g,
+                                                     scatter, options, &chain_scatter);
     if (estimate.estimated) return estimate;
   }
   if (static_cast<int>(trace.weighings.size()) >= kMinTracePointsForScatter) {  // 3.
@@ -223,7 +240,8 @@ ApproachEstimate EstimateDesiccatorApproach(const StepTrace& trace, double repor
       return estimate;
     }
   }
-  return FromThreeWeighings(trace.weighings, reported_mass_g, scatter, options);  // 4.
+  return FromThreeWeighings(trace.weighings, reported_mass_g, scatter, chain_scatter,
+                            options);  // 4.
 }
 
 ApproachEstimate EstimateLogApproach(std::span<const double> tail_time_s,

@@ -124,8 +124,9 @@ int ThreadsToUse(int requested);
 //    (the RH of salt tables and sensors through errors in variables, the evaluated independent
 //    parts and the systematic lines), is Type B with infinite nu. Then
 //      nu_eff = u^4 / (sum_k (g's_k u_k)^4 / nu_k + (g' C_A g)^2 / nu_ind),
-//    nu_ind the smallest nu_e of the factors' data sets whose independent lines are the pooled
-//    Type A estimate (phi > 1 in reduce.h). Counting all of C_ind with nu_e overstates the
+//    nu_ind the smallest nu of the factors' data sets' independent lines where they are a Type A
+//    estimate (reduce.h: SpecimenTerm::independent_degrees_of_freedom, phi pooled with the
+//    evaluated parts or phi alone). Counting all of C_ind with nu_e overstates the
 //    weight of that estimate: on generated desiccator jobs (3 specimens, factor sd 3 %, 6-8
 //    salts, 200 replicates) GAB C and K got k = 2.00-2.28 (2.28 for nu_e = 10) although most
 //    of their variance is Type B; with the split k = 2.00-2.10, and their covariance
@@ -142,8 +143,9 @@ struct SpecimenFactor {
   std::vector<std::string> specimen_ids;           // the merged specimens
   double relative_standard_uncertainty = 0.0;      // u_k of z_k
   double degrees_of_freedom = fitters::kInfinity;  // nu_d of the data set's term
-  // nu_e of the data set's independent lines where they are the pooled Type A estimate (phi >
-  // 1 in reduce.h), else infinity: the weights of the points it acts on are that estimate.
+  // The degrees of freedom of the data set's independent lines (reduce.h:
+  // SpecimenTerm::independent_degrees_of_freedom; infinity where the evaluated parts are kept):
+  // the weights of the points it acts on are that estimate.
   double independent_degrees_of_freedom = fitters::kInfinity;
   std::vector<double> weights;  // per observation of the group: 1 / n_i, 0 where not acting
   // A cycle factor (grouping.h, CycleFactors: specimen_ids holds "cycle N", weights 1 on that

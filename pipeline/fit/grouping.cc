@@ -132,9 +132,7 @@ std::vector<SpecimenFactor> SpecimenFactors(const reduce::ReducedIsotherms& redu
       SpecimenFactor factor;
       factor.dataset_id = term.dataset_id;
       factor.degrees_of_freedom = term.degrees_of_freedom;
-      if (term.independent_variance_ratio > 1.0) {
-        factor.independent_degrees_of_freedom = term.residual_degrees_of_freedom;
-      }
+      factor.independent_degrees_of_freedom = term.independent_degrees_of_freedom;
       factor.weights = weights;
       factors.push_back(std::move(factor));
       same = std::prev(factors.end());

@@ -4,6 +4,8 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <boost/math/distributions/chi_squared.hpp>
+#include <boost/math/distributions/fisher_f.hpp>
 #include <boost/math/distributions/normal.hpp>
 #include <cmath>
 #include <iterator>
@@ -202,6 +204,34 @@ struct CombinedUncertainty {
 constexpr const char* kSpecimenLine = "specimen-to-specimen (common to every step, Type A)";
 constexpr const char* kIndependentLine =
     "step-to-step scatter of the specimens (Type A, pooled over the steps)";
+constexpr const char* kPooledIndependentLine =
+    "independent parts of the specimens' budgets, pooled with their step-to-step scatter";
+
+// The name of a data set's independent line (reduce.h: which estimate was adopted).
+const char* IndependentLineName(const SpecimenTerm& term) {
+  switch (term.independent_estimate) {
+    case IndependentEstimate::kObserved:
+      return kIndependentLine;
+    case IndependentEstimate::kPooled:
+      return kPooledIndependentLine;
+    case IndependentEstimate::kEvaluated:
+      break;
+  }
+  return "independent parts of the specimens' budgets (spread consistent)";
+}
+
+// A specimen point's evaluated independent variance, u_c^2 - u_sys^2 (at least 0).
+double IndependentVariance(const SpecimenPoint& p) {
+  return std::max(0.0, p.u_moisture_kg_per_kg * p.u_moisture_kg_per_kg -
+                           p.u_systematic_kg_per_kg * p.u_systematic_kg_per_kg);
+}
+
+// Mean over a step's specimens of their evaluated independent variances.
+double MeanIndependentVariance(const std::vector<const SpecimenPoint*>& members) {
+  double sum = 0.0;
+  for (const SpecimenPoint* p : members) sum += IndependentVariance(*p);
+  return sum / static_cast<double>(members.size());
+}
 
 CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& members,
                                      double spread_sd, const SpecimenTerm* term, double mean) {
@@ -214,12 +244,7 @@ CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& me
   // evaluated size: two or three specimens that happen to agree must not make the balance,
   // dry-mass and tail-fit uncertainties vanish (JCGM 100:2008, 4.3.2: a Type A estimate from
   // very few observations is itself uncertain; the larger of the two is kept).
-  double mean_independent2 = 0.0;
-  for (const SpecimenPoint* p : members) {
-    mean_independent2 += std::max(0.0, p->u_moisture_kg_per_kg * p->u_moisture_kg_per_kg -
-                                           p->u_systematic_kg_per_kg * p->u_systematic_kg_per_kg) /
-                         n;
-  }
+  const double mean_independent2 = MeanIndependentVariance(members);
   std::vector<BudgetLine> lines;
   if (term != nullptr) {
     // Two-way decomposition (reduce.h): the specimen line, common to every step, and the
@@ -229,12 +254,9 @@ CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& me
       lines.push_back(Line(kSpecimenLine, term->relative_sd, "1", std::abs(mean) / std::sqrt(n),
                            term->degrees_of_freedom));
     }
-    lines.push_back(term->independent_variance_ratio > 1.0
-                        ? Line(kIndependentLine,
-                               std::sqrt(term->independent_variance_ratio * mean_independent2),
-                               "kg/kg", 1.0 / std::sqrt(n), term->residual_degrees_of_freedom)
-                        : Line("independent parts of the specimens' budgets (spread smaller)",
-                               std::sqrt(mean_independent2), "kg/kg", 1.0 / std::sqrt(n)));
+    lines.push_back(Line(IndependentLineName(*term),
+                         std::sqrt(term->adopted_variance_ratio * mean_independent2), "kg/kg",
+                         1.0 / std::sqrt(n), term->independent_degrees_of_freedom));
   } else {
     lines.push_back(spread_sd * spread_sd >= mean_independent2
                         ? Line("between-specimen spread (Type A)", spread_sd, "kg/kg",
@@ -259,19 +281,60 @@ CombinedUncertainty CombineSpecimens(const std::vector<const SpecimenPoint*>& me
   }
   double u_pooled_scatter = 0.0;
   for (const BudgetLine& line : lines) {
-    if (line.quantity == kIndependentLine) u_pooled_scatter = line.contribution;
+    if (line.quantity == kIndependentLine || line.quantity == kPooledIndependentLine) {
+      u_pooled_scatter = line.contribution;
+    }
   }
   return {RootSumSquare(lines), EffectiveDegreesOfFreedom(lines), lines, u_pooled_scatter};
 }
 
-// Mean over a step's specimens of their evaluated independent variances, u_c^2 - u_sys^2.
-double MeanIndependentVariance(const std::vector<const SpecimenPoint*>& members) {
-  double sum = 0.0;
+// Relative standard uncertainty of a step's evaluated independent variance (the mean over its
+// specimens of u_c^2 - u_sys^2; see reduce.h): each specimen's from the Welch-Satterthwaite
+// degrees of freedom nu of its lines that are not systematic, sqrt(2 / nu) (JCGM 100:2008, E.4.3
+// and G.4.2: u(u)/u = 1 / sqrt(2 nu)), added linearly over the specimens (their Type A parts rest
+// on one pooled weighing scatter: fully correlated). 0 when every such line is Type B.
+double RelativeUncertaintyOfEvaluatedVariance(const std::vector<const SpecimenPoint*>& members) {
+  double sum_variance = 0.0, sum_spread = 0.0;
   for (const SpecimenPoint* p : members) {
-    sum += std::max(0.0, p->u_moisture_kg_per_kg * p->u_moisture_kg_per_kg -
-                             p->u_systematic_kg_per_kg * p->u_systematic_kg_per_kg);
+    std::vector<BudgetLine> independent;
+    for (const BudgetLine& line : p->moisture_budget) {
+      if (!line.systematic) independent.push_back(line);
+    }
+    const double variance = IndependentVariance(*p);
+    const double nu = EffectiveDegreesOfFreedom(independent);
+    sum_variance += variance;
+    if (std::isfinite(nu)) sum_spread += variance * std::sqrt(2.0 / nu);
   }
-  return sum / static_cast<double>(members.size());
+  return sum_variance > 0.0 ? sum_spread / sum_variance : 0.0;
+}
+
+// The estimate of the independent parts a data set adopts from phi (nu_e degrees of freedom)
+// and its evaluated parts (nu_ev; see reduce.h: the Birge test, then pooling).
+void AdoptIndependentEstimate(double phi, double nu_e, double nu_ev, SpecimenTerm* term) {
+  // Upper 1 % of phi when the evaluated parts are right (common practice, as the lack-of-fit
+  // test of the equilibrate stage's kinetic fits).
+  constexpr double kBirgeTestProbability = 0.01;
+  const double critical =
+      std::isfinite(nu_ev)
+          ? boost::math::quantile(boost::math::complement(
+                boost::math::fisher_f_distribution<double>(nu_e, nu_ev), kBirgeTestProbability))
+          : boost::math::quantile(boost::math::complement(
+                boost::math::chi_squared_distribution<double>(nu_e), kBirgeTestProbability)) /
+                nu_e;
+  term->evaluated_degrees_of_freedom = nu_ev;
+  if (phi > critical) {
+    term->independent_estimate = IndependentEstimate::kObserved;
+    term->adopted_variance_ratio = phi;
+    term->independent_degrees_of_freedom = nu_e;
+  } else if (std::isfinite(nu_ev)) {
+    term->independent_estimate = IndependentEstimate::kPooled;
+    term->adopted_variance_ratio = (nu_ev + nu_e * phi) / (nu_ev + nu_e);
+    term->independent_degrees_of_freedom = nu_ev + nu_e;
+  } else {
+    term->independent_estimate = IndependentEstimate::kEvaluated;
+    term->adopted_variance_ratio = 1.0;
+    term->independent_degrees_of_freedom = kInfinity;
+  }
 }
 
 // The specimen term of one data set from its steps (each the included specimen points of one
@@ -294,6 +357,7 @@ bool EstimateSpecimenTerm(const std::vector<const std::vector<const SpecimenPoin
   // the step's relative evaluated independent variance v_i > 0 (weight w_i = 1 / v_i).
   std::vector<std::vector<double>> y;
   std::vector<double> w;
+  double sum_relative_u = 0.0;  // of the steps' evaluated variances
   for (const auto* members : steps) {
     if (members->size() != num_specimens) continue;
     std::vector<double> row(num_specimens, 0.0);
@@ -309,6 +373,7 @@ bool EstimateSpecimenTerm(const std::vector<const std::vector<const SpecimenPoin
     if (!usable || !(v > 0.0) || !std::isfinite(v)) continue;
     y.push_back(std::move(row));
     w.push_back(1.0 / v);
+    sum_relative_u += RelativeUncertaintyOfEvaluatedVariance(*members);
   }
   const std::size_t num_steps = y.size();
   if (num_steps < 2) return false;
@@ -341,6 +406,11 @@ bool EstimateSpecimenTerm(const std::vector<const std::vector<const SpecimenPoin
   term->num_steps = static_cast<int>(num_steps);
   term->independent_variance_ratio = phi;
   term->residual_degrees_of_freedom = df_residual;
+  // phi weighs every step alike (w_i = 1 / v_i), so the relative uncertainty of the evaluated
+  // parts it is compared with is the steps' mean (fully correlated), nu_ev = 2 / rel^2.
+  const double relative_u = sum_relative_u / I;
+  AdoptIndependentEstimate(phi, df_residual,
+                           relative_u > 0.0 ? 2.0 / (relative_u * relative_u) : kInfinity, term);
   const double difference = ms_specimens - ms_residual;
   if (difference > 0.0) {
     term->relative_sd = std::sqrt(difference);

@@ -135,8 +135,29 @@ TEST(EquilibriumCoverageTest, DesiccatorJobsSpecimensDiffer) {
 //    before, the NaCl points outside 2u were mostly steps of 5-6 weighings whose kinetic fit
 //    stated a Type A u from s with 2-3 degrees of freedom;
 //  - each specimen its own time constant (seeds 8000-): points 98.3 -> 98.7 % (above 98 %), u /
-//    sd 0.85-1.19: over-covers (Student-t factors of the specimen term's few degrees of freedom
-//    on differences the specimens' own approach corrections make); still disabled.
+//    sd 0.85-1.19: over-covered, and the 23 degC / 50 % RH moisture content 98.5 %.
+// Why it over-covered (diagnosis, 200 replicates): not a budget line too large on average. The
+// specimen points' RMS(error / u) was 1.06 (93.8 % within 2u), and the combined points with
+// the plain floor sqrt(mean u_c^2 / n) would have had RMS z 1.08. The reduce stage took
+// max(phi, 1) of the evaluated independent parts (reduce.h), and those parts are themselves
+// uncertain (the pooled weighing scatter on ~20 degrees of freedom: 0.068-0.152 mg over the
+// first 20 replicates for a true 0.123 mg), which phi sees: in the 58 % of replicates with phi <= 1
+// the specimen points' RMS z was 0.92 and the combined points on the floor had RMS z 0.85 (98.8 %
+// covered), in the others sqrt(phi) with k = t(nu_e = 10) = 2.3 covered 98.4 %.
+// After (reduce.h: phi pooled with the evaluated parts by degrees of freedom unless it
+// contradicts them; approach.h: the three-weighing chain propagates the scatter its step
+// shows where the step's own fit failed the lack-of-fit test):
+//  - own time constants: points 96.75 %, per point 95.5-98.5 % with u / sd 0.78-1.10, GAB C / K
+//    / X_m 92.5 / 95.5 / 97 %, reference 50 / 80 % RH 97.5 / 95.5 % (enabled);
+//  - shared time constant: points 97.0 -> 96.5 %, per point u / sd 0.71-1.11 -> 0.70-1.01
+//    (NaCl 0.703, the smallest: the errors' sd is dominated by a few steps with a large u);
+//    pooling alone, without the chain's own scatter, gave 0.65-0.69 at LiCl, MgCl2 and NaCl
+//    (chain estimates of four-weighing steps: RMS z 2.4, 53 % within 2u).
+// Other seeds (200 replicates, before -> after): own time constants from 18000: points 98.8 ->
+// 97.1 %, GAB K / X_m 98.5 -> 98 %, reference 50 % RH 99 -> 98 %; shared from 17000: points
+// 96.75 -> 96.25 %, but per point u / sd below 0.7 both before (Mg(NO3)2 0.60) and after
+// (Mg(NO3)2 0.56, KCl 0.698, MgCl2 0.69, NaCl 0.69): the mean u over the sd of errors that a few
+// large-u steps dominate sits near the limit in this class whatever the combination rule.
 // Tried and not kept (pipeline/equilibrate/approach.cc):
 //  - one time constant for the specimens of a step (variable projection, each specimen its own
 //    asymptote and amplitude; the shared part of u as a line common to the specimens). Shared
@@ -167,7 +188,7 @@ TEST(EquilibriumCoverageTest, DesiccatorJobsShortStepsSharedTimeConstant) {
   Check(tallies);
 }
 
-TEST(EquilibriumCoverageTest, DISABLED_DesiccatorJobsShortStepsOwnTimeConstants) {
+TEST(EquilibriumCoverageTest, DesiccatorJobsShortStepsOwnTimeConstants) {
   Tallies tallies;
   RunReplicates(
       kReplicates, 8000, [](std::uint64_t seed) { return MakeShortStepDesiccatorJob(seed, true); },

@@ -10,6 +10,8 @@
 #include <random>
 #include <string>
 
+#include "pipeline/equilibrate/approach.h"
+#include "pipeline/equilibrate/exponential_tail.h"
 #include "pipeline/physics/physics.h"
 
 namespace sorbtrace::equilibrate {
@@ -95,11 +97,25 @@ TEST(EquilibrateDesiccatorTest, ConstantMassAndSaltHumidity) {
   EXPECT_NEAR(a.mass_g, 10.0550 + 0.0010 * 0.25 / 0.75, 1e-9);
   EXPECT_NEAR(a.approach_time_constant_s, 24 * kHour_s / std::log(4.0), 1.0);
   // Its uncertainty: R = d1^2 / (d2 - d1), dR/dm0 = 7/9, dR/dm1 = -8/9, dR/dm2 = 1/9, each
-  // weighing u = sqrt((1e-4)^2 + (1e-4/sqrt(12))^2) = 1.04083e-4 g (balance defaults of the
-  // job, JCGM 100:2008 F.2.2.1): u(R) = 1.04083e-4 x sqrt(49 + 64 + 1) / 9 = 1.23473e-4 g.
-  EXPECT_NEAR(a.u_mass_approach_g, 1.04083e-4 * std::sqrt(114.0) / 9.0, 1e-8);
-  EXPECT_EQ(a.approach_degrees_of_freedom, 0);  // Type B propagation
-  EXPECT_DOUBLE_EQ(a.u_mass_drift_g, 0.0);      // replaced by the approach estimate
+  // weighing with the scatter s the step's four weighings (72-144 h) show about their fit: that
+  // fit with the balance's scatter, u = sqrt((1e-4)^2 + (1e-4/sqrt(12))^2) = 1.04083e-4 g (balance
+  // defaults of the job, JCGM 100:2008 F.2.2.1), fails the lack-of-fit test (approach.h), so
+  // s = sqrt(SSR / 1) of that fit, Type A with 1 degree of freedom: u(R) = s sqrt(49 + 64 + 1) / 9.
+  const ingest::IngestResult job = DesiccatorJob(ingest::DryMassMethod::kDesiccantStep);
+  std::vector<double> t_s, m_g;
+  for (const ingest::Weighing& w : job.desiccator_series[0].steps[1].weighings) {
+    t_s.push_back(w.time_s);
+    m_g.push_back(w.mass_g);
+  }
+  internal::TailFitOptions tail = internal::TailOptions(EquilibrateOptions{}, t_s.front());
+  tail.point_sd_g = BalanceStandardUncertainty_g(job.job);
+  const internal::TailFit fit = internal::FitExponentialTail(t_s, m_g, tail);
+  ASSERT_TRUE(fit.ok);
+  ASSERT_EQ(fit.residual_degrees_of_freedom, 1);
+  ASSERT_GT(fit.ssr_g2 / (1.04083e-4 * 1.04083e-4), 6.635);  // chi-square(1), upper 1 % (table)
+  EXPECT_NEAR(a.u_mass_approach_g, std::sqrt(fit.ssr_g2) * std::sqrt(114.0) / 9.0, 1e-8);
+  EXPECT_EQ(a.approach_degrees_of_freedom, 1);
+  EXPECT_DOUBLE_EQ(a.u_mass_drift_g, 0.0);  // replaced by the approach estimate
   // NaCl at 23 degC: Greenspan (1977) polynomial, 75.37 %RH (truncated to 0.01).
   EXPECT_NEAR(a.rh_fraction, 0.7537, 0.0001);
   EXPECT_EQ(a.rh_source_kind, RhSource::kSaltTable);
@@ -279,6 +295,58 @@ TEST(EquilibrateDesiccatorTest, AStartTheKineticsDoNotReachIsNotUsed) {
   const EquilibriumPoint point = Equilibrate(in, EquilibrateOptions{}).points[1];
   EXPECT_NE(point.approach_method.find("last three criterion weighings"), std::string::npos)
       << point.approach_method;
+}
+
+// The curve of AWeighingAtTheTransferIsTheStepStart weighed at 74 (the transfer), 120, 144 and
+// 168 h, with the 144 h weighing 1.0 mg high: the four-point fit with the balance's stated
+// scatter fails the lack-of-fit test (approach.h, rule 2), so the last three criterion weighings
+// give the approach (rule 4), their curvature resolved against the stated scatter, but with the
+// scatter the step's own weighings show, s = sqrt(SSR / (n - p)) of that fit with n - p = 1
+// degree of freedom (the Type A scale of rule 3, JCGM 100:2008, 4.2.2). The propagation is linear
+// in the weighing sd, so u is the stated-scatter chain's u (the same three weighings alone)
+// times s / u_bal.
+TEST(EquilibrateDesiccatorTest, ThreeWeighingChainTakesTheScatterItsStepShows) {
+  auto job_with = [](const std::vector<double>& hours) {
+    ingest::IngestResult in = DesiccatorJob(ingest::DryMassMethod::kDesiccantStep);
+    std::vector<std::pair<double, double>> weighings;
+    for (const double h : hours) {
+      const double bump_g = h == 144.0 ? 1.0e-3 : 0.0;
+      weighings.emplace_back(h, 10.0200 - 0.0200 * std::exp(-(h - 72.0) / 48.0) + bump_g);
+    }
+    in.desiccator_series[0].steps[1] = Step("A", 1, "NaCl", ingest::Branch::kAdsorption, weighings);
+    return in;
+  };
+  const ingest::IngestResult four = job_with({74.0, 120.0, 144.0, 168.0});
+  const EquilibriumPoint point = Equilibrate(four, EquilibrateOptions{}).points[1];
+  ASSERT_TRUE(point.equilibrated);
+  EXPECT_NE(point.approach_method.find("; the step's own scatter"), std::string::npos)
+      << point.approach_method;
+  EXPECT_EQ(point.approach_degrees_of_freedom, 1);
+  // The same three weighings alone, without a start: rule 4 with the stated scatter.
+  EquilibrateOptions no_start;
+  no_start.previous_weighing_starts_step = false;
+  const EquilibriumPoint chain = Equilibrate(job_with({120.0, 144.0, 168.0}), no_start).points[1];
+  ASSERT_NE(chain.approach_method.find("last three criterion weighings"), std::string::npos)
+      << chain.approach_method;
+  EXPECT_EQ(chain.approach_method.find("own scatter"), std::string::npos);
+  EXPECT_NEAR(point.approach_correction_g, chain.approach_correction_g, 1e-12);
+  // The rejected fit, redone: its residual scale.
+  const double stated_g = BalanceStandardUncertainty_g(four.job);
+  std::vector<double> t_s, m_g;
+  for (const ingest::Weighing& w : four.desiccator_series[0].steps[1].weighings) {
+    t_s.push_back(w.time_s);
+    m_g.push_back(w.mass_g);
+  }
+  internal::TailFitOptions tail = internal::TailOptions(EquilibrateOptions{}, t_s.front());
+  tail.point_sd_g = stated_g;
+  const internal::TailFit fit = internal::FitExponentialTail(t_s, m_g, tail);
+  ASSERT_TRUE(fit.ok);
+  ASSERT_EQ(fit.residual_degrees_of_freedom, 1);
+  const double own_g = std::sqrt(fit.ssr_g2 / fit.residual_degrees_of_freedom);
+  // Lack of fit: chi-square with 1 degree of freedom beyond its upper 1 % point, 6.635 (table).
+  ASSERT_GT(fit.ssr_g2 / (stated_g * stated_g), 6.635);
+  EXPECT_NEAR(point.u_mass_approach_g, chain.u_mass_approach_g * own_g / stated_g,
+              1e-6 * point.u_mass_approach_g);
 }
 
 TEST(EquilibrateDesiccatorTest, WeighingScatterPooledOverTheStepsWithFiveWeighings) {

@@ -465,6 +465,9 @@ TEST(FitStageTest, OnlyThePooledTypeAPartOfTheIndependentCovarianceHasItsDegrees
     reduce::SpecimenTerm& term = AddSpecimenTermToEveryPoint({"A", "B", "C"}, 0.03, 2.0, &reduced);
     term.independent_variance_ratio = 2.0;  // phi > 1: the pooled Type A estimate
     term.residual_degrees_of_freedom = 14.0;
+    term.independent_estimate = reduce::IndependentEstimate::kObserved;
+    term.adopted_variance_ratio = 2.0;
+    term.independent_degrees_of_freedom = 14.0;
     for (reduce::IsothermPoint& point : reduced.points) {
       point.u_pooled_scatter_kg_per_kg = std::sqrt(pooled_share) * point.u_independent_kg_per_kg;
     }

@@ -349,3 +349,98 @@ TEST(WelchSatterthwaiteTest, CoverageFactorsOfGumTableG2) {
 
 }  // namespace
 }  // namespace sorbtrace::reduce
+
+namespace sorbtrace::reduce {
+namespace {
+
+// The estimate of the independent parts a data set adopts (reduce.h): specimens A and B (dry
+// 10 g, stated) at two steps, A at 10.200 / 10.400 g, B at b1 / 10.400 g, so that the two-way
+// residuals, and phi on nu_e = (2 - 1)(2 - 1) = 1 degree of freedom, grow with b1 - 10.200 g.
+// approach_u_g > 0 adds an approach line of that u with 4 degrees of freedom to every point.
+ReducedIsotherms TwoByTwo(double b1_g, double approach_u_g) {
+  equilibrate::EquilibriumSet set;
+  set.points.push_back(Point("A", 1, 10.200));
+  set.points.push_back(Point("B", 1, b1_g));
+  set.points.push_back(Point("A", 2, 10.400));
+  set.points.push_back(Point("B", 2, 10.400));
+  for (auto& p : set.points) {
+    p.u_mass_approach_g = approach_u_g;
+    p.approach_degrees_of_freedom = 4;
+  }
+  set.dry_masses.push_back(Dry("A", 10.0));
+  set.dry_masses.push_back(Dry("B", 10.0));
+  return Reduce(Job(), set, ReduceOptions{});
+}
+
+// sqrt(mean u_c^2 / n) of the first step's specimens (no systematic lines here).
+double FloorOfFirstStep(const ReducedIsotherms& r) {
+  const double u_a = r.specimen_points[0].u_moisture_kg_per_kg;
+  const double u_b = r.specimen_points[1].u_moisture_kg_per_kg;
+  return std::sqrt((u_a * u_a + u_b * u_b) / 2.0 / 2.0);
+}
+
+// Type B budgets and phi above 1 but below the upper 1 % point of chi-square(1) / 1, 6.635
+// (chi-square table, e.g. NIST/SEMATECH e-Handbook of Statistical Methods, 1.3.6.7.4): the
+// spread does not contradict the budgets, which stay (the rule before took sqrt(phi) of them).
+TEST(ReduceTest, IndependentPartsKeptWhenTheSpreadDoesNotContradictTypeBBudgets) {
+  const ReducedIsotherms r = TwoByTwo(10.2005, 0.0);
+  ASSERT_EQ(r.specimen_terms.size(), 1u);
+  const SpecimenTerm& term = r.specimen_terms[0];
+  ASSERT_GT(term.independent_variance_ratio, 1.0);
+  ASSERT_LT(term.independent_variance_ratio, 6.635);
+  EXPECT_TRUE(std::isinf(term.evaluated_degrees_of_freedom));
+  EXPECT_EQ(term.independent_estimate, IndependentEstimate::kEvaluated);
+  EXPECT_DOUBLE_EQ(term.adopted_variance_ratio, 1.0);
+  EXPECT_NEAR(r.points[0].u_independent_kg_per_kg, FloorOfFirstStep(r), 1e-15);
+}
+
+// phi beyond that point (6.635 is the smallest upper 1 % point of F(1, nu_ev), reached for
+// infinite nu_ev): the budgets miss an effect the specimens show; phi alone, with nu_e = 1.
+TEST(ReduceTest, ObservedScatterAdoptedWhenItContradictsTheBudgets) {
+  const ReducedIsotherms r = TwoByTwo(10.2040, 0.0);
+  const SpecimenTerm& term = r.specimen_terms.at(0);
+  ASSERT_GT(term.independent_variance_ratio, 6.635);
+  EXPECT_EQ(term.independent_estimate, IndependentEstimate::kObserved);
+  EXPECT_DOUBLE_EQ(term.adopted_variance_ratio, term.independent_variance_ratio);
+  EXPECT_DOUBLE_EQ(term.independent_degrees_of_freedom, 1.0);
+  EXPECT_NEAR(r.points[0].u_independent_kg_per_kg,
+              std::sqrt(term.independent_variance_ratio) * FloorOfFirstStep(r), 1e-15);
+}
+
+// Budgets with a Type A line (approach, u = 0.1 mg, c = 1 / 10 g, nu = 4): their degrees of
+// freedom nu_ev (JCGM 100:2008, E.4.3 and G.4.2: u(u^2) / u^2 = sqrt(2 / nu); per specimen
+// nu_s = u_c^4 nu / (c u)^4 by G.2b, the relative uncertainties of the specimens' variances added
+// with their variances as weights, the steps' averaged, nu_ev = 2 / rel^2), and phi pooled with
+// them by degrees of freedom: r = (nu_ev + nu_e phi) / (nu_ev + nu_e), nu = nu_ev + nu_e.
+TEST(ReduceTest, SpreadPooledWithTypeABudgetsByDegreesOfFreedom) {
+  const ReducedIsotherms r = TwoByTwo(10.2005, 1e-4);
+  const SpecimenTerm& term = r.specimen_terms.at(0);
+  const double phi = term.independent_variance_ratio;
+  ASSERT_LT(phi, 6.635);
+  double rel = 0.0;
+  for (int step = 0; step < 2; ++step) {
+    double sum_v = 0.0, sum_vr = 0.0;
+    for (int s = 0; s < 2; ++s) {
+      const double u =
+          r.specimen_points[static_cast<std::size_t>(2 * step + s)].u_moisture_kg_per_kg;
+      const double nu_s = std::pow(u, 4) * 4.0 / std::pow(1e-5, 4);
+      sum_v += u * u;
+      sum_vr += u * u * std::sqrt(2.0 / nu_s);
+    }
+    rel += sum_vr / sum_v / 2.0;
+  }
+  const double nu_ev = 2.0 / (rel * rel);
+  EXPECT_NEAR(term.evaluated_degrees_of_freedom, nu_ev, 1e-9 * nu_ev);
+  EXPECT_EQ(term.independent_estimate, IndependentEstimate::kPooled);
+  const double ratio = (nu_ev + phi) / (nu_ev + 1.0);
+  EXPECT_NEAR(term.adopted_variance_ratio, ratio, 1e-12);
+  EXPECT_NEAR(term.independent_degrees_of_freedom, nu_ev + 1.0, 1e-9 * nu_ev);
+  EXPECT_NEAR(r.points[0].u_independent_kg_per_kg, std::sqrt(ratio) * FloorOfFirstStep(r), 1e-15);
+  const BudgetLine& line = r.points[0].moisture_budget.back();
+  EXPECT_EQ(line.quantity,
+            "independent parts of the specimens' budgets, pooled with their step-to-step scatter");
+  EXPECT_NEAR(line.degrees_of_freedom, nu_ev + 1.0, 1e-9 * nu_ev);
+}
+
+}  // namespace
+}  // namespace sorbtrace::reduce
