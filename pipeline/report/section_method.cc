@@ -84,6 +84,10 @@ void AddWeighingScatter(const SectionContext& ctx, Section& section) {
   }
 }
 
+// Decimals of a dry mass where the job states no balance resolution (0.1 mg, an analytical
+// balance; common practice).
+constexpr int kDefaultMassDecimals = 4;
+
 void AddDryMasses(const SectionContext& ctx, Section& section) {
   section.blocks.emplace_back(SubheadingBlock{"Dry mass"});
   if (ctx.inputs.equilibria == nullptr) return;
@@ -91,12 +95,18 @@ void AddDryMasses(const SectionContext& ctx, Section& section) {
   table.name = "dry_masses";
   table.columns = {{"Specimen", 0.15, false},
                    {"Dry mass", 0.15, true},
-                   {"u (extra)", 0.15, true},
-                   {"Method", 0.55, false}};
+                   {"u beyond the balance", 0.17, true},
+                   {"Method", 0.53, false}};
+  // The dry mass to the balance's last displayed digit (its resolution), as weighed.
+  const double resolution_g =
+      ctx.inputs.ingested != nullptr ? ctx.inputs.ingested->job.balance_resolution_g : 0.0;
+  const int decimals = resolution_g > 0.0
+                           ? std::max(0, -static_cast<int>(std::floor(std::log10(resolution_g))))
+                           : kDefaultMassDecimals;
   for (const equilibrate::DryMass& d : ctx.inputs.equilibria->dry_masses) {
     table.rows.push_back(
         {{d.specimen_id, ""},
-         {FormatFixed(d.mass_g, 4) + " g", ""},
+         {FormatFixed(d.mass_g, decimals) + " g", ""},
          {d.u_mass_g > 0.0 ? FormatSignificant(d.u_mass_g, kUncertaintySignificantDigits) + " g"
                            : "balance only",
           ""},
