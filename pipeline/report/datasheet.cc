@@ -285,7 +285,19 @@ void DrawBlock(Document& doc, const Section& section, size_t index) {
     doc.Paragraph(p->text, p->size_pt, p->indent_pt, p->muted ? palette::kSlate : palette::kInk,
                   p->bold);
   } else if (const auto* l = std::get_if<BulletsBlock>(&block)) {
-    doc.Bullets(l->items, l->size_pt);
+    // A one-line paragraph that closes the section (the end-of-report line) goes with the
+    // list's last items.
+    const size_t next = index + 1;
+    const auto* closing = next + 1 == section.blocks.size()
+                              ? std::get_if<ParagraphBlock>(&section.blocks[next])
+                              : nullptr;
+    const double closing_pt = closing != nullptr && doc.canvas()
+                                                            .Wrap(closing->text, closing->size_pt,
+                                                                  doc.width() - closing->indent_pt)
+                                                            .size() == 1
+                                  ? StartHeight(doc, section, next)
+                                  : 0.0;
+    doc.Bullets(l->items, l->size_pt, closing_pt);
   } else if (const auto* f = std::get_if<FactsBlock>(&block)) {
     doc.KeyValues(f->rows, f->label_width_pt, f->size_pt);
   } else if (const auto* t = std::get_if<TableBlock>(&block)) {

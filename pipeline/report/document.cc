@@ -339,9 +339,10 @@ double Document::BulletsStartHeight(const std::vector<std::string>& items, doubl
   return HeightOfRange(BulletItemHeights(items, size_pt), 0, KeptTogether(items.size()));
 }
 
-void Document::Bullets(const std::vector<std::string>& items, double size_pt) {
+void Document::Bullets(const std::vector<std::string>& items, double size_pt, double trailing_pt) {
   const double leading = size_pt * 1.32;
-  const std::vector<double> heights = BulletItemHeights(items, size_pt);
+  std::vector<double> heights = BulletItemHeights(items, size_pt);
+  if (!heights.empty()) heights.back() += trailing_pt;
   size_t first_on_page = 0;
   for (size_t k = 0; k < items.size(); ++k) {
     const size_t page = pages_.size();

@@ -84,7 +84,12 @@ class Document {
   // Wrapped text; returns the height used.
   double Paragraph(const std::string& text, double size_pt = 8.5, double indent_pt = 0.0,
                    plot::Color color = plot::palette::kInk, bool bold = false);
-  void Bullets(const std::vector<std::string>& items, double size_pt = 8.5);
+  // trailing_pt: the height of a short closing line drawn right after the list (the end-of-
+  // report line), counted with the last item when the page breaks, so that the closing line
+  // never stands alone on a page (it takes the last items with it; keep with previous, common
+  // typesetting practice).
+  void Bullets(const std::vector<std::string>& items, double size_pt = 8.5,
+               double trailing_pt = 0.0);
   // Two columns: label (slate) and value (ink), wrapped.
   void KeyValues(const std::vector<std::pair<std::string, std::string>>& rows,
                  double label_width_pt, double size_pt = 8.5);

@@ -95,8 +95,8 @@ void AddDryMasses(const SectionContext& ctx, Section& section) {
   table.name = "dry_masses";
   table.columns = {{"Specimen", 0.15, false},
                    {"Dry mass", 0.15, true},
-                   {"u beyond the balance", 0.17, true},
-                   {"Method", 0.53, false}};
+                   {"u (drying step)", 0.15, true},
+                   {"Method", 0.55, false}};
   // The dry mass to the balance's last displayed digit (its resolution), as weighed.
   const double resolution_g =
       ctx.inputs.ingested != nullptr ? ctx.inputs.ingested->job.balance_resolution_g : 0.0;
@@ -113,6 +113,10 @@ void AddDryMasses(const SectionContext& ctx, Section& section) {
          {d.method + (d.equilibrated ? "" : " (not at constant mass)"), ""}});
   }
   section.blocks.emplace_back(std::move(table));
+  section.blocks.emplace_back(ParagraphBlock{
+      "u (drying step): standard uncertainty the drying step adds to the weighing "
+      "(extrapolation, approach to equilibrium, drift).",
+      7.5, 0.0, true});
 }
 
 TableBlock BudgetTable(const SectionContext& ctx, const PointBudget& budget,
