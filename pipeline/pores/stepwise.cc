@@ -416,9 +416,21 @@ class Blocks {
 // d_j = rho_j - rho_(j-1) at the interior nodes x_j and z_j = (x - x_j) / h:
 //   f_h(x) = rho_0 + sum_j d_j (Phi(z_j) + z_j phi(z_j) / 2),
 //   f_h'(x) = sum_j d_j K(z_j) / h,   f_h''(x) = sum_j d_j z_j phi(z_j) (z_j^2 - 5) / (2 h^2).
+// Mode scans the grid x_g = lo + g (hi - lo) / cells, spacing at most h / 4, with the kernel's
+// values at every (x_g, x_j) computed once, so each draw costs one sum per grid point.
 class SmoothedSteps {
  public:
-  SmoothedSteps(const std::vector<double>& log_r, double h) : log_r_(log_r), h_(h) {}
+  SmoothedSteps(const std::vector<double>& log_r, double h, double lo, double hi)
+      : log_r_(log_r), h_(h), lo_(lo), hi_(hi) {
+    const std::size_t n = log_r.size();
+    cells_ = std::max(1, static_cast<int>(std::ceil((hi - lo) / (kGridPerWidth * h))));
+    table_.assign(static_cast<std::size_t>(cells_ + 1) * n, 0.0);
+    for (int g = 0; g <= cells_; ++g) {
+      for (std::size_t j = 1; j + 1 < n; ++j) {
+        table_[static_cast<std::size_t>(g) * n + j] = Cdf((GridX(g) - log_r[j]) / h);
+      }
+    }
+  }
   // The steps' volumes: increment(s) of step s.
   template <typename Increment>
   void SetSteps(Increment increment) {
@@ -431,31 +443,24 @@ class SmoothedSteps {
       previous = rho;
     }
   }
-  double Density(double x) const {
-    double f = base_;
-    for (std::size_t j = 1; j + 1 < log_r_.size(); ++j) {
-      const double z = (x - log_r_[j]) / h_;
-      if (z < -kKernelReach) continue;
-      f += z > kKernelReach ? jump_[j] : jump_[j] * (Phi(z) + 0.5 * z * Normal(z));
-    }
-    return f;
-  }
-  // The position of the largest f_h on [lo, hi]: the best of a grid of spacing h / 4, refined
-  // by safeguarded Newton steps on f_h' within the grid cells beside it.
-  double ModeIn(double lo, double hi) const {
-    const int cells = std::max(1, static_cast<int>(std::ceil((hi - lo) / (kGridPerWidth * h_))));
-    const double spacing = (hi - lo) / cells;
-    double x = lo;
+  // The position of the largest f_h on [lo, hi]: the best grid point, refined by safeguarded
+  // Newton steps on f_h' within the grid cells beside it.
+  double Mode() const {
+    const std::size_t n = log_r_.size();
+    double x = lo_;
     double best = -std::numeric_limits<double>::infinity();
-    for (int i = 0; i <= cells; ++i) {
-      const double f = Density(lo + spacing * i);
+    for (int g = 0; g <= cells_; ++g) {
+      double f = base_;
+      const double* row = table_.data() + static_cast<std::size_t>(g) * n;
+      for (std::size_t j = 1; j + 1 < n; ++j) f += jump_[j] * row[j];
       if (f > best) {
         best = f;
-        x = lo + spacing * i;
+        x = GridX(g);
       }
     }
-    double a = std::max(lo, x - spacing);
-    double b = std::min(hi, x + spacing);
+    const double spacing = (hi_ - lo_) / cells_;
+    double a = std::max(lo_, x - spacing);
+    double b = std::min(hi_, x + spacing);
     if (!(Slope(a) > 0.0 && Slope(b) < 0.0)) return x;  // at an end of [lo, hi]
     for (int iteration = 0; iteration < kMaxNewtonSteps; ++iteration) {
       const double slope = Slope(x);
@@ -473,7 +478,13 @@ class SmoothedSteps {
   static double Normal(double z) {
     return std::exp(-0.5 * z * z) / std::sqrt(2.0 * std::numbers::pi);
   }
-  static double Phi(double z) { return 0.5 * std::erfc(-z / std::sqrt(2.0)); }
+  // The kernel's integral from -infinity to z: Phi(z) + z phi(z) / 2.
+  static double Cdf(double z) {
+    if (z < -kKernelReach) return 0.0;
+    if (z > kKernelReach) return 1.0;
+    return 0.5 * std::erfc(-z / std::sqrt(2.0)) + 0.5 * z * Normal(z);
+  }
+  double GridX(int g) const { return lo_ + (hi_ - lo_) * g / cells_; }
   double Slope(double x) const {
     double slope = 0.0;
     for (std::size_t j = 1; j + 1 < log_r_.size(); ++j) {
@@ -498,6 +509,10 @@ class SmoothedSteps {
   static constexpr double kModeTolerance = 1e-10;  // in log10 r
   const std::vector<double>& log_r_;
   double h_ = 0.0;
+  double lo_ = 0.0;
+  double hi_ = 0.0;
+  int cells_ = 1;
+  std::vector<double> table_;  // Cdf((x_g - x_j) / h) at [g * nodes + j]
   double base_ = 0.0;
   std::vector<double> jump_;
 };
@@ -551,15 +566,15 @@ void SmoothedModePositions(const std::vector<double>& step_log_r,
     const double lo = mid[windows[m].left];
     const double hi = mid[windows[m].right];
     const auto nominal_step = [&](std::size_t s) { return step_volume[s]; };
-    SmoothedSteps smoothed(step_log_r, h);
+    SmoothedSteps smoothed(step_log_r, h, lo, hi);
     smoothed.SetSteps(nominal_step);
-    const double x = smoothed.ModeIn(lo, hi);
-    SmoothedSteps half(step_log_r, 0.5 * h);
+    const double x = smoothed.Mode();
+    SmoothedSteps half(step_log_r, 0.5 * h, lo, hi);
     half.SetSteps(nominal_step);
-    const double u_smoothing = std::abs(half.ModeIn(lo, hi) - x) / std::sqrt(3.0);
+    const double u_smoothing = std::abs(half.Mode() - x) / std::sqrt(3.0);
     for (std::size_t k = 0; k < draws.num_draws; ++k) {
       smoothed.SetSteps([&](std::size_t s) { return draws.at(s, k); });
-      positions[k] = smoothed.ModeIn(lo, hi);
+      positions[k] = smoothed.Mode();
     }
     const double u_noise =
         draws.num_draws > 0 ? DrawStatisticsOf(positions, coverage_probability).standard_uncertainty
