@@ -535,7 +535,7 @@ class SmoothedSteps {
 //    u = w_s / sqrt(48) (JCGM 100:2008 4.3.7; w_s: the step that holds the bars' mode of
 //    grouped data). The half-width w_s / 4 is a choice measured in
 //    tests/pores/stepwise_coverage_test.cc, not a published rule: without it the 8 / 15 nm modes
-//    were covered in 0.83-0.91, with the whole step (w_s / sqrt(12), the earlier rule) or a
+//    were covered in 0.81-0.89, with the whole step (w_s / sqrt(12), the earlier rule) or a
 //    triangle over it (w_s / sqrt(24)) their u / sd reached 1.3-1.9 and 1.5-1.6 at RH steps of
 //    0.05.
 // The mode's u is a combination with rectangular model terms (GUM 5.1.2), not the spread of the

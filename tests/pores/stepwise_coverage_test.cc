@@ -347,14 +347,15 @@ TEST(StepwisePoreCoverageTest, WideFamiliesVolumeModesFractionsStepsAndTail) {
 //    estimate, whose resampling is known to be inconsistent: Sen, Banerjee & Woodroofe 2010,
 //    Ann. Statist. 38, the Grenander estimator, from memory);
 //  - the smoothed step density (a smooth function of the steps, so its draws are consistent):
-//    with the normal kernel the noise part is calibrated (h = w_s: u / sd of the draws 0.84-1.25)
-//    but the skewed peaks move (8 nm mode here -0.038 at h = w_s, -0.036 at h = w_b / 4 with a
-//    mean u of 0.019), with the fourth-order kernel at h = w_b / sqrt(12) the bias is -0.009
-//    to -0.010 and the draws' u / sd 0.95-1.13 at all three schedules, but the 8 / 15 nm modes
-//    were covered in only 0.83-0.91 (the error holds a part, where the peak lies within its
-//    step, that the draws cannot show): hence the resolution term w_s / sqrt(48) (with
-//    w_s / sqrt(24), a triangle over the step, u / sd reached 1.52-1.63 here at seeds 11 and
-//    12345). The numbers with it are in the file's header.
+//    with the normal kernel the noise part is calibrated (h = w_s: u / sd 0.84-1.25 at the three
+//    schedules) but the skewed peaks move (8 nm mode here -0.038 at h = w_s, -0.036 at
+//    h = w_b / 2 with a mean u of 0.019); with the fourth-order kernel at h = w_b / sqrt(12)
+//    and no resolution term the mean errors are -0.012 to +0.005 and u / sd 0.90-1.09 at all
+//    three schedules, but the 2 / 8 nm modes here were covered in 0.897 / 0.830 and the 8 / 15
+//    nm modes of the fine schedules in 0.890 / 0.810 (the error holds a part, where the peak
+//    lies within its step, that the draws cannot show): hence the resolution term
+//    w_s / sqrt(48) (with w_s / sqrt(24), a triangle over the step, u / sd reached 1.52-1.63
+//    here at seeds 11 and 12345). The numbers with it are in the file's header.
 TEST(StepwisePoreCoverageTest, CoarseScheduleVolumeModesFractionsStepsAndTail) {
   RunCoverage(testing::kTwoFamily, 20261205, kCoarseStepRh);
 }
