@@ -137,13 +137,13 @@ struct MeasuredPoint {
 //    merged block spreads its volume uniformly in log r over its width (a
 //    histogram bar); scatter that would zig-zag from step to step merges, a gap or a low tail
 //    that differs from its neighbours is kept (and not smeared with their volume).
-// 4. Modes: ResolvedModes (modes.h), the rule of the model method, on the bars (the mode of
-//    grouped data within the highest bar, GroupedDataModeShift), with what the bars cannot
-//    resolve (stepwise.cc, AddStepwiseModeTerms): the scatter of the position at the bar's
-//    resolution where the nominal bars hold it fixed (the largest window of the bar's width
-//    over the draws' steps), the measured step that holds the mode (or the bars that could be
-//    as high), and the interpolation, whose alternative models bound the mode: it is reported
-//    at the middle of their range.
+// 4. Modes: which modes are resolved is ResolvedModes' (modes.h), the rule of the model method,
+//    on the bars. Each is reported at the maximum, between the middles of its two valley bars,
+//    of the density of the measured steps smoothed with a fourth-order kernel of the width of
+//    the mode's bar (stepwise.cc, SmoothedModePositions): a smooth function of the steps, so
+//    the same estimator on every draw's steps gives its noise term; with rectangular terms for
+//    the smoothing (the change when the kernel's width is halved) and for the position within
+//    the measured step that holds the mode.
 // 5. Total volume and band from the bars, decade fractions from the measured steps (a wide bar
 //    would move volume across a decade boundary), each with its spread over the draws; a step
 //    that crosses a decade boundary is split there by the shape-preserving cubic of the

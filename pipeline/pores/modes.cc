@@ -159,13 +159,11 @@ void SplitAtDecadeBoundaries(const std::vector<double>& step_log_r,
   }
 }
 
-std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
-                                       const std::vector<double>& density,
-                                       const std::vector<double>& band_low,
-                                       const std::vector<double>& band_high, const DrawTable& draws,
-                                       std::size_t edge_nodes,
-                                       const std::vector<double>* step_width_log_r,
-                                       const PoreOptions& options) {
+std::vector<ModalRadius> ResolvedModes(
+    const std::vector<double>& log_r, const std::vector<double>& density,
+    const std::vector<double>& band_low, const std::vector<double>& band_high,
+    const DrawTable& draws, std::size_t edge_nodes, const std::vector<double>* step_width_log_r,
+    const PoreOptions& options, std::vector<ModeWindow>* windows) {
   const bool histogram = step_width_log_r != nullptr && step_width_log_r->size() == density.size();
   std::vector<ModalRadius> modes;
   const std::size_t n = density.size();
@@ -224,6 +222,7 @@ std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
     mode.u_radius_m = spread.standard_uncertainty;
     mode.coverage_factor = spread.coverage_factor;
     modes.push_back(mode);
+    if (windows != nullptr) windows->push_back({left, right});
   }
   return modes;
 }

@@ -82,16 +82,19 @@ struct DrawTable {
 // histogram of measured steps (step_width_log_r: the width in log10 r of each node's bar, a
 // step or merged steps; log_r then holds the bars' middles) the vertex is the mode of grouped
 // data (modes.cc, HistogramVertex: the neighbours read as bars of the highest bar's width, the
-// position kept inside that bar), in the nominal histogram and in each draw; what the bars
-// cannot resolve (the position within the bar, a neighbour as high) is the stepwise method's
-// to add (stepwise.cc).
-std::vector<ModalRadius> ResolvedModes(const std::vector<double>& log_r,
-                                       const std::vector<double>& density,
-                                       const std::vector<double>& band_low,
-                                       const std::vector<double>& band_high, const DrawTable& draws,
-                                       std::size_t edge_nodes,
-                                       const std::vector<double>* step_width_log_r,
-                                       const PoreOptions& options);
+// position kept inside that bar), in the nominal histogram and in each draw; the stepwise
+// method replaces that position and its u by the maximum of its smoothed step density within
+// the mode's window (stepwise.cc, SmoothedModePositions).
+// windows (may be null): for each reported mode, the nodes L and R of its window.
+struct ModeWindow {
+  std::size_t left = 0;
+  std::size_t right = 0;
+};
+std::vector<ModalRadius> ResolvedModes(
+    const std::vector<double>& log_r, const std::vector<double>& density,
+    const std::vector<double>& band_low, const std::vector<double>& band_high,
+    const DrawTable& draws, std::size_t edge_nodes, const std::vector<double>* step_width_log_r,
+    const PoreOptions& options, std::vector<ModeWindow>* windows = nullptr);
 
 // The assumptions printed beside every distribution: geometry and meniscus, Kelvin radius and
 // water properties, film, micropores, pore-water density.

@@ -161,8 +161,9 @@ struct ModalRadius {
   double radius_m = 0.0;
   // Standard uncertainty. Method "model": from the draws, the half-width of their central
   // 68.27 % interval (DrawStatisticsOf, pipeline/common/draw_statistics.h; the standard deviation
-  // for normal draws, finite also for draws that have none). Method "stepwise": that spread
-  // combined with the resolution and interpolation terms (stepwise.cc).
+  // for normal draws, finite also for draws that have none). Method "stepwise": the draws'
+  // spread of the smoothed-density mode combined with its smoothing and resolution terms
+  // (stepwise.cc, SmoothedModePositions).
   double u_radius_m = 0.0;
   // The draws' own coverage factor U95 / u (DrawStatistics::coverage_factor; 1.96 for normal
   // draws, larger for heavy tails); 0: u is not from draws alone (the sheet's k applies). The

@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <numbers>
 #include <numeric>
 #include <string>
 #include <vector>
@@ -405,182 +406,185 @@ class Blocks {
   mutable std::vector<double> column_;
 };
 
-// The lower ends a of the windows [a, a + w] inside [from, to] at which the largest window
-// volume over a cumulative volume linear between the nodes log_r is found: the window's volume
-// C(a + w) - C(a) is linear in a between the points where a or a + w meets a node, so its
-// maximum lies at one of them (or at from, to - w). Ascending; empty when from + w > to.
-std::vector<double> WindowCandidates(const std::vector<double>& log_r, double w, double from,
-                                     double to) {
-  const double last = to - w;
-  if (!(last >= from)) return {};
-  std::vector<double> candidates = {from, last};
-  for (double x : log_r) {
-    if (x > from && x < last) candidates.push_back(x);
-    if (x - w > from && x - w < last) candidates.push_back(x - w);
-  }
-  std::sort(candidates.begin(), candidates.end());
-  return candidates;
-}
-
-// A profile's cumulative volume read at ascending x (linear between its nodes, held at its end
-// values beyond them), one pass over the nodes for all of them.
-class AscendingReader {
+// The density of the measured steps smoothed with a fourth-order kernel: each step's volume
+// spread uniformly over its width in log10 r (the ends continued at the end steps' densities),
+// convolved with K_h(x) = K(x / h) / h, K(z) = (3 - z^2) phi(z) / 2, the fourth-order kernel
+// built on the normal density phi (Wand & Jones 1995, Kernel Smoothing, 2.8, from memory: its
+// second moment is 0, so the shift of a smoothed peak is O(h^4), where the normal kernel's is
+// O(h^2); the peaks of dV/dlog r are skewed in log r and the normal kernel moved the 8 nm mode
+// of the coverage test 0.036 in log10 r at h = w / 2). With the node densities' jumps
+// d_j = rho_j - rho_(j-1) at the interior nodes x_j and z_j = (x - x_j) / h:
+//   f_h(x) = rho_0 + sum_j d_j (Phi(z_j) + z_j phi(z_j) / 2),
+//   f_h'(x) = sum_j d_j K(z_j) / h,   f_h''(x) = sum_j d_j z_j phi(z_j) (z_j^2 - 5) / (2 h^2).
+// Mode scans the grid x_g = lo + g (hi - lo) / cells, spacing at most h / 4, with the kernel's
+// values at every (x_g, x_j) computed once, so each draw costs one sum per grid point.
+class SmoothedSteps {
  public:
-  explicit AscendingReader(const Profile& profile) : profile_(profile) {}
-  double At(double x) {
-    const std::vector<double>& xs = profile_.log_r;
-    const std::vector<double>& cumulative = profile_.cumulative;
-    while (k_ + 2 < xs.size() && xs[k_ + 1] <= x) ++k_;
-    const double x0 = xs[k_];
-    const double x1 = xs[k_ + 1];
-    if (!(x1 > x0)) return cumulative[k_ + 1];
-    const double t = std::clamp((x - x0) / (x1 - x0), 0.0, 1.0);
-    return cumulative[k_] + t * (cumulative[k_ + 1] - cumulative[k_]);
+  SmoothedSteps(const std::vector<double>& log_r, double h, double lo, double hi)
+      : log_r_(log_r), h_(h), lo_(lo), hi_(hi) {
+    const std::size_t n = log_r.size();
+    cells_ = std::max(1, static_cast<int>(std::ceil((hi - lo) / (kGridPerWidth * h))));
+    table_.assign(static_cast<std::size_t>(cells_ + 1) * n, 0.0);
+    for (int g = 0; g <= cells_; ++g) {
+      for (std::size_t j = 1; j + 1 < n; ++j) {
+        table_[static_cast<std::size_t>(g) * n + j] = Cdf((GridX(g) - log_r[j]) / h);
+      }
+    }
+  }
+  // The steps' volumes: increment(s) of step s.
+  template <typename Increment>
+  void SetSteps(Increment increment) {
+    jump_.assign(log_r_.size(), 0.0);
+    double previous = 0.0;
+    for (std::size_t s = 0; s + 1 < log_r_.size(); ++s) {
+      const double rho = increment(s) / (log_r_[s + 1] - log_r_[s]);
+      if (s == 0) base_ = rho;
+      if (s > 0) jump_[s] = rho - previous;
+      previous = rho;
+    }
+  }
+  // The position of the largest f_h on [lo, hi]: the best grid point, refined by safeguarded
+  // Newton steps on f_h' within the grid cells beside it.
+  double Mode() const {
+    const std::size_t n = log_r_.size();
+    double x = lo_;
+    double best = -std::numeric_limits<double>::infinity();
+    for (int g = 0; g <= cells_; ++g) {
+      double f = base_;
+      const double* row = table_.data() + static_cast<std::size_t>(g) * n;
+      for (std::size_t j = 1; j + 1 < n; ++j) f += jump_[j] * row[j];
+      if (f > best) {
+        best = f;
+        x = GridX(g);
+      }
+    }
+    const double spacing = (hi_ - lo_) / cells_;
+    double a = std::max(lo_, x - spacing);
+    double b = std::min(hi_, x + spacing);
+    if (!(Slope(a) > 0.0 && Slope(b) < 0.0)) return x;  // at an end of [lo, hi]
+    for (int iteration = 0; iteration < kMaxNewtonSteps; ++iteration) {
+      const double slope = Slope(x);
+      (slope > 0.0 ? a : b) = x;
+      const double curvature = Curvature(x);
+      const double newton = curvature < 0.0 ? x - slope / curvature : a;
+      const double next = newton > a && newton < b ? newton : 0.5 * (a + b);
+      if (std::abs(next - x) < kModeTolerance) return next;
+      x = next;
+    }
+    return x;
   }
 
  private:
-  const Profile& profile_;
-  std::size_t k_ = 0;
+  static double Normal(double z) {
+    return std::exp(-0.5 * z * z) / std::sqrt(2.0 * std::numbers::pi);
+  }
+  // The kernel's integral from -infinity to z: Phi(z) + z phi(z) / 2.
+  static double Cdf(double z) {
+    if (z < -kKernelReach) return 0.0;
+    if (z > kKernelReach) return 1.0;
+    return 0.5 * std::erfc(-z / std::sqrt(2.0)) + 0.5 * z * Normal(z);
+  }
+  double GridX(int g) const { return lo_ + (hi_ - lo_) * g / cells_; }
+  double Slope(double x) const {
+    double slope = 0.0;
+    for (std::size_t j = 1; j + 1 < log_r_.size(); ++j) {
+      const double z = (x - log_r_[j]) / h_;
+      if (std::abs(z) <= kKernelReach) slope += jump_[j] * 0.5 * (3.0 - z * z) * Normal(z);
+    }
+    return slope / h_;
+  }
+  double Curvature(double x) const {
+    double curvature = 0.0;
+    for (std::size_t j = 1; j + 1 < log_r_.size(); ++j) {
+      const double z = (x - log_r_[j]) / h_;
+      if (std::abs(z) <= kKernelReach) curvature += jump_[j] * 0.5 * z * (z * z - 5.0) * Normal(z);
+    }
+    return curvature / (h_ * h_);
+  }
+
+  static constexpr double kKernelReach = 10.0;   // (3 - z^2) phi(z) / 2 < 1e-20 beyond
+  static constexpr double kGridPerWidth = 0.25;  // grid spacing h / 4: K has one maximum
+                                                 // per h (common practice for a bracketing scan)
+  static constexpr int kMaxNewtonSteps = 60;
+  static constexpr double kModeTolerance = 1e-10;  // in log10 r
+  const std::vector<double>& log_r_;
+  double h_ = 0.0;
+  double lo_ = 0.0;
+  double hi_ = 0.0;
+  int cells_ = 1;
+  std::vector<double> table_;  // Cdf((x_g - x_j) / h) at [g * nodes + j]
+  double base_ = 0.0;
+  std::vector<double> jump_;
 };
 
-// u(log10 r) of where the density at the resolution of the mode's bar b peaks: over the draws,
-// the middle of the window of the bar's width that holds the largest volume of the draw's
-// measured steps (the first of equal ones), the windows inside the bar and its two
-// neighbouring bars (the densities the mode of grouped data reads); DrawStatisticsOf of these
-// positions.
-double WindowMaximumSpread(const std::vector<double>& step_log_r, const StepDraws& draws,
-                           const std::vector<double>& edges, std::size_t b,
-                           double coverage_probability) {
-  const std::size_t nb = edges.size() - 1;
-  const double w = edges[b + 1] - edges[b];
-  const std::vector<double> candidates =
-      WindowCandidates(step_log_r, w, edges[b > 0 ? b - 1 : 0], edges[std::min(nb, b + 2)]);
-  if (candidates.empty() || draws.num_draws == 0) return 0.0;
-  Profile profile;
-  profile.log_r = step_log_r;
-  profile.cumulative.assign(step_log_r.size(), 0.0);
-  std::vector<double> positions(draws.num_draws);
-  for (std::size_t k = 0; k < draws.num_draws; ++k) {
-    for (std::size_t s = 0; s < draws.num_steps; ++s) {
-      profile.cumulative[s + 1] = profile.cumulative[s] + draws.at(s, k);
-    }
-    AscendingReader lower(profile);
-    AscendingReader upper(profile);
-    double best_a = candidates.front();
-    double best_volume = -std::numeric_limits<double>::infinity();
-    for (double a : candidates) {
-      const double volume = upper.At(a + w) - lower.At(a);
-      if (volume > best_volume) {
-        best_volume = volume;
-        best_a = a;
-      }
-    }
-    positions[k] = best_a + 0.5 * w;
-  }
-  return DrawStatisticsOf(positions, coverage_probability).standard_uncertainty;
-}
-
-// What the draws of a stepwise mode on the fixed bars do not hold (distribution.h, part 4), in
-// log10 r (u(r) = r ln(10) u(log10 r)), three components added in quadrature:
-//  - noise: the draws' spread of the mode on the nominal bars (ResolvedModes) keeps the
-//    maximum inside the bar structure cut from the nominal data: a draw cannot move it into a
-//    neighbouring bar's half next to the mode, although repeated measurements, each cut into
-//    its own bars, put the highest bar anywhere along a flat top. The spread of the position
-//    of the largest window of the bar's width over the draws' measured steps
-//    (WindowMaximumSpread) lets it move there. Both estimate the one component (the scatter of
-//    the measured points carried into the position); the larger is taken. With the fixed bars
-//    alone the 2 nm mode of the coverage test had u at 0.80 of the rms of its errors (covered in
-//    0.30 of the replicates where the highest bar was one narrow step), and the scatter of its
-//    errors from the noise was 2.6 times the draws' spread (0.018 against 0.0068 in log10 r);
-//    with the window term u / rms is 1.03 (0.958-0.980 covered over three noise seeds);
-//  - resolution: the measured points sample the cumulative volume only at the step nodes, so
-//    a maximum of its slope between two nodes is not located beyond the measured step that
-//    holds it: rectangular over that step, u = w / sqrt(12) (JCGM 100:2008 F.2.2.1). Where a
-//    neighbouring bar could be as high as the mode's bar (its percentile band reaches the
-//    lower limit of the mode's), the maximum may lie in it: rectangular over the mode's bar and
-//    every such bar next to it instead (JCGM 100:2008 4.3.7). This rectangle overstates the
-//    interpolation's own error (0.09-0.22 of the step width in the coverage test against
-//    0.29) and stands in for a part of the noise the draws on fixed bars miss: at RH steps of
-//    0.05 it states the modes' u at 1.3-1.9 times their scatter, and the narrower terms tried
-//    lose the modes' coverage at RH steps of 0.025; the merge evaluated for every draw in
-//    place of this noise term states the modes at RH steps of 0.025 at 1.6-2.0 times their
-//    scatter (tests/pores/stepwise_coverage_test.cc, coarse schedule);
-//  - interpolation: the mode of grouped data (GroupedDataModeShift) assumes the density
-//    quadratic about its peak; the histogram itself (uniform within the bar) puts the mode at
-//    the bar's middle; and the densities it reads next to the bar may be the neighbouring bars'
-//    or the measured steps' right beside the bar (a wide merged neighbour's mean density is
-//    not the density at the bar's edge). These are alternatives to one model, the
-//    interpolation, none known to be the better: their modes bound the mode, and as a
-//    rectangular distribution between the lowest and the highest (JCGM 100:2008 4.3.7) the
-//    mode is their midpoint, which this function reports in place of the mode of grouped data
-//    (ResolvedModes), with u = (highest - lowest) / sqrt(12). Adding each difference as its
-//    own term counted the one model error twice.
-// The rectangle over the whole merged bar (an earlier rule) stated u at 2.3-2.8 times the root
-// mean square error of the modes in the coverage test: the interpolation places the mode
-// within a merged bar far better than the bar's width.
-// The mode of grouped data itself, with u = its largest difference from the other two / sqrt(3)
-// (the previous rule), was biased where the family's density is skewed in log r or a wide,
-// nearly empty bar lies beside it: the 15 nm mode of the second pore system of
-// tests/pores/stepwise_coverage_test.cc 0.029 low in log10 r against a scatter of 0.037, its u
-// 1.55 times that scatter. The midpoint halves the bias (-0.015 against 0.040; u / sd 1.34;
-// the 8 nm mode of the first system -0.024 -> -0.012). Neither the parabola matched to the
-// means of the three bars with their true widths (+0.10: a wide, nearly empty neighbour's mean
-// read as a long, gentle fall), nor the one least-squares fitted to the measured steps within
-// a bar width on either side (-0.056), nor the grouped-data mode with windows of the bar's
-// width beside it read from the measured steps (-0.045) was less biased: the families' peaks
-// are skewed in log r (dV/dlog r rises as r^(n m) and falls as r^(-n)) and any quadratic
-// over a bar 0.45 wide is pulled towards the heavier side.
-void AddStepwiseModeTerms(const std::vector<double>& step_log_r,
-                          const std::vector<double>& step_volume, const std::vector<double>& edges,
-                          const std::vector<double>& mid, const std::vector<double>& density,
-                          const std::vector<double>& band_low, const std::vector<double>& band_high,
-                          const StepDraws& draws, double coverage_probability,
-                          std::vector<ModalRadius>* modes) {
-  const std::size_t nb = mid.size();
-  const std::size_t num_steps = step_volume.size();
+// The reported position of every resolved stepwise mode and its u, in log10 r (u(r) = r ln(10)
+// u(log10 r)); which modes are resolved is ResolvedModes' (modes.h) and stays so. The position is
+// the maximum of the smoothed density of the measured steps (SmoothedSteps) between the middles
+// of the mode's two valley bars (ModeWindow), with h the standard deviation of the mode's bar
+// (its width w_b / sqrt(12): the kernel resolves what the bar resolves; the bars are as narrow
+// as the draws let them be, so h follows the noise). A smooth function of the steps (its shift
+// linear in their errors for small errors), so its JCGM 101 draws are consistent: each draw's
+// steps on the nominal nodes go through the same estimator (same h, same window). Three
+// components in quadrature:
+//  - noise: DrawStatisticsOf of the draws' positions;
+//  - smoothing: the change d of the position when h is halved, rectangular over +-|d|
+//    (JCGM 100:2008 4.3.7): u = |d| / sqrt(3);
+//  - resolution: the measured points give the cumulative volume only at the step nodes, so
+//    where within the measured step w_s that holds the mode the density peaks is read from the
+//    neighbouring steps alone; rectangular over the middle half of that step,
+//    u = w_s / sqrt(48) (JCGM 100:2008 4.3.7; w_s: the step that holds the bars' mode of
+//    grouped data). The half-width w_s / 4 is a choice measured in
+//    tests/pores/stepwise_coverage_test.cc, not a published rule: without it the 8 / 15 nm modes
+//    were covered in 0.81-0.89, with the whole step (w_s / sqrt(12), the earlier rule) or a
+//    triangle over it (w_s / sqrt(24)) their u / sd reached 1.3-1.9 and 1.5-1.6 at RH steps of
+//    0.05.
+// The mode's u is a combination with rectangular model terms (GUM 5.1.2), not the spread of the
+// draws alone: stated with the sheet's k (ModalRadius::coverage_factor 0). Replaces the mode of
+// grouped data on the nominal bars, whose draws could not move the highest bar and whose
+// merge evaluated per draw over-dispersed (an arg-max-type estimate: Sen, Banerjee & Woodroofe
+// 2010, Ann. Statist. 38, from memory); the numbers are in the coverage test.
+void SmoothedModePositions(const std::vector<double>& step_log_r,
+                           const std::vector<double>& step_volume, const std::vector<double>& edges,
+                           const std::vector<double>& mid, const std::vector<ModeWindow>& windows,
+                           const StepDraws& draws, double coverage_probability,
+                           std::vector<ModalRadius>* modes) {
+  const double ln10 = std::log(10.0);
+  const double kernel_per_bar_width = 1.0 / std::sqrt(12.0);  // sd of a uniform bar / its width
+  const double resolution_per_step = 1.0 / std::sqrt(48.0);   // rectangle over +- w_s / 4
   const auto index_below = [](const std::vector<double>& nodes, double x, std::size_t count) {
     const auto above = std::upper_bound(nodes.begin(), nodes.end(), x);
     const std::size_t at =
         above == nodes.begin() ? 0 : static_cast<std::size_t>(above - nodes.begin()) - 1;
     return std::min(at, count - 1);
   };
-  const auto step_density = [&](std::size_t s) {
-    return step_volume[s] / (step_log_r[s + 1] - step_log_r[s]);
-  };
-  const double ln10 = std::log(10.0);
-  for (ModalRadius& mode : *modes) {
-    const double x = std::log10(mode.radius_m);
-    const std::size_t b = index_below(edges, x, nb);
-    const std::size_t s = index_below(step_log_r, x, num_steps);
-    const double u_bars = mode.u_radius_m / (mode.radius_m * ln10);
-    const double u_noise =
-        std::max(u_bars, WindowMaximumSpread(step_log_r, draws, edges, b, coverage_probability));
-    std::size_t lo = b;
-    std::size_t hi = b;
-    while (lo > 0 && band_high[lo - 1] >= band_low[b]) --lo;
-    while (hi + 1 < nb && band_high[hi + 1] >= band_low[b]) ++hi;
-    const double span = lo < hi ? edges[hi + 1] - edges[lo] : step_log_r[s + 1] - step_log_r[s];
-    const double u_resolution = span / std::sqrt(12.0);
-    double low = std::min(x, mid[b]);
-    double high = std::max(x, mid[b]);
-    // The bar's first node is a step node; the steps beside the bar end and start at its edges.
-    const std::size_t first = index_below(step_log_r, edges[b], num_steps);
-    const std::size_t after = index_below(step_log_r, edges[b + 1], num_steps + 1);
-    if (b > 0 && b + 1 < nb && first > 0 && after < num_steps) {
-      const double beside =
-          mid[b] + GroupedDataModeShift(edges[b + 1] - edges[b], step_density(first - 1),
-                                        density[b], step_density(after));
-      low = std::min(low, beside);
-      high = std::max(high, beside);
+  std::vector<double> positions(draws.num_draws);
+  for (std::size_t m = 0; m < modes->size(); ++m) {
+    ModalRadius& mode = (*modes)[m];
+    const double x_bars = std::log10(mode.radius_m);
+    const std::size_t b = index_below(edges, x_bars, mid.size());
+    const double h = kernel_per_bar_width * (edges[b + 1] - edges[b]);
+    const double lo = mid[windows[m].left];
+    const double hi = mid[windows[m].right];
+    const auto nominal_step = [&](std::size_t s) { return step_volume[s]; };
+    SmoothedSteps smoothed(step_log_r, h, lo, hi);
+    smoothed.SetSteps(nominal_step);
+    const double x = smoothed.Mode();
+    SmoothedSteps half(step_log_r, 0.5 * h, lo, hi);
+    half.SetSteps(nominal_step);
+    const double u_smoothing = std::abs(half.Mode() - x) / std::sqrt(3.0);
+    for (std::size_t k = 0; k < draws.num_draws; ++k) {
+      smoothed.SetSteps([&](std::size_t s) { return draws.at(s, k); });
+      positions[k] = smoothed.Mode();
     }
-    // The reported mode: the middle of the interpolation models' range (JCGM 100:2008 4.3.7).
-    mode.radius_m = std::pow(10.0, 0.5 * (low + high));
-    const double u_interpolation = (high - low) / std::sqrt(12.0);
-    const double u_log_r = std::sqrt(u_noise * u_noise + u_resolution * u_resolution +
-                                     u_interpolation * u_interpolation);
-    mode.u_radius_m = mode.radius_m * ln10 * u_log_r;
-    // A combination of the draws' spread with rectangular model terms (GUM 5.1.2), not the
-    // spread of draws alone: stated with the sheet's k (ModalRadius::coverage_factor 0).
+    const double u_noise =
+        draws.num_draws > 0 ? DrawStatisticsOf(positions, coverage_probability).standard_uncertainty
+                            : 0.0;
+    const std::size_t s = index_below(step_log_r, x_bars, step_volume.size());
+    const double u_resolution = resolution_per_step * (step_log_r[s + 1] - step_log_r[s]);
+    mode.radius_m = std::pow(10.0, x);
+    mode.u_radius_m =
+        mode.radius_m * ln10 *
+        std::sqrt(u_noise * u_noise + u_smoothing * u_smoothing + u_resolution * u_resolution);
     mode.coverage_factor = 0.0;
   }
 }
@@ -742,10 +746,11 @@ PoreDistribution StepwisePoreDistribution(const std::vector<MeasuredPoint>& poin
   table.value = [&](std::size_t k, std::size_t i) { return draw_density[i * draws.num_draws + k]; };
   // Each bar is a measured step or a merged block: only the outermost bars are edges.
   constexpr std::size_t kStepEdgeNodes = 1;
-  d.modes =
-      ResolvedModes(mid, density, band_low, band_high, table, kStepEdgeNodes, &width, options);
-  AddStepwiseModeTerms(log_r, increment, edges, mid, density, band_low, band_high, draws,
-                       options.band_confidence_level, &d.modes);
+  std::vector<ModeWindow> windows;
+  d.modes = ResolvedModes(mid, density, band_low, band_high, table, kStepEdgeNodes, &width, options,
+                          &windows);
+  SmoothedModePositions(log_r, increment, edges, mid, windows, draws, options.band_confidence_level,
+                        &d.modes);
   d.decades = DecadeFractions(log_r, increment, d.total_resolved_volume_m3_per_kg);
   DecadeUncertainties(draw_decades, options.band_confidence_level, &d.decades);
   SplitAtDecadeBoundaries(log_r, increment, d.total_resolved_volume_m3_per_kg, &d.decades);
