@@ -113,10 +113,10 @@ void AddDryMasses(const SectionContext& ctx, Section& section) {
          {d.method + (d.equilibrated ? "" : " (not at constant mass)"), ""}});
   }
   section.blocks.emplace_back(std::move(table));
-  section.blocks.emplace_back(ParagraphBlock{
-      "u (drying step): standard uncertainty the drying step adds to the weighing "
-      "(extrapolation, approach to equilibrium, drift).",
-      7.5, 0.0, true});
+  section.blocks.emplace_back(
+      ParagraphBlock{"u (drying step): standard uncertainty the drying step adds to the weighing "
+                     "(extrapolation, approach to equilibrium, drift).",
+                     7.5, 0.0, true});
 }
 
 TableBlock BudgetTable(const SectionContext& ctx, const PointBudget& budget,
