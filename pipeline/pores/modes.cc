@@ -41,8 +41,24 @@ Peak ParabolaVertex(const double* x, const double* y, std::size_t i) {
   return peak;
 }
 
+// The mode of grouped data within its highest bar, as the shift from the bar's middle (log10 r):
+// width w of the highest bar, y_peak its density, y_left and y_right the densities read next to
+// it. Written from the bar's lower edge L it is the interpolation formula for the mode of
+// grouped data, L + w (y_peak - y_left) / ((y_peak - y_left) + (y_peak - y_right)), with
+// frequency densities (e.g. Kendall & Stuart, The Advanced Theory of Statistics, vol. 1, from
+// memory); from the middle, the vertex of the parabola through the three densities placed one
+// bar width apart, i.e. the quadratic whose means over three adjacent windows of width w are
+// the three densities: for a density quadratic about its peak the exact mode, whatever the
+// widths of the neighbouring bars. 0 where the bar is not above its neighbours; at most w / 2.
+double GroupedDataModeShift(double width, double y_left, double y_peak, double y_right) {
+  const double rise = y_peak - y_left;
+  const double fall = y_peak - y_right;
+  if (!(rise + fall > 0.0)) return 0.0;
+  return std::clamp(0.5 * width * (rise - fall) / (rise + fall), -0.5 * width, 0.5 * width);
+}
+
 // The mode of a histogram at its highest bar i (interior; mid, width: the bars' middles and
-// widths in log10 r, y their densities): GroupedDataModeShift (modes.h), which reads each
+// widths in log10 r, y their densities): GroupedDataModeShift, which reads each
 // neighbour's density as that of the window of the highest bar's width next to it, not at the
 // neighbour's own middle: the parabola through unevenly spaced middles (ParabolaVertex) has its
 // vertex pulled towards the far middle of a wide neighbour (a wide, nearly empty tail bar beside
@@ -58,13 +74,6 @@ Peak HistogramVertex(const double* mid, const double* width, const double* y, st
 std::string BranchWords(ingest::Branch branch) { return std::string(ingest::BranchName(branch)); }
 
 }  // namespace
-
-double GroupedDataModeShift(double width, double y_left, double y_peak, double y_right) {
-  const double rise = y_peak - y_left;
-  const double fall = y_peak - y_right;
-  if (!(rise + fall > 0.0)) return 0.0;
-  return std::clamp(0.5 * width * (rise - fall) / (rise + fall), -0.5 * width, 0.5 * width);
-}
 
 std::vector<DecadeFraction> DecadeFractions(const std::vector<double>& edges_log_r,
                                             const std::vector<double>& interval_volume,

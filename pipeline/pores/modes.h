@@ -48,17 +48,6 @@ void SplitAtDecadeBoundaries(const std::vector<double>& step_log_r,
 void DecadeUncertainties(const std::vector<std::vector<DecadeFraction>>& draw_decades,
                          double coverage_probability, std::vector<DecadeFraction>* decades);
 
-// The mode of grouped data within its highest bar, as the shift from the bar's middle (log10 r):
-// width w of the highest bar, y_peak its density, y_left and y_right the densities read next to
-// it. Written from the bar's lower edge L it is the interpolation formula for the mode of
-// grouped data, L + w (y_peak - y_left) / ((y_peak - y_left) + (y_peak - y_right)), with
-// frequency densities (e.g. Kendall & Stuart, The Advanced Theory of Statistics, vol. 1, from
-// memory); from the middle, the vertex of the parabola through the three densities placed one
-// bar width apart, i.e. the quadratic whose means over three adjacent windows of width w are
-// the three densities: for a density quadratic about its peak the exact mode, whatever the
-// widths of the neighbouring bars. 0 where the bar is not above its neighbours; at most w / 2.
-double GroupedDataModeShift(double width, double y_left, double y_peak, double y_right);
-
 // The per-draw curves of a distribution: value(k, i) of draw k at node i.
 struct DrawTable {
   std::size_t num_draws = 0;
