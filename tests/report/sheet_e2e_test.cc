@@ -139,6 +139,20 @@ TEST_F(SheetE2eTest, DemoSheetsPrintGumRoundedNumbersAndBudgetsOfEveryPoint) {
     EXPECT_NE(testing::CollapseSpaces(text).find("combined standard uncertainty u_c"),
               std::string::npos);
 
+    // The budget on the sheet prints no contribution a reader cannot use: a line below a
+    // thousandth of u_c says "negligible" (the 23/40 °C demo's kinetic-model line is about
+    // 1e-99, once printed as "1.9 × 10⁻⁹⁹").
+    const size_t budget_at = text.find("Uncertainty budget of one reported point");
+    ASSERT_NE(budget_at, std::string::npos) << scenario;
+    const std::string budget =
+        text.substr(budget_at, text.find("expanded uncertainty U = k u_c", budget_at) - budget_at);
+    // A power of ten of -20 or below: two superscript digits, the first 2-9.
+    static const std::regex tiny(R"(× 10⁻(²|³|⁴|⁵|⁶|⁷|⁸|⁹)(⁰|¹|²|³|⁴|⁵|⁶|⁷|⁸|⁹))");
+    EXPECT_FALSE(std::regex_search(budget, tiny)) << scenario << "\n" << budget;
+    if (scenario == "wood_fibre_board_23C_40C") {
+      EXPECT_NE(budget.find("negligible (< 0.001 u_c)"), std::string::npos) << budget;
+    }
+
     // The JSON text fields and the CSV "as printed" columns, by the same rule.
     const auto json = nlohmann::json::parse(Slurp(out / "results.json"));
     std::string texts;
